@@ -1,0 +1,47 @@
+package engine
+
+// Scale is the scale on which a parameter is fitted.
+type Scale string
+
+// Scales a parameter may be fitted on.
+const (
+	// Identity fits the parameter as it is (the default).
+	Identity Scale = "identity"
+	// Log fits log(x - lo); the support must be [lo, inf].
+	Log Scale = "log"
+	// Logit fits log((x - lo) / (hi - x)); the support must be [lo, hi].
+	Logit Scale = "logit"
+)
+
+// ParamOptions are per-parameter settings. Zero values mean the defaults.
+type ParamOptions struct {
+	// Scale is the fitting scale; "" means Identity.
+	Scale Scale `json:"scale,omitempty"`
+	// Points is the number of grid points along this parameter; 0 means the
+	// default for the model's dimension.
+	Points int `json:"points,omitempty"`
+	// Lo and Hi, when non-nil, override the box the grid covers (within the
+	// model's support); otherwise the box is found automatically.
+	Lo *float64 `json:"lo,omitempty"`
+	Hi *float64 `json:"hi,omitempty"`
+}
+
+// Options are the settings of one analysis. The zero value is the default.
+type Options struct {
+	// Params holds per-parameter options, by index; it may be shorter than
+	// the number of parameters.
+	Params []ParamOptions `json:"params,omitempty"`
+	// Plots asks for Result.Plots to be filled.
+	Plots bool `json:"plots,omitempty"`
+}
+
+// Progress reports how far an analysis has come.
+type Progress struct {
+	Stage    string  // e.g. "grid", "modes", "laplace", "reverse_kl", "compare"
+	Fraction float64 // of the whole analysis, 0 to 1
+}
+
+// ProgressFunc receives progress reports. Analyse calls it often (at least
+// every few milliseconds of work), so a caller in the browser may use it to
+// yield to the event loop (for instance by sleeping briefly).
+type ProgressFunc func(Progress)

@@ -1,0 +1,165 @@
+package engine
+
+// Result is the outcome of one analysis. Its JSON form is the contract shared
+// by the command line (bellcheck fit --json), the page's export and the
+// page's JavaScript API. Non-finite numbers marshal as null.
+type Result struct {
+	Params []string `json:"params"`
+	// Form is "log_density" or "cost": how the model gave its density.
+	Form string `json:"form"`
+	// Scales gives each parameter's fitting scale: "identity", "log" or "logit".
+	Scales      []string     `json:"scales"`
+	Exact       Exact        `json:"exact"`
+	Fits        Fits         `json:"fits"`
+	Modes       []Mode       `json:"modes"`
+	Diagnostics []Diagnostic `json:"diagnostics"`
+	Grid        GridInfo     `json:"grid"`
+	Timing      Timing       `json:"timing_ms"`
+	// Plots holds curves and images for drawing; omitted from the command
+	// line's JSON unless asked for.
+	Plots *Plots `json:"plots,omitempty"`
+}
+
+// Exact is the reference posterior from quadrature on the grid.
+type Exact struct {
+	LogZ    float64     `json:"log_z"`
+	LogZErr float64     `json:"log_z_err"` // estimated absolute error of LogZ
+	Mean    []float64   `json:"mean"`
+	MeanErr []float64   `json:"mean_err"` // estimated absolute error of each mean
+	Cov     [][]float64 `json:"cov"`
+	CovErr  [][]float64 `json:"cov_err"`
+	SD      []float64   `json:"sd"`
+	Corr    [][]float64 `json:"corr"`
+	// Mode is the highest mode, polished by Newton; GridMode the best grid point.
+	Mode     []float64 `json:"mode"`
+	GridMode []float64 `json:"grid_mode"`
+	// Quantiles holds, per parameter, the 2.5 %, 50 % and 97.5 % quantiles
+	// of its marginal.
+	Quantiles      [][3]float64 `json:"quantiles"`
+	Skewness       []float64    `json:"skewness"`
+	ExcessKurtosis []float64    `json:"excess_kurtosis"`
+}
+
+// Fits holds the Gaussian approximations; a nil fit does not exist, and a
+// diagnostic says why.
+type Fits struct {
+	Laplace   *Fit `json:"laplace"`
+	ReverseKL *Fit `json:"reverse_kl"`
+	MeanField *Fit `json:"mean_field"` // reverse KL with a diagonal covariance
+	ForwardKL *Fit `json:"forward_kl"`
+}
+
+// Fit is one Gaussian approximation, on the fitting scale of each parameter,
+// with its comparison against the exact density.
+type Fit struct {
+	Mean []float64   `json:"mean"`
+	Cov  [][]float64 `json:"cov"`
+	SD   []float64   `json:"sd"`
+	Corr [][]float64 `json:"corr"`
+	// Interval95 is each parameter's central 95 % interval under the fit,
+	// on the original scale (the pushforward where a parameter is transformed).
+	Interval95 [][2]float64 `json:"interval95"`
+	// Precision is the curvature the fit uses: -Hessian at the mode for the
+	// Laplace fit, -E_q[Hessian] at the optimum for the reverse-KL fits.
+	Precision [][]float64 `json:"precision,omitempty"`
+	// LogZ is the Laplace evidence estimate (Laplace fit only).
+	LogZ *float64 `json:"log_z,omitempty"`
+	// ELBO is the evidence lower bound (reverse-KL fits only).
+	ELBO *float64 `json:"elbo,omitempty"`
+	// EvidenceErr is LogZ or ELBO minus the grid's log Z.
+	EvidenceErr *float64 `json:"evidence_err,omitempty"`
+
+	KLqp      float64 `json:"kl_q_p"` // KL(q||p) on the grid; +Inf marshals as null
+	KLpq      float64 `json:"kl_p_q"` // KL(p||q) on the grid
+	Hellinger float64 `json:"hellinger"`
+	// MeanErrSD is (fit mean - exact mean) / exact sd, per parameter.
+	MeanErrSD []float64 `json:"mean_err_sd"`
+	// SDRatio is fit sd / exact sd, per parameter.
+	SDRatio []float64 `json:"sd_ratio"`
+	// Coverage95 is the exact mass inside the fit's central 95 % region.
+	Coverage95 float64 `json:"coverage95"`
+
+	// Iterations, Converged and Residual describe the optimiser's run
+	// (reverse-KL fits and the Laplace mode's Newton polish).
+	Iterations int     `json:"iterations"`
+	Converged  bool    `json:"converged"`
+	Residual   float64 `json:"residual"`
+}
+
+// Mode is one local maximum of the density found by the mode search.
+type Mode struct {
+	X          []float64 `json:"x"`
+	LogDensity float64   `json:"log_density"`
+	// Mass is the approximate share of the total mass near this mode.
+	Mass float64 `json:"mass"`
+	// PositiveDefinite reports whether -Hessian is positive definite there.
+	PositiveDefinite bool `json:"positive_definite"`
+	OnBound          bool `json:"on_bound"`
+}
+
+// Severity of a diagnostic.
+const (
+	SeverityInfo    = "info"
+	SeverityWarning = "warning"
+	SeverityError   = "error"
+)
+
+// Diagnostic is a stable code and one plain sentence.
+type Diagnostic struct {
+	Code     string `json:"code"`
+	Severity string `json:"severity"`
+	Message  string `json:"message"`
+}
+
+// GridInfo describes the quadrature grid.
+type GridInfo struct {
+	Lo     []float64 `json:"lo"`
+	Hi     []float64 `json:"hi"`
+	Points []int     `json:"points"`
+	// EdgeMass is the largest share of mass in any face's outermost layer.
+	EdgeMass float64 `json:"edge_mass"`
+	// NonFinite is the fraction of grid points where log p is NaN or +Inf.
+	NonFinite float64 `json:"non_finite"`
+}
+
+// Timing reports milliseconds spent, in total and per stage.
+type Timing struct {
+	Total  float64            `json:"total"`
+	Stages map[string]float64 `json:"stages,omitempty"`
+}
+
+// Plots holds what the page draws, all on the original scale.
+type Plots struct {
+	// Marginals holds one entry per parameter.
+	Marginals []Marginal1D `json:"marginals"`
+	// Pairs holds one entry per pair i < j, in the order (0,1), (0,2), ...
+	Pairs []Marginal2D `json:"pairs"`
+}
+
+// Marginal1D is a parameter's exact marginal density on a grid, with each
+// fit's marginal density at the same points (nil where the fit is absent).
+type Marginal1D struct {
+	Param   int       `json:"param"`
+	X       []float64 `json:"x"`
+	Exact   []float64 `json:"exact"`
+	Laplace []float64 `json:"laplace"`
+	Reverse []float64 `json:"reverse_kl"`
+	MeanFld []float64 `json:"mean_field"`
+	Forward []float64 `json:"forward_kl"`
+}
+
+// Marginal2D is the exact pairwise marginal density of parameters I and J on
+// an NX by NY grid (Density[iy*NX+ix]), with the density levels whose
+// superlevel sets enclose 39 %, 86 % and 99 % of its mass, and each fit's
+// matching contours (the same masses) as closed polylines.
+type Marginal2D struct {
+	I       int        `json:"i"`
+	J       int        `json:"j"`
+	X       []float64  `json:"x"`
+	Y       []float64  `json:"y"`
+	Density []float64  `json:"density"`
+	Levels  [3]float64 `json:"levels"`
+	// Ellipses[fit][level] is a polyline of points [x, y]; fit names are
+	// "laplace", "reverse_kl", "mean_field", "forward_kl".
+	Ellipses map[string][3][][2]float64 `json:"ellipses"`
+}
