@@ -1,0 +1,157 @@
+//go:build !(js && wasm)
+
+package main
+
+import (
+	"crypto/sha256"
+	"encoding/hex"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"io/fs"
+	"net"
+	"net/http"
+	"os"
+	"path/filepath"
+	"strings"
+
+	"github.com/maxence-charriere/go-app/v10/pkg/app"
+)
+
+// newHandler returns the go-app handler for the calculator page. webDir is
+// the folder holding app.wasm and the static assets; prefix is the path the
+// site is hosted under ("" for the root).
+func newHandler(webDir, prefix string) *app.Handler {
+	h := &app.Handler{
+		Name:         "bellcheck",
+		ShortName:    "bellcheck",
+		Title:        "bellcheck: how good is a Gaussian approximation of your posterior?",
+		Description:  "Exact grid posterior of a 1-4 parameter log-density beside its Laplace, reverse-KL and forward-KL Gaussian fits.",
+		Lang:         "en",
+		LoadingLabel: "bellcheck is loading the calculator ({progress}%)",
+		Icon:         app.Icon{Default: "/web/icon.svg", SVG: "/web/icon.svg"},
+		Styles:       []string{"/web/bellcheck.css"},
+		ThemeColor:   "#1d3b53",
+		Version:      contentVersion(filepath.Join(webDir, "app.wasm")),
+	}
+	if prefix != "" && prefix != "/" {
+		h.Resources = app.PrefixedLocation("/" + strings.Trim(prefix, "/"))
+	} else {
+		h.Resources = app.LocalDir(filepath.Dir(filepath.Clean(webDir)))
+	}
+	return h
+}
+
+// contentVersion names a build by the hash of its wasm file, so that the
+// service worker updates exactly when the program changes.
+func contentVersion(wasmPath string) string {
+	f, err := os.Open(wasmPath)
+	if err != nil {
+		return ""
+	}
+	defer f.Close()
+	sum := sha256.New()
+	if _, err := io.Copy(sum, f); err != nil {
+		return ""
+	}
+	return hex.EncodeToString(sum.Sum(nil))[:16]
+}
+
+// runServe serves the calculator on a local address.
+func runServe(args []string, stderr io.Writer) int {
+	fs := flag.NewFlagSet("serve", flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	addr := fs.String("addr", "127.0.0.1:8000", "address to listen on")
+	webDir := fs.String("web", "web", "folder with app.wasm and the static assets")
+	if err := fs.Parse(args); err != nil || fs.NArg() != 0 {
+		return exitUsage
+	}
+	if _, err := os.Stat(filepath.Join(*webDir, "app.wasm")); err != nil {
+		fmt.Fprintf(stderr, "bellcheck: %s/app.wasm is missing: build it with `make wasm`\n", *webDir)
+		return exitModel
+	}
+	registerRoutes()
+	ln, err := net.Listen("tcp", *addr)
+	if err != nil {
+		fmt.Fprintf(stderr, "bellcheck: %v\n", err)
+		return exitModel
+	}
+	fmt.Fprintf(stderr, "bellcheck: serving the calculator on http://%s/\n", ln.Addr())
+	if err := http.Serve(ln, newHandler(*webDir, "")); err != nil {
+		fmt.Fprintf(stderr, "bellcheck: %v\n", err)
+		return exitModel
+	}
+	return exitOK
+}
+
+// runStatic writes the static site: pre-rendered index.html, go-app's
+// scripts and service worker, and a copy of the web folder.
+func runStatic(args []string, stderr io.Writer) int {
+	fs := flag.NewFlagSet("static", flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	prefix := fs.String("prefix", "", "path the site is hosted under, e.g. /tools/bellcheck/")
+	webDir := fs.String("web", "web", "folder with app.wasm and the static assets")
+	if err := fs.Parse(args); err != nil || fs.NArg() != 1 {
+		fmt.Fprint(stderr, usage)
+		return exitUsage
+	}
+	if err := writeStatic(fs.Arg(0), *webDir, *prefix); err != nil {
+		fmt.Fprintf(stderr, "bellcheck: %v\n", err)
+		return exitModel
+	}
+	return exitOK
+}
+
+// writeStatic generates the static site into dir.
+func writeStatic(dir, webDir, prefix string) error {
+	if _, err := os.Stat(filepath.Join(webDir, "app.wasm")); err != nil {
+		return fmt.Errorf("%s/app.wasm is missing: build it with `make wasm`", webDir)
+	}
+	registerRoutes()
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return err
+	}
+	if err := app.GenerateStaticWebsite(dir, newHandler(webDir, prefix)); err != nil {
+		return fmt.Errorf("generating the static site: %w", err)
+	}
+	return copyTree(filepath.Join(dir, "web"), webDir)
+}
+
+// copyTree copies the regular files below src into dst.
+func copyTree(dst, src string) error {
+	return filepath.WalkDir(src, func(path string, d fs.DirEntry, err error) error {
+		if err != nil {
+			return err
+		}
+		rel, err := filepath.Rel(src, path)
+		if err != nil {
+			return err
+		}
+		target := filepath.Join(dst, rel)
+		if d.IsDir() {
+			return os.MkdirAll(target, 0o755)
+		}
+		if !d.Type().IsRegular() {
+			return errors.New("not a regular file: " + path)
+		}
+		return copyFile(target, path)
+	})
+}
+
+func copyFile(dst, src string) error {
+	in, err := os.Open(src)
+	if err != nil {
+		return err
+	}
+	defer in.Close()
+	out, err := os.Create(dst)
+	if err != nil {
+		return err
+	}
+	if _, err := io.Copy(out, in); err != nil {
+		out.Close()
+		return err
+	}
+	return out.Close()
+}

@@ -1,0 +1,154 @@
+//go:build !(js && wasm)
+
+package main
+
+import (
+	"fmt"
+	"io"
+	"math"
+	"strings"
+	"text/tabwriter"
+
+	"bellcheck/engine"
+)
+
+// fitColumns are the table's columns after the exact one, in display order.
+var fitColumns = []struct {
+	title string
+	get   func(engine.Fits) *engine.Fit
+}{
+	{"laplace", func(f engine.Fits) *engine.Fit { return f.Laplace }},
+	{"reverse KL", func(f engine.Fits) *engine.Fit { return f.ReverseKL }},
+	{"mean-field", func(f engine.Fits) *engine.Fit { return f.MeanField }},
+	{"forward KL", func(f engine.Fits) *engine.Fit { return f.ForwardKL }},
+}
+
+// writeTable prints a readable summary of a result: one row per quantity,
+// one column for the exact density and one per fit.
+func writeTable(w io.Writer, name string, r *engine.Result) {
+	fmt.Fprintf(w, "%s: %d parameter(s) %s, given as %s\n", name, len(r.Params),
+		strings.Join(r.Params, ", "), strings.ReplaceAll(r.Form, "_", "-"))
+	fmt.Fprintf(w, "grid: %s points; log Z = %s (error estimate %s)\n\n",
+		joinInts(r.Grid.Points, " x "), num(r.Exact.LogZ), num(r.Exact.LogZErr))
+
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
+	header := []string{"", "exact"}
+	for _, c := range fitColumns {
+		header = append(header, c.title)
+	}
+	row(tw, header...)
+	fits := make([]*engine.Fit, len(fitColumns))
+	for i, c := range fitColumns {
+		fits[i] = c.get(r.Fits)
+	}
+	perFit := func(label string, exact string, f func(*engine.Fit) string) {
+		cells := []string{label, exact}
+		for _, fit := range fits {
+			if fit == nil {
+				cells = append(cells, "-")
+				continue
+			}
+			cells = append(cells, f(fit))
+		}
+		row(tw, cells...)
+	}
+	for i, p := range r.Params {
+		perFit("mean "+p, at(r.Exact.Mean, i), func(f *engine.Fit) string { return at(f.Mean, i) })
+		perFit("sd "+p, at(r.Exact.SD, i), func(f *engine.Fit) string { return at(f.SD, i) })
+		exactInterval := "-"
+		if i < len(r.Exact.Quantiles) {
+			q := r.Exact.Quantiles[i]
+			exactInterval = interval(q[0], q[2])
+		}
+		perFit("95% "+p, exactInterval, func(f *engine.Fit) string {
+			if i >= len(f.Interval95) {
+				return "-"
+			}
+			return interval(f.Interval95[i][0], f.Interval95[i][1])
+		})
+	}
+	for i := range r.Params {
+		for j := i + 1; j < len(r.Params); j++ {
+			perFit("corr "+r.Params[i]+","+r.Params[j], at2(r.Exact.Corr, i, j),
+				func(f *engine.Fit) string { return at2(f.Corr, i, j) })
+		}
+	}
+	perFit("log-evidence", num(r.Exact.LogZ), func(f *engine.Fit) string {
+		switch {
+		case f.LogZ != nil:
+			return num(*f.LogZ)
+		case f.ELBO != nil:
+			return num(*f.ELBO) + " (ELBO)"
+		}
+		return "-"
+	})
+	perFit("KL(q||p)", "", func(f *engine.Fit) string { return num(f.KLqp) })
+	perFit("KL(p||q)", "", func(f *engine.Fit) string { return num(f.KLpq) })
+	perFit("Hellinger", "", func(f *engine.Fit) string { return num(f.Hellinger) })
+	perFit("95% coverage", "", func(f *engine.Fit) string { return num(f.Coverage95) })
+	tw.Flush()
+
+	if len(r.Modes) > 0 {
+		fmt.Fprintf(w, "\nmodes (%d):\n", len(r.Modes))
+		for _, m := range r.Modes {
+			fmt.Fprintf(w, "  at (%s)  log p %s  mass %s\n", joinNums(m.X), num(m.LogDensity), num(m.Mass))
+		}
+	}
+	if len(r.Diagnostics) > 0 {
+		fmt.Fprintln(w, "\ndiagnostics:")
+		for _, d := range r.Diagnostics {
+			fmt.Fprintf(w, "  %-7s %s: %s\n", d.Severity, d.Code, d.Message)
+		}
+	}
+	fmt.Fprintf(w, "\ntime: %.1f ms\n", r.Timing.Total)
+	fmt.Fprintln(w, "These are numerical approximations with estimated errors; check results that feed a consequential decision with a full inference method.")
+}
+
+func row(w io.Writer, cells ...string) {
+	fmt.Fprintln(w, strings.Join(cells, "\t")+"\t")
+}
+
+// num prints a number with 5 significant digits; non-finite values as words.
+func num(v float64) string {
+	switch {
+	case math.IsNaN(v):
+		return "n/a"
+	case math.IsInf(v, 1):
+		return "inf"
+	case math.IsInf(v, -1):
+		return "-inf"
+	}
+	return fmt.Sprintf("%.5g", v)
+}
+
+func at(v []float64, i int) string {
+	if i >= len(v) {
+		return "-"
+	}
+	return num(v[i])
+}
+
+func at2(m [][]float64, i, j int) string {
+	if i >= len(m) || j >= len(m[i]) {
+		return "-"
+	}
+	return num(m[i][j])
+}
+
+func interval(lo, hi float64) string { return "[" + num(lo) + ", " + num(hi) + "]" }
+
+func joinNums(v []float64) string {
+	s := make([]string, len(v))
+	for i, x := range v {
+		s[i] = num(x)
+	}
+	return strings.Join(s, ", ")
+}
+
+func joinInts(v []int, sep string) string {
+	s := make([]string, len(v))
+	for i, x := range v {
+		s[i] = fmt.Sprint(x)
+	}
+	return strings.Join(s, sep)
+}
