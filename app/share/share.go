@@ -1,0 +1,165 @@
+package share
+
+import (
+	"bytes"
+	"compress/flate"
+	"encoding/base64"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+	"strings"
+	"unicode/utf8"
+
+	"bellcheck/engine"
+	"bellcheck/engine/model"
+)
+
+// Version is the link format this package writes.
+const Version = 1
+
+// Limits on what a link may hold.
+const (
+	// MaxFragment is the longest fragment accepted, in bytes.
+	MaxFragment = 256 << 10
+	// maxJSON bounds the inflated JSON, so a small link cannot expand
+	// into a large allocation.
+	maxJSON = 2*model.MaxSource + 64<<10
+	// MaxPoints bounds a parameter's grid points in a link.
+	MaxPoints = 4001
+)
+
+// Errors returned by Decode.
+var (
+	ErrEmpty         = errors.New("the link holds no calculator state")
+	ErrNotOurs       = errors.New("the link's fragment is not a bellcheck state")
+	ErrFutureVersion = errors.New("the link was made by a newer version of bellcheck")
+	ErrTooLong       = errors.New("the link is too long")
+	ErrBadEncoding   = errors.New("the link is damaged (invalid encoding)")
+	ErrBadContent    = errors.New("the link is damaged (invalid content)")
+)
+
+// View holds the page's view choices.
+type View struct {
+	// LogScale shows 1-D densities on a log scale.
+	LogScale bool `json:"log,omitempty"`
+	// Embed selects the compact view for an iframe.
+	Embed bool `json:"embed,omitempty"`
+	// ReadOnly hides the editor's input (embed view only).
+	ReadOnly bool `json:"ro,omitempty"`
+	// EditorCollapsed starts the embed view with the editor folded away.
+	EditorCollapsed bool `json:"fold,omitempty"`
+}
+
+// State is everything a link restores.
+type State struct {
+	Model  string                `json:"m"`
+	Params []engine.ParamOptions `json:"p,omitempty"`
+	View   View                  `json:"v,omitempty"`
+}
+
+// Encode returns the fragment (without '#') for s.
+func Encode(s State) (string, error) {
+	raw, err := json.Marshal(s)
+	if err != nil {
+		return "", err
+	}
+	var buf bytes.Buffer
+	w, err := flate.NewWriter(&buf, flate.BestCompression)
+	if err != nil {
+		return "", err
+	}
+	if _, err := w.Write(raw); err != nil {
+		return "", err
+	}
+	if err := w.Close(); err != nil {
+		return "", err
+	}
+	frag := "b" + strconv.Itoa(Version) + "." + base64.RawURLEncoding.EncodeToString(buf.Bytes())
+	if len(frag) > MaxFragment {
+		return "", ErrTooLong
+	}
+	return frag, nil
+}
+
+// Decode parses a fragment (with or without the leading '#') made by Encode.
+// It never panics; every failure is one of the package's errors, wrapped
+// with detail where that helps.
+func Decode(fragment string) (State, error) {
+	fragment = strings.TrimPrefix(fragment, "#")
+	if fragment == "" {
+		return State{}, ErrEmpty
+	}
+	if len(fragment) > MaxFragment {
+		return State{}, ErrTooLong
+	}
+	version, payload, ok := strings.Cut(fragment, ".")
+	if !ok || len(version) < 2 || version[0] != 'b' {
+		return State{}, ErrNotOurs
+	}
+	n, err := strconv.Atoi(version[1:])
+	if err != nil || n < 1 {
+		return State{}, ErrNotOurs
+	}
+	if n > Version {
+		return State{}, fmt.Errorf("%w (format %d; this page reads format %d)", ErrFutureVersion, n, Version)
+	}
+	compressed, err := base64.RawURLEncoding.DecodeString(payload)
+	if err != nil {
+		return State{}, ErrBadEncoding
+	}
+	raw, err := io.ReadAll(io.LimitReader(flate.NewReader(bytes.NewReader(compressed)), maxJSON+1))
+	if err != nil {
+		return State{}, ErrBadEncoding
+	}
+	if len(raw) > maxJSON {
+		return State{}, ErrTooLong
+	}
+	var s State
+	dec := json.NewDecoder(bytes.NewReader(raw))
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(&s); err != nil {
+		return State{}, fmt.Errorf("%w: %v", ErrBadContent, err)
+	}
+	if dec.More() {
+		return State{}, fmt.Errorf("%w: trailing data", ErrBadContent)
+	}
+	if err := validate(s); err != nil {
+		return State{}, fmt.Errorf("%w: %v", ErrBadContent, err)
+	}
+	return s, nil
+}
+
+// validate checks what JSON decoding cannot: sizes, ranges and names.
+func validate(s State) error {
+	if len(s.Model) > model.MaxSource {
+		return fmt.Errorf("model text of %d bytes exceeds %d", len(s.Model), model.MaxSource)
+	}
+	if !utf8.ValidString(s.Model) {
+		return errors.New("model text is not valid UTF-8")
+	}
+	if len(s.Params) > model.MaxParams {
+		return fmt.Errorf("%d parameter settings, at most %d", len(s.Params), model.MaxParams)
+	}
+	for i, p := range s.Params {
+		switch p.Scale {
+		case "", engine.Identity, engine.Log, engine.Logit:
+		default:
+			return fmt.Errorf("parameter %d: unknown scale %q", i+1, p.Scale)
+		}
+		if p.Points < 0 || p.Points > MaxPoints {
+			return fmt.Errorf("parameter %d: %d grid points, want 0 to %d", i+1, p.Points, MaxPoints)
+		}
+		for _, b := range []*float64{p.Lo, p.Hi} {
+			if b != nil && (math.IsNaN(*b) || math.IsInf(*b, 0)) {
+				return fmt.Errorf("parameter %d: bound is not a finite number", i+1)
+			}
+		}
+		if p.Lo != nil && p.Hi != nil && !(*p.Lo < *p.Hi) {
+			return fmt.Errorf("parameter %d: lower bound %g is not below upper bound %g", i+1, *p.Lo, *p.Hi)
+		}
+	}
+	return nil
+}

@@ -1,0 +1,143 @@
+package share
+
+import (
+	"bytes"
+	"compress/flate"
+	"encoding/base64"
+	"errors"
+	"reflect"
+	"strings"
+	"testing"
+
+	"bellcheck/engine"
+)
+
+func ptr(v float64) *float64 { return &v }
+
+func TestRoundTrip(t *testing.T) {
+	cases := []State{
+		{Model: "-x^2/2"},
+		{Model: "# comment\nparam s in [0, inf]\nld_gamma(s, 2, 1)",
+			Params: []engine.ParamOptions{{Scale: engine.Log, Points: 801}}},
+		{Model: "a = [1, 2, 3]\nsum(-(a - m)^2)/2",
+			Params: []engine.ParamOptions{{Lo: ptr(-3.5), Hi: ptr(7.25)}},
+			View:   View{LogScale: true, Embed: true, ReadOnly: true, EditorCollapsed: true}},
+		{Model: "ünïcödé = 1 # ∑ λ\n-x^2"},
+		{Model: "<script>alert(1)</script>\n\"'&"},
+		{Model: strings.Repeat("-x^2/2 + 0.001*x\n", 3000)},
+	}
+	for i, want := range cases {
+		frag, err := Encode(want)
+		if err != nil {
+			t.Fatalf("case %d: Encode: %v", i, err)
+		}
+		for _, f := range []string{frag, "#" + frag} {
+			got, err := Decode(f)
+			if err != nil {
+				t.Fatalf("case %d: Decode: %v", i, err)
+			}
+			if !reflect.DeepEqual(got, want) {
+				t.Errorf("case %d: round trip gave %+v, want %+v", i, got, want)
+			}
+		}
+	}
+}
+
+func TestLinksAreURLSafe(t *testing.T) {
+	frag, err := Encode(State{Model: "<>&?#/ %+=" + strings.Repeat("x", 100)})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, r := range frag {
+		ok := r >= 'a' && r <= 'z' || r >= 'A' && r <= 'Z' || r >= '0' && r <= '9' || strings.ContainsRune("-_.", r)
+		if !ok {
+			t.Fatalf("fragment %q holds %q, which is not URL-safe", frag, r)
+		}
+	}
+}
+
+// deflateB64 builds a payload by hand, for hostile inputs Encode would not make.
+func deflateB64(t *testing.T, raw []byte) string {
+	t.Helper()
+	var buf bytes.Buffer
+	w, _ := flate.NewWriter(&buf, flate.BestCompression)
+	w.Write(raw)
+	w.Close()
+	return base64.RawURLEncoding.EncodeToString(buf.Bytes())
+}
+
+func TestHostileFragments(t *testing.T) {
+	valid, _ := Encode(State{Model: "-x^2"})
+	cases := []struct {
+		name     string
+		fragment string
+		want     error
+	}{
+		{"empty", "", ErrEmpty},
+		{"just hash", "#", ErrEmpty},
+		{"foreign fragment", "#section-2", ErrNotOurs},
+		{"no version", "#.abc", ErrNotOurs},
+		{"version zero", "#b0." + valid[3:], ErrNotOurs},
+		{"future version", "#b2." + valid[3:], ErrFutureVersion},
+		{"huge version", "#b99999999999999999999." + valid[3:], ErrNotOurs},
+		{"invalid base64", "#b1.!!!!", ErrBadEncoding},
+		{"truncated", "#" + valid[:len(valid)-4], ErrBadEncoding},
+		{"not deflate", "#b1." + base64.RawURLEncoding.EncodeToString([]byte("plain text here")), ErrBadEncoding},
+		{"ten megabytes", "#b1." + strings.Repeat("A", 10<<20), ErrTooLong},
+		{"inflates too far", "#b1." + deflateB64(t, bytes.Repeat([]byte(" "), 4<<20)), ErrTooLong},
+		{"not JSON", "#b1." + deflateB64(t, []byte("<script>alert(1)</script>")), ErrBadContent},
+		{"unknown field", "#b1." + deflateB64(t, []byte(`{"m":"-x^2","eval":"alert(1)"}`)), ErrBadContent},
+		{"model too long", "#b1." + deflateB64(t, []byte(`{"m":"`+strings.Repeat("x", 70000)+`"}`)), ErrBadContent},
+		{"bad scale", "#b1." + deflateB64(t, []byte(`{"m":"-x^2","p":[{"scale":"cube"}]}`)), ErrBadContent},
+		{"negative points", "#b1." + deflateB64(t, []byte(`{"m":"-x^2","p":[{"points":-5}]}`)), ErrBadContent},
+		{"too many points", "#b1." + deflateB64(t, []byte(`{"m":"-x^2","p":[{"points":100000000}]}`)), ErrBadContent},
+		{"bounds reversed", "#b1." + deflateB64(t, []byte(`{"m":"-x^2","p":[{"lo":3,"hi":1}]}`)), ErrBadContent},
+		{"five params", "#b1." + deflateB64(t, []byte(`{"m":"-x^2","p":[{},{},{},{},{}]}`)), ErrBadContent},
+		{"trailing data", "#b1." + deflateB64(t, []byte(`{"m":"-x^2"}{"m":"y"}`)), ErrBadContent},
+		{"wrong type", "#b1." + deflateB64(t, []byte(`{"m":42}`)), ErrBadContent},
+	}
+	for _, c := range cases {
+		_, err := Decode(c.fragment)
+		if !errors.Is(err, c.want) {
+			t.Errorf("%s: error %v, want %v", c.name, err, c.want)
+		}
+	}
+}
+
+// TestScriptPayloadStaysText: the decoder returns a hostile model text as it
+// was written, byte for byte; the page shows it only as text.
+func TestScriptPayloadStaysText(t *testing.T) {
+	payload := `"><img src=x onerror=alert(1)><script>alert(document.cookie)</script>`
+	frag, err := Encode(State{Model: payload})
+	if err != nil {
+		t.Fatal(err)
+	}
+	got, err := Decode(frag)
+	if err != nil || got.Model != payload {
+		t.Fatalf("Decode = %q, %v; want the payload unchanged", got.Model, err)
+	}
+}
+
+func FuzzDecode(f *testing.F) {
+	for _, s := range []State{{Model: "-x^2/2"}, {Model: "param s in [0, inf]\nld_gamma(s,2,1)", Params: []engine.ParamOptions{{Scale: engine.Log}}}} {
+		frag, _ := Encode(s)
+		f.Add(frag)
+	}
+	f.Add("#b1.")
+	f.Add("b9.zzz")
+	f.Fuzz(func(t *testing.T, fragment string) {
+		s, err := Decode(fragment)
+		if err != nil {
+			return
+		}
+		// Whatever decodes must encode and decode to the same state.
+		again, err := Encode(s)
+		if err != nil {
+			t.Fatalf("Encode of a decoded state: %v", err)
+		}
+		back, err := Decode(again)
+		if err != nil || !reflect.DeepEqual(back, s) {
+			t.Fatalf("re-decode gave %+v, %v; want %+v", back, err, s)
+		}
+	})
+}
