@@ -1,0 +1,99 @@
+package plot
+
+import (
+	"math"
+	"strconv"
+	"strings"
+)
+
+// Path builds SVG path data ("M x y L x y ... Z") with coordinates rounded
+// to two decimals, which is below a pixel's hundredth at any zoom used here.
+type Path struct {
+	b   strings.Builder
+	pen bool // a subpath is open
+}
+
+// MoveTo starts a new subpath at (x, y).
+func (p *Path) MoveTo(x, y float64) {
+	p.b.WriteByte('M')
+	p.pair(x, y)
+	p.pen = true
+}
+
+// LineTo draws a line to (x, y), or starts a subpath if none is open.
+func (p *Path) LineTo(x, y float64) {
+	if !p.pen {
+		p.MoveTo(x, y)
+		return
+	}
+	p.b.WriteByte('L')
+	p.pair(x, y)
+}
+
+// Close closes the current subpath.
+func (p *Path) Close() {
+	if p.pen {
+		p.b.WriteByte('Z')
+	}
+	p.pen = false
+}
+
+// Lift ends the current subpath without closing it: the next LineTo starts a
+// new one (a gap in the line).
+func (p *Path) Lift() { p.pen = false }
+
+// String returns the path data.
+func (p *Path) String() string { return p.b.String() }
+
+// Empty reports whether nothing was drawn.
+func (p *Path) Empty() bool { return p.b.Len() == 0 }
+
+func (p *Path) pair(x, y float64) {
+	p.b.WriteString(coord(x))
+	p.b.WriteByte(' ')
+	p.b.WriteString(coord(y))
+}
+
+func coord(v float64) string {
+	s := strconv.FormatFloat(math.Round(v*100)/100, 'f', -1, 64)
+	if s == "-0" {
+		return "0"
+	}
+	return s
+}
+
+// Curve returns the path of the points (xs[i], ys[i]) mapped through sx and
+// sy; non-finite values break the line. Values beyond the y range are clamped
+// to two units outside it, so a curve cannot run far off the plot.
+func Curve(xs, ys []float64, sx, sy Linear) string {
+	var p Path
+	n := min(len(xs), len(ys))
+	lo, hi := math.Min(sy.R0, sy.R1), math.Max(sy.R0, sy.R1)
+	for i := range n {
+		x, y := xs[i], ys[i]
+		if math.IsNaN(x) || math.IsNaN(y) || math.IsInf(x, 0) || math.IsInf(y, 0) {
+			p.Lift()
+			continue
+		}
+		ry := math.Max(lo-2, math.Min(hi+2, sy.At(y)))
+		p.LineTo(sx.At(x), ry)
+	}
+	return p.String()
+}
+
+// Outline returns the path of a polyline given in data coordinates, closed
+// when closed is true.
+func Outline(pts [][2]float64, closed bool, sx, sy Linear) string {
+	var p Path
+	for _, q := range pts {
+		if math.IsNaN(q[0]) || math.IsNaN(q[1]) || math.IsInf(q[0], 0) || math.IsInf(q[1], 0) {
+			p.Lift()
+			continue
+		}
+		p.LineTo(sx.At(q[0]), sy.At(q[1]))
+	}
+	if closed {
+		p.Close()
+	}
+	return p.String()
+}
