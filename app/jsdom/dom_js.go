@@ -1,0 +1,142 @@
+//go:build js && wasm
+
+package jsdom
+
+import (
+	"fmt"
+
+	"github.com/hack-pad/safejs"
+)
+
+// element returns the element with the given id.
+func element(id string) (safejs.Value, error) {
+	doc, err := safejs.Global().Get("document")
+	if err != nil {
+		return safejs.Value{}, err
+	}
+	el, err := doc.Call("getElementById", id)
+	if err != nil {
+		return safejs.Value{}, err
+	}
+	if el.IsNull() || el.IsUndefined() {
+		return safejs.Value{}, fmt.Errorf("%w: %q", ErrNoElement, id)
+	}
+	return el, nil
+}
+
+// DrawRGBA sets the canvas with the given id to width by height pixels and
+// fills it with pixels (row-major RGBA, 4*width*height bytes) through
+// ImageData.
+func DrawRGBA(canvasID string, width, height int, pixels []byte) error {
+	if len(pixels) != 4*width*height || width <= 0 || height <= 0 {
+		return fmt.Errorf("jsdom: %d bytes for a %dx%d image", len(pixels), width, height)
+	}
+	canvas, err := element(canvasID)
+	if err != nil {
+		return err
+	}
+	if w, err := canvas.Get("width"); err == nil {
+		if n, err := w.Int(); err != nil || n != width {
+			if err := canvas.Set("width", width); err != nil {
+				return err
+			}
+		}
+	}
+	if h, err := canvas.Get("height"); err == nil {
+		if n, err := h.Int(); err != nil || n != height {
+			if err := canvas.Set("height", height); err != nil {
+				return err
+			}
+		}
+	}
+	ctx, err := canvas.Call("getContext", "2d")
+	if err != nil {
+		return err
+	}
+	if ctx.IsNull() {
+		return fmt.Errorf("jsdom: canvas %q has no 2d context", canvasID)
+	}
+	clamped, err := safejs.Global().Get("Uint8ClampedArray")
+	if err != nil {
+		return err
+	}
+	arr, err := clamped.New(len(pixels))
+	if err != nil {
+		return err
+	}
+	if _, err := safejs.CopyBytesToJS(arr, pixels); err != nil {
+		return err
+	}
+	imageData, err := safejs.Global().Get("ImageData")
+	if err != nil {
+		return err
+	}
+	img, err := imageData.New(arr, width, height)
+	if err != nil {
+		return err
+	}
+	_, err = ctx.Call("putImageData", img, 0, 0)
+	return err
+}
+
+// SetValue sets the value property of the element with the given id (a
+// textarea or input), leaving the browser's undo history to the browser.
+func SetValue(id, value string) error {
+	el, err := element(id)
+	if err != nil {
+		return err
+	}
+	return el.Set("value", value)
+}
+
+// Value returns the value property of the element with the given id.
+func Value(id string) (string, error) {
+	el, err := element(id)
+	if err != nil {
+		return "", err
+	}
+	v, err := el.Get("value")
+	if err != nil {
+		return "", err
+	}
+	return v.String()
+}
+
+// BoundingRect returns the element's getBoundingClientRect.
+func BoundingRect(id string) (Rect, error) {
+	el, err := element(id)
+	if err != nil {
+		return Rect{}, err
+	}
+	r, err := el.Call("getBoundingClientRect")
+	if err != nil {
+		return Rect{}, err
+	}
+	var out Rect
+	for _, f := range []struct {
+		name string
+		dst  *float64
+	}{{"left", &out.X}, {"top", &out.Y}, {"width", &out.Width}, {"height", &out.Height}} {
+		v, err := r.Get(f.name)
+		if err != nil {
+			return Rect{}, err
+		}
+		if *f.dst, err = v.Float(); err != nil {
+			return Rect{}, err
+		}
+	}
+	return out, nil
+}
+
+// Focus moves the keyboard focus to the element with the given id.
+func Focus(id string) error {
+	el, err := element(id)
+	if err != nil {
+		return err
+	}
+	_, err = el.Call("focus")
+	return err
+}
+
+// Available reports whether the browser's API is reachable.
+func Available() bool { return true }

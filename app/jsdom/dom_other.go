@@ -1,0 +1,21 @@
+//go:build !(js && wasm)
+
+package jsdom
+
+// DrawRGBA fills a canvas with pixels; natively it returns ErrNoBrowser.
+func DrawRGBA(canvasID string, width, height int, pixels []byte) error { return ErrNoBrowser }
+
+// SetValue sets an element's value; natively it returns ErrNoBrowser.
+func SetValue(id, value string) error { return ErrNoBrowser }
+
+// Value reads an element's value; natively it returns ErrNoBrowser.
+func Value(id string) (string, error) { return "", ErrNoBrowser }
+
+// BoundingRect returns an element's box; natively it returns ErrNoBrowser.
+func BoundingRect(id string) (Rect, error) { return Rect{}, ErrNoBrowser }
+
+// Focus focuses an element; natively it returns ErrNoBrowser.
+func Focus(id string) error { return ErrNoBrowser }
+
+// Available reports whether the browser's API is reachable: false natively.
+func Available() bool { return false }
