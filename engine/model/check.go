@@ -1,0 +1,578 @@
+package model
+
+import (
+	"fmt"
+	"math"
+	"sort"
+	"strings"
+)
+
+// badShape marks an expression whose shape could not be found because of an
+// error already reported; it combines with anything without a new error.
+var badShape = Shape{Len: -1}
+
+// checker resolves names, checks arities, shapes and limits, and fills in
+// the Model.
+type checker struct {
+	m    *Model
+	errs *errorSink
+	lim  limits
+
+	params   map[string]int // parameter name -> index in m.Params
+	defs     map[string]int // definitions made so far -> index in m.Defs
+	defAt    map[string]Pos // every (first) definition in the model
+	declAt   map[string]Pos // every (first) param declaration
+	free     map[string]bool
+	skip     map[Stmt]bool // statements already reported as wrong
+	defining string        // the definition being checked
+	tooMany  bool
+
+	constVal  map[int]float64 // constant value of definitions, by index
+	constDone map[int]bool    // constVal computed (true) or found not constant
+}
+
+// check checks the parsed statements of m and fills in the rest of it. end
+// is the position of the end of the text.
+func check(m *Model, end Pos, errs *errorSink, lim limits) {
+	c := &checker{
+		m: m, errs: errs, lim: lim,
+		params:    map[string]int{},
+		defs:      map[string]int{},
+		defAt:     map[string]Pos{},
+		declAt:    map[string]Pos{},
+		free:      map[string]bool{},
+		skip:      map[Stmt]bool{},
+		constVal:  map[int]float64{},
+		constDone: map[int]bool{},
+	}
+	c.declare()
+	var density *DensityStmt
+	for _, st := range m.Stmts {
+		if errs.full() {
+			return
+		}
+		if c.skip[st] {
+			continue
+		}
+		switch s := st.(type) {
+		case *ParamStmt:
+			c.paramBounds(s)
+		case *DefineStmt:
+			c.define(s)
+		case *DensityStmt:
+			if density != nil {
+				c.errs.add(s.At, "a model has one density expression: add its terms with +, and name other quantities with NAME = EXPR",
+					"second density statement; the first is at line %d", density.At.Line)
+				continue
+			}
+			density = s
+			c.density(s)
+		}
+	}
+	if density == nil {
+		c.errs.add(end, "write the log-density as an expression on a line of its own, or cost EXPR for its negative",
+			"the model has no density statement")
+		return
+	}
+	if len(m.Params) == 0 {
+		c.errs.add(startPos(density.Value), "a name that is neither defined nor declared is a parameter; declare one with param NAME",
+			"the model has no parameters")
+	}
+}
+
+// declare is the first pass: it records every definition's and
+// declaration's position, declares the parameters in order, and reports
+// names declared or defined twice or that cannot be used.
+func (c *checker) declare() {
+	for _, st := range c.m.Stmts {
+		if s, ok := st.(*DefineStmt); ok {
+			if _, dup := c.defAt[s.Name]; !dup && reservedName(s.Name) == "" {
+				c.defAt[s.Name] = s.At
+			}
+		}
+	}
+	for _, st := range c.m.Stmts {
+		switch s := st.(type) {
+		case *ParamStmt:
+			if what := reservedName(s.Name); what != "" {
+				c.errs.add(s.NameAt, "", "cannot declare %s as a parameter: it is %s", s.Name, what)
+				c.skip[s] = true
+				continue
+			}
+			if at, dup := c.declAt[s.Name]; dup {
+				c.errs.add(s.NameAt, "", "parameter %s is already declared at line %d", s.Name, at.Line)
+				c.skip[s] = true
+				continue
+			}
+			c.declAt[s.Name] = s.NameAt
+			c.addParam(s.Name, s.NameAt, true)
+		case *DefineStmt:
+			c.walkFree(s.Value)
+		case *DensityStmt:
+			c.walkFree(s.Value)
+		}
+	}
+	for _, st := range c.m.Stmts {
+		s, ok := st.(*DefineStmt)
+		if !ok {
+			continue
+		}
+		switch {
+		case reservedName(s.Name) != "":
+			c.errs.add(s.At, "", "cannot define %s: it is %s", s.Name, reservedName(s.Name))
+			c.skip[s] = true
+		case c.declAt[s.Name] != (Pos{}):
+			c.errs.add(s.At, "give the parameter and the defined quantity different names",
+				"%s is declared as a parameter at line %d; it cannot also be defined", s.Name, c.declAt[s.Name].Line)
+			c.skip[s] = true
+		case c.defAt[s.Name] != s.At:
+			c.errs.add(s.At, "give the new quantity a name of its own",
+				"%s is already defined at line %d", s.Name, c.defAt[s.Name].Line)
+			c.skip[s] = true
+		}
+	}
+}
+
+// reservedName says what a name that cannot be declared or defined is ("a
+// function", "a built-in constant"), or returns "".
+func reservedName(name string) string {
+	if _, ok := Funcs[name]; ok {
+		return "the name of a function"
+	}
+	if name == "pi" || name == "inf" {
+		return "a built-in constant"
+	}
+	return ""
+}
+
+// walkFree records the names used as plain names in e, so that a parameter
+// used as a function can be recognised as such.
+func (c *checker) walkFree(e Expr) {
+	switch e := e.(type) {
+	case *Ident:
+		c.free[e.Name] = true
+	case *Unary:
+		c.walkFree(e.X)
+	case *Binary:
+		c.walkFree(e.X)
+		c.walkFree(e.Y)
+	case *Call:
+		for _, a := range e.Args {
+			c.walkFree(a)
+		}
+	case *Vector:
+		for _, a := range e.Elems {
+			c.walkFree(a)
+		}
+	}
+}
+
+// addParam appends a parameter and reports the first one over the limit.
+func (c *checker) addParam(name string, at Pos, declared bool) int {
+	idx := len(c.m.Params)
+	if idx >= c.lim.maxParams && !c.tooMany {
+		c.tooMany = true
+		names := make([]string, idx)
+		for i, p := range c.m.Params {
+			names[i] = p.Name
+		}
+		hint := "a name that is neither defined nor declared is a parameter; check for a misspelt name"
+		if !declared {
+			var cands []string
+			for n := range c.defs {
+				cands = append(cands, n)
+			}
+			sort.Strings(cands)
+			cands = append(cands, names...)
+			if s := suggest(name, cands); len(s) > 0 {
+				hint += "; " + didYouMean(s)
+			}
+		}
+		c.errs.add(at, hint, "too many parameters: %s would be the %s, and a model has at most %d (%s)",
+			name, ordinal(idx+1), c.lim.maxParams, strings.Join(names, ", "))
+	}
+	c.params[name] = idx
+	c.m.Params = append(c.m.Params, Param{Name: name, Lo: math.Inf(-1), Hi: math.Inf(1), Declared: declared, At: at})
+	return idx
+}
+
+func ordinal(n int) string {
+	words := []string{"zeroth", "first", "second", "third", "fourth", "fifth", "sixth", "seventh", "eighth", "ninth", "tenth"}
+	if n < len(words) {
+		return words[n]
+	}
+	return fmt.Sprintf("parameter number %d", n)
+}
+
+// paramBounds checks and evaluates a declared parameter's support.
+func (c *checker) paramBounds(s *ParamStmt) {
+	if s.Lo == nil {
+		return
+	}
+	idx := c.params[s.Name]
+	lo, okLo := c.bound(s.Lo, s.Name)
+	hi, okHi := c.bound(s.Hi, s.Name)
+	if !okLo || !okHi {
+		return
+	}
+	p := &c.m.Params[idx]
+	p.Lo, p.Hi = lo, hi
+	if !(lo < hi) {
+		c.errs.add(startPos(s.Lo), "the support is [LO, HI] with LO < HI; use -inf and inf for no bound",
+			"empty support for %s: the lower bound %s is not less than the upper bound %s", s.Name, fmtNum(lo), fmtNum(hi))
+	}
+}
+
+func fmtNum(v float64) string {
+	switch {
+	case math.IsInf(v, 1):
+		return "inf"
+	case math.IsInf(v, -1):
+		return "-inf"
+	}
+	return fmt.Sprintf("%g", v)
+}
+
+// bound checks one bound of parameter name: a constant scalar expression of
+// numbers, pi, inf, the operators and earlier constant definitions. It
+// returns the bound's value.
+func (c *checker) bound(e Expr, name string) (float64, bool) {
+	const allowed = "a bound may use numbers, pi, inf, + - * / ^ and earlier definitions made of those"
+	c.m.Shapes[e] = Shape{}
+	switch e := e.(type) {
+	case *Number:
+		return e.Value, true
+	case *Unary:
+		v, ok := c.bound(e.X, name)
+		if e.Op == '-' {
+			v = -v
+		}
+		return v, ok
+	case *Binary:
+		x, okX := c.bound(e.X, name)
+		y, okY := c.bound(e.Y, name)
+		if !okX || !okY {
+			return 0, false
+		}
+		v := arith(e.Op, x, y)
+		if math.IsNaN(v) {
+			c.errs.add(e.At, "", "the bound of %s is not a number: %s %c %s is undefined", name, fmtNum(x), e.Op, fmtNum(y))
+			return 0, false
+		}
+		return v, true
+	case *Call:
+		c.errs.add(e.At, allowed, "a bound cannot call a function (%s)", e.Name)
+		return 0, false
+	case *Vector:
+		c.errs.add(e.At, "a support is [LO, HI] with two scalar bounds", "a bound must be a scalar, not a vector")
+		return 0, false
+	case *Ident:
+		if idx, ok := c.params[e.Name]; ok {
+			e.Kind, e.Index = ParamRef, idx
+			c.errs.add(e.At, allowed, "a bound must be constant, but %s is a parameter", e.Name)
+			return 0, false
+		}
+		idx, ok := c.defs[e.Name]
+		if !ok {
+			c.unknownInBound(e, allowed)
+			return 0, false
+		}
+		e.Kind, e.Index = DefRef, idx
+		d := c.m.Defs[idx]
+		switch {
+		case !d.Shape.Scalar():
+			c.errs.add(e.At, "a support is [LO, HI] with two scalar bounds",
+				"a bound must be a scalar, but %s is a vector of %d elements", e.Name, d.Shape.Len)
+			return 0, false
+		case d.DependsOnParams:
+			c.errs.add(e.At, allowed, "a bound must be constant, but %s depends on the parameters", e.Name)
+			return 0, false
+		}
+		v, ok := c.constant(idx)
+		if !ok {
+			c.errs.add(e.At, allowed, "cannot use %s in a bound: it is not made of numbers and operators only", e.Name)
+		}
+		return v, ok
+	}
+	return 0, false
+}
+
+// unknownInBound reports a name in a bound that is not an earlier definition.
+func (c *checker) unknownInBound(e *Ident, allowed string) {
+	if at, later := c.defAt[e.Name]; later {
+		c.errs.add(e.At, fmt.Sprintf("move the definition of %s above this line", e.Name),
+			"%s is used before its definition at line %d", e.Name, at.Line)
+		return
+	}
+	if f, ok := Funcs[e.Name]; ok {
+		c.errs.add(e.At, allowed, "%s is a function; call it as %s(%s)", e.Name, e.Name, f.Args)
+		return
+	}
+	c.errs.add(e.At, allowed+"; a bound cannot depend on a parameter", "unknown name %s in the bound", e.Name)
+}
+
+func arith(op byte, x, y float64) float64 {
+	switch op {
+	case '+':
+		return x + y
+	case '-':
+		return x - y
+	case '*':
+		return x * y
+	case '/':
+		return x / y
+	}
+	return math.Pow(x, y)
+}
+
+// constant returns the value of definition idx when it is made of numbers,
+// operators and other such definitions only.
+func (c *checker) constant(idx int) (float64, bool) {
+	if done, ok := c.constDone[idx]; ok {
+		return c.constVal[idx], done
+	}
+	v, ok := c.constExpr(c.m.Defs[idx].Value)
+	c.constDone[idx] = ok
+	c.constVal[idx] = v
+	return v, ok
+}
+
+func (c *checker) constExpr(e Expr) (float64, bool) {
+	switch e := e.(type) {
+	case *Number:
+		return e.Value, true
+	case *Unary:
+		v, ok := c.constExpr(e.X)
+		if e.Op == '-' {
+			v = -v
+		}
+		return v, ok
+	case *Binary:
+		x, okX := c.constExpr(e.X)
+		y, okY := c.constExpr(e.Y)
+		return arith(e.Op, x, y), okX && okY
+	case *Ident:
+		if e.Kind == DefRef {
+			return c.constant(e.Index)
+		}
+	}
+	return 0, false
+}
+
+// define checks a definition and appends it to m.Defs.
+func (c *checker) define(s *DefineStmt) {
+	c.defining = s.Name
+	shape, dep := c.expr(s.Value, true)
+	c.defining = ""
+	c.defs[s.Name] = len(c.m.Defs)
+	c.m.Defs = append(c.m.Defs, Def{Name: s.Name, Value: s.Value, Shape: shape, DependsOnParams: dep, At: s.At})
+}
+
+// density checks the density statement.
+func (c *checker) density(s *DensityStmt) {
+	shape, _ := c.expr(s.Value, false)
+	c.m.Density = s.Value
+	if s.Cost {
+		c.m.Form = Cost
+	} else {
+		c.m.Form = LogDensity
+	}
+	if shape.Len > 0 {
+		c.errs.add(startPos(s.Value), "wrap it in sum(...) to add up the terms of the vector",
+			"the density must be a scalar, but this is a vector of %d elements", shape.Len)
+	}
+}
+
+// expr checks e and returns its shape and whether it depends on the
+// parameters. vecOK says whether a vector literal may stand here.
+func (c *checker) expr(e Expr, vecOK bool) (Shape, bool) {
+	shape, dep := c.expr1(e, vecOK)
+	c.m.Shapes[e] = shape
+	return shape, dep
+}
+
+func (c *checker) expr1(e Expr, vecOK bool) (Shape, bool) {
+	switch e := e.(type) {
+	case *Number:
+		return Shape{}, false
+	case *Ident:
+		return c.ident(e)
+	case *Unary:
+		return c.expr(e.X, false)
+	case *Binary:
+		sx, dx := c.expr(e.X, false)
+		sy, dy := c.expr(e.Y, false)
+		if sx == badShape || sy == badShape {
+			return badShape, dx || dy
+		}
+		if sx.Len > 0 && sy.Len > 0 && sx.Len != sy.Len {
+			c.errs.add(e.At, "elementwise operations need vectors of the same length, or a vector and a scalar",
+				"vector lengths differ in '%c': the left side has %d elements, the right side %d", e.Op, sx.Len, sy.Len)
+			return badShape, dx || dy
+		}
+		return Shape{Len: max(sx.Len, sy.Len)}, dx || dy
+	case *Call:
+		return c.call(e)
+	case *Vector:
+		if !vecOK {
+			c.errs.add(e.At, "define it first, as in v = [1, 2, 3], and use v",
+				"a vector literal may only be the whole right side of a definition or a function argument")
+		}
+		dep := false
+		for i, el := range e.Elems {
+			s, d := c.expr(el, false)
+			dep = dep || d
+			if s.Len > 0 {
+				c.errs.add(startPos(el), "", "the elements of a vector must be scalars, but element %d is a vector of %d elements", i+1, s.Len)
+			}
+		}
+		return Shape{Len: len(e.Elems)}, dep
+	}
+	return badShape, false
+}
+
+// ident resolves a name used in an expression.
+func (c *checker) ident(e *Ident) (Shape, bool) {
+	if idx, ok := c.params[e.Name]; ok {
+		e.Kind, e.Index = ParamRef, idx
+		return Shape{}, true
+	}
+	if idx, ok := c.defs[e.Name]; ok {
+		e.Kind, e.Index = DefRef, idx
+		d := c.m.Defs[idx]
+		return d.Shape, d.DependsOnParams
+	}
+	if e.Name == c.defining {
+		c.errs.add(e.At, "a definition may use only earlier definitions", "%s is used in its own definition", e.Name)
+		return badShape, false
+	}
+	if at, later := c.defAt[e.Name]; later {
+		c.errs.add(e.At, fmt.Sprintf("move the definition of %s above this line", e.Name),
+			"%s is used before its definition at line %d", e.Name, at.Line)
+		return badShape, false
+	}
+	if f, ok := Funcs[e.Name]; ok {
+		c.errs.add(e.At, "", "%s is a function; call it as %s(%s)", e.Name, e.Name, f.Args)
+		return badShape, false
+	}
+	e.Kind, e.Index = ParamRef, c.addParam(e.Name, e.At, false)
+	return Shape{}, true
+}
+
+// call checks a function call.
+func (c *checker) call(e *Call) (Shape, bool) {
+	info, known := Funcs[e.Name]
+	shapes := make([]Shape, len(e.Args))
+	dep := false
+	bad := false
+	for i, a := range e.Args {
+		var d bool
+		shapes[i], d = c.expr(a, true)
+		dep = dep || d
+		bad = bad || shapes[i] == badShape
+	}
+	if !known {
+		c.notAFunction(e)
+		return badShape, dep
+	}
+	n := len(e.Args)
+	if n < info.MinArgs || (info.MaxArgs != Variadic && n > info.MaxArgs) {
+		c.errs.add(e.At, fmt.Sprintf("%s takes %s (%s), got %d", e.Name, arity(info), info.Args, n),
+			"wrong number of arguments for %s: got %d, want %s", e.Name, n, arityShort(info))
+		return badShape, dep
+	}
+	if bad {
+		return badShape, dep
+	}
+	if info.Kind == Reduction {
+		if e.Name == "len" {
+			dep = false // the length of a vector does not vary with the parameters
+		}
+		if n > 1 {
+			for i, s := range shapes {
+				if s.Len > 0 {
+					c.errs.add(startPos(e.Args[i]), fmt.Sprintf("apply %s to each vector and then to the results, as in %s(%s(a), %s(b))", e.Name, e.Name, e.Name, e.Name),
+						"%s takes either one vector or several scalars, but argument %d of %d is a vector of %d elements", e.Name, i+1, n, s.Len)
+					return badShape, dep
+				}
+			}
+		}
+		return Shape{}, dep
+	}
+	length, first := 0, 0
+	for i, s := range shapes {
+		if s.Len == 0 {
+			continue
+		}
+		if length == 0 {
+			length, first = s.Len, i
+			continue
+		}
+		if s.Len != length {
+			c.errs.add(startPos(e.Args[i]), "elementwise functions need vector arguments of the same length, or scalars",
+				"arguments of %s differ in length: argument %d is a vector of %d elements, argument %d a vector of %d",
+				e.Name, first+1, length, i+1, s.Len)
+			return badShape, dep
+		}
+	}
+	return Shape{Len: length}, dep
+}
+
+// arity says how many arguments a function takes: "3 arguments",
+// "1 argument", "at least 1 argument".
+func arity(f FuncInfo) string {
+	plural := func(n int) string {
+		if n == 1 {
+			return "1 argument"
+		}
+		return fmt.Sprintf("%d arguments", n)
+	}
+	switch {
+	case f.MaxArgs == Variadic:
+		return "at least " + plural(f.MinArgs)
+	case f.MinArgs == f.MaxArgs:
+		return plural(f.MinArgs)
+	}
+	return fmt.Sprintf("%d to %d arguments", f.MinArgs, f.MaxArgs)
+}
+
+func arityShort(f FuncInfo) string {
+	switch {
+	case f.MaxArgs == Variadic:
+		return fmt.Sprintf("at least %d", f.MinArgs)
+	case f.MinArgs == f.MaxArgs:
+		return fmt.Sprint(f.MinArgs)
+	}
+	return fmt.Sprintf("%d to %d", f.MinArgs, f.MaxArgs)
+}
+
+// notAFunction reports a call of something that is not a function.
+func (c *checker) notAFunction(e *Call) {
+	product := fmt.Sprintf("to multiply, write %s*(...)", e.Name)
+	switch {
+	case e.Name == "pi" || e.Name == "inf":
+		c.errs.add(e.At, product, "%s is a constant, not a function", e.Name)
+	case c.declAt[e.Name] != (Pos{}) || (c.free[e.Name] && c.defAt[e.Name] == (Pos{})):
+		c.errs.add(e.At, product, "%s is a parameter, not a function", e.Name)
+	case c.defAt[e.Name] != (Pos{}):
+		c.errs.add(e.At, product, "%s is defined at line %d as a quantity, not a function", e.Name, c.defAt[e.Name].Line)
+	default:
+		hint := didYouMean(suggest(e.Name, FuncNames()))
+		if hint == "" {
+			hint = "the functions are " + strings.Join(FuncNames(), ", ")
+		}
+		c.errs.add(e.At, hint, "unknown function %s", e.Name)
+	}
+}
+
+// startPos returns the position where an expression's text starts (a
+// binary expression's own position is its operator's).
+func startPos(e Expr) Pos {
+	for {
+		b, ok := e.(*Binary)
+		if !ok {
+			return e.Pos()
+		}
+		e = b.X
+	}
+}

@@ -1,0 +1,177 @@
+package model
+
+import (
+	"fmt"
+	"sort"
+	"strings"
+	"unicode/utf8"
+)
+
+// maxErrors is the number of errors after which Parse stops looking for more.
+const maxErrors = 10
+
+// Error is a problem found in a model's text: where it is, what is wrong and,
+// when there is something useful to add, a hint on how to fix it.
+type Error struct {
+	Pos  Pos
+	Msg  string // lower-case; says what was expected or what is wrong
+	Hint string // may be empty
+}
+
+// Error returns "line:col: msg".
+func (e *Error) Error() string {
+	return fmt.Sprintf("%d:%d: %s", e.Pos.Line, e.Pos.Col, e.Msg)
+}
+
+// Report renders the error for a person: the message, the offending line of
+// src, a caret under the column and the hint on a line of its own. src must
+// be the text the error was found in.
+func (e *Error) Report(src string) string {
+	var b strings.Builder
+	b.WriteString(e.Error())
+	b.WriteByte('\n')
+	line, ok := sourceLine(src, e.Pos.Line)
+	if ok {
+		const indent = "    "
+		shown, caret := caretLine(line, e.Pos.Col)
+		b.WriteString(indent)
+		b.WriteString(shown)
+		b.WriteByte('\n')
+		b.WriteString(indent)
+		b.WriteString(caret)
+		b.WriteString("^\n")
+	}
+	if e.Hint != "" {
+		b.WriteString("hint: ")
+		b.WriteString(e.Hint)
+		b.WriteByte('\n')
+	}
+	return b.String()
+}
+
+// sourceLine returns line n (1-based) of src without its line ending.
+func sourceLine(src string, n int) (string, bool) {
+	if n < 1 {
+		return "", false
+	}
+	for i := 1; i < n; i++ {
+		j := strings.IndexByte(src, '\n')
+		if j < 0 {
+			return "", false
+		}
+		src = src[j+1:]
+	}
+	if j := strings.IndexByte(src, '\n'); j >= 0 {
+		src = src[:j]
+	}
+	return strings.TrimSuffix(src, "\r"), true
+}
+
+// caretLine returns the line as it is shown (invalid UTF-8 and control
+// characters other than tab replaced by U+FFFD, so a terminal shows one
+// column for each) and the white space that puts a caret under column col:
+// a tab for each tab before the column, a space for every other rune.
+func caretLine(line string, col int) (shown, pad string) {
+	var s, p strings.Builder
+	c := 1
+	for len(line) > 0 {
+		r, size := utf8.DecodeRuneInString(line)
+		line = line[size:]
+		switch {
+		case r == '\t':
+			s.WriteRune(r)
+		case r == utf8.RuneError && size == 1, r < ' ', r == 0x7f:
+			s.WriteRune(utf8.RuneError)
+		default:
+			s.WriteRune(r)
+		}
+		if c < col {
+			if r == '\t' {
+				p.WriteByte('\t')
+			} else {
+				p.WriteByte(' ')
+			}
+		}
+		c++
+	}
+	for ; c < col; c++ {
+		p.WriteByte(' ')
+	}
+	return s.String(), p.String()
+}
+
+// ErrorList is the list of errors found in a model, sorted by position.
+type ErrorList []*Error
+
+// Error returns the first error and how many more there are.
+func (l ErrorList) Error() string {
+	switch len(l) {
+	case 0:
+		return "no errors"
+	case 1:
+		return l[0].Error()
+	case 2:
+		return l[0].Error() + " (and 1 more error)"
+	}
+	return fmt.Sprintf("%s (and %d more errors)", l[0].Error(), len(l)-1)
+}
+
+// Report renders every error with Error.Report, separated by blank lines.
+func (l ErrorList) Report(src string) string {
+	parts := make([]string, len(l))
+	for i, e := range l {
+		parts[i] = e.Report(src)
+	}
+	return strings.Join(parts, "\n")
+}
+
+// Len, Less and Swap sort the list by position.
+func (l ErrorList) Len() int      { return len(l) }
+func (l ErrorList) Swap(i, j int) { l[i], l[j] = l[j], l[i] }
+func (l ErrorList) Less(i, j int) bool {
+	if l[i].Pos.Offset != l[j].Pos.Offset {
+		return l[i].Pos.Offset < l[j].Pos.Offset
+	}
+	return l[i].Msg < l[j].Msg
+}
+
+// Sort sorts the list by position.
+func (l ErrorList) Sort() { sort.Stable(l) }
+
+// Report renders err for a person when it is an ErrorList or an *Error from
+// this package (see Error.Report), and returns err.Error() otherwise.
+func Report(err error, src string) string {
+	switch e := err.(type) {
+	case ErrorList:
+		return e.Report(src)
+	case *Error:
+		return e.Report(src)
+	case nil:
+		return ""
+	}
+	return err.Error() + "\n"
+}
+
+// errorSink collects errors up to maxErrors.
+type errorSink struct {
+	list ErrorList
+}
+
+// full reports whether no more errors are wanted.
+func (s *errorSink) full() bool { return len(s.list) >= maxErrors }
+
+func (s *errorSink) add(pos Pos, hint, format string, args ...any) {
+	if s.full() {
+		return
+	}
+	s.list = append(s.list, &Error{Pos: pos, Msg: fmt.Sprintf(format, args...), Hint: hint})
+}
+
+// err returns the sorted list, or nil when it is empty.
+func (s *errorSink) err() error {
+	if len(s.list) == 0 {
+		return nil
+	}
+	s.list.Sort()
+	return s.list
+}
