@@ -1,0 +1,261 @@
+package figure
+
+import (
+	"math"
+	"sort"
+
+	"bellcheck/app/plot"
+	"bellcheck/engine"
+)
+
+// Masses are the shares of the mass that the contours of a 2-D figure
+// enclose, matching engine.Marginal2D.Levels.
+var Masses = [3]float64{0.39, 0.86, 0.99}
+
+// levelWidths scales each method's stroke for the 39, 86 and 99 % contours:
+// the innermost is drawn heaviest.
+var levelWidths = [3]float64{1.15, 0.85, 0.6}
+
+// Heat is a heat map's pixels and where they go.
+type Heat struct {
+	// Width and Height are the image size in pixels; Pixels is row-major
+	// RGBA, the top row first.
+	Width, Height int
+	Pixels        []byte
+	// Box is where the image goes in the figure's viewBox units.
+	Box Box
+}
+
+// Pair draws the 2-D marginal of parameters p.I (across) and p.J (up): the
+// exact density as a heat map (its pixels in Figure.Heat), the exact
+// contours that enclose 39, 86 and 99 % of the mass, each fit's matching
+// contours, and, when mx and my are given and the figure is not compact, the
+// two 1-D marginals along the top and right edges. It returns nil when there
+// is nothing finite to draw.
+func Pair(p *engine.Marginal2D, mx, my *engine.Marginal1D, o Options) *Figure {
+	nx, ny := len(p.X), len(p.Y)
+	if nx < 2 || ny < 2 || len(p.Density) != nx*ny {
+		return nil
+	}
+	xlo, xhi := p.X[0], p.X[nx-1]
+	ylo, yhi := p.Y[0], p.Y[ny-1]
+	if !(xhi > xlo) || !(yhi > ylo) {
+		return nil
+	}
+	edges := mx != nil && my != nil && !o.Compact
+	f := &Figure{W: 480, H: 480}
+	switch {
+	case o.Compact:
+		f.W, f.H = 220, 200
+		f.Plot = Box{X0: 36, Y0: 8, X1: f.W - 8, Y1: f.H - 26}
+	case edges:
+		f.Plot = Box{X0: 58, Y0: 80, X1: f.W - 80, Y1: f.H - 42}
+	default:
+		f.Plot = Box{X0: 58, Y0: 12, X1: f.W - 14, Y1: f.H - 42}
+	}
+	f.X = plot.Linear{D0: xlo, D1: xhi, R0: f.Plot.X0, R1: f.Plot.X1}
+	f.Y = plot.Linear{D0: ylo, D1: yhi, R0: f.Plot.Y1, R1: f.Plot.Y0}
+
+	res := 2 * max(nx, ny)
+	res = max(120, min(res, 300))
+	if o.Compact {
+		res = max(80, min(res, 160))
+	}
+	f.Heat = HeatMap(p, res, res)
+	f.Heat.Box = f.Plot
+
+	nt := 6
+	if o.Compact {
+		nt = 3
+	}
+	xt := plot.Ticks(xlo, xhi, nt)
+	yt := plot.Ticks(ylo, yhi, nt)
+
+	var w svgWriter
+	w.open(f.W, f.H, "joint density of "+o.XLabel+" and "+o.YLabel)
+	clipID := o.ID + "-clip"
+	w.clip(clipID, f.Plot)
+	// The heat map itself is painted by the page on a canvas beneath.
+	w.raw(`<g clip-path="url(#`, clipID, `)">`)
+	g := plot.Grid{X: p.X, Y: p.Y, Z: p.Density}
+	for _, meth := range plot.Fits {
+		if !o.shown(meth) {
+			continue
+		}
+		lines, ok := p.Ellipses[plot.StyleOf(meth).Key]
+		if !ok {
+			continue
+		}
+		s := plot.StyleOf(meth)
+		for k := range 3 {
+			ls := s
+			ls.Width = s.Width * levelWidths[k]
+			w.stroke(plot.Outline(lines[k], true, f.X, f.Y), ls, "")
+		}
+	}
+	if o.shown(plot.Exact) {
+		s := plot.StyleOf(plot.Exact)
+		for k, level := range p.Levels {
+			if !(level > 0) {
+				continue
+			}
+			ls := s
+			ls.Width = s.Width * levelWidths[k]
+			for _, line := range plot.Contour(g, level) {
+				w.stroke(plot.Outline(line.Points, line.Closed, f.X, f.Y), ls, "")
+			}
+		}
+	}
+	w.raw("</g>")
+	w.raw(`<rect x="`, num(f.Plot.X0), `" y="`, num(f.Plot.Y0), `" width="`, num(f.Plot.W()), `" height="`, num(f.Plot.H()),
+		`" fill="none" stroke="`, inkAxis, `" stroke-width="1"/>`)
+	xl, yl := o.XLabel, o.YLabel
+	if o.Compact {
+		xl, yl = "", ""
+	}
+	w.xAxis(f.Plot, f.X, xt, xl, true)
+	w.yAxis(f.Plot, f.Y, yt, yl, true)
+	if edges {
+		top := Box{X0: f.Plot.X0, Y0: 10, X1: f.Plot.X1, Y1: f.Plot.Y0 - 8}
+		right := Box{X0: f.Plot.X1 + 8, Y0: f.Plot.Y0, X1: f.W - 10, Y1: f.Plot.Y1}
+		w.edgeMarginal(mx, top, f.X, false, o)
+		w.edgeMarginal(my, right, f.Y, true, o)
+		w.colourBar(o.ID+"-key", Box{X0: right.X0 + 22, Y0: top.Y0 + 4, X1: right.X0 + 32, Y1: top.Y1 - 4})
+	}
+	w.close()
+	f.SVG = w.b.String()
+	return f
+}
+
+// edgeMarginal draws a 1-D marginal in a strip beside the heat map, sharing
+// the heat map's scale along the strip; rotated strips run up the right
+// edge with density increasing to the right.
+func (w *svgWriter) edgeMarginal(m *engine.Marginal1D, box Box, along plot.Linear, rotated bool, o Options) {
+	curves := Curves(m)
+	_, peak, ok := plot.Extent(curves[plot.Exact])
+	if !ok || !(peak > 0) {
+		return
+	}
+	top := peak * 1.08
+	for _, meth := range plot.Fits {
+		if _, h, ok := plot.Extent(curves[meth]); ok && o.shown(meth) {
+			top = math.Max(top, math.Min(h, 1.6*peak))
+		}
+	}
+	var across plot.Linear
+	if rotated {
+		across = plot.Linear{D0: 0, D1: top, R0: box.X0, R1: box.X1}
+	} else {
+		across = plot.Linear{D0: 0, D1: top, R0: box.Y1, R1: box.Y0}
+	}
+	draw := func(ys []float64, s plot.Style) {
+		var p plot.Path
+		for i := range min(len(m.X), len(ys)) {
+			y := ys[i]
+			if math.IsNaN(y) || math.IsInf(y, 0) {
+				p.Lift()
+				continue
+			}
+			d := across.At(math.Min(y, top))
+			if rotated {
+				p.LineTo(d, along.At(m.X[i]))
+			} else {
+				p.LineTo(along.At(m.X[i]), d)
+			}
+		}
+		s.Width *= 0.8
+		w.stroke(p.String(), s, "")
+	}
+	if rotated {
+		w.line(box.X0, box.Y0, box.X0, box.Y1, lineAxis)
+	} else {
+		w.line(box.X0, box.Y1, box.X1, box.Y1, lineAxis)
+	}
+	for _, meth := range plot.Fits {
+		if o.shown(meth) && curves[meth] != nil {
+			draw(curves[meth], plot.StyleOf(meth))
+		}
+	}
+	if o.shown(plot.Exact) {
+		draw(curves[plot.Exact], plot.StyleOf(plot.Exact))
+	}
+}
+
+// colourBar draws the heat map's key: the colour map from 0 (bottom) to the
+// peak density (top).
+func (w *svgWriter) colourBar(id string, b Box) {
+	const stops = 8
+	w.raw(`<defs><linearGradient id="`, id, `" x1="0" y1="1" x2="0" y2="0">`)
+	for i := 0; i <= stops; i++ {
+		t := float64(i) / stops
+		w.raw(`<stop offset="`, num(t), `" stop-color="`, plot.Density.At(t).Hex(), `"/>`)
+	}
+	w.raw(`</linearGradient></defs>`)
+	w.raw(`<rect x="`, num(b.X0), `" y="`, num(b.Y0), `" width="`, num(b.W()), `" height="`, num(b.H()),
+		`" fill="url(#`, id, `)" stroke="`, inkAxis, `" stroke-width="0.6"/>`)
+	w.text(b.X0-3, b.Y0+7, "end", 9.5, inkFaint, "peak")
+	w.text(b.X0-3, b.Y1, "end", 9.5, inkFaint, "0")
+}
+
+// HeatMap renders the density relative to its peak as width by height RGBA
+// pixels through plot.Density, sampling the grid bilinearly at each pixel's
+// centre (the top row is the largest y). Non-finite densities count as 0.
+func HeatMap(p *engine.Marginal2D, width, height int) *Heat {
+	nx, ny := len(p.X), len(p.Y)
+	peak := 0.0
+	for _, v := range p.Density {
+		if v > peak && !math.IsInf(v, 0) {
+			peak = v
+		}
+	}
+	h := &Heat{Width: width, Height: height, Pixels: make([]byte, 4*width*height)}
+	table := plot.Density.Table(256)
+	at := func(ix, iy int) float64 {
+		v := p.Density[iy*nx+ix]
+		if math.IsNaN(v) || math.IsInf(v, 0) || v < 0 {
+			return 0
+		}
+		return v
+	}
+	// Fractional grid index of each pixel column and row.
+	fx := make([]float64, width)
+	for i := range fx {
+		x := p.X[0] + (float64(i)+0.5)/float64(width)*(p.X[nx-1]-p.X[0])
+		fx[i] = fracIndex(p.X, x)
+	}
+	for row := range height {
+		y := p.Y[ny-1] - (float64(row)+0.5)/float64(height)*(p.Y[ny-1]-p.Y[0])
+		fy := fracIndex(p.Y, y)
+		iy := min(int(fy), ny-2)
+		ty := fy - float64(iy)
+		for col := range width {
+			ix := min(int(fx[col]), nx-2)
+			tx := fx[col] - float64(ix)
+			v := (1-ty)*((1-tx)*at(ix, iy)+tx*at(ix+1, iy)) + ty*((1-tx)*at(ix, iy+1)+tx*at(ix+1, iy+1))
+			k := 0
+			if peak > 0 {
+				k = int(math.Round(v / peak * 255))
+			}
+			k = max(0, min(255, k))
+			copy(h.Pixels[4*(row*width+col):], table[k][:])
+		}
+	}
+	return h
+}
+
+// fracIndex returns the fractional index of v in the increasing grid xs,
+// clamped to [0, len(xs)-1].
+func fracIndex(xs []float64, v float64) float64 {
+	n := len(xs)
+	if v <= xs[0] {
+		return 0
+	}
+	if v >= xs[n-1] {
+		return float64(n - 1)
+	}
+	k := sort.SearchFloat64s(xs, v) // xs[k-1] < v <= xs[k]
+	if k == 0 {
+		return 0
+	}
+	return float64(k-1) + (v-xs[k-1])/(xs[k]-xs[k-1])
+}
