@@ -420,7 +420,8 @@ func (c *checker) expr1(e Expr, vecOK bool) (Shape, bool) {
 		}
 		dep := false
 		for i, el := range e.Elems {
-			s, d := c.expr(el, false)
+			// A nested vector literal is reported as a non-scalar element only.
+			s, d := c.expr(el, true)
 			dep = dep || d
 			if s.Len > 0 {
 				c.errs.add(startPos(el), "", "the elements of a vector must be scalars, but element %d is a vector of %d elements", i+1, s.Len)

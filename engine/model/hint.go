@@ -43,7 +43,8 @@ func suggest(name string, candidates []string) []string {
 	sort.SliceStable(found, func(i, j int) bool { return found[i].dist < found[j].dist })
 	var out []string
 	for _, f := range found {
-		if len(out) == 3 || f.dist > found[0].dist+1 {
+		// A difference of case alone beats everything else.
+		if len(out) == 3 || f.dist > found[0].dist+1 || (found[0].dist == 0 && f.dist > 0) {
 			break
 		}
 		out = append(out, f.name)

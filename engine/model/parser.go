@@ -86,8 +86,15 @@ type bailout struct{}
 // cur returns the next significant token without consuming it.
 func (p *parser) cur() token {
 	if p.nest > 0 {
-		for p.toks[p.i].kind == tokNewline {
-			p.i++
+		// A line break inside brackets is white space, unless the next line
+		// starts a statement: then a bracket was left open, and the line
+		// break is where the statement ends.
+		j := p.i
+		for p.toks[j].kind == tokNewline {
+			j++
+		}
+		if !p.startsStatement(j) {
+			p.i = j
 		}
 	}
 	t := p.toks[p.i]
@@ -168,6 +175,13 @@ func (p *parser) sync() {
 		case tokNewline:
 			if depth <= 0 {
 				return
+			}
+			j := p.i
+			for p.toks[j].kind == tokNewline {
+				j++
+			}
+			if p.startsStatement(j) {
+				return // a bracket was left open; the next statement starts here
 			}
 		case tokLParen, tokLBrack:
 			depth++
@@ -253,29 +267,17 @@ func (p *parser) paramStmt() *ParamStmt {
 	return st
 }
 
-// closeErr reports a missing closing bracket (want names what was expected)
-// for the opening token open. When the offending token is on a later line
-// and starts what looks like a new statement, the error is put at the end
-// of the line where the bracket should have been closed, and parsing
-// resumes there.
+// closeErr reports a missing closing bracket (want names what was
+// expected) for the opening token open.
 func (p *parser) closeErr(want string, open token, hint string) {
 	t := p.cur()
-	if p.toks[p.i-1].kind == tokNewline && p.startsStatement(p.i) {
-		j := p.i - 1
-		for p.toks[j-1].kind == tokNewline {
-			j--
-		}
-		p.i, p.nest = j, 0
-		p.fail(p.toks[j].pos, hint, "expected %s to close '%s' at %d:%d, found end of line",
-			want, open.text, open.pos.Line, open.pos.Col)
-	}
 	p.fail(t.pos, hint, "expected %s to close '%s' at %d:%d, found %s",
 		want, open.text, open.pos.Line, open.pos.Col, t.describe())
 }
 
-// startsStatement reports whether token i looks like the start of a
-// statement that cannot continue an expression: a keyword, NAME =, or the
-// end of the input.
+// startsStatement reports whether token i starts a statement that cannot
+// continue an expression inside brackets: param, cost, NAME =, or the end
+// of the input.
 func (p *parser) startsStatement(i int) bool {
 	switch p.toks[i].kind {
 	case tokEOF, tokParam, tokCost:

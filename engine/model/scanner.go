@@ -76,7 +76,7 @@ func (s *scanner) badRune(r rune, size int) bool {
 		s.errs.add(s.pos, "the model text must be UTF-8", "invalid UTF-8 byte 0x%02x", s.src[s.pos.Offset])
 		return true
 	case r == 0:
-		s.errs.add(s.pos, "", "NUL byte in the model text")
+		s.errs.add(s.pos, "", "unexpected NUL byte in the model text")
 		return true
 	}
 	return false
