@@ -137,8 +137,12 @@ func TestNormaliserKept(t *testing.T) {
 		t.Fatal(err)
 	}
 	// Integrate each coordinate separately: the density is a product.
-	z0 := func(z float64) float64 { return math.Exp(p.LogDensity([]float64{z, 0}) - p.LogDensity([]float64{0, 0})) }
-	z1 := func(z float64) float64 { return math.Exp(p.LogDensity([]float64{0, z}) - p.LogDensity([]float64{0, 0})) }
+	z0 := func(z float64) float64 {
+		return math.Exp(p.LogDensity([]float64{z, 0}) - p.LogDensity([]float64{0, 0}))
+	}
+	z1 := func(z float64) float64 {
+		return math.Exp(p.LogDensity([]float64{0, z}) - p.LogDensity([]float64{0, 0}))
+	}
 	lg, _ := math.Lgamma(a)
 	wantGamma := math.Exp(lg - a*math.Log(b))
 	lbc, _ := math.Lgamma(c)
