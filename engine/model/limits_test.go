@@ -29,7 +29,7 @@ func TestDepthLimit(t *testing.T) {
 	const tooDeep = "expression is nested too deeply: more than 200 levels"
 	cases := []struct {
 		name, src, want string
-		lim       limits
+		lim             limits
 	}{
 		// One level for the name, one for each parenthesis: 199 fit.
 		{"199 parentheses", strings.Repeat("(", 199) + "a" + strings.Repeat(")", 199), "", defaultLimits},

@@ -3,6 +3,7 @@ package model
 import (
 	"fmt"
 	"math"
+	"strings"
 	"unicode/utf8"
 )
 
@@ -51,9 +52,13 @@ func parse(src string, lim limits) (*Model, error) {
 	return m, nil
 }
 
-// posAt returns the position of byte offset off in src.
+// posAt returns the position of byte offset off in src. Like the scanner,
+// it does not count a byte-order mark at the start as a column.
 func posAt(src string, off int) Pos {
 	pos := Pos{Line: 1, Col: 1}
+	if strings.HasPrefix(src, bom) && off >= len(bom) {
+		pos.Offset = len(bom)
+	}
 	for pos.Offset < off && pos.Offset < len(src) {
 		r, size := utf8.DecodeRuneInString(src[pos.Offset:])
 		pos.Offset += size

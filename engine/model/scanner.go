@@ -3,6 +3,7 @@ package model
 import (
 	"fmt"
 	"strconv"
+	"strings"
 	"unicode"
 	"unicode/utf8"
 )
@@ -10,6 +11,9 @@ import (
 // tokIllegal marks a place where the scanner already reported an error; the
 // parser skips the rest of the statement without reporting another.
 const tokIllegal tokenKind = -1
+
+// bom is the byte-order mark some editors put at the start of a file.
+const bom = "\uFEFF"
 
 // scanner splits model text into tokens. It reports invalid UTF-8, NUL
 // bytes, stray characters and malformed numbers with their positions.
@@ -23,8 +27,8 @@ type scanner struct {
 func scanAll(src string, errs *errorSink) []token {
 	s := &scanner{src: src, pos: Pos{Line: 1, Col: 1}, errs: errs}
 	// A byte-order mark at the very start is an editor's artefact: skip it.
-	if len(src) >= 3 && src[:3] == "\uFEFF" {
-		s.pos.Offset = 3
+	if strings.HasPrefix(src, bom) {
+		s.pos.Offset = len(bom)
 	}
 	var toks []token
 	for {
