@@ -39,9 +39,17 @@ test-native:
 test-wasm: tools-node
 	GOOS=js GOARCH=wasm $(GO) test -count=1 -exec="$(WASM_EXEC)" $(WASM_TEST_PKGS)
 
-# Browser tests arrive with the end-to-end test suite; until then this target
-# only checks that the page builds for the browser.
-test-browser: wasm
+# Browser tests: chromium drives the static build served on 127.0.0.1.
+test-browser: tools-chromium wasm
+	BELLCHECK_CHROMIUM=$$(command -v chromium) $(GO) test -count=1 -tags=browser -run=Browser ./wasm/
+
+# chromium runs the browser tests; install Debian's when missing.
+tools-chromium:
+	@command -v chromium >/dev/null 2>&1 || { \
+	  if [ "$$(id -u)" = 0 ] && command -v apt-get >/dev/null 2>&1; then \
+	    echo "installing chromium from Debian (needed for the browser tests)"; \
+	    apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq chromium >/dev/null; \
+	  else echo "make test: chromium is missing: install Debian's chromium (apt-get install chromium) or run as root"; exit 1; fi; }
 
 # node runs the WebAssembly tests; install it from Debian when missing.
 tools-node:
@@ -57,8 +65,15 @@ bench: wasm
 	@raw=$$(stat -c %s web/app.wasm); gz=$$(gzip -9 -c web/app.wasm | wc -c); \
 	  echo "web/app.wasm: $$raw bytes raw, $$gz bytes gzipped"
 
+# Each fuzz target, as package:Target.
+FUZZ_TARGETS := ./engine/model:FuzzParse ./app/share:FuzzDecode
+
 fuzz:
-	$(GO) test -run='^$$' -fuzz=FuzzParse -fuzztime=$(FUZZTIME) ./engine/model/
+	@for t in $(FUZZ_TARGETS); do \
+	  pkg=$${t%%:*}; name=$${t##*:}; \
+	  echo "fuzzing $$name in $$pkg for $(FUZZTIME)"; \
+	  $(GO) test -run='^$$' -fuzz="^$$name\$$" -fuzztime=$(FUZZTIME) $$pkg/ || exit 1; \
+	done
 
 clean:
 	rm -rf bin dist web/app.wasm
