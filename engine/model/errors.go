@@ -1,6 +1,7 @@
 package model
 
 import (
+	"errors"
 	"fmt"
 	"sort"
 	"strings"
@@ -23,28 +24,21 @@ func (e *Error) Error() string {
 	return fmt.Sprintf("%d:%d: %s", e.Pos.Line, e.Pos.Col, e.Msg)
 }
 
-// Report renders the error for a person: the message, the offending line of
-// src, a caret under the column and the hint on a line of its own. src must
-// be the text the error was found in.
-func (e *Error) Report(src string) string {
+// Detail renders the error for a person, on several lines without a final
+// line break: the message as Error gives it, the offending line of src, a
+// caret under the column, and the hint on a line of its own. src must be the
+// text the error was found in.
+func (e *Error) Detail(src string) string {
 	var b strings.Builder
 	b.WriteString(e.Error())
-	b.WriteByte('\n')
-	line, ok := sourceLine(src, e.Pos.Line)
-	if ok {
+	if line, ok := sourceLine(src, e.Pos.Line); ok {
 		const indent = "    "
-		shown, caret := caretLine(line, e.Pos.Col)
-		b.WriteString(indent)
-		b.WriteString(shown)
-		b.WriteByte('\n')
-		b.WriteString(indent)
-		b.WriteString(caret)
-		b.WriteString("^\n")
+		shown, pad := caretLine(line, e.Pos.Col)
+		b.WriteString("\n" + indent + shown)
+		b.WriteString("\n" + indent + pad + "^")
 	}
 	if e.Hint != "" {
-		b.WriteString("hint: ")
-		b.WriteString(e.Hint)
-		b.WriteByte('\n')
+		b.WriteString("\nhint: " + e.Hint)
 	}
 	return b.String()
 }
@@ -116,13 +110,13 @@ func (l ErrorList) Error() string {
 	return fmt.Sprintf("%s (and %d more errors)", l[0].Error(), len(l)-1)
 }
 
-// Report renders every error with Error.Report, separated by blank lines.
-func (l ErrorList) Report(src string) string {
+// Detail renders every error with Error.Detail, separated by blank lines.
+func (l ErrorList) Detail(src string) string {
 	parts := make([]string, len(l))
 	for i, e := range l {
-		parts[i] = e.Report(src)
+		parts[i] = e.Detail(src)
 	}
-	return strings.Join(parts, "\n")
+	return strings.Join(parts, "\n\n")
 }
 
 // Len, Less and Swap sort the list by position.
@@ -138,18 +132,21 @@ func (l ErrorList) Less(i, j int) bool {
 // Sort sorts the list by position.
 func (l ErrorList) Sort() { sort.Stable(l) }
 
-// Report renders err for a person when it is an ErrorList or an *Error from
-// this package (see Error.Report), and returns err.Error() otherwise.
-func Report(err error, src string) string {
-	switch e := err.(type) {
-	case ErrorList:
-		return e.Report(src)
-	case *Error:
-		return e.Report(src)
-	case nil:
+// Detail renders err for a person: with the offending lines (see
+// Error.Detail) when it is an ErrorList or an *Error from Parse, as
+// err.Error() otherwise, and "" for nil.
+func Detail(err error, src string) string {
+	var list ErrorList
+	var one *Error
+	switch {
+	case err == nil:
 		return ""
+	case errors.As(err, &list):
+		return list.Detail(src)
+	case errors.As(err, &one):
+		return one.Detail(src)
 	}
-	return err.Error() + "\n"
+	return err.Error()
 }
 
 // errorSink collects errors up to maxErrors.

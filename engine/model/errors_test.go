@@ -91,6 +91,8 @@ var invalidModels = []struct {
 	{"support without comma", "param a in [0 1]\na", "1:15: expected ',' between the lower and the upper bound, found number 1", ""},
 	{"support with three bounds", "param a in [0, 1, 2]\na", "1:17: expected ']' to close '[' at 1:12, found ','", "two bounds"},
 	{"two parameters in one statement", "param a, b\na*b", "1:8: unexpected ',' after the end of the statement", "one parameter per statement"},
+	{"keyword defined", "cost = 2\na", "1:1: cannot define cost: it is a keyword", "another name"},
+	{"junk after a declaration", "param a in [0, 1] b\na", "1:19: expected the end of the param statement, found name b", ""},
 	{"caret without base", "^2", "1:1: expected an expression, found '^'", ""},
 	{"empty call argument", "ld_normal(a, , 1)", "1:14: expected an expression for argument 2 of ld_normal, found ','", ""},
 	{"invalid UTF-8", "a + \xff", "1:5: invalid UTF-8 byte 0xff", "UTF-8"},
@@ -151,7 +153,7 @@ func checkErrorList(t *testing.T, src string, list ErrorList) {
 			t.Errorf("message %q should start in lower case", e.Msg)
 		}
 	}
-	rep := list.Report(src)
+	rep := list.Detail(src)
 	for _, e := range list {
 		if !strings.Contains(rep, e.Error()) {
 			t.Errorf("report lacks %q:\n%s", e.Error(), rep)
@@ -199,7 +201,7 @@ func TestSeveralErrors(t *testing.T) {
 	}
 }
 
-func TestReport(t *testing.T) {
+func TestDetail(t *testing.T) {
 	cases := []struct{ src, want string }{
 		{
 			"x = 1\n  y = (a +\tb\nz = 2\n",
@@ -237,7 +239,7 @@ func TestReport(t *testing.T) {
 			t.Errorf("%q: no error", tc.src)
 			continue
 		}
-		if got := Report(err, tc.src); got != tc.want {
+		if got := Detail(err, tc.src) + "\n"; got != tc.want {
 			t.Errorf("%q: report\n%s\nwant\n%s", tc.src, got, tc.want)
 		}
 	}

@@ -24,7 +24,7 @@ var defaultLimits = limits{
 }
 
 // Parse scans, parses and checks a model. On failure it returns nil and an
-// ErrorList (sorted by position, at most ten errors); use Report to show
+// ErrorList (sorted by position, at most ten errors); use Detail to show
 // them with the offending lines.
 func Parse(src string) (*Model, error) {
 	return parse(src, defaultLimits)
@@ -44,7 +44,7 @@ func parse(src string, lim limits) (*Model, error) {
 	if err := errs.err(); err != nil {
 		return nil, err
 	}
-	m := &Model{Source: src, Stmts: p.stmts, Shapes: map[Expr]Shape{}}
+	m := &Model{Source: src, Stmts: p.stmts, Shapes: make(map[Expr]Shape, len(toks)/2)}
 	check(m, toks[len(toks)-1].pos, errs, lim)
 	if err := errs.err(); err != nil {
 		return nil, err
@@ -151,6 +151,9 @@ func (p *parser) statement() {
 	}()
 	t := p.cur()
 	var st Stmt
+	if (t.kind == tokParam || t.kind == tokCost || t.kind == tokIn) && p.toks[p.i+1].kind == tokAssign {
+		p.fail(t.pos, "choose another name", "cannot define %s: it is a keyword", t.text)
+	}
 	switch {
 	case t.kind == tokParam:
 		st = p.paramStmt()
@@ -216,6 +219,10 @@ func (p *parser) endOfStatement(st Stmt) {
 			hint = "declare one parameter per statement, as in param a; param b"
 		}
 		p.fail(t.pos, hint, "unexpected ',' after the end of the statement")
+	}
+	if _, ok := st.(*ParamStmt); ok {
+		p.fail(t.pos, "write param NAME, or param NAME in [LO, HI]",
+			"expected the end of the param statement, found %s", t.describe())
 	}
 	hint := "put each statement on a line of its own, or separate statements with ';'"
 	if prev := p.toks[p.i-1]; prev.kind == tokNumber || prev.kind == tokName || prev.kind == tokRParen {

@@ -299,7 +299,7 @@ func TestModelFiles(t *testing.T) {
 	for name, src := range valid {
 		m, err := Parse(src)
 		if err != nil {
-			t.Errorf("%s: %s", name, Report(err, src))
+			t.Errorf("%s: %s", name, Detail(err, src))
 			continue
 		}
 		checkComplete(t, m)

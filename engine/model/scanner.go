@@ -30,7 +30,8 @@ func scanAll(src string, errs *errorSink) []token {
 	if strings.HasPrefix(src, bom) {
 		s.pos.Offset = len(bom)
 	}
-	var toks []token
+	// Typical text has a token for every three or four bytes.
+	toks := make([]token, 0, len(src)/3+8)
 	for {
 		t := s.next()
 		toks = append(toks, t)
