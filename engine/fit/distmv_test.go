@@ -1,0 +1,60 @@
+//go:build distmv
+
+// These checks use gonum's stat/distmv, which needs golang.org/x/tools in
+// go.sum. Run them with -tags distmv once the module lists it.
+
+package fit
+
+import (
+	"testing"
+
+	"gonum.org/v1/gonum/floats/scalar"
+	"gonum.org/v1/gonum/stat/distmv"
+)
+
+func distmvNormal(t *testing.T, g Gaussian) *distmv.Normal {
+	t.Helper()
+	n, ok := distmv.NewNormal(g.Mean, g.Cov, nil)
+	if !ok {
+		t.Fatalf("distmv.NewNormal refused %v", g)
+	}
+	return n
+}
+
+func TestKLGaussianAgainstDistmv(t *testing.T) {
+	// gonum's distmv.KullbackLeibler.DistNormal, an independent implementation.
+	q := gauss([]float64{0.3, -1, 2}, cov3)
+	p := gauss([]float64{-0.5, 0.2, 1.5}, cov3b)
+	for _, pair := range [][2]Gaussian{{q, p}, {p, q}, {q, q}} {
+		got, err := KLGaussian(pair[0], pair[1])
+		if err != nil {
+			t.Fatal(err)
+		}
+		want := distmv.KullbackLeibler{}.DistNormal(distmvNormal(t, pair[0]), distmvNormal(t, pair[1]))
+		if !scalar.EqualWithinAbsOrRel(got, want, 1e-13, 1e-12) {
+			t.Errorf("KLGaussian = %v, distmv = %v", got, want)
+		}
+	}
+}
+
+func TestEvaluatorAgainstDistmv(t *testing.T) {
+	// gonum's distmv.Normal.LogProb and Entropy.
+	g := gauss([]float64{0.3, -1, 2}, cov3)
+	e, err := NewEvaluator(g)
+	if err != nil {
+		t.Fatal(err)
+	}
+	n := distmvNormal(t, g)
+	for _, x := range [][]float64{{0.3, -1, 2}, {1, 1, 1}, {-4, 3, 0.5}, {10, -10, 7}} {
+		if got, want := e.LogPDF(x), n.LogProb(x); !scalar.EqualWithinAbsOrRel(got, want, 1e-13, 1e-13) {
+			t.Errorf("LogPDF(%v) = %v, distmv %v", x, got, want)
+		}
+	}
+	h, err := Entropy(g)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want := n.Entropy(); !scalar.EqualWithinAbsOrRel(h, want, 1e-14, 1e-14) {
+		t.Errorf("Entropy = %v, distmv %v", h, want)
+	}
+}

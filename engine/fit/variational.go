@@ -1,0 +1,562 @@
+package fit
+
+import (
+	"context"
+	"fmt"
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+
+	"bellcheck/engine/target"
+)
+
+// Settings tunes the reverse-KL fits. The zero value means the defaults.
+type Settings struct {
+	// Order is the number of Gauss-Hermite nodes per axis of the tensor
+	// cubature; 0 means 20, 12, 8 and 6 nodes for one to four parameters
+	// (5 beyond), i.e. 20, 144, 512 and 1296 evaluations of log p with its
+	// gradient and Hessian per cubature pass.
+	Order int
+	// MaxIter is the largest number of accepted steps; 0 means 200.
+	MaxIter int
+	// Tol is the convergence tolerance on both residuals (see
+	// VariationalFit); 0 means 1e-10.
+	Tol float64
+}
+
+func (s Settings) withDefaults(d int) Settings {
+	if s.Order == 0 {
+		s.Order = defaultOrder(d)
+	}
+	if s.MaxIter == 0 {
+		s.MaxIter = 200
+	}
+	if s.Tol == 0 {
+		s.Tol = 1e-10
+	}
+	return s
+}
+
+// VariationalFit is a reverse-KL Gaussian fit.
+type VariationalFit struct {
+	Gaussian
+	// ELBO is E_q[log p] + entropy(q), a lower bound on log Z (up to the
+	// cubature error).
+	ELBO float64
+	// Precision is -E_q[Hessian log p] at the last iterate, the full matrix
+	// also for the mean-field fit (whose inverse variances equal its
+	// diagonal at the optimum).
+	Precision *mat.SymDense
+	// Iterations counts the accepted steps.
+	Iterations int
+	Converged  bool
+	// GradResidual is |Lᵀ E_q[grad log p]| with Σ = L Lᵀ: the mean's
+	// stationarity residual in units of the fit's standard deviations.
+	GradResidual float64
+	// PrecisionResidual is the covariance's stationarity residual
+	// |I + Lᵀ E_q[H] L|_F, i.e. Σ⁻¹ + E_q[H] relative to Σ⁻¹; for the
+	// mean-field fit, the Euclidean norm of 1 + σ_i² E_q[H_ii].
+	PrecisionResidual float64
+	// ELBOTrace holds the ELBO of the initial and of every accepted iterate.
+	// It rises, except by at most 1e-10 (1 + |ELBO|) per step in the last
+	// steps, where a lower residual decides (see ReverseKL).
+	ELBOTrace []float64
+	// Evaluations counts the cubature passes (each Order^d evaluations of
+	// log p with its derivatives), rejected trial steps included, and the
+	// check of CubatureErr.
+	Evaluations int
+	// CubatureErr estimates the cubature's error in the ELBO: the change in
+	// the ELBO of the final q when the rule has two nodes fewer per axis.
+	// It bounds the error of the coarser rule, so it is a conservative
+	// estimate for the rule used. NaN when the order is too low to compare
+	// (under 3) or the coarser rule meets a non-finite log p.
+	CubatureErr float64
+}
+
+// ReverseKL minimises KL(q||p) over Gaussians q = N(mu, L Lᵀ) with full
+// covariance, starting from init, and returns the fit with the ELBO.
+//
+// The expectations E_q[log p], E_q[grad log p] and E_q[Hessian log p] come
+// from a tensor Gauss-Hermite cubature. At the optimum E_q[grad] = 0 and
+// Σ⁻¹ = -E_q[H] (Opper and Archambeau, Neural Computation 21, 2009). The
+// iteration is the fixed-point map of those conditions,
+//
+//	Λ ← -E_q[H],   mu ← mu + (-E_q[H])⁻¹ E_q[grad]
+//
+// (a Newton step for the mean; the plain map is exact in one step for a
+// Gaussian target, but it may oscillate or diverge otherwise). Each step is
+// safeguarded and accepted only where the ELBO rises:
+//
+//   - first an Anderson-accelerated step (Walker and Ni, SIAM J. Numer.
+//     Anal. 49, 2011; memory 4) built from the last iterates of the map;
+//   - failing that, the damped step Λ' = (1-a) Λ + a (-E_q[H]),
+//     mu' = mu + b Λ'⁻¹ E_q[grad], with a and b halved from 1 (a from twice
+//     the last accepted a) until Λ' is positive definite and the ELBO
+//     rises. Where -E_q[H] is not positive definite (a density that is not
+//     log-concave on the scale of q) the halving keeps Λ' a positive
+//     definite blend dominated by the current Λ, and the mean moves by Λ'⁻¹
+//     instead of the Newton step: a small natural-gradient step.
+//
+// Near the optimum the ELBO changes by about the square of the residual,
+// which falls below rounding; and under cubature the fixed point differs
+// from the maximiser of the cubature ELBO by the cubature's error in Stein's
+// identity E[grad zᵀ] = E[H] L, so steps towards the fixed point may lower
+// the cubature ELBO by that error squared. So once a step changes the ELBO
+// by less than 1e-10 (1 + |ELBO|), it is accepted where it lowers the
+// residual of the map instead.
+//
+// Errors: ErrInfiniteKL when log p is -Inf at a cubature node (the support is
+// bounded, so KL(q||p) is infinite for every Gaussian; fit the parameter on
+// the log or logit scale); ErrNonFinite when log p is NaN or +Inf or its
+// derivatives are not finite; ErrNoConvergence, with the last iterate
+// (Converged false), when MaxIter steps do not meet Tol or no step is
+// accepted; ctx.Err() when ctx is cancelled (checked before every cubature
+// pass).
+func ReverseKL(ctx context.Context, p target.Density, init Gaussian, s Settings) (VariationalFit, error) {
+	return variational(ctx, p, init, s, false)
+}
+
+// MeanField does the same as ReverseKL over Gaussians with a diagonal
+// covariance: at the optimum E_q[grad] = 0 and 1/σ_i² = -E_q[H_ii]. The
+// precision map acts on the diagonal only; the mean moves by the Newton step
+// (-E_q[H])⁻¹ E_q[grad] where -E_q[H] is positive definite, else by
+// σ_i² E_q[grad_i]. Only the diagonal of init.Cov is used.
+func MeanField(ctx context.Context, p target.Density, init Gaussian, s Settings) (VariationalFit, error) {
+	return variational(ctx, p, init, s, true)
+}
+
+// tieLevel is the relative change of the ELBO below which a lower residual,
+// not the ELBO, decides whether a step is accepted (see ReverseKL).
+const tieLevel = 1e-10
+
+// andersonMemory is the number of past steps Anderson acceleration uses.
+const andersonMemory = 4
+
+// viState is one iterate of the reverse-KL fit with its cubature
+// expectations. Matrices are row-major d×d.
+type viState struct {
+	mu, prec, cov, l []float64
+	logDetCov        float64
+	elogp, elbo      float64
+	eg, eh           []float64
+	// theta packs (mu, Λ) and f the map's residual G(theta) - theta, both
+	// scaled by the initial standard deviations.
+	theta, f []float64
+}
+
+// viSolver holds the cubature rule and all scratch space of one fit.
+type viSolver struct {
+	p             target.Density
+	d, n          int // dimension, number of packed parameters
+	diag          bool
+	r             rule
+	scale         []float64 // initial standard deviations
+	x, grad, hess []float64
+	c, col, tmp   []float64
+	negEH, cNegEH []float64
+	thetaTry      []float64
+	aa            anderson
+	evals         int
+}
+
+func (v *viSolver) newState() *viState {
+	d := v.d
+	return &viState{mu: make([]float64, d), prec: make([]float64, d*d), cov: make([]float64, d*d),
+		l: make([]float64, d*d), eg: make([]float64, d), eh: make([]float64, d*d),
+		theta: make([]float64, v.n), f: make([]float64, v.n)}
+}
+
+func variational(ctx context.Context, p target.Density, init Gaussian, s Settings, diag bool) (VariationalFit, error) {
+	name := "reverse KL"
+	if diag {
+		name = "mean field"
+	}
+	d := p.Dim()
+	if d < 1 {
+		return VariationalFit{}, fmt.Errorf("%w: %s: density has %d dimensions", ErrBadInput, name, d)
+	}
+	if init.Dim() != d {
+		return VariationalFit{}, fmt.Errorf("%w: %s: initial Gaussian has %d dimensions, the density %d", ErrBadInput, name, init.Dim(), d)
+	}
+	if s.Order < 0 || s.MaxIter < 0 || s.Tol < 0 || math.IsNaN(s.Tol) {
+		return VariationalFit{}, fmt.Errorf("%w: %s: settings %+v", ErrBadInput, name, s)
+	}
+	s = s.withDefaults(d)
+	r, err := newRule(d, s.Order)
+	if err != nil {
+		return VariationalFit{}, fmt.Errorf("%s: %w", name, err)
+	}
+	n := d + d*(d+1)/2
+	if diag {
+		n = 2 * d
+	}
+	v := &viSolver{p: p, d: d, n: n, diag: diag, r: r, scale: make([]float64, d),
+		x: make([]float64, d), grad: make([]float64, d), hess: make([]float64, d*d),
+		c: make([]float64, d*d), col: make([]float64, d), tmp: make([]float64, d*d),
+		negEH: make([]float64, d*d), cNegEH: make([]float64, d*d), thetaTry: make([]float64, n)}
+	v.aa = newAnderson(n, min(andersonMemory, n))
+
+	cur, trial := v.newState(), v.newState()
+	if err := init.check(cur.l); err != nil {
+		return VariationalFit{}, fmt.Errorf("%s: initial Gaussian: %w", name, err)
+	}
+	copy(cur.mu, init.Mean)
+	sliceFromSym(cur.cov, init.Cov)
+	for i := 0; i < d; i++ {
+		v.scale[i] = math.Sqrt(cur.cov[i*d+i])
+	}
+	if diag {
+		for i := 0; i < d; i++ {
+			for j := 0; j < d; j++ {
+				if i != j {
+					cur.cov[i*d+j] = 0
+				}
+			}
+		}
+		cholesky(cur.l, cur.cov, d)
+	}
+	cholInverse(cur.l, cur.prec, v.col, d)
+	cur.logDetCov = cholLogDet(cur.l, d)
+	if err := ctx.Err(); err != nil {
+		return VariationalFit{}, err
+	}
+	if err := v.evaluate(cur); err != nil {
+		return VariationalFit{}, fmt.Errorf("%s: %w", name, err)
+	}
+
+	trace := []float64{cur.elbo}
+	a := 0.5
+	iters := 0
+	converged := false
+	var stopErr error
+	for {
+		gr, pr := v.residuals(cur)
+		if gr <= s.Tol && pr <= s.Tol {
+			converged = true
+			break
+		}
+		if iters >= s.MaxIter {
+			stopErr = fmt.Errorf("%w: %s: %d steps left the residuals at %.3g (mean) and %.3g (precision), above %.3g", ErrNoConvergence, name, iters, gr, pr, s.Tol)
+			break
+		}
+		tie := tieLevel * (1 + math.Abs(cur.elbo))
+		merit := norm(cur.f)
+		better := func(t *viState) bool {
+			return t.elbo > cur.elbo+tie || (t.elbo >= cur.elbo-tie && norm(t.f) < merit)
+		}
+		v.aa.push(cur.theta, cur.f)
+		accepted := false
+		if v.aa.propose(v.thetaTry, cur.theta, cur.f) && v.unpack(v.thetaTry, trial) {
+			if err := ctx.Err(); err != nil {
+				return VariationalFit{}, err
+			}
+			if err := v.evaluate(trial); err != nil {
+				return VariationalFit{}, fmt.Errorf("%s: %w", name, err)
+			}
+			accepted = better(trial)
+		}
+		if !accepted {
+			v.aa.reset()
+			a = math.Min(1, 2*a)
+			b := 1.0
+			for tries := 0; tries < 50 && !accepted; tries++ {
+				if err := ctx.Err(); err != nil {
+					return VariationalFit{}, err
+				}
+				if v.damped(cur, trial, a, b) {
+					if err := v.evaluate(trial); err != nil {
+						return VariationalFit{}, fmt.Errorf("%s: %w", name, err)
+					}
+					accepted = better(trial)
+				}
+				if !accepted {
+					a /= 2
+					b /= 2
+				}
+			}
+		}
+		if !accepted {
+			stopErr = fmt.Errorf("%w: %s: no step raised the ELBO after %d steps (residuals %.3g and %.3g)", ErrNoConvergence, name, iters, gr, pr)
+			break
+		}
+		cur, trial = trial, cur
+		trace = append(trace, cur.elbo)
+		iters++
+	}
+	gr, pr := v.residuals(cur)
+	cubErr := math.NaN()
+	if s.Order >= 3 {
+		if coarse, err := newRule(d, s.Order-2); err == nil {
+			fine := v.r
+			v.r = coarse
+			copy(trial.mu, cur.mu)
+			copy(trial.cov, cur.cov)
+			copy(trial.prec, cur.prec)
+			copy(trial.l, cur.l)
+			trial.logDetCov = cur.logDetCov
+			if v.evaluate(trial) == nil {
+				cubErr = math.Abs(trial.elbo - cur.elbo)
+			}
+			v.r = fine
+		}
+	}
+	negEH := make([]float64, d*d)
+	for i := range negEH {
+		negEH[i] = -cur.eh[i]
+	}
+	fit := VariationalFit{
+		Gaussian:          Gaussian{Mean: append([]float64(nil), cur.mu...), Cov: symFromSlice(cur.cov, d)},
+		ELBO:              cur.elbo,
+		Precision:         symFromSlice(negEH, d),
+		Iterations:        iters,
+		Converged:         converged,
+		GradResidual:      gr,
+		PrecisionResidual: pr,
+		ELBOTrace:         trace,
+		Evaluations:       v.evals,
+		CubatureErr:       cubErr,
+	}
+	return fit, stopErr
+}
+
+// evaluate fills st's expectations, ELBO and packed map residual by
+// cubature over N(st.mu, st.l st.lᵀ).
+func (v *viSolver) evaluate(st *viState) error {
+	d := v.d
+	for i := range st.eg {
+		st.eg[i] = 0
+	}
+	for i := range st.eh {
+		st.eh[i] = 0
+	}
+	elogp := 0.0
+	for k, w := range v.r.w {
+		z := v.r.z[k*d : k*d+d]
+		for i := 0; i < d; i++ {
+			xi := st.mu[i]
+			for j := 0; j <= i; j++ {
+				xi += st.l[i*d+j] * z[j]
+			}
+			v.x[i] = xi
+		}
+		f := v.p.LogDensityDerivs(v.x, v.grad, v.hess)
+		if math.IsInf(f, -1) {
+			return v.infiniteKL()
+		}
+		if math.IsNaN(f) || math.IsInf(f, 1) {
+			return fmt.Errorf("%w: log p is %v at %v", ErrNonFinite, f, v.x)
+		}
+		elogp += w * f
+		for i, g := range v.grad {
+			st.eg[i] += w * g
+		}
+		for i, h := range v.hess {
+			st.eh[i] += w * h
+		}
+	}
+	v.evals++
+	if !allFinite(st.eg) || !allFinite(st.eh) {
+		return v.badDerivs(st)
+	}
+	symmetrize(st.eh, d)
+	st.elogp = elogp
+	st.elbo = elogp + entropyFromLogDet(d, st.logDetCov)
+	v.pack(st)
+	return nil
+}
+
+func (v *viSolver) infiniteKL() error {
+	return fmt.Errorf("%w: log p is -Inf at %v, where the Gaussian has mass: the support is bounded on this scale, so no Gaussian has a finite KL(q||p); fit the parameter on the log or logit scale", ErrInfiniteKL, v.x)
+}
+
+// badDerivs finds a cubature node where the gradient or Hessian is not
+// finite, for the message.
+func (v *viSolver) badDerivs(st *viState) error {
+	d := v.d
+	for k := range v.r.w {
+		z := v.r.z[k*d : k*d+d]
+		for i := 0; i < d; i++ {
+			xi := st.mu[i]
+			for j := 0; j <= i; j++ {
+				xi += st.l[i*d+j] * z[j]
+			}
+			v.x[i] = xi
+		}
+		v.p.LogDensityDerivs(v.x, v.grad, v.hess)
+		if !allFinite(v.grad) || !allFinite(v.hess) {
+			return fmt.Errorf("%w: gradient %v or Hessian %v of log p at %v", ErrNonFinite, v.grad, v.hess, v.x)
+		}
+	}
+	return fmt.Errorf("%w: the cubature sums of the gradient or Hessian of log p overflow", ErrNonFinite)
+}
+
+// pack writes st's parameters and the fixed-point map's residual, scaled by
+// the initial standard deviations s_i (mu_i/s_i, Λ_ij s_i s_j), into
+// st.theta and st.f. Only the lower triangle of Λ is packed (the diagonal
+// for the mean field).
+func (v *viSolver) pack(st *viState) {
+	d := v.d
+	// The mean's map: the Newton step where -E[H] is positive definite,
+	// else Λ⁻¹ E[g] (diagonal Λ for the mean field).
+	step := v.col
+	for i := range v.negEH {
+		v.negEH[i] = -st.eh[i]
+	}
+	copy(step, st.eg)
+	if cholesky(v.cNegEH, v.negEH, d) {
+		cholSolve(v.cNegEH, step, d)
+	} else {
+		for i := 0; i < d; i++ {
+			t := 0.0
+			for j := 0; j < d; j++ {
+				t += st.cov[i*d+j] * st.eg[j]
+			}
+			v.tmp[i] = t
+		}
+		copy(step, v.tmp[:d])
+	}
+	k := 0
+	for i := 0; i < d; i++ {
+		st.theta[k] = st.mu[i] / v.scale[i]
+		st.f[k] = step[i] / v.scale[i]
+		k++
+	}
+	for i := 0; i < d; i++ {
+		for j := 0; j <= i; j++ {
+			if v.diag && i != j {
+				continue
+			}
+			s := v.scale[i] * v.scale[j]
+			st.theta[k] = st.prec[i*d+j] * s
+			st.f[k] = (v.negEH[i*d+j] - st.prec[i*d+j]) * s
+			k++
+		}
+	}
+}
+
+// unpack sets tr's mean and precision from the packed theta and derives its
+// covariance; it reports whether the precision is positive definite.
+func (v *viSolver) unpack(theta []float64, tr *viState) bool {
+	d := v.d
+	k := 0
+	for i := 0; i < d; i++ {
+		tr.mu[i] = theta[k] * v.scale[i]
+		k++
+	}
+	for i := range tr.prec {
+		tr.prec[i] = 0
+	}
+	for i := 0; i < d; i++ {
+		for j := 0; j <= i; j++ {
+			if v.diag && i != j {
+				continue
+			}
+			p := theta[k] / (v.scale[i] * v.scale[j])
+			tr.prec[i*d+j], tr.prec[j*d+i] = p, p
+			k++
+		}
+	}
+	return allFinite(tr.mu) && v.setCov(tr)
+}
+
+// setCov derives tr's covariance, its factor and log-determinant from
+// tr.prec, and reports whether tr.prec is positive definite.
+func (v *viSolver) setCov(tr *viState) bool {
+	d := v.d
+	if !allFinite(tr.prec) || !cholesky(v.c, tr.prec, d) {
+		return false
+	}
+	cholInverse(v.c, tr.cov, v.col, d)
+	if !cholesky(tr.l, tr.cov, d) {
+		return false
+	}
+	tr.logDetCov = -cholLogDet(v.c, d)
+	return true
+}
+
+// damped writes into tr the damped step from cur with length a for the
+// precision and b for the mean, and reports whether the precision is
+// positive definite.
+func (v *viSolver) damped(cur, tr *viState, a, b float64) bool {
+	d := v.d
+	for i := range tr.prec {
+		tr.prec[i] = (1-a)*cur.prec[i] - a*cur.eh[i]
+	}
+	if v.diag {
+		for i := 0; i < d; i++ {
+			for j := 0; j < d; j++ {
+				if i != j {
+					tr.prec[i*d+j] = 0
+				}
+			}
+		}
+	}
+	if !v.setCov(tr) {
+		return false
+	}
+	if v.diag {
+		// cur.f holds the mean's map step, scaled.
+		for i := 0; i < d; i++ {
+			tr.mu[i] = cur.mu[i] + b*cur.f[i]*v.scale[i]
+		}
+		return allFinite(tr.mu)
+	}
+	for i := 0; i < d; i++ {
+		t := 0.0
+		for j := 0; j < d; j++ {
+			t += tr.cov[i*d+j] * cur.eg[j]
+		}
+		tr.mu[i] = cur.mu[i] + b*t
+	}
+	return allFinite(tr.mu)
+}
+
+// residuals returns |Lᵀ E[g]| and the precision residual of st.
+func (v *viSolver) residuals(st *viState) (grad, prec float64) {
+	d := v.d
+	for j := 0; j < d; j++ {
+		t := 0.0
+		for i := j; i < d; i++ {
+			t += st.l[i*d+j] * st.eg[i]
+		}
+		grad += t * t
+	}
+	if v.diag {
+		for i := 0; i < d; i++ {
+			r := 1 + st.cov[i*d+i]*st.eh[i*d+i]
+			prec += r * r
+		}
+		return math.Sqrt(grad), math.Sqrt(prec)
+	}
+	// tmp = E[H] L, then I + Lᵀ tmp.
+	for i := 0; i < d; i++ {
+		for j := 0; j < d; j++ {
+			t := 0.0
+			for k := j; k < d; k++ {
+				t += st.eh[i*d+k] * st.l[k*d+j]
+			}
+			v.tmp[i*d+j] = t
+		}
+	}
+	for i := 0; i < d; i++ {
+		for j := 0; j < d; j++ {
+			t := 0.0
+			if i == j {
+				t = 1
+			}
+			for k := i; k < d; k++ {
+				t += st.l[k*d+i] * v.tmp[k*d+j]
+			}
+			prec += t * t
+		}
+	}
+	return math.Sqrt(grad), math.Sqrt(prec)
+}
+
+func norm(v []float64) float64 {
+	s := 0.0
+	for _, x := range v {
+		s += x * x
+	}
+	return math.Sqrt(s)
+}
