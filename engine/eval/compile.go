@@ -1,0 +1,516 @@
+package eval
+
+import (
+	"math"
+	"sort"
+
+	"bellcheck/engine/model"
+)
+
+// Compile compiles a checked model (from model.Parse) to an evaluator of its
+// log-density. For a model given as a cost the evaluator negates it, so it
+// always returns the log-density. Where a parameter has a support [lo, hi]
+// the log-density is -Inf outside it.
+func Compile(m *model.Model) (*Evaluator, error) {
+	if m == nil || m.Density == nil {
+		return nil, &Error{Msg: "model has no density statement", Err: ErrNotChecked}
+	}
+	dim := len(m.Params)
+	if dim < 1 || dim > model.MaxParams {
+		return nil, &Error{Msg: "a model needs 1 to 4 parameters", Err: ErrTooManyParams}
+	}
+	c := &compiler{m: m, b: newBuilder(), defs: make([]int32, len(m.Defs)), state: make([]uint8, len(m.Defs))}
+	root := c.expr(m.Density)
+	b := c.b
+	if b.err == nil && b.nd(root).vector() {
+		b.pos = m.Density.Pos()
+		b.fail(ErrShape, "the density must be a scalar, but this is a vector of %d elements", b.nd(root).n)
+	}
+	if b.err != nil {
+		return nil, b.err
+	}
+	if m.Form == model.Cost {
+		root = b.un(opNeg, root, 0)
+	}
+	for i, p := range m.Params {
+		if p.Lo > math.Inf(-1) {
+			root = b.guard(opGuardGE, root, b.param(i), p.Lo)
+		}
+		if p.Hi < math.Inf(1) {
+			root = b.guard(opGuardLE, root, b.param(i), p.Hi)
+		}
+	}
+	if b.err != nil {
+		return nil, b.err
+	}
+	prog := lower(b, root, dim)
+	return newEvaluator(prog, m), nil
+}
+
+// compiler turns the model's syntax tree into the expression graph.
+type compiler struct {
+	m     *model.Model
+	b     *builder
+	defs  []int32 // node of each definition once built
+	state []uint8 // 0 not built, 1 building, 2 built
+}
+
+func (c *compiler) expr(e model.Expr) int32 {
+	b := c.b
+	if b.err != nil {
+		return 0
+	}
+	if e == nil {
+		return b.fail(ErrNotChecked, "missing expression")
+	}
+	b.pos = e.Pos()
+	switch e := e.(type) {
+	case *model.Number:
+		return b.constant(e.Value)
+	case *model.Ident:
+		switch e.Kind {
+		case model.ParamRef:
+			if e.Index < 0 || e.Index >= len(c.m.Params) {
+				return b.fail(ErrNotChecked, "parameter %s has no index", e.Name)
+			}
+			return b.param(e.Index)
+		case model.DefRef:
+			return c.def(e)
+		}
+		return b.fail(ErrNotChecked, "name %s is not resolved", e.Name)
+	case *model.Unary:
+		x := c.expr(e.X)
+		switch e.Op {
+		case '-':
+			return b.un(opNeg, x, 0)
+		case '+':
+			return x
+		}
+		b.pos = e.At
+		return b.fail(ErrNotChecked, "unknown operator %q", e.Op)
+	case *model.Binary:
+		x := c.expr(e.X)
+		y := c.expr(e.Y)
+		b.pos = e.At
+		switch e.Op {
+		case '+':
+			return b.bin(opAdd, x, y, 0)
+		case '-':
+			return b.bin(opSub, x, y, 0)
+		case '*':
+			return b.bin(opMul, x, y, 0)
+		case '/':
+			return b.bin(opDiv, x, y, 0)
+		case '^':
+			return b.bin(opPow, x, y, 0)
+		}
+		return b.fail(ErrNotChecked, "unknown operator %q", e.Op)
+	case *model.Call:
+		info, known := model.Funcs[e.Name]
+		impl, ok := impls[e.Name]
+		if !known || !ok {
+			return b.fail(ErrUnknownFunction, "unknown function %s", e.Name)
+		}
+		n := len(e.Args)
+		if n < info.MinArgs || (info.MaxArgs != model.Variadic && n > info.MaxArgs) {
+			return b.fail(ErrArity, "%s takes %d to %d arguments, got %d", e.Name, info.MinArgs, info.MaxArgs, n)
+		}
+		args := make([]int32, n)
+		for i, a := range e.Args {
+			args[i] = c.expr(a)
+		}
+		b.pos = e.At
+		if b.err != nil {
+			return 0
+		}
+		return impl(b, args)
+	case *model.Vector:
+		elems := make([]int32, len(e.Elems))
+		for i, x := range e.Elems {
+			elems[i] = c.expr(x)
+			if b.err == nil && b.nd(elems[i]).vector() {
+				b.pos = x.Pos()
+				return b.fail(ErrShape, "element %d of a vector is a vector", i+1)
+			}
+		}
+		if len(elems) > model.MaxVectorLen {
+			b.pos = e.At
+			return b.fail(ErrShape, "vector of %d elements, more than %d", len(elems), model.MaxVectorLen)
+		}
+		if len(elems) == 0 {
+			b.pos = e.At
+			return b.fail(ErrShape, "empty vector")
+		}
+		return b.pack(elems)
+	}
+	return b.fail(ErrNotChecked, "unknown expression %T", e)
+}
+
+func (c *compiler) def(e *model.Ident) int32 {
+	b := c.b
+	i := e.Index
+	if i < 0 || i >= len(c.m.Defs) {
+		return b.fail(ErrNotChecked, "definition %s has no index", e.Name)
+	}
+	switch c.state[i] {
+	case 2:
+		return c.defs[i]
+	case 1:
+		return b.fail(ErrNotChecked, "definition %s refers to itself", e.Name)
+	}
+	c.state[i] = 1
+	v := c.expr(c.m.Defs[i].Value)
+	c.state[i] = 2
+	c.defs[i] = v
+	return v
+}
+
+// lower schedules the graph below root into a program: scalar registers,
+// loops over data vectors, and a block tape when there are no loops.
+func lower(b *builder, root int32, dim int) *program {
+	nodes := b.nodes
+	// Reachable nodes.
+	reach := make([]bool, len(nodes))
+	stack := []int32{root}
+	for len(stack) > 0 {
+		id := stack[len(stack)-1]
+		stack = stack[:len(stack)-1]
+		if reach[id] {
+			continue
+		}
+		reach[id] = true
+		nd := &nodes[id]
+		if nd.a >= 0 {
+			stack = append(stack, nd.a)
+		}
+		if nd.b >= 0 {
+			stack = append(stack, nd.b)
+		}
+		stack = append(stack, nd.elems...)
+	}
+
+	p := &program{dim: dim}
+	reg := make([]int32, len(nodes))
+	for i := range reg {
+		reg[i] = -1
+	}
+	p.nregs = dim
+	p.init = make([]float64, dim)
+	p.isVar = make([]bool, dim)
+	for i := range p.isVar {
+		p.isVar[i] = true
+	}
+	for id, nd := range nodes {
+		if reach[id] && nd.op == opParam {
+			reg[id] = int32(nd.k)
+		}
+	}
+	for id, nd := range nodes {
+		if reach[id] && nd.cst && !nd.vector() {
+			reg[id] = int32(p.nregs)
+			p.nregs++
+			p.init = append(p.init, nd.val)
+			p.isVar = append(p.isVar, false)
+		}
+	}
+	for id, nd := range nodes {
+		if reach[id] && !nd.cst && !nd.vector() && nd.op != opParam {
+			reg[id] = int32(p.nregs)
+			p.nregs++
+			p.init = append(p.init, 0)
+			p.isVar = append(p.isVar, true)
+		}
+	}
+	p.root = reg[root]
+
+	// Levels: avail[id] for a scalar is the number of loops that must run
+	// before it is known; lvl[id] for a vector is the first loop that can
+	// compute it.
+	avail := make([]int, len(nodes))
+	maxLvl, maxAvail := 0, 0
+	for id := range nodes {
+		nd := &nodes[id]
+		if !reach[id] || nd.cst || nd.op == opParam {
+			continue
+		}
+		l := 0
+		for _, arg := range [2]int32{nd.a, nd.b} {
+			if arg >= 0 {
+				l = max(l, avail[arg])
+			}
+		}
+		for _, e := range nd.elems {
+			l = max(l, avail[e])
+		}
+		if ops[nd.op].class == classReduce {
+			maxLvl = max(maxLvl, l)
+			l++
+		}
+		avail[id] = l
+		maxAvail = max(maxAvail, l)
+	}
+
+	// Loops: reductions grouped by level and length.
+	type loopKey struct{ lvl, n int }
+	groups := map[loopKey][]int32{}
+	var keys []loopKey
+	for id := range nodes {
+		nd := &nodes[id]
+		if reach[id] && ops[nd.op].class == classReduce {
+			k := loopKey{avail[nd.a], nodes[nd.a].n}
+			if _, ok := groups[k]; !ok {
+				keys = append(keys, k)
+			}
+			groups[k] = append(groups[k], int32(id))
+		}
+	}
+	sort.Slice(keys, func(i, j int) bool {
+		if keys[i].lvl != keys[j].lvl {
+			return keys[i].lvl < keys[j].lvl
+		}
+		return keys[i].n < keys[j].n
+	})
+	loopsAt := make([][]int, maxLvl+1)
+	for _, k := range keys {
+		p.loops = append(p.loops, lowerLoop(nodes, reg, groups[k], k.n))
+		loopsAt[k.lvl] = append(loopsAt[k.lvl], len(p.loops)-1)
+		p.maxSlots = max(p.maxSlots, p.loops[len(p.loops)-1].nslots)
+	}
+
+	// The scalar tape, level by level.
+	for lvl := 0; lvl <= maxAvail; lvl++ {
+		for id := range nodes {
+			nd := &nodes[id]
+			if !reach[id] || nd.cst || nd.vector() || nd.op == opParam || ops[nd.op].class == classReduce || avail[id] != lvl {
+				continue
+			}
+			in := instr{op: nd.op, dst: reg[id], a: reg[nd.a], k: nd.k}
+			if nd.b >= 0 {
+				in.b = reg[nd.b]
+			} else {
+				in.b = in.a
+			}
+			p.code = append(p.code, in)
+		}
+		if lvl > maxLvl {
+			continue
+		}
+		for _, li := range loopsAt[lvl] {
+			p.code = append(p.code, instr{op: opLoop, a: int32(li)})
+		}
+	}
+	if len(p.loops) == 0 {
+		p.block = lowerBlock(nodes, reach, root, dim)
+	}
+	return p
+}
+
+// slotAllocator hands out kernel slots, reusing those whose value is dead.
+type slotAllocator struct {
+	n    int
+	free []int32
+}
+
+func (s *slotAllocator) get() int32 {
+	if k := len(s.free); k > 0 {
+		slot := s.free[k-1]
+		s.free = s.free[:k-1]
+		return slot
+	}
+	s.n++
+	return int32(s.n - 1)
+}
+
+// lowerLoop builds the kernel that computes the vector operands of the
+// given reductions (all of length n).
+func lowerLoop(nodes []node, reg []int32, reds []int32, n int) loop {
+	// The kernel's nodes: computed vectors reachable from the reductions
+	// through computed vectors.
+	in := map[int32]bool{}
+	var stack []int32
+	for _, r := range reds {
+		stack = append(stack, nodes[r].a)
+	}
+	for len(stack) > 0 {
+		id := stack[len(stack)-1]
+		stack = stack[:len(stack)-1]
+		nd := &nodes[id]
+		if in[id] || nd.cst || !nd.vector() {
+			continue
+		}
+		in[id] = true
+		for _, arg := range [2]int32{nd.a, nd.b} {
+			if arg >= 0 {
+				stack = append(stack, arg)
+			}
+		}
+	}
+	order := make([]int32, 0, len(in))
+	for id := range in {
+		order = append(order, id)
+	}
+	sort.Slice(order, func(i, j int) bool { return order[i] < order[j] })
+
+	lastUse := map[int32]int{}
+	for i, id := range order {
+		nd := &nodes[id]
+		for _, arg := range [2]int32{nd.a, nd.b} {
+			if arg >= 0 {
+				lastUse[arg] = i
+			}
+		}
+	}
+	for _, r := range reds {
+		lastUse[nodes[r].a] = len(order) // read after the kernel
+	}
+
+	var lp loop
+	lp.n = n
+	var alloc slotAllocator
+	slot := map[int32]int32{}
+	// Constant vectors get pinned slots that view the data.
+	for _, id := range order {
+		nd := &nodes[id]
+		for _, arg := range [2]int32{nd.a, nd.b} {
+			if arg >= 0 && nodes[arg].cst && nodes[arg].vector() {
+				if _, ok := slot[arg]; !ok {
+					s := alloc.get()
+					slot[arg] = s
+					lp.pins = append(lp.pins, pin{slot: s, data: nodes[arg].vec})
+				}
+			}
+		}
+	}
+	operand := func(arg int32) (int32, bool) {
+		if nodes[arg].vector() {
+			return slot[arg], true
+		}
+		return reg[arg], false
+	}
+	for i, id := range order {
+		nd := &nodes[id]
+		ki := kinstr{op: nd.op, k: nd.k}
+		switch {
+		case nd.op == opPack:
+			ki.form = formPack
+			ki.elems = make([]int32, len(nd.elems))
+			for j, e := range nd.elems {
+				ki.elems[j] = reg[e]
+			}
+		case nd.b < 0:
+			ki.form = formV
+			ki.a, _ = operand(nd.a)
+		default:
+			var va, vb bool
+			ki.a, va = operand(nd.a)
+			ki.b, vb = operand(nd.b)
+			switch {
+			case va && vb:
+				ki.form = formVV
+			case va:
+				ki.form = formVS
+			default:
+				ki.form = formSV
+			}
+		}
+		ki.dst = alloc.get()
+		slot[id] = ki.dst
+		for _, arg := range [2]int32{nd.a, nd.b} {
+			if arg >= 0 && lastUse[arg] == i && in[arg] {
+				alloc.free = append(alloc.free, slot[arg])
+				lastUse[arg] = -1 // free once even when both operands are arg
+			}
+		}
+		lp.kern = append(lp.kern, ki)
+	}
+	for _, r := range reds {
+		lp.reds = append(lp.reds, reduction{op: nodes[r].op, src: slot[nodes[r].a], dst: reg[r]})
+	}
+	lp.nslots = alloc.n
+	return lp
+}
+
+// lowerBlock builds the block tape of a model without vectors.
+func lowerBlock(nodes []node, reach []bool, root int32, dim int) *blockTape {
+	bt := &blockTape{rootSlot: -1, rootParam: -1}
+	rn := &nodes[root]
+	switch {
+	case rn.op == opParam:
+		bt.rootParam = int(rn.k)
+		return bt
+	case rn.cst:
+		bt.rootConst = rn.val
+		return bt
+	}
+	var order []int32
+	for id := range nodes {
+		nd := &nodes[id]
+		if reach[id] && !nd.cst && nd.op != opParam {
+			order = append(order, int32(id))
+		}
+	}
+	lastUse := map[int32]int{}
+	for i, id := range order {
+		nd := &nodes[id]
+		for _, arg := range [2]int32{nd.a, nd.b} {
+			if arg >= 0 {
+				lastUse[arg] = i
+			}
+		}
+	}
+	alloc := slotAllocator{n: dim} // slots 0..dim-1 view the parameters
+	for k := 0; k < dim; k++ {
+		bt.pins = append(bt.pins, pin{slot: int32(k), param: k})
+	}
+	slot := map[int32]int32{}
+	konst := map[uint64]int32{}
+	operand := func(arg int32) (int32, bool) {
+		nd := &nodes[arg]
+		switch {
+		case nd.op == opParam:
+			return int32(nd.k), true
+		case nd.cst:
+			bits := math.Float64bits(nd.val)
+			if c, ok := konst[bits]; ok {
+				return c, false
+			}
+			c := int32(len(bt.consts))
+			bt.consts = append(bt.consts, nd.val)
+			konst[bits] = c
+			return c, false
+		}
+		return slot[arg], true
+	}
+	for i, id := range order {
+		nd := &nodes[id]
+		ki := kinstr{op: nd.op, k: nd.k}
+		if nd.b < 0 {
+			ki.form = formV
+			ki.a, _ = operand(nd.a)
+		} else {
+			var va, vb bool
+			ki.a, va = operand(nd.a)
+			ki.b, vb = operand(nd.b)
+			switch {
+			case va && vb:
+				ki.form = formVV
+			case va:
+				ki.form = formVS
+			default:
+				ki.form = formSV
+			}
+		}
+		ki.dst = alloc.get()
+		slot[id] = ki.dst
+		for _, arg := range [2]int32{nd.a, nd.b} {
+			if arg >= 0 && lastUse[arg] == i && !nodes[arg].cst && nodes[arg].op != opParam {
+				alloc.free = append(alloc.free, slot[arg])
+				lastUse[arg] = -1
+			}
+		}
+		bt.kern = append(bt.kern, ki)
+	}
+	bt.rootSlot = slot[root]
+	bt.nslots = alloc.n
+	return bt
+}

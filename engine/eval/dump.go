@@ -1,0 +1,66 @@
+package eval
+
+import (
+	"fmt"
+	"strings"
+)
+
+// Tape returns a listing of the compiled tape, for debugging and for the
+// curious: the scalar instructions (r0.. are the parameters, then the
+// constants), each loop's kernel over slots (s0..) and reductions, and the
+// block tape when there is one.
+func (ev *Evaluator) Tape() string {
+	p := ev.prog
+	var b strings.Builder
+	fmt.Fprintf(&b, "params r0..r%d\n", p.dim-1)
+	for r := p.dim; r < p.nregs; r++ {
+		if !p.isVar[r] {
+			fmt.Fprintf(&b, "r%d = %g\n", r, p.init[r])
+		}
+	}
+	for _, in := range p.code {
+		if in.op == opLoop {
+			lp := &p.loops[in.a]
+			fmt.Fprintf(&b, "loop %d over %d elements, %d slots:\n", in.a, lp.n, lp.nslots)
+			for _, pn := range lp.pins {
+				fmt.Fprintf(&b, "  s%d = data[%d]\n", pn.slot, len(pn.data))
+			}
+			writeKernel(&b, "  ", lp.kern, "r")
+			for _, red := range lp.reds {
+				fmt.Fprintf(&b, "  r%d = %s(s%d)\n", red.dst, ops[red.op].name, red.src)
+			}
+			continue
+		}
+		fmt.Fprintf(&b, "r%d = %s(r%d", in.dst, ops[in.op].name, in.a)
+		if ops[in.op].class == classBinary {
+			fmt.Fprintf(&b, ", r%d", in.b)
+		}
+		fmt.Fprintf(&b, "; %g)\n", in.k)
+	}
+	fmt.Fprintf(&b, "result r%d\n", p.root)
+	if bt := p.block; bt != nil {
+		fmt.Fprintf(&b, "block tape, %d slots, constants %v:\n", bt.nslots, bt.consts)
+		writeKernel(&b, "  ", bt.kern, "c")
+		fmt.Fprintf(&b, "  result s%d\n", bt.rootSlot)
+	}
+	return b.String()
+}
+
+func writeKernel(b *strings.Builder, indent string, kern []kinstr, scalar string) {
+	for _, in := range kern {
+		fmt.Fprintf(b, "%ss%d = %s(", indent, in.dst, ops[in.op].name)
+		switch in.form {
+		case formV:
+			fmt.Fprintf(b, "s%d", in.a)
+		case formVV:
+			fmt.Fprintf(b, "s%d, s%d", in.a, in.b)
+		case formVS:
+			fmt.Fprintf(b, "s%d, %s%d", in.a, scalar, in.b)
+		case formSV:
+			fmt.Fprintf(b, "%s%d, s%d", scalar, in.a, in.b)
+		case formPack:
+			fmt.Fprintf(b, "%d elements", len(in.elems))
+		}
+		fmt.Fprintf(b, "; %g)\n", in.k)
+	}
+}

@@ -1,0 +1,247 @@
+package eval
+
+import "math"
+
+// runKernel applies a kernel to m elements: vs holds the slots (each with at
+// least m elements), ss the scalar operands, off the offset of the first
+// element in the vectors (for formPack).
+func runKernel(kern []kinstr, vs [][]float64, ss []float64, m, off int) {
+	for i := range kern {
+		in := &kern[i]
+		d := vs[in.dst][:m]
+		switch in.form {
+		case formV:
+			unaryLoop(in, d, vs[in.a][:m])
+		case formVV:
+			binaryVV(in, d, vs[in.a][:m], vs[in.b][:m])
+		case formVS:
+			binaryVS(in, d, vs[in.a][:m], ss[in.b])
+		case formSV:
+			binarySV(in, d, ss[in.a], vs[in.b][:m])
+		case formPack:
+			el := in.elems[off : off+m]
+			for j := range d {
+				d[j] = ss[el[j]]
+			}
+		}
+	}
+}
+
+func unaryLoop(in *kinstr, d, a []float64) {
+	a = a[:len(d)]
+	k := in.k
+	switch in.op {
+	case opNeg:
+		for i := range d {
+			d[i] = -a[i]
+		}
+	case opSq:
+		for i := range d {
+			d[i] = a[i] * a[i]
+		}
+	case opRecip:
+		for i := range d {
+			d[i] = 1 / a[i]
+		}
+	case opSqrt:
+		for i := range d {
+			d[i] = math.Sqrt(a[i])
+		}
+	case opExp:
+		for i := range d {
+			d[i] = math.Exp(a[i])
+		}
+	case opLog:
+		for i := range d {
+			d[i] = math.Log(a[i])
+		}
+	case opAbs:
+		for i := range d {
+			d[i] = math.Abs(a[i])
+		}
+	case opAddK:
+		for i := range d {
+			d[i] = a[i] + k
+		}
+	case opMulK:
+		for i := range d {
+			d[i] = a[i] * k
+		}
+	case opDivK:
+		for i := range d {
+			d[i] = a[i] / k
+		}
+	case opSubKR:
+		for i := range d {
+			d[i] = k - a[i]
+		}
+	case opDivKR:
+		for i := range d {
+			d[i] = k / a[i]
+		}
+	default:
+		f := ops[in.op].value
+		for i := range d {
+			d[i] = f(a[i], 0, k)
+		}
+	}
+}
+
+func binaryVV(in *kinstr, d, a, b []float64) {
+	a = a[:len(d)]
+	b = b[:len(d)]
+	switch in.op {
+	case opAdd:
+		for i := range d {
+			d[i] = a[i] + b[i]
+		}
+	case opSub:
+		for i := range d {
+			d[i] = a[i] - b[i]
+		}
+	case opMul:
+		for i := range d {
+			d[i] = a[i] * b[i]
+		}
+	case opDiv:
+		for i := range d {
+			d[i] = a[i] / b[i]
+		}
+	default:
+		f := ops[in.op].value
+		k := in.k
+		for i := range d {
+			d[i] = f(a[i], b[i], k)
+		}
+	}
+}
+
+func binaryVS(in *kinstr, d, a []float64, s float64) {
+	a = a[:len(d)]
+	switch in.op {
+	case opAdd:
+		for i := range d {
+			d[i] = a[i] + s
+		}
+	case opSub:
+		for i := range d {
+			d[i] = a[i] - s
+		}
+	case opMul:
+		for i := range d {
+			d[i] = a[i] * s
+		}
+	case opDiv:
+		for i := range d {
+			d[i] = a[i] / s
+		}
+	default:
+		f := ops[in.op].value
+		k := in.k
+		for i := range d {
+			d[i] = f(a[i], s, k)
+		}
+	}
+}
+
+func binarySV(in *kinstr, d []float64, s float64, b []float64) {
+	b = b[:len(d)]
+	switch in.op {
+	case opAdd:
+		for i := range d {
+			d[i] = s + b[i]
+		}
+	case opSub:
+		for i := range d {
+			d[i] = s - b[i]
+		}
+	case opMul:
+		for i := range d {
+			d[i] = s * b[i]
+		}
+	case opDiv:
+		for i := range d {
+			d[i] = s / b[i]
+		}
+	default:
+		f := ops[in.op].value
+		k := in.k
+		for i := range d {
+			d[i] = f(s, b[i], k)
+		}
+	}
+}
+
+// sum4 adds up v with four partial sums (the additions of one chain do not
+// wait for each other).
+func sum4(v []float64) float64 {
+	var s0, s1, s2, s3 float64
+	i := 0
+	for ; i+4 <= len(v); i += 4 {
+		w := v[i : i+4 : i+4]
+		s0 += w[0]
+		s1 += w[1]
+		s2 += w[2]
+		s3 += w[3]
+	}
+	for ; i < len(v); i++ {
+		s0 += v[i]
+	}
+	return (s0 + s1) + (s2 + s3)
+}
+
+// sumSq4 adds up the squares of v with four partial sums.
+func sumSq4(v []float64) float64 {
+	var s0, s1, s2, s3 float64
+	i := 0
+	for ; i+4 <= len(v); i += 4 {
+		w := v[i : i+4 : i+4]
+		s0 += w[0] * w[0]
+		s1 += w[1] * w[1]
+		s2 += w[2] * w[2]
+		s3 += w[3] * w[3]
+	}
+	for ; i < len(v); i++ {
+		s0 += v[i] * v[i]
+	}
+	return (s0 + s1) + (s2 + s3)
+}
+
+// lseState accumulates log(sum e^x) as m + log(s), s = sum e^(x-m).
+type lseState struct {
+	m, s float64
+}
+
+func (st *lseState) reset() { st.m, st.s = math.Inf(-1), 0 }
+
+func (st *lseState) add(v []float64) {
+	cm := math.Inf(-1)
+	for _, x := range v {
+		cm = max(cm, x) // max propagates NaN
+	}
+	if cm != cm || math.IsInf(cm, 1) {
+		st.m, st.s = cm, 1
+		return
+	}
+	if math.IsInf(cm, -1) || st.m != st.m || math.IsInf(st.m, 1) {
+		return
+	}
+	var cs float64
+	for _, x := range v {
+		cs += math.Exp(x - cm)
+	}
+	switch {
+	case cm > st.m:
+		st.s = st.s*math.Exp(st.m-cm) + cs
+		st.m = cm
+	default:
+		st.s += cs * math.Exp(cm-st.m)
+	}
+}
+
+func (st *lseState) value() float64 {
+	if st.s == 0 || math.IsInf(st.m, 0) || st.m != st.m {
+		return st.m
+	}
+	return st.m + math.Log(st.s)
+}

@@ -1,0 +1,96 @@
+package eval
+
+// The compiled form of a model.
+//
+// The scalar tape (program.code) is a list of instructions over scalar
+// registers: first the parameters, then the constants, then one register per
+// computed scalar. Constants are loaded once; nothing else is shared, so each
+// register is written by exactly one instruction.
+//
+// Work over data vectors is gathered into loops (opLoop instructions). A loop
+// runs a kernel, a list of elementwise instructions over vector slots, over
+// the data in chunks, and feeds one or more reductions (sums, minima, ...)
+// whose results are scalar registers. A kernel's operands are slots (a chunk
+// of a computed vector, or of a constant data vector) or scalar registers,
+// which broadcast.
+//
+// The block tape (program.block) is the same kernel form applied to points
+// instead of data: its slots hold a block of points, parameters are slots
+// that view the caller's columns, and constants are scalar operands. It
+// exists when the model has no loops.
+
+// instr is one scalar instruction: dst = op(a, b; k).
+type instr struct {
+	op   opcode
+	dst  int32
+	a, b int32
+	k    float64
+}
+
+// operand forms of a kernel instruction.
+const (
+	formV    uint8 = iota // unary on slot a
+	formVV                // slots a and b
+	formVS                // slot a, scalar b
+	formSV                // scalar a, slot b
+	formPack              // elems: scalar registers, one per element
+)
+
+// kinstr is one kernel instruction: slot dst = op(a, b; k) elementwise.
+type kinstr struct {
+	op    opcode
+	form  uint8
+	dst   int32
+	a, b  int32
+	k     float64
+	elems []int32
+}
+
+// pin makes a slot view constant data (or, in the block tape, a parameter's
+// column).
+type pin struct {
+	slot  int32
+	data  []float64 // nil in the block tape
+	param int       // block tape: the parameter
+}
+
+// reduction folds a kernel slot into a scalar register.
+type reduction struct {
+	op  opcode // opSum, opSumSq, opRMin, opRMax, opRLse
+	src int32
+	dst int32
+}
+
+// loop is a kernel over vectors of length n feeding reductions.
+type loop struct {
+	n      int
+	kern   []kinstr
+	nslots int
+	pins   []pin
+	reds   []reduction
+}
+
+// blockTape evaluates the model on blocks of points.
+type blockTape struct {
+	kern   []kinstr
+	nslots int
+	pins   []pin     // the parameters' slots
+	consts []float64 // scalar operands
+	// The result: a slot, a parameter's column, or a constant.
+	rootSlot  int32 // -1 when the result is not computed by the kernel
+	rootParam int   // -1 unless the result is a parameter
+	rootConst float64
+}
+
+// program is a compiled model.
+type program struct {
+	dim      int
+	nregs    int
+	init     []float64 // initial register values (constants; parameters are set per call)
+	isVar    []bool    // register depends on the parameters
+	code     []instr
+	loops    []loop
+	root     int32 // register of the log-density
+	block    *blockTape
+	maxSlots int // the most slots of any loop
+}
