@@ -72,6 +72,29 @@ func posAt(src string, off int) Pos {
 	return pos
 }
 
+// The grammar, in EBNF; a line break ends a statement except inside ( )
+// and [ ], where it is white space (unless the next line starts with param,
+// cost or NAME =, which shows that a bracket was left open):
+//
+//	model     = [ stmt ] { ( newline | ";" ) [ stmt ] } .
+//	stmt      = "param" name [ "in" "[" expr "," expr "]" ]
+//	          | name "=" expr
+//	          | "cost" expr
+//	          | expr .
+//	expr      = term { ( "+" | "-" ) term } .
+//	term      = unary { ( "*" | "/" ) unary } .
+//	unary     = ( "-" | "+" ) unary | power .
+//	power     = primary [ "^" unary ] .
+//	primary   = number | name | name "(" [ expr { "," expr } ] ")"
+//	          | "(" expr ")" | "[" expr { "," expr } [ "," ] "]" .
+//
+// So ^ binds tighter than a prefix minus (-x^2 = -(x^2)), is right-
+// associative (2^3^2 = 2^9) and takes a signed exponent (2^-1); the other
+// binary operators are left-associative. The names pi and inf are numbers.
+// A vector literal may stand only as the whole right side of a definition
+// or as a whole function argument (the checker reports it elsewhere), and
+// its elements must be scalars.
+
 // parser is a recursive-descent parser over the whole token list. An error
 // inside a statement abandons that statement (bailout) and parsing goes on
 // with the next one.
@@ -207,8 +230,13 @@ func (p *parser) endOfStatement(st Stmt) {
 	case tokEOF, tokNewline, tokSemi:
 		return
 	case tokAssign:
-		p.fail(t.pos, "a definition is NAME = EXPR, with a single name on the left",
-			"unexpected '=': only a name can be defined")
+		hint := "a definition is NAME = EXPR, with a single name on the left"
+		if d, ok := st.(*DensityStmt); ok {
+			if _, call := d.Value.(*Call); call {
+				hint = "there are no user-defined functions; define a quantity instead, as NAME = EXPR"
+			}
+		}
+		p.fail(t.pos, hint, "unexpected '=': only a name can be defined")
 	case tokRParen:
 		p.fail(t.pos, "", "unexpected ')' with no '(' to close")
 	case tokRBrack:

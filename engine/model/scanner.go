@@ -264,5 +264,6 @@ var strayHint = map[rune]string{
 	'\'':     "the model language has no strings",
 	'<':      "there are no comparisons; give a support with param NAME in [LO, HI]",
 	'>':      "there are no comparisons; give a support with param NAME in [LO, HI]",
-	'\v':     "",
+	'\u00b2': "write x^2 for a power",
+	'\u00b3': "write x^3 for a power",
 }
