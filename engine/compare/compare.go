@@ -1,0 +1,524 @@
+package compare
+
+import (
+	"errors"
+	"fmt"
+	"math"
+
+	"gonum.org/v1/gonum/integrate/quad"
+	"gonum.org/v1/gonum/mat"
+	"gonum.org/v1/gonum/stat/distuv"
+
+	"bellcheck/engine/grid"
+	"bellcheck/engine/target"
+)
+
+// Gaussian is the approximation to compare, on the grid's scale.
+type Gaussian struct {
+	Mean []float64
+	Cov  *mat.SymDense
+}
+
+// Method says how KL(q||p) and the Hellinger distance were computed.
+type Method string
+
+const (
+	// OnGrid: by the grid's quadrature (q lies inside the box and the grid
+	// resolves it).
+	OnGrid Method = "grid"
+	// Cubature: by a Gauss-Hermite cubature adapted to q, with log p
+	// evaluated afresh and normalised by the grid's log Z, because q has
+	// mass outside the box or is too narrow for the grid.
+	Cubature Method = "cubature"
+	// BoundedSupport: KL(q||p) is +Inf because the support is bounded; the
+	// Hellinger distance is from the grid.
+	BoundedSupport Method = "bounded_support"
+)
+
+// Result is the comparison of one Gaussian with the exact density.
+type Result struct {
+	KLqp      float64 // KL(q||p); +Inf where q has mass where p is zero
+	KLpq      float64 // KL(p||q)
+	Hellinger float64 // sqrt(1 - integral of sqrt(p q)), in [0, 1]
+	// MeanErrSD is (mean of q - exact mean) / exact sd, per axis.
+	MeanErrSD []float64
+	// SDRatio is sd of q / exact sd, per axis.
+	SDRatio []float64
+	// Coverage95 is the exact mass inside q's central 95 % region
+	// {(z - m)' Cov^-1 (z - m) <= chi-square_d quantile 0.95}.
+	Coverage95 float64
+	// QMass is the grid's quadrature of q: 1 up to the rule's error when q
+	// lies inside the box and the grid resolves it.
+	QMass float64
+	// Method tells how KLqp and Hellinger were computed.
+	Method Method
+}
+
+// Settings of Compare. The zero value means the defaults.
+type Settings struct {
+	// Bounded reports that the support is bounded along some axis on the
+	// grid's scale, so that every Gaussian puts mass where p is zero.
+	Bounded bool
+	// Density is p itself, for the cubature used when q is not resolved on
+	// the grid; without it the grid's values are used regardless.
+	Density target.Density
+	// QMassTol is the largest |QMass - 1| for which the grid's values are
+	// used; 0 means 1e-6.
+	QMassTol float64
+	// Order is the number of Gauss-Hermite nodes per axis of the cubature;
+	// 0 means 64, 24, 12 and 8 for one to four parameters.
+	Order int
+}
+
+// ErrBadGaussian means a Gaussian of the wrong size or with a covariance
+// that is not positive definite.
+var ErrBadGaussian = errors.New("compare: bad Gaussian")
+
+// gaussianPrep holds what the per-node loop needs of one Gaussian.
+type gaussianPrep struct {
+	mean    []float64
+	prec    [][]float64 // inverse covariance
+	logNorm float64     // -d/2 log 2 pi - 1/2 log det Cov
+	logDet  float64
+	chol    mat.Cholesky
+	r0      float64 // sqrt of the chi-square 0.95 quantile
+	band    float64 // half-width of the smoothing band in sqrt(M)
+	step    float64 // largest change of sqrt(M) between neighbours
+	// resolved: the grid's spacing is at most 0.7 of q's conditional sd
+	// along every axis, where the trapezoid rule's error on q is below
+	// 1e-17 (its error is about 2 exp(-2 pi^2 sd^2 / h^2)).
+	resolved bool
+	// accumulators
+	qmass, klqp, bhat, cover float64
+	infinite               bool
+}
+
+func prepare(g *grid.Grid, q Gaussian) (*gaussianPrep, error) {
+	d := g.Dim
+	if len(q.Mean) != d || q.Cov == nil || q.Cov.SymmetricDim() != d {
+		return nil, fmt.Errorf("%w: dimension does not match the grid's %d", ErrBadGaussian, d)
+	}
+	for _, v := range q.Mean {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, fmt.Errorf("%w: mean %v", ErrBadGaussian, q.Mean)
+		}
+	}
+	gp := &gaussianPrep{mean: q.Mean}
+	if !gp.chol.Factorize(q.Cov) {
+		return nil, fmt.Errorf("%w: covariance not positive definite", ErrBadGaussian)
+	}
+	var inv mat.SymDense
+	if err := gp.chol.InverseTo(&inv); err != nil {
+		return nil, fmt.Errorf("%w: %v", ErrBadGaussian, err)
+	}
+	gp.prec = make([][]float64, d)
+	for i := range gp.prec {
+		gp.prec[i] = make([]float64, d)
+		for j := range gp.prec[i] {
+			gp.prec[i][j] = inv.At(i, j)
+		}
+	}
+	gp.logDet = gp.chol.LogDet()
+	gp.logNorm = -0.5*float64(d)*math.Log(2*math.Pi) - 0.5*gp.logDet
+	gp.r0 = math.Sqrt(distuv.ChiSquared{K: float64(d)}.Quantile(0.95))
+	s := 0.0
+	for k := 0; k < d; k++ {
+		h := g.Spacing(k)
+		s += h * h * gp.prec[k][k]
+	}
+	gp.band = math.Sqrt(float64(d)*s) / 2
+	for k := 0; k < d; k++ {
+		gp.step = math.Max(gp.step, g.Spacing(k)*math.Sqrt(gp.prec[k][k]))
+	}
+	gp.resolved = true
+	for k := 0; k < d; k++ {
+		if g.Spacing(k)*math.Sqrt(gp.prec[k][k]) > 0.7 {
+			gp.resolved = false
+		}
+	}
+	return gp, nil
+}
+
+// Compare compares each Gaussian in qs with the density on g, in one pass
+// over the grid. The mean and spread errors are relative to the grid's
+// fitting-scale moments.
+//
+// KL(p||q) = E_p[log p/Z] - E_p[log q] follows in closed form from the
+// grid's entropy, mean and covariance. KL(q||p), the Hellinger distance and
+// the coverage are quadratures over the nodes; the coverage smooths the
+// region's indicator across the cells its boundary cuts (the share of the
+// cell on the inner side of the linearised boundary) and removes the bias
+// of that smoothing to second order (see shareWithCurvature). Where q has more than QMassTol of its mass outside
+// the box, KL(q||p) comes from a Gauss-Hermite cubature in q's coordinates
+// instead, and where q is too narrow for the grid's spacing so does the
+// Hellinger distance (see Method).
+func Compare(g *grid.Grid, qs []Gaussian, s Settings) ([]Result, error) {
+	d := g.Dim
+	preps := make([]*gaussianPrep, len(qs))
+	for i, q := range qs {
+		gp, err := prepare(g, q)
+		if err != nil {
+			return nil, fmt.Errorf("gaussian %d: %w", i, err)
+		}
+		preps[i] = gp
+	}
+	logZ := g.Stats.LogZ
+	nLast := g.N[d-1]
+	zl := g.Nodes[d-1]
+	wl := g.Weights[d-1]
+	ix := make([]int, d)
+	r := make([]float64, d)
+	h := make([]float64, d)
+	for k := range h {
+		h[k] = g.Spacing(k)
+	}
+	for line := 0; line < len(g.LogP)/nLast; line++ {
+		g.Index(line*nLast, ix)
+		wo := 1.0
+		for k := 0; k < d-1; k++ {
+			wo *= g.Weights[k][ix[k]]
+		}
+		vals := g.LogP[line*nLast : (line+1)*nLast]
+		for _, gp := range preps {
+			// M(j) = A + B t + C t^2 with t = z_last - m_last.
+			P := gp.prec
+			A, B := 0.0, 0.0
+			for k := 0; k < d-1; k++ {
+				r[k] = g.Nodes[k][ix[k]] - gp.mean[k]
+			}
+			for k := 0; k < d-1; k++ {
+				A += P[k][k] * r[k] * r[k]
+				for l := k + 1; l < d-1; l++ {
+					A += 2 * P[k][l] * r[k] * r[l]
+				}
+				B += 2 * P[k][d-1] * r[k]
+			}
+			C := P[d-1][d-1]
+			ml := gp.mean[d-1]
+			lo2, hi2 := sq(math.Max(gp.r0-gp.band-gp.step, 0)), sq(gp.r0+gp.band+gp.step)
+			for j, v := range vals {
+				if math.IsNaN(v) || math.IsInf(v, 1) {
+					continue
+				}
+				t := zl[j] - ml
+				M := A + t*(B+C*t)
+				lq := gp.logNorm - M/2
+				lp := v - logZ
+				w := wo * wl[j]
+				if lq > -700 {
+					q := math.Exp(lq)
+					gp.qmass += w * q
+					if math.IsInf(v, -1) {
+						if q > 0 {
+							gp.infinite = true
+						}
+					} else {
+						gp.klqp += w * q * (lq - lp)
+						gp.bhat += w * math.Exp((lq+lp)/2)
+					}
+				}
+				if math.IsInf(v, -1) || lp < -745 {
+					continue
+				}
+				pm := w * math.Exp(lp)
+				switch {
+				case M <= lo2:
+					gp.cover += pm
+				case M < hi2:
+					r[d-1] = t
+					chi, corr := shareWithCurvature(h, P, r, M, gp.r0)
+					gp.cover += pm * (chi - corr)
+				}
+			}
+		}
+	}
+	out := make([]Result, len(qs))
+	tol := s.QMassTol
+	if tol <= 0 {
+		tol = 1e-6
+	}
+	for i, gp := range preps {
+		res := Result{QMass: gp.qmass, Coverage95: math.Min(gp.cover, 1), Method: OnGrid}
+		res.KLpq = klpq(g, gp)
+		res.KLqp = gp.klqp
+		res.Hellinger = math.Sqrt(math.Max(0, 1-gp.bhat))
+		if gp.infinite {
+			res.KLqp = math.Inf(1)
+		}
+		if (!gp.resolved || math.Abs(gp.qmass-1) > tol) && s.Density != nil {
+			kl, hel, err := cubature(s.Density, gp, logZ, s.Order)
+			if err != nil {
+				return nil, fmt.Errorf("gaussian %d: %w", i, err)
+			}
+			res.Method = Cubature
+			res.KLqp = kl
+			if !gp.resolved {
+				// Where q is resolved, sqrt(p q) is: the grid keeps the
+				// Hellinger distance even when q leaves the box, since p
+				// has no mass there.
+				res.Hellinger = hel
+			}
+		}
+		if s.Bounded {
+			res.KLqp = math.Inf(1)
+			res.Method = BoundedSupport
+		}
+		res.MeanErrSD = make([]float64, d)
+		res.SDRatio = make([]float64, d)
+		for k := 0; k < d; k++ {
+			sd := g.Stats.Fitting.SD[k]
+			res.MeanErrSD[k] = (qs[i].Mean[k] - g.Stats.Fitting.Mean[k]) / sd
+			res.SDRatio[k] = math.Sqrt(qs[i].Cov.At(k, k)) / sd
+		}
+		out[i] = res
+	}
+	return out, nil
+}
+
+func sq(x float64) float64 { return x * x }
+
+// cellShare returns the share of the cell around a node (offset r from q's
+// mean, Mahalanobis square M) inside the region M(z) <= r0^2. Along the
+// normal n of the region's boundary, a point u uniform in the cell has
+// s = n.u distributed as a sum of independent uniforms of widths |n_k| h_k,
+// whose distribution function is the volume of a box under a hyperplane, in
+// closed form. M is quadratic: M(z + u) = M + 2 (P r).u + u'Pu; the
+// tangential part of u'Pu is replaced by its mean over the cell (this
+// accounts for the boundary's curvature across the cell) and the normal
+// part s^2 n'Pn kept, so the share is F(s*) with s* the root of the
+// resulting quadratic in s (exact in one dimension).
+func cellShare(h []float64, P [][]float64, r []float64, M, r0 float64) float64 {
+	d := len(h)
+	var grad [4]float64
+	norm := 0.0
+	for k := 0; k < d; k++ {
+		gk := 0.0
+		for l := 0; l < d; l++ {
+			gk += P[k][l] * r[l]
+		}
+		grad[k] = 2 * gk
+		norm += grad[k] * grad[k]
+	}
+	norm = math.Sqrt(norm)
+	trPC := 0.0
+	for k := 0; k < d; k++ {
+		trPC += P[k][k] * h[k] * h[k] / 12
+	}
+	if norm == 0 {
+		if M+trPC <= r0*r0 {
+			return 1
+		}
+		return 0
+	}
+	var n, widths [4]float64
+	wmax, varS := 0.0, 0.0
+	for k := 0; k < d; k++ {
+		n[k] = grad[k] / norm
+		widths[k] = math.Abs(n[k]) * h[k]
+		wmax = math.Max(wmax, widths[k])
+		varS += widths[k] * widths[k] / 12
+	}
+	nPn := 0.0
+	for k := 0; k < d; k++ {
+		for l := 0; l < d; l++ {
+			nPn += n[k] * P[k][l] * n[l]
+		}
+	}
+	// s + a s^2 <= b.
+	qa := nPn / norm
+	qb := (r0*r0 - M - (trPC - nPn*varS)) / norm
+	disc := 1 + 4*qa*qb
+	if disc < 0 {
+		return 0
+	}
+	sStar := 2 * qb / (1 + math.Sqrt(disc))
+	// Drop widths too small to matter (and to divide by).
+	var a [4]float64
+	m := 0
+	for k := 0; k < d; k++ {
+		if widths[k] > 1e-6*wmax {
+			a[m] = widths[k]
+			m++
+		}
+	}
+	F, _ := uniformSumCDF(a[:m], sStar)
+	return F
+}
+
+// shareWithCurvature returns the smoothed indicator at a node, chi, and
+// sum_k (chi(+h_k) - 2 chi + chi(-h_k)) / 24, the node's part of the
+// correction below.
+//
+// Summing p times the cell-averaged indicator integrates p convolved with
+// the cell (a box kernel of variance h_k^2/12 per axis) over the region,
+// which is the region's mass plus sum_k h_k^2/24 times the integral of
+// d2p/dz_k2 over it, to second order; by parts, that integral is the sum of
+// p times the second difference of chi, which vanishes away from the
+// boundary. Subtracting it removes the second-order bias (a Gaussian
+// density falling across the boundary would otherwise be under-covered).
+func shareWithCurvature(h []float64, P [][]float64, r []float64, M, r0 float64) (chi, corr float64) {
+	d := len(h)
+	chi = cellShare(h, P, r, M, r0)
+	var rr [4]float64
+	copy(rr[:d], r)
+	for k := 0; k < d; k++ {
+		pr := 0.0
+		for l := 0; l < d; l++ {
+			pr += P[k][l] * r[l]
+		}
+		hk := h[k]
+		sum := -2 * chi
+		for _, sg := range [2]float64{1, -1} {
+			rr[k] = r[k] + sg*hk
+			Mn := M + sg*2*hk*pr + hk*hk*P[k][k]
+			sum += cellShare(h, P, rr[:d], math.Max(Mn, 0), r0)
+		}
+		rr[k] = r[k]
+		corr += sum / 24
+	}
+	return chi, corr
+}
+
+// uniformSumCDF returns F(s) = P(S <= s) and G(s) = integral of F up to s
+// for S the sum of independent uniforms on [-a_k/2, a_k/2]: with s measured
+// from the lower end, F(s) = sum over subsets T of (-1)^|T| (s - sum_T a)_+^n
+// / (n! prod a), and G the same with the power n+1 and (n+1)! (the volume
+// of a box under a hyperplane, by inclusion-exclusion).
+func uniformSumCDF(a []float64, s float64) (F, G float64) {
+	n := len(a)
+	total, prod := 0.0, 1.0
+	for _, v := range a {
+		total += v
+		prod *= v
+	}
+	t := s + total/2
+	if t <= 0 {
+		return 0, 0
+	}
+	if t >= total {
+		return 1, t - total/2
+	}
+	fact := 1.0
+	for i := 2; i <= n; i++ {
+		fact *= float64(i)
+	}
+	for mask := 0; mask < 1<<n; mask++ {
+		u := t
+		sign := 1.0
+		for k := 0; k < n; k++ {
+			if mask&(1<<k) != 0 {
+				u -= a[k]
+				sign = -sign
+			}
+		}
+		if u <= 0 {
+			continue
+		}
+		pn := math.Pow(u, float64(n))
+		F += sign * pn
+		G += sign * pn * u
+	}
+	F /= fact * prod
+	G /= fact * float64(n+1) * prod
+	return F, G
+}
+
+// klpq returns KL(p||q) = E_p[log p/Z] - E_p[log q] from the grid's entropy
+// and moments.
+func klpq(g *grid.Grid, gp *gaussianPrep) float64 {
+	d := g.Dim
+	st := &g.Stats
+	mu := st.Fitting.Mean
+	C := st.Fitting.Cov
+	tr, quadForm := 0.0, 0.0
+	for k := 0; k < d; k++ {
+		for l := 0; l < d; l++ {
+			tr += gp.prec[k][l] * C[l][k]
+			quadForm += (mu[k] - gp.mean[k]) * gp.prec[k][l] * (mu[l] - gp.mean[l])
+		}
+	}
+	eLogQ := gp.logNorm - 0.5*(tr+quadForm)
+	eLogP := st.ExpectedLogP - st.LogZ
+	return math.Max(0, eLogP-eLogQ)
+}
+
+// cubature returns KL(q||p) and the Hellinger distance by a tensor
+// Gauss-Hermite rule in q's coordinates z = m + sqrt(2) L u, with p
+// normalised by the grid's log Z.
+func cubature(p target.Density, gp *gaussianPrep, logZ float64, order int) (kl, hel float64, err error) {
+	d := len(gp.mean)
+	if order <= 0 {
+		order = [...]int{64, 24, 12, 8}[min(d, 4)-1]
+	}
+	u := make([]float64, order)
+	wu := make([]float64, order)
+	quad.Hermite{}.FixedLocations(u, wu, math.Inf(-1), math.Inf(1))
+	var L mat.TriDense
+	gp.chol.LTo(&L)
+	n := 1
+	for k := 0; k < d; k++ {
+		n *= order
+	}
+	cols := make([][]float64, d)
+	for k := range cols {
+		cols[k] = make([]float64, n)
+	}
+	wts := make([]float64, n)
+	lqs := make([]float64, n)
+	idx := make([]int, d)
+	norm := math.Pow(math.Pi, -float64(d)/2)
+	for i := 0; i < n; i++ {
+		rem := i
+		w := norm
+		m2 := 0.0
+		for k := d - 1; k >= 0; k-- {
+			idx[k] = rem % order
+			rem /= order
+			w *= wu[idx[k]]
+			m2 += 2 * u[idx[k]] * u[idx[k]]
+		}
+		for k := 0; k < d; k++ {
+			s := gp.mean[k]
+			for l := 0; l <= k; l++ {
+				s += L.At(k, l) * math.Sqrt2 * u[idx[l]]
+			}
+			cols[k][i] = s
+		}
+		wts[i] = w
+		lqs[i] = gp.logNorm - m2/2
+	}
+	out := make([]float64, n)
+	p.LogDensityBlock(cols, out)
+	eLogP, bhat := 0.0, 0.0
+	for i, v := range out {
+		switch {
+		case math.IsInf(v, -1):
+			return math.Inf(1), hellingerOnly(out, wts, lqs, logZ), nil
+		case math.IsNaN(v) || math.IsInf(v, 1):
+			return math.NaN(), math.NaN(), fmt.Errorf("compare: log p is %g at %v", v, pointAt(cols, i))
+		}
+		eLogP += wts[i] * (v - logZ)
+		bhat += wts[i] * math.Exp((v-logZ-lqs[i])/2)
+	}
+	entropy := 0.5*float64(d)*(1+math.Log(2*math.Pi)) + 0.5*gp.logDet
+	kl = math.Max(0, -entropy-eLogP)
+	return kl, math.Sqrt(math.Max(0, 1-bhat)), nil
+}
+
+func hellingerOnly(out, wts, lqs []float64, logZ float64) float64 {
+	bhat := 0.0
+	for i, v := range out {
+		if !math.IsInf(v, -1) && !math.IsNaN(v) {
+			bhat += wts[i] * math.Exp((v-logZ-lqs[i])/2)
+		}
+	}
+	return math.Sqrt(math.Max(0, 1-bhat))
+}
+
+func pointAt(cols [][]float64, i int) []float64 {
+	x := make([]float64, len(cols))
+	for k := range cols {
+		x[k] = cols[k][i]
+	}
+	return x
+}
