@@ -90,7 +90,7 @@ type gaussianPrep struct {
 	resolved bool
 	// accumulators
 	qmass, klqp, bhat, cover float64
-	infinite               bool
+	infinite                 bool
 }
 
 func prepare(g *grid.Grid, q Gaussian) (*gaussianPrep, error) {
