@@ -177,16 +177,8 @@ func (c *checker) addParam(name string, at Pos, declared bool) int {
 			names[i] = p.Name
 		}
 		hint := "a name that is neither defined nor declared is a parameter; check for a misspelt name"
-		if !declared {
-			var cands []string
-			for n := range c.defs {
-				cands = append(cands, n)
-			}
-			sort.Strings(cands)
-			cands = append(cands, names...)
-			if s := suggest(name, cands); len(s) > 0 {
-				hint += "; " + didYouMean(s)
-			}
+		if typos := c.likelyTypos(name, declared); typos != "" {
+			hint += ": " + typos
 		}
 		c.errs.add(at, hint, "too many parameters: %s would be the %s, and a model has at most %d (%s)",
 			name, ordinal(idx+1), c.lim.maxParams, strings.Join(names, ", "))
@@ -194,6 +186,36 @@ func (c *checker) addParam(name string, at Pos, declared bool) int {
 	c.params[name] = idx
 	c.m.Params = append(c.m.Params, Param{Name: name, Lo: math.Inf(-1), Hi: math.Inf(1), Declared: declared, At: at})
 	return idx
+}
+
+// likelyTypos lists the implicit parameters so far, and name when it is
+// implicit too, that are near the name of a definition or of another
+// parameter: "muu (did you mean mu?), sgma (did you mean sigma?)".
+func (c *checker) likelyTypos(name string, declared bool) string {
+	var known []string
+	for n := range c.defAt {
+		known = append(known, n)
+	}
+	for _, p := range c.m.Params {
+		known = append(known, p.Name)
+	}
+	sort.Strings(known)
+	var implicit []string
+	for _, p := range c.m.Params {
+		if !p.Declared {
+			implicit = append(implicit, p.Name)
+		}
+	}
+	if !declared {
+		implicit = append(implicit, name)
+	}
+	var out []string
+	for _, n := range implicit {
+		if s := suggest(n, known); len(s) > 0 {
+			out = append(out, n+" ("+didYouMean(s)+")")
+		}
+	}
+	return strings.Join(out, ", ")
 }
 
 func ordinal(n int) string {

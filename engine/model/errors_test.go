@@ -40,7 +40,8 @@ var invalidModels = []struct {
 	{"no parameters", "2 + 3", "1:1: the model has no parameters", "param NAME"},
 	{"five implicit parameters", "a+b+c+d+e", "1:9: too many parameters: e would be the fifth, and a model has at most 4 (a, b, c, d)", "misspelt"},
 	{"five declared parameters", "param a; param b; param c; param d; param e\na+b+c+d+e", "1:43: too many parameters: e would be the fifth, and a model has at most 4 (a, b, c, d)", ""},
-	{"misspelt name as a fifth parameter", "param sigma in [0, inf]\nparam mu\nparam nu\nparam w\nld_normal(w, mu, sigmaa) + nu", "5:18: too many parameters: sigmaa would be the fifth, and a model has at most 4 (sigma, mu, nu, w)", "did you mean sigma?"},
+	{"misspelt name as a fifth parameter", "param sigma in [0, inf]\nparam mu\nparam nu\nparam w\nld_normal(w, mu, sigmaa) + nu", "5:18: too many parameters: sigmaa would be the fifth, and a model has at most 4 (sigma, mu, nu, w)", "check for a misspelt name: sigmaa (did you mean sigma?)"},
+	{"misspelt names among implicit parameters", "param sigma in [0, inf]\nmu = 1\nld_normal(x, muu, sigma) + ld_normal(y, mu, sgma)", "3:45: too many parameters: sgma would be the fifth, and a model has at most 4 (sigma, x, muu, y)", "misspelt name: muu (did you mean mu?), sgma (did you mean sigma?)"},
 
 	// Shapes.
 	{"shape mismatch", "t = [1, 2, 3]\nu = [1, 2]\nsum(t * u) + a", "3:7: vector lengths differ in '*': the left side has 3 elements, the right side 2", ""},
