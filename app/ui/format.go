@@ -1,0 +1,46 @@
+package ui
+
+import (
+	"math"
+
+	"bellcheck/app/plot"
+)
+
+// fmtNum formats a number with 4 significant digits ("—" for NaN).
+func fmtNum(v float64) string { return plot.FormatNumber(v, 4) }
+
+// fmtScaled formats v with enough digits to show it to about a thousandth
+// of scale (a standard deviation, say): 1000.123 with scale 0.01 keeps its
+// decimals, 0.5123 with scale 2 does not need five.
+func fmtScaled(v, scale float64) string {
+	if math.IsNaN(v) || math.IsInf(v, 0) || v == 0 || !(scale > 0) || math.IsInf(scale, 0) {
+		return fmtNum(v)
+	}
+	sig := int(math.Floor(math.Log10(math.Abs(v)))-math.Floor(math.Log10(scale))) + 3
+	return plot.FormatNumber(v, max(2, min(sig, 12)))
+}
+
+// fmtPercent formats a share as a percentage with one decimal.
+func fmtPercent(v float64) string {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return plot.FormatNumber(v, 3)
+	}
+	return plot.FormatNumber(math.Round(v*1000)/10, 4) + " %"
+}
+
+// fmtErr formats an error estimate as "±1.2e−5" (empty when not finite).
+func fmtErr(v float64) string {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return ""
+	}
+	return "±" + plot.FormatNumber(math.Abs(v), 2)
+}
+
+// fmtSigned formats v with an explicit sign.
+func fmtSigned(v float64, sig int) string {
+	s := plot.FormatNumber(v, sig)
+	if v > 0 {
+		return "+" + s
+	}
+	return s
+}

@@ -1,0 +1,438 @@
+package ui
+
+import (
+	"context"
+	"math"
+	"sort"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/maxence-charriere/go-app/v10/pkg/app"
+
+	"bellcheck/app/examples"
+	"bellcheck/app/jsdom"
+	"bellcheck/app/plot"
+	"bellcheck/engine"
+	"bellcheck/engine/model"
+)
+
+// Timing of the page's reactions.
+const (
+	// CheckDelay is how long the page waits after a keystroke before it
+	// checks the text (so a burst of typing is checked once).
+	CheckDelay = 150 * time.Millisecond
+	// ProgressDelay is how long an analysis runs before its progress bar
+	// shows.
+	ProgressDelay = 300 * time.Millisecond
+	// SliceLength is how long the analysis works before it lets the
+	// browser run (Go in WebAssembly is not preemptive).
+	SliceLength = 20 * time.Millisecond
+	// reportEvery limits progress updates of the page.
+	reportEvery = 80 * time.Millisecond
+)
+
+// AnalyseFunc runs an analysis; engine.Analyse is the page's.
+type AnalyseFunc func(context.Context, *model.Model, engine.Options, engine.ProgressFunc) (*engine.Result, error)
+
+// Page is the calculator: editor, parameters and gallery on one side,
+// diagnostics, plots and the results table on the other.
+type Page struct {
+	app.Compo
+
+	s        Session
+	initial  string // the editor's text when the page was built
+	text     string // the editor's current text
+	editSeq  int
+	pending  bool
+	example  string
+	cancel   context.CancelFunc
+	view     View
+	figs     *FigureSet
+	sections []Section
+	progress bool
+
+	// analyse runs analyses (engine.Analyse unless a test sets it).
+	analyse AnalyseFunc
+}
+
+// NewPage returns the page with the default example loaded.
+func NewPage() *Page {
+	p := &Page{}
+	p.init()
+	return p
+}
+
+// OnInit loads the default example (on the server too, so the pre-rendered
+// page shows it).
+func (p *Page) OnInit() { p.init() }
+
+func (p *Page) init() {
+	if p.initial != "" {
+		return
+	}
+	ex, ok := examples.ByID(examples.Default)
+	if !ok {
+		ex = examples.All[0]
+	}
+	p.example, p.initial, p.text = ex.ID, ex.Source, ex.Source
+	p.s.Edit(ex.Source)
+}
+
+// OnMount starts the first analysis in the browser.
+func (p *Page) OnMount(ctx app.Context) { p.start(ctx) }
+
+// OnDismount stops a running analysis.
+func (p *Page) OnDismount() {
+	if p.cancel != nil {
+		p.cancel()
+	}
+}
+
+// Session returns the page's state (for tests and the share/export parts).
+func (p *Page) Session() *Session { return &p.s }
+
+// Input implements Host: it records the text and checks it once typing
+// pauses for CheckDelay.
+func (p *Page) Input(ctx app.Context, text string) {
+	if text == p.text {
+		return
+	}
+	p.text, p.example, p.pending = text, "", true
+	p.editSeq++
+	seq := p.editSeq
+	ctx.After(CheckDelay, func(ctx app.Context) {
+		if seq == p.editSeq {
+			p.check(ctx)
+		}
+	})
+}
+
+// check checks the editor's text and starts an analysis when it is valid;
+// while it is not, a running analysis stops and the last results stay
+// shown, dimmed.
+func (p *Page) check(ctx app.Context) {
+	p.pending = false
+	if p.s.Edit(p.text) {
+		p.start(ctx)
+		return
+	}
+	if p.cancel != nil {
+		p.cancel()
+		p.cancel = nil
+	}
+	p.s.Cancel()
+	p.progress = false
+}
+
+// SetParam implements Host.
+func (p *Page) SetParam(ctx app.Context, name string, o engine.ParamOptions) {
+	p.s.SetParam(name, o)
+	if p.s.Model != nil && !p.pending {
+		p.start(ctx)
+	}
+}
+
+// LoadExample implements Host.
+func (p *Page) LoadExample(ctx app.Context, id string) {
+	ex, ok := examples.ByID(id)
+	if !ok {
+		return
+	}
+	p.editSeq++ // drop a pending check of the old text
+	p.pending = false
+	p.text, p.example = ex.Source, ex.ID
+	_ = jsdom.SetValue(EditorID, ex.Source) // natively there is no editor to set
+	p.check(ctx)
+}
+
+// SetView implements Host.
+func (p *Page) SetView(ctx app.Context, log bool, hidden [5]bool) {
+	p.view = View{Log: log, Hidden: hidden}
+	p.figs = BuildFigures(p.s.Result, p.view)
+}
+
+// start cancels the running analysis and starts one for the current model.
+// The analysis runs on its own goroutine and yields to the browser every
+// SliceLength from its progress callback; its result is accepted only if no
+// newer analysis was requested meanwhile.
+func (p *Page) start(ctx app.Context) {
+	if p.cancel != nil {
+		p.cancel()
+		p.cancel = nil
+	}
+	run, ok := p.s.Begin(time.Now())
+	if !ok {
+		return
+	}
+	actx, cancel := context.WithCancel(context.Background())
+	p.cancel = cancel
+	p.progress = false
+	analyse := p.analyse
+	if analyse == nil {
+		analyse = engine.Analyse
+	}
+	view := p.view
+	ctx.After(ProgressDelay, func(ctx app.Context) {
+		if p.s.Gen == run.Gen && p.s.Running {
+			p.progress = true
+		}
+	})
+	ctx.Async(func() {
+		began := time.Now()
+		y := newYielder(SliceLength)
+		var lastReport time.Time
+		res, err := analyse(actx, run.Model, run.Options, func(pr engine.Progress) {
+			y.Yield()
+			if now := time.Now(); now.Sub(lastReport) >= reportEvery {
+				lastReport = now
+				ctx.Dispatch(func(ctx app.Context) { p.s.Report(run.Gen, pr) })
+			}
+		})
+		var figs *FigureSet
+		var secs []Section
+		if err == nil && res != nil && actx.Err() == nil {
+			y.Yield()
+			figs = BuildFigures(res, view)
+			y.Yield()
+			secs = Table(res, run.Model)
+		}
+		y.Yield()
+		elapsed, longest := time.Since(began), y.Longest()
+		ctx.Dispatch(func(ctx app.Context) {
+			if !p.s.Finish(run, res, err, elapsed, longest) {
+				return
+			}
+			p.progress = false
+			if err == nil && res != nil {
+				if p.view != view {
+					figs = BuildFigures(res, p.view)
+				}
+				p.figs, p.sections = figs, secs
+			}
+		})
+	})
+}
+
+// Render draws the page.
+func (p *Page) Render() app.UI {
+	stale := p.s.Stale()
+	return app.Div().Class("page").Body(
+		p.header(),
+		app.Main().Class("layout").Body(
+			app.Section().Class("col-input").Aria("label", "Model and settings").Body(
+				card("Model", "bc-h-model",
+					&Editor{Host: p, Initial: p.initial, Text: p.text, Checked: p.s.Source, Errors: p.s.Errors, Pending: p.pending}),
+				card("Parameters", "bc-h-params", &ParamPanel{Host: p, Params: ParamViews(&p.s)}),
+				card("Examples", "bc-h-examples", &Gallery{Host: p, Current: p.example}),
+			),
+			app.Section().Class("col-output").Aria("label", "Results").Body(
+				card("Diagnostics", "bc-h-diag", p.diagnostics(stale)),
+				card("Plots", "bc-h-plots", &PlotPanel{Host: p, Set: p.figs, View: p.view, Stale: stale}),
+				card("Results", "bc-h-results", &ResultsTable{Sections: p.sections, Stale: stale}),
+				card("Modes and grid", "bc-h-modes", p.modesAndGrid(stale)),
+			),
+		),
+		p.footer(),
+	)
+}
+
+func card(title, id string, body ...app.UI) app.UI {
+	return app.Section().Class("card").Aria("labelledby", id).Body(
+		append([]app.UI{app.H2().ID(id).Text(title)}, body...)...,
+	)
+}
+
+func (p *Page) header() app.UI {
+	return app.Header().Class("top").Body(
+		app.Div().Class("brand").Body(
+			app.Raw(`<svg class="logo" viewBox="0 0 32 32" width="26" height="26" aria-hidden="true" focusable="false"><path d="M2 27 C8 27 10 6 16 6 C22 6 24 27 30 27" fill="none" stroke="#1d3b53" stroke-width="2.4"/><path d="M4 27 C9 27 11 11 16 11 C21 11 23 27 28 27" fill="none" stroke="#c36121" stroke-width="1.6" stroke-dasharray="3 2"/></svg>`),
+			app.Span().Class("wordmark").Text("bellcheck"),
+			app.Span().Class("tagline").Text("the exact posterior beside its Gaussian approximations"),
+		),
+		p.runStatus(),
+	)
+}
+
+func (p *Page) runStatus() app.UI {
+	st := app.Div().Class("run-status").Attr("role", "status")
+	switch {
+	case p.s.Running && p.progress:
+		frac := math.Max(0, math.Min(1, p.s.Progress.Fraction))
+		stage := p.s.Progress.Stage
+		if stage == "" {
+			stage = "starting"
+		}
+		return st.Body(
+			app.Label().For("bc-progress").Text("analysing: "+stageName(stage)),
+			app.Progress().ID("bc-progress").Max(1).Value(strconv.FormatFloat(frac, 'f', 3, 64)),
+		)
+	case p.s.Running:
+		return st.Body(app.Span().Class("muted").Text("analysing…"))
+	case p.pending:
+		return st.Body(app.Span().Class("muted").Text("editing…"))
+	case p.s.Errors != nil:
+		return st.Body(app.Span().Class("warn-text").Text("the model has errors: results shown are for the last valid model"))
+	case p.s.RunErr != nil:
+		return st.Body(app.Span().Class("warn-text").Text("the analysis failed"))
+	case p.s.Result != nil:
+		return st.Body(app.Span().Class("muted").Text(
+			"analysed in " + fmtMillis(p.s.Elapsed) + ", working in slices of at most " + fmtMillis(p.s.LongestSlice)))
+	}
+	return st
+}
+
+func stageName(s string) string {
+	switch s {
+	case "grid":
+		return "exact density on the grid"
+	case "modes":
+		return "searching modes"
+	case "laplace":
+		return "Laplace fit"
+	case "reverse_kl":
+		return "reverse-KL fit"
+	case "mean_field":
+		return "mean-field fit"
+	case "forward_kl":
+		return "moment matching"
+	case "compare":
+		return "comparing"
+	case "plots":
+		return "plots"
+	}
+	return strings.ReplaceAll(s, "_", " ")
+}
+
+func fmtMillis(d time.Duration) string {
+	ms := float64(d) / float64(time.Millisecond)
+	if ms < 10 {
+		return strconv.FormatFloat(ms, 'f', 1, 64) + " ms"
+	}
+	return strconv.FormatFloat(math.Round(ms), 'f', 0, 64) + " ms"
+}
+
+func (p *Page) diagnostics(stale bool) app.UI {
+	var items []engine.Diagnostic
+	if p.s.Result != nil {
+		items = p.s.Result.Diagnostics
+	}
+	var extra []app.UI
+	if p.s.RunErr != nil {
+		extra = append(extra, app.P().Class("diag diag-error").Body(
+			app.Span().Class("diag-icon").Aria("hidden", "true").Text("■"),
+			app.Span().Class("diag-sev").Text("error: "),
+			app.Text("The analysis failed: "+p.s.RunErr.Error()),
+		))
+	}
+	if p.s.Result == nil {
+		if len(extra) > 0 {
+			return app.Div().Body(extra...)
+		}
+		return app.P().Class("muted").Text("Diagnostics appear here once the analysis has run.")
+	}
+	return app.Div().Body(append(extra, &Diagnostics{Items: items, Stale: stale})...)
+}
+
+func (p *Page) modesAndGrid(stale bool) app.UI {
+	r := p.s.Result
+	if r == nil {
+		return app.P().Class("muted").Text("The modes and the grid appear here once the analysis has run.")
+	}
+	var box []string
+	for i := range r.Params {
+		if i < len(r.Grid.Lo) && i < len(r.Grid.Hi) && i < len(r.Grid.Points) {
+			box = append(box, r.Params[i]+" ∈ ["+plot.FormatNumber(r.Grid.Lo[i], 4)+", "+plot.FormatNumber(r.Grid.Hi[i], 4)+"] × "+strconv.Itoa(r.Grid.Points[i]))
+		}
+	}
+	stages := make([]string, 0, len(r.Timing.Stages))
+	for k := range r.Timing.Stages {
+		stages = append(stages, k)
+	}
+	sort.Strings(stages)
+	var st []string
+	for _, k := range stages {
+		st = append(st, stageName(k)+" "+fmtMillis(time.Duration(r.Timing.Stages[k]*float64(time.Millisecond))))
+	}
+	cls := "modes-grid"
+	if stale {
+		cls += " stale"
+	}
+	return app.Div().Class(cls).Body(
+		&Modes{Params: r.Params, Items: r.Modes},
+		app.Dl().Class("facts").Body(
+			app.Dt().Text("grid"), app.Dd().Text(strings.Join(box, "; ")+" points"),
+			app.Dt().Text("mass in the edge layer"), app.Dd().Text(plot.FormatNumber(r.Grid.EdgeMass, 2)+" (largest over the faces)"),
+			app.Dt().Text("grid points where log p is undefined"), app.Dd().Text(fmtPercent(r.Grid.NonFinite)),
+			app.Dt().Text("log Z error estimate"), app.Dd().Text(fmtErr(r.Exact.LogZErr)+" (change from half resolution)"),
+			app.Dt().Text("engine time"), app.Dd().Text(fmtMillis(time.Duration(r.Timing.Total*float64(time.Millisecond)))+
+				app.FormatString(" (%s)", strings.Join(st, ", "))),
+		),
+	)
+}
+
+func (p *Page) footer() app.UI {
+	names := model.FuncNames()
+	rows := make([]app.UI, 0, len(names))
+	for _, n := range names {
+		f := model.Funcs[n]
+		rows = append(rows, app.Tr().Body(
+			app.Td().Class("mono").Text(f.Name+"("+f.Args+")"),
+			app.Td().Text(f.Doc),
+		))
+	}
+	return app.Footer().Class("foot").Body(
+		app.P().Class("caution").Body(
+			app.Strong().Text("Caution. "),
+			app.Text("Every number here is a numerical approximation, computed on a grid with the error estimates shown. "+
+				"If a result feeds a consequential decision, check it with a full inference method."),
+		),
+		app.Details().Class("lang-ref").Body(
+			app.Summary().Text("Model language"),
+			app.Pre().Class("mono syntax").Text(
+				"param NAME                 declare a parameter (fixes the order)\n"+
+					"param NAME in [LO, HI]     ... with a support (LO may be -inf, HI inf)\n"+
+					"NAME = EXPR                a constant, data vector or intermediate quantity\n"+
+					"EXPR                       the log-density (natural log, up to a constant)\n"+
+					"cost EXPR                  or the cost: the negative log-density\n"+
+					"# comment                  one statement per line, or separated by ';'"),
+			app.Div().Class("table-scroll").Body(app.Table().Class("funcs").Body(
+				app.Caption().Class("sr-only").Text("Functions of the model language"),
+				app.THead().Body(app.Tr().Body(app.Th().Scope("col").Text("function"), app.Th().Scope("col").Text("computes"))),
+				app.TBody().Body(rows...),
+			)),
+		),
+	)
+}
+
+// yielder lets the browser run between slices of work: Go compiled to
+// WebAssembly runs on the page's only thread and is not preemptive, so a
+// long computation must pause itself. A pause of a millisecond hands control
+// to the browser's event loop (every goroutine is then blocked). It also
+// measures the longest slice.
+type yielder struct {
+	every   time.Duration
+	last    time.Time
+	longest time.Duration
+}
+
+func newYielder(every time.Duration) *yielder {
+	return &yielder{every: every, last: time.Now()}
+}
+
+// Yield pauses when the current slice has run for at least every.
+func (y *yielder) Yield() {
+	d := time.Since(y.last)
+	if d < y.every {
+		return
+	}
+	y.longest = max(y.longest, d)
+	time.Sleep(time.Millisecond)
+	y.last = time.Now()
+}
+
+// Longest returns the longest slice measured so far, including the one
+// running now.
+func (y *yielder) Longest() time.Duration {
+	return max(y.longest, time.Since(y.last))
+}

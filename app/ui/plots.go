@@ -1,0 +1,137 @@
+package ui
+
+import (
+	"github.com/maxence-charriere/go-app/v10/pkg/app"
+
+	"bellcheck/app/plot"
+)
+
+// PlotPanel shows a result's plots with their legend and view controls.
+type PlotPanel struct {
+	app.Compo
+	Host  Host
+	Set   *FigureSet
+	View  View
+	Stale bool
+}
+
+// Render draws the legend, then the plot or the pair grid.
+func (pp *PlotPanel) Render() app.UI {
+	fs := pp.Set
+	if fs == nil {
+		return app.P().Class("muted").Text("Plots appear here once the analysis has run.")
+	}
+	cls := "plots"
+	if pp.Stale {
+		cls += " stale"
+	}
+	var body app.UI
+	switch {
+	case fs.Main != nil && fs.Dim == 1:
+		body = &FigureView{Panel: fs.Main, Caption: "Marginal density of " + fs.Names[0] + ": exact (shaded) and each fit."}
+	case fs.Main != nil:
+		body = &FigureView{Panel: fs.Main, Caption: "Joint density of " + fs.Names[0] + " and " + fs.Names[1] +
+			": exact density shaded, lines enclosing 39, 86 and 99 % of each method's mass; marginals along the edges."}
+	case fs.Grid != nil:
+		body = pp.grid(fs)
+	default:
+		body = app.P().Class("muted").Text("The result has nothing to draw.")
+	}
+	return app.Div().Class(cls).Body(pp.legend(fs), body)
+}
+
+func (pp *PlotPanel) grid(fs *FigureSet) app.UI {
+	d := fs.Dim
+	cells := make([]app.UI, 0, d*d)
+	for row := range d {
+		for col := range d {
+			p := fs.Grid[row][col]
+			switch {
+			case row < col:
+				cells = append(cells, pp.corrCell(fs, col, row))
+			case p == nil:
+				cells = append(cells, app.Div().Class("gcell muted").Text("—"))
+			case row == col:
+				cells = append(cells, app.Div().Class("gcell").Body(
+					app.Div().Class("gtitle").Text(fs.Names[col]),
+					&FigureView{Panel: p, Compact: true, Caption: "Marginal of " + fs.Names[col]}))
+			default:
+				cells = append(cells, app.Div().Class("gcell").Body(
+					app.Div().Class("gtitle").Text(fs.Names[col]+" → , "+fs.Names[row]+" ↑"),
+					&FigureView{Panel: p, Compact: true, Caption: fs.Names[col] + " across, " + fs.Names[row] + " up"}))
+			}
+		}
+	}
+	return app.Div().Class("pair-grid-scroll").Body(
+		app.Div().Class("pair-grid").Style("grid-template-columns", "repeat("+itoa(d)+", minmax(150px, 1fr))").Body(cells...))
+}
+
+// corrCell fills the upper triangle with the pair's correlations by method,
+// in the methods' colours.
+func (pp *PlotPanel) corrCell(fs *FigureSet, i, j int) app.UI {
+	r := fs.Result
+	rows := []app.UI{app.Div().Class("gtitle").Text("corr(" + fs.Names[i] + ", " + fs.Names[j] + ")")}
+	for _, m := range plot.Methods {
+		var c float64
+		if m == plot.Exact {
+			c = at2(r.Exact.Corr, i, j)
+		} else if f := fitOf(r, m); f != nil {
+			c = at2(f.Corr, i, j)
+		} else {
+			continue
+		}
+		rows = append(rows, app.Div().Class("corr-line").Body(
+			swatch(m), app.Span().Class("mname").Text(plot.StyleOf(m).Name), app.Span().Class("num").Text(plot.FormatNumber(c, 3))))
+	}
+	return app.Div().Class("gcell corr").Body(rows...)
+}
+
+func (pp *PlotPanel) legend(fs *FigureSet) app.UI {
+	items := make([]app.UI, 0, len(plot.Methods)+1)
+	for _, m := range plot.Methods {
+		m := m
+		s := plot.StyleOf(m)
+		id := "bc-show-" + s.Key
+		items = append(items, app.Label().For(id).Class("legend-item").Title(s.Long).Body(
+			app.Input().Type("checkbox").ID(id).Checked(!pp.View.Hidden[m]).
+				OnChange(func(ctx app.Context, e app.Event) {
+					v := pp.View
+					v.Hidden[m] = !ctx.JSSrc().Get("checked").Bool()
+					pp.Host.SetView(ctx, v.Log, v.Hidden)
+				}),
+			swatch(m),
+			app.Span().Text(s.Name),
+		))
+	}
+	hasOneD := fs.Dim == 1 || fs.Dim >= 3
+	if hasOneD {
+		items = append(items, app.Label().For("bc-log").Class("legend-item log-toggle").Body(
+			app.Input().Type("checkbox").ID("bc-log").Checked(pp.View.Log).
+				OnChange(func(ctx app.Context, e app.Event) {
+					pp.Host.SetView(ctx, ctx.JSSrc().Get("checked").Bool(), pp.View.Hidden)
+				}),
+			app.Span().Text("log density"),
+		))
+	}
+	note := ""
+	if fs.Dim >= 2 {
+		note = "Shading: exact density. Lines enclose 39, 86 and 99 % of each method's mass (1, 2 and 3 sd for a Gaussian)."
+	}
+	return app.Div().Class("legend").Body(
+		app.FieldSet().Class("legend-set").Body(
+			app.Legend().Class("sr-only").Text("Methods shown in the plots"),
+			app.Div().Class("legend-items").Body(items...),
+		),
+		app.If(note != "", func() app.UI { return app.P().Class("legend-note").Text(note) }),
+	)
+}
+
+func itoa(n int) string {
+	if n < 0 {
+		return "-" + itoa(-n)
+	}
+	if n < 10 {
+		return string(rune('0' + n))
+	}
+	return itoa(n/10) + string(rune('0'+n%10))
+}

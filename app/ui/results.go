@@ -1,0 +1,186 @@
+package ui
+
+import (
+	"strconv"
+	"strings"
+
+	"github.com/maxence-charriere/go-app/v10/pkg/app"
+
+	"bellcheck/app/plot"
+	"bellcheck/engine"
+)
+
+// swatch is a short line sample in a method's colour and dash, the same as
+// in the plots.
+func swatch(m plot.Method) app.UI {
+	s := plot.StyleOf(m)
+	dash := ""
+	if s.Dash != "" {
+		dash = ` stroke-dasharray="` + s.Dash + `"`
+	}
+	return app.Raw(`<svg class="swatch" viewBox="0 0 28 8" width="28" height="8" aria-hidden="true" focusable="false"><line x1="1" y1="4" x2="27" y2="4" stroke="` +
+		s.Colour + `" stroke-width="` + strconv.FormatFloat(s.Width*1.1, 'f', 2, 64) + `"` + dash + `/></svg>`)
+}
+
+// ResultsTable shows the exact density and each fit side by side.
+type ResultsTable struct {
+	app.Compo
+	Sections []Section
+	// Stale dims the table when it belongs to an older model.
+	Stale bool
+}
+
+// Render draws the table.
+func (t *ResultsTable) Render() app.UI {
+	if len(t.Sections) == 0 {
+		return app.P().Class("muted").Text("Results appear here once the analysis has run.")
+	}
+	head := []app.UI{app.Th().Scope("col").Class("rlabel").Text("")}
+	for _, m := range plot.Methods {
+		s := plot.StyleOf(m)
+		head = append(head, app.Th().Scope("col").Class("mcol").Title(s.Long).Body(
+			swatch(m), app.Span().Class("mname").Text(s.Name)))
+	}
+	var bodies []app.UI
+	for _, sec := range t.Sections {
+		rows := []app.UI{app.Tr().Class("sec").Body(
+			app.Th().Scope("rowgroup").ColSpan(6).Text(sec.Title))}
+		for _, r := range sec.Rows {
+			cells := []app.UI{app.Th().Scope("row").Class("rlabel").Title(r.Hint).Text(r.Label)}
+			for _, m := range plot.Methods {
+				cells = append(cells, cell(r.Cells[m]))
+			}
+			rows = append(rows, app.Tr().Body(cells...))
+		}
+		bodies = append(bodies, app.TBody().Body(rows...))
+	}
+	cls := "results"
+	if t.Stale {
+		cls += " stale"
+	}
+	return app.Div().Class("table-scroll").Body(
+		app.Table().Class(cls).Body(
+			app.Caption().Class("sr-only").Text("Exact posterior and Gaussian fits side by side; ● marks the fit closest to the exact value in each row."),
+			app.THead().Body(app.Tr().Body(head...)),
+			app.Range(bodies).Slice(func(i int) app.UI { return bodies[i] }),
+		),
+		app.P().Class("table-key").Body(
+			app.Span().Class("best-dot").Text("●"),
+			app.Text(" closest to the exact value in its row. Small print: error estimate of the exact value; a fit's deviation from it."),
+		),
+	)
+}
+
+func cell(c Cell) app.UI {
+	td := app.Td().Class("num")
+	if c.Absent != "" {
+		td = td.Title(c.Absent)
+	}
+	if c.Best {
+		td = td.Class("best")
+	}
+	body := []app.UI{}
+	if c.Best {
+		body = append(body, app.Span().Class("best-dot").Aria("label", "closest").Text("● "))
+	}
+	body = append(body, app.Span().Class("v").Text(c.Text))
+	if c.Sub != "" {
+		body = append(body, app.Span().Class("sub").Text(c.Sub))
+	}
+	if c.Absent != "" && c.Text == "—" {
+		body = append(body, app.Span().Class("sr-only").Text(" ("+c.Absent+")"))
+	}
+	return td.Body(body...)
+}
+
+// Diagnostics lists the analysis's diagnostics as plain sentences with their
+// severity, most severe first.
+type Diagnostics struct {
+	app.Compo
+	Items []engine.Diagnostic
+	Stale bool
+}
+
+// Render draws the list.
+func (d *Diagnostics) Render() app.UI {
+	if len(d.Items) == 0 {
+		return app.Div().Class("diag-empty muted").Text("No warnings: the grid holds the mass and every fit converged.")
+	}
+	rank := map[string]int{engine.SeverityError: 0, engine.SeverityWarning: 1, engine.SeverityInfo: 2}
+	items := append([]engine.Diagnostic(nil), d.Items...)
+	for i := 1; i < len(items); i++ { // insertion sort keeps the engine's order within a severity
+		for j := i; j > 0 && rank[items[j].Severity] < rank[items[j-1].Severity]; j-- {
+			items[j], items[j-1] = items[j-1], items[j]
+		}
+	}
+	lis := make([]app.UI, len(items))
+	for i, it := range items {
+		icon, word := "ⓘ", "note"
+		switch it.Severity {
+		case engine.SeverityWarning:
+			icon, word = "▲", "warning"
+		case engine.SeverityError:
+			icon, word = "■", "error"
+		}
+		lis[i] = app.Li().Class("diag diag-"+it.Severity).Title(it.Code).Body(
+			app.Span().Class("diag-icon").Aria("hidden", "true").Text(icon),
+			app.Span().Class("diag-sev").Text(word+": "),
+			app.Span().Text(it.Message),
+		)
+	}
+	cls := "diags"
+	if d.Stale {
+		cls += " stale"
+	}
+	return app.Ul().Class(cls).Body(lis...)
+}
+
+// Modes lists the local maxima the mode search found.
+type Modes struct {
+	app.Compo
+	Params []string
+	Items  []engine.Mode
+}
+
+// Render draws the modes as a small table.
+func (m *Modes) Render() app.UI {
+	if len(m.Items) == 0 {
+		return app.P().Class("muted").Text("No mode found.")
+	}
+	head := []app.UI{app.Th().Scope("col").Text("#")}
+	for _, p := range m.Params {
+		head = append(head, app.Th().Scope("col").Text(p))
+	}
+	head = append(head,
+		app.Th().Scope("col").Title("log-density at the mode, up to the model's constant").Text("log p"),
+		app.Th().Scope("col").Title("approximate share of the mass near this mode").Text("mass"),
+		app.Th().Scope("col").Text("curvature"),
+	)
+	rows := make([]app.UI, len(m.Items))
+	for i, md := range m.Items {
+		cells := []app.UI{app.Td().Class("num").Text(strconv.Itoa(i + 1))}
+		for k := range m.Params {
+			cells = append(cells, app.Td().Class("num").Text(plot.FormatNumber(at(md.X, k), 5)))
+		}
+		var notes []string
+		if md.PositiveDefinite {
+			notes = append(notes, "negative definite Hessian")
+		} else {
+			notes = append(notes, "not a proper maximum (Hessian not negative definite)")
+		}
+		if md.OnBound {
+			notes = append(notes, "on a bound")
+		}
+		cells = append(cells,
+			app.Td().Class("num").Text(plot.FormatNumber(md.LogDensity, 5)),
+			app.Td().Class("num").Text(fmtPercent(md.Mass)),
+			app.Td().Class("note").Text(strings.Join(notes, "; ")),
+		)
+		rows[i] = app.Tr().Body(cells...)
+	}
+	return app.Div().Class("table-scroll").Body(app.Table().Class("modes").Body(
+		app.Caption().Class("sr-only").Text("Modes found by the multi-start search"),
+		app.THead().Body(app.Tr().Body(head...)),
+		app.TBody().Body(rows...),
+	))
+}

@@ -1,0 +1,230 @@
+package ui
+
+import (
+	"context"
+	"errors"
+	"math"
+	"time"
+
+	"bellcheck/engine"
+	"bellcheck/engine/model"
+)
+
+// SourceError is one problem in the model text, where it is and what it is.
+type SourceError struct {
+	Line, Col int // 1-based; Col counts runes
+	Msg, Hint string
+}
+
+// Run is one analysis to start: its generation, the model and options.
+type Run struct {
+	Gen     uint64
+	Model   *model.Model
+	Options engine.Options
+}
+
+// Session is the calculator's state: the model text and its check, the
+// options chosen per parameter, and the results of the newest finished
+// analysis. Analyses are numbered by a generation counter: only the result of
+// the newest requested analysis is accepted, so a slow run for an older
+// model never replaces a newer one. The zero value is an empty session.
+type Session struct {
+	// Source is the model text as last checked.
+	Source string
+	// Model is Source's checked model, nil while Source has errors.
+	Model *model.Model
+	// Errors lists Source's problems (nil when it is valid).
+	Errors []SourceError
+
+	// Result is the newest accepted result, for ResultModel; it stays
+	// shown (dimmed, see Stale) while the text has errors or a newer
+	// analysis runs.
+	Result      *engine.Result
+	ResultModel *model.Model
+	// RunErr is the error of the newest analysis when it failed (not when
+	// it was cancelled).
+	RunErr error
+
+	// Gen is the generation of the newest requested analysis, ResultGen
+	// that of Result.
+	Gen, ResultGen uint64
+	// Running reports whether the newest requested analysis is still
+	// running; Progress is its last report and Started its start.
+	Running  bool
+	Progress engine.Progress
+	Started  time.Time
+	// Elapsed is how long the newest finished analysis took, as seen by
+	// the page, and LongestSlice the longest stretch it ran without
+	// yielding to the browser.
+	Elapsed, LongestSlice time.Duration
+
+	params map[string]engine.ParamOptions
+}
+
+// Edit checks new model text. It reports whether the text is a valid model
+// (so an analysis should start).
+func (s *Session) Edit(src string) bool {
+	s.Source = src
+	m, err := model.Parse(src)
+	if err != nil {
+		s.Model = nil
+		s.Errors = sourceErrors(err)
+		return false
+	}
+	s.Model, s.Errors = m, nil
+	return true
+}
+
+// sourceErrors turns the parser's error into SourceErrors.
+func sourceErrors(err error) []SourceError {
+	var list model.ErrorList
+	if errors.As(err, &list) && len(list) > 0 {
+		out := make([]SourceError, len(list))
+		for i, e := range list {
+			out[i] = SourceError{Line: e.Pos.Line, Col: e.Pos.Col, Msg: e.Msg, Hint: e.Hint}
+		}
+		return out
+	}
+	var one *model.Error
+	if errors.As(err, &one) {
+		return []SourceError{{Line: one.Pos.Line, Col: one.Pos.Col, Msg: one.Msg, Hint: one.Hint}}
+	}
+	return []SourceError{{Line: 1, Col: 1, Msg: err.Error()}}
+}
+
+// Stale reports whether the result shown is not the answer for the text and
+// options now in the editor: the text has errors, a newer analysis runs, or
+// the newest one failed.
+func (s *Session) Stale() bool {
+	return s.Result != nil && (s.Errors != nil || s.Running || s.ResultGen != s.Gen)
+}
+
+// Begin registers a new analysis of the current model and returns it; any
+// earlier analysis is outdated from now on. It returns false when the text
+// has errors.
+func (s *Session) Begin(now time.Time) (Run, bool) {
+	if s.Model == nil {
+		return Run{}, false
+	}
+	s.Gen++
+	s.Running = true
+	s.Progress = engine.Progress{}
+	s.Started = now
+	s.RunErr = nil
+	return Run{Gen: s.Gen, Model: s.Model, Options: s.Options()}, true
+}
+
+// Cancel marks the running analysis as abandoned (the text became invalid).
+func (s *Session) Cancel() {
+	if s.Running {
+		s.Gen++
+		s.Running = false
+	}
+}
+
+// Report records progress of analysis gen; reports of outdated analyses are
+// ignored. It returns whether it was recorded.
+func (s *Session) Report(gen uint64, p engine.Progress) bool {
+	if gen != s.Gen || !s.Running {
+		return false
+	}
+	s.Progress = p
+	return true
+}
+
+// Finish records the outcome of analysis run. It returns false, changing
+// nothing, when the run is outdated or was cancelled.
+func (s *Session) Finish(run Run, res *engine.Result, err error, elapsed, longest time.Duration) bool {
+	if run.Gen != s.Gen {
+		return false
+	}
+	if errors.Is(err, context.Canceled) || errors.Is(err, context.DeadlineExceeded) {
+		return false
+	}
+	s.Running = false
+	s.Elapsed, s.LongestSlice = elapsed, longest
+	if err != nil {
+		s.RunErr = err
+		return true
+	}
+	if res == nil {
+		s.RunErr = errors.New("the analysis returned no result")
+		return true
+	}
+	s.Result, s.ResultModel, s.ResultGen = res, run.Model, run.Gen
+	return true
+}
+
+// Param returns the options chosen for the named parameter.
+func (s *Session) Param(name string) engine.ParamOptions {
+	return s.params[name]
+}
+
+// SetParam sets the options of the named parameter. Options are kept by
+// name, so they survive edits of the text that keep the parameter.
+func (s *Session) SetParam(name string, o engine.ParamOptions) {
+	if s.params == nil {
+		s.params = map[string]engine.ParamOptions{}
+	}
+	s.params[name] = o
+}
+
+// Options returns the analysis options for the current model: each
+// parameter's chosen options, with a scale its support does not allow
+// dropped back to identity and a box outside the support clipped to it.
+func (s *Session) Options() engine.Options {
+	var o engine.Options
+	o.Plots = true
+	if s.Model == nil {
+		return o
+	}
+	o.Params = make([]engine.ParamOptions, len(s.Model.Params))
+	for i, p := range s.Model.Params {
+		po := s.params[p.Name]
+		if !ScaleAllowed(p, po.Scale) {
+			po.Scale = ""
+		}
+		if po.Scale == engine.Identity {
+			po.Scale = ""
+		}
+		if po.Points != 0 {
+			po.Points = max(MinPoints, min(po.Points, MaxPoints))
+		}
+		po.Lo = clipBound(po.Lo, p.Lo, p.Hi)
+		po.Hi = clipBound(po.Hi, p.Lo, p.Hi)
+		if po.Lo != nil && po.Hi != nil && !(*po.Lo < *po.Hi) {
+			po.Lo, po.Hi = nil, nil
+		}
+		o.Params[i] = po
+	}
+	return o
+}
+
+// Limits on the grid points a parameter may ask for in the page.
+const (
+	MinPoints = 8
+	MaxPoints = 2001
+)
+
+func clipBound(v *float64, lo, hi float64) *float64 {
+	if v == nil || math.IsNaN(*v) || math.IsInf(*v, 0) {
+		return nil
+	}
+	x := math.Max(lo, math.Min(hi, *v))
+	return &x
+}
+
+// ScaleAllowed reports whether a parameter's support allows the scale: log
+// needs a finite lower bound and no upper one, logit two finite bounds.
+func ScaleAllowed(p model.Param, sc engine.Scale) bool {
+	finite := func(v float64) bool { return !math.IsInf(v, 0) && !math.IsNaN(v) }
+	switch sc {
+	case "", engine.Identity:
+		return true
+	case engine.Log:
+		return finite(p.Lo) && math.IsInf(p.Hi, 1)
+	case engine.Logit:
+		return finite(p.Lo) && finite(p.Hi) && p.Lo < p.Hi
+	}
+	return false
+}
