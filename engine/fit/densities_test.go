@@ -70,7 +70,7 @@ func gaussianTarget(mean, prec []float64, c float64) *fnDensity {
 	})
 }
 
-// oneD builds a 1-D density from f, f', f''.
+// oneD builds a 1-D density from log p and its first two derivatives.
 func oneD(fn func(x float64) (f, g, h float64)) *fnDensity {
 	return newFn(1, func(x, g, h []float64) float64 {
 		f, gg, hh := fn(x[0])

@@ -224,7 +224,7 @@ func (s *polisher) polish(ctx context.Context, x0 []float64) (m Mode, ok bool, e
 				break
 			}
 		}
-		ft, accepted := s.lineSearch(f, dir, !newton)
+		ft, accepted := s.lineSearch(f, dir, newton)
 		if !accepted {
 			// No rise in log p along an ascent direction: log p is flat to
 			// rounding here. That is convergence if the predicted gain is
@@ -388,18 +388,23 @@ func (s *polisher) direction() (dir []float64, newton bool, dec float64, negCurv
 
 // lineSearch tries x + t dir (projected) for t = 1, 1/2, ... until log p
 // rises by the Armijo condition, writing the point and its derivatives into
-// xt, gt, ht. When expand is set and the full step is accepted, it keeps
-// doubling t while log p keeps rising (for non-Newton directions, whose
-// length is not to scale).
-func (s *polisher) lineSearch(f float64, dir []float64, expand bool) (float64, bool) {
+// xt, gt, ht. Near the optimum the gain in log p falls below its rounding,
+// so a full Newton step is also accepted where log p stays level to
+// rounding and the gradient shrinks. For other directions, whose length is
+// not to scale, it keeps doubling t while log p keeps rising once the full
+// step is accepted.
+func (s *polisher) lineSearch(f float64, dir []float64, newton bool) (float64, bool) {
 	t := 1.0
 	for k := 0; k < maxHalve; k++ {
 		ft, ok := s.try(f, dir, t, s.xt, s.gt, s.ht)
+		if !ok && newton && k == 0 && good(ft) && ft >= f-64*epsilon*math.Max(1, math.Abs(f)) {
+			ok = s.freeNorm(s.gt) < s.freeNorm(s.g)
+		}
 		if !ok {
 			t /= 2
 			continue
 		}
-		if expand && k == 0 {
+		if !newton && k == 0 {
 			for e := 0; e < 40; e++ {
 				t *= 2
 				fe, oke := s.try(f, dir, t, s.xe, s.ge, s.he)
@@ -415,6 +420,15 @@ func (s *polisher) lineSearch(f float64, dir []float64, expand bool) (float64, b
 		return ft, true
 	}
 	return f, false
+}
+
+// freeNorm returns the Euclidean norm of g over the free coordinates.
+func (s *polisher) freeNorm(g []float64) float64 {
+	n := 0.0
+	for _, i := range s.free {
+		n += g[i] * g[i]
+	}
+	return math.Sqrt(n)
 }
 
 // try evaluates the projected point x + t dir into xo, go, ho and reports

@@ -159,6 +159,25 @@ type viSolver struct {
 	evals         int
 }
 
+// newSolver allocates a solver and all its scratch space for density p and
+// cubature rule r.
+func newSolver(p target.Density, r rule, diag bool) *viSolver {
+	d := p.Dim()
+	n := d + d*(d+1)/2
+	if diag {
+		n = 2 * d
+	}
+	v := &viSolver{p: p, d: d, n: n, diag: diag, r: r, scale: make([]float64, d),
+		x: make([]float64, d), grad: make([]float64, d), hess: make([]float64, d*d),
+		c: make([]float64, d*d), col: make([]float64, d), tmp: make([]float64, d*d),
+		negEH: make([]float64, d*d), cNegEH: make([]float64, d*d), thetaTry: make([]float64, n)}
+	for i := range v.scale {
+		v.scale[i] = 1
+	}
+	v.aa = newAnderson(n, min(andersonMemory, n))
+	return v
+}
+
 func (v *viSolver) newState() *viState {
 	d := v.d
 	return &viState{mu: make([]float64, d), prec: make([]float64, d*d), cov: make([]float64, d*d),
@@ -186,15 +205,7 @@ func variational(ctx context.Context, p target.Density, init Gaussian, s Setting
 	if err != nil {
 		return VariationalFit{}, fmt.Errorf("%s: %w", name, err)
 	}
-	n := d + d*(d+1)/2
-	if diag {
-		n = 2 * d
-	}
-	v := &viSolver{p: p, d: d, n: n, diag: diag, r: r, scale: make([]float64, d),
-		x: make([]float64, d), grad: make([]float64, d), hess: make([]float64, d*d),
-		c: make([]float64, d*d), col: make([]float64, d), tmp: make([]float64, d*d),
-		negEH: make([]float64, d*d), cNegEH: make([]float64, d*d), thetaTry: make([]float64, n)}
-	v.aa = newAnderson(n, min(andersonMemory, n))
+	v := newSolver(p, r, diag)
 
 	cur, trial := v.newState(), v.newState()
 	if err := init.check(cur.l); err != nil {
