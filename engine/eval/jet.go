@@ -21,6 +21,7 @@ type jetSpace struct {
 	pinned   []bool      // per slot of the running loop: views data
 	data     [][]float64 // per pinned slot: the data chunk
 	acc      []float64   // logsumexp reductions: max, then S1 sums
+	code     []jinstr
 }
 
 func (js *jetSpace) init(p *program) {
@@ -55,6 +56,7 @@ func (js *jetSpace) init(p *program) {
 		nred = max(nred, len(lp.reds))
 	}
 	js.acc = make([]float64, nred*(js.S+1))
+	js.prepare(p)
 }
 
 // reg returns register r's jet, or nil when r is a constant.
@@ -65,25 +67,93 @@ func (js *jetSpace) reg(p *program, r int32) []float64 {
 	return js.regs[int(r)*js.S : int(r+1)*js.S]
 }
 
+// jinstr is a scalar instruction prepared for derivative mode: register
+// numbers are offsets into the jets, and aVar/bVar say which operands vary.
+type jinstr struct {
+	op         opcode
+	aVar, bVar bool
+	dst, a, b  int32
+	k          float64
+}
+
+// prepare builds the derivative-mode form of the scalar tape.
+func (js *jetSpace) prepare(p *program) {
+	S := int32(js.S)
+	js.code = make([]jinstr, len(p.code))
+	for i, in := range p.code {
+		js.code[i] = jinstr{op: in.op, k: in.k, a: in.a, b: in.b, dst: in.dst}
+		if in.op == opLoop {
+			continue
+		}
+		js.code[i] = jinstr{op: in.op, k: in.k, dst: in.dst * S, a: in.a * S, b: in.b * S,
+			aVar: p.isVar[in.a], bVar: p.isVar[in.b]}
+	}
+}
+
 // run evaluates the tape with jets at x.
 func (js *jetSpace) run(ev *Evaluator, x, grad, hess []float64) float64 {
 	p := ev.prog
 	S := js.S
+	R := js.regs
 	for k, v := range x {
-		js.regs[k*S] = v
+		R[k*S] = v
 	}
-	for i := range p.code {
-		in := &p.code[i]
+	for i := range js.code {
+		in := &js.code[i]
 		if in.op == opLoop {
 			js.runLoop(p, &p.loops[in.a])
 			continue
 		}
-		dst := js.regs[int(in.dst)*S : int(in.dst+1)*S]
-		av := js.regs[int(in.a)*S]
-		bv := js.regs[int(in.b)*S]
-		js.apply(in.op, in.k, dst, av, js.reg(p, in.a), bv, js.reg(p, in.b))
+		o := R[in.dst : int(in.dst)+S]
+		av, bv := R[in.a], R[in.b]
+		var a, b []float64
+		if in.aVar {
+			a = R[in.a : int(in.a)+S]
+		}
+		if in.bVar {
+			b = R[in.b : int(in.b)+S]
+		}
+		switch in.op {
+		case opAdd:
+			if a != nil && b != nil {
+				b = b[:len(o)]
+				a = a[:len(o)]
+				for t := range o {
+					o[t] = a[t] + b[t]
+				}
+				continue
+			}
+		case opSub:
+			if a != nil && b != nil {
+				b = b[:len(o)]
+				a = a[:len(o)]
+				for t := range o {
+					o[t] = a[t] - b[t]
+				}
+				continue
+			}
+		case opMul:
+			if a != nil && b != nil {
+				js.binaryRule(o, a, b, av*bv, bv, av, 0, 1, 0)
+				continue
+			}
+		case opSq:
+			js.unaryRule(o, a, av*av, 2*av, 2)
+			continue
+		case opNeg:
+			scale(o, a, -1)
+			continue
+		case opAddK:
+			copy(o, a)
+			o[0] = av + in.k
+			continue
+		case opMulK:
+			scale(o, a, in.k)
+			continue
+		}
+		js.apply(in.op, in.k, o, av, a, bv, b)
 	}
-	root := js.regs[int(p.root)*S : int(p.root+1)*S]
+	root := R[int(p.root)*S : int(p.root+1)*S]
 	v := root[0]
 	d := js.d
 	if math.IsInf(v, 0) || v != v || !p.isVar[p.root] {
@@ -101,10 +171,13 @@ func (js *jetSpace) run(ev *Evaluator, x, grad, hess []float64) float64 {
 	}
 	copy(grad, root[1:1+d])
 	h := root[1+d:]
-	for t := range h {
-		i, j := js.hi[t], js.hj[t]
-		hess[i*d+j] = h[t]
-		hess[j*d+i] = h[t]
+	t := 0
+	for i := 0; i < d; i++ {
+		for j := i; j < d; j++ {
+			hess[i*d+j] = h[t]
+			hess[j*d+i] = h[t]
+			t++
+		}
 	}
 	return v
 }
@@ -112,35 +185,54 @@ func (js *jetSpace) run(ev *Evaluator, x, grad, hess []float64) float64 {
 // unaryRule writes the jet of f(a) given f, f' and f” at a's value.
 func (js *jetSpace) unaryRule(dst, a []float64, f, f1, f2 float64) {
 	d := js.d
+	dst = dst[:js.S]
+	a = a[:js.S]
 	dst[0] = f
 	ag := a[1 : 1+d]
 	dg := dst[1 : 1+d]
+	ag = ag[:len(dg)]
 	for i := range dg {
 		dg[i] = f1 * ag[i]
 	}
-	aH := a[1+d : js.S]
-	dH := dst[1+d : js.S]
-	hi, hj := js.hi[:len(dH)], js.hj[:len(dH)]
-	for t := range dH {
-		dH[t] = f1*aH[t] + f2*ag[hi[t]]*ag[hj[t]]
+	aH := a[1+d:]
+	dH := dst[1+d:]
+	aH = aH[:len(dH)]
+	t := 0
+	for i := range ag {
+		gi := f2 * ag[i]
+		for _, gj := range ag[i:] {
+			dH[t] = f1*aH[t] + gi*gj
+			t++
+		}
 	}
 }
 
 // binaryRule writes the jet of f(a, b) given its partial derivatives.
 func (js *jetSpace) binaryRule(dst, a, b []float64, f, fa, fb, faa, fab, fbb float64) {
 	d := js.d
+	dst = dst[:js.S]
+	a = a[:js.S]
+	b = b[:js.S]
 	dst[0] = f
 	ag, bg := a[1:1+d], b[1:1+d]
 	dg := dst[1 : 1+d]
+	ag, bg = ag[:len(dg)], bg[:len(dg)]
 	for i := range dg {
 		dg[i] = fa*ag[i] + fb*bg[i]
 	}
-	aH, bH := a[1+d:js.S], b[1+d:js.S]
-	dH := dst[1+d : js.S]
-	hi, hj := js.hi[:len(dH)], js.hj[:len(dH)]
-	for t := range dH {
-		i, j := hi[t], hj[t]
-		dH[t] = fa*aH[t] + fb*bH[t] + faa*ag[i]*ag[j] + fab*(ag[i]*bg[j]+bg[i]*ag[j]) + fbb*bg[i]*bg[j]
+	aH, bH := a[1+d:], b[1+d:]
+	dH := dst[1+d:]
+	aH, bH = aH[:len(dH)], bH[:len(dH)]
+	t := 0
+	for i := range ag {
+		// Row i: faa ag_i ag_j + fab (ag_i bg_j + bg_i ag_j) + fbb bg_i bg_j
+		//      = (faa ag_i + fab bg_i) ag_j + (fab ag_i + fbb bg_i) bg_j.
+		ca := faa*ag[i] + fab*bg[i]
+		cb := fab*ag[i] + fbb*bg[i]
+		for j := i; j < len(ag); j++ {
+			dH[t] = fa*aH[t] + fb*bH[t] + ca*ag[j] + cb*bg[j]
+			t++
+		}
 	}
 }
 
