@@ -2,6 +2,7 @@ package ui
 
 import (
 	"math"
+	"strconv"
 
 	"bellcheck/app/plot"
 )
@@ -9,9 +10,9 @@ import (
 // fmtNum formats a number with 4 significant digits ("—" for NaN).
 func fmtNum(v float64) string { return plot.FormatNumber(v, 4) }
 
-// fmtScaled formats v with enough digits to show it to about a thousandth
-// of scale (a standard deviation, say): 1000.123 with scale 0.01 keeps its
-// decimals, 0.5123 with scale 2 does not need five.
+// fmtScaled formats v with enough digits to show it to about a hundredth of
+// scale (a standard deviation, say): 1000.1234 with scale 0.01 keeps its
+// decimals, 0.51234 with scale 2 needs only two.
 func fmtScaled(v, scale float64) string {
 	if math.IsNaN(v) || math.IsInf(v, 0) || v == 0 || !(scale > 0) || math.IsInf(scale, 0) {
 		return fmtNum(v)
@@ -25,7 +26,7 @@ func fmtPercent(v float64) string {
 	if math.IsNaN(v) || math.IsInf(v, 0) {
 		return plot.FormatNumber(v, 3)
 	}
-	return plot.FormatNumber(math.Round(v*1000)/10, 4) + " %"
+	return strconv.FormatFloat(math.Round(v*1000)/10, 'f', 1, 64) + " %"
 }
 
 // fmtErr formats an error estimate as "±1.2e−5" (empty when not finite).

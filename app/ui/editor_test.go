@@ -1,0 +1,91 @@
+package ui
+
+import (
+	"strings"
+	"testing"
+
+	"github.com/maxence-charriere/go-app/v10/pkg/app"
+)
+
+func TestByteOffsetCountsRunes(t *testing.T) {
+	text := "ab\nμσx = 1\n"
+	cases := []struct{ line, col, want int }{
+		{1, 1, 0}, {1, 3, 2}, {2, 1, 3}, {2, 3, 7}, {2, 99, 12}, {9, 1, len(text)},
+	}
+	for _, c := range cases {
+		if got := byteOffset(text, c.line, c.col); got != c.want {
+			t.Errorf("byteOffset(%d, %d) = %d, want %d", c.line, c.col, got, c.want)
+		}
+	}
+}
+
+func TestEditorMarksTheErrorAtItsColumn(t *testing.T) {
+	text := "param x\nld_normal(x, 0, σ)\n"
+	ed := &Editor{Initial: text, Text: text, Checked: text,
+		Errors: []SourceError{{Line: 2, Col: 17, Msg: "unknown name σ", Hint: "declare it"}}}
+	html := app.HTMLString(ed)
+	if !strings.Contains(html, `<mark class="err-mark">σ</mark>`) {
+		t.Errorf("the mark is not on the offending character:\n%s", html)
+	}
+	for _, want := range []string{"line 2, column 17: ", "unknown name σ", "Hint: declare it", `class="ln ln-err">2<`, "aria-invalid aria-label"} {
+		if !strings.Contains(html, want) {
+			t.Errorf("editor lacks %q", want)
+		}
+	}
+	// While a check is pending the old marks are hidden (the text moved).
+	ed.Pending = true
+	if html := app.HTMLString(ed); strings.Contains(html, "err-mark") || !strings.Contains(html, "checking") {
+		t.Error("marks shown for a text not yet checked")
+	}
+}
+
+func TestFigureSetShapes(t *testing.T) {
+	for _, c := range []struct {
+		names []string
+		main  bool
+		grid  int
+	}{
+		{[]string{"a"}, true, 0},
+		{[]string{"a", "b"}, true, 0},
+		{[]string{"a", "b", "c"}, false, 3},
+		{[]string{"a", "b", "c", "d"}, false, 4},
+	} {
+		d := len(c.names)
+		mean := make([]float64, d)
+		cov := make([][]float64, d)
+		for i := range cov {
+			cov[i] = make([]float64, d)
+			for j := range cov[i] {
+				cov[i][j] = 0.3
+			}
+			cov[i][i] = 1
+		}
+		fs := BuildFigures(gaussResult(c.names, mean, cov, 0.2), View{})
+		if fs == nil || (fs.Main != nil) != c.main || len(fs.Grid) != c.grid {
+			t.Fatalf("%d-D: main %v grid %d", d, fs.Main != nil, len(fs.Grid))
+		}
+		for row := range fs.Grid {
+			for col := range fs.Grid[row] {
+				p := fs.Grid[row][col]
+				if (p != nil) != (row >= col) {
+					t.Errorf("%d-D: cell (%d, %d) present %v", d, row, col, p != nil)
+				}
+				if p != nil && row > col && (p.I != col || p.J != row || p.Fig.Heat == nil) {
+					t.Errorf("%d-D: pair cell (%d, %d) is I=%d J=%d", d, row, col, p.I, p.J)
+				}
+			}
+		}
+		if d == 2 {
+			// The read-out at the plot's centre names both parameters and the
+			// peak density of the standard correlated normal.
+			f := fs.Main.Fig
+			text, _, _, ok := fs.Main.ReadOut((f.Plot.X0+f.Plot.X1)/2, (f.Plot.Y0+f.Plot.Y1)/2)
+			if !ok || !strings.Contains(text, "a = 0") || !strings.Contains(text, "b = 0") || !strings.Contains(text, "100 % of its peak") {
+				t.Errorf("read-out %q", text)
+			}
+			if _, _, _, ok := fs.Main.ReadOut(0, 0); ok {
+				t.Error("read-out outside the plot area")
+			}
+		}
+	}
+}

@@ -1,0 +1,83 @@
+package ui
+
+import (
+	"testing"
+
+	"bellcheck/app/plot"
+)
+
+func TestTableMarksBestAndAbsent(t *testing.T) {
+	r := gaussResult([]string{"a", "b"}, []float64{1, -2}, [][]float64{{1, 0.5}, {0.5, 2}}, 0.4)
+	secs := Table(r, nil)
+	if len(secs) != 4 { // a, b, correlations, evidence and divergence
+		t.Fatalf("%d sections", len(secs))
+	}
+	row := func(sec int, label string) Row {
+		for _, r := range secs[sec].Rows {
+			if r.Label == label {
+				return r
+			}
+		}
+		t.Fatalf("no row %q in section %q", label, secs[sec].Title)
+		return Row{}
+	}
+	mean := row(0, "mean")
+	// Laplace's mean is 0.4 sd off; the other fits are exact, so they share
+	// the mark and Laplace does not.
+	if mean.Cells[plot.Laplace].Best || !mean.Cells[plot.ReverseKL].Best || !mean.Cells[plot.ForwardKL].Best {
+		t.Errorf("mean marks wrong: %+v", mean.Cells)
+	}
+	if got := mean.Cells[plot.Laplace].Sub; got != "+0.40 sd" {
+		t.Errorf("Laplace mean deviation %q", got)
+	}
+	// The mean-field fit is absent: shown as absent with a reason, never marked.
+	if c := mean.Cells[plot.MeanField]; c.Text != "—" || c.Absent == "" || c.Best {
+		t.Errorf("absent fit cell %+v", c)
+	}
+	kl := row(3, "KL(q‖p)")
+	if !kl.Cells[plot.ReverseKL].Best || kl.Cells[plot.Laplace].Best || kl.Cells[plot.ForwardKL].Best {
+		t.Errorf("KL(q||p) marks wrong: %+v", kl.Cells)
+	}
+	ev := row(3, "log-evidence")
+	// |Laplace - log Z| = 0.2 and |ELBO - log Z| = 0.05: the ELBO is closer.
+	if !ev.Cells[plot.ReverseKL].Best || ev.Cells[plot.Laplace].Best {
+		t.Errorf("evidence marks wrong: %+v", ev.Cells)
+	}
+	if ev.Cells[plot.ForwardKL].Absent == "" {
+		t.Error("moment matching has no evidence estimate but shows one")
+	}
+	cov := row(3, "95 % coverage")
+	if cov.Cells[plot.ReverseKL].Text != "94.0 %" {
+		t.Errorf("coverage text %q", cov.Cells[plot.ReverseKL].Text)
+	}
+	corr := row(2, "corr(a, b)")
+	if corr.Cells[plot.Exact].Text != "0.354" {
+		t.Errorf("exact correlation %q, want 0.354 (0.5/sqrt(2))", corr.Cells[plot.Exact].Text)
+	}
+}
+
+func TestMarkBestNeedsTwo(t *testing.T) {
+	var r Row
+	s := nanScores()
+	s[plot.Laplace] = 1
+	markBest(&r, s)
+	if r.Cells[plot.Laplace].Best {
+		t.Error("a single fit was marked best")
+	}
+}
+
+func TestFmtScaled(t *testing.T) {
+	cases := []struct {
+		v, scale float64
+		want     string
+	}{
+		{1000.1234, 0.01, "1000.1234"},
+		{0.51234, 2, "0.51"},
+		{-3.14159, 0.1, "−3.142"},
+	}
+	for _, c := range cases {
+		if got := fmtScaled(c.v, c.scale); got != c.want {
+			t.Errorf("fmtScaled(%g, %g) = %q, want %q", c.v, c.scale, got, c.want)
+		}
+	}
+}
