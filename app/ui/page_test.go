@@ -23,7 +23,7 @@ type harness struct {
 }
 
 func (h *harness) OnPreRender(ctx app.Context) { h.ctx = ctx }
-func (h *harness) Render() app.UI             { return h.page }
+func (h *harness) Render() app.UI              { return h.page }
 
 func mount(t *testing.T, analyse AnalyseFunc) (*harness, app.TestEngine) {
 	t.Helper()
