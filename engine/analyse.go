@@ -3,13 +3,878 @@ package engine
 import (
 	"context"
 	"errors"
+	"fmt"
+	"math"
 
+	"gonum.org/v1/gonum/mat"
+
+	"bellcheck/engine/compare"
+	"bellcheck/engine/eval"
+	"bellcheck/engine/fit"
+	"bellcheck/engine/grid"
 	"bellcheck/engine/model"
+	"bellcheck/engine/target"
+	"bellcheck/engine/transform"
+)
+
+// Errors of Analyse; the fits' and the grid's own errors are wrapped.
+var (
+	// ErrNoModel means a nil model or one without parameters.
+	ErrNoModel = errors.New("engine: no model")
+	// ErrOptions means options that do not fit the model: a scale that
+	// does not suit a parameter's support, a box outside the support.
+	ErrOptions = errors.New("engine: bad options")
 )
 
 // Analyse computes the exact posterior on a grid, the three Gaussian fits and
 // their comparison for a checked model. It stops soon after ctx is cancelled
 // and returns ctx's error. progress may be nil.
+//
+// The stages: compile the model; wrap it on the fitting scale of each
+// parameter (Options.Params[i].Scale: log or logit, with the log-Jacobian);
+// find the box (grid.FindBox) unless the user set it; evaluate the grid
+// (grid.Evaluate); search the modes from the grid's local maxima that hold
+// at least 1e-3 of the mass (fit.FindModes); fit the Laplace approximation at
+// the highest mode, the reverse-KL Gaussian (started from the Laplace fit, or
+// the grid's moments where there is none) and its mean-field variant, and the
+// forward-KL Gaussian (the grid's moments); compare each with the grid
+// (compare.Compare); collect the diagnostics; and draw the plots when
+// opts.Plots is set.
+//
+// Scales: the fits, Result.Modes and Result.Grid are on the fitting scale;
+// Result.Exact and Fit.Interval95 and the plots on the original scale (the
+// grid's nodes weighted by x(z), and the pushforward of each fit).
 func Analyse(ctx context.Context, m *model.Model, opts Options, progress ProgressFunc) (*Result, error) {
-	return nil, errors.New("engine: analysis not built yet")
+	a := &analysis{ctx: ctx, m: m, opts: opts, tr: newTracker(progress)}
+	res, err := a.run()
+	if err != nil {
+		return nil, err
+	}
+	return res, nil
+}
+
+// analysis is the state of one run of Analyse.
+type analysis struct {
+	ctx  context.Context
+	m    *model.Model
+	opts Options
+	tr   *tracker
+	diag diagnostics
+
+	d      int
+	names  []string
+	maps   []transform.Map
+	scales []string
+	ev     *eval.Evaluator
+	p      target.Density // on the fitting scale
+	pw     *watched       // p, reporting progress from inside the fits
+	// bounds and pinned are the box's limits on the fitting scale: the
+	// support where finite and the sides the user set (pinned).
+	bounds grid.Box
+	pinned [][2]bool
+	// modeLo and modeHi are the support on the fitting scale.
+	modeLo, modeHi []float64
+	// bounded reports a finite support bound on the fitting scale.
+	bounded      []bool
+	boxRes       grid.BoxResult
+	g            *grid.Grid
+	modes        []Mode
+	fitModes     []fit.Mode
+	varUnsettled []bool // fitting scale
+	noVariance   bool
+}
+
+func (a *analysis) run() (*Result, error) {
+	a.tr.enter(stageCompile)
+	if err := a.compile(); err != nil {
+		return nil, err
+	}
+	if err := a.findBox(); err != nil {
+		return nil, err
+	}
+	if err := a.evaluateGrid(); err != nil {
+		return nil, err
+	}
+	res := &Result{Params: a.names, Form: a.m.Form.String(), Scales: a.scales}
+	a.checkTails()
+	if err := a.findModes(); err != nil {
+		return nil, err
+	}
+	res.Modes = a.modes
+	if err := a.fitAll(res); err != nil {
+		return nil, err
+	}
+	a.fillExact(res)
+	a.fillGridInfo(res)
+	a.gridDiagnostics()
+	if a.opts.Plots {
+		a.tr.enter(stagePlots)
+		if err := a.ctx.Err(); err != nil {
+			return nil, err
+		}
+		res.Plots = a.plots(res)
+	}
+	res.Diagnostics = a.diag.sorted()
+	res.Timing = a.tr.done()
+	return res, nil
+}
+
+// compile checks the options, compiles the model and wraps it on the
+// fitting scale.
+func (a *analysis) compile() error {
+	if a.m == nil || len(a.m.Params) == 0 {
+		return ErrNoModel
+	}
+	d := len(a.m.Params)
+	a.d = d
+	if len(a.opts.Params) > d {
+		return fmt.Errorf("%w: options for %d parameters, but the model has %d", ErrOptions, len(a.opts.Params), d)
+	}
+	ev, err := eval.Compile(a.m)
+	if err != nil {
+		return err
+	}
+	a.ev = ev
+	a.maps = make([]transform.Map, d)
+	a.scales = make([]string, d)
+	a.bounds = grid.Box{Lo: make([]float64, d), Hi: make([]float64, d)}
+	a.pinned = make([][2]bool, d)
+	a.modeLo, a.modeHi = make([]float64, d), make([]float64, d)
+	a.bounded = make([]bool, d)
+	allIdentity := true
+	for i, prm := range a.m.Params {
+		a.names = append(a.names, prm.Name)
+		po := ParamOptions{}
+		if i < len(a.opts.Params) {
+			po = a.opts.Params[i]
+		}
+		if po.Points < 0 {
+			return fmt.Errorf("%w: parameter %s: %d grid points", ErrOptions, prm.Name, po.Points)
+		}
+		mp := transform.Map{Kind: transform.Identity, Lo: prm.Lo, Hi: prm.Hi}
+		switch po.Scale {
+		case "", Identity:
+		case Log:
+			mp.Kind = transform.Log
+		case Logit:
+			mp.Kind = transform.Logit
+		default:
+			return fmt.Errorf("%w: parameter %s: unknown scale %q (want identity, log or logit)", ErrOptions, prm.Name, po.Scale)
+		}
+		if err := mp.Check(); err != nil {
+			return fmt.Errorf("%w: parameter %s in [%g, %g]: %v", ErrOptions, prm.Name, prm.Lo, prm.Hi, err)
+		}
+		if mp.Kind != transform.Identity {
+			allIdentity = false
+		}
+		a.maps[i] = mp
+		a.scales[i] = mp.Kind.String()
+		// The user's box, on the original scale.
+		lo, hi := prm.Lo, prm.Hi
+		var userLo, userHi bool
+		if po.Lo != nil && !math.IsInf(*po.Lo, 0) {
+			if math.IsNaN(*po.Lo) || *po.Lo < prm.Lo || *po.Lo >= prm.Hi {
+				return fmt.Errorf("%w: parameter %s: box lower side %g outside the support [%g, %g]", ErrOptions, prm.Name, *po.Lo, prm.Lo, prm.Hi)
+			}
+			lo, userLo = *po.Lo, true
+		}
+		if po.Hi != nil && !math.IsInf(*po.Hi, 0) {
+			if math.IsNaN(*po.Hi) || *po.Hi > prm.Hi || *po.Hi <= prm.Lo {
+				return fmt.Errorf("%w: parameter %s: box upper side %g outside the support [%g, %g]", ErrOptions, prm.Name, *po.Hi, prm.Lo, prm.Hi)
+			}
+			hi, userHi = *po.Hi, true
+		}
+		if !(lo < hi) {
+			return fmt.Errorf("%w: parameter %s: box [%g, %g] is empty", ErrOptions, prm.Name, lo, hi)
+		}
+		// On the fitting scale.
+		zl, zh := mp.FromOriginal(lo), mp.FromOriginal(hi)
+		a.bounds.Lo[i], a.bounds.Hi[i] = zl, zh
+		a.pinned[i] = [2]bool{userLo && !math.IsInf(zl, 0), userHi && !math.IsInf(zh, 0)}
+		a.modeLo[i], a.modeHi[i] = mp.FromOriginal(prm.Lo), mp.FromOriginal(prm.Hi)
+		if mp.Kind == transform.Identity {
+			a.bounded[i] = !math.IsInf(prm.Lo, 0) || !math.IsInf(prm.Hi, 0)
+		}
+	}
+	a.p = ev
+	if !allIdentity {
+		w, err := transform.Wrap(ev, a.maps)
+		if err != nil {
+			return fmt.Errorf("%w: %v", ErrOptions, err)
+		}
+		a.p = w
+	}
+	a.pw = &watched{Density: a.p, tick: func(int) {}}
+	return nil
+}
+
+func (a *analysis) points() []int {
+	pts := make([]int, a.d)
+	for i := range pts {
+		if i < len(a.opts.Params) {
+			pts[i] = a.opts.Params[i].Points
+		}
+	}
+	return pts
+}
+
+// findBox finds the grid's box on the fitting scale.
+func (a *analysis) findBox() error {
+	a.tr.enter(stageBox)
+	res, err := grid.FindBox(a.ctx, a.p, grid.BoxSettings{
+		Bounds:   a.bounds,
+		Pinned:   a.pinned,
+		Points:   a.points(),
+		Progress: a.tr.at,
+	})
+	if err != nil {
+		if ctxErr := a.ctx.Err(); ctxErr != nil {
+			return ctxErr
+		}
+		return fmt.Errorf("engine: finding the box: %w", err)
+	}
+	a.boxRes = res
+	if !res.Converged {
+		a.diag.add(CodeBoxNotSettled, SeverityWarning,
+			"The search for the box stopped after %d grids before the box settled; the exact results may miss mass.", res.Iterations)
+	}
+	return nil
+}
+
+func (a *analysis) free() [][2]bool {
+	f := make([][2]bool, a.d)
+	for k := range f {
+		f[k] = [2]bool{!a.boxRes.Fixed[k][0], !a.boxRes.Fixed[k][1]}
+	}
+	return f
+}
+
+func (a *analysis) evaluateGrid() error {
+	a.tr.enter(stageGrid)
+	g, err := grid.Evaluate(a.ctx, a.p, a.boxRes.Box, grid.Settings{
+		Points:   a.points(),
+		Maps:     a.maps,
+		Free:     a.free(),
+		Progress: a.tr.at,
+	})
+	if err != nil {
+		if ctxErr := a.ctx.Err(); ctxErr != nil {
+			return ctxErr
+		}
+		return fmt.Errorf("engine: evaluating the grid: %w", err)
+	}
+	// The coarse search can miss thin structures (a curved ridge leaving
+	// through a face); the fine grid shows them. Widen such a face by half
+	// the box's width, once.
+	retry := false
+	box := g.Box.Clone()
+	for k := 0; k < a.d; k++ {
+		w := box.Hi[k] - box.Lo[k]
+		for side := 0; side < 2; side++ {
+			if a.boxRes.Fixed[k][side] || a.boxRes.Capped[k][side] || g.Stats.EdgeMass[k][side] <= refineEdgeMass {
+				continue
+			}
+			retry = true
+			if side == 0 {
+				box.Lo[k] = math.Max(box.Lo[k]-w/2, a.bounds.Lo[k])
+			} else {
+				box.Hi[k] = math.Min(box.Hi[k]+w/2, a.bounds.Hi[k])
+			}
+		}
+	}
+	if retry {
+		g2, err := grid.Evaluate(a.ctx, a.p, box, grid.Settings{
+			Points:   a.points(),
+			Maps:     a.maps,
+			Free:     a.free(),
+			Progress: a.tr.at,
+		})
+		if err != nil {
+			if ctxErr := a.ctx.Err(); ctxErr != nil {
+				return ctxErr
+			}
+			return fmt.Errorf("engine: evaluating the grid: %w", err)
+		}
+		g = g2
+		a.boxRes.Box = box
+	}
+	a.g = g
+	return nil
+}
+
+// refineEdgeMass is the edge mass of the fine grid above which a free face
+// is widened and the grid evaluated again.
+const refineEdgeMass = 1e-8
+
+// checkTails decides, per parameter on the fitting scale, whether the
+// variance has settled.
+func (a *analysis) checkTails() {
+	st := &a.g.Stats
+	a.varUnsettled = make([]bool, a.d)
+	for k := 0; k < a.d; k++ {
+		capped := a.boxRes.Capped[k][0] || a.boxRes.Capped[k][1]
+		if capped || st.Fitting.TailShare[k] > tailShareAbsent || !(st.Fitting.SD[k] > 0) {
+			a.varUnsettled[k] = true
+			a.noVariance = true
+		}
+	}
+}
+
+// findModes polishes the grid's peaks into modes with their masses.
+func (a *analysis) findModes() error {
+	a.tr.enter(stageModes)
+	peaks, err := a.g.Peaks(a.ctx, func(f float64) { a.tr.at(0.5 * f) })
+	if err != nil {
+		return err
+	}
+	var starts []grid.Peak
+	for i, pk := range peaks {
+		if i == 0 || (pk.Mass >= 1e-3 && len(starts) < 8) {
+			starts = append(starts, pk)
+		}
+	}
+	a.pw.tick = func(n int) { a.tr.at(0.5 + 0.5*(1-math.Exp(-float64(n)/2000))) }
+	sd := a.g.Stats.Fitting.SD
+	var modes []fit.Mode
+	var masses []float64
+	for _, pk := range starts {
+		ms, err := fit.FindModes(a.ctx, a.pw, [][]float64{pk.Point}, a.modeLo, a.modeHi)
+		if err != nil {
+			if ctxErr := a.ctx.Err(); ctxErr != nil {
+				return ctxErr
+			}
+			continue
+		}
+		m := ms[0]
+		j := -1
+		for i, o := range modes {
+			if sameMode(o.X, m.X, sd, a.g) {
+				j = i
+				break
+			}
+		}
+		if j < 0 {
+			modes = append(modes, m)
+			masses = append(masses, 0)
+			j = len(modes) - 1
+		}
+		masses[j] += pk.Mass
+	}
+	// Highest first.
+	order := make([]int, len(modes))
+	for i := range order {
+		order[i] = i
+	}
+	for i := 1; i < len(order); i++ {
+		for j := i; j > 0 && modes[order[j]].LogDensity > modes[order[j-1]].LogDensity; j-- {
+			order[j], order[j-1] = order[j-1], order[j]
+		}
+	}
+	a.modes = nil
+	a.fitModes = nil
+	for _, i := range order {
+		m := modes[i]
+		a.fitModes = append(a.fitModes, m)
+		a.modes = append(a.modes, Mode{
+			X: append([]float64(nil), m.X...), LogDensity: m.LogDensity, Mass: masses[i],
+			PositiveDefinite: m.PositiveDefinite, OnBound: m.OnBound,
+		})
+	}
+	if len(a.modes) == 0 {
+		a.diag.add(CodeNoMode, SeverityError, "The mode search found no mode from the grid's highest points, so there is no Laplace fit.")
+		return nil
+	}
+	var big []string
+	second := 0.0
+	for i, m := range a.modes {
+		if i > 0 {
+			second = math.Max(second, m.Mass)
+		}
+		big = append(big, percent(m.Mass))
+	}
+	if len(a.modes) > 1 {
+		sev := SeverityInfo
+		if second >= modeMassWarn {
+			sev = SeverityWarning
+		}
+		a.diag.add(CodeSeveralModes, sev,
+			"The density has %d modes, holding about %s of the mass (highest first); the Laplace fit describes only the highest one, and no single Gaussian describes them all.",
+			len(a.modes), list(big))
+	}
+	return nil
+}
+
+// sameMode reports points within 1e-3 exact sd of each other on every axis
+// (or 1e-6 of the box where the sd is unknown).
+func sameMode(x, y, sd []float64, g *grid.Grid) bool {
+	for k := range x {
+		s := sd[k]
+		if !(s > 0) || math.IsInf(s, 0) {
+			s = 1e-3 * (g.Box.Hi[k] - g.Box.Lo[k])
+		}
+		if math.Abs(x[k]-y[k]) > 1e-3*s {
+			return false
+		}
+	}
+	return true
+}
+
+// fitAll computes the four fits and compares them with the grid.
+func (a *analysis) fitAll(res *Result) error {
+	type named struct {
+		name string
+		g    fit.Gaussian
+		out  **Fit
+		prec *mat.SymDense
+	}
+	var fits []named
+
+	// Laplace.
+	a.tr.enter(stageLaplace)
+	var lap *fit.LaplaceFit
+	if len(a.fitModes) > 0 {
+		m := a.fitModes[0]
+		lf, err := fit.Laplace(m)
+		switch {
+		case err == nil:
+			lap = &lf
+			f := &Fit{Iterations: m.Iterations, Converged: m.Converged, Residual: m.GradNorm}
+			lz := lf.LogZ
+			f.LogZ = &lz
+			res.Fits.Laplace = f
+			fits = append(fits, named{"laplace", lf.Gaussian, &res.Fits.Laplace, lf.Precision})
+		case errors.Is(err, fit.ErrOnBound):
+			a.diag.add(CodeModeOnBound, SeverityWarning,
+				"No Laplace fit: the highest mode, at %s, lies on a bound of the support, where the curvature does not describe the density.", a.pointString(m.X))
+		case errors.Is(err, fit.ErrNotPositiveDefinite):
+			why := "-Hessian there is not positive definite, so the point is not a strict maximum"
+			if m.Flat {
+				why = "the curvature there is numerically zero (the density is flatter than a Gaussian at its peak)"
+			}
+			a.diag.add(CodeNotPositiveDefinite, SeverityWarning,
+				"No Laplace fit: at the highest mode, %s, %s.", a.pointString(m.X), why)
+		default:
+			a.diag.add(CodeFitFailed, SeverityError, "No Laplace fit: %v.", err)
+		}
+	}
+
+	// The start of the reverse-KL fits: the Laplace fit, else the grid's
+	// moments.
+	var init *fit.Gaussian
+	if lap != nil {
+		init = &lap.Gaussian
+	} else if !a.noVariance {
+		if g, err := fit.MomentMatch(a.g.Stats.Fitting.Mean, symFromRows(a.g.Stats.Fitting.Cov)); err == nil {
+			init = &g
+		}
+	}
+	infiniteKL := false
+	variational := func(stage string, mf bool, init fit.Gaussian) (*fit.VariationalFit, error) {
+		a.tr.enter(stage)
+		a.pw.tick = func(n int) { a.tr.tick(n, 20000) }
+		run := fit.ReverseKL
+		label := "reverse-KL"
+		if mf {
+			run = fit.MeanField
+			label = "mean-field"
+		}
+		vf, err := run(a.ctx, a.pw, init, fit.Settings{})
+		if ctxErr := a.ctx.Err(); ctxErr != nil {
+			return nil, ctxErr
+		}
+		switch {
+		case err == nil:
+			return &vf, nil
+		case errors.Is(err, fit.ErrNoConvergence):
+			a.diag.add(CodeNoConvergence, SeverityWarning,
+				"The %s fit did not converge in %d steps (residual %.2g); its last iterate is shown, marked as not converged.",
+				label, vf.Iterations, math.Max(vf.GradResidual, vf.PrecisionResidual))
+			if vf.Mean == nil || vf.Cov == nil {
+				return nil, nil
+			}
+			return &vf, nil
+		case errors.Is(err, fit.ErrInfiniteKL):
+			infiniteKL = true
+			return nil, nil
+		default:
+			a.diag.add(CodeFitFailed, SeverityError, "No %s fit: %v.", label, err)
+			return nil, nil
+		}
+	}
+	var rev, mfit *fit.VariationalFit
+	if init != nil {
+		var err error
+		if rev, err = variational(stageReverseKL, false, *init); err != nil {
+			return err
+		}
+		mfInit := *init
+		if rev != nil && rev.Converged {
+			mfInit = rev.Gaussian
+		}
+		if mfit, err = variational(stageMeanField, true, mfInit); err != nil {
+			return err
+		}
+	} else {
+		a.diag.add(CodeFitFailed, SeverityError,
+			"No reverse-KL fits: there is neither a Laplace fit nor an exact covariance to start them from.")
+	}
+	for _, v := range []struct {
+		vf   *fit.VariationalFit
+		name string
+		out  **Fit
+	}{{rev, "reverse_kl", &res.Fits.ReverseKL}, {mfit, "mean_field", &res.Fits.MeanField}} {
+		if v.vf == nil {
+			continue
+		}
+		elbo := v.vf.ELBO
+		*v.out = &Fit{ELBO: &elbo, Iterations: v.vf.Iterations, Converged: v.vf.Converged,
+			Residual: math.Max(v.vf.GradResidual, v.vf.PrecisionResidual)}
+		fits = append(fits, named{v.name, v.vf.Gaussian, v.out, v.vf.Precision})
+	}
+
+	// Forward KL.
+	if !a.noVariance {
+		if g, err := fit.MomentMatch(a.g.Stats.Fitting.Mean, symFromRows(a.g.Stats.Fitting.Cov)); err == nil {
+			res.Fits.ForwardKL = &Fit{Converged: true}
+			fits = append(fits, named{"forward_kl", g, &res.Fits.ForwardKL, nil})
+		} else {
+			a.diag.add(CodeFitFailed, SeverityError, "No forward-KL fit: %v.", err)
+		}
+	}
+
+	var boundedNames []string
+	for k, b := range a.bounded {
+		if b {
+			boundedNames = append(boundedNames, a.names[k])
+		}
+	}
+	if len(boundedNames) > 0 {
+		sev := SeverityInfo
+		what := "KL(q||p) is infinite for every fit"
+		if infiniteKL {
+			sev = SeverityWarning
+			what = "KL(q||p) is infinite for every fit and the reverse-KL fits do not exist"
+		}
+		a.diag.add(CodeInfiniteKL, sev,
+			"The support of %s is bounded, so every Gaussian puts mass where the density is zero: %s; fit %s on the log or logit scale, where they exist.",
+			list(boundedNames), what, list(boundedNames))
+	} else if infiniteKL {
+		a.diag.add(CodeInfiniteKL, SeverityWarning,
+			"The density is zero where the reverse-KL cubature reaches, so KL(q||p) is infinite for every Gaussian and the reverse-KL fits do not exist; if a parameter is bounded, declare its support and fit it on the log or logit scale.")
+	}
+
+	// Compare.
+	a.tr.enter(stageCompare)
+	if len(fits) == 0 {
+		return nil
+	}
+	qs := make([]compare.Gaussian, len(fits))
+	for i, f := range fits {
+		qs[i] = compare.Gaussian{Mean: f.g.Mean, Cov: f.g.Cov}
+	}
+	bounded := len(boundedNames) > 0
+	cmp, err := compare.Compare(a.g, qs, compare.Settings{
+		Bounded: bounded, Density: a.p, Context: a.ctx, Progress: a.tr.at,
+	})
+	if err != nil {
+		if ctxErr := a.ctx.Err(); ctxErr != nil {
+			return ctxErr
+		}
+		return fmt.Errorf("engine: comparing the fits: %w", err)
+	}
+	for i, f := range fits {
+		out := *f.out
+		c := cmp[i]
+		a.fillFit(out, f.g, f.prec, c)
+		switch {
+		case out.LogZ != nil:
+			e := *out.LogZ - a.g.Stats.LogZ
+			out.EvidenceErr = &e
+		case out.ELBO != nil:
+			e := *out.ELBO - a.g.Stats.LogZ
+			out.EvidenceErr = &e
+		}
+		if c.Method == compare.Cubature {
+			a.diag.add(CodeFitOffGrid, SeverityInfo,
+				"The %s fit has %s of its mass outside the grid's box or is too narrow for the grid; its KL(q||p) comes from a cubature in its own coordinates.",
+				fitLabel(f.name), percent(math.Abs(1-c.QMass)))
+		}
+	}
+	return nil
+}
+
+func fitLabel(name string) string {
+	switch name {
+	case "laplace":
+		return "Laplace"
+	case "reverse_kl":
+		return "reverse-KL"
+	case "mean_field":
+		return "mean-field"
+	}
+	return "forward-KL"
+}
+
+// fillFit fills a fit's moments (fitting scale), interval (original scale)
+// and comparison.
+func (a *analysis) fillFit(f *Fit, g fit.Gaussian, prec *mat.SymDense, c compare.Result) {
+	d := a.d
+	f.Mean = append([]float64(nil), g.Mean...)
+	f.Cov = fit.Rows(g.Cov)
+	f.SD = g.SD()
+	f.Corr = fit.Rows(g.Corr())
+	f.Interval95 = make([][2]float64, d)
+	for k := 0; k < d; k++ {
+		iv := g.Interval(k, 0.95)
+		f.Interval95[k] = [2]float64{a.maps[k].ToOriginal(iv[0]), a.maps[k].ToOriginal(iv[1])}
+	}
+	if prec != nil {
+		f.Precision = fit.Rows(prec)
+	}
+	f.KLqp, f.KLpq, f.Hellinger = c.KLqp, c.KLpq, c.Hellinger
+	f.MeanErrSD, f.SDRatio = c.MeanErrSD, c.SDRatio
+	f.Coverage95 = c.Coverage95
+	for k := 0; k < d; k++ {
+		if a.varUnsettled[k] {
+			f.MeanErrSD[k], f.SDRatio[k] = math.NaN(), math.NaN()
+			// E_p[(z - m)^2] is infinite: so is KL(p||q).
+			f.KLpq = math.Inf(1)
+		}
+	}
+}
+
+// fillExact fills the exact posterior on the original scale.
+func (a *analysis) fillExact(res *Result) {
+	st := &a.g.Stats
+	o := &st.Original
+	d := a.d
+	ex := &res.Exact
+	ex.LogZ = st.LogZ
+	ex.LogZErr = st.LogZErr + st.TailMass
+	ex.Mean = append([]float64(nil), o.Mean...)
+	ex.MeanErr = append([]float64(nil), o.MeanErr...)
+	ex.Cov = copyRows(o.Cov)
+	ex.CovErr = copyRows(o.CovErr)
+	ex.SD = append([]float64(nil), o.SD...)
+	ex.Corr = copyRows(o.Corr)
+	ex.Quantiles = append([][3]float64(nil), o.Quantiles...)
+	ex.Skewness = append([]float64(nil), o.Skewness...)
+	ex.ExcessKurtosis = append([]float64(nil), o.ExcessKurtosis...)
+	x := make([]float64, d)
+	a.g.Point(st.OrigArgMax, x)
+	ex.GridMode = make([]float64, d)
+	for k := range x {
+		ex.GridMode[k] = a.maps[k].ToOriginal(x[k])
+	}
+	ex.Mode = a.originalMode(ex.GridMode)
+
+	// Quantities that do not exist are absent.
+	var noVar, noMean []string
+	for k := 0; k < d; k++ {
+		capped := a.boxRes.Capped[k][0] || a.boxRes.Capped[k][1]
+		varGone := capped || o.TailShare[k] > tailShareAbsent || a.varUnsettled[k]
+		meanGone := o.AbsTailShare[k] > absShareAbsent
+		if varGone {
+			noVar = append(noVar, a.names[k])
+			nan := math.NaN()
+			ex.SD[k], ex.Skewness[k], ex.ExcessKurtosis[k] = nan, nan, nan
+			for l := 0; l < d; l++ {
+				ex.Cov[k][l], ex.Cov[l][k] = nan, nan
+				ex.CovErr[k][l], ex.CovErr[l][k] = nan, nan
+				ex.Corr[k][l], ex.Corr[l][k] = nan, nan
+			}
+		}
+		if meanGone {
+			noMean = append(noMean, a.names[k])
+			ex.Mean[k], ex.MeanErr[k] = math.NaN(), math.NaN()
+		}
+	}
+	if len(noVar) > 0 {
+		a.diag.add(CodeNoVariance, SeverityWarning,
+			"The variance of %s does not settle as the box widens (it may not exist, as for a Cauchy density): the exact covariance and the forward-KL fit are not reported.", list(noVar))
+	}
+	if len(noMean) > 0 {
+		a.diag.add(CodeNoMean, SeverityWarning,
+			"The mean of %s does not settle as the box widens either (it may not exist): the exact mean is not reported.", list(noMean))
+	}
+}
+
+// originalMode polishes the highest mode on the original scale.
+func (a *analysis) originalMode(gridMode []float64) []float64 {
+	d := a.d
+	transformed := false
+	for _, m := range a.maps {
+		if m.Kind != transform.Identity {
+			transformed = true
+		}
+	}
+	if !transformed {
+		if len(a.modes) > 0 {
+			return append([]float64(nil), a.modes[0].X...)
+		}
+		return nanSlice(d)
+	}
+	starts := [][]float64{gridMode}
+	if len(a.modes) > 0 {
+		x := make([]float64, d)
+		for k := range x {
+			x[k] = a.maps[k].ToOriginal(a.modes[0].X[k])
+		}
+		starts = append(starts, x)
+	}
+	lo, hi := make([]float64, d), make([]float64, d)
+	for k, prm := range a.m.Params {
+		lo[k], hi[k] = prm.Lo, prm.Hi
+	}
+	ms, err := fit.FindModes(a.ctx, &watched{Density: a.ev, tick: a.pw.tick}, starts, lo, hi)
+	if err != nil || len(ms) == 0 {
+		a.diag.add(CodeModeNotPolished, SeverityInfo,
+			"The mode search on the original scale failed, so the exact mode is not reported (the grid's best point is).")
+		return nanSlice(d)
+	}
+	return append([]float64(nil), ms[0].X...)
+}
+
+func (a *analysis) fillGridInfo(res *Result) {
+	g := a.g
+	st := &g.Stats
+	gi := &res.Grid
+	gi.Lo = append([]float64(nil), g.Box.Lo...)
+	gi.Hi = append([]float64(nil), g.Box.Hi...)
+	gi.Points = append([]int(nil), g.N...)
+	gi.NonFinite = st.NonFinite
+	for k := 0; k < a.d; k++ {
+		for side := 0; side < 2; side++ {
+			if !a.boxRes.Fixed[k][side] || a.pinned[k][side] {
+				gi.EdgeMass = math.Max(gi.EdgeMass, st.EdgeMass[k][side])
+			}
+		}
+	}
+}
+
+// gridDiagnostics reports on the box, the tails, the shape of the marginals
+// and the grid's error.
+func (a *analysis) gridDiagnostics() {
+	st := &a.g.Stats
+	sides := [2]string{"lower", "upper"}
+	for k := 0; k < a.d; k++ {
+		for side := 0; side < 2; side++ {
+			e := st.EdgeMass[k][side]
+			switch {
+			case a.boxRes.Capped[k][side]:
+				a.diag.add(CodeImproper, SeverityError,
+					"Mass stays at the %s edge of %s however far the box is widened (%s in its outermost layer): the density may be improper (not integrable) or too heavy-tailed for a grid, and the exact results are those of the truncated box.",
+					sides[side], a.names[k], percent(e))
+			case a.pinned[k][side] && e > edgeMassWarn:
+				a.diag.add(CodeEdgeMass, SeverityWarning,
+					"The box side you set at the %s end of %s cuts off mass: %s of it lies in the outermost layer of the grid there.",
+					sides[side], a.names[k], percent(e))
+			case !a.boxRes.Fixed[k][side] && e > edgeMassWarn:
+				a.diag.add(CodeEdgeMass, SeverityWarning,
+					"%s of the mass lies in the outermost layer of the grid at the %s end of %s: the box may cut off part of the density.",
+					percent(e), sides[side], a.names[k])
+			}
+		}
+	}
+	f := &st.Fitting
+	var heavy []string
+	for k := 0; k < a.d; k++ {
+		if !a.varUnsettled[k] && f.TailShare[k] > tailShareWarn {
+			heavy = append(heavy, a.names[k])
+		}
+	}
+	if len(heavy) > 0 {
+		a.diag.add(CodeHeavyTails, SeverityWarning,
+			"The tails of %s are heavy: the mean or variance still moves as the box widens, so the exact moments and the forward-KL fit are uncertain.", list(heavy))
+	}
+	if st.NonFinite > 0 {
+		a.diag.add(CodeNonFinite, SeverityWarning,
+			"The log-density is NaN or +inf at %s of the grid points; they were left out of every result.", percentPoints(st.NonFinite))
+	}
+	for k := 0; k < a.d; k++ {
+		if a.varUnsettled[k] {
+			continue
+		}
+		scale := ""
+		if a.maps[k].Kind != transform.Identity {
+			scale = " on its " + a.maps[k].Kind.String() + " scale"
+		}
+		if s := f.Skewness[k]; math.Abs(s) > skewWarn {
+			a.diag.add(CodeSkewed, SeverityWarning,
+				"The marginal of %s%s is skewed (skewness %.2f): a Gaussian misplaces its mass.", a.names[k], scale, s)
+		}
+		if kt := f.ExcessKurtosis[k]; math.Abs(kt) > kurtWarn {
+			what := "heavier"
+			if kt < 0 {
+				what = "lighter"
+			}
+			a.diag.add(CodeTailsKurtosis, SeverityWarning,
+				"The marginal of %s%s has %s tails than a Gaussian (excess kurtosis %.2f).", a.names[k], scale, what, kt)
+		}
+	}
+	o := &st.Original
+	var bad []string
+	if st.LogZErr > logZErrWarn {
+		bad = append(bad, fmt.Sprintf("log Z by about %.2g", st.LogZErr))
+	}
+	for k := 0; k < a.d; k++ {
+		if a.varUnsettled[k] {
+			continue
+		}
+		if sd := o.SD[k]; o.MeanErr[k] > meanErrWarn*sd {
+			bad = append(bad, fmt.Sprintf("the mean of %s by %.2g sd", a.names[k], o.MeanErr[k]/sd))
+		}
+		if v := o.Cov[k][k]; o.CovErr[k][k] > varErrWarn*v {
+			bad = append(bad, fmt.Sprintf("the variance of %s by %s", a.names[k], percent(o.CovErr[k][k]/v)))
+		}
+	}
+	if len(bad) > 0 {
+		a.diag.add(CodeGridError, SeverityWarning,
+			"The grid may be too coarse: at half resolution it changes %s; give the parameters more points.", list(bad))
+	}
+}
+
+func percentPoints(x float64) string {
+	if x >= 1e-4 {
+		return fmt.Sprintf("%.2g %%", 100*x)
+	}
+	return fmt.Sprintf("a share %.1g", x)
+}
+
+func (a *analysis) pointString(z []float64) string {
+	s := ""
+	for k, v := range z {
+		if k > 0 {
+			s += ", "
+		}
+		s += fmt.Sprintf("%s = %.4g", a.names[k], a.maps[k].ToOriginal(v))
+	}
+	return s
+}
+
+func symFromRows(r [][]float64) *mat.SymDense {
+	d := len(r)
+	s := mat.NewSymDense(d, nil)
+	for i := 0; i < d; i++ {
+		for j := i; j < d; j++ {
+			s.SetSym(i, j, r[i][j])
+		}
+	}
+	return s
+}
+
+func copyRows(r [][]float64) [][]float64 {
+	out := make([][]float64, len(r))
+	for i := range r {
+		out[i] = append([]float64(nil), r[i]...)
+	}
+	return out
+}
+
+func nanSlice(d int) []float64 {
+	s := make([]float64, d)
+	for i := range s {
+		s[i] = math.NaN()
+	}
+	return s
 }

@@ -1,6 +1,7 @@
 package compare
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -68,6 +69,11 @@ type Settings struct {
 	// Order is the number of Gauss-Hermite nodes per axis of the cubature;
 	// 0 means 64, 24, 12 and 8 for one to four parameters.
 	Order int
+	// Context, when set, is checked every few thousand nodes; Compare
+	// returns its error when cancelled.
+	Context context.Context
+	// Progress, when set, receives the fraction of the grid done.
+	Progress func(fraction float64)
 }
 
 // ErrBadGaussian means a Gaussian of the wrong size or with a covariance
@@ -172,7 +178,19 @@ func Compare(g *grid.Grid, qs []Gaussian, s Settings) ([]Result, error) {
 	for k := range h {
 		h[k] = g.Spacing(k)
 	}
-	for line := 0; line < len(g.LogP)/nLast; line++ {
+	nLines := len(g.LogP) / nLast
+	checkEvery := max(1, 4096/nLast)
+	for line := 0; line < nLines; line++ {
+		if line%checkEvery == 0 {
+			if s.Context != nil {
+				if err := s.Context.Err(); err != nil {
+					return nil, err
+				}
+			}
+			if s.Progress != nil {
+				s.Progress(float64(line) / float64(nLines))
+			}
+		}
 		g.Index(line*nLast, ix)
 		wo := 1.0
 		for k := 0; k < d-1; k++ {

@@ -1,6 +1,7 @@
 package grid
 
 import (
+	"context"
 	"math"
 	"sort"
 )
@@ -19,8 +20,10 @@ type Peak struct {
 // Peaks returns the local maxima of log p on the grid, each the highest
 // node of its 3^d neighbourhood, with the mass of its basin of steepest
 // ascent, by decreasing mass. Nodes more than 46 below the maximum (mass
-// share under 1e-20 each) are not assigned.
-func (g *Grid) Peaks() []Peak {
+// share under 1e-20 each) are not assigned. It checks ctx every 65536
+// nodes and returns its error when cancelled; progress, when set, receives
+// the fraction done.
+func (g *Grid) Peaks(ctx context.Context, progress func(float64)) ([]Peak, error) {
 	n := len(g.LogP)
 	val := func(i int32) float64 {
 		v := g.LogP[i]
@@ -40,10 +43,24 @@ func (g *Grid) Peaks() []Peak {
 	}
 	// Argmax over the neighbourhood, one axis at a time: after the pass over
 	// axis k, cur[i] is the best node within one step along axes 0..k.
+	const every = 1 << 16
+	work, done := float64(g.Dim+1)*float64(n), 0.0
+	check := func(i int) error {
+		if i%every != 0 {
+			return nil
+		}
+		if progress != nil {
+			progress(math.Min(1, (done+float64(i))/work))
+		}
+		return ctx.Err()
+	}
 	for k := 0; k < g.Dim; k++ {
 		s := g.Stride[k]
 		nk := g.N[k]
 		for i := 0; i < n; i++ {
+			if err := check(i); err != nil {
+				return nil, err
+			}
 			c := (i / s) % nk
 			b := cur[i]
 			if c > 0 && better(cur[i-s], b) {
@@ -55,6 +72,7 @@ func (g *Grid) Peaks() []Peak {
 			nxt[i] = b
 		}
 		cur, nxt = nxt, cur
+		done += float64(n)
 	}
 	parent := cur
 	total := math.Exp(g.Stats.LogZ - g.Max)
@@ -62,6 +80,9 @@ func (g *Grid) Peaks() []Peak {
 	masses := map[int32]float64{}
 	ix := make([]int, g.Dim)
 	for i := 0; i < n; i++ {
+		if err := check(i); err != nil {
+			return nil, err
+		}
 		v := val(int32(i))
 		if v < floor {
 			continue
@@ -93,5 +114,8 @@ func (g *Grid) Peaks() []Peak {
 		}
 		return peaks[a].Index < peaks[b].Index
 	})
-	return peaks
+	if progress != nil {
+		progress(1)
+	}
+	return peaks, nil
 }

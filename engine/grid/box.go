@@ -85,7 +85,7 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 	}
 	tol := s.EdgeTol
 	if tol <= 0 {
-		tol = 1e-10
+		tol = 1e-12
 	}
 	nc := s.Coarse
 	if nc <= 0 {
@@ -164,7 +164,6 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 			s.Progress(1 - math.Pow(0.8, float64(res.Iterations)))
 		}
 	}
-	var trimLo, trimHi []float64
 	// A face doubles its distance at most maxGrow times after mass is
 	// first seen (a factor of about 1.7e7): beyond that the density is
 	// taken to be improper along that axis.
@@ -209,81 +208,134 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 		}
 		found = true
 		st := &g.Stats
-		widened := false
+		changed := false
+		var finalLo, finalHi []float64
+		finalLo, finalHi = append(finalLo, lo...), append(finalHi, hi...)
 		for k := 0; k < d; k++ {
 			hc := g.Spacing(k)
-			ratio := float64(nc-1) / float64(nf[k]-1)
-			// The interquartile range, where the grid resolves it.
+			w := hi[k] - lo[k]
+			hf := w / float64(nf[k]-1)
+			// The interquartile range, where the grid resolves it. Only a
+			// range well inside the box describes the core: a density
+			// still cut off by the box has an IQR of the box's order.
 			iqr := quantile(g.Nodes[k][0], hc, st.Marginals[k].Density, 0.75) -
 				quantile(g.Nodes[k][0], hc, st.Marginals[k].Density, 0.25)
-			// Only a range well inside the box describes the core: a
-			// density still cut off by the box has an IQR of the box's
-			// order.
-			if iqr >= 4*hc && iqr <= (hi[k]-lo[k])/8 && iqr < coreIQR[k] {
+			if iqr >= 4*hc && iqr <= w/8 && iqr < coreIQR[k] {
 				coreIQR[k] = iqr
 			}
-			w := hi[k] - lo[k]
 			maxW := widthCap[k] * coreIQR[k]
+			dens := st.Marginals[k].Density
+			z := g.Nodes[k]
+			// layer is the share of the mass in the fine grid's outer
+			// layer if its face were at node i.
+			layer := func(i int) float64 { return dens[i] * hf * 3 / 8 }
+			var tgt [2]float64
+			widen := [2]bool{}
 			for side := 0; side < 2; side++ {
-				if atBound(k, side) || st.EdgeMass[k][side]*ratio <= tol {
+				face := 0
+				dir := -1.0 // outwards
+				if side == 1 {
+					face, dir = nc-1, 1
+				}
+				cur := z[face]
+				tgt[side] = cur
+				if atBound(k, side) {
 					continue
 				}
-				step := w
-				if w+step > maxW {
-					step = maxW - w
+				ext, extOK := 0.0, false
+				if iqr >= 4*hc {
+					// Only a resolved marginal has a tail to extend.
+					ext, extOK = extrapolateFace(dens, z, side, hf, tol)
 				}
-				grows[k][side]++
-				if step <= 0.01*w || grows[k][side] > maxGrow {
-					res.Capped[k][side] = true
-					continue
-				}
-				if side == 0 {
-					lo[k] = math.Max(lo[k]-step, s.Bounds.Lo[k])
-				} else {
-					hi[k] = math.Min(hi[k]+step, s.Bounds.Hi[k])
-				}
-				widened = true
-			}
-		}
-		if widened {
-			continue
-		}
-		// Zoom in where the mass fills a small part of an axis.
-		zoomed := false
-		trimLo, trimHi = append(trimLo[:0], lo...), append(trimHi[:0], hi...)
-		for k := 0; k < d; k++ {
-			ratio := float64(nc-1) / float64(nf[k]-1)
-			mass := st.Marginals[k].Mass
-			ia, ib := -1, -1
-			for i, m := range mass {
-				if m*ratio > tol {
-					if ia < 0 {
-						ia = i
+				if layer(face) > tol {
+					// Mass at the face: double the width on this side, or
+					// go to the extrapolated face where that is farther
+					// (up to four times the width).
+					step := w
+					if extOK && dir*(ext-cur) > step {
+						step = math.Min(dir*(ext-cur), 4*w)
 					}
-					ib = i
+					tgt[side] = cur + dir*step
+					widen[side] = true
+					continue
+				}
+				// The node beyond the outermost one above the tolerance.
+				out := face
+				for i := range z {
+					j := i
+					if side == 1 {
+						j = nc - 1 - i
+					}
+					if layer(j) > tol {
+						out = j
+						break
+					}
+				}
+				out = min(max(out+int(dir), 0), nc-1)
+				t := z[out]
+				if extOK && dir*(ext-t) > 0 {
+					t = ext
+				}
+				tgt[side] = t
+				if dir*(t-cur) > hc {
+					widen[side] = true
 				}
 			}
-			if ia < 0 {
+			for side := 0; side < 2; side++ {
+				if !widen[side] {
+					continue
+				}
+				// Cap the widening.
+				grows[k][side]++
+				other := tgt[1-side]
+				if !widen[1-side] {
+					other = [2]float64{lo[k], hi[k]}[1-side]
+				}
+				if math.Abs(tgt[side]-other) > maxW {
+					if side == 0 {
+						tgt[0] = other - maxW
+					} else {
+						tgt[1] = other + maxW
+					}
+				}
+				cur := [2]float64{lo[k], hi[k]}[side]
+				if math.Abs(tgt[side]-cur) <= 0.01*w || grows[k][side] > maxGrow {
+					if layer([2]int{0, nc - 1}[side]) > tol {
+						res.Capped[k][side] = true
+					}
+					widen[side] = false
+					tgt[side] = cur
+				}
+			}
+			if widen[0] || widen[1] {
+				if widen[0] {
+					lo[k] = math.Max(tgt[0], s.Bounds.Lo[k])
+				}
+				if widen[1] {
+					hi[k] = math.Min(tgt[1], s.Bounds.Hi[k])
+				}
+				changed = true
 				continue
 			}
-			nl, nh := lo[k], hi[k]
-			if !pinned(k, 0) && !res.Capped[k][0] {
-				nl = g.Nodes[k][max(ia-1, 0)]
+			nl, nh := tgt[0], tgt[1]
+			if pinned(k, 0) || res.Capped[k][0] {
+				nl = lo[k]
 			}
-			if !pinned(k, 1) && !res.Capped[k][1] {
-				nh = g.Nodes[k][min(ib+1, nc-1)]
+			if pinned(k, 1) || res.Capped[k][1] {
+				nh = hi[k]
 			}
-			if nh-nl < 0.6*(hi[k]-lo[k]) {
+			finalLo[k], finalHi[k] = nl, nh
+			if nh-nl < 0.6*w {
+				// Zoom in: the mass fills a small part of the axis.
 				lo[k], hi[k] = nl, nh
-				zoomed = true
+				changed = true
 			}
-			trimLo[k], trimHi[k] = nl, nh
 		}
-		if zoomed {
+		if changed {
 			continue
 		}
 		res.Converged = true
-		lo, hi = trimLo, trimHi
+		lo, hi = finalLo, finalHi
 		break
 	}
 	if !found {
@@ -305,4 +357,76 @@ func pow(n, d int) int {
 		r *= n
 	}
 	return r
+}
+
+// extrapolateFace predicts where the fine grid's outer layer would hold
+// tol of the mass on one side of a marginal density sampled at nodes z:
+// it fits log density linearly (least squares) over the tail nodes that
+// are still well sampled (density times spacing at least 1e-7, tail mass
+// up to 5 %), and extends that exponential decay from the outermost of
+// them. For a Gaussian tail the fit's slope is below the local one further
+// out, so the prediction errs wide. ok is false without three such nodes or
+// a decaying fit.
+func extrapolateFace(dens, z []float64, side int, hf, tol float64) (face float64, ok bool) {
+	n := len(dens)
+	h := z[1] - z[0]
+	at := func(i int) int {
+		if side == 1 {
+			return n - 1 - i
+		}
+		return i
+	}
+	start := -1
+	for i := 0; i < n; i++ {
+		if dens[at(i)]*h >= 1e-7 {
+			start = i
+			break
+		}
+	}
+	if start < 0 {
+		return 0, false
+	}
+	if start > 0 && dens[at(start-1)] == 0 {
+		// A hard edge (the density is zero beyond): nothing to extend.
+		return 0, false
+	}
+	// Distances inwards from the outermost reliable node.
+	var su, sv, suu, suv, cnt, tail float64
+	for i := start; i < n; i++ {
+		j := at(i)
+		if dens[j] <= 0 {
+			break
+		}
+		tail += dens[j] * h
+		if tail > 0.05 && cnt >= 3 {
+			break
+		}
+		u := float64(i-start) * h
+		v := math.Log(dens[j])
+		su += u
+		sv += v
+		suu += u * u
+		suv += u * v
+		cnt++
+	}
+	if cnt < 3 {
+		return 0, false
+	}
+	den := cnt*suu - su*su
+	if den <= 0 {
+		return 0, false
+	}
+	slope := (cnt*suv - su*sv) / den // d log density / d (distance inwards)
+	if !(slope > 0) {
+		return 0, false
+	}
+	edge := dens[at(start)] * hf * 3 / 8
+	dist := 0.0
+	if edge > tol {
+		dist = math.Log(edge/tol) / slope
+	}
+	if side == 1 {
+		return z[at(start)] + dist, true
+	}
+	return z[at(start)] - dist, true
 }

@@ -149,7 +149,10 @@ func TestPeaksOfMixture(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	peaks := g.Peaks()
+	peaks, err := g.Peaks(ctx, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
 	if len(peaks) != 2 {
 		t.Fatalf("%d peaks: %+v", len(peaks), peaks)
 	}
@@ -163,7 +166,7 @@ func TestPeaksOfMixture(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if pk := g2.Peaks(); len(pk) != 1 || !close(pk[0].Mass, 1, 1e-9) {
+	if pk, _ := g2.Peaks(ctx, nil); len(pk) != 1 || !close(pk[0].Mass, 1, 1e-9) {
 		t.Errorf("correlated Gaussian: %d peaks, first mass %g", len(pk), pk[0].Mass)
 	}
 }

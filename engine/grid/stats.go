@@ -24,6 +24,11 @@ type Stats struct {
 	EdgeMass [][2]float64
 	// NonFinite is the fraction of nodes where log p is NaN or +Inf.
 	NonFinite float64
+	// TailMass estimates the share of the mass beyond the free faces: at
+	// each, the marginal density there divided by its logarithmic decay
+	// rate (exact for an exponential tail), the tail taken no longer than
+	// the box is wide where the marginal does not decay.
+	TailMass float64
 	// Marginals holds each axis's marginal on the fitting scale; Pairs each
 	// pair's (i < j, in the order (0,1), (0,2), ..., (1,2), ...).
 	Marginals []Marginal
@@ -48,6 +53,10 @@ type Moments struct {
 	// and |change of the mean| / sd when the outer quarter of the way from
 	// the median to each free face is dropped.
 	TailShare []float64
+	// AbsTailShare is the relative change of the mean absolute deviation
+	// from the median under the same trimming: it keeps moving where the
+	// mean itself does not exist (a Cauchy density on a symmetric box).
+	AbsTailShare []float64
 }
 
 // Marginal is the marginal of one axis on the fitting scale: Density at the
@@ -276,6 +285,7 @@ func (g *Grid) summarise(ctx context.Context, free [][2]bool, progress func(floa
 		st.EdgeMass[k] = [2]float64{m[0] / full.total, m[len(m)-1] / full.total}
 	}
 	st.Marginals = make([]Marginal, d)
+	st.TailMass = 0
 	for k := 0; k < d; k++ {
 		mass := make([]float64, g.N[k])
 		dens := make([]float64, g.N[k])
@@ -284,6 +294,43 @@ func (g *Grid) summarise(ctx context.Context, free [][2]bool, progress func(floa
 			dens[i] = mass[i] / g.Weights[k][i]
 		}
 		st.Marginals[k] = Marginal{Axis: k, Density: dens, Mass: mass}
+		fr := [2]bool{true, true}
+		if k < len(free) {
+			fr = free[k]
+		}
+		n, h := g.N[k], g.Spacing(k)
+		for side := 0; side < 2; side++ {
+			face := 0
+			if side == 1 {
+				face = n - 1
+			}
+			if !fr[side] || dens[face] == 0 {
+				continue
+			}
+			// The decay rate of log density inwards, by least squares over
+			// the outer 5 % of the nodes (at least four), with the tail
+			// length capped at the box's width.
+			m := max(4, n/20)
+			var su, sv, suu, suv, cnt float64
+			for i := 0; i < m; i++ {
+				j := i
+				if side == 1 {
+					j = n - 1 - i
+				}
+				if dens[j] <= 0 {
+					continue
+				}
+				u := float64(i) * h
+				v := math.Log(dens[j])
+				su, sv, suu, suv, cnt = su+u, sv+v, suu+u*u, suv+u*v, cnt+1
+			}
+			decay := 0.0
+			if den := cnt*suu - su*su; cnt >= 2 && den > 0 {
+				decay = (cnt*suv - su*sv) / den
+			}
+			width := g.Box.Hi[k] - g.Box.Lo[k]
+			st.TailMass += dens[face] / math.Max(decay, 1/width)
+		}
 	}
 	st.Pairs = nil
 	for k := 0; k < d; k++ {
@@ -378,6 +425,7 @@ func (g *Grid) fillMoments(m *Moments, full, half *reduction, cFull, cHalf [][]f
 	m.Skewness = make([]float64, d)
 	m.ExcessKurtosis = make([]float64, d)
 	m.TailShare = make([]float64, d)
+	m.AbsTailShare = make([]float64, d)
 	for k := 0; k < d; k++ {
 		dens := make([]float64, g.N[k])
 		for i, v := range full.marg[k] {
@@ -410,13 +458,14 @@ func (g *Grid) fillMoments(m *Moments, full, half *reduction, cFull, cHalf [][]f
 		if k < len(free) {
 			fr = free[k]
 		}
-		m.TailShare[k] = tailShare(mass, c, fr)
+		m.TailShare[k], m.AbsTailShare[k] = tailShare(mass, c, fr)
 	}
 }
 
 // tailShare drops the outer quarter of the way from the median node to each
-// free face and measures how much the mean and variance move.
-func tailShare(mass, c []float64, free [2]bool) float64 {
+// free face and measures how much the mean and variance move (the first
+// result) and how much the mean absolute deviation from the median does.
+func tailShare(mass, c []float64, free [2]bool) (moments, absDev float64) {
 	n := len(mass)
 	total := 0.0
 	for _, v := range mass {
@@ -437,11 +486,12 @@ func tailShare(mass, c []float64, free [2]bool) float64 {
 	if free[1] {
 		hi = n - 1 - (n-1-med)/4
 	}
-	mv := func(a, b int) (mean, variance float64) {
-		s, s1 := 0.0, 0.0
+	stats := func(a, b int) (mean, variance, mad float64) {
+		s, s1, sa := 0.0, 0.0, 0.0
 		for i := a; i <= b; i++ {
 			s += mass[i]
 			s1 += mass[i] * c[i]
+			sa += mass[i] * math.Abs(c[i]-c[med])
 		}
 		mean = s1 / s
 		s2 := 0.0
@@ -449,12 +499,12 @@ func tailShare(mass, c []float64, free [2]bool) float64 {
 			dv := c[i] - mean
 			s2 += mass[i] * dv * dv
 		}
-		return mean, s2 / s
+		return mean, s2 / s, sa / s
 	}
-	m0, v0 := mv(0, n-1)
-	m1, v1 := mv(lo, hi)
-	if !(v0 > 0) {
-		return 0
+	m0, v0, a0 := stats(0, n-1)
+	m1, v1, a1 := stats(lo, hi)
+	if !(v0 > 0) || !(a0 > 0) {
+		return 0, 0
 	}
-	return math.Max(math.Abs(v0-v1)/v0, math.Abs(m0-m1)/math.Sqrt(v0))
+	return math.Max(math.Abs(v0-v1)/v0, math.Abs(m0-m1)/math.Sqrt(v0)), math.Abs(a0-a1) / a0
 }

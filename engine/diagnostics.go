@@ -1,0 +1,129 @@
+package engine
+
+import (
+	"fmt"
+	"sort"
+	"strings"
+)
+
+// Diagnostic codes. Each is stable (scripts may test for it) and comes with
+// one plain sentence and a severity:
+//
+//	code                   severity        when
+//	several_modes          warning / info  more than one mode; warning when a second mode holds 1 % of the mass or more
+//	edge_mass              warning         more than 1e-6 of the mass in the outermost layer of a free face of the
+//	                                       box, or of a side the user set
+//	improper               error           the box search widened a face as far as it may and mass stays at the edge:
+//	                                       the density is improper (not integrable) or too heavy-tailed for a grid
+//	box_not_settled        warning         the box search stopped before the box settled
+//	not_positive_definite  warning         no Laplace fit: -Hessian at the highest mode is not positive definite, or
+//	                                       the curvature there is numerically zero (e.g. exp(-x^4/4) at 0)
+//	mode_on_bound          warning         no Laplace fit: the highest mode lies on a bound of the support
+//	no_mode                error           the mode search found no mode (no Laplace fit)
+//	no_convergence         warning         a reverse-KL fit stopped before its tolerance; its last iterate is shown
+//	                                       and marked (Converged false)
+//	infinite_kl            warning / info  a parameter's support is bounded on its fitting scale, so every Gaussian
+//	                                       has KL(q||p) = inf; warning when the reverse-KL fits do not exist for
+//	                                       that reason; points to the log or logit scale
+//	fit_failed             error           a fit failed for another reason, given in the sentence
+//	heavy_tails            warning         a marginal's mean or variance still moves as the box widens
+//	no_variance            warning         the variance does not settle (as for a Cauchy density): the forward-KL
+//	                                       fit and the exact covariance are absent
+//	no_mean                warning         the mean does not settle either: the exact mean is absent
+//	non_finite             warning         log p is NaN or +inf at some grid points, which are left out
+//	skewed                 warning         a marginal's skewness exceeds 0.5 in size on the fitting scale
+//	                                       (a rule of thumb, common practice)
+//	tails_kurtosis         warning         a marginal's excess kurtosis exceeds 1 in size on the fitting scale
+//	                                       (a rule of thumb, common practice)
+//	grid_error             warning         the grid's error estimate is large: log Z off by more than 1e-3, a mean
+//	                                       by more than 1e-3 sd or a variance by more than 1 %
+//	fit_off_grid           info            a fit has mass outside the box or is too narrow for the grid: its
+//	                                       KL(q||p) comes from a cubature in its own coordinates
+//	mode_not_polished      info            the mode search on the original scale failed: the exact mode is absent
+const (
+	CodeSeveralModes        = "several_modes"
+	CodeEdgeMass            = "edge_mass"
+	CodeImproper            = "improper"
+	CodeBoxNotSettled       = "box_not_settled"
+	CodeNotPositiveDefinite = "not_positive_definite"
+	CodeModeOnBound         = "mode_on_bound"
+	CodeNoMode              = "no_mode"
+	CodeNoConvergence       = "no_convergence"
+	CodeInfiniteKL          = "infinite_kl"
+	CodeFitFailed           = "fit_failed"
+	CodeHeavyTails          = "heavy_tails"
+	CodeNoVariance          = "no_variance"
+	CodeNoMean              = "no_mean"
+	CodeNonFinite           = "non_finite"
+	CodeSkewed              = "skewed"
+	CodeTailsKurtosis       = "tails_kurtosis"
+	CodeGridError           = "grid_error"
+	CodeFitOffGrid          = "fit_off_grid"
+	CodeModeNotPolished     = "mode_not_polished"
+)
+
+// Thresholds of the diagnostics.
+const (
+	edgeMassWarn    = 1e-6
+	tailShareWarn   = 1e-3 // heavy tails
+	tailShareAbsent = 5e-2 // no variance
+	absShareAbsent  = 1e-2 // no mean
+	skewWarn        = 0.5
+	kurtWarn        = 1.0
+	modeMassWarn    = 0.01
+	logZErrWarn     = 1e-3
+	meanErrWarn     = 1e-3 // in sd
+	varErrWarn      = 1e-2 // relative
+)
+
+// diagnostics collects the diagnostics of one analysis.
+type diagnostics struct {
+	list []Diagnostic
+	seen map[string]bool
+}
+
+func (d *diagnostics) add(code, severity, format string, args ...any) {
+	msg := fmt.Sprintf(format, args...)
+	key := code + "\x00" + msg
+	if d.seen == nil {
+		d.seen = map[string]bool{}
+	}
+	if d.seen[key] {
+		return
+	}
+	d.seen[key] = true
+	d.list = append(d.list, Diagnostic{Code: code, Severity: severity, Message: msg})
+}
+
+// sorted returns the diagnostics, errors first, then warnings, then
+// information, each in the order found.
+func (d *diagnostics) sorted() []Diagnostic {
+	rank := map[string]int{SeverityError: 0, SeverityWarning: 1, SeverityInfo: 2}
+	out := append([]Diagnostic{}, d.list...)
+	sort.SliceStable(out, func(i, j int) bool { return rank[out[i].Severity] < rank[out[j].Severity] })
+	return out
+}
+
+// percent formats a share of the mass for a sentence.
+func percent(x float64) string {
+	switch {
+	case x >= 0.995:
+		return fmt.Sprintf("%.1f %%", 100*x)
+	case x >= 0.01:
+		return fmt.Sprintf("%.0f %%", 100*x)
+	case x >= 1e-4:
+		return fmt.Sprintf("%.2f %%", 100*x)
+	}
+	return fmt.Sprintf("%.1g of the mass", x)
+}
+
+// list joins names as "a", "a and b", "a, b and c".
+func list(names []string) string {
+	switch len(names) {
+	case 0:
+		return ""
+	case 1:
+		return names[0]
+	}
+	return strings.Join(names[:len(names)-1], ", ") + " and " + names[len(names)-1]
+}

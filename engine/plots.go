@@ -1,0 +1,170 @@
+package engine
+
+import (
+	"math"
+
+	"bellcheck/engine/grid"
+)
+
+// Plot resolution: at most this many points along a 1-D marginal and along
+// each axis of a pair's image (every k-th grid node, ends included).
+const (
+	maxPlot1D = 401
+	maxPlot2D = 121
+)
+
+// contourMasses are the shares of the mass inside the drawn contours, and
+// contourPoints the number of segments of each fit's ellipse.
+var contourMasses = [3]float64{0.39, 0.86, 0.99}
+
+const contourPoints = 96
+
+// plots draws the exact marginals and each fit's on the original scale.
+func (a *analysis) plots(res *Result) *Plots {
+	g := a.g
+	st := &g.Stats
+	d := a.d
+	type fitCurve struct {
+		name string
+		f    *Fit
+	}
+	fits := []fitCurve{{"laplace", res.Fits.Laplace}, {"reverse_kl", res.Fits.ReverseKL},
+		{"mean_field", res.Fits.MeanField}, {"forward_kl", res.Fits.ForwardKL}}
+	pl := &Plots{}
+	// dxdz[k][i] is dx/dz at node i of axis k.
+	dxdz := make([][]float64, d)
+	xs := make([][]float64, d)
+	for k := 0; k < d; k++ {
+		dxdz[k] = make([]float64, g.N[k])
+		xs[k] = make([]float64, g.N[k])
+		for i, z := range g.Nodes[k] {
+			xs[k][i] = a.maps[k].ToOriginal(z)
+			dxdz[k][i] = math.Exp(a.maps[k].LogJacobian(z))
+		}
+	}
+	for k := 0; k < d; k++ {
+		a.tr.at(float64(k) / float64(d+len(st.Pairs)))
+		idx := plotNodes(g.N[k], maxPlot1D)
+		m := Marginal1D{Param: k}
+		for _, i := range idx {
+			m.X = append(m.X, xs[k][i])
+			m.Exact = append(m.Exact, st.Marginals[k].Density[i]/dxdz[k][i])
+		}
+		for _, fc := range fits {
+			if fc.f == nil {
+				continue
+			}
+			mu, sd := fc.f.Mean[k], fc.f.SD[k]
+			curve := make([]float64, len(idx))
+			for j, i := range idx {
+				u := (g.Nodes[k][i] - mu) / sd
+				curve[j] = math.Exp(-u*u/2) / (sd * math.Sqrt(2*math.Pi)) / dxdz[k][i]
+			}
+			switch fc.name {
+			case "laplace":
+				m.Laplace = curve
+			case "reverse_kl":
+				m.Reverse = curve
+			case "mean_field":
+				m.MeanFld = curve
+			default:
+				m.Forward = curve
+			}
+		}
+		pl.Marginals = append(pl.Marginals, m)
+	}
+	for pi, pr := range st.Pairs {
+		a.tr.at(float64(d+pi) / float64(d+len(st.Pairs)))
+		i, j := pr.I, pr.J
+		nj := g.N[j]
+		// The density on the original scale, for the levels and the image.
+		orig := make([]float64, len(pr.Density))
+		for u := 0; u < g.N[i]; u++ {
+			for v := 0; v < nj; v++ {
+				orig[u*nj+v] = pr.Density[u*nj+v] / (dxdz[i][u] * dxdz[j][v])
+			}
+		}
+		lv := grid.Levels(orig, pr.Mass, contourMasses[:])
+		m2 := Marginal2D{I: i, J: j, Levels: [3]float64{lv[0], lv[1], lv[2]}, Ellipses: map[string][3][][2]float64{}}
+		iu, iv := plotNodes(g.N[i], maxPlot2D), plotNodes(nj, maxPlot2D)
+		for _, u := range iu {
+			m2.X = append(m2.X, xs[i][u])
+		}
+		for _, v := range iv {
+			m2.Y = append(m2.Y, xs[j][v])
+		}
+		m2.Density = make([]float64, 0, len(iu)*len(iv))
+		for _, v := range iv {
+			for _, u := range iu {
+				m2.Density = append(m2.Density, orig[u*nj+v])
+			}
+		}
+		for _, fc := range fits {
+			if fc.f == nil {
+				continue
+			}
+			m2.Ellipses[fc.name] = a.ellipses(fc.f, i, j)
+		}
+		pl.Pairs = append(pl.Pairs, m2)
+	}
+	return pl
+}
+
+// ellipses returns the fit's contours holding contourMasses of its (i, j)
+// marginal, as closed polylines mapped to the original scale: on the
+// fitting scale the region of mass f is the ellipse of Mahalanobis radius
+// sqrt(-2 log(1 - f)) (the squared radius is chi-square with 2 degrees of
+// freedom), and the map keeps the mass inside.
+func (a *analysis) ellipses(f *Fit, i, j int) [3][][2]float64 {
+	var out [3][][2]float64
+	sii, sij, sjj := f.Cov[i][i], f.Cov[i][j], f.Cov[j][j]
+	// Cholesky factor of the 2x2 covariance.
+	l11 := math.Sqrt(sii)
+	l21 := sij / l11
+	l22 := math.Sqrt(math.Max(sjj-l21*l21, 0))
+	for c, mass := range contourMasses {
+		r := math.Sqrt(-2 * math.Log(1-mass))
+		pts := make([][2]float64, 0, contourPoints+1)
+		for t := 0; t <= contourPoints; t++ {
+			th := 2 * math.Pi * float64(t%contourPoints) / contourPoints
+			u, v := r*math.Cos(th), r*math.Sin(th)
+			zi := f.Mean[i] + l11*u
+			zj := f.Mean[j] + l21*u + l22*v
+			pts = append(pts, [2]float64{a.maps[i].ToOriginal(zi), a.maps[j].ToOriginal(zj)})
+		}
+		out[c] = pts
+	}
+	return out
+}
+
+// plotNodes returns node indices 0, k, 2k, ..., n-1 with at most limit of
+// them: k is the smallest divisor of n-1 that fits, else the rounded step
+// with the last node added.
+func plotNodes(n, limit int) []int {
+	if n <= limit {
+		idx := make([]int, n)
+		for i := range idx {
+			idx[i] = i
+		}
+		return idx
+	}
+	step := 0
+	for k := 1; k < n; k++ {
+		if (n-1)%k == 0 && (n-1)/k+1 <= limit {
+			step = k
+			break
+		}
+	}
+	var idx []int
+	if step > 0 {
+		for i := 0; i < n; i += step {
+			idx = append(idx, i)
+		}
+		return idx
+	}
+	step = (n-1)/(limit-1) + 1
+	for i := 0; i < n-1; i += step {
+		idx = append(idx, i)
+	}
+	return append(idx, n-1)
+}
