@@ -56,6 +56,9 @@ func (a *anderson) push(theta, f []float64) {
 // reset forgets the stored differences, keeping the last iterate.
 func (a *anderson) reset() { a.count, a.head = 0, 0 }
 
+// clear forgets everything, for when the map itself changes.
+func (a *anderson) clear() { a.reset(); a.havePrev = false }
+
 // propose writes the accelerated iterate into out and reports whether one
 // exists (at least one stored difference and a solvable least-squares
 // problem).

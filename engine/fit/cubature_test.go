@@ -98,6 +98,7 @@ func TestDensityDerivatives(t *testing.T) {
 		{"mixture", mixture([]float64{0.3, 0.7}, [][]float64{{-1, 0}, {1, 0.5}}, 0.8), []float64{0.2, 0.1}},
 		{"banana", banana(0.05), []float64{3, 2}},
 		{"smallLogistic", smallLogistic(), []float64{-0.2, 0.9}},
+		{"studentT", studentT(3), []float64{1.7}},
 	}
 	for _, c := range cases {
 		d := c.p.Dim()

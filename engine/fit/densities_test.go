@@ -237,3 +237,13 @@ func largeLogistic(n int) *fnDensity {
 	}
 	return logisticLike(t, y, 2)
 }
+
+// studentT is the unnormalised Student-t log-density
+// -(nu+1)/2 log(1 + x²/nu): heavy-tailed, and not log-concave beyond
+// |x| = sqrt(nu). Its integral is sqrt(nu) B(1/2, nu/2).
+func studentT(nu float64) *fnDensity {
+	return oneD(func(x float64) (float64, float64, float64) {
+		u := 1 + x*x/nu
+		return -(nu + 1) / 2 * math.Log(u), -(nu + 1) * x / (nu * u), -(nu + 1) / nu * (1 - x*x/nu) / (u * u)
+	})
+}

@@ -83,6 +83,15 @@ func TestFindModesSymmetricBimodal2D(t *testing.T) {
 	if math.Abs(a[0]-2*a[1]) > 1e-10 {
 		t.Errorf("mode %v is off the line y = x/2 through the centres", a)
 	}
+	// From the saddle at the origin (gradient zero by symmetry) the search
+	// leaves along the direction of positive curvature and reaches a mode.
+	from0, err := FindModes(context.Background(), p, [][]float64{{0, 0}}, nil, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(from0) != 1 || !from0[0].PositiveDefinite || math.Abs(math.Abs(from0[0].X[0])-math.Abs(a[0])) > 1e-10 {
+		t.Errorf("from the saddle: %+v, want a mode at ±%v", from0, a)
+	}
 	for _, m := range modes {
 		// decrementTol 1e-20 allows |g| up to about 1e-10/sd (sd = 0.8).
 		if !m.PositiveDefinite || !m.Converged || m.GradNorm > 1e-9 {
