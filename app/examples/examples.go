@@ -1,5 +1,7 @@
 package examples
 
+import "bellcheck/engine"
+
 // Example is one gallery scenario.
 type Example struct {
 	// ID is a short stable name (used in links and tests).
@@ -8,7 +10,12 @@ type Example struct {
 	Title, Shows string
 	// Source is the model text.
 	Source string
+	// Params holds suggested options by parameter name (for instance the
+	// log scale for a positive parameter, where the reverse-KL fit exists).
+	Params map[string]engine.ParamOptions
 }
+
+var logScale = engine.ParamOptions{Scale: engine.Log}
 
 // Default is the ID of the example the page opens with.
 const Default = "dose"
@@ -51,6 +58,7 @@ window = 10                  # seconds
 param rate in [0, inf]       # decays per second
 ld_gamma(rate, 2, 4) + sum(ld_poisson(counts, rate * window))
 `,
+		Params: map[string]engine.ParamOptions{"rate": logScale},
 	},
 	{
 		ID:    "banana",
@@ -76,6 +84,7 @@ param noise in [0, inf]
 (sum(ld_normal(reading, offset + gain * ref, noise))
     + ld_normal(offset, 0, 1) + ld_normal(gain, 1, 0.5) + ld_exponential(noise, 2))
 `,
+		Params: map[string]engine.ParamOptions{"noise": logScale},
 	},
 	{
 		ID:    "outlier",
@@ -87,6 +96,7 @@ param loc
 param scale in [0, inf]
 sum(ld_student(x, 3, loc, scale)) + ld_normal(loc, 10, 10) + ld_exponential(scale, 1)
 `,
+		Params: map[string]engine.ParamOptions{"scale": logScale},
 	},
 	{
 		ID:    "funnel",
@@ -101,18 +111,20 @@ ld_normal(logsd, 0, 1.5) + ld_normal(theta, 0, exp(logsd)) + ld_normal(0.8, thet
 	{
 		ID:    "clock",
 		Title: "Clock drift",
-		Shows: "Offset, rate, ageing and noise of a clock against a reference: four parameters, two strongly correlated.",
-		Source: `# A clock's error against a reference over ten days (invented, in ms).
-day = [0, 1, 2, 3, 4, 5, 6, 7, 8, 9]
+		Shows: "Offset, rate, ageing and noise of a clock against a reference: four parameters, offset and ageing correlated.",
+		Source: `# A clock's error against a reference over ten days (invented, in ms);
+# t counts days from the middle of the run.
+t   = [-4.5, -3.5, -2.5, -1.5, -0.5, 0.5, 1.5, 2.5, 3.5, 4.5]
 err = [2.1, 2.4, 2.8, 3.3, 3.5, 3.9, 3.9, 4.2, 4.3, 4.4]
 param offset
 param rate
 param ageing
 param noise in [0, inf]
-fit = offset + rate * day + ageing * day^2
-(sum(ld_normal(err, fit, noise)) + ld_normal(offset, 0, 5) + ld_normal(rate, 0, 1)
+fit = offset + rate * t + ageing * t^2
+(sum(ld_normal(err, fit, noise)) + ld_normal(offset, 3, 5) + ld_normal(rate, 0, 1)
     + ld_normal(ageing, 0, 0.1) + ld_exponential(noise, 5))
 `,
+		Params: map[string]engine.ParamOptions{"noise": logScale},
 	},
 }
 

@@ -144,3 +144,23 @@ func TestFracIndex(t *testing.T) {
 		}
 	}
 }
+
+func TestSpanOfNormalIsItsQuantiles(t *testing.T) {
+	// The 2.5 % and 97.5 % quantiles of the standard normal are -+1.959964
+	// (Abramowitz and Stegun, table 26.5).
+	xs := make([]float64, 801)
+	ys := make([]float64, len(xs))
+	for i := range xs {
+		xs[i] = -8 + 16*float64(i)/800
+		ys[i] = math.Exp(-xs[i] * xs[i] / 2)
+	}
+	lo, hi, ok := span(xs, ys, 0.025)
+	if !ok || math.Abs(lo+1.959964) > 2e-3 || math.Abs(hi-1.959964) > 2e-3 {
+		t.Errorf("span = [%g, %g], want -+1.96", lo, hi)
+	}
+	// The view pads the span and stays within the grid.
+	vlo, vhi := viewOf(xs, ys, nil)
+	if !(vlo < -3.5 && vlo > -8) || !(vhi > 3.5 && vhi < 8) {
+		t.Errorf("view [%g, %g]", vlo, vhi)
+	}
+}

@@ -14,10 +14,16 @@ import (
 func Marginal(m *engine.Marginal1D, o Options) *Figure {
 	curves := Curves(m)
 	lo, hi, ok := densityRange(curves, o)
-	xlo, xhi, okx := plot.Extent(m.X)
-	if !ok || !okx || !(xhi > xlo) {
+	if !ok || len(m.X) < 2 || !(m.X[len(m.X)-1] > m.X[0]) {
 		return nil
 	}
+	var fits [][]float64
+	for _, meth := range plot.Fits {
+		if o.shown(meth) {
+			fits = append(fits, curves[meth])
+		}
+	}
+	xlo, xhi := viewOf(m.X, curves[plot.Exact], fits)
 	f := &Figure{W: 480, H: 250}
 	f.Plot = Box{X0: 58, Y0: 12, X1: f.W - 14, Y1: f.H - 42}
 	ylabel := "density"

@@ -37,10 +37,18 @@ func Pair(p *engine.Marginal2D, mx, my *engine.Marginal1D, o Options) *Figure {
 	if nx < 2 || ny < 2 || len(p.Density) != nx*ny {
 		return nil
 	}
-	xlo, xhi := p.X[0], p.X[nx-1]
-	ylo, yhi := p.Y[0], p.Y[ny-1]
-	if !(xhi > xlo) || !(yhi > ylo) {
+	if !(p.X[nx-1] > p.X[0]) || !(p.Y[ny-1] > p.Y[0]) {
 		return nil
+	}
+	// The view: where the exact mass and the shown fits' 99 % contours are.
+	ex, ey := pairMarginals(nx, ny, p.Density)
+	xlo, xhi := viewOf(p.X, ex, nil)
+	ylo, yhi := viewOf(p.Y, ey, nil)
+	for _, meth := range plot.Fits {
+		if lines, ok := p.Ellipses[plot.StyleOf(meth).Key]; ok && o.shown(meth) {
+			xlo, xhi = extendByPolylines(xlo, xhi, p.X[0], p.X[nx-1], 0, lines[2:])
+			ylo, yhi = extendByPolylines(ylo, yhi, p.Y[0], p.Y[ny-1], 1, lines[2:])
+		}
 	}
 	edges := mx != nil && my != nil && !o.Compact
 	f := &Figure{W: 480, H: 480}
@@ -61,7 +69,7 @@ func Pair(p *engine.Marginal2D, mx, my *engine.Marginal1D, o Options) *Figure {
 	if o.Compact {
 		res = max(80, min(res, 160))
 	}
-	f.Heat = HeatMap(p, res, res)
+	f.Heat = HeatMap(p, res, res, xlo, xhi, ylo, yhi)
 	f.Heat.Box = f.Plot
 
 	nt := 6
@@ -152,7 +160,7 @@ func (w *svgWriter) edgeMarginal(m *engine.Marginal1D, box Box, along plot.Linea
 		var p plot.Path
 		for i := range min(len(m.X), len(ys)) {
 			y := ys[i]
-			if math.IsNaN(y) || math.IsInf(y, 0) {
+			if math.IsNaN(y) || math.IsInf(y, 0) || m.X[i] < along.D0 || m.X[i] > along.D1 {
 				p.Lift()
 				continue
 			}
@@ -197,10 +205,11 @@ func (w *svgWriter) colourBar(id string, b Box) {
 	w.text(b.X0-3, b.Y1, "end", 9.5, inkFaint, "0")
 }
 
-// HeatMap renders the density relative to its peak as width by height RGBA
-// pixels through plot.Density, sampling the grid bilinearly at each pixel's
-// centre (the top row is the largest y). Non-finite densities count as 0.
-func HeatMap(p *engine.Marginal2D, width, height int) *Heat {
+// HeatMap renders the density relative to its peak over [x0, x1] by
+// [y0, y1] as width by height RGBA pixels through plot.Density, sampling the
+// grid bilinearly at each pixel's centre (the top row is the largest y).
+// Non-finite densities count as 0.
+func HeatMap(p *engine.Marginal2D, width, height int, x0, x1, y0, y1 float64) *Heat {
 	nx, ny := len(p.X), len(p.Y)
 	peak := 0.0
 	for _, v := range p.Density {
@@ -220,11 +229,11 @@ func HeatMap(p *engine.Marginal2D, width, height int) *Heat {
 	// Fractional grid index of each pixel column and row.
 	fx := make([]float64, width)
 	for i := range fx {
-		x := p.X[0] + (float64(i)+0.5)/float64(width)*(p.X[nx-1]-p.X[0])
+		x := x0 + (float64(i)+0.5)/float64(width)*(x1-x0)
 		fx[i] = fracIndex(p.X, x)
 	}
 	for row := range height {
-		y := p.Y[ny-1] - (float64(row)+0.5)/float64(height)*(p.Y[ny-1]-p.Y[0])
+		y := y1 - (float64(row)+0.5)/float64(height)*(y1-y0)
 		fy := fracIndex(p.Y, y)
 		iy := min(int(fy), ny-2)
 		ty := fy - float64(iy)

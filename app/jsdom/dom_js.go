@@ -140,3 +140,28 @@ func Focus(id string) error {
 
 // Available reports whether the browser's API is reachable.
 func Available() bool { return true }
+
+// Checked returns the checked property of the element with the given id (a
+// checkbox).
+func Checked(id string) (bool, error) {
+	el, err := element(id)
+	if err != nil {
+		return false, err
+	}
+	v, err := el.Get("checked")
+	if err != nil {
+		return false, err
+	}
+	return v.Bool()
+}
+
+// SetValidity sets the element's custom validity message ("" for valid), so
+// the browser marks an input whose text is not acceptable.
+func SetValidity(id, message string) error {
+	el, err := element(id)
+	if err != nil {
+		return err
+	}
+	_, err = el.Call("setCustomValidity", message)
+	return err
+}

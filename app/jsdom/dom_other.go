@@ -19,3 +19,10 @@ func Focus(id string) error { return ErrNoBrowser }
 
 // Available reports whether the browser's API is reachable: false natively.
 func Available() bool { return false }
+
+// Checked reads a checkbox; natively it returns ErrNoBrowser.
+func Checked(id string) (bool, error) { return false, ErrNoBrowser }
+
+// SetValidity sets an input's validity message; natively it returns
+// ErrNoBrowser.
+func SetValidity(id, message string) error { return ErrNoBrowser }

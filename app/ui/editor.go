@@ -6,6 +6,8 @@ import (
 	"unicode/utf8"
 
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
+
+	"bellcheck/app/jsdom"
 )
 
 // EditorID is the id of the model's textarea.
@@ -120,11 +122,11 @@ func (e *Editor) status(showMarks bool) app.UI {
 }
 
 func (e *Editor) onInput(ctx app.Context, ev app.Event) {
-	v := ctx.JSSrc().Get("value")
-	if v.Type() != app.TypeString || e.Host == nil {
+	v, err := jsdom.Value(EditorID)
+	if err != nil || e.Host == nil {
 		return
 	}
-	e.Host.Input(ctx, v.String())
+	e.Host.Input(ctx, v)
 }
 
 // byteOffset returns the byte offset of line and rune column (1-based) in

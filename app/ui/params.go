@@ -7,6 +7,7 @@ import (
 
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
 
+	"bellcheck/app/jsdom"
 	"bellcheck/app/plot"
 	"bellcheck/engine"
 	"bellcheck/engine/model"
@@ -36,7 +37,8 @@ func ParamViews(s *Session) []ParamView {
 		if r := s.Result; r != nil {
 			for k, name := range r.Params {
 				if name == p.Name && k < len(r.Grid.Lo) && k < len(r.Grid.Hi) && k < len(r.Grid.Points) {
-					v.UsedLo, v.UsedHi, v.UsedPoints = r.Grid.Lo[k], r.Grid.Hi[k], r.Grid.Points[k]
+					sc := resultScale(r, k)
+					v.UsedLo, v.UsedHi, v.UsedPoints = Back(sc, p.Lo, p.Hi, r.Grid.Lo[k]), Back(sc, p.Lo, p.Hi, r.Grid.Hi[k]), r.Grid.Points[k]
 				}
 			}
 		}
@@ -65,30 +67,20 @@ type ParamPanel struct {
 	Params []ParamView
 }
 
-// Render draws the panel as a table of labelled controls.
+// Render draws one block per parameter: its name and support, then its
+// controls, each with a visible label.
 func (pp *ParamPanel) Render() app.UI {
 	if len(pp.Params) == 0 {
 		return app.P().Class("muted").Text("Parameters appear here once the model checks.")
 	}
-	rows := make([]app.UI, 0, len(pp.Params))
+	blocks := make([]app.UI, 0, len(pp.Params))
 	for i, p := range pp.Params {
-		rows = append(rows, pp.row(i, p))
+		blocks = append(blocks, pp.block(i, p))
 	}
-	return app.Table().Class("params").Body(
-		app.Caption().Class("sr-only").Text("Parameters and their analysis settings"),
-		app.THead().Body(app.Tr().Body(
-			app.Th().Scope("col").Text("parameter"),
-			app.Th().Scope("col").Text("support"),
-			app.Th().Scope("col").Text("fit on scale"),
-			app.Th().Scope("col").Text("grid points"),
-			app.Th().Scope("col").Text("grid from"),
-			app.Th().Scope("col").Text("grid to"),
-		)),
-		app.TBody().Body(rows...),
-	)
+	return app.Div().Class("params").Body(blocks...)
 }
 
-func (pp *ParamPanel) row(i int, p ParamView) app.UI {
+func (pp *ParamPanel) block(i int, p ParamView) app.UI {
 	id := "bc-p" + strconv.Itoa(i)
 	mp := model.Param{Name: p.Name, Lo: p.Lo, Hi: p.Hi}
 	scales := []struct {
@@ -109,76 +101,104 @@ func (pp *ParamPanel) row(i int, p ParamView) app.UI {
 	name := p.Name
 	pointsPH, loPH, hiPH := "auto", "auto", "auto"
 	if p.UsedPoints > 0 {
-		pointsPH = "auto (" + strconv.Itoa(p.UsedPoints) + ")"
-		loPH = "auto (" + plot.FormatNumber(p.UsedLo, 3) + ")"
-		hiPH = "auto (" + plot.FormatNumber(p.UsedHi, 3) + ")"
+		pointsPH = "auto: " + strconv.Itoa(p.UsedPoints)
+		loPH = "auto: " + plot.FormatNumber(p.UsedLo, 3)
+		hiPH = "auto: " + plot.FormatNumber(p.UsedHi, 3)
 	}
 	pointsVal := ""
 	if p.Options.Points > 0 {
 		pointsVal = strconv.Itoa(p.Options.Points)
 	}
-	return app.Tr().Body(
-		app.Th().Scope("row").Class("pname").Text(name),
-		app.Td().Class("num").Text(supportText(p.Lo, p.Hi)),
-		app.Td().Body(
-			app.Label().For(id+"-scale").Class("sr-only").Text("fitting scale of "+name),
-			app.Select().ID(id+"-scale").Disabled(len(opts) < 2).Body(opts...).
-				OnChange(func(ctx app.Context, e app.Event) {
-					o := p.Options
-					o.Scale = engine.Scale(ctx.JSSrc().Get("value").String())
-					pp.Host.SetParam(ctx, name, o)
-				}),
+	control := func(fid, label string, input app.UI) app.UI {
+		return app.Div().Class("pctl").Body(app.Label().For(fid).Text(label), input)
+	}
+	return app.Div().Class("param").Role("group").Aria("labelledby", id+"-name").Body(
+		app.Div().Class("param-head").Body(
+			app.Span().ID(id+"-name").Class("pname").Text(name),
+			app.Span().Class("support").Body(app.Span().Class("muted").Text("support "), app.Span().Class("mono").Text(supportText(p.Lo, p.Hi))),
 		),
-		app.Td().Body(
-			app.Label().For(id+"-points").Class("sr-only").Text("grid points of "+name),
-			app.Input().ID(id+"-points").Type("number").Min(MinPoints).Max(MaxPoints).Step(1).
-				Class("num-input").Placeholder(pointsPH).Value(pointsVal).
-				OnChange(func(ctx app.Context, e app.Event) {
-					o := p.Options
-					n, err := strconv.Atoi(strings.TrimSpace(ctx.JSSrc().Get("value").String()))
-					if err != nil || n <= 0 {
-						n = 0
-					}
-					o.Points = n
-					pp.Host.SetParam(ctx, name, o)
-				}),
+		app.Div().Class("param-controls").Body(
+			control(id+"-scale", "fit on scale",
+				app.Select().ID(id+"-scale").Disabled(len(opts) < 2).Title(scaleTitle(len(opts))).Body(opts...).
+					OnChange(func(ctx app.Context, e app.Event) {
+						o := p.Options
+						v, err := jsdom.Value(id + "-scale")
+						if err != nil {
+							return
+						}
+						o.Scale = engine.Scale(v)
+						pp.Host.SetParam(ctx, name, o)
+					})),
+			control(id+"-points", "grid points",
+				app.Input().ID(id+"-points").Type("number").Min(MinPoints).Max(MaxPoints).Step(1).
+					Class("num-input").Placeholder(pointsPH).Value(pointsVal).
+					OnChange(func(ctx app.Context, e app.Event) {
+						o := p.Options
+						v, err := jsdom.Value(id + "-points")
+						if err != nil {
+							return
+						}
+						n, err := strconv.Atoi(strings.TrimSpace(v))
+						if err != nil || n <= 0 {
+							n = 0
+						}
+						o.Points = n
+						pp.Host.SetParam(ctx, name, o)
+					})),
+			control(id+"-lo", "grid from", boundInput(id+"-lo", loPH, p.Options.Lo, func(ctx app.Context, v *float64) {
+				o := p.Options
+				o.Lo = v
+				pp.Host.SetParam(ctx, name, o)
+			})),
+			control(id+"-hi", "grid to", boundInput(id+"-hi", hiPH, p.Options.Hi, func(ctx app.Context, v *float64) {
+				o := p.Options
+				o.Hi = v
+				pp.Host.SetParam(ctx, name, o)
+			})),
 		),
-		app.Td().Body(boundInput(id+"-lo", "grid lower end of "+name, loPH, p.Options.Lo, func(ctx app.Context, v *float64) {
-			o := p.Options
-			o.Lo = v
-			pp.Host.SetParam(ctx, name, o)
-		})),
-		app.Td().Body(boundInput(id+"-hi", "grid upper end of "+name, hiPH, p.Options.Hi, func(ctx app.Context, v *float64) {
-			o := p.Options
-			o.Hi = v
-			pp.Host.SetParam(ctx, name, o)
-		})),
 	)
 }
 
+func scaleTitle(n int) string {
+	if n < 2 {
+		return "log and logit scales need a bounded support, such as param s in [0, inf]"
+	}
+	return "the scale on which the Gaussian fits are made"
+}
+
 // boundInput is a text input for an optional number; blank means automatic.
-func boundInput(id, label, placeholder string, v *float64, set func(app.Context, *float64)) app.UI {
+func boundInput(id, placeholder string, v *float64, set func(app.Context, *float64)) app.UI {
 	val := ""
 	if v != nil {
 		val = strconv.FormatFloat(*v, 'g', -1, 64)
 	}
-	return app.Div().Body(
-		app.Label().For(id).Class("sr-only").Text(label),
-		app.Input().ID(id).Type("text").Attr("inputmode", "decimal").Class("num-input").
-			Placeholder(placeholder).Value(val).
-			OnChange(func(ctx app.Context, e app.Event) {
-				s := strings.TrimSpace(ctx.JSSrc().Get("value").String())
-				s = strings.ReplaceAll(s, "−", "-")
-				if s == "" {
-					set(ctx, nil)
-					return
-				}
-				x, err := strconv.ParseFloat(s, 64)
-				if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
-					set(ctx, nil)
-					return
-				}
-				set(ctx, &x)
-			}),
-	)
+	return app.Input().ID(id).Type("text").Attr("inputmode", "decimal").Class("num-input").
+		Placeholder(placeholder).Value(val).
+		OnChange(func(ctx app.Context, e app.Event) {
+			raw, err := jsdom.Value(id)
+			if err != nil {
+				return
+			}
+			s := strings.ReplaceAll(strings.TrimSpace(raw), "−", "-")
+			if s == "" {
+				set(ctx, nil)
+				return
+			}
+			x, err := strconv.ParseFloat(s, 64)
+			if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
+				_ = jsdom.SetValidity(id, "not a number: leave blank for automatic")
+				set(ctx, nil)
+				return
+			}
+			_ = jsdom.SetValidity(id, "")
+			set(ctx, &x)
+		})
+}
+
+// resultScale returns the fitting scale of parameter k in a result.
+func resultScale(r *engine.Result, k int) engine.Scale {
+	if k < len(r.Scales) {
+		return engine.Scale(r.Scales[k])
+	}
+	return engine.Identity
 }

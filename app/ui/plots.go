@@ -3,6 +3,7 @@ package ui
 import (
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
 
+	"bellcheck/app/jsdom"
 	"bellcheck/app/plot"
 )
 
@@ -95,8 +96,12 @@ func (pp *PlotPanel) legend(fs *FigureSet) app.UI {
 		items = append(items, app.Label().For(id).Class("legend-item").Title(s.Long).Body(
 			app.Input().Type("checkbox").ID(id).Checked(!pp.View.Hidden[m]).
 				OnChange(func(ctx app.Context, e app.Event) {
+					on, err := jsdom.Checked(id)
+					if err != nil {
+						return
+					}
 					v := pp.View
-					v.Hidden[m] = !ctx.JSSrc().Get("checked").Bool()
+					v.Hidden[m] = !on
 					pp.Host.SetView(ctx, v.Log, v.Hidden)
 				}),
 			swatch(m),
@@ -108,7 +113,11 @@ func (pp *PlotPanel) legend(fs *FigureSet) app.UI {
 		items = append(items, app.Label().For("bc-log").Class("legend-item log-toggle").Body(
 			app.Input().Type("checkbox").ID("bc-log").Checked(pp.View.Log).
 				OnChange(func(ctx app.Context, e app.Event) {
-					pp.Host.SetView(ctx, ctx.JSSrc().Get("checked").Bool(), pp.View.Hidden)
+					on, err := jsdom.Checked("bc-log")
+					if err != nil {
+						return
+					}
+					pp.Host.SetView(ctx, on, pp.View.Hidden)
 				}),
 			app.Span().Text("log density"),
 		))

@@ -104,7 +104,7 @@ type Diagnostics struct {
 // Render draws the list.
 func (d *Diagnostics) Render() app.UI {
 	if len(d.Items) == 0 {
-		return app.Div().Class("diag-empty muted").Text("No warnings: the grid holds the mass and every fit converged.")
+		return app.Div().Class("diag-empty muted").Text("No warnings: none of the checks found a problem.")
 	}
 	rank := map[string]int{engine.SeverityError: 0, engine.SeverityWarning: 1, engine.SeverityInfo: 2}
 	items := append([]engine.Diagnostic(nil), d.Items...)
@@ -152,7 +152,7 @@ func (m *Modes) Render() app.UI {
 		head = append(head, app.Th().Scope("col").Text(p))
 	}
 	head = append(head,
-		app.Th().Scope("col").Title("log-density at the mode, up to the model's constant").Text("log p"),
+		app.Th().Scope("col").Title("log-density at the mode, up to the model's constant; on the fitting scale (with its Jacobian) where a parameter is transformed").Text("log p"),
 		app.Th().Scope("col").Title("approximate share of the mass near this mode").Text("mass"),
 		app.Th().Scope("col").Text("curvature"),
 	)
