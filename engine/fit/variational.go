@@ -22,16 +22,16 @@ type Settings struct {
 	// Tol is the convergence tolerance on both residuals (see
 	// VariationalFit); 0 means 1e-10.
 	Tol float64
-	// MaxNodes is the budget of the cubature refinement. The order per axis
-	// is doubled (at most 200) while Order^d stays within MaxNodes, and the
-	// iteration goes on from where it was, when the rule does not resolve
-	// the density on the scale of q: when the iteration stalls short of Tol
-	// (ten accepted steps without the map's residual falling by a tenth, and
-	// the ELBO flat to 1e-9), or when it converges but its residuals under
-	// the coarser check rule (see VariationalFit.CubatureErr) exceed
-	// Resolution. 0 means 4096
-	// (up to 200 nodes in one dimension, 64 in two, 16 in three, 8 in four);
-	// a budget at or below Order^d turns refinement off.
+	// MaxNodes is the budget of the cubature refinement. When the rule does
+	// not resolve the density on the scale of q, the order per axis is
+	// doubled (at most 200) while Order^d stays within MaxNodes, and the
+	// iteration goes on from where it was. That is judged so: the iteration
+	// stalls short of Tol (ten accepted steps without the map's residual
+	// falling by a tenth, and the ELBO flat to 1e-9), or it converges but
+	// its residuals under the coarser check rule (see
+	// VariationalFit.CoarseResidual) exceed Resolution. 0 means 4096 (up to
+	// 200 nodes in one dimension, 64 in two, 16 in three, 8 in four); a
+	// budget at or below Order^d turns refinement off.
 	MaxNodes int
 	// Resolution is the largest residual of the converged fit under the
 	// coarser check rule that needs no refinement (VariationalFit.
@@ -94,7 +94,9 @@ type VariationalFit struct {
 	Precision *mat.SymDense
 	// Iterations counts the accepted steps.
 	Iterations int
-	Converged  bool
+	// Converged reports that both residuals met Settings.Tol under the final
+	// rule (see CoarseResidual for how well that rule resolves the optimum).
+	Converged bool
 	// GradResidual is |Lᵀ E_q[grad log p]| with Σ = L Lᵀ: the mean's
 	// stationarity residual in units of the fit's standard deviations.
 	GradResidual float64
@@ -105,9 +107,8 @@ type VariationalFit struct {
 	// ELBOTrace holds the ELBO of the initial and of every accepted iterate.
 	// No entry falls below the highest before it by more than
 	// 1e-10 (1 + |ELBO|), the tie level at which a lower residual decides
-	// (see ReverseKL). After a
-	// refinement of the cubature it holds the same iterate's ELBO under the
-	// finer rule, which may differ either way.
+	// (see ReverseKL). After a refinement of the cubature it holds the same
+	// iterate's ELBO under the finer rule, which may differ either way.
 	ELBOTrace []float64
 	// Evaluations counts the cubature passes (each Order^d evaluations of
 	// log p with its derivatives), rejected trial steps included, and the
@@ -115,10 +116,9 @@ type VariationalFit struct {
 	Evaluations int
 	// CubatureErr estimates the cubature's error in the ELBO: the change in
 	// the ELBO of the final q under a coarser rule, with a quarter fewer
-	// nodes per axis (at least two fewer).
-	// It is an estimate, not a bound (on the tests' targets it came within
-	// a factor of three of the true error). NaN when the order is too low to
-	// compare (under 3) or the coarser rule meets a non-finite log p.
+	// nodes per axis (at least two fewer). It is an estimate, not a bound;
+	// on the tests' targets it exceeded the true error. NaN when the order
+	// is under 3 or the coarser rule meets a non-finite log p.
 	CubatureErr float64
 	// CoarseResidual is the larger of the two residuals of the final q
 	// under that coarser rule: how well the cubature resolves the optimum
@@ -322,9 +322,6 @@ func variational(ctx context.Context, p target.Density, init Gaussian, s Setting
 		if next == 0 {
 			return false, nil
 		}
-		if err := ctx.Err(); err != nil {
-			return false, err
-		}
 		fine, err := newRule(d, next)
 		if err != nil {
 			return false, err
@@ -351,6 +348,9 @@ func variational(ctx context.Context, p target.Density, init Gaussian, s Setting
 			if !(coarseRes > s.Resolution) {
 				converged = true
 				break
+			}
+			if err := ctx.Err(); err != nil {
+				return VariationalFit{}, err
 			}
 			ok, err := refine()
 			if err != nil {
@@ -421,6 +421,9 @@ func variational(ctx context.Context, p target.Density, init Gaussian, s Setting
 		// accurate cubature the fixed point is the ELBO's maximum, so this
 		// means the rule does not resolve the density on the scale of q:
 		// refine it and go on from here, within the node budget.
+		if err := ctx.Err(); err != nil {
+			return VariationalFit{}, err
+		}
 		ok, err := refine()
 		if err != nil {
 			return VariationalFit{}, fmt.Errorf("%s: %w", name, err)

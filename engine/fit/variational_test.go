@@ -161,6 +161,30 @@ func TestDampingPreventsOscillation(t *testing.T) {
 			s2, dist = next, nd
 		}
 
+		// The package's own update with a = b = 1 (no damping, no
+		// safeguard), applied repeatedly: it never settles either.
+		r, _ := newRule(1, defaultOrder(1))
+		v := newSolver(c.p, r, false)
+		st, next := v.newState(), v.newState()
+		st.cov[0], st.l[0], st.prec[0] = 1, 1, 1
+		if err := v.evaluate(st); err != nil {
+			t.Fatal(err)
+		}
+		for k := 0; k < 4; k++ {
+			if !v.damped(st, next, 1, 1) {
+				// -E_q[H] = 3 s² or 15 s^4 > 0: the plain step cannot lose
+				// positive definiteness here.
+				t.Fatalf("%s: the plain update is not positive definite", c.name)
+			}
+			if err := v.evaluate(next); err != nil {
+				t.Fatal(err)
+			}
+			if (st.cov[0]-c.fixed)*(next.cov[0]-c.fixed) >= 0 {
+				t.Errorf("%s: the plain update went from %v to %v, not across %v", c.name, st.cov[0], next.cov[0], c.fixed)
+			}
+			st, next = next, st
+		}
+
 		vf, err := ReverseKL(bg, c.p, Gaussian{Mean: []float64{0}, Cov: sym(1, 1)}, Settings{})
 		if err != nil {
 			t.Fatalf("%s: %v", c.name, err)
