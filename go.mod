@@ -13,4 +13,5 @@ require (
 	github.com/go-json-experiment/json v0.0.0-20260213210345-44df1a37e875 // indirect
 	github.com/google/uuid v1.6.0 // indirect
 	github.com/hack-pad/safejs v0.1.0 // indirect
+	golang.org/x/tools v0.30.0 // indirect
 )

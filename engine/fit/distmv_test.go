@@ -1,7 +1,5 @@
-//go:build distmv
-
-// These checks use gonum's stat/distmv, which needs golang.org/x/tools in
-// go.sum. Run them with -tags distmv once the module lists it.
+// These checks compare the package's Gaussian helpers with gonum's
+// stat/distmv, an independent implementation.
 
 package fit
 
