@@ -184,6 +184,10 @@ func (js *jetSpace) run(ev *Evaluator, x, grad, hess []float64) float64 {
 
 // unaryRule writes the jet of f(a) given f, f' and f” at a's value.
 func (js *jetSpace) unaryRule(dst, a []float64, f, f1, f2 float64) {
+	if f1-f1 != 0 || f2-f2 != 0 || f1 == 0 && f2 == 0 {
+		js.unaryRuleSingular(dst, a, f, f1, f2)
+		return
+	}
 	d := js.d
 	dst = dst[:js.S]
 	a = a[:js.S]
@@ -207,8 +211,60 @@ func (js *jetSpace) unaryRule(dst, a []float64, f, f1, f2 float64) {
 	}
 }
 
+// logRule writes the jet of log(a) (or log1p(a), with r = 1/(1+a)) as
+// gradient u = r a.g and Hessian r a.H - u u^T: the same as unaryRule with
+// f' = r, f” = -r^2, but without underflow of r^2 where a is huge.
+func (js *jetSpace) logRule(dst, a []float64, f, r float64) {
+	if r-r != 0 || r == 0 {
+		js.unaryRuleSingular(dst, a, f, r, -r*r)
+		return
+	}
+	d := js.d
+	dst = dst[:js.S]
+	a = a[:js.S]
+	dst[0] = f
+	u := dst[1 : 1+d]
+	ag := a[1 : 1+d]
+	ag = ag[:len(u)]
+	for i := range u {
+		u[i] = r * ag[i]
+	}
+	aH := a[1+d:]
+	dH := dst[1+d:]
+	aH = aH[:len(dH)]
+	t := 0
+	for i := range u {
+		for _, uj := range u[i:] {
+			dH[t] = r*aH[t] - u[i]*uj
+			t++
+		}
+	}
+}
+
+// unaryRuleSingular is unaryRule where f' or f” is infinite or NaN: a
+// derivative that is exactly zero in a (a parameter a does not depend on)
+// stays zero instead of becoming NaN.
+func (js *jetSpace) unaryRuleSingular(dst, a []float64, f, f1, f2 float64) {
+	d := js.d
+	dst[0] = f
+	for i := 0; i < d; i++ {
+		dst[1+i] = mulStructural(f1, a[1+i])
+	}
+	t := 1 + d
+	for i := 0; i < d; i++ {
+		for j := i; j < d; j++ {
+			dst[t] = mulStructural(f1, a[t]) + mulStructural(f2, a[1+i]*a[1+j])
+			t++
+		}
+	}
+}
+
 // binaryRule writes the jet of f(a, b) given its partial derivatives.
 func (js *jetSpace) binaryRule(dst, a, b []float64, f, fa, fb, faa, fab, fbb float64) {
+	if fa-fa != 0 || fb-fb != 0 || faa-faa != 0 || fab-fab != 0 || fbb-fbb != 0 {
+		js.binaryRuleSingular(dst, a, b, f, fa, fb, faa, fab, fbb)
+		return
+	}
 	d := js.d
 	dst = dst[:js.S]
 	a = a[:js.S]
@@ -234,6 +290,32 @@ func (js *jetSpace) binaryRule(dst, a, b []float64, f, fa, fb, faa, fab, fbb flo
 			t++
 		}
 	}
+}
+
+// binaryRuleSingular is binaryRule where a partial derivative is infinite
+// or NaN; see unaryRuleSingular.
+func (js *jetSpace) binaryRuleSingular(dst, a, b []float64, f, fa, fb, faa, fab, fbb float64) {
+	d := js.d
+	dst[0] = f
+	for i := 0; i < d; i++ {
+		dst[1+i] = mulStructural(fa, a[1+i]) + mulStructural(fb, b[1+i])
+	}
+	t := 1 + d
+	for i := 0; i < d; i++ {
+		for j := i; j < d; j++ {
+			ai, aj, bi, bj := a[1+i], a[1+j], b[1+i], b[1+j]
+			dst[t] = mulStructural(fa, a[t]) + mulStructural(fb, b[t]) + mulStructural(faa, ai*aj) + mulStructural(fab, ai*bj+bi*aj) + mulStructural(fbb, bi*bj)
+			t++
+		}
+	}
+}
+
+// mulStructural is c*x, but 0 where c or x is 0 whatever the other.
+func mulStructural(c, x float64) float64 {
+	if x == 0 || c == 0 {
+		return 0
+	}
+	return c * x
 }
 
 // setConst writes the jet of a constant.
@@ -331,6 +413,14 @@ func (js *jetSpace) apply(op opcode, k float64, dst []float64, av float64, a []f
 			return
 		}
 		setConst(dst, guard(op, av, bv, k))
+		return
+	}
+	switch op {
+	case opLog:
+		js.logRule(dst, a, math.Log(av), 1/av)
+		return
+	case opLog1p:
+		js.logRule(dst, a, math.Log1p(av), 1/(1+av))
 		return
 	}
 	info := &ops[op]
