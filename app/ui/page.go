@@ -51,6 +51,9 @@ type Page struct {
 	figs     *FigureSet
 	sections []Section
 	progress bool
+	// figTime and drawTime are how long the page took to draw the last
+	// result's figures and to put it on the page.
+	figTime, drawTime time.Duration
 
 	// analyse runs analyses (engine.Analyse unless a test sets it).
 	analyse AnalyseFunc
@@ -191,9 +194,12 @@ func (p *Page) start(ctx app.Context) {
 		})
 		var figs *FigureSet
 		var secs []Section
+		var figTime time.Duration
 		if err == nil && res != nil && actx.Err() == nil {
 			y.Yield()
+			tf := time.Now()
 			figs = BuildFigures(res, view)
+			figTime = time.Since(tf)
 			y.Yield()
 			secs = Table(res, run.Model)
 		}
@@ -203,6 +209,9 @@ func (p *Page) start(ctx app.Context) {
 			if !p.s.Finish(run, res, err, elapsed, longest) {
 				return
 			}
+			p.figTime = figTime
+			drawStart := time.Now()
+			ctx.Defer(func(app.Context) { p.drawTime = time.Since(drawStart) })
 			p.progress = false
 			if err == nil && res != nil {
 				if p.view != view {
@@ -233,7 +242,7 @@ func (p *Page) Render() app.UI {
 				card("Modes and grid", "bc-h-modes", p.modesAndGrid(stale)),
 			),
 		),
-		p.footer(),
+		&Footer{},
 	)
 }
 
@@ -387,13 +396,21 @@ func (p *Page) modesAndGrid(stale bool) app.UI {
 			app.Dt().Text("mass in the edge layer"), app.Dd().Text(plot.FormatNumber(r.Grid.EdgeMass, 2)+" (largest over the faces)"),
 			app.Dt().Text("grid points where log p is undefined"), app.Dd().Text(fmtPercent(r.Grid.NonFinite)),
 			app.Dt().Text("log Z error estimate"), app.Dd().Text(fmtErr(r.Exact.LogZErr)+" (change from half resolution)"),
+			app.Dt().Text("page time"), app.Dd().Text("figures "+fmtMillis(p.figTime)+", last update of the page "+fmtMillis(p.drawTime)),
 			app.Dt().Text("engine time"), app.Dd().Text(fmtMillis(time.Duration(r.Timing.Total*float64(time.Millisecond)))+
 				app.FormatString(" (%s)", strings.Join(st, ", "))),
 		),
 	)
 }
 
-func (p *Page) footer() app.UI {
+// Footer is the page's foot: the caution note and the language reference.
+// It has no inputs, so go-app never renders it again after the first time.
+type Footer struct {
+	app.Compo
+}
+
+// Render draws the foot.
+func (f *Footer) Render() app.UI {
 	names := model.FuncNames()
 	rows := make([]app.UI, 0, len(names))
 	for _, n := range names {
