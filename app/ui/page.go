@@ -79,6 +79,9 @@ func (p *Page) init() {
 		ex = examples.All[0]
 	}
 	p.example, p.initial, p.text = ex.ID, ex.Source, ex.Source
+	for name, o := range ex.Params {
+		p.s.SetParam(name, o)
+	}
 	p.s.Edit(ex.Source)
 }
 
@@ -146,6 +149,10 @@ func (p *Page) LoadExample(ctx app.Context, id string) {
 	p.pending = false
 	p.text, p.example = ex.Source, ex.ID
 	_ = jsdom.SetValue(EditorID, ex.Source) // natively there is no editor to set
+	p.s.ResetParams()
+	for name, o := range ex.Params {
+		p.s.SetParam(name, o)
+	}
 	p.check(ctx)
 }
 

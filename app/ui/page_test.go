@@ -209,3 +209,24 @@ func TestDefaultPageRenders(t *testing.T) {
 		}
 	}
 }
+
+func TestExampleBringsItsSuggestedScale(t *testing.T) {
+	var mu sync.Mutex
+	var last engine.Options
+	h, e := mount(t, func(ctx context.Context, m *model.Model, o engine.Options, pr engine.ProgressFunc) (*engine.Result, error) {
+		mu.Lock()
+		last = o
+		mu.Unlock()
+		return resultFor(m), nil
+	})
+	h.page.LoadExample(h.ctx, "decay")
+	e.ConsumeAll()
+	mu.Lock()
+	defer mu.Unlock()
+	if len(last.Params) != 1 || last.Params[0].Scale != engine.Log {
+		t.Errorf("decay example analysed with %+v, want the log scale", last.Params)
+	}
+	if h.page.example != "decay" || h.page.text != h.page.s.Source {
+		t.Error("example not loaded into the editor state")
+	}
+}

@@ -101,16 +101,17 @@ func (pp *ParamPanel) block(i int, p ParamView) app.UI {
 	name := p.Name
 	pointsPH, loPH, hiPH := "auto", "auto", "auto"
 	if p.UsedPoints > 0 {
-		pointsPH = "auto: " + strconv.Itoa(p.UsedPoints)
-		loPH = "auto: " + plot.FormatNumber(p.UsedLo, 3)
-		hiPH = "auto: " + plot.FormatNumber(p.UsedHi, 3)
+		pointsPH = strconv.Itoa(p.UsedPoints)
+		loPH = plot.FormatNumber(p.UsedLo, 3)
+		hiPH = plot.FormatNumber(p.UsedHi, 3)
 	}
 	pointsVal := ""
 	if p.Options.Points > 0 {
 		pointsVal = strconv.Itoa(p.Options.Points)
 	}
 	control := func(fid, label string, input app.UI) app.UI {
-		return app.Div().Class("pctl").Body(app.Label().For(fid).Text(label), input)
+		return app.Div().Class("pctl").Title("leave blank to choose automatically; the grey value is the one used").
+			Body(app.Label().For(fid).Text(label), input)
 	}
 	return app.Div().Class("param").Role("group").Aria("labelledby", id+"-name").Body(
 		app.Div().Class("param-head").Body(
@@ -118,7 +119,7 @@ func (pp *ParamPanel) block(i int, p ParamView) app.UI {
 			app.Span().Class("support").Body(app.Span().Class("muted").Text("support "), app.Span().Class("mono").Text(supportText(p.Lo, p.Hi))),
 		),
 		app.Div().Class("param-controls").Body(
-			control(id+"-scale", "fit on scale",
+			app.Div().Class("pctl").Body(app.Label().For(id+"-scale").Text("fit on scale"),
 				app.Select().ID(id+"-scale").Disabled(len(opts) < 2).Title(scaleTitle(len(opts))).Body(opts...).
 					OnChange(func(ctx app.Context, e app.Event) {
 						o := p.Options

@@ -169,6 +169,9 @@ func (s *Session) SetParam(name string, o engine.ParamOptions) {
 	s.params[name] = o
 }
 
+// ResetParams forgets every parameter's options.
+func (s *Session) ResetParams() { s.params = nil }
+
 // Options returns the analysis options for the current model: each
 // parameter's chosen options, with a scale its support does not allow
 // dropped back to identity and a box outside the support clipped to it.
