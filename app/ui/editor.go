@@ -50,10 +50,10 @@ func (e *Editor) Render() app.UI {
 		}
 		gutter = append(gutter, app.Span().Class(cls).Text(strconv.Itoa(i)), app.Text("\n"))
 	}
-	code := []app.UI{}
-	if showMarks {
-		code = append(code, e.underlay())
-	}
+	// The underlay is always there, empty without marks: the textarea must
+	// keep its place among its siblings, or go-app would replace it with a
+	// new one holding the initial text.
+	code := []app.UI{e.underlay(showMarks)}
 	code = append(code, app.Textarea().
 		ID(EditorID).
 		Class("code-input").
@@ -79,7 +79,10 @@ func (e *Editor) Render() app.UI {
 
 // underlay is a copy of the text behind the transparent textarea, with the
 // first error's character marked, so the mark sits exactly under it.
-func (e *Editor) underlay() app.UI {
+func (e *Editor) underlay(show bool) app.UI {
+	if !show {
+		return app.Pre().Class("code-underlay").Aria("hidden", "true")
+	}
 	er := e.Errors[0]
 	off := byteOffset(e.Text, er.Line, er.Col)
 	end := off

@@ -89,3 +89,20 @@ func TestFigureSetShapes(t *testing.T) {
 		}
 	}
 }
+
+func TestEditorKeepsTheTextareaInPlace(t *testing.T) {
+	// go-app diffs children by position: if the textarea moved when marks
+	// appear, it would be rebuilt with the initial text, losing the edits.
+	text := "param x\nld_normal(x, 0\n"
+	for _, ed := range []*Editor{
+		{Text: text, Checked: text},
+		{Text: text, Checked: text, Errors: []SourceError{{Line: 2, Col: 15, Msg: "expected ')'"}}},
+	} {
+		html := app.HTMLString(ed)
+		under, area := strings.Index(html, `class="code-underlay"`), strings.Index(html, "<textarea")
+		end := strings.LastIndex(html[:max(area, 0)], "</pre>")
+		if under < 0 || area < 0 || end < under || strings.TrimSpace(html[end+len("</pre>"):area]) != "" {
+			t.Fatalf("the textarea is not the underlay's next sibling:\n%s", html)
+		}
+	}
+}

@@ -239,7 +239,7 @@ func (p *Page) Render() app.UI {
 			app.Section().Class("col-input").Aria("label", "Model and settings").Body(
 				card("Model", "bc-h-model",
 					&Editor{Host: p, Initial: p.initial, Text: p.text, Checked: p.s.Source, Errors: p.s.Errors, Pending: p.pending}),
-				card("Parameters", "bc-h-params", &ParamPanel{Host: p, Params: ParamViews(&p.s)}),
+				card("Parameters", "bc-h-params", &ParamPanel{Host: p, Params: ParamViews(&p.s), Stale: p.s.Model == nil}),
 				card("Examples", "bc-h-examples", &Gallery{Host: p, Current: p.example}),
 			),
 			app.Section().Class("col-output").Aria("label", "Results").Body(

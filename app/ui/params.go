@@ -28,11 +28,15 @@ type ParamView struct {
 // ParamViews lists the current model's parameters with their options and
 // the grid the shown result used.
 func ParamViews(s *Session) []ParamView {
-	if s.Model == nil {
+	m := s.Model
+	if m == nil {
+		m = s.LastGood
+	}
+	if m == nil {
 		return nil
 	}
-	out := make([]ParamView, len(s.Model.Params))
-	for i, p := range s.Model.Params {
+	out := make([]ParamView, len(m.Params))
+	for i, p := range m.Params {
 		v := ParamView{Name: p.Name, Lo: p.Lo, Hi: p.Hi, Options: s.Param(p.Name), UsedLo: math.NaN(), UsedHi: math.NaN()}
 		if r := s.Result; r != nil {
 			for k, name := range r.Params {
@@ -65,6 +69,9 @@ type ParamPanel struct {
 	app.Compo
 	Host   Host
 	Params []ParamView
+	// Stale dims the panel while the text has errors (it shows the last
+	// valid model's parameters).
+	Stale bool
 }
 
 // Render draws one block per parameter: its name and support, then its
@@ -77,7 +84,11 @@ func (pp *ParamPanel) Render() app.UI {
 	for i, p := range pp.Params {
 		blocks = append(blocks, pp.block(i, p))
 	}
-	return app.Div().Class("params").Body(blocks...)
+	cls := "params"
+	if pp.Stale {
+		cls += " stale"
+	}
+	return app.Div().Class(cls).Body(blocks...)
 }
 
 func (pp *ParamPanel) block(i int, p ParamView) app.UI {

@@ -104,7 +104,11 @@ type Diagnostics struct {
 // Render draws the list.
 func (d *Diagnostics) Render() app.UI {
 	if len(d.Items) == 0 {
-		return app.Div().Class("diag-empty muted").Text("No warnings: none of the checks found a problem.")
+		cls := "diag-empty muted"
+		if d.Stale {
+			cls += " stale"
+		}
+		return app.Div().Class(cls).Text("No warnings: none of the checks found a problem.")
 	}
 	rank := map[string]int{engine.SeverityError: 0, engine.SeverityWarning: 1, engine.SeverityInfo: 2}
 	items := append([]engine.Diagnostic(nil), d.Items...)

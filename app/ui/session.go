@@ -35,6 +35,8 @@ type Session struct {
 	Model *model.Model
 	// Errors lists Source's problems (nil when it is valid).
 	Errors []SourceError
+	// LastGood is the last valid model, kept while the text has errors.
+	LastGood *model.Model
 
 	// Result is the newest accepted result, for ResultModel; it stays
 	// shown (dimmed, see Stale) while the text has errors or a newer
@@ -71,7 +73,7 @@ func (s *Session) Edit(src string) bool {
 		s.Errors = sourceErrors(err)
 		return false
 	}
-	s.Model, s.Errors = m, nil
+	s.Model, s.Errors, s.LastGood = m, nil, m
 	return true
 }
 
