@@ -274,7 +274,8 @@ func lower(b *builder, root int32, dim int) *program {
 	for _, k := range keys {
 		p.loops = append(p.loops, lowerLoop(nodes, reg, groups[k], k.n))
 		loopsAt[k.lvl] = append(loopsAt[k.lvl], len(p.loops)-1)
-		p.maxSlots = max(p.maxSlots, p.loops[len(p.loops)-1].nslots)
+		last := &p.loops[len(p.loops)-1]
+		p.maxSlots = max(p.maxSlots, last.nslots, last.jnslots)
 	}
 
 	// The scalar tape, level by level.
@@ -321,8 +322,9 @@ func (s *slotAllocator) get() int32 {
 	return int32(s.n - 1)
 }
 
-// lowerLoop builds the kernel that computes the vector operands of the
-// given reductions (all of length n).
+// lowerLoop builds the kernels that compute the vector operands of the
+// given reductions (all of length n): fused for value mode, plain for
+// derivative mode.
 func lowerLoop(nodes []node, reg []int32, reds []int32, n int) loop {
 	// The kernel's nodes: computed vectors reachable from the reductions
 	// through computed vectors.
@@ -345,88 +347,48 @@ func lowerLoop(nodes []node, reg []int32, reds []int32, n int) loop {
 			}
 		}
 	}
-	order := make([]int32, 0, len(in))
-	for id := range in {
-		order = append(order, id)
+	order := sortedKeys(in)
+	roots := make([]int32, len(reds))
+	for i, r := range reds {
+		roots[i] = nodes[r].a
 	}
-	sort.Slice(order, func(i, j int) bool { return order[i] < order[j] })
-
-	lastUse := map[int32]int{}
-	for i, id := range order {
-		nd := &nodes[id]
-		for _, arg := range [2]int32{nd.a, nd.b} {
-			if arg >= 0 {
-				lastUse[arg] = i
-			}
-		}
-	}
-	for _, r := range reds {
-		lastUse[nodes[r].a] = len(order) // read after the kernel
-	}
-
 	var lp loop
 	lp.n = n
-	var alloc slotAllocator
-	slot := map[int32]int32{}
-	// Constant vectors get pinned slots that view the data.
-	for _, id := range order {
-		nd := &nodes[id]
-		for _, arg := range [2]int32{nd.a, nd.b} {
-			if arg >= 0 && nodes[arg].cst && nodes[arg].vector() {
-				if _, ok := slot[arg]; !ok {
-					s := alloc.get()
-					slot[arg] = s
-					lp.pins = append(lp.pins, pin{slot: s, data: nodes[arg].vec})
+	for _, fused := range []bool{true, false} {
+		// Constant vectors get pinned slots that view the data.
+		pins := map[int32]int32{}
+		var pinList []pin
+		for _, id := range order {
+			nd := &nodes[id]
+			for _, arg := range [2]int32{nd.a, nd.b} {
+				if arg >= 0 && nodes[arg].cst && nodes[arg].vector() {
+					if _, ok := pins[arg]; !ok {
+						pins[arg] = int32(len(pinList))
+						pinList = append(pinList, pin{slot: int32(len(pinList)), data: nodes[arg].vec})
+					}
 				}
 			}
 		}
-	}
-	operand := func(arg int32) (int32, bool) {
-		if nodes[arg].vector() {
-			return slot[arg], true
+		ks := &kernelSpace{
+			nodes:     nodes,
+			inKernel:  func(id int32) bool { return in[id] },
+			isVec:     func(id int32) bool { return nodes[id].vector() },
+			pinned:    func(id int32) (int32, bool) { s, ok := pins[id]; return s, ok },
+			scalar:    func(id int32) int32 { return reg[id] },
+			firstFree: len(pinList),
 		}
-		return reg[arg], false
-	}
-	for i, id := range order {
-		nd := &nodes[id]
-		ki := kinstr{op: nd.op, k: nd.k}
-		switch {
-		case nd.op == opPack:
-			ki.form = formPack
-			ki.elems = make([]int32, len(nd.elems))
-			for j, e := range nd.elems {
-				ki.elems[j] = reg[e]
-			}
-		case nd.b < 0:
-			ki.form = formV
-			ki.a, _ = operand(nd.a)
-		default:
-			var va, vb bool
-			ki.a, va = operand(nd.a)
-			ki.b, vb = operand(nd.b)
-			switch {
-			case va && vb:
-				ki.form = formVV
-			case va:
-				ki.form = formVS
-			default:
-				ki.form = formSV
-			}
+		kern, nslots, rootSlots := ks.build(order, roots, fused)
+		var rs []reduction
+		for i, r := range reds {
+			rs = append(rs, reduction{op: nodes[r].op, src: rootSlots[i], dst: reg[r]})
 		}
-		ki.dst = alloc.get()
-		slot[id] = ki.dst
-		for _, arg := range [2]int32{nd.a, nd.b} {
-			if arg >= 0 && lastUse[arg] == i && in[arg] {
-				alloc.free = append(alloc.free, slot[arg])
-				lastUse[arg] = -1 // free once even when both operands are arg
-			}
+		if fused {
+			kern, rs = fuseReductions(kern, rs)
+			lp.kern, lp.nslots, lp.pins, lp.reds = kern, nslots, pinList, rs
+		} else {
+			lp.jkern, lp.jnslots, lp.jpins, lp.jreds = kern, nslots, pinList, rs
 		}
-		lp.kern = append(lp.kern, ki)
 	}
-	for _, r := range reds {
-		lp.reds = append(lp.reds, reduction{op: nodes[r].op, src: slot[nodes[r].a], dst: reg[r]})
-	}
-	lp.nslots = alloc.n
 	return lp
 }
 
@@ -442,75 +404,40 @@ func lowerBlock(nodes []node, reach []bool, root int32, dim int) *blockTape {
 		bt.rootConst = rn.val
 		return bt
 	}
-	var order []int32
+	in := map[int32]bool{}
 	for id := range nodes {
 		nd := &nodes[id]
 		if reach[id] && !nd.cst && nd.op != opParam {
-			order = append(order, int32(id))
+			in[int32(id)] = true
 		}
 	}
-	lastUse := map[int32]int{}
-	for i, id := range order {
-		nd := &nodes[id]
-		for _, arg := range [2]int32{nd.a, nd.b} {
-			if arg >= 0 {
-				lastUse[arg] = i
-			}
-		}
-	}
-	alloc := slotAllocator{n: dim} // slots 0..dim-1 view the parameters
 	for k := 0; k < dim; k++ {
-		bt.pins = append(bt.pins, pin{slot: int32(k), param: k})
+		bt.pins = append(bt.pins, pin{slot: int32(k), param: k}) // slots 0..dim-1 view the parameters
 	}
-	slot := map[int32]int32{}
 	konst := map[uint64]int32{}
-	operand := func(arg int32) (int32, bool) {
-		nd := &nodes[arg]
-		switch {
-		case nd.op == opParam:
-			return int32(nd.k), true
-		case nd.cst:
-			bits := math.Float64bits(nd.val)
+	ks := &kernelSpace{
+		nodes:    nodes,
+		inKernel: func(id int32) bool { return in[id] },
+		isVec:    func(id int32) bool { return !nodes[id].cst },
+		pinned: func(id int32) (int32, bool) {
+			if nodes[id].op == opParam {
+				return int32(nodes[id].k), true
+			}
+			return 0, false
+		},
+		scalar: func(id int32) int32 {
+			bits := math.Float64bits(nodes[id].val)
 			if c, ok := konst[bits]; ok {
-				return c, false
+				return c
 			}
 			c := int32(len(bt.consts))
-			bt.consts = append(bt.consts, nd.val)
+			bt.consts = append(bt.consts, nodes[id].val)
 			konst[bits] = c
-			return c, false
-		}
-		return slot[arg], true
+			return c
+		},
+		firstFree: dim,
 	}
-	for i, id := range order {
-		nd := &nodes[id]
-		ki := kinstr{op: nd.op, k: nd.k}
-		if nd.b < 0 {
-			ki.form = formV
-			ki.a, _ = operand(nd.a)
-		} else {
-			var va, vb bool
-			ki.a, va = operand(nd.a)
-			ki.b, vb = operand(nd.b)
-			switch {
-			case va && vb:
-				ki.form = formVV
-			case va:
-				ki.form = formVS
-			default:
-				ki.form = formSV
-			}
-		}
-		ki.dst = alloc.get()
-		slot[id] = ki.dst
-		for _, arg := range [2]int32{nd.a, nd.b} {
-			if arg >= 0 && lastUse[arg] == i && !nodes[arg].cst && nodes[arg].op != opParam {
-				alloc.free = append(alloc.free, slot[arg])
-				lastUse[arg] = -1
-			}
-		}
-		bt.kern = append(bt.kern, ki)
-	}
-	bt.rootSlot = slot[root]
-	bt.nslots = alloc.n
+	kern, nslots, rootSlots := ks.build(sortedKeys(in), []int32{root}, true)
+	bt.kern, bt.nslots, bt.rootSlot = kern, nslots, rootSlots[0]
 	return bt
 }

@@ -29,6 +29,8 @@ func (ev *Evaluator) Tape() string {
 			for _, red := range lp.reds {
 				fmt.Fprintf(&b, "  r%d = %s(s%d)\n", red.dst, ops[red.op].name, red.src)
 			}
+			fmt.Fprintf(&b, "  derivative mode, %d slots:\n", lp.jnslots)
+			writeKernel(&b, "    ", lp.jkern, "r")
 			continue
 		}
 		fmt.Fprintf(&b, "r%d = %s(r%d", in.dst, ops[in.op].name, in.a)
@@ -48,6 +50,11 @@ func (ev *Evaluator) Tape() string {
 
 func writeKernel(b *strings.Builder, indent string, kern []kinstr, scalar string) {
 	for _, in := range kern {
+		if in.op == opLin || in.op == opQuad {
+			fmt.Fprintf(b, "%ss%d = %s(a=s%d b=s%d sa=%s%d sb=%s%d k=%g k2=%g flags=%b)\n", indent, in.dst, ops[in.op].name,
+				in.a, in.b, scalar, in.sa, scalar, in.sb, in.k, in.k2, in.flags)
+			continue
+		}
 		fmt.Fprintf(b, "%ss%d = %s(", indent, in.dst, ops[in.op].name)
 		switch in.form {
 		case formV:

@@ -165,7 +165,12 @@ func (ev *Evaluator) runLoop(li int) {
 		}
 		runKernel(lp.kern, vs, r, m, off)
 		j := 0
-		for _, red := range lp.reds {
+		for ri := range lp.reds {
+			red := &lp.reds[ri]
+			if red.fused != nil {
+				r[red.dst] += linSum(red.fused, vs, r, m, red.op == opSumSq)
+				continue
+			}
 			v := vs[red.src][:m]
 			switch red.op {
 			case opSum:

@@ -461,13 +461,13 @@ func scale(dst, a []float64, c float64) {
 // with jets, a chunk of the data at a time, and the reductions of jets.
 func (js *jetSpace) runLoop(p *program, lp *loop) {
 	S := js.S
-	for s := 0; s < lp.nslots; s++ {
+	for s := 0; s < lp.jnslots; s++ {
 		js.pinned[s] = false
 	}
-	for _, pn := range lp.pins {
+	for _, pn := range lp.jpins {
 		js.pinned[pn.slot] = true
 	}
-	for ri, red := range lp.reds {
+	for ri, red := range lp.jreds {
 		acc := js.regs[int(red.dst)*S : int(red.dst+1)*S]
 		setConst(acc, 0)
 		switch red.op {
@@ -486,17 +486,17 @@ func (js *jetSpace) runLoop(p *program, lp *loop) {
 	}
 	for off := 0; off < lp.n; off += jetChunkLen {
 		m := min(jetChunkLen, lp.n-off)
-		for _, pn := range lp.pins {
+		for _, pn := range lp.jpins {
 			js.data[pn.slot] = pn.data[off : off+m]
 		}
-		for i := range lp.kern {
-			js.kernelInstr(p, &lp.kern[i], m, off)
+		for i := range lp.jkern {
+			js.kernelInstr(p, &lp.jkern[i], m, off)
 		}
-		for ri, red := range lp.reds {
+		for ri, red := range lp.jreds {
 			js.reduce(red, ri, m)
 		}
 	}
-	for ri, red := range lp.reds {
+	for ri, red := range lp.jreds {
 		if red.op == opRLse {
 			js.finishLse(red, ri)
 		}

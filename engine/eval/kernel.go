@@ -9,6 +9,15 @@ func runKernel(kern []kinstr, vs [][]float64, ss []float64, m, off int) {
 	for i := range kern {
 		in := &kern[i]
 		d := vs[in.dst][:m]
+		if in.op >= opLin {
+			switch in.op {
+			case opLin:
+				linLoop(in, d, vs, ss)
+			case opQuad:
+				quadLoop(in, d, vs, ss)
+			}
+			continue
+		}
 		switch in.form {
 		case formV:
 			unaryLoop(in, d, vs[in.a][:m])
@@ -23,6 +32,89 @@ func runKernel(kern []kinstr, vs [][]float64, ss []float64, m, off int) {
 			for j := range d {
 				d[j] = ss[el[j]]
 			}
+		}
+	}
+}
+
+// fusedScalars returns the c and s of a fused instruction.
+func fusedScalars(in *kinstr, ss []float64) (c, s float64) {
+	c, s = in.k, in.k2
+	if in.sa >= 0 {
+		c = ss[in.sa]
+		if in.flags&flagNegC != 0 {
+			c = -c
+		}
+	}
+	if in.sb >= 0 {
+		s = ss[in.sb]
+		if in.flags&flagNegS != 0 {
+			s = -s
+		}
+	}
+	return c, s
+}
+
+// linLoop computes (a + c) + s*b, or with b^2; the explicit conversions
+// round each product, as the unfused operations do.
+func linLoop(in *kinstr, d []float64, vs [][]float64, ss []float64) {
+	c, s := fusedScalars(in, ss)
+	b := vs[in.b][:len(d)]
+	sq := in.flags&flagSqB != 0
+	switch {
+	case in.flags&flagNoA != 0 && !sq:
+		for i := range d {
+			d[i] = c + float64(s*b[i])
+		}
+	case in.flags&flagNoA != 0:
+		for i := range d {
+			d[i] = c + float64(s*float64(b[i]*b[i]))
+		}
+	case in.flags&flagNoC != 0 && !sq:
+		a := vs[in.a][:len(d)]
+		for i := range d {
+			d[i] = a[i] + float64(s*b[i])
+		}
+	case in.flags&flagNoC != 0:
+		a := vs[in.a][:len(d)]
+		for i := range d {
+			d[i] = a[i] + float64(s*float64(b[i]*b[i]))
+		}
+	case !sq:
+		a := vs[in.a][:len(d)]
+		for i := range d {
+			d[i] = (a[i] + c) + float64(s*b[i])
+		}
+	default:
+		a := vs[in.a][:len(d)]
+		for i := range d {
+			d[i] = (a[i] + c) + float64(s*float64(b[i]*b[i]))
+		}
+	}
+}
+
+// quadLoop computes (a + c)^2 times or over k2.
+func quadLoop(in *kinstr, d []float64, vs [][]float64, ss []float64) {
+	c, _ := fusedScalars(in, ss)
+	k := in.k2
+	a := vs[in.a][:len(d)]
+	if in.flags&flagNoC != 0 {
+		c = 0 // x + 0 == x but for the sign of a zero, which squaring drops
+	}
+	switch {
+	case in.flags&flagNoK != 0:
+		for i := range d {
+			t := a[i] + c
+			d[i] = t * t
+		}
+	case in.flags&flagDiv != 0:
+		for i := range d {
+			t := a[i] + c
+			d[i] = float64(t*t) / k
+		}
+	default:
+		for i := range d {
+			t := a[i] + c
+			d[i] = float64(t*t) * k
 		}
 	}
 }
@@ -170,6 +262,83 @@ func binarySV(in *kinstr, d []float64, s float64, b []float64) {
 			d[i] = f(s, b[i], k)
 		}
 	}
+}
+
+// linSum is sum4 (squares: sumSq4) of the values of an opLin over m
+// elements, without storing them: the same numbers added in the same order.
+func linSum(in *kinstr, vs [][]float64, ss []float64, m int, squares bool) float64 {
+	c, s := fusedScalars(in, ss)
+	b := vs[in.b][:m]
+	var a []float64
+	if in.flags&flagNoA == 0 {
+		a = vs[in.a][:m]
+	}
+	noC := in.flags&flagNoC != 0
+	var s0, s1, s2, s3 float64
+	i := 0
+	switch {
+	case a != nil && noC:
+		for ; i+4 <= m; i += 4 {
+			aw, bw := a[i:i+4:i+4], b[i:i+4:i+4]
+			t0 := aw[0] + float64(s*bw[0])
+			t1 := aw[1] + float64(s*bw[1])
+			t2 := aw[2] + float64(s*bw[2])
+			t3 := aw[3] + float64(s*bw[3])
+			if squares {
+				t0, t1, t2, t3 = t0*t0, t1*t1, t2*t2, t3*t3
+			}
+			s0 += t0
+			s1 += t1
+			s2 += t2
+			s3 += t3
+		}
+	case a != nil:
+		for ; i+4 <= m; i += 4 {
+			aw, bw := a[i:i+4:i+4], b[i:i+4:i+4]
+			t0 := (aw[0] + c) + float64(s*bw[0])
+			t1 := (aw[1] + c) + float64(s*bw[1])
+			t2 := (aw[2] + c) + float64(s*bw[2])
+			t3 := (aw[3] + c) + float64(s*bw[3])
+			if squares {
+				t0, t1, t2, t3 = t0*t0, t1*t1, t2*t2, t3*t3
+			}
+			s0 += t0
+			s1 += t1
+			s2 += t2
+			s3 += t3
+		}
+	default:
+		for ; i+4 <= m; i += 4 {
+			bw := b[i : i+4 : i+4]
+			t0 := c + float64(s*bw[0])
+			t1 := c + float64(s*bw[1])
+			t2 := c + float64(s*bw[2])
+			t3 := c + float64(s*bw[3])
+			if squares {
+				t0, t1, t2, t3 = t0*t0, t1*t1, t2*t2, t3*t3
+			}
+			s0 += t0
+			s1 += t1
+			s2 += t2
+			s3 += t3
+		}
+	}
+	for ; i < m; i++ {
+		var t float64
+		switch {
+		case a != nil && noC:
+			t = a[i] + float64(s*b[i])
+		case a != nil:
+			t = (a[i] + c) + float64(s*b[i])
+		default:
+			t = c + float64(s*b[i])
+		}
+		if squares {
+			t = t * t
+		}
+		s0 += t
+	}
+	return (s0 + s1) + (s2 + s3)
 }
 
 // sum4 adds up v with four partial sums (the additions of one chain do not

@@ -74,6 +74,10 @@ const (
 	opPack  // a vector of scalars (a vector literal with variable elements)
 	opLoop  // a vector loop (scalar tape only): a is the loop's index
 
+	// Fused kernel operations (value mode only; see fuse.go).
+	opLin  // (a + c) + s*b
+	opQuad // (a + c)^2 * k2 (or / k2)
+
 	numOps
 )
 
@@ -293,6 +297,8 @@ func init() {
 	ops[opConst] = opInfo{name: "const"}
 	ops[opPack] = opInfo{name: "pack"}
 	ops[opLoop] = opInfo{name: "loop"}
+	ops[opLin] = opInfo{name: "lin"}
+	ops[opQuad] = opInfo{name: "quad"}
 }
 
 // isGuard reports whether op is a support guard.

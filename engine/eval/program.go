@@ -37,14 +37,29 @@ const (
 )
 
 // kinstr is one kernel instruction: slot dst = op(a, b; k) elementwise.
+// The fused operations (opLin, opQuad) also use the scalar operands sa, sb
+// (-1 when the immediates k, k2 stand instead) and flags.
 type kinstr struct {
-	op    opcode
-	form  uint8
-	dst   int32
-	a, b  int32
-	k     float64
-	elems []int32
+	op     opcode
+	form   uint8
+	flags  uint8
+	dst    int32
+	a, b   int32
+	sa, sb int32
+	k, k2  float64
+	elems  []int32
 }
+
+// Flags of the fused kernel operations.
+const (
+	flagNoA  uint8 = 1 << iota // opLin: no vector a: c + s*b
+	flagNoC                    // no additive c
+	flagNegC                   // c is minus the scalar operand sa
+	flagNegS                   // s is minus the scalar operand sb
+	flagSqB                    // opLin: s*b^2
+	flagDiv                    // opQuad: divide by k2
+	flagNoK                    // opQuad: no factor k2
+)
 
 // pin makes a slot view constant data (or, in the block tape, a parameter's
 // column).
@@ -54,20 +69,29 @@ type pin struct {
 	param int       // block tape: the parameter
 }
 
-// reduction folds a kernel slot into a scalar register.
+// reduction folds a kernel slot into a scalar register. In value mode a
+// sum or sum of squares of an opLin may take the instruction in (fused):
+// it then reads the lin's operands instead of a slot.
 type reduction struct {
-	op  opcode // opSum, opSumSq, opRMin, opRMax, opRLse
-	src int32
-	dst int32
+	op    opcode // opSum, opSumSq, opRMin, opRMax, opRLse
+	src   int32
+	dst   int32
+	fused *kinstr
 }
 
-// loop is a kernel over vectors of length n feeding reductions.
+// loop is a kernel over vectors of length n feeding reductions. kern (with
+// fused operations) is for value mode, jkern (without) for derivative mode;
+// each has its own slot numbering.
 type loop struct {
-	n      int
-	kern   []kinstr
-	nslots int
-	pins   []pin
-	reds   []reduction
+	n       int
+	kern    []kinstr
+	nslots  int
+	pins    []pin
+	reds    []reduction
+	jkern   []kinstr
+	jnslots int
+	jpins   []pin
+	jreds   []reduction
 }
 
 // blockTape evaluates the model on blocks of points.
