@@ -336,7 +336,7 @@ func (p *Page) diagnostics(stale bool) app.UI {
 	var extra []app.UI
 	if p.s.RunErr != nil {
 		extra = append(extra, app.P().Class("diag diag-error").Body(
-			app.Span().Class("diag-icon").Aria("hidden", "true").Text("■"),
+			app.Span().Class("diag-icon").Aria("hidden", "true").Text("×"),
 			app.Span().Class("diag-sev").Text("error: "),
 			app.Text("The analysis failed: "+p.s.RunErr.Error()),
 		))

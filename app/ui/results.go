@@ -119,12 +119,12 @@ func (d *Diagnostics) Render() app.UI {
 	}
 	lis := make([]app.UI, len(items))
 	for i, it := range items {
-		icon, word := "ⓘ", "note"
+		icon, word := "i", "note"
 		switch it.Severity {
 		case engine.SeverityWarning:
-			icon, word = "▲", "warning"
+			icon, word = "!", "warning"
 		case engine.SeverityError:
-			icon, word = "■", "error"
+			icon, word = "×", "error"
 		}
 		lis[i] = app.Li().Class("diag diag-"+it.Severity).Title(it.Code).Body(
 			app.Span().Class("diag-icon").Aria("hidden", "true").Text(icon),
