@@ -2,10 +2,12 @@ package engine
 
 import (
 	"context"
+	"math"
 	"os"
 	"path/filepath"
 	"sort"
 	"testing"
+	"time"
 
 	"bellcheck/engine/model"
 )
@@ -25,10 +27,20 @@ func benchModel(b *testing.B, file string, opts Options) {
 	}
 	stages := map[string]float64{}
 	total := 0.0
+	var last time.Time
+	maxGap := 0.0
+	progress := func(Progress) {
+		now := time.Now()
+		if !last.IsZero() {
+			maxGap = math.Max(maxGap, float64(now.Sub(last))/float64(time.Millisecond))
+		}
+		last = now
+	}
 	b.ReportAllocs()
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
-		res, err := Analyse(context.Background(), m, opts, nil)
+		last = time.Time{}
+		res, err := Analyse(context.Background(), m, opts, progress)
 		if err != nil {
 			b.Fatal(err)
 		}
@@ -46,6 +58,38 @@ func benchModel(b *testing.B, file string, opts Options) {
 	for _, k := range names {
 		b.ReportMetric(100*stages[k]/total, k+"_%")
 	}
+	b.ReportMetric(maxGap, "max_progress_gap_ms")
+}
+
+// BenchmarkCancelLatency measures the time from a cancel (issued from the
+// progress callback half-way through a 4-D analysis) to Analyse's return.
+func BenchmarkCancelLatency(b *testing.B) {
+	src, err := os.ReadFile(filepath.Join("..", "testdata", "reference", "bench", "regression_4d.txt"))
+	if err != nil {
+		b.Fatal(err)
+	}
+	m, err := model.Parse(string(src))
+	if err != nil {
+		b.Fatal(err)
+	}
+	worst := 0.0
+	for i := 0; i < b.N; i++ {
+		ctx, cancel := context.WithCancel(context.Background())
+		var at time.Time
+		stopAt := 0.1 + 0.8*float64(i%9)/8
+		_, err := Analyse(ctx, m, Options{}, func(p Progress) {
+			if p.Fraction >= stopAt && at.IsZero() {
+				at = time.Now()
+				cancel()
+			}
+		})
+		if err == nil {
+			b.Fatal("not cancelled")
+		}
+		worst = math.Max(worst, float64(time.Since(at))/float64(time.Millisecond))
+		cancel()
+	}
+	b.ReportMetric(worst, "worst_ms")
 }
 
 func BenchmarkAnalyse1DDecayRate(b *testing.B) { benchModel(b, "decay_rate_1d.txt", Options{}) }

@@ -178,6 +178,17 @@ func Compare(g *grid.Grid, qs []Gaussian, s Settings) ([]Result, error) {
 	for k := range h {
 		h[k] = g.Spacing(k)
 	}
+	lpl := make([]float64, nLast)
+	pl := make([]float64, nLast)
+	spl := make([]float64, nLast)
+	hl := g.Spacing(d - 1)
+	swl := make([]float64, nLast)
+	for j, v := range wl {
+		swl[j] = math.Sqrt(v)
+	}
+	quads := make([][3]float64, len(preps))
+	spans := make([][2]int, len(preps))
+	rs := make([][4]float64, len(preps))
 	nLines := len(g.LogP) / nLast
 	checkEvery := max(1, 4096/nLast)
 	for line := 0; line < nLines; line++ {
@@ -197,8 +208,10 @@ func Compare(g *grid.Grid, qs []Gaussian, s Settings) ([]Result, error) {
 			wo *= g.Weights[k][ix[k]]
 		}
 		vals := g.LogP[line*nLast : (line+1)*nLast]
-		for _, gp := range preps {
-			// M(j) = A + B t + C t^2 with t = z_last - m_last.
+		// Per fit, the quadratic M(j) = A + B t + C t^2 in t = z_last - m_last
+		// and the nodes [j1, j2] where M < qNegligible.
+		jlo, jhi := nLast, -1
+		for fi, gp := range preps {
 			P := gp.prec
 			A, B := 0.0, 0.0
 			for k := 0; k < d-1; k++ {
@@ -212,41 +225,98 @@ func Compare(g *grid.Grid, qs []Gaussian, s Settings) ([]Result, error) {
 				B += 2 * P[k][d-1] * r[k]
 			}
 			C := P[d-1][d-1]
+			copy(rs[fi][:d-1], r[:d-1])
+			quads[fi] = [3]float64{A, B, C}
+			// (Coverage needs M below hi2, also inside qNegligible unless
+			// the grid is much coarser than q.)
+			thr := math.Max(qNegligible, sq(gp.r0+gp.band+gp.step))
+			j1, j2 := quadInterval(A-thr, B, C, zl[0]-gp.mean[d-1], hl, nLast)
+			spans[fi] = [2]int{j1, j2}
+			if j1 <= j2 {
+				jlo, jhi = min(jlo, j1), max(jhi, j2)
+			}
+		}
+		// Where p = 0 and q is not negligible, KL(q||p) is infinite (q
+		// underflows only beyond M = 2 (logNorm + 745)).
+		for j, v := range vals {
+			if !math.IsInf(v, -1) {
+				continue
+			}
+			for fi, gp := range preps {
+				if gp.infinite {
+					continue
+				}
+				q := quads[fi]
+				t := zl[j] - gp.mean[d-1]
+				if M := q[0] + t*(q[1]+q[2]*t); gp.logNorm-M/2 > -745 {
+					gp.infinite = true
+				}
+			}
+		}
+		if jlo > jhi {
+			continue
+		}
+		// Per node: the normalised log p, the weighted p and sqrt(p),
+		// shared by the fits.
+		for j := jlo; j <= jhi; j++ {
+			v := vals[j]
+			lp := v - logZ
+			lpl[j] = lp
+			switch {
+			case math.IsNaN(v) || math.IsInf(v, 0):
+				lpl[j] = math.NaN()
+				pl[j], spl[j] = 0, 0
+			case lp < -700:
+				pl[j], spl[j] = 0, 0
+			default:
+				pl[j] = wo * wl[j] * math.Exp(lp)
+				spl[j] = math.Sqrt(pl[j])
+			}
+		}
+		for fi, gp := range preps {
+			j1, j2 := spans[fi][0], spans[fi][1]
+			if j1 > j2 {
+				continue
+			}
+			P := gp.prec
+			copy(r[:d-1], rs[fi][:d-1])
+			A, B, C := quads[fi][0], quads[fi][1], quads[fi][2]
 			ml := gp.mean[d-1]
 			lo2, hi2 := sq(math.Max(gp.r0-gp.band-gp.step, 0)), sq(gp.r0+gp.band+gp.step)
-			for j, v := range vals {
-				if math.IsNaN(v) || math.IsInf(v, 1) {
+			// sqrt(q) = exp(lq/2) along the line by the recurrence for the
+			// exponential of a quadratic: two products a node instead of an
+			// exponential (relative rounding about 1e-16 a step).
+			t1 := zl[j1] - ml
+			sqq := math.Exp((gp.logNorm - (A+t1*(B+C*t1))/2) / 2)
+			ratio := math.Exp(-(B*hl + C*(2*t1*hl+hl*hl)) / 4)
+			ratio2 := math.Exp(-C * hl * hl / 2)
+			swo := math.Sqrt(wo)
+			for j := j1; j <= j2; j, sqq, ratio = j+1, sqq*ratio, ratio*ratio2 {
+				lp := lpl[j]
+				if math.IsNaN(lp) {
 					continue
 				}
 				t := zl[j] - ml
 				M := A + t*(B+C*t)
-				lq := gp.logNorm - M/2
-				lp := v - logZ
-				w := wo * wl[j]
-				if lq > -700 {
-					q := math.Exp(lq)
+				if M < qNegligible {
+					lq := gp.logNorm - M/2
+					w := wo * wl[j]
+					q := sqq * sqq
 					gp.qmass += w * q
-					if math.IsInf(v, -1) {
-						if q > 0 {
-							gp.infinite = true
-						}
-					} else {
-						gp.klqp += w * q * (lq - lp)
-						gp.bhat += w * math.Exp((lq+lp)/2)
-					}
+					gp.klqp += w * q * (lq - lp)
+					gp.bhat += swo * swl[j] * sqq * spl[j]
 				}
-				if math.IsInf(v, -1) || lp < -745 {
+				pm := pl[j]
+				if pm == 0 || M >= hi2 {
 					continue
 				}
-				pm := w * math.Exp(lp)
-				switch {
-				case M <= lo2:
+				if M <= lo2 {
 					gp.cover += pm
-				case M < hi2:
-					r[d-1] = t
-					chi, corr := shareWithCurvature(h, P, r, M, gp.r0)
-					gp.cover += pm * (chi - corr)
+					continue
 				}
+				r[d-1] = t
+				chi, corr := shareWithCurvature(h, P, r, M, gp.r0)
+				gp.cover += pm * (chi - corr)
 			}
 		}
 	}
@@ -294,6 +364,29 @@ func Compare(g *grid.Grid, qs []Gaussian, s Settings) ([]Result, error) {
 }
 
 func sq(x float64) float64 { return x * x }
+
+// quadInterval returns the nodes j in [0, n) with a + b t + c t^2 < 0 for
+// t = t0 + j h (c > 0), as j1 <= j2, or j1 > j2 when there are none.
+func quadInterval(a, b, c, t0, h float64, n int) (j1, j2 int) {
+	disc := b*b - 4*c*a
+	if !(disc > 0) || !(c > 0) {
+		return n, -1
+	}
+	sd := math.Sqrt(disc)
+	tm, tp := (-b-sd)/(2*c), (-b+sd)/(2*c)
+	lo := math.Ceil((tm - t0) / h)
+	hi := math.Floor((tp - t0) / h)
+	if hi < 0 || lo > float64(n-1) {
+		return n, -1
+	}
+	return int(math.Max(lo, 0)), int(math.Min(hi, float64(n-1)))
+}
+
+// qNegligible is the Mahalanobis square beyond which q's density is below
+// e^-60 of its peak and its terms in KL(q||p), the Hellinger integral and
+// q's mass are dropped (except that p = 0 there still makes KL(q||p)
+// infinite).
+const qNegligible = 120
 
 // cellShare returns the share of the cell around a node (offset r from q's
 // mean, Mahalanobis square M) inside the region M(z) <= r0^2. Along the
@@ -432,7 +525,10 @@ func uniformSumCDF(a []float64, s float64) (F, G float64) {
 		if u <= 0 {
 			continue
 		}
-		pn := math.Pow(u, float64(n))
+		pn := 1.0
+		for i := 0; i < n; i++ {
+			pn *= u
+		}
 		F += sign * pn
 		G += sign * pn * u
 	}

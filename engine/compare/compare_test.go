@@ -215,3 +215,18 @@ func (p halfNormal) LogDensityBlock(cols [][]float64, out []float64) {
 	}
 }
 func (p halfNormal) Clone() target.Density { return p }
+
+type bananaDensity struct{}
+
+func (bananaDensity) Dim() int { return 2 }
+func (bananaDensity) LogDensity(x []float64) float64 {
+	u := x[1] + 0.05*x[0]*x[0] - 5
+	return -x[0]*x[0]/200 - u*u/2
+}
+func (bananaDensity) LogDensityDerivs(x, g, h []float64) float64 { panic("unused") }
+func (p bananaDensity) LogDensityBlock(cols [][]float64, out []float64) {
+	for i := range out {
+		out[i] = p.LogDensity([]float64{cols[0][i], cols[1][i]})
+	}
+}
+func (p bananaDensity) Clone() target.Density { return p }

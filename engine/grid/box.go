@@ -174,7 +174,12 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 		if err := ctx.Err(); err != nil {
 			return res, err
 		}
-		g, err := Evaluate(ctx, p, Box{Lo: lo, Hi: hi}, Settings{Points: points})
+		f0 := 1 - math.Pow(0.8, float64(res.Iterations-1))
+		g, err := Evaluate(ctx, p, Box{Lo: lo, Hi: hi}, Settings{Points: points, Progress: func(f float64) {
+			if s.Progress != nil {
+				s.Progress(f0 + 0.2*(1-f0)*f) // towards the next iteration's value
+			}
+		}})
 		if g != nil {
 			res.Evaluations += g.Size()
 		} else if err == ErrNoMass {

@@ -45,8 +45,12 @@ func antideriv(c [4]float64, s float64) float64 {
 // quantile returns the prob-quantile of the density f sampled at lo + j*h,
 // from its cumulative by piecewise-cubic interpolation.
 func quantile(lo, h float64, f []float64, prob float64) float64 {
+	return quantileFromPieces(lo, h, f, cubicPieces(h, f), prob)
+}
+
+// quantileFromPieces is quantile with the pieces from cubicPieces.
+func quantileFromPieces(lo, h float64, f, pieces []float64, prob float64) float64 {
 	n := len(f)
-	pieces := cubicPieces(h, f)
 	total := 0.0
 	for _, v := range pieces {
 		total += v

@@ -242,9 +242,9 @@ func (g *Grid) summarise(ctx context.Context, free [][2]bool, progress func(floa
 		vals := g.LogP[line*nLast : (line+1)*nLast]
 		for j, v := range vals {
 			s := v - g.Max
-			if s > 0 || math.IsNaN(s) || math.IsInf(v, -1) {
-				// NaN, +Inf (above the finite maximum) and -Inf carry
-				// no mass.
+			if !(s <= 0 && s > -745) {
+				// NaN, +Inf (above the finite maximum), -Inf and values
+				// that underflow carry no mass.
 				e[j], lp[j] = 0, 0
 				continue
 			}
@@ -277,7 +277,11 @@ func (g *Grid) summarise(ctx context.Context, free [][2]bool, progress func(floa
 		}
 	}
 	g.fillMoments(&st.Fitting, full, half, zFull, zHalf, free, nil)
-	g.fillMoments(&st.Original, full, half, xFull, xHalf, free, g.Maps)
+	if allIdentity(g.Maps) {
+		st.Original = st.Fitting.clone()
+	} else {
+		g.fillMoments(&st.Original, full, half, xFull, xHalf, free, g.Maps)
+	}
 
 	st.EdgeMass = make([][2]float64, d)
 	for k := 0; k < d; k++ {
@@ -338,11 +342,18 @@ func (g *Grid) summarise(ctx context.Context, free [][2]bool, progress func(floa
 			p := full.pairs[[2]int{k, l}]
 			mass := make([]float64, len(p))
 			dens := make([]float64, len(p))
+			invL := make([]float64, g.N[l])
+			for j, w := range g.Weights[l] {
+				invL[j] = 1 / w
+			}
+			invT := 1 / full.total
 			for i := 0; i < g.N[k]; i++ {
-				for j := 0; j < g.N[l]; j++ {
-					idx := i*g.N[l] + j
-					mass[idx] = p[idx] / full.total
-					dens[idx] = mass[idx] / (g.Weights[k][i] * g.Weights[l][j])
+				invI := 1 / g.Weights[k][i]
+				row := i * g.N[l]
+				for j, il := range invL {
+					m := p[row+j] * invT
+					mass[row+j] = m
+					dens[row+j] = m * invI * il
 				}
 			}
 			st.Pairs = append(st.Pairs, Pair{I: k, J: l, Density: dens, Mass: mass})
@@ -432,8 +443,9 @@ func (g *Grid) fillMoments(m *Moments, full, half *reduction, cFull, cHalf [][]f
 			dens[i] = v / g.Weights[k][i]
 		}
 		h := g.Spacing(k)
+		pieces := cubicPieces(h, dens)
 		for q, prob := range [3]float64{0.025, 0.5, 0.975} {
-			z := quantile(g.Nodes[k][0], h, dens, prob)
+			z := quantileFromPieces(g.Nodes[k][0], h, dens, pieces, prob)
 			if maps != nil {
 				z = maps[k].ToOriginal(z)
 			}
@@ -507,4 +519,19 @@ func tailShare(mass, c []float64, free [2]bool) (moments, absDev float64) {
 		return 0, 0
 	}
 	return math.Max(math.Abs(v0-v1)/v0, math.Abs(m0-m1)/math.Sqrt(v0)), math.Abs(a0-a1) / a0
+}
+
+func (m Moments) clone() Moments {
+	c := Moments{
+		Mean: append([]float64(nil), m.Mean...), MeanErr: append([]float64(nil), m.MeanErr...),
+		SD: append([]float64(nil), m.SD...), Quantiles: append([][3]float64(nil), m.Quantiles...),
+		Skewness: append([]float64(nil), m.Skewness...), ExcessKurtosis: append([]float64(nil), m.ExcessKurtosis...),
+		TailShare: append([]float64(nil), m.TailShare...), AbsTailShare: append([]float64(nil), m.AbsTailShare...),
+	}
+	for _, r := range [][2]*[][]float64{{&c.Cov, &m.Cov}, {&c.CovErr, &m.CovErr}, {&c.Corr, &m.Corr}} {
+		for _, row := range *r[1] {
+			*r[0] = append(*r[0], append([]float64(nil), row...))
+		}
+	}
+	return c
 }
