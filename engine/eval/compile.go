@@ -47,6 +47,10 @@ func Compile(m *model.Model) (*Evaluator, error) {
 	return newEvaluator(prog, m), nil
 }
 
+// fuseKernels turns the fusion of kernel operations on (tests compare with
+// it off).
+var fuseKernels = true
+
 // compiler turns the model's syntax tree into the expression graph.
 type compiler struct {
 	m     *model.Model
@@ -377,13 +381,15 @@ func lowerLoop(nodes []node, reg []int32, reds []int32, n int) loop {
 			scalar:    func(id int32) int32 { return reg[id] },
 			firstFree: len(pinList),
 		}
-		kern, nslots, rootSlots := ks.build(order, roots, fused)
+		kern, nslots, rootSlots := ks.build(order, roots, fused && fuseKernels)
 		var rs []reduction
 		for i, r := range reds {
 			rs = append(rs, reduction{op: nodes[r].op, src: rootSlots[i], dst: reg[r]})
 		}
 		if fused {
-			kern, rs = fuseReductions(kern, rs)
+			if fuseKernels {
+				kern, rs = fuseReductions(kern, rs)
+			}
 			lp.kern, lp.nslots, lp.pins, lp.reds = kern, nslots, pinList, rs
 		} else {
 			lp.jkern, lp.jnslots, lp.jpins, lp.jreds = kern, nslots, pinList, rs
@@ -437,7 +443,7 @@ func lowerBlock(nodes []node, reach []bool, root int32, dim int) *blockTape {
 		},
 		firstFree: dim,
 	}
-	kern, nslots, rootSlots := ks.build(sortedKeys(in), []int32{root}, true)
+	kern, nslots, rootSlots := ks.build(sortedKeys(in), []int32{root}, fuseKernels)
 	bt.kern, bt.nslots, bt.rootSlot = kern, nslots, rootSlots[0]
 	return bt
 }

@@ -45,12 +45,16 @@ func randTree(r *rand.Rand, depth, dim int) *rtree {
 
 var paramNames = []string{"x", "y", "z", "w"}
 
+var dataNames = []string{"dt", "dy"}
+
 func (t *rtree) String() string {
 	switch t.op {
 	case "num":
 		return "(" + strconv.FormatFloat(t.val, 'g', -1, 64) + ")"
 	case "param":
 		return paramNames[t.param]
+	case "data":
+		return dataNames[t.param]
 	case "+", "-", "*", "/", "^":
 		return "(" + t.args[0].String() + " " + t.op + " " + t.args[1].String() + ")"
 	case "neg":
@@ -80,17 +84,22 @@ func hd(x hyperdual.Number, f, f1, f2 float64) hyperdual.Number {
 
 // eval evaluates the tree with hyperdual numbers: the elementary functions
 // are gonum's, the special ones by their derivatives from gonum's mathext.
-func (t *rtree) eval(x []hyperdual.Number) hyperdual.Number {
+func (t *rtree) eval(x []hyperdual.Number) hyperdual.Number { return t.evalAt(x, nil, 0) }
+
+// evalAt evaluates the tree at element i of the data vectors.
+func (t *rtree) evalAt(x []hyperdual.Number, data [][]float64, i int) hyperdual.Number {
 	switch t.op {
 	case "num":
 		return hyperdual.Number{Real: t.val}
 	case "param":
 		return x[t.param]
+	case "data":
+		return hyperdual.Number{Real: data[t.param][i]}
 	}
-	a := t.args[0].eval(x)
+	a := t.args[0].evalAt(x, data, i)
 	var b hyperdual.Number
 	if len(t.args) > 1 {
-		b = t.args[1].eval(x)
+		b = t.args[1].evalAt(x, data, i)
 	}
 	r := a.Real
 	switch t.op {
