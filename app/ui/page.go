@@ -27,7 +27,7 @@ const (
 	ProgressDelay = 300 * time.Millisecond
 	// SliceLength is how long the analysis works before it lets the
 	// browser run (Go in WebAssembly is not preemptive).
-	SliceLength = 20 * time.Millisecond
+	SliceLength = 15 * time.Millisecond
 	// reportEvery limits progress updates of the page.
 	reportEvery = 80 * time.Millisecond
 )
