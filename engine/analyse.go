@@ -312,8 +312,7 @@ func (a *analysis) checkTails() {
 	st := &a.g.Stats
 	a.varUnsettled = make([]bool, a.d)
 	for k := 0; k < a.d; k++ {
-		capped := a.boxRes.Capped[k][0] || a.boxRes.Capped[k][1]
-		if capped || st.Fitting.TailShare[k] > tailShareAbsent || !(st.Fitting.SD[k] > 0) {
+		if a.improper(k) || st.Fitting.TailShare[k] > tailShareAbsent || !(st.Fitting.SD[k] > 0) {
 			a.varUnsettled[k] = true
 			a.noVariance = true
 		}
@@ -402,6 +401,17 @@ func (a *analysis) findModes() error {
 			len(a.modes), list(big))
 	}
 	return nil
+}
+
+// improper reports an axis whose box search stopped at its cap with more
+// than improperEdgeMass in the outer layer of a face.
+func (a *analysis) improper(k int) bool {
+	for side := 0; side < 2; side++ {
+		if a.boxRes.Capped[k][side] && a.g.Stats.EdgeMass[k][side] > improperEdgeMass {
+			return true
+		}
+	}
+	return false
 }
 
 // sameMode reports points within 1e-3 exact sd of each other on every axis
@@ -595,9 +605,15 @@ func (a *analysis) fitAll(res *Result) error {
 			out.EvidenceErr = &e
 		}
 		if c.Method == compare.Cubature {
-			a.diag.add(CodeFitOffGrid, SeverityInfo,
-				"The %s fit has %s of its mass outside the grid's box or is too narrow for the grid; its KL(q||p) comes from a cubature in its own coordinates.",
-				fitLabel(f.name), percent(math.Abs(1-c.QMass)))
+			if !c.Resolved {
+				a.diag.add(CodeFitOffGrid, SeverityInfo,
+					"The %s fit is narrower than the grid resolves; its KL(q||p) and Hellinger distance come from a cubature in its own coordinates.",
+					fitLabel(f.name))
+			} else {
+				a.diag.add(CodeFitOffGrid, SeverityInfo,
+					"The %s fit has about %s of its mass outside the grid's box; its KL(q||p) comes from a cubature in its own coordinates.",
+					fitLabel(f.name), share(math.Abs(1-c.QMass)))
+			}
 		}
 	}
 	return nil
@@ -651,6 +667,13 @@ func (a *analysis) fillExact(res *Result) {
 	ex := &res.Exact
 	ex.LogZ = st.LogZ
 	ex.LogZErr = st.LogZErr + st.TailMass
+	if st.TailMass > 1 {
+		// More mass seems to lie beyond the box than in it: the density is
+		// taken to be improper, and log Z does not exist.
+		ex.LogZ, ex.LogZErr = math.NaN(), math.NaN()
+		a.diag.add(CodeImproper, SeverityError,
+			"The mass beyond the box, extrapolated from its faces, exceeds the mass inside: the density looks improper, so log Z, the evidence errors and the moments that do not settle are not reported.")
+	}
 	ex.Mean = append([]float64(nil), o.Mean...)
 	ex.MeanErr = append([]float64(nil), o.MeanErr...)
 	ex.Cov = copyRows(o.Cov)
@@ -669,10 +692,9 @@ func (a *analysis) fillExact(res *Result) {
 	ex.Mode = a.originalMode(ex.GridMode)
 
 	// Quantities that do not exist are absent.
-	var noVar, noMean []string
+	var noVar, noMean, noKurt []string
 	for k := 0; k < d; k++ {
-		capped := a.boxRes.Capped[k][0] || a.boxRes.Capped[k][1]
-		varGone := capped || o.TailShare[k] > tailShareAbsent || a.varUnsettled[k]
+		varGone := a.improper(k) || o.TailShare[k] > tailShareAbsent || a.varUnsettled[k]
 		meanGone := o.AbsTailShare[k] > absShareAbsent
 		if varGone {
 			noVar = append(noVar, a.names[k])
@@ -688,10 +710,18 @@ func (a *analysis) fillExact(res *Result) {
 			noMean = append(noMean, a.names[k])
 			ex.Mean[k], ex.MeanErr[k] = math.NaN(), math.NaN()
 		}
+		if !varGone && o.KurtosisTailShare[k] > tailShareAbsent {
+			noKurt = append(noKurt, a.names[k])
+			ex.ExcessKurtosis[k] = math.NaN()
+		}
 	}
 	if len(noVar) > 0 {
 		a.diag.add(CodeNoVariance, SeverityWarning,
 			"The variance of %s does not settle as the box widens (it may not exist, as for a Cauchy density): the exact covariance and the forward-KL fit are not reported.", list(noVar))
+	}
+	if len(noKurt) > 0 {
+		a.diag.add(CodeHeavyTails, SeverityWarning,
+			"The fourth moment of %s does not settle as the box widens (the tails may be too heavy for it to exist): the excess kurtosis is not reported.", list(noKurt))
 	}
 	if len(noMean) > 0 {
 		a.diag.add(CodeNoMean, SeverityWarning,
@@ -761,18 +791,22 @@ func (a *analysis) gridDiagnostics() {
 		for side := 0; side < 2; side++ {
 			e := st.EdgeMass[k][side]
 			switch {
-			case a.boxRes.Capped[k][side]:
+			case a.boxRes.Capped[k][side] && e > improperEdgeMass:
 				a.diag.add(CodeImproper, SeverityError,
 					"Mass stays at the %s edge of %s however far the box is widened (%s in its outermost layer): the density may be improper (not integrable) or too heavy-tailed for a grid, and the exact results are those of the truncated box.",
-					sides[side], a.names[k], percent(e))
+					sides[side], a.names[k], share(e))
+			case a.boxRes.Capped[k][side] && e > edgeMassWarn*1e-4:
+				a.diag.add(CodeEdgeMass, SeverityWarning,
+					"The box was widened at the %s end of %s as far as the grid still resolves the density's centre, and %s of the mass remains in its outermost layer: the tails are heavy, and the exact results are those of the truncated box.",
+					sides[side], a.names[k], share(e))
 			case a.pinned[k][side] && e > edgeMassWarn:
 				a.diag.add(CodeEdgeMass, SeverityWarning,
 					"The box side you set at the %s end of %s cuts off mass: %s of it lies in the outermost layer of the grid there.",
-					sides[side], a.names[k], percent(e))
+					sides[side], a.names[k], share(e))
 			case !a.boxRes.Fixed[k][side] && e > edgeMassWarn:
 				a.diag.add(CodeEdgeMass, SeverityWarning,
-					"%s of the mass lies in the outermost layer of the grid at the %s end of %s: the box may cut off part of the density.",
-					percent(e), sides[side], a.names[k])
+					"A share %s of the mass lies in the outermost layer of the grid at the %s end of %s: the box may cut off part of the density.",
+					share(e), sides[side], a.names[k])
 			}
 		}
 	}
@@ -803,7 +837,7 @@ func (a *analysis) gridDiagnostics() {
 			a.diag.add(CodeSkewed, SeverityWarning,
 				"The marginal of %s%s is skewed (skewness %.2f): a Gaussian misplaces its mass.", a.names[k], scale, s)
 		}
-		if kt := f.ExcessKurtosis[k]; math.Abs(kt) > kurtWarn {
+		if kt := f.ExcessKurtosis[k]; math.Abs(kt) > kurtWarn && f.KurtosisTailShare[k] <= tailShareAbsent {
 			what := "heavier"
 			if kt < 0 {
 				what = "lighter"

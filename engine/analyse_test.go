@@ -360,3 +360,37 @@ func gaussHermiteDerivs(p target.Density, mean []float64, cov [][]float64, n int
 	}
 	return eg, eh
 }
+
+// Diagnostics on small models whose trouble is known in closed form.
+func TestDiagnosticCases(t *testing.T) {
+	cases := []struct {
+		name, src string
+		opts      Options
+		want      []string
+		absent    func(*Result) bool
+	}{
+		// The exponential density has its mode on the bound 0: no Laplace fit.
+		{"mode on bound", "param x in [0, inf]\n-x", Options{}, []string{CodeModeOnBound, CodeInfiniteKL},
+			func(r *Result) bool { return r.Fits.Laplace == nil }},
+		// sqrt of a negative number is NaN: half of the line is undefined.
+		{"non-finite", "param x\n-(sqrt(x) - 1)^2*4 - x^2/50", Options{}, []string{CodeNonFinite}, nil},
+		// Student t with 3 degrees of freedom: variance 3 but the fourth
+		// moment is infinite; the variance converges slowly with the box.
+		{"heavy tails", "ld_student(x, 3, 0, 1)", Options{}, []string{CodeHeavyTails}, nil},
+		// Two well separated, equal modes.
+		{"two modes", "param x\nlogsumexp(ld_normal(x, -4, 1), ld_normal(x, 4, 1))", Options{}, []string{CodeSeveralModes}, nil},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			res := analyseSource(t, c.src, c.opts)
+			for _, code := range c.want {
+				if !hasCode(res, code) {
+					t.Errorf("no %s: %+v", code, res.Diagnostics)
+				}
+			}
+			if c.absent != nil && !c.absent(res) {
+				t.Errorf("a fit that should be absent is there")
+			}
+		})
+	}
+}

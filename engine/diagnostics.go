@@ -12,9 +12,11 @@ import (
 //	code                   severity        when
 //	several_modes          warning / info  more than one mode; warning when a second mode holds 1 % of the mass or more
 //	edge_mass              warning         more than 1e-6 of the mass in the outermost layer of a free face of the
-//	                                       box, or of a side the user set
-//	improper               error           the box search widened a face as far as it may and mass stays at the edge:
-//	                                       the density is improper (not integrable) or too heavy-tailed for a grid
+//	                                       box or of a side the user set
+//	improper               error           the box search widened a face as far as it may and more than 1e-9 of the
+//	                                       mass stays in its outer layer: the density is improper (not integrable)
+//	                                       or too heavy-tailed for a grid; the exact covariance is absent, and
+//	                                       log Z too where the mass beyond the box seems to exceed that inside
 //	box_not_settled        warning         the box search stopped before the box settled
 //	not_positive_definite  warning         no Laplace fit: -Hessian at the highest mode is not positive definite, or
 //	                                       the curvature there is numerically zero (e.g. exp(-x^4/4) at 0)
@@ -64,16 +66,17 @@ const (
 
 // Thresholds of the diagnostics.
 const (
-	edgeMassWarn    = 1e-6
-	tailShareWarn   = 1e-3 // heavy tails
-	tailShareAbsent = 5e-2 // no variance
-	absShareAbsent  = 1e-2 // no mean
-	skewWarn        = 0.5
-	kurtWarn        = 1.0
-	modeMassWarn    = 0.01
-	logZErrWarn     = 1e-3
-	meanErrWarn     = 1e-3 // in sd
-	varErrWarn      = 1e-2 // relative
+	edgeMassWarn     = 1e-6
+	improperEdgeMass = 1e-9 // at a capped face
+	tailShareWarn    = 1e-3 // heavy tails
+	tailShareAbsent  = 5e-2 // no variance
+	absShareAbsent   = 1e-2 // no mean
+	skewWarn         = 0.5
+	kurtWarn         = 1.0
+	modeMassWarn     = 0.01
+	logZErrWarn      = 1e-3
+	meanErrWarn      = 1e-3 // in sd
+	varErrWarn       = 1e-2 // relative
 )
 
 // diagnostics collects the diagnostics of one analysis.
@@ -115,6 +118,14 @@ func percent(x float64) string {
 		return fmt.Sprintf("%.2f %%", 100*x)
 	}
 	return fmt.Sprintf("%.1g of the mass", x)
+}
+
+// share formats a small share of the mass: "12 %", "0.37 %", "3e-09".
+func share(x float64) string {
+	if x >= 1e-4 {
+		return percent(x)
+	}
+	return fmt.Sprintf("%.1g", x)
 }
 
 // list joins names as "a", "a and b", "a, b and c".

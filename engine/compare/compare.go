@@ -51,6 +51,9 @@ type Result struct {
 	// QMass is the grid's quadrature of q: 1 up to the rule's error when q
 	// lies inside the box and the grid resolves it.
 	QMass float64
+	// Resolved reports that the grid's spacing is fine enough for q (at
+	// most 0.7 of q's conditional sd along every axis).
+	Resolved bool
 	// Method tells how KLqp and Hellinger were computed.
 	Method Method
 }
@@ -326,7 +329,7 @@ func Compare(g *grid.Grid, qs []Gaussian, s Settings) ([]Result, error) {
 		tol = 1e-6
 	}
 	for i, gp := range preps {
-		res := Result{QMass: gp.qmass, Coverage95: math.Min(gp.cover, 1), Method: OnGrid}
+		res := Result{QMass: gp.qmass, Resolved: gp.resolved, Coverage95: math.Min(gp.cover, 1), Method: OnGrid}
 		res.KLpq = klpq(g, gp)
 		res.KLqp = gp.klqp
 		res.Hellinger = math.Sqrt(math.Max(0, 1-gp.bhat))
@@ -558,7 +561,8 @@ func klpq(g *grid.Grid, gp *gaussianPrep) float64 {
 
 // cubature returns KL(q||p) and the Hellinger distance by a tensor
 // Gauss-Hermite rule in q's coordinates z = m + sqrt(2) L u, with p
-// normalised by the grid's log Z.
+// normalised by the grid's log Z; both are NaN where log p is NaN or +Inf
+// at a node.
 func cubature(p target.Density, gp *gaussianPrep, logZ float64, order int) (kl, hel float64, err error) {
 	d := len(gp.mean)
 	if order <= 0 {
@@ -609,7 +613,8 @@ func cubature(p target.Density, gp *gaussianPrep, logZ float64, order int) (kl, 
 		case math.IsInf(v, -1):
 			return math.Inf(1), hellingerOnly(out, wts, lqs, logZ), nil
 		case math.IsNaN(v) || math.IsInf(v, 1):
-			return math.NaN(), math.NaN(), fmt.Errorf("compare: log p is %g at %v", v, pointAt(cols, i))
+			// Undefined where q has mass: so are both numbers.
+			return math.NaN(), math.NaN(), nil
 		}
 		eLogP += wts[i] * (v - logZ)
 		bhat += wts[i] * math.Exp((v-logZ-lqs[i])/2)
@@ -629,10 +634,3 @@ func hellingerOnly(out, wts, lqs []float64, logZ float64) float64 {
 	return math.Sqrt(math.Max(0, 1-bhat))
 }
 
-func pointAt(cols [][]float64, i int) []float64 {
-	x := make([]float64, len(cols))
-	for k := range cols {
-		x[k] = cols[k][i]
-	}
-	return x
-}

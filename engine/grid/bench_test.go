@@ -34,3 +34,25 @@ func BenchmarkPeaksBanana(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkEvaluate1D evaluates and summarises a normal density on the
+// default 2001-point grid.
+func BenchmarkEvaluate1D(b *testing.B) {
+	p := &funcDensity{d: 1, f: func(x []float64) float64 { return -x[0] * x[0] / 2 }}
+	box := Box{Lo: []float64{-7}, Hi: []float64{7}}
+	for i := 0; i < b.N; i++ {
+		if _, err := Evaluate(ctx, p, box, Settings{}); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// BenchmarkFindBox1D searches the box of a normal density.
+func BenchmarkFindBox1D(b *testing.B) {
+	p := &funcDensity{d: 1, f: func(x []float64) float64 { return -(x[0] - 3) * (x[0] - 3) / 2 }}
+	for i := 0; i < b.N; i++ {
+		if _, err := FindBox(ctx, p, BoxSettings{Bounds: unbounded(1)}); err != nil {
+			b.Fatal(err)
+		}
+	}
+}

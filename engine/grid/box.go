@@ -32,8 +32,8 @@ type BoxSettings struct {
 	EdgeTol float64
 	// WidthCap bounds the width of each axis in multiples of its
 	// interquartile range (measured when the exploration resolves it); 0
-	// means max(40, (Points-1)/2), so that the fine grid keeps two points
-	// per interquartile range.
+	// means max(40, (Points-1)/4), so that the fine grid keeps four points
+	// per interquartile range where it can.
 	WidthCap float64
 	// MaxIter is the most exploration grids; 0 means 40.
 	MaxIter int
@@ -107,7 +107,7 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 		nf[k] = oddPoints(nf[k])
 		widthCap[k] = s.WidthCap
 		if widthCap[k] <= 0 {
-			widthCap[k] = math.Max(40, float64(nf[k]-1)/2)
+			widthCap[k] = math.Max(40, float64(nf[k]-1)/4)
 		}
 	}
 	lo := append([]float64(nil), s.Bounds.Lo...)
@@ -286,30 +286,37 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 					widen[side] = true
 				}
 			}
+			// Cap the widening: the width may not pass maxW; what growth is
+			// left is shared by the widening sides in proportion to what
+			// they asked for.
+			want := [2]float64{}
+			for side := 0; side < 2; side++ {
+				if widen[side] {
+					grows[k][side]++
+					want[side] = math.Abs(tgt[side] - [2]float64{lo[k], hi[k]}[side])
+				}
+			}
+			if room := maxW - w; want[0]+want[1] > room {
+				scale := math.Max(room, 0) / (want[0] + want[1])
+				want[0] *= scale
+				want[1] *= scale
+			}
 			for side := 0; side < 2; side++ {
 				if !widen[side] {
 					continue
 				}
-				// Cap the widening.
-				grows[k][side]++
-				other := tgt[1-side]
-				if !widen[1-side] {
-					other = [2]float64{lo[k], hi[k]}[1-side]
-				}
-				if math.Abs(tgt[side]-other) > maxW {
-					if side == 0 {
-						tgt[0] = other - maxW
-					} else {
-						tgt[1] = other + maxW
-					}
-				}
-				cur := [2]float64{lo[k], hi[k]}[side]
-				if math.Abs(tgt[side]-cur) <= 0.01*w || grows[k][side] > maxGrow {
+				if want[side] <= 0.01*w || grows[k][side] > maxGrow {
 					if layer([2]int{0, nc - 1}[side]) > tol {
 						res.Capped[k][side] = true
 					}
 					widen[side] = false
-					tgt[side] = cur
+					tgt[side] = [2]float64{lo[k], hi[k]}[side]
+					continue
+				}
+				if side == 0 {
+					tgt[0] = lo[k] - want[0]
+				} else {
+					tgt[1] = hi[k] + want[1]
 				}
 			}
 			if widen[0] || widen[1] {

@@ -10,10 +10,16 @@ func cubicPieces(h float64, f []float64) []float64 {
 	n := len(f)
 	out := make([]float64, n-1)
 	for j := 0; j < n-1; j++ {
-		b := min(max(j-1, 0), n-4)
-		c := cubicCoeffs(f[b : b+4])
-		s0 := float64(j - b)
-		v := h * (antideriv(c, s0+1) - antideriv(c, s0))
+		var v float64
+		if j >= 1 && j <= n-3 {
+			// The cubic through j-1..j+2 integrated over [j, j+1].
+			v = h * (13*(f[j]+f[j+1]) - f[j-1] - f[j+2]) / 24
+		} else {
+			b := min(max(j-1, 0), n-4)
+			c := cubicCoeffs(f[b : b+4])
+			s0 := float64(j - b)
+			v = h * (antideriv(c, s0+1) - antideriv(c, s0))
+		}
 		if v < 0 {
 			v = 0
 		}

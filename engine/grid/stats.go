@@ -57,6 +57,10 @@ type Moments struct {
 	// from the median under the same trimming: it keeps moving where the
 	// mean itself does not exist (a Cauchy density on a symmetric box).
 	AbsTailShare []float64
+	// KurtosisTailShare is the relative change of the fourth central
+	// moment under the same trimming: large where the kurtosis does not
+	// exist.
+	KurtosisTailShare []float64
 }
 
 // Marginal is the marginal of one axis on the fitting scale: Density at the
@@ -437,6 +441,7 @@ func (g *Grid) fillMoments(m *Moments, full, half *reduction, cFull, cHalf [][]f
 	m.ExcessKurtosis = make([]float64, d)
 	m.TailShare = make([]float64, d)
 	m.AbsTailShare = make([]float64, d)
+	m.KurtosisTailShare = make([]float64, d)
 	for k := 0; k < d; k++ {
 		dens := make([]float64, g.N[k])
 		for i, v := range full.marg[k] {
@@ -470,14 +475,15 @@ func (g *Grid) fillMoments(m *Moments, full, half *reduction, cFull, cHalf [][]f
 		if k < len(free) {
 			fr = free[k]
 		}
-		m.TailShare[k], m.AbsTailShare[k] = tailShare(mass, c, fr)
+		m.TailShare[k], m.AbsTailShare[k], m.KurtosisTailShare[k] = tailShare(mass, c, fr)
 	}
 }
 
 // tailShare drops the outer quarter of the way from the median node to each
 // free face and measures how much the mean and variance move (the first
-// result) and how much the mean absolute deviation from the median does.
-func tailShare(mass, c []float64, free [2]bool) (moments, absDev float64) {
+// result), how much the mean absolute deviation from the median does, and
+// how much the fourth central moment does (relative changes).
+func tailShare(mass, c []float64, free [2]bool) (moments, absDev, fourth float64) {
 	n := len(mass)
 	total := 0.0
 	for _, v := range mass {
@@ -498,7 +504,7 @@ func tailShare(mass, c []float64, free [2]bool) (moments, absDev float64) {
 	if free[1] {
 		hi = n - 1 - (n-1-med)/4
 	}
-	stats := func(a, b int) (mean, variance, mad float64) {
+	stats := func(a, b int) (mean, variance, mad, m4 float64) {
 		s, s1, sa := 0.0, 0.0, 0.0
 		for i := a; i <= b; i++ {
 			s += mass[i]
@@ -506,19 +512,20 @@ func tailShare(mass, c []float64, free [2]bool) (moments, absDev float64) {
 			sa += mass[i] * math.Abs(c[i]-c[med])
 		}
 		mean = s1 / s
-		s2 := 0.0
+		s2, s4 := 0.0, 0.0
 		for i := a; i <= b; i++ {
 			dv := c[i] - mean
 			s2 += mass[i] * dv * dv
+			s4 += mass[i] * dv * dv * dv * dv
 		}
-		return mean, s2 / s, sa / s
+		return mean, s2 / s, sa / s, s4 / s
 	}
-	m0, v0, a0 := stats(0, n-1)
-	m1, v1, a1 := stats(lo, hi)
+	m0, v0, a0, q0 := stats(0, n-1)
+	m1, v1, a1, q1 := stats(lo, hi)
 	if !(v0 > 0) || !(a0 > 0) {
-		return 0, 0
+		return 0, 0, 0
 	}
-	return math.Max(math.Abs(v0-v1)/v0, math.Abs(m0-m1)/math.Sqrt(v0)), math.Abs(a0-a1) / a0
+	return math.Max(math.Abs(v0-v1)/v0, math.Abs(m0-m1)/math.Sqrt(v0)), math.Abs(a0-a1) / a0, math.Abs(q0-q1) / q0
 }
 
 func (m Moments) clone() Moments {
@@ -527,6 +534,7 @@ func (m Moments) clone() Moments {
 		SD: append([]float64(nil), m.SD...), Quantiles: append([][3]float64(nil), m.Quantiles...),
 		Skewness: append([]float64(nil), m.Skewness...), ExcessKurtosis: append([]float64(nil), m.ExcessKurtosis...),
 		TailShare: append([]float64(nil), m.TailShare...), AbsTailShare: append([]float64(nil), m.AbsTailShare...),
+		KurtosisTailShare: append([]float64(nil), m.KurtosisTailShare...),
 	}
 	for _, r := range [][2]*[][]float64{{&c.Cov, &m.Cov}, {&c.CovErr, &m.CovErr}, {&c.Corr, &m.Corr}} {
 		for _, row := range *r[1] {
