@@ -14,7 +14,7 @@ const (
 	// chunkLen is the number of data elements a loop's kernel handles at
 	// once in value mode, jetChunkLen in derivative mode.
 	chunkLen    = 256
-	jetChunkLen = 32
+	jetChunkLen = 64
 )
 
 // Evaluator evaluates a compiled model's log-density. It keeps scratch

@@ -17,11 +17,8 @@ type jetSpace struct {
 	d, nh, S int
 	hi, hj   []int // row and column of each packed Hessian entry
 	regs     []float64
-	slots    [][]float64 // per slot: jetChunkLen jets
-	pinned   []bool      // per slot of the running loop: views data
-	data     [][]float64 // per pinned slot: the data chunk
-	acc      []float64   // logsumexp reductions: max, then S1 sums
 	code     []jinstr
+	loop     jetLoopSpace
 }
 
 func (js *jetSpace) init(p *program) {
@@ -44,18 +41,7 @@ func (js *jetSpace) init(p *program) {
 	for k := 0; k < d; k++ {
 		js.regs[k*js.S+1+k] = 1 // d x_k / d x_k
 	}
-	buf := make([]float64, p.maxSlots*jetChunkLen*js.S)
-	js.slots = make([][]float64, p.maxSlots)
-	for s := range js.slots {
-		js.slots[s] = buf[s*jetChunkLen*js.S : (s+1)*jetChunkLen*js.S]
-	}
-	js.pinned = make([]bool, p.maxSlots)
-	js.data = make([][]float64, p.maxSlots)
-	nred := 0
-	for _, lp := range p.loops {
-		nred = max(nred, len(lp.reds))
-	}
-	js.acc = make([]float64, nred*(js.S+1))
+	js.loop.init(p, js.S)
 	js.prepare(p)
 }
 
@@ -101,7 +87,7 @@ func (js *jetSpace) run(ev *Evaluator, x, grad, hess []float64) float64 {
 	for i := range js.code {
 		in := &js.code[i]
 		if in.op == opLoop {
-			js.runLoop(p, &p.loops[in.a])
+			js.runLoop(p, int(in.a))
 			continue
 		}
 		o := R[in.dst : int(in.dst)+S]
@@ -454,186 +440,5 @@ func scale(dst, a []float64, c float64) {
 	a = a[:len(dst)]
 	for i := 1; i < len(dst); i++ {
 		dst[i] = a[i] * c
-	}
-}
-
-// runLoop runs a loop in derivative mode: the kernel element by element
-// with jets, a chunk of the data at a time, and the reductions of jets.
-func (js *jetSpace) runLoop(p *program, lp *loop) {
-	S := js.S
-	for s := 0; s < lp.jnslots; s++ {
-		js.pinned[s] = false
-	}
-	for _, pn := range lp.jpins {
-		js.pinned[pn.slot] = true
-	}
-	for ri, red := range lp.jreds {
-		acc := js.regs[int(red.dst)*S : int(red.dst+1)*S]
-		setConst(acc, 0)
-		switch red.op {
-		case opRMin:
-			acc[0] = math.Inf(1)
-		case opRMax, opRLse:
-			acc[0] = math.Inf(-1)
-		}
-		if red.op == opRLse {
-			st := js.acc[ri*(S+1) : (ri+1)*(S+1)]
-			st[0] = math.Inf(-1) // running max
-			for i := 1; i < len(st); i++ {
-				st[i] = 0 // S0, S1 (d), S2 (nh)
-			}
-		}
-	}
-	for off := 0; off < lp.n; off += jetChunkLen {
-		m := min(jetChunkLen, lp.n-off)
-		for _, pn := range lp.jpins {
-			js.data[pn.slot] = pn.data[off : off+m]
-		}
-		for i := range lp.jkern {
-			js.kernelInstr(p, &lp.jkern[i], m, off)
-		}
-		for ri, red := range lp.jreds {
-			js.reduce(red, ri, m)
-		}
-	}
-	for ri, red := range lp.jreds {
-		if red.op == opRLse {
-			js.finishLse(red, ri)
-		}
-	}
-}
-
-// operand returns element e of a kernel operand: its value and jet (nil for
-// a constant).
-func (js *jetSpace) operand(p *program, form uint8, which int, slot int32, e int) (float64, []float64) {
-	S := js.S
-	vector := form == formVV || (form == formV && which == 0) || (form == formVS && which == 0) || (form == formSV && which == 1)
-	if !vector {
-		return js.regs[int(slot)*S], js.reg(p, slot)
-	}
-	if js.pinned[slot] {
-		return js.data[slot][e], nil
-	}
-	j := js.slots[slot][e*S : (e+1)*S]
-	return j[0], j
-}
-
-func (js *jetSpace) kernelInstr(p *program, in *kinstr, m, off int) {
-	S := js.S
-	out := js.slots[in.dst]
-	for e := 0; e < m; e++ {
-		dst := out[e*S : (e+1)*S]
-		if in.form == formPack {
-			r := in.elems[off+e]
-			if a := js.reg(p, r); a != nil {
-				copy(dst, a)
-			} else {
-				setConst(dst, js.regs[int(r)*S])
-			}
-			continue
-		}
-		av, a := js.operand(p, in.form, 0, in.a, e)
-		var bv float64
-		var b []float64
-		if in.form != formV {
-			bv, b = js.operand(p, in.form, 1, in.b, e)
-		}
-		js.apply(in.op, in.k, dst, av, a, bv, b)
-	}
-}
-
-// reduce folds m elements of a reduction's source slot into its register.
-func (js *jetSpace) reduce(red reduction, ri, m int) {
-	S := js.S
-	d := js.d
-	acc := js.regs[int(red.dst)*S : int(red.dst+1)*S]
-	src := js.slots[red.src]
-	for e := 0; e < m; e++ {
-		x := src[e*S : (e+1)*S]
-		switch red.op {
-		case opSum:
-			for i := range acc {
-				acc[i] += x[i]
-			}
-		case opSumSq:
-			v := x[0]
-			acc[0] += v * v
-			g := x[1 : 1+d]
-			for i := range g {
-				acc[1+i] += 2 * v * g[i]
-			}
-			h := x[1+d : S]
-			for t := range h {
-				acc[1+d+t] += 2*v*h[t] + 2*g[js.hi[t]]*g[js.hj[t]]
-			}
-		case opRMin:
-			if x[0] < acc[0] || x[0] != x[0] && acc[0] == acc[0] {
-				copy(acc, x)
-			}
-		case opRMax:
-			if x[0] > acc[0] || x[0] != x[0] && acc[0] == acc[0] {
-				copy(acc, x)
-			}
-		case opRLse:
-			js.addLse(js.acc[ri*(S+1):(ri+1)*(S+1)], x)
-		}
-	}
-}
-
-// addLse adds e^x to a logsumexp state: st[0] the running maximum M, then
-// sum w, sum w g, sum w (H + g g^T) with w = e^(x-M).
-func (js *jetSpace) addLse(st, x []float64) {
-	d := js.d
-	v := x[0]
-	switch {
-	case v != v || st[0] != st[0]:
-		st[0] = math.NaN()
-		return
-	case math.IsInf(st[0], 1):
-		return
-	case math.IsInf(v, 1):
-		st[0] = v
-		return
-	case math.IsInf(v, -1):
-		return
-	}
-	if v > st[0] {
-		f := math.Exp(st[0] - v) // 0 when the maximum was -Inf
-		for i := 1; i < len(st); i++ {
-			st[i] *= f
-		}
-		st[0] = v
-	}
-	w := math.Exp(v - st[0])
-	st[1] += w
-	g := x[1 : 1+d]
-	for i := range g {
-		st[2+i] += w * g[i]
-	}
-	h := x[1+d : js.S]
-	for t := range h {
-		st[2+d+t] += w * (h[t] + g[js.hi[t]]*g[js.hj[t]])
-	}
-}
-
-// finishLse turns a logsumexp state into the reduction's jet:
-// value M + log S0, gradient S1/S0, Hessian S2/S0 - g g^T.
-func (js *jetSpace) finishLse(red reduction, ri int) {
-	S := js.S
-	d := js.d
-	st := js.acc[ri*(S+1) : (ri+1)*(S+1)]
-	acc := js.regs[int(red.dst)*S : int(red.dst+1)*S]
-	if st[1] == 0 || math.IsInf(st[0], 0) || st[0] != st[0] {
-		setConst(acc, st[0])
-		return
-	}
-	acc[0] = st[0] + math.Log(st[1])
-	inv := 1 / st[1]
-	for i := 0; i < d; i++ {
-		acc[1+i] = st[2+i] * inv
-	}
-	g := acc[1 : 1+d]
-	for t := 0; t < js.nh; t++ {
-		acc[1+d+t] = st[2+d+t]*inv - g[js.hi[t]]*g[js.hj[t]]
 	}
 }
