@@ -32,7 +32,7 @@ func Marginal(m *engine.Marginal1D, o Options) *Figure {
 	}
 	if o.Compact {
 		f.W, f.H = 220, 200
-		f.Plot = Box{X0: 36, Y0: 8, X1: f.W - 8, Y1: f.H - 26}
+		f.Plot = Box{X0: 46, Y0: 8, X1: f.W - 8, Y1: f.H - 26}
 		ylabel = ""
 	}
 	f.X = plot.Linear{D0: xlo, D1: xhi, R0: f.Plot.X0, R1: f.Plot.X1}

@@ -55,7 +55,7 @@ func Pair(p *engine.Marginal2D, mx, my *engine.Marginal1D, o Options) *Figure {
 	switch {
 	case o.Compact:
 		f.W, f.H = 220, 200
-		f.Plot = Box{X0: 36, Y0: 8, X1: f.W - 8, Y1: f.H - 26}
+		f.Plot = Box{X0: 46, Y0: 8, X1: f.W - 8, Y1: f.H - 26}
 	case edges:
 		f.Plot = Box{X0: 58, Y0: 80, X1: f.W - 80, Y1: f.H - 42}
 	default:

@@ -58,7 +58,7 @@ func (pp *PlotPanel) grid(fs *FigureSet) app.UI {
 					&FigureView{Panel: p, Compact: true, Caption: "Marginal of " + fs.Names[col]}))
 			default:
 				cells = append(cells, app.Div().Class("gcell").Body(
-					app.Div().Class("gtitle").Text(fs.Names[col]+" → , "+fs.Names[row]+" ↑"),
+					app.Div().Class("gtitle").Text(fs.Names[row]+" against "+fs.Names[col]),
 					&FigureView{Panel: p, Compact: true, Caption: fs.Names[col] + " across, " + fs.Names[row] + " up"}))
 			}
 		}
