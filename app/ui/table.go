@@ -2,6 +2,7 @@ package ui
 
 import (
 	"math"
+	"strconv"
 
 	"bellcheck/app/plot"
 	"bellcheck/engine"
@@ -274,6 +275,22 @@ func Table(r *engine.Result, m *model.Model) []Section {
 		func(f *engine.Fit) float64 { return f.Hellinger }, func(v float64) string { return plot.FormatNumber(v, 3) }, id)
 	metric("95 % coverage", "Exact posterior mass inside the fit's central 95 % region; 95 % is right, less means the fit is overconfident.",
 		func(f *engine.Fit) float64 { return f.Coverage95 }, fmtPercent, func(v float64) float64 { return math.Abs(v - 0.95) })
+	run := Row{Label: "optimiser", Hint: "How the fit's optimiser ended: the Newton polish of the mode (Laplace) or the fixed-point iteration (reverse-KL fits), with its steps and final residual. Moment matching needs no optimiser."}
+	run.Cells[plot.Exact] = Cell{Absent: "reference"}
+	for _, meth := range plot.Fits {
+		f := fitOf(r, meth)
+		switch {
+		case f == nil:
+			run.Cells[meth] = Cell{Text: "—", Absent: absentFit}
+		case meth == plot.ForwardKL:
+			run.Cells[meth] = Cell{Text: "—", Absent: "moment matching needs no optimiser"}
+		case f.Converged:
+			run.Cells[meth] = Cell{Text: "converged", Sub: strconv.Itoa(f.Iterations) + " steps"}
+		default:
+			run.Cells[meth] = Cell{Text: "not converged", Sub: strconv.Itoa(f.Iterations) + " steps, residual " + plot.FormatNumber(f.Residual, 2)}
+		}
+	}
+	ev.Rows = append(ev.Rows, run)
 	sections = append(sections, ev)
 	return sections
 }

@@ -81,3 +81,27 @@ func TestFmtScaled(t *testing.T) {
 		}
 	}
 }
+
+func TestTableReportsTheOptimiser(t *testing.T) {
+	r := gaussResult([]string{"a"}, []float64{0}, [][]float64{{1}}, 0)
+	r.Fits.ReverseKL.Converged = false
+	r.Fits.ReverseKL.Iterations = 15
+	r.Fits.ReverseKL.Residual = 0.0017
+	secs := Table(r, nil)
+	last := secs[len(secs)-1].Rows
+	row := last[len(last)-1]
+	if row.Label != "optimiser" {
+		t.Fatalf("last row %q", row.Label)
+	}
+	if c := row.Cells[plot.ReverseKL]; c.Text != "not converged" || c.Sub != "15 steps, residual 0.0017" {
+		t.Errorf("reverse-KL cell %+v", c)
+	}
+	if c := row.Cells[plot.Laplace]; c.Text != "converged" || c.Sub != "7 steps" {
+		t.Errorf("Laplace cell %+v", c)
+	}
+	for _, m := range plot.Methods {
+		if row.Cells[m].Best {
+			t.Error("the optimiser row marks no best")
+		}
+	}
+}
