@@ -1,7 +1,6 @@
 package eval
 
 import (
-	"fmt"
 	"math"
 	"testing"
 
@@ -135,5 +134,3 @@ func blockMatches(t *testing.T, label string, ev *Evaluator, pts [][]float64) {
 		}
 	}
 }
-
-func fmtPoint(x []float64) string { return fmt.Sprint(x) }
