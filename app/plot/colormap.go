@@ -48,7 +48,7 @@ func (cm Colormap) At(t float64) RGB {
 // slate grey of middle lightness, nearly neutral in hue so that the methods'
 // coloured lines and the dark exact contours stay legible on top of it.
 var Density = func() Colormap {
-	cm, err := NewColormap("#fbfbf9", "#e6e9ec", "#ccd3d9", "#b3bdc7", "#9aa7b4")
+	cm, err := NewColormap("#fbfbf9", "#e2e6ea", "#c0c9d2", "#97a5b3", "#6a7b8e")
 	if err != nil {
 		panic(err)
 	}

@@ -72,9 +72,11 @@ func TestPaletteIsDistinctWithoutColour(t *testing.T) {
 		if k := Contrast(c, white); k < 3 {
 			t.Errorf("%s: contrast %g on white", s.Name, k)
 		}
-		// On the darkest heat-map colour too, where lines cross the mode.
-		if k := Contrast(c, Density.At(1)); k < 2 && m != Laplace {
-			t.Errorf("%s: contrast %g on the heat map", s.Name, k)
+		// On the heat map where the innermost contours run: for a Gaussian
+		// the region holding 39.3 % of the mass ends where the density is
+		// e^(-1/2) of its peak (chi-square with 2 degrees of freedom).
+		if k := Contrast(c, Density.At(math.Exp(-0.5))); k < 2 {
+			t.Errorf("%s: contrast %g on the heat map at the 39 %% contour", s.Name, k)
 		}
 		if other, dup := dashes[s.Dash]; dup {
 			t.Errorf("%s and %s share dash %q", s.Name, other, s.Dash)

@@ -105,6 +105,7 @@ func (p *Page) Input(ctx app.Context, text string) {
 		return
 	}
 	p.text, p.example, p.pending = text, "", true
+	p.stop() // the running analysis is for an outdated text: free the CPU for typing
 	p.editSeq++
 	seq := p.editSeq
 	ctx.After(CheckDelay, func(ctx app.Context) {
@@ -123,6 +124,11 @@ func (p *Page) check(ctx app.Context) {
 		p.start(ctx)
 		return
 	}
+	p.stop()
+}
+
+// stop cancels the running analysis, if any; its result will be ignored.
+func (p *Page) stop() {
 	if p.cancel != nil {
 		p.cancel()
 		p.cancel = nil
@@ -145,15 +151,42 @@ func (p *Page) LoadExample(ctx app.Context, id string) {
 	if !ok {
 		return
 	}
+	p.LoadState(ctx, ex.Source, ex.Params, p.view)
+	p.example = ex.ID
+}
+
+// LoadState replaces the whole calculator state (model text, options by
+// parameter name, view) and analyses it: for examples, and for restoring a
+// shared link or saved work.
+func (p *Page) LoadState(ctx app.Context, src string, params map[string]engine.ParamOptions, v View) {
 	p.editSeq++ // drop a pending check of the old text
 	p.pending = false
-	p.text, p.example = ex.Source, ex.ID
-	_ = jsdom.SetValue(EditorID, ex.Source) // natively there is no editor to set
+	p.text, p.example = src, ""
+	_ = jsdom.SetValue(EditorID, src) // natively there is no editor to set
 	p.s.ResetParams()
-	for name, o := range ex.Params {
+	for name, o := range params {
 		p.s.SetParam(name, o)
 	}
+	p.view = v
 	p.check(ctx)
+}
+
+// State returns the calculator state to save or share: the editor's text,
+// the options of the current model's parameters by name, and the view.
+func (p *Page) State() (src string, params map[string]engine.ParamOptions, v View) {
+	params = map[string]engine.ParamOptions{}
+	m := p.s.Model
+	if m == nil {
+		m = p.s.LastGood
+	}
+	if m != nil {
+		for _, prm := range m.Params {
+			if o := p.s.Param(prm.Name); o != (engine.ParamOptions{}) {
+				params[prm.Name] = o
+			}
+		}
+	}
+	return p.text, params, p.view
 }
 
 // SetView implements Host.

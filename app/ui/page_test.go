@@ -230,3 +230,31 @@ func TestExampleBringsItsSuggestedScale(t *testing.T) {
 		t.Error("example not loaded into the editor state")
 	}
 }
+
+func TestTypingStopsTheRunningAnalysisAtOnce(t *testing.T) {
+	started := make(chan struct{}, 4)
+	h, e := mount(t, func(ctx context.Context, m *model.Model, o engine.Options, pr engine.ProgressFunc) (*engine.Result, error) {
+		if m.Params[0].Name == "alpha" {
+			started <- struct{}{}
+			<-ctx.Done()
+			return nil, ctx.Err()
+		}
+		return resultFor(m), nil
+	})
+	p := h.page
+	p.text = srcA
+	p.check(h.ctx)
+	<-started
+	p.Input(h.ctx, srcB) // no waiting for the check: the old run stops now
+	if p.cancel != nil || p.s.Running {
+		t.Error("the running analysis goes on while the user types")
+	}
+	e.ConsumeAll()
+	if p.s.Result == nil || p.s.Result.Params[0] != "beta" {
+		t.Errorf("after the pause the new text is analysed: %+v", p.s.Result)
+	}
+	src, params, _ := p.State()
+	if src != srcB || len(params) != 0 {
+		t.Errorf("state %q %v", src, params)
+	}
+}
