@@ -298,8 +298,91 @@ func (a *analysis) evaluateGrid() error {
 		g = g2
 		a.boxRes.Box = box
 	}
+	// A box stretched over faint tails (a funnel, a heavy tail) can leave
+	// the centre under-resolved. Then trim each free side to where
+	// trimTail of the mass lies beyond it, where that narrows an axis by
+	// 30 % or more, and keep the grid whose error estimate (half resolution
+	// plus the mass beyond the box) is smaller.
+	if coarse(g) {
+		box := g.Box.Clone()
+		var names []string
+		for k := 0; k < a.d; k++ {
+			mass := g.Stats.Marginals[k].Mass
+			n := len(mass)
+			lo, hi := 0, n-1
+			acc := 0.0
+			for i := 0; i < n; i++ {
+				if acc += mass[i]; acc > trimTail {
+					lo = max(i-2, 0)
+					break
+				}
+			}
+			acc = 0
+			for i := n - 1; i >= 0; i-- {
+				if acc += mass[i]; acc > trimTail {
+					hi = min(i+2, n-1)
+					break
+				}
+			}
+			nl, nh := box.Lo[k], box.Hi[k]
+			if !a.boxRes.Fixed[k][0] {
+				nl = g.Nodes[k][lo]
+			}
+			if !a.boxRes.Fixed[k][1] {
+				nh = g.Nodes[k][hi]
+			}
+			if nh-nl < 0.7*(box.Hi[k]-box.Lo[k]) && nl < nh {
+				box.Lo[k], box.Hi[k] = nl, nh
+				names = append(names, a.names[k])
+			}
+		}
+		if len(names) > 0 {
+			g2, err := grid.Evaluate(a.ctx, a.p, box, grid.Settings{
+				Points:   a.points(),
+				Maps:     a.maps,
+				Free:     a.free(),
+				Progress: a.tr.at,
+			})
+			if err != nil {
+				if ctxErr := a.ctx.Err(); ctxErr != nil {
+					return ctxErr
+				}
+			} else if errEstimate(g2) < errEstimate(g) {
+				g = g2
+				a.boxRes.Box = box
+				a.diag.add(CodeEdgeMass, SeverityWarning,
+					"The box reached so far into faint tails that the grid could not resolve the centre; it was narrowed along %s to where about %.0g of the mass lies beyond each side, and the exact results are those of that box.",
+					list(names), trimTail)
+			}
+		}
+	}
 	a.g = g
 	return nil
+}
+
+// trimTail is the share of the mass left beyond each side when a box is
+// narrowed for resolution.
+const trimTail = 1e-8
+
+// coarse reports a grid whose half-resolution error estimate is large.
+func coarse(g *grid.Grid) bool {
+	st := &g.Stats
+	if st.LogZErr > logZErrWarn {
+		return true
+	}
+	f := &st.Fitting
+	for k := range f.Mean {
+		if f.MeanErr[k] > 10*meanErrWarn*f.SD[k] || f.CovErr[k][k] > 5*varErrWarn*f.Cov[k][k] {
+			return true
+		}
+	}
+	return false
+}
+
+// errEstimate is the grid's error estimate of log Z: the change at half
+// resolution plus the mass estimated beyond the box.
+func errEstimate(g *grid.Grid) float64 {
+	return g.Stats.LogZErr + g.Stats.TailMass
 }
 
 // refineEdgeMass is the edge mass of the fine grid above which a free face
@@ -795,7 +878,7 @@ func (a *analysis) gridDiagnostics() {
 				a.diag.add(CodeImproper, SeverityError,
 					"Mass stays at the %s edge of %s however far the box is widened (%s in its outermost layer): the density may be improper (not integrable) or too heavy-tailed for a grid, and the exact results are those of the truncated box.",
 					sides[side], a.names[k], share(e))
-			case a.boxRes.Capped[k][side] && e > edgeMassWarn*1e-4:
+			case a.boxRes.Capped[k][side] && e > 1e-10:
 				a.diag.add(CodeEdgeMass, SeverityWarning,
 					"The box was widened at the %s end of %s as far as the grid still resolves the density's centre, and %s of the mass remains in its outermost layer: the tails are heavy, and the exact results are those of the truncated box.",
 					sides[side], a.names[k], share(e))

@@ -36,7 +36,7 @@ func TestCauchyHasNoVariance(t *testing.T) {
 	if res.Fits.ForwardKL != nil {
 		t.Errorf("forward-KL fit reported: %+v", res.Fits.ForwardKL)
 	}
-	if !hasCode(res, CodeNoVariance) || !hasCode(res, CodeImproper) {
+	if !hasCode(res, CodeNoVariance) || !hasCode(res, CodeEdgeMass) {
 		t.Errorf("diagnostics %+v", res.Diagnostics)
 	}
 	if !math.IsNaN(res.Exact.Cov[0][0]) || !math.IsNaN(res.Exact.SD[0]) {

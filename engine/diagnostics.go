@@ -12,11 +12,14 @@ import (
 //	code                   severity        when
 //	several_modes          warning / info  more than one mode; warning when a second mode holds 1 % of the mass or more
 //	edge_mass              warning         more than 1e-6 of the mass in the outermost layer of a free face of the
-//	                                       box or of a side the user set
-//	improper               error           the box search widened a face as far as it may and more than 1e-9 of the
-//	                                       mass stays in its outer layer: the density is improper (not integrable)
-//	                                       or too heavy-tailed for a grid; the exact covariance is absent, and
-//	                                       log Z too where the mass beyond the box seems to exceed that inside
+//	                                       box or of a side the user set; or more than 1e-10 at a face the box
+//	                                       search could not widen further without losing the density's centre
+//	                                       (heavy tails, a funnel)
+//	improper               error           the box search widened a face as far as it may and more than 1e-4 of the
+//	                                       mass stays in its outer layer, or the mass beyond the box seems to
+//	                                       exceed that inside: the density is improper (not integrable) or far
+//	                                       too heavy-tailed for a grid; the exact covariance (and log Z in the
+//	                                       second case) is absent
 //	box_not_settled        warning         the box search stopped before the box settled
 //	not_positive_definite  warning         no Laplace fit: -Hessian at the highest mode is not positive definite, or
 //	                                       the curvature there is numerically zero (e.g. exp(-x^4/4) at 0)
@@ -67,7 +70,7 @@ const (
 // Thresholds of the diagnostics.
 const (
 	edgeMassWarn     = 1e-6
-	improperEdgeMass = 1e-9 // at a capped face
+	improperEdgeMass = 1e-4 // at a capped face
 	tailShareWarn    = 1e-3 // heavy tails
 	tailShareAbsent  = 5e-2 // no variance
 	absShareAbsent   = 1e-2 // no mean

@@ -32,8 +32,9 @@ type BoxSettings struct {
 	EdgeTol float64
 	// WidthCap bounds the width of each axis in multiples of its
 	// interquartile range (measured when the exploration resolves it); 0
-	// means max(40, (Points-1)/4), so that the fine grid keeps four points
-	// per interquartile range where it can.
+	// means max(12, (Points-1)/4), so that the fine grid keeps four points
+	// per interquartile range where it can (12 interquartile ranges, 16
+	// sd of a normal, hold a normal's mass to 1e-10 at every face).
 	WidthCap float64
 	// MaxIter is the most exploration grids; 0 means 40.
 	MaxIter int
@@ -107,7 +108,7 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 		nf[k] = oddPoints(nf[k])
 		widthCap[k] = s.WidthCap
 		if widthCap[k] <= 0 {
-			widthCap[k] = math.Max(40, float64(nf[k]-1)/4)
+			widthCap[k] = math.Max(12, float64(nf[k]-1)/4)
 		}
 	}
 	lo := append([]float64(nil), s.Bounds.Lo...)
