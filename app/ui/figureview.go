@@ -153,7 +153,9 @@ func (v *FigureView) onKey(ctx app.Context, e app.Event) {
 	}
 	nx, ny := p.GridSize()
 	if !v.active {
-		v.ix, v.iy = nx/2, ny/2
+		// Start at the middle of the view, where the mass is.
+		f := p.Fig
+		v.ix, v.iy = p.Nearest(f.X.Invert((f.Plot.X0+f.Plot.X1)/2), f.Y.Invert((f.Plot.Y0+f.Plot.Y1)/2))
 	}
 	switch key.String() {
 	case "ArrowLeft":
