@@ -51,8 +51,8 @@ type Result struct {
 	// QMass is the grid's quadrature of q: 1 up to the rule's error when q
 	// lies inside the box and the grid resolves it.
 	QMass float64
-	// Resolved reports that the grid's spacing is fine enough for q (at
-	// most 0.7 of q's conditional sd along every axis).
+	// Resolved reports that the grid's spacing is fine enough for q: the
+	// rule integrates q to about 1e-10 (see latticeMin).
 	Resolved bool
 	// Method tells how KLqp and Hellinger were computed.
 	Method Method
@@ -93,9 +93,8 @@ type gaussianPrep struct {
 	r0      float64 // sqrt of the chi-square 0.95 quantile
 	band    float64 // half-width of the smoothing band in sqrt(M)
 	step    float64 // largest change of sqrt(M) between neighbours
-	// resolved: the grid's spacing is at most 0.7 of q's conditional sd
-	// along every axis, where the trapezoid rule's error on q is below
-	// 1e-17 (its error is about 2 exp(-2 pi^2 sd^2 / h^2)).
+	// resolved: the grid's rule integrates q to about 1e-10 (see
+	// latticeMin).
 	resolved bool
 	// accumulators
 	qmass, klqp, bhat, cover float64
@@ -139,12 +138,7 @@ func prepare(g *grid.Grid, q Gaussian) (*gaussianPrep, error) {
 	for k := 0; k < d; k++ {
 		gp.step = math.Max(gp.step, g.Spacing(k)*math.Sqrt(gp.prec[k][k]))
 	}
-	gp.resolved = true
-	for k := 0; k < d; k++ {
-		if g.Spacing(k)*math.Sqrt(gp.prec[k][k]) > 0.7 {
-			gp.resolved = false
-		}
-	}
+	gp.resolved = latticeMin(g, q.Cov) >= resolvedMin
 	return gp, nil
 }
 
@@ -367,6 +361,54 @@ func Compare(g *grid.Grid, qs []Gaussian, s Settings) ([]Result, error) {
 }
 
 func sq(x float64) float64 { return x * x }
+
+// resolvedMin is the least value of latticeMin for which the grid resolves
+// a Gaussian: the rule's relative error on it is then about
+// 2 exp(-2 pi^2 1.2) = 1e-10.
+const resolvedMin = 1.2
+
+// latticeMin returns min n' S n over integer vectors n != 0 with entries in
+// -3..3, with S_kl = Cov_kl / (h_k h_l). By Poisson's summation formula the
+// trapezoid rule's relative error on a Gaussian of covariance Cov is the
+// sum over such n of exp(-2 pi^2 n' S n), so the smallest term decides: for
+// a correlated Gaussian it can be far smaller than the axes' conditional
+// variances suggest, or far larger.
+func latticeMin(g *grid.Grid, cov *mat.SymDense) float64 {
+	d := g.Dim
+	var s [4][4]float64
+	for k := 0; k < d; k++ {
+		for l := 0; l < d; l++ {
+			s[k][l] = cov.At(k, l) / (g.Spacing(k) * g.Spacing(l))
+		}
+	}
+	best := math.Inf(1)
+	var n [4]int
+	total := 1
+	for k := 0; k < d; k++ {
+		total *= 7
+	}
+	for idx := 0; idx < total; idx++ {
+		rem, zero := idx, true
+		for k := 0; k < d; k++ {
+			n[k] = rem%7 - 3
+			rem /= 7
+			if n[k] != 0 {
+				zero = false
+			}
+		}
+		if zero {
+			continue
+		}
+		v := 0.0
+		for k := 0; k < d; k++ {
+			for l := 0; l < d; l++ {
+				v += float64(n[k]*n[l]) * s[k][l]
+			}
+		}
+		best = math.Min(best, v)
+	}
+	return best
+}
 
 // quadInterval returns the nodes j in [0, n) with a + b t + c t^2 < 0 for
 // t = t0 + j h (c > 0), as j1 <= j2, or j1 > j2 when there are none.
