@@ -35,7 +35,14 @@ type Options struct {
 	Compact bool
 	// XLabel and YLabel name the axes (parameter names).
 	XLabel, YLabel string
+	// XView and YView, when their ends differ, fix the plotted ranges (so
+	// the panels of a grid share each parameter's range); otherwise each
+	// figure finds its own.
+	XView, YView [2]float64
 }
+
+// fixed reports whether a view range is set.
+func fixed(v [2]float64) bool { return v[1] > v[0] }
 
 func (o Options) shown(m plot.Method) bool { return !o.Hidden[m] }
 

@@ -17,13 +17,10 @@ func Marginal(m *engine.Marginal1D, o Options) *Figure {
 	if !ok || len(m.X) < 2 || !(m.X[len(m.X)-1] > m.X[0]) {
 		return nil
 	}
-	var fits [][]float64
-	for _, meth := range plot.Fits {
-		if o.shown(meth) {
-			fits = append(fits, curves[meth])
-		}
+	xlo, xhi := MarginalView(m, o)
+	if fixed(o.XView) {
+		xlo, xhi = o.XView[0], o.XView[1]
 	}
-	xlo, xhi := viewOf(m.X, curves[plot.Exact], fits)
 	f := &Figure{W: 480, H: 250}
 	f.Plot = Box{X0: 58, Y0: 12, X1: f.W - 14, Y1: f.H - 42}
 	ylabel := "density"
@@ -74,6 +71,22 @@ func Marginal(m *engine.Marginal1D, o Options) *Figure {
 	w.close()
 	f.SVG = w.b.String()
 	return f
+}
+
+// MarginalView returns the range a marginal's plot shows: where the exact
+// density and the shown fits hold their mass, padded, within the grid.
+func MarginalView(m *engine.Marginal1D, o Options) (lo, hi float64) {
+	if len(m.X) < 2 {
+		return 0, 0
+	}
+	curves := Curves(m)
+	var fits [][]float64
+	for _, meth := range plot.Fits {
+		if o.shown(meth) {
+			fits = append(fits, curves[meth])
+		}
+	}
+	return viewOf(m.X, curves[plot.Exact], fits)
 }
 
 // area fills the region under a curve down to base, in the exact method's

@@ -50,6 +50,12 @@ func Pair(p *engine.Marginal2D, mx, my *engine.Marginal1D, o Options) *Figure {
 			ylo, yhi = extendByPolylines(ylo, yhi, p.Y[0], p.Y[ny-1], 1, lines[2:])
 		}
 	}
+	if fixed(o.XView) {
+		xlo, xhi = o.XView[0], o.XView[1]
+	}
+	if fixed(o.YView) {
+		ylo, yhi = o.YView[0], o.YView[1]
+	}
 	edges := mx != nil && my != nil && !o.Compact
 	f := &Figure{W: 480, H: 480}
 	switch {

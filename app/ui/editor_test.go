@@ -73,6 +73,19 @@ func TestFigureSetShapes(t *testing.T) {
 				if p != nil && row > col && (p.I != col || p.J != row || p.Fig.Heat == nil) {
 					t.Errorf("%d-D: pair cell (%d, %d) is I=%d J=%d", d, row, col, p.I, p.J)
 				}
+				// Columns share their parameter's range, and so do rows.
+				if p != nil {
+					diag := fs.Grid[col][col].Fig.X
+					if p.Fig.X.D0 != diag.D0 || p.Fig.X.D1 != diag.D1 {
+						t.Errorf("%d-D: cell (%d, %d) x range differs from its column's marginal", d, row, col)
+					}
+					if row > col {
+						rd := fs.Grid[row][row].Fig.X
+						if p.Fig.Y.D0 != rd.D0 || p.Fig.Y.D1 != rd.D1 {
+							t.Errorf("%d-D: cell (%d, %d) y range differs from its row's marginal", d, row, col)
+						}
+					}
+				}
 			}
 		}
 		if d == 2 {

@@ -83,6 +83,27 @@ func BuildFigures(r *engine.Result, v View) *FigureSet {
 			}
 		}
 	case d >= 3:
+		// Each parameter keeps one range in every panel of the grid, so
+		// the columns and rows line up.
+		views := make([][2]float64, d)
+		for i := range d {
+			if m := marg(i); m != nil {
+				lo, hi := figure.MarginalView(m, figure.Options{Hidden: v.Hidden})
+				views[i] = [2]float64{lo, hi}
+			}
+		}
+		opts = func(id string, compact bool, x, y string) figure.Options {
+			o := figure.Options{ID: id, Log: v.Log, Hidden: v.Hidden, Compact: compact, XLabel: x, YLabel: y}
+			for i, n := range r.Params {
+				if n == x {
+					o.XView = views[i]
+				}
+				if n == y {
+					o.YView = views[i]
+				}
+			}
+			return o
+		}
 		fs.Grid = make([][]*Panel, d)
 		fs.Corr = make([][]string, d)
 		for row := range d {

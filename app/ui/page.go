@@ -57,6 +57,10 @@ type Page struct {
 
 	// analyse runs analyses (engine.Analyse unless a test sets it).
 	analyse AnalyseFunc
+	// ctx is the page's own context once mounted: asynchronous work
+	// reports through it, since the element that started the work (a
+	// button, an input) may be gone when the work ends.
+	ctx *app.Context
 }
 
 // NewPage returns the page with the default example loaded.
@@ -86,7 +90,10 @@ func (p *Page) init() {
 }
 
 // OnMount starts the first analysis in the browser.
-func (p *Page) OnMount(ctx app.Context) { p.start(ctx) }
+func (p *Page) OnMount(ctx app.Context) {
+	p.ctx = &ctx
+	p.start(ctx)
+}
 
 // OnDismount stops a running analysis.
 func (p *Page) OnDismount() {
@@ -108,6 +115,9 @@ func (p *Page) Input(ctx app.Context, text string) {
 	p.stop() // the running analysis is for an outdated text: free the CPU for typing
 	p.editSeq++
 	seq := p.editSeq
+	if p.ctx != nil {
+		ctx = *p.ctx
+	}
 	ctx.After(CheckDelay, func(ctx app.Context) {
 		if seq == p.editSeq {
 			p.check(ctx)
@@ -200,6 +210,9 @@ func (p *Page) SetView(ctx app.Context, log bool, hidden [5]bool) {
 // SliceLength from its progress callback; its result is accepted only if no
 // newer analysis was requested meanwhile.
 func (p *Page) start(ctx app.Context) {
+	if p.ctx != nil {
+		ctx = *p.ctx
+	}
 	if p.cancel != nil {
 		p.cancel()
 		p.cancel = nil
