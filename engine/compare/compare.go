@@ -675,4 +675,3 @@ func hellingerOnly(out, wts, lqs []float64, logZ float64) float64 {
 	}
 	return math.Sqrt(math.Max(0, 1-bhat))
 }
-
