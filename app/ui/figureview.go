@@ -86,7 +86,9 @@ func (v *FigureView) Render() app.UI {
 		app.Div().ID(p.ID).Class("fig-stack").
 			Style("aspect-ratio", strconv.FormatFloat(f.W, 'f', 0, 64)+" / "+strconv.FormatFloat(f.H, 'f', 0, 64)).
 			TabIndex(0).
-			Aria("label", v.Caption+". Arrow keys move a read-out cursor.").
+			Role("group").
+			Aria("roledescription", "plot").
+			Aria("label", v.Caption+" Arrow keys move a read-out cursor; Shift moves ten grid points.").
 			OnMouseMove(v.onMove).
 			OnMouseLeave(v.onLeave).
 			OnKeyDown(v.onKey).

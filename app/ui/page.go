@@ -338,8 +338,7 @@ func (p *Page) runStatus() app.UI {
 	case p.s.RunErr != nil:
 		return st.Body(app.Span().Class("warn-text").Text("the analysis failed"))
 	case p.s.Result != nil:
-		return st.Body(app.Span().Class("muted").Text(
-			"analysed in " + fmtMillis(p.s.Elapsed) + ", working in slices of at most " + fmtMillis(p.s.LongestSlice)))
+		return st.Body(app.Span().Class("muted").Text("analysed in " + fmtMillis(p.s.Elapsed)))
 	}
 	return st
 }
@@ -449,7 +448,8 @@ func (p *Page) modesAndGrid(stale bool) app.UI {
 			app.Dt().Text("mass in the edge layer"), app.Dd().Text(plot.FormatNumber(r.Grid.EdgeMass, 2)+" (largest over the faces)"),
 			app.Dt().Text("grid points where log p is undefined"), app.Dd().Text(fmtPercent(r.Grid.NonFinite)),
 			app.Dt().Text("log Z error estimate"), app.Dd().Text(fmtErr(r.Exact.LogZErr)+" (change from half resolution)"),
-			app.Dt().Text("page time"), app.Dd().Text("figures "+fmtMillis(p.figTime)+", last update of the page "+fmtMillis(p.drawTime)),
+			app.Dt().Text("page time"), app.Dd().Text(fmtMillis(p.s.Elapsed)+" in all, working in slices of at most "+fmtMillis(p.s.LongestSlice)+
+				" between pauses for the browser; figures "+fmtMillis(p.figTime)+", update of the page "+fmtMillis(p.drawTime)),
 			app.Dt().Text("engine time"), app.Dd().Text(fmtMillis(time.Duration(r.Timing.Total*float64(time.Millisecond)))+
 				app.FormatString(" (%s)", strings.Join(st, ", "))),
 		),
