@@ -428,10 +428,11 @@ func quadInterval(a, b, c, t0, h float64, n int) (j1, j2 int) {
 }
 
 // qNegligible is the Mahalanobis square beyond which q's density is below
-// e^-60 of its peak and its terms in KL(q||p), the Hellinger integral and
-// q's mass are dropped (except that p = 0 there still makes KL(q||p)
-// infinite).
-const qNegligible = 120
+// e^-30 of its peak and its terms in KL(q||p), the Hellinger integral and
+// q's mass are dropped: q holds less than 1e-11 of its mass there in up to
+// four dimensions (chi-square tail), and p = 0 there still makes KL(q||p)
+// infinite.
+const qNegligible = 60
 
 // cellShare returns the share of the cell around a node (offset r from q's
 // mean, Mahalanobis square M) inside the region M(z) <= r0^2. Along the
