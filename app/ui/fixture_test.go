@@ -2,6 +2,7 @@ package ui
 
 import (
 	"math"
+	"time"
 
 	"bellcheck/app/figure"
 	"bellcheck/app/plot"
@@ -110,3 +111,5 @@ func gaussResult(names []string, mean []float64, cov [][]float64, laplaceShift f
 	}
 	return r
 }
+
+func nowForTest() time.Time { return time.Unix(0, 0) }

@@ -78,6 +78,8 @@ func markBest(row *Row, score [5]float64) {
 	}
 }
 
+func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
+
 func nanScores() [5]float64 {
 	n := math.NaN()
 	return [5]float64{n, n, n, n, n}
@@ -169,8 +171,14 @@ func Table(r *engine.Result, m *model.Model) []Section {
 			fm, fs := mom[meth].mean[i], mom[meth].sd[i]
 			dm := (fm - exMean) / exSD
 			ratio := fs / exSD
-			mean.Cells[meth] = Cell{Text: fmtScaled(fm, exSD), Sub: fmtSigned(dm, 2) + " sd"}
-			sd.Cells[meth] = Cell{Text: fmtNum(fs), Sub: "×" + plot.FormatNumber(ratio, 3)}
+			mean.Cells[meth] = Cell{Text: fmtScaled(fm, exSD)}
+			if finite(dm) {
+				mean.Cells[meth].Sub = fmtSigned(dm, 2) + " sd"
+			}
+			sd.Cells[meth] = Cell{Text: fmtNum(fs)}
+			if finite(ratio) {
+				sd.Cells[meth].Sub = "×" + plot.FormatNumber(ratio, 3)
+			}
 			sMean[meth] = math.Abs(dm)
 			sSD[meth] = math.Abs(math.Log(ratio))
 			if i < len(f.Interval95) {
