@@ -159,6 +159,11 @@ func Table(r *engine.Result, m *model.Model) []Section {
 		}
 		sd.Cells[plot.Exact] = Cell{Text: fmtNum(exSD), Sub: fmtErr(sdErr)}
 		iv.Cells[plot.Exact] = Cell{Text: interval(q[0], q[2], exSD)}
+		for _, c := range []*Cell{&mean.Cells[plot.Exact], &sd.Cells[plot.Exact]} {
+			if c.Text == "—" {
+				c.Absent = "not reported: see the diagnostics"
+			}
+		}
 		sMean, sSD, sIv := nanScores(), nanScores(), nanScores()
 		for _, meth := range plot.Fits {
 			f := fitOf(r, meth)
