@@ -147,3 +147,14 @@ func TestMassRadius(t *testing.T) {
 		}
 	}
 }
+
+// BenchmarkContour301 traces one level of a correlated Gaussian on a
+// 301 by 301 grid, the size of the engine's default 2-D grid.
+func BenchmarkContour301(b *testing.B) {
+	g := gaussianGrid([]float64{1.0, 0.6, 0.6, 0.8}, 5, 301)
+	level := bivariateNormal([]float64{1.0, 0.6, 0.6, 0.8}, 0, 0) * math.Exp(-0.5)
+	b.ResetTimer()
+	for range b.N {
+		Contour(g, level)
+	}
+}

@@ -119,3 +119,26 @@ func TestEditorKeepsTheTextareaInPlace(t *testing.T) {
 		}
 	}
 }
+
+// BenchmarkBuildFigures measures drawing every plot of a result: a 2-D pair
+// with edge marginals, and a 4-D grid of 6 pairs and 4 marginals.
+func BenchmarkBuildFigures(b *testing.B) {
+	for _, d := range []int{2, 4} {
+		names := []string{"a", "b", "c", "d"}[:d]
+		mean := make([]float64, d)
+		cov := make([][]float64, d)
+		for i := range cov {
+			cov[i] = make([]float64, d)
+			for j := range cov[i] {
+				cov[i][j] = 0.4
+			}
+			cov[i][i] = 1
+		}
+		r := gaussResult(names, mean, cov, 0.2)
+		b.Run(names[d-1], func(b *testing.B) {
+			for range b.N {
+				BuildFigures(r, View{})
+			}
+		})
+	}
+}
