@@ -331,7 +331,7 @@ func Compare(g *grid.Grid, qs []Gaussian, s Settings) ([]Result, error) {
 			res.KLqp = math.Inf(1)
 		}
 		if (!gp.resolved || math.Abs(gp.qmass-1) > tol) && s.Density != nil {
-			kl, hel, err := cubature(s.Density, gp, logZ, s.Order)
+			kl, hel, err := cubature(s.Density, gp, logZ, s.Order, s.Progress)
 			if err != nil {
 				return nil, fmt.Errorf("gaussian %d: %w", i, err)
 			}
@@ -606,7 +606,7 @@ func klpq(g *grid.Grid, gp *gaussianPrep) float64 {
 // Gauss-Hermite rule in q's coordinates z = m + sqrt(2) L u, with p
 // normalised by the grid's log Z; both are NaN where log p is NaN or +Inf
 // at a node.
-func cubature(p target.Density, gp *gaussianPrep, logZ float64, order int) (kl, hel float64, err error) {
+func cubature(p target.Density, gp *gaussianPrep, logZ float64, order int, progress func(float64)) (kl, hel float64, err error) {
 	d := len(gp.mean)
 	if order <= 0 {
 		order = [...]int{64, 24, 12, 8}[min(d, 4)-1]
@@ -649,7 +649,20 @@ func cubature(p target.Density, gp *gaussianPrep, logZ float64, order int) (kl, 
 		lqs[i] = gp.logNorm - m2/2
 	}
 	out := make([]float64, n)
-	p.LogDensityBlock(cols, out)
+	// In blocks, so that progress reports keep coming (the density may be
+	// costly).
+	const block = 512
+	part := make([][]float64, d)
+	for i0 := 0; i0 < n; i0 += block {
+		i1 := min(i0+block, n)
+		for k := range part {
+			part[k] = cols[k][i0:i1]
+		}
+		p.LogDensityBlock(part, out[i0:i1])
+		if progress != nil {
+			progress(1)
+		}
+	}
 	eLogP, bhat := 0.0, 0.0
 	for i, v := range out {
 		switch {

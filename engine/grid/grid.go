@@ -50,7 +50,8 @@ type Settings struct {
 	// blocks of points.
 	Progress func(fraction float64)
 	// BlockSize is the number of points per LogDensityBlock call; 0 means
-	// 4096.
+	// 1024 (small enough that progress reports keep coming for a costly
+	// density, large enough to amortise the call).
 	BlockSize int
 }
 
@@ -190,7 +191,7 @@ func Evaluate(ctx context.Context, p target.Density, box Box, s Settings) (*Grid
 func (g *Grid) evaluate(ctx context.Context, p target.Density, blockSize int, progress func(float64)) error {
 	d := g.Dim
 	if blockSize <= 0 {
-		blockSize = 4096
+		blockSize = 1024
 	}
 	nLast := g.N[d-1]
 	linesPerBlock := blockSize / nLast
