@@ -187,3 +187,31 @@ func BenchmarkGauss200Block(b *testing.B) {
 		ev.LogDensityBlock(cols, out)
 	}
 }
+
+// A four-parameter model with special functions, for the cost of jets at
+// d = 4 (no target; for the record).
+const fourSrc = "param a\nparam b\nparam c\nparam d\nld_normal(a, 0, 1) + ld_gamma(exp(b), 2, 1) + b + ld_student(c, 4, a, exp(b)) + log1pexp(d*c) - d^2/2\n"
+
+func BenchmarkFourPointValue(b *testing.B) {
+	ev := mustCompile(b, fourSrc)
+	x := []float64{0.3, -0.2, 0.5, 1.1}
+	b.ReportAllocs()
+	var s float64
+	for b.Loop() {
+		s += ev.LogDensity(x)
+	}
+	sink = s
+}
+
+func BenchmarkFourPointDerivs(b *testing.B) {
+	ev := mustCompile(b, fourSrc)
+	x := []float64{0.3, -0.2, 0.5, 1.1}
+	g := make([]float64, 4)
+	h := make([]float64, 16)
+	b.ReportAllocs()
+	var s float64
+	for b.Loop() {
+		s += ev.LogDensityDerivs(x, g, h)
+	}
+	sink = s
+}

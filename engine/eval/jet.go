@@ -55,25 +55,154 @@ func (js *jetSpace) reg(p *program, r int32) []float64 {
 
 // jinstr is a scalar instruction prepared for derivative mode: register
 // numbers are offsets into the jets, and aVar/bVar say which operands vary.
+// A chain instruction (op == opChain) applies the unary operations
+// chain[0], chain[1], ... to register a with one jet rule, composing their
+// derivatives by the chain rule on numbers first.
 type jinstr struct {
 	op         opcode
 	aVar, bVar bool
 	dst, a, b  int32
 	k          float64
+	chain      []chainStep
 }
 
-// prepare builds the derivative-mode form of the scalar tape.
+// chainStep is one unary operation of a chain.
+type chainStep struct {
+	op opcode
+	k  float64
+}
+
+// opChain marks a chain instruction (derivative mode only).
+const opChain = numOps
+
+// maxChain bounds the unary operations one chain recomputes.
+const maxChain = 6
+
+// prepare builds the derivative-mode form of the scalar tape. Runs of unary
+// operations become chains: their intermediate jets are not computed unless
+// something else needs them (each jet rule costs O(d^2); composing f' and
+// f” along the chain costs a few multiplications).
 func (js *jetSpace) prepare(p *program) {
 	S := int32(js.S)
-	js.code = make([]jinstr, len(p.code))
+	def := make([]int, p.nregs) // instruction defining each register, or -1
+	for r := range def {
+		def[r] = -1
+	}
 	for i, in := range p.code {
-		js.code[i] = jinstr{op: in.op, k: in.k, a: in.a, b: in.b, dst: in.dst}
-		if in.op == opLoop {
+		if in.op != opLoop {
+			def[in.dst] = i
+		}
+	}
+	unary := func(i int) bool {
+		in := &p.code[i]
+		return in.op != opLoop && ops[in.op].class == classUnary && p.isVar[in.a]
+	}
+	// The chain of each unary instruction, innermost first, and its base.
+	chains := make([][]chainStep, len(p.code))
+	base := make([]int32, len(p.code))
+	for i := range p.code {
+		if !unary(i) {
 			continue
 		}
-		js.code[i] = jinstr{op: in.op, k: in.k, dst: in.dst * S, a: in.a * S, b: in.b * S,
-			aVar: p.isVar[in.a], bVar: p.isVar[in.b]}
+		steps := []chainStep{{p.code[i].op, p.code[i].k}}
+		cur := p.code[i].a
+		for len(steps) < maxChain && def[cur] >= 0 && unary(def[cur]) {
+			j := def[cur]
+			steps = append(steps, chainStep{p.code[j].op, p.code[j].k})
+			cur = p.code[j].a
+		}
+		for l, r := 0, len(steps)-1; l < r; l, r = l+1, r-1 {
+			steps[l], steps[r] = steps[r], steps[l]
+		}
+		chains[i], base[i] = steps, cur
 	}
+	// Which jets are needed: the result's, the loops' scalar inputs, and
+	// backwards, the operands of every needed instruction (a chain's base).
+	need := make([]bool, p.nregs)
+	need[p.root] = true
+	for _, lp := range p.loops {
+		for _, in := range lp.jkern {
+			switch in.form {
+			case formVS:
+				need[in.b] = true
+			case formSV:
+				need[in.a] = true
+			case formPack:
+				for _, e := range in.elems {
+					need[e] = true
+				}
+			}
+		}
+	}
+	for i := len(p.code) - 1; i >= 0; i-- {
+		in := &p.code[i]
+		if in.op == opLoop || !need[in.dst] {
+			continue
+		}
+		if chains[i] != nil {
+			need[base[i]] = true
+			continue
+		}
+		need[in.a] = true
+		need[in.b] = true
+	}
+	js.code = js.code[:0]
+	for i, in := range p.code {
+		if in.op == opLoop {
+			js.code = append(js.code, jinstr{op: opLoop, a: in.a})
+			continue
+		}
+		if !need[in.dst] {
+			continue // only inside chains
+		}
+		ji := jinstr{op: in.op, k: in.k, dst: in.dst * S, a: in.a * S, b: in.b * S,
+			aVar: p.isVar[in.a], bVar: p.isVar[in.b]}
+		if c := chains[i]; len(c) > 1 {
+			ji.op, ji.chain, ji.a, ji.b = opChain, c, base[i]*S, base[i]*S
+		}
+		js.code = append(js.code, ji)
+	}
+}
+
+// runChain writes the jet of a chain of unary operations applied to a.
+func (js *jetSpace) runChain(o, a []float64, chain []chainStep) {
+	v, d1, d2 := a[0], 1.0, 0.0
+	for _, st := range chain {
+		switch st.op {
+		case opLog, opLog1p:
+			// As logRule: (log u)' = u'/u, (log u)'' = u''/u - (u'/u)^2.
+			r := 1 / v
+			if st.op == opLog1p {
+				r = 1 / (1 + v)
+				v = math.Log1p(v)
+			} else {
+				v = math.Log(v)
+			}
+			d1 = mulStructural(r, d1)
+			d2 = mulStructural(r, d2) - d1*d1
+		case opAddK:
+			v += st.k
+		case opSubKR:
+			v, d1, d2 = st.k-v, -d1, -d2
+		case opNeg:
+			v, d1, d2 = -v, -d1, -d2
+		case opMulK:
+			v, d1, d2 = v*st.k, d1*st.k, d2*st.k
+		case opDivK:
+			v, d1, d2 = v/st.k, d1/st.k, d2/st.k
+		case opSq:
+			// (u^2)' = 2 u u', (u^2)'' = 2 u'^2 + 2 u u''.
+			d2 = 2*d1*d1 + mulStructural(2*v, d2)
+			d1 = mulStructural(2*v, d1)
+			v = v * v
+		default:
+			f, f1, f2 := ops[st.op].d1(v, st.k)
+			v = f
+			d2 = mulStructural(f2, d1*d1) + mulStructural(f1, d2)
+			d1 = mulStructural(f1, d1)
+		}
+	}
+	js.unaryRule(o, a, v, d1, d2)
 }
 
 // run evaluates the tape with jets at x.
@@ -91,6 +220,10 @@ func (js *jetSpace) run(ev *Evaluator, x, grad, hess []float64) float64 {
 			continue
 		}
 		o := R[in.dst : int(in.dst)+S]
+		if in.op == opChain {
+			js.runChain(o, R[in.a:int(in.a)+S], in.chain)
+			continue
+		}
 		av, bv := R[in.a], R[in.b]
 		var a, b []float64
 		if in.aVar {
@@ -136,6 +269,14 @@ func (js *jetSpace) run(ev *Evaluator, x, grad, hess []float64) float64 {
 		case opMulK:
 			scale(o, a, in.k)
 			continue
+		case opDivK:
+			scale(o, a, 1/in.k)
+			o[0] = av / in.k
+			continue
+		case opSubKR:
+			scale(o, a, -1)
+			o[0] = in.k - av
+			continue
 		}
 		js.apply(in.op, in.k, o, av, a, bv, b)
 	}
@@ -168,10 +309,67 @@ func (js *jetSpace) run(ev *Evaluator, x, grad, hess []float64) float64 {
 	return v
 }
 
-// unaryRule writes the jet of f(a) given f, f' and f” at a's value.
+// unaryRule writes the jet of f(a) given f, f' and f” at a's value. The
+// common dimensions are written out (no loops over a few numbers).
 func (js *jetSpace) unaryRule(dst, a []float64, f, f1, f2 float64) {
 	if f1-f1 != 0 || f2-f2 != 0 || f1 == 0 && f2 == 0 {
 		js.unaryRuleSingular(dst, a, f, f1, f2)
+		return
+	}
+	switch js.d {
+	case 1:
+		a, dst := (*[3]float64)(a), (*[3]float64)(dst)
+		g0 := a[1]
+		h0 := f2 * g0
+		dst[0] = f
+		dst[1] = f1 * g0
+		dst[2] = f1*a[2] + h0*g0
+		return
+	case 2:
+		a, dst := (*[6]float64)(a), (*[6]float64)(dst)
+		g0, g1 := a[1], a[2]
+		h0, h1 := f2*g0, f2*g1
+		dst[0] = f
+		dst[1] = f1 * g0
+		dst[2] = f1 * g1
+		dst[3] = f1*a[3] + h0*g0
+		dst[4] = f1*a[4] + h0*g1
+		dst[5] = f1*a[5] + h1*g1
+		return
+	case 3:
+		a, dst := (*[10]float64)(a), (*[10]float64)(dst)
+		g0, g1, g2 := a[1], a[2], a[3]
+		h0, h1, h2 := f2*g0, f2*g1, f2*g2
+		dst[0] = f
+		dst[1] = f1 * g0
+		dst[2] = f1 * g1
+		dst[3] = f1 * g2
+		dst[4] = f1*a[4] + h0*g0
+		dst[5] = f1*a[5] + h0*g1
+		dst[6] = f1*a[6] + h0*g2
+		dst[7] = f1*a[7] + h1*g1
+		dst[8] = f1*a[8] + h1*g2
+		dst[9] = f1*a[9] + h2*g2
+		return
+	case 4:
+		a, dst := (*[15]float64)(a), (*[15]float64)(dst)
+		g0, g1, g2, g3 := a[1], a[2], a[3], a[4]
+		h0, h1, h2, h3 := f2*g0, f2*g1, f2*g2, f2*g3
+		dst[0] = f
+		dst[1] = f1 * g0
+		dst[2] = f1 * g1
+		dst[3] = f1 * g2
+		dst[4] = f1 * g3
+		dst[5] = f1*a[5] + h0*g0
+		dst[6] = f1*a[6] + h0*g1
+		dst[7] = f1*a[7] + h0*g2
+		dst[8] = f1*a[8] + h0*g3
+		dst[9] = f1*a[9] + h1*g1
+		dst[10] = f1*a[10] + h1*g2
+		dst[11] = f1*a[11] + h1*g3
+		dst[12] = f1*a[12] + h2*g2
+		dst[13] = f1*a[13] + h2*g3
+		dst[14] = f1*a[14] + h3*g3
 		return
 	}
 	d := js.d
@@ -249,6 +447,77 @@ func (js *jetSpace) unaryRuleSingular(dst, a []float64, f, f1, f2 float64) {
 func (js *jetSpace) binaryRule(dst, a, b []float64, f, fa, fb, faa, fab, fbb float64) {
 	if fa-fa != 0 || fb-fb != 0 || faa-faa != 0 || fab-fab != 0 || fbb-fbb != 0 {
 		js.binaryRuleSingular(dst, a, b, f, fa, fb, faa, fab, fbb)
+		return
+	}
+	// Row i of the second-order terms: faa ag_i ag_j + fab (ag_i bg_j +
+	// bg_i ag_j) + fbb bg_i bg_j = (faa ag_i + fab bg_i) ag_j + (fab ag_i +
+	// fbb bg_i) bg_j. The common dimensions are written out.
+	switch js.d {
+	case 1:
+		a, b, dst := (*[3]float64)(a), (*[3]float64)(b), (*[3]float64)(dst)
+		dst[0] = f
+		ag0, bg0 := a[1], b[1]
+		dst[1] = fa*ag0 + fb*bg0
+		ca0, cb0 := faa*ag0+fab*bg0, fab*ag0+fbb*bg0
+		dst[2] = fa*a[2] + fb*b[2] + ca0*ag0 + cb0*bg0
+		return
+	case 2:
+		a, b, dst := (*[6]float64)(a), (*[6]float64)(b), (*[6]float64)(dst)
+		dst[0] = f
+		ag0, bg0 := a[1], b[1]
+		ag1, bg1 := a[2], b[2]
+		dst[1] = fa*ag0 + fb*bg0
+		dst[2] = fa*ag1 + fb*bg1
+		ca0, cb0 := faa*ag0+fab*bg0, fab*ag0+fbb*bg0
+		ca1, cb1 := faa*ag1+fab*bg1, fab*ag1+fbb*bg1
+		dst[3] = fa*a[3] + fb*b[3] + ca0*ag0 + cb0*bg0
+		dst[4] = fa*a[4] + fb*b[4] + ca0*ag1 + cb0*bg1
+		dst[5] = fa*a[5] + fb*b[5] + ca1*ag1 + cb1*bg1
+		return
+	case 3:
+		a, b, dst := (*[10]float64)(a), (*[10]float64)(b), (*[10]float64)(dst)
+		dst[0] = f
+		ag0, bg0 := a[1], b[1]
+		ag1, bg1 := a[2], b[2]
+		ag2, bg2 := a[3], b[3]
+		dst[1] = fa*ag0 + fb*bg0
+		dst[2] = fa*ag1 + fb*bg1
+		dst[3] = fa*ag2 + fb*bg2
+		ca0, cb0 := faa*ag0+fab*bg0, fab*ag0+fbb*bg0
+		ca1, cb1 := faa*ag1+fab*bg1, fab*ag1+fbb*bg1
+		ca2, cb2 := faa*ag2+fab*bg2, fab*ag2+fbb*bg2
+		dst[4] = fa*a[4] + fb*b[4] + ca0*ag0 + cb0*bg0
+		dst[5] = fa*a[5] + fb*b[5] + ca0*ag1 + cb0*bg1
+		dst[6] = fa*a[6] + fb*b[6] + ca0*ag2 + cb0*bg2
+		dst[7] = fa*a[7] + fb*b[7] + ca1*ag1 + cb1*bg1
+		dst[8] = fa*a[8] + fb*b[8] + ca1*ag2 + cb1*bg2
+		dst[9] = fa*a[9] + fb*b[9] + ca2*ag2 + cb2*bg2
+		return
+	case 4:
+		a, b, dst := (*[15]float64)(a), (*[15]float64)(b), (*[15]float64)(dst)
+		dst[0] = f
+		ag0, bg0 := a[1], b[1]
+		ag1, bg1 := a[2], b[2]
+		ag2, bg2 := a[3], b[3]
+		ag3, bg3 := a[4], b[4]
+		dst[1] = fa*ag0 + fb*bg0
+		dst[2] = fa*ag1 + fb*bg1
+		dst[3] = fa*ag2 + fb*bg2
+		dst[4] = fa*ag3 + fb*bg3
+		ca0, cb0 := faa*ag0+fab*bg0, fab*ag0+fbb*bg0
+		ca1, cb1 := faa*ag1+fab*bg1, fab*ag1+fbb*bg1
+		ca2, cb2 := faa*ag2+fab*bg2, fab*ag2+fbb*bg2
+		ca3, cb3 := faa*ag3+fab*bg3, fab*ag3+fbb*bg3
+		dst[5] = fa*a[5] + fb*b[5] + ca0*ag0 + cb0*bg0
+		dst[6] = fa*a[6] + fb*b[6] + ca0*ag1 + cb0*bg1
+		dst[7] = fa*a[7] + fb*b[7] + ca0*ag2 + cb0*bg2
+		dst[8] = fa*a[8] + fb*b[8] + ca0*ag3 + cb0*bg3
+		dst[9] = fa*a[9] + fb*b[9] + ca1*ag1 + cb1*bg1
+		dst[10] = fa*a[10] + fb*b[10] + ca1*ag2 + cb1*bg2
+		dst[11] = fa*a[11] + fb*b[11] + ca1*ag3 + cb1*bg3
+		dst[12] = fa*a[12] + fb*b[12] + ca2*ag2 + cb2*bg2
+		dst[13] = fa*a[13] + fb*b[13] + ca2*ag3 + cb2*bg3
+		dst[14] = fa*a[14] + fb*b[14] + ca3*ag3 + cb3*bg3
 		return
 	}
 	d := js.d
