@@ -2,6 +2,7 @@ package eval
 
 import (
 	"math"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -374,3 +375,67 @@ func TestNoAllocations(t *testing.T) {
 		}
 	}
 }
+
+func TestLoopSchedules(t *testing.T) {
+	// Vectors of two lengths, three levels of reductions feeding each
+	// other, and a 300-element vector of parameter expressions (more than
+	// a chunk), against direct Go.
+	y := []float64{0.5, 1.5, -0.3, 2.2, 0.9}
+	z := []float64{3, 1, 4, 1, 5, 9, 2}
+	var elems []string
+	for i := 0; i < 300; i++ {
+		elems = append(elems, "a*"+strconvF(float64(i)/100)+" + b")
+	}
+	src := "y = " + vectorLiteral(y) + "\nz = " + vectorLiteral(z) + "\nparam a\nparam b\n" +
+		"v = [" + strings.Join(elems, ", ") + "]\n" +
+		"m1 = logsumexp(a*y)\n" + // level 1
+		"m2 = max(exp(b*z - m1))\n" + // level 2 uses m1
+		"m3 = sum((y - m2)^2)\n" + // level 3 uses m2
+		"m3 + sum(z*a^2) + logsumexp(v) - mean(exp(v/10))\n"
+	ev := compileSrc(t, src)
+	ref := func(a, b float64) float64 {
+		m := math.Inf(-1)
+		for _, v := range y {
+			m = math.Max(m, a*v)
+		}
+		var s float64
+		for _, v := range y {
+			s += math.Exp(a*v - m)
+		}
+		m1 := m + math.Log(s)
+		m2 := math.Inf(-1)
+		for _, v := range z {
+			m2 = math.Max(m2, math.Exp(b*v-m1))
+		}
+		var m3 float64
+		for _, v := range y {
+			m3 += (v - m2) * (v - m2)
+		}
+		var sz float64
+		for _, v := range z {
+			sz += v * a * a
+		}
+		vm := math.Inf(-1)
+		for i := 0; i < 300; i++ {
+			vm = math.Max(vm, a*float64(i)/100+b)
+		}
+		var vs, ve float64
+		for i := 0; i < 300; i++ {
+			x := a*float64(i)/100 + b
+			vs += math.Exp(x - vm)
+			ve += math.Exp(x / 10)
+		}
+		return m3 + sz + vm + math.Log(vs) - ve/300
+	}
+	for _, p := range [][]float64{{0.3, 0.2}, {-1.2, 0.5}, {2, -0.7}} {
+		if got, want := ev.LogDensity(p), ref(p[0], p[1]); !near(got, want, 1e-12, 1) {
+			t.Errorf("at %v = %.16g, direct %.16g\n%s", p, got, want, ev.Tape())
+		}
+		fdCheck(t, "schedules", ev, p, 1e-5)
+	}
+	if len(ev.prog.loops) < 4 {
+		t.Errorf("%d loops, want at least 4 (three levels and two lengths)\n%s", len(ev.prog.loops), ev.Tape())
+	}
+}
+
+func strconvF(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
