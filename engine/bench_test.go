@@ -112,6 +112,11 @@ func BenchmarkAnalyse3DSensor(b *testing.B) {
 }
 func BenchmarkAnalyse4DCounts(b *testing.B) { benchModel(b, "counts_4d.txt", Options{}) }
 
+// The Gaussian chains of the reference tests: cheap densities, so these
+// time the engine's own work.
+func BenchmarkAnalyse3DGaussian(b *testing.B) { benchModel(b, "../gauss3d.txt", Options{}) }
+func BenchmarkAnalyse4DGaussian(b *testing.B) { benchModel(b, "../gauss4d.txt", Options{}) }
+
 // Funnels (a location and a scale parameter together) stretch the box over
 // faint tails; the analysis narrows it and evaluates the grid again.
 func BenchmarkAnalyse3DFunnel(b *testing.B) {

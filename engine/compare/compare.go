@@ -312,7 +312,7 @@ func Compare(g *grid.Grid, qs []Gaussian, s Settings) ([]Result, error) {
 					continue
 				}
 				r[d-1] = t
-				chi, corr := shareWithCurvature(h, P, r, M, gp.r0)
+				chi, corr := shareWithCurvature(h, P, r, M, gp.r0, gp.band)
 				gp.cover += pm * (chi - corr)
 			}
 		}
@@ -513,9 +513,13 @@ func cellShare(h []float64, P [][]float64, r []float64, M, r0 float64) float64 {
 // p times the second difference of chi, which vanishes away from the
 // boundary. Subtracting it removes the second-order bias (a Gaussian
 // density falling across the boundary would otherwise be under-covered).
-func shareWithCurvature(h []float64, P [][]float64, r []float64, M, r0 float64) (chi, corr float64) {
+func shareWithCurvature(h []float64, P [][]float64, r []float64, M, r0, band float64) (chi, corr float64) {
 	d := len(h)
 	chi = cellShare(h, P, r, M, r0)
+	// Beyond 1.5 band widths of the boundary a cell is wholly inside or
+	// outside (the band bounds the cell's extent in sqrt(M); the margin
+	// covers the curvature term).
+	in, out := sq(math.Max(r0-1.5*band, 0)), sq(r0+1.5*band)
 	var rr [4]float64
 	copy(rr[:d], r)
 	for k := 0; k < d; k++ {
@@ -526,9 +530,15 @@ func shareWithCurvature(h []float64, P [][]float64, r []float64, M, r0 float64) 
 		hk := h[k]
 		sum := -2 * chi
 		for _, sg := range [2]float64{1, -1} {
-			rr[k] = r[k] + sg*hk
 			Mn := M + sg*2*hk*pr + hk*hk*P[k][k]
-			sum += cellShare(h, P, rr[:d], math.Max(Mn, 0), r0)
+			switch {
+			case Mn <= in:
+				sum++
+			case Mn >= out:
+			default:
+				rr[k] = r[k] + sg*hk
+				sum += cellShare(h, P, rr[:d], math.Max(Mn, 0), r0)
+			}
 		}
 		rr[k] = r[k]
 		corr += sum / 24
