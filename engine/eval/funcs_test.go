@@ -57,8 +57,8 @@ type unaryCase struct {
 func logistic(x float64) float64 { return 1 / (1 + math.Exp(-x)) }
 
 var unaryCases = []unaryCase{
-	// Derivatives of the elementary functions: A&S 4.1.44, 4.2.17, 4.3.105
-	// to 4.3.110, 4.4.52, 4.5.75 to 4.5.80 (the tables of derivatives).
+	// Derivatives of the elementary functions (the standard ones, as in
+	// A&S chapter 4; from memory).
 	{"exp", math.Exp, math.Exp, math.Exp, []float64{-3, -0.5, 0, 1.2, 4}, 0},
 	{"log", math.Log, func(x float64) float64 { return 1 / x }, func(x float64) float64 { return -1 / (x * x) }, []float64{0.05, 0.7, 1, 3, 40}, 0},
 	{"log1p", math.Log1p, func(x float64) float64 { return 1 / (1 + x) }, func(x float64) float64 { return -1 / ((1 + x) * (1 + x)) }, []float64{-0.9, -1e-3, 0, 0.4, 7}, 0},
@@ -74,7 +74,8 @@ var unaryCases = []unaryCase{
 	{"cosh", math.Cosh, math.Sinh, math.Cosh, []float64{-3, -0.1, 0, 1, 4}, 0},
 	{"tanh", math.Tanh, func(x float64) float64 { c := math.Cosh(x); return 1 / (c * c) },
 		func(x float64) float64 { c := math.Cosh(x); return -2 * math.Sinh(x) / (c * c * c) }, []float64{-3, -0.1, 0, 1, 4}, 0},
-	// erf: d/dx erf x = 2/sqrt(pi) e^(-x^2) (A&S 7.1.19 with n = 0), and once more.
+	// erf: d/dx erf x = 2/sqrt(pi) e^(-x^2) (differentiating the
+	// definition A&S 7.1.1), and once more.
 	{"erf", math.Erf, func(x float64) float64 { return 2 / math.SqrtPi * math.Exp(-x*x) },
 		func(x float64) float64 { return -4 * x / math.SqrtPi * math.Exp(-x*x) }, []float64{-2.5, -0.4, 0, 0.9, 3}, 0},
 	{"erfc", math.Erfc, func(x float64) float64 { return -2 / math.SqrtPi * math.Exp(-x*x) },

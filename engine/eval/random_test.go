@@ -149,7 +149,7 @@ func (t *rtree) evalAt(x []hyperdual.Number, data [][]float64, i int) hyperdual.
 	case "cos":
 		return hyperdual.Cos(a)
 	case "tan":
-		// tan' = 1 + tan^2 (A&S 4.3.109); gonum's Tan loses digits near
+		// tan' = 1 + tan^2 (calculus, from memory); gonum's Tan loses digits near
 		// the poles, so it is not used.
 		tn := math.Tan(r)
 		return hd(a, tn, 1+tn*tn, 2*tn*(1+tn*tn))

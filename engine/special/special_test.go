@@ -24,7 +24,8 @@ func close(got, want, tol float64) bool {
 func TestLgammaTable(t *testing.T) {
 	// Gamma(x) on [1, 2] from Abramowitz and Stegun table 6.1 (values to
 	// 10 digits, from memory of the table; Gamma(1.5) = sqrt(pi)/2 is
-	// formula 6.1.9, and the minimum at x0 is from 6.1 text / 6.3.19).
+	// formula 6.1.9; the minimum Gamma(x0) at the zero x0 of psi is from
+	// memory).
 	cases := []struct {
 		x, gamma, tol float64
 	}{
@@ -61,7 +62,7 @@ func TestDigammaSpecialValues(t *testing.T) {
 		{"6.3.3 psi(1/2)", 0.5, -eulerGamma - 2*ln2, 1e-15},
 		{"6.3.4 psi(3/2)", 1.5, -eulerGamma - 2*ln2 + 2, 1e-14},
 		{"6.3.4 psi(7/2)", 3.5, -eulerGamma - 2*ln2 + 2*(1+1.0/3+1.0/5), 1e-15},
-		{"6.3.19 zero x0", 1.4616321449683623, 0, 1e-15},
+		{"zero x0 of psi (A&S 6.3, value from memory)", 1.4616321449683623, 0, 1e-15},
 		{"6.3.5/6.3.3 psi(-1/2) = psi(1/2) + 2", -0.5, -eulerGamma - 2*ln2 + 2, 1e-14},
 		{"6.3.7 psi(-3/2)", -1.5, -eulerGamma - 2*ln2 + 2 + 2.0/3, 1e-14},
 		{"6.3.2 psi(101)", 101, -eulerGamma + harmonic(100), 1e-15},
