@@ -206,8 +206,8 @@ func (ev *Evaluator) runLoop(li int) {
 
 // LogDensityBlock evaluates the log-density at the points given by columns:
 // cols[k][i] is coordinate k of point i, out[i] receives the log-density.
-// Every column must have at least len(out) elements and out must not share
-// memory with a column; otherwise out is filled with NaN.
+// Every column must have at least len(out) elements (otherwise out is
+// filled with NaN), and out must not share memory with a column.
 func (ev *Evaluator) LogDensityBlock(cols [][]float64, out []float64) {
 	p := ev.prog
 	n := len(out)
