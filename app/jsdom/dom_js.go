@@ -165,3 +165,115 @@ func SetValidity(id, message string) error {
 	_, err = el.Call("setCustomValidity", message)
 	return err
 }
+
+// Fragment returns the page URL's fragment without the '#'.
+func Fragment() (string, error) {
+	loc, err := safejs.Global().Get("location")
+	if err != nil {
+		return "", err
+	}
+	h, err := loc.Get("hash")
+	if err != nil {
+		return "", err
+	}
+	s, err := h.String()
+	if err != nil {
+		return "", err
+	}
+	if len(s) > 0 && s[0] == '#' {
+		s = s[1:]
+	}
+	return s, nil
+}
+
+// ReplaceFragment sets the page URL's fragment without adding a history
+// entry or reloading ("" removes it).
+func ReplaceFragment(fragment string) error {
+	hist, err := safejs.Global().Get("history")
+	if err != nil {
+		return err
+	}
+	loc, err := safejs.Global().Get("location")
+	if err != nil {
+		return err
+	}
+	path, err := loc.Get("pathname")
+	if err != nil {
+		return err
+	}
+	p, err := path.String()
+	if err != nil {
+		return err
+	}
+	search, err := loc.Get("search")
+	if err != nil {
+		return err
+	}
+	q, err := search.String()
+	if err != nil {
+		return err
+	}
+	url := p + q
+	if fragment != "" {
+		url += "#" + fragment
+	}
+	_, err = hist.Call("replaceState", safejs.Null(), "", url)
+	return err
+}
+
+// storage returns window.localStorage (access may throw, for instance
+// when the browser blocks storage).
+func storage() (safejs.Value, error) {
+	st, err := safejs.Global().Get("localStorage")
+	if err != nil {
+		return safejs.Value{}, err
+	}
+	if st.IsNull() || st.IsUndefined() {
+		return safejs.Value{}, ErrNoStorage
+	}
+	return st, nil
+}
+
+// LoadItem reads a key from the browser's local storage; ok is false when
+// the key is absent.
+func LoadItem(key string) (value string, ok bool, err error) {
+	st, err := storage()
+	if err != nil {
+		return "", false, err
+	}
+	v, err := st.Call("getItem", key)
+	if err != nil {
+		return "", false, err
+	}
+	if v.IsNull() || v.IsUndefined() {
+		return "", false, nil
+	}
+	s, err := v.String()
+	return s, err == nil, err
+}
+
+// SaveItem writes a key to the browser's local storage (it fails when the
+// storage is full or blocked).
+func SaveItem(key, value string) error {
+	st, err := storage()
+	if err != nil {
+		return err
+	}
+	_, err = st.Call("setItem", key, value)
+	return err
+}
+
+// OnHashChange calls f whenever the user changes the URL's fragment (a
+// pasted link, the back button); replaceState does not count. f runs in the
+// browser's event handler: hand the work to the page's goroutine.
+func OnHashChange(f func()) error {
+	fn, err := safejs.FuncOf(func(this safejs.Value, args []safejs.Value) any {
+		f()
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	_, err = safejs.Global().Call("addEventListener", "hashchange", fn.Value())
+	return err
+}

@@ -26,3 +26,18 @@ func Checked(id string) (bool, error) { return false, ErrNoBrowser }
 // SetValidity sets an input's validity message; natively it returns
 // ErrNoBrowser.
 func SetValidity(id, message string) error { return ErrNoBrowser }
+
+// Fragment returns the URL fragment; natively it returns ErrNoBrowser.
+func Fragment() (string, error) { return "", ErrNoBrowser }
+
+// ReplaceFragment sets the URL fragment; natively it returns ErrNoBrowser.
+func ReplaceFragment(fragment string) error { return ErrNoBrowser }
+
+// LoadItem reads local storage; natively it returns ErrNoBrowser.
+func LoadItem(key string) (value string, ok bool, err error) { return "", false, ErrNoBrowser }
+
+// SaveItem writes local storage; natively it returns ErrNoBrowser.
+func SaveItem(key, value string) error { return ErrNoBrowser }
+
+// OnHashChange watches the URL fragment; natively it returns ErrNoBrowser.
+func OnHashChange(f func()) error { return ErrNoBrowser }

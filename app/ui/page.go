@@ -13,6 +13,7 @@ import (
 	"bellcheck/app/examples"
 	"bellcheck/app/jsdom"
 	"bellcheck/app/plot"
+	"bellcheck/app/share"
 	"bellcheck/engine"
 	"bellcheck/engine/model"
 )
@@ -57,6 +58,10 @@ type Page struct {
 
 	// analyse runs analyses (engine.Analyse unless a test sets it).
 	analyse AnalyseFunc
+	// browser keeps the state in the URL and local storage (realBrowser
+	// unless a test sets it); notice is the message shown above the results.
+	browser Browser
+	notice  Notice
 	// ctx is the page's own context once mounted: asynchronous work
 	// reports through it, since the element that started the work (a
 	// button, an input) may be gone when the work ends.
@@ -89,10 +94,111 @@ func (p *Page) init() {
 	p.s.Edit(ex.Source)
 }
 
-// OnMount starts the first analysis in the browser.
+// OnMount opens the state of the link or of the work saved in the browser,
+// watches the URL for pasted links, and starts the first analysis.
 func (p *Page) OnMount(ctx app.Context) {
 	p.ctx = &ctx
-	p.start(ctx)
+	if p.browser == nil {
+		p.browser = realBrowser{}
+	}
+	_ = jsdom.OnHashChange(func() {
+		ctx.Dispatch(func(ctx app.Context) { p.OpenLink(ctx) })
+	})
+	p.open(ctx)
+}
+
+// open loads what Opening chooses and analyses it.
+func (p *Page) open(ctx app.Context) {
+	st, ok, n := Opening(p.browser)
+	p.notice = n
+	if !ok {
+		p.start(ctx)
+		p.persist()
+		return
+	}
+	src, params, v := fromShare(st)
+	p.initial = src
+	p.LoadState(ctx, src, params, v)
+}
+
+// OpenLink opens the link now in the URL (the user pasted one into the
+// address bar of the open page), keeping the work it displaces.
+func (p *Page) OpenLink(ctx app.Context) {
+	if p.browser == nil {
+		return
+	}
+	frag := p.browser.Fragment()
+	if frag == "" {
+		return
+	}
+	link, err := share.Decode(frag)
+	if err != nil {
+		p.notice = Notice{Text: "The link could not be opened: " + linkProblem(err) + " Your model is unchanged.", Warn: true}
+		p.persist() // put the current state back into the URL
+		return
+	}
+	cur := p.shareState()
+	if cur.Model == link.Model {
+		return
+	}
+	if raw, err := share.Encode(cur); err == nil {
+		p.browser.Save(EarlierKey, raw)
+	}
+	src, params, v := fromShare(link)
+	p.LoadState(ctx, src, params, v)
+	p.notice = Notice{Text: "Opened the shared model. The model you were editing before is kept.", Action: "Back to my model", Offer: &cur}
+}
+
+// TakeOffer loads the state the notice offers, and offers the current one
+// in its place, so the user can go back and forth.
+func (p *Page) TakeOffer(ctx app.Context) {
+	offer := p.notice.Offer
+	if offer == nil {
+		return
+	}
+	cur := p.shareState()
+	if p.browser != nil {
+		if raw, err := share.Encode(cur); err == nil {
+			p.browser.Save(EarlierKey, raw)
+		}
+	}
+	src, params, v := fromShare(*offer)
+	p.LoadState(ctx, src, params, v)
+	p.notice = Notice{Text: "Switched models. The other one is kept.", Action: "Switch back", Offer: &cur}
+}
+
+// DismissNotice hides the notice.
+func (p *Page) DismissNotice(ctx app.Context) { p.notice = Notice{} }
+
+// ForgetEarlier deletes the work kept under EarlierKey, at the user's word.
+func (p *Page) ForgetEarlier(ctx app.Context) {
+	if p.browser != nil {
+		p.browser.Save(EarlierKey, "")
+	}
+	p.notice = Notice{}
+}
+
+// shareState is the current state in the link format.
+func (p *Page) shareState() share.State {
+	m := p.s.Model
+	if m == nil {
+		m = p.s.LastGood
+	}
+	return toShare(p.text, m, p.s.Param, p.view)
+}
+
+// persist saves the current state in local storage and in the URL, so a
+// reload restores it and the address bar always holds a link to it.
+func (p *Page) persist() {
+	if p.browser == nil {
+		return
+	}
+	frag, err := share.Encode(p.shareState())
+	if err != nil {
+		return // too long for a link: the text stays in the editor only
+	}
+	p.browser.Save(WorkKey, frag)
+	p.browser.SetFragment(frag)
 }
 
 // OnDismount stops a running analysis.
@@ -130,7 +236,9 @@ func (p *Page) Input(ctx app.Context, text string) {
 // shown, dimmed.
 func (p *Page) check(ctx app.Context) {
 	p.pending = false
-	if p.s.Edit(p.text) {
+	valid := p.s.Edit(p.text)
+	p.persist()
+	if valid {
 		p.start(ctx)
 		return
 	}
@@ -150,6 +258,7 @@ func (p *Page) stop() {
 // SetParam implements Host.
 func (p *Page) SetParam(ctx app.Context, name string, o engine.ParamOptions) {
 	p.s.SetParam(name, o)
+	p.persist()
 	if p.s.Model != nil && !p.pending {
 		p.start(ctx)
 	}
@@ -203,6 +312,7 @@ func (p *Page) State() (src string, params map[string]engine.ParamOptions, v Vie
 func (p *Page) SetView(ctx app.Context, log bool, hidden [5]bool) {
 	p.view = View{Log: log, Hidden: hidden}
 	p.figs = BuildFigures(p.s.Result, p.view)
+	p.persist()
 }
 
 // start cancels the running analysis and starts one for the current model.
@@ -281,6 +391,7 @@ func (p *Page) Render() app.UI {
 	stale := p.s.Stale()
 	return app.Div().Class("page").Body(
 		p.header(),
+		p.noticeBar(),
 		app.Main().Class("layout").Body(
 			app.Section().Class("col-input").Aria("label", "Model and settings").Body(
 				card("Model", "bc-h-model",
@@ -296,6 +407,30 @@ func (p *Page) Render() app.UI {
 			),
 		),
 		&Footer{},
+	)
+}
+
+func (p *Page) noticeBar() app.UI {
+	n := p.notice
+	if n.Text == "" {
+		return app.Div().Class("notice-slot")
+	}
+	cls := "notice"
+	if n.Warn {
+		cls += " notice-warn"
+	}
+	return app.Div().Class("notice-slot").Body(
+		app.Div().Class(cls).Attr("role", "status").Body(
+			app.Span().Class("notice-text").Text(n.Text),
+			app.If(n.Action != "", func() app.UI {
+				return app.Button().Type("button").Class("notice-action").Text(n.Action).OnClick(func(ctx app.Context, e app.Event) { p.TakeOffer(ctx) })
+			}),
+			app.If(n.Forget, func() app.UI {
+				return app.Button().Type("button").Class("notice-action").Text("Forget it").OnClick(func(ctx app.Context, e app.Event) { p.ForgetEarlier(ctx) })
+			}),
+			app.Button().Type("button").Class("notice-close").Aria("label", "dismiss this notice").Text("×").
+				OnClick(func(ctx app.Context, e app.Event) { p.DismissNotice(ctx) }),
+		),
 	)
 }
 
