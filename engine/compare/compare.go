@@ -93,6 +93,7 @@ type gaussianPrep struct {
 	r0      float64 // sqrt of the chi-square 0.95 quantile
 	band    float64 // half-width of the smoothing band in sqrt(M)
 	step    float64 // largest change of sqrt(M) between neighbours
+	trPC    float64 // sum_k P_kk h_k^2 / 12, the cell's mean of u'Pu
 	// resolved: the grid's rule integrates q to about 1e-10 (see
 	// latticeMin).
 	resolved bool
@@ -135,6 +136,7 @@ func prepare(g *grid.Grid, q Gaussian) (*gaussianPrep, error) {
 		s += h * h * gp.prec[k][k]
 	}
 	gp.band = math.Sqrt(float64(d)*s) / 2
+	gp.trPC = s / 12
 	for k := 0; k < d; k++ {
 		gp.step = math.Max(gp.step, g.Spacing(k)*math.Sqrt(gp.prec[k][k]))
 	}
@@ -312,7 +314,7 @@ func Compare(g *grid.Grid, qs []Gaussian, s Settings) ([]Result, error) {
 					continue
 				}
 				r[d-1] = t
-				chi, corr := shareWithCurvature(h, P, r, M, gp.r0, gp.band)
+				chi, corr := shareWithCurvature(h, P, r, M, gp.r0, gp.trPC)
 				gp.cover += pm * (chi - corr)
 			}
 		}
@@ -434,33 +436,24 @@ func quadInterval(a, b, c, t0, h float64, n int) (j1, j2 int) {
 // infinite.
 const qNegligible = 60
 
-// cellShare returns the share of the cell around a node (offset r from q's
-// mean, Mahalanobis square M) inside the region M(z) <= r0^2. Along the
-// normal n of the region's boundary, a point u uniform in the cell has
-// s = n.u distributed as a sum of independent uniforms of widths |n_k| h_k,
-// whose distribution function is the volume of a box under a hyperplane, in
-// closed form. M is quadratic: M(z + u) = M + 2 (P r).u + u'Pu; the
-// tangential part of u'Pu is replaced by its mean over the cell (this
-// accounts for the boundary's curvature across the cell) and the normal
-// part s^2 n'Pn kept, so the share is F(s*) with s* the root of the
-// resulting quadratic in s (exact in one dimension).
-func cellShare(h []float64, P [][]float64, r []float64, M, r0 float64) float64 {
+// cellShare returns the share of the cell around a node (Mahalanobis
+// square M, gradient G = 2 P r of M there, r the offset from q's mean)
+// inside the region M(z) <= r0^2. Along the normal n = G/|G| of the
+// region's boundary, a point u uniform in the cell has s = n.u distributed
+// as a sum of independent uniforms of widths |n_k| h_k, whose distribution
+// function is the volume of a box under a hyperplane, in closed form. M is
+// quadratic: M(z + u) = M + G.u + u'Pu; the tangential part of u'Pu is
+// replaced by its mean over the cell (this accounts for the boundary's
+// curvature across the cell) and the normal part s^2 n'Pn kept, so the
+// share is F(s*) with s* the root of the resulting quadratic in s (exact
+// in one dimension).
+func cellShare(h []float64, P [][]float64, G []float64, M, r0, trPC, trP float64) float64 {
 	d := len(h)
-	var grad [4]float64
 	norm := 0.0
 	for k := 0; k < d; k++ {
-		gk := 0.0
-		for l := 0; l < d; l++ {
-			gk += P[k][l] * r[l]
-		}
-		grad[k] = 2 * gk
-		norm += grad[k] * grad[k]
+		norm += G[k] * G[k]
 	}
 	norm = math.Sqrt(norm)
-	trPC := 0.0
-	for k := 0; k < d; k++ {
-		trPC += P[k][k] * h[k] * h[k] / 12
-	}
 	if norm == 0 {
 		if M+trPC <= r0*r0 {
 			return 1
@@ -468,12 +461,22 @@ func cellShare(h []float64, P [][]float64, r []float64, M, r0 float64) float64 {
 		return 0
 	}
 	var n, widths [4]float64
-	wmax, varS := 0.0, 0.0
+	wmax, varS, W := 0.0, 0.0, 0.0
 	for k := 0; k < d; k++ {
-		n[k] = grad[k] / norm
+		n[k] = G[k] / norm
 		widths[k] = math.Abs(n[k]) * h[k]
 		wmax = math.Max(wmax, widths[k])
 		varS += widths[k] * widths[k] / 12
+		W += widths[k]
+	}
+	// Cheap bounds first (0 <= n'Pn <= trace P bounds the quadratic term):
+	// most cells near the boundary still lie wholly on one side.
+	gap := r0*r0 - M
+	if gap-trPC >= norm*W/2+trP*W*W/4 {
+		return 1
+	}
+	if gap-trPC+trP*varS < -norm*W/2 {
+		return 0
 	}
 	nPn := 0.0
 	for k := 0; k < d; k++ {
@@ -481,9 +484,15 @@ func cellShare(h []float64, P [][]float64, r []float64, M, r0 float64) float64 {
 			nPn += n[k] * P[k][l] * n[l]
 		}
 	}
-	// s + a s^2 <= b.
+	// s + a s^2 <= b over s in [-W/2, W/2].
 	qa := nPn / norm
 	qb := (r0*r0 - M - (trPC - nPn*varS)) / norm
+	if W/2+qa*W*W/4 <= qb {
+		return 1 // the whole cell is inside
+	}
+	if -W/2 > qb {
+		return 0 // the whole cell is outside
+	}
 	disc := 1 + 4*qa*qb
 	if disc < 0 {
 		return 0
@@ -513,34 +522,32 @@ func cellShare(h []float64, P [][]float64, r []float64, M, r0 float64) float64 {
 // p times the second difference of chi, which vanishes away from the
 // boundary. Subtracting it removes the second-order bias (a Gaussian
 // density falling across the boundary would otherwise be under-covered).
-func shareWithCurvature(h []float64, P [][]float64, r []float64, M, r0, band float64) (chi, corr float64) {
+func shareWithCurvature(h []float64, P [][]float64, r []float64, M, r0, trPC float64) (chi, corr float64) {
 	d := len(h)
-	chi = cellShare(h, P, r, M, r0)
-	// Beyond 1.5 band widths of the boundary a cell is wholly inside or
-	// outside (the band bounds the cell's extent in sqrt(M); the margin
-	// covers the curvature term).
-	in, out := sq(math.Max(r0-1.5*band, 0)), sq(r0+1.5*band)
-	var rr [4]float64
-	copy(rr[:d], r)
+	var G, Gn [4]float64
 	for k := 0; k < d; k++ {
-		pr := 0.0
+		gk := 0.0
 		for l := 0; l < d; l++ {
-			pr += P[k][l] * r[l]
+			gk += P[k][l] * r[l]
 		}
+		G[k] = 2 * gk
+	}
+	trP := 0.0
+	for k := 0; k < d; k++ {
+		trP += P[k][k]
+	}
+	chi = cellShare(h, P, G[:d], M, r0, trPC, trP)
+	for k := 0; k < d; k++ {
 		hk := h[k]
 		sum := -2 * chi
 		for _, sg := range [2]float64{1, -1} {
-			Mn := M + sg*2*hk*pr + hk*hk*P[k][k]
-			switch {
-			case Mn <= in:
-				sum++
-			case Mn >= out:
-			default:
-				rr[k] = r[k] + sg*hk
-				sum += cellShare(h, P, rr[:d], math.Max(Mn, 0), r0)
+			// The neighbour: M and its gradient moved by one step.
+			Mn := M + sg*hk*G[k] + hk*hk*P[k][k]
+			for l := 0; l < d; l++ {
+				Gn[l] = G[l] + sg*2*hk*P[l][k]
 			}
+			sum += cellShare(h, P, Gn[:d], math.Max(Mn, 0), r0, trPC, trP)
 		}
-		rr[k] = r[k]
 		corr += sum / 24
 	}
 	return chi, corr
