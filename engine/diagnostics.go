@@ -14,7 +14,8 @@ import (
 //	edge_mass              warning         more than 1e-6 of the mass in the outermost layer of a free face of the
 //	                                       box or of a side the user set; or more than 1e-10 at a face the box
 //	                                       search could not widen further without losing the density's centre
-//	                                       (heavy tails, a funnel)
+//	                                       (heavy tails, a funnel); or the box was narrowed afterwards because the
+//	                                       grid could not resolve the centre (about 1e-8 left beyond each side)
 //	improper               error           the box search widened a face as far as it may and more than 1e-4 of the
 //	                                       mass stays in its outer layer, or the mass beyond the box seems to
 //	                                       exceed that inside: the density is improper (not integrable) or far
@@ -31,7 +32,9 @@ import (
 //	                                       has KL(q||p) = inf; warning when the reverse-KL fits do not exist for
 //	                                       that reason; points to the log or logit scale
 //	fit_failed             error           a fit failed for another reason, given in the sentence
-//	heavy_tails            warning         a marginal's mean or variance still moves as the box widens
+//	heavy_tails            warning         a marginal's mean or variance still moves as the box widens (a relative
+//	                                       change over 1e-3 when the outer quarter towards a free face is dropped),
+//	                                       or its fourth moment does not settle (the excess kurtosis is then absent)
 //	no_variance            warning         the variance does not settle (as for a Cauchy density): the forward-KL
 //	                                       fit and the exact covariance are absent
 //	no_mean                warning         the mean does not settle either: the exact mean is absent
@@ -42,8 +45,9 @@ import (
 //	                                       (a rule of thumb, common practice)
 //	grid_error             warning         the grid's error estimate is large: log Z off by more than 1e-3, a mean
 //	                                       by more than 1e-3 sd or a variance by more than 1 %
-//	fit_off_grid           info            a fit has mass outside the box or is too narrow for the grid: its
-//	                                       KL(q||p) comes from a cubature in its own coordinates
+//	fit_off_grid           info            a fit has more than 1e-6 of its mass outside the box (its KL(q||p) then
+//	                                       comes from a cubature in its own coordinates) or is too narrow for the
+//	                                       grid (its KL(q||p) and Hellinger distance do)
 //	mode_not_polished      info            the mode search on the original scale failed: the exact mode is absent
 const (
 	CodeSeveralModes        = "several_modes"
