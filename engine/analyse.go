@@ -409,17 +409,21 @@ func (a *analysis) findModes() error {
 	if err != nil {
 		return err
 	}
-	var starts []grid.Peak
+	var starts, rest []grid.Peak
 	for i, pk := range peaks {
 		if i == 0 || (pk.Mass >= 1e-3 && len(starts) < 8) {
 			starts = append(starts, pk)
+		} else {
+			rest = append(rest, pk)
 		}
 	}
 	a.pw.tick = func(n int) { a.tr.at(0.5 + 0.5*(1-math.Exp(-float64(n)/2000))) }
 	sd := a.g.Stats.Fitting.SD
 	var modes []fit.Mode
 	var masses []float64
-	for _, pk := range starts {
+	startMode := make([]int, len(starts)) // the mode each start reached, or -1
+	for si, pk := range starts {
+		startMode[si] = -1
 		ms, err := fit.FindModes(a.ctx, a.pw, [][]float64{pk.Point}, a.modeLo, a.modeHi)
 		if err != nil {
 			if ctxErr := a.ctx.Err(); ctxErr != nil {
@@ -441,6 +445,31 @@ func (a *analysis) findModes() error {
 			j = len(modes) - 1
 		}
 		masses[j] += pk.Mass
+		startMode[si] = j
+	}
+	// The small basins (grid ripples, the lattice's view of a thin ridge)
+	// go to the mode of the nearest start, in exact standard deviations.
+	for _, pk := range rest {
+		best, bestD := -1, math.Inf(1)
+		for si, st := range starts {
+			if startMode[si] < 0 {
+				continue
+			}
+			dist := 0.0
+			for k := range pk.Point {
+				s := sd[k]
+				if !(s > 0) || math.IsInf(s, 0) {
+					s = a.g.Box.Hi[k] - a.g.Box.Lo[k]
+				}
+				dist += sq((pk.Point[k] - st.Point[k]) / s)
+			}
+			if dist < bestD {
+				best, bestD = startMode[si], dist
+			}
+		}
+		if best >= 0 {
+			masses[best] += pk.Mass
+		}
 	}
 	// Highest first.
 	order := make([]int, len(modes))
@@ -968,6 +997,8 @@ func (a *analysis) pointString(z []float64) string {
 	}
 	return s
 }
+
+func sq(x float64) float64 { return x * x }
 
 func symFromRows(r [][]float64) *mat.SymDense {
 	d := len(r)
