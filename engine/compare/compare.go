@@ -189,7 +189,7 @@ func Compare(g *grid.Grid, qs []Gaussian, s Settings) ([]Result, error) {
 	spans := make([][2]int, len(preps))
 	rs := make([][4]float64, len(preps))
 	nLines := len(g.LogP) / nLast
-	checkEvery := max(1, 4096/nLast)
+	checkEvery := max(1, 1024/nLast)
 	for line := 0; line < nLines; line++ {
 		if line%checkEvery == 0 {
 			if s.Context != nil {

@@ -234,7 +234,7 @@ func (g *Grid) summarise(ctx context.Context, free [][2]bool, progress func(floa
 	lp := make([]float64, nLast)
 	ix := make([]int, d)
 	nLines := len(g.LogP) / nLast
-	checkEvery := max(1, 4096/nLast)
+	checkEvery := max(1, 1024/nLast)
 	for line := 0; line < nLines; line++ {
 		if line%checkEvery == 0 {
 			if err := ctx.Err(); err != nil {
