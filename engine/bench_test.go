@@ -5,6 +5,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"runtime"
 	"sort"
 	"sync"
 	"testing"
@@ -66,6 +67,11 @@ func benchModel(b *testing.B, file string, opts Options) {
 // at a different moment of a 4-D analysis each time, to Analyse's return
 // (worst case over the runs).
 func BenchmarkCancelLatency(b *testing.B) {
+	if runtime.GOOS == "js" {
+		// WebAssembly is not preemptive: a timer cannot interrupt the
+		// analysis; the page cancels from inside the progress callback.
+		b.Skip("no preemption under js/wasm")
+	}
 	src, err := os.ReadFile(filepath.Join("..", "testdata", "reference", "bench", "counts_4d.txt"))
 	if err != nil {
 		b.Fatal(err)
@@ -120,8 +126,18 @@ func BenchmarkAnalyse4DGaussian(b *testing.B) { benchModel(b, "../gauss4d.txt", 
 // Funnels (a location and a scale parameter together) stretch the box over
 // faint tails; the analysis narrows it and evaluates the grid again.
 func BenchmarkAnalyse3DFunnel(b *testing.B) {
+	skipSlowWasm(b)
 	benchModel(b, "funnel_3d.txt", Options{Params: []ParamOptions{{}, logScale, logScale}})
 }
 func BenchmarkAnalyse4DFunnel(b *testing.B) {
+	skipSlowWasm(b)
 	benchModel(b, "funnel_4d.txt", Options{Params: []ParamOptions{{}, {}, {}, logScale}})
+}
+
+// skipSlowWasm keeps the funnels (several seconds natively) out of the
+// WebAssembly runs of make bench.
+func skipSlowWasm(b *testing.B) {
+	if runtime.GOOS == "js" {
+		b.Skip("slow under js/wasm; run natively")
+	}
 }
