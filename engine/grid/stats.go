@@ -484,6 +484,7 @@ func (g *Grid) fillMoments(m *Moments, full, half *reduction, cFull, cHalf [][]f
 // result), how much the mean absolute deviation from the median does, and
 // how much the fourth central moment does (relative changes).
 func tailShare(mass, c []float64, free [2]bool) (moments, absDev, fourth float64) {
+	const bulkShare = 1e-3
 	n := len(mass)
 	total := 0.0
 	for _, v := range mass {
@@ -497,12 +498,27 @@ func tailShare(mass, c []float64, free [2]bool) (moments, absDev, fourth float64
 			break
 		}
 	}
+	// The trimmed region never reaches into the bulk: it starts beyond the
+	// outermost nodes holding at least bulkShare of the largest node's mass
+	// on each side, so a box that is tight around several modes, or around
+	// one far from the median, is not mistaken for one whose tails matter.
+	peak := 0.0
+	for _, v := range mass {
+		peak = math.Max(peak, v)
+	}
+	first, last := 0, n-1
+	for first < n-1 && !(mass[first] >= bulkShare*peak) {
+		first++
+	}
+	for last > 0 && !(mass[last] >= bulkShare*peak) {
+		last--
+	}
 	lo, hi := 0, n-1
 	if free[0] {
-		lo = med / 4
+		lo = min(med/4, first)
 	}
 	if free[1] {
-		hi = n - 1 - (n-1-med)/4
+		hi = max(n-1-(n-1-med)/4, last)
 	}
 	stats := func(a, b int) (mean, variance, mad, m4 float64) {
 		s, s1, sa := 0.0, 0.0, 0.0
