@@ -82,6 +82,9 @@ type analysis struct {
 	fitModes     []fit.Mode
 	varUnsettled []bool // fitting scale
 	noVariance   bool
+	// unresolved reports a grid that cannot integrate the density: it is
+	// +Inf at some node, or one node holds most of the mass.
+	unresolved bool
 }
 
 func (a *analysis) run() (*Result, error) {
@@ -96,6 +99,7 @@ func (a *analysis) run() (*Result, error) {
 		return nil, err
 	}
 	res := &Result{Params: a.names, Form: a.m.Form.String(), Scales: a.scales}
+	a.checkResolved()
 	a.checkTails()
 	if err := a.findModes(); err != nil {
 		return nil, err
@@ -389,13 +393,55 @@ func errEstimate(g *grid.Grid) float64 {
 // is widened and the grid evaluated again.
 const refineEdgeMass = 1e-8
 
+// unresolvedShare is the share of the mass in a single grid node above
+// which the grid is taken not to resolve the density. A normal density whose
+// sd equals the node spacing puts 0.4 of its mass in the central node, and
+// the box search makes the spacing a small fraction of the sd.
+const unresolvedShare = 0.25
+
+// checkResolved decides whether the grid resolves the density: it does not
+// where log p is +Inf at a node (an overflow, or an infinite spike that a
+// node hit) or where one node holds more than unresolvedShare of the mass
+// (a spike or peak narrower than the spacing). Then log Z, the exact
+// moments and the comparisons are absent.
+func (a *analysis) checkResolved() {
+	g := a.g
+	posInf := 0
+	for _, v := range g.LogP {
+		if math.IsInf(v, 1) {
+			posInf++
+		}
+	}
+	if posInf > 0 {
+		a.unresolved = true
+		a.diag.add(CodeUnresolved, SeverityError,
+			"The log-density is +inf at %d of the grid points: the density is infinite there (an overflow, or a singularity), which a grid cannot integrate, so log Z, the exact moments and the fits' comparisons with them are not reported.", posInf)
+		return
+	}
+	ix := make([]int, a.d)
+	g.Index(g.ArgMax, ix)
+	w := 1.0
+	for k, i := range ix {
+		w *= g.Weights[k][i]
+	}
+	share := w * math.Exp(g.Max-g.Stats.LogZ)
+	if share > unresolvedShare {
+		a.unresolved = true
+		x := make([]float64, a.d)
+		g.Point(g.ArgMax, x)
+		a.diag.add(CodeUnresolved, SeverityError,
+			"The grid point at %s holds %s of the mass: the density has a peak narrower than the grid's spacing (or an infinite spike there), so log Z, the exact moments and the fits' comparisons with them are not reported.",
+			a.pointString(x), percent(share))
+	}
+}
+
 // checkTails decides, per parameter on the fitting scale, whether the
 // variance has settled.
 func (a *analysis) checkTails() {
 	st := &a.g.Stats
 	a.varUnsettled = make([]bool, a.d)
 	for k := 0; k < a.d; k++ {
-		if a.improper(k) || st.Fitting.TailShare[k] > tailShareAbsent || !(st.Fitting.SD[k] > 0) {
+		if a.unresolved || a.improper(k) || st.Fitting.TailShare[k] > tailShareAbsent || !(st.Fitting.SD[k] > 0) {
 			a.varUnsettled[k] = true
 			a.noVariance = true
 		}
@@ -709,6 +755,8 @@ func (a *analysis) fitAll(res *Result) error {
 		c := cmp[i]
 		a.fillFit(out, f.g, f.prec, c)
 		switch {
+		case a.unresolved || a.g.Stats.TailMass > 1:
+			// log Z is absent (see fillExact).
 		case out.LogZ != nil:
 			e := *out.LogZ - a.g.Stats.LogZ
 			out.EvidenceErr = &e
@@ -762,6 +810,14 @@ func (a *analysis) fillFit(f *Fit, g fit.Gaussian, prec *mat.SymDense, c compare
 	f.KLqp, f.KLpq, f.Hellinger = c.KLqp, c.KLpq, c.Hellinger
 	f.MeanErrSD, f.SDRatio = c.MeanErrSD, c.SDRatio
 	f.Coverage95 = c.Coverage95
+	if a.unresolved {
+		nan := math.NaN()
+		f.KLqp, f.KLpq, f.Hellinger, f.Coverage95 = nan, nan, nan, nan
+		for k := 0; k < d; k++ {
+			f.MeanErrSD[k], f.SDRatio[k] = nan, nan
+		}
+		return
+	}
 	for k := 0; k < d; k++ {
 		if a.varUnsettled[k] {
 			f.MeanErrSD[k], f.SDRatio[k] = math.NaN(), math.NaN()
@@ -802,6 +858,19 @@ func (a *analysis) fillExact(res *Result) {
 		ex.GridMode[k] = a.maps[k].ToOriginal(x[k])
 	}
 	ex.Mode = a.originalMode(ex.GridMode)
+	if a.unresolved {
+		nan := math.NaN()
+		ex.LogZ, ex.LogZErr = nan, nan
+		for k := 0; k < d; k++ {
+			ex.Mean[k], ex.MeanErr[k], ex.SD[k] = nan, nan, nan
+			ex.Skewness[k], ex.ExcessKurtosis[k] = nan, nan
+			ex.Quantiles[k] = [3]float64{nan, nan, nan}
+			for l := 0; l < d; l++ {
+				ex.Cov[k][l], ex.CovErr[k][l], ex.Corr[k][l] = nan, nan, nan
+			}
+		}
+		return
+	}
 
 	// Quantities that do not exist are absent.
 	var noVar, noMean, noKurt []string
@@ -974,7 +1043,7 @@ func (a *analysis) gridDiagnostics() {
 			bad = append(bad, fmt.Sprintf("the variance of %s by %s", a.names[k], percent(o.CovErr[k][k]/v)))
 		}
 	}
-	if len(bad) > 0 {
+	if len(bad) > 0 && !a.unresolved {
 		a.diag.add(CodeGridError, SeverityWarning,
 			"The grid may be too coarse: at half resolution it changes %s; give the parameters more points.", list(bad))
 	}

@@ -49,6 +49,10 @@ import (
 //	                                       comes from a cubature in its own coordinates) or is too narrow for the
 //	                                       grid (its KL(q||p) and Hellinger distance do)
 //	mode_not_polished      info            the mode search on the original scale failed: the exact mode is absent
+//	unresolved             error           the grid cannot integrate the density: log p is +inf at a node (an
+//	                                       overflow or a singularity), or one node holds more than 25 % of the
+//	                                       mass (a spike narrower than the spacing); log Z, the exact moments
+//	                                       and quantiles, and the fits' comparisons are absent
 const (
 	CodeSeveralModes        = "several_modes"
 	CodeEdgeMass            = "edge_mass"
@@ -69,6 +73,7 @@ const (
 	CodeGridError           = "grid_error"
 	CodeFitOffGrid          = "fit_off_grid"
 	CodeModeNotPolished     = "mode_not_polished"
+	CodeUnresolved          = "unresolved"
 )
 
 // Thresholds of the diagnostics.

@@ -1,0 +1,341 @@
+package engine
+
+import (
+	"encoding/json"
+	"fmt"
+	"math"
+	"regexp"
+	"strconv"
+	"strings"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// The honesty checks that every result must pass, whatever the density:
+// the pathological catalogue and the fuzz target apply them to each result.
+// A result is honest when every number it reports can be right (a fit's
+// covariance is positive definite, a divergence is not negative, a share of
+// the mass lies in [0, 1], the ELBO does not exceed log Z) and every
+// quantity it leaves out comes with a diagnostic that says why.
+
+// absentReasons lists, for each quantity that may be absent, the
+// diagnostic codes that explain its absence.
+var absentReasons = map[string][]string{
+	"laplace":    {CodeNotPositiveDefinite, CodeModeOnBound, CodeNoMode, CodeFitFailed, CodeUnresolved},
+	"reverse_kl": {CodeInfiniteKL, CodeFitFailed, CodeUnresolved},
+	"mean_field": {CodeInfiniteKL, CodeFitFailed, CodeUnresolved},
+	"forward_kl": {CodeNoVariance, CodeImproper, CodeFitFailed, CodeUnresolved},
+	"log_z":      {CodeImproper, CodeUnresolved},
+	"mean":       {CodeNoMean, CodeImproper, CodeUnresolved},
+	"variance":   {CodeNoVariance, CodeImproper, CodeUnresolved},
+	"kurtosis":   {CodeHeavyTails, CodeNoVariance, CodeImproper, CodeUnresolved},
+	"quantiles":  {CodeImproper, CodeUnresolved},
+	"mode":       {CodeModeNotPolished, CodeNoMode},
+	"coverage":   {CodeFitOffGrid, CodeUnresolved},
+}
+
+// printedNonFinite matches a formatting error or a non-finite number
+// printed into a sentence (Go prints them as NaN, +Inf and -Inf; the
+// sentences themselves say "NaN" and "+inf" in words).
+var printedNonFinite = regexp.MustCompile(`%!|[+-]Inf|= NaN|\(NaN|\[NaN|NaN[,\])]| NaN %`)
+
+// honestyTol is the slack allowed below zero for a divergence and above 1
+// for a share of the mass: rounding in sums of a few million terms.
+const honestyTol = 1e-6
+
+// honesty returns the ways in which res misleads, one sentence each; none
+// for an honest result. d is the number of parameters.
+func honesty(res *Result, d int) []string {
+	var bad []string
+	fail := func(format string, args ...any) { bad = append(bad, fmt.Sprintf(format, args...)) }
+	codes := map[string]bool{}
+	for _, dg := range res.Diagnostics {
+		codes[dg.Code] = true
+		switch dg.Severity {
+		case SeverityInfo, SeverityWarning, SeverityError:
+		default:
+			fail("diagnostic %s has severity %q", dg.Code, dg.Severity)
+		}
+		if dg.Code == "" || strings.ToLower(dg.Code) != dg.Code || strings.ContainsAny(dg.Code, " -") {
+			fail("diagnostic code %q is not a lower-case word", dg.Code)
+		}
+		if dg.Message == "" || printedNonFinite.MatchString(dg.Message) {
+			fail("diagnostic %s has a broken message: %q", dg.Code, dg.Message)
+		}
+	}
+	reason := func(what string) bool {
+		for _, c := range absentReasons[what] {
+			if codes[c] {
+				return true
+			}
+		}
+		return false
+	}
+	absentNeedsReason := func(what, where string) {
+		if !reason(what) {
+			fail("%s is absent without a reason (want one of %v; have %v)", where, absentReasons[what], codeList(res))
+		}
+	}
+	if len(res.Params) != d || len(res.Scales) != d {
+		fail("%d params and %d scales for %d parameters", len(res.Params), len(res.Scales), d)
+	}
+
+	// The exact posterior.
+	ex := &res.Exact
+	switch {
+	case math.IsNaN(ex.LogZ):
+		absentNeedsReason("log_z", "exact log Z")
+	case math.IsInf(ex.LogZ, 0):
+		fail("exact log Z is %g", ex.LogZ)
+	case !(ex.LogZErr >= 0):
+		fail("exact log Z %g with error estimate %g", ex.LogZ, ex.LogZErr)
+	}
+	if len(ex.Mean) != d || len(ex.Cov) != d || len(ex.SD) != d || len(ex.Quantiles) != d || len(ex.Mode) != d {
+		fail("exact moments of the wrong length for %d parameters", d)
+		return bad
+	}
+	for k := 0; k < d; k++ {
+		if math.IsNaN(ex.Mean[k]) {
+			absentNeedsReason("mean", fmt.Sprintf("exact mean %d", k))
+		} else if math.IsInf(ex.Mean[k], 0) {
+			fail("exact mean %d is %g", k, ex.Mean[k])
+		}
+		v := ex.Cov[k][k]
+		switch {
+		case math.IsNaN(v):
+			absentNeedsReason("variance", fmt.Sprintf("exact variance %d", k))
+		case !(v >= 0) || math.IsInf(v, 0):
+			fail("exact variance %d is %g", k, v)
+		case math.Abs(ex.SD[k]-math.Sqrt(v)) > 1e-9*math.Sqrt(v):
+			fail("exact sd %d is %g, the square root of the variance %g", k, ex.SD[k], v)
+		}
+		if math.IsNaN(ex.ExcessKurtosis[k]) {
+			absentNeedsReason("kurtosis", fmt.Sprintf("exact excess kurtosis %d", k))
+		} else if ex.ExcessKurtosis[k] < -2-honestyTol {
+			// Pearson's inequality: kurtosis >= skewness^2 + 1, so excess
+			// kurtosis >= -2 (an identity of any distribution).
+			fail("exact excess kurtosis %d is %g, below -2", k, ex.ExcessKurtosis[k])
+		}
+		for l := 0; l < d; l++ {
+			if c := ex.Corr[k][l]; math.Abs(c) > 1+honestyTol {
+				fail("exact correlation (%d, %d) is %g", k, l, c)
+			}
+		}
+		q := ex.Quantiles[k]
+		if math.IsNaN(q[0]) || math.IsNaN(q[1]) || math.IsNaN(q[2]) {
+			absentNeedsReason("quantiles", fmt.Sprintf("exact quantiles %d", k))
+		} else if !(q[0] <= q[1] && q[1] <= q[2]) {
+			fail("exact quantiles %d out of order: %v", k, q)
+		}
+		if math.IsNaN(ex.Mode[k]) {
+			absentNeedsReason("mode", fmt.Sprintf("exact mode %d", k))
+		} else if math.IsInf(ex.Mode[k], 0) {
+			fail("exact mode %d is %g", k, ex.Mode[k])
+		}
+	}
+
+	// The modes.
+	massSum := 0.0
+	for i, m := range res.Modes {
+		if len(m.X) != d || !allFiniteF(m.X) {
+			fail("mode %d at %v", i, m.X)
+		}
+		if !(m.Mass >= 0 && m.Mass <= 1+honestyTol) {
+			fail("mode %d has mass %g", i, m.Mass)
+		}
+		if math.IsNaN(m.LogDensity) || math.IsInf(m.LogDensity, 0) {
+			fail("mode %d has log density %g", i, m.LogDensity)
+		}
+		massSum += m.Mass
+	}
+	if massSum > 1+honestyTol {
+		fail("the modes' masses add up to %g", massSum)
+	}
+
+	// The fits.
+	for _, f := range []struct {
+		name string
+		fit  *Fit
+	}{{"laplace", res.Fits.Laplace}, {"reverse_kl", res.Fits.ReverseKL}, {"mean_field", res.Fits.MeanField}, {"forward_kl", res.Fits.ForwardKL}} {
+		if f.fit == nil {
+			absentNeedsReason(f.name, "the "+f.name+" fit")
+			continue
+		}
+		for _, s := range fitHonesty(f.name, f.fit, res, d, reason("coverage")) {
+			fail("%s", s)
+		}
+	}
+
+	// The grid.
+	if g := res.Grid; !(g.NonFinite >= 0 && g.NonFinite <= 1) || !(g.EdgeMass >= 0 && g.EdgeMass <= 1+honestyTol) {
+		fail("grid shares non-finite %g, edge mass %g", g.NonFinite, g.EdgeMass)
+	}
+
+	raw, err := json.Marshal(res)
+	if err != nil {
+		fail("JSON: %v", err)
+	} else if !json.Valid(raw) {
+		fail("JSON not valid: %.200s", raw)
+	}
+	return bad
+}
+
+// fitHonesty checks one fit that is present.
+func fitHonesty(name string, f *Fit, res *Result, d int, coverageReason bool) []string {
+	var bad []string
+	fail := func(format string, args ...any) { bad = append(bad, name+": "+fmt.Sprintf(format, args...)) }
+	if len(f.Mean) != d || len(f.Cov) != d || len(f.SD) != d || len(f.Interval95) != d {
+		fail("moments of the wrong length")
+		return bad
+	}
+	if !allFiniteF(f.Mean) {
+		fail("mean %v", f.Mean)
+	}
+	cov := mat.NewSymDense(d, nil)
+	for k := 0; k < d; k++ {
+		if len(f.Cov[k]) != d {
+			fail("covariance row %d of length %d", k, len(f.Cov[k]))
+			return bad
+		}
+		for l := 0; l < d; l++ {
+			c := f.Cov[k][l]
+			if math.IsNaN(c) || math.IsInf(c, 0) {
+				fail("covariance (%d, %d) is %g", k, l, c)
+				return bad
+			}
+			if c != f.Cov[l][k] {
+				fail("covariance not symmetric at (%d, %d)", k, l)
+			}
+			if l >= k {
+				cov.SetSym(k, l, c)
+			}
+		}
+		if sd := f.SD[k]; !(sd > 0) || math.Abs(sd-math.Sqrt(f.Cov[k][k])) > 1e-9*sd {
+			fail("sd %d is %g for variance %g", k, sd, f.Cov[k][k])
+		}
+		iv := f.Interval95[k]
+		if !(iv[0] <= iv[1]) {
+			fail("interval %d is %v", k, iv)
+		}
+	}
+	var chol mat.Cholesky
+	if !chol.Factorize(cov) {
+		fail("covariance %v is not positive definite", f.Cov)
+	}
+	for _, v := range []struct {
+		what string
+		x    float64
+	}{{"KL(q||p)", f.KLqp}, {"KL(p||q)", f.KLpq}} {
+		if v.x < -honestyTol {
+			fail("%s is %g, below zero", v.what, v.x)
+		}
+	}
+	if h := f.Hellinger; h < -honestyTol || h > 1+honestyTol {
+		fail("Hellinger distance %g outside [0, 1]", h)
+	}
+	switch c := f.Coverage95; {
+	case math.IsNaN(c):
+		if !coverageReason {
+			fail("coverage absent without a reason")
+		}
+	case c < -honestyTol || c > 1+honestyTol:
+		fail("coverage %g outside [0, 1]", c)
+	}
+	lz, lzErr := res.Exact.LogZ, res.Exact.LogZErr
+	tol := 1e-6*(1+math.Abs(lz)) + 3*lzErr
+	if f.ELBO != nil {
+		e := *f.ELBO
+		switch {
+		case math.IsNaN(e) || math.IsInf(e, 0):
+			fail("ELBO %g", e)
+		case !math.IsNaN(lz) && f.Converged && e > lz+tol:
+			// The ELBO is a lower bound on log Z for every q (Jensen's
+			// inequality); only the quadrature's error may lift it above.
+			fail("ELBO %.10g above log Z %.10g (error estimate %.3g)", e, lz, lzErr)
+		}
+	}
+	if f.LogZ != nil && (math.IsNaN(*f.LogZ) || math.IsInf(*f.LogZ, 0)) {
+		fail("Laplace log Z %g", *f.LogZ)
+	}
+	if f.EvidenceErr != nil && math.IsNaN(lz) && !math.IsNaN(*f.EvidenceErr) {
+		fail("evidence error %g against an absent log Z", *f.EvidenceErr)
+	}
+	if !f.Converged && (name == "reverse_kl" || name == "mean_field") && !hasCode(res, CodeNoConvergence) {
+		fail("not converged, and no diagnostic says so")
+	}
+	return bad
+}
+
+func allFiniteF(x []float64) bool {
+	for _, v := range x {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return false
+		}
+	}
+	return true
+}
+
+func codeList(res *Result) string {
+	var s []string
+	for _, d := range res.Diagnostics {
+		s = append(s, d.Code)
+	}
+	return "[" + strings.Join(s, " ") + "]"
+}
+
+// jsonAt walks a dotted path ("exact.cov.0.0", "fits.forward_kl") through a
+// decoded JSON document.
+func jsonAt(doc any, path string) (any, bool) {
+	cur := doc
+	for _, p := range strings.Split(path, ".") {
+		switch v := cur.(type) {
+		case map[string]any:
+			next, ok := v[p]
+			if !ok {
+				return nil, false
+			}
+			cur = next
+		case []any:
+			i, err := strconv.Atoi(p)
+			if err != nil || i < 0 || i >= len(v) {
+				return nil, false
+			}
+			cur = v[i]
+		default:
+			return nil, false
+		}
+	}
+	return cur, true
+}
+
+// allNull reports whether v is null or made only of nulls.
+func allNull(v any) bool {
+	switch x := v.(type) {
+	case nil:
+		return true
+	case []any:
+		for _, e := range x {
+			if !allNull(e) {
+				return false
+			}
+		}
+		return true
+	}
+	return false
+}
+
+// present reports whether v is an object, a number, or an array made only
+// of numbers (no null anywhere).
+func present(v any) bool {
+	switch x := v.(type) {
+	case nil:
+		return false
+	case []any:
+		for _, e := range x {
+			if !present(e) {
+				return false
+			}
+		}
+	}
+	return true
+}
