@@ -393,17 +393,19 @@ func errEstimate(g *grid.Grid) float64 {
 // is widened and the grid evaluated again.
 const refineEdgeMass = 1e-8
 
-// unresolvedShare is the share of the mass in a single grid node above
-// which the grid is taken not to resolve the density. A normal density whose
-// sd equals the node spacing puts 0.4 of its mass in the central node, and
-// the box search makes the spacing a small fraction of the sd.
-const unresolvedShare = 0.25
+// unresolvedShare is the share of the mass in a single layer of grid nodes
+// (one node of a marginal) above which the grid is taken not to resolve the
+// density along that axis. A normal density whose sd is 0.8 node spacings
+// puts 0.5 of its mass in the central layer; the box search makes the
+// spacing a small fraction of the sd (the default 4-D grid puts 0.14 in it).
+const unresolvedShare = 0.5
 
 // checkResolved decides whether the grid resolves the density: it does not
 // where log p is +Inf at a node (an overflow, or an infinite spike that a
-// node hit) or where one node holds more than unresolvedShare of the mass
-// (a spike or peak narrower than the spacing). Then log Z, the exact
-// moments and the comparisons are absent.
+// node hit) or where one layer of nodes across an axis holds more than
+// unresolvedShare of the mass (a spike, or a peak or the neck of a funnel
+// narrower than the spacing). Then log Z, the exact moments and the
+// comparisons are absent.
 func (a *analysis) checkResolved() {
 	g := a.g
 	posInf := 0
@@ -418,20 +420,20 @@ func (a *analysis) checkResolved() {
 			"The log-density is +inf at %d of the grid points: the density is infinite there (an overflow, or a singularity), which a grid cannot integrate, so log Z, the exact moments and the fits' comparisons with them are not reported.", posInf)
 		return
 	}
-	ix := make([]int, a.d)
-	g.Index(g.ArgMax, ix)
-	w := 1.0
-	for k, i := range ix {
-		w *= g.Weights[k][i]
-	}
-	share := w * math.Exp(g.Max-g.Stats.LogZ)
-	if share > unresolvedShare {
-		a.unresolved = true
-		x := make([]float64, a.d)
-		g.Point(g.ArgMax, x)
-		a.diag.add(CodeUnresolved, SeverityError,
-			"The grid point at %s holds %s of the mass: the density has a peak narrower than the grid's spacing (or an infinite spike there), so log Z, the exact moments and the fits' comparisons with them are not reported.",
-			a.pointString(x), percent(share))
+	for k := 0; k < a.d; k++ {
+		mass := g.Stats.Marginals[k].Mass
+		top := 0
+		for i, m := range mass {
+			if m > mass[top] {
+				top = i
+			}
+		}
+		if mass[top] > unresolvedShare {
+			a.unresolved = true
+			a.diag.add(CodeUnresolved, SeverityError,
+				"The grid's layer at %s = %.4g holds %s of the mass: the density has a peak (or an infinite spike, or the neck of a funnel) narrower than the grid's spacing along %s, so log Z, the exact moments and the fits' comparisons with them are not reported.",
+				a.names[k], a.maps[k].ToOriginal(g.Nodes[k][top]), percent(mass[top]), a.names[k])
+		}
 	}
 }
 

@@ -50,9 +50,10 @@ import (
 //	                                       grid (its KL(q||p) and Hellinger distance do)
 //	mode_not_polished      info            the mode search on the original scale failed: the exact mode is absent
 //	unresolved             error           the grid cannot integrate the density: log p is +inf at a node (an
-//	                                       overflow or a singularity), or one node holds more than 25 % of the
-//	                                       mass (a spike narrower than the spacing); log Z, the exact moments
-//	                                       and quantiles, and the fits' comparisons are absent
+//	                                       overflow or a singularity), or one layer of nodes across an axis
+//	                                       holds more than half the mass (a spike, or a peak or a funnel's
+//	                                       neck narrower than the spacing); log Z, the exact moments and
+//	                                       quantiles, and the fits' comparisons are absent
 const (
 	CodeSeveralModes        = "several_modes"
 	CodeEdgeMass            = "edge_mass"

@@ -308,12 +308,20 @@ func jsonAt(doc any, path string) (any, bool) {
 	return cur, true
 }
 
-// allNull reports whether v is null or made only of nulls.
+// allNull reports whether v is null or an array or object made only of
+// nulls.
 func allNull(v any) bool {
 	switch x := v.(type) {
 	case nil:
 		return true
 	case []any:
+		for _, e := range x {
+			if !allNull(e) {
+				return false
+			}
+		}
+		return true
+	case map[string]any:
 		for _, e := range x {
 			if !allNull(e) {
 				return false

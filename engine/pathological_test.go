@@ -26,6 +26,10 @@ import (
 
 const pathoDir = "../testdata/pathological"
 
+// coveredSlack is the factor by which an error estimate may understate the
+// actual error in a "covered" check.
+const coveredSlack = 2
+
 // pathoCase is one model of the catalogue with its expectations.
 type pathoCase struct {
 	name   string
@@ -38,8 +42,8 @@ type pathoCase struct {
 
 type pathoCheck struct {
 	line  int
-	kind  string   // "want", "forbid", "absent", "present", "near"
-	args  []string // codes or paths
+	kind  string   // "want", "forbid", "absent", "present", "near", "covered"
+	args  []string // codes or paths; for "covered", the value's path and its error's
 	since []string // for "absent": the codes that give the reason
 	value float64  // for "near"
 	tol   float64
@@ -118,6 +122,15 @@ func readPathoCase(file string) (pathoCase, error) {
 				return c, fmt.Errorf("%s: bad number in %q", where, text)
 			}
 			ck.args, ck.value, ck.tol = ck.args[:1], v, tol
+		case "covered":
+			if len(ck.args) != 3 {
+				return c, fmt.Errorf("%s: want covered PATH VALUE ERROR_PATH", where)
+			}
+			v, err := strconv.ParseFloat(ck.args[1], 64)
+			if err != nil {
+				return c, fmt.Errorf("%s: bad number in %q", where, text)
+			}
+			ck.args, ck.value = []string{ck.args[0], ck.args[2]}, v
 		default:
 			return c, fmt.Errorf("%s: unknown directive %q", where, ck.kind)
 		}
@@ -267,6 +280,20 @@ func checkPatho(t *testing.T, c pathoCase, res *Result) {
 				t.Errorf("%s: %s is %v, want %.10g", where, ck.args[0], v, ck.value)
 			} else if math.Abs(f-ck.value) > ck.tol {
 				t.Errorf("%s: %s = %.12g, want %.12g ± %g", where, ck.args[0], f, ck.value, ck.tol)
+			}
+		case "covered":
+			// The reported error estimate must cover the actual error (up
+			// to a factor coveredSlack): an estimate that understates it
+			// misleads as much as a wrong value.
+			v, ok1 := jsonAt(doc, ck.args[0])
+			e, ok2 := jsonAt(doc, ck.args[1])
+			f, isNum := v.(float64)
+			fe, isErr := e.(float64)
+			switch {
+			case !ok1 || !ok2 || !isNum || !isErr:
+				t.Errorf("%s: %s is %v with error %s = %v, want numbers", where, ck.args[0], v, ck.args[1], e)
+			case math.Abs(f-ck.value) > coveredSlack*fe+1e-12:
+				t.Errorf("%s: %s = %.12g is off by %.3g from %.12g, but its error estimate %s is %.3g", where, ck.args[0], f, f-ck.value, ck.value, ck.args[1], fe)
 			}
 		}
 	}
