@@ -480,6 +480,11 @@ func (a *analysis) findModes() error {
 			continue
 		}
 		m := ms[0]
+		if !m.Converged && a.farOutside(m.X) {
+			// Newton's method ran off (a log-density that rises without
+			// bound, as a linear one): that is no mode.
+			continue
+		}
 		j := -1
 		for i, o := range modes {
 			if sameMode(o.X, m.X, sd, a.g) {
@@ -561,6 +566,33 @@ func (a *analysis) findModes() error {
 			len(a.modes), list(big))
 	}
 	return nil
+}
+
+// farOutside reports a point more than one box width outside the grid's
+// box along some axis (fitting scale).
+func (a *analysis) farOutside(x []float64) bool {
+	for k, v := range x {
+		lo, hi := a.g.Box.Lo[k], a.g.Box.Hi[k]
+		if w := hi - lo; v < lo-w || v > hi+w {
+			return true
+		}
+	}
+	return false
+}
+
+// logZAbsent reports that log Z is not reported: the grid does not resolve
+// the density, or the density looks improper (more mass beyond the box
+// than in it, or mass that stays at a face however far it is widened).
+func (a *analysis) logZAbsent() bool {
+	if a.unresolved || a.g.Stats.TailMass > 1 {
+		return true
+	}
+	for k := 0; k < a.d; k++ {
+		if a.improper(k) {
+			return true
+		}
+	}
+	return false
 }
 
 // improper reports an axis whose box search stopped at its cap with more
@@ -757,7 +789,7 @@ func (a *analysis) fitAll(res *Result) error {
 		c := cmp[i]
 		a.fillFit(out, f.g, f.prec, c)
 		switch {
-		case a.unresolved || a.g.Stats.TailMass > 1:
+		case a.logZAbsent():
 			// log Z is absent (see fillExact).
 		case out.LogZ != nil:
 			e := *out.LogZ - a.g.Stats.LogZ
@@ -843,6 +875,10 @@ func (a *analysis) fillExact(res *Result) {
 		ex.LogZ, ex.LogZErr = math.NaN(), math.NaN()
 		a.diag.add(CodeImproper, SeverityError,
 			"The mass beyond the box, extrapolated from its faces, exceeds the mass inside: the density looks improper, so log Z, the evidence errors and the moments that do not settle are not reported.")
+	} else if a.logZAbsent() {
+		// Mass stays at a face however far it is widened (the improper
+		// diagnostic of gridDiagnostics says where): no log Z either.
+		ex.LogZ, ex.LogZErr = math.NaN(), math.NaN()
 	}
 	ex.Mean = append([]float64(nil), o.Mean...)
 	ex.MeanErr = append([]float64(nil), o.MeanErr...)
@@ -878,7 +914,12 @@ func (a *analysis) fillExact(res *Result) {
 	var noVar, noMean, noKurt []string
 	for k := 0; k < d; k++ {
 		varGone := a.improper(k) || o.TailShare[k] > tailShareAbsent || a.varUnsettled[k]
-		meanGone := o.AbsTailShare[k] > absShareAbsent
+		meanGone := o.AbsTailShare[k] > absShareAbsent || a.improper(k)
+		if a.improper(k) {
+			// Nor do the quantiles of a marginal that is not integrable.
+			nan := math.NaN()
+			ex.Quantiles[k] = [3]float64{nan, nan, nan}
+		}
 		if varGone {
 			noVar = append(noVar, a.names[k])
 			nan := math.NaN()
