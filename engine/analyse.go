@@ -800,8 +800,11 @@ func (a *analysis) fitAll(res *Result) error {
 		}
 		if c.Method == compare.Cubature {
 			if !c.Resolved {
+				// The grid cannot trace the boundary of the fit's 95 %
+				// region either: the coverage it gives would mislead.
+				out.Coverage95 = math.NaN()
 				a.diag.add(CodeFitOffGrid, SeverityInfo,
-					"The %s fit is narrower than the grid resolves; its KL(q||p) and Hellinger distance come from a cubature in its own coordinates.",
+					"The %s fit is narrower than the grid resolves; its KL(q||p) and Hellinger distance come from a cubature in its own coordinates, and its coverage is not reported.",
 					fitLabel(f.name))
 			} else {
 				a.diag.add(CodeFitOffGrid, SeverityInfo,

@@ -47,7 +47,7 @@ import (
 //	                                       by more than 1e-3 sd or a variance by more than 1 %
 //	fit_off_grid           info            a fit has more than 1e-6 of its mass outside the box (its KL(q||p) then
 //	                                       comes from a cubature in its own coordinates) or is too narrow for the
-//	                                       grid (its KL(q||p) and Hellinger distance do)
+//	                                       grid (its KL(q||p) and Hellinger distance do, and its coverage is absent)
 //	mode_not_polished      info            the mode search on the original scale failed: the exact mode is absent
 //	unresolved             error           the grid cannot integrate the density: log p is +inf at a node (an
 //	                                       overflow or a singularity), or one layer of nodes across an axis
