@@ -100,6 +100,7 @@ func (a *analysis) run() (*Result, error) {
 	}
 	res := &Result{Params: a.names, Form: a.m.Form.String(), Scales: a.scales}
 	a.checkResolved()
+	a.checkSingularBounds()
 	a.checkTails()
 	if err := a.findModes(); err != nil {
 		return nil, err
@@ -433,6 +434,72 @@ func (a *analysis) checkResolved() {
 			a.diag.add(CodeUnresolved, SeverityError,
 				"The grid's layer at %s = %.4g holds %s of the mass: the density has a peak (or an infinite spike, or the neck of a funnel) narrower than the grid's spacing along %s, so log Z, the exact moments and the fits' comparisons with them are not reported.",
 				a.names[k], a.maps[k].ToOriginal(g.Nodes[k][top]), percent(mass[top]), a.names[k])
+		}
+	}
+}
+
+// checkSingularBounds looks at each face that lies on a bound of the
+// support for a density that grows without bound towards it, as x^(a-1)
+// with a < 1 (Beta and Gamma densities with shape below 1). The grid's
+// rule misses the mass next to such a bound at the order h^a, so the change
+// from half resolution, E(2h) - E(h) = (2^a - 1) E(h), understates the error
+// E(h): the error estimates of log Z and the moments are scaled by
+// 1 / (2^a - 1), with a from the slope of the log marginal density against
+// the log distance over the four nodes nearest the bound.
+func (a *analysis) checkSingularBounds() {
+	st := &a.g.Stats
+	sides := [2]string{"lower", "upper"}
+	worst := 1.0
+	for k := 0; k < a.d; k++ {
+		dens := st.Marginals[k].Density
+		n := len(dens)
+		for side := 0; side < 2; side++ {
+			if !a.boxRes.Fixed[k][side] || a.pinned[k][side] || n < 8 {
+				continue
+			}
+			// Least squares of log dens(i h) on log i, i = 1..4.
+			var su, sv, suu, suv float64
+			ok := true
+			for i := 1; i <= 4; i++ {
+				j := i
+				if side == 1 {
+					j = n - 1 - i
+				}
+				if !(dens[j] > 0) || math.IsInf(dens[j], 0) {
+					ok = false
+					break
+				}
+				u, v := math.Log(float64(i)), math.Log(dens[j])
+				su, sv, suu, suv = su+u, sv+v, suu+u*u, suv+u*v
+			}
+			if !ok {
+				continue
+			}
+			slope := (4*suv - su*sv) / (4*suu - su*su)
+			if !(slope < -0.1) {
+				continue
+			}
+			order := math.Max(1+slope, 0.05)
+			f := 1 / (math.Pow(2, order) - 1)
+			worst = math.Max(worst, f)
+			bound := a.m.Params[k].Lo
+			if side == 1 {
+				bound = a.m.Params[k].Hi
+			}
+			a.diag.add(CodeInfiniteAtBound, SeverityWarning,
+				"The density grows without bound towards the %s bound of %s (%g), like a power %.2g of the distance: the grid resolves this poorly, so its error estimates were scaled up %.2g times; fit %s on the log or logit scale, where it is smooth.",
+				sides[side], a.names[k], bound, slope, f, a.names[k])
+		}
+	}
+	if worst > 1 {
+		st.LogZErr *= worst
+		for _, m := range []*grid.Moments{&st.Fitting, &st.Original} {
+			for k := range m.MeanErr {
+				m.MeanErr[k] *= worst
+				for l := range m.CovErr[k] {
+					m.CovErr[k][l] *= worst
+				}
+			}
 		}
 	}
 }

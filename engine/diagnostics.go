@@ -49,6 +49,10 @@ import (
 //	                                       comes from a cubature in its own coordinates) or is too narrow for the
 //	                                       grid (its KL(q||p) and Hellinger distance do, and its coverage is absent)
 //	mode_not_polished      info            the mode search on the original scale failed: the exact mode is absent
+//	infinite_at_bound      warning         the density grows without bound towards a bound of the support (as
+//	                                       x^(a-1), a < 1): the grid's error estimates are scaled up by
+//	                                       1/(2^a - 1) for the order h^a of its error there; points to the log
+//	                                       or logit scale
 //	unresolved             error           the grid cannot integrate the density: log p is +inf at a node (an
 //	                                       overflow or a singularity), or one layer of nodes across an axis
 //	                                       holds more than half the mass (a spike, or a peak or a funnel's
@@ -75,6 +79,7 @@ const (
 	CodeFitOffGrid          = "fit_off_grid"
 	CodeModeNotPolished     = "mode_not_polished"
 	CodeUnresolved          = "unresolved"
+	CodeInfiniteAtBound     = "infinite_at_bound"
 )
 
 // Thresholds of the diagnostics.

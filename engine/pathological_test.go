@@ -202,6 +202,9 @@ func indexOf(s []string, w string) int {
 
 func TestPathological(t *testing.T) {
 	cases := loadPathological(t)
+	if len(cases) < 30 {
+		t.Errorf("the catalogue has %d cases, want at least 30", len(cases))
+	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
 			m, err := model.Parse(c.src)
