@@ -337,6 +337,11 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 			if pinned(k, 1) || res.Capped[k][1] {
 				nh = hi[k]
 			}
+			if !layable(nl, nh, max(nc, nf[k])) {
+				// Too narrow for the grids to lay their nodes (the mass
+				// piles up where log p overflows): keep the box.
+				nl, nh = lo[k], hi[k]
+			}
 			finalLo[k], finalHi[k] = nl, nh
 			if nh-nl < 0.6*w {
 				// Zoom in: the mass fills a small part of the axis.
@@ -362,6 +367,13 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 		res.Fixed[k] = [2]bool{atBound(k, 0), atBound(k, 1)}
 	}
 	return res, nil
+}
+
+// layable reports whether n equally spaced nodes fit on [lo, hi] in
+// floating point with room to spare (spacing above 1e-9 of the magnitude).
+func layable(lo, hi float64, n int) bool {
+	h := (hi - lo) / float64(n-1)
+	return h > 1e-9*math.Max(math.Abs(lo), math.Abs(hi)) && lo+h > lo
 }
 
 func pow(n, d int) int {
