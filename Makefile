@@ -66,7 +66,7 @@ bench: wasm
 	  echo "web/app.wasm: $$raw bytes raw, $$gz bytes gzipped"
 
 # Each fuzz target, as package:Target.
-FUZZ_TARGETS := ./engine/model:FuzzParse ./app/share:FuzzDecode
+FUZZ_TARGETS := ./engine/model:FuzzParse ./app/share:FuzzDecode ./engine:FuzzAnalyse
 
 fuzz:
 	@for t in $(FUZZ_TARGETS); do \
