@@ -966,6 +966,7 @@ func (a *analysis) fillExact(res *Result) {
 		ex.GridMode[k] = a.maps[k].ToOriginal(x[k])
 	}
 	ex.Mode = a.originalMode(ex.GridMode)
+	a.dropOverflow(ex)
 	if a.unresolved {
 		nan := math.NaN()
 		ex.LogZ, ex.LogZErr = nan, nan
@@ -1020,6 +1021,58 @@ func (a *analysis) fillExact(res *Result) {
 	if len(noMean) > 0 {
 		a.diag.add(CodeNoMean, SeverityWarning,
 			"The mean of %s does not settle as the box widens either (it may not exist): the exact mean is not reported.", list(noMean))
+	}
+}
+
+// dropOverflow makes absent, with a diagnostic, the exact moments and
+// quantiles that came out of the grid's sums as NaN or infinite: on the
+// original scale of a log- or logit-scaled parameter x = e^z overflows
+// where the box reaches z > 709.
+func (a *analysis) dropOverflow(ex *Exact) {
+	d := a.d
+	nan := math.NaN()
+	bad := func(v float64) bool { return math.IsNaN(v) || math.IsInf(v, 0) }
+	var names []string
+	for k := 0; k < d; k++ {
+		over := bad(ex.Mean[k]) || bad(ex.Cov[k][k]) || bad(ex.Skewness[k]) || bad(ex.ExcessKurtosis[k])
+		for _, q := range ex.Quantiles[k] {
+			over = over || bad(q)
+		}
+		for l := 0; l < d; l++ {
+			over = over || bad(ex.Cov[k][l])
+		}
+		if !over {
+			continue
+		}
+		names = append(names, a.names[k])
+		if bad(ex.Mean[k]) {
+			ex.Mean[k], ex.MeanErr[k] = nan, nan
+		}
+		for q := range ex.Quantiles[k] {
+			if bad(ex.Quantiles[k][q]) {
+				ex.Quantiles[k] = [3]float64{nan, nan, nan}
+			}
+		}
+		if bad(ex.Cov[k][k]) || bad(ex.Skewness[k]) || bad(ex.ExcessKurtosis[k]) {
+			ex.Skewness[k], ex.ExcessKurtosis[k] = nan, nan
+		}
+		for l := 0; l < d; l++ {
+			if bad(ex.Cov[k][l]) || bad(ex.Cov[k][k]) {
+				ex.Cov[k][l], ex.Cov[l][k], ex.CovErr[k][l], ex.CovErr[l][k] = nan, nan, nan, nan
+				ex.Corr[k][l], ex.Corr[l][k] = nan, nan
+			}
+		}
+		if bad(ex.Cov[k][k]) {
+			ex.SD[k] = nan
+		}
+	}
+	if bad(ex.LogZ) && !math.IsNaN(ex.LogZ) {
+		ex.LogZ, ex.LogZErr = nan, nan
+		names = append(names, "log Z")
+	}
+	if len(names) > 0 {
+		a.diag.add(CodeOverflow, SeverityWarning,
+			"The exact moments of %s overflow double precision on the original scale (the box reaches values too large to square or sum), so those that did are not reported.", list(names))
 	}
 }
 

@@ -53,6 +53,8 @@ import (
 //	                                       x^(a-1), a < 1): the grid's error estimates are scaled up by
 //	                                       1/(2^a - 1) for the order h^a of its error there; points to the log
 //	                                       or logit scale
+//	overflow               warning         an exact moment or quantile overflows double precision (on the original
+//	                                       scale of a log-scaled parameter whose box reaches z > 709): it is absent
 //	unresolved             error           the grid cannot integrate the density: log p is +inf at a node (an
 //	                                       overflow or a singularity), or one layer of nodes across an axis
 //	                                       holds more than half the mass (a spike, or a peak or a funnel's
@@ -80,6 +82,7 @@ const (
 	CodeModeNotPolished     = "mode_not_polished"
 	CodeUnresolved          = "unresolved"
 	CodeInfiniteAtBound     = "infinite_at_bound"
+	CodeOverflow            = "overflow"
 )
 
 // Thresholds of the diagnostics.
