@@ -429,11 +429,20 @@ func (a *analysis) checkResolved() {
 				top = i
 			}
 		}
+		if edge := top == 0 || top == len(mass)-1; edge && a.boxRes.Capped[k][min(top, 1)] {
+			// Mass piled at a face the box search could not widen further:
+			// an improper density, which gridDiagnostics reports.
+			continue
+		}
 		if mass[top] > unresolvedShare {
 			a.unresolved = true
+			at := a.names[k]
+			if x := a.maps[k].ToOriginal(g.Nodes[k][top]); !math.IsInf(x, 0) {
+				at = fmt.Sprintf("%s = %.4g", a.names[k], x)
+			}
 			a.diag.add(CodeUnresolved, SeverityError,
-				"The grid's layer at %s = %.4g holds %s of the mass: the density has a peak (or an infinite spike, or the neck of a funnel) narrower than the grid's spacing along %s, so log Z, the exact moments and the fits' comparisons with them are not reported.",
-				a.names[k], a.maps[k].ToOriginal(g.Nodes[k][top]), percent(mass[top]), a.names[k])
+				"The grid's layer at %s holds %s of the mass: the density has a peak (or an infinite spike, or the neck of a funnel) narrower than the grid's spacing along %s, so log Z, the exact moments and the fits' comparisons with them are not reported.",
+				at, percent(mass[top]), a.names[k])
 		}
 	}
 }
