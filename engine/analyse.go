@@ -85,6 +85,9 @@ type analysis struct {
 	// unresolved reports a grid that cannot integrate the density: it is
 	// +Inf at some node, or one node holds most of the mass.
 	unresolved bool
+	// noise is the spacing of doubles at the grid's highest log p where it
+	// exceeds precisionWarn: the rounding noise of log p (0 otherwise).
+	noise float64
 }
 
 func (a *analysis) run() (*Result, error) {
@@ -101,6 +104,7 @@ func (a *analysis) run() (*Result, error) {
 	res := &Result{Params: a.names, Form: a.m.Form.String(), Scales: a.scales}
 	a.checkResolved()
 	a.checkSingularBounds()
+	a.checkPrecision()
 	a.checkTails()
 	if err := a.findModes(); err != nil {
 		return nil, err
@@ -445,6 +449,34 @@ func (a *analysis) checkResolved() {
 				at, percent(mass[top]), a.names[k])
 		}
 	}
+}
+
+// Precision limits: log p values whose doubles lie more than precisionWarn
+// apart carry rounding noise of that relative size in p; beyond
+// precisionAbsent the divergences, which compare p and q point by point,
+// are noise and are not reported.
+const (
+	precisionWarn   = 1e-6
+	precisionAbsent = 1e-3
+)
+
+// checkPrecision reports a log-density so large in magnitude at its
+// highest (a huge constant inside the model, as (log x - 1e8)^2/8) that
+// double precision no longer resolves its shape finely.
+func (a *analysis) checkPrecision() {
+	m := math.Abs(a.g.Max)
+	ulp := math.Nextafter(m, math.Inf(1)) - m
+	if !(ulp > precisionWarn) {
+		return
+	}
+	a.noise = ulp
+	what := "divergences near zero are noise and negative ones are not reported"
+	if ulp > precisionAbsent {
+		what = "the divergences and Hellinger distances are noise and are not reported"
+	}
+	a.diag.add(CodeLostPrecision, SeverityWarning,
+		"log p is about %.3g at its highest, where doubles lie %.2g apart: the density carries rounding noise of that size in log p, so %s; move the large constant out of the model (log p needs only be right up to a constant).",
+		a.g.Max, ulp, what)
 }
 
 // checkSingularBounds looks at each face that lies on a bound of the
@@ -923,6 +955,17 @@ func (a *analysis) fillFit(f *Fit, g fit.Gaussian, prec *mat.SymDense, c compare
 	f.KLqp, f.KLpq, f.Hellinger = c.KLqp, c.KLpq, c.Hellinger
 	f.MeanErrSD, f.SDRatio = c.MeanErrSD, c.SDRatio
 	f.Coverage95 = c.Coverage95
+	if a.noise > precisionAbsent {
+		f.KLqp, f.KLpq, f.Hellinger = math.NaN(), math.NaN(), math.NaN()
+	} else if a.noise > 0 {
+		// Below zero only by the rounding noise of log p.
+		if f.KLqp < 0 {
+			f.KLqp = math.NaN()
+		}
+		if f.KLpq < 0 {
+			f.KLpq = math.NaN()
+		}
+	}
 	if a.unresolved {
 		nan := math.NaN()
 		f.KLqp, f.KLpq, f.Hellinger, f.Coverage95 = nan, nan, nan, nan

@@ -53,6 +53,10 @@ import (
 //	                                       x^(a-1), a < 1): the grid's error estimates are scaled up by
 //	                                       1/(2^a - 1) for the order h^a of its error there; points to the log
 //	                                       or logit scale
+//	lost_precision         warning         log p is so large in magnitude at its highest that doubles there lie
+//	                                       more than 1e-6 apart: rounding noise in the shape; negative
+//	                                       divergences are absent, and beyond 1e-3 all divergences and
+//	                                       Hellinger distances are
 //	overflow               warning         an exact moment or quantile overflows double precision (on the original
 //	                                       scale of a log-scaled parameter whose box reaches z > 709): it is absent
 //	unresolved             error           the grid cannot integrate the density: log p is +inf at a node (an
@@ -83,6 +87,7 @@ const (
 	CodeUnresolved          = "unresolved"
 	CodeInfiniteAtBound     = "infinite_at_bound"
 	CodeOverflow            = "overflow"
+	CodeLostPrecision       = "lost_precision"
 )
 
 // Thresholds of the diagnostics.
