@@ -137,6 +137,11 @@ func (b *builder) un(op opcode, a int32, k float64) int32 {
 		}
 		return b.vconst(out)
 	}
+	if rewriteAlgebra {
+		if r, ok := b.rewriteUnary(op, a); ok {
+			return r
+		}
+	}
 	switch op {
 	case opNeg:
 		switch x.op {
@@ -259,6 +264,11 @@ func (b *builder) bin(op opcode, x, y int32, k float64) int32 {
 			out[i] = f(nx.constAt(i), ny.constAt(i), k)
 		}
 		return b.vconst(out)
+	}
+	if rewriteAlgebra {
+		if r, ok := b.rewriteBinary(op, x, y); ok {
+			return r
+		}
 	}
 	cx, xk := b.scalarConst(x)
 	cy, yk := b.scalarConst(y)
@@ -400,9 +410,28 @@ func (b *builder) sum1(v int32) int32 {
 		if !b.nd(x.b).vector() {
 			return b.bin(opMul, b.sum(x.a), x.b, 0)
 		}
+		if rewriteAlgebra {
+			// sum(c * x) with c data: distributed over x's linear terms.
+			if b.nd(x.a).cst {
+				return b.sumWeighted(x.a, x.b)
+			}
+			if b.nd(x.b).cst {
+				return b.sumWeighted(x.b, x.a)
+			}
+		}
 	case opDiv:
 		if !b.nd(x.b).vector() {
 			return b.bin(opDiv, b.sum(x.a), x.b, 0)
+		}
+		if d, q := b.nd(x.b), b.nd(x.a); d.cst && q.op == opSq && allPositive(d.vec) {
+			// sum(a^2 / c) with data c > 0: a weighted sum of squares.
+			w := make([]float64, len(d.vec))
+			for i, c := range d.vec {
+				w[i] = 1 / c
+			}
+			if f, ok := b.quadForm(q.a, w); ok {
+				return f
+			}
 		}
 		if d := b.nd(x.b); d.cst && !b.nd(x.a).vector() {
 			// sum_i s / c_i = s * sum_i 1/c_i
@@ -423,6 +452,9 @@ func (b *builder) sum1(v int32) int32 {
 			return b.bin(x.op, b.constant(constSum(a.vec)), x.b, 0)
 		}
 	case opSq:
+		if f, ok := b.quadForm(x.a, nil); ok {
+			return f
+		}
 		return b.reduce(opSumSq, x.a)
 	}
 	return b.reduce(opSum, v)
@@ -431,6 +463,15 @@ func (b *builder) sum1(v int32) int32 {
 // reduce builds a reduction node of a vector.
 func (b *builder) reduce(op opcode, v int32) int32 {
 	return b.add(node{op: op, a: v, b: -1}, true)
+}
+
+func allPositive(v []float64) bool {
+	for _, x := range v {
+		if !(x > 0) {
+			return false
+		}
+	}
+	return true
 }
 
 func allNonNegative(v []float64) bool {

@@ -364,7 +364,11 @@ func lowerLoop(nodes []node, reg []int32, reds []int32, n int) loop {
 		var pinList []pin
 		for _, id := range order {
 			nd := &nodes[id]
-			for _, arg := range [2]int32{nd.a, nd.b} {
+			args := []int32{nd.a, nd.b}
+			if nd.op == opBinomLogit {
+				args = append(args, nd.elems...)
+			}
+			for _, arg := range args {
 				if arg >= 0 && nodes[arg].cst && nodes[arg].vector() {
 					if _, ok := pins[arg]; !ok {
 						pins[arg] = int32(len(pinList))

@@ -65,6 +65,8 @@ func writeKernel(b *strings.Builder, indent string, kern []kinstr, scalar string
 			fmt.Fprintf(b, "s%d, %s%d", in.a, scalar, in.b)
 		case formSV:
 			fmt.Fprintf(b, "%s%d, s%d", scalar, in.a, in.b)
+		case formVVV:
+			fmt.Fprintf(b, "s%d, s%d, s%d", in.a, in.b, in.c)
 		case formPack:
 			fmt.Fprintf(b, "%d elements", len(in.elems))
 		}

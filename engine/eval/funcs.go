@@ -126,6 +126,20 @@ func (b *builder) mulK(x int32, k float64) int32 {
 	return b.un(opMulK, x, k)
 }
 func (b *builder) guard(op opcode, v, t int32, k float64) int32 {
+	if b.provablyPasses(op, t, k, false) {
+		return v
+	}
+	return b.bin(op, v, t, k)
+}
+
+// guardRate is guard for a rate or scale that the family's formula uses
+// only through log(t) and products t*x: there an exp(x) that underflows to
+// 0 still gives the right value (log(exp(x)) is x), so t > 0 need not be
+// tested either.
+func (b *builder) guardRate(op opcode, v, t int32, k float64) int32 {
+	if b.provablyPasses(op, t, k, true) {
+		return v
+	}
 	return b.bin(op, v, t, k)
 }
 
@@ -187,7 +201,7 @@ func ldGamma(b *builder, a []int32) int32 {
 	v = b.minus(v, b.times(rate, x))
 	v = b.guard(opGuardGT, v, x, 0)
 	v = b.guard(opGuardGT, v, shape, 0)
-	return b.guard(opGuardGT, v, rate, 0)
+	return b.guardRate(opGuardGT, v, rate, 0)
 }
 
 // ldInvGamma: shape log(scale) - lgamma(shape) - (shape+1) log(x) - scale/x;
@@ -199,7 +213,7 @@ func ldInvGamma(b *builder, a []int32) int32 {
 	v = b.minus(v, b.over(scale, x))
 	v = b.guard(opGuardGT, v, x, 0)
 	v = b.guard(opGuardGT, v, shape, 0)
-	return b.guard(opGuardGT, v, scale, 0)
+	return b.guardRate(opGuardGT, v, scale, 0)
 }
 
 // ldBeta: (a-1) log(x) + (b-1) log(1-x) - lgamma(a) - lgamma(b) + lgamma(a+b);
@@ -220,12 +234,15 @@ func ldExponential(b *builder, a []int32) int32 {
 	x, rate := a[0], a[1]
 	v := b.minus(b.log(rate), b.times(rate, x))
 	v = b.guard(opGuardGE, v, x, 0)
-	return b.guard(opGuardGT, v, rate, 0)
+	return b.guardRate(opGuardGT, v, rate, 0)
 }
 
 // ldPoisson: k log(rate) - rate - lgamma(k+1); k >= 0, rate >= 0 (with
 // 0 log 0 = 0, so a zero rate gives log 1 = 0 at k = 0). Non-integer k use
-// the same formula (its continuous extension through lgamma).
+// the same formula (its continuous extension through lgamma). For a
+// log-link rate exp(eta) the rewrites make k log(rate) the product k*eta
+// (summed over data, a linear form in the parameters), so one exp per
+// element is left, and the guard rate >= 0 always passes.
 func ldPoisson(b *builder, a []int32) int32 {
 	k, rate := a[0], a[1]
 	v := b.minus(b.bin(opXlogy, k, rate, 0), rate)
@@ -236,11 +253,20 @@ func ldPoisson(b *builder, a []int32) int32 {
 
 // ldBinomial: lgamma(n+1) - lgamma(k+1) - lgamma(n-k+1) + k log(p) +
 // (n-k) log(1-p); 0 <= k <= n, 0 <= p <= 1 (with 0 log 0 = 0).
+//
+// For p = logistic(eta) the likelihood terms are -(k log1pexp(-eta) +
+// (n-k) log1pexp(eta)) (rewrite.go), over data one opBinomLogit per
+// element, and p is in [0, 1] without a test.
 func ldBinomial(b *builder, a []int32) int32 {
 	k, n, p := a[0], a[1], a[2]
 	nk := b.minus(n, k)
 	v := b.minus(b.lgamma(b.addK(n, 1)), b.lgamma(b.addK(k, 1)))
 	v = b.minus(v, b.lgamma(b.addK(nk, 1)))
+	if pn := b.nd(p); rewriteAlgebra && pn.op == opLogistic {
+		v = b.plus(v, b.binomLogitNode(pn.a, p, k, nk))
+		v = b.guard(opGuardGE, v, k, 0)
+		return b.guard(opGuardGE, v, nk, 0)
+	}
 	v = b.plus(v, b.bin(opXlogy, k, p, 0))
 	v = b.plus(v, b.bin(opXlog1py, nk, b.un(opNeg, p, 0), 0))
 	v = b.guard(opGuardGE, v, k, 0)

@@ -121,6 +121,9 @@ func (ks *kernelSpace) build(order []int32, roots []int32, fuse bool) ([]kinstr,
 			if op.sb >= 0 {
 				ki.sb = ks.scalar(op.sb)
 			}
+		case op.op == opBinomLogit:
+			ki.form = formVVV
+			ki.a, ki.b, ki.c = vslot(op.a), vslot(op.b), vslot(op.elems[0])
 		case op.op == opPack:
 			ki.form = formPack
 			ki.elems = make([]int32, len(op.elems))
@@ -185,6 +188,7 @@ func fuseReductions(kern []kinstr, reds []reduction) ([]kinstr, []reduction) {
 			reads := in.form == formVV && (in.a == red.src || in.b == red.src) ||
 				in.form == formV && in.a == red.src || in.form == formVS && in.a == red.src ||
 				in.form == formSV && in.b == red.src ||
+				in.form == formVVV && (in.a == red.src || in.b == red.src || in.c == red.src) ||
 				(in.op == opLin || in.op == opQuad) && (in.a == red.src || in.b == red.src)
 			if reads || in.dst == red.src {
 				used = true

@@ -180,6 +180,10 @@ func (js *jetSpace) chunkInstr(p *program, in *kinstr, m, off int) {
 		}
 		return
 	}
+	if in.form == formVVV {
+		js.chunkBinomLogit(out, js.vecOperand(in.a, m), js.vecOperand(in.b, m).val, js.vecOperand(in.c, m).val, m)
+		return
+	}
 	var a, b jetVec
 	switch in.form {
 	case formV:
@@ -397,6 +401,48 @@ func (js *jetSpace) chunkApply(op opcode, k float64, out []float64, a, b jetVec,
 			for e := range o {
 				o[e] = fa[e]*ah[e] + fb[e]*bh[e] + faa[e]*ai[e]*aj[e] +
 					fab[e]*(ai[e]*bj[e]+bi[e]*aj[e]) + fbb[e]*bi[e]*bj[e]
+			}
+			t++
+		}
+	}
+}
+
+// chunkBinomLogit writes the jets of opBinomLogit(a; k, nk) over m
+// elements: a rule in a alone (the counts are data).
+func (js *jetSpace) chunkBinomLogit(out []float64, a jetVec, k, nk []float64, m int) {
+	S := js.S
+	d := js.d
+	ls := &js.loop
+	ov := row(out, 0, m)
+	f1, f2 := ls.part[1][:m], ls.part[3][:m]
+	singular := false
+	for e := range ov {
+		ov[e], f1[e], f2[e] = binomLogitPartials(a.val[e], k[e], nk[e])
+		singular = singular || f1[e]-f1[e] != 0 || f2[e]-f2[e] != 0
+	}
+	if a.jet == nil {
+		for t := 1; t < S; t++ {
+			fill(row(out, t, m), 0)
+		}
+		return
+	}
+	if singular {
+		js.chunkSingular(out, a, jetVec{}, f1, nil, f2, nil, nil, m)
+		return
+	}
+	for i := 1; i <= d; i++ {
+		o, xr := row(out, i, m), row(a.jet, i, m)[:m]
+		for e := range o {
+			o[e] = f1[e] * xr[e]
+		}
+	}
+	t := 1 + d
+	for i := 1; i <= d; i++ {
+		xi := row(a.jet, i, m)[:m]
+		for j := i; j <= d; j++ {
+			o, xj, xh := row(out, t, m), row(a.jet, j, m)[:m], row(a.jet, t, m)[:m]
+			for e := range o {
+				o[e] = f1[e]*xh[e] + f2[e]*xi[e]*xj[e]
 			}
 			t++
 		}

@@ -27,12 +27,22 @@ func runKernel(kern []kinstr, vs [][]float64, ss []float64, m, off int) {
 			binaryVS(in, d, vs[in.a][:m], ss[in.b])
 		case formSV:
 			binarySV(in, d, ss[in.a], vs[in.b][:m])
+		case formVVV:
+			binomLogitLoop(d, vs[in.a][:m], vs[in.b][:m], vs[in.c][:m])
 		case formPack:
 			el := in.elems[off : off+m]
 			for j := range d {
 				d[j] = ss[el[j]]
 			}
 		}
+	}
+}
+
+// binomLogitLoop computes opBinomLogit elementwise.
+func binomLogitLoop(d, eta, k, nk []float64) {
+	eta, k, nk = eta[:len(d)], k[:len(d)], nk[:len(d)]
+	for i := range d {
+		d[i] = binomLogit(eta[i], k[i], nk[i])
 	}
 }
 

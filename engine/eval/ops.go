@@ -72,6 +72,9 @@ const (
 	opParam // parameter number k
 	opConst // a constant scalar or vector
 	opPack  // a vector of scalars (a vector literal with variable elements)
+	// opBinomLogit is k log p + (n-k) log(1-p) with p = logistic(a), the
+	// counts k (b) and n-k (elems[0]) constant data: see binomLogit.
+	opBinomLogit
 	opLoop  // a vector loop (scalar tape only): a is the loop's index
 
 	// Fused kernel operations (value mode only; see fuse.go).
@@ -89,6 +92,7 @@ const (
 	classUnary
 	classBinary
 	classReduce
+	classTernary // opBinomLogit: a varies, its two data operands do not
 )
 
 // opInfo describes an operation: its name (for dumps and tests), its class,
@@ -296,6 +300,7 @@ func init() {
 	ops[opParam] = opInfo{name: "param"}
 	ops[opConst] = opInfo{name: "const"}
 	ops[opPack] = opInfo{name: "pack"}
+	ops[opBinomLogit] = opInfo{name: "binomlogit", class: classTernary}
 	ops[opLoop] = opInfo{name: "loop"}
 	ops[opLin] = opInfo{name: "lin"}
 	ops[opQuad] = opInfo{name: "quad"}
@@ -368,4 +373,55 @@ func powPartials(a, b, _ float64) (f, fa, fb, faa, fab, fbb float64) {
 	}
 	l := math.Log(a)
 	return f, fa, f * l, faa, p1 * (1 + b*l), f * l * l
+}
+
+// binomLogit is k log p + nk log(1-p) with p = logistic(eta), the binomial
+// log-likelihood on the logit scale without its constant. With
+// log p = -log1pexp(-eta), log(1-p) = -log1pexp(eta) and
+// log1pexp(x) = max(x, 0) + log1p(e^-|x|) it is
+//
+//	-((k + nk) log1p(e^-|eta|) + w |eta|),  w = nk if eta > 0, else k,
+//
+// a sum of terms of one sign for counts k, nk >= 0 (no cancellation), with
+// one exp and one log1p. A zero count contributes 0 also at |eta| = Inf
+// (0 log 0 = 0); NaN gives NaN.
+func binomLogit(eta, k, nk float64) float64 {
+	if eta != eta {
+		return eta
+	}
+	ae := math.Abs(eta)
+	s := math.Log1p(math.Exp(-ae))
+	w := k
+	if eta > 0 {
+		w = nk
+	}
+	t := 0.0
+	if w != 0 {
+		t = w * ae
+	}
+	return -(float64((k+nk)*s) + t)
+}
+
+// binomLogitPartials returns binomLogit and its first two derivatives in
+// eta: k s(-eta) - nk s(eta) and -(k + nk) s(eta) s(-eta), s = logistic,
+// both logistic values from the one exp.
+func binomLogitPartials(eta, k, nk float64) (f, f1, f2 float64) {
+	if eta != eta {
+		return eta, eta, eta
+	}
+	ae := math.Abs(eta)
+	e := math.Exp(-ae)
+	s := math.Log1p(e)
+	hi := 1 / (1 + e) // logistic(|eta|)
+	lo := e * hi      // logistic(-|eta|)
+	w, sp, sm := k, lo, hi // sp = logistic(eta), sm = logistic(-eta)
+	if eta > 0 {
+		w, sp, sm = nk, hi, lo
+	}
+	t := 0.0
+	if w != 0 {
+		t = w * ae
+	}
+	n := k + nk
+	return -(float64(n*s) + t), float64(k*sm) - float64(nk*sp), -n * float64(hi*lo)
 }

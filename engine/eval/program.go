@@ -34,6 +34,7 @@ const (
 	formVS                // slot a, scalar b
 	formSV                // scalar a, slot b
 	formPack              // elems: scalar registers, one per element
+	formVVV               // slots a, b and c (opBinomLogit)
 )
 
 // kinstr is one kernel instruction: slot dst = op(a, b; k) elementwise.
@@ -45,6 +46,7 @@ type kinstr struct {
 	flags  uint8
 	dst    int32
 	a, b   int32
+	c      int32 // formVVV: the third slot
 	sa, sb int32
 	k, k2  float64
 	elems  []int32

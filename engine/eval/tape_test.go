@@ -219,27 +219,39 @@ func TestVectorLoops(t *testing.T) {
 			return s
 		}},
 	}
+	// Each case with the rewrites (sums of squares of affine expressions
+	// become quadratic forms without a loop) and without (the loops this
+	// test is about).
 	for _, c := range cases {
-		ev := compileSrc(t, data+c.src)
-		if got := len(ev.prog.loops); got < c.loops {
-			t.Errorf("%s: %d loops, want at least %d\n%s", c.src, got, c.loops, ev.Tape())
-		}
-		d := ev.Dim()
-		pts := [][]float64{{0.4, 1.3, 0.8}, {-0.2, 0.7, 1.5}, {1.1, -0.4, 0.6}}
-		for i := range pts {
-			pts[i] = pts[i][:d]
-			want := c.ref(pts[i])
-			if got := ev.LogDensity(pts[i]); !near(got, want, 1e-12, 1) {
-				t.Errorf("%s at %v = %.16g, direct loop %.16g", c.src, pts[i], got, want)
+		for _, rw := range []bool{true, false} {
+			rewriteQuadratic = rw
+			ev := compileSrc(t, data+c.src)
+			rewriteQuadratic = true
+			if got := len(ev.prog.loops); !rw && got < c.loops {
+				t.Errorf("%s: %d loops, want at least %d\n%s", c.src, got, c.loops, ev.Tape())
 			}
-			v, _, _ := derivs(ev, pts[i])
-			if !near(v, want, 1e-12, 1) {
-				t.Errorf("%s at %v: value with derivatives %.16g, direct loop %.16g", c.src, pts[i], v, want)
-			}
-			fdCheck(t, c.src[:20], ev, pts[i], 1e-5)
+			checkVectorLoopCase(t, ev, c.src, c.ref)
 		}
-		blockMatches(t, c.src, ev, pts)
 	}
+}
+
+func checkVectorLoopCase(t *testing.T, ev *Evaluator, src string, ref func([]float64) float64) {
+	t.Helper()
+	d := ev.Dim()
+	pts := [][]float64{{0.4, 1.3, 0.8}, {-0.2, 0.7, 1.5}, {1.1, -0.4, 0.6}}
+	for i := range pts {
+		pts[i] = pts[i][:d]
+		want := ref(pts[i])
+		if got := ev.LogDensity(pts[i]); !near(got, want, 1e-12, 1) {
+			t.Errorf("%s at %v = %.16g, direct loop %.16g", src, pts[i], got, want)
+		}
+		v, _, _ := derivs(ev, pts[i])
+		if !near(v, want, 1e-12, 1) {
+			t.Errorf("%s at %v: value with derivatives %.16g, direct loop %.16g", src, pts[i], v, want)
+		}
+		fdCheck(t, src[:20], ev, pts[i], 1e-5)
+	}
+	blockMatches(t, src, ev, pts)
 }
 
 func TestBoundsAndForm(t *testing.T) {
@@ -427,14 +439,23 @@ func TestLoopSchedules(t *testing.T) {
 		}
 		return m3 + sz + vm + math.Log(vs) - ve/300
 	}
-	for _, p := range [][]float64{{0.3, 0.2}, {-1.2, 0.5}, {2, -0.7}} {
-		if got, want := ev.LogDensity(p), ref(p[0], p[1]); !near(got, want, 1e-12, 1) {
-			t.Errorf("at %v = %.16g, direct %.16g\n%s", p, got, want, ev.Tape())
+	check := func(ev *Evaluator) {
+		for _, p := range [][]float64{{0.3, 0.2}, {-1.2, 0.5}, {2, -0.7}} {
+			if got, want := ev.LogDensity(p), ref(p[0], p[1]); !near(got, want, 1e-12, 1) {
+				t.Errorf("at %v = %.16g, direct %.16g\n%s", p, got, want, ev.Tape())
+			}
+			fdCheck(t, "schedules", ev, p, 1e-5)
 		}
-		fdCheck(t, "schedules", ev, p, 1e-5)
 	}
-	if len(ev.prog.loops) < 4 {
-		t.Errorf("%d loops, want at least 4 (three levels and two lengths)\n%s", len(ev.prog.loops), ev.Tape())
+	check(ev)
+	// Without the quadratic forms (sum((y - m2)^2) is one, in m2) the
+	// three levels are three loops.
+	rewriteQuadratic = false
+	plain := compileSrc(t, src)
+	rewriteQuadratic = true
+	check(plain)
+	if len(plain.prog.loops) < 4 {
+		t.Errorf("%d loops, want at least 4 (three levels and two lengths)\n%s", len(plain.prog.loops), plain.Tape())
 	}
 }
 
