@@ -85,6 +85,9 @@ type analysis struct {
 	// unresolved reports a grid that cannot integrate the density: it is
 	// +Inf at some node, or one node holds most of the mass.
 	unresolved bool
+	// singularImproper reports a density that grows too fast towards a
+	// bound of its support to be integrable (like 1/x).
+	singularImproper bool
 	// noise is the spacing of doubles at the grid's highest log p where it
 	// exceeds precisionWarn: the rounding noise of log p (0 otherwise).
 	noise float64
@@ -479,6 +482,11 @@ func (a *analysis) checkPrecision() {
 		a.g.Max, ulp, what)
 }
 
+// nonIntegrableSlope is the slope of log density against log distance to a
+// bound below which the density counts as not integrable there (-1 is the
+// limit; the slope comes from four nodes).
+const nonIntegrableSlope = -0.97
+
 // checkSingularBounds looks at each face that lies on a bound of the
 // support for a density that grows without bound towards it, as x^(a-1)
 // with a < 1 (Beta and Gamma densities with shape below 1). The grid's
@@ -486,7 +494,9 @@ func (a *analysis) checkPrecision() {
 // from half resolution, E(2h) - E(h) = (2^a - 1) E(h), understates the error
 // E(h): the error estimates of log Z and the moments are scaled by
 // 1 / (2^a - 1), with a from the slope of the log marginal density against
-// the log distance over the four nodes nearest the bound.
+// the log distance over the four nodes nearest the bound (where the slope
+// from nodes 1-2 matches that from nodes 4-8, as a power law's does). A
+// slope of -1 or below is not integrable: the density is improper.
 func (a *analysis) checkSingularBounds() {
 	st := &a.g.Stats
 	sides := [2]string{"lower", "upper"}
@@ -495,8 +505,14 @@ func (a *analysis) checkSingularBounds() {
 		dens := st.Marginals[k].Density
 		n := len(dens)
 		for side := 0; side < 2; side++ {
-			if !a.boxRes.Fixed[k][side] || a.pinned[k][side] || n < 8 {
+			if !a.boxRes.Fixed[k][side] || a.pinned[k][side] || n < 16 {
 				continue
+			}
+			at := func(i int) float64 {
+				if side == 1 {
+					return dens[n-1-i]
+				}
+				return dens[i]
 			}
 			// Least squares of log dens(i h) on log i, i = 1..4.
 			var su, sv, suu, suv float64
@@ -520,13 +536,28 @@ func (a *analysis) checkSingularBounds() {
 			if !(slope < -0.1) {
 				continue
 			}
-			order := math.Max(1+slope, 0.05)
-			f := 1 / (math.Pow(2, order) - 1)
-			worst = math.Max(worst, f)
+			// A power law keeps its slope from nodes 1-2 to nodes 4-8; the
+			// falling side of a peak narrower than the spacing steepens.
+			s12 := math.Log(at(2)/at(1)) / math.Ln2
+			s48 := math.Log(at(8)/at(4)) / math.Ln2
+			if !(math.Abs(s12-s48) < 0.25) {
+				continue
+			}
 			bound := a.m.Params[k].Lo
 			if side == 1 {
 				bound = a.m.Params[k].Hi
 			}
+			if slope < nonIntegrableSlope {
+				// Like 1/x or steeper: not integrable at the bound.
+				a.singularImproper = true
+				a.diag.add(CodeImproper, SeverityError,
+					"The density grows towards the %s bound of %s (%g) like a power %.2g of the distance, too fast to be integrable there: the density looks improper, so log Z and the exact moments are not reported.",
+					sides[side], a.names[k], bound, slope)
+				continue
+			}
+			order := math.Max(1+slope, 0.05)
+			f := 1 / (math.Pow(2, order) - 1)
+			worst = math.Max(worst, f)
 			a.diag.add(CodeInfiniteAtBound, SeverityWarning,
 				"The density grows without bound towards the %s bound of %s (%g), like a power %.2g of the distance: the grid resolves this poorly, so its error estimates were scaled up %.2g times; fit %s on the log or logit scale, where it is smooth.",
 				sides[side], a.names[k], bound, slope, f, a.names[k])
@@ -704,8 +735,12 @@ func (a *analysis) logZAbsent() bool {
 }
 
 // improper reports an axis whose box search stopped at its cap with more
-// than improperEdgeMass in the outer layer of a face.
+// than improperEdgeMass in the outer layer of a face, and every axis of a
+// density that is not integrable at a bound of its support.
 func (a *analysis) improper(k int) bool {
+	if a.singularImproper {
+		return true
+	}
 	for side := 0; side < 2; side++ {
 		if a.boxRes.Capped[k][side] && a.g.Stats.EdgeMass[k][side] > improperEdgeMass {
 			return true

@@ -18,9 +18,10 @@ import (
 //	                                       grid could not resolve the centre (about 1e-8 left beyond each side)
 //	improper               error           the box search widened a face as far as it may and more than 1e-4 of the
 //	                                       mass stays in its outer layer, or the mass beyond the box seems to
-//	                                       exceed that inside: the density is improper (not integrable) or far
-//	                                       too heavy-tailed for a grid; the exact covariance (and log Z in the
-//	                                       second case) is absent
+//	                                       exceed that inside, or the density grows like 1/distance or faster
+//	                                       towards a bound of its support: the density is improper (not
+//	                                       integrable) or far too heavy-tailed for a grid; log Z, and the mean,
+//	                                       covariance and quantiles of the axes concerned, are absent
 //	box_not_settled        warning         the box search stopped before the box settled
 //	not_positive_definite  warning         no Laplace fit: -Hessian at the highest mode is not positive definite, or
 //	                                       the curvature there is numerically zero (e.g. exp(-x^4/4) at 0)

@@ -319,13 +319,16 @@ func Compare(g *grid.Grid, qs []Gaussian, s Settings) ([]Result, error) {
 			}
 		}
 	}
+	// The curvature correction of a cell's share can be negative where p is
+	// not smooth on the scale of the grid: a share of the mass stays in
+	// [0, 1] all the same.
 	out := make([]Result, len(qs))
 	tol := s.QMassTol
 	if tol <= 0 {
 		tol = 1e-6
 	}
 	for i, gp := range preps {
-		res := Result{QMass: gp.qmass, Resolved: gp.resolved, Coverage95: math.Min(gp.cover, 1), Method: OnGrid}
+		res := Result{QMass: gp.qmass, Resolved: gp.resolved, Coverage95: math.Max(0, math.Min(gp.cover, 1)), Method: OnGrid}
 		res.KLpq = klpq(g, gp)
 		res.KLqp = gp.klqp
 		res.Hellinger = math.Sqrt(math.Max(0, 1-gp.bhat))
