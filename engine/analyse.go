@@ -1286,7 +1286,9 @@ func (a *analysis) gridDiagnostics() {
 		bad = append(bad, fmt.Sprintf("log Z by about %.2g", st.LogZErr))
 	}
 	for k := 0; k < a.d; k++ {
-		if a.varUnsettled[k] {
+		if sd, e := o.SD[k], o.MeanErr[k]; a.varUnsettled[k] || !(sd > 0) || math.IsInf(sd, 0) || math.IsNaN(e) || math.IsInf(e, 0) {
+			// No variance, or moments that overflowed on the original
+			// scale (reported by dropOverflow).
 			continue
 		}
 		if sd := o.SD[k]; o.MeanErr[k] > meanErrWarn*sd {
