@@ -1294,7 +1294,7 @@ func (a *analysis) gridDiagnostics() {
 		if sd := o.SD[k]; o.MeanErr[k] > meanErrWarn*sd {
 			bad = append(bad, fmt.Sprintf("the mean of %s by %.2g sd", a.names[k], o.MeanErr[k]/sd))
 		}
-		if v := o.Cov[k][k]; o.CovErr[k][k] > varErrWarn*v {
+		if v, e := o.Cov[k][k], o.CovErr[k][k]; !math.IsInf(v, 0) && !math.IsInf(e, 0) && !math.IsNaN(e) && e > varErrWarn*v {
 			bad = append(bad, fmt.Sprintf("the variance of %s by %s", a.names[k], percent(o.CovErr[k][k]/v)))
 		}
 	}
