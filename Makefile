@@ -59,11 +59,25 @@ tools-node:
 	    apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq nodejs >/dev/null; \
 	  else echo "make test: node is missing: install Debian's nodejs (apt-get install nodejs) or run as root"; exit 1; fi; }
 
-bench: wasm
-	$(GO) test -run='^$$' -bench=. -benchmem -benchtime=200ms ./engine/...
-	GOOS=js GOARCH=wasm $(GO) test -run='^$$' -bench=. -benchmem -benchtime=200ms -exec="$(WASM_EXEC)" ./engine/...
-	@raw=$$(stat -c %s web/app.wasm); gz=$$(gzip -9 -c web/app.wasm | wc -c); \
-	  echo "web/app.wasm: $$raw bytes raw, $$gz bytes gzipped"
+# Benchmarks, side by side in one run: the engine's Go benchmarks natively
+# and as WebAssembly under node (their output kept in .bench/ for the
+# harness), then the harness (wasm/bench_harness_test.go): the page in
+# chromium (edit to drawn, cold load, long tasks), grid evaluation against
+# hand-written JavaScript and mathjs (installed from npm into .bench/), and
+# the wasm size. It prints a table and writes bench.json; targets are
+# reported, never enforced.
+bench: wasm tools-node tools-chromium
+	@mkdir -p .bench
+	@command -v npm >/dev/null 2>&1 || { \
+	  if [ "$$(id -u)" = 0 ] && command -v apt-get >/dev/null 2>&1; then \
+	    echo "installing npm from Debian (the harness installs mathjs with it)"; \
+	    apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq npm >/dev/null; \
+	  else echo "make bench: npm is missing: mathjs will not be measured"; fi; }
+	$(GO) test -run='^$$' -bench=. -benchmem -benchtime=200ms ./engine/... >.bench/engine-native.txt 2>&1; \
+	  s=$$?; cat .bench/engine-native.txt; exit $$s
+	GOOS=js GOARCH=wasm $(GO) test -run='^$$' -bench=. -benchmem -benchtime=200ms -exec="$(WASM_EXEC)" ./engine/... >.bench/engine-wasm.txt 2>&1; \
+	  s=$$?; cat .bench/engine-wasm.txt; exit $$s
+	BELLCHECK_CHROMIUM=$$(command -v chromium) $(GO) test -count=1 -v -timeout=40m -tags=benchharness -run='^TestBenchHarness$$' ./wasm/
 
 # Each fuzz target, as package:Target.
 FUZZ_TARGETS := ./engine/model:FuzzParse ./app/share:FuzzDecode ./engine:FuzzAnalyse

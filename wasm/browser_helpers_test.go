@@ -23,6 +23,8 @@ import (
 
 	"github.com/chromedp/cdproto/page"
 	"github.com/chromedp/chromedp"
+
+	"bellcheck/app/examples"
 )
 
 // chromiumEnv names the variable that points at the chromium binary; the
@@ -205,10 +207,14 @@ const probeJS = `(() => {
 // tab is one browser tab with the probe script installed in every document
 // it loads, and a log of its console errors.
 type tab struct {
-	ctx  context.Context
-	mu   sync.Mutex
-	errs []string
+	ctx    context.Context
+	cancel context.CancelFunc
+	mu     sync.Mutex
+	errs   []string
 }
+
+// close closes the tab (its context ends).
+func (t *tab) close() { t.cancel() }
 
 // newTab opens a tab. isolated gives it a browser context of its own (fresh
 // storage, cache and service workers).
@@ -223,7 +229,7 @@ func (b *browser) newTab(tb testing.TB, isolated bool) *tab {
 	if err := chromedp.Do(ctx); err != nil {
 		tb.Fatalf("opening a tab: %v", err)
 	}
-	t := &tab{ctx: ctx}
+	t := &tab{ctx: ctx, cancel: cancel}
 	messages := chromedp.Console(ctx)
 	go func() {
 		for m, err := range messages {
@@ -377,6 +383,17 @@ func (t *tab) editModel(tb testing.TB, text string) {
 func (t *tab) editorText(tb testing.TB) string {
 	tb.Helper()
 	return eval[string](tb, t, 10*time.Second, `document.getElementById("bc-model").value`)
+}
+
+// exampleIndex returns the gallery position of an example.
+func exampleIndex(t testing.TB, id string) int {
+	for i, ex := range examples.All {
+		if ex.ID == id {
+			return i
+		}
+	}
+	t.Fatalf("no example %q", id)
+	return -1
 }
 
 // trimLines shortens a multi-line string for a failure message.

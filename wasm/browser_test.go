@@ -523,16 +523,6 @@ func deref2(b *bool) string {
 	return fmt.Sprint(*b)
 }
 
-func exampleIndex(t *testing.T, id string) int {
-	for i, ex := range examples.All {
-		if ex.ID == id {
-			return i
-		}
-	}
-	t.Fatalf("no example %q", id)
-	return -1
-}
-
 // webHasFile reports whether web/ holds a file matching the glob.
 func webHasFile(glob string) bool {
 	m, _ := filepath.Glob(filepath.Join("..", "web", glob))

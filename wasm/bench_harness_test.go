@@ -1,0 +1,490 @@
+//go:build benchharness && !(js && wasm)
+
+package main
+
+// The performance harness behind `make bench`: in one run, the engine's Go
+// benchmarks (natively and as WebAssembly under node), and in headless
+// chromium the page's time from a model edit to the results drawn, the
+// grid evaluation throughput of the compiled model against hand-written
+// JavaScript and the mathjs library, the time to the first result after a
+// cold load, and the wasm file's size. It prints a table, writes bench.json
+// at the repository root, and fails only when it cannot measure: targets
+// are reported, not enforced.
+//
+//	BELLCHECK_CHROMIUM=$(command -v chromium) go test -count=1 -tags=benchharness -run=BenchHarness -v ./wasm/
+
+import (
+	"bufio"
+	"bytes"
+	"compress/gzip"
+	"encoding/json"
+	"fmt"
+	"math"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"regexp"
+	"runtime"
+	"sort"
+	"strconv"
+	"strings"
+	"testing"
+	"text/tabwriter"
+	"time"
+
+	"github.com/chromedp/chromedp"
+
+	"bellcheck/app/examples"
+	"bellcheck/app/ui"
+)
+
+// mathjsVersion is the mathjs release the harness installs from npm.
+const mathjsVersion = "15.2.0"
+
+// Paths relative to the package folder (go test runs in wasm/).
+var (
+	benchDir    = filepath.Join("..", ".bench")            // git-ignored
+	benchAssets = filepath.Join("..", "testdata", "bench") // the page and density
+	benchJSON   = filepath.Join("..", "bench.json")        // git-ignored
+)
+
+// measure is one line of the report.
+type measure struct {
+	Group  string  `json:"group"`
+	Name   string  `json:"name"`
+	Value  float64 `json:"value"`
+	Unit   string  `json:"unit"`
+	Detail string  `json:"detail,omitempty"`
+	// Target, when set, is the aim ("<= 30 ms", ">= 20x"); Met says whether
+	// the value meets it.
+	Target string `json:"target,omitempty"`
+	Met    *bool  `json:"met,omitempty"`
+}
+
+type report struct {
+	When     string    `json:"when"`
+	Machine  string    `json:"machine"`
+	Measures []measure `json:"measures"`
+	Notes    []string  `json:"notes"`
+}
+
+func (r *report) add(m measure) { r.Measures = append(r.Measures, m) }
+
+func (r *report) note(format string, args ...any) {
+	r.Notes = append(r.Notes, fmt.Sprintf(format, args...))
+}
+
+// atMost and atLeast fill a measure's target.
+func atMost(m measure, limit float64, target string) measure {
+	ok := m.Value <= limit
+	m.Target, m.Met = target, &ok
+	return m
+}
+
+func atLeast(m measure, limit float64, target string) measure {
+	ok := m.Value >= limit
+	m.Target, m.Met = target, &ok
+	return m
+}
+
+func median(v []float64) float64 {
+	if len(v) == 0 {
+		return math.NaN()
+	}
+	s := append([]float64(nil), v...)
+	sort.Float64s(s)
+	if len(s)%2 == 1 {
+		return s[len(s)/2]
+	}
+	return (s[len(s)/2-1] + s[len(s)/2]) / 2
+}
+
+func TestBenchHarness(t *testing.T) {
+	rep := &report{When: time.Now().UTC().Format(time.RFC3339), Machine: machine()}
+	began := time.Now()
+	engineBenchmarks(t, rep)
+	wasmSize(t, rep)
+	exe := chromiumPath(t)
+	dir := buildSite(t)
+	mathjs := installMathjs(t, rep)
+	probe := buildGridProbe(t)
+	extra := map[string]string{"/bench/": benchAssets}
+	if mathjs && probe {
+		extra["/build/"] = benchDir
+	}
+	srv := serveSite(t, dir, extra)
+	b := startBrowser(t, exe, 1280, 800)
+	coldLoad(t, b, srv, rep)
+	editToDrawn(t, b, srv, rep)
+	if mathjs && probe {
+		gridThroughput(t, b, srv, rep)
+	} else {
+		rep.note("grid throughput not measured: mathjs or the WebAssembly probe is missing (see above)")
+	}
+	rep.note("harness run took %s", time.Since(began).Round(time.Second))
+	printReport(t, rep)
+	raw, err := json.MarshalIndent(rep, "", "  ")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(benchJSON, append(raw, '\n'), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	t.Logf("wrote %s", benchJSON)
+}
+
+func machine() string {
+	cpu := ""
+	if raw, err := os.ReadFile("/proc/cpuinfo"); err == nil {
+		for _, l := range strings.Split(string(raw), "\n") {
+			if strings.HasPrefix(l, "model name") {
+				_, cpu, _ = strings.Cut(l, ":")
+				cpu = strings.TrimSpace(cpu)
+				break
+			}
+		}
+	}
+	return fmt.Sprintf("%s/%s, %d CPUs (%s), %s", runtime.GOOS, runtime.GOARCH, runtime.NumCPU(), cpu, runtime.Version())
+}
+
+// --- engine Go benchmarks ---
+
+// keyBenchmarks are the engine benchmarks the table summarises (package
+// path relative to the module, benchmark name without "Benchmark").
+var keyBenchmarks = []struct{ pkg, name, label string }{
+	{"engine", "Analyse1DDecayRate", "analysis 1-D (decay rate)"},
+	{"engine", "Analyse2DBanana", "analysis 2-D (banana)"},
+	{"engine", "Analyse3DSensor", "analysis 3-D (sensor)"},
+	{"engine", "Analyse4DCounts", "analysis 4-D (counts)"},
+	{"engine/compare", "CompareBanana", "comparison of the fits, banana"},
+	{"engine/fit", "ReverseKLBanana", "reverse-KL fit, banana"},
+}
+
+// benchLine matches a Go benchmark result line.
+var benchLine = regexp.MustCompile(`^Benchmark(\S+?)(?:-\d+)?\s+\d+\s+(.*)$`)
+
+// parseBench reads `go test -bench` output: for each package and benchmark,
+// its metrics by unit (ns/op, ns/point, ...).
+func parseBench(out string) map[string]map[string]float64 {
+	res := map[string]map[string]float64{}
+	pkg := ""
+	sc := bufio.NewScanner(strings.NewReader(out))
+	sc.Buffer(make([]byte, 1<<20), 1<<20)
+	for sc.Scan() {
+		line := sc.Text()
+		if p, ok := strings.CutPrefix(line, "pkg: "); ok {
+			pkg = strings.TrimPrefix(strings.TrimSpace(p), "bellcheck/")
+			continue
+		}
+		m := benchLine.FindStringSubmatch(line)
+		if m == nil {
+			continue
+		}
+		fields := strings.Fields(m[2])
+		metrics := map[string]float64{}
+		for i := 0; i+1 < len(fields); i += 2 {
+			if v, err := strconv.ParseFloat(fields[i], 64); err == nil {
+				metrics[fields[i+1]] = v
+			}
+		}
+		res[pkg+"."+m[1]] = metrics
+	}
+	return res
+}
+
+// engineOutput returns the benchmark output of make bench's earlier step
+// (.bench/engine-NAME.txt), or runs the key benchmarks itself.
+func engineOutput(t *testing.T, rep *report, name string, env []string, extra ...string) string {
+	file := filepath.Join(benchDir, "engine-"+name+".txt")
+	if raw, err := os.ReadFile(file); err == nil {
+		if st, _ := os.Stat(file); st != nil && time.Since(st.ModTime()) < 6*time.Hour {
+			rep.note("engine benchmarks (%s) read from %s, written by make bench", name, file)
+			return string(raw)
+		}
+	}
+	var names []string
+	for _, k := range keyBenchmarks {
+		names = append(names, k.name)
+	}
+	names = append(names, "BananaGridHand", "BananaGridBlock")
+	args := append([]string{"test", "-run=^$", "-bench=^Benchmark(" + strings.Join(names, "|") + ")$", "-benchtime=200ms"}, extra...)
+	args = append(args, "../engine/", "../engine/compare/", "../engine/fit/", "../engine/eval/")
+	cmd := exec.Command("go", args...)
+	cmd.Env = append(os.Environ(), env...)
+	out, err := cmd.CombinedOutput()
+	if err != nil {
+		rep.note("engine benchmarks (%s) failed: %v: %s", name, err, trimLines(string(out), 10))
+		return ""
+	}
+	rep.note("engine benchmarks (%s): key benchmarks run by the harness", name)
+	return string(out)
+}
+
+func engineBenchmarks(t *testing.T, rep *report) {
+	native := parseBench(engineOutput(t, rep, "native", nil))
+	var wasm map[string]map[string]float64
+	if _, err := exec.LookPath("node"); err == nil {
+		goroot, _ := exec.Command("go", "env", "GOROOT").Output()
+		execFlag := "-exec=" + filepath.Join(strings.TrimSpace(string(goroot)), "lib", "wasm", "go_js_wasm_exec")
+		wasm = parseBench(engineOutput(t, rep, "wasm", []string{"GOOS=js", "GOARCH=wasm"}, execFlag))
+	} else {
+		rep.note("node is missing: no WebAssembly engine benchmarks")
+	}
+	for _, k := range keyBenchmarks {
+		key := k.pkg + "." + k.name
+		n, ok := native[key]["ns/op"]
+		if !ok {
+			rep.note("benchmark %s: no native result", key)
+			continue
+		}
+		m := measure{Group: "engine (Go benchmarks)", Name: k.label + ", native", Value: n / 1e6, Unit: "ms"}
+		rep.add(m)
+		if w, ok := wasm[key]["ns/op"]; ok {
+			rep.add(measure{Group: "engine (Go benchmarks)", Name: k.label + ", wasm under node", Value: w / 1e6, Unit: "ms",
+				Detail: fmt.Sprintf("%.2fx native", w/n)})
+		}
+	}
+	for _, env := range []struct {
+		name string
+		res  map[string]map[string]float64
+	}{{"native", native}, {"wasm under node", wasm}} {
+		hand, ok1 := env.res["engine/eval.BananaGridHand"]["ns/point"]
+		block, ok2 := env.res["engine/eval.BananaGridBlock"]["ns/point"]
+		if ok1 && ok2 {
+			rep.add(measure{Group: "engine (Go benchmarks)", Name: "banana grid, compiled block, " + env.name, Value: block, Unit: "ns/point",
+				Detail: fmt.Sprintf("hand-written Go %.2f ns/point: compiled/hand %.2fx", hand, block/hand)})
+		}
+	}
+}
+
+// --- sizes ---
+
+func wasmSize(t *testing.T, rep *report) {
+	raw, err := os.ReadFile(filepath.Join("..", "web", "app.wasm"))
+	if err != nil {
+		rep.note("web/app.wasm missing: %v", err)
+		return
+	}
+	var gz bytes.Buffer
+	w, _ := gzip.NewWriterLevel(&gz, gzip.BestCompression)
+	w.Write(raw)
+	w.Close()
+	rep.add(measure{Group: "size", Name: "web/app.wasm raw", Value: float64(len(raw)) / 1e6, Unit: "MB", Detail: fmt.Sprintf("%d bytes", len(raw))})
+	rep.add(atMost(measure{Group: "size", Name: "web/app.wasm gzip -9", Value: float64(gz.Len()) / 1e6, Unit: "MB",
+		Detail: fmt.Sprintf("%d bytes", gz.Len())}, 3, "<= 3 MB"))
+}
+
+// --- tools ---
+
+// installMathjs installs mathjs from the npm registry into .bench (once).
+func installMathjs(t *testing.T, rep *report) bool {
+	lib := filepath.Join(benchDir, "node_modules", "mathjs", "lib", "browser", "math.js")
+	if _, err := os.Stat(lib); err == nil {
+		return true
+	}
+	if _, err := exec.LookPath("npm"); err != nil {
+		rep.note("npm is missing (Debian: apt-get install npm): mathjs not installed")
+		return false
+	}
+	if err := os.MkdirAll(benchDir, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	cmd := exec.Command("npm", "install", "--prefix", benchDir, "--no-audit", "--no-fund", "--no-save", "mathjs@"+mathjsVersion)
+	out, err := cmd.CombinedOutput()
+	if err != nil {
+		rep.note("npm install mathjs@%s failed: %v: %s", mathjsVersion, err, trimLines(string(out), 8))
+		return false
+	}
+	if _, err := os.Stat(lib); err != nil {
+		rep.note("mathjs installed but %s is missing", lib)
+		return false
+	}
+	return true
+}
+
+// buildGridProbe builds testdata/bench/gridwasm (the engine's compiler and
+// LogDensityBlock behind a JavaScript function) into .bench/gridbench.wasm,
+// with Go's wasm_exec.js beside it.
+func buildGridProbe(t *testing.T) bool {
+	if err := os.MkdirAll(benchDir, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	cmd := exec.Command("go", "build", "-trimpath", "-o", filepath.Join(benchDir, "gridbench.wasm"), "../testdata/bench/gridwasm")
+	cmd.Env = append(os.Environ(), "GOOS=js", "GOARCH=wasm")
+	if out, err := cmd.CombinedOutput(); err != nil {
+		t.Logf("building the grid probe: %v: %s", err, out)
+		return false
+	}
+	goroot, err := exec.Command("go", "env", "GOROOT").Output()
+	if err != nil {
+		return false
+	}
+	js, err := os.ReadFile(filepath.Join(strings.TrimSpace(string(goroot)), "lib", "wasm", "wasm_exec.js"))
+	if err != nil {
+		t.Logf("wasm_exec.js: %v", err)
+		return false
+	}
+	return os.WriteFile(filepath.Join(benchDir, "wasm_exec.js"), js, 0o644) == nil
+}
+
+// --- browser measurements ---
+
+// coldLoad: a tab with an empty cache (own browser context, no service
+// worker) opens the page; the time from navigation start to the first
+// result drawn, median of 3.
+func coldLoad(t *testing.T, b *browser, srv *siteServer, rep *report) {
+	var times []float64
+	for r := 0; r < 3; r++ {
+		tb := b.newTab(t, true)
+		st := tb.open(t, srv.URL+"/")
+		times = append(times, st.DrawnAt[0])
+		tb.close()
+	}
+	rep.add(atMost(measure{Group: "browser", Name: "cold load to first result (default example)", Value: median(times), Unit: "ms",
+		Detail: fmt.Sprintf("median of 3 (%s); uncompressed wasm from a local file server", fmtList(times))}, 1500, "<= 1500 ms"))
+}
+
+// statusMillis reads the page's own "analysed in N ms".
+var statusMillis = regexp.MustCompile(`analysed in ([0-9.]+) ms`)
+
+// editToDrawn: for one example of each dimension, five edits of the model
+// text, each timed from the input event to the frame after the results
+// are on the page. The page waits ui.CheckDelay after the last keystroke
+// before it checks the text; that wait is reported apart.
+func editToDrawn(t *testing.T, b *browser, srv *siteServer, rep *report) {
+	cases := []struct {
+		id     string
+		dim    int
+		target float64
+	}{{"decay", 1, 30}, {"dose", 2, 80}, {"sensor", 3, 600}, {"clock", 4, 6000}}
+	debounce := float64(ui.CheckDelay) / float64(time.Millisecond)
+	for _, c := range cases {
+		ex, ok := examples.ByID(c.id)
+		if !ok {
+			rep.note("no example %s", c.id)
+			continue
+		}
+		tb := b.newTab(t, true)
+		st := tb.open(t, srv.URL+"/")
+		eval[bool](t, tb, 5*time.Second, fmt.Sprintf(`(document.querySelectorAll("ul.gallery button.ex")[%d].click(), true)`, exampleIndex(t, c.id)))
+		st = tb.waitDone(t, st.Done, 180*time.Second)
+		var total, page, longest []float64
+		for k := 1; k <= 5; k++ {
+			tb.editModel(t, ex.Source+fmt.Sprintf("# edit %d\n", k))
+			st = tb.waitDone(t, st.Done, 180*time.Second)
+			drawn := st.DrawnAt[len(st.DrawnAt)-1]
+			total = append(total, drawn-st.EditAt)
+			if m := statusMillis.FindStringSubmatch(st.Status); m != nil {
+				v, _ := strconv.ParseFloat(m[1], 64)
+				page = append(page, v)
+			}
+			longest = append(longest, eval[float64](t, tb, 5*time.Second, fmt.Sprintf(`window.__bc.longestSince(%f)`, st.EditAt)))
+		}
+		tb.close()
+		g := "browser: edit to drawn"
+		name := fmt.Sprintf("%d-D (%s)", c.dim, c.id)
+		rep.add(measure{Group: g, Name: name + ", keystroke to drawn", Value: median(total), Unit: "ms",
+			Detail: fmt.Sprintf("median of 5 (%s), includes the page's %.0f ms check delay", fmtList(total), debounce)})
+		rep.add(atMost(measure{Group: g, Name: name + ", check to drawn", Value: median(total) - debounce, Unit: "ms",
+			Detail: fmt.Sprintf("the same less the check delay; the page's own 'analysed in': median %.0f ms", median(page))},
+			c.target, fmt.Sprintf("<= %.0f ms", c.target)))
+		rep.add(atMost(measure{Group: g, Name: name + ", longest task during the analysis", Value: median(longest), Unit: "ms",
+			Detail: fmt.Sprintf("median of 5 (%s); the browser reports tasks over 50 ms only (0: none)", fmtList(longest))}, 100, "<= 100 ms"))
+	}
+}
+
+type gridResult struct {
+	NsPerPoint float64 `json:"ns_per_point"`
+	Sum        float64 `json:"sum"`
+	Version    string  `json:"version"`
+	Error      string  `json:"error"`
+}
+
+// gridThroughput: in the browser, the banana density over the 512 x 512
+// grid of engine/eval's benchmark, evaluated by the engine's compiled model
+// (LogDensityBlock in WebAssembly), by a hand-written JavaScript function
+// and by mathjs's compiled expression.
+func gridThroughput(t *testing.T, b *browser, srv *siteServer, rep *report) {
+	tb := b.newTab(t, true)
+	tb.do(t, 60*time.Second, chromedp.Navigate(srv.URL+"/bench/grid.html"))
+	if !eval[bool](t, tb, 60*time.Second, `window.benchReady`) {
+		rep.note("grid throughput: the WebAssembly probe did not start")
+		return
+	}
+	const n, reps = 512, 7
+	res := eval[map[string]gridResult](t, tb, 5*time.Minute, fmt.Sprintf(`window.runGrid(%d, %d)`, n, reps))
+	tb.close()
+	hand, mj, comp := res["hand"], res["mathjs"], res["compiled"]
+	if comp.Error != "" {
+		rep.note("grid throughput: compiled model: %s", comp.Error)
+		return
+	}
+	// The three evaluate the same density: their sums over the grid agree
+	// (to rounding; the formula is written the same way in each).
+	for _, r := range []struct {
+		name string
+		g    gridResult
+	}{{"mathjs", mj}, {"compiled", comp}} {
+		if rel := math.Abs(r.g.Sum-hand.Sum) / math.Abs(hand.Sum); !(rel < 1e-9) {
+			t.Errorf("grid throughput: %s's sum %v differs from the hand-written function's %v: not the same density", r.name, r.g.Sum, hand.Sum)
+		}
+	}
+	g := "browser: grid evaluation, 512x512 banana"
+	rep.add(measure{Group: g, Name: "compiled model (engine LogDensityBlock in wasm)", Value: comp.NsPerPoint, Unit: "ns/point",
+		Detail: "through the harness's WebAssembly probe (testdata/bench/gridwasm): the page has no benchmark hook"})
+	rep.add(measure{Group: g, Name: "hand-written JavaScript", Value: hand.NsPerPoint, Unit: "ns/point"})
+	rep.add(measure{Group: g, Name: "mathjs " + mj.Version + " compiled expression", Value: mj.NsPerPoint, Unit: "ns/point"})
+	rep.add(atLeast(measure{Group: g, Name: "speed-up over mathjs", Value: mj.NsPerPoint / comp.NsPerPoint, Unit: "x"}, 20, ">= 20x"))
+	rep.add(atMost(measure{Group: g, Name: "slow-down against hand-written JavaScript", Value: comp.NsPerPoint / hand.NsPerPoint, Unit: "x"}, 10, "<= 10x"))
+}
+
+func fmtList(v []float64) string {
+	s := make([]string, len(v))
+	for i, x := range v {
+		s[i] = strconv.FormatFloat(x, 'f', 0, 64)
+	}
+	return strings.Join(s, ", ")
+}
+
+// printReport prints the table: group, measure, value, target, verdict.
+func printReport(t *testing.T, rep *report) {
+	var buf bytes.Buffer
+	fmt.Fprintf(&buf, "bellcheck benchmarks, %s, %s\n\n", rep.When, rep.Machine)
+	tw := tabwriter.NewWriter(&buf, 0, 0, 2, ' ', 0)
+	group := ""
+	for _, m := range rep.Measures {
+		if m.Group != group {
+			group = m.Group
+			fmt.Fprintf(tw, "%s\t\t\t\t\n", strings.ToUpper(group))
+		}
+		verdict := ""
+		if m.Met != nil {
+			verdict = "met"
+			if !*m.Met {
+				verdict = "MISSED"
+			}
+		}
+		fmt.Fprintf(tw, "  %s\t%s %s\t%s\t%s\t%s\n", m.Name, fmtValue(m.Value), m.Unit, m.Target, verdict, m.Detail)
+	}
+	tw.Flush()
+	if len(rep.Notes) > 0 {
+		fmt.Fprintln(&buf, "\nnotes:")
+		for _, n := range rep.Notes {
+			fmt.Fprintln(&buf, "  "+n)
+		}
+	}
+	// Printed on standard output (not only the test log) so make bench
+	// shows it whatever the -v flag.
+	fmt.Print(buf.String())
+}
+
+func fmtValue(v float64) string {
+	switch a := math.Abs(v); {
+	case a >= 100:
+		return strconv.FormatFloat(v, 'f', 0, 64)
+	case a >= 10:
+		return strconv.FormatFloat(v, 'f', 1, 64)
+	default:
+		return strconv.FormatFloat(v, 'f', 2, 64)
+	}
+}
