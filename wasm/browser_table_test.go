@@ -386,3 +386,47 @@ func titles(t resultsTable) []string {
 	}
 	return s
 }
+
+// TestBrowserTableReading checks the table reader itself (no browser
+// needed): printed precision, and that compareTable notices a number off
+// by more than half its last digit.
+func TestBrowserTableReading(t *testing.T) {
+	for _, c := range []struct {
+		text string
+		v    []float64
+		half []float64
+	}{
+		{"1.234", []float64{1.234}, []float64{0.0005}},
+		{"−1.2e−5", []float64{-1.2e-5}, []float64{5e-7}},
+		{"[−0.51, 2.30]", []float64{-0.51, 2.30}, []float64{0.005, 0.005}},
+		{"12300", []float64{12300}, []float64{50}},
+		{"0", []float64{0}, []float64{0}},
+		{"≥ −3.231", []float64{-3.231}, []float64{0.0005}},
+		{"95.6 %", []float64{95.6}, []float64{0.05}},
+		{"×1.02", []float64{1.02}, []float64{0.005}},
+		{"±4.6e−12", []float64{4.6e-12}, []float64{5e-14}},
+	} {
+		got := parsePrinted(c.text)
+		if len(got) != len(c.v) {
+			t.Errorf("parsePrinted(%q) = %v, want %d numbers", c.text, got, len(c.v))
+			continue
+		}
+		for i := range got {
+			if math.Abs(got[i].v-c.v[i]) > 1e-15*math.Abs(c.v[i]) || math.Abs(got[i].half-c.half[i]) > 1e-9*c.half[i] {
+				t.Errorf("parsePrinted(%q)[%d] = %v ± %v, want %v ± %v", c.text, i, got[i].v, got[i].half, c.v[i], c.half[i])
+			}
+		}
+	}
+	one := func(v float64) []*float64 { return []*float64{&v} }
+	res := cliJSON{Params: []string{"x"}, Scales: []string{"identity"}}
+	res.Exact.Mean, res.Exact.SD = one(1.2344), one(0.5)
+	tab := resultsTable{Methods: []string{"exact", "Laplace", "reverse KL", "mean-field", "forward KL"},
+		Sections: []tableSection{{Title: "x", Rows: []tableRow{{Label: "mean", Cells: []tableCell{{V: "1.234"}, {V: "—"}, {V: "—"}, {V: "—"}, {V: "—"}}}}}}}
+	if problems, n := compareTable(tab, res); len(problems) != 0 || n != 1 {
+		t.Errorf("1.234 against 1.2344: problems %v, %d checked; want none, 1", problems, n)
+	}
+	res.Exact.Mean = one(1.2346)
+	if problems, _ := compareTable(tab, res); len(problems) != 1 {
+		t.Errorf("1.234 against 1.2346: problems %v, want one", problems)
+	}
+}
