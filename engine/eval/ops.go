@@ -75,7 +75,7 @@ const (
 	// opBinomLogit is k log p + (n-k) log(1-p) with p = logistic(a), the
 	// counts k (b) and n-k (elems[0]) constant data: see binomLogit.
 	opBinomLogit
-	opLoop  // a vector loop (scalar tape only): a is the loop's index
+	opLoop // a vector loop (scalar tape only): a is the loop's index
 
 	// Fused kernel operations (value mode only; see fuse.go).
 	opLin  // (a + c) + s*b
@@ -412,8 +412,8 @@ func binomLogitPartials(eta, k, nk float64) (f, f1, f2 float64) {
 	ae := math.Abs(eta)
 	e := math.Exp(-ae)
 	s := math.Log1p(e)
-	hi := 1 / (1 + e) // logistic(|eta|)
-	lo := e * hi      // logistic(-|eta|)
+	hi := 1 / (1 + e)      // logistic(|eta|)
+	lo := e * hi           // logistic(-|eta|)
 	w, sp, sm := k, lo, hi // sp = logistic(eta), sm = logistic(-eta)
 	if eta > 0 {
 		w, sp, sm = nk, hi, lo

@@ -22,7 +22,16 @@ type rtree struct {
 }
 
 var randUnary = []string{"exp", "log", "sqrt", "abs", "sin", "cos", "atan", "tanh", "sinh", "cosh", "erf", "erfc",
-	"log1p", "expm1", "lgamma", "digamma", "logistic", "log1pexp", "neg", "tan"}
+	"log1p", "expm1", "lgamma", "digamma", "logistic", "log1pexp", "neg", "tan",
+	// Compositions the compiler rewrites (rewrite.go); the reference
+	// evaluates them as written.
+	"logexp", "loglogistic", "log1mlogistic", "log1pneglogistic", "log1pexpm1"}
+
+// composed gives the model text of the rewritten compositions.
+var composed = map[string]string{
+	"logexp": "log(exp(%s))", "loglogistic": "log(logistic(%s))", "log1mlogistic": "log(1 - logistic(%s))",
+	"log1pneglogistic": "log1p(-logistic(%s))", "log1pexpm1": "log1p(expm1(%s))",
+}
 var randBinary = []string{"+", "-", "*", "/", "^", "pow", "min", "max", "logsumexp", "sq", "cube", "inv"}
 
 func randTree(r *rand.Rand, depth, dim int) *rtree {
@@ -65,6 +74,9 @@ func (t *rtree) String() string {
 		return "((" + t.args[0].String() + ")^3)"
 	case "inv":
 		return "((" + t.args[0].String() + ")^-1)"
+	}
+	if f, ok := composed[t.op]; ok {
+		return "(" + fmt.Sprintf(f, t.args[0].String()) + ")"
 	}
 	s := t.op + "("
 	for i, a := range t.args {
@@ -131,6 +143,23 @@ func (t *rtree) evalAt(x []hyperdual.Number, data [][]float64, i int) hyperdual.
 		return hyperdual.Inv(a)
 	case "neg":
 		return hyperdual.Scale(-1, a)
+	case "logexp":
+		return hyperdual.Log(hyperdual.Exp(a))
+	case "log1pexpm1":
+		e := hd(a, math.Expm1(r), math.Exp(r), math.Exp(r))
+		q := e.Real
+		return hd(e, math.Log1p(q), 1/(1+q), -1/((1+q)*(1+q)))
+	case "loglogistic":
+		// (log s)' = 1 - s = s(-x), (log s)'' = -s(x) s(-x) (calculus);
+		// the value from the test's logistic, relative accurate.
+		sp, sm := logistic(r), logistic(-r)
+		return hd(a, math.Log(sp), sm, -sp*sm)
+	case "log1mlogistic", "log1pneglogistic":
+		// 1 - s(x) = s(-x) exactly, computed so (1 - logistic(x) as
+		// written loses all digits for large x); derivatives -s(x) and
+		// -s(x) s(-x).
+		sp, sm := logistic(r), logistic(-r)
+		return hd(a, math.Log(sm), -sp, -sp*sm)
 	case "exp":
 		return hyperdual.Exp(a)
 	case "log":
@@ -350,10 +379,13 @@ func checkRandomPoint(t *testing.T, src string, tree *rtree, ev *Evaluator, x []
 
 func TestRandomExpressions(t *testing.T) {
 	r := rand.New(rand.NewPCG(randSeed, 2))
-	checked := 0
+	checked, rewritten := 0, 0
 	for trial := 0; trial < 400; trial++ {
 		dim := 1 + trial%4
 		tree := randTree(r, 5, dim)
+		if hasComposed(tree) {
+			rewritten++
+		}
 		src := ""
 		for k := 0; k < dim; k++ {
 			src += "param " + paramNames[k] + "\n"
@@ -374,6 +406,9 @@ func TestRandomExpressions(t *testing.T) {
 				checked++
 			}
 		}
+	}
+	if rewritten < 40 {
+		t.Errorf("only %d random trees have a composition the compiler rewrites", rewritten)
 	}
 	// Most random points must have been compared (the rest are outside a
 	// function's domain).
@@ -413,6 +448,19 @@ func TestRandomExpressionsFiniteDifferences(t *testing.T) {
 		}
 		fdCheck(t, fmt.Sprintf("%s", src), ev, x, 1e-4)
 	}
+}
+
+// hasComposed reports whether the tree has a composition of composed.
+func hasComposed(t *rtree) bool {
+	if _, ok := composed[t.op]; ok {
+		return true
+	}
+	for _, a := range t.args {
+		if hasComposed(a) {
+			return true
+		}
+	}
+	return false
 }
 
 // hasKink reports whether the tree has min, max or abs, whose derivatives

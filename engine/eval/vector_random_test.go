@@ -21,7 +21,8 @@ func randVecTree(r *rand.Rand, depth, dim int) *rtree {
 		}
 		return &rtree{op: "data", param: r.IntN(2)}
 	}
-	ops := []string{"+", "-", "*", "/", "sq", "+", "-", "*", "sq", "exp", "log1pexp", "neg", "sin", "atan", "abs"}
+	ops := []string{"+", "-", "*", "/", "sq", "+", "-", "*", "sq", "exp", "log1pexp", "neg", "sin", "atan", "abs",
+		"logexp", "loglogistic", "log1mlogistic"}
 	op := ops[r.IntN(len(ops))]
 	switch op {
 	case "+", "-", "*", "/":
