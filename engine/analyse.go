@@ -877,6 +877,8 @@ func (a *analysis) fitAll(res *Result) error {
 		fits = append(fits, named{v.name, v.vf.Gaussian, v.out, v.vf.Precision})
 	}
 
+	a.checkELBO(rev, mfit)
+
 	// Forward KL.
 	if !a.noVariance {
 		if g, err := fit.MomentMatch(a.g.Stats.Fitting.Mean, symFromRows(a.g.Stats.Fitting.Cov)); err == nil {
@@ -957,6 +959,35 @@ func (a *analysis) fitAll(res *Result) error {
 		}
 	}
 	return nil
+}
+
+// checkELBO compares the ELBO of each converged reverse-KL fit with the
+// grid's log Z: the ELBO is a lower bound on log Z for every Gaussian
+// (Jensen's inequality), so an ELBO above log Z by more than the grid's
+// error estimate means that the grid missed mass the fit found (a peak
+// narrower than the grid's spacing, between its nodes), or that the fit's
+// cubature erred. Either way the grid's results cannot stand: they are
+// marked unresolved, and the forward-KL fit, made from them, is not made.
+func (a *analysis) checkELBO(fits ...*fit.VariationalFit) {
+	if a.unresolved {
+		return
+	}
+	lz := a.g.Stats.LogZ
+	tol := 1e-6*(1+math.Abs(lz)) + 3*a.g.Stats.LogZErr
+	for _, vf := range fits {
+		if vf == nil || !vf.Converged || !(vf.ELBO > lz+tol) {
+			continue
+		}
+		a.unresolved = true
+		a.noVariance = true
+		for k := range a.varUnsettled {
+			a.varUnsettled[k] = true
+		}
+		a.diag.add(CodeUnresolved, SeverityError,
+			"A reverse-KL fit's ELBO, a lower bound on log Z, exceeds the grid's log Z by %.3g: the grid has missed part of the mass (a peak narrower than its spacing, near %s) or the fit's cubature erred, so log Z, the exact moments and the fits' comparisons with them are not reported.",
+			vf.ELBO-lz, a.pointString(vf.Mean))
+		return
+	}
 }
 
 func fitLabel(name string) string {
