@@ -47,6 +47,9 @@ func Compile(m *model.Model) (*Evaluator, error) {
 	return newEvaluator(prog, m), nil
 }
 
+// flatBlocks turns the flat block tape on (tests compare with it off).
+var flatBlocks = true
+
 // fuseKernels turns the fusion of kernel operations on (tests compare with
 // it off).
 var fuseKernels = true
@@ -255,7 +258,6 @@ func lower(b *builder, root int32, dim int) *program {
 	}
 
 	// Loops: reductions grouped by level and length.
-	type loopKey struct{ lvl, n int }
 	groups := map[loopKey][]int32{}
 	var keys []loopKey
 	for id := range nodes {
@@ -306,6 +308,8 @@ func lower(b *builder, root int32, dim int) *program {
 	}
 	if len(p.loops) == 0 {
 		p.block = lowerBlock(nodes, reach, root, dim)
+	} else if flatBlocks {
+		p.flat = lowerFlat(nodes, reach, root, dim, avail, maxAvail, keys, groups)
 	}
 	return p
 }

@@ -32,6 +32,8 @@ type Evaluator struct {
 
 	bvs [][]float64 // block tape slots
 
+	flat flatSpace // flat block tape slots
+
 	jets jetSpace
 }
 
@@ -71,6 +73,9 @@ func (ev *Evaluator) alloc() {
 		for s := range ev.bvs {
 			ev.bvs[s] = bbuf[s*blockLen : (s+1)*blockLen]
 		}
+	}
+	if p.flat != nil {
+		ev.flat.init(p.flat)
 	}
 	ev.jets.init(p)
 }
@@ -222,6 +227,10 @@ func (ev *Evaluator) LogDensityBlock(cols [][]float64, out []float64) {
 		return
 	}
 	bt := p.block
+	if bt == nil && p.flat != nil {
+		ev.flat.run(p.flat, cols, out)
+		return
+	}
 	if bt == nil {
 		// Models over data vectors: their loops already run over the data
 		// a chunk at a time, so go point by point.

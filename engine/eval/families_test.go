@@ -235,5 +235,6 @@ func TestFamiliesOverData(t *testing.T) {
 			}
 			fdCheck(t, c.src, ev, p, 2e-6)
 		}
+		blockMatches(t, c.src, ev, c.pts)
 	}
 }

@@ -118,5 +118,6 @@ type program struct {
 	loops    []loop
 	root     int32 // register of the log-density
 	block    *blockTape
+	flat     *flatTape // block evaluation of models with short loops
 	maxSlots int // the most slots of any loop
 }

@@ -353,7 +353,15 @@ func TestRandomCountModels(t *testing.T) {
 			sameDerivs(t, src, ev, plain, x, 1e-10)
 			compared++
 		}
-		blockMatches(t, src, ev, [][]float64{x})
+		pts := [][]float64{x}
+		for p := 0; p < 40; p++ {
+			y := make([]float64, m)
+			for j := range y {
+				y[j] = 2 * r.NormFloat64()
+			}
+			pts = append(pts, y)
+		}
+		blockMatches(t, src, ev, pts)
 	}
 	if compared < 40 {
 		t.Errorf("only %d of 60 random count models compared", compared)

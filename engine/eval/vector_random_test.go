@@ -33,15 +33,22 @@ func randVecTree(r *rand.Rand, depth, dim int) *rtree {
 
 func TestRandomVectorModels(t *testing.T) {
 	// Sums (and sums of squares, log-sum-exp, maxima) of random elementwise
-	// expressions over 300-element data vectors: the value against the sum
-	// of the tree evaluated element by element, the derivatives against
-	// hyperdual numbers, and the fused kernels against unfused ones
-	// (the same numbers exactly).
-	const n = 300
+	// expressions over 300-element data vectors (longer than a chunk) and
+	// 12-element ones (evaluated in blocks by the flat tape): the value
+	// against the sum of the tree evaluated element by element, the
+	// derivatives against hyperdual numbers, the fused kernels against
+	// unfused ones (the same numbers exactly), and block evaluation against
+	// point evaluation (exactly).
+	for _, n := range []int{300, 12} {
+		randomVectorModels(t, n)
+	}
+}
+
+func randomVectorModels(t *testing.T, n int) {
 	dt := make([]float64, n)
 	dy := make([]float64, n)
 	for i := range dt {
-		dt[i] = float64(i)/n - 0.4
+		dt[i] = float64(i)/float64(n) - 0.4
 		dy[i] = math.Cos(float64(5*i)) * 1.5
 	}
 	data := [][]float64{dt, dy}
@@ -71,6 +78,20 @@ func TestRandomVectorModels(t *testing.T) {
 		for k := range x {
 			x[k] = 0.2 + 0.3*float64(k) + 0.1*r.Float64()
 		}
+		// Block evaluation (the flat tape, for these short loops) equals
+		// point evaluation, at this point and others.
+		if ev.prog.flat == nil && n <= chunkLen && len(ev.prog.loops) > 0 {
+			t.Errorf("%s: no flat block tape", body)
+		}
+		bp := [][]float64{x}
+		for p := 0; p < 300; p++ {
+			y := make([]float64, dim)
+			for k := range y {
+				y[k] = 2*r.Float64() - 0.5
+			}
+			bp = append(bp, y)
+		}
+		blockMatches(t, body, ev, bp)
 		got, want := ev.LogDensity(x), plain.LogDensity(x)
 		if !(got == want || math.IsNaN(got) && math.IsNaN(want)) {
 			t.Errorf("%s: fused kernels give %v, unfused %v", body, got, want)
