@@ -119,5 +119,5 @@ type program struct {
 	root     int32 // register of the log-density
 	block    *blockTape
 	flat     *flatTape // block evaluation of models with short loops
-	maxSlots int // the most slots of any loop
+	maxSlots int       // the most slots of any loop
 }
