@@ -13,6 +13,7 @@ import (
 	"encoding/xml"
 	"fmt"
 	"image/png"
+	"math"
 	"os"
 	"path/filepath"
 	"sort"
@@ -80,10 +81,27 @@ func testEmbed(t *testing.T, b *browser, srv *siteServer) {
 		}
 		t.Fatalf("the embed view posted no message within %s: %v", wait, err)
 	}
-	time.Sleep(500 * time.Millisecond) // later messages (a resize after the results)
+	// Wait for the frame's first result (the probe runs in every frame),
+	// then for the resize it causes to be posted.
+	frameHeight := -1.0
+	ctx, cancel = tb.within(90 * time.Second)
+	nodes, err := chromedp.Run(ctx, chromedp.Nodes(chromedp.CSS("#calc")))
+	if err == nil && len(nodes) == 1 {
+		_, err = chromedp.Run(ctx, chromedp.Poll[chromedp.Void](`window.__bc && window.__bc.drawnAt.length > 0`,
+			chromedp.WithPollingInFrame(nodes[0]), chromedp.WithPollingInterval(50*time.Millisecond), chromedp.WithPollingTimeout(60*time.Second)))
+		if err == nil {
+			time.Sleep(500 * time.Millisecond)
+			// The frame's own document height, read inside the frame (the
+			// host cannot: the frame is of another origin).
+			frameHeight, err = chromedp.Run(ctx, chromedp.Poll[float64](`document.body ? document.body.scrollHeight : 0`,
+				chromedp.WithPollingInFrame(nodes[0]), chromedp.WithPollingTimeout(5*time.Second)))
+		}
+	}
+	cancel()
+	if err != nil {
+		t.Fatalf("the embedded calculator showed no result: %v", err)
+	}
 	msgs := eval[[]postedMessage](t, tb, 5*time.Second, `window.__msgs`)
-	frameHeight := eval[float64](t, tb, 5*time.Second,
-		`(() => { try { return document.getElementById("calc").contentDocument.documentElement.scrollHeight; } catch (e) { return -1; } })()`)
 	var last float64
 	for _, m := range msgs {
 		if m.Origin != srv.URL {
@@ -99,16 +117,18 @@ func testEmbed(t *testing.T, b *browser, srv *siteServer) {
 	if last <= 100 {
 		t.Errorf("last posted height %v px, want the content's height", last)
 	}
-	// The frame is cross-origin to the host, so its height is read as -1
-	// there; when it can be read it must match.
-	if frameHeight > 0 && (last < 0.8*frameHeight || last > 1.2*frameHeight) {
-		t.Errorf("posted height %v px, the frame's document is %v px", last, frameHeight)
+	// The last height posted must be what the frame needs to show its
+	// content whole (within rounding and margins), or the host would cut
+	// the calculator off.
+	if math.Abs(last-frameHeight) > 0.02*frameHeight+8 {
+		t.Errorf("last posted height %v px, but the frame's content is %v px tall (messages %v)", last, frameHeight, msgs)
 	}
-	t.Logf("%d messages; last height %v px", len(msgs), last)
+	t.Logf("%d messages; last height %v px; the frame's body %v px", len(msgs), last, frameHeight)
 }
 
 // heightOf reads a posted height: a number, or an object whose only number
-// is a height (with at most a type tag beside it).
+// is the height, beside string tags (the page sends
+// {bellcheck: "height", value: N}).
 func heightOf(v any) (float64, bool) {
 	switch x := v.(type) {
 	case float64:
@@ -116,15 +136,15 @@ func heightOf(v any) (float64, bool) {
 	case map[string]any:
 		var h float64
 		found := false
-		for k, val := range x {
+		for _, val := range x {
 			switch n := val.(type) {
 			case float64:
-				if found || !strings.Contains(strings.ToLower(k), "height") {
+				if found {
 					return 0, false
 				}
 				h, found = n, true
 			case string:
-				// a tag naming the message is fine
+				// a tag naming the message
 			default:
 				return 0, false
 			}
@@ -134,20 +154,20 @@ func heightOf(v any) (float64, bool) {
 	return 0, false
 }
 
-// exportSelector finds the page's export controls: each carries
-// data-export naming its format (json, csv, svg, png). Controls that copy
-// to the clipboard (Markdown, LaTeX) are not downloads and are not clicked.
-const exportSelector = `[data-export]`
+// exportButtons are the page's export controls (app/ui's IDs) and the
+// format each saves.
+var exportButtons = []struct{ id, format string }{
+	{"bc-export-json", "json"}, {"bc-export-csv", "csv"}, {"bc-export-svg", "svg"}, {"bc-export-png", "png"},
+}
 
 // testExport: each export control downloads a file that is valid in its
-// format.
+// format; the JSON is the command line's for the same model.
 func testExport(t *testing.T, b *browser, srv *siteServer) {
 	tb := b.newTab(t, true)
 	tb.open(t, srv.URL+"/")
-	formats := eval[[]string](t, tb, 5*time.Second,
-		`[...document.querySelectorAll(`+jsString(exportSelector)+`)].map((e) => e.getAttribute("data-export"))`)
-	if len(formats) == 0 {
-		t.Skipf("the page has no export controls yet (looked for %s): nothing to test", exportSelector)
+	present := eval[int](t, tb, 5*time.Second, `document.getElementById("bc-export-json") ? 1 : 0`)
+	if present == 0 {
+		t.Skip("the page has no export controls yet (looked for #bc-export-json): nothing to test")
 	}
 	dl := t.TempDir()
 	ctx, cancel := tb.within(10 * time.Second)
@@ -158,23 +178,91 @@ func testExport(t *testing.T, b *browser, srv *siteServer) {
 	if err != nil {
 		t.Fatalf("allowing downloads: %v", err)
 	}
-	for i, f := range formats {
-		switch f {
-		case "json", "csv", "svg", "png":
-		default:
+	ex, _ := examples.ByID(examples.Default)
+	cli := cliResult(t, ex.Source)
+	for _, e := range exportButtons {
+		n := len(listFiles(dl))
+		ok := eval[bool](t, tb, 5*time.Second, `(() => { const b = document.getElementById(`+jsString(e.id)+`);
+		  if (!b || b.disabled) return false; b.click(); return true; })()`)
+		if !ok {
+			t.Errorf("export %s: no enabled control #%s", e.format, e.id)
 			continue
 		}
-		n := len(listFiles(dl))
-		eval[bool](t, tb, 5*time.Second, fmt.Sprintf(`(document.querySelectorAll(%s)[%d].click(), true)`, jsString(exportSelector), i))
-		file := waitNewFile(t, dl, n, 15*time.Second)
+		file := waitNewFile(t, dl, n, 20*time.Second)
+		if file == "" {
+			t.Errorf("export %s: no file downloaded in 20 s", e.format)
+			continue
+		}
 		data, err := os.ReadFile(file)
 		if err != nil {
 			t.Fatal(err)
 		}
-		if err := validExport(f, data); err != nil {
-			t.Errorf("export %d (%s): %v", i, f, err)
+		if err := validExport(e.format, data, cli); err != nil {
+			t.Errorf("export %s: %v", e.format, err)
+		} else {
+			t.Logf("export %s: %d bytes, valid", e.format, len(data))
 		}
 	}
+
+	// The table copied as Markdown and as LaTeX: the clipboard's writeText
+	// is replaced by a recorder (a headless browser has no clipboard to
+	// read back).
+	eval[bool](t, tb, 5*time.Second, `(() => { window.__copied = [];
+	  navigator.clipboard.writeText = (t) => { window.__copied.push(t); return Promise.resolve(); }; return true; })()`)
+	for _, c := range []struct{ id, format string }{{"bc-copy-md", "markdown"}, {"bc-copy-latex", "latex"}} {
+		n := eval[int](t, tb, 5*time.Second, `window.__copied.length`)
+		if !eval[bool](t, tb, 5*time.Second, `(() => { const b = document.getElementById(`+jsString(c.id)+`);
+		  if (!b || b.disabled) return false; b.click(); return true; })()`) {
+			t.Errorf("copy %s: no enabled control #%s", c.format, c.id)
+			continue
+		}
+		ctx, cancel := tb.within(10 * time.Second)
+		text, err := chromedp.Run(ctx, chromedp.Poll[string](fmt.Sprintf(`window.__copied.length > %d && window.__copied[%d]`, n, n),
+			chromedp.WithPollingInterval(20*time.Millisecond), chromedp.WithPollingTimeout(5*time.Second)))
+		cancel()
+		if err != nil {
+			t.Errorf("copy %s: nothing written to the clipboard: %v", c.format, err)
+			continue
+		}
+		if err := validTable(c.format, text); err != nil {
+			t.Errorf("copy %s: %v\n%s", c.format, err, trimLines(text, 8))
+		}
+	}
+}
+
+// validTable checks a copied table: Markdown rows of one width with the
+// separator row second; a LaTeX tabular environment whose rows end in \\.
+func validTable(format, text string) error {
+	lines := strings.Split(strings.TrimSpace(text), "\n")
+	switch format {
+	case "markdown":
+		var rows []string
+		for _, l := range lines {
+			if strings.HasPrefix(strings.TrimSpace(l), "|") {
+				rows = append(rows, strings.TrimSpace(l))
+			}
+		}
+		if len(rows) < 3 {
+			return fmt.Errorf("%d table rows", len(rows))
+		}
+		if strings.Trim(rows[1], "|-: ") != "" {
+			return fmt.Errorf("second row %q is not a separator", rows[1])
+		}
+		w := strings.Count(rows[0], "|")
+		for _, r := range rows {
+			if strings.Count(strings.ReplaceAll(r, `\|`, ""), "|") != w {
+				return fmt.Errorf("row %q has another width than the header", r)
+			}
+		}
+	case "latex":
+		if !strings.Contains(text, `\begin{tabular}`) || !strings.Contains(text, `\end{tabular}`) {
+			return fmt.Errorf("no tabular environment")
+		}
+		if strings.Count(text, `\\`) < 3 {
+			return fmt.Errorf("fewer than three rows ending in \\\\")
+		}
+	}
+	return nil
 }
 
 func listFiles(dir string) []string {
@@ -203,30 +291,40 @@ func waitNewFile(t *testing.T, dir string, had int, d time.Duration) string {
 		}
 		time.Sleep(50 * time.Millisecond)
 	}
-	t.Fatalf("no download in %s", d)
 	return ""
 }
 
 // validExport checks a downloaded file: JSON with the command line's
 // fields, CSV with rows of one width, SVG that is well-formed XML with an
 // svg root, PNG that decodes.
-func validExport(format string, data []byte) error {
+func validExport(format string, data []byte, cli cliJSON) error {
 	switch format {
 	case "json":
 		var r cliJSON
 		if err := json.Unmarshal(data, &r); err != nil {
 			return err
 		}
-		if len(r.Params) == 0 || r.Exact.LogZ == nil {
-			return fmt.Errorf("JSON without params or exact.log_z")
+		if fmt.Sprint(r.Params) != fmt.Sprint(cli.Params) || r.Exact.LogZ == nil || cli.Exact.LogZ == nil {
+			return fmt.Errorf("JSON with params %v and log_z %v; the command line's has %v", r.Params, r.Exact.LogZ, cli.Params)
+		}
+		// The same analysis natively and in WebAssembly: equal but for
+		// rounding.
+		if d := math.Abs(*r.Exact.LogZ - *cli.Exact.LogZ); d > 1e-9*math.Max(1, math.Abs(*cli.Exact.LogZ)) {
+			return fmt.Errorf("exact.log_z %v, the command line gives %v", *r.Exact.LogZ, *cli.Exact.LogZ)
+		}
+		for _, k := range []string{"laplace", "reverse_kl", "mean_field", "forward_kl"} {
+			if (r.Fits[k] == nil) != (cli.Fits[k] == nil) {
+				return fmt.Errorf("fit %s: present %v, in the command line's %v", k, r.Fits[k] != nil, cli.Fits[k] != nil)
+			}
 		}
 	case "csv":
 		recs, err := csv.NewReader(bytes.NewReader(data)).ReadAll()
 		if err != nil {
 			return err
 		}
-		if len(recs) < 2 {
-			return fmt.Errorf("%d CSV records", len(recs))
+		// encoding/csv already rejects rows of differing width.
+		if len(recs) < 2 || len(recs[0]) < 2 {
+			return fmt.Errorf("%d CSV records, want a header and rows of two fields or more", len(recs))
 		}
 	case "svg":
 		dec := xml.NewDecoder(bytes.NewReader(data))

@@ -14,14 +14,16 @@ function bananaHand(x, y) {
   return -x * x / 200 - u * u / 2;
 }
 
-// gridColumns returns the n x n grid over [-20, 20] x [-10, 15] as two
-// columns (x varies slowest), as the Go benchmark builds it.
+// gridColumns returns the centres of an n x n grid of cells over
+// [-20, 20] x [-10, 15] as two columns (x varies slowest): the box of
+// engine/eval's banana benchmark, and the points the page's timeGrid hook
+// evaluates for a model with these supports.
 function gridColumns(n) {
   const xs = new Float64Array(n * n), ys = new Float64Array(n * n);
   for (let i = 0; i < n; i++) {
     for (let j = 0; j < n; j++) {
-      xs[i * n + j] = -20 + 40 * i / (n - 1);
-      ys[i * n + j] = -10 + 25 * j / (n - 1);
+      xs[i * n + j] = -20 + 40 * (i + 0.5) / n;
+      ys[i * n + j] = -10 + 25 * (j + 0.5) / n;
     }
   }
   return [xs, ys];

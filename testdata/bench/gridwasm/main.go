@@ -3,8 +3,9 @@
 // Command gridwasm is the benchmark harness's WebAssembly probe: it exposes
 // bellcheckBenchGrid(model, n, reps) on window, which compiles a model text
 // with the engine and times LogDensityBlock over an n x n grid of the box
-// [-20, 20] x [-10, 15] (the grid of engine/eval's banana benchmark). It
-// stands in for a page hook until the page offers one.
+// [-20, 20] x [-10, 15] (the box of engine/eval's banana benchmark, at the
+// cells' centres). It measures the engine in the browser's WebAssembly
+// apart from the page.
 package main
 
 import (
@@ -18,14 +19,15 @@ import (
 	"bellcheck/engine/model"
 )
 
-// gridColumns returns the n x n grid as columns (x varies slowest).
+// gridColumns returns the centres of the n x n cells as columns (x varies
+// slowest), as testdata/bench/density.js builds them.
 func gridColumns(n int) [][]float64 {
 	xs := make([]float64, n*n)
 	ys := make([]float64, n*n)
 	for i := 0; i < n; i++ {
 		for j := 0; j < n; j++ {
-			xs[i*n+j] = -20 + 40*float64(i)/float64(n-1)
-			ys[i*n+j] = -10 + 25*float64(j)/float64(n-1)
+			xs[i*n+j] = -20 + 40*(float64(i)+0.5)/float64(n)
+			ys[i*n+j] = -10 + 25*(float64(j)+0.5)/float64(n)
 		}
 	}
 	return [][]float64{xs, ys}
