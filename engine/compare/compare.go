@@ -116,15 +116,32 @@ func prepare(g *grid.Grid, q Gaussian) (*gaussianPrep, error) {
 	if !gp.chol.Factorize(q.Cov) {
 		return nil, fmt.Errorf("%w: covariance not positive definite", ErrBadGaussian)
 	}
+	// The precision through the correlation matrix, so that parameters on
+	// scales far apart (sds 1e-8 and 1e8: a covariance of condition 1e32)
+	// do not make the inverse look singular.
+	sd := make([]float64, d)
+	for i := range sd {
+		sd[i] = math.Sqrt(q.Cov.At(i, i))
+	}
+	corr := mat.NewSymDense(d, nil)
+	for i := 0; i < d; i++ {
+		for j := i; j < d; j++ {
+			corr.SetSym(i, j, q.Cov.At(i, j)/(sd[i]*sd[j]))
+		}
+	}
+	var cc mat.Cholesky
 	var inv mat.SymDense
-	if err := gp.chol.InverseTo(&inv); err != nil {
+	if !cc.Factorize(corr) {
+		return nil, fmt.Errorf("%w: covariance not positive definite", ErrBadGaussian)
+	}
+	if err := cc.InverseTo(&inv); err != nil {
 		return nil, fmt.Errorf("%w: %v", ErrBadGaussian, err)
 	}
 	gp.prec = make([][]float64, d)
 	for i := range gp.prec {
 		gp.prec[i] = make([]float64, d)
 		for j := range gp.prec[i] {
-			gp.prec[i][j] = inv.At(i, j)
+			gp.prec[i][j] = inv.At(i, j) / (sd[i] * sd[j])
 		}
 	}
 	gp.logDet = gp.chol.LogDet()
