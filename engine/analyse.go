@@ -910,8 +910,20 @@ func (a *analysis) fitAll(res *Result) error {
 			"The density is zero where the reverse-KL cubature reaches, so KL(q||p) is infinite for every Gaussian and the reverse-KL fits do not exist; if a parameter is bounded, declare its support and fit it on the log or logit scale.")
 	}
 
-	// Compare.
+	// Compare, leaving out a fit whose covariance is degenerate beyond its
+	// scales (a correlation matrix that cannot be inverted): the
+	// comparison cannot use it, and the other fits still stand.
 	a.tr.enter(stageCompare)
+	kept := fits[:0]
+	for _, f := range fits {
+		if err := degenerate(f.g.Cov); err != nil {
+			*f.out = nil
+			a.diag.add(CodeFitFailed, SeverityError, "No %s fit: its covariance is degenerate (%v).", fitLabel(f.name), err)
+			continue
+		}
+		kept = append(kept, f)
+	}
+	fits = kept
 	if len(fits) == 0 {
 		return nil
 	}
@@ -988,6 +1000,25 @@ func (a *analysis) checkELBO(fits ...*fit.VariationalFit) {
 			vf.ELBO-lz, a.pointString(vf.Mean))
 		return
 	}
+}
+
+// degenerate reports a covariance whose correlation matrix is not
+// positive definite or too ill-conditioned to invert (the test of the
+// comparison's precision).
+func degenerate(cov *mat.SymDense) error {
+	d := cov.SymmetricDim()
+	corr := mat.NewSymDense(d, nil)
+	for i := 0; i < d; i++ {
+		for j := i; j < d; j++ {
+			corr.SetSym(i, j, cov.At(i, j)/math.Sqrt(cov.At(i, i)*cov.At(j, j)))
+		}
+	}
+	var ch mat.Cholesky
+	if !ch.Factorize(corr) {
+		return errors.New("correlation matrix not positive definite")
+	}
+	var inv mat.SymDense
+	return ch.InverseTo(&inv)
 }
 
 func fitLabel(name string) string {

@@ -7,6 +7,7 @@ import (
 	"regexp"
 	"strconv"
 	"strings"
+	"testing"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -349,4 +350,18 @@ func present(v any) bool {
 		}
 	}
 	return true
+}
+
+// A covariance on scales far apart is not degenerate; one with a
+// correlation of exactly 1 is.
+func TestDegenerate(t *testing.T) {
+	if err := degenerate(mat.NewSymDense(2, []float64{1e-16, 0, 0, 1e16})); err != nil {
+		t.Errorf("sds 1e-8 and 1e8: %v", err)
+	}
+	if err := degenerate(mat.NewSymDense(2, []float64{1e-16, 1e-16 * (1 - 1e-9), 1e-16 * (1 - 1e-9), 1e-16})); err != nil {
+		t.Errorf("correlation 1 - 1e-9: %v", err)
+	}
+	if err := degenerate(mat.NewSymDense(2, []float64{4, 2e8, 2e8, 1e16})); err == nil {
+		t.Error("correlation 1 passed")
+	}
 }
