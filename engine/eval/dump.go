@@ -40,6 +40,24 @@ func (ev *Evaluator) Tape() string {
 		fmt.Fprintf(&b, "; %g)\n", in.k)
 	}
 	fmt.Fprintf(&b, "result r%d\n", p.root)
+	if ft := p.flat; ft != nil {
+		fmt.Fprintf(&b, "flat block tape, %d points a pass, %d slots, constants %v:\n", ft.q, len(ft.slotLen), ft.consts)
+		for _, st := range ft.stages {
+			if st.n == 0 {
+				fmt.Fprintf(&b, "  over points:\n")
+			} else {
+				fmt.Fprintf(&b, "  over points x %d elements:\n", st.n)
+			}
+			for k, ps := range st.pscalars {
+				fmt.Fprintf(&b, "    c%d = s%d of each point\n", st.base+k, ps)
+			}
+			writeKernel(&b, "    ", st.kern, "c")
+			for _, red := range st.reds {
+				fmt.Fprintf(&b, "    s%d = %s(s%d) per point\n", red.dst, ops[red.op].name, red.src)
+			}
+		}
+		fmt.Fprintf(&b, "  result s%d\n", ft.rootSlot)
+	}
 	if bt := p.block; bt != nil {
 		fmt.Fprintf(&b, "block tape, %d slots, constants %v:\n", bt.nslots, bt.consts)
 		writeKernel(&b, "  ", bt.kern, "c")
