@@ -220,10 +220,10 @@ func lowerFlat(nodes []node, reach []bool, root int32, dim int, avail []int, max
 				}
 			}
 			ks := &kernelSpace{
-				nodes:     nodes,
-				inKernel:  func(id int32) bool { return loopIn[id] },
-				isVec:     func(id int32) bool { return nodes[id].vector() },
-				pinned:    func(id int32) (int32, bool) { s, ok := pins[id]; return s, ok },
+				nodes:    nodes,
+				inKernel: func(id int32) bool { return loopIn[id] },
+				isVec:    func(id int32) bool { return nodes[id].vector() },
+				pinned:   func(id int32) (int32, bool) { s, ok := pins[id]; return s, ok },
 				scalar: func(id int32) int32 {
 					if k, ok := pointScalar[id]; ok {
 						return k
