@@ -414,7 +414,7 @@ func gridThroughput(t *testing.T, b *browser, srv *siteServer, rep *report) {
 	const n, reps = 512, 7
 	res := eval[map[string]gridResult](t, tb, 5*time.Minute, fmt.Sprintf(`window.runGrid(%d, %d)`, n, reps))
 	tb.close()
-	hand, mj, comp := res["hand"], res["mathjs"], res["compiled"]
+	hand, mj, comp, boxed := res["hand"], res["mathjs"], res["compiled"], res["compiledBoxed"]
 	if comp.Error != "" {
 		rep.note("grid throughput: compiled model: %s", comp.Error)
 		return
@@ -433,6 +433,10 @@ func gridThroughput(t *testing.T, b *browser, srv *siteServer, rep *report) {
 	page, pageNote := pageTimeGrid(t, b, srv, n)
 	rep.add(measure{Group: g, Name: "compiled model in the harness's wasm probe", Value: comp.NsPerPoint, Unit: "ns/point",
 		Detail: "engine LogDensityBlock, built apart from the page (testdata/bench/gridwasm)"})
+	if boxed.Error == "" {
+		rep.add(measure{Group: g, Name: "the same with the box as supports, in the probe", Value: boxed.NsPerPoint, Unit: "ns/point",
+			Detail: "param x in [-20, 20], param y in [-10, 15]: the form timeGrid takes"})
+	}
 	if page > 0 {
 		rep.add(measure{Group: g, Name: "compiled model in the page (bellcheck.timeGrid)", Value: page, Unit: "ns/point", Detail: pageNote})
 	} else {

@@ -8,6 +8,9 @@
 // expression library.
 const bananaModel = "param x\nparam y\n-x^2/200 - (y + 0.05*x^2 - 5)^2/2\n";
 const bananaExpr = "-x^2/200 - (y + 0.05*x^2 - 5)^2/2";
+// The same density with the grid's box as the parameters' supports (the
+// form the page's timeGrid hook takes; it evaluates the box's cells).
+const bananaBoxed = "param x in [-20, 20]\nparam y in [-10, 15]\n-x^2/200 - (y + 0.05*x^2 - 5)^2/2\n";
 
 function bananaHand(x, y) {
   const u = y + 0.05 * x * x - 5;
