@@ -40,6 +40,13 @@ func newHandler(webDir, prefix string) *app.Handler {
 	} else {
 		h.Resources = app.LocalDir(filepath.Dir(filepath.Clean(webDir)))
 	}
+	// The content security policy (see contentSecurityPolicy).
+	h.RawHeaders = []string{cspMeta}
+	// Offline under any path: the worker also caches index.html (which
+	// every static server serves under the prefix) and answers a page
+	// navigation it cannot fetch with it.
+	h.CacheableResources = []string{"/index.html"}
+	h.ServiceWorkerTemplate = serviceWorker(h.Resources.Resolve("/index.html"), h.Resources.Resolve("/"))
 	return h
 }
 

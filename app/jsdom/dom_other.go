@@ -41,3 +41,41 @@ func SaveItem(key, value string) error { return ErrNoBrowser }
 
 // OnHashChange watches the URL fragment; natively it returns ErrNoBrowser.
 func OnHashChange(f func()) error { return ErrNoBrowser }
+
+// PageURL returns the page's address; natively it returns ErrNoBrowser.
+func PageURL() (string, error) { return "", ErrNoBrowser }
+
+// CopyText writes to the clipboard; natively done receives ErrNoBrowser.
+func CopyText(text string, done func(error)) { done(ErrNoBrowser) }
+
+// SelectText selects a field's text; natively it returns ErrNoBrowser.
+func SelectText(id string) (copied bool, err error) { return false, ErrNoBrowser }
+
+// Download saves a file; natively it returns ErrNoBrowser.
+func Download(filename, mime string, data []byte) error { return ErrNoBrowser }
+
+// CanvasDataURL reads a canvas; natively it returns ErrNoBrowser.
+func CanvasDataURL(canvasID string) (string, error) { return "", ErrNoBrowser }
+
+// DownloadPNG saves an SVG as PNG; natively done receives ErrNoBrowser.
+func DownloadPNG(filename, svg string, width, height int, done func(error)) { done(ErrNoBrowser) }
+
+// Framed reports whether the page runs in a frame: false natively.
+func Framed() bool { return false }
+
+// ReportHeight sends the page's height to its parent; natively it does
+// nothing.
+func ReportHeight(id string) error { return nil }
+
+// AsyncFunc is a Go function behind a Promise-returning JavaScript
+// function; see the browser build's documentation.
+type AsyncFunc func(args []string) (string, error)
+
+// ExposeAPI sets a JavaScript API on window; natively it returns
+// ErrNoBrowser.
+func ExposeAPI(name string, props map[string]string, funcs map[string]AsyncFunc) error {
+	return ErrNoBrowser
+}
+
+// DispatchEvent fires an event on window; natively it returns ErrNoBrowser.
+func DispatchEvent(eventType string) error { return ErrNoBrowser }

@@ -26,6 +26,9 @@ type Editor struct {
 	Errors        []SourceError
 	// Pending reports that a check is due (the text changed since).
 	Pending bool
+	// ReadOnly shows the text without letting it be changed (the embed
+	// view's read-only mode).
+	ReadOnly bool
 }
 
 // Render draws the editor.
@@ -66,6 +69,8 @@ func (e *Editor) Render() app.UI {
 		Aria("invalid", strconv.FormatBool(showMarks)).
 		Rows(lines+1).
 		Style("width", "max(100%, calc("+strconv.Itoa(width+3)+"ch + 1.2rem))").
+		ReadOnly(e.ReadOnly).
+		Aria("readonly", strconv.FormatBool(e.ReadOnly)).
 		Text(e.Initial).
 		OnInput(e.onInput))
 	return app.Div().Class("editor").Body(
@@ -125,6 +130,9 @@ func (e *Editor) status(showMarks bool) app.UI {
 }
 
 func (e *Editor) onInput(ctx app.Context, ev app.Event) {
+	if e.ReadOnly {
+		return
+	}
 	v, err := jsdom.Value(EditorID)
 	if err != nil || e.Host == nil {
 		return

@@ -66,6 +66,13 @@ type Page struct {
 	// reports through it, since the element that started the work (a
 	// button, an input) may be gone when the work ends.
 	ctx *app.Context
+
+	// mode is the view the link chose (the embed view, read-only, the
+	// editor folded); folded is the embed view's editor folded now.
+	mode   Mode
+	folded bool
+	// tools is the state of the share and export tools.
+	tools toolState
 }
 
 // NewPage returns the page with the default example loaded.
@@ -105,10 +112,18 @@ func (p *Page) OnMount(ctx app.Context) {
 		ctx.Dispatch(func(ctx app.Context) { p.OpenLink(ctx) })
 	})
 	p.open(ctx)
+	p.afterRender(ctx)
 }
 
-// open loads what Opening chooses and analyses it.
+// open loads what Opening chooses and analyses it. An embed link, and any
+// page inside a frame, opens the link alone: the browser's saved work
+// belongs to the calculator opened on its own, and embeds on a wiki page
+// must neither read nor overwrite it.
 func (p *Page) open(ctx app.Context) {
+	if p.mode.Embed || jsdom.Framed() || embedLink(p.browser.Fragment()) {
+		p.openEmbedded(ctx)
+		return
+	}
 	st, ok, n := Opening(p.browser)
 	p.notice = n
 	if !ok {
@@ -135,6 +150,16 @@ func (p *Page) OpenLink(ctx app.Context) {
 	if err != nil {
 		p.notice = Notice{Text: "The link could not be opened: " + linkProblem(err) + " Your model is unchanged.", Warn: true}
 		p.persist() // put the current state back into the URL
+		return
+	}
+	if p.mode.Embed {
+		cur := p.shareState()
+		if cur.Model == link.Model && cur.View == link.View {
+			return
+		}
+		p.setMode(link.View)
+		src, params, v := fromShare(link)
+		p.LoadState(ctx, src, params, v)
 		return
 	}
 	cur := p.shareState()
@@ -178,13 +203,16 @@ func (p *Page) ForgetEarlier(ctx app.Context) {
 	p.notice = Notice{}
 }
 
-// shareState is the current state in the link format.
+// shareState is the current state in the link format, with the view the
+// page was opened in (the embed view's choices).
 func (p *Page) shareState() share.State {
 	m := p.s.Model
 	if m == nil {
 		m = p.s.LastGood
 	}
-	return toShare(p.text, m, p.s.Param, p.view)
+	st := toShare(p.text, m, p.s.Param, p.view)
+	st.View.Embed, st.View.ReadOnly, st.View.EditorCollapsed = p.mode.Embed, p.mode.ReadOnly, p.mode.Folded
+	return st
 }
 
 // persist saves the current state in local storage and in the URL, so a
@@ -197,7 +225,9 @@ func (p *Page) persist() {
 	if err != nil {
 		return // too long for a link: the text stays in the editor only
 	}
-	p.browser.Save(WorkKey, frag)
+	if !p.mode.Embed {
+		p.browser.Save(WorkKey, frag)
+	}
 	p.browser.SetFragment(frag)
 }
 
@@ -375,6 +405,7 @@ func (p *Page) start(ctx app.Context) {
 			p.figTime = figTime
 			drawStart := time.Now()
 			ctx.Defer(func(app.Context) { p.drawTime = time.Since(drawStart) })
+			p.afterRender(ctx)
 			p.progress = false
 			if err == nil && res != nil {
 				if p.view != view {
@@ -386,11 +417,15 @@ func (p *Page) start(ctx app.Context) {
 	})
 }
 
-// Render draws the page.
+// Render draws the page: the full calculator, or the compact embed view.
 func (p *Page) Render() app.UI {
+	if p.mode.Embed {
+		return p.renderEmbed()
+	}
 	stale := p.s.Stale()
-	return app.Div().Class("page").Body(
+	return app.Div().ID(RootID).Class("page").Body(
 		p.header(),
+		p.toolTray(),
 		p.noticeBar(),
 		app.Main().Class("layout").Body(
 			app.Section().Class("col-input").Aria("label", "Model and settings").Body(
@@ -399,7 +434,7 @@ func (p *Page) Render() app.UI {
 				card("Parameters", "bc-h-params", &ParamPanel{Host: p, Params: ParamViews(&p.s), Stale: p.s.Model == nil}),
 				card("Examples", "bc-h-examples", &Gallery{Host: p, Current: p.example}),
 			),
-			app.Section().Class("col-output").Aria("label", "Results").Body(
+			p.output("col-output").Body(
 				card("Diagnostics", "bc-h-diag", p.diagnostics(stale)),
 				card("Plots", "bc-h-plots", &PlotPanel{Host: p, Set: p.figs, View: p.view, Stale: stale}),
 				card("Results", "bc-h-results", &ResultsTable{Sections: p.sections, Stale: stale}),
@@ -440,14 +475,21 @@ func card(title, id string, body ...app.UI) app.UI {
 	)
 }
 
+// logoSVG is the page's mark: a bell curve and its dashed Gaussian double.
+// It is a constant: no text from outside reaches app.Raw.
+const logoSVG = `<svg class="logo" viewBox="0 0 32 32" width="26" height="26" aria-hidden="true" focusable="false"><path d="M2 27 C8 27 10 6 16 6 C22 6 24 27 30 27" fill="none" stroke="#1d3b53" stroke-width="2.4"/><path d="M4 27 C9 27 11 11 16 11 C21 11 23 27 28 27" fill="none" stroke="#c36121" stroke-width="1.6" stroke-dasharray="3 2"/></svg>`
+
 func (p *Page) header() app.UI {
 	return app.Header().Class("top").Body(
 		app.Div().Class("brand").Body(
-			app.Raw(`<svg class="logo" viewBox="0 0 32 32" width="26" height="26" aria-hidden="true" focusable="false"><path d="M2 27 C8 27 10 6 16 6 C22 6 24 27 30 27" fill="none" stroke="#1d3b53" stroke-width="2.4"/><path d="M4 27 C9 27 11 11 16 11 C21 11 23 27 28 27" fill="none" stroke="#c36121" stroke-width="1.6" stroke-dasharray="3 2"/></svg>`),
+			app.Raw(logoSVG),
 			app.Span().Class("wordmark").Text("bellcheck"),
 			app.Span().Class("tagline").Text("the exact posterior beside its Gaussian approximations"),
 		),
-		p.runStatus(),
+		app.Div().Class("top-right").Body(
+			p.runStatus(),
+			p.toolbar(),
+		),
 	)
 }
 

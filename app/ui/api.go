@@ -1,0 +1,248 @@
+package ui
+
+import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"math"
+	"strconv"
+	"sync"
+	"time"
+
+	"bellcheck/app/jsdom"
+	"bellcheck/app/share"
+	"bellcheck/engine"
+	"bellcheck/engine/eval"
+	"bellcheck/engine/model"
+)
+
+// The JavaScript API on window, for pages that script the calculator:
+//
+//	window.bellcheck.analyse(modelText, options?)  Promise of the result
+//	window.bellcheck.timeGrid(modelText, n)        Promise of {ms, points}
+//	window.bellcheck.version                       the link format version
+//
+// The API is set when the program starts, and APIReadyEvent fires on window
+// then.
+const (
+	// APIName is the property of window that holds the API.
+	APIName = "bellcheck"
+	// APIReadyEvent is the event fired on window once the API is set.
+	APIReadyEvent = "bellcheck-ready"
+)
+
+// Limits of the API.
+const (
+	// MaxTimeGrid is the largest n of timeGrid (n x n points).
+	MaxTimeGrid = 4096
+	// timeGridBlock is the number of points evaluated per call of
+	// LogDensityBlock, as the engine's grid does.
+	timeGridBlock = 1024
+)
+
+// Errors of the API (the Promise rejects with their text).
+var (
+	ErrAPIArgs = errors.New("bellcheck: bad arguments")
+	ErrAPIDim  = errors.New("bellcheck: timeGrid needs a model of two parameters")
+)
+
+// apiMu runs the API's calls one after another, so that a script firing
+// many calls does not hold many analyses in memory at once.
+var apiMu sync.Mutex
+
+// InstallAPI sets window.bellcheck and fires APIReadyEvent. Natively it
+// returns jsdom.ErrNoBrowser.
+func InstallAPI() error {
+	err := jsdom.ExposeAPI(APIName,
+		map[string]string{"version": strconv.Itoa(share.Version)},
+		map[string]jsdom.AsyncFunc{"analyse": APIAnalyse, "timeGrid": APITimeGrid})
+	if err != nil {
+		return err
+	}
+	return jsdom.DispatchEvent(APIReadyEvent)
+}
+
+// APIAnalyse is window.bellcheck.analyse: args are the JSON texts of the
+// model text (a string) and optionally of the options, an object in the
+// shape of engine.Options' JSON ({"params": [{"scale": "log", "points":
+// 201, "lo": 0, "hi": 5}, ...], "plots": false}). It returns the result as
+// the command line's JSON (engine.Result's MarshalJSON, without plots unless
+// asked for). A model error gives an error whose text starts with the
+// line:column of the first problem.
+func APIAnalyse(args []string) (string, error) {
+	if len(args) < 1 || len(args) > 2 {
+		return "", fmt.Errorf("%w: analyse(modelText, options?) takes one or two arguments", ErrAPIArgs)
+	}
+	src, err := apiString(args[0], "modelText")
+	if err != nil {
+		return "", err
+	}
+	var opts engine.Options
+	if len(args) == 2 && args[1] != "" && args[1] != "null" {
+		if opts, err = apiOptions(args[1]); err != nil {
+			return "", err
+		}
+	}
+	m, err := model.Parse(src)
+	if err != nil {
+		return "", apiModelError(err)
+	}
+	apiMu.Lock()
+	defer apiMu.Unlock()
+	y := newYielder(SliceLength)
+	res, err := engine.Analyse(context.Background(), m, opts, func(engine.Progress) { y.Yield() })
+	if err != nil {
+		return "", err
+	}
+	out, err := json.Marshal(res)
+	if err != nil {
+		return "", err
+	}
+	return string(out), nil
+}
+
+// apiString decodes a JSON string argument.
+func apiString(arg, name string) (string, error) {
+	var s string
+	if arg == "" || json.Unmarshal([]byte(arg), &s) != nil {
+		return "", fmt.Errorf("%w: %s must be a string", ErrAPIArgs, name)
+	}
+	return s, nil
+}
+
+// apiOptions decodes and checks the options of analyse.
+func apiOptions(arg string) (engine.Options, error) {
+	var o engine.Options
+	dec := json.NewDecoder(bytes.NewReader([]byte(arg)))
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(&o); err != nil {
+		return o, fmt.Errorf("%w: options: %v", ErrAPIArgs, err)
+	}
+	if len(o.Params) > model.MaxParams {
+		return o, fmt.Errorf("%w: options: %d parameter settings, at most %d", ErrAPIArgs, len(o.Params), model.MaxParams)
+	}
+	for i, p := range o.Params {
+		switch p.Scale {
+		case "", engine.Identity, engine.Log, engine.Logit:
+		default:
+			return o, fmt.Errorf("%w: options: parameter %d: unknown scale %q (identity, log or logit)", ErrAPIArgs, i+1, p.Scale)
+		}
+		if p.Points < 0 || p.Points > share.MaxPoints {
+			return o, fmt.Errorf("%w: options: parameter %d: %d grid points, want 0 (the default) to %d", ErrAPIArgs, i+1, p.Points, share.MaxPoints)
+		}
+		if p.Lo != nil && p.Hi != nil && !(*p.Lo < *p.Hi) {
+			return o, fmt.Errorf("%w: options: parameter %d: lo %g is not below hi %g", ErrAPIArgs, i+1, *p.Lo, *p.Hi)
+		}
+	}
+	return o, nil
+}
+
+// apiModelError describes a model error: "line:col: message", the first
+// problem's hint, and how many more there are.
+func apiModelError(err error) error {
+	var list model.ErrorList
+	if errors.As(err, &list) && len(list) > 0 {
+		msg := list[0].Error()
+		if list[0].Hint != "" {
+			msg += " (hint: " + list[0].Hint + ")"
+		}
+		if len(list) > 1 {
+			msg += " and " + strconv.Itoa(len(list)-1) + " more problem"
+			if len(list) > 2 {
+				msg += "s"
+			}
+		}
+		return errors.New("model error at " + msg)
+	}
+	return err
+}
+
+// TimeGrid is the answer of timeGrid.
+type TimeGrid struct {
+	// MS is the time spent in LogDensityBlock, in milliseconds.
+	MS float64 `json:"ms"`
+	// Points is the number of points evaluated (n*n).
+	Points int `json:"points"`
+}
+
+// APITimeGrid is window.bellcheck.timeGrid, a diagnostic hook for
+// benchmarks: it compiles a model of two parameters and times the compiled
+// log-density's LogDensityBlock over an n by n grid of cell centres (blocks
+// of 1024 points, as the engine's grid evaluates; the time includes filling
+// the blocks' columns), in the box each
+// parameter's support gives ([lo, hi] when both are finite, 10 wide from a
+// single finite bound, [-5, 5] otherwise). args are the JSON texts of the
+// model text and of n (2 to MaxTimeGrid).
+func APITimeGrid(args []string) (string, error) {
+	if len(args) != 2 {
+		return "", fmt.Errorf("%w: timeGrid(modelText, n) takes two arguments", ErrAPIArgs)
+	}
+	src, err := apiString(args[0], "modelText")
+	if err != nil {
+		return "", err
+	}
+	var nf float64
+	if err := json.Unmarshal([]byte(args[1]), &nf); err != nil || nf != math.Trunc(nf) || nf < 2 || nf > MaxTimeGrid {
+		return "", fmt.Errorf("%w: n must be a whole number from 2 to %d", ErrAPIArgs, MaxTimeGrid)
+	}
+	m, err := model.Parse(src)
+	if err != nil {
+		return "", apiModelError(err)
+	}
+	apiMu.Lock()
+	defer apiMu.Unlock()
+	tg, err := timeGrid(m, int(nf))
+	if err != nil {
+		return "", err
+	}
+	out, err := json.Marshal(tg)
+	return string(out), err
+}
+
+// timeBox returns the range timeGrid covers for a parameter.
+func timeBox(p model.Param) (lo, hi float64) {
+	loOK, hiOK := !math.IsInf(p.Lo, 0) && !math.IsNaN(p.Lo), !math.IsInf(p.Hi, 0) && !math.IsNaN(p.Hi)
+	switch {
+	case loOK && hiOK:
+		return p.Lo, p.Hi
+	case loOK:
+		return p.Lo, p.Lo + 10
+	case hiOK:
+		return p.Hi - 10, p.Hi
+	}
+	return -5, 5
+}
+
+// timeGrid evaluates the compiled model over an n by n grid and times it.
+func timeGrid(m *model.Model, n int) (TimeGrid, error) {
+	if len(m.Params) != 2 {
+		return TimeGrid{}, fmt.Errorf("%w (this one has %d)", ErrAPIDim, len(m.Params))
+	}
+	ev, err := eval.Compile(m)
+	if err != nil {
+		return TimeGrid{}, err
+	}
+	x0, x1 := timeBox(m.Params[0])
+	y0, y1 := timeBox(m.Params[1])
+	hx, hy := (x1-x0)/float64(n), (y1-y0)/float64(n)
+	cols := [][]float64{make([]float64, timeGridBlock), make([]float64, timeGridBlock)}
+	out := make([]float64, timeGridBlock)
+	total := n * n
+	// One clock reading around the whole loop: the browser's clock is
+	// coarse (0.1 ms), and filling the columns costs a few nanoseconds a
+	// point beside the density's own cost.
+	began := time.Now()
+	for start := 0; start < total; start += timeGridBlock {
+		k := min(timeGridBlock, total-start)
+		for i := range k {
+			ix, iy := (start+i)%n, (start+i)/n
+			cols[0][i] = x0 + (float64(ix)+0.5)*hx
+			cols[1][i] = y0 + (float64(iy)+0.5)*hy
+		}
+		ev.LogDensityBlock([][]float64{cols[0][:k], cols[1][:k]}, out[:k])
+	}
+	spent := time.Since(began)
+	return TimeGrid{MS: float64(spent) / float64(time.Millisecond), Points: total}, nil
+}

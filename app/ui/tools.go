@@ -1,0 +1,419 @@
+package ui
+
+import (
+	"html"
+	"strings"
+
+	"github.com/maxence-charriere/go-app/v10/pkg/app"
+
+	"bellcheck/app/export"
+	"bellcheck/app/jsdom"
+	"bellcheck/app/plot"
+	"bellcheck/app/share"
+)
+
+// IDs of the share and export tools in the header.
+const (
+	CopyLinkID     = "bc-copy-link"    // button: copy a link to the current state
+	EmbedMenuID    = "bc-embed-menu"   // details: the embed tools
+	EmbedROID      = "bc-embed-ro"     // checkbox: the embed is read-only
+	EmbedFoldID    = "bc-embed-fold"   // checkbox: the embed starts with the editor folded
+	EmbedCodeID    = "bc-embed-code"   // read-only textarea: the iframe snippet
+	CopyEmbedID    = "bc-copy-embed"   // button: copy the snippet
+	ExportMenuID   = "bc-export-menu"  // details: the export tools
+	ExportJSONID   = "bc-export-json"  // button: save the result as JSON
+	ExportCSVID    = "bc-export-csv"   // button: save the result as CSV
+	CopyMarkdownID = "bc-copy-md"      // button: copy the table as Markdown
+	CopyLaTeXID    = "bc-copy-latex"   // button: copy the table as LaTeX
+	ExportPlotID   = "bc-export-plot"  // select: the plot to save
+	ExportSVGID    = "bc-export-svg"   // button: save the plot as SVG
+	ExportPNGID    = "bc-export-png"   // button: save the plot as PNG
+	ToolStatusID   = "bc-tool-status"  // status line of the tools
+	CopyFieldID    = "bc-copy-field"   // read-only textarea offered when the clipboard is refused
+	toolCloseID    = "bc-tool-dismiss" // button: hide the status line
+)
+
+// toolState is what the share and export tools show.
+type toolState struct {
+	// msg is the status line; warn marks a problem.
+	msg  string
+	warn bool
+	// field is text offered for copying by hand when the browser refused
+	// the clipboard ("" hides the field).
+	field string
+	// embedRO and embedFold are the options of the embed snippet.
+	embedRO, embedFold bool
+	// plot is the ID of the panel chosen for export ("" for the first).
+	plot string
+}
+
+// EmbedHeight is the iframe's height in the snippet before the calculator
+// reports its own.
+const EmbedHeight = 720
+
+// EmbedSnippet returns the HTML of an iframe showing the calculator at
+// pageURL (the page's address without fragment) with the state st in the
+// embed view. The data-bellcheck attribute marks it for the host page's
+// resize script.
+func EmbedSnippet(pageURL string, st share.State, readOnly, folded bool) (string, error) {
+	st.View.Embed, st.View.ReadOnly, st.View.EditorCollapsed = true, readOnly, folded
+	frag, err := share.Encode(st)
+	if err != nil {
+		return "", err
+	}
+	src := pageURL + "#" + frag
+	return `<iframe data-bellcheck src="` + html.EscapeString(src) + `" title="bellcheck calculator" width="100%" height="` +
+		itoa(EmbedHeight) + `" style="border:0;max-width:100%" loading="lazy"></iframe>`, nil
+}
+
+// embedSnippet is the snippet for the current state; "" outside the
+// browser, where the page's address is unknown (the pre-rendered page).
+func (p *Page) embedSnippet() string {
+	base := pageURL()
+	if base == "" {
+		return ""
+	}
+	s, err := EmbedSnippet(base, p.shareState(), p.tools.embedRO, p.tools.embedFold)
+	if err != nil {
+		return "The model is too long to embed through a link."
+	}
+	return s
+}
+
+// toolbar is the header's share and export tools.
+func (p *Page) toolbar() app.UI {
+	return app.Div().Class("tools").Body(
+		app.Button().Type("button").ID(CopyLinkID).Class("tool-btn").
+			Title("Copy a link that opens this model with its settings").Text("Copy link").
+			OnClick(func(ctx app.Context, e app.Event) { p.CopyLink(ctx) }),
+		app.Details().ID(EmbedMenuID).Class("menu").Body(
+			app.Summary().Class("tool-btn").Title("Show this calculator live in a wiki or web page").Text("Embed"),
+			app.Div().Class("menu-panel").Body(
+				app.P().Class("menu-lead").Text("Paste this code into a wiki or web page to show this model there as a live calculator."),
+				app.Label().Class("menu-check").For(EmbedROID).Body(
+					app.Input().Type("checkbox").ID(EmbedROID).Checked(p.tools.embedRO).
+						OnChange(func(ctx app.Context, e app.Event) { p.setEmbedOption(EmbedROID) }),
+					app.Span().Text("read-only: readers see the model but cannot edit it"),
+				),
+				app.Label().Class("menu-check").For(EmbedFoldID).Body(
+					app.Input().Type("checkbox").ID(EmbedFoldID).Checked(p.tools.embedFold).
+						OnChange(func(ctx app.Context, e app.Event) { p.setEmbedOption(EmbedFoldID) }),
+					app.Span().Text("start with the model folded away"),
+				),
+				app.Label().Class("sr-only").For(EmbedCodeID).Text("Embed code"),
+				app.Textarea().ID(EmbedCodeID).Class("code-field").ReadOnly(true).Rows(4).
+					Attr("spellcheck", "false").Text(p.embedSnippet()),
+				app.Div().Class("menu-row").Body(
+					app.Button().Type("button").ID(CopyEmbedID).Class("tool-btn primary").Text("Copy embed code").
+						OnClick(func(ctx app.Context, e app.Event) { p.CopyEmbed(ctx) }),
+				),
+				app.P().Class("menu-note").Text("The frame takes the height of its content when the page runs the small resize script of web/embed-example.html (README: Embedding). Saved work in this browser is not touched by embeds."),
+			),
+		),
+		app.Details().ID(ExportMenuID).Class("menu").Body(
+			app.Summary().Class("tool-btn").Title("Save the results, the table or a plot").Text("Export"),
+			p.exportPanel(),
+		),
+	)
+}
+
+func (p *Page) exportPanel() app.UI {
+	none := p.s.Result == nil
+	panels := panelsOf(p.figs)
+	choice := p.chosenPanel()
+	opts := make([]app.UI, len(panels))
+	for i, pn := range panels {
+		opts[i] = app.Option().Value(pn.ID).Selected(choice != nil && pn.ID == choice.ID).Text(panelLabel(pn))
+	}
+	noPlot := choice == nil
+	return app.Div().Class("menu-panel").Body(
+		app.Div().Class("menu-group").Body(
+			app.Span().Class("menu-label").Text("Results"),
+			app.Div().Class("menu-row").Body(
+				app.Button().Type("button").ID(ExportJSONID).Class("tool-btn").Disabled(none).Text("Save JSON").
+					Title("The command line's JSON (bellcheck fit --json)").
+					OnClick(func(ctx app.Context, e app.Event) { p.ExportJSON(ctx) }),
+				app.Button().Type("button").ID(ExportCSVID).Class("tool-btn").Disabled(none).Text("Save CSV").
+					Title("One row per quantity and method").
+					OnClick(func(ctx app.Context, e app.Event) { p.ExportCSV(ctx) }),
+			),
+		),
+		app.Div().Class("menu-group").Body(
+			app.Span().Class("menu-label").Text("Table"),
+			app.Div().Class("menu-row").Body(
+				app.Button().Type("button").ID(CopyMarkdownID).Class("tool-btn").Disabled(len(p.sections) == 0).Text("Copy Markdown").
+					OnClick(func(ctx app.Context, e app.Event) { p.CopyTable(ctx, false) }),
+				app.Button().Type("button").ID(CopyLaTeXID).Class("tool-btn").Disabled(len(p.sections) == 0).Text("Copy LaTeX").
+					Title("A tabular environment").
+					OnClick(func(ctx app.Context, e app.Event) { p.CopyTable(ctx, true) }),
+			),
+		),
+		app.Div().Class("menu-group").Body(
+			app.Label().Class("menu-label").For(ExportPlotID).Text("Plot"),
+			app.Select().ID(ExportPlotID).Class("menu-select").Disabled(noPlot).
+				OnChange(func(ctx app.Context, e app.Event) {
+					if v, err := jsdom.Value(ExportPlotID); err == nil {
+						p.tools.plot = v
+					}
+				}).Body(opts...),
+			app.Div().Class("menu-row").Body(
+				app.Button().Type("button").ID(ExportSVGID).Class("tool-btn").Disabled(noPlot).Text("Save SVG").
+					OnClick(func(ctx app.Context, e app.Event) { p.ExportPlot(ctx, false) }),
+				app.Button().Type("button").ID(ExportPNGID).Class("tool-btn").Disabled(noPlot).Text("Save PNG").
+					OnClick(func(ctx app.Context, e app.Event) { p.ExportPlot(ctx, true) }),
+			),
+		),
+		app.P().Class("menu-note").Text("The files hold the results shown; the README lists the CSV's columns."),
+	)
+}
+
+// toolTray is the tools' status line, with the text to copy by hand when
+// the browser refused the clipboard.
+func (p *Page) toolTray() app.UI {
+	t := p.tools
+	tray := app.Div().ID(ToolStatusID).Class("tool-tray").Attr("role", "status").Aria("live", "polite")
+	if t.msg == "" {
+		return tray
+	}
+	cls := "tool-msg"
+	if t.warn {
+		cls += " tool-warn"
+	}
+	return tray.Body(
+		app.Div().Class(cls).Body(
+			app.Span().Class("tool-text").Text(t.msg),
+			app.Button().Type("button").ID(toolCloseID).Class("notice-close").Aria("label", "dismiss this message").Text("×").
+				OnClick(func(ctx app.Context, e app.Event) { p.tools.msg, p.tools.field, p.tools.warn = "", "", false }),
+		),
+		app.If(t.field != "", func() app.UI {
+			return app.Textarea().ID(CopyFieldID).Class("code-field").ReadOnly(true).Rows(3).
+				Attr("spellcheck", "false").Aria("label", "Text to copy").Text(t.field)
+		}),
+	)
+}
+
+// say sets the status line.
+func (p *Page) say(msg string, warn bool) {
+	p.tools.msg, p.tools.warn, p.tools.field = msg, warn, ""
+}
+
+// setEmbedOption reads an embed checkbox.
+func (p *Page) setEmbedOption(id string) {
+	on, err := jsdom.Checked(id)
+	if err != nil {
+		return
+	}
+	if id == EmbedROID {
+		p.tools.embedRO = on
+	} else {
+		p.tools.embedFold = on
+	}
+}
+
+// CopyLink copies a link to the current state (in the full view).
+func (p *Page) CopyLink(ctx app.Context) {
+	p.copyText(ctx, p.fullLink(), "Link copied: it opens this model with its settings.")
+}
+
+// CopyEmbed copies the iframe snippet for the current state.
+func (p *Page) CopyEmbed(ctx app.Context) {
+	p.copyText(ctx, p.embedSnippet(), "Embed code copied: paste it into the page's HTML.")
+}
+
+// copyText writes text to the clipboard, or, when the browser refuses,
+// shows it selected in a read-only field to copy by hand.
+func (p *Page) copyText(ctx app.Context, text, done string) {
+	jsdom.CopyText(text, func(err error) {
+		ctx.Dispatch(func(ctx app.Context) { p.copied(ctx, text, done, err) })
+	})
+}
+
+func (p *Page) copied(ctx app.Context, text, done string, err error) {
+	if err == nil {
+		p.say(done, false)
+		return
+	}
+	p.tools.msg, p.tools.warn, p.tools.field = "The browser did not let bellcheck use the clipboard. The text is selected below: press Ctrl+C (⌘C on a Mac) to copy it.", true, text
+	ctx.Defer(func(ctx app.Context) {
+		if ok, _ := jsdom.SelectText(CopyFieldID); ok {
+			ctx.Dispatch(func(ctx app.Context) {
+				if p.tools.field == text {
+					p.tools.msg, p.tools.warn = done+" (The text is also shown below.)", false
+				}
+			})
+		}
+	})
+}
+
+// staleNote is added to a message about an export of dimmed results.
+func (p *Page) staleNote() string {
+	if p.s.Stale() {
+		return " These are the results shown, for the last valid model."
+	}
+	return ""
+}
+
+// ExportJSON saves the result as the command line's JSON.
+func (p *Page) ExportJSON(ctx app.Context) {
+	b, err := export.JSON(p.s.Result)
+	p.save(filename(p, "", ".json"), "application/json", b, err, "the command line's JSON")
+}
+
+// ExportCSV saves the result as CSV.
+func (p *Page) ExportCSV(ctx app.Context) {
+	b, err := export.CSV(p.s.Result)
+	p.save(filename(p, "", ".csv"), "text/csv;charset=utf-8", b, err, "one row per quantity and method")
+}
+
+func (p *Page) save(name, mime string, b []byte, err error, what string) {
+	if err == nil {
+		err = jsdom.Download(name, mime, b)
+	}
+	if err != nil {
+		p.say("Could not save "+name+": "+err.Error(), true)
+		return
+	}
+	p.say("Saved "+name+" ("+what+")."+p.staleNote(), false)
+}
+
+// filename names an export after the model's parameters.
+func filename(p *Page, panel, ext string) string {
+	name := "bellcheck"
+	if panel != "" {
+		return name + "-" + panel + ext
+	}
+	if r := p.s.Result; r != nil && len(r.Params) > 0 {
+		name += "-" + strings.Join(r.Params, "-")
+	}
+	return name + ext
+}
+
+// ExportTable returns the results table in export form.
+func ExportTable(sections []Section) export.Table {
+	t := export.Table{Note: "Bold: the fit closest to the exact value in its row. In parentheses: the error estimate of an exact value, or a fit's deviation from it."}
+	for _, m := range plot.Methods {
+		t.Columns = append(t.Columns, plot.StyleOf(m).Name)
+	}
+	for _, sec := range sections {
+		g := export.Group{Title: sec.Title}
+		for _, r := range sec.Rows {
+			row := export.Row{Label: r.Label}
+			for _, m := range plot.Methods {
+				c := r.Cells[m]
+				row.Cells = append(row.Cells, export.Cell{Text: c.Text, Note: c.Sub, Best: c.Best})
+			}
+			g.Rows = append(g.Rows, row)
+		}
+		t.Groups = append(t.Groups, g)
+	}
+	return t
+}
+
+// CopyTable copies the results table as Markdown or LaTeX.
+func (p *Page) CopyTable(ctx app.Context, latex bool) {
+	if len(p.sections) == 0 {
+		p.say("Nothing to copy yet: the analysis has not finished.", true)
+		return
+	}
+	t := ExportTable(p.sections)
+	if latex {
+		p.copyText(ctx, export.LaTeX(t), "Table copied as a LaTeX tabular."+p.staleNote())
+		return
+	}
+	p.copyText(ctx, export.Markdown(t), "Table copied as Markdown."+p.staleNote())
+}
+
+// panelsOf lists a figure set's panels in reading order.
+func panelsOf(fs *FigureSet) []*Panel {
+	if fs == nil {
+		return nil
+	}
+	if fs.Main != nil {
+		return []*Panel{fs.Main}
+	}
+	var out []*Panel
+	for _, row := range fs.Grid {
+		for _, pn := range row {
+			if pn != nil && pn.Fig != nil {
+				out = append(out, pn)
+			}
+		}
+	}
+	return out
+}
+
+// panelLabel names a panel in the plot menu.
+func panelLabel(pn *Panel) string {
+	if pn.J < 0 {
+		return "marginal of " + name(pn.I, pn)
+	}
+	return name(pn.I, pn) + " and " + name(pn.J, pn)
+}
+
+// panelFile names a panel's file.
+func panelFile(pn *Panel) string {
+	if pn.J < 0 {
+		return name(pn.I, pn)
+	}
+	return name(pn.I, pn) + "-" + name(pn.J, pn)
+}
+
+// chosenPanel returns the panel chosen for export (the first by default).
+func (p *Page) chosenPanel() *Panel {
+	panels := panelsOf(p.figs)
+	for _, pn := range panels {
+		if pn.ID == p.tools.plot {
+			return pn
+		}
+	}
+	if len(panels) > 0 {
+		return panels[0]
+	}
+	return nil
+}
+
+// pngScale is how many PNG pixels a figure's unit gets.
+const pngScale = 2
+
+// ExportPlot saves the chosen plot as SVG or PNG.
+func (p *Page) ExportPlot(ctx app.Context, png bool) {
+	pn := p.chosenPanel()
+	if pn == nil || pn.Fig == nil {
+		p.say("There is no plot to save yet.", true)
+		return
+	}
+	f := pn.Fig
+	var heat *export.Raster
+	note := ""
+	if h := f.Heat; h != nil {
+		if u, err := jsdom.CanvasDataURL(pn.ID + "-heat"); err == nil {
+			heat = &export.Raster{DataURL: u, X: h.Box.X0, Y: h.Box.Y0, Width: h.Box.W(), Height: h.Box.H()}
+		} else {
+			note = " The heat map could not be read from the page, so the file has the contours only."
+		}
+	}
+	svg, err := export.StandaloneSVG(f.SVG, f.W, f.H, heat)
+	if err != nil {
+		p.say("Could not save the plot: "+err.Error(), true)
+		return
+	}
+	if !png {
+		p.save(filename(p, panelFile(pn), ".svg"), "image/svg+xml", []byte(svg), nil, "SVG of "+panelLabel(pn))
+		if note != "" {
+			p.tools.msg += note
+		}
+		return
+	}
+	name := filename(p, panelFile(pn), ".png")
+	w, h := int(f.W*pngScale+0.5), int(f.H*pngScale+0.5)
+	p.say("Drawing "+name+"…", false)
+	jsdom.DownloadPNG(name, svg, w, h, func(err error) {
+		ctx.Dispatch(func(ctx app.Context) {
+			if err != nil {
+				p.say("Could not save "+name+": "+err.Error(), true)
+				return
+			}
+			p.say("Saved "+name+" ("+itoa(w)+" × "+itoa(h)+" pixels, "+panelLabel(pn)+")."+note+p.staleNote(), false)
+		})
+	})
+}
