@@ -121,7 +121,7 @@ func TestBenchHarness(t *testing.T) {
 	} else {
 		rep.note("grid throughput not measured: mathjs or the WebAssembly probe is missing (see above)")
 	}
-	rep.note("harness run took %s", time.Since(began).Round(time.Second))
+	rep.note("harness run took %s; load average %s at the end (timings on a shared machine move with the load)", time.Since(began).Round(time.Second), loadAverage())
 	printReport(t, rep)
 	raw, err := json.MarshalIndent(rep, "", "  ")
 	if err != nil {
@@ -144,7 +144,17 @@ func machine() string {
 			}
 		}
 	}
-	return fmt.Sprintf("%s/%s, %d CPUs (%s), %s", runtime.GOOS, runtime.GOARCH, runtime.NumCPU(), cpu, runtime.Version())
+	return fmt.Sprintf("%s/%s, %d CPUs (%s), %s, load average %s at the start", runtime.GOOS, runtime.GOARCH, runtime.NumCPU(), cpu, runtime.Version(), loadAverage())
+}
+
+// loadAverage returns the 1-minute load average: on a shared machine the
+// timings move with it.
+func loadAverage() string {
+	raw, err := os.ReadFile("/proc/loadavg")
+	if err != nil {
+		return "unknown"
+	}
+	return strings.Fields(string(raw))[0]
 }
 
 // --- engine Go benchmarks ---
