@@ -48,8 +48,8 @@ func (ev *Evaluator) Tape() string {
 			} else {
 				fmt.Fprintf(&b, "  over points x %d elements:\n", st.n)
 			}
-			for k, ps := range st.pscalars {
-				fmt.Fprintf(&b, "    c%d = s%d of each point\n", st.base+k, ps)
+			for _, ex := range st.expand {
+				fmt.Fprintf(&b, "    s%d = expand(s%d)\n", ex.dst, ex.src)
 			}
 			writeKernel(&b, "    ", st.kern, "c")
 			for _, red := range st.reds {

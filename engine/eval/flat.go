@@ -9,10 +9,8 @@ import "math"
 // evaluates a group of q points at once: its scalar stages compute each
 // scalar node for the q points (a slot of q values), and its loop stages
 // run a loop's kernel over the q*n pairs (point, element), with the data
-// tiled q times; instructions that read scalars (which vary with the
-// point) run point by point over each point's n pairs, the others over all
-// q*n at once; each point's reductions then fold its own n consecutive
-// values.
+// tiled q times and the scalars each loop reads expanded to n copies per
+// point; each point's reductions then fold its own n consecutive values.
 // The stages run in the order of the scalar tape's levels.
 //
 // Every value is computed by the same operations as point by point, and the
@@ -42,13 +40,14 @@ type flatTape struct {
 // flatStage is a scalar stage (n == 0), a kernel over q points, or a loop
 // stage over q*n pairs.
 type flatStage struct {
-	kern     []kinstr
-	n        int
-	pscalars []int32 // point slots of the scalars the kernel reads
-	base     int     // scalar operand of pscalars[0]
-	runs     []flatRun
-	reds     []reduction // src: a pair slot, dst: a point slot
+	kern   []kinstr
+	n      int
+	expand []expansion
+	reds   []reduction // src: a pair slot, dst: a point slot
 }
+
+// expansion copies a point slot into a pair slot, n copies per point.
+type expansion struct{ src, dst int32 }
 
 // tile is a slot holding data tiled q times.
 type tile struct {
@@ -189,7 +188,6 @@ func lowerFlat(nodes []node, reach []bool, root int32, dim int, avail []int, max
 			}
 			order := sortedKeys(loopIn)
 			pins := map[int32]int32{}
-			pointScalar := map[int32]int32{}
 			st := flatStage{n: n}
 			for _, id := range order {
 				for _, arg := range operands(&nodes[id]) {
@@ -206,30 +204,23 @@ func lowerFlat(nodes []node, reach []bool, root int32, dim int, avail []int, max
 						}
 						ft.tiles = append(ft.tiles, tile{slot: s, data: data})
 						pins[arg] = s
-					case !a.cst && !a.vector():
-						if _, ok := pointScalar[arg]; ok {
-							continue
-						}
+					case !a.cst:
 						src, ok := pointSlot(arg)
 						if !ok {
 							return nil // not scheduled before the loop (cannot happen)
 						}
-						pointScalar[arg] = pointScalarBase + int32(len(st.pscalars))
-						st.pscalars = append(st.pscalars, src)
+						s := newSlot(q * n)
+						st.expand = append(st.expand, expansion{src: src, dst: s})
+						pins[arg] = s
 					}
 				}
 			}
 			ks := &kernelSpace{
-				nodes:    nodes,
-				inKernel: func(id int32) bool { return loopIn[id] },
-				isVec:    func(id int32) bool { return nodes[id].vector() },
-				pinned:   func(id int32) (int32, bool) { s, ok := pins[id]; return s, ok },
-				scalar: func(id int32) int32 {
-					if k, ok := pointScalar[id]; ok {
-						return k
-					}
-					return scalar(id)
-				},
+				nodes:     nodes,
+				inKernel:  func(id int32) bool { return loopIn[id] },
+				isVec:     func(id int32) bool { return !nodes[id].cst || nodes[id].vector() },
+				pinned:    func(id int32) (int32, bool) { s, ok := pins[id]; return s, ok },
+				scalar:    scalar,
 				firstFree: len(ft.slotLen),
 			}
 			roots := make([]int32, len(reds))
@@ -254,86 +245,7 @@ func lowerFlat(nodes []node, reach []bool, root int32, dim int, avail []int, max
 		return nil
 	}
 	ft.rootSlot = s
-	for si := range ft.stages {
-		ft.stages[si].segment(len(ft.consts))
-	}
 	return ft
-}
-
-// pointScalarBase marks, while a loop stage is built, a scalar operand that
-// varies with the point: pointScalarBase + k is the stage's k-th.
-const pointScalarBase = 1 << 24
-
-// segment renumbers the point scalars of a loop stage after the constants
-// (base), and splits its kernel into runs: runs without point scalars go
-// over all pairs at once, runs with them point by point (each point's n
-// elements with its scalars).
-func (st *flatStage) segment(base int) {
-	if st.n == 0 {
-		return
-	}
-	remap := func(x *int32) bool {
-		if *x >= pointScalarBase {
-			*x = int32(base) + *x - pointScalarBase
-			return true
-		}
-		return false
-	}
-	st.base = base
-	var cur *flatRun
-	for i := range st.kern {
-		in := &st.kern[i]
-		seg := false
-		switch {
-		case in.op == opLin || in.op == opQuad:
-			if in.sa >= 0 && remap(&in.sa) {
-				seg = true
-			}
-			if in.sb >= 0 && remap(&in.sb) {
-				seg = true
-			}
-		case in.form == formVS:
-			seg = remap(&in.b)
-		case in.form == formSV:
-			seg = remap(&in.a)
-		}
-		if cur == nil || cur.seg != seg {
-			st.runs = append(st.runs, flatRun{lo: i, seg: seg})
-			cur = &st.runs[len(st.runs)-1]
-		}
-		cur.hi = i + 1
-		if seg {
-			cur.slots = appendOnce(cur.slots, in.dst)
-			switch {
-			case in.op == opLin || in.op == opQuad:
-				for _, x := range [2]int32{in.a, in.b} {
-					if x >= 0 {
-						cur.slots = appendOnce(cur.slots, x)
-					}
-				}
-			case in.form == formVS:
-				cur.slots = appendOnce(cur.slots, in.a)
-			case in.form == formSV:
-				cur.slots = appendOnce(cur.slots, in.b)
-			}
-		}
-	}
-}
-
-func appendOnce(v []int32, x int32) []int32 {
-	for _, y := range v {
-		if y == x {
-			return v
-		}
-	}
-	return append(v, x)
-}
-
-// flatRun is a run of a loop stage's kernel: instructions lo to hi.
-type flatRun struct {
-	lo, hi int
-	seg    bool    // with point scalars: point by point
-	slots  []int32 // seg: the slots the run uses
 }
 
 // operands returns a node's operand nodes.
@@ -360,8 +272,6 @@ type loopKey struct{ lvl, n int }
 // flatSpace is an evaluator's scratch space for the flat tape.
 type flatSpace struct {
 	vs  [][]float64
-	seg [][]float64 // one point's views of the slots
-	ss  []float64   // scalar operands: the constants, then point scalars
 	lse lseState
 }
 
@@ -380,13 +290,6 @@ func (fs *flatSpace) init(ft *flatTape) {
 	for _, t := range ft.tiles {
 		fs.vs[t.slot] = t.data
 	}
-	fs.seg = make([][]float64, len(ft.slotLen))
-	np := 0
-	for _, st := range ft.stages {
-		np = max(np, len(st.pscalars))
-	}
-	fs.ss = make([]float64, len(ft.consts)+np)
-	copy(fs.ss, ft.consts)
 }
 
 // run evaluates the flat tape at the points of cols into out.
@@ -415,24 +318,16 @@ func (fs *flatSpace) run(ft *flatTape, cols [][]float64, out []float64) {
 				continue
 			}
 			e := st.n
-			for ri := range st.runs {
-				run := &st.runs[ri]
-				kern := st.kern[run.lo:run.hi]
-				if !run.seg {
-					runKernel(kern, vs, fs.ss, m*e, 0)
-					continue
-				}
-				ss := fs.ss[st.base : st.base+len(st.pscalars)]
-				for p := 0; p < m; p++ {
-					for k, ps := range st.pscalars {
-						ss[k] = vs[ps][p]
+			for _, ex := range st.expand {
+				src, dst := vs[ex.src][:m], vs[ex.dst][:m*e]
+				for p, v := range src {
+					seg := dst[p*e : (p+1)*e]
+					for i := range seg {
+						seg[i] = v
 					}
-					for _, x := range run.slots {
-						fs.seg[x] = vs[x][p*e : (p+1)*e]
-					}
-					runKernel(kern, fs.seg, fs.ss, e, 0)
 				}
 			}
+			runKernel(st.kern, vs, ft.consts, m*e, 0)
 			for ri := range st.reds {
 				fs.reduce(&st.reds[ri], m, e)
 			}
