@@ -110,6 +110,10 @@ func (pp *ParamPanel) block(i int, p ParamView) app.UI {
 		opts = append(opts, app.Option().Value(string(s.sc)).Selected(s.sc == cur).Text(s.label))
 	}
 	name := p.Name
+	// Event handlers read the parameter's current name and options through
+	// pp.current at event time: go-app keeps the first handler of an element
+	// (it compares handlers by code address), so a value captured here would
+	// go stale once the panel shows another model.
 	pointsPH, loPH, hiPH := "auto", "auto", "auto"
 	if p.UsedPoints > 0 {
 		pointsPH = strconv.Itoa(p.UsedPoints)
@@ -133,9 +137,9 @@ func (pp *ParamPanel) block(i int, p ParamView) app.UI {
 			app.Div().Class("pctl").Body(app.Label().For(id+"-scale").Text("fit on scale"),
 				app.Select().ID(id+"-scale").Disabled(len(opts) < 2).Title(scaleTitle(len(opts))).Body(opts...).
 					OnChange(func(ctx app.Context, e app.Event) {
-						o := p.Options
+						name, o, ok := pp.current(i)
 						v, err := jsdom.Value(id + "-scale")
-						if err != nil {
+						if !ok || err != nil {
 							return
 						}
 						o.Scale = engine.Scale(v)
@@ -145,9 +149,9 @@ func (pp *ParamPanel) block(i int, p ParamView) app.UI {
 				app.Input().ID(id+"-points").Type("number").Min(MinPoints).Max(MaxPoints).Step(1).
 					Class("num-input").Placeholder(pointsPH).Value(pointsVal).
 					OnChange(func(ctx app.Context, e app.Event) {
-						o := p.Options
+						name, o, ok := pp.current(i)
 						v, err := jsdom.Value(id + "-points")
-						if err != nil {
+						if !ok || err != nil {
 							return
 						}
 						n, err := strconv.Atoi(strings.TrimSpace(v))
@@ -157,16 +161,8 @@ func (pp *ParamPanel) block(i int, p ParamView) app.UI {
 						o.Points = n
 						pp.Host.SetParam(ctx, name, o)
 					})),
-			control(id+"-lo", "grid from", boundInput(id+"-lo", loPH, p.Options.Lo, func(ctx app.Context, v *float64) {
-				o := p.Options
-				o.Lo = v
-				pp.Host.SetParam(ctx, name, o)
-			})),
-			control(id+"-hi", "grid to", boundInput(id+"-hi", hiPH, p.Options.Hi, func(ctx app.Context, v *float64) {
-				o := p.Options
-				o.Hi = v
-				pp.Host.SetParam(ctx, name, o)
-			})),
+			control(id+"-lo", "grid from", pp.boundInput(i, id+"-lo", loPH, p.Options.Lo, false)),
+			control(id+"-hi", "grid to", pp.boundInput(i, id+"-hi", hiPH, p.Options.Hi, true)),
 		),
 	)
 }
@@ -178,8 +174,30 @@ func scaleTitle(n int) string {
 	return "the scale on which the Gaussian fits are made"
 }
 
-// boundInput is a text input for an optional number; blank means automatic.
-func boundInput(id, placeholder string, v *float64, set func(app.Context, *float64)) app.UI {
+// current returns the name and options of the i-th parameter as the panel
+// shows them now.
+func (pp *ParamPanel) current(i int) (string, engine.ParamOptions, bool) {
+	if i < 0 || i >= len(pp.Params) {
+		return "", engine.ParamOptions{}, false
+	}
+	return pp.Params[i].Name, pp.Params[i].Options, true
+}
+
+// boundInput is a text input for the i-th parameter's optional lower (or,
+// with upper, upper) grid bound; blank means automatic.
+func (pp *ParamPanel) boundInput(i int, id, placeholder string, v *float64, upper bool) app.UI {
+	set := func(ctx app.Context, v *float64) {
+		name, o, ok := pp.current(i)
+		if !ok {
+			return
+		}
+		if upper {
+			o.Hi = v
+		} else {
+			o.Lo = v
+		}
+		pp.Host.SetParam(ctx, name, o)
+	}
 	val := ""
 	if v != nil {
 		val = strconv.FormatFloat(*v, 'g', -1, 64)
