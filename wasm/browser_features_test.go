@@ -26,6 +26,8 @@ import (
 
 	"bellcheck/app/examples"
 	"bellcheck/app/share"
+	"bellcheck/engine"
+	"bellcheck/engine/model"
 )
 
 // embedHostHTML is a host page with the embed view in an iframe; it records
@@ -277,8 +279,12 @@ func listFiles(dir string) []string {
 	return out
 }
 
+// waitNewFile waits for a download beyond the had files already in dir and
+// returns its path once its size holds still ("" after d).
 func waitNewFile(t *testing.T, dir string, had int, d time.Duration) string {
 	deadline := time.Now().Add(d)
+	var last string
+	lastSize := int64(-1)
 	for time.Now().Before(deadline) {
 		if files := listFiles(dir); len(files) > had {
 			newest, newestT := "", time.Time{}
@@ -287,9 +293,14 @@ func waitNewFile(t *testing.T, dir string, had int, d time.Duration) string {
 					newest, newestT = f, st.ModTime()
 				}
 			}
-			return newest
+			if st, err := os.Stat(newest); err == nil {
+				if newest == last && st.Size() == lastSize && st.Size() > 0 {
+					return newest
+				}
+				last, lastSize = newest, st.Size()
+			}
 		}
-		time.Sleep(50 * time.Millisecond)
+		time.Sleep(100 * time.Millisecond)
 	}
 	return ""
 }
@@ -491,5 +502,113 @@ func testOffline(t *testing.T, b *browser, dir string) {
 	tab = tb.table(t)
 	if len(tab.Sections) == 0 || tab.Sections[0].Title != "x" {
 		t.Errorf("offline edit: table sections %v", titles(tab))
+	}
+}
+
+// testJSAPI: window.bellcheck.analyse gives the command line's JSON for the
+// same model and options (the same engine, in WebAssembly), and rejects a
+// broken model with the place of its first problem.
+func testJSAPI(t *testing.T, b *browser, srv *siteServer) {
+	tb := b.newTab(t, true)
+	tb.open(t, srv.URL+"/")
+	if !eval[bool](t, tb, 5*time.Second, `!!(window.bellcheck && typeof window.bellcheck.analyse === "function")`) {
+		t.Skip("the page has no window.bellcheck.analyse yet: nothing to test")
+	}
+	ex, _ := examples.ByID("decay")
+	opts := engine.Options{Params: []engine.ParamOptions{{Scale: engine.Log}}}
+	optJSON, _ := json.Marshal(opts)
+	got := eval[[]byte](t, tb, 120*time.Second, `window.bellcheck.analyse(`+jsString(ex.Source)+`, `+string(optJSON)+`).then((r) => JSON.stringify(r))`)
+	var gotText string
+	if err := json.Unmarshal(got, &gotText); err != nil {
+		t.Fatalf("analyse's answer: %v", err)
+	}
+	m, err := model.Parse(ex.Source)
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := engine.Analyse(context.Background(), m, opts, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want, err := json.Marshal(res)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var a, w any
+	if err := json.Unmarshal([]byte(gotText), &a); err != nil {
+		t.Fatalf("analyse's answer is not JSON: %v", err)
+	}
+	if err := json.Unmarshal(want, &w); err != nil {
+		t.Fatal(err)
+	}
+	var problems []string
+	n := sameJSON("", a, w, &problems)
+	for _, p := range problems {
+		t.Error(p)
+	}
+	t.Logf("analyse: %d values equal to the native engine's", n)
+
+	msg := eval[string](t, tb, 30*time.Second, `window.bellcheck.analyse("a = 1\n-x^2/2 + lgama(x)\n").then(() => "resolved", (e) => String(e && e.message || e))`)
+	// "lgama" starts at line 2, column 10 (counted by hand).
+	if !strings.Contains(msg, "2:10") || !strings.Contains(msg, "lgama") {
+		t.Errorf("analyse of a broken model: %q, want a rejection at 2:10 naming lgama", msg)
+	}
+}
+
+// sameJSON compares two decoded JSON values, numbers to a relative 1e-9
+// (the engine natively and in WebAssembly: equal but for rounding; error
+// estimates, which are rounding noise where a quantity is resolved, to an
+// absolute 1e-10), skipping the timings. It returns the numbers compared.
+func sameJSON(path string, a, b any, problems *[]string) int {
+	if strings.HasSuffix(path, ".timing_ms") {
+		return 0
+	}
+	switch x := b.(type) {
+	case map[string]any:
+		y, ok := a.(map[string]any)
+		if !ok {
+			*problems = append(*problems, fmt.Sprintf("%s: %T, want an object", path, a))
+			return 0
+		}
+		n := 0
+		for k, v := range x {
+			if _, ok := y[k]; !ok {
+				*problems = append(*problems, fmt.Sprintf("%s.%s missing", path, k))
+				continue
+			}
+			n += sameJSON(path+"."+k, y[k], v, problems)
+		}
+		for k := range y {
+			if _, ok := x[k]; !ok {
+				*problems = append(*problems, fmt.Sprintf("%s.%s not in the command line's JSON", path, k))
+			}
+		}
+		return n
+	case []any:
+		y, ok := a.([]any)
+		if !ok || len(y) != len(x) {
+			*problems = append(*problems, fmt.Sprintf("%s: %v, want %d elements", path, a, len(x)))
+			return 0
+		}
+		n := 0
+		for i := range x {
+			n += sameJSON(fmt.Sprintf("%s.%d", path, i), y[i], x[i], problems)
+		}
+		return n
+	case float64:
+		y, ok := a.(float64)
+		tol := 1e-9 * math.Max(1, math.Abs(x))
+		if strings.Contains(path, "err") {
+			tol = math.Max(tol, 1e-10)
+		}
+		if !ok || math.Abs(y-x) > tol {
+			*problems = append(*problems, fmt.Sprintf("%s: %v, the native engine gives %v", path, a, x))
+		}
+		return 1
+	default:
+		if fmt.Sprint(a) != fmt.Sprint(b) {
+			*problems = append(*problems, fmt.Sprintf("%s: %v, want %v", path, a, b))
+		}
+		return 0
 	}
 }

@@ -50,6 +50,7 @@ func TestBrowser(t *testing.T) {
 	t.Run("ParamControls", func(t *testing.T) { testParamControls(t, b, srv) })
 	t.Run("Embed", func(t *testing.T) { testEmbed(t, b, srv) })
 	t.Run("Export", func(t *testing.T) { testExport(t, b, srv) })
+	t.Run("JSAPI", func(t *testing.T) { testJSAPI(t, b, srv) })
 	t.Run("TypingDuring4D", func(t *testing.T) { testTyping(t, b, srv) })
 	t.Run("Offline", func(t *testing.T) { testOffline(t, b, dir) })
 	t.Logf("browser suite took %s", time.Since(began).Round(time.Millisecond))
