@@ -124,7 +124,11 @@ func (a *analysis) run() (*Result, error) {
 		if err := a.ctx.Err(); err != nil {
 			return nil, err
 		}
-		res.Plots = a.plots(res)
+		pl, err := a.plots(res)
+		if err != nil {
+			return nil, err
+		}
+		res.Plots = pl
 	}
 	res.Diagnostics = a.diag.sorted()
 	res.Timing = a.tr.done()
@@ -162,6 +166,9 @@ func (a *analysis) compile() error {
 		}
 		if po.Points < 0 {
 			return fmt.Errorf("%w: parameter %s: %d grid points", ErrOptions, prm.Name, po.Points)
+		}
+		if most := MaxAxisPoints(d); po.Points > most {
+			return fmt.Errorf("%w: parameter %s: %d grid points, more than the %d a model of %d parameters may have (the grid must fit in memory)", ErrOptions, prm.Name, po.Points, most, d)
 		}
 		mp := transform.Map{Kind: transform.Identity, Lo: prm.Lo, Hi: prm.Hi}
 		switch po.Scale {

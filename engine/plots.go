@@ -19,8 +19,10 @@ var contourMasses = [3]float64{0.39, 0.86, 0.99}
 
 const contourPoints = 96
 
-// plots draws the exact marginals and each fit's on the original scale.
-func (a *analysis) plots(res *Result) *Plots {
+// plots draws the exact marginals and each fit's on the original scale. It
+// reports progress and checks for cancellation between the pieces of each
+// pair (the largest 2-D grid holds 2.25 million nodes).
+func (a *analysis) plots(res *Result) (*Plots, error) {
 	g := a.g
 	st := &g.Stats
 	d := a.d
@@ -74,7 +76,13 @@ func (a *analysis) plots(res *Result) *Plots {
 		pl.Marginals = append(pl.Marginals, m)
 	}
 	for pi, pr := range st.Pairs {
-		a.tr.at(float64(d+pi) / float64(d+len(st.Pairs)))
+		part := func(f float64) error {
+			a.tr.at((float64(d+pi) + f) / float64(d+len(st.Pairs)))
+			return a.ctx.Err()
+		}
+		if err := part(0); err != nil {
+			return nil, err
+		}
 		i, j := pr.I, pr.J
 		nj := g.N[j]
 		// The density on the original scale, for the levels and the image.
@@ -84,7 +92,13 @@ func (a *analysis) plots(res *Result) *Plots {
 				orig[u*nj+v] = pr.Density[u*nj+v] / (dxdz[i][u] * dxdz[j][v])
 			}
 		}
+		if err := part(0.3); err != nil {
+			return nil, err
+		}
 		lv := grid.Levels(orig, pr.Mass, contourMasses[:])
+		if err := part(0.9); err != nil {
+			return nil, err
+		}
 		m2 := Marginal2D{I: i, J: j, Levels: [3]float64{lv[0], lv[1], lv[2]}, Ellipses: map[string][3][][2]float64{}}
 		iu, iv := plotNodes(g.N[i], maxPlot2D), plotNodes(nj, maxPlot2D)
 		for _, u := range iu {
@@ -107,7 +121,7 @@ func (a *analysis) plots(res *Result) *Plots {
 		}
 		pl.Pairs = append(pl.Pairs, m2)
 	}
-	return pl
+	return pl, nil
 }
 
 // ellipses returns the fit's contours holding contourMasses of its (i, j)

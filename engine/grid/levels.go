@@ -27,18 +27,29 @@ func Levels(density, mass []float64, fractions []float64) []float64 {
 		return out
 	}
 	const bins = 2048
-	const span = 60.0 // in log-density below the top
-	lt := math.Log(top)
-	bin := func(v float64) int {
-		b := int((lt - math.Log(v)) / span * bins)
-		return min(max(b, 0), bins-1)
+	const span = 60 / math.Ln2 // 60 in log-density below the top, in log2
+	// The bins need only be monotone in the density (the nodes of the bin
+	// where a share is reached are sorted exactly), so a piecewise-linear
+	// log2 from the binary exponent serves, far cheaper than math.Log.
+	log2 := func(v float64) float64 {
+		m, e := math.Frexp(v)
+		return float64(e) + 2*m - 1
 	}
+	lt := log2(top)
+	// Each node's bin, or -1 for a node left out.
+	binOf := make([]int16, len(density))
 	hist := make([]float64, bins)
 	for i, v := range density {
+		binOf[i] = -1
 		if v > 0 && mass[i] > 0 && !math.IsInf(v, 1) {
-			hist[bin(v)] += mass[i]
+			b := min(max(int((lt-log2(v))/span*bins), 0), bins-1)
+			binOf[i] = int16(b)
+			hist[b] += mass[i]
 		}
 	}
+	// The bin where each share is reached, and the mass above it.
+	target := make([]int, len(fractions))
+	above := make([]float64, len(fractions))
 	for fi, f := range fractions {
 		want := f * total
 		acc := 0.0
@@ -46,16 +57,34 @@ func Levels(density, mass []float64, fractions []float64) []float64 {
 		for ; b < bins-1 && acc+hist[b] < want; b++ {
 			acc += hist[b]
 		}
-		type node struct{ d, m float64 }
-		var in []node
-		for i, v := range density {
-			if v > 0 && mass[i] > 0 && !math.IsInf(v, 1) && bin(v) == b {
-				in = append(in, node{v, mass[i]})
-			}
+		target[fi], above[fi] = b, acc
+	}
+	// The nodes of the target bins, gathered in one pass and sorted.
+	type node struct{ d, m float64 }
+	slot := make([]int16, bins)
+	for b := range slot {
+		slot[b] = -1
+	}
+	var in [][]node
+	for _, b := range target {
+		if slot[b] < 0 {
+			slot[b] = int16(len(in))
+			in = append(in, nil)
 		}
-		sort.Slice(in, func(a, c int) bool { return in[a].d > in[c].d })
+	}
+	for i, b := range binOf {
+		if b >= 0 && slot[b] >= 0 {
+			in[slot[b]] = append(in[slot[b]], node{density[i], mass[i]})
+		}
+	}
+	for _, nodes := range in {
+		sort.Slice(nodes, func(a, c int) bool { return nodes[a].d > nodes[c].d })
+	}
+	for fi, f := range fractions {
+		want := f * total
+		acc := above[fi]
 		out[fi] = math.NaN()
-		for _, nd := range in {
+		for _, nd := range in[slot[target[fi]]] {
 			acc += nd.m
 			out[fi] = nd.d
 			if acc >= want {
