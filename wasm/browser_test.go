@@ -539,3 +539,30 @@ func serverDown(url string) bool {
 	}
 	return err != nil
 }
+
+// TestBrowserPlotCheck checks checkPlots itself (no browser needed): a
+// blank heat map, a panel without curves and a missing panel are caught.
+func TestBrowserPlotCheck(t *testing.T) {
+	exact := strings.ToLower(plot.StyleOf(plot.Exact).Colour)
+	good := panelInk{ID: "p", Canvas: true, Ink: 1, Colours: 200, Curves: 6, Strokes: []string{exact}, Width: 400}
+	if p := checkPlots([]panelInk{good}, 2); len(p) != 0 {
+		t.Errorf("a drawn 2-D panel: %v", p)
+	}
+	blank := good
+	blank.Ink, blank.Colours = 0, 1
+	noCurves := good
+	noCurves.Curves, noCurves.Strokes = 0, nil
+	for name, c := range map[string]struct {
+		panels []panelInk
+		d      int
+	}{
+		"blank heat map": {[]panelInk{blank}, 2},
+		"no curves":      {[]panelInk{noCurves}, 2},
+		"no panel":       {nil, 1},
+		"3-D with one":   {[]panelInk{good}, 3},
+	} {
+		if p := checkPlots(c.panels, c.d); len(p) == 0 {
+			t.Errorf("%s: not caught", name)
+		}
+	}
+}
