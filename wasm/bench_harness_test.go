@@ -467,7 +467,7 @@ func gridThroughput(t *testing.T, b *browser, srv *siteServer, rep *report) {
 	for _, r := range []struct {
 		name string
 		g    gridResult
-	}{{"mathjs", mj}, {"compiled", comp}} {
+	}{{"mathjs", mj}, {"compiled", comp}, {"compiled with supports", boxed}} {
 		if rel := math.Abs(r.g.Sum-hand.Sum) / math.Abs(hand.Sum); !(rel < 1e-9) {
 			t.Errorf("grid throughput: %s's sum %v differs from the hand-written function's %v: not the same density", r.name, r.g.Sum, hand.Sum)
 		}
@@ -485,17 +485,14 @@ func gridThroughput(t *testing.T, b *browser, srv *siteServer, rep *report) {
 	} else {
 		rep.note("grid throughput: %s; the ratios use the harness's probe", pageNote)
 	}
+	ratios := func(label string, ns float64) {
+		rep.add(atLeast(measure{Group: g, Name: "speed-up over mathjs, " + label, Value: mj.NsPerPoint / ns, Unit: "x"}, 20, ">= 20x"))
+		rep.add(atMost(measure{Group: g, Name: "slow-down against hand-written JavaScript, " + label, Value: ns / hand.NsPerPoint, Unit: "x"}, 10, "<= 10x"))
+	}
 	if page > 0 {
-		comp.NsPerPoint = page
+		ratios("page's hook", page)
 	}
-	rep.add(measure{Group: g, Name: "hand-written JavaScript", Value: hand.NsPerPoint, Unit: "ns/point"})
-	rep.add(measure{Group: g, Name: "mathjs " + mj.Version + " compiled expression", Value: mj.NsPerPoint, Unit: "ns/point"})
-	src := "the page's hook"
-	if page <= 0 {
-		src = "the harness's probe"
-	}
-	rep.add(atLeast(measure{Group: g, Name: "speed-up over mathjs", Value: mj.NsPerPoint / comp.NsPerPoint, Unit: "x", Detail: "compiled model through " + src}, 20, ">= 20x"))
-	rep.add(atMost(measure{Group: g, Name: "slow-down against hand-written JavaScript", Value: comp.NsPerPoint / hand.NsPerPoint, Unit: "x", Detail: "compiled model through " + src}, 10, "<= 10x"))
+	ratios("probe, same model text", comp.NsPerPoint)
 }
 
 // boxedBanana is testdata/bench/density.js's banana with the grid's box as
