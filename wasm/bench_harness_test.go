@@ -485,6 +485,9 @@ func gridThroughput(t *testing.T, b *browser, srv *siteServer, rep *report) {
 	} else {
 		rep.note("grid throughput: %s; the ratios use the harness's probe", pageNote)
 	}
+	rep.add(measure{Group: g, Name: "hand-written JavaScript", Value: hand.NsPerPoint, Unit: "ns/point", Detail: "testdata/bench/density.js"})
+	rep.add(measure{Group: g, Name: "mathjs " + mj.Version + " compiled expression", Value: mj.NsPerPoint, Unit: "ns/point",
+		Detail: "math.compile(...).evaluate(scope) per point"})
 	ratios := func(label string, ns float64) {
 		rep.add(atLeast(measure{Group: g, Name: "speed-up over mathjs, " + label, Value: mj.NsPerPoint / ns, Unit: "x"}, 20, ">= 20x"))
 		rep.add(atMost(measure{Group: g, Name: "slow-down against hand-written JavaScript, " + label, Value: ns / hand.NsPerPoint, Unit: "x"}, 10, "<= 10x"))
