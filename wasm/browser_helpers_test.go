@@ -151,34 +151,43 @@ func startBrowser(tb testing.TB, exe string, w, h int) *browser {
 }
 
 // probeJS runs in every document a tab loads, before the page's scripts.
-// It records, in window.__bc: each change of the page's run status (the
-// element .run-status), counting the changes to "analysed in ..." (a result
-// shown) and the moment after the next frame is painted; the long tasks the
-// browser reports (PerformanceObserver "longtask"); and it offers edit(text),
-// which replaces the editor's text as typing does (an input event) and notes
-// the moment.
+// It records, in window.__bc: each new result the page shows (the results
+// area #bc-output turning to data-state "ready" with a new
+// data-result-gen, app/ui's hook) and the moment after the next frame is
+// painted; the failed analyses (data-state "error"); the page's run status
+// text (.run-status) as it changes; the long tasks the browser reports
+// (PerformanceObserver "longtask"); and it offers edit(text), which
+// replaces the editor's text as typing does (an input event) and notes the
+// moment.
 const probeJS = `(() => {
   if (window.__bc) return;
   const st = {done: 0, failed: 0, doneAt: [], drawnAt: [], editAt: 0, status: "", tasks: [], log: []};
   window.__bc = st;
-  let last = null;
+  let last = null, lastState = null, lastGen = null;
   const check = () => {
+    const now = performance.now();
     const el = document.querySelector(".run-status");
     const t = el ? el.textContent.trim() : "";
-    if (t === last) return;
-    last = t;
-    st.status = t;
-    const now = performance.now();
-    if (st.log.length < 2000) st.log.push([Math.round(now), t]);
-    if (t.startsWith("analysed in")) {
+    if (t !== last) {
+      last = t;
+      st.status = t;
+      if (st.log.length < 2000) st.log.push([Math.round(now), t]);
+    }
+    const out = document.getElementById("bc-output");
+    if (!out) return;
+    const state = out.dataset.state, gen = out.dataset.resultGen;
+    if (state === "ready" && gen !== lastGen) {
+      lastGen = gen;
       st.done++;
       st.doneAt.push(now);
       requestAnimationFrame(() => setTimeout(() => st.drawnAt.push(performance.now()), 0));
-    } else if (t.startsWith("the analysis failed")) {
+    } else if (state === "error" && lastState !== "error") {
       st.failed++;
     }
+    lastState = state;
   };
-  new MutationObserver(check).observe(document, {subtree: true, childList: true, characterData: true});
+  new MutationObserver(check).observe(document, {subtree: true, childList: true, characterData: true,
+    attributes: true, attributeFilter: ["data-state", "data-result-gen"]});
   try {
     new PerformanceObserver((list) => {
       for (const e of list.getEntries()) st.tasks.push([e.startTime, e.duration]);

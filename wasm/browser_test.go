@@ -324,16 +324,19 @@ func checkPlots(panels []panelInk, d int) []string {
 	return problems
 }
 
-// readyJS reports whether the page shows a current result of the model
-// whose parameters are given, with the editor holding src.
+// readyJS reports whether the page shows a current result (the results
+// area's data-state is "ready") of the model whose parameters are given,
+// with the editor holding src.
 func readyJS(src string, params []string) string {
 	p, _ := json.Marshal(params)
 	return `(() => {
   const ta = document.getElementById("bc-model");
   if (!ta || ta.value !== ` + jsString(src) + `) return false;
+  const out = document.getElementById("bc-output");
   const st = (document.querySelector(".run-status") || {}).textContent || "";
-  if (st.startsWith("the analysis failed")) return "failed: " + st;
-  if (!st.startsWith("analysed in")) return false;
+  if (!out) return false;
+  if (out.dataset.state === "error") return "failed: " + st;
+  if (out.dataset.state !== "ready") return false;
   const t = document.querySelector("table.results");
   if (!t || t.classList.contains("stale") || document.querySelector(".plots.stale")) return false;
   const secs = [...t.querySelectorAll("tbody tr.sec")].map((e) => e.textContent.trim());
