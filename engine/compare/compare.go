@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"time"
 
 	"gonum.org/v1/gonum/integrate/quad"
 	"gonum.org/v1/gonum/mat"
@@ -353,7 +354,7 @@ func Compare(g *grid.Grid, qs []Gaussian, s Settings) ([]Result, error) {
 			res.KLqp = math.Inf(1)
 		}
 		if (!gp.resolved || math.Abs(gp.qmass-1) > tol) && s.Density != nil {
-			kl, hel, err := cubature(s.Density, gp, logZ, s.Order, s.Progress)
+			kl, hel, err := cubature(s.Context, s.Density, gp, logZ, s.Order, s.Progress)
 			if err != nil {
 				return nil, fmt.Errorf("gaussian %d: %w", i, err)
 			}
@@ -643,7 +644,7 @@ func klpq(g *grid.Grid, gp *gaussianPrep) float64 {
 // Gauss-Hermite rule in q's coordinates z = m + sqrt(2) L u, with p
 // normalised by the grid's log Z; both are NaN where log p is NaN or +Inf
 // at a node.
-func cubature(p target.Density, gp *gaussianPrep, logZ float64, order int, progress func(float64)) (kl, hel float64, err error) {
+func cubature(ctx context.Context, p target.Density, gp *gaussianPrep, logZ float64, order int, progress func(float64)) (kl, hel float64, err error) {
 	d := len(gp.mean)
 	if order <= 0 {
 		order = [...]int{64, 24, 12, 8}[min(d, 4)-1]
@@ -686,18 +687,31 @@ func cubature(p target.Density, gp *gaussianPrep, logZ float64, order int, progr
 		lqs[i] = gp.logNorm - m2/2
 	}
 	out := make([]float64, n)
-	// In blocks, so that progress reports keep coming (the density may be
-	// costly).
-	const block = 512
+	// In blocks, so that progress reports keep coming and cancellation
+	// is seen: 16 points first, then as many as the last block's time says
+	// fit in 4 ms (up to 512; the density may be costly).
+	const maxBlock = 512
+	const aim = 4 * time.Millisecond
+	block := 16
 	part := make([][]float64, d)
-	for i0 := 0; i0 < n; i0 += block {
-		i1 := min(i0+block, n)
+	for i0, i1 := 0, 0; i0 < n; i0 = i1 {
+		i1 = min(i0+block, n)
 		for k := range part {
 			part[k] = cols[k][i0:i1]
 		}
+		t0 := time.Now()
 		p.LogDensityBlock(part, out[i0:i1])
+		block = maxBlock
+		if el := time.Since(t0); el > 0 {
+			block = int(min(max(1, float64(i1-i0)*float64(aim)/float64(el)), maxBlock))
+		}
 		if progress != nil {
 			progress(1)
+		}
+		if ctx != nil {
+			if err := ctx.Err(); err != nil {
+				return 0, 0, err
+			}
 		}
 	}
 	eLogP, bhat := 0.0, 0.0

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"time"
 
 	"bellcheck/engine/target"
 	"bellcheck/engine/transform"
@@ -187,6 +188,14 @@ func Evaluate(ctx context.Context, p target.Density, box Box, s Settings) (*Grid
 	return g, nil
 }
 
+// The first call of the density takes chunkProbe points; the calls that
+// follow take as many as the time of the last one says fit in chunkAim (up
+// to the whole block).
+const (
+	chunkProbe = 16
+	chunkAim   = 4 * time.Millisecond
+)
+
 // evaluate fills LogP by blocks of whole lines along the last axis.
 func (g *Grid) evaluate(ctx context.Context, p target.Density, blockSize int, progress func(float64)) error {
 	d := g.Dim
@@ -202,6 +211,8 @@ func (g *Grid) evaluate(ctx context.Context, p target.Density, blockSize int, pr
 	bufLen := linesPerBlock * nLast
 	buf := make([]float64, d*bufLen)
 	cols := make([][]float64, d)
+	sub := make([][]float64, d)
+	chunk := min(bufLen, chunkProbe) // until the first call has been timed
 	ix := make([]int, d)
 	g.Max = math.Inf(-1)
 	g.ArgMax = -1
@@ -226,7 +237,27 @@ func (g *Grid) evaluate(ctx context.Context, p target.Density, blockSize int, pr
 			copy(cols[d-1][l*nLast:(l+1)*nLast], g.Nodes[d-1])
 		}
 		out := g.LogP[line0*nLast : line0*nLast+n]
-		p.LogDensityBlock(cols, out)
+		// Call the density on chunks of the block, fewer points where it
+		// is costly (a long data vector it cannot reduce), so that the
+		// context and the progress are looked at every few milliseconds.
+		for a, b := 0, 0; a < n; a = b {
+			b = min(a+chunk, n)
+			for k := range cols {
+				sub[k] = cols[k][a:b]
+			}
+			t0 := time.Now()
+			p.LogDensityBlock(sub, out[a:b])
+			chunk = bufLen
+			if el := time.Since(t0); el > 0 {
+				chunk = int(min(max(1, float64(b-a)*float64(chunkAim)/float64(el)), float64(bufLen)))
+			}
+			if b < n {
+				if err := ctx.Err(); err != nil {
+					return err
+				}
+				progress((float64(line0) + float64(b)/float64(nLast)) / float64(nLines))
+			}
+		}
 		for i, v := range out {
 			switch {
 			case math.IsNaN(v) || math.IsInf(v, 1):
