@@ -496,6 +496,12 @@ func (v *viSolver) check(cur, scratch *viState, order int) (elboDiff, residual f
 	return math.Abs(scratch.elbo - cur.elbo), math.Max(gr, pr)
 }
 
+// negligibleNode is the cubature weight below which a node where log p is
+// -Inf is left out rather than taken for a zero of the density: q holds
+// less mass than that there (the outermost nodes of the 80-node rule, at
+// 13 sd, weigh 6e-38).
+const negligibleNode = 1e-30
+
 // evaluate fills st's expectations, ELBO and packed map residual by
 // cubature over N(st.mu, st.l st.lᵀ).
 func (v *viSolver) evaluate(st *viState) error {
@@ -518,6 +524,13 @@ func (v *viSolver) evaluate(st *viState) error {
 		}
 		f := v.p.LogDensityDerivs(v.x, v.grad, v.hess)
 		if math.IsInf(f, -1) {
+			if w < negligibleNode {
+				// Far out in q's tail: a density that underflowed there (as
+				// 1 - x does on the logit scale beyond z = 37) more likely
+				// than one that is zero; the node's part of any log p down
+				// to -1e15 would be below rounding.
+				continue
+			}
 			return v.infiniteKL()
 		}
 		if math.IsNaN(f) || math.IsInf(f, 1) {
