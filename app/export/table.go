@@ -191,7 +191,7 @@ var latexText = map[rune]string{
 	'<':      `\textless{}`,
 	'>':      `\textgreater{}`,
 	'|':      `\textbar{}`,
-	'"':      `\textquotedbl{}`,
+	'"':      `''`, // a bare " may be a babel shorthand; \textquotedbl needs T1
 	'\n':     ` `,
 	'\r':     ` `,
 	'\t':     ` `,
@@ -211,15 +211,51 @@ var latexText = map[rune]string{
 	'\u2009': `\,`, // thin space
 }
 
+// greek maps the Greek letters a parameter name may hold (the model
+// language takes any letter) to math commands, since pdfLaTeX's UTF-8 input
+// does not set them up; capitals that look like Latin ones become those.
+var greek = func() map[rune]string {
+	m := map[rune]string{}
+	lower := []string{"alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "iota", "kappa", "lambda", "mu",
+		"nu", "xi", "", "pi", "rho", "varsigma", "sigma", "tau", "upsilon", "phi", "chi", "psi", "omega"}
+	for i, name := range lower {
+		r := 'α' + rune(i)
+		if name == "" {
+			m[r] = "o"
+		} else {
+			m[r] = `\ensuremath{\` + name + `}`
+		}
+	}
+	upper := []string{"A", "B", `\Gamma`, `\Delta`, "E", "Z", "H", `\Theta`, "I", "K", `\Lambda`, "M",
+		"N", `\Xi`, "O", `\Pi`, "P", "", `\Sigma`, "T", `\Upsilon`, `\Phi`, "X", `\Psi`, `\Omega`}
+	for i, name := range upper {
+		r := 'Α' + rune(i)
+		switch {
+		case name == "":
+		case strings.HasPrefix(name, `\`):
+			m[r] = `\ensuremath{` + name + `}`
+		default:
+			m[r] = name
+		}
+	}
+	return m
+}()
+
 // EscapeLaTeX makes s safe as LaTeX text: the ten special characters
-// (\ { } $ & # % _ ~ ^) and < > | " print as themselves, line breaks become
-// spaces, and the mathematical symbols the page uses (− ≥ ‖ ∞ × ± ∈ …)
-// become the matching commands. Other characters pass through (LaTeX reads
-// UTF-8 by default).
+// (\ { } $ & # % _ ~ ^) and < > | print as themselves, " as a closing
+// double quote, line breaks become spaces, Greek letters and the
+// mathematical symbols the page uses (− ≥ ‖ ∞ × ± ∈ …) become the matching
+// commands. Other characters pass through: LaTeX reads UTF-8 by default,
+// and pdfLaTeX knows the accented Latin letters (other scripts need
+// XeLaTeX or LuaLaTeX).
 func EscapeLaTeX(s string) string {
 	var b strings.Builder
 	for _, r := range s {
 		if rep, ok := latexText[r]; ok {
+			b.WriteString(rep)
+			continue
+		}
+		if rep, ok := greek[r]; ok {
 			b.WriteString(rep)
 			continue
 		}

@@ -12,7 +12,7 @@ import (
 // hostile is text a parameter name, a label or a value must not be able to
 // turn into markup: every LaTeX special, Markdown's cell and markup
 // characters, HTML, a line break and a LaTeX command.
-const hostile = `a_b%c&d#e$f{g}h~i^j\k|l*m<script>n` + "\n" + `\input{/etc/passwd}` + "`o`[p](q)"
+const hostile = `a_b%c&d#e$f{g}h~i^j\k|l*m<script>n"q"` + "\n" + `\input{/etc/passwd}` + "`o`[p](q)"
 
 func sampleTable() Table {
 	return Table{
@@ -25,6 +25,7 @@ func sampleTable() Table {
 			{Title: hostile, Rows: []Row{
 				{Label: hostile, Cells: []Cell{{Text: hostile, Note: hostile, Best: true}, {Text: "≥ −3.25"}, {Text: "∞"}}},
 				{Label: "KL(q‖p)", Cells: []Cell{{}, {Text: "0.01"}, {Text: "×1.02"}}},
+				{Label: "corr(σ_1, θ, Ωü)", Cells: []Cell{{Text: "0.5"}, {Text: "0.4"}, {Text: "0.4"}}},
 			}},
 		},
 		Note: "● closest; " + hostile,
@@ -66,9 +67,9 @@ func TestMarkdownTableIsWellFormed(t *testing.T) {
 		}
 		table = append(table, l)
 	}
-	// header + delimiter + 2 group titles + 4 rows
-	if len(table) != 8 {
-		t.Fatalf("%d table lines, want 8:\n%s", len(table), md)
+	// header + delimiter + 2 group titles + 5 rows
+	if len(table) != 9 {
+		t.Fatalf("%d table lines, want 9:\n%s", len(table), md)
 	}
 	delim := regexp.MustCompile(`^\s*:?-{3,}:?\s*$`)
 	rawTag := regexp.MustCompile(`(^|[^\\])<`) // a '<' without a backslash
@@ -98,7 +99,7 @@ func TestMarkdownTableIsWellFormed(t *testing.T) {
 	if !strings.Contains(md, `**0.2 (+0.05 sd)**`) {
 		t.Errorf("best cell not bold:\n%s", md)
 	}
-	if !strings.Contains(md, `a\_b%c\&d\#e$f{g}h\~i^j\\k\|l\*m\<script\>n \\input{/etc/passwd}\`+"`"+`o\`+"`"+`\[p\](q)`) {
+	if !strings.Contains(md, `a\_b%c\&d\#e$f{g}h\~i^j\\k\|l\*m\<script\>n"q" \\input{/etc/passwd}\`+"`"+`o\`+"`"+`\[p\](q)`) {
 		t.Errorf("hostile text not escaped as expected:\n%s", md)
 	}
 }
@@ -108,8 +109,9 @@ var latexCommands = map[string]bool{
 	`\begin`: true, `\end`: true, `\hline`: true, `\multicolumn`: true, `\textbf`: true, `\footnotesize`: true,
 	`\\`: true, `\{`: true, `\}`: true, `\$`: true, `\&`: true, `\#`: true, `\%`: true, `\_`: true, `\,`: true,
 	`\textbackslash`: true, `\textasciitilde`: true, `\textasciicircum`: true, `\textless`: true, `\textgreater`: true,
-	`\textbar`: true, `\textquotedbl`: true, `\ensuremath`: true, `\geq`: true, `\leq`: true, `\|`: true,
+	`\textbar`: true, `\ensuremath`: true, `\geq`: true, `\leq`: true, `\|`: true,
 	`\infty`: true, `\times`: true, `\pm`: true, `\in`: true, `\bullet`: true, `\ldots`: true,
+	`\sigma`: true, `\theta`: true, `\Omega`: true,
 }
 
 // latexTokens scans LaTeX the way TeX's eyes do (a backslash starts a
@@ -162,7 +164,7 @@ func TestLaTeXEscapesSoNothingBreaksTheDocument(t *testing.T) {
 		}
 	}
 	// The only specials left are the column separators: 3 per row line
-	// (4 columns) on the header and the 4 rows.
+	// (4 columns) on the header and the 5 rows.
 	amp := 0
 	for _, r := range specials {
 		if r != '&' {
@@ -171,8 +173,8 @@ func TestLaTeXEscapesSoNothingBreaksTheDocument(t *testing.T) {
 			amp++
 		}
 	}
-	if amp != 3*5 {
-		t.Errorf("%d column separators, want 15:\n%s", amp, tex)
+	if amp != 3*6 {
+		t.Errorf("%d column separators, want 18:\n%s", amp, tex)
 	}
 	if !strings.HasPrefix(tex, `\begin{tabular}{lrrr}`) || !strings.Contains(tex, `\end{tabular}`) {
 		t.Errorf("not a tabular:\n%s", tex)
@@ -187,7 +189,7 @@ func TestLaTeXEscapesSoNothingBreaksTheDocument(t *testing.T) {
 	escapes := []struct{ in, want string }{
 		{`\`, `\textbackslash{}`}, {`{`, `\{`}, {`}`, `\}`}, {`$`, `\$`}, {`&`, `\&`}, {`#`, `\#`},
 		{`%`, `\%`}, {`_`, `\_`}, {`~`, `\textasciitilde{}`}, {`^`, `\textasciicircum{}`},
-		{"a\nb", "a b"}, {"x\x00y", "xy"}, {"ü", "ü"},
+		{"a\nb", "a b"}, {"x\x00y", "xy"}, {"ü", "ü"}, {"σ", `\ensuremath{\sigma}`}, {"Β", "B"}, {"ο", "o"},
 	}
 	for _, e := range escapes {
 		if got := EscapeLaTeX(e.in); got != e.want {

@@ -161,7 +161,8 @@ func apiModelError(err error) error {
 
 // TimeGrid is the answer of timeGrid.
 type TimeGrid struct {
-	// MS is the time spent in LogDensityBlock, in milliseconds.
+	// MS is the time of the evaluation loop (LogDensityBlock over every
+	// block, and filling the blocks' columns), in milliseconds.
 	MS float64 `json:"ms"`
 	// Points is the number of points evaluated (n*n).
 	Points int `json:"points"`

@@ -3,8 +3,6 @@ package ui
 import (
 	"math"
 
-	"gonum.org/v1/gonum/integrate/quad"
-
 	"bellcheck/engine"
 )
 
@@ -39,10 +37,18 @@ func Pushforward(sc engine.Scale, lo, hi, m, s float64) (mean, sd float64) {
 		return mean, sd
 	case engine.Logit:
 		g := func(t float64) float64 { return Back(sc, lo, hi, m+math.Sqrt2*s*t) }
-		inf := math.Inf(1)
-		e1 := quad.Fixed(g, -inf, inf, hermiteNodes, quad.Hermite{}, 0) / math.SqrtPi
-		c := func(t float64) float64 { d := g(t) - e1; return d * d }
-		e2 := quad.Fixed(c, -inf, inf, hermiteNodes, quad.Hermite{}, 0) / math.SqrtPi
+		xs, ws := hermiteRule()
+		e1 := 0.0
+		for i, t := range xs {
+			e1 += ws[i] * g(t)
+		}
+		e1 /= math.SqrtPi
+		e2 := 0.0
+		for i, t := range xs {
+			d := g(t) - e1
+			e2 += ws[i] * d * d
+		}
+		e2 /= math.SqrtPi
 		return e1, math.Sqrt(e2)
 	}
 	return m, s

@@ -107,7 +107,11 @@ func (p *Page) toolbar() app.UI {
 					app.Button().Type("button").ID(CopyEmbedID).Class("tool-btn primary").Text("Copy embed code").
 						OnClick(func(ctx app.Context, e app.Event) { p.CopyEmbed(ctx) }),
 				),
-				app.P().Class("menu-note").Text("The frame takes the height of its content when the page runs the small resize script of web/embed-example.html (README: Embedding). Saved work in this browser is not touched by embeds."),
+				app.P().Class("menu-note").Body(
+					app.Text("The frame takes the height of its content when the host page runs the small resize script of the "),
+					app.A().Href("web/embed-example.html").Target("_blank").Rel("noopener").Text("example host page"),
+					app.Text(". Embeds never touch the work saved in this browser."),
+				),
 			),
 		),
 		app.Details().ID(ExportMenuID).Class("menu").Body(

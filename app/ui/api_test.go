@@ -1,0 +1,155 @@
+package ui
+
+import (
+	"encoding/json"
+	"errors"
+	"math"
+	"strings"
+	"testing"
+
+	"bellcheck/engine/model"
+)
+
+// jsArgs encodes arguments as the browser hands them to the API: each as
+// its JSON.stringify text.
+func jsArgs(t *testing.T, args ...any) []string {
+	t.Helper()
+	out := make([]string, len(args))
+	for i, a := range args {
+		b, err := json.Marshal(a)
+		if err != nil {
+			t.Fatal(err)
+		}
+		out[i] = string(b)
+	}
+	return out
+}
+
+func TestAPIAnalyseReturnsTheCommandLineJSON(t *testing.T) {
+	out, err := APIAnalyse(jsArgs(t, "param x\nld_normal(x, 1.5, 2)\n"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var r struct {
+		Params []string `json:"params"`
+		Exact  struct {
+			LogZ float64   `json:"log_z"`
+			Mean []float64 `json:"mean"`
+			SD   []float64 `json:"sd"`
+		} `json:"exact"`
+		Plots json.RawMessage `json:"plots"`
+	}
+	if err := json.Unmarshal([]byte(out), &r); err != nil {
+		t.Fatalf("not JSON: %v", err)
+	}
+	// A normalised density: log Z = 0; mean 1.5, sd 2 (the normal's own
+	// parameters; the grid's accuracy is far better than 1e-6 here).
+	if len(r.Params) != 1 || r.Params[0] != "x" || math.Abs(r.Exact.LogZ) > 1e-6 ||
+		math.Abs(r.Exact.Mean[0]-1.5) > 1e-6 || math.Abs(r.Exact.SD[0]-2) > 1e-6 {
+		t.Errorf("result %+v", r)
+	}
+	if r.Plots != nil {
+		t.Error("plots in the result without asking")
+	}
+	// Options in engine.Options' JSON shape.
+	out, err = APIAnalyse(jsArgs(t, "param s in [0, inf]\nld_gamma(s, 3, 2)\n",
+		map[string]any{"params": []any{map[string]any{"scale": "log", "points": 151}}, "plots": true}))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var r2 struct {
+		Scales []string `json:"scales"`
+		Grid   struct {
+			Points []int `json:"points"`
+		} `json:"grid"`
+		Plots json.RawMessage `json:"plots"`
+	}
+	if err := json.Unmarshal([]byte(out), &r2); err != nil {
+		t.Fatal(err)
+	}
+	if len(r2.Scales) != 1 || r2.Scales[0] != "log" || len(r2.Grid.Points) != 1 || r2.Grid.Points[0] != 151 || r2.Plots == nil {
+		t.Errorf("options not applied: %+v", r2)
+	}
+}
+
+func TestAPIAnalyseRejectsWithWhereAndWhat(t *testing.T) {
+	cases := []struct {
+		name string
+		args []string
+		want string
+	}{
+		{"model error", jsArgs(t, "param x\nld_normal(x, 0, 1"), "model error at 2:"},
+		{"unknown name", jsArgs(t, "ld_nromal(x, 0, 1)"), "model error at 1:1:"},
+		{"not a string", jsArgs(t, 42), "modelText must be a string"},
+		{"no argument", nil, "one or two arguments"},
+		{"undefined", []string{""}, "modelText must be a string"},
+		{"unknown option", jsArgs(t, "-x^2", map[string]any{"bogus": 1}), `unknown field "bogus"`},
+		{"bad scale", jsArgs(t, "-x^2", map[string]any{"params": []any{map[string]any{"scale": "sqrt"}}}), "unknown scale"},
+		{"too many points", jsArgs(t, "-x^2", map[string]any{"params": []any{map[string]any{"points": 1e6}}}), "grid points"},
+		{"lo above hi", jsArgs(t, "-x^2", map[string]any{"params": []any{map[string]any{"lo": 2, "hi": 1}}}), "not below"},
+		{"scale against support", jsArgs(t, "-x^2", map[string]any{"params": []any{map[string]any{"scale": "log"}}}), "bad options"},
+	}
+	for _, c := range cases {
+		_, err := APIAnalyse(c.args)
+		if err == nil || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%s: error %v, want one containing %q", c.name, err, c.want)
+		}
+	}
+	// The position is the parser's (line 2, after the last character).
+	_, err := APIAnalyse(jsArgs(t, "param x\nld_normal(x, 0, 1"))
+	if !strings.HasPrefix(err.Error(), "model error at 2:18:") {
+		t.Errorf("model error %q, want it at 2:18", err)
+	}
+	if _, err := APIAnalyse(jsArgs(t, "-x^2", nil)); err != nil {
+		t.Errorf("null options: %v", err)
+	}
+}
+
+func TestAPITimeGrid(t *testing.T) {
+	out, err := APITimeGrid(jsArgs(t, "param x in [-20, 20]\nparam y in [-10, 15]\n-x^2/200 - (y + 0.05*x^2 - 5)^2/2\n", 101))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var tg TimeGrid
+	if err := json.Unmarshal([]byte(out), &tg); err != nil {
+		t.Fatal(err)
+	}
+	if tg.Points != 101*101 || !(tg.MS > 0) {
+		t.Errorf("timeGrid %+v", tg)
+	}
+	for _, c := range []struct {
+		args []string
+		want error
+		text string
+	}{
+		{jsArgs(t, "-x^2", 10), ErrAPIDim, "two parameters"},
+		{jsArgs(t, "-x^2-y^2", 1), ErrAPIArgs, "whole number"},
+		{jsArgs(t, "-x^2-y^2", 10.5), ErrAPIArgs, "whole number"},
+		{jsArgs(t, "-x^2-y^2", MaxTimeGrid+1), ErrAPIArgs, "whole number"},
+		{jsArgs(t, "-x^2-y^2", "10"), ErrAPIArgs, "whole number"},
+		{jsArgs(t, "-x^2-y^2"), ErrAPIArgs, "two arguments"},
+	} {
+		_, err := APITimeGrid(c.args)
+		if !errors.Is(err, c.want) || !strings.Contains(err.Error(), c.text) {
+			t.Errorf("timeGrid%v: %v, want %v (%q)", c.args, err, c.want, c.text)
+		}
+	}
+	if _, err := APITimeGrid(jsArgs(t, "-x^2-(y", 10)); err == nil || !strings.Contains(err.Error(), "model error at 1:") {
+		t.Errorf("model error: %v", err)
+	}
+}
+
+func TestTimeBoxFollowsTheSupport(t *testing.T) {
+	// Box of each support kind, as documented on APITimeGrid.
+	m, err := model.Parse("param a in [1, 3]\nparam b in [2, inf]\nparam c in [-inf, 0]\nparam d\na+b+c+d")
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := [][2]float64{{1, 3}, {2, 12}, {-10, 0}, {-5, 5}}
+	for i, p := range m.Params {
+		lo, hi := timeBox(p)
+		if lo != want[i][0] || hi != want[i][1] {
+			t.Errorf("%s: [%v, %v], want %v", p.Name, lo, hi, want[i])
+		}
+	}
+}

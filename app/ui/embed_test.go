@@ -1,0 +1,244 @@
+package ui
+
+import (
+	"context"
+	"errors"
+	"html"
+	"regexp"
+	"strings"
+	"testing"
+
+	"github.com/maxence-charriere/go-app/v10/pkg/app"
+
+	"bellcheck/app/export"
+	"bellcheck/app/share"
+	"bellcheck/engine"
+	"bellcheck/engine/model"
+)
+
+func embedLinkOf(t *testing.T, src string, ro, fold bool) string {
+	t.Helper()
+	f, err := share.Encode(share.State{Model: src, View: share.View{Embed: true, ReadOnly: ro, EditorCollapsed: fold}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return f
+}
+
+func TestEmbedLinkLeavesSavedWorkAlone(t *testing.T) {
+	b := newMemBrowser(embedLinkOf(t, srcB, false, false))
+	saved := link(t, srcA)
+	b.items[WorkKey] = saved
+	h, e := openWith(t, b)
+	p := h.page
+	if !p.mode.Embed || p.text != srcB {
+		t.Fatalf("embed link: mode %+v, text %q", p.mode, p.text)
+	}
+	if p.notice.Text != "" {
+		t.Errorf("an embed shows a notice about saved work: %q", p.notice.Text)
+	}
+	// Editing in the embed keeps the state in the frame's URL, never in the
+	// storage the calculator on its own uses.
+	p.Input(h.ctx, srcB+"# edited\n")
+	e.ConsumeAll()
+	if b.items[WorkKey] != saved {
+		t.Error("the embed overwrote the saved work")
+	}
+	if _, ok := b.items[EarlierKey]; ok {
+		t.Error("the embed wrote the earlier-work key")
+	}
+	st, err := share.Decode(b.frag)
+	if err != nil || !st.View.Embed || st.Model != srcB+"# edited\n" {
+		t.Errorf("the frame's URL holds %+v (%v), want the edited embed state", st, err)
+	}
+	// A new embed link pasted into the frame's address opens directly.
+	b.frag = embedLinkOf(t, srcA, true, true)
+	p.OpenLink(h.ctx)
+	e.ConsumeAll()
+	if p.text != srcA || !p.mode.ReadOnly || !p.folded || p.notice.Text != "" {
+		t.Errorf("after a new embed link: text %q, mode %+v, folded %v, notice %q", p.text, p.mode, p.folded, p.notice.Text)
+	}
+}
+
+func TestBrokenEmbedLinkInAFrameStaysEmbedded(t *testing.T) {
+	// A page already in the embed view (as in a frame) given a damaged
+	// link shows the notice and the default example, still embedded, and
+	// leaves the storage alone.
+	b := newMemBrowser("b1.AAAA")
+	b.items[WorkKey] = link(t, srcA)
+	h, e := mount(t, analyseFixture)
+	p := h.page
+	p.browser = b
+	p.mode.Embed = true
+	p.open(h.ctx)
+	e.ConsumeAll()
+	if !p.mode.Embed || !p.notice.Warn || !strings.Contains(p.notice.Text, "damaged") {
+		t.Errorf("mode %+v, notice %+v", p.mode, p.notice)
+	}
+	if b.items[WorkKey] != link(t, srcA) {
+		t.Error("the embed overwrote the saved work")
+	}
+}
+
+func TestEmbedViewRendersCompactAndReadOnly(t *testing.T) {
+	b := newMemBrowser(embedLinkOf(t, srcA, true, true))
+	h, e := openWith(t, b)
+	p := h.page
+	out := app.HTMLString(p.Render())
+	for _, want := range []string{`id="` + EmbedToggleID + `"`, `id="` + OpenFullID + `"`, `id="` + RootID + `"`, `id="` + OutputID + `"`, "read-only"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("embed view lacks %s", want)
+		}
+	}
+	for _, absent := range []string{`id="bc-h-examples"`, `id="bc-h-params"`, `id="` + CopyLinkID + `"`, `id="bc-h-modes"`} {
+		if strings.Contains(out, absent) {
+			t.Errorf("embed view has %s", absent)
+		}
+	}
+	if !regexp.MustCompile(`<textarea[^>]*\breadonly\b[^>]*id="bc-model"|<textarea[^>]*id="bc-model"[^>]*\breadonly\b`).MatchString(out) {
+		t.Error("the read-only embed's editor is not read-only")
+	}
+	if !regexp.MustCompile(`id="` + EmbedEditorID + `"[^>]*hidden|hidden[^>]*id="` + EmbedEditorID + `"`).MatchString(out) {
+		t.Error("the folded embed's editor is not hidden")
+	}
+	p.ToggleEditor(h.ctx)
+	e.ConsumeAll()
+	if p.folded {
+		t.Error("the toggle did not unfold the editor")
+	}
+	// The full link opens the same model outside the embed view.
+	href := regexp.MustCompile(`id="` + OpenFullID + `"[^>]*href="([^"]*)"|href="([^"]*)"[^>]*id="` + OpenFullID + `"`).FindStringSubmatch(out)
+	if href == nil {
+		t.Fatal("no link to the full calculator")
+	}
+	u := html.UnescapeString(href[1] + href[2])
+	i := strings.IndexByte(u, '#')
+	if i < 0 {
+		t.Fatalf("full link %q has no fragment", u)
+	}
+	st, err := share.Decode(u[i+1:])
+	if err != nil || st.Model != srcA || st.View.Embed || st.View.ReadOnly {
+		t.Errorf("full link state %+v (%v)", st, err)
+	}
+}
+
+func TestOutputStateFollowsTheAnalysis(t *testing.T) {
+	release := make(chan struct{})
+	fail := false
+	h, e := mount(t, func(ctx context.Context, m *model.Model, o engine.Options, pr engine.ProgressFunc) (*engine.Result, error) {
+		<-release
+		if fail {
+			return nil, errors.New("boom")
+		}
+		return resultFor(m), nil
+	})
+	p := h.page
+	if got := p.OutputState(); got != StateEmpty {
+		t.Errorf("before any analysis: %q, want %q", got, StateEmpty)
+	}
+	p.text = srcA
+	p.check(h.ctx)
+	if got := p.OutputState(); got != StateRunning {
+		t.Errorf("while the first analysis runs: %q, want %q", got, StateRunning)
+	}
+	go func() { release <- struct{}{} }()
+	e.ConsumeAll()
+	if got := p.OutputState(); got != StateReady {
+		t.Errorf("after it: %q, want %q", got, StateReady)
+	}
+	out := app.HTMLString(p.Render())
+	if !strings.Contains(out, `data-state="ready"`) || !regexp.MustCompile(`data-result-gen="[1-9]`).MatchString(out) {
+		t.Errorf("the results area does not carry its state")
+	}
+	p.Input(h.ctx, bad)
+	if got := p.OutputState(); got != StatePending {
+		t.Errorf("while typing: %q, want %q", got, StatePending)
+	}
+	e.ConsumeAll()
+	if got := p.OutputState(); got != StateInvalid {
+		t.Errorf("with an error in the text: %q, want %q", got, StateInvalid)
+	}
+	fail = true
+	p.Input(h.ctx, srcB)
+	go func() { release <- struct{}{} }()
+	e.ConsumeAll()
+	e.ConsumeAll()
+	if got := p.OutputState(); got != StateError {
+		t.Errorf("after a failed analysis: %q, want %q", got, StateError)
+	}
+}
+
+func TestEmbedSnippetCarriesTheStateAndEscapes(t *testing.T) {
+	st := share.State{Model: srcA}
+	s, err := EmbedSnippet(`https://wiki.example/tools/bellcheck/?a="b"&c=<d>`, st, true, false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	m := regexp.MustCompile(`^<iframe data-bellcheck src="([^"]*)" title="[^"<>]*" width="100%" height="\d+" style="[^"]*" loading="lazy"></iframe>$`).FindStringSubmatch(s)
+	if m == nil {
+		t.Fatalf("snippet is not one well-formed iframe: %s", s)
+	}
+	src := html.UnescapeString(m[1])
+	if !strings.HasPrefix(src, `https://wiki.example/tools/bellcheck/?a="b"&c=<d>#`) {
+		t.Errorf("src %q", src)
+	}
+	got, err := share.Decode(src[strings.IndexByte(src, '#')+1:])
+	if err != nil || got.Model != srcA || !got.View.Embed || !got.View.ReadOnly || got.View.EditorCollapsed {
+		t.Errorf("snippet state %+v (%v)", got, err)
+	}
+}
+
+func TestExportTableMatchesTheResultsTable(t *testing.T) {
+	m, err := model.Parse("param x\nparam y\n-x^2/2 - (y - x)^2/2\n")
+	if err != nil {
+		t.Fatal(err)
+	}
+	secs := Table(resultFor(m), m)
+	tb := ExportTable(secs)
+	if len(tb.Columns) != 5 || len(tb.Groups) != len(secs) {
+		t.Fatalf("%d columns, %d groups; want 5 and %d", len(tb.Columns), len(tb.Groups), len(secs))
+	}
+	for gi, sec := range secs {
+		g := tb.Groups[gi]
+		if g.Title != sec.Title || len(g.Rows) != len(sec.Rows) {
+			t.Errorf("group %d: %q with %d rows, want %q with %d", gi, g.Title, len(g.Rows), sec.Title, len(sec.Rows))
+			continue
+		}
+		for ri, r := range sec.Rows {
+			for k, c := range r.Cells {
+				ec := g.Rows[ri].Cells[k]
+				if ec.Text != c.Text || ec.Note != c.Sub || ec.Best != c.Best {
+					t.Errorf("%s/%s column %d: %+v, want %+v", sec.Title, r.Label, k, ec, c)
+				}
+			}
+		}
+	}
+	if md := export.Markdown(tb); !strings.Contains(md, "| corr(x, y) |") {
+		t.Errorf("Markdown lacks the correlation row:\n%s", md)
+	}
+}
+
+func TestRefusedClipboardOffersTheTextSelected(t *testing.T) {
+	h, e := mount(t, analyseFixture)
+	p := h.page
+	e.ConsumeAll()
+	// Natively the clipboard always fails (jsdom.ErrNoBrowser), as a
+	// browser that refuses it would.
+	p.CopyLink(h.ctx)
+	e.ConsumeAll()
+	if p.tools.field == "" || !p.tools.warn || !strings.Contains(p.tools.msg, "Ctrl+C") {
+		t.Fatalf("no fallback field: %+v", p.tools)
+	}
+	i := strings.IndexByte(p.tools.field, '#')
+	if st, err := share.Decode(p.tools.field[i+1:]); i < 0 || err != nil || st.Model != p.text {
+		t.Errorf("the offered link %q does not hold the model (%v)", p.tools.field, err)
+	}
+	out := app.HTMLString(p.Render())
+	if !strings.Contains(out, `id="`+CopyFieldID+`"`) {
+		t.Error("the read-only field is not on the page")
+	}
+	p.copied(h.ctx, "x", "Copied.", nil)
+	if p.tools.field != "" || p.tools.msg != "Copied." || p.tools.warn {
+		t.Errorf("after a successful copy: %+v", p.tools)
+	}
+}

@@ -1,0 +1,93 @@
+package ui
+
+import (
+	"math"
+	"sync"
+)
+
+// gaussHermite returns the n-point Gauss-Hermite rule for the weight
+// e^(-x^2) on the real line: nodes in increasing order and their weights,
+// so that sum w_i f(x_i) approximates the integral of f(x) e^(-x^2), exactly
+// for polynomials of degree below 2n.
+//
+// The nodes are the zeros of the Hermite polynomial H_n, found by scanning
+// the orthonormal Hermite polynomials p_n (three-term recurrence, no
+// overflow) for sign changes on a fine grid over [-sqrt(2n+1)-1,
+// sqrt(2n+1)+1], which holds every zero, and polishing each by Newton's
+// method (p_n' = sqrt(2n) p_(n-1)) kept inside its bracket; the weights are
+// 2 / p_n'(x)^2. It is meant for the modest n of the page (tens of nodes):
+// the scan costs O(n) evaluations of O(n) each per grid cell.
+//
+// The page computes its rule itself rather than through gonum's
+// quad.Hermite, whose tabulated starting values weigh about 400 kB in the
+// WebAssembly file.
+func gaussHermite(n int) (x, w []float64) {
+	if n < 1 {
+		return nil, nil
+	}
+	// p returns p_n(t) and p_(n-1)(t) for the orthonormal polynomials.
+	p := func(t float64) (pn, pn1 float64) {
+		prev, cur := 0.0, math.Pow(math.Pi, -0.25)
+		for j := 1; j <= n; j++ {
+			prev, cur = cur, math.Sqrt(2/float64(j))*t*cur-math.Sqrt(float64(j-1)/float64(j))*prev
+		}
+		return cur, prev
+	}
+	edge := math.Sqrt(2*float64(n)+1) + 1
+	// Neighbouring zeros are at least about pi / sqrt(2n+1) apart (they
+	// are closest near the middle): 40 cells in that gap keep them apart.
+	cells := int(2*edge/(math.Pi/math.Sqrt(2*float64(n)+1))*40) + 1
+	h := 2 * edge / float64(cells)
+	x = make([]float64, 0, n)
+	w = make([]float64, 0, n)
+	a := -edge
+	fa, _ := p(a)
+	for i := 1; i <= cells && len(x) < n; i++ {
+		b := -edge + float64(i)*h
+		fb, _ := p(b)
+		if fb == 0 || (fa < 0) != (fb < 0) {
+			lo, hi := a, b
+			t := (lo + hi) / 2
+			if fb == 0 {
+				t = b
+			}
+			for range 100 {
+				f, f1 := p(t)
+				if f == 0 {
+					break
+				}
+				if (f < 0) == (fa < 0) {
+					lo = t
+				} else {
+					hi = t
+				}
+				d := math.Sqrt(2*float64(n)) * f1
+				next := t - f/d
+				if !(next > lo && next < hi) {
+					next = (lo + hi) / 2 // Newton left the bracket: bisect
+				}
+				if math.Abs(next-t) <= 1e-15*math.Max(1, math.Abs(t)) {
+					t = next
+					break
+				}
+				t = next
+			}
+			_, f1 := p(t)
+			d := math.Sqrt(2*float64(n)) * f1
+			x = append(x, t)
+			w = append(w, 2/(d*d))
+			if fb == 0 {
+				// b was the zero: start the next cell just past it.
+				b += h / 2
+				fb, _ = p(b)
+				i++
+			}
+		}
+		a, fa = b, fb
+	}
+	return x, w
+}
+
+// hermiteRule is the page's Gauss-Hermite rule of hermiteNodes points,
+// computed once.
+var hermiteRule = sync.OnceValues(func() ([]float64, []float64) { return gaussHermite(hermiteNodes) })
