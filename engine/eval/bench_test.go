@@ -77,6 +77,19 @@ func BenchmarkBananaGridBlock(b *testing.B) {
 	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(len(out)), "ns/point")
 }
 
+// BenchmarkBananaBoundedGridBlock is the banana with supports that hold on
+// the whole grid: the cost of the four support guards beside the free model.
+func BenchmarkBananaBoundedGridBlock(b *testing.B) {
+	ev := mustCompile(b, "param x in [-40, 40]\nparam y in [-40, 40]\n-x^2/200 - (y + 0.05*x^2 - 5)^2/2\n")
+	cols := bananaGrid()
+	out := make([]float64, len(cols[0]))
+	b.ReportAllocs()
+	for b.Loop() {
+		ev.LogDensityBlock(cols, out)
+	}
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(len(out)), "ns/point")
+}
+
 func BenchmarkBananaPointValue(b *testing.B) {
 	ev := mustCompile(b, bananaSrc)
 	x := []float64{1.5, 2}
