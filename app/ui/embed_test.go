@@ -3,7 +3,13 @@ package ui
 import (
 	"context"
 	"errors"
+	"go/ast"
+	"go/parser"
+	"go/printer"
+	"go/token"
 	"html"
+	"os"
+	"path/filepath"
 	"regexp"
 	"strings"
 	"testing"
@@ -240,5 +246,86 @@ func TestRefusedClipboardOffersTheTextSelected(t *testing.T) {
 	p.copied(h.ctx, "x", "Copied.", nil)
 	if p.tools.field != "" || p.tools.msg != "Copied." || p.tools.warn {
 		t.Errorf("after a successful copy: %+v", p.tools)
+	}
+}
+
+func TestHostileModelInAnEmbedLinkIsOnlyText(t *testing.T) {
+	evil := "param x\n<script>alert(1)</script><img src=x onerror=alert(2)>\nld_normal(x, 0, 1)\n"
+	h, _ := openWith(t, newMemBrowser(embedLinkOf(t, evil, true, false)))
+	out := app.HTMLString(h.page.Render())
+	// Take out the editor's value (go-app writes a textarea's text as an
+	// attribute natively; the browser gets the value property).
+	if i := strings.Index(out, `value="param x`); i >= 0 {
+		j := strings.Index(out[i:], `\n"`)
+		if j < 0 {
+			t.Fatal("cannot find the end of the editor's value")
+		}
+		out = out[:i] + out[i+j+len(`\n"`):]
+	}
+	if strings.Contains(out, "<script>alert") || strings.Contains(out, "<img src=x") {
+		t.Error("a link's model text reached the embed view as markup")
+	}
+}
+
+// TestRawHTMLNeverTakesUserText lists every app.Raw call of the package:
+// each must be given the logo constant, a figure's SVG (which escapes every
+// text it holds; app/figure's tests) or the legend swatch built from the
+// methods' fixed styles. A new call fails this test until it is reviewed
+// and added here.
+func TestRawHTMLNeverTakesUserText(t *testing.T) {
+	allowed := map[string]bool{
+		"logoSVG": true,
+		"f.SVG":   true,
+		"`<svg class=\"swatch\" viewBox=\"0 0 28 8\" width=\"28\" height=\"8\" aria-hidden=\"true\" focusable=\"false\"><line x1=\"1\" y1=\"4\" x2=\"27\" y2=\"4\" stroke=\"` + s.Colour + `\" stroke-width=\"` + strconv.FormatFloat(s.Width*1.1, 'f', 2, 64) + `\"` + dash + `/></svg>`": true,
+	}
+	fset := token.NewFileSet()
+	files, err := filepath.Glob("*.go")
+	if err != nil {
+		t.Fatal(err)
+	}
+	calls := 0
+	for _, name := range files {
+		if strings.HasSuffix(name, "_test.go") {
+			continue
+		}
+		f, err := parser.ParseFile(fset, name, nil, 0)
+		if err != nil {
+			t.Fatal(err)
+		}
+		ast.Inspect(f, func(n ast.Node) bool {
+			call, ok := n.(*ast.CallExpr)
+			if !ok {
+				return true
+			}
+			sel, ok := call.Fun.(*ast.SelectorExpr)
+			if !ok || sel.Sel.Name != "Raw" {
+				return true
+			}
+			if id, ok := sel.X.(*ast.Ident); !ok || id.Name != "app" {
+				return true
+			}
+			calls++
+			var b strings.Builder
+			printer.Fprint(&b, fset, call.Args[0])
+			if !allowed[strings.Join(strings.Fields(b.String()), " ")] {
+				t.Errorf("%s: app.Raw(%s) is not a reviewed source of HTML", fset.Position(call.Pos()), b.String())
+			}
+			return true
+		})
+	}
+	if calls == 0 {
+		t.Error("no app.Raw call found: the scan is broken")
+	}
+	// jsdom, the one package with the browser's API, sets no HTML.
+	for _, name := range []string{"../jsdom/dom_js.go", "../jsdom/share_js.go"} {
+		src, err := os.ReadFile(name)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, bad := range []string{"innerHTML", "outerHTML", "insertAdjacentHTML", "document.write", `"eval"`, `"Function"`} {
+			if strings.Contains(string(src), bad) {
+				t.Errorf("%s uses %s", name, bad)
+			}
+		}
 	}
 }
