@@ -4,6 +4,7 @@ import (
 	"math"
 
 	"bellcheck/engine"
+	"bellcheck/engine/hermite"
 )
 
 // hermiteNodes is the Gauss-Hermite rule's size for pushforward moments;
@@ -37,7 +38,7 @@ func Pushforward(sc engine.Scale, lo, hi, m, s float64) (mean, sd float64) {
 		return mean, sd
 	case engine.Logit:
 		g := func(t float64) float64 { return Back(sc, lo, hi, m+math.Sqrt2*s*t) }
-		xs, ws := hermiteRule()
+		xs, ws := hermite.Rule(hermiteNodes)
 		e1 := 0.0
 		for i, t := range xs {
 			e1 += ws[i] * g(t)

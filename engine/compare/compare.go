@@ -7,11 +7,11 @@ import (
 	"math"
 	"time"
 
-	"gonum.org/v1/gonum/integrate/quad"
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat/distuv"
 
 	"bellcheck/engine/grid"
+	"bellcheck/engine/hermite"
 	"bellcheck/engine/target"
 )
 
@@ -649,9 +649,10 @@ func cubature(ctx context.Context, p target.Density, gp *gaussianPrep, logZ floa
 	if order <= 0 {
 		order = [...]int{64, 24, 12, 8}[min(d, 4)-1]
 	}
-	u := make([]float64, order)
-	wu := make([]float64, order)
-	quad.Hermite{}.FixedLocations(u, wu, math.Inf(-1), math.Inf(1))
+	u, wu := hermite.Rule(order) // shared: read only
+	if u == nil {
+		return math.NaN(), math.NaN(), fmt.Errorf("compare: cubature order %d out of range", order)
+	}
 	var L mat.TriDense
 	gp.chol.LTo(&L)
 	n := 1

@@ -4,7 +4,7 @@ import (
 	"fmt"
 	"math"
 
-	"gonum.org/v1/gonum/integrate/quad"
+	"bellcheck/engine/hermite"
 )
 
 // maxNodes caps the size of a tensor cubature rule.
@@ -28,7 +28,7 @@ func defaultOrder(d int) int {
 
 // rule is a tensor-product Gauss-Hermite rule for the standard normal in d
 // dimensions: E[f(Z)] ≈ sum_k w[k] f(z[k*d : k*d+d]). The one-dimensional
-// rule is gonum's quad.Hermite (weight e^(-x^2)); substituting x = z/sqrt(2)
+// rule is package hermite's (weight e^(-x^2)); substituting x = z/sqrt(2)
 // rescales its nodes by sqrt(2) and its weights by 1/sqrt(pi) for the
 // standard normal. The rule is exact for polynomials of degree up to 2n-1
 // in each coordinate.
@@ -49,11 +49,14 @@ func newRule(d, n int) (rule, error) {
 			return rule{}, fmt.Errorf("%w: cubature with %d nodes per axis in %d dimensions has more than %d nodes", ErrBadInput, n, d, maxNodes)
 		}
 	}
+	hx, hw := hermite.Rule(n)
+	if hx == nil {
+		return rule{}, fmt.Errorf("%w: cubature order %d exceeds %d", ErrBadInput, n, hermite.MaxNodes)
+	}
 	x1, w1 := make([]float64, n), make([]float64, n)
-	quad.Hermite{}.FixedLocations(x1, w1, math.Inf(-1), math.Inf(1))
-	for i := range x1 {
-		x1[i] *= math.Sqrt2
-		w1[i] /= math.Sqrt(math.Pi)
+	for i := range hx {
+		x1[i] = hx[i] * math.Sqrt2
+		w1[i] = hw[i] / math.Sqrt(math.Pi)
 	}
 	r := rule{d: d, n: n, z: make([]float64, size*d), w: make([]float64, size)}
 	idx := make([]int, d)

@@ -1,27 +1,42 @@
-package ui
+package hermite
 
 import (
 	"math"
 	"sync"
 )
 
-// gaussHermite returns the n-point Gauss-Hermite rule for the weight
-// e^(-x^2) on the real line: nodes in increasing order and their weights,
-// so that sum w_i f(x_i) approximates the integral of f(x) e^(-x^2), exactly
-// for polynomials of degree below 2n.
-//
-// The nodes are the zeros of the Hermite polynomial H_n, found by scanning
-// the orthonormal Hermite polynomials p_n (three-term recurrence, no
-// overflow) for sign changes on a fine grid over [-sqrt(2n+1)-1,
-// sqrt(2n+1)+1], which holds every zero, and polishing each by Newton's
-// method (p_n' = sqrt(2n) p_(n-1)) kept inside its bracket; the weights are
-// 2 / p_n'(x)^2. It is meant for the modest n of the page (tens of nodes):
-// the scan costs O(n) evaluations of O(n) each per grid cell.
-//
-// The page computes its rule itself rather than through gonum's
-// quad.Hermite, whose tabulated starting values weigh about 400 kB in the
-// WebAssembly file.
-func gaussHermite(n int) (x, w []float64) {
+// MaxNodes is the largest rule Rule computes.
+const MaxNodes = 1000
+
+var cache sync.Map // int -> *cached
+
+type cached struct {
+	once sync.Once
+	x, w []float64
+}
+
+// Rule returns the n-point Gauss-Hermite rule: nodes in increasing order and
+// their weights, so that sum w_i f(x_i) approximates the integral of
+// f(x) e^(-x^2), exactly for polynomials of degree below 2n. The slices are
+// shared between callers and must not be modified. It returns nil slices for
+// n < 1 or n > MaxNodes.
+func Rule(n int) (x, w []float64) {
+	if n < 1 || n > MaxNodes {
+		return nil, nil
+	}
+	v, _ := cache.LoadOrStore(n, &cached{})
+	c := v.(*cached)
+	c.once.Do(func() { c.x, c.w = compute(n) })
+	return c.x, c.w
+}
+
+// compute finds the rule. The nodes are the zeros of the Hermite polynomial
+// H_n, found by scanning the orthonormal Hermite polynomials p_n (three-term
+// recurrence, no overflow) for sign changes on a fine grid over
+// [-sqrt(2n+1)-1, sqrt(2n+1)+1], which holds every zero, and polishing each
+// by Newton's method (p_n' = sqrt(2n) p_(n-1)) kept inside its bracket; the
+// weights are 2 / p_n'(x)^2.
+func compute(n int) (x, w []float64) {
 	if n < 1 {
 		return nil, nil
 	}
@@ -35,8 +50,8 @@ func gaussHermite(n int) (x, w []float64) {
 	}
 	edge := math.Sqrt(2*float64(n)+1) + 1
 	// Neighbouring zeros are at least about pi / sqrt(2n+1) apart (they
-	// are closest near the middle): 40 cells in that gap keep them apart.
-	cells := int(2*edge/(math.Pi/math.Sqrt(2*float64(n)+1))*40) + 1
+	// are closest near the middle): 8 cells in that gap keep them apart.
+	cells := int(2*edge/(math.Pi/math.Sqrt(2*float64(n)+1))*8) + 1
 	h := 2 * edge / float64(cells)
 	x = make([]float64, 0, n)
 	w = make([]float64, 0, n)
@@ -87,7 +102,3 @@ func gaussHermite(n int) (x, w []float64) {
 	}
 	return x, w
 }
-
-// hermiteRule is the page's Gauss-Hermite rule of hermiteNodes points,
-// computed once.
-var hermiteRule = sync.OnceValues(func() ([]float64, []float64) { return gaussHermite(hermiteNodes) })
