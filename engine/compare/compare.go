@@ -8,10 +8,10 @@ import (
 	"time"
 
 	"gonum.org/v1/gonum/mat"
-	"gonum.org/v1/gonum/stat/distuv"
 
 	"bellcheck/engine/grid"
 	"bellcheck/engine/hermite"
+	"bellcheck/engine/special"
 	"bellcheck/engine/target"
 )
 
@@ -147,7 +147,7 @@ func prepare(g *grid.Grid, q Gaussian) (*gaussianPrep, error) {
 	}
 	gp.logDet = gp.chol.LogDet()
 	gp.logNorm = -0.5*float64(d)*math.Log(2*math.Pi) - 0.5*gp.logDet
-	gp.r0 = math.Sqrt(distuv.ChiSquared{K: float64(d)}.Quantile(0.95))
+	gp.r0 = math.Sqrt(special.ChiSquareQuantile(d, 0.95))
 	s := 0.0
 	for k := 0; k < d; k++ {
 		h := g.Spacing(k)

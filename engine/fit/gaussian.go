@@ -5,7 +5,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
-	"gonum.org/v1/gonum/stat/distuv"
+
+	"bellcheck/engine/special"
 )
 
 // Gaussian is a multivariate normal.
@@ -47,7 +48,7 @@ func (g Gaussian) Corr() *mat.SymDense {
 // mass (e.g. 0.95): mean ± z sd with z the standard normal quantile of
 // (1+mass)/2.
 func (g Gaussian) Interval(i int, mass float64) [2]float64 {
-	z := distuv.UnitNormal.Quantile(0.5 + mass/2)
+	z := math.Sqrt2 * math.Erfinv(mass) // the standard normal's (1+mass)/2 quantile
 	m, s := g.Mean[i], math.Sqrt(g.Cov.At(i, i))
 	return [2]float64{m - z*s, m + z*s}
 }
@@ -163,7 +164,7 @@ func KLGaussian(q, p Gaussian) (float64, error) {
 // with d degrees of freedom: a point lies in a d-dimensional Gaussian's
 // central 95 % region when its squared Mahalanobis distance is at most this.
 func Central95Radius2(d int) float64 {
-	return distuv.ChiSquared{K: float64(d)}.Quantile(0.95)
+	return special.ChiSquareQuantile(d, 0.95)
 }
 
 // Evaluator evaluates one Gaussian's log-density and Mahalanobis distance at
