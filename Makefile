@@ -16,8 +16,14 @@ help:
 	@echo "make fuzz    run each fuzz target for FUZZTIME (default $(FUZZTIME))"
 	@echo "make static  write the static site into dist/"
 
+# The page's code is built without inlining (the engine keeps it): it runs
+# once per event, not per grid point, and the wasm must stay under 3 MB
+# gzipped.
+NOINLINE := -gcflags='github.com/maxence-charriere/go-app/v10/...=-l' \
+	-gcflags='bellcheck/app/ui=-l' -gcflags='bellcheck/app/jsdom=-l' -gcflags='bellcheck/app/export=-l'
+
 wasm:
-	GOOS=js GOARCH=wasm $(GO) build -trimpath -ldflags="-s -w" -o web/app.wasm ./wasm
+	GOOS=js GOARCH=wasm $(GO) build -trimpath -ldflags="-s -w" $(NOINLINE) -o web/app.wasm ./wasm
 
 bin:
 	$(GO) build -trimpath -o bin/bellcheck ./wasm
