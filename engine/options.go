@@ -18,7 +18,9 @@ type ParamOptions struct {
 	// Scale is the fitting scale; "" means Identity.
 	Scale Scale `json:"scale,omitempty"`
 	// Points is the number of grid points along this parameter; 0 means the
-	// default for the model's dimension.
+	// default for the model's dimension. At most MaxAxisPoints(d) for d
+	// parameters (Analyse returns ErrOptions beyond), which keeps the
+	// largest analyses within memory.
 	Points int `json:"points,omitempty"`
 	// Lo and Hi, when non-nil, override the box the grid covers (within the
 	// model's support); otherwise the box is found automatically.
