@@ -287,6 +287,25 @@ func codeList(res *Result) string {
 	return "[" + strings.Join(s, " ") + "]"
 }
 
+// resultDoc returns a result's JSON decoded into generic values (the form
+// scripts see) and the set of its diagnostic codes.
+func resultDoc(t *testing.T, res *Result) (any, map[string]bool) {
+	t.Helper()
+	raw, err := json.Marshal(res)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var doc any
+	if err := json.Unmarshal(raw, &doc); err != nil {
+		t.Fatal(err)
+	}
+	codes := map[string]bool{}
+	for _, d := range res.Diagnostics {
+		codes[d.Code] = true
+	}
+	return doc, codes
+}
+
 // jsonAt walks a dotted path ("exact.cov.0.0", "fits.forward_kl") through a
 // decoded JSON document.
 func jsonAt(doc any, path string) (any, bool) {

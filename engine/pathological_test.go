@@ -3,7 +3,6 @@ package engine
 import (
 	"bufio"
 	"context"
-	"encoding/json"
 	"fmt"
 	"math"
 	"os"
@@ -230,18 +229,7 @@ func TestPathological(t *testing.T) {
 }
 
 func checkPatho(t *testing.T, c pathoCase, res *Result) {
-	raw, err := json.Marshal(res)
-	if err != nil {
-		t.Fatal(err)
-	}
-	var doc any
-	if err := json.Unmarshal(raw, &doc); err != nil {
-		t.Fatal(err)
-	}
-	codes := map[string]bool{}
-	for _, d := range res.Diagnostics {
-		codes[d.Code] = true
-	}
+	doc, codes := resultDoc(t, res)
 	for _, ck := range c.checks {
 		where := fmt.Sprintf("%s.txt:%d", c.name, ck.line)
 		switch ck.kind {

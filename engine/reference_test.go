@@ -3,7 +3,6 @@ package engine
 import (
 	"bufio"
 	"context"
-	"encoding/json"
 	"math"
 	"os"
 	"path/filepath"
@@ -117,44 +116,14 @@ func lookup(doc any, path string) (any, bool) {
 	case "laplace", "reverse_kl", "mean_field", "forward_kl":
 		parts = append([]string{"fits"}, parts...)
 	}
-	cur := doc
-	for _, p := range parts {
-		switch v := cur.(type) {
-		case map[string]any:
-			next, ok := v[p]
-			if !ok {
-				return nil, false
-			}
-			cur = next
-		case []any:
-			i, err := strconv.Atoi(p)
-			if err != nil || i < 0 || i >= len(v) {
-				return nil, false
-			}
-			cur = v[i]
-		default:
-			return nil, false
-		}
-	}
-	return cur, true
+	return jsonAt(doc, strings.Join(parts, "."))
 }
 
 func TestReferences(t *testing.T) {
 	for _, c := range loadReferences(t) {
 		t.Run(c.name, func(t *testing.T) {
 			res := analyseSource(t, c.src, c.opts)
-			raw, err := json.Marshal(res)
-			if err != nil {
-				t.Fatal(err)
-			}
-			var doc any
-			if err := json.Unmarshal(raw, &doc); err != nil {
-				t.Fatal(err)
-			}
-			codes := map[string]bool{}
-			for _, d := range res.Diagnostics {
-				codes[d.Code] = true
-			}
+			doc, codes := resultDoc(t, res)
 			for _, l := range c.lines {
 				where := c.name + ".expect:" + strconv.Itoa(l.line)
 				switch l.kind {
