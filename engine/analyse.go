@@ -268,9 +268,10 @@ func (a *analysis) free() [][2]bool {
 	return f
 }
 
-func (a *analysis) evaluateGrid() error {
-	a.tr.enter(stageGrid)
-	g, err := grid.Evaluate(a.ctx, a.p, a.boxRes.Box, grid.Settings{
+// gridOn evaluates the grid on box with the analysis's settings; a
+// cancelled context comes back as its own error.
+func (a *analysis) gridOn(box grid.Box) (*grid.Grid, error) {
+	g, err := grid.Evaluate(a.ctx, a.p, box, grid.Settings{
 		Points:   a.points(),
 		Maps:     a.maps,
 		Free:     a.free(),
@@ -278,9 +279,18 @@ func (a *analysis) evaluateGrid() error {
 	})
 	if err != nil {
 		if ctxErr := a.ctx.Err(); ctxErr != nil {
-			return ctxErr
+			return nil, ctxErr
 		}
-		return fmt.Errorf("engine: evaluating the grid: %w", err)
+		return nil, fmt.Errorf("engine: evaluating the grid: %w", err)
+	}
+	return g, nil
+}
+
+func (a *analysis) evaluateGrid() error {
+	a.tr.enter(stageGrid)
+	g, err := a.gridOn(a.boxRes.Box)
+	if err != nil {
+		return err
 	}
 	// The coarse search can miss thin structures (a curved ridge leaving
 	// through a face); the fine grid shows them. Widen such a face by half
@@ -302,17 +312,9 @@ func (a *analysis) evaluateGrid() error {
 		}
 	}
 	if retry {
-		g2, err := grid.Evaluate(a.ctx, a.p, box, grid.Settings{
-			Points:   a.points(),
-			Maps:     a.maps,
-			Free:     a.free(),
-			Progress: a.tr.at,
-		})
+		g2, err := a.gridOn(box)
 		if err != nil {
-			if ctxErr := a.ctx.Err(); ctxErr != nil {
-				return ctxErr
-			}
-			return fmt.Errorf("engine: evaluating the grid: %w", err)
+			return err
 		}
 		g = g2
 		a.boxRes.Box = box
@@ -356,15 +358,11 @@ func (a *analysis) evaluateGrid() error {
 			}
 		}
 		if len(names) > 0 {
-			g2, err := grid.Evaluate(a.ctx, a.p, box, grid.Settings{
-				Points:   a.points(),
-				Maps:     a.maps,
-				Free:     a.free(),
-				Progress: a.tr.at,
-			})
+			// A narrower grid that fails to evaluate leaves the first one.
+			g2, err := a.gridOn(box)
 			if err != nil {
-				if ctxErr := a.ctx.Err(); ctxErr != nil {
-					return ctxErr
+				if a.ctx.Err() != nil {
+					return err
 				}
 			} else if errEstimate(g2) < errEstimate(g) {
 				g = g2
