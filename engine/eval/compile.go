@@ -330,12 +330,9 @@ func (s *slotAllocator) get() int32 {
 	return int32(s.n - 1)
 }
 
-// lowerLoop builds the kernels that compute the vector operands of the
-// given reductions (all of length n): fused for value mode, plain for
-// derivative mode.
-func lowerLoop(nodes []node, reg []int32, reds []int32, n int) loop {
-	// The kernel's nodes: computed vectors reachable from the reductions
-	// through computed vectors.
+// loopNodes returns the nodes a loop computes: the computed (non-constant)
+// vectors reachable from the reductions' operands through computed vectors.
+func loopNodes(nodes []node, reds []int32) map[int32]bool {
 	in := map[int32]bool{}
 	var stack []int32
 	for _, r := range reds {
@@ -355,6 +352,14 @@ func lowerLoop(nodes []node, reg []int32, reds []int32, n int) loop {
 			}
 		}
 	}
+	return in
+}
+
+// lowerLoop builds the kernels that compute the vector operands of the
+// given reductions (all of length n): fused for value mode, plain for
+// derivative mode.
+func lowerLoop(nodes []node, reg []int32, reds []int32, n int) loop {
+	in := loopNodes(nodes, reds)
 	order := sortedKeys(in)
 	roots := make([]int32, len(reds))
 	for i, r := range reds {

@@ -167,25 +167,7 @@ func lowerFlat(nodes []node, reach []bool, root int32, dim int, avail []int, max
 		for _, key := range loopsAt[lvl] {
 			reds := groups[key]
 			n := key.n
-			loopIn := map[int32]bool{}
-			var stack []int32
-			for _, r := range reds {
-				stack = append(stack, nodes[r].a)
-			}
-			for len(stack) > 0 {
-				id := stack[len(stack)-1]
-				stack = stack[:len(stack)-1]
-				nd := &nodes[id]
-				if loopIn[id] || nd.cst || !nd.vector() {
-					continue
-				}
-				loopIn[id] = true
-				for _, arg := range [2]int32{nd.a, nd.b} {
-					if arg >= 0 {
-						stack = append(stack, arg)
-					}
-				}
-			}
+			loopIn := loopNodes(nodes, reds)
 			order := sortedKeys(loopIn)
 			pins := map[int32]int32{}
 			st := flatStage{n: n}
