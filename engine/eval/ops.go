@@ -328,10 +328,7 @@ func guard(op opcode, v, t, k float64) float64 {
 	if guardPass(op, t, k) {
 		return v
 	}
-	if t != t {
-		return t
-	}
-	return math.Inf(-1)
+	return guardFail(t)
 }
 
 // lse2 is log(e^a + e^b) without overflow.
