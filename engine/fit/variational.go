@@ -273,7 +273,7 @@ func variational(ctx context.Context, p target.Density, init Gaussian, s Setting
 	v := newSolver(p, r, diag)
 
 	cur, trial := v.newState(), v.newState()
-	if err := init.check(cur.l); err != nil {
+	if err := check(init, cur.l); err != nil {
 		return VariationalFit{}, fmt.Errorf("%s: initial Gaussian: %w", name, err)
 	}
 	copy(cur.mu, init.Mean)
