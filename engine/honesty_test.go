@@ -33,6 +33,9 @@ var absentReasons = map[string][]string{
 	"quantiles":  {CodeImproper, CodeUnresolved, CodeOverflow},
 	"mode":       {CodeModeNotPolished, CodeNoMode},
 	"coverage":   {CodeFitOffGrid, CodeUnresolved},
+	// A fit's moments on the original scale (its normal on the fitting
+	// scale is always there).
+	"fit_moments": {CodeOverflow},
 }
 
 // printedNonFinite matches a formatting error or a non-finite number
@@ -165,7 +168,7 @@ func honesty(res *Result, d int) []string {
 			absentNeedsReason(f.name, "the "+f.name+" fit")
 			continue
 		}
-		for _, s := range fitHonesty(f.name, f.fit, res, d, reason("coverage")) {
+		for _, s := range fitHonesty(f.name, f.fit, res, d, reason("coverage"), reason("fit_moments")) {
 			fail("%s", s)
 		}
 	}
@@ -184,47 +187,79 @@ func honesty(res *Result, d int) []string {
 	return bad
 }
 
-// fitHonesty checks one fit that is present.
-func fitHonesty(name string, f *Fit, res *Result, d int, coverageReason bool) []string {
+// fitHonesty checks one fit that is present: its normal on the fitting
+// scale, and its moments on the original scale, which may be absent only
+// for a reason (momentReason).
+func fitHonesty(name string, f *Fit, res *Result, d int, coverageReason, momentReason bool) []string {
 	var bad []string
 	fail := func(format string, args ...any) { bad = append(bad, name+": "+fmt.Sprintf(format, args...)) }
-	if len(f.Mean) != d || len(f.Cov) != d || len(f.SD) != d || len(f.Interval95) != d {
+	fs := &f.FittingScale
+	if len(f.Mean) != d || len(f.Cov) != d || len(f.SD) != d || len(f.Interval95) != d || len(fs.Mean) != d || len(fs.Cov) != d || len(fs.SD) != d {
 		fail("moments of the wrong length")
 		return bad
 	}
-	if !allFiniteF(f.Mean) {
-		fail("mean %v", f.Mean)
+	// The normal on the fitting scale: finite, symmetric, positive
+	// definite.
+	if !allFiniteF(fs.Mean) {
+		fail("mean %v", fs.Mean)
 	}
-	cov := mat.NewSymDense(d, nil)
-	for k := 0; k < d; k++ {
-		if len(f.Cov[k]) != d {
-			fail("covariance row %d of length %d", k, len(f.Cov[k]))
-			return bad
-		}
-		for l := 0; l < d; l++ {
-			c := f.Cov[k][l]
-			if math.IsNaN(c) || math.IsInf(c, 0) {
-				fail("covariance (%d, %d) is %g", k, l, c)
+	for _, m := range []struct {
+		scale string
+		mean  []float64
+		cov   [][]float64
+		sd    []float64
+	}{{"fitting scale", fs.Mean, fs.Cov, fs.SD}, {"original scale", f.Mean, f.Cov, f.SD}} {
+		cov := mat.NewSymDense(d, nil)
+		absent := false
+		for k := 0; k < d; k++ {
+			if len(m.cov[k]) != d {
+				fail("%s: covariance row %d of length %d", m.scale, k, len(m.cov[k]))
 				return bad
 			}
-			if c != f.Cov[l][k] {
-				fail("covariance not symmetric at (%d, %d)", k, l)
+			if math.IsNaN(m.mean[k]) {
+				absent = true
+			} else if math.IsInf(m.mean[k], 0) {
+				fail("%s: mean %d is %g", m.scale, k, m.mean[k])
 			}
-			if l >= k {
-				cov.SetSym(k, l, c)
+			for l := 0; l < d; l++ {
+				c := m.cov[k][l]
+				if math.IsNaN(c) {
+					absent = true
+					continue
+				}
+				if math.IsInf(c, 0) {
+					fail("%s: covariance (%d, %d) is %g", m.scale, k, l, c)
+					return bad
+				}
+				if c != m.cov[l][k] {
+					fail("%s: covariance not symmetric at (%d, %d)", m.scale, k, l)
+				}
+				if l >= k {
+					cov.SetSym(k, l, c)
+				}
+			}
+			if v := m.cov[k][k]; !math.IsNaN(v) {
+				if sd := m.sd[k]; !(sd > 0) || math.Abs(sd-math.Sqrt(v)) > 1e-9*sd {
+					fail("%s: sd %d is %g for variance %g", m.scale, k, sd, v)
+				}
 			}
 		}
-		if sd := f.SD[k]; !(sd > 0) || math.Abs(sd-math.Sqrt(f.Cov[k][k])) > 1e-9*sd {
-			fail("sd %d is %g for variance %g", k, sd, f.Cov[k][k])
+		if absent {
+			if m.scale == "fitting scale" || !momentReason {
+				fail("%s: moments absent without a reason", m.scale)
+			}
+			continue
 		}
+		var chol mat.Cholesky
+		if !chol.Factorize(cov) {
+			fail("%s: covariance %v is not positive definite", m.scale, m.cov)
+		}
+	}
+	for k := 0; k < d; k++ {
 		iv := f.Interval95[k]
 		if !(iv[0] <= iv[1]) {
 			fail("interval %d is %v", k, iv)
 		}
-	}
-	var chol mat.Cholesky
-	if !chol.Factorize(cov) {
-		fail("covariance %v is not positive definite", f.Cov)
 	}
 	for _, v := range []struct {
 		what string
@@ -369,18 +404,4 @@ func present(v any) bool {
 		}
 	}
 	return true
-}
-
-// A covariance on scales far apart is not degenerate; one with a
-// correlation of exactly 1 is.
-func TestDegenerate(t *testing.T) {
-	if err := degenerate(mat.NewSymDense(2, []float64{1e-16, 0, 0, 1e16})); err != nil {
-		t.Errorf("sds 1e-8 and 1e8: %v", err)
-	}
-	if err := degenerate(mat.NewSymDense(2, []float64{1e-16, 1e-16 * (1 - 1e-9), 1e-16 * (1 - 1e-9), 1e-16})); err != nil {
-		t.Errorf("correlation 1 - 1e-9: %v", err)
-	}
-	if err := degenerate(mat.NewSymDense(2, []float64{4, 2e8, 2e8, 1e16})); err == nil {
-		t.Error("correlation 1 passed")
-	}
 }

@@ -3,6 +3,7 @@ package engine
 import (
 	"math"
 
+	"bellcheck/engine/gauss"
 	"bellcheck/engine/grid"
 )
 
@@ -26,12 +27,13 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 	g := a.ref.grid
 	st := &g.Stats
 	d := a.d
-	type fitCurve struct {
-		name string
-		f    *Fit
+	// The fits that exist, each a normal on the fitting scale.
+	var fits []fitted
+	for _, f := range a.fits {
+		if *f.out != nil && f.q != nil {
+			fits = append(fits, f)
+		}
 	}
-	fits := []fitCurve{{"laplace", res.Fits.Laplace}, {"reverse_kl", res.Fits.ReverseKL},
-		{"mean_field", res.Fits.MeanField}, {"forward_kl", res.Fits.ForwardKL}}
 	pl := &Plots{}
 	// dxdz[k][i] is dx/dz at node i of axis k.
 	dxdz := make([][]float64, d)
@@ -53,14 +55,9 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 			m.Exact = append(m.Exact, st.Marginals[k].Density[i]/dxdz[k][i])
 		}
 		for _, fc := range fits {
-			if fc.f == nil {
-				continue
-			}
-			mu, sd := fc.f.Mean[k], fc.f.SD[k]
 			curve := make([]float64, len(idx))
 			for j, i := range idx {
-				u := (g.Nodes[k][i] - mu) / sd
-				curve[j] = math.Exp(-u*u/2) / (sd * math.Sqrt(2*math.Pi)) / dxdz[k][i]
+				curve[j] = fc.q.MarginalPDF(k, g.Nodes[k][i]) / dxdz[k][i]
 			}
 			switch fc.name {
 			case "laplace":
@@ -114,10 +111,7 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 			}
 		}
 		for _, fc := range fits {
-			if fc.f == nil {
-				continue
-			}
-			m2.Ellipses[fc.name] = a.ellipses(fc.f, i, j)
+			m2.Ellipses[fc.name] = a.ellipses(fc.q, i, j)
 		}
 		pl.Pairs = append(pl.Pairs, m2)
 	}
@@ -126,25 +120,14 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 
 // ellipses returns the fit's contours holding contourMasses of its (i, j)
 // marginal, as closed polylines mapped to the original scale: on the
-// fitting scale the region of mass f is the ellipse of Mahalanobis radius
-// sqrt(-2 log(1 - f)) (the squared radius is chi-square with 2 degrees of
-// freedom), and the map keeps the mass inside.
-func (a *analysis) ellipses(f *Fit, i, j int) [3][][2]float64 {
+// fitting scale they are the normal's ellipses, and the map keeps the mass
+// inside.
+func (a *analysis) ellipses(q *gauss.Prepared, i, j int) [3][][2]float64 {
 	var out [3][][2]float64
-	sii, sij, sjj := f.Cov[i][i], f.Cov[i][j], f.Cov[j][j]
-	// Cholesky factor of the 2x2 covariance.
-	l11 := math.Sqrt(sii)
-	l21 := sij / l11
-	l22 := math.Sqrt(math.Max(sjj-l21*l21, 0))
 	for c, mass := range contourMasses {
-		r := math.Sqrt(-2 * math.Log(1-mass))
-		pts := make([][2]float64, 0, contourPoints+1)
-		for t := 0; t <= contourPoints; t++ {
-			th := 2 * math.Pi * float64(t%contourPoints) / contourPoints
-			u, v := r*math.Cos(th), r*math.Sin(th)
-			zi := f.Mean[i] + l11*u
-			zj := f.Mean[j] + l21*u + l22*v
-			pts = append(pts, [2]float64{a.maps[i].ToOriginal(zi), a.maps[j].ToOriginal(zj)})
+		pts := q.Ellipse(i, j, mass, contourPoints)
+		for t := range pts {
+			pts[t] = [2]float64{a.maps[i].ToOriginal(pts[t][0]), a.maps[j].ToOriginal(pts[t][1])}
 		}
 		out[c] = pts
 	}

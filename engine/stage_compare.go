@@ -1,15 +1,14 @@
 package engine
 
 import (
-	"errors"
 	"fmt"
 	"math"
 	"slices"
-
-	"gonum.org/v1/gonum/mat"
+	"strings"
 
 	"bellcheck/engine/compare"
 	"bellcheck/engine/fit"
+	"bellcheck/engine/gauss"
 )
 
 // compareFits is the comparison stage: it compares each fit with the
@@ -21,20 +20,23 @@ func (a *analysis) compareFits() error {
 	a.tr.enter(stageCompare)
 	kept := a.fits[:0]
 	for _, f := range a.fits {
-		if err := degenerate(f.g.Cov); err != nil {
+		q, err := gauss.Prepare(f.g)
+		if err != nil {
 			*f.out = nil
-			a.diag.add(CodeFitFailed, SeverityError, "No %s fit: its covariance is degenerate (%v).", fitLabel(f.name), err)
+			why := strings.TrimPrefix(err.Error(), gauss.ErrBad.Error()+": ")
+			a.diag.add(CodeFitFailed, SeverityError, "No %s fit: its covariance is degenerate (%s).", fitLabel(f.name), why)
 			continue
 		}
+		f.q = q
 		kept = append(kept, f)
 	}
 	a.fits = kept
 	if len(a.fits) == 0 {
 		return nil
 	}
-	qs := make([]compare.Gaussian, len(a.fits))
+	qs := make([]*gauss.Prepared, len(a.fits))
 	for i, f := range a.fits {
-		qs[i] = compare.Gaussian{Mean: f.g.Mean, Cov: f.g.Cov}
+		qs[i] = f.q
 	}
 	cmp, err := compare.Compare(a.ref.grid, qs, compare.Settings{
 		Bounded: slices.Contains(a.bounded, true), Density: a.p, Context: a.ctx, Progress: a.tr.at,
@@ -91,25 +93,6 @@ func (a *analysis) checkELBO(fits ...*fit.VariationalFit) {
 			vf.ELBO-lz, a.pointString(vf.Mean))
 		return
 	}
-}
-
-// degenerate reports a covariance whose correlation matrix is not
-// positive definite or too ill-conditioned to invert (the test of the
-// comparison's precision).
-func degenerate(cov *mat.SymDense) error {
-	d := cov.SymmetricDim()
-	corr := mat.NewSymDense(d, nil)
-	for i := 0; i < d; i++ {
-		for j := i; j < d; j++ {
-			corr.SetSym(i, j, cov.At(i, j)/math.Sqrt(cov.At(i, i)*cov.At(j, j)))
-		}
-	}
-	var ch mat.Cholesky
-	if !ch.Factorize(corr) {
-		return errors.New("correlation matrix not positive definite")
-	}
-	var inv mat.SymDense
-	return ch.InverseTo(&inv)
 }
 
 // fitLabel is a fit's name in a sentence.

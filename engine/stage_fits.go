@@ -7,16 +7,19 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"bellcheck/engine/fit"
+	"bellcheck/engine/gauss"
 )
 
 // fitted is one Gaussian fit that exists, as the fits stage hands it on:
 // its name, the Gaussian on the fitting scale, the curvature it uses (nil
-// for the forward-KL fit) and its entry in the Result.
+// for the forward-KL fit) and its entry in the Result; the comparison
+// stage adds its prepared form q.
 type fitted struct {
 	name string
-	g    fit.Gaussian
+	g    gauss.Gaussian
 	prec *mat.SymDense
 	out  **Fit
+	q    *gauss.Prepared
 }
 
 // fitAll is the fits stage: the Laplace fit at the highest mode, the
@@ -49,7 +52,7 @@ func (a *analysis) fitLaplace(res *Result) *fit.LaplaceFit {
 		lz := lf.LogZ
 		f.LogZ = &lz
 		res.Fits.Laplace = f
-		a.fits = append(a.fits, fitted{"laplace", lf.Gaussian, lf.Precision, &res.Fits.Laplace})
+		a.fits = append(a.fits, fitted{name: "laplace", g: lf.Gaussian, prec: lf.Precision, out: &res.Fits.Laplace})
 		return &lf
 	case errors.Is(err, fit.ErrOnBound):
 		a.diag.add(CodeModeOnBound, SeverityWarning,
@@ -137,7 +140,7 @@ func (a *analysis) fitReverse(res *Result, lap *fit.LaplaceFit) (rev, mfit *fit.
 		elbo := v.vf.ELBO
 		*v.out = &Fit{ELBO: &elbo, Iterations: v.vf.Iterations, Converged: v.vf.Converged,
 			Residual: math.Max(v.vf.GradResidual, v.vf.PrecisionResidual)}
-		a.fits = append(a.fits, fitted{v.name, v.vf.Gaussian, v.vf.Precision, v.out})
+		a.fits = append(a.fits, fitted{name: v.name, g: v.vf.Gaussian, prec: v.vf.Precision, out: v.out})
 	}
 	return rev, mfit, infiniteKL, nil
 }
@@ -153,7 +156,7 @@ func (a *analysis) fitForward(res *Result) {
 		return
 	}
 	res.Fits.ForwardKL = &Fit{Converged: true}
-	a.fits = append(a.fits, fitted{"forward_kl", g, nil, &res.Fits.ForwardKL})
+	a.fits = append(a.fits, fitted{name: "forward_kl", g: g, out: &res.Fits.ForwardKL})
 }
 
 // boundedKL says when KL(q||p) is infinite for every fit: a support

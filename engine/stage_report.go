@@ -1,6 +1,7 @@
 package engine
 
 import (
+	"fmt"
 	"math"
 	"slices"
 
@@ -8,6 +9,7 @@ import (
 
 	"bellcheck/engine/compare"
 	"bellcheck/engine/fit"
+	"bellcheck/engine/gauss"
 	"bellcheck/engine/transform"
 )
 
@@ -15,7 +17,9 @@ import (
 // moments and comparison, the exact posterior and the grid's description.
 func (a *analysis) report(res *Result) {
 	a.fillFits()
+	a.dropFitOverflow()
 	a.fillExact(res)
+	a.fillOriginalErrors(res)
 	a.fillGridInfo(res)
 }
 
@@ -25,7 +29,7 @@ func (a *analysis) fillFits() {
 	for i, f := range a.fits {
 		out := *f.out
 		c := a.cmp[i]
-		a.fillFit(out, f.g, f.prec, c)
+		a.fillFit(out, f.q, f.prec, c)
 		switch {
 		case a.ref.logZAbsent():
 			// log Z is absent (see fillExact).
@@ -44,24 +48,51 @@ func (a *analysis) fillFits() {
 	}
 }
 
-// fillFit fills a fit's moments (fitting scale), interval (original scale)
-// and comparison.
-func (a *analysis) fillFit(f *Fit, g fit.Gaussian, prec *mat.SymDense, c compare.Result) {
+// fillFit fills a fit's normal on the fitting scale and its comparison
+// there, and its moments and interval on the original scale (the
+// pushforward through each parameter's map).
+func (a *analysis) fillFit(f *Fit, q *gauss.Prepared, prec *mat.SymDense, c compare.Result) {
 	d := a.d
-	f.Mean = slices.Clone(g.Mean)
-	f.Cov = fit.Rows(g.Cov)
-	f.SD = g.SD()
-	f.Corr = fit.Rows(g.Corr())
+	g := q.Gaussian
+	fs := &f.FittingScale
+	fs.Mean = slices.Clone(g.Mean)
+	fs.Cov = gauss.Rows(g.Cov)
+	fs.SD = g.SD()
+	fs.Corr = gauss.Rows(g.Corr())
+	f.Mean, f.SD = make([]float64, d), make([]float64, d)
 	f.Interval95 = make([][2]float64, d)
 	for k := 0; k < d; k++ {
-		iv := g.Interval(k, 0.95)
-		f.Interval95[k] = [2]float64{a.maps[k].ToOriginal(iv[0]), a.maps[k].ToOriginal(iv[1])}
+		f.Mean[k], f.SD[k] = a.maps[k].Pushforward(g.Mean[k], fs.SD[k])
+		f.Interval95[k] = a.maps[k].Interval(g.Interval(k, 0.95))
+	}
+	f.Cov, f.Corr = make([][]float64, d), make([][]float64, d)
+	for k := 0; k < d; k++ {
+		f.Cov[k], f.Corr[k] = make([]float64, d), make([]float64, d)
+		for l := 0; l < d; l++ {
+			switch {
+			case k == l && a.maps[k].Scale.IsIdentity():
+				f.Cov[k][k] = fs.Cov[k][k]
+			case k == l:
+				f.Cov[k][k] = f.SD[k] * f.SD[k]
+			default:
+				f.Cov[k][l] = transform.Covariance(a.maps[k], a.maps[l], g.Mean[k], g.Mean[l], fs.SD[k], fs.SD[l], fs.Cov[k][l])
+			}
+		}
+	}
+	for k := 0; k < d; k++ {
+		for l := 0; l < d; l++ {
+			if k == l {
+				f.Corr[k][l] = 1
+			} else {
+				f.Corr[k][l] = f.Cov[k][l] / (f.SD[k] * f.SD[l])
+			}
+		}
 	}
 	if prec != nil {
-		f.Precision = fit.Rows(prec)
+		f.Precision = gauss.Rows(prec)
 	}
 	f.KLqp, f.KLpq, f.Hellinger = c.KLqp, c.KLpq, c.Hellinger
-	f.MeanErrSD, f.SDRatio = c.MeanErrSD, c.SDRatio
+	fs.MeanErrSD, fs.SDRatio = c.MeanErrSD, c.SDRatio
 	f.Coverage95 = c.Coverage95
 	if a.ref.noise > precisionAbsent {
 		f.KLqp, f.KLpq, f.Hellinger = math.NaN(), math.NaN(), math.NaN()
@@ -74,19 +105,85 @@ func (a *analysis) fillFit(f *Fit, g fit.Gaussian, prec *mat.SymDense, c compare
 			f.KLpq = math.NaN()
 		}
 	}
-	if a.ref.unresolved {
-		nan := math.NaN()
-		f.KLqp, f.KLpq, f.Hellinger, f.Coverage95 = nan, nan, nan, nan
-		for k := 0; k < d; k++ {
-			f.MeanErrSD[k], f.SDRatio[k] = nan, nan
-		}
-		return
-	}
+	nan := math.NaN()
 	for k := 0; k < d; k++ {
-		if a.ref.varUnsettled[k] {
-			f.MeanErrSD[k], f.SDRatio[k] = math.NaN(), math.NaN()
+		switch {
+		case a.ref.unresolved:
+			fs.MeanErrSD[k], fs.SDRatio[k] = nan, nan
+		case a.ref.varUnsettled[k]:
+			fs.MeanErrSD[k], fs.SDRatio[k] = nan, nan
 			// E_p[(z - m)^2] is infinite: so is KL(p||q).
 			f.KLpq = math.Inf(1)
+		}
+	}
+	if a.ref.unresolved {
+		f.KLqp, f.KLpq, f.Hellinger, f.Coverage95 = nan, nan, nan, nan
+	}
+	// On the original scale the same where a parameter is fitted as it is;
+	// fillOriginalErrors fills the others.
+	f.MeanErrSD, f.SDRatio = slices.Clone(fs.MeanErrSD), slices.Clone(fs.SDRatio)
+}
+
+// dropFitOverflow makes absent, with a diagnostic, a fit's moments on the
+// original scale that fall outside double precision (a log-scale normal
+// whose mean or spread reaches z > 709, where e^z overflows, or whose
+// variance underflows to zero): the normal on the fitting scale and the
+// interval stay.
+func (a *analysis) dropFitOverflow() {
+	bad := func(v float64) bool { return math.IsNaN(v) || math.IsInf(v, 0) }
+	var names []string
+	for _, fi := range a.fits {
+		f := *fi.out
+		var over []string
+		for k := 0; k < a.d; k++ {
+			// A variance that underflows to zero is no more representable.
+			if !(f.Cov[k][k] > 0) || !(f.SD[k] > 0) {
+				f.Cov[k][k], f.SD[k] = math.NaN(), math.NaN()
+			}
+			rowBad := bad(f.Mean[k]) || bad(f.SD[k])
+			for l := 0; l < a.d; l++ {
+				rowBad = rowBad || bad(f.Cov[k][l])
+			}
+			if !rowBad {
+				continue
+			}
+			over = append(over, a.names[k])
+			nan := math.NaN()
+			if bad(f.Mean[k]) {
+				f.Mean[k] = nan
+			}
+			if bad(f.SD[k]) || bad(f.Cov[k][k]) {
+				f.SD[k] = nan
+			}
+			for l := 0; l < a.d; l++ {
+				if bad(f.Cov[k][l]) || bad(f.Cov[k][k]) || bad(f.Cov[l][l]) {
+					f.Cov[k][l], f.Cov[l][k], f.Corr[k][l], f.Corr[l][k] = nan, nan, nan, nan
+				}
+			}
+		}
+		if len(over) > 0 {
+			names = append(names, fmt.Sprintf("the %s fit's %s", fitLabel(fi.name), list(over)))
+		}
+	}
+	if len(names) > 0 {
+		a.diag.add(CodeOverflow, SeverityWarning,
+			"The moments on the original scale of %s fall outside double precision (the fitted normal reaches values too large or too small to exponentiate), so those are not reported; the normal on the fitting scale and its interval are.", list(names))
+	}
+}
+
+// fillOriginalErrors fills each fit's mean and spread errors on the
+// original scale for the parameters fitted on another: the fit's
+// pushforward mean and sd against the exact ones (absent where those are).
+func (a *analysis) fillOriginalErrors(res *Result) {
+	ex := &res.Exact
+	for _, f := range a.fits {
+		out := *f.out
+		for k := 0; k < a.d; k++ {
+			if a.maps[k].Scale.IsIdentity() {
+				continue
+			}
+			out.MeanErrSD[k] = (out.Mean[k] - ex.Mean[k]) / ex.SD[k]
+			out.SDRatio[k] = out.SD[k] / ex.SD[k]
 		}
 	}
 }
@@ -238,7 +335,7 @@ func (a *analysis) originalMode(gridMode []float64) []float64 {
 	d := a.d
 	transformed := false
 	for _, m := range a.maps {
-		if m.Kind != transform.Identity {
+		if !m.Scale.IsIdentity() {
 			transformed = true
 		}
 	}
@@ -250,11 +347,7 @@ func (a *analysis) originalMode(gridMode []float64) []float64 {
 	}
 	starts := [][]float64{gridMode}
 	if len(a.modes.modes) > 0 {
-		x := make([]float64, d)
-		for k := range x {
-			x[k] = a.maps[k].ToOriginal(a.modes.modes[0].X[k])
-		}
-		starts = append(starts, x)
+		starts = append(starts, slices.Clone(a.modes.modes[0].X))
 	}
 	lo, hi := make([]float64, d), make([]float64, d)
 	for k, prm := range a.m.Params {
@@ -274,8 +367,12 @@ func (a *analysis) originalMode(gridMode []float64) []float64 {
 func (a *analysis) fillGridInfo(res *Result) {
 	g := a.ref.grid
 	gi := &res.Grid
-	gi.Lo = slices.Clone(g.Box.Lo)
-	gi.Hi = slices.Clone(g.Box.Hi)
+	gi.FittingScale.Lo = slices.Clone(g.Box.Lo)
+	gi.FittingScale.Hi = slices.Clone(g.Box.Hi)
+	gi.Lo, gi.Hi = make([]float64, a.d), make([]float64, a.d)
+	for k := 0; k < a.d; k++ {
+		gi.Lo[k], gi.Hi[k] = a.maps[k].ToOriginal(g.Box.Lo[k]), a.maps[k].ToOriginal(g.Box.Hi[k])
+	}
 	gi.Points = slices.Clone(g.N)
 	gi.NonFinite = a.ref.nonFinite
 	for k := 0; k < a.d; k++ {

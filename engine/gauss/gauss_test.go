@@ -206,3 +206,21 @@ func TestMomentsAndInterval(t *testing.T) {
 		t.Errorf("rows %v", r)
 	}
 }
+
+// A covariance on scales far apart is not degenerate; one with a
+// correlation of exactly 1 is (definition of a singular matrix).
+func TestDegenerate(t *testing.T) {
+	prep := func(c ...float64) error {
+		_, err := Prepare(Gaussian{Mean: []float64{0, 0}, Cov: sym(2, c...)})
+		return err
+	}
+	if err := prep(1e-16, 0, 0, 1e16); err != nil {
+		t.Errorf("sds 1e-8 and 1e8: %v", err)
+	}
+	if err := prep(1e-16, 1e-16*(1-1e-9), 1e-16*(1-1e-9), 1e-16); err != nil {
+		t.Errorf("correlation 1 - 1e-9: %v", err)
+	}
+	if err := prep(4, 2e8, 2e8, 1e16); err == nil {
+		t.Error("correlation 1 passed")
+	}
+}
