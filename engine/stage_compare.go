@@ -23,7 +23,7 @@ func (a *analysis) compareFits() error {
 	for _, f := range a.fits {
 		if err := degenerate(f.g.Cov); err != nil {
 			*f.out = nil
-			a.diag.add(CodeFitFailed, SeverityError, "No %s fit: its covariance is degenerate (%v).", fitLabel(f.name), err)
+			a.diag.add(CodeFitFailed, SeverityError, "No %s fit: its covariance is degenerate (%v).", f.method.term(), err)
 			continue
 		}
 		kept = append(kept, f)
@@ -54,11 +54,11 @@ func (a *analysis) compareFits() error {
 		if !c.Resolved {
 			a.diag.add(CodeFitOffGrid, SeverityInfo,
 				"The %s fit is narrower than the grid resolves; its KL(q||p) and Hellinger distance come from a cubature in its own coordinates, and its coverage is not reported.",
-				fitLabel(f.name))
+				f.method.term())
 		} else {
 			a.diag.add(CodeFitOffGrid, SeverityInfo,
 				"The %s fit has about %s of its mass outside the grid's box; its KL(q||p) comes from a cubature in its own coordinates.",
-				fitLabel(f.name), share(math.Abs(1-c.QMass)))
+				f.method.term(), share(math.Abs(1-c.QMass)))
 		}
 	}
 	return nil
@@ -110,17 +110,4 @@ func degenerate(cov *mat.SymDense) error {
 	}
 	var inv mat.SymDense
 	return ch.InverseTo(&inv)
-}
-
-// fitLabel is a fit's name in a sentence.
-func fitLabel(name string) string {
-	switch name {
-	case "laplace":
-		return "Laplace"
-	case "reverse_kl":
-		return "reverse-KL"
-	case "mean_field":
-		return "mean-field"
-	}
-	return "forward-KL"
 }

@@ -10,13 +10,13 @@ import (
 )
 
 // fitted is one Gaussian fit that exists, as the fits stage hands it on:
-// its name, the Gaussian on the fitting scale, the curvature it uses (nil
-// for the forward-KL fit) and its entry in the Result.
+// its method, the Gaussian on the fitting scale, the curvature it uses
+// (nil for the forward-KL fit) and its entry in the Result.
 type fitted struct {
-	name string
-	g    fit.Gaussian
-	prec *mat.SymDense
-	out  **Fit
+	method Method
+	g      fit.Gaussian
+	prec   *mat.SymDense
+	out    **Fit
 }
 
 // fitAll is the fits stage: the Laplace fit at the highest mode, the
@@ -48,8 +48,8 @@ func (a *analysis) fitLaplace(res *Result) *fit.LaplaceFit {
 		f := &Fit{Iterations: m.Iterations, Converged: m.Converged, Residual: m.GradNorm}
 		lz := lf.LogZ
 		f.LogZ = &lz
-		res.Fits.Laplace = f
-		a.fits = append(a.fits, fitted{"laplace", lf.Gaussian, lf.Precision, &res.Fits.Laplace})
+		res.Fits[Laplace] = f
+		a.fits = append(a.fits, fitted{Laplace, lf.Gaussian, lf.Precision, &res.Fits[Laplace]})
 		return &lf
 	case errors.Is(err, fit.ErrOnBound):
 		a.diag.add(CodeModeOnBound, SeverityWarning,
@@ -79,15 +79,14 @@ func (a *analysis) fitReverse(res *Result, lap *fit.LaplaceFit) (rev, mfit *fit.
 			init = &g
 		}
 	}
-	variational := func(stage string, mf bool, init fit.Gaussian) (*fit.VariationalFit, error) {
+	variational := func(stage string, m Method, init fit.Gaussian) (*fit.VariationalFit, error) {
 		a.tr.enter(stage)
 		a.pw.tick = func(n int) { a.tr.tick(n, 20000) }
 		run := fit.ReverseKL
-		label := "reverse-KL"
-		if mf {
+		if m == MeanField {
 			run = fit.MeanField
-			label = "mean-field"
 		}
+		label := m.term()
 		vf, err := run(a.ctx, a.pw, init, fit.Settings{})
 		if ctxErr := a.ctx.Err(); ctxErr != nil {
 			return nil, ctxErr
@@ -112,14 +111,14 @@ func (a *analysis) fitReverse(res *Result, lap *fit.LaplaceFit) (rev, mfit *fit.
 		}
 	}
 	if init != nil {
-		if rev, err = variational(stageReverseKL, false, *init); err != nil {
+		if rev, err = variational(stageReverseKL, ReverseKL, *init); err != nil {
 			return nil, nil, false, err
 		}
 		mfInit := *init
 		if rev != nil && rev.Converged {
 			mfInit = rev.Gaussian
 		}
-		if mfit, err = variational(stageMeanField, true, mfInit); err != nil {
+		if mfit, err = variational(stageMeanField, MeanField, mfInit); err != nil {
 			return nil, nil, false, err
 		}
 	} else {
@@ -127,17 +126,16 @@ func (a *analysis) fitReverse(res *Result, lap *fit.LaplaceFit) (rev, mfit *fit.
 			"No reverse-KL fits: there is neither a Laplace fit nor an exact covariance to start them from.")
 	}
 	for _, v := range []struct {
-		vf   *fit.VariationalFit
-		name string
-		out  **Fit
-	}{{rev, "reverse_kl", &res.Fits.ReverseKL}, {mfit, "mean_field", &res.Fits.MeanField}} {
+		vf *fit.VariationalFit
+		m  Method
+	}{{rev, ReverseKL}, {mfit, MeanField}} {
 		if v.vf == nil {
 			continue
 		}
 		elbo := v.vf.ELBO
-		*v.out = &Fit{ELBO: &elbo, Iterations: v.vf.Iterations, Converged: v.vf.Converged,
+		res.Fits[v.m] = &Fit{ELBO: &elbo, Iterations: v.vf.Iterations, Converged: v.vf.Converged,
 			Residual: math.Max(v.vf.GradResidual, v.vf.PrecisionResidual)}
-		a.fits = append(a.fits, fitted{v.name, v.vf.Gaussian, v.vf.Precision, v.out})
+		a.fits = append(a.fits, fitted{v.m, v.vf.Gaussian, v.vf.Precision, &res.Fits[v.m]})
 	}
 	return rev, mfit, infiniteKL, nil
 }
@@ -152,8 +150,8 @@ func (a *analysis) fitForward(res *Result) {
 		a.diag.add(CodeFitFailed, SeverityError, "No forward-KL fit: %v.", err)
 		return
 	}
-	res.Fits.ForwardKL = &Fit{Converged: true}
-	a.fits = append(a.fits, fitted{"forward_kl", g, nil, &res.Fits.ForwardKL})
+	res.Fits[ForwardKL] = &Fit{Converged: true}
+	a.fits = append(a.fits, fitted{ForwardKL, g, nil, &res.Fits[ForwardKL]})
 }
 
 // boundedKL says when KL(q||p) is infinite for every fit: a support
