@@ -1,15 +1,19 @@
 package engine
 
 import (
+	"context"
 	"encoding/json"
 	"fmt"
 	"math"
 	"regexp"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"bellcheck/engine/model"
 )
 
 // The honesty checks that every result must pass, whatever the density:
@@ -17,26 +21,8 @@ import (
 // A result is honest when every number it reports can be right (a fit's
 // covariance is positive definite, a divergence is not negative, a share of
 // the mass lies in [0, 1], the ELBO does not exceed log Z) and every
-// quantity it leaves out comes with a diagnostic that says why.
-
-// absentReasons lists, for each quantity that may be absent, the
-// diagnostic codes that explain its absence.
-var absentReasons = map[string][]string{
-	"laplace":    {CodeNotPositiveDefinite, CodeModeOnBound, CodeNoMode, CodeFitFailed, CodeUnresolved},
-	"reverse_kl": {CodeInfiniteKL, CodeFitFailed, CodeUnresolved},
-	"mean_field": {CodeInfiniteKL, CodeFitFailed, CodeUnresolved},
-	"forward_kl": {CodeNoVariance, CodeImproper, CodeFitFailed, CodeUnresolved},
-	"log_z":      {CodeImproper, CodeUnresolved, CodeOverflow},
-	"mean":       {CodeNoMean, CodeImproper, CodeUnresolved, CodeOverflow},
-	"variance":   {CodeNoVariance, CodeImproper, CodeUnresolved, CodeOverflow},
-	"kurtosis":   {CodeHeavyTails, CodeNoVariance, CodeImproper, CodeUnresolved, CodeOverflow},
-	"quantiles":  {CodeImproper, CodeUnresolved, CodeOverflow},
-	"mode":       {CodeModeNotPolished, CodeNoMode},
-	"coverage":   {CodeFitOffGrid, CodeUnresolved},
-	// A fit's moments on the original scale (its normal on the fitting
-	// scale is always there).
-	"fit_moments": {CodeOverflow},
-}
+// quantity it leaves out comes with a diagnostic that says why (one of
+// the codes the availability record allows for it, absentReasons).
 
 // printedNonFinite matches a formatting error or a non-finite number
 // printed into a sentence (Go prints them as NaN, +Inf and -Inf; the
@@ -70,7 +56,7 @@ func honesty(res *Result, d int) []string {
 			fail("diagnostic %s has a broken message: %q", dg.Code, dg.Message)
 		}
 	}
-	reason := func(what string) bool {
+	reason := func(what Quantity) bool {
 		for _, c := range absentReasons[what] {
 			if codes[c] {
 				return true
@@ -78,7 +64,7 @@ func honesty(res *Result, d int) []string {
 		}
 		return false
 	}
-	absentNeedsReason := func(what, where string) {
+	absentNeedsReason := func(what Quantity, where string) {
 		if !reason(what) {
 			fail("%s is absent without a reason (want one of %v; have %v)", where, absentReasons[what], codeList(res))
 		}
@@ -91,7 +77,7 @@ func honesty(res *Result, d int) []string {
 	ex := &res.Exact
 	switch {
 	case math.IsNaN(ex.LogZ):
-		absentNeedsReason("log_z", "exact log Z")
+		absentNeedsReason(QuantityLogZ, "exact log Z")
 	case math.IsInf(ex.LogZ, 0):
 		fail("exact log Z is %g", ex.LogZ)
 	case !(ex.LogZErr >= 0):
@@ -103,21 +89,21 @@ func honesty(res *Result, d int) []string {
 	}
 	for k := 0; k < d; k++ {
 		if math.IsNaN(ex.Mean[k]) {
-			absentNeedsReason("mean", fmt.Sprintf("exact mean %d", k))
+			absentNeedsReason(QuantityMean, fmt.Sprintf("exact mean %d", k))
 		} else if math.IsInf(ex.Mean[k], 0) {
 			fail("exact mean %d is %g", k, ex.Mean[k])
 		}
 		v := ex.Cov[k][k]
 		switch {
 		case math.IsNaN(v):
-			absentNeedsReason("variance", fmt.Sprintf("exact variance %d", k))
+			absentNeedsReason(QuantityVariance, fmt.Sprintf("exact variance %d", k))
 		case !(v >= 0) || math.IsInf(v, 0):
 			fail("exact variance %d is %g", k, v)
 		case math.Abs(ex.SD[k]-math.Sqrt(v)) > 1e-9*math.Sqrt(v):
 			fail("exact sd %d is %g, the square root of the variance %g", k, ex.SD[k], v)
 		}
 		if math.IsNaN(ex.ExcessKurtosis[k]) {
-			absentNeedsReason("kurtosis", fmt.Sprintf("exact excess kurtosis %d", k))
+			absentNeedsReason(QuantityKurtosis, fmt.Sprintf("exact excess kurtosis %d", k))
 		} else if ex.ExcessKurtosis[k] < -2-honestyTol {
 			// Pearson's inequality: kurtosis >= skewness^2 + 1, so excess
 			// kurtosis >= -2 (an identity of any distribution).
@@ -130,12 +116,12 @@ func honesty(res *Result, d int) []string {
 		}
 		q := ex.Quantiles[k]
 		if math.IsNaN(q[0]) || math.IsNaN(q[1]) || math.IsNaN(q[2]) {
-			absentNeedsReason("quantiles", fmt.Sprintf("exact quantiles %d", k))
+			absentNeedsReason(QuantityQuantiles, fmt.Sprintf("exact quantiles %d", k))
 		} else if !(q[0] <= q[1] && q[1] <= q[2]) {
 			fail("exact quantiles %d out of order: %v", k, q)
 		}
 		if math.IsNaN(ex.Mode[k]) {
-			absentNeedsReason("mode", fmt.Sprintf("exact mode %d", k))
+			absentNeedsReason(QuantityMode, fmt.Sprintf("exact mode %d", k))
 		} else if math.IsInf(ex.Mode[k], 0) {
 			fail("exact mode %d is %g", k, ex.Mode[k])
 		}
@@ -160,15 +146,13 @@ func honesty(res *Result, d int) []string {
 	}
 
 	// The fits.
-	for _, f := range []struct {
-		name string
-		fit  *Fit
-	}{{"laplace", res.Fits.Laplace}, {"reverse_kl", res.Fits.ReverseKL}, {"mean_field", res.Fits.MeanField}, {"forward_kl", res.Fits.ForwardKL}} {
-		if f.fit == nil {
-			absentNeedsReason(f.name, "the "+f.name+" fit")
+	for _, m := range Methods {
+		f := res.Fits[m]
+		if f == nil {
+			absentNeedsReason(m.quantity(), "the "+m.Key()+" fit")
 			continue
 		}
-		for _, s := range fitHonesty(f.name, f.fit, res, d, reason("coverage"), reason("fit_moments")) {
+		for _, s := range fitHonesty(m, f, res, d, reason(QuantityCoverage), reason(QuantityFitMoments)) {
 			fail("%s", s)
 		}
 	}
@@ -187,23 +171,56 @@ func honesty(res *Result, d int) []string {
 	return bad
 }
 
+// analyseRecorded runs Analyse and returns its availability record too.
+func analyseRecorded(ctx context.Context, m *model.Model, opts Options) (*Result, *availability, error) {
+	a := &analysis{ctx: ctx, m: m, opts: opts, tr: newTracker(nil)}
+	res, err := a.run()
+	return res, &a.avail, err
+}
+
+// recordHonesty returns the ways in which the availability record of res
+// is wrong: an absence recorded with a code that absentReasons does not
+// allow for the quantity, or whose diagnostic is not in the Result, or a
+// fit recorded absent that the Result has (or present that it lacks).
+func recordHonesty(res *Result, av *availability) []string {
+	var bad []string
+	codes := map[string]bool{}
+	for _, dg := range res.Diagnostics {
+		codes[dg.Code] = true
+	}
+	for e, code := range av.absent {
+		if !slices.Contains(absentReasons[e.q], code) {
+			bad = append(bad, fmt.Sprintf("record: %s (%d, %d) absent for %s, not one of %v", e.q, e.i, e.j, code, absentReasons[e.q]))
+		}
+		if !codes[code] {
+			bad = append(bad, fmt.Sprintf("record: %s (%d, %d) absent for %s, which no diagnostic says", e.q, e.i, e.j, code))
+		}
+	}
+	for _, m := range Methods {
+		if gone := !av.present(m.quantity()); gone != (res.Fits[m] == nil) {
+			bad = append(bad, fmt.Sprintf("record: the %s fit recorded absent %v, but the Result has it %v", m.Key(), gone, res.Fits[m] != nil))
+		}
+	}
+	return bad
+}
+
 // fitHonesty checks one fit that is present: its normal on the fitting
 // scale, and its moments on the original scale, which may be absent only
 // for a reason (momentReason).
-func fitHonesty(name string, f *Fit, res *Result, d int, coverageReason, momentReason bool) []string {
+func fitHonesty(m Method, f *Fit, res *Result, d int, coverageReason, momentReason bool) []string {
 	var bad []string
-	fail := func(format string, args ...any) { bad = append(bad, name+": "+fmt.Sprintf(format, args...)) }
+	fail := func(format string, args ...any) { bad = append(bad, m.Key()+": "+fmt.Sprintf(format, args...)) }
 	fs := &f.FittingScale
 	if len(f.Mean) != d || len(f.Cov) != d || len(f.SD) != d || len(f.Interval95) != d || len(fs.Mean) != d || len(fs.Cov) != d || len(fs.SD) != d {
 		fail("moments of the wrong length")
 		return bad
 	}
-	// The normal on the fitting scale: finite, symmetric, positive
-	// definite.
+	// The normal on the fitting scale, and the moments on the original
+	// one: finite, symmetric, positive definite.
 	if !allFiniteF(fs.Mean) {
 		fail("mean %v", fs.Mean)
 	}
-	for _, m := range []struct {
+	for _, mo := range []struct {
 		scale string
 		mean  []float64
 		cov   [][]float64
@@ -212,47 +229,47 @@ func fitHonesty(name string, f *Fit, res *Result, d int, coverageReason, momentR
 		cov := mat.NewSymDense(d, nil)
 		absent := false
 		for k := 0; k < d; k++ {
-			if len(m.cov[k]) != d {
-				fail("%s: covariance row %d of length %d", m.scale, k, len(m.cov[k]))
+			if len(mo.cov[k]) != d {
+				fail("%s: covariance row %d of length %d", mo.scale, k, len(mo.cov[k]))
 				return bad
 			}
-			if math.IsNaN(m.mean[k]) {
+			if math.IsNaN(mo.mean[k]) {
 				absent = true
-			} else if math.IsInf(m.mean[k], 0) {
-				fail("%s: mean %d is %g", m.scale, k, m.mean[k])
+			} else if math.IsInf(mo.mean[k], 0) {
+				fail("%s: mean %d is %g", mo.scale, k, mo.mean[k])
 			}
 			for l := 0; l < d; l++ {
-				c := m.cov[k][l]
+				c := mo.cov[k][l]
 				if math.IsNaN(c) {
 					absent = true
 					continue
 				}
 				if math.IsInf(c, 0) {
-					fail("%s: covariance (%d, %d) is %g", m.scale, k, l, c)
+					fail("%s: covariance (%d, %d) is %g", mo.scale, k, l, c)
 					return bad
 				}
-				if c != m.cov[l][k] {
-					fail("%s: covariance not symmetric at (%d, %d)", m.scale, k, l)
+				if c != mo.cov[l][k] {
+					fail("%s: covariance not symmetric at (%d, %d)", mo.scale, k, l)
 				}
 				if l >= k {
 					cov.SetSym(k, l, c)
 				}
 			}
-			if v := m.cov[k][k]; !math.IsNaN(v) {
-				if sd := m.sd[k]; !(sd > 0) || math.Abs(sd-math.Sqrt(v)) > 1e-9*sd {
-					fail("%s: sd %d is %g for variance %g", m.scale, k, sd, v)
+			if v := mo.cov[k][k]; !math.IsNaN(v) {
+				if sd := mo.sd[k]; !(sd > 0) || math.Abs(sd-math.Sqrt(v)) > 1e-9*sd {
+					fail("%s: sd %d is %g for variance %g", mo.scale, k, sd, v)
 				}
 			}
 		}
 		if absent {
-			if m.scale == "fitting scale" || !momentReason {
-				fail("%s: moments absent without a reason", m.scale)
+			if mo.scale == "fitting scale" || !momentReason {
+				fail("%s: moments absent without a reason", mo.scale)
 			}
 			continue
 		}
 		var chol mat.Cholesky
 		if !chol.Factorize(cov) {
-			fail("%s: covariance %v is not positive definite", m.scale, m.cov)
+			fail("%s: covariance %v is not positive definite", mo.scale, mo.cov)
 		}
 	}
 	for k := 0; k < d; k++ {
@@ -299,7 +316,7 @@ func fitHonesty(name string, f *Fit, res *Result, d int, coverageReason, momentR
 	if f.EvidenceErr != nil && math.IsNaN(lz) && !math.IsNaN(*f.EvidenceErr) {
 		fail("evidence error %g against an absent log Z", *f.EvidenceErr)
 	}
-	if !f.Converged && (name == "reverse_kl" || name == "mean_field") && !hasCode(res, CodeNoConvergence) {
+	if !f.Converged && (m == ReverseKL || m == MeanField) && !hasCode(res, CodeNoConvergence) {
 		fail("not converged, and no diagnostic says so")
 	}
 	return bad

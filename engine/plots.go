@@ -27,14 +27,14 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 	g := a.ref.grid
 	st := &g.Stats
 	d := a.d
-	// The fits that exist, each a normal on the fitting scale.
-	var fits []fitted
-	for _, f := range a.fits {
-		if *f.out != nil && f.q != nil {
-			fits = append(fits, f)
+	pl := &Plots{}
+	// Each fit that exists, a normal on the fitting scale, by method.
+	var fits [NumMethods]*gauss.Prepared
+	for _, fd := range a.fits {
+		if res.Fits[fd.method] != nil {
+			fits[fd.method] = fd.q
 		}
 	}
-	pl := &Plots{}
 	// dxdz[k][i] is dx/dz at node i of axis k.
 	dxdz := make([][]float64, d)
 	xs := make([][]float64, d)
@@ -54,21 +54,15 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 			m.X = append(m.X, xs[k][i])
 			m.Exact = append(m.Exact, st.Marginals[k].Density[i]/dxdz[k][i])
 		}
-		for _, fc := range fits {
+		for meth, q := range fits {
+			if q == nil {
+				continue
+			}
 			curve := make([]float64, len(idx))
 			for j, i := range idx {
-				curve[j] = fc.q.MarginalPDF(k, g.Nodes[k][i]) / dxdz[k][i]
+				curve[j] = q.MarginalPDF(k, g.Nodes[k][i]) / dxdz[k][i]
 			}
-			switch fc.name {
-			case "laplace":
-				m.Laplace = curve
-			case "reverse_kl":
-				m.Reverse = curve
-			case "mean_field":
-				m.MeanFld = curve
-			default:
-				m.Forward = curve
-			}
+			m.Fits[meth] = curve
 		}
 		pl.Marginals = append(pl.Marginals, m)
 	}
@@ -96,7 +90,7 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 		if err := part(0.9); err != nil {
 			return nil, err
 		}
-		m2 := Marginal2D{I: i, J: j, Levels: [3]float64{lv[0], lv[1], lv[2]}, Ellipses: map[string][3][][2]float64{}}
+		m2 := Marginal2D{I: i, J: j, Levels: [3]float64{lv[0], lv[1], lv[2]}, Ellipses: Ellipses{}}
 		iu, iv := plotNodes(g.N[i], maxPlot2D), plotNodes(nj, maxPlot2D)
 		for _, u := range iu {
 			m2.X = append(m2.X, xs[i][u])
@@ -110,8 +104,10 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 				m2.Density = append(m2.Density, orig[u*nj+v])
 			}
 		}
-		for _, fc := range fits {
-			m2.Ellipses[fc.name] = a.ellipses(fc.q, i, j)
+		for meth, q := range fits {
+			if q != nil {
+				m2.Ellipses[Method(meth)] = a.ellipses(q, i, j)
+			}
 		}
 		pl.Pairs = append(pl.Pairs, m2)
 	}

@@ -37,11 +37,11 @@ func TestTableFitsOnTheOriginalScale(t *testing.T) {
 	if len(meanRow) != 5 {
 		t.Fatalf("mean row %v, want the exact column and four fits:\n%s", meanRow, b.String())
 	}
-	fits := []*engine.Fit{r.Fits.Laplace, r.Fits.ReverseKL, r.Fits.MeanField, r.Fits.ForwardKL}
 	if got := meanRow[0]; got != num(r.Exact.Mean[0]) || math.Abs(r.Exact.Mean[0]-1.5) > 1e-6 {
 		t.Errorf("exact mean printed %s, JSON %g, want 1.5", got, r.Exact.Mean[0])
 	}
-	for i, f := range fits {
+	for i, m := range engine.Methods {
+		f := r.Fits[m]
 		if f == nil {
 			continue
 		}

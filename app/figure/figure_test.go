@@ -43,7 +43,7 @@ func gaussian2D(rho float64, n int) *engine.Marginal2D {
 	for k, m := range Masses {
 		lines[k] = q.Ellipse(0, 1, m, 48)
 	}
-	p.Ellipses = map[string][3][][2]float64{"laplace": lines}
+	p.Ellipses = engine.Ellipses{engine.Laplace: lines}
 	return p
 }
 
@@ -118,7 +118,7 @@ func TestMarginalScales(t *testing.T) {
 	m := &engine.Marginal1D{X: []float64{-2, -1, 0, 1, 2}}
 	for _, x := range m.X {
 		m.Exact = append(m.Exact, math.Exp(-x*x/2)/math.Sqrt(2*math.Pi))
-		m.Laplace = append(m.Laplace, math.Exp(-x*x/2)/math.Sqrt(2*math.Pi))
+		m.Fits[engine.Laplace] = append(m.Fits[engine.Laplace], math.Exp(-x*x/2)/math.Sqrt(2*math.Pi))
 	}
 	f := Marginal(m, Options{ID: "m", XLabel: "x"})
 	if f == nil {
