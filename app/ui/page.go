@@ -339,7 +339,7 @@ func (p *Page) State() (src string, params map[string]engine.ParamOptions, v Vie
 }
 
 // SetView implements Host.
-func (p *Page) SetView(ctx app.Context, log bool, hidden [5]bool) {
+func (p *Page) SetView(ctx app.Context, log bool, hidden [plot.NumMethods]bool) {
 	p.view = View{Log: log, Hidden: hidden}
 	p.figs = BuildFigures(p.s.Result, p.view)
 	p.persist()
@@ -577,34 +577,19 @@ func (p *Page) modesAndGrid(stale bool) app.UI {
 	if r == nil {
 		return app.P().Class("muted").Text("The modes and the grid appear here once the analysis has run.")
 	}
-	support := func(i int) (float64, float64) {
-		if m := p.s.ResultModel; m != nil && i < len(m.Params) {
-			return m.Params[i].Lo, m.Params[i].Hi
-		}
-		return math.Inf(-1), math.Inf(1)
-	}
 	var box []string
 	for i := range r.Params {
 		if i < len(r.Grid.Lo) && i < len(r.Grid.Hi) && i < len(r.Grid.Points) {
 			sc := resultScale(r, i)
-			lo, hi := support(i)
-			b := r.Params[i] + " ∈ [" + plot.FormatNumber(Back(sc, lo, hi, r.Grid.Lo[i]), 4) + ", " +
-				plot.FormatNumber(Back(sc, lo, hi, r.Grid.Hi[i]), 4) + "], " + strconv.Itoa(r.Grid.Points[i]) + " points"
-			if sc != engine.Identity && sc != "" {
-				b += " on the " + string(sc) + " scale"
+			b := r.Params[i] + " ∈ [" + plot.FormatNumber(r.Grid.Lo[i], 4) + ", " +
+				plot.FormatNumber(r.Grid.Hi[i], 4) + "], " + strconv.Itoa(r.Grid.Points[i]) + " points"
+			if !sc.IsIdentity() {
+				b += " on the " + sc.String() + " scale"
 			}
 			box = append(box, b)
 		}
 	}
-	modes := make([]engine.Mode, len(r.Modes))
-	for k, md := range r.Modes {
-		md.X = append([]float64(nil), md.X...)
-		for i := range md.X {
-			lo, hi := support(i)
-			md.X[i] = Back(resultScale(r, i), lo, hi, md.X[i])
-		}
-		modes[k] = md
-	}
+	modes := r.Modes
 	stages := make([]string, 0, len(r.Timing.Stages))
 	for k := range r.Timing.Stages {
 		stages = append(stages, k)
