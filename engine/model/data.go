@@ -91,13 +91,12 @@ func NameProblem(s string) string {
 		switch {
 		case r == utf8.RuneError:
 			return "is not valid UTF-8"
+		case !unicode.IsPrint(r) && r != ' ':
+			return fmt.Sprintf("contains the invisible character U+%04X", r)
 		case i == 0 && !isNameStart(r):
 			return "does not start with a letter or '_'"
 		case !isNamePart(r):
-			if unicode.IsPrint(r) {
-				return "contains " + quoteRune(r) + ", which a name cannot"
-			}
-			return fmt.Sprintf("contains the invisible character U+%04X", r)
+			return "contains " + quoteRune(r) + ", which a name cannot"
 		}
 	}
 	if _, ok := keywords[s]; ok {
