@@ -87,12 +87,17 @@ func checkReadTable(t *testing.T, tb *Table) {
 	if total > MaxValues {
 		t.Fatalf("%d values in all", total)
 	}
-	// Every column can be used by a model.
+	// Every column can be used by a model, whose parameter has a name no
+	// column has.
+	param := "m"
+	for seen[param] {
+		param += "m"
+	}
 	var terms []string
 	for _, c := range tb.Columns {
 		terms = append(terms, "sum("+c.Name+")")
 	}
-	if _, err := model.ParseWith(strings.Join(terms, " + ")+" - m^2", tb.Vectors()); err != nil {
+	if _, err := model.ParseWith(strings.Join(terms, " + ")+" - "+param+"^2", tb.Vectors()); err != nil {
 		t.Fatalf("model.ParseWith refuses the table: %v", err)
 	}
 }

@@ -457,6 +457,13 @@ func (r *reader) columns(header []cell) ([]*column, error) {
 		return nil, errorf(header[0].at, "add a first row naming the columns, such as x"+sepText(r.sep)+"y",
 			"the first row holds numbers, not the columns' names")
 	}
+	named := false
+	for _, c := range header {
+		named = named || !c.empty()
+	}
+	if !named {
+		return nil, errorf(header[0].at, "name the columns in the first row", "the header row names no columns")
+	}
 	seen := map[string]Pos{}
 	cols := make([]*column, len(header))
 	for i, c := range header {
