@@ -3,6 +3,8 @@ package data
 import (
 	"fmt"
 	"strconv"
+	"strings"
+	"unicode"
 	"unicode/utf8"
 )
 
@@ -44,4 +46,71 @@ func show(s string) string {
 		return strconv.Quote(s) + "..."
 	}
 	return strconv.Quote(s)
+}
+
+// Detail renders the error for a person, on several lines without a final
+// line break: the text Error gives, the offending line of src (at most
+// maxLine characters of it around the place, invisible characters shown as
+// U+FFFD), a caret under the column, and the hint. src must be the text the
+// error was found in.
+func (e *Error) Detail(src string) string {
+	var b strings.Builder
+	b.WriteString(e.Error())
+	if line, ok := lineOf(src, e.Line); ok {
+		rs := []rune(line)
+		from := 0
+		if e.Col > maxLine/2 {
+			from = min(e.Col-1-maxLine/2, max(len(rs)-maxLine, 0))
+		}
+		to := min(len(rs), from+maxLine)
+		var shown, pad strings.Builder
+		for i, r := range rs[from:to] {
+			switch {
+			case r == '\t':
+			case r == utf8.RuneError, !unicode.IsPrint(r) && r != ' ':
+				r = utf8.RuneError
+			}
+			shown.WriteRune(r)
+			if from+i < e.Col-1 {
+				if r == '\t' {
+					pad.WriteByte('\t')
+				} else {
+					pad.WriteByte(' ')
+				}
+			}
+		}
+		for i := to; i < e.Col-1; i++ {
+			pad.WriteByte(' ')
+		}
+		b.WriteString("\n    " + shown.String() + "\n    " + pad.String() + "^")
+	}
+	if e.Hint != "" {
+		b.WriteString("\nhint: " + e.Hint)
+	}
+	return b.String()
+}
+
+// maxLine is the most characters of a line Detail shows.
+const maxLine = 100
+
+// lineOf returns line n (1-based) of src, with the line breaks Parse counts
+// and a leading byte-order mark left out.
+func lineOf(src string, n int) (string, bool) {
+	src = strings.TrimPrefix(src, bom8)
+	for line := 1; ; line++ {
+		i := strings.IndexAny(src, "\r\n")
+		if line == n {
+			if i < 0 {
+				return src, true
+			}
+			return src[:i], true
+		}
+		if i < 0 {
+			return "", false
+		}
+		if src[i] == '\r' && i+1 < len(src) && src[i+1] == '\n' {
+			i++
+		}
+		src = src[i+1:]
+	}
 }

@@ -240,3 +240,23 @@ func TestRead(t *testing.T) {
 		t.Error("Read of more than MaxBytes: no error")
 	}
 }
+
+// TestDetail shows the line with a caret under the place, tabs kept so the
+// caret lines up, and the hint.
+func TestDetail(t *testing.T) {
+	src := "x\ty\r\n1\tNA\r\n"
+	_, err := Parse(src)
+	got := err.(*Error).Detail(src)
+	want := "2:3: missing value \"NA\" in column y\n    1\tNA\n     \t^\nhint: every cell of a column needs a number: fill it in, or remove the row"
+	if got != want {
+		t.Errorf("Detail:\n%s\nwant\n%s", got, want)
+	}
+	// A long line is shown around the place.
+	long := "x,y\n" + strings.Repeat("1", 150) + ",abc\n"
+	_, err = Parse(long)
+	d := err.(*Error).Detail(long)
+	lines := strings.Split(d, "\n")
+	if len(lines) < 3 || strings.Index(lines[2], "^") != strings.Index(lines[1], "abc") {
+		t.Errorf("caret not under the cell:\n%s", d)
+	}
+}
