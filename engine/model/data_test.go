@@ -140,3 +140,12 @@ func TestNameProblem(t *testing.T) {
 		}
 	}
 }
+
+// TestDataNameAsFunction: a data vector called as a function is named as
+// the data's column, not as a definition on some line.
+func TestDataNameAsFunction(t *testing.T) {
+	_, err := ParseWith("-sum((y(2) - m)^2)", []Data{{Name: "y", Values: []float64{1, 2}}})
+	if err == nil || err.Error() != "1:7: y is a column of the attached data, not a function" {
+		t.Errorf("error %v", err)
+	}
+}
