@@ -168,6 +168,8 @@ type reader struct {
 	sep byte
 	// end is where the last row read ends (before its line break).
 	end Pos
+	// cells is the last row's cells; the next row reuses it.
+	cells []cell
 }
 
 // peek returns the next byte, or 0 at the end of the text.
@@ -266,7 +268,8 @@ func (r *reader) detectSeparator() {
 // row reads the cells of one row (which ends at a line break outside
 // quotes or at the end of the text) and moves past its line break.
 func (r *reader) row() ([]cell, error) {
-	var cells []cell
+	cells := r.cells[:0]
+	defer func() { r.cells = cells[:0] }()
 	for {
 		for r.blank(r.peek()) {
 			r.advance()
@@ -408,7 +411,7 @@ func (r *reader) table() (*Table, error) {
 			return nil, err
 		}
 		if !allEmpty(cells) {
-			header = cells
+			header = append([]cell(nil), cells...)
 			break
 		}
 	}
