@@ -560,6 +560,9 @@ func (r *reader) values(cols []*column, cells []cell, total *int) error {
 		}
 		v, problem, hint := number(c.text)
 		if problem != "" {
+			if h := mixedSeparators(c, r.sep); h != "" {
+				hint = h
+			}
 			return errorf(c.at, hint, "%s in column %s", problem, col.name)
 		}
 		if len(col.values) == MaxColumnValues {
@@ -590,4 +593,44 @@ func plural(n int, what string) string {
 		return "1 " + what
 	}
 	return fmt.Sprintf("%d %ss", n, what)
+}
+
+// mixedSeparators returns a hint when an unquoted cell is several numbers
+// separated by a space, a tab or a semicolon other than the table's
+// separator (rows copied from another source), or "".
+func mixedSeparators(c cell, sep byte) string {
+	if c.quoted {
+		return ""
+	}
+	for _, other := range []string{" ", "\t", ";"} {
+		if other[0] == sep || !strings.Contains(c.text, other) {
+			continue
+		}
+		parts := strings.FieldsFunc(c.text, func(r rune) bool { return r == rune(other[0]) || r == ' ' })
+		if len(parts) < 2 {
+			continue
+		}
+		all := true
+		for _, p := range parts {
+			all = all && decimal(p)
+		}
+		if all {
+			return fmt.Sprintf("the header separates its columns with %s, but this row holds several numbers separated by %s: use one separator throughout",
+				sepName(sep), sepName(other[0]))
+		}
+	}
+	return ""
+}
+
+// sepName names a separator in a hint.
+func sepName(b byte) string {
+	switch b {
+	case '\t':
+		return "tabs"
+	case ',':
+		return "commas"
+	case ';':
+		return "semicolons"
+	}
+	return "spaces"
 }

@@ -158,6 +158,9 @@ func TestParseErrors(t *testing.T) {
 		{"x\x00\ny\n", 1, 2, "NUL byte"},
 		{"x,y\n1,2\nb\xe9ta,3\n", 3, 2, "invalid UTF-8 byte 0xe9"},
 		{"\uFEFFx,y\n1,abc\n", 2, 3, "not a number"},
+		// Rows copied with another separator than the header's.
+		{"x\ty\n1 2\n", 2, 1, `"1 2" is not a number in column x`},
+		{"x,y\n1;2,3\n", 2, 1, `"1;2" is not a number in column x`},
 		// A long cell.
 		{"x\n" + strings.Repeat("1", MaxCell+1) + "\n", 2, 1, "cell is too long"},
 		{"x\n\"" + strings.Repeat("1", 3*MaxCell) + "\n", 2, 1, "cell is too long"},
@@ -173,6 +176,11 @@ func TestParseErrors(t *testing.T) {
 		}
 		if e.Hint == "" && !strings.Contains(tc.msg, "twice") && !strings.Contains(tc.msg, "too many") {
 			t.Logf("%q: no hint for %v", tc.src, err)
+		}
+		if strings.Contains(tc.msg, `"1 2"`) || strings.Contains(tc.msg, `"1;2"`) {
+			if !strings.Contains(e.Hint, "use one separator throughout") {
+				t.Errorf("%q: hint %q does not point at the separators", tc.src, e.Hint)
+			}
 		}
 	}
 }
