@@ -38,3 +38,38 @@ func TestTableInModel(t *testing.T) {
 		}
 	}
 }
+
+// TestDefinitionsSameAsAttached checks that the table written as model text
+// gives the model the same vectors as attaching it (identity), values bit
+// for bit, including ones that need all 17 digits.
+func TestDefinitionsSameAsAttached(t *testing.T) {
+	src := "a,b\n0.1,1e-300\n-2.5,0.30000000000000004\n3,\n4,\n5,\n6,\n7,\n8,\n9,\n10,\n11,\n"
+	tb, err := Parse(src)
+	if err != nil {
+		t.Fatal(err)
+	}
+	text := tb.Definitions()
+	const body = "-sum((a - m)^2) - sum(b)"
+	inline, err := model.Parse(text + body)
+	if err != nil {
+		t.Fatalf("%v\n%s", err, text)
+	}
+	attached, err := model.ParseWith(body, tb.Vectors())
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, c := range tb.Columns {
+		vec, ok := inline.Defs[i].Value.(*model.Vector)
+		if !ok || inline.Defs[i].Name != c.Name || len(vec.Elems) != len(c.Values) {
+			t.Fatalf("definition %d: %s is not the column %s", i, inline.Defs[i].Name, c.Name)
+		}
+		att := attached.Defs[i].Value.(*model.Vector)
+		for j, e := range vec.Elems {
+			v := e.(*model.Number).Value
+			w := att.Elems[j].(*model.Number).Value
+			if math.Float64bits(v) != math.Float64bits(c.Values[j]) || math.Float64bits(w) != math.Float64bits(v) {
+				t.Errorf("%s[%d]: text %v, attached %v, read %v", c.Name, j, v, w, c.Values[j])
+			}
+		}
+	}
+}
