@@ -65,7 +65,11 @@ func TestDefinitionsSameAsAttached(t *testing.T) {
 		}
 		att := attached.Defs[i].Value.(*model.Vector)
 		for j, e := range vec.Elems {
-			v := e.(*model.Number).Value
+			sign := 1.0
+			if u, neg := e.(*model.Unary); neg && u.Op == '-' {
+				sign, e = -1, u.X
+			}
+			v := sign * e.(*model.Number).Value
 			w := att.Elems[j].(*model.Number).Value
 			if math.Float64bits(v) != math.Float64bits(c.Values[j]) || math.Float64bits(w) != math.Float64bits(v) {
 				t.Errorf("%s[%d]: text %v, attached %v, read %v", c.Name, j, v, w, c.Values[j])
