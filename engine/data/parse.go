@@ -297,6 +297,11 @@ func (r *reader) row() ([]cell, error) {
 			return nil, errorf(start, "a cell holds one number", "cell is too long: %d bytes, at most %d", len(c.text), MaxCell)
 		}
 		cells = append(cells, c)
+		gap := false
+		for r.blank(r.peek()) {
+			r.advance()
+			gap = true
+		}
 		switch {
 		case r.atLineEnd():
 			r.end = r.pos
@@ -304,7 +309,7 @@ func (r *reader) row() ([]cell, error) {
 			return cells, nil
 		case r.peek() == r.sep:
 			r.advance()
-		case r.sep == ' ' && r.blank(r.peek()):
+		case r.sep == ' ' && gap:
 			// Runs of blanks separate the cells.
 		default:
 			return nil, errorf(r.pos, "a quoted cell ends at its closing quote; a quote inside it is written twice (\"\")",
@@ -357,9 +362,6 @@ func (r *reader) quotedCell() (cell, error) {
 			r.advance()
 		case ch == '"':
 			r.advance()
-			for r.blank(r.peek()) {
-				r.advance()
-			}
 			c.text = strings.TrimSpace(b.String())
 			return c, nil
 		case ch == '\n' || ch == '\r':

@@ -55,6 +55,9 @@ func TestParseTables(t *testing.T) {
 		// line break inside quotes, a doubled quote.
 		{"\"x\",\"y\"\n\"1.5\",\"2\"\n", "comma", []col{{"x", []float64{1.5}}, {"y", []float64{2}}}},
 		{"x,\"y\"\n\" 7 \",8\n", "comma", []col{{"x", []float64{7}}, {"y", []float64{8}}}},
+		// Quoted cells with spaces between them.
+		{"\"x\"  \"y\"\n\"1\" 2\n3 \"4\"\n", "space", []col{{"x", []float64{1, 3}}, {"y", []float64{2, 4}}}},
+		{"x\ty\n\"1\" \t 2\n", "tab", []col{{"x", []float64{1}}, {"y", []float64{2}}}},
 		// A comma inside quotes does not choose the comma layout.
 		{"\"a,b\"\n1\n", "space", nil},
 		// Line endings: CRLF, a lone CR, none at the end; blank lines.
