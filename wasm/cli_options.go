@@ -18,13 +18,19 @@ import (
 // fitInputs are the fit command's data file and per-parameter options, as
 // given on the command line.
 type fitInputs struct {
-	dataFile string
-	settings []paramopt.Setting // from the flags, in the order given
+	dataFiles []string
+	settings  []paramopt.Setting // from the flags, in the order given
 }
 
 // define adds --data, --scale, --points and --box to the fit command's flags.
 func (in *fitInputs) define(fs *flag.FlagSet) {
-	fs.StringVar(&in.dataFile, "data", "", "attach the columns of a CSV or tab-separated `FILE` (with a header row) as named vectors ('-' reads standard input)")
+	fs.Func("data", "attach the columns of a CSV or tab-separated `FILE` (with a header row) as named vectors ('-' reads standard input; repeatable)", func(v string) error {
+		if v == "" {
+			return errors.New("want a file name")
+		}
+		in.dataFiles = append(in.dataFiles, v)
+		return nil
+	})
 	for _, k := range []struct {
 		kind paramopt.Kind
 		help string
@@ -55,16 +61,24 @@ func (in *fitInputs) define(fs *flag.FlagSet) {
 // stderr and returns the exit status.
 func (in *fitInputs) load(name, src string, stdin io.Reader, stderr io.Writer) (*model.Model, engine.Options, int) {
 	var vectors []model.Data
-	if in.dataFile != "" {
-		if in.dataFile == "-" && name == "-" {
+	from := map[string]string{} // column name -> file
+	for _, file := range in.dataFiles {
+		if file == "-" && name == "-" {
 			fmt.Fprint(stderr, "bellcheck fit: --data - and a model from standard input cannot share it; give one of them as a file\n")
 			return nil, engine.Options{}, exitUsage
 		}
-		tb, code := readData(in.dataFile, stdin, stderr)
+		tb, code := readData(file, stdin, stderr)
 		if code != exitOK {
 			return nil, engine.Options{}, code
 		}
-		vectors = tb.Vectors()
+		for _, c := range tb.Columns {
+			if other, dup := from[c.Name]; dup {
+				fmt.Fprintf(stderr, "%s:%d:%d: column %s is also in %s\n", file, c.At.Line, c.At.Col, c.Name, other)
+				return nil, engine.Options{}, exitModel
+			}
+			from[c.Name] = file
+		}
+		vectors = append(vectors, tb.Vectors()...)
 	}
 	m, err := model.ParseWith(src, vectors)
 	if err != nil {

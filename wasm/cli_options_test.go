@@ -174,6 +174,7 @@ func TestDataAndOptionErrors(t *testing.T) {
 		{"", []string{"--data", filepath.Join(dir, "none.csv"), mdl}, exitModel, "none.csv"},
 		{"", []string{"--data", dir, mdl}, exitModel, "not a regular file"},
 		{"x\n1\n", []string{"--data", "-", "-"}, exitUsage, "cannot share"},
+		{"", []string{"--data", good, "--data", good, mdl}, exitModel, "good.tsv:1:1: column y is also in " + good},
 		{"", []string{"--data", good, clash}, exitModel, "clash.txt:1:1: w is a column of the attached data"},
 		{"", []string{"--data", good, badLine}, exitModel, "badline.txt:3:10: m=log: the log scale needs"},
 		{"", []string{"--data", good, "--points", "q=101", mdl}, exitUsage, "--points: q=101: the model has no parameter q (its parameters: s, m)"},
@@ -184,6 +185,18 @@ func TestDataAndOptionErrors(t *testing.T) {
 		if code != tc.code || !strings.Contains(stderr, tc.want) {
 			t.Errorf("fit %v: exit %d, stderr %q; want exit %d and %q", tc.args, code, stderr, tc.code, tc.want)
 		}
+	}
+}
+
+// TestSeveralDataFiles attaches two files, one column each.
+func TestSeveralDataFiles(t *testing.T) {
+	dir := t.TempDir()
+	y := writeFile(t, dir, "y.csv", "y\n1.2\n0.4\n2.9\n1.7\n0.8\n2.2\n")
+	w := writeFile(t, dir, "w.csv", "w\n1\n2\n1\n0.5\n1\n1\n")
+	mdl := writeFile(t, dir, "m.txt", parityLines+parityModel)
+	self := writeFile(t, dir, "self.txt", parityLines+parityVector+parityModel)
+	if got, want := fitJSON(t, "--data", y, "--data", w, mdl), fitJSON(t, self); got != want {
+		t.Errorf("two data files differ from the self-contained file")
 	}
 }
 
