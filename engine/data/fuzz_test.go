@@ -3,7 +3,6 @@ package data
 import (
 	"errors"
 	"math"
-	"strconv"
 	"strings"
 	"testing"
 
@@ -40,9 +39,9 @@ func FuzzDataFile(f *testing.F) {
 			return
 		}
 		checkReadTable(t, tb)
-		again, err := Parse(writeCSV(tb))
+		again, err := Parse(tb.CSV())
 		if err != nil {
-			t.Fatalf("the table written back does not parse: %v\n%s", err, writeCSV(tb))
+			t.Fatalf("the table written back does not parse: %v\n%s", err, tb.CSV())
 		}
 		if len(again.Columns) != len(tb.Columns) {
 			t.Fatalf("%d columns, then %d", len(tb.Columns), len(again.Columns))
@@ -100,31 +99,4 @@ func checkReadTable(t *testing.T, tb *Table) {
 	if _, err := model.ParseWith(strings.Join(terms, " + ")+" - "+param+"^2", tb.Vectors()); err != nil {
 		t.Fatalf("model.ParseWith refuses the table: %v", err)
 	}
-}
-
-// writeCSV writes a table as comma-separated text, shorter columns ending in
-// empty cells, every value in its shortest form that reads back exactly.
-func writeCSV(tb *Table) string {
-	var b strings.Builder
-	rows := 0
-	for i, c := range tb.Columns {
-		if i > 0 {
-			b.WriteByte(',')
-		}
-		b.WriteString(c.Name)
-		rows = max(rows, len(c.Values))
-	}
-	b.WriteByte('\n')
-	for r := 0; r < rows; r++ {
-		for i, c := range tb.Columns {
-			if i > 0 {
-				b.WriteByte(',')
-			}
-			if r < len(c.Values) {
-				b.WriteString(strconv.FormatFloat(c.Values[r], 'g', -1, 64))
-			}
-		}
-		b.WriteByte('\n')
-	}
-	return b.String()
 }

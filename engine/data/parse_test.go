@@ -271,3 +271,16 @@ func TestDetail(t *testing.T) {
 		t.Errorf("caret not under the cell:\n%s", d)
 	}
 }
+
+// TestCSV writes a ragged tab-separated table as CSV and reads it back.
+func TestCSV(t *testing.T) {
+	tb, err := Parse("a\tb\n0.1\t-2\n1e-300\t\n3\n")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got, want := tb.CSV(), "a,b\n0.1,-2\n1e-300,\n3,\n"; got != want {
+		t.Errorf("CSV:\n%q\nwant\n%q", got, want)
+	}
+	again, err := Parse(tb.CSV())
+	checkTable(t, tb.CSV(), again, err, "comma", []col{{"a", []float64{0.1, 1e-300, 3}}, {"b", []float64{-2}}})
+}

@@ -28,3 +28,32 @@ func (t *Table) Definitions() string {
 	}
 	return b.String()
 }
+
+// CSV writes the table as comma-separated text that Parse reads back to the
+// same table, values bit for bit (FuzzDataFile checks it): the header, then
+// one row per value, a shorter column ending in empty cells, every value in
+// its shortest exact form. It suits storing attached data, in a link say.
+func (t *Table) CSV() string {
+	var b strings.Builder
+	rows := 0
+	for i, c := range t.Columns {
+		if i > 0 {
+			b.WriteByte(',')
+		}
+		b.WriteString(c.Name)
+		rows = max(rows, len(c.Values))
+	}
+	b.WriteByte('\n')
+	for r := 0; r < rows; r++ {
+		for i, c := range t.Columns {
+			if i > 0 {
+				b.WriteByte(',')
+			}
+			if r < len(c.Values) {
+				b.WriteString(strconv.FormatFloat(c.Values[r], 'g', -1, 64))
+			}
+		}
+		b.WriteByte('\n')
+	}
+	return b.String()
+}
