@@ -8,6 +8,7 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"strings"
 
 	"bellcheck/engine"
 	"bellcheck/engine/data"
@@ -71,6 +72,7 @@ func (in *fitInputs) load(name, src string, stdin io.Reader, stderr io.Writer) (
 		if code != exitOK {
 			return nil, engine.Options{}, code
 		}
+		noteRagged(stderr, file, tb)
 		for _, c := range tb.Columns {
 			if other, dup := from[c.Name]; dup {
 				fmt.Fprintf(stderr, "%s:%d:%d: column %s is also in %s\n", file, c.At.Line, c.At.Col, c.Name, other)
@@ -135,4 +137,19 @@ func readData(file string, stdin io.Reader, stderr io.Writer) (*data.Table, int)
 		return nil, exitModel
 	}
 	return tb, exitOK
+}
+
+// noteRagged says on stderr when a table's columns differ in length (a
+// column that ends early), so that a missing value at a column's end is not
+// dropped unnoticed.
+func noteRagged(stderr io.Writer, file string, tb *data.Table) {
+	ragged := false
+	lengths := make([]string, len(tb.Columns))
+	for i, c := range tb.Columns {
+		ragged = ragged || len(c.Values) != len(tb.Columns[0].Values)
+		lengths[i] = fmt.Sprintf("%s %d", c.Name, len(c.Values))
+	}
+	if ragged {
+		fmt.Fprintf(stderr, "bellcheck: note: %s: the columns differ in length (%s)\n", file, strings.Join(lengths, ", "))
+	}
 }

@@ -200,6 +200,17 @@ func TestSeveralDataFiles(t *testing.T) {
 	}
 }
 
+// TestRaggedDataNoted: columns of different lengths are read, with a note.
+func TestRaggedDataNoted(t *testing.T) {
+	dir := t.TempDir()
+	d := writeFile(t, dir, "r.csv", "a,b\n1,2\n3,\n")
+	mdl := writeFile(t, dir, "m.txt", "-sum((a - m)^2) - sum((b - m)^2)\n")
+	code, _, stderr := runCLI(t, "", "fit", "--json", "--data", d, mdl)
+	if code != exitOK || !strings.Contains(stderr, "r.csv: the columns differ in length (a 2, b 1)") {
+		t.Errorf("exit %d, stderr %q", code, stderr)
+	}
+}
+
 // TestDataFromStandardInput reads the data from standard input with the
 // model in a file.
 func TestDataFromStandardInput(t *testing.T) {
