@@ -170,6 +170,12 @@ type reader struct {
 	end Pos
 	// cells is the last row's cells; the next row reuses it.
 	cells []cell
+	// limit is the most cells a row keeps: MaxColumns for the header, then
+	// the header's columns. Empty cells beyond it (trailing separators) are
+	// skipped, and a value beyond it is an error, so that a line of a
+	// million separators costs no memory.
+	limit  int
+	header bool // the header has been read
 }
 
 // peek returns the next byte, or 0 at the end of the text.
@@ -270,6 +276,7 @@ func (r *reader) detectSeparator() {
 func (r *reader) row() ([]cell, error) {
 	cells := r.cells[:0]
 	defer func() { r.cells = cells[:0] }()
+	n := 0 // cells read, kept or not
 	for {
 		for r.blank(r.peek()) {
 			r.advance()
@@ -277,7 +284,7 @@ func (r *reader) row() ([]cell, error) {
 		start := r.pos
 		if r.atLineEnd() {
 			r.end = r.pos
-			if r.sep != ' ' {
+			if r.sep != ' ' && len(cells) < r.limit {
 				cells = append(cells, cell{at: start})
 			}
 			r.newline()
@@ -296,7 +303,13 @@ func (r *reader) row() ([]cell, error) {
 		if len(c.text) > MaxCell {
 			return nil, errorf(start, "a cell holds one number", "cell is too long: %d bytes, at most %d", len(c.text), MaxCell)
 		}
-		cells = append(cells, c)
+		n++
+		switch {
+		case len(cells) < r.limit:
+			cells = append(cells, c)
+		case !c.empty():
+			return nil, r.beyond(c, n)
+		}
 		gap := false
 		for r.blank(r.peek()) {
 			r.advance()
@@ -316,6 +329,16 @@ func (r *reader) row() ([]cell, error) {
 				"unexpected %s after the closing quote of the cell at %d:%d", show(string(r.rest())), start.Line, start.Col)
 		}
 	}
+}
+
+// beyond reports the n-th cell c of a row, which holds a value but lies
+// beyond the row's limit.
+func (r *reader) beyond(c cell, n int) error {
+	if !r.header {
+		return errorf(c.at, "", "too many columns: more than %d", MaxColumns)
+	}
+	return errorf(c.at, "every row has at most one cell for each column named in the header",
+		"value in cell %d of the row, but the header names %s", n, plural(r.limit, "column"))
 }
 
 // rest returns the next rune as a string.
@@ -402,6 +425,7 @@ func allEmpty(cells []cell) bool {
 // table reads the header and the rows.
 func (r *reader) table() (*Table, error) {
 	var header []cell
+	r.limit = MaxColumns
 	for r.off < len(r.src) {
 		if r.lineStartsComment() {
 			r.skipLine()
@@ -424,6 +448,7 @@ func (r *reader) table() (*Table, error) {
 	if err != nil {
 		return nil, err
 	}
+	r.limit, r.header = len(cols), true
 	total := 0
 	for r.off < len(r.src) {
 		cells, err := r.row()

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"math"
 	"reflect"
+	"runtime"
 	"strconv"
 	"strings"
 	"testing"
@@ -72,6 +73,8 @@ func TestParseTables(t *testing.T) {
 		{"a,b\n1,2\n,4\n", "comma", []col{{"a", []float64{1}}, {"b", []float64{2, 4}}}},
 		// Trailing separators: an empty, nameless column is dropped.
 		{"x,y,\n1,2,\n3,4,\n", "comma", []col{{"x", []float64{1, 3}}, {"y", []float64{2, 4}}}},
+		// Many trailing separators.
+		{"x,y" + strings.Repeat(",", 1000) + "\n1,2" + strings.Repeat(",", 1000) + "\n", "comma", []col{{"x", []float64{1}}, {"y", []float64{2}}}},
 		// A row of empty cells is a blank line.
 		{"x,y\n1,2\n,\n3,4\n", "comma", []col{{"x", []float64{1, 3}}, {"y", []float64{2, 4}}}},
 		// Unicode names, as the model language allows.
@@ -136,7 +139,9 @@ func TestParseErrors(t *testing.T) {
 		{"x\ty\n1\t\n2\t4\n", 2, 3, "empty cell in column y, above its value at 3:3"},
 		{"x,y\n1,2\n3\n5,6\n", 3, 2, "empty cell in column y, above its value at 4:3"},
 		{"x,y\n\"\",2\n3,4\n", 2, 1, "empty cell in column x"},
-		{"x\ty\n1\t2\t3\n", 2, 5, "row has 3 cells, but the header names 2 columns"},
+		{"x\ty\n1\t2\t3\n", 2, 5, "value in cell 3 of the row, but the header names 2 columns"},
+		{"x,y\n1,2" + strings.Repeat(",", 1000) + "3\n", 2, 1004, "value in cell 1002 of the row, but the header names 2 columns"},
+		{"x\n1" + strings.Repeat(",", 1000) + "2\n", 2, 1, "cell is too long"},
 		{"x y z\n1 2\n", 2, 4, "row has 2 values, but the header names 3 columns (z is missing)"},
 		// The header.
 		{"1\t2\n3\t4\n", 1, 1, "the first row holds numbers"},
@@ -283,4 +288,32 @@ func TestCSV(t *testing.T) {
 	}
 	again, err := Parse(tb.CSV())
 	checkTable(t, tb.CSV(), again, err, "comma", []col{{"a", []float64{0.1, 1e-300, 3}}, {"b", []float64{-2}}})
+}
+
+// TestSeparatorFloods reads texts of MaxBytes made of separators, quotes or
+// names only and checks that each is refused (or read) with a bounded
+// amount of memory: a row keeps at most MaxColumns cells, so a line of four
+// million commas must not build a slice of four million cells (it once
+// allocated about 1 GB).
+func TestSeparatorFloods(t *testing.T) {
+	for _, src := range []string{
+		strings.Repeat(",", MaxBytes),
+		strings.Repeat("\t", MaxBytes),
+		"x,y\n" + strings.Repeat(",", MaxBytes-4),
+		strings.Repeat("a ", MaxBytes/2),
+		"x\n" + strings.Repeat("\"\"", MaxBytes/2-2),
+		strings.Repeat("#\n", MaxBytes/2),
+	} {
+		var before, after runtime.MemStats
+		runtime.GC()
+		runtime.ReadMemStats(&before)
+		_, err := Parse(src)
+		runtime.ReadMemStats(&after)
+		if err == nil {
+			t.Errorf("%q...: no error", src[:8])
+		}
+		if used := after.TotalAlloc - before.TotalAlloc; used > 64<<20 {
+			t.Errorf("%q...: %d MB allocated for a text of %d MB", src[:8], used>>20, MaxBytes>>20)
+		}
+	}
 }
