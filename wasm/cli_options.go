@@ -83,6 +83,10 @@ func (in *fitInputs) load(name, src string, stdin io.Reader, stderr io.Writer) (
 		vectors = append(vectors, tb.Vectors()...)
 	}
 	m, err := model.ParseWith(src, vectors)
+	if errors.Is(err, model.ErrData) {
+		fmt.Fprintf(stderr, "bellcheck: --data: %v\n", err)
+		return nil, engine.Options{}, exitModel
+	}
 	if err != nil {
 		fmt.Fprint(stderr, describeModelError(name, src, err))
 		return nil, engine.Options{}, exitModel

@@ -211,6 +211,22 @@ func TestRaggedDataNoted(t *testing.T) {
 	}
 }
 
+// TestDataTotalLimit: several files may not together exceed the total
+// limit on attached values (model.MaxDataValues, 400000).
+func TestDataTotalLimit(t *testing.T) {
+	dir := t.TempDir()
+	args := []string{"fit"}
+	for i := 0; i < 5; i++ {
+		name := fmt.Sprintf("c%d", i)
+		args = append(args, "--data", writeFile(t, dir, name+".csv", name+"\n"+strings.Repeat("1\n", 100000)))
+	}
+	args = append(args, writeFile(t, dir, "m.txt", "-m^2 + sum(c0)\n"))
+	code, _, stderr := runCLI(t, "", args...)
+	if code != exitModel || !strings.Contains(stderr, "--data: model: bad data: more than 400000 values in all") {
+		t.Errorf("exit %d, stderr %q", code, stderr)
+	}
+}
+
 // TestDataFromStandardInput reads the data from standard input with the
 // model in a file.
 func TestDataFromStandardInput(t *testing.T) {

@@ -10,9 +10,11 @@ import (
 )
 
 // MaxDataValues is the most values all the vectors attached to one model by
-// ParseWith may hold together. Attached data does not count against the
-// text's limit (MaxSource); each vector holds at most MaxVectorLen values.
-const MaxDataValues = 1000000
+// ParseWith may hold together: four vectors of MaxVectorLen. Attached data
+// does not count against the text's limit (MaxSource). The checked model
+// keeps about 100 bytes per value (a syntax node and its shape), so the
+// largest attached data take about 40 MB of memory.
+const MaxDataValues = 400000
 
 // Data is a named vector of numbers attached to a model from outside its
 // text (a data file's column, say): the model uses it by name like a

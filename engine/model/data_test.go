@@ -119,7 +119,7 @@ func TestParseWithBadData(t *testing.T) {
 		{[]Data{{Name: "y", Values: []float64{1, math.NaN()}}}, "value 2 of y is NaN"},
 		{[]Data{{Name: "y", Values: []float64{math.Inf(-1)}}}, "value 1 of y is -Inf"},
 		{[]Data{{Name: "y", Values: long}}, "more than 100000"},
-		{many, "more than 1000000 values in all"},
+		{many, "more than 400000 values in all"},
 	} {
 		_, err := ParseWith("-m^2", tc.data)
 		if !errors.Is(err, ErrData) || !strings.Contains(err.Error(), tc.msg) {
