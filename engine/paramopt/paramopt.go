@@ -36,8 +36,8 @@ type Setting struct {
 	Scale  engine.Scale
 	Points int
 	Lo, Hi *float64
-	// Where says where it was given: a flag ("--scale") or a place in the
-	// model text (Line and Col, 1-based; 0 for a flag).
+	// Flag, or Line and Col, say where it was given: a flag ("--scale"), or
+	// a place in the model text (1-based; 0 for a flag).
 	Flag      string
 	Line, Col int
 }
