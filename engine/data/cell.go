@@ -78,6 +78,8 @@ func notANumber(s string) (problem, hint string) {
 		return "infinite value " + show(s), "data must be finite numbers"
 	case strings.HasPrefix(s, "="):
 		return "formula " + show(s) + " instead of a value", "copy the cells' values rather than their formulas (in most spreadsheets: paste as values), then copy again"
+	case s == "#" || strings.HasPrefix(s, "# "):
+		return "comment " + show(s) + " instead of a value", "comment lines (starting with #) may stand only before the header row"
 	case strings.HasPrefix(s, "#"):
 		return "spreadsheet error value " + show(s), "fix the formula in the spreadsheet, or remove the row"
 	case low == "true" || low == "false":

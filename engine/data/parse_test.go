@@ -128,6 +128,7 @@ func TestParseErrors(t *testing.T) {
 		{"x\ty\n1\t=SUM(A1:A3)\n", 2, 3, `formula "=SUM(A1:A3)" instead of a value in column y`},
 		{"x,y\n1,\"=1+2\"\n", 2, 3, `formula "=1+2"`},
 		{"x\ty\n1\t#DIV/0!\n", 2, 3, `spreadsheet error value "#DIV/0!" in column y`},
+		{"x,y\n1,2\n# later note\n", 3, 1, `comment "# later note" instead of a value in column x`},
 		{"x\ty\n1\t1,5\n", 2, 3, `"1,5" is not a number in column y`},
 		{"x,y\n1,\"1,234,567\"\n", 2, 3, `"1,234,567" is not a number`},
 		{"x\n5%\n", 2, 1, "percentage"},
