@@ -10,12 +10,19 @@ import (
 
 // reference is what the reference stage hands on: the exact posterior on
 // the fitting and the original scale, its error estimates, and the
-// verdicts of the stage's checks (the absences they decide go to the
-// availability record). The stages after it read the exact
-// posterior only through these fields and methods, never the grid's
-// statistics, so another quadrature can take the stage's place; the grid
-// itself serves the mode search (its peaks and box), the comparison and
-// the plots (its nodes, marginals and pairs).
+// verdicts of the stage's checks. The stages after it read the exact
+// posterior only through these fields and the methods improper and
+// exactMode, never the grid's statistics, so another quadrature can take
+// the stage's place. Its contract:
+//   - fill every field below; grid serves the mode search (its peaks and
+//     box), the comparison (compare.Compare) and the plots (its nodes,
+//     marginals and pairs);
+//   - record in a.avail what it cannot stand behind: dropUnresolved where
+//     it does not resolve the density, log Z where the density is not
+//     integrable, the divergences where log p is rounding noise, and per
+//     axis the fits' mean errors and sd ratios (QuantityAxisErrors) where
+//     the variance does not settle;
+//   - say why in a.diag, with the codes those records name.
 type reference struct {
 	// grid is the evaluated grid on the fitting scale; read-only.
 	grid *grid.Grid
