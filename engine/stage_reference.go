@@ -11,9 +11,9 @@ import (
 // reference is what the reference stage hands on: the exact posterior on
 // the fitting and the original scale, its error estimates, and the
 // verdicts of the stage's checks. The stages after it read the exact
-// posterior only through these fields and the methods improper and
-// exactMode, never the grid's statistics, so another quadrature can take
-// the stage's place. Its contract:
+// posterior only through these fields and the method improper, never the
+// grid's statistics, so another quadrature can take the stage's place.
+// Its contract:
 //   - fill every field below; grid serves the mode search (its peaks and
 //     box), the comparison (compare.Compare) and the plots (its nodes,
 //     marginals and pairs);
