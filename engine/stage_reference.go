@@ -10,12 +10,19 @@ import (
 
 // reference is what the reference stage hands on: the exact posterior on
 // the fitting and the original scale, its error estimates, and the
-// verdicts of the stage's checks (the absences they decide go to the
-// availability record). The stages after it read the exact
-// posterior only through these fields and methods, never the grid's
-// statistics, so another quadrature can take the stage's place; the grid
-// itself serves the mode search (its peaks and box), the comparison and
-// the plots (its nodes, marginals and pairs).
+// verdicts of the stage's checks. The stages after it read the exact
+// posterior only through these fields and the method improper, never the
+// grid's statistics, so another quadrature can take the stage's place.
+// Its contract:
+//   - fill every field below; grid serves the mode search (its peaks and
+//     box), the comparison (compare.Compare) and the plots (its nodes,
+//     marginals and pairs);
+//   - record in a.avail what it cannot stand behind: dropUnresolved where
+//     it does not resolve the density, log Z where the density is not
+//     integrable, the divergences where log p is rounding noise, and per
+//     axis the fits' mean errors and sd ratios (QuantityAxisErrors) where
+//     the variance does not settle;
+//   - say why in a.diag, with the codes those records name.
 type reference struct {
 	// grid is the evaluated grid on the fitting scale; read-only.
 	grid *grid.Grid
@@ -27,7 +34,8 @@ type reference struct {
 	// estimate and tailMass the share of the mass estimated beyond the box.
 	logZ, logZErr, tailMass float64
 	// fitting and original are the moments on the fitting and on the
-	// original scale; their error estimates include errScale.
+	// original scale; their error estimates are scaled up where the
+	// density is infinite at a bound (checkSingularBounds).
 	fitting, original grid.Moments
 	// edgeMass[k][side] is the share of the mass in the outermost layer
 	// of nodes at that face; nonFinite the share of nodes where log p is
@@ -37,9 +45,6 @@ type reference struct {
 	// exactMode is the node where the density on the original scale is
 	// highest, on the fitting scale.
 	exactMode []float64
-	// errScale is the factor by which the error estimates were scaled up
-	// for a density that is infinite at a bound (checkSingularBounds).
-	errScale float64
 
 	// singularImproper reports a density that grows too fast towards a
 	// bound of its support to be integrable (like 1/x).
@@ -71,7 +76,6 @@ func (a *analysis) findReference() error {
 // grid's own statistics stay as computed.
 func (r *reference) summarise() {
 	st := &r.grid.Stats
-	r.errScale = 1
 	r.logZ, r.logZErr, r.tailMass = st.LogZ, st.LogZErr, st.TailMass
 	r.fitting, r.original = cloneMoments(st.Fitting), cloneMoments(st.Original)
 	r.edgeMass, r.nonFinite = st.EdgeMass, st.NonFinite
@@ -82,7 +86,6 @@ func (r *reference) summarise() {
 // scaleErrors scales the error estimates of log Z and of the moments by
 // errScale.
 func (r *reference) scaleErrors(errScale float64) {
-	r.errScale = errScale
 	if errScale > 1 {
 		r.logZErr *= errScale
 		for _, m := range []*grid.Moments{&r.fitting, &r.original} {
