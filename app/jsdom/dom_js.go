@@ -277,3 +277,60 @@ func OnHashChange(f func()) error {
 	_, err = safejs.Global().Call("addEventListener", "hashchange", fn.Value())
 	return err
 }
+
+// StorageKeys lists the keys of the browser's local storage.
+func StorageKeys() ([]string, error) {
+	st, err := storage()
+	if err != nil {
+		return nil, err
+	}
+	lv, err := st.Get("length")
+	if err != nil {
+		return nil, err
+	}
+	n, err := lv.Int()
+	if err != nil {
+		return nil, err
+	}
+	keys := make([]string, 0, n)
+	for i := 0; i < n; i++ {
+		k, err := st.Call("key", i)
+		if err != nil {
+			return keys, err
+		}
+		if k.IsNull() || k.IsUndefined() {
+			continue // removed by another tab meanwhile
+		}
+		s, err := k.String()
+		if err != nil {
+			return keys, err
+		}
+		keys = append(keys, s)
+	}
+	return keys, nil
+}
+
+// RemoveItem deletes a key of the browser's local storage.
+func RemoveItem(key string) error {
+	st, err := storage()
+	if err != nil {
+		return err
+	}
+	_, err = st.Call("removeItem", key)
+	return err
+}
+
+// OnStorage calls f whenever another tab of the same site changes the local
+// storage. f runs in the browser's event handler: hand the work to the
+// page's goroutine.
+func OnStorage(f func()) error {
+	fn, err := safejs.FuncOf(func(this safejs.Value, args []safejs.Value) any {
+		f()
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	_, err = safejs.Global().Call("addEventListener", "storage", fn.Value())
+	return err
+}
