@@ -505,13 +505,19 @@ func postHeight() {
 
 // AsyncFunc is a Go function behind a JavaScript function that returns a
 // Promise: it receives each argument as its JSON text (JSON.stringify; ""
-// for undefined or a function) and returns JSON text, which resolves the
-// Promise parsed (JSON.parse), or an error, which rejects it with an Error
-// holding the error's message. It runs on its own goroutine.
+// for undefined) and returns JSON text, which resolves the Promise parsed
+// (JSON.parse), or an error, which rejects it with an Error holding the
+// error's message. It runs on its own goroutine. An argument with no JSON
+// text (a BigInt, a function, a symbol, an object whose toJSON or getter
+// throws, a cycle) rejects the Promise with a message saying which
+// argument and why, before f is called.
 type AsyncFunc func(args []string) (string, error)
 
 // ExposeAPI sets window[name] to an object holding the given string
-// properties and one Promise-returning function per entry of funcs.
+// properties and one Promise-returning function per entry of funcs. No
+// argument and no failure of f can end the Go program: JavaScript
+// exceptions come back as errors and Go panics are recovered, both as a
+// rejected Promise.
 func ExposeAPI(name string, props map[string]string, funcs map[string]AsyncFunc) error {
 	objCtor, err := global("Object")
 	if err != nil {
@@ -527,7 +533,12 @@ func ExposeAPI(name string, props map[string]string, funcs map[string]AsyncFunc)
 		}
 	}
 	for k, f := range funcs {
-		fn, err := safejs.FuncOf(func(this safejs.Value, args []safejs.Value) any {
+		fn, err := safejs.FuncOf(func(this safejs.Value, args []safejs.Value) (out any) {
+			defer func() {
+				if r := recover(); r != nil {
+					out = rejected(fmt.Sprintf("bellcheck: internal error: %v", r))
+				}
+			}()
 			return promise(f, args)
 		})
 		if err != nil {
@@ -543,33 +554,66 @@ func ExposeAPI(name string, props map[string]string, funcs map[string]AsyncFunc)
 	return safejs.Global().Set(name, obj)
 }
 
-// promise runs f on a goroutine and returns a Promise of its outcome.
+// ErrAPIArgument is the start of the message of a Promise rejected for an
+// argument that has no JSON text.
+const ErrAPIArgument = "bellcheck: bad arguments"
+
+// typeOf returns the JavaScript type of v without panicking: Go's
+// syscall/js panics on a type it does not know (a BigInt), and that panic
+// would end the program.
+func typeOf(v safejs.Value) (t safejs.Type, known bool) {
+	defer func() {
+		if recover() != nil {
+			known = false
+		}
+	}()
+	return v.Type(), true
+}
+
+// argText returns an argument's JSON text ("" for undefined), or why it
+// has none.
+func argText(jsonAPI, a safejs.Value) (string, error) {
+	t, known := typeOf(a)
+	switch {
+	case !known:
+		return "", fmt.Errorf("a BigInt (or another value with no JSON form); pass a number or a string")
+	case t == safejs.TypeUndefined:
+		return "", nil
+	case t == safejs.TypeFunction:
+		return "", fmt.Errorf("a function; pass a string or a plain object")
+	case t == safejs.TypeSymbol:
+		return "", fmt.Errorf("a symbol; pass a string or a plain object")
+	}
+	s, err := jsonAPI.Call("stringify", a)
+	if err != nil {
+		return "", fmt.Errorf("cannot be turned into JSON (%v)", err)
+	}
+	if st, ok := typeOf(s); !ok || st != safejs.TypeString {
+		return "", fmt.Errorf("has no JSON form")
+	}
+	return s.String()
+}
+
+// promise checks the arguments, runs f on a goroutine and returns a
+// Promise of its outcome.
 func promise(f AsyncFunc, args []safejs.Value) any {
-	texts := make([]string, len(args))
 	jsonAPI, err := global("JSON")
-	if err == nil {
-		for i, a := range args {
-			if a.IsUndefined() || a.Type() == safejs.TypeFunction {
-				continue
-			}
-			s, err := jsonAPI.Call("stringify", a)
-			if err != nil || s.IsUndefined() {
-				continue
-			}
-			texts[i], _ = s.String()
+	if err != nil {
+		return rejected("bellcheck: the browser offers no JSON")
+	}
+	texts := make([]string, len(args))
+	for i, a := range args {
+		if texts[i], err = argText(jsonAPI, a); err != nil {
+			return rejected(fmt.Sprintf("%s: argument %d is %v", ErrAPIArgument, i+1, err))
 		}
 	}
-	promiseCtor, perr := global("Promise")
-	if perr != nil {
-		return nil
-	}
-	var executor safejs.Func
-	executor, err = safejs.FuncOf(func(this safejs.Value, pargs []safejs.Value) any {
-		if len(pargs) < 2 {
-			return nil
-		}
-		resolve, reject := pargs[0], pargs[1]
+	return newPromise(func(resolve, reject safejs.Value) {
 		go func() {
+			defer func() {
+				if r := recover(); r != nil {
+					rejectWith(reject, fmt.Sprintf("bellcheck: internal error: %v", r))
+				}
+			}()
 			out, err := f(texts)
 			if err == nil {
 				var v safejs.Value
@@ -580,6 +624,20 @@ func promise(f AsyncFunc, args []safejs.Value) any {
 			}
 			rejectWith(reject, err.Error())
 		}()
+	})
+}
+
+// newPromise returns new Promise(executor), where start receives resolve
+// and reject; nil when the browser offers no Promise.
+func newPromise(start func(resolve, reject safejs.Value)) any {
+	promiseCtor, err := global("Promise")
+	if err != nil {
+		return nil
+	}
+	executor, err := safejs.FuncOf(func(this safejs.Value, pargs []safejs.Value) any {
+		if len(pargs) >= 2 {
+			start(pargs[0], pargs[1])
+		}
 		return nil
 	})
 	if err != nil {
@@ -591,6 +649,11 @@ func promise(f AsyncFunc, args []safejs.Value) any {
 		return nil
 	}
 	return p
+}
+
+// rejected returns a Promise rejected with new Error(msg).
+func rejected(msg string) any {
+	return newPromise(func(resolve, reject safejs.Value) { rejectWith(reject, msg) })
 }
 
 // rejectWith rejects a Promise with new Error(msg).
