@@ -4,7 +4,8 @@
 // (GOOS=js GOARCH=wasm) it runs the calculator page; built natively it serves
 // the page, writes the static site and runs the command line:
 //
-//	bellcheck fit [-json] [-plots] FILE    analyse a model file ('-' for standard input)
+//	bellcheck fit [-json] [-plots] [-max-time D] [-points N] [-read-timeout D] [-quiet] FILE
+//	                                        analyse a model file ('-' for standard input)
 //	bellcheck serve [-addr ADDR] [-web DIR] serve the calculator page
 //	bellcheck static [-prefix P] DIR        write the static site to DIR
 //
@@ -18,7 +19,9 @@ import (
 )
 
 const usage = `usage:
-  bellcheck fit [-json] [-plots] FILE     analyse a model file ('-' reads standard input)
+  bellcheck fit [-json] [-plots] [-max-time D] [-points N] [-read-timeout D] [-quiet] FILE
+                                           analyse a model file ('-' reads standard input);
+                                           refuses work forecast beyond -max-time (default 2m)
   bellcheck serve [-addr ADDR] [-web DIR]  serve the calculator (default 127.0.0.1:8000)
   bellcheck static [-prefix PATH] DIR      write the static site into DIR
 `

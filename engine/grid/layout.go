@@ -13,3 +13,7 @@ func AxisPoints(n, d int) int {
 // floating point with room to spare, as the box search requires: a spacing
 // above 1e-9 of the bounds' magnitude.
 func Layable(lo, hi float64, n int) bool { return n >= 2 && layable(lo, hi, n) }
+
+// CoarsePoints returns the points per axis of FindBox's exploration grids
+// in d dimensions when BoxSettings.Coarse is 0.
+func CoarsePoints(d int) int { return oddPoints(defaultCoarse(d)) }
