@@ -363,7 +363,7 @@ func (p *Page) start(ctx app.Context) {
 	p.progress = false
 	analyse := p.analyse
 	if analyse == nil {
-		analyse = engine.Analyse
+		analyse = p.boundedAnalyse(ctx) // workbound.go
 	}
 	view := p.view
 	ctx.After(ProgressDelay, func(ctx app.Context) {
