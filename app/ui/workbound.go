@@ -74,4 +74,3 @@ func (p *Page) offerCoarser(m *model.Model, tl *TooLongError) {
 	}
 	p.notice = n
 }
-
