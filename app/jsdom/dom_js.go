@@ -223,8 +223,11 @@ func ReplaceFragment(fragment string) error {
 
 // storage returns window.localStorage (access may throw, for instance
 // when the browser blocks storage).
-func storage() (safejs.Value, error) {
-	st, err := safejs.Global().Get("localStorage")
+func storage() (safejs.Value, error) { return storageNamed("localStorage") }
+
+// storageNamed returns window[name], a Storage.
+func storageNamed(name string) (safejs.Value, error) {
+	st, err := safejs.Global().Get(name)
 	if err != nil {
 		return safejs.Value{}, err
 	}
@@ -332,5 +335,33 @@ func OnStorage(f func()) error {
 		return err
 	}
 	_, err = safejs.Global().Call("addEventListener", "storage", fn.Value())
+	return err
+}
+
+// LoadSessionItem reads a key of the tab's session storage (kept across
+// reloads of the tab); ok is false when the key is absent.
+func LoadSessionItem(key string) (value string, ok bool, err error) {
+	st, err := storageNamed("sessionStorage")
+	if err != nil {
+		return "", false, err
+	}
+	v, err := st.Call("getItem", key)
+	if err != nil {
+		return "", false, err
+	}
+	if v.IsNull() || v.IsUndefined() {
+		return "", false, nil
+	}
+	s, err := v.String()
+	return s, err == nil, err
+}
+
+// SaveSessionItem writes a key of the tab's session storage.
+func SaveSessionItem(key, value string) error {
+	st, err := storageNamed("sessionStorage")
+	if err != nil {
+		return err
+	}
+	_, err = st.Call("setItem", key, value)
 	return err
 }

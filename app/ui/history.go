@@ -38,12 +38,14 @@ type Entry struct {
 	State share.State
 
 	raw string // the stored value
+	tab string // the tab that wrote it
 }
 
 // storedEntry is an entry's value in local storage.
 type storedEntry struct {
-	At   int64  `json:"at"` // Unix milliseconds
-	Frag string `json:"f"`  // share fragment
+	At   int64  `json:"at"`            // Unix milliseconds
+	Frag string `json:"f"`             // share fragment
+	Tab  string `json:"tab,omitempty"` // the tab that wrote it (Browser.TabID)
 }
 
 // History keeps the user's own models in the browser's local storage:
@@ -51,12 +53,15 @@ type storedEntry struct {
 // an example, a restored entry) becomes an entry only once the user changes
 // it, so opening links never overwrites or pushes out the user's work.
 //
-// A tab writes one entry at a time (its current entry). Before each write
-// it checks that the entry still holds what it wrote last: if another tab
-// has written it meanwhile (two tabs resumed the same model), this tab
-// starts a new entry instead, so neither tab's work is lost.
+// A tab writes one entry at a time (its current entry), and continues an
+// entry only if it wrote it (a reload); another tab's model is copied into
+// a new entry when changed. Before each write a tab checks that the entry
+// still holds what it wrote last: if another tab has written it meanwhile
+// (a duplicated tab shares the tab's identity), it starts a new entry
+// instead, so neither tab's work is lost.
 type History struct {
-	b Browser
+	b   Browser
+	tab string // this tab's identity (Browser.TabID)
 	// key is the current entry ("" until the user changes the loaded
 	// state), last the value this tab last wrote there.
 	key, last string
@@ -74,7 +79,7 @@ type History struct {
 // after Loaded) names the state the page opened with, which is not the
 // user's work until changed.
 func NewHistory(b Browser) *History {
-	h := &History{b: b, pending: true, Now: time.Now}
+	h := &History{b: b, tab: b.TabID(), pending: true, Now: time.Now}
 	h.Refresh()
 	return h
 }
@@ -87,8 +92,8 @@ func workOf(st share.State) string {
 }
 
 // Loaded tells the history that the page loaded a state from elsewhere (a
-// link, an example, an entry): the next Record names it. If that state is a
-// kept entry, later edits continue that entry.
+// link, an example, an entry): the next Record names it. If that state is an
+// entry this tab wrote, later edits continue that entry.
 func (h *History) Loaded() {
 	h.pending = true
 	h.key, h.last = "", ""
@@ -105,7 +110,7 @@ func (h *History) Record(st share.State, frag string) error {
 		h.base = w
 		h.key, h.last = "", ""
 		for _, e := range h.cache { // newest first
-			if workOf(e.State) == w {
+			if workOf(e.State) == w && e.tab == h.tab {
 				h.key, h.last = e.Key, e.raw
 				break
 			}
@@ -124,7 +129,7 @@ func (h *History) Record(st share.State, frag string) error {
 	if fresh {
 		h.key = HistoryPrefix + newEntryID()
 	}
-	raw, err := json.Marshal(storedEntry{At: h.Now().UnixMilli(), Frag: frag})
+	raw, err := json.Marshal(storedEntry{At: h.Now().UnixMilli(), Frag: frag, Tab: h.tab})
 	if err != nil {
 		return err
 	}
@@ -216,7 +221,7 @@ func readEntries(b Browser) []Entry {
 		if err != nil {
 			continue
 		}
-		out = append(out, Entry{Key: k, At: time.UnixMilli(se.At), State: st, raw: raw})
+		out = append(out, Entry{Key: k, At: time.UnixMilli(se.At), State: st, raw: raw, tab: se.Tab})
 	}
 	sort.SliceStable(out, func(i, j int) bool {
 		if !out[i].At.Equal(out[j].At) {

@@ -23,6 +23,9 @@ type Browser interface {
 	Keys() []string
 	// Remove deletes a key.
 	Remove(key string)
+	// TabID returns the tab's identity, kept across reloads of the tab
+	// (session storage) and new in every other tab.
+	TabID() string
 }
 
 // realBrowser reaches the browser through jsdom; failures (storage blocked
@@ -52,6 +55,18 @@ func (realBrowser) Keys() []string {
 }
 
 func (realBrowser) Remove(key string) { _ = jsdom.RemoveItem(key) }
+
+// tabKey is the session-storage key of the tab's identity.
+const tabKey = "bellcheck.tab"
+
+func (realBrowser) TabID() string {
+	if id, ok, err := jsdom.LoadSessionItem(tabKey); err == nil && ok && id != "" {
+		return id
+	}
+	id := newEntryID()
+	_ = jsdom.SaveSessionItem(tabKey, id)
+	return id
+}
 
 // Notice is a plain message above the results, with at most one offer.
 type Notice struct {

@@ -23,6 +23,7 @@ type memBrowser struct {
 	frag  string
 	items map[string]string
 	quota int
+	tab   string
 }
 
 func (b *memBrowser) Fragment() string             { return b.frag }
@@ -44,6 +45,12 @@ func (b *memBrowser) Save(k, v string) error {
 	return nil
 }
 func (b *memBrowser) Remove(k string) { delete(b.items, k) }
+func (b *memBrowser) TabID() string    { return b.tab }
+
+// otherTab returns another tab over the same storage, at the same address.
+func (b *memBrowser) otherTab(name string) *memBrowser {
+	return &memBrowser{frag: b.frag, items: b.items, quota: b.quota, tab: name}
+}
 func (b *memBrowser) Keys() []string {
 	var out []string
 	for k := range b.items {
@@ -53,7 +60,7 @@ func (b *memBrowser) Keys() []string {
 	return out
 }
 func newMemBrowser(frag string) *memBrowser {
-	return &memBrowser{frag: frag, items: map[string]string{}}
+	return &memBrowser{frag: frag, items: map[string]string{}, tab: "first"}
 }
 
 // kept returns the models of b's history, newest first.
@@ -166,7 +173,7 @@ func TestTwoLinksKeepTypedWork(t *testing.T) {
 func TestTwoTabsKeepBoth(t *testing.T) {
 	b := newMemBrowser("")
 	h1, e1 := openWith(t, b)
-	h2, e2 := openWith(t, b)
+	h2, e2 := openWith(t, b.otherTab("second"))
 	h1.page.Input(h1.ctx, srcA)
 	e1.ConsumeAll()
 	h2.page.Input(h2.ctx, srcB)
@@ -178,14 +185,18 @@ func TestTwoTabsKeepBoth(t *testing.T) {
 	if len(got) != 2 || got[0] != srcA+"# tab 1\n" || got[1] != srcB {
 		t.Fatalf("two tabs: the history holds %q", got)
 	}
-	// Both tabs reload the bare address: both resume the newest model, and
-	// both edit it.
+	// A third tab opens the bare address: it shows the newest model (the
+	// first tab's) and edits it first; then the first tab is reloaded
+	// (same tab, so it continues its entry) and edits too.
 	b.frag = ""
-	h3, e3 := openWith(t, b)
-	b.frag = ""
+	h3, e3 := openWith(t, b.otherTab("third"))
+	if h3.page.text != srcA+"# tab 1\n" || h3.page.hist().Current() != "" {
+		t.Fatalf("a new tab shows %q and writes %q", h3.page.text, h3.page.hist().Current())
+	}
+	b.frag = link(t, srcA+"# tab 1\n")
 	h4, e4 := openWith(t, b)
-	if h3.page.text != h4.page.text || h3.page.hist().Current() == "" || h3.page.hist().Current() != h4.page.hist().Current() {
-		t.Fatalf("both tabs should resume the newest entry: %q, %q", h3.page.hist().Current(), h4.page.hist().Current())
+	if h4.page.hist().Current() == "" {
+		t.Fatal("the reloaded tab does not continue its entry")
 	}
 	h3.page.Input(h3.ctx, srcA+"# tab 3\n")
 	e3.ConsumeAll()
@@ -195,8 +206,33 @@ func TestTwoTabsKeepBoth(t *testing.T) {
 	sort.Strings(got)
 	want := []string{srcA + "# tab 3\n", srcA + "# tab 4\n", srcB}
 	if strings.Join(got, "|") != strings.Join(want, "|") {
-		t.Errorf("two tabs on one entry: the history holds %q, want %q", got, want)
+		t.Errorf("a new tab and a reloaded one: the history holds %q, want %q", got, want)
 	}
+	// A duplicated tab has the same identity: both continue one entry, and
+	// the second writer finds it changed and starts its own.
+	b.frag = link(t, srcB)
+	d1, f1 := openWith(t, b.otherTab("second"))
+	d2, f2 := openWith(t, b.otherTab("second"))
+	if d1.page.hist().Current() == "" || d1.page.hist().Current() != d2.page.hist().Current() {
+		t.Fatalf("duplicated tabs: entries %q and %q", d1.page.hist().Current(), d2.page.hist().Current())
+	}
+	d1.page.Input(d1.ctx, srcB+"# dup 1\n")
+	f1.ConsumeAll()
+	d2.page.Input(d2.ctx, srcB+"# dup 2\n")
+	f2.ConsumeAll()
+	got = kept(b)
+	if !contains(got, srcB+"# dup 1\n") || !contains(got, srcB+"# dup 2\n") {
+		t.Errorf("duplicated tabs: the history holds %q", got)
+	}
+}
+
+func contains(list []string, s string) bool {
+	for _, x := range list {
+		if x == s {
+			return true
+		}
+	}
+	return false
 }
 
 func TestHistoryBoundedAndQuota(t *testing.T) {
