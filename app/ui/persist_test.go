@@ -45,7 +45,7 @@ func (b *memBrowser) Save(k, v string) error {
 	return nil
 }
 func (b *memBrowser) Remove(k string) { delete(b.items, k) }
-func (b *memBrowser) TabID() string    { return b.tab }
+func (b *memBrowser) TabID() string   { return b.tab }
 
 // otherTab returns another tab over the same storage, at the same address.
 func (b *memBrowser) otherTab(name string) *memBrowser {
