@@ -576,13 +576,13 @@ func argText(jsonAPI, a safejs.Value) (string, error) {
 	t, known := typeOf(a)
 	switch {
 	case !known:
-		return "", fmt.Errorf("a BigInt (or another value with no JSON form); pass a number or a string")
+		return "", fmt.Errorf("is a BigInt (or another value with no JSON form); pass a number or a string")
 	case t == safejs.TypeUndefined:
 		return "", nil
 	case t == safejs.TypeFunction:
-		return "", fmt.Errorf("a function; pass a string or a plain object")
+		return "", fmt.Errorf("is a function; pass a string or a plain object")
 	case t == safejs.TypeSymbol:
-		return "", fmt.Errorf("a symbol; pass a string or a plain object")
+		return "", fmt.Errorf("is a symbol; pass a string or a plain object")
 	}
 	s, err := jsonAPI.Call("stringify", a)
 	if err != nil {
@@ -604,7 +604,7 @@ func promise(f AsyncFunc, args []safejs.Value) any {
 	texts := make([]string, len(args))
 	for i, a := range args {
 		if texts[i], err = argText(jsonAPI, a); err != nil {
-			return rejected(fmt.Sprintf("%s: argument %d is %v", ErrAPIArgument, i+1, err))
+			return rejected(fmt.Sprintf("%s: argument %d %v", ErrAPIArgument, i+1, err))
 		}
 	}
 	return newPromise(func(resolve, reject safejs.Value) {
