@@ -261,3 +261,21 @@ func TestMessagesShowInvisibleCharacters(t *testing.T) {
 		t.Errorf("caret misplaced:\n%s\n%s", shown, caret)
 	}
 }
+
+// TestProgressReporter: nothing in the first progressAfter, then a line
+// with the stage, the share done and the time left (spent/fraction - spent:
+// 10 s at 25 % leaves 30 s), at most every progressEvery.
+func TestProgressReporter(t *testing.T) {
+	var buf bytes.Buffer
+	report := progressReporter(&buf, engine.Estimate{}, time.Now())
+	report(engine.Progress{Stage: "grid", Fraction: 0.1})
+	if buf.Len() != 0 {
+		t.Fatalf("a report before %v: %q", progressAfter, buf.String())
+	}
+	report = progressReporter(&buf, engine.Estimate{}, time.Now().Add(-10*time.Second))
+	report(engine.Progress{Stage: "reverse_kl", Fraction: 0.25})
+	report(engine.Progress{Stage: "reverse_kl", Fraction: 0.26}) // too soon for another line
+	if got := buf.String(); got != "bellcheck:  25% reverse kl, 10s, about 30s left\n" {
+		t.Errorf("progress %q", got)
+	}
+}
