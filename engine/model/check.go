@@ -69,6 +69,7 @@ func check(m *Model, end Pos, errs *errorSink, lim limits) {
 			c.density(s)
 		}
 	}
+	c.lookalikes() // confusable.go
 	if density == nil {
 		c.errs.add(end, "write the log-density as an expression on a line of its own, or cost EXPR for its negative",
 			"the model has no density statement")
