@@ -29,6 +29,21 @@ type checker struct {
 
 	constVal  map[int]float64 // constant value of definitions, by index
 	constDone map[int]bool    // constVal computed (true) or found not constant
+
+	// Functions and blocks (check_dyn.go, check_block.go).
+	funcAt       map[string]Pos // every (first) function definition
+	funcs        map[string]int // functions defined so far -> index in m.UserFuncs
+	badFuncs     map[string]bool
+	bodies       map[bodyKey]bodyResult
+	expanding    map[*FuncStmt]bool
+	scope        *scope // the frame of a function body or block being checked
+	visibleDefs  int    // definitions a function body may use; -1 for all
+	visibleFuncs int    // functions a function body may call; -1 for all
+	blockComps   map[string]Pos
+	blockSteps   int // steps of the repeat block being checked, for its indices
+	staticDefs   map[int]staticResult
+	unrolled     int
+	overUnrolled bool
 }
 
 // check checks the parsed statements of m and fills in the rest of it. end
@@ -44,6 +59,15 @@ func check(m *Model, end Pos, errs *errorSink, lim limits) {
 		skip:      map[Stmt]bool{},
 		constVal:  map[int]float64{},
 		constDone: map[int]bool{},
+
+		funcAt:       map[string]Pos{},
+		funcs:        map[string]int{},
+		badFuncs:     map[string]bool{},
+		bodies:       map[bodyKey]bodyResult{},
+		expanding:    map[*FuncStmt]bool{},
+		visibleDefs:  -1,
+		visibleFuncs: -1,
+		staticDefs:   map[int]staticResult{},
 	}
 	c.declare()
 	var density *DensityStmt
@@ -59,6 +83,11 @@ func check(m *Model, end Pos, errs *errorSink, lim limits) {
 			c.paramBounds(s)
 		case *DefineStmt:
 			c.define(s)
+			c.addUnrolled(c.opsSize(s.Value), s.At, "this definition")
+		case *FuncStmt:
+			c.funcDef(s)
+		case *BlockStmt:
+			c.block(s)
 		case *DensityStmt:
 			if density != nil {
 				c.errs.add(s.At, "a model has one density expression: add its terms with +, and name other quantities with NAME = EXPR",
@@ -67,6 +96,7 @@ func check(m *Model, end Pos, errs *errorSink, lim limits) {
 			}
 			density = s
 			c.density(s)
+			c.addUnrolled(c.opsSize(s.Value), s.At, "the density")
 		}
 	}
 	if density == nil {
@@ -85,9 +115,14 @@ func check(m *Model, end Pos, errs *errorSink, lim limits) {
 // names declared or defined twice or that cannot be used.
 func (c *checker) declare() {
 	for _, st := range c.m.Stmts {
-		if s, ok := st.(*DefineStmt); ok {
-			if _, dup := c.defAt[s.Name]; !dup && reservedName(s.Name) == "" {
-				c.defAt[s.Name] = s.At
+		for _, d := range definedNames(st) {
+			if _, dup := c.defAt[d.name]; !dup && reservedName(d.name) == "" {
+				c.defAt[d.name] = d.at
+			}
+		}
+		if s, ok := st.(*FuncStmt); ok {
+			if _, dup := c.funcAt[s.Name]; !dup {
+				c.funcAt[s.Name] = s.At
 			}
 		}
 	}
@@ -110,27 +145,68 @@ func (c *checker) declare() {
 			c.walkFree(s.Value)
 		case *DensityStmt:
 			c.walkFree(s.Value)
+		case *FuncStmt:
+			c.walkFree(s.Body)
+		case *BlockStmt:
+			for _, l := range s.Lines {
+				c.walkFree(l.Init)
+				c.walkFree(l.Rule)
+			}
 		}
 	}
 	for _, st := range c.m.Stmts {
-		s, ok := st.(*DefineStmt)
-		if !ok {
-			continue
+		for _, d := range definedNames(st) {
+			switch {
+			case reservedName(d.name) != "":
+				c.errs.add(d.at, "", "cannot define %s: it is %s", d.name, reservedName(d.name))
+				c.skip[st] = true
+			case c.declAt[d.name] != (Pos{}):
+				c.errs.add(d.at, "give the parameter and the defined quantity different names",
+					"%s is declared as a parameter at line %d; it cannot also be defined", d.name, c.declAt[d.name].Line)
+				c.skip[st] = true
+			case c.defAt[d.name] != d.at:
+				c.errs.add(d.at, "give the new quantity a name of its own",
+					"%s is already defined at line %d", d.name, c.defAt[d.name].Line)
+				c.skip[st] = true
+			}
 		}
-		switch {
-		case reservedName(s.Name) != "":
-			c.errs.add(s.At, "", "cannot define %s: it is %s", s.Name, reservedName(s.Name))
-			c.skip[s] = true
-		case c.declAt[s.Name] != (Pos{}):
-			c.errs.add(s.At, "give the parameter and the defined quantity different names",
-				"%s is declared as a parameter at line %d; it cannot also be defined", s.Name, c.declAt[s.Name].Line)
-			c.skip[s] = true
-		case c.defAt[s.Name] != s.At:
-			c.errs.add(s.At, "give the new quantity a name of its own",
-				"%s is already defined at line %d", s.Name, c.defAt[s.Name].Line)
-			c.skip[s] = true
+		if s, ok := st.(*FuncStmt); ok {
+			switch {
+			case reservedName(s.Name) != "":
+				c.errs.add(s.At, "choose another name for the function", "cannot define %s: it is %s", s.Name, reservedName(s.Name))
+				c.skip[st] = true
+			case c.funcAt[s.Name] != s.At:
+				c.errs.add(s.At, "give the new function a name of its own", "function %s is already defined at line %d", s.Name, c.funcAt[s.Name].Line)
+				c.skip[st] = true
+			case c.defAt[s.Name] != (Pos{}) || c.declAt[s.Name] != (Pos{}):
+				c.errs.add(s.At, "give the function and the quantity different names", "%s names both a function and a quantity or parameter", s.Name)
+				c.skip[st] = true
+			}
 		}
 	}
+}
+
+type definedName struct {
+	name string
+	at   Pos
+}
+
+// definedNames lists the names a statement defines: a definition's name,
+// a block's state components.
+func definedNames(st Stmt) []definedName {
+	switch s := st.(type) {
+	case *DefineStmt:
+		return []definedName{{s.Name, s.At}}
+	case *BlockStmt:
+		var out []definedName
+		for _, l := range s.Lines {
+			if l.Component() {
+				out = append(out, definedName{l.Name, l.At})
+			}
+		}
+		return out
+	}
+	return nil
 }
 
 // reservedName says what a name that cannot be declared or defined is ("a
@@ -164,6 +240,11 @@ func (c *checker) walkFree(e Expr) {
 		for _, a := range e.Elems {
 			c.walkFree(a)
 		}
+	case *Index:
+		c.walkFree(e.X)
+		c.walkFree(e.I)
+		c.walkFree(e.Lo)
+		c.walkFree(e.Hi)
 	}
 }
 
@@ -435,6 +516,8 @@ func (c *checker) expr1(e Expr, vecOK bool) (Shape, bool) {
 		return Shape{Len: max(sx.Len, sy.Len)}, dx || dy
 	case *Call:
 		return c.call(e)
+	case *Index:
+		return c.index(e)
 	case *Vector:
 		if !vecOK {
 			c.errs.add(e.At, "define it first, as in v = [1, 2, 3], and use v",
@@ -456,6 +539,19 @@ func (c *checker) expr1(e Expr, vecOK bool) (Shape, bool) {
 
 // ident resolves a name used in an expression.
 func (c *checker) ident(e *Ident) (Shape, bool) {
+	if shape, dep, ok := c.local(e); ok {
+		return shape, dep
+	}
+	if at, ok := c.blockComps[e.Name]; ok {
+		c.errs.add(e.At, "a starting value may use only names defined above the block",
+			"%s is a line of this block (line %d); it has no value before the first step", e.Name, at.Line)
+		return badShape, false
+	}
+	if idx, ok := c.defs[e.Name]; ok && c.visibleDefs >= 0 && idx >= c.visibleDefs {
+		c.errs.add(e.At, "a function body may use its arguments, the parameters and the definitions above the function",
+			"%s is defined at line %d, below the function", e.Name, c.m.Defs[idx].At.Line)
+		return badShape, false
+	}
 	if idx, ok := c.params[e.Name]; ok {
 		e.Kind, e.Index = ParamRef, idx
 		return Shape{}, true
@@ -484,6 +580,17 @@ func (c *checker) ident(e *Ident) (Shape, bool) {
 
 // call checks a function call.
 func (c *checker) call(e *Call) (Shape, bool) {
+	if idx, ok := c.funcs[e.Name]; ok && (c.visibleFuncs < 0 || idx < c.visibleFuncs) {
+		return c.userCall(e, idx)
+	}
+	if at, ok := c.funcAt[e.Name]; ok {
+		for _, a := range e.Args {
+			c.expr(a, true)
+		}
+		c.errs.add(e.At, fmt.Sprintf("move the definition of %s above this line", e.Name),
+			"%s is used before its definition at line %d", e.Name, at.Line)
+		return badShape, false
+	}
 	info, known := Funcs[e.Name]
 	shapes := make([]Shape, len(e.Args))
 	dep := false

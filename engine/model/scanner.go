@@ -237,6 +237,8 @@ func punctKind(r rune) (tokenKind, bool) {
 		return tokComma, true
 	case '=':
 		return tokAssign, true
+	case ':':
+		return tokColon, true
 	}
 	return 0, false
 }
