@@ -270,7 +270,7 @@ func TestLorenzCostAgainstLoop(t *testing.T) {
 }
 
 // dataVector reads back the vector NAME = [...] from a model text.
-func dataVector(t *testing.T, src, name string) []float64 {
+func dataVector(t testing.TB, src, name string) []float64 {
 	t.Helper()
 	for _, line := range strings.Split(src, "\n") {
 		if rest, ok := strings.CutPrefix(line, name+" = ["); ok {
