@@ -207,7 +207,7 @@ func (p *parser) blockLine(b *BlockStmt) {
 	case p.word(other.Word()):
 		w := p.cur()
 		p.fail(w.pos, fmt.Sprintf("in a %s block a state component is NAME = START %s EXPR", b.Kind.Keyword(), word),
-			"%s belongs in an %s block", other.Word(), other.Keyword())
+			"%s belongs in %s block", other.Word(), withArticle(other.Keyword()))
 	default:
 		line.Rule = first
 	}
@@ -252,4 +252,12 @@ func (p *parser) postfix(x Expr) Expr {
 		x = ix
 	}
 	return x
+}
+
+// withArticle returns "a repeat" or "an ode".
+func withArticle(kw string) string {
+	if kw == "ode" {
+		return "an ode"
+	}
+	return "a " + kw
 }
