@@ -10,7 +10,7 @@ import (
 // with the shape of a definition each must give.
 var dynamicsModels = []struct {
 	name, src, def string
-	length        int
+	length         int
 }{
 	{"element", "y = [1, 2, 3]\nv = y[2]\na*v", "v", 0},
 	{"last element by len", "y = [1, 2, 3]\nv = y[len(y)]\na*v", "v", 0},
