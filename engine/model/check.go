@@ -44,6 +44,7 @@ type checker struct {
 	staticDefs   map[int]staticResult
 	unrolled     int
 	overUnrolled bool
+	stepChecks   int
 }
 
 // check checks the parsed statements of m and fills in the rest of it. end

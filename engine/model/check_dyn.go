@@ -18,6 +18,7 @@ type scope struct {
 	// while indices are checked, stepVal is the step being looked at.
 	stepSlot int
 	stepVal  float64
+	stepVec  []float64 // all the step numbers at once, when set
 	stepSet  bool
 }
 
@@ -269,14 +270,8 @@ func (c *checker) index(e *Index) (Shape, bool) {
 	}
 	n := sx.Len
 	if c.scope != nil && c.scope.stepSlot >= 0 && c.usesStep(e) && c.blockSteps > 0 {
-		// Check every step of the repeat block.
-		for k := 1; k <= c.blockSteps; k++ {
-			c.scope.stepVal, c.scope.stepSet = float64(k), true
-			ok := c.checkPositions(e, n, k)
-			c.scope.stepSet = false
-			if !ok {
-				return badShape, dep
-			}
+		if !c.checkStepPositions(e, n, ishape) {
+			return badShape, dep
 		}
 	} else if !c.checkPositions(e, n, 0) {
 		return badShape, dep
@@ -287,6 +282,49 @@ func (c *checker) index(e *Index) (Shape, bool) {
 	lo, _ := c.static(e.Lo)
 	hi, _ := c.static(e.Hi)
 	return Shape{Len: int(hi.v[0]-lo.v[0]) + 1}, dep
+}
+
+// maxStepChecks bounds the step-by-step evaluations of indices that are
+// vectors of positions depending on the step number (a scalar position is
+// evaluated for all steps at once).
+const maxStepChecks = 1 << 20
+
+// checkStepPositions checks an index that uses the step number at every
+// step of the repeat block.
+func (c *checker) checkStepPositions(e *Index, n int, ishape Shape) bool {
+	if e.I != nil && ishape.Len == 0 {
+		// One evaluation with the step number as the vector 1, 2, ..., N.
+		steps := make([]float64, c.blockSteps)
+		for k := range steps {
+			steps[k] = float64(k + 1)
+		}
+		c.scope.stepVec, c.scope.stepSet = steps, true
+		sv, ok := c.static(e.I)
+		c.scope.stepVec, c.scope.stepSet = nil, false
+		if ok && len(sv.v) == len(steps) {
+			for k, v := range sv.v {
+				if !c.checkValue(e.I, v, "the index", k+1, n) {
+					return false
+				}
+			}
+			return true
+		}
+	}
+	for k := 1; k <= c.blockSteps; k++ {
+		c.stepChecks++
+		if c.stepChecks > maxStepChecks {
+			c.errs.add(e.At, "index by a scalar expression of the step number, such as v[k] or v[k + 1]",
+				"too many positions to check in this block")
+			return false
+		}
+		c.scope.stepVal, c.scope.stepSet = float64(k), true
+		ok := c.checkPositions(e, n, k)
+		c.scope.stepSet = false
+		if !ok {
+			return false
+		}
+	}
+	return true
 }
 
 // usesStep reports whether the index expressions of e use the step number.
@@ -305,26 +343,8 @@ func (c *checker) usesStep(e *Index) bool {
 // checkPositions evaluates the index expressions of e (at step k of a
 // repeat block when k > 0) and checks they are whole numbers in 1..n.
 func (c *checker) checkPositions(e *Index, n, k int) bool {
-	at := ""
-	if k > 0 {
-		at = fmt.Sprintf(" at step %d", k)
-	}
 	const known = "an index must be known before the analysis: numbers, data, len(...) and the step number of a repeat block"
-	check := func(ie Expr, v float64, what string) bool {
-		switch {
-		case v != math.Trunc(v) || math.IsInf(v, 0):
-			c.errs.add(startPos(ie), "positions are whole numbers, counted from 1", "%s is %s%s, not a whole number", what, fmtNum(v), at)
-			return false
-		case v < 1 || v > float64(n):
-			hint := "positions count from 1"
-			if v == 0 {
-				hint = "positions count from 1: the first element is v[1]"
-			}
-			c.errs.add(startPos(ie), hint, "%s is %s%s, outside the %d elements (1 to %d)", what, fmtNum(v), at, n, n)
-			return false
-		}
-		return true
-	}
+	check := func(ie Expr, v float64, what string) bool { return c.checkValue(ie, v, what, k, n) }
 	if e.I != nil {
 		sv, ok := c.static(e.I)
 		if !ok {
@@ -332,6 +352,9 @@ func (c *checker) checkPositions(e *Index, n, k int) bool {
 			return false
 		}
 		for j, v := range sv.v {
+			if v == math.Trunc(v) && v >= 1 && v <= float64(n) {
+				continue
+			}
 			what := "the index"
 			if sv.vec {
 				what = fmt.Sprintf("position %d of the index", j+1)
@@ -356,7 +379,36 @@ func (c *checker) checkPositions(e *Index, n, k int) bool {
 		return false
 	}
 	if hi.v[0] < lo.v[0] {
+		at := ""
+		if k > 0 {
+			at = fmt.Sprintf(" at step %d", k)
+		}
 		c.errs.add(e.At, "a slice v[a:b] runs from a up to b, with a <= b", "empty slice: it starts at %s and ends at %s%s", fmtNum(lo.v[0]), fmtNum(hi.v[0]), at)
+		return false
+	}
+	return true
+}
+
+// checkValue checks one position v (at step k of a repeat block when k > 0)
+// against a vector of n elements.
+func (c *checker) checkValue(ie Expr, v float64, what string, k, n int) bool {
+	if v == math.Trunc(v) && v >= 1 && v <= float64(n) {
+		return true
+	}
+	at := ""
+	if k > 0 {
+		at = fmt.Sprintf(" at step %d", k)
+	}
+	switch {
+	case v != math.Trunc(v) || math.IsInf(v, 0):
+		c.errs.add(startPos(ie), "positions are whole numbers, counted from 1", "%s is %s%s, not a whole number", what, fmtNum(v), at)
+		return false
+	case v < 1 || v > float64(n):
+		hint := "positions count from 1"
+		if v == 0 {
+			hint = "positions count from 1: the first element is v[1]"
+		}
+		c.errs.add(startPos(ie), hint, "%s is %s%s, outside the %d elements (1 to %d)", what, fmtNum(v), at, n, n)
 		return false
 	}
 	return true
@@ -451,6 +503,9 @@ func (c *checker) static(e Expr) (sval, bool) {
 		switch e.Kind {
 		case LocalRef:
 			if c.scope != nil && e.Index == c.scope.stepSlot && c.scope.stepSet {
+				if c.scope.stepVec != nil {
+					return sval{v: c.scope.stepVec, vec: true}, true
+				}
 				return sval{v: []float64{c.scope.stepVal}}, true
 			}
 		case DefRef:
