@@ -1,12 +1,15 @@
 package eval
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"bellcheck/engine/model"
 )
 
 // valueOf compiles MODEL followed by the density EXPR and returns its
@@ -293,4 +296,25 @@ func joinFloats(v []float64) string {
 		parts[i] = fmt.Sprint(x)
 	}
 	return strings.Join(parts, ", ")
+}
+
+// Elementwise work on a long unrolled trajectory is bounded too: past
+// maxNodes the compiler stops with ErrTooLarge at a position, not with a
+// graph that exhausts the memory.
+func TestUnrolledGraphBounded(t *testing.T) {
+	defer func(n int32) { maxNodes = n }(maxNodes)
+	maxNodes = 20000
+	src := `repeat 2000
+  x = a then x*0.5 + 1
+end
+sum(sin(x)*cos(x) + tan(x)*atan(x) + sinh(x)*cosh(x) + tanh(x)*exp(x) + log1p(x^2)*erf(x) + erfc(x)*sqrt(x^2 + 1))`
+	m, err := model.Parse(src)
+	if err != nil {
+		t.Fatalf("parse: %v", err)
+	}
+	_, err = Compile(m)
+	var e *Error
+	if !errors.As(err, &e) || !errors.Is(err, ErrTooLarge) || e.Pos.Line == 0 {
+		t.Fatalf("error %v, want ErrTooLarge with a position", err)
+	}
 }

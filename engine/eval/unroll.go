@@ -8,8 +8,8 @@ import (
 
 // maxNodes bounds the expression graph. The front end bounds the unrolled
 // model (model.MaxUnrolled); elementwise work on the vectors it yields adds
-// to that, and this is the backstop.
-const maxNodes = 8 * model.MaxUnrolled
+// to that, and this is the backstop (a variable so that tests can lower it).
+var maxNodes int32 = 2 * model.MaxUnrolled
 
 // tooLarge reports a graph over maxNodes.
 func (b *builder) tooLarge() int32 {
