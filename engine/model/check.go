@@ -45,6 +45,7 @@ type checker struct {
 	unrolled     int
 	overUnrolled bool
 	stepChecks   int
+	fromBlock    map[int]bool // definitions computed from a block's states
 }
 
 // check checks the parsed statements of m and fills in the rest of it. end
@@ -69,6 +70,7 @@ func check(m *Model, end Pos, errs *errorSink, lim limits) {
 		visibleDefs:  -1,
 		visibleFuncs: -1,
 		staticDefs:   map[int]staticResult{},
+		fromBlock:    map[int]bool{},
 	}
 	c.declare()
 	var density *DensityStmt
@@ -84,7 +86,11 @@ func check(m *Model, end Pos, errs *errorSink, lim limits) {
 			c.paramBounds(s)
 		case *DefineStmt:
 			c.define(s)
-			c.addUnrolled(c.opsSize(s.Value), s.At, "this definition")
+			work, touches := c.unrolledWork(s.Value)
+			if idx, ok := c.defs[s.Name]; ok && touches {
+				c.fromBlock[idx] = true
+			}
+			c.addUnrolled(c.opsSize(s.Value)+work, s.At, "this definition")
 		case *FuncStmt:
 			c.funcDef(s)
 		case *BlockStmt:
@@ -97,7 +103,8 @@ func check(m *Model, end Pos, errs *errorSink, lim limits) {
 			}
 			density = s
 			c.density(s)
-			c.addUnrolled(c.opsSize(s.Value), s.At, "the density")
+			work, _ := c.unrolledWork(s.Value)
+			c.addUnrolled(c.opsSize(s.Value)+work, s.At, "the density")
 		}
 	}
 	if density == nil {

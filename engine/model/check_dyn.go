@@ -537,3 +537,49 @@ type staticResult struct {
 	val sval
 	ok  bool
 }
+
+// unrolledWork estimates the elementwise operations on the vectors that
+// blocks yield (a block's states, and what is computed from them): they are
+// unrolled too, one operation per element. It also records whether a
+// definition's value is computed from a block, for later uses of it.
+func (c *checker) unrolledWork(e Expr) (int, bool) {
+	n := 0
+	var walk func(e Expr) bool
+	walk = func(e Expr) bool {
+		touches := false
+		switch e := e.(type) {
+		case *Ident:
+			if e.Kind == DefRef && e.Index >= 0 && e.Index < len(c.m.Defs) {
+				touches = c.m.Defs[e.Index].Block != nil || c.fromBlock[e.Index]
+			}
+		case *Unary:
+			touches = walk(e.X)
+		case *Binary:
+			a, b := walk(e.X), walk(e.Y)
+			touches = a || b
+		case *Call:
+			for _, a := range e.Args {
+				if walk(a) {
+					touches = true
+					if s := c.m.Shapes[a]; s.Len > 0 {
+						n = min(n+s.Len, maxSizeCount)
+					}
+				}
+			}
+		case *Vector:
+			for _, a := range e.Elems {
+				touches = walk(a) || touches
+			}
+		case *Index:
+			touches = walk(e.X)
+		}
+		if touches {
+			if s := c.m.Shapes[e]; s.Len > 0 {
+				n = min(n+s.Len, maxSizeCount)
+			}
+		}
+		return touches
+	}
+	touches := walk(e)
+	return n, touches
+}

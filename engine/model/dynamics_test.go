@@ -138,3 +138,16 @@ func TestExponentialExpansionRejected(t *testing.T) {
 		t.Fatalf("error %v, want the model too large", err)
 	}
 }
+
+// Elementwise work on a block's long states counts against the limit, so
+// the error comes from the checker, with its place.
+func TestUnrolledVectorWorkCounted(t *testing.T) {
+	src := `repeat 100000
+  x = a then x*0.5 + 1
+end
+sum(sin(x)*cos(x) + tan(x)*atan(x))`
+	_, err := Parse(src)
+	if err == nil || !strings.Contains(err.Error(), "4:1: the density makes the model too large") {
+		t.Fatalf("error %v, want the density too large at 4:1", err)
+	}
+}
