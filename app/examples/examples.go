@@ -175,11 +175,12 @@ cost ((x0 - 4)^2 + (y0 - 5)^2 + (z0 - 13)^2)/(2*4^2) + sum((x - x_seen)^2)/(2*3^
 	{
 		ID:    "lorenz-long",
 		Title: "Lorenz-63, long window",
-		Shows: "The same starting state from forty readings over four time units: the cost narrows to a thin, bent ridge the grid barely resolves.",
+		Shows: "The same starting state from forty readings over four time units: a cost with many local minima, and a thin, bent ridge of posterior the grid barely resolves.",
 		Source: `# The same system and background, read for four time units: the longer
-# the window, the more the cost bends and folds (Pires, Vautard and
-# Talagrand 1996): here a thin, bent ridge, skewed in z0, that the grid
-# barely resolves.
+# the window, the more local minima the cost has (Pires, Vautard and
+# Talagrand 1996). Along x0 alone it has 18 here, but all except the
+# deepest lie far higher, so the posterior is one thin, bent ridge, skewed
+# in z0, that the grid barely resolves.
 t = [0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9, 1, 1.1, 1.2, 1.3, 1.4, 1.5, 1.6, 1.7, 1.8, 1.9, 2, 2.1, 2.2, 2.3, 2.4, 2.5, 2.6, 2.7, 2.8, 2.9, 3, 3.1, 3.2, 3.3, 3.4, 3.5, 3.6, 3.7, 3.8, 3.9, 4]
 x_seen = [9.1, 10.2, 15.4, 9.7, 0.2, -3.6, 0.9, -5.8, -8.3, -19.1, -9.9, -3, -2.8, 4.4, 1.4, 5.2, 6.1, 17.7, 11.5, 4.2, 2.2, -5.4, -2.4, -3.6, -13.5, -15.7, -4.1, -3.4, -0.1, -4.2, 1.1, -2, -0.1, -10.7, -15, -12.9, -5.7, 4.3, 5.3, 5.2]
 param x0 in [-4, 12]
