@@ -303,7 +303,7 @@ func (c *checker) checkStepPositions(e *Index, n int, ishape Shape) bool {
 		c.scope.stepVec, c.scope.stepSet = nil, false
 		if ok && len(sv.v) == len(steps) {
 			for k, v := range sv.v {
-				if !c.checkValue(e.I, v, "the index", k+1, n) {
+				if !c.checkValue(e.I, v, "the index", k+1, n, vectorName(e)) {
 					return false
 				}
 			}
@@ -344,7 +344,7 @@ func (c *checker) usesStep(e *Index) bool {
 // repeat block when k > 0) and checks they are whole numbers in 1..n.
 func (c *checker) checkPositions(e *Index, n, k int) bool {
 	const known = "an index must be known before the analysis: numbers, data, len(...) and the step number of a repeat block"
-	check := func(ie Expr, v float64, what string) bool { return c.checkValue(ie, v, what, k, n) }
+	check := func(ie Expr, v float64, what string) bool { return c.checkValue(ie, v, what, k, n, vectorName(e)) }
 	if e.I != nil {
 		sv, ok := c.static(e.I)
 		if !ok {
@@ -389,9 +389,17 @@ func (c *checker) checkPositions(e *Index, n, k int) bool {
 	return true
 }
 
+// vectorName returns " of NAME" when the indexed vector is a name, or "".
+func vectorName(e *Index) string {
+	if id, ok := e.X.(*Ident); ok {
+		return " of " + id.Name
+	}
+	return ""
+}
+
 // checkValue checks one position v (at step k of a repeat block when k > 0)
 // against a vector of n elements.
-func (c *checker) checkValue(ie Expr, v float64, what string, k, n int) bool {
+func (c *checker) checkValue(ie Expr, v float64, what string, k, n int, of string) bool {
 	if v == math.Trunc(v) && v >= 1 && v <= float64(n) {
 		return true
 	}
@@ -408,7 +416,7 @@ func (c *checker) checkValue(ie Expr, v float64, what string, k, n int) bool {
 		if v == 0 {
 			hint = "positions count from 1: the first element is v[1]"
 		}
-		c.errs.add(startPos(ie), hint, "%s is %s%s, outside the %d elements (1 to %d)", what, fmtNum(v), at, n, n)
+		c.errs.add(startPos(ie), hint, "%s is %s%s, outside the %d elements%s (1 to %d)", what, fmtNum(v), at, n, of, n)
 		return false
 	}
 	return true
