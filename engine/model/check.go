@@ -348,7 +348,7 @@ func fmtNum(v float64) string {
 // numbers, pi, inf, the operators and earlier constant definitions. It
 // returns the bound's value.
 func (c *checker) bound(e Expr, name string) (float64, bool) {
-	const allowed = "a bound may use numbers, pi, inf, + - * / ^ and earlier definitions made of those"
+	const allowed = "a bound may use numbers, pi, inf, + - * / ^, elements of data and earlier definitions made of those"
 	c.m.Shapes[e] = Shape{}
 	switch e := e.(type) {
 	case *Number:
@@ -377,6 +377,21 @@ func (c *checker) bound(e Expr, name string) (float64, bool) {
 	case *Vector:
 		c.errs.add(e.At, "a support is [LO, HI] with two scalar bounds", "a bound must be a scalar, not a vector")
 		return 0, false
+	case *Index:
+		shape, dep := c.expr(e, false)
+		if shape == badShape {
+			return 0, false
+		}
+		v, ok := c.static(e)
+		switch {
+		case dep || !ok:
+			c.errs.add(e.At, allowed, "a bound must be constant")
+			return 0, false
+		case v.vec:
+			c.errs.add(e.At, "a support is [LO, HI] with two scalar bounds", "a bound must be a scalar, not a vector of %d elements", len(v.v))
+			return 0, false
+		}
+		return v.v[0], true
 	case *Ident:
 		if idx, ok := c.params[e.Name]; ok {
 			e.Kind, e.Index = ParamRef, idx
@@ -401,6 +416,9 @@ func (c *checker) bound(e Expr, name string) (float64, bool) {
 		}
 		v, ok := c.constant(idx)
 		if !ok {
+			if sv, sok := c.staticDef(idx); sok && !sv.vec {
+				return sv.v[0], true
+			}
 			c.errs.add(e.At, allowed, "cannot use %s in a bound: it is not made of numbers and operators only", e.Name)
 		}
 		return v, ok

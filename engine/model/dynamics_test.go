@@ -29,6 +29,8 @@ var dynamicsModels = []struct {
 	{"ode", "tt = [0.5, 1, 2]\node tt from 0 substeps 4 as t\n  x = a rate -b*x + sin(t)\nend\nsum(x)", "x", 3},
 	{"ode of a scalar time", "ode 1 from 0 substeps 10\n  x = 1 rate -a*x\nend\nx[1]", "x", 1},
 	{"ode with a quantity", "tt = [1, 2]\node tt from 0 substeps 2\n  s = x + y\n  x = 1 rate -a*s\n  y = 0 rate s\nend\nsum(x*y)", "y", 2},
+	{"bound from an element", "y = [1, 2, 3]\nparam a in [y[1], y[3]]\nv = a*y[2]\nv", "v", 0},
+	{"bound from a definition of an element", "y = [1, 2, 3]\nlo = y[1]\nparam a in [lo, 5]\nv = a\nv", "v", 0},
 	{"words stay free as names", "repeat = 2\nend = 3\nthen = 1\nrepeat*a + end + then", "end", 0},
 	{"block on one line with ;", "repeat 2; x = a then x + 1; end\nsum(x)", "x", 2},
 }
@@ -80,6 +82,7 @@ var dynamicsErrors = []struct {
 	{"two indices", "y = [1, 2, 3]\ny[1, 2]*a", "2:4: expected ']' to close '[' at 2:2, found ','", "v[[1, 3]]"},
 	{"empty index", "y = [1, 2]\ny[]*a", "2:3: empty index", "v[2]"},
 	{"step index out of range", "y = [1, 2, 3]\nrepeat 3 as k\n  x = 1 then x + a*y[k+1]\nend\nsum(x)", "3:22: the index is 4 at step 3, outside the 3 elements of y (1 to 3)", ""},
+	{"bound indexed by a parameter", "y = [1, 2]\nparam a in [y[b], 2]\na*b", "2:15: an index cannot depend on the parameters", ""},
 	{"recursion", "f(x) = f(x - 1)\nf(a)", "1:8: f calls itself: functions cannot be recursive", "repeat block"},
 	{"mutual recursion", "f(x) = g(x)\ng(x) = f(x)\ng(a)", "1:8: g is defined at line 2, below f; a function may call only functions defined above it", "move the definition"},
 	{"function arity", "f(x, y) = x*y\nf(a)", "2:1: wrong number of arguments for f: got 1, want 2", "f(x, y)"},
@@ -149,5 +152,16 @@ sum(sin(x)*cos(x) + tan(x)*atan(x))`
 	_, err := Parse(src)
 	if err == nil || !strings.Contains(err.Error(), "4:1: the density makes the model too large") {
 		t.Fatalf("error %v, want the density too large at 4:1", err)
+	}
+}
+
+// A support may take elements of data: they are known before the analysis.
+func TestBoundFromElements(t *testing.T) {
+	m, err := Parse("y = [1, 2, 3]\nlo = y[1]\nparam a in [lo, y[len(y)]]\na")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if p := m.Params[0]; p.Lo != 1 || p.Hi != 3 {
+		t.Errorf("support [%g, %g], want [1, 3]", p.Lo, p.Hi)
 	}
 }
