@@ -243,8 +243,11 @@ func (c *checker) index(e *Index) (Shape, bool) {
 			return badShape, dep
 		}
 		if d {
-			c.errs.add(startPos(ie), "an index must be known before the analysis: numbers, data, len(...) and the step number of a repeat block",
-				"an index cannot depend on the parameters")
+			hint := "an index must be known before the analysis: numbers, data, len(...) and the step number of a repeat block"
+			if id, ok := ie.(*Ident); ok && id.Kind == ParamRef && !c.m.Params[id.Index].Declared {
+				hint = fmt.Sprintf("%s is not defined, so it is a parameter; %s (name it with as in the repeat line)", id.Name, hint)
+			}
+			c.errs.add(startPos(ie), hint, "an index cannot depend on the parameters")
 			return badShape, dep
 		}
 		if e.I == nil && s.Len > 0 {

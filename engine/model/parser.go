@@ -524,7 +524,11 @@ func (p *parser) call(name token) Expr {
 				continue
 			}
 			if t.kind != tokRParen {
-				p.closeErr("',' or ')'", open, "")
+				hint := ""
+				if t.kind == tokName && (t.text == "for" || t.text == "if") {
+					hint = "there are no comprehensions: apply the function to a whole vector, as in sum((y - m)^2), or step a state with a repeat block"
+				}
+				p.closeErr("',' or ')'", open, hint)
 			}
 			break
 		}
