@@ -248,7 +248,7 @@ repeat 200 as k
   x = 1 then x + dt*v
   v = 0 then v - dt*(w^2*x + 2*c*v)
 end
--sum((x - cos(0.05*(1 + 0*x)*1.5))^2)`
+-sum((x - 0.5)^2) - sum(v^2)/10`
 	ev2 := compileSrc(t, osc)
 	fdCheck(t, "oscillator 200", ev2, []float64{1.4, 0.1}, 1e-5)
 	pts := [][]float64{{1.5, -0.8, 22}, {0, 0, 0}, {math.NaN(), 1, 1}, {1, math.Inf(1), 2}, {-3, 4, 30}}
