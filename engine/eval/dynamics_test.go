@@ -258,6 +258,13 @@ end
 	if n := testing.AllocsPerRun(5, func() { ev.LogDensityBlock(cols, out) }); n != 0 {
 		t.Errorf("block evaluation allocates %v times", n)
 	}
+	x, g, h := []float64{1, -1, 21}, make([]float64, 3), make([]float64, 9)
+	if n := testing.AllocsPerRun(5, func() { ev.LogDensity(x) }); n != 0 {
+		t.Errorf("point evaluation allocates %v times", n)
+	}
+	if n := testing.AllocsPerRun(5, func() { ev.LogDensityDerivs(x, g, h) }); n != 0 {
+		t.Errorf("evaluation with derivatives allocates %v times", n)
+	}
 }
 
 // The compiled cost equals the plain Go loop's.
