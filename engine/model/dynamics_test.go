@@ -2,6 +2,7 @@ package model
 
 import (
 	"errors"
+	"os"
 	"strings"
 	"testing"
 )
@@ -166,5 +167,38 @@ func TestBoundFromElements(t *testing.T) {
 	}
 	if p := m.Params[0]; p.Lo != 1 || p.Hi != 3 {
 		t.Errorf("support [%g, %g], want [1, 3]", p.Lo, p.Hi)
+	}
+}
+
+// The README's examples of blocks are models that parse.
+func TestReadmeBlockExamples(t *testing.T) {
+	b, err := os.ReadFile("../../README.md")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var blocks []string
+	var cur []string
+	for _, line := range strings.Split(string(b), "\n") {
+		if rest, ok := strings.CutPrefix(line, "    "); ok {
+			cur = append(cur, rest)
+			continue
+		}
+		if len(cur) > 0 {
+			blocks = append(blocks, strings.Join(cur, "\n"))
+			cur = nil
+		}
+	}
+	found := 0
+	for _, src := range blocks {
+		if !strings.Contains(src, "\nend\n") {
+			continue
+		}
+		found++
+		if _, err := Parse(src); err != nil {
+			t.Errorf("README example does not parse:\n%s\n%s", src, Detail(err, src))
+		}
+	}
+	if found < 2 {
+		t.Errorf("found %d README examples with a block, want 2", found)
 	}
 }
