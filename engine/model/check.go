@@ -173,6 +173,10 @@ func (c *checker) declare() {
 				c.errs.add(d.at, "give the parameter and the defined quantity different names",
 					"%s is declared as a parameter at line %d; it cannot also be defined", d.name, c.declAt[d.name].Line)
 				c.skip[st] = true
+			case c.defAt[d.name] == dataPos && d.at != dataPos:
+				c.errs.add(d.at, "rename the column in the data or the quantity in the model",
+					"%s is a column of the attached data; it cannot also be defined", d.name)
+				c.skip[st] = true
 			case c.defAt[d.name] != d.at:
 				c.errs.add(d.at, "give the new quantity a name of its own",
 					"%s is already defined at line %d", d.name, c.defAt[d.name].Line)
@@ -186,6 +190,9 @@ func (c *checker) declare() {
 				c.skip[st] = true
 			case c.funcAt[s.Name] != s.At:
 				c.errs.add(s.At, "give the new function a name of its own", "function %s is already defined at line %d", s.Name, c.funcAt[s.Name].Line)
+				c.skip[st] = true
+			case c.defAt[s.Name] == dataPos:
+				c.errs.add(s.At, "rename the column in the data or the function in the model", "%s is a column of the attached data; it cannot also name a function", s.Name)
 				c.skip[st] = true
 			case c.defAt[s.Name] != (Pos{}) || c.declAt[s.Name] != (Pos{}):
 				c.errs.add(s.At, "give the function and the quantity different names", "%s names both a function and a quantity or parameter", s.Name)
