@@ -1,0 +1,241 @@
+package quadrature
+
+import (
+	"context"
+	"math"
+
+	"bellcheck/engine/target"
+)
+
+// Moments of the normalised density on one scale, in parameter order. A
+// moment that is infinite is NaN, with its flag set (and every moment of
+// higher order is infinite too); the errors are estimates (see the package
+// documentation).
+type Moments struct {
+	Mean, MeanErr []float64
+	// Cov and CovErr are row-major d×d.
+	Cov, CovErr                 []float64
+	Skewness, SkewnessErr       []float64
+	ExcessKurtosis, KurtosisErr []float64
+	// MeanInfinite[a] and the others say that the moment of that order of
+	// parameter a is infinite (its tail decays too slowly).
+	MeanInfinite, VarInfinite, SkewnessInfinite, KurtosisInfinite []bool
+}
+
+// Result is the density integrated by the nested rule.
+type Result struct {
+	Dim int
+	// LogZ is log of the integral of p over the unconstrained scale; LogZErr
+	// the estimate of its error (an absolute error in log Z).
+	LogZ, LogZErr float64
+	// Improper says that the density's integral is infinite: along some
+	// axis its share does not decay (LogZ is then +Inf).
+	Improper bool
+	// Unconstrained holds the moments of z, Original those of x(z).
+	Unconstrained, Original Moments
+	// Nodes is the finest rule's node set.
+	Nodes *Nodes
+	// Points counts the density's evaluations (block and single), Derivs
+	// the evaluations with gradient and Hessian, NonFinite the nodes where
+	// log p was NaN or +Inf (left out).
+	Points, Derivs, NonFinite int
+	// Order is the nested rule's axis order, outermost first.
+	Order []int
+
+	p        target.Density
+	start    Start
+	settings Settings
+}
+
+// Integrate integrates p, a density on the unconstrained scale, by the
+// nested sinh-trapezoid rule centred at start, and summarises it. It checks
+// ctx between lines of nodes and returns ctx's error when cancelled.
+func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (*Result, error) {
+	if s.Order == nil {
+		s.Order = ChooseOrder(p, start)
+	}
+	r, err := newRule(ctx, p, start, s)
+	if err != nil {
+		return nil, err
+	}
+	if err := r.run(); err != nil {
+		return nil, err
+	}
+	if s.Progress != nil {
+		s.Progress(1)
+	}
+	return r.result(start, s)
+}
+
+func (r *rule) result(start Start, s Settings) (*Result, error) {
+	d := r.d
+	lv := &r.lv[0]
+	res := &Result{
+		Dim: d, Nodes: &r.nodes, Points: r.points, Derivs: r.derivs, NonFinite: r.nonFinite,
+		Order: append([]int(nil), r.perm...), p: r.p, start: start, settings: s,
+	}
+	res.Nodes.dim = d
+	s0 := lv.sum[0][0]
+	if !(s0 > 0) {
+		return nil, ErrNoMass
+	}
+	res.Improper = lv.inf[0]
+	if res.Improper {
+		res.LogZ, res.LogZErr = math.Inf(1), math.Inf(1)
+	} else {
+		zErr := estimate(s0, lv.sum[1][0], lv.sum[2][0], s0)
+		res.LogZ = r.ref + r.ldL + math.Log(s0)
+		res.LogZErr = (zErr+lv.rem[0])/s0 + roundoff
+	}
+	res.Unconstrained = r.moments(0, res.Improper)
+	res.Original = r.moments(1, res.Improper)
+	return res, nil
+}
+
+// roundoff is the floor of every relative error estimate.
+const roundoff = 1e-13
+
+// safety multiplies the extrapolated discretisation error.
+const safety = 3
+
+// estimate returns the error estimate of the finest of three values of a
+// quantity from the rules of steps h (v1), 2h (v2) and 4h (v4), scale being
+// the quantity's natural size. The trapezoid rule converges exponentially
+// for an integrand analytic in a strip and decaying fast (Trefethen and
+// Weideman 2014, section 5): err(h) ~ A exp(-c/h). Then err(4h) ~ |v4 - v2|
+// = e1 and err(2h) ~ |v2 - v1| = e2 give err(h) ~ e2^3 / e1^2; where the
+// sequence is not yet in that regime (e1 <= e2) the estimate is e2 itself.
+// The larger of this and e2^2 / scale (the squaring of the relative error
+// when h halves) is taken, times a safety factor.
+func estimate(v1, v2, v4, scale float64) float64 {
+	e2 := math.Abs(v2 - v1)
+	e1 := math.Abs(v4 - v2)
+	if !(e1 > e2) {
+		return e2
+	}
+	est := e2 * e2 * e2 / (e1 * e1)
+	if scale > 0 {
+		est = math.Max(est, e2*e2/scale)
+	}
+	return safety * est
+}
+
+// stats are the moments of one scale from one rule's sums.
+type stats struct {
+	mean, cov, skew, kurt []float64
+}
+
+func (r *rule) statsOf(sum []float64, sc int, st *stats) {
+	d := r.d
+	l := r.lay
+	o := sc * l.nBlock
+	s0 := sum[0]
+	off := r.m
+	if sc == 1 {
+		off = r.xm
+	}
+	for a := 0; a < d; a++ {
+		mu := sum[o+l.y1+a] / s0
+		st.mean[a] = off[a] + mu
+	}
+	for a := 0; a < d; a++ {
+		mua := sum[o+l.y1+a] / s0
+		for b := 0; b < d; b++ {
+			mub := sum[o+l.y1+b] / s0
+			st.cov[a*d+b] = sum[o+l.y2+l.pair(a, b)]/s0 - mua*mub
+		}
+		m2 := sum[o+l.y2+l.pair(a, a)] / s0
+		m3 := sum[o+l.y3+a] / s0
+		m4 := sum[o+l.y4+a] / s0
+		c2 := m2 - mua*mua
+		c3 := m3 - 3*mua*m2 + 2*mua*mua*mua
+		c4 := m4 - 4*mua*m3 + 6*mua*mua*m2 - 3*mua*mua*mua*mua
+		st.skew[a] = c3 / math.Pow(c2, 1.5)
+		st.kurt[a] = c4/(c2*c2) - 3
+	}
+}
+
+func newStats(d int) stats {
+	return stats{mean: make([]float64, d), cov: make([]float64, d*d), skew: make([]float64, d), kurt: make([]float64, d)}
+}
+
+// moments returns the moments of scale sc in parameter order.
+func (r *rule) moments(sc int, improper bool) Moments {
+	d := r.d
+	lv := &r.lv[0]
+	var st [3]stats
+	for t := range st {
+		st[t] = newStats(d)
+		r.statsOf(lv.sum[t], sc, &st[t])
+	}
+	mo := Moments{
+		Mean: make([]float64, d), MeanErr: make([]float64, d),
+		Cov: make([]float64, d*d), CovErr: make([]float64, d*d),
+		Skewness: make([]float64, d), SkewnessErr: make([]float64, d),
+		ExcessKurtosis: make([]float64, d), KurtosisErr: make([]float64, d),
+		MeanInfinite: make([]bool, d), VarInfinite: make([]bool, d),
+		SkewnessInfinite: make([]bool, d), KurtosisInfinite: make([]bool, d),
+	}
+	s0 := lv.sum[0][0]
+	rem0 := lv.rem[0] / s0
+	w2 := r.lay.wY2
+	w4 := r.lay.wY4
+	if sc == 1 {
+		w2, w4 = r.lay.wX2, r.lay.wX4
+	}
+	for a := 0; a < d; a++ {
+		pa := r.perm[a]
+		inf := func(m int) bool { return improper || lv.inf[flagIndex(d, sc, m, a)] }
+		mo.MeanInfinite[pa] = inf(0)
+		mo.VarInfinite[pa] = mo.MeanInfinite[pa] || inf(1)
+		mo.SkewnessInfinite[pa] = mo.VarInfinite[pa] || inf(2)
+		mo.KurtosisInfinite[pa] = mo.SkewnessInfinite[pa] || inf(3)
+	}
+	for a := 0; a < d; a++ {
+		pa := r.perm[a]
+		va := st[0].cov[a*d+a]
+		sd := math.Sqrt(math.Abs(va))
+		rem2 := lv.rem[w2(a)] / s0
+		rem4 := lv.rem[w4(a)] / s0
+		mo.Mean[pa] = st[0].mean[a]
+		mo.MeanErr[pa] = estimate(st[0].mean[a], st[1].mean[a], st[2].mean[a], sd) +
+			math.Sqrt(rem0*rem2) + roundoff*(sd+math.Abs(st[0].mean[a]))
+		mo.Skewness[pa] = st[0].skew[a]
+		mo.SkewnessErr[pa] = estimate(st[0].skew[a], st[1].skew[a], st[2].skew[a], 1) +
+			math.Sqrt(rem2*rem4)/(va*sd) + roundoff
+		mo.ExcessKurtosis[pa] = st[0].kurt[a]
+		mo.KurtosisErr[pa] = estimate(st[0].kurt[a], st[1].kurt[a], st[2].kurt[a], 1) + rem4/(va*va) + roundoff
+		for b := 0; b < d; b++ {
+			pb := r.perm[b]
+			vb := st[0].cov[b*d+b]
+			scale := math.Sqrt(math.Abs(va * vb))
+			remb := lv.rem[w2(b)] / s0
+			mo.Cov[pa*d+pb] = st[0].cov[a*d+b]
+			mo.CovErr[pa*d+pb] = estimate(st[0].cov[a*d+b], st[1].cov[a*d+b], st[2].cov[a*d+b], scale) +
+				math.Sqrt(rem2*remb) + scale*rem0 + roundoff*scale
+		}
+		if mo.MeanInfinite[pa] {
+			mo.Mean[pa], mo.MeanErr[pa] = math.NaN(), math.NaN()
+		}
+		if mo.SkewnessInfinite[pa] {
+			mo.Skewness[pa], mo.SkewnessErr[pa] = math.NaN(), math.NaN()
+		}
+		if mo.KurtosisInfinite[pa] {
+			mo.ExcessKurtosis[pa], mo.KurtosisErr[pa] = math.NaN(), math.NaN()
+		}
+	}
+	for a := 0; a < d; a++ {
+		for b := 0; b < d; b++ {
+			if mo.VarInfinite[a] || mo.VarInfinite[b] {
+				mo.Cov[a*d+b], mo.CovErr[a*d+b] = math.NaN(), math.NaN()
+			}
+		}
+	}
+	return mo
+}
+
+// ChooseOrder returns the parameters in the order of the nested rule's axes,
+// outermost first: for now the parameters' own order.
+func ChooseOrder(p target.Density, start Start) []int {
+	return identityOrder(p.Dim())
+}
