@@ -15,7 +15,7 @@ type layout struct {
 	nBlock             int // components of one scale
 	n                  int // all components
 	y1, y2, y3, y4, xo int // offsets in the first block; xo is the second block's start
-	nWatch             int // 1 + 4d
+	nWatch             int // 1 + 6d
 }
 
 func newLayout(d int) layout {
@@ -27,7 +27,7 @@ func newLayout(d int) layout {
 	l.nBlock = 3*d + d*(d+1)/2
 	l.xo = l.nBlock
 	l.n = 1 + 2*l.nBlock
-	l.nWatch = 1 + 4*d
+	l.nWatch = 1 + 6*d
 	return l
 }
 
@@ -45,6 +45,11 @@ func (l layout) wY2(a int) int { return 1 + a }
 func (l layout) wY4(a int) int { return 1 + l.d + a }
 func (l layout) wX2(a int) int { return 1 + 2*l.d + a }
 func (l layout) wX4(a int) int { return 1 + 3*l.d + a }
+
+// wY1 and wX1 hold the remainders of the first absolute powers (derived
+// from the density's and the second power's: their geometric mean).
+func (l layout) wY1(a int) int { return 1 + 4*l.d + a }
+func (l layout) wX1(a int) int { return 1 + 5*l.d + a }
 
 // watchFromFull extracts the watched components of a full vector.
 func (l layout) watchFromFull(full, w []float64) {

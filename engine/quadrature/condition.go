@@ -16,7 +16,16 @@ func (r *rule) condition(k int) {
 	copy(r.ut, r.u[:k])
 	copy(r.ut[k:], r.pred[k][k:])
 	ok := false
-	for it := 0; it < maxNewton; it++ {
+	if k == 0 && r.pilot {
+		// The pilot's mean and covariance: u = 0 with unit variances.
+		copy(lv.mode, r.ut)
+		clear(lv.sigma[:m*m])
+		for i := 0; i < m; i++ {
+			lv.sigma[i*m+i] = 1
+		}
+		ok = true
+	}
+	for it := 0; it < maxNewton && !(k == 0 && r.pilot); it++ {
 		f := r.derivsAt(k, r.ut)
 		if math.IsNaN(f) || math.IsInf(f, 0) {
 			break
@@ -65,10 +74,10 @@ func (r *rule) condition(k int) {
 	}
 	lv.c = lv.mode[k]
 	s00 := lv.sigma[0]
-	lv.w = r.s.Width * math.Sqrt(s00)
 	for a := k + 1; a < d; a++ {
 		lv.slope[a] = lv.sigma[(a-k)*m] / s00
 	}
+	r.chooseMap(k, math.Sqrt(s00))
 }
 
 // derivsAt returns log p at u and writes the gradient (r.gu) and the

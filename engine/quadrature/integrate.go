@@ -3,6 +3,7 @@ package quadrature
 import (
 	"context"
 	"math"
+	"sort"
 
 	"bellcheck/engine/target"
 )
@@ -51,20 +52,89 @@ type Result struct {
 // nested sinh-trapezoid rule centred at start, and summarises it. It checks
 // ctx between lines of nodes and returns ctx's error when cancelled.
 func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (*Result, error) {
+	main := start
+	pilot := false
+	var pilotPoints, pilotDerivs int
 	if s.Order == nil {
-		s.Order = ChooseOrder(p, start)
+		ps := s
+		ps.Order = identityOrder(p.Dim())
+		ps.Step = 2 * s.withDefaults().Step
+		ps.Progress = nil
+		if s.Progress != nil {
+			ps.Progress = func(f float64) { s.Progress(0.2 * f) }
+		}
+		pr, err := newRule(ctx, p, start, ps)
+		if err != nil {
+			return nil, err
+		}
+		if err := pr.run(); err != nil {
+			return nil, err
+		}
+		pilotPoints, pilotDerivs = pr.points, pr.derivs
+		if res, err := pr.result(start, ps); err == nil {
+			s.Order, main, pilot = fromPilot(res, start)
+		} else {
+			s.Order = identityOrder(p.Dim())
+		}
 	}
-	r, err := newRule(ctx, p, start, s)
+	progress := s.Progress
+	if progress != nil {
+		s.Progress = func(f float64) { progress(0.2 + 0.8*f) }
+	}
+	r, err := newRule(ctx, p, main, s)
 	if err != nil {
 		return nil, err
 	}
+	r.pilot = pilot
 	if err := r.run(); err != nil {
 		return nil, err
 	}
-	if s.Progress != nil {
-		s.Progress(1)
+	r.points += pilotPoints
+	r.derivs += pilotDerivs
+	if progress != nil {
+		progress(1)
 	}
-	return r.result(start, s)
+	return r.result(main, s)
+}
+
+// fromPilot returns the axis order and the start of the main rule from a
+// pilot run at twice the step. The axes are ordered by the ratio of the
+// pilot's marginal variance to the curvature's (the Laplace variance at the
+// mode), smallest first: a parameter whose spread the mode's curvature
+// describes goes outside, one whose spread depends on the others (the
+// funnel's x, a location whose scale is another parameter) inside, where
+// each outer node rescales it. When the pilot's moments are finite, the
+// main rule is centred at its mean and whitened by its covariance, which
+// describe the mass better than the mode where the two differ (a funnel's
+// mode lies far down its neck).
+func fromPilot(res *Result, start Start) ([]int, Start, bool) {
+	d := res.Dim
+	lap, err := startCov(start, d)
+	order := identityOrder(d)
+	if err != nil {
+		return order, start, false
+	}
+	u := res.Unconstrained
+	ratio := make([]float64, d)
+	finite := !res.Improper
+	for k := 0; k < d; k++ {
+		v := u.Cov[k*d+k]
+		ratio[k] = v / lap[k*d+k]
+		if math.IsNaN(v) || u.VarInfinite[k] {
+			ratio[k] = math.Inf(1)
+			finite = false
+		}
+	}
+	sort.SliceStable(order, func(i, j int) bool { return ratio[order[i]] < ratio[order[j]] })
+	if !finite {
+		return order, start, false
+	}
+	cov := append([]float64(nil), u.Cov...)
+	c := make([]float64, d*d)
+	if !cholesky(c, cov, d) {
+		return order, start, false
+	}
+	return order, Start{Mode: append([]float64(nil), u.Mean...), Cov: cov}, true
 }
 
 func (r *rule) result(start Start, s Settings) (*Result, error) {
@@ -178,10 +248,15 @@ func (r *rule) moments(sc int, improper bool) Moments {
 	}
 	s0 := lv.sum[0][0]
 	rem0 := lv.rem[0] / s0
-	w2 := r.lay.wY2
-	w4 := r.lay.wY4
+	off := func(a int) float64 {
+		if sc == 1 {
+			return r.xm[a]
+		}
+		return r.m[a]
+	}
+	w1, w2, w4 := r.lay.wY1, r.lay.wY2, r.lay.wY4
 	if sc == 1 {
-		w2, w4 = r.lay.wX2, r.lay.wX4
+		w1, w2, w4 = r.lay.wX1, r.lay.wX2, r.lay.wX4
 	}
 	for a := 0; a < d; a++ {
 		pa := r.perm[a]
@@ -199,7 +274,7 @@ func (r *rule) moments(sc int, improper bool) Moments {
 		rem4 := lv.rem[w4(a)] / s0
 		mo.Mean[pa] = st[0].mean[a]
 		mo.MeanErr[pa] = estimate(st[0].mean[a], st[1].mean[a], st[2].mean[a], sd) +
-			math.Sqrt(rem0*rem2) + roundoff*(sd+math.Abs(st[0].mean[a]))
+			lv.rem[w1(a)]/s0 + math.Abs(st[0].mean[a]-off(a))*rem0 + roundoff*(sd+math.Abs(st[0].mean[a]))
 		mo.Skewness[pa] = st[0].skew[a]
 		mo.SkewnessErr[pa] = estimate(st[0].skew[a], st[1].skew[a], st[2].skew[a], 1) +
 			math.Sqrt(rem2*rem4)/(va*sd) + roundoff
@@ -234,8 +309,3 @@ func (r *rule) moments(sc int, improper bool) Moments {
 	return mo
 }
 
-// ChooseOrder returns the parameters in the order of the nested rule's axes,
-// outermost first: for now the parameters' own order.
-func ChooseOrder(p target.Density, start Start) []int {
-	return identityOrder(p.Dim())
-}

@@ -6,7 +6,7 @@ import (
 )
 
 // lineChunk is the number of nodes added at a time when a line is extended.
-const lineChunk = 8
+const lineChunk = 2
 
 // line integrates the innermost axis at the current outer point: it
 // evaluates the nodes of the map u = c + w sinh(t), t = jh, over a range
@@ -21,7 +21,7 @@ func (r *rule) line() error {
 	base := r.v[k]
 	lkk := r.L[k*d+k]
 	off := r.maxJ
-	j0 := min(int(math.Ceil(math.Asinh(8/r.s.Width)/r.h)), r.maxJ)
+	j0 := min(lv.startIndex(r.h), r.maxJ)
 	jl, jr := -j0, j0
 	if err := r.evalRange(jl, jr, base, lkk); err != nil {
 		return err
@@ -90,7 +90,7 @@ func (r *rule) line() error {
 		r.v[k] = vk
 		r.z[r.perm[k]] = vk
 		t := float64(j) * r.h
-		r.nodes.add(r.z, lv.logW+math.Log(r.h*lv.w*math.Cosh(t)), r.lineLogP[j+off], min(lv.tier, tierOf(j)))
+		r.nodes.add(r.z, lv.logW+math.Log(r.h*lv.jac(t)), r.lineLogP[j+off], min(lv.tier, tierOf(j)))
 	}
 	for t := range r.ls {
 		r.lay.expand(&r.ls[t], r.y, r.x, 1, lv.sum[t])
@@ -123,7 +123,7 @@ func (r *rule) evalRange(a, b int, base, lkk float64) error {
 	ck := r.cols[r.perm[k]][:n]
 	for i := range ck {
 		t := float64(a+i) * r.h
-		u := lv.c + lv.w*math.Sinh(t)
+		u := lv.c + lv.offset(t)
 		r.lineT[a+i+off] = u
 		ck[i] = base + lkk*u
 	}
@@ -141,7 +141,7 @@ func (r *rule) evalRange(a, b int, base, lkk float64) error {
 			r.nonFinite++
 			out[i] = math.Inf(-1)
 		case !math.IsInf(lp, -1):
-			g = math.Exp(lp-r.ref) * r.h * lv.w * math.Cosh(t)
+			g = math.Exp(lp-r.ref) * r.h * lv.jac(t)
 		}
 		r.lineG[a+i+off] = g
 	}

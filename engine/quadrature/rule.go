@@ -14,8 +14,12 @@ import (
 type level struct {
 	mode  []float64 // the conditional mode of axes k.. (u coordinates, len d)
 	sigma []float64 // the conditional covariance of axes k.. (len (d-k)^2)
+	// the inner level's modes at the last two outer nodes and at t = 0
+	m0, m1, m00 []float64
 	slope []float64 // d mode_a / d u_k for a > k
-	c, w  float64   // the node map u_k = c + w sinh t
+	c, w  float64   // the node map u_k = c + w sinh t, or c + w t when linear
+	linear bool
+	width  float64 // w / sd
 	logW  float64   // log of the outer axes' weights (with det L)
 	tier  int       // lowest tier of the outer indices
 	sum   [3][]float64
@@ -51,6 +55,7 @@ type rule struct {
 	cols                                             [][]float64
 	ls                                               [3]lineSums
 
+	pilot     bool // the start is a pilot's mean and covariance: no Newton on the outer axis
 	nodes     Nodes
 	points    int
 	derivs    int
@@ -58,7 +63,7 @@ type rule struct {
 	done0     int
 }
 
-const maxNewton = 8
+const maxNewton = 20
 
 func newRule(ctx context.Context, p target.Density, st Start, s Settings) (*rule, error) {
 	d := p.Dim()
@@ -123,6 +128,7 @@ func newRule(ctx context.Context, p target.Density, st Start, s Settings) (*rule
 	for k := range r.lv {
 		lv := &r.lv[k]
 		lv.mode, lv.slope = mk(), mk()
+		lv.m0, lv.m1, lv.m00 = mk(), mk(), mk()
 		lv.sigma = make([]float64, d*d)
 		for t := range lv.sum {
 			lv.sum[t] = make([]float64, r.lay.n)
@@ -259,20 +265,46 @@ func (r *rule) axis(k int) error {
 	nl := 1 + 4*(r.d-k)
 	cur, prev, peak := lv.cur[:nl], lv.prev[:nl], lv.peak[:nl]
 	clear(peak)
+	// The inner modes are predicted from the last two outer nodes' (by
+	// linear extrapolation in u_k), or from the Gaussian regression line
+	// until there are two.
+	m0, m1, m00 := lv.m0, lv.m1, lv.m00
+	var u0, u1, u00 float64
 	for _, side := range [2]int{1, -1} {
 		first := true
+		known := 0
+		if side < 0 {
+			copy(m1, m00)
+			u1 = u00
+			known = 1
+		}
 		for j := (1 - side) / 2 * -1; ; j += side {
 			t := float64(j) * r.h
-			du := lv.w * math.Sinh(t)
+			du := lv.offset(t)
 			r.u[k] = lv.c + du
 			for a := k + 1; a < r.d; a++ {
-				r.pred[k+1][a] = lv.mode[a] + lv.slope[a]*du
+				switch known {
+				case 0:
+					r.pred[k+1][a] = lv.mode[a] + lv.slope[a]*du
+				case 1:
+					r.pred[k+1][a] = m1[a] + lv.slope[a]*(r.u[k]-u1)
+				default:
+					r.pred[k+1][a] = m1[a] + (m1[a]-m0[a])*(r.u[k]-u1)/(u1-u0)
+				}
 			}
-			wt := r.h * lv.w * math.Cosh(t)
+			wt := r.h * lv.jac(t)
 			child.logW = lv.logW + math.Log(wt)
 			child.tier = min(lv.tier, tierOf(j))
 			if err := r.axis(k + 1); err != nil {
 				return err
+			}
+			m0, m1 = m1, m0
+			copy(m1, child.mode)
+			u0, u1 = u1, r.u[k]
+			known++
+			if j == 0 {
+				copy(m00, child.mode)
+				u00 = r.u[k]
 			}
 			addScaled(lv.sum[0], child.sum[0], wt)
 			if j%2 == 0 {

@@ -27,7 +27,9 @@ type Settings struct {
 	// the original scale; nil means the identity.
 	Maps []transform.Map
 	// Order lists the parameters from the outermost axis of the nested
-	// rule to the innermost; nil means chosen by ChooseOrder.
+	// rule to the innermost. Nil means: run a pilot rule at step 2h, order
+	// the axes from its moments and centre the rule at its mean (see
+	// Integrate).
 	Order []int
 	// Progress, when set, receives the fraction done (0 to 1).
 	Progress func(fraction float64)

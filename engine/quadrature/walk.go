@@ -36,6 +36,12 @@ func (r *rule) endCheck(k int, cur, prev, peak []float64, at float64, first bool
 				return false, 0
 			}
 		}
+		// The first powers, between the density and the second powers.
+		for c := 1; c < len(cur); c += 2 {
+			if g, p := math.Sqrt(cur[0]*cur[c]), math.Sqrt(peak[0]*peak[c]); g > r.s.MomentTol*p && (slope(0)+slope(c))/2 < -minRate {
+				return false, 0
+			}
+		}
 	}
 	lv := &r.lv[k]
 	remZ := 0.0
@@ -100,8 +106,16 @@ func (r *rule) endCheck(k int, cur, prev, peak []float64, at float64, first bool
 		b := 1 + 4*(a-k)
 		for sc := 0; sc < 2; sc++ {
 			lo, mid, hi := 0, b+2*sc, b+2*sc+1 // 1, y^2, y^4 (or x~^2, x~^4)
-			if rate := (slope(lo) + slope(mid)) / 2; rate >= -minRate && math.Sqrt(cur[lo]*cur[mid]) > r.s.MomentTol*math.Sqrt(peak[lo]*peak[mid]) {
+			g1 := math.Sqrt(cur[lo] * cur[mid])
+			if rate := (slope(lo) + slope(mid)) / 2; rate >= -minRate && g1 > r.s.MomentTol*math.Sqrt(peak[lo]*peak[mid]) {
 				lv.inf[flagIndex(d, sc, 0, a)] = true
+			} else if rate < -minRate && g1 > 0 {
+				q := math.Exp(rate * r.h)
+				w := r.lay.wY1(a)
+				if sc == 1 {
+					w = r.lay.wX1(a)
+				}
+				lv.rem[w] += g1 * q / (1 - q)
 			}
 			if rate := (slope(mid) + slope(hi)) / 2; rate >= -minRate && math.Sqrt(cur[mid]*cur[hi]) > r.s.MomentTol*math.Sqrt(peak[mid]*peak[hi]) {
 				lv.inf[flagIndex(d, sc, 2, a)] = true
@@ -129,6 +143,8 @@ func (r *rule) recordOthers(k int, remZ float64) {
 		lv.rem[r.lay.wY4(a)] += remZ * y * y * y * y
 		lv.rem[r.lay.wX2(a)] += remZ * x * x
 		lv.rem[r.lay.wX4(a)] += remZ * x * x * x * x
+		lv.rem[r.lay.wY1(a)] += remZ * math.Abs(y)
+		lv.rem[r.lay.wX1(a)] += remZ * math.Abs(x)
 	}
 }
 
