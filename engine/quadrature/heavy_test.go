@@ -48,7 +48,7 @@ func TestNormalUnknownSD(t *testing.T) {
 			check(t, "mean m", u.Mean[0], ybar, 1e-4*sdM, u.MeanErr[0])
 			// E log sigma = (log(nu s^2) - digamma(nu/2) - log 2)/2; Var log sigma
 			// = trigamma(nu/2)/4 (log of a chi-square variable).
-			dg := map[int]float64{3: -0.5772156649015329, 4: 0.03648997397857652, 5: 0.42278433509846713}[n] // digamma(1), (3/2), (2): A&S 6.3.2, 6.3.3
+			dg := map[int]float64{3: -0.5772156649015329, 4: 0.03648997397857652, 5: 0.42278433509846713}[n]       // digamma(1), (3/2), (2): A&S 6.3.2, 6.3.3
 			tg := map[int]float64{3: math.Pi * math.Pi / 6, 4: math.Pi*math.Pi/2 - 4, 5: math.Pi*math.Pi/6 - 1}[n] // trigamma: A&S 6.4.4, 6.4.5
 			sdZ := math.Sqrt(tg / 4)
 			check(t, "mean log s", u.Mean[1], (math.Log(nu*s2)-dg-math.Log(2))/2, 1e-4*sdZ, u.MeanErr[1])

@@ -3,7 +3,6 @@ package quadrature
 import (
 	"context"
 	"math"
-	"sort"
 
 	"bellcheck/engine/target"
 )
@@ -57,7 +56,7 @@ func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (
 	var pilotPoints, pilotDerivs int
 	if s.Order == nil {
 		ps := s
-		ps.Order = identityOrder(p.Dim())
+		ps.Order = ScaleOrder(p, start)
 		ps.Step = 2 * s.withDefaults().Step
 		ps.Progress = nil
 		if s.Progress != nil {
@@ -72,9 +71,9 @@ func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (
 		}
 		pilotPoints, pilotDerivs = pr.points, pr.derivs
 		if res, err := pr.result(start, ps); err == nil {
-			s.Order, main, pilot = fromPilot(res, start)
+			s.Order, main, pilot = fromPilot(res, start, ps.Order)
 		} else {
-			s.Order = identityOrder(p.Dim())
+			s.Order = ps.Order
 		}
 	}
 	progress := s.Progress
@@ -98,7 +97,8 @@ func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (
 }
 
 // fromPilot returns the axis order and the start of the main rule from a
-// pilot run at twice the step. The axes are ordered by the ratio of the
+// pilot run at twice the step (in the order of ScaleOrder). The axes are
+// reordered by the ratio of the
 // pilot's marginal variance to the curvature's (the Laplace variance at the
 // mode), smallest first: a parameter whose spread the mode's curvature
 // describes goes outside, one whose spread depends on the others (the
@@ -107,10 +107,10 @@ func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (
 // main rule is centred at its mean and whitened by its covariance, which
 // describe the mass better than the mode where the two differ (a funnel's
 // mode lies far down its neck).
-func fromPilot(res *Result, start Start) ([]int, Start, bool) {
+func fromPilot(res *Result, start Start, pilotOrder []int) ([]int, Start, bool) {
 	d := res.Dim
 	lap, err := startCov(start, d)
-	order := identityOrder(d)
+	order := append([]int(nil), pilotOrder...)
 	if err != nil {
 		return order, start, false
 	}
@@ -125,7 +125,13 @@ func fromPilot(res *Result, start Start) ([]int, Start, bool) {
 			finite = false
 		}
 	}
-	sort.SliceStable(order, func(i, j int) bool { return ratio[order[i]] < ratio[order[j]] })
+	// Ratios within a factor 1.5 keep the pilot's order (insertion sort:
+	// the comparison is not transitive, but d <= 4).
+	for i := 1; i < d; i++ {
+		for j := i; j > 0 && ratio[order[j]]*1.5 < ratio[order[j-1]]; j-- {
+			order[j], order[j-1] = order[j-1], order[j]
+		}
+	}
 	if !finite {
 		return order, start, false
 	}
@@ -308,4 +314,3 @@ func (r *rule) moments(sc int, improper bool) Moments {
 	}
 	return mo
 }
-

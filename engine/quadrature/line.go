@@ -21,8 +21,7 @@ func (r *rule) line() error {
 	base := r.v[k]
 	lkk := r.L[k*d+k]
 	off := r.maxJ
-	j0 := min(lv.startIndex(r.h), r.maxJ)
-	jl, jr := -j0, j0
+	jl, jr := -min(lv.startIndex(r.h, -1), r.maxJ), min(lv.startIndex(r.h, 1), r.maxJ)
 	if err := r.evalRange(jl, jr, base, lkk); err != nil {
 		return err
 	}

@@ -12,32 +12,42 @@ import "math"
 // exponential and narrow the strip where the integrand is analytic and
 // bounded to nothing; there the plain trapezoid rule in u is the right one
 // (its error falls like exp(-2 pi a / h) for a strip of half-width a), so
-// the map is linear: u = c + w t.
+// the map is linear on that side: u = c + w t.
 
-// offset returns u - c at t.
+// offset returns u - c = w phi(t) with phi(t) = t + bR (e^t - 1 - t) -
+// bL (e^-t - 1 + t): sinh t when both b are 1/2, t when both are 0, and
+// linear on one side, exponential on the other in between.
 func (lv *level) offset(t float64) float64 {
-	if lv.linear {
-		return lv.w * t
+	phi := t
+	if lv.betaR != 0 {
+		phi += lv.betaR * (math.Expm1(t) - t)
 	}
-	return lv.w * math.Sinh(t)
+	if lv.betaL != 0 {
+		phi -= lv.betaL * (math.Expm1(-t) + t)
+	}
+	return lv.w * phi
 }
 
 // jac returns du/dt at t.
 func (lv *level) jac(t float64) float64 {
-	if lv.linear {
-		return lv.w
+	d := 1.0
+	if lv.betaR != 0 {
+		d += lv.betaR * math.Expm1(t)
 	}
-	return lv.w * math.Cosh(t)
+	if lv.betaL != 0 {
+		d += lv.betaL * math.Expm1(-t)
+	}
+	return lv.w * d
 }
 
-// startIndex returns the index where a line's first block ends: about 7
-// conditional standard deviations from the centre.
-func (lv *level) startIndex(h float64) int {
+// startIndex returns the index where a line's first block ends on the
+// side sign: about 7 conditional standard deviations from the centre.
+func (lv *level) startIndex(h float64, sign int) int {
 	sd := lv.w / lv.width
-	if lv.linear {
-		return int(math.Ceil(7 * sd / lv.w / h))
+	j := 1
+	for ; j < 1000 && math.Abs(lv.offset(float64(sign*j)*h)) < 7*sd; j++ {
 	}
-	return int(math.Ceil(math.Asinh(7*sd/lv.w) / h))
+	return j
 }
 
 // Probe distances, in conditional standard deviations, and the ratio of
@@ -57,7 +67,7 @@ const (
 // exponentially. f0 is log p at the centre.
 func (r *rule) chooseMap(k int, sd float64) {
 	lv := &r.lv[k]
-	lv.linear = false
+	lv.betaL, lv.betaR = 0.5, 0.5
 	lv.w = r.s.Width * sd
 	lv.width = r.s.Width
 	copy(r.ut, lv.mode)
@@ -88,10 +98,15 @@ func (r *rule) chooseMap(k int, sd float64) {
 		}
 		d2 := drop(side * 2 * probeR * sd)
 		if d2 > probeRatio*d1 {
-			lv.linear = true
-			lv.w = linearWidth * sd
-			lv.width = linearWidth
-			return
+			if side > 0 {
+				lv.betaR = 0
+			} else {
+				lv.betaL = 0
+			}
 		}
+	}
+	if lv.betaL == 0 && lv.betaR == 0 {
+		lv.w = linearWidth * sd
+		lv.width = linearWidth
 	}
 }
