@@ -155,7 +155,7 @@ func (r *rule) result(start Start, s Settings) (*Result, error) {
 	if !(s0 > 0) {
 		return nil, ErrNoMass
 	}
-	res.Improper = lv.inf[0]
+	res.Improper = lv.inf[0] || math.IsInf(s0, 1)
 	if res.Improper {
 		res.LogZ, res.LogZErr = math.Inf(1), math.Inf(1)
 	} else {

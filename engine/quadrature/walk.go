@@ -26,7 +26,7 @@ func (r *rule) endCheck(k int, cur, prev, peak []float64, at float64, first bool
 		}
 		return (math.Log(cur[c]) - math.Log(prev[c])) / r.h
 	}
-	zSmall := cur[0] <= r.s.Tol*peak[0] && (first || cur[0] <= prev[0])
+	zSmall := cur[0] <= r.s.Tol*peak[0] && !math.IsInf(cur[0], 1) && (first || cur[0] <= prev[0])
 	if !atMax {
 		if !zSmall {
 			return false, 0
@@ -55,7 +55,10 @@ func (r *rule) endCheck(k int, cur, prev, peak []float64, at float64, first bool
 		if c == 0 {
 			tol = r.s.Tol
 		}
-		small := cur[c] <= tol*peak[c]
+		small := cur[c] <= tol*peak[c] && !math.IsInf(cur[c], 1)
+		if math.IsInf(cur[c], 1) || math.IsNaN(cur[c]) {
+			s = math.Inf(1) // overflowed: growing without bound
+		}
 		gc := 0
 		if c > 0 {
 			a := k + (c-1)/4
