@@ -45,6 +45,8 @@ type Result struct {
 	p        target.Density
 	start    Start
 	settings Settings
+	// the main rule's Gaussian (its start): the guesses of the slices
+	centre, cov []float64
 }
 
 // Integrate integrates p, a density on the unconstrained scale, by the
@@ -151,6 +153,10 @@ func (r *rule) result(start Start, s Settings) (*Result, error) {
 		Order: append([]int(nil), r.perm...), p: r.p, start: start, settings: s,
 	}
 	res.Nodes.dim = d
+	res.centre = append([]float64(nil), start.Mode...)
+	if c, err := startCov(start, d); err == nil {
+		res.cov = c
+	}
 	s0 := lv.sum[0][0]
 	if !(s0 > 0) {
 		return nil, ErrNoMass
