@@ -55,7 +55,7 @@ func TestEstimateNotPessimistic(t *testing.T) {
 		{equicorrelated(2, 0.99), math.Log(2*math.Pi) + 0.5*math.Log(1-0.99*0.99)}, // d/2 log 2 pi + log det / 2
 		{equicorrelated(3, 0.95), 1.5*math.Log(2*math.Pi) + 0.5*(2*math.Log(0.05)+math.Log(2.9))},
 		{"param x in [0, 1]\n2*log(x) + 4*log(1-x)\n", math.Log(2.0 * 24 / 5040)}, // B(3, 5)
-		{"param x in [0, inf]\n2*log(x) - 2*x\n", math.Log(2.0 / 8)},               // Gamma(3)/2^3
+		{"param x in [0, inf]\n2*log(x) - 2*x\n", math.Log(2.0 / 8)},              // Gamma(3)/2^3
 	} {
 		res := compile(t, tc.src).integrate(t, Settings{})
 		err := math.Abs(res.LogZ - tc.logZ)

@@ -53,6 +53,9 @@ type Result struct {
 // nested sinh-trapezoid rule centred at start, and summarises it. It checks
 // ctx between lines of nodes and returns ctx's error when cancelled.
 func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (*Result, error) {
+	if err := checkStart(p, start, s); err != nil {
+		return nil, err
+	}
 	main := start
 	pilot := false
 	var pilotPoints, pilotDerivs int

@@ -65,27 +65,39 @@ type rule struct {
 
 const maxNewton = 20
 
-func newRule(ctx context.Context, p target.Density, st Start, s Settings) (*rule, error) {
+// checkStart reports what is wrong with a start and settings for p.
+func checkStart(p target.Density, st Start, s Settings) error {
 	d := p.Dim()
 	if d < 1 || d > 4 {
-		return nil, fmt.Errorf("%w: %d parameters (1 to 4 are supported)", ErrBadStart, d)
+		return fmt.Errorf("%w: %d parameters (1 to 4 are supported)", ErrBadStart, d)
 	}
 	if len(st.Mode) != d {
-		return nil, fmt.Errorf("%w: a mode of %d coordinates for %d parameters", ErrBadStart, len(st.Mode), d)
+		return fmt.Errorf("%w: a mode of %d coordinates for %d parameters", ErrBadStart, len(st.Mode), d)
 	}
 	for k, v := range st.Mode {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return nil, fmt.Errorf("%w: coordinate %d of the mode is %g", ErrBadStart, k+1, v)
+			return fmt.Errorf("%w: coordinate %d of the mode is %g", ErrBadStart, k+1, v)
 		}
 	}
-	s = s.withDefaults()
 	if s.Maps != nil && len(s.Maps) != d {
-		return nil, fmt.Errorf("%w: %d maps for %d parameters", ErrBadStart, len(s.Maps), d)
+		return fmt.Errorf("%w: %d maps for %d parameters", ErrBadStart, len(s.Maps), d)
 	}
-	cov, err := startCov(st, d)
-	if err != nil {
+	for k, m := range s.Maps {
+		if err := m.Check(); err != nil {
+			return fmt.Errorf("%w: parameter %d: %v", ErrBadStart, k+1, err)
+		}
+	}
+	_, err := startCov(st, d)
+	return err
+}
+
+func newRule(ctx context.Context, p target.Density, st Start, s Settings) (*rule, error) {
+	if err := checkStart(p, st, s); err != nil {
 		return nil, err
 	}
+	d := p.Dim()
+	s = s.withDefaults()
+	cov, _ := startCov(st, d)
 	perm := s.Order
 	if perm == nil {
 		perm = identityOrder(d)
