@@ -23,7 +23,7 @@ const contourPoints = 96
 // reports progress and checks for cancellation between the pieces of each
 // pair (the largest 2-D grid holds 2.25 million nodes).
 func (a *analysis) plots(res *Result) (*Plots, error) {
-	g := a.g
+	g := a.ref.grid
 	st := &g.Stats
 	d := a.d
 	type fitCurve struct {
