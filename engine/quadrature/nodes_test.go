@@ -62,3 +62,17 @@ func TestBadStart(t *testing.T) {
 		}
 	}
 }
+
+// TestMomentsOf: the moments of the identity map over the node set are the
+// rule's own moments (the same sums), and of x = e^z the original scale's.
+func TestMomentsOf(t *testing.T) {
+	pr := compile(t, "param x in [0, inf]\n2*log(x) - 2*x\n") // Gamma(3, 2)
+	res := pr.integrate(t, Settings{})
+	id := res.MomentsOf(func(z, y []float64) { copy(y, z) })
+	check(t, "mean", id.Mean[0], res.Unconstrained.Mean[0], 1e-10, -1)
+	check(t, "var", id.Cov[0], res.Unconstrained.Cov[0], 1e-10, -1)
+	ex := res.MomentsOf(func(z, y []float64) { y[0] = math.Exp(z[0]) })
+	check(t, "gamma mean", ex.Mean[0], 1.5, 1e-6, ex.MeanErr[0])                 // shape/rate
+	check(t, "gamma var", ex.Cov[0], 0.75, 1e-6, ex.CovErr[0])                   // shape/rate^2
+	check(t, "gamma kurtosis", ex.ExcessKurtosis[0], 2, 1e-5, ex.KurtosisErr[0]) // 6/shape
+}
