@@ -82,6 +82,9 @@ func (a *analysis) run() (*Result, error) {
 	if err := a.findModes(); err != nil {
 		return nil, err
 	}
+	if err := a.exactByQuadrature(); err != nil {
+		return nil, err
+	}
 	res := &Result{Params: a.names, Form: a.m.Form.String(), Scales: a.scales, Modes: a.modes.modes}
 	if err := a.fitAll(res); err != nil {
 		return nil, err

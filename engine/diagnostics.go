@@ -127,6 +127,23 @@ func (d *diagnostics) add(code, severity, format string, args ...any) {
 
 // sorted returns the diagnostics, errors first, then warnings, then
 // information, each in the order found.
+// drop removes the diagnostics of code (a verdict another stage
+// superseded).
+func (d *diagnostics) drop(code string) {
+	out := d.list[:0]
+	for _, g := range d.list {
+		if g.Code != code {
+			out = append(out, g)
+		}
+	}
+	d.list = out
+	for k := range d.seen {
+		if len(k) > len(code) && k[:len(code)+1] == code+"\x00" {
+			delete(d.seen, k)
+		}
+	}
+}
+
 func (d *diagnostics) sorted() []Diagnostic {
 	rank := map[string]int{SeverityError: 0, SeverityWarning: 1, SeverityInfo: 2}
 	out := append([]Diagnostic{}, d.list...)

@@ -6,6 +6,7 @@ import (
 	"slices"
 
 	"bellcheck/engine/grid"
+	"bellcheck/engine/quadrature"
 )
 
 // reference is what the reference stage hands on: the exact posterior on
@@ -53,6 +54,13 @@ type reference struct {
 	// that does not settle as the box widens; noVariance reports any.
 	varUnsettled []bool
 	noVariance   bool
+
+	// quad, when set, is the nested rule whose results replaced the
+	// grid's (stage_quadrature.go): its verdicts on the tails stand.
+	quad *quadrature.Result
+	// gridUnresolved keeps the grid's "unresolved" when quad replaced the
+	// exact results: the comparisons, on the grid, are still absent.
+	gridUnresolved bool
 }
 
 // findReference is the reference stage: it finds the box, evaluates the
@@ -470,6 +478,9 @@ func (a *analysis) checkTails() {
 // the density, or the density looks improper (more mass beyond the box
 // than in it, or mass that stays at a face however far it is widened).
 func (r *reference) logZAbsent() bool {
+	if r.quad != nil {
+		return r.quad.Improper
+	}
 	if r.unresolved || r.tailMass > 1 {
 		return true
 	}
@@ -485,6 +496,9 @@ func (r *reference) logZAbsent() bool {
 // than improperEdgeMass in the outer layer of a face, and every axis of a
 // density that is not integrable at a bound of its support.
 func (r *reference) improper(k int) bool {
+	if r.quad != nil {
+		return r.quad.Improper
+	}
 	if r.singularImproper {
 		return true
 	}

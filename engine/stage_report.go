@@ -74,7 +74,7 @@ func (a *analysis) fillFit(f *Fit, g fit.Gaussian, prec *mat.SymDense, c compare
 			f.KLpq = math.NaN()
 		}
 	}
-	if a.ref.unresolved {
+	if a.ref.unresolved || a.ref.gridUnresolved {
 		nan := math.NaN()
 		f.KLqp, f.KLpq, f.Hellinger, f.Coverage95 = nan, nan, nan, nan
 		for k := 0; k < d; k++ {

@@ -85,20 +85,34 @@ func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (
 	if progress != nil {
 		s.Progress = func(f float64) { progress(0.2 + 0.8*f) }
 	}
-	r, err := newRule(ctx, p, main, s)
-	if err != nil {
-		return nil, err
+	used, usedDerivs := pilotPoints, pilotDerivs
+	for {
+		r, err := newRule(ctx, p, main, s)
+		if err != nil {
+			return nil, err
+		}
+		r.pilot = pilot
+		if err := r.run(); err != nil {
+			return nil, err
+		}
+		used += r.points
+		usedDerivs += r.derivs
+		r.points, r.derivs = used, usedDerivs
+		res, err := r.result(main, s)
+		if err != nil {
+			return nil, err
+		}
+		// Refine while the estimate misses the target and the next rule
+		// (about 2^d times the points) fits the budget.
+		next := r.points << uint(p.Dim())
+		if res.Improper || !(res.LogZErr > s.target(p.Dim())) || next > s.withDefaults().RefineBudget {
+			if progress != nil {
+				progress(1)
+			}
+			return res, nil
+		}
+		s.Step = s.withDefaults().Step / 2
 	}
-	r.pilot = pilot
-	if err := r.run(); err != nil {
-		return nil, err
-	}
-	r.points += pilotPoints
-	r.derivs += pilotDerivs
-	if progress != nil {
-		progress(1)
-	}
-	return r.result(main, s)
 }
 
 // fromPilot returns the axis order and the start of the main rule from a

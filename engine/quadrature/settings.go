@@ -23,6 +23,14 @@ type Settings struct {
 	MaxT float64
 	// MaxPoints bounds the density evaluations; 0 means 4 << 20.
 	MaxPoints int
+	// Target is the error estimate of log Z below which the rule is not
+	// refined; 0 means 1e-9, 1e-8, 5e-6 and 5e-6 for 1 to 4 parameters
+	// (the estimate is 20 to 60 times pessimistic on smooth densities).
+	// While the estimate is above it, the step is halved, as long as the
+	// finer rule is expected to take at most RefineBudget points (0
+	// means 1 << 20).
+	Target       float64
+	RefineBudget int
 	// Maps give per parameter the original scale x(z) of the moments on
 	// the original scale; nil means the identity.
 	Maps []transform.Map
@@ -54,7 +62,17 @@ func (s Settings) withDefaults() Settings {
 	if s.MaxPoints <= 0 {
 		s.MaxPoints = 4 << 20
 	}
+	if s.RefineBudget <= 0 {
+		s.RefineBudget = 1 << 20
+	}
 	return s
+}
+
+func (s Settings) target(d int) float64 {
+	if s.Target > 0 {
+		return s.Target
+	}
+	return [...]float64{1e-9, 1e-9, 1e-8, 5e-6, 5e-6}[min(d, 4)]
 }
 
 // Start is where the rule is centred: the mode on the unconstrained scale
