@@ -47,6 +47,9 @@ type Result struct {
 	settings Settings
 	// the main rule's Gaussian (its start): the guesses of the slices
 	centre, cov []float64
+	// discErr is the discretisation part of LogZErr (what refining the
+	// step reduces; the truncation part it does not).
+	discErr float64
 }
 
 // Integrate integrates p, a density on the unconstrained scale, by the
@@ -86,7 +89,7 @@ func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (
 		s.Progress = func(f float64) { progress(0.2 + 0.8*f) }
 	}
 	used, usedDerivs := pilotPoints, pilotDerivs
-	for {
+	for halvings := 0; ; halvings++ {
 		r, err := newRule(ctx, p, main, s)
 		if err != nil {
 			return nil, err
@@ -102,10 +105,11 @@ func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (
 		if err != nil {
 			return nil, err
 		}
-		// Refine while the estimate misses the target and the next rule
-		// (about 2^d times the points) fits the budget.
+		// Refine while the discretisation estimate misses the target and
+		// the next rule (about 2^d times the points) fits the budget, at
+		// most three times.
 		next := r.points << uint(p.Dim())
-		if res.Improper || !(res.LogZErr > s.target(p.Dim())) || next > s.withDefaults().RefineBudget {
+		if res.Improper || !(res.discErr > s.target(p.Dim())) || next > s.withDefaults().RefineBudget || halvings >= maxHalvings {
 			if progress != nil {
 				progress(1)
 			}
@@ -185,11 +189,15 @@ func (r *rule) result(start Start, s Settings) (*Result, error) {
 		zErr := estimate(s0, lv.sum[1][0], lv.sum[2][0], s0)
 		res.LogZ = r.ref + r.ldL + math.Log(s0)
 		res.LogZErr = (zErr+lv.rem[0])/s0 + roundoff
+		res.discErr = zErr / s0
 	}
 	res.Unconstrained = r.moments(0, res.Improper)
 	res.Original = r.moments(1, res.Improper)
 	return res, nil
 }
+
+// maxHalvings bounds the refinements of the step.
+const maxHalvings = 3
 
 // roundoff is the floor of every relative error estimate.
 const roundoff = 1e-13
