@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"math"
 
+	"gonum.org/v1/gonum/mat"
+
 	"bellcheck/engine/fit"
 	"bellcheck/engine/grid"
 	"bellcheck/engine/quadrature"
@@ -53,34 +55,11 @@ func (a *analysis) exactByQuadrature() error {
 	if err != nil {
 		return nil
 	}
-	// The best mode, on the unconstrained scale, polished there for its
-	// curvature.
-	best := a.modes.fitModes[0].X
-	z0 := make([]float64, d)
-	for k := range z0 {
-		z0[k] = maps[k].FromOriginal(a.maps[k].ToOriginal(best[k]))
-		if math.IsNaN(z0[k]) || math.IsInf(z0[k], 0) {
-			return nil
-		}
+	start, ok, err := a.quadratureStart(p, maps)
+	if err != nil || !ok {
+		return err
 	}
-	ms, err := fit.FindModes(a.ctx, p, [][]float64{z0}, nil, nil)
-	if err != nil {
-		if ctxErr := a.ctx.Err(); ctxErr != nil {
-			return ctxErr
-		}
-		return nil
-	}
-	if len(ms) == 0 || !ms[0].PositiveDefinite {
-		return nil
-	}
-	nh := make([]float64, d*d)
-	for i := 0; i < d; i++ {
-		for j := 0; j < d; j++ {
-			nh[i*d+j] = -ms[0].Hess.At(i, j)
-		}
-	}
-	q, err := quadrature.Integrate(a.ctx, p, quadrature.Start{Mode: ms[0].X, NegHessian: nh},
-		quadrature.Settings{Maps: maps, Progress: a.tr.at})
+	q, err := quadrature.Integrate(a.ctx, p, start, quadrature.Settings{Maps: maps, Progress: a.tr.at})
 	if err != nil {
 		if ctxErr := a.ctx.Err(); ctxErr != nil {
 			return ctxErr
@@ -93,7 +72,126 @@ func (a *analysis) exactByQuadrature() error {
 	if !q.Improper && !(q.LogZErr < quadratureLogZErrMax) {
 		return nil
 	}
+	if q.NonFinite > 0 {
+		// log p is undefined somewhere on the line (a region the support
+		// does not declare): the density has an edge the rule does not
+		// see; the grid's end corrections handle it.
+		return nil
+	}
+	if a.ref.unresolved && !(a.ref.logZ <= q.LogZ+quadratureLogZErrMax) {
+		// The grid found more mass than the rule around the modes (a
+		// spike no mode shows): its verdict stands.
+		return nil
+	}
 	return a.ref.takeQuadrature(a, q, maps)
+}
+
+// quadratureStart returns the rule's start on the unconstrained scale:
+// the best mode with its curvature, or, where the mode search found
+// several, the Gaussian mixture of the modes (weighted by their masses)
+// summarised by its mean and covariance, which covers them all.
+func (a *analysis) quadratureStart(p *transform.Density, maps []transform.Map) (quadrature.Start, bool, error) {
+	d := a.d
+	type polished struct {
+		x    []float64
+		cov  []float64
+		mass float64
+	}
+	var found []polished
+	for i, fm := range a.modes.fitModes {
+		z0 := make([]float64, d)
+		for k := range z0 {
+			z0[k] = maps[k].FromOriginal(a.maps[k].ToOriginal(fm.X[k]))
+		}
+		ok := true
+		for _, v := range z0 {
+			ok = ok && !math.IsNaN(v) && !math.IsInf(v, 0)
+		}
+		if !ok {
+			continue
+		}
+		ms, err := fit.FindModes(a.ctx, p, [][]float64{z0}, nil, nil)
+		if err != nil {
+			if ctxErr := a.ctx.Err(); ctxErr != nil {
+				return quadrature.Start{}, false, ctxErr
+			}
+			continue
+		}
+		if len(ms) == 0 || !ms[0].PositiveDefinite {
+			continue
+		}
+		var ch mat.Cholesky
+		nh := mat.NewSymDense(d, nil)
+		for r := 0; r < d; r++ {
+			for c := 0; c < d; c++ {
+				nh.SetSym(r, c, -ms[0].Hess.At(r, c))
+			}
+		}
+		if !ch.Factorize(nh) {
+			continue
+		}
+		var inv mat.SymDense
+		if ch.InverseTo(&inv) != nil {
+			continue
+		}
+		cov := make([]float64, d*d)
+		for r := 0; r < d; r++ {
+			for c := 0; c < d; c++ {
+				cov[r*d+c] = inv.At(r, c)
+			}
+		}
+		mass := 1.0
+		if i < len(a.modes.modes) {
+			mass = a.modes.modes[i].Mass
+		}
+		found = append(found, polished{ms[0].X, cov, mass})
+	}
+	if len(found) == 0 {
+		return quadrature.Start{}, false, nil
+	}
+	if len(found) == 1 {
+		return quadrature.Start{Mode: found[0].x, Cov: nil, NegHessian: inverse(found[0].cov, d)}, true, nil
+	}
+	total := 0.0
+	for _, f := range found {
+		total += f.mass
+	}
+	mean := make([]float64, d)
+	for _, f := range found {
+		for k := range mean {
+			mean[k] += f.mass / total * f.x[k]
+		}
+	}
+	cov := make([]float64, d*d)
+	for _, f := range found {
+		w := f.mass / total
+		for r := 0; r < d; r++ {
+			for c := 0; c < d; c++ {
+				cov[r*d+c] += w * (f.cov[r*d+c] + (f.x[r]-mean[r])*(f.x[c]-mean[c]))
+			}
+		}
+	}
+	return quadrature.Start{Mode: mean, Cov: cov}, true, nil
+}
+
+// inverse returns the inverse of the symmetric positive definite a (d×d).
+func inverse(a []float64, d int) []float64 {
+	s := mat.NewSymDense(d, append([]float64(nil), a...))
+	var ch mat.Cholesky
+	if !ch.Factorize(s) {
+		return nil
+	}
+	var inv mat.SymDense
+	if ch.InverseTo(&inv) != nil {
+		return nil
+	}
+	out := make([]float64, d*d)
+	for r := 0; r < d; r++ {
+		for c := 0; c < d; c++ {
+			out[r*d+c] = inv.At(r, c)
+		}
+	}
+	return out
 }
 
 // takeQuadrature fills the reference's exact results from q.

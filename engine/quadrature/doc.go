@@ -36,7 +36,7 @@
 //
 // Infinite moments. An algebraic tail |u|^-a of the density gives a share
 // falling like e^-(a-1)t in t, and u^k multiplies it by e^kt. A moment
-// whose share does not fall at a rate of at least 0.5 per unit t at the end
+// whose share does not fall at a rate of at least 0.25 per unit t at the end
 // of a walk is infinite (NaN, with a flag); when the density's own share
 // does not fall, the density is improper.
 package quadrature

@@ -5,6 +5,7 @@ import (
 	"math"
 
 	"bellcheck/engine/target"
+	"bellcheck/engine/transform"
 )
 
 // Moments of the normalised density on one scale, in parameter order. A
@@ -50,6 +51,9 @@ type Result struct {
 	// discErr is the discretisation part of LogZErr (what refining the
 	// step reduces; the truncation part it does not).
 	discErr float64
+	// boundErr is the rounding of the original coordinate near a finite
+	// bound (see boundRounding), a relative error of every sum.
+	boundErr float64
 }
 
 // Integrate integrates p, a density on the unconstrained scale, by the
@@ -60,7 +64,7 @@ func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (
 		return nil, err
 	}
 	main := start
-	pilot := false
+	pilot := start.NegHessian == nil
 	var pilotPoints, pilotDerivs int
 	if s.Order == nil {
 		ps := s
@@ -74,6 +78,9 @@ func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (
 		if err != nil {
 			return nil, err
 		}
+		// A start given by a covariance (covering several modes, say) is
+		// not moved to the nearest mode on the outer axis.
+		pr.pilot = start.NegHessian == nil
 		if err := pr.run(); err != nil {
 			return nil, err
 		}
@@ -188,7 +195,9 @@ func (r *rule) result(start Start, s Settings) (*Result, error) {
 	} else {
 		zErr := estimate(s0, lv.sum[1][0], lv.sum[2][0], s0)
 		res.LogZ = r.ref + r.ldL + math.Log(s0)
-		res.LogZErr = (zErr+lv.rem[0])/s0 + roundoff
+		res.boundErr = r.boundRounding()
+		r.boundErr = res.boundErr
+		res.LogZErr = (zErr+lv.rem[0])/s0 + roundoff + res.boundErr
 		res.discErr = zErr / s0
 	}
 	res.Unconstrained = r.moments(0, res.Improper)
@@ -198,6 +207,51 @@ func (r *rule) result(start Start, s Settings) (*Result, error) {
 
 // maxHalvings bounds the refinements of the step.
 const maxHalvings = 3
+
+// boundRounding estimates the relative error of the sums that comes from
+// the model seeing x = x(z), a double: near a finite bound b the distance
+// x - b carries a rounding of about eps max(|x|, |b|), a relative error
+// that reaches log p through its power of (x - b) (taken as 1). It is the
+// posterior mean of eps max(|x|, |b|) / |x - b| over the nodes, at the
+// nearer bound of each parameter with a log or logit map.
+func (r *rule) boundRounding() float64 {
+	const eps = 0x1p-52
+	d := r.d
+	n := &r.nodes
+	top := math.Inf(-1)
+	for i := range n.logW {
+		top = math.Max(top, n.logW[i]+n.logP[i])
+	}
+	var num, den float64
+	for i := range n.logW {
+		w := math.Exp(n.logW[i] + n.logP[i] - top)
+		den += w
+		worst := 0.0
+		for a := 0; a < d; a++ {
+			mp := r.maps[a]
+			if mp.Kind == transform.Identity {
+				continue
+			}
+			x := mp.ToOriginal(n.z[i*d+r.perm[a]])
+			for _, b := range [2]float64{mp.Lo, mp.Hi} {
+				if math.IsInf(b, 0) {
+					continue
+				}
+				dist := math.Abs(x - b)
+				if dist == 0 {
+					worst = math.Max(worst, 1)
+					continue
+				}
+				worst = math.Max(worst, math.Min(1, eps*math.Max(math.Abs(x), math.Abs(b))/dist))
+			}
+		}
+		num += w * worst
+	}
+	if !(den > 0) {
+		return 0
+	}
+	return num / den
+}
 
 // roundoff is the floor of every relative error estimate.
 const roundoff = 1e-13
@@ -284,7 +338,7 @@ func (r *rule) moments(sc int, improper bool) Moments {
 		SkewnessInfinite: make([]bool, d), KurtosisInfinite: make([]bool, d),
 	}
 	s0 := lv.sum[0][0]
-	rem0 := lv.rem[0] / s0
+	rem0 := lv.rem[0]/s0 + r.boundErr
 	off := func(a int) float64 {
 		if sc == 1 {
 			return r.xm[a]

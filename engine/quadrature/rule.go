@@ -56,6 +56,7 @@ type rule struct {
 	ls                                               [3]lineSums
 
 	pilot     bool // the start is a pilot's mean and covariance: no Newton on the outer axis
+	boundErr  float64 // see boundRounding
 	nodes     Nodes
 	points    int
 	derivs    int

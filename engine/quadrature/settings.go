@@ -98,8 +98,8 @@ var (
 // Tail decay: a component whose share per unit of t falls more slowly than
 // e^(-minRate t) at the end of a walk is taken to have an infinite integral.
 // An algebraic tail |u|^-a of the density on the unconstrained scale gives
-// a share e^(-(a-1)t) in t, a power u^k multiplies it by e^(kt): the rates of
-// finite integrals are whole numbers or more in the usual families (Student
-// t, inverse gamma), so 0.5 separates them from the infinite ones (rate 0
-// or less).
-const minRate = 0.5
+// a share e^(-(a-1)t) in t, a power u^k multiplies it by e^(kt): in the
+// usual families (Student t with a whole or half number of dof, inverse
+// gamma) the rates of finite integrals are multiples of 1/2, so 0.25
+// separates them from the infinite ones (rate 0 or less).
+const minRate = 0.25

@@ -48,6 +48,16 @@ func (r *rule) endCheck(k int, cur, prev, peak []float64, at float64, first bool
 	d := r.d
 	for c := range cur {
 		if cur[c] <= 0 {
+			// The density vanished (zero, or undefined where the model
+			// loses precision) before its share was negligible: the tail
+			// beyond is unknown; count the last share as its size.
+			if !first && prev[c] > r.s.Tol*peak[c] {
+				gc := r.watchIndex(k, c)
+				lv.rem[gc] += prev[c]
+				if c == 0 {
+					remZ = prev[c]
+				}
+			}
 			continue
 		}
 		s := slope(c)
@@ -59,20 +69,7 @@ func (r *rule) endCheck(k int, cur, prev, peak []float64, at float64, first bool
 		if math.IsInf(cur[c], 1) || math.IsNaN(cur[c]) {
 			s = math.Inf(1) // overflowed: growing without bound
 		}
-		gc := 0
-		if c > 0 {
-			a := k + (c-1)/4
-			switch (c - 1) % 4 {
-			case 0:
-				gc = r.lay.wY2(a)
-			case 1:
-				gc = r.lay.wY4(a)
-			case 2:
-				gc = r.lay.wX2(a)
-			default:
-				gc = r.lay.wX4(a)
-			}
-		}
+		gc := r.watchIndex(k, c)
 		if s < -minRate {
 			q := math.Exp(s * r.h)
 			rem := cur[c] * q / (1 - q)
@@ -126,6 +123,24 @@ func (r *rule) endCheck(k int, cur, prev, peak []float64, at float64, first bool
 		}
 	}
 	return true, remZ
+}
+
+// watchIndex returns the global watch index of local component c of a
+// walk along axis k.
+func (r *rule) watchIndex(k, c int) int {
+	if c == 0 {
+		return 0
+	}
+	a := k + (c-1)/4
+	switch (c - 1) % 4 {
+	case 0:
+		return r.lay.wY2(a)
+	case 1:
+		return r.lay.wY4(a)
+	case 2:
+		return r.lay.wX2(a)
+	}
+	return r.lay.wX4(a)
 }
 
 // flagIndex returns the index of the flag "the moment of order m+1 of axis
