@@ -226,7 +226,12 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 	// one (the same log or logit), the cross terms from the node set.
 	fitting := q.MomentsOf(func(z, y []float64) {
 		for k := range z {
-			y[k] = a.maps[k].FromOriginal(maps[k].ToOriginal(z[k]))
+			// The fitting scale is the original one or the same log or
+			// logit map (no round trip: x rounds to a bound far out).
+			y[k] = z[k]
+			if a.maps[k].Kind == transform.Identity {
+				y[k] = maps[k].ToOriginal(z[k])
+			}
 		}
 	})
 	for k := 0; k < d; k++ {

@@ -55,7 +55,7 @@ type rule struct {
 	cols                                             [][]float64
 	ls                                               [3]lineSums
 
-	pilot     bool // the start is a pilot's mean and covariance: no Newton on the outer axis
+	pilot     bool    // the start is a pilot's mean and covariance: no Newton on the outer axis
 	boundErr  float64 // see boundRounding
 	nodes     Nodes
 	points    int
