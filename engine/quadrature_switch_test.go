@@ -13,3 +13,12 @@ func TestMain(m *testing.M) {
 	}
 	os.Exit(m.Run())
 }
+
+// TestQuadratureReferences runs the cases of testdata/reference-quadrature,
+// which the grid gets wrong and the nested rule right, with the switch on.
+func TestQuadratureReferences(t *testing.T) {
+	old := useQuadrature
+	useQuadrature = true
+	defer func() { useQuadrature = old }()
+	runReferences(t, "../testdata/reference-quadrature")
+}

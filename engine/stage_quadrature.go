@@ -72,17 +72,18 @@ func (a *analysis) exactByQuadrature() error {
 	if !q.Improper && !(q.LogZErr < quadratureLogZErrMax) {
 		return nil
 	}
-	if q.NonFinite > 0 {
-		// log p is undefined somewhere on the line (a region the support
-		// does not declare): the density has an edge the rule does not
-		// see; the grid's end corrections handle it.
+	if q.NonFiniteNearMass > 0 {
+		// log p is undefined next to the mass (a region the support does
+		// not declare): the density has an edge the rule does not
+		// resolve; the grid's end corrections handle it.
 		return nil
 	}
-	if a.ref.unresolved && !(a.ref.logZ <= q.LogZ+quadratureLogZErrMax) {
-		// The grid found more mass than the rule around the modes (a
-		// spike no mode shows): its verdict stands.
-		return nil
-	}
+	// A grid that cannot resolve the density has no log Z to check the
+	// rule against (a narrow neck makes it too large); the mode search
+	// starts from the grid's peaks, so a spike the grid sees is among the
+	// modes the rule is centred on, and the comparison stage's ELBO check
+	// still marks the results unresolved when a fit finds mass the rule
+	// missed.
 	return a.ref.takeQuadrature(a, q, maps)
 }
 

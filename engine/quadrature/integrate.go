@@ -40,6 +40,11 @@ type Result struct {
 	// the evaluations with gradient and Hessian, NonFinite the nodes where
 	// log p was NaN or +Inf (left out).
 	Points, Derivs, NonFinite int
+	// NonFiniteNearMass counts the undefined nodes next to a node that
+	// holds a share of its line's mass above 1e-8: an edge of the density
+	// (a region where the model is undefined) that the rule does not
+	// resolve. Undefined nodes far in the tails (an underflow) are not.
+	NonFiniteNearMass int
 	// Order is the nested rule's axis order, outermost first.
 	Order []int
 
@@ -177,7 +182,7 @@ func (r *rule) result(start Start, s Settings) (*Result, error) {
 	d := r.d
 	lv := &r.lv[0]
 	res := &Result{
-		Dim: d, Nodes: &r.nodes, Points: r.points, Derivs: r.derivs, NonFinite: r.nonFinite,
+		Dim: d, Nodes: &r.nodes, Points: r.points, Derivs: r.derivs, NonFinite: r.nonFinite, NonFiniteNearMass: r.nearNaN,
 		Order: append([]int(nil), r.perm...), p: r.p, start: start, settings: s,
 	}
 	res.Nodes.dim = d

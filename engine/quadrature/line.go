@@ -66,6 +66,24 @@ func (r *rule) line() error {
 			}
 		}
 	}
+	// Undefined nodes next to a share of the line's mass: an edge of the
+	// density that the rule does not resolve.
+	top := 0.0
+	for j := jl; j <= jr; j++ {
+		top = math.Max(top, r.lineG[j+off])
+	}
+	for j := jl; j <= jr; j++ {
+		if !r.lineBad[j+off] {
+			continue
+		}
+		r.lineBad[j+off] = false
+		for _, nb := range [2]int{j - 1, j + 1} {
+			if nb >= jl && nb <= jr && r.lineG[nb+off] > 1e-8*top {
+				r.nearNaN++
+				break
+			}
+		}
+	}
 	// The sums of the three rules, and the nodes.
 	for t := range r.ls {
 		r.ls[t].reset()
@@ -139,10 +157,14 @@ func (r *rule) evalRange(a, b int, base, lkk float64) error {
 		case math.IsNaN(lp) || math.IsInf(lp, 1):
 			r.nonFinite++
 			out[i] = math.Inf(-1)
+			r.lineBad[a+i+off] = true
 		case !math.IsInf(lp, -1):
 			g = math.Exp(lp-r.ref) * r.h * lv.jac(t)
 		}
 		r.lineG[a+i+off] = g
+		if g != 0 {
+			r.lineBad[a+i+off] = false
+		}
 	}
 	return nil
 }

@@ -52,6 +52,7 @@ type rule struct {
 	// scratch
 	ut, v, z, gz, hz, gu, sub, subC, col, step, y, x []float64
 	lineT, lineLogP, lineG                           []float64
+	lineBad                                          []bool
 	cols                                             [][]float64
 	ls                                               [3]lineSums
 
@@ -61,6 +62,7 @@ type rule struct {
 	points    int
 	derivs    int
 	nonFinite int
+	nearNaN   int // undefined nodes next to a node holding mass
 	done0     int
 }
 
@@ -155,6 +157,7 @@ func newRule(ctx context.Context, p target.Density, st Start, s Settings) (*rule
 	r.lineT = make([]float64, n)
 	r.lineLogP = make([]float64, n)
 	r.lineG = make([]float64, n)
+	r.lineBad = make([]bool, n)
 	r.cols = make([][]float64, d)
 	for k := range r.cols {
 		r.cols[k] = make([]float64, n)
