@@ -65,6 +65,9 @@ import (
 //	                                       holds more than half the mass (a spike, or a peak or a funnel's
 //	                                       neck narrower than the spacing); log Z, the exact moments and
 //	                                       quantiles, and the fits' comparisons are absent
+//	starts_disagree        warning         (with the nested rule) starts spread over a wide region found a mode
+//	                                       higher than the mode search's best: the search's best point is not
+//	                                       the global optimum; the exact results cover both
 const (
 	CodeSeveralModes        = "several_modes"
 	CodeEdgeMass            = "edge_mass"
@@ -89,6 +92,7 @@ const (
 	CodeInfiniteAtBound     = "infinite_at_bound"
 	CodeOverflow            = "overflow"
 	CodeLostPrecision       = "lost_precision"
+	CodeStartsDisagree      = "starts_disagree"
 )
 
 // Thresholds of the diagnostics.

@@ -93,62 +93,26 @@ func (a *analysis) exactByQuadrature() error {
 // summarised by its mean and covariance, which covers them all.
 func (a *analysis) quadratureStart(p *transform.Density, maps []transform.Map) (quadrature.Start, bool, error) {
 	d := a.d
-	type polished struct {
-		x    []float64
-		cov  []float64
-		mass float64
-	}
 	var found []polished
-	for i, fm := range a.modes.fitModes {
+	for _, fm := range a.modes.fitModes {
 		z0 := make([]float64, d)
 		for k := range z0 {
 			z0[k] = maps[k].FromOriginal(a.maps[k].ToOriginal(fm.X[k]))
 		}
-		ok := true
-		for _, v := range z0 {
-			ok = ok && !math.IsNaN(v) && !math.IsInf(v, 0)
-		}
-		if !ok {
-			continue
-		}
-		ms, err := fit.FindModes(a.ctx, p, [][]float64{z0}, nil, nil)
+		m, ok, err := a.polish(p, z0)
 		if err != nil {
-			if ctxErr := a.ctx.Err(); ctxErr != nil {
-				return quadrature.Start{}, false, ctxErr
-			}
-			continue
+			return quadrature.Start{}, false, err
 		}
-		if len(ms) == 0 || !ms[0].PositiveDefinite {
-			continue
+		if ok && !seen(found, m) {
+			found = append(found, m)
 		}
-		var ch mat.Cholesky
-		nh := mat.NewSymDense(d, nil)
-		for r := 0; r < d; r++ {
-			for c := 0; c < d; c++ {
-				nh.SetSym(r, c, -ms[0].Hess.At(r, c))
-			}
-		}
-		if !ch.Factorize(nh) {
-			continue
-		}
-		var inv mat.SymDense
-		if ch.InverseTo(&inv) != nil {
-			continue
-		}
-		cov := make([]float64, d*d)
-		for r := 0; r < d; r++ {
-			for c := 0; c < d; c++ {
-				cov[r*d+c] = inv.At(r, c)
-			}
-		}
-		mass := 1.0
-		if i < len(a.modes.modes) {
-			mass = a.modes.modes[i].Mass
-		}
-		found = append(found, polished{ms[0].X, cov, mass})
 	}
 	if len(found) == 0 {
 		return quadrature.Start{}, false, nil
+	}
+	found, err := a.wideStarts(p, found)
+	if err != nil {
+		return quadrature.Start{}, false, err
 	}
 	if len(found) == 1 {
 		return quadrature.Start{Mode: found[0].x, Cov: nil, NegHessian: inverse(found[0].cov, d)}, true, nil
@@ -173,6 +137,141 @@ func (a *analysis) quadratureStart(p *transform.Density, maps []transform.Map) (
 		}
 	}
 	return quadrature.Start{Mode: mean, Cov: cov}, true, nil
+}
+
+// polished is a mode on the unconstrained scale: the point, log p there,
+// the inverse of the negative Hessian and the Laplace estimate of its mass
+// (up to a common factor).
+type polished struct {
+	x    []float64
+	logP float64
+	cov  []float64
+	mass float64
+}
+
+// polish runs the Newton search from z0 on the unconstrained scale; ok is
+// false where it finds no mode with a positive definite curvature.
+func (a *analysis) polish(p *transform.Density, z0 []float64) (polished, bool, error) {
+	d := a.d
+	for _, v := range z0 {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return polished{}, false, nil
+		}
+	}
+	ms, err := fit.FindModes(a.ctx, p, [][]float64{z0}, nil, nil)
+	if err != nil {
+		if ctxErr := a.ctx.Err(); ctxErr != nil {
+			return polished{}, false, ctxErr
+		}
+		return polished{}, false, nil
+	}
+	if len(ms) == 0 || !ms[0].PositiveDefinite || !ms[0].Converged {
+		return polished{}, false, nil
+	}
+	nh := make([]float64, d*d)
+	for r := 0; r < d; r++ {
+		for c := 0; c < d; c++ {
+			nh[r*d+c] = -ms[0].Hess.At(r, c)
+		}
+	}
+	cov := inverse(nh, d)
+	if cov == nil {
+		return polished{}, false, nil
+	}
+	var ch mat.Cholesky
+	if !ch.Factorize(mat.NewSymDense(d, append([]float64(nil), cov...))) {
+		return polished{}, false, nil
+	}
+	// Laplace: p(mode) (2 pi)^(d/2) det(cov)^(1/2); the constant cancels.
+	logMass := ms[0].LogDensity + ch.LogDet()/2
+	return polished{x: ms[0].X, logP: ms[0].LogDensity, cov: cov, mass: logMass}, true, nil
+}
+
+// seen reports whether m is one of found: within 1e-3 of its sds.
+func seen(found []polished, m polished) bool {
+	d := len(m.x)
+	for _, f := range found {
+		same := true
+		for k := 0; k < d; k++ {
+			if math.Abs(f.x[k]-m.x[k]) > 1e-3*math.Sqrt(f.cov[k*d+k]) {
+				same = false
+			}
+		}
+		if same {
+			return true
+		}
+	}
+	return false
+}
+
+// wideStarts polishes space-filling starts (a Halton sequence) over a wide
+// box on the unconstrained scale, ten sds of the best mode on each side,
+// besides the grid's peaks: a mode they find that is higher than the
+// search's best by more than rounding is reported (the search's best point
+// was not the global optimum), and every new mode joins the rule's start.
+func (a *analysis) wideStarts(p *transform.Density, found []polished) ([]polished, error) {
+	d := a.d
+	best := found[0]
+	for _, f := range found {
+		if f.logP > best.logP {
+			best = f
+		}
+	}
+	bestBefore := best
+	n := 12 * d
+	primes := [4]float64{2, 3, 5, 7}
+	z := make([]float64, d)
+	for i := 1; i <= n; i++ {
+		for k := 0; k < d; k++ {
+			u := halton(i, primes[k])
+			half := 10 * math.Max(math.Sqrt(best.cov[k*d+k]), 0.3)
+			z[k] = best.x[k] + (2*u-1)*half
+		}
+		m, ok, err := a.polish(p, z)
+		if err != nil {
+			return nil, err
+		}
+		if ok && !seen(found, m) {
+			found = append(found, m)
+		}
+	}
+	for _, f := range found {
+		if f.logP > best.logP {
+			best = f
+		}
+	}
+	if best.logP > bestBefore.logP+1e-9*(1+math.Abs(bestBefore.logP)) {
+		x := make([]float64, d)
+		for k := range x {
+			x[k] = a.maps[k].FromOriginal(p.Maps()[k].ToOriginal(best.x[k]))
+		}
+		a.diag.add(CodeStartsDisagree, SeverityWarning,
+			"Starts spread over a wide region found a higher mode, at %s (log p %.6g against %.6g at the mode search's best): the search's best point is not the highest; the exact results cover both.",
+			a.pointString(x), best.logP, bestBefore.logP)
+	}
+	// Masses relative to the largest (Laplace estimates).
+	top := math.Inf(-1)
+	for _, f := range found {
+		top = math.Max(top, f.mass)
+	}
+	out := found[:0]
+	for _, f := range found {
+		f.mass = math.Exp(f.mass - top)
+		if f.mass > 1e-6 {
+			out = append(out, f)
+		}
+	}
+	return out, nil
+}
+
+// halton returns the i-th element of the van der Corput sequence in base b.
+func halton(i int, b float64) float64 {
+	f, r := 1.0, 0.0
+	for x := float64(i); x > 0; x = math.Floor(x / b) {
+		f /= b
+		r += f * math.Mod(x, b)
+	}
+	return r
 }
 
 // inverse returns the inverse of the symmetric positive definite a (d×d).
