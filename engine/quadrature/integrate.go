@@ -70,7 +70,7 @@ func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (
 	}
 	main := start
 	pilot := start.NegHessian == nil
-	var pilotPoints, pilotDerivs int
+	var pilotPoints, pilotDerivs, pilotNodes int
 	if s.Order == nil {
 		ps := s
 		ps.Order = ScaleOrder(p, start)
@@ -89,7 +89,7 @@ func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (
 		if err := pr.run(); err != nil {
 			return nil, err
 		}
-		pilotPoints, pilotDerivs = pr.points, pr.derivs
+		pilotPoints, pilotDerivs, pilotNodes = pr.points, pr.derivs, pr.nodes.Len()
 		if res, err := pr.result(start, ps); err == nil {
 			s.Order, main, pilot = fromPilot(res, start, ps.Order)
 		} else {
@@ -101,11 +101,14 @@ func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (
 		s.Progress = func(f float64) { progress(0.2 + 0.8*f) }
 	}
 	used, usedDerivs := pilotPoints, pilotDerivs
+	// The rule at step h has about 2^d times the nodes of the rule at 2h.
+	expect := pilotNodes << uint(p.Dim()) * 5 / 4
 	for halvings := 0; ; halvings++ {
 		r, err := newRule(ctx, p, main, s)
 		if err != nil {
 			return nil, err
 		}
+		r.nodes.reserve(min(expect, s.withDefaults().MaxPoints), p.Dim())
 		r.pilot = pilot
 		if err := r.run(); err != nil {
 			return nil, err
@@ -121,6 +124,7 @@ func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (
 		// the next rule (about 2^d times the points) fits the budget, at
 		// most three times.
 		next := r.points << uint(p.Dim())
+		expect = r.nodes.Len() << uint(p.Dim()) * 5 / 4
 		if res.Improper || !(res.discErr > s.target(p.Dim())) || next > s.withDefaults().RefineBudget || halvings >= maxHalvings {
 			if progress != nil {
 				progress(1)

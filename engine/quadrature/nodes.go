@@ -47,8 +47,21 @@ func (n *Nodes) LogP(i int) float64 { return n.logP[i] }
 // weight there is 2^Dim times LogWeight's).
 func (n *Nodes) Coarse(i int) bool { return n.tier[i] >= 1 }
 
+// reserve makes room for about m nodes of dimension d.
+func (n *Nodes) reserve(m, d int) {
+	if m <= cap(n.logW) {
+		return
+	}
+	n.z = make([]float64, 0, m*d)
+	n.logW = make([]float64, 0, m)
+	n.logP = make([]float64, 0, m)
+	n.tier = make([]uint8, 0, m)
+}
+
 func (n *Nodes) add(z []float64, logW, logP float64, tier int) {
-	n.z = append(n.z, z...)
+	for _, v := range z { // not append(n.z, z...): a memmove call per node
+		n.z = append(n.z, v)
+	}
 	n.logW = append(n.logW, logW)
 	n.logP = append(n.logP, logP)
 	n.tier = append(n.tier, uint8(tier))
