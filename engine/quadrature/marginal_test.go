@@ -5,6 +5,7 @@ import (
 	"math"
 	"testing"
 
+	"gonum.org/v1/gonum/integrate/quad"
 	"gonum.org/v1/gonum/stat/distuv"
 )
 
@@ -89,5 +90,30 @@ func TestLevels(t *testing.T) {
 	for i, f := range fr {
 		want := (1 - f) / (2 * math.Pi)
 		check(t, "level", lv[i], want, 2e-3*want+1e-5, -1)
+	}
+}
+
+// TestFunnelMarginal: the marginal density of x1 in the 3-D funnel (v ~
+// N(0, 3^2), x1, x2 | v ~ N(0, e^v)) is the integral over v of N(v; 0, 9)
+// N(x1; 0, e^v), here by gonum's Gauss-Legendre rule of 2000 nodes on v in
+// [-40, 40] (an independent 1-D quadrature); each plot point is a 2-D
+// nested rule over (v, x2).
+func TestFunnelMarginal(t *testing.T) {
+	pr := compile(t, "param v\nparam x1\nparam x2\nld_normal(v, 0, 3) + ld_normal(x1, 0, exp(v/2)) + ld_normal(x2, 0, exp(v/2))\n")
+	res := pr.integrate(t, Settings{})
+	xs := []float64{0.05, 0.5, 2, 10}
+	got, err := res.Marginal(context.Background(), 1, xs)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var leg quad.Legendre
+	vs, ws := make([]float64, 2000), make([]float64, 2000)
+	leg.FixedLocations(vs, ws, -40, 40)
+	for i, x := range xs {
+		want := 0.0
+		for j, v := range vs {
+			want += ws[j] * distuv.Normal{Mu: 0, Sigma: 3}.Prob(v) * distuv.Normal{Mu: 0, Sigma: math.Exp(v / 2)}.Prob(x)
+		}
+		check(t, "funnel marginal", got[i], want, 1e-3*want, -1) // plot accuracy: the slices use step 2h
 	}
 }
