@@ -16,9 +16,12 @@ import (
 // useQuadrature switches the exact results (log Z, the moments, quantiles,
 // skewness and kurtosis on both scales, the variance and improper
 // verdicts) from the grid to the nested rule of engine/quadrature, which
-// integrates on the unconstrained scale around the best mode. It is off
-// while the wiring is incomplete: the mode search still starts from the
-// grid's peaks, and the comparison and the plots still use the grid.
+// integrates on the unconstrained scale around the modes (those of the
+// mode search, which starts from the grid's peaks, and those that
+// space-filling starts find). It is off while the wiring is incomplete:
+// the reported modes, the comparison and the plots still come from the
+// grid, and six cases of the pathological catalogue expect the grid's
+// behaviour (see DEVELOPERS.md).
 var useQuadrature = false
 
 // quadratureLogZErrMax is the error estimate of log Z above which the
