@@ -69,3 +69,22 @@ func TestWideStarts(t *testing.T) {
 		t.Errorf("no %s diagnostic: %v", CodeStartsDisagree, a.diag.sorted())
 	}
 }
+
+// TestQuadratureImproper: with the switch on, a density whose integral
+// diverges (1/sqrt(1 + x^2) decays like 1/|x|) has no log Z, and says why.
+func TestQuadratureImproper(t *testing.T) {
+	old := useQuadrature
+	useQuadrature = true
+	defer func() { useQuadrature = old }()
+	res := analyseSource(t, "param x\n-0.5*log(1 + x^2)\n", Options{})
+	if !math.IsNaN(res.Exact.LogZ) {
+		t.Errorf("log Z = %g, want absent", res.Exact.LogZ)
+	}
+	found := false
+	for _, d := range res.Diagnostics {
+		found = found || d.Code == CodeImproper
+	}
+	if !found {
+		t.Errorf("no improper diagnostic: %v", res.Diagnostics)
+	}
+}

@@ -316,6 +316,9 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 	r.tailMass = 0
 	r.logZ, r.logZErr = q.LogZ, q.LogZErr
 	if q.Improper {
+		a.diag.drop(CodeImproper)
+		a.diag.add(CodeImproper, SeverityError,
+			"The density does not fall fast enough to be integrable: along some direction its mass per step of the rule's coordinates does not decay, so log Z and the exact moments are not reported.")
 		r.logZ, r.logZErr = math.NaN(), math.NaN()
 		r.varUnsettled = make([]bool, d)
 		for k := range r.varUnsettled {
