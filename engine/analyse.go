@@ -31,14 +31,17 @@ var (
 // highest mode, the reverse-KL Gaussian (started from the Laplace fit, or
 // the grid's moments where there is none) and its mean-field variant, and
 // the forward-KL Gaussian (the grid's moments; stage_fits.go); compare each
-// with the grid (compare.Compare; stage_compare.go); assemble the Result
+// with the grid (compare.Compare; stage_compare.go); settle which exact
+// moments exist and polish the mode on the original scale
+// (stage_exact.go); assemble the Result from the availability record
 // (stage_report.go) with the diagnostics of the grid
 // (stage_diagnostics.go); and draw the plots when opts.Plots is set
 // (plots.go).
 //
-// Scales: the fits, Result.Modes and Result.Grid are on the fitting scale;
-// Result.Exact and Fit.Interval95 and the plots on the original scale (the
-// grid's nodes weighted by x(z), and the pushforward of each fit).
+// Scales: the stages work on the fitting scale; every number of the Result
+// is on the original scale (the grid's nodes weighted by x(z), each fit's
+// pushforward through the maps, the modes' and the box's x(z)), and the
+// fitting scale's values sit under the fields named fitting_scale.
 func Analyse(ctx context.Context, m *model.Model, opts Options, progress ProgressFunc) (*Result, error) {
 	a := &analysis{ctx: ctx, m: m, opts: opts, tr: newTracker(progress)}
 	res, err := a.run()
@@ -56,6 +59,9 @@ type analysis struct {
 	opts Options
 	tr   *tracker
 	diag diagnostics
+	// avail records what the Result leaves out and why: the stages write
+	// it, the report reads it (availability.go).
+	avail availability
 
 	// problem is the model compiled and wrapped on the fitting scale
 	// (stage_setup.go).
@@ -68,6 +74,8 @@ type analysis struct {
 	// comparisons with the reference, in the same order (stage_compare.go).
 	fits []fitted
 	cmp  []compare.Result
+	// mode is the exact mode on the original scale (stage_exact.go).
+	mode []float64
 }
 
 // run runs the stages in order.
@@ -82,17 +90,19 @@ func (a *analysis) run() (*Result, error) {
 	if err := a.findModes(); err != nil {
 		return nil, err
 	}
-	if err := a.exactByQuadrature(); err != nil {
-		return nil, err
+	if useQuadrature {
+		if err := a.exactByQuadrature(); err != nil {
+			return nil, err
+		}
 	}
-	res := &Result{Params: a.names, Form: a.m.Form.String(), Scales: a.scales, Modes: a.modes.modes}
-	if err := a.fitAll(res); err != nil {
+	if err := a.fitAll(); err != nil {
 		return nil, err
 	}
 	if err := a.compareFits(); err != nil {
 		return nil, err
 	}
-	a.report(res)
+	a.settleExact()
+	res := a.report()
 	a.gridDiagnostics()
 	if a.opts.Plots {
 		a.tr.enter(stagePlots)

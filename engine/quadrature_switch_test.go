@@ -41,7 +41,7 @@ func TestWideStarts(t *testing.T) {
 	if err := a.setup(); err != nil {
 		t.Fatal(err)
 	}
-	maps := []transform.Map{{Kind: transform.Identity, Lo: math.Inf(-1), Hi: math.Inf(1)}}
+	maps := []transform.Map{{Scale: transform.Identity, Lo: math.Inf(-1), Hi: math.Inf(1)}}
 	p, err := transform.Wrap(a.ev, maps)
 	if err != nil {
 		t.Fatal(err)

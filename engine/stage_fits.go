@@ -3,55 +3,111 @@ package engine
 import (
 	"errors"
 	"math"
+	"strings"
 
 	"gonum.org/v1/gonum/mat"
 
 	"bellcheck/engine/fit"
+	"bellcheck/engine/gauss"
 )
 
 // fitted is one Gaussian fit that exists, as the fits stage hands it on:
-// its name, the Gaussian on the fitting scale, the curvature it uses (nil
-// for the forward-KL fit) and its entry in the Result.
+// its method, the Gaussian on the fitting scale, the curvature it uses
+// (nil for the forward-KL fit), the run that made it (run's moments and
+// comparison are filled by the report), its prepared form q (set once the
+// fits stage has checked it) and its moments on the original scale (the
+// report stage's pushforward).
 type fitted struct {
-	name string
-	g    fit.Gaussian
-	prec *mat.SymDense
-	out  **Fit
+	method Method
+	g      gauss.Gaussian
+	prec   *mat.SymDense
+	run    Fit
+	q      *gauss.Prepared
+	orig   pushed
 }
 
 // fitAll is the fits stage: the Laplace fit at the highest mode, the
 // reverse-KL fit and its mean-field variant, and the forward-KL fit (the
 // reference's moments).
-func (a *analysis) fitAll(res *Result) error {
-	lap := a.fitLaplace(res)
-	rev, mfit, infiniteKL, err := a.fitReverse(res, lap)
+func (a *analysis) fitAll() error {
+	lap := a.fitLaplace()
+	rev, mfit, infiniteKL, err := a.fitReverse(lap)
 	if err != nil {
 		return err
 	}
 	a.checkELBO(rev, mfit)
-	a.fitForward(res)
+	a.fitForward()
 	a.boundedKL(infiniteKL)
+	a.dropDegenerate()
 	return nil
+}
+
+// dropDegenerate prepares each fit's Gaussian (gauss.Prepare) and leaves
+// out a fit whose covariance is degenerate beyond its scales (a correlation
+// matrix that cannot be inverted): the comparison cannot use it, and the
+// other fits still stand.
+func (a *analysis) dropDegenerate() {
+	kept := a.fits[:0]
+	for _, f := range a.fits {
+		q, err := gauss.Prepare(f.g)
+		if err != nil {
+			a.avail.drop(f.method.quantity(), CodeFitFailed)
+			why := strings.TrimPrefix(err.Error(), gauss.ErrBad.Error()+": ")
+			a.diag.add(CodeFitFailed, SeverityError, "No %s fit: its covariance is degenerate (%s).", f.method.term(), why)
+			continue
+		}
+		f.q = q
+		kept = append(kept, f)
+	}
+	a.fits = kept
+}
+
+// checkELBO compares the ELBO of each converged reverse-KL fit with the
+// grid's log Z: the ELBO is a lower bound on log Z for every Gaussian
+// (Jensen's inequality), so an ELBO above log Z by more than the grid's
+// error estimate means that the grid missed mass the fit found (a peak
+// narrower than the grid's spacing, between its nodes), or that the fit's
+// cubature erred. Either way the grid's results cannot stand: they are
+// recorded as absent for want of resolution, and the forward-KL fit, made
+// from them, is not made.
+func (a *analysis) checkELBO(fits ...*fit.VariationalFit) {
+	if !a.avail.resolved() && a.ref.quad == nil {
+		// (With the nested rule's results the check still applies: the
+		// grid's lack of resolution left only the comparisons out.)
+		return
+	}
+	lz := a.ref.logZ
+	tol := 1e-6*(1+math.Abs(lz)) + 3*a.ref.logZErr
+	for _, vf := range fits {
+		if vf == nil || !vf.Converged || !(vf.ELBO > lz+tol) {
+			continue
+		}
+		a.avail.dropUnresolved()
+		a.diag.add(CodeUnresolved, SeverityError,
+			"A reverse-KL fit's ELBO, a lower bound on log Z, exceeds the grid's log Z by %.3g: the grid has missed part of the mass (a peak narrower than its spacing, near %s) or the fit's cubature erred, so log Z, the exact moments and the fits' comparisons with them are not reported.",
+			vf.ELBO-lz, a.pointString(vf.Mean))
+		return
+	}
 }
 
 // fitLaplace fits the Laplace approximation at the highest mode; nil where
 // there is none, with a diagnostic saying why.
-func (a *analysis) fitLaplace(res *Result) *fit.LaplaceFit {
+func (a *analysis) fitLaplace() *fit.LaplaceFit {
 	a.tr.enter(stageLaplace)
 	if len(a.modes.fitModes) == 0 {
+		a.avail.drop(Laplace.quantity(), CodeNoMode)
 		return nil
 	}
 	m := a.modes.fitModes[0]
 	lf, err := fit.Laplace(m)
 	switch {
 	case err == nil:
-		f := &Fit{Iterations: m.Iterations, Converged: m.Converged, Residual: m.GradNorm}
 		lz := lf.LogZ
-		f.LogZ = &lz
-		res.Fits.Laplace = f
-		a.fits = append(a.fits, fitted{"laplace", lf.Gaussian, lf.Precision, &res.Fits.Laplace})
+		run := Fit{LogZ: &lz, Iterations: m.Iterations, Converged: m.Converged, Residual: m.GradNorm}
+		a.fits = append(a.fits, fitted{method: Laplace, g: lf.Gaussian, prec: lf.Precision, run: run})
 		return &lf
 	case errors.Is(err, fit.ErrOnBound):
+		a.avail.drop(Laplace.quantity(), CodeModeOnBound)
 		a.diag.add(CodeModeOnBound, SeverityWarning,
 			"No Laplace fit: the highest mode, at %s, lies on a bound of the support, where the curvature does not describe the density.", a.pointString(m.X))
 	case errors.Is(err, fit.ErrNotPositiveDefinite):
@@ -59,9 +115,11 @@ func (a *analysis) fitLaplace(res *Result) *fit.LaplaceFit {
 		if m.Flat {
 			why = "the curvature there is numerically zero (the density is flatter than a Gaussian at its peak)"
 		}
+		a.avail.drop(Laplace.quantity(), CodeNotPositiveDefinite)
 		a.diag.add(CodeNotPositiveDefinite, SeverityWarning,
 			"No Laplace fit: at the highest mode, %s, %s.", a.pointString(m.X), why)
 	default:
+		a.avail.drop(Laplace.quantity(), CodeFitFailed)
 		a.diag.add(CodeFitFailed, SeverityError, "No Laplace fit: %v.", err)
 	}
 	return nil
@@ -70,24 +128,23 @@ func (a *analysis) fitLaplace(res *Result) *fit.LaplaceFit {
 // fitReverse fits the reverse-KL Gaussian and its mean-field variant,
 // started from the Laplace fit, else the reference's moments. infiniteKL
 // reports a density that is zero where the cubature reaches.
-func (a *analysis) fitReverse(res *Result, lap *fit.LaplaceFit) (rev, mfit *fit.VariationalFit, infiniteKL bool, err error) {
+func (a *analysis) fitReverse(lap *fit.LaplaceFit) (rev, mfit *fit.VariationalFit, infiniteKL bool, err error) {
 	var init *fit.Gaussian
 	if lap != nil {
 		init = &lap.Gaussian
-	} else if !a.ref.noVariance {
+	} else if a.varianceSettled() {
 		if g, err := fit.MomentMatch(a.ref.fitting.Mean, symFromRows(a.ref.fitting.Cov)); err == nil {
 			init = &g
 		}
 	}
-	variational := func(stage string, mf bool, init fit.Gaussian) (*fit.VariationalFit, error) {
+	variational := func(stage string, m Method, init fit.Gaussian) (*fit.VariationalFit, error) {
 		a.tr.enter(stage)
 		a.pw.tick = func(n int) { a.tr.tick(n, 20000) }
 		run := fit.ReverseKL
-		label := "reverse-KL"
-		if mf {
+		if m == MeanField {
 			run = fit.MeanField
-			label = "mean-field"
 		}
+		label := m.term()
 		vf, err := run(a.ctx, a.pw, init, fit.Settings{})
 		if ctxErr := a.ctx.Err(); ctxErr != nil {
 			return nil, ctxErr
@@ -100,60 +157,67 @@ func (a *analysis) fitReverse(res *Result, lap *fit.LaplaceFit) (rev, mfit *fit.
 				"The %s fit did not converge in %d steps (residual %.2g); its last iterate is shown, marked as not converged.",
 				label, vf.Iterations, math.Max(vf.GradResidual, vf.PrecisionResidual))
 			if vf.Mean == nil || vf.Cov == nil {
+				a.avail.drop(m.quantity(), CodeNoConvergence)
 				return nil, nil
 			}
 			return &vf, nil
 		case errors.Is(err, fit.ErrInfiniteKL):
 			infiniteKL = true
+			a.avail.drop(m.quantity(), CodeInfiniteKL)
 			return nil, nil
 		default:
+			a.avail.drop(m.quantity(), CodeFitFailed)
 			a.diag.add(CodeFitFailed, SeverityError, "No %s fit: %v.", label, err)
 			return nil, nil
 		}
 	}
 	if init != nil {
-		if rev, err = variational(stageReverseKL, false, *init); err != nil {
+		if rev, err = variational(stageReverseKL, ReverseKL, *init); err != nil {
 			return nil, nil, false, err
 		}
 		mfInit := *init
 		if rev != nil && rev.Converged {
 			mfInit = rev.Gaussian
 		}
-		if mfit, err = variational(stageMeanField, true, mfInit); err != nil {
+		if mfit, err = variational(stageMeanField, MeanField, mfInit); err != nil {
 			return nil, nil, false, err
 		}
 	} else {
+		a.avail.drop(ReverseKL.quantity(), CodeFitFailed)
+		a.avail.drop(MeanField.quantity(), CodeFitFailed)
 		a.diag.add(CodeFitFailed, SeverityError,
 			"No reverse-KL fits: there is neither a Laplace fit nor an exact covariance to start them from.")
 	}
 	for _, v := range []struct {
-		vf   *fit.VariationalFit
-		name string
-		out  **Fit
-	}{{rev, "reverse_kl", &res.Fits.ReverseKL}, {mfit, "mean_field", &res.Fits.MeanField}} {
+		vf *fit.VariationalFit
+		m  Method
+	}{{rev, ReverseKL}, {mfit, MeanField}} {
 		if v.vf == nil {
 			continue
 		}
 		elbo := v.vf.ELBO
-		*v.out = &Fit{ELBO: &elbo, Iterations: v.vf.Iterations, Converged: v.vf.Converged,
+		run := Fit{ELBO: &elbo, Iterations: v.vf.Iterations, Converged: v.vf.Converged,
 			Residual: math.Max(v.vf.GradResidual, v.vf.PrecisionResidual)}
-		a.fits = append(a.fits, fitted{v.name, v.vf.Gaussian, v.vf.Precision, v.out})
+		a.fits = append(a.fits, fitted{method: v.m, g: v.vf.Gaussian, prec: v.vf.Precision, run: run})
 	}
 	return rev, mfit, infiniteKL, nil
 }
 
 // fitForward matches the reference's moments, where its variance settles.
-func (a *analysis) fitForward(res *Result) {
-	if a.ref.noVariance {
-		return
+func (a *analysis) fitForward() {
+	for k := 0; k < a.d; k++ {
+		if why := a.avail.whyAt(QuantityAxisErrors, k); why != "" {
+			a.avail.drop(ForwardKL.quantity(), why)
+			return
+		}
 	}
 	g, err := fit.MomentMatch(a.ref.fitting.Mean, symFromRows(a.ref.fitting.Cov))
 	if err != nil {
+		a.avail.drop(ForwardKL.quantity(), CodeFitFailed)
 		a.diag.add(CodeFitFailed, SeverityError, "No forward-KL fit: %v.", err)
 		return
 	}
-	res.Fits.ForwardKL = &Fit{Converged: true}
-	a.fits = append(a.fits, fitted{"forward_kl", g, nil, &res.Fits.ForwardKL})
+	a.fits = append(a.fits, fitted{method: ForwardKL, g: g, run: Fit{Converged: true}})
 }
 
 // boundedKL says when KL(q||p) is infinite for every fit: a support
@@ -180,6 +244,17 @@ func (a *analysis) boundedKL(infiniteKL bool) {
 		a.diag.add(CodeInfiniteKL, SeverityWarning,
 			"The density is zero where the reverse-KL cubature reaches, so KL(q||p) is infinite for every Gaussian and the reverse-KL fits do not exist; if a parameter is bounded, declare its support and fit it on the log or logit scale.")
 	}
+}
+
+// varianceSettled reports that the exact variance on the fitting scale
+// settles along every axis.
+func (a *analysis) varianceSettled() bool {
+	for k := 0; k < a.d; k++ {
+		if !a.avail.presentAt(QuantityAxisErrors, k) {
+			return false
+		}
+	}
+	return true
 }
 
 // symFromRows returns the symmetric matrix whose upper triangle is r's.

@@ -34,52 +34,66 @@ const quadratureLogZErrMax = 1e-3
 // hi]), the user set no box (the grid integrates over the box), and a mode
 // was found. Where it does not, the grid's results stay as they are.
 func (a *analysis) exactByQuadrature() error {
-	if !useQuadrature || len(a.modes.fitModes) == 0 {
+	q, maps, err := a.integrateNested()
+	if err != nil {
+		return err
+	}
+	if q == nil {
+		a.checkReference()
 		return nil
+	}
+	return a.ref.takeQuadrature(a, q, maps)
+}
+
+// integrateNested runs the nested rule where it applies and returns its
+// result, or nil where it does not apply or does not succeed.
+func (a *analysis) integrateNested() (*quadrature.Result, []transform.Map, error) {
+	if len(a.modes.fitModes) == 0 {
+		return nil, nil, nil
 	}
 	d := a.d
 	maps := make([]transform.Map, d)
 	for k, prm := range a.m.Params {
 		if a.pinned[k][0] || a.pinned[k][1] {
-			return nil
+			return nil, nil, nil
 		}
-		mp := transform.Map{Kind: transform.Identity, Lo: prm.Lo, Hi: prm.Hi}
+		mp := transform.Map{Scale: transform.Identity, Lo: prm.Lo, Hi: prm.Hi}
 		switch {
 		case !math.IsInf(prm.Lo, 0) && !math.IsInf(prm.Hi, 0):
-			mp.Kind = transform.Logit
+			mp.Scale = transform.Logit
 		case !math.IsInf(prm.Lo, 0):
-			mp.Kind = transform.Log
+			mp.Scale = transform.Log
 		case !math.IsInf(prm.Hi, 0):
-			return nil // no unconstrained scale for (-inf, hi]
+			return nil, nil, nil // no unconstrained scale for (-inf, hi]
 		}
 		maps[k] = mp
 	}
 	p, err := transform.Wrap(a.ev, maps)
 	if err != nil {
-		return nil
+		return nil, nil, nil
 	}
 	start, ok, err := a.quadratureStart(p, maps)
 	if err != nil || !ok {
-		return err
+		return nil, nil, err
 	}
 	q, err := quadrature.Integrate(a.ctx, p, start, quadrature.Settings{Maps: maps, Progress: a.tr.at})
 	if err != nil {
 		if ctxErr := a.ctx.Err(); ctxErr != nil {
-			return ctxErr
+			return nil, nil, ctxErr
 		}
 		if errors.Is(err, quadrature.ErrTooLarge) || errors.Is(err, quadrature.ErrNoMass) {
-			return nil
+			return nil, nil, nil
 		}
-		return fmt.Errorf("engine: the nested rule: %w", err)
+		return nil, nil, fmt.Errorf("engine: the nested rule: %w", err)
 	}
 	if !q.Improper && !(q.LogZErr < quadratureLogZErrMax) {
-		return nil
+		return nil, nil, nil
 	}
 	if q.NonFiniteNearMass > 0 {
 		// log p is undefined next to the mass (a region the support does
 		// not declare): the density has an edge the rule does not
 		// resolve; the grid's end corrections handle it.
-		return nil
+		return nil, nil, nil
 	}
 	// A grid that cannot resolve the density has no log Z to check the
 	// rule against (a narrow neck makes it too large); the mode search
@@ -87,7 +101,7 @@ func (a *analysis) exactByQuadrature() error {
 	// modes the rule is centred on, and the comparison stage's ELBO check
 	// still marks the results unresolved when a fit finds mass the rule
 	// missed.
-	return a.ref.takeQuadrature(a, q, maps)
+	return q, maps, nil
 }
 
 // quadratureStart returns the rule's start on the unconstrained scale:
@@ -297,34 +311,29 @@ func inverse(a []float64, d int) []float64 {
 	return out
 }
 
-// takeQuadrature fills the reference's exact results from q.
+// takeQuadrature fills the reference's exact results from q and records
+// what they cannot stand behind: the grid's checks do not run (their
+// verdicts are the grid's), except that a grid that cannot resolve the
+// density keeps the comparisons, made on the grid, out.
 func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []transform.Map) error {
 	d := a.d
 	r.quad = q
-	if r.unresolved {
-		// The grid's verdict stands for the comparisons, which use it.
-		r.gridUnresolved = true
-		a.diag.drop(CodeUnresolved)
+	if posInf, layers := a.gridUnresolved(); posInf > 0 || len(layers) > 0 {
+		a.avail.drop(QuantityComparison, CodeUnresolved)
+		a.avail.drop(QuantityAxisErrors, CodeUnresolved)
 		a.diag.add(CodeUnresolved, SeverityWarning,
-			"The grid cannot resolve the density (a peak or a tail it does not follow): the exact results come from the nested rule around the mode, and the fits' comparisons, which use the grid, are not reported.")
+			"The grid cannot resolve the density (a peak or a tail it does not follow): the exact results come from the nested rule around the modes, and the fits' comparisons, which use the grid, are not reported.")
 	}
-	if r.singularImproper {
-		a.diag.drop(CodeImproper)
-	}
-	r.unresolved = false
+	a.checkPrecision()
 	r.singularImproper = false
 	r.tailMass = 0
 	r.logZ, r.logZErr = q.LogZ, q.LogZErr
 	if q.Improper {
-		a.diag.drop(CodeImproper)
+		a.avail.drop(QuantityLogZ, CodeImproper)
+		a.avail.drop(QuantityAxisErrors, CodeImproper)
 		a.diag.add(CodeImproper, SeverityError,
 			"The density does not fall fast enough to be integrable: along some direction its mass per step of the rule's coordinates does not decay, so log Z and the exact moments are not reported.")
 		r.logZ, r.logZErr = math.NaN(), math.NaN()
-		r.varUnsettled = make([]bool, d)
-		for k := range r.varUnsettled {
-			r.varUnsettled[k] = true
-		}
-		r.noVariance = true
 		return nil
 	}
 	// The original scale: the rule's own moments; the fitting scale: per
@@ -335,14 +344,14 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 			// The fitting scale is the original one or the same log or
 			// logit map (no round trip: x rounds to a bound far out).
 			y[k] = z[k]
-			if a.maps[k].Kind == transform.Identity {
+			if a.maps[k].Scale.IsIdentity() {
 				y[k] = maps[k].ToOriginal(z[k])
 			}
 		}
 	})
 	for k := 0; k < d; k++ {
 		src := &q.Unconstrained
-		if a.maps[k].Kind == transform.Identity {
+		if a.maps[k].Scale.IsIdentity() {
 			src = &q.Original
 		}
 		fitting.MeanInfinite[k] = src.MeanInfinite[k]
@@ -363,12 +372,9 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 	}
 	r.original = gridMoments(q.Original, d, quant, nil)
 	r.fitting = gridMoments(fitting, d, quant, a.maps)
-	r.varUnsettled = make([]bool, d)
-	r.noVariance = false
 	for k := 0; k < d; k++ {
 		if fitting.VarInfinite[k] {
-			r.varUnsettled[k] = true
-			r.noVariance = true
+			a.avail.dropAt(QuantityAxisErrors, k, CodeNoVariance)
 		}
 	}
 	return nil

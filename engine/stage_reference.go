@@ -12,10 +12,18 @@ import (
 // reference is what the reference stage hands on: the exact posterior on
 // the fitting and the original scale, its error estimates, and the
 // verdicts of the stage's checks. The stages after it read the exact
-// posterior only through these fields and methods, never the grid's
-// statistics, so another quadrature can take the stage's place; the grid
-// itself serves the mode search (its peaks and box), the comparison and
-// the plots (its nodes, marginals and pairs).
+// posterior only through these fields and the method improper, never the
+// grid's statistics, so another quadrature can take the stage's place.
+// Its contract:
+//   - fill every field below; grid serves the mode search (its peaks and
+//     box), the comparison (compare.Compare) and the plots (its nodes,
+//     marginals and pairs);
+//   - record in a.avail what it cannot stand behind: dropUnresolved where
+//     it does not resolve the density, log Z where the density is not
+//     integrable, the divergences where log p is rounding noise, and per
+//     axis the fits' mean errors and sd ratios (QuantityAxisErrors) where
+//     the variance does not settle;
+//   - say why in a.diag, with the codes those records name.
 type reference struct {
 	// grid is the evaluated grid on the fitting scale; read-only.
 	grid *grid.Grid
@@ -27,7 +35,8 @@ type reference struct {
 	// estimate and tailMass the share of the mass estimated beyond the box.
 	logZ, logZErr, tailMass float64
 	// fitting and original are the moments on the fitting and on the
-	// original scale; their error estimates include errScale.
+	// original scale; their error estimates are scaled up where the
+	// density is infinite at a bound (checkSingularBounds).
 	fitting, original grid.Moments
 	// edgeMass[k][side] is the share of the mass in the outermost layer
 	// of nodes at that face; nonFinite the share of nodes where log p is
@@ -37,30 +46,17 @@ type reference struct {
 	// exactMode is the node where the density on the original scale is
 	// highest, on the fitting scale.
 	exactMode []float64
-	// errScale is the factor by which the error estimates were scaled up
-	// for a density that is infinite at a bound (checkSingularBounds).
-	errScale float64
 
-	// unresolved reports a grid that cannot integrate the density: it is
-	// +Inf at some node, or one node holds most of the mass.
-	unresolved bool
 	// singularImproper reports a density that grows too fast towards a
 	// bound of its support to be integrable (like 1/x).
 	singularImproper bool
 	// noise is the spacing of doubles at the grid's highest log p where it
 	// exceeds precisionWarn: the rounding noise of log p (0 otherwise).
 	noise float64
-	// varUnsettled reports, per parameter on the fitting scale, a variance
-	// that does not settle as the box widens; noVariance reports any.
-	varUnsettled []bool
-	noVariance   bool
 
 	// quad, when set, is the nested rule whose results replaced the
 	// grid's (stage_quadrature.go): its verdicts on the tails stand.
 	quad *quadrature.Result
-	// gridUnresolved keeps the grid's "unresolved" when quad replaced the
-	// exact results: the comparisons, on the grid, are still absent.
-	gridUnresolved bool
 }
 
 // findReference is the reference stage: it finds the box, evaluates the
@@ -74,18 +70,28 @@ func (a *analysis) findReference() error {
 		return err
 	}
 	a.ref.summarise()
+	if useQuadrature {
+		// The checks wait for the nested rule (stage_quadrature.go):
+		// where it stands, the grid's verdicts on the exact results do not.
+		return nil
+	}
+	a.checkReference()
+	return nil
+}
+
+// checkReference records what the grid's exact results cannot stand
+// behind.
+func (a *analysis) checkReference() {
 	a.checkResolved()
 	a.ref.scaleErrors(a.checkSingularBounds())
 	a.checkPrecision()
 	a.checkTails()
-	return nil
 }
 
 // summarise copies the grid's statistics into the reference's fields; the
 // grid's own statistics stay as computed.
 func (r *reference) summarise() {
 	st := &r.grid.Stats
-	r.errScale = 1
 	r.logZ, r.logZErr, r.tailMass = st.LogZ, st.LogZErr, st.TailMass
 	r.fitting, r.original = cloneMoments(st.Fitting), cloneMoments(st.Original)
 	r.edgeMass, r.nonFinite = st.EdgeMass, st.NonFinite
@@ -96,7 +102,6 @@ func (r *reference) summarise() {
 // scaleErrors scales the error estimates of log Z and of the moments by
 // errScale.
 func (r *reference) scaleErrors(errScale float64) {
-	r.errScale = errScale
 	if errScale > 1 {
 		r.logZErr *= errScale
 		for _, m := range []*grid.Moments{&r.fitting, &r.original} {
@@ -310,18 +315,47 @@ const unresolvedShare = 0.5
 // narrower than the spacing). Then log Z, the exact moments and the
 // comparisons are absent.
 func (a *analysis) checkResolved() {
+	posInf, layers := a.gridUnresolved()
+	if posInf > 0 {
+		a.avail.dropUnresolved()
+		a.diag.add(CodeUnresolved, SeverityError,
+			"The log-density is +inf at %d of the grid points: the density is infinite there (an overflow, or a singularity), which a grid cannot integrate, so log Z, the exact moments and the fits' comparisons with them are not reported.", posInf)
+		return
+	}
 	g := a.ref.grid
-	posInf := 0
+	for _, l := range layers {
+		a.avail.dropUnresolved()
+		k := l.axis
+		at := a.names[k]
+		if x := a.maps[k].ToOriginal(g.Nodes[k][l.node]); !math.IsInf(x, 0) {
+			at = fmt.Sprintf("%s = %.4g", a.names[k], x)
+		}
+		a.diag.add(CodeUnresolved, SeverityError,
+			"The grid's layer at %s holds %s of the mass: the density has a peak (or an infinite spike, or the neck of a funnel) narrower than the grid's spacing along %s, so log Z, the exact moments and the fits' comparisons with them are not reported.",
+			at, percent(l.share), a.names[k])
+	}
+}
+
+// unresolvedLayer is a layer of grid nodes across axis that holds share of
+// the mass, more than unresolvedShare.
+type unresolvedLayer struct {
+	axis, node int
+	share      float64
+}
+
+// gridUnresolved returns what keeps the grid from resolving the density:
+// the number of nodes where log p is +Inf (then no layers), or the layers
+// that hold most of the mass (none at a face the box search capped: mass
+// piled there is an improper density, which gridDiagnostics reports).
+func (a *analysis) gridUnresolved() (posInf int, layers []unresolvedLayer) {
+	g := a.ref.grid
 	for _, v := range g.LogP {
 		if math.IsInf(v, 1) {
 			posInf++
 		}
 	}
 	if posInf > 0 {
-		a.ref.unresolved = true
-		a.diag.add(CodeUnresolved, SeverityError,
-			"The log-density is +inf at %d of the grid points: the density is infinite there (an overflow, or a singularity), which a grid cannot integrate, so log Z, the exact moments and the fits' comparisons with them are not reported.", posInf)
-		return
+		return posInf, nil
 	}
 	for k := 0; k < a.d; k++ {
 		mass := g.Stats.Marginals[k].Mass
@@ -332,21 +366,13 @@ func (a *analysis) checkResolved() {
 			}
 		}
 		if edge := top == 0 || top == len(mass)-1; edge && a.ref.box.Capped[k][min(top, 1)] {
-			// Mass piled at a face the box search could not widen further:
-			// an improper density, which gridDiagnostics reports.
 			continue
 		}
 		if mass[top] > unresolvedShare {
-			a.ref.unresolved = true
-			at := a.names[k]
-			if x := a.maps[k].ToOriginal(g.Nodes[k][top]); !math.IsInf(x, 0) {
-				at = fmt.Sprintf("%s = %.4g", a.names[k], x)
-			}
-			a.diag.add(CodeUnresolved, SeverityError,
-				"The grid's layer at %s holds %s of the mass: the density has a peak (or an infinite spike, or the neck of a funnel) narrower than the grid's spacing along %s, so log Z, the exact moments and the fits' comparisons with them are not reported.",
-				at, percent(mass[top]), a.names[k])
+			layers = append(layers, unresolvedLayer{k, top, mass[top]})
 		}
 	}
+	return 0, layers
 }
 
 // Precision limits: log p values whose doubles lie more than precisionWarn
@@ -371,6 +397,9 @@ func (a *analysis) checkPrecision() {
 	what := "divergences near zero are noise and negative ones are not reported"
 	if ulp > precisionAbsent {
 		what = "the divergences and Hellinger distances are noise and are not reported"
+		for _, q := range []Quantity{QuantityKLqp, QuantityKLpq, QuantityHellinger} {
+			a.avail.drop(q, CodeLostPrecision)
+		}
 	}
 	a.diag.add(CodeLostPrecision, SeverityWarning,
 		"log p is about %.3g at its highest, where doubles lie %.2g apart: the density carries rounding noise of that size in log p, so %s; move the large constant out of the model (log p needs only be right up to a constant).",
@@ -445,6 +474,7 @@ func (a *analysis) checkSingularBounds() (errScale float64) {
 			if slope < nonIntegrableSlope {
 				// Like 1/x or steeper: not integrable at the bound.
 				a.ref.singularImproper = true
+				a.avail.drop(QuantityLogZ, CodeImproper)
 				a.diag.add(CodeImproper, SeverityError,
 					"The density grows towards the %s bound of %s (%g) like a power %.2g of the distance, too fast to be integrable there: the density looks improper, so log Z and the exact moments are not reported.",
 					sides[side], a.names[k], bound, slope)
@@ -462,34 +492,21 @@ func (a *analysis) checkSingularBounds() (errScale float64) {
 }
 
 // checkTails decides, per parameter on the fitting scale, whether the
-// variance has settled.
+// variance has settled: where it has not (or the grid does not resolve the
+// density, or the axis is improper), the fits' mean errors and sd ratios
+// along it are absent, and so is the forward-KL fit.
 func (a *analysis) checkTails() {
 	st := &a.ref.grid.Stats
-	a.ref.varUnsettled = make([]bool, a.d)
 	for k := 0; k < a.d; k++ {
-		if a.ref.unresolved || a.ref.improper(k) || st.Fitting.TailShare[k] > tailShareAbsent || !(st.Fitting.SD[k] > 0) {
-			a.ref.varUnsettled[k] = true
-			a.ref.noVariance = true
+		switch {
+		case !a.avail.resolved():
+			a.avail.dropAt(QuantityAxisErrors, k, CodeUnresolved)
+		case a.ref.improper(k):
+			a.avail.dropAt(QuantityAxisErrors, k, CodeImproper)
+		case st.Fitting.TailShare[k] > tailShareAbsent || !(st.Fitting.SD[k] > 0):
+			a.avail.dropAt(QuantityAxisErrors, k, CodeNoVariance)
 		}
 	}
-}
-
-// logZAbsent reports that log Z is not reported: the grid does not resolve
-// the density, or the density looks improper (more mass beyond the box
-// than in it, or mass that stays at a face however far it is widened).
-func (r *reference) logZAbsent() bool {
-	if r.quad != nil {
-		return r.quad.Improper
-	}
-	if r.unresolved || r.tailMass > 1 {
-		return true
-	}
-	for k := range r.edgeMass {
-		if r.improper(k) {
-			return true
-		}
-	}
-	return false
 }
 
 // improper reports an axis whose box search stopped at its cap with more

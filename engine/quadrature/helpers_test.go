@@ -33,12 +33,12 @@ func compile(t testing.TB, src string) problem {
 	d := len(m.Params)
 	maps := make([]transform.Map, d)
 	for i, prm := range m.Params {
-		mp := transform.Map{Kind: transform.Identity, Lo: prm.Lo, Hi: prm.Hi}
+		mp := transform.Map{Scale: transform.Identity, Lo: prm.Lo, Hi: prm.Hi}
 		switch {
 		case !math.IsInf(prm.Lo, 0) && !math.IsInf(prm.Hi, 0):
-			mp.Kind = transform.Logit
+			mp.Scale = transform.Logit
 		case !math.IsInf(prm.Lo, 0):
-			mp.Kind = transform.Log
+			mp.Scale = transform.Log
 		case !math.IsInf(prm.Hi, 0):
 			t.Fatalf("parameter %s: an upper bound alone is not used in these tests", prm.Name)
 		}

@@ -5,7 +5,6 @@ import (
 	"math"
 
 	"bellcheck/engine/target"
-	"bellcheck/engine/transform"
 )
 
 // Moments of the normalised density on one scale, in parameter order. A
@@ -238,7 +237,7 @@ func (r *rule) boundRounding() float64 {
 		worst := 0.0
 		for a := 0; a < d; a++ {
 			mp := r.maps[a]
-			if mp.Kind == transform.Identity {
+			if mp.Scale.IsIdentity() {
 				continue
 			}
 			x := mp.ToOriginal(n.z[i*d+r.perm[a]])

@@ -33,7 +33,7 @@ func (res *Result) mapOf(k int) transform.Map {
 	if res.settings.Maps != nil {
 		return res.settings.Maps[k]
 	}
-	return transform.Map{Kind: transform.Identity, Lo: math.Inf(-1), Hi: math.Inf(1)}
+	return transform.Map{Scale: transform.Identity, Lo: math.Inf(-1), Hi: math.Inf(1)}
 }
 
 // sliceLogZ returns log of the integral of p over the coordinates other

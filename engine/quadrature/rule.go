@@ -117,7 +117,7 @@ func newRule(ctx context.Context, p target.Density, st Start, s Settings) (*rule
 	cv := make([]float64, d*d)
 	for a := 0; a < d; a++ {
 		pa := r.perm[a]
-		r.maps[a] = transform.Map{Kind: transform.Identity, Lo: math.Inf(-1), Hi: math.Inf(1)}
+		r.maps[a] = transform.Map{Scale: transform.Identity, Lo: math.Inf(-1), Hi: math.Inf(1)}
 		if s.Maps != nil {
 			r.maps[a] = s.Maps[pa]
 		}
