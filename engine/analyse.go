@@ -90,6 +90,11 @@ func (a *analysis) run() (*Result, error) {
 	if err := a.findModes(); err != nil {
 		return nil, err
 	}
+	if useQuadrature {
+		if err := a.exactByQuadrature(); err != nil {
+			return nil, err
+		}
+	}
 	if err := a.fitAll(); err != nil {
 		return nil, err
 	}

@@ -71,7 +71,9 @@ func (a *analysis) dropDegenerate() {
 // recorded as absent for want of resolution, and the forward-KL fit, made
 // from them, is not made.
 func (a *analysis) checkELBO(fits ...*fit.VariationalFit) {
-	if !a.avail.resolved() {
+	if !a.avail.resolved() && a.ref.quad == nil {
+		// (With the nested rule's results the check still applies: the
+		// grid's lack of resolution left only the comparisons out.)
 		return
 	}
 	lz := a.ref.logZ

@@ -6,6 +6,7 @@ import (
 	"slices"
 
 	"bellcheck/engine/grid"
+	"bellcheck/engine/quadrature"
 )
 
 // reference is what the reference stage hands on: the exact posterior on
@@ -52,6 +53,10 @@ type reference struct {
 	// noise is the spacing of doubles at the grid's highest log p where it
 	// exceeds precisionWarn: the rounding noise of log p (0 otherwise).
 	noise float64
+
+	// quad, when set, is the nested rule whose results replaced the
+	// grid's (stage_quadrature.go): its verdicts on the tails stand.
+	quad *quadrature.Result
 }
 
 // findReference is the reference stage: it finds the box, evaluates the
@@ -65,11 +70,22 @@ func (a *analysis) findReference() error {
 		return err
 	}
 	a.ref.summarise()
+	if useQuadrature {
+		// The checks wait for the nested rule (stage_quadrature.go):
+		// where it stands, the grid's verdicts on the exact results do not.
+		return nil
+	}
+	a.checkReference()
+	return nil
+}
+
+// checkReference records what the grid's exact results cannot stand
+// behind.
+func (a *analysis) checkReference() {
 	a.checkResolved()
 	a.ref.scaleErrors(a.checkSingularBounds())
 	a.checkPrecision()
 	a.checkTails()
-	return nil
 }
 
 // summarise copies the grid's statistics into the reference's fields; the
@@ -299,18 +315,47 @@ const unresolvedShare = 0.5
 // narrower than the spacing). Then log Z, the exact moments and the
 // comparisons are absent.
 func (a *analysis) checkResolved() {
+	posInf, layers := a.gridUnresolved()
+	if posInf > 0 {
+		a.avail.dropUnresolved()
+		a.diag.add(CodeUnresolved, SeverityError,
+			"The log-density is +inf at %d of the grid points: the density is infinite there (an overflow, or a singularity), which a grid cannot integrate, so log Z, the exact moments and the fits' comparisons with them are not reported.", posInf)
+		return
+	}
 	g := a.ref.grid
-	posInf := 0
+	for _, l := range layers {
+		a.avail.dropUnresolved()
+		k := l.axis
+		at := a.names[k]
+		if x := a.maps[k].ToOriginal(g.Nodes[k][l.node]); !math.IsInf(x, 0) {
+			at = fmt.Sprintf("%s = %.4g", a.names[k], x)
+		}
+		a.diag.add(CodeUnresolved, SeverityError,
+			"The grid's layer at %s holds %s of the mass: the density has a peak (or an infinite spike, or the neck of a funnel) narrower than the grid's spacing along %s, so log Z, the exact moments and the fits' comparisons with them are not reported.",
+			at, percent(l.share), a.names[k])
+	}
+}
+
+// unresolvedLayer is a layer of grid nodes across axis that holds share of
+// the mass, more than unresolvedShare.
+type unresolvedLayer struct {
+	axis, node int
+	share      float64
+}
+
+// gridUnresolved returns what keeps the grid from resolving the density:
+// the number of nodes where log p is +Inf (then no layers), or the layers
+// that hold most of the mass (none at a face the box search capped: mass
+// piled there is an improper density, which gridDiagnostics reports).
+func (a *analysis) gridUnresolved() (posInf int, layers []unresolvedLayer) {
+	g := a.ref.grid
 	for _, v := range g.LogP {
 		if math.IsInf(v, 1) {
 			posInf++
 		}
 	}
 	if posInf > 0 {
-		a.avail.dropUnresolved()
-		a.diag.add(CodeUnresolved, SeverityError,
-			"The log-density is +inf at %d of the grid points: the density is infinite there (an overflow, or a singularity), which a grid cannot integrate, so log Z, the exact moments and the fits' comparisons with them are not reported.", posInf)
-		return
+		return posInf, nil
 	}
 	for k := 0; k < a.d; k++ {
 		mass := g.Stats.Marginals[k].Mass
@@ -321,21 +366,13 @@ func (a *analysis) checkResolved() {
 			}
 		}
 		if edge := top == 0 || top == len(mass)-1; edge && a.ref.box.Capped[k][min(top, 1)] {
-			// Mass piled at a face the box search could not widen further:
-			// an improper density, which gridDiagnostics reports.
 			continue
 		}
 		if mass[top] > unresolvedShare {
-			a.avail.dropUnresolved()
-			at := a.names[k]
-			if x := a.maps[k].ToOriginal(g.Nodes[k][top]); !math.IsInf(x, 0) {
-				at = fmt.Sprintf("%s = %.4g", a.names[k], x)
-			}
-			a.diag.add(CodeUnresolved, SeverityError,
-				"The grid's layer at %s holds %s of the mass: the density has a peak (or an infinite spike, or the neck of a funnel) narrower than the grid's spacing along %s, so log Z, the exact moments and the fits' comparisons with them are not reported.",
-				at, percent(mass[top]), a.names[k])
+			layers = append(layers, unresolvedLayer{k, top, mass[top]})
 		}
 	}
+	return 0, layers
 }
 
 // Precision limits: log p values whose doubles lie more than precisionWarn
@@ -476,6 +513,9 @@ func (a *analysis) checkTails() {
 // than improperEdgeMass in the outer layer of a face, and every axis of a
 // density that is not integrable at a bound of its support.
 func (r *reference) improper(k int) bool {
+	if r.quad != nil {
+		return r.quad.Improper
+	}
 	if r.singularImproper {
 		return true
 	}
