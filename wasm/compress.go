@@ -53,30 +53,9 @@ func writeCompressed(dir string) error {
 
 // gzipFile writes src compressed at the best level to dst.
 func gzipFile(dst, src string) error {
-	in, err := os.Open(src)
-	if err != nil {
-		return err
-	}
-	defer in.Close()
-	out, err := os.Create(dst)
-	if err != nil {
-		return err
-	}
-	zw, err := gzip.NewWriterLevel(out, gzip.BestCompression)
-	if err != nil {
-		out.Close()
-		return err
-	}
-	if _, err := io.Copy(zw, in); err != nil {
-		zw.Close()
-		out.Close()
-		return err
-	}
-	if err := zw.Close(); err != nil {
-		out.Close()
-		return err
-	}
-	return out.Close()
+	return copyThrough(dst, src, func(w io.Writer) (io.WriteCloser, error) {
+		return gzip.NewWriterLevel(w, gzip.BestCompression)
+	})
 }
 
 // gzipFiles serves a folder as a compressing static host does: a request

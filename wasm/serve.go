@@ -150,7 +150,14 @@ func copyTree(dst, src string) error {
 	})
 }
 
+// copyFile copies src to dst.
 func copyFile(dst, src string) error {
+	return copyThrough(dst, src, func(w io.Writer) (io.WriteCloser, error) { return nopCloser{w}, nil })
+}
+
+// copyThrough copies src to dst through the writer wrap makes (a
+// compressor, say), closing it before dst.
+func copyThrough(dst, src string, wrap func(io.Writer) (io.WriteCloser, error)) error {
 	in, err := os.Open(src)
 	if err != nil {
 		return err
@@ -160,9 +167,20 @@ func copyFile(dst, src string) error {
 	if err != nil {
 		return err
 	}
-	if _, err := io.Copy(out, in); err != nil {
-		out.Close()
-		return err
+	w, err := wrap(out)
+	if err == nil {
+		_, err = io.Copy(w, in)
+		if cerr := w.Close(); err == nil {
+			err = cerr
+		}
 	}
-	return out.Close()
+	if cerr := out.Close(); err == nil {
+		err = cerr
+	}
+	return err
 }
+
+// nopCloser is a writer whose Close does nothing.
+type nopCloser struct{ io.Writer }
+
+func (nopCloser) Close() error { return nil }
