@@ -33,8 +33,8 @@ func hasCode(res *Result, code string) bool {
 // closed form) still exists.
 func TestCauchyHasNoVariance(t *testing.T) {
 	res := analyseSource(t, "ld_cauchy(x, 0, 1)", Options{})
-	if res.Fits.ForwardKL != nil {
-		t.Errorf("forward-KL fit reported: %+v", res.Fits.ForwardKL)
+	if res.Fits[ForwardKL] != nil {
+		t.Errorf("forward-KL fit reported: %+v", res.Fits[ForwardKL])
 	}
 	if !hasCode(res, CodeNoVariance) || !hasCode(res, CodeEdgeMass) {
 		t.Errorf("diagnostics %+v", res.Diagnostics)
@@ -42,10 +42,10 @@ func TestCauchyHasNoVariance(t *testing.T) {
 	if !math.IsNaN(res.Exact.Cov[0][0]) || !math.IsNaN(res.Exact.SD[0]) {
 		t.Errorf("exact variance %g reported", res.Exact.Cov[0][0])
 	}
-	if res.Fits.Laplace == nil || math.Abs(res.Fits.Laplace.Cov[0][0]-0.5) > 1e-9 {
-		t.Errorf("Laplace fit %+v, want variance 1/2", res.Fits.Laplace)
+	if res.Fits[Laplace] == nil || math.Abs(res.Fits[Laplace].Cov[0][0]-0.5) > 1e-9 {
+		t.Errorf("Laplace fit %+v, want variance 1/2", res.Fits[Laplace])
 	}
-	if l := res.Fits.Laplace; l != nil && !math.IsInf(l.KLpq, 1) {
+	if l := res.Fits[Laplace]; l != nil && !math.IsInf(l.KLpq, 1) {
 		t.Errorf("KL(p||q) %g for a Cauchy p, want +Inf", l.KLpq)
 	}
 	raw, err := json.Marshal(res)
@@ -157,7 +157,7 @@ func TestPlots(t *testing.T) {
 		if math.Abs(area-1) > 2e-3 {
 			t.Errorf("marginal %d integrates to %g", m.Param, area)
 		}
-		if m.Laplace == nil || m.Reverse == nil || m.Forward == nil || len(m.Laplace) != len(m.X) {
+		if m.Fits[Laplace] == nil || m.Fits[ReverseKL] == nil || m.Fits[ForwardKL] == nil || len(m.Fits[Laplace]) != len(m.X) {
 			t.Errorf("marginal %d: missing fit curves", m.Param)
 		}
 	}
@@ -250,7 +250,7 @@ func TestReverseKLStationarity(t *testing.T) {
 		t.Run(c.name, func(t *testing.T) {
 			src := readRef(t, c.name)
 			res := analyseSource(t, src, c.opts)
-			f := res.Fits.ReverseKL
+			f := res.Fits[ReverseKL]
 			if f == nil {
 				t.Fatal("no reverse-KL fit")
 			}
@@ -371,7 +371,7 @@ func TestDiagnosticCases(t *testing.T) {
 	}{
 		// The exponential density has its mode on the bound 0: no Laplace fit.
 		{"mode on bound", "param x in [0, inf]\n-x", Options{}, []string{CodeModeOnBound, CodeInfiniteKL},
-			func(r *Result) bool { return r.Fits.Laplace == nil }},
+			func(r *Result) bool { return r.Fits[Laplace] == nil }},
 		// sqrt of a negative number is NaN: half of the line is undefined.
 		{"non-finite", "param x\n-(sqrt(x) - 1)^2*4 - x^2/50", Options{}, []string{CodeNonFinite}, nil},
 		// Student t with 3 degrees of freedom: variance 3 but the fourth

@@ -157,15 +157,13 @@ func honesty(res *Result, d int) []string {
 	}
 
 	// The fits.
-	for _, f := range []struct {
-		name string
-		fit  *Fit
-	}{{"laplace", res.Fits.Laplace}, {"reverse_kl", res.Fits.ReverseKL}, {"mean_field", res.Fits.MeanField}, {"forward_kl", res.Fits.ForwardKL}} {
-		if f.fit == nil {
-			absentNeedsReason(f.name, "the "+f.name+" fit")
+	for _, m := range Methods {
+		f := res.Fits[m]
+		if f == nil {
+			absentNeedsReason(m.Key(), "the "+m.Key()+" fit")
 			continue
 		}
-		for _, s := range fitHonesty(f.name, f.fit, res, d, reason("coverage")) {
+		for _, s := range fitHonesty(m, f, res, d, reason("coverage")) {
 			fail("%s", s)
 		}
 	}
@@ -185,9 +183,9 @@ func honesty(res *Result, d int) []string {
 }
 
 // fitHonesty checks one fit that is present.
-func fitHonesty(name string, f *Fit, res *Result, d int, coverageReason bool) []string {
+func fitHonesty(m Method, f *Fit, res *Result, d int, coverageReason bool) []string {
 	var bad []string
-	fail := func(format string, args ...any) { bad = append(bad, name+": "+fmt.Sprintf(format, args...)) }
+	fail := func(format string, args ...any) { bad = append(bad, m.Key()+": "+fmt.Sprintf(format, args...)) }
 	if len(f.Mean) != d || len(f.Cov) != d || len(f.SD) != d || len(f.Interval95) != d {
 		fail("moments of the wrong length")
 		return bad
@@ -264,7 +262,7 @@ func fitHonesty(name string, f *Fit, res *Result, d int, coverageReason bool) []
 	if f.EvidenceErr != nil && math.IsNaN(lz) && !math.IsNaN(*f.EvidenceErr) {
 		fail("evidence error %g against an absent log Z", *f.EvidenceErr)
 	}
-	if !f.Converged && (name == "reverse_kl" || name == "mean_field") && !hasCode(res, CodeNoConvergence) {
+	if !f.Converged && (m == ReverseKL || m == MeanField) && !hasCode(res, CodeNoConvergence) {
 		fail("not converged, and no diagnostic says so")
 	}
 	return bad

@@ -23,15 +23,9 @@ const contourPoints = 96
 // reports progress and checks for cancellation between the pieces of each
 // pair (the largest 2-D grid holds 2.25 million nodes).
 func (a *analysis) plots(res *Result) (*Plots, error) {
-	g := a.g
+	g := a.ref.grid
 	st := &g.Stats
 	d := a.d
-	type fitCurve struct {
-		name string
-		f    *Fit
-	}
-	fits := []fitCurve{{"laplace", res.Fits.Laplace}, {"reverse_kl", res.Fits.ReverseKL},
-		{"mean_field", res.Fits.MeanField}, {"forward_kl", res.Fits.ForwardKL}}
 	pl := &Plots{}
 	// dxdz[k][i] is dx/dz at node i of axis k.
 	dxdz := make([][]float64, d)
@@ -52,26 +46,18 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 			m.X = append(m.X, xs[k][i])
 			m.Exact = append(m.Exact, st.Marginals[k].Density[i]/dxdz[k][i])
 		}
-		for _, fc := range fits {
-			if fc.f == nil {
+		for _, meth := range Methods {
+			f := res.Fits[meth]
+			if f == nil {
 				continue
 			}
-			mu, sd := fc.f.Mean[k], fc.f.SD[k]
+			mu, sd := f.Mean[k], f.SD[k]
 			curve := make([]float64, len(idx))
 			for j, i := range idx {
 				u := (g.Nodes[k][i] - mu) / sd
 				curve[j] = math.Exp(-u*u/2) / (sd * math.Sqrt(2*math.Pi)) / dxdz[k][i]
 			}
-			switch fc.name {
-			case "laplace":
-				m.Laplace = curve
-			case "reverse_kl":
-				m.Reverse = curve
-			case "mean_field":
-				m.MeanFld = curve
-			default:
-				m.Forward = curve
-			}
+			m.Fits[meth] = curve
 		}
 		pl.Marginals = append(pl.Marginals, m)
 	}
@@ -99,7 +85,7 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 		if err := part(0.9); err != nil {
 			return nil, err
 		}
-		m2 := Marginal2D{I: i, J: j, Levels: [3]float64{lv[0], lv[1], lv[2]}, Ellipses: map[string][3][][2]float64{}}
+		m2 := Marginal2D{I: i, J: j, Levels: [3]float64{lv[0], lv[1], lv[2]}, Ellipses: Ellipses{}}
 		iu, iv := plotNodes(g.N[i], maxPlot2D), plotNodes(nj, maxPlot2D)
 		for _, u := range iu {
 			m2.X = append(m2.X, xs[i][u])
@@ -113,11 +99,10 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 				m2.Density = append(m2.Density, orig[u*nj+v])
 			}
 		}
-		for _, fc := range fits {
-			if fc.f == nil {
-				continue
+		for _, meth := range Methods {
+			if f := res.Fits[meth]; f != nil {
+				m2.Ellipses[meth] = a.ellipses(f, i, j)
 			}
-			m2.Ellipses[fc.name] = a.ellipses(fc.f, i, j)
 		}
 		pl.Pairs = append(pl.Pairs, m2)
 	}

@@ -40,14 +40,10 @@ type Exact struct {
 	ExcessKurtosis []float64    `json:"excess_kurtosis"`
 }
 
-// Fits holds the Gaussian approximations; a nil fit does not exist, and a
-// diagnostic says why.
-type Fits struct {
-	Laplace   *Fit `json:"laplace"`
-	ReverseKL *Fit `json:"reverse_kl"`
-	MeanField *Fit `json:"mean_field"` // reverse KL with a diagonal covariance
-	ForwardKL *Fit `json:"forward_kl"`
-}
+// Fits holds the Gaussian approximations, indexed by Method; a nil fit
+// does not exist, and a diagnostic says why. Its JSON is an object with a
+// member per method, named by its Key, in the order of Methods.
+type Fits [NumMethods]*Fit
 
 // Fit is one Gaussian approximation, on the fitting scale of each parameter,
 // with its comparison against the exact density.
@@ -137,15 +133,14 @@ type Plots struct {
 }
 
 // Marginal1D is a parameter's exact marginal density on a grid, with each
-// fit's marginal density at the same points (nil where the fit is absent).
+// fit's marginal density at the same points.
 type Marginal1D struct {
-	Param   int       `json:"param"`
-	X       []float64 `json:"x"`
-	Exact   []float64 `json:"exact"`
-	Laplace []float64 `json:"laplace"`
-	Reverse []float64 `json:"reverse_kl"`
-	MeanFld []float64 `json:"mean_field"`
-	Forward []float64 `json:"forward_kl"`
+	Param int       `json:"param"`
+	X     []float64 `json:"x"`
+	Exact []float64 `json:"exact"`
+	// Fits holds each fit's marginal density by method, nil where the fit
+	// is absent; in the JSON each is a member named by the method's Key.
+	Fits [NumMethods][]float64 `json:"-"`
 }
 
 // Marginal2D is the exact pairwise marginal density of parameters I and J on
@@ -159,7 +154,12 @@ type Marginal2D struct {
 	Y       []float64  `json:"y"`
 	Density []float64  `json:"density"`
 	Levels  [3]float64 `json:"levels"`
-	// Ellipses[fit][level] is a polyline of points [x, y]; fit names are
-	// "laplace", "reverse_kl", "mean_field", "forward_kl".
-	Ellipses map[string][3][][2]float64 `json:"ellipses"`
+	// Ellipses[m][level] is a polyline of points [x, y] for each fit m
+	// that exists.
+	Ellipses Ellipses `json:"ellipses"`
 }
+
+// Ellipses holds each fit's contours of a pair's marginal by method. Its
+// JSON is an object with a member per fit that exists, named by the
+// method's Key, in the order of the keys.
+type Ellipses map[Method][3][][2]float64

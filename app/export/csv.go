@@ -50,8 +50,10 @@ func CSV(r *engine.Result) ([]byte, error) {
 	cw := &csvRows{w: w, r: r}
 	cw.row(CSVHeader...)
 	cw.exact()
-	for _, f := range fitsOf(r) {
-		cw.fit(f.key, f.fit)
+	for _, m := range engine.Methods {
+		if f := r.Fits[m]; f != nil {
+			cw.fit(m.Key(), f)
+		}
 	}
 	cw.grid()
 	w.Flush()
@@ -62,29 +64,6 @@ func CSV(r *engine.Result) ([]byte, error) {
 		return nil, err
 	}
 	return b.Bytes(), nil
-}
-
-// namedFit is a fit with its JSON key.
-type namedFit struct {
-	key string
-	fit *engine.Fit
-}
-
-// fitsOf lists the result's fits that exist, in the JSON's order.
-func fitsOf(r *engine.Result) []namedFit {
-	all := []namedFit{
-		{"laplace", r.Fits.Laplace},
-		{"reverse_kl", r.Fits.ReverseKL},
-		{"mean_field", r.Fits.MeanField},
-		{"forward_kl", r.Fits.ForwardKL},
-	}
-	out := all[:0]
-	for _, f := range all {
-		if f.fit != nil {
-			out = append(out, f)
-		}
-	}
-	return out
 }
 
 type csvRows struct {

@@ -339,7 +339,7 @@ func (p *Page) State() (src string, params map[string]engine.ParamOptions, v Vie
 }
 
 // SetView implements Host.
-func (p *Page) SetView(ctx app.Context, log bool, hidden [5]bool) {
+func (p *Page) SetView(ctx app.Context, log bool, hidden [plot.NumMethods]bool) {
 	p.view = View{Log: log, Hidden: hidden}
 	p.figs = BuildFigures(p.s.Result, p.view)
 	p.persist()

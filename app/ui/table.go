@@ -28,7 +28,7 @@ type Row struct {
 	// Hint explains the row in a sentence (a tooltip and screen-reader
 	// description).
 	Hint  string
-	Cells [5]Cell
+	Cells [plot.NumMethods]Cell
 }
 
 // Section is a titled group of rows.
@@ -40,15 +40,8 @@ type Section struct {
 // fitOf returns a result's fit for a method (nil for the exact density and
 // for absent fits).
 func fitOf(r *engine.Result, m plot.Method) *engine.Fit {
-	switch m {
-	case plot.Laplace:
-		return r.Fits.Laplace
-	case plot.ReverseKL:
-		return r.Fits.ReverseKL
-	case plot.MeanField:
-		return r.Fits.MeanField
-	case plot.ForwardKL:
-		return r.Fits.ForwardKL
+	if f, ok := m.Fit(); ok {
+		return r.Fits[f]
 	}
 	return nil
 }
@@ -59,7 +52,7 @@ const absentFit = "no fit: see the diagnostics"
 // markBest sets Best on the fits with the lowest finite score (ties within
 // a part in 10^9 share it). Nothing is marked when fewer than two fits have
 // a score, since a comparison needs two.
-func markBest(row *Row, score [5]float64) {
+func markBest(row *Row, score [plot.NumMethods]float64) {
 	best := math.Inf(1)
 	n := 0
 	for _, m := range plot.Fits {
@@ -80,9 +73,13 @@ func markBest(row *Row, score [5]float64) {
 
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 
-func nanScores() [5]float64 {
-	n := math.NaN()
-	return [5]float64{n, n, n, n, n}
+// nanScores returns a score per method, all NaN (none yet).
+func nanScores() [plot.NumMethods]float64 {
+	var s [plot.NumMethods]float64
+	for i := range s {
+		s[i] = math.NaN()
+	}
+	return s
 }
 
 func at(v []float64, i int) float64 {
@@ -122,7 +119,7 @@ func Table(r *engine.Result, m *model.Model) []Section {
 	}
 	// Each fit's mean and sd on the original scale.
 	type moments struct{ mean, sd []float64 }
-	var mom [5]moments
+	var mom [plot.NumMethods]moments
 	for _, meth := range plot.Fits {
 		f := fitOf(r, meth)
 		if f == nil {

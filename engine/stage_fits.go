@@ -1,0 +1,193 @@
+package engine
+
+import (
+	"errors"
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+
+	"bellcheck/engine/fit"
+)
+
+// fitted is one Gaussian fit that exists, as the fits stage hands it on:
+// its method, the Gaussian on the fitting scale, the curvature it uses
+// (nil for the forward-KL fit) and its entry in the Result.
+type fitted struct {
+	method Method
+	g      fit.Gaussian
+	prec   *mat.SymDense
+	out    **Fit
+}
+
+// fitAll is the fits stage: the Laplace fit at the highest mode, the
+// reverse-KL fit and its mean-field variant, and the forward-KL fit (the
+// reference's moments).
+func (a *analysis) fitAll(res *Result) error {
+	lap := a.fitLaplace(res)
+	rev, mfit, infiniteKL, err := a.fitReverse(res, lap)
+	if err != nil {
+		return err
+	}
+	a.checkELBO(rev, mfit)
+	a.fitForward(res)
+	a.boundedKL(infiniteKL)
+	return nil
+}
+
+// fitLaplace fits the Laplace approximation at the highest mode; nil where
+// there is none, with a diagnostic saying why.
+func (a *analysis) fitLaplace(res *Result) *fit.LaplaceFit {
+	a.tr.enter(stageLaplace)
+	if len(a.modes.fitModes) == 0 {
+		return nil
+	}
+	m := a.modes.fitModes[0]
+	lf, err := fit.Laplace(m)
+	switch {
+	case err == nil:
+		f := &Fit{Iterations: m.Iterations, Converged: m.Converged, Residual: m.GradNorm}
+		lz := lf.LogZ
+		f.LogZ = &lz
+		res.Fits[Laplace] = f
+		a.fits = append(a.fits, fitted{Laplace, lf.Gaussian, lf.Precision, &res.Fits[Laplace]})
+		return &lf
+	case errors.Is(err, fit.ErrOnBound):
+		a.diag.add(CodeModeOnBound, SeverityWarning,
+			"No Laplace fit: the highest mode, at %s, lies on a bound of the support, where the curvature does not describe the density.", a.pointString(m.X))
+	case errors.Is(err, fit.ErrNotPositiveDefinite):
+		why := "-Hessian there is not positive definite, so the point is not a strict maximum"
+		if m.Flat {
+			why = "the curvature there is numerically zero (the density is flatter than a Gaussian at its peak)"
+		}
+		a.diag.add(CodeNotPositiveDefinite, SeverityWarning,
+			"No Laplace fit: at the highest mode, %s, %s.", a.pointString(m.X), why)
+	default:
+		a.diag.add(CodeFitFailed, SeverityError, "No Laplace fit: %v.", err)
+	}
+	return nil
+}
+
+// fitReverse fits the reverse-KL Gaussian and its mean-field variant,
+// started from the Laplace fit, else the reference's moments. infiniteKL
+// reports a density that is zero where the cubature reaches.
+func (a *analysis) fitReverse(res *Result, lap *fit.LaplaceFit) (rev, mfit *fit.VariationalFit, infiniteKL bool, err error) {
+	var init *fit.Gaussian
+	if lap != nil {
+		init = &lap.Gaussian
+	} else if !a.ref.noVariance {
+		if g, err := fit.MomentMatch(a.ref.fitting.Mean, symFromRows(a.ref.fitting.Cov)); err == nil {
+			init = &g
+		}
+	}
+	variational := func(stage string, m Method, init fit.Gaussian) (*fit.VariationalFit, error) {
+		a.tr.enter(stage)
+		a.pw.tick = func(n int) { a.tr.tick(n, 20000) }
+		run := fit.ReverseKL
+		if m == MeanField {
+			run = fit.MeanField
+		}
+		label := m.term()
+		vf, err := run(a.ctx, a.pw, init, fit.Settings{})
+		if ctxErr := a.ctx.Err(); ctxErr != nil {
+			return nil, ctxErr
+		}
+		switch {
+		case err == nil:
+			return &vf, nil
+		case errors.Is(err, fit.ErrNoConvergence):
+			a.diag.add(CodeNoConvergence, SeverityWarning,
+				"The %s fit did not converge in %d steps (residual %.2g); its last iterate is shown, marked as not converged.",
+				label, vf.Iterations, math.Max(vf.GradResidual, vf.PrecisionResidual))
+			if vf.Mean == nil || vf.Cov == nil {
+				return nil, nil
+			}
+			return &vf, nil
+		case errors.Is(err, fit.ErrInfiniteKL):
+			infiniteKL = true
+			return nil, nil
+		default:
+			a.diag.add(CodeFitFailed, SeverityError, "No %s fit: %v.", label, err)
+			return nil, nil
+		}
+	}
+	if init != nil {
+		if rev, err = variational(stageReverseKL, ReverseKL, *init); err != nil {
+			return nil, nil, false, err
+		}
+		mfInit := *init
+		if rev != nil && rev.Converged {
+			mfInit = rev.Gaussian
+		}
+		if mfit, err = variational(stageMeanField, MeanField, mfInit); err != nil {
+			return nil, nil, false, err
+		}
+	} else {
+		a.diag.add(CodeFitFailed, SeverityError,
+			"No reverse-KL fits: there is neither a Laplace fit nor an exact covariance to start them from.")
+	}
+	for _, v := range []struct {
+		vf *fit.VariationalFit
+		m  Method
+	}{{rev, ReverseKL}, {mfit, MeanField}} {
+		if v.vf == nil {
+			continue
+		}
+		elbo := v.vf.ELBO
+		res.Fits[v.m] = &Fit{ELBO: &elbo, Iterations: v.vf.Iterations, Converged: v.vf.Converged,
+			Residual: math.Max(v.vf.GradResidual, v.vf.PrecisionResidual)}
+		a.fits = append(a.fits, fitted{v.m, v.vf.Gaussian, v.vf.Precision, &res.Fits[v.m]})
+	}
+	return rev, mfit, infiniteKL, nil
+}
+
+// fitForward matches the reference's moments, where its variance settles.
+func (a *analysis) fitForward(res *Result) {
+	if a.ref.noVariance {
+		return
+	}
+	g, err := fit.MomentMatch(a.ref.fitting.Mean, symFromRows(a.ref.fitting.Cov))
+	if err != nil {
+		a.diag.add(CodeFitFailed, SeverityError, "No forward-KL fit: %v.", err)
+		return
+	}
+	res.Fits[ForwardKL] = &Fit{Converged: true}
+	a.fits = append(a.fits, fitted{ForwardKL, g, nil, &res.Fits[ForwardKL]})
+}
+
+// boundedKL says when KL(q||p) is infinite for every fit: a support
+// bounded on the fitting scale, or a density that is zero where the
+// reverse-KL cubature reaches (infiniteKL).
+func (a *analysis) boundedKL(infiniteKL bool) {
+	var boundedNames []string
+	for k, b := range a.bounded {
+		if b {
+			boundedNames = append(boundedNames, a.names[k])
+		}
+	}
+	if len(boundedNames) > 0 {
+		sev := SeverityInfo
+		what := "KL(q||p) is infinite for every fit"
+		if infiniteKL {
+			sev = SeverityWarning
+			what = "KL(q||p) is infinite for every fit and the reverse-KL fits do not exist"
+		}
+		a.diag.add(CodeInfiniteKL, sev,
+			"The support of %s is bounded, so every Gaussian puts mass where the density is zero: %s; fit %s on the log or logit scale, where they exist.",
+			list(boundedNames), what, list(boundedNames))
+	} else if infiniteKL {
+		a.diag.add(CodeInfiniteKL, SeverityWarning,
+			"The density is zero where the reverse-KL cubature reaches, so KL(q||p) is infinite for every Gaussian and the reverse-KL fits do not exist; if a parameter is bounded, declare its support and fit it on the log or logit scale.")
+	}
+}
+
+// symFromRows returns the symmetric matrix whose upper triangle is r's.
+func symFromRows(r [][]float64) *mat.SymDense {
+	d := len(r)
+	s := mat.NewSymDense(d, nil)
+	for i := 0; i < d; i++ {
+		for j := i; j < d; j++ {
+			s.SetSym(i, j, r[i][j])
+		}
+	}
+	return s
+}
