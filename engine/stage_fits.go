@@ -30,6 +30,9 @@ func (a *analysis) fitAll(res *Result) error {
 	}
 	a.checkELBO(rev, mfit)
 	a.fitForward(res)
+	if err := a.fitEP(res); err != nil {
+		return err
+	}
 	a.boundedKL(infiniteKL)
 	return nil
 }

@@ -154,7 +154,7 @@ type Result struct {
 	// Mean and Cov (row-major) are the approximation's moments.
 	Mean, Cov []float64
 	// LogZ is the EP estimate of the log-normaliser of exp(log p); NaN
-	// where a cavity was improper in the last pass.
+	// where a tilted distribution could not be integrated in the last pass.
 	LogZ float64
 	// Sweeps is the number of passes over the sites.
 	Sweeps    int
@@ -178,9 +178,15 @@ type Result struct {
 	// (allowed as long as every cavity is proper; common where a factor
 	// is not log-concave).
 	NegativeSites int
-	// ImproperCavities counts the sites whose cavity was not a proper
-	// Gaussian in the last pass (LogZ is then NaN).
+	// ImproperCavities counts the sites whose cavity is not a proper
+	// Gaussian at the end. A one-dimensional site may have one where its
+	// tilted distribution is proper (the factor decays); a full site may
+	// not (it is then not updated).
 	ImproperCavities int
+	// UnsettledTilted counts the sites whose tilted distribution could not
+	// be integrated in the last pass (an improper cavity and a factor that
+	// does not decay): LogZ is then NaN.
+	UnsettledTilted int
 	// MomentGap is the largest disagreement, in the last pass, between a
 	// factor's tilted moments and the approximation's (mean difference in
 	// standard deviations, relative variance difference): near 0 at a
@@ -208,7 +214,9 @@ type Result struct {
 // cavity's standardised a^T x); any other factor has a full site and a
 // tensor Gauss-Hermite cubature in the cavity's whitened coordinates.
 //
-// A site update whose cavity is not a proper Gaussian is skipped; one that
+// A full site's update whose cavity is not a proper Gaussian is skipped, as
+// is a rank-one site's whose tilted distribution cannot be integrated (an
+// improper cavity and a factor that does not decay); an update that
 // would make the approximation improper is retried with half the step,
 // down to MinDamping, and skipped after that. Negative site precisions are
 // kept when every cavity and the approximation stay proper (Gelman et al.

@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"math"
 
+	"gonum.org/v1/gonum/mat"
+
 	"bellcheck/engine/hermite"
 )
 
@@ -170,10 +172,9 @@ func newRunner(fs Factors, s Settings) (*runner, error) {
 			}
 			continue
 		}
-		if !cholesky(r.tmp, negated(h, r.cav.prec), d) {
+		if !psdPart(st.prec, negated(h, r.cav.prec), d) {
 			continue // not concave here: the site starts flat
 		}
-		copy(st.prec, r.cav.prec)
 		mulVec(st.lin, st.prec, x0, d)
 		for j := range st.lin {
 			st.lin[j] += g[j]
@@ -184,6 +185,33 @@ func newRunner(fs Factors, s Settings) (*runner, error) {
 		return nil, ErrImproper
 	}
 	return r, nil
+}
+
+// psdPart writes into out the positive semi-definite part of the
+// symmetric a (its eigen-decomposition with the negative eigenvalues set to
+// 0) and reports whether that part is not zero.
+func psdPart(out, a []float64, d int) bool {
+	var eig mat.EigenSym
+	if !eig.Factorize(mat.NewSymDense(d, append([]float64(nil), a...)), true) {
+		return false
+	}
+	vals := eig.Values(nil)
+	var vecs mat.Dense
+	eig.VectorsTo(&vecs)
+	clear(out)
+	some := false
+	for k, l := range vals {
+		if !(l > 0) || math.IsInf(l, 0) {
+			continue
+		}
+		some = true
+		for i := 0; i < d; i++ {
+			for j := 0; j < d; j++ {
+				out[i*d+j] += l * vecs.At(i, k) * vecs.At(j, k)
+			}
+		}
+	}
+	return some
 }
 
 func negated(h, out []float64) []float64 {

@@ -20,20 +20,15 @@ func (r *runner) update(st *site) bool {
 	return r.updateN(st)
 }
 
-// cavity1 returns the approximation's mean m and variance v of s = a^T x and
-// the cavity's, mc and vc (r.sa = cov a on return); ok is false when the
-// cavity is not a proper Gaussian.
-func (r *runner) cavity1(st *site) (m, v, mc, vc float64, ok bool) {
+// cavity1 returns the approximation's mean m and variance v of s = a^T x
+// and the cavity's natural parameters on s, exp(-pc s^2/2 + hc s) (r.sa =
+// cov a on return). The cavity may be improper (pc <= 0): the tilted
+// distribution can still be proper where the factor decays.
+func (r *runner) cavity1(st *site) (m, v, pc, hc float64) {
 	mulVec(r.sa, r.q.cov, st.a, r.d)
 	v = dot(st.a, r.sa)
 	m = dot(st.a, r.q.mean)
-	pc := 1/v - st.tau
-	if !(pc > 0) || math.IsInf(pc, 0) {
-		return m, v, 0, 0, false
-	}
-	vc = 1 / pc
-	mc = vc * (m/v - st.nu)
-	return m, v, mc, vc, true
+	return m, v, 1/v - st.tau, m/v - st.nu
 }
 
 // Tilted moments by Gauss-Hermite quadrature in the whitened coordinates of
@@ -55,26 +50,35 @@ func baseClose(m1, v1, mb, vb float64) bool {
 	return math.Abs(m1-mb) <= 0.1*math.Sqrt(vb) && math.Abs(math.Log(v1/vb)) <= 0.2
 }
 
-// tilted1 returns the log-normaliser, mean and variance of s = a^T x under
-// f(x) N(s; mc, vc). The factor is evaluated on the line
-// x = mean + cov a (s - m)/v of the approximation, where a^T x = s (the
-// factor depends on x only through s). NaN values of the factor count as
-// zero density; undefined counts them.
-func (r *runner) tilted1(st *site, rl rule1d, m, v, mc, vc float64) (logZ, mt, vt float64, undefined int) {
+// tilted1 returns J, the log of the integral of f(s) exp(-pc s^2/2 + hc s)
+// over s = a^T x, and the mean and variance of that tilted distribution;
+// settled is false when the bases did not settle (with an improper cavity:
+// the tilted distribution is not proper either). The factor is evaluated on
+// the line x = mean + cov a (s - m)/v of the approximation, where a^T x = s
+// (the factor depends on x only through s). NaN values of the factor count
+// as zero density; undefined counts them.
+func (r *runner) tilted1(st *site, rl rule1d, m, v, pc, hc float64) (J, mt, vt float64, settled bool, undefined int) {
 	mb, vb := m, v
 	for pass := 0; ; pass++ {
 		var und int
-		logZ, mt, vt, und = r.tilted1At(st, rl, m, v, mc, vc, mb, vb)
+		J, mt, vt, und = r.tilted1At(st, rl, m, v, pc, hc, mb, vb)
 		undefined += und
-		if pass+1 == maxPasses || !(vt > 0) || math.IsNaN(mt) || baseClose(mt, vt, mb, vb) {
-			return logZ, mt, vt, undefined
+		if !(vt > 0) || math.IsNaN(mt) || math.IsInf(vt, 0) {
+			return J, mt, vt, false, undefined
+		}
+		if baseClose(mt, vt, mb, vb) {
+			return J, mt, vt, true, undefined
+		}
+		if pass+1 == maxPasses {
+			return J, mt, vt, pc > 0, undefined
 		}
 		mb, vb = mt, vt
 	}
 }
 
-// tilted1At is tilted1 with the base N(mb, vb).
-func (r *runner) tilted1At(st *site, rl rule1d, m, v, mc, vc, mb, vb float64) (logZ, mt, vt float64, undefined int) {
+// tilted1At is tilted1 with the base N(mb, vb): with s = mb + sb z,
+// J = log E_z[f(s) exp(-pc s^2/2 + hc s + z^2/2) sb sqrt(2 pi)].
+func (r *runner) tilted1At(st *site, rl rule1d, m, v, pc, hc, mb, vb float64) (J, mt, vt float64, undefined int) {
 	n, d := len(rl.z), r.d
 	xs := grow(&r.xs, n*d)
 	lf := grow(&r.lf, n)
@@ -86,8 +90,7 @@ func (r *runner) tilted1At(st *site, rl rule1d, m, v, mc, vc, mb, vb float64) (l
 		}
 	}
 	r.fs.LogBlock(st.factor, xs, lf)
-	// log N(s; mc, vc) - log N(s; mb, vb) at s = mb + sb z.
-	lnorm := 0.5 * math.Log(vb/vc)
+	lnorm := math.Log(sb) + 0.5*math.Log(2*math.Pi)
 	mx := math.Inf(-1)
 	for k, l := range lf {
 		if math.IsNaN(l) {
@@ -95,8 +98,8 @@ func (r *runner) tilted1At(st *site, rl rule1d, m, v, mc, vc, mb, vb float64) (l
 			l = math.Inf(-1)
 		}
 		z := rl.z[k]
-		dc := mb + sb*z - mc
-		lf[k] = rl.lw[k] + l + lnorm - dc*dc/(2*vc) + z*z/2
+		s := mb + sb*z
+		lf[k] = rl.lw[k] + l + lnorm + s*(hc-pc*s/2) + z*z/2
 		mx = math.Max(mx, lf[k])
 	}
 	if math.IsInf(mx, 0) || math.IsNaN(mx) {
@@ -120,15 +123,12 @@ func (r *runner) tilted1At(st *site, rl rule1d, m, v, mc, vc, mb, vb float64) (l
 
 // update1 refines a rank-one site.
 func (r *runner) update1(st *site) bool {
-	m, v, mc, vc, ok := r.cavity1(st)
-	if !ok {
+	m, v, pc, hc := r.cavity1(st)
+	_, mt, vt, settled, _ := r.tilted1(st, r.rule1, m, v, pc, hc)
+	if !settled {
 		return false
 	}
-	logZ, mt, vt, _ := r.tilted1(st, r.rule1, m, v, mc, vc)
-	if !(vt > 0) || math.IsInf(logZ, 0) || math.IsNaN(mt) {
-		return false
-	}
-	tauNew, nuNew := 1/vt-1/vc, mt/vt-mc/vc
+	tauNew, nuNew := 1/vt-pc, mt/vt-hc
 	d := r.d
 	for step := r.damping; step >= r.s.MinDamping; step /= 2 {
 		dtau := step * (tauNew - st.tau)
@@ -150,7 +150,6 @@ func (r *runner) update1(st *site) bool {
 		}
 		st.tau += dtau
 		st.nu += dnu
-		st.logZ = logZ
 		return true
 	}
 	return false
@@ -373,7 +372,7 @@ func (r *runner) finish(res *Result) *Result {
 	res.Damping = r.damping
 	res.Nodes1D, res.NodesPerAxis = r.s.Nodes1D, r.s.NodesPerAxis
 	res.MomentGap, res.QuadratureError, res.Undefined = 0, 0, 0
-	res.NegativeSites, res.ImproperCavities, res.Sites = 0, 0, nil
+	res.NegativeSites, res.ImproperCavities, res.UnsettledTilted, res.Sites = 0, 0, 0, nil
 	logZ := r.konst + q.phi
 	fine1 := newRule1d(r.s.Nodes1D*3/2 + 1)
 	var fineN ruleNd
@@ -398,36 +397,44 @@ func (r *runner) finish(res *Result) *Result {
 				res.NegativeSites++
 			}
 		}
-		if !r.formCavity(st) {
-			res.ImproperCavities++
-			logZ = math.NaN()
-			res.Sites = append(res.Sites, out)
-			continue
-		}
-		var lz float64
+		var lz float64 // log Z_i + phi(cavity_i) - phi(q)
 		var und int
 		if st.a != nil {
-			m, v, mc, vc, ok := r.cavity1(st)
-			if !ok {
+			m, v, pc, hc := r.cavity1(st)
+			if !(pc > 0) {
 				res.ImproperCavities++
+			}
+			J, m1, v1, settled, u := r.tilted1(st, r.rule1, m, v, pc, hc)
+			_, m2, v2, _, _ := r.tilted1(st, fine1, m, v, pc, hc)
+			und = u
+			if !settled {
+				res.UnsettledTilted++
+				logZ = math.NaN()
+			}
+			res.MomentGap = math.Max(res.MomentGap, gap1(m1, v1, m, v))
+			res.QuadratureError = math.Max(res.QuadratureError, gap1(m2, v2, m1, v1))
+			// phi(cavity) - phi(q) is the difference of the one-dimensional
+			// log-normalisers of s (the conditional parts cancel).
+			lz = J - phi1(1/v, m/v)
+			out.LogZ = J - phi1(pc, hc)
+		} else {
+			if !r.formCavity(st) {
+				res.ImproperCavities++
+				res.UnsettledTilted++
 				logZ = math.NaN()
 				res.Sites = append(res.Sites, out)
 				continue
 			}
-			var m1, v1 float64
-			lz, m1, v1, und = r.tilted1(st, r.rule1, m, v, mc, vc)
-			_, m2, v2, _ := r.tilted1(st, fine1, m, v, mc, vc)
-			res.MomentGap = math.Max(res.MomentGap, gap1(m1, v1, m, v))
-			res.QuadratureError = math.Max(res.QuadratureError, gap1(m2, v2, m1, v1))
-		} else {
-			lz, und = r.tiltedN(st, r.ruleN, mt, ct)
+			var l float64
+			l, und = r.tiltedN(st, r.ruleN, mt, ct)
 			r.tiltedN(st, fineN, mt2, ct2)
 			res.MomentGap = math.Max(res.MomentGap, gapN(mt, ct, q.mean, q.cov, d))
 			res.QuadratureError = math.Max(res.QuadratureError, gapN(mt2, ct2, mt, ct, d))
+			out.LogZ = l
+			lz = l + r.cav.phi - q.phi
 		}
 		res.Undefined += und
-		out.LogZ = lz
-		logZ += lz + r.cav.phi - q.phi
+		logZ += lz
 		res.Sites = append(res.Sites, out)
 	}
 	if math.IsNaN(res.MomentGap) {
@@ -435,6 +442,11 @@ func (r *runner) finish(res *Result) *Result {
 	}
 	res.LogZ = logZ
 	return res
+}
+
+// phi1 is the log of the integral of exp(-p s^2/2 + h s), p > 0.
+func phi1(p, h float64) float64 {
+	return h*h/(2*p) - 0.5*math.Log(p) + 0.5*math.Log(2*math.Pi)
 }
 
 func allZero(v []float64) bool {

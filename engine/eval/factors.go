@@ -22,8 +22,8 @@ import (
 // Two properties are found from the graph, exactly:
 //   - a factor is quadratic when it is a polynomial of degree at most 2 in
 //     the parameters (Gaussian terms: priors, sums of squares);
-//   - a factor of one data element depends on the parameters through one
-//     linear combination a^T x when every operand that enters a non-linear
+//   - a factor of one data element (or a term with no sum inside) depends
+//     on the parameters through one linear combination a^T x when every operand that enters a non-linear
 //     operation is affine in the parameters and all those affine operands
 //     have parallel coefficient vectors (a regression's linear predictor).
 
@@ -126,8 +126,13 @@ func SplitFactors(m *model.Model) (*Factors, error) {
 		fs.terms = append(fs.terms, t)
 		fs.first = append(fs.first, fs.nfac)
 		if t.n == 0 {
+			// A scalar term with no sum inside: the same analysis.
+			var dir []float64
+			if st, ok := elementTerm(fs.nodes, t.root); ok {
+				dir = fs.direction(st, 0)
+			}
 			fs.nfac++
-			fs.dirs = append(fs.dirs, nil)
+			fs.dirs = append(fs.dirs, dir)
 			continue
 		}
 		fs.nfac += t.n
