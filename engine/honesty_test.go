@@ -26,6 +26,7 @@ var absentReasons = map[string][]string{
 	"reverse_kl": {CodeInfiniteKL, CodeFitFailed, CodeUnresolved},
 	"mean_field": {CodeInfiniteKL, CodeFitFailed, CodeUnresolved},
 	"forward_kl": {CodeNoVariance, CodeImproper, CodeFitFailed, CodeUnresolved},
+	"ep":         {CodeEPSingleFactor, CodeFitFailed, CodeUnresolved},
 	"log_z":      {CodeImproper, CodeUnresolved, CodeOverflow},
 	"mean":       {CodeNoMean, CodeImproper, CodeUnresolved, CodeOverflow},
 	"variance":   {CodeNoVariance, CodeImproper, CodeUnresolved, CodeOverflow},

@@ -83,6 +83,11 @@ func (a *analysis) fitEP(res *Result) error {
 		a.diag.add(CodeFitFailed, SeverityError, "No EP fit: %v.", err)
 		return nil
 	}
+	if math.IsInf(r.QuadratureError, 0) || math.IsNaN(r.QuadratureError) || math.IsInf(r.MomentGap, 0) {
+		a.diag.add(CodeFitFailed, SeverityError,
+			"No EP fit: the tilted distribution of a factor (the factor times the rest of the approximation) could not be integrated at the end: its quadrature gives no finite moments.")
+		return nil
+	}
 	cov := mat.NewSymDense(a.d, nil)
 	for i := 0; i < a.d; i++ {
 		for j := i; j < a.d; j++ {
