@@ -31,7 +31,9 @@ var (
 // highest mode, the reverse-KL Gaussian (started from the Laplace fit, or
 // the grid's moments where there is none) and its mean-field variant, and
 // the forward-KL Gaussian (the grid's moments; stage_fits.go); compare each
-// with the grid (compare.Compare; stage_compare.go); assemble the Result
+// with the grid (compare.Compare; stage_compare.go); settle which exact
+// moments exist and polish the mode on the original scale
+// (stage_exact.go); assemble the Result from the availability record
 // (stage_report.go) with the diagnostics of the grid
 // (stage_diagnostics.go); and draw the plots when opts.Plots is set
 // (plots.go).
@@ -56,6 +58,9 @@ type analysis struct {
 	opts Options
 	tr   *tracker
 	diag diagnostics
+	// avail records what the Result leaves out and why: the stages write
+	// it, the report reads it (availability.go).
+	avail availability
 
 	// problem is the model compiled and wrapped on the fitting scale
 	// (stage_setup.go).
@@ -68,6 +73,8 @@ type analysis struct {
 	// comparisons with the reference, in the same order (stage_compare.go).
 	fits []fitted
 	cmp  []compare.Result
+	// mode is the exact mode on the original scale (stage_exact.go).
+	mode []float64
 }
 
 // run runs the stages in order.
@@ -89,6 +96,7 @@ func (a *analysis) run() (*Result, error) {
 	if err := a.compareFits(); err != nil {
 		return nil, err
 	}
+	a.settleExact()
 	a.report(res)
 	a.gridDiagnostics()
 	if a.opts.Plots {

@@ -1,15 +1,19 @@
 package engine
 
 import (
+	"context"
 	"encoding/json"
 	"fmt"
 	"math"
 	"regexp"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"bellcheck/engine/model"
 )
 
 // The honesty checks that every result must pass, whatever the density:
@@ -17,24 +21,8 @@ import (
 // A result is honest when every number it reports can be right (a fit's
 // covariance is positive definite, a divergence is not negative, a share of
 // the mass lies in [0, 1], the ELBO does not exceed log Z) and every
-// quantity it leaves out comes with a diagnostic that says why.
-
-// absentReasons lists, for each quantity that may be absent, the
-// diagnostic codes that explain its absence.
-var absentReasons = map[string][]string{
-	"laplace":    {CodeNotPositiveDefinite, CodeModeOnBound, CodeNoMode, CodeFitFailed, CodeUnresolved},
-	"reverse_kl": {CodeInfiniteKL, CodeFitFailed, CodeUnresolved},
-	"mean_field": {CodeInfiniteKL, CodeFitFailed, CodeUnresolved},
-	"forward_kl": {CodeNoVariance, CodeImproper, CodeFitFailed, CodeUnresolved},
-	"ep":         {CodeEPSingleFactor, CodeFitFailed, CodeUnresolved},
-	"log_z":      {CodeImproper, CodeUnresolved, CodeOverflow},
-	"mean":       {CodeNoMean, CodeImproper, CodeUnresolved, CodeOverflow},
-	"variance":   {CodeNoVariance, CodeImproper, CodeUnresolved, CodeOverflow},
-	"kurtosis":   {CodeHeavyTails, CodeNoVariance, CodeImproper, CodeUnresolved, CodeOverflow},
-	"quantiles":  {CodeImproper, CodeUnresolved, CodeOverflow},
-	"mode":       {CodeModeNotPolished, CodeNoMode},
-	"coverage":   {CodeFitOffGrid, CodeUnresolved},
-}
+// quantity it leaves out comes with a diagnostic that says why (one of
+// the codes the availability record allows for it, absentReasons).
 
 // printedNonFinite matches a formatting error or a non-finite number
 // printed into a sentence (Go prints them as NaN, +Inf and -Inf; the
@@ -68,7 +56,7 @@ func honesty(res *Result, d int) []string {
 			fail("diagnostic %s has a broken message: %q", dg.Code, dg.Message)
 		}
 	}
-	reason := func(what string) bool {
+	reason := func(what Quantity) bool {
 		for _, c := range absentReasons[what] {
 			if codes[c] {
 				return true
@@ -76,7 +64,7 @@ func honesty(res *Result, d int) []string {
 		}
 		return false
 	}
-	absentNeedsReason := func(what, where string) {
+	absentNeedsReason := func(what Quantity, where string) {
 		if !reason(what) {
 			fail("%s is absent without a reason (want one of %v; have %v)", where, absentReasons[what], codeList(res))
 		}
@@ -89,7 +77,7 @@ func honesty(res *Result, d int) []string {
 	ex := &res.Exact
 	switch {
 	case math.IsNaN(ex.LogZ):
-		absentNeedsReason("log_z", "exact log Z")
+		absentNeedsReason(QuantityLogZ, "exact log Z")
 	case math.IsInf(ex.LogZ, 0):
 		fail("exact log Z is %g", ex.LogZ)
 	case !(ex.LogZErr >= 0):
@@ -101,21 +89,21 @@ func honesty(res *Result, d int) []string {
 	}
 	for k := 0; k < d; k++ {
 		if math.IsNaN(ex.Mean[k]) {
-			absentNeedsReason("mean", fmt.Sprintf("exact mean %d", k))
+			absentNeedsReason(QuantityMean, fmt.Sprintf("exact mean %d", k))
 		} else if math.IsInf(ex.Mean[k], 0) {
 			fail("exact mean %d is %g", k, ex.Mean[k])
 		}
 		v := ex.Cov[k][k]
 		switch {
 		case math.IsNaN(v):
-			absentNeedsReason("variance", fmt.Sprintf("exact variance %d", k))
+			absentNeedsReason(QuantityVariance, fmt.Sprintf("exact variance %d", k))
 		case !(v >= 0) || math.IsInf(v, 0):
 			fail("exact variance %d is %g", k, v)
 		case math.Abs(ex.SD[k]-math.Sqrt(v)) > 1e-9*math.Sqrt(v):
 			fail("exact sd %d is %g, the square root of the variance %g", k, ex.SD[k], v)
 		}
 		if math.IsNaN(ex.ExcessKurtosis[k]) {
-			absentNeedsReason("kurtosis", fmt.Sprintf("exact excess kurtosis %d", k))
+			absentNeedsReason(QuantityKurtosis, fmt.Sprintf("exact excess kurtosis %d", k))
 		} else if ex.ExcessKurtosis[k] < -2-honestyTol {
 			// Pearson's inequality: kurtosis >= skewness^2 + 1, so excess
 			// kurtosis >= -2 (an identity of any distribution).
@@ -128,12 +116,12 @@ func honesty(res *Result, d int) []string {
 		}
 		q := ex.Quantiles[k]
 		if math.IsNaN(q[0]) || math.IsNaN(q[1]) || math.IsNaN(q[2]) {
-			absentNeedsReason("quantiles", fmt.Sprintf("exact quantiles %d", k))
+			absentNeedsReason(QuantityQuantiles, fmt.Sprintf("exact quantiles %d", k))
 		} else if !(q[0] <= q[1] && q[1] <= q[2]) {
 			fail("exact quantiles %d out of order: %v", k, q)
 		}
 		if math.IsNaN(ex.Mode[k]) {
-			absentNeedsReason("mode", fmt.Sprintf("exact mode %d", k))
+			absentNeedsReason(QuantityMode, fmt.Sprintf("exact mode %d", k))
 		} else if math.IsInf(ex.Mode[k], 0) {
 			fail("exact mode %d is %g", k, ex.Mode[k])
 		}
@@ -161,10 +149,10 @@ func honesty(res *Result, d int) []string {
 	for _, m := range Methods {
 		f := res.Fits[m]
 		if f == nil {
-			absentNeedsReason(m.Key(), "the "+m.Key()+" fit")
+			absentNeedsReason(m.quantity(), "the "+m.Key()+" fit")
 			continue
 		}
-		for _, s := range fitHonesty(m, f, res, d, reason("coverage")) {
+		for _, s := range fitHonesty(m, f, res, d, reason(QuantityCoverage)) {
 			fail("%s", s)
 		}
 	}
@@ -179,6 +167,39 @@ func honesty(res *Result, d int) []string {
 		fail("JSON: %v", err)
 	} else if !json.Valid(raw) {
 		fail("JSON not valid: %.200s", raw)
+	}
+	return bad
+}
+
+// analyseRecorded runs Analyse and returns its availability record too.
+func analyseRecorded(ctx context.Context, m *model.Model, opts Options) (*Result, *availability, error) {
+	a := &analysis{ctx: ctx, m: m, opts: opts, tr: newTracker(nil)}
+	res, err := a.run()
+	return res, &a.avail, err
+}
+
+// recordHonesty returns the ways in which the availability record of res
+// is wrong: an absence recorded with a code that absentReasons does not
+// allow for the quantity, or whose diagnostic is not in the Result, or a
+// fit recorded absent that the Result has (or present that it lacks).
+func recordHonesty(res *Result, av *availability) []string {
+	var bad []string
+	codes := map[string]bool{}
+	for _, dg := range res.Diagnostics {
+		codes[dg.Code] = true
+	}
+	for e, code := range av.absent {
+		if !slices.Contains(absentReasons[e.q], code) {
+			bad = append(bad, fmt.Sprintf("record: %s (%d, %d) absent for %s, not one of %v", e.q, e.i, e.j, code, absentReasons[e.q]))
+		}
+		if !codes[code] {
+			bad = append(bad, fmt.Sprintf("record: %s (%d, %d) absent for %s, which no diagnostic says", e.q, e.i, e.j, code))
+		}
+	}
+	for _, m := range Methods {
+		if gone := !av.present(m.quantity()); gone != (res.Fits[m] == nil) {
+			bad = append(bad, fmt.Sprintf("record: the %s fit recorded absent %v, but the Result has it %v", m.Key(), gone, res.Fits[m] != nil))
+		}
 	}
 	return bad
 }

@@ -9,7 +9,6 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"bellcheck/engine/compare"
-	"bellcheck/engine/fit"
 )
 
 // compareFits is the comparison stage: it compares each fit with the
@@ -23,6 +22,7 @@ func (a *analysis) compareFits() error {
 	for _, f := range a.fits {
 		if err := degenerate(f.g.Cov); err != nil {
 			*f.out = nil
+			a.avail.drop(f.method.quantity(), CodeFitFailed)
 			a.diag.add(CodeFitFailed, SeverityError, "No %s fit: its covariance is degenerate (%v).", f.method.term(), err)
 			continue
 		}
@@ -48,10 +48,20 @@ func (a *analysis) compareFits() error {
 	a.cmp = cmp
 	for i, f := range a.fits {
 		c := cmp[i]
+		if a.ref.noise > 0 {
+			// Below zero only by the rounding noise of log p.
+			if c.KLqp < 0 {
+				a.avail.dropAt(QuantityKLqp, int(f.method), CodeLostPrecision)
+			}
+			if c.KLpq < 0 {
+				a.avail.dropAt(QuantityKLpq, int(f.method), CodeLostPrecision)
+			}
+		}
 		if c.Method != compare.Cubature {
 			continue
 		}
 		if !c.Resolved {
+			a.avail.dropAt(QuantityCoverage, int(f.method), CodeFitOffGrid)
 			a.diag.add(CodeFitOffGrid, SeverityInfo,
 				"The %s fit is narrower than the grid resolves; its KL(q||p) and Hellinger distance come from a cubature in its own coordinates, and its coverage is not reported.",
 				f.method.term())
@@ -62,35 +72,6 @@ func (a *analysis) compareFits() error {
 		}
 	}
 	return nil
-}
-
-// checkELBO compares the ELBO of each converged reverse-KL fit with the
-// grid's log Z: the ELBO is a lower bound on log Z for every Gaussian
-// (Jensen's inequality), so an ELBO above log Z by more than the grid's
-// error estimate means that the grid missed mass the fit found (a peak
-// narrower than the grid's spacing, between its nodes), or that the fit's
-// cubature erred. Either way the grid's results cannot stand: they are
-// marked unresolved, and the forward-KL fit, made from them, is not made.
-func (a *analysis) checkELBO(fits ...*fit.VariationalFit) {
-	if a.ref.unresolved {
-		return
-	}
-	lz := a.ref.logZ
-	tol := 1e-6*(1+math.Abs(lz)) + 3*a.ref.logZErr
-	for _, vf := range fits {
-		if vf == nil || !vf.Converged || !(vf.ELBO > lz+tol) {
-			continue
-		}
-		a.ref.unresolved = true
-		a.ref.noVariance = true
-		for k := range a.ref.varUnsettled {
-			a.ref.varUnsettled[k] = true
-		}
-		a.diag.add(CodeUnresolved, SeverityError,
-			"A reverse-KL fit's ELBO, a lower bound on log Z, exceeds the grid's log Z by %.3g: the grid has missed part of the mass (a peak narrower than its spacing, near %s) or the fit's cubature erred, so log Z, the exact moments and the fits' comparisons with them are not reported.",
-			vf.ELBO-lz, a.pointString(vf.Mean))
-		return
-	}
 }
 
 // degenerate reports a covariance whose correlation matrix is not

@@ -37,7 +37,7 @@ func (a *analysis) gridDiagnostics() {
 	f := &a.ref.fitting
 	var heavy []string
 	for k := 0; k < a.d; k++ {
-		if !a.ref.varUnsettled[k] && f.TailShare[k] > tailShareWarn {
+		if a.avail.presentAt(QuantityAxisErrors, k) && f.TailShare[k] > tailShareWarn {
 			heavy = append(heavy, a.names[k])
 		}
 	}
@@ -50,7 +50,7 @@ func (a *analysis) gridDiagnostics() {
 			"The log-density is NaN or +inf at %s of the grid points; they were left out of every result.", percentPoints(a.ref.nonFinite))
 	}
 	for k := 0; k < a.d; k++ {
-		if a.ref.varUnsettled[k] {
+		if !a.avail.presentAt(QuantityAxisErrors, k) {
 			continue
 		}
 		scale := ""
@@ -76,7 +76,7 @@ func (a *analysis) gridDiagnostics() {
 		bad = append(bad, fmt.Sprintf("log Z by about %.2g", a.ref.logZErr))
 	}
 	for k := 0; k < a.d; k++ {
-		if sd, e := o.SD[k], o.MeanErr[k]; a.ref.varUnsettled[k] || !(sd > 0) || math.IsInf(sd, 0) || math.IsNaN(e) || math.IsInf(e, 0) {
+		if sd, e := o.SD[k], o.MeanErr[k]; !a.avail.presentAt(QuantityAxisErrors, k) || !(sd > 0) || math.IsInf(sd, 0) || math.IsNaN(e) || math.IsInf(e, 0) {
 			// No variance, or moments that overflowed on the original
 			// scale (reported by dropOverflow).
 			continue
@@ -88,7 +88,7 @@ func (a *analysis) gridDiagnostics() {
 			bad = append(bad, fmt.Sprintf("the variance of %s by %s", a.names[k], percent(o.CovErr[k][k]/v)))
 		}
 	}
-	if len(bad) > 0 && !a.ref.unresolved {
+	if len(bad) > 0 && a.avail.resolved() {
 		a.diag.add(CodeGridError, SeverityWarning,
 			"The grid may be too coarse: at half resolution it changes %s; give the parameters more points.", list(bad))
 	}

@@ -34,6 +34,7 @@ func (a *analysis) fitEP(res *Result) error {
 	a.tr.enter(stageEP)
 	fs, err := eval.SplitFactors(a.m)
 	if err != nil {
+		a.avail.drop(EP.quantity(), CodeFitFailed)
 		a.diag.add(CodeFitFailed, SeverityError, "No EP fit: %v.", err)
 		return nil
 	}
@@ -51,11 +52,13 @@ func (a *analysis) fitEP(res *Result) error {
 		}
 	}
 	if sites == 1 {
+		a.avail.drop(EP.quantity(), CodeEPSingleFactor)
 		a.diag.add(CodeEPSingleFactor, SeverityInfo,
 			"No EP fit: the density is a single factor that cannot be split (write a likelihood over data as sum(...) and a Gaussian prior as its own term), so EP would be moment matching of the whole density: the forward-KL fit.")
 		return nil
 	}
 	if work > epMaxWork {
+		a.avail.drop(EP.quantity(), CodeFitFailed)
 		a.diag.add(CodeFitFailed, SeverityInfo,
 			"No EP fit: %d factors need %.2g evaluations per sweep, more than the %.2g allowed.", sites, work, float64(epMaxWork))
 		return nil
@@ -64,7 +67,7 @@ func (a *analysis) fitEP(res *Result) error {
 	switch {
 	case len(a.modes.fitModes) > 0:
 		start = a.modes.fitModes[0].X
-	case !a.ref.noVariance:
+	case a.avail.presentAt(QuantityMean, 0) && allFinite(a.ref.fitting.Mean):
 		start = a.ref.fitting.Mean
 	}
 	r, err := ep.Run(a.ctx, sf, &ep.Settings{Start: start, Progress: func(sweep int, _ float64) error {
@@ -76,14 +79,17 @@ func (a *analysis) fitEP(res *Result) error {
 	}
 	switch {
 	case errors.Is(err, ep.ErrSingleFactor):
+		a.avail.drop(EP.quantity(), CodeEPSingleFactor)
 		a.diag.add(CodeEPSingleFactor, SeverityInfo,
 			"No EP fit: the density is a single factor that cannot be split and has no Gaussian term, so EP would be moment matching of the whole density: the forward-KL fit.")
 		return nil
 	case err != nil:
+		a.avail.drop(EP.quantity(), CodeFitFailed)
 		a.diag.add(CodeFitFailed, SeverityError, "No EP fit: %v.", err)
 		return nil
 	}
 	if math.IsInf(r.QuadratureError, 0) || math.IsNaN(r.QuadratureError) || math.IsInf(r.MomentGap, 0) {
+		a.avail.drop(EP.quantity(), CodeFitFailed)
 		a.diag.add(CodeFitFailed, SeverityError,
 			"No EP fit: the tilted distribution of a factor (the factor times the rest of the approximation) could not be integrated at the end: its quadrature gives no finite moments.")
 		return nil
@@ -96,6 +102,7 @@ func (a *analysis) fitEP(res *Result) error {
 	}
 	g, err := fit.MomentMatch(r.Mean, cov)
 	if err != nil {
+		a.avail.drop(EP.quantity(), CodeFitFailed)
 		a.diag.add(CodeFitFailed, SeverityError, "No EP fit: %v.", err)
 		return nil
 	}
@@ -251,4 +258,13 @@ func (sf *scaledFactors) LogDerivs(i int, z, grad, hess []float64) float64 {
 		hess[k*d+k] += sf.gx[k] * d2x[k]
 	}
 	return v
+}
+
+func allFinite(x []float64) bool {
+	for _, v := range x {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return false
+		}
+	}
+	return len(x) > 0
 }

@@ -37,11 +37,38 @@ func (a *analysis) fitAll(res *Result) error {
 	return nil
 }
 
+// checkELBO compares the ELBO of each converged reverse-KL fit with the
+// grid's log Z: the ELBO is a lower bound on log Z for every Gaussian
+// (Jensen's inequality), so an ELBO above log Z by more than the grid's
+// error estimate means that the grid missed mass the fit found (a peak
+// narrower than the grid's spacing, between its nodes), or that the fit's
+// cubature erred. Either way the grid's results cannot stand: they are
+// recorded as absent for want of resolution, and the forward-KL fit, made
+// from them, is not made.
+func (a *analysis) checkELBO(fits ...*fit.VariationalFit) {
+	if !a.avail.resolved() {
+		return
+	}
+	lz := a.ref.logZ
+	tol := 1e-6*(1+math.Abs(lz)) + 3*a.ref.logZErr
+	for _, vf := range fits {
+		if vf == nil || !vf.Converged || !(vf.ELBO > lz+tol) {
+			continue
+		}
+		a.avail.dropUnresolved()
+		a.diag.add(CodeUnresolved, SeverityError,
+			"A reverse-KL fit's ELBO, a lower bound on log Z, exceeds the grid's log Z by %.3g: the grid has missed part of the mass (a peak narrower than its spacing, near %s) or the fit's cubature erred, so log Z, the exact moments and the fits' comparisons with them are not reported.",
+			vf.ELBO-lz, a.pointString(vf.Mean))
+		return
+	}
+}
+
 // fitLaplace fits the Laplace approximation at the highest mode; nil where
 // there is none, with a diagnostic saying why.
 func (a *analysis) fitLaplace(res *Result) *fit.LaplaceFit {
 	a.tr.enter(stageLaplace)
 	if len(a.modes.fitModes) == 0 {
+		a.avail.drop(Laplace.quantity(), CodeNoMode)
 		return nil
 	}
 	m := a.modes.fitModes[0]
@@ -55,6 +82,7 @@ func (a *analysis) fitLaplace(res *Result) *fit.LaplaceFit {
 		a.fits = append(a.fits, fitted{Laplace, lf.Gaussian, lf.Precision, &res.Fits[Laplace]})
 		return &lf
 	case errors.Is(err, fit.ErrOnBound):
+		a.avail.drop(Laplace.quantity(), CodeModeOnBound)
 		a.diag.add(CodeModeOnBound, SeverityWarning,
 			"No Laplace fit: the highest mode, at %s, lies on a bound of the support, where the curvature does not describe the density.", a.pointString(m.X))
 	case errors.Is(err, fit.ErrNotPositiveDefinite):
@@ -62,9 +90,11 @@ func (a *analysis) fitLaplace(res *Result) *fit.LaplaceFit {
 		if m.Flat {
 			why = "the curvature there is numerically zero (the density is flatter than a Gaussian at its peak)"
 		}
+		a.avail.drop(Laplace.quantity(), CodeNotPositiveDefinite)
 		a.diag.add(CodeNotPositiveDefinite, SeverityWarning,
 			"No Laplace fit: at the highest mode, %s, %s.", a.pointString(m.X), why)
 	default:
+		a.avail.drop(Laplace.quantity(), CodeFitFailed)
 		a.diag.add(CodeFitFailed, SeverityError, "No Laplace fit: %v.", err)
 	}
 	return nil
@@ -77,7 +107,7 @@ func (a *analysis) fitReverse(res *Result, lap *fit.LaplaceFit) (rev, mfit *fit.
 	var init *fit.Gaussian
 	if lap != nil {
 		init = &lap.Gaussian
-	} else if !a.ref.noVariance {
+	} else if a.varianceSettled() {
 		if g, err := fit.MomentMatch(a.ref.fitting.Mean, symFromRows(a.ref.fitting.Cov)); err == nil {
 			init = &g
 		}
@@ -102,13 +132,16 @@ func (a *analysis) fitReverse(res *Result, lap *fit.LaplaceFit) (rev, mfit *fit.
 				"The %s fit did not converge in %d steps (residual %.2g); its last iterate is shown, marked as not converged.",
 				label, vf.Iterations, math.Max(vf.GradResidual, vf.PrecisionResidual))
 			if vf.Mean == nil || vf.Cov == nil {
+				a.avail.drop(m.quantity(), CodeNoConvergence)
 				return nil, nil
 			}
 			return &vf, nil
 		case errors.Is(err, fit.ErrInfiniteKL):
 			infiniteKL = true
+			a.avail.drop(m.quantity(), CodeInfiniteKL)
 			return nil, nil
 		default:
+			a.avail.drop(m.quantity(), CodeFitFailed)
 			a.diag.add(CodeFitFailed, SeverityError, "No %s fit: %v.", label, err)
 			return nil, nil
 		}
@@ -125,6 +158,8 @@ func (a *analysis) fitReverse(res *Result, lap *fit.LaplaceFit) (rev, mfit *fit.
 			return nil, nil, false, err
 		}
 	} else {
+		a.avail.drop(ReverseKL.quantity(), CodeFitFailed)
+		a.avail.drop(MeanField.quantity(), CodeFitFailed)
 		a.diag.add(CodeFitFailed, SeverityError,
 			"No reverse-KL fits: there is neither a Laplace fit nor an exact covariance to start them from.")
 	}
@@ -145,11 +180,15 @@ func (a *analysis) fitReverse(res *Result, lap *fit.LaplaceFit) (rev, mfit *fit.
 
 // fitForward matches the reference's moments, where its variance settles.
 func (a *analysis) fitForward(res *Result) {
-	if a.ref.noVariance {
-		return
+	for k := 0; k < a.d; k++ {
+		if why := a.avail.whyAt(QuantityAxisErrors, k); why != "" {
+			a.avail.drop(ForwardKL.quantity(), why)
+			return
+		}
 	}
 	g, err := fit.MomentMatch(a.ref.fitting.Mean, symFromRows(a.ref.fitting.Cov))
 	if err != nil {
+		a.avail.drop(ForwardKL.quantity(), CodeFitFailed)
 		a.diag.add(CodeFitFailed, SeverityError, "No forward-KL fit: %v.", err)
 		return
 	}
@@ -181,6 +220,17 @@ func (a *analysis) boundedKL(infiniteKL bool) {
 		a.diag.add(CodeInfiniteKL, SeverityWarning,
 			"The density is zero where the reverse-KL cubature reaches, so KL(q||p) is infinite for every Gaussian and the reverse-KL fits do not exist; if a parameter is bounded, declare its support and fit it on the log or logit scale.")
 	}
+}
+
+// varianceSettled reports that the exact variance on the fitting scale
+// settles along every axis.
+func (a *analysis) varianceSettled() bool {
+	for k := 0; k < a.d; k++ {
+		if !a.avail.presentAt(QuantityAxisErrors, k) {
+			return false
+		}
+	}
+	return true
 }
 
 // symFromRows returns the symmetric matrix whose upper triangle is r's.

@@ -109,7 +109,7 @@ func (a *analysis) findModes() error {
 		m := modes[i]
 		a.modes.fitModes = append(a.modes.fitModes, m)
 		a.modes.modes = append(a.modes.modes, Mode{
-			X: append([]float64(nil), m.X...), LogDensity: m.LogDensity, Mass: masses[i],
+			X: slices.Clone(m.X), LogDensity: m.LogDensity, Mass: masses[i],
 			PositiveDefinite: m.PositiveDefinite, OnBound: m.OnBound,
 		})
 	}

@@ -11,10 +11,18 @@ import (
 // reference is what the reference stage hands on: the exact posterior on
 // the fitting and the original scale, its error estimates, and the
 // verdicts of the stage's checks. The stages after it read the exact
-// posterior only through these fields and methods, never the grid's
-// statistics, so another quadrature can take the stage's place; the grid
-// itself serves the mode search (its peaks and box), the comparison and
-// the plots (its nodes, marginals and pairs).
+// posterior only through these fields and the method improper, never the
+// grid's statistics, so another quadrature can take the stage's place.
+// Its contract:
+//   - fill every field below; grid serves the mode search (its peaks and
+//     box), the comparison (compare.Compare) and the plots (its nodes,
+//     marginals and pairs);
+//   - record in a.avail what it cannot stand behind: dropUnresolved where
+//     it does not resolve the density, log Z where the density is not
+//     integrable, the divergences where log p is rounding noise, and per
+//     axis the fits' mean errors and sd ratios (QuantityAxisErrors) where
+//     the variance does not settle;
+//   - say why in a.diag, with the codes those records name.
 type reference struct {
 	// grid is the evaluated grid on the fitting scale; read-only.
 	grid *grid.Grid
@@ -40,19 +48,12 @@ type reference struct {
 	// for a density that is infinite at a bound (checkSingularBounds).
 	errScale float64
 
-	// unresolved reports a grid that cannot integrate the density: it is
-	// +Inf at some node, or one node holds most of the mass.
-	unresolved bool
 	// singularImproper reports a density that grows too fast towards a
 	// bound of its support to be integrable (like 1/x).
 	singularImproper bool
 	// noise is the spacing of doubles at the grid's highest log p where it
 	// exceeds precisionWarn: the rounding noise of log p (0 otherwise).
 	noise float64
-	// varUnsettled reports, per parameter on the fitting scale, a variance
-	// that does not settle as the box widens; noVariance reports any.
-	varUnsettled []bool
-	noVariance   bool
 }
 
 // findReference is the reference stage: it finds the box, evaluates the
@@ -310,7 +311,7 @@ func (a *analysis) checkResolved() {
 		}
 	}
 	if posInf > 0 {
-		a.ref.unresolved = true
+		a.avail.dropUnresolved()
 		a.diag.add(CodeUnresolved, SeverityError,
 			"The log-density is +inf at %d of the grid points: the density is infinite there (an overflow, or a singularity), which a grid cannot integrate, so log Z, the exact moments and the fits' comparisons with them are not reported.", posInf)
 		return
@@ -329,7 +330,7 @@ func (a *analysis) checkResolved() {
 			continue
 		}
 		if mass[top] > unresolvedShare {
-			a.ref.unresolved = true
+			a.avail.dropUnresolved()
 			at := a.names[k]
 			if x := a.maps[k].ToOriginal(g.Nodes[k][top]); !math.IsInf(x, 0) {
 				at = fmt.Sprintf("%s = %.4g", a.names[k], x)
@@ -363,6 +364,9 @@ func (a *analysis) checkPrecision() {
 	what := "divergences near zero are noise and negative ones are not reported"
 	if ulp > precisionAbsent {
 		what = "the divergences and Hellinger distances are noise and are not reported"
+		for _, q := range []Quantity{QuantityKLqp, QuantityKLpq, QuantityHellinger} {
+			a.avail.drop(q, CodeLostPrecision)
+		}
 	}
 	a.diag.add(CodeLostPrecision, SeverityWarning,
 		"log p is about %.3g at its highest, where doubles lie %.2g apart: the density carries rounding noise of that size in log p, so %s; move the large constant out of the model (log p needs only be right up to a constant).",
@@ -437,6 +441,7 @@ func (a *analysis) checkSingularBounds() (errScale float64) {
 			if slope < nonIntegrableSlope {
 				// Like 1/x or steeper: not integrable at the bound.
 				a.ref.singularImproper = true
+				a.avail.drop(QuantityLogZ, CodeImproper)
 				a.diag.add(CodeImproper, SeverityError,
 					"The density grows towards the %s bound of %s (%g) like a power %.2g of the distance, too fast to be integrable there: the density looks improper, so log Z and the exact moments are not reported.",
 					sides[side], a.names[k], bound, slope)
@@ -454,31 +459,21 @@ func (a *analysis) checkSingularBounds() (errScale float64) {
 }
 
 // checkTails decides, per parameter on the fitting scale, whether the
-// variance has settled.
+// variance has settled: where it has not (or the grid does not resolve the
+// density, or the axis is improper), the fits' mean errors and sd ratios
+// along it are absent, and so is the forward-KL fit.
 func (a *analysis) checkTails() {
 	st := &a.ref.grid.Stats
-	a.ref.varUnsettled = make([]bool, a.d)
 	for k := 0; k < a.d; k++ {
-		if a.ref.unresolved || a.ref.improper(k) || st.Fitting.TailShare[k] > tailShareAbsent || !(st.Fitting.SD[k] > 0) {
-			a.ref.varUnsettled[k] = true
-			a.ref.noVariance = true
+		switch {
+		case !a.avail.resolved():
+			a.avail.dropAt(QuantityAxisErrors, k, CodeUnresolved)
+		case a.ref.improper(k):
+			a.avail.dropAt(QuantityAxisErrors, k, CodeImproper)
+		case st.Fitting.TailShare[k] > tailShareAbsent || !(st.Fitting.SD[k] > 0):
+			a.avail.dropAt(QuantityAxisErrors, k, CodeNoVariance)
 		}
 	}
-}
-
-// logZAbsent reports that log Z is not reported: the grid does not resolve
-// the density, or the density looks improper (more mass beyond the box
-// than in it, or mass that stays at a face however far it is widened).
-func (r *reference) logZAbsent() bool {
-	if r.unresolved || r.tailMass > 1 {
-		return true
-	}
-	for k := range r.edgeMass {
-		if r.improper(k) {
-			return true
-		}
-	}
-	return false
 }
 
 // improper reports an axis whose box search stopped at its cap with more

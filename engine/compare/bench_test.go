@@ -12,7 +12,7 @@ import (
 // BenchmarkCompareBanana compares four Gaussians with the twisted Gaussian
 // on the default 301 x 301 grid.
 func BenchmarkCompareBanana(b *testing.B) {
-	p := &bananaDensity{}
+	p := bananaDensity()
 	g, err := grid.Evaluate(context.Background(), p, grid.Box{Lo: []float64{-61, -161}, Hi: []float64{61, 18}}, grid.Settings{})
 	if err != nil {
 		b.Fatal(err)

@@ -9,45 +9,26 @@ import (
 	"gonum.org/v1/gonum/stat/distuv"
 
 	"bellcheck/engine/grid"
-	"bellcheck/engine/target"
+	"bellcheck/engine/internal/targettest"
 )
 
-// gaussDensity is a hand-written normal log-density times exp(logScale).
-type gaussDensity struct {
-	mean    []float64
-	chol    mat.Cholesky
-	logNorm float64
-}
-
-func newGauss(mean []float64, cov *mat.SymDense, logScale float64) *gaussDensity {
-	g := &gaussDensity{mean: mean}
-	if !g.chol.Factorize(cov) {
+// newGauss returns a normal log-density times exp(logScale).
+func newGauss(mean []float64, cov *mat.SymDense, logScale float64) *targettest.Func {
+	var chol mat.Cholesky
+	if !chol.Factorize(cov) {
 		panic("not positive definite")
 	}
-	g.logNorm = -0.5*float64(len(mean))*math.Log(2*math.Pi) - 0.5*g.chol.LogDet() + logScale
-	return g
-}
-func (g *gaussDensity) Dim() int { return len(g.mean) }
-func (g *gaussDensity) LogDensity(x []float64) float64 {
-	r := mat.NewVecDense(len(x), nil)
-	for i := range x {
-		r.SetVec(i, x[i]-g.mean[i])
-	}
-	var s mat.VecDense
-	_ = g.chol.SolveVecTo(&s, r)
-	return g.logNorm - 0.5*mat.Dot(r, &s)
-}
-func (g *gaussDensity) LogDensityDerivs(x, gr, h []float64) float64 { panic("unused") }
-func (g *gaussDensity) LogDensityBlock(cols [][]float64, out []float64) {
-	x := make([]float64, len(cols))
-	for i := range out {
-		for k := range x {
-			x[k] = cols[k][i]
+	logNorm := -0.5*float64(len(mean))*math.Log(2*math.Pi) - 0.5*chol.LogDet() + logScale
+	return &targettest.Func{D: len(mean), LogP: func(x []float64) float64 {
+		r := mat.NewVecDense(len(x), nil)
+		for i := range x {
+			r.SetVec(i, x[i]-mean[i])
 		}
-		out[i] = g.LogDensity(x)
-	}
+		var s mat.VecDense
+		_ = chol.SolveVecTo(&s, r)
+		return logNorm - 0.5*mat.Dot(r, &s)
+	}}
 }
-func (g *gaussDensity) Clone() target.Density { return g }
 
 // klGauss is the closed-form KL(a||b) between normals (e.g. Kullback 1959;
 // standard result): 1/2 [tr(Sb^-1 Sa) + (mb-ma)' Sb^-1 (mb-ma) - d + ln det Sb/det Sa].
@@ -177,7 +158,7 @@ func TestCoverage(t *testing.T) {
 
 func TestInfiniteKL(t *testing.T) {
 	// p is zero for x < 0 inside the box: every Gaussian has KL(q||p) = +Inf.
-	p := &halfNormal{}
+	p := halfNormal()
 	g, err := grid.Evaluate(context.Background(), p, grid.Box{Lo: []float64{-1}, Hi: []float64{8}}, grid.Settings{})
 	if err != nil {
 		t.Fatal(err)
@@ -199,34 +180,20 @@ func TestInfiniteKL(t *testing.T) {
 	}
 }
 
-type halfNormal struct{}
+// halfNormal is the standard normal log-density on [0, inf].
+func halfNormal() *targettest.Func {
+	return &targettest.Func{D: 1, LogP: func(x []float64) float64 {
+		if x[0] < 0 {
+			return math.Inf(-1)
+		}
+		return -x[0] * x[0] / 2
+	}}
+}
 
-func (halfNormal) Dim() int { return 1 }
-func (halfNormal) LogDensity(x []float64) float64 {
-	if x[0] < 0 {
-		return math.Inf(-1)
-	}
-	return -x[0] * x[0] / 2
+// bananaDensity is a curved two-dimensional log-density.
+func bananaDensity() *targettest.Func {
+	return &targettest.Func{D: 2, LogP: func(x []float64) float64 {
+		u := x[1] + 0.05*x[0]*x[0] - 5
+		return -x[0]*x[0]/200 - u*u/2
+	}}
 }
-func (halfNormal) LogDensityDerivs(x, g, h []float64) float64 { panic("unused") }
-func (p halfNormal) LogDensityBlock(cols [][]float64, out []float64) {
-	for i := range out {
-		out[i] = p.LogDensity([]float64{cols[0][i]})
-	}
-}
-func (p halfNormal) Clone() target.Density { return p }
-
-type bananaDensity struct{}
-
-func (bananaDensity) Dim() int { return 2 }
-func (bananaDensity) LogDensity(x []float64) float64 {
-	u := x[1] + 0.05*x[0]*x[0] - 5
-	return -x[0]*x[0]/200 - u*u/2
-}
-func (bananaDensity) LogDensityDerivs(x, g, h []float64) float64 { panic("unused") }
-func (p bananaDensity) LogDensityBlock(cols [][]float64, out []float64) {
-	for i := range out {
-		out[i] = p.LogDensity([]float64{cols[0][i], cols[1][i]})
-	}
-}
-func (p bananaDensity) Clone() target.Density { return p }
