@@ -54,7 +54,7 @@ func (a *analysis) fitEP(res *Result) error {
 	if sites == 1 {
 		a.avail.drop(EP.quantity(), CodeEPSingleFactor)
 		a.diag.add(CodeEPSingleFactor, SeverityInfo,
-			"No EP fit: the density is a single factor that cannot be split (write a likelihood over data as sum(...) and a Gaussian prior as its own term), so EP would be moment matching of the whole density: the forward-KL fit.")
+			"No EP fit: besides its Gaussian terms the density is a single factor (no term splits into one factor per data element, and a Gaussian likelihood folds into a Gaussian term), so EP would be moment matching of the whole density: the forward-KL fit.")
 		return nil
 	}
 	if work > epMaxWork {
