@@ -477,4 +477,3 @@ func (fs *Factors) Describe(i int) string {
 	}
 	return fmt.Sprintf("element %d of a sum over %d elements", e+1, t.n)
 }
-
