@@ -70,7 +70,9 @@ func (a *analysis) fitEP(res *Result) error {
 	case a.avail.presentAt(QuantityMean, 0) && allFinite(a.ref.fitting.Mean):
 		start = a.ref.fitting.Mean
 	}
-	r, err := ep.Run(a.ctx, sf, &ep.Settings{Start: start, Progress: func(sweep int, _ float64) error {
+	// Refined cubatures of full sites stop at 8192 nodes (a 9^4 rule):
+	// beyond, a sweep would take seconds in the browser.
+	r, err := ep.Run(a.ctx, sf, &ep.Settings{Start: start, MaxCubatureNodes: 1 << 13, Progress: func(sweep int, _ float64) error {
 		a.tr.tick(sweep, 10)
 		return a.ctx.Err()
 	}})

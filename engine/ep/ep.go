@@ -65,6 +65,9 @@ type Settings struct {
 	// cubature for factors of several parameters (default 24, 12, 8, 6 for
 	// 1 to 4 parameters).
 	NodesPerAxis int
+	// MaxCubatureNodes bounds the nodes of a full site's cubature when
+	// the orders are refined (default 1<<16).
+	MaxCubatureNodes int
 	// QuadTol: where the tilted moments' estimated quadrature error (see
 	// Result.QuadratureError) exceeds QuadTol at the end, the orders are
 	// doubled and the sweeps go on (default 1e-9).
@@ -101,6 +104,9 @@ func (s *Settings) withDefaults(d int) Settings {
 	}
 	if r.Nodes1D <= 0 {
 		r.Nodes1D = 64
+	}
+	if r.MaxCubatureNodes <= 0 {
+		r.MaxCubatureNodes = 1 << 16
 	}
 	if !(r.QuadTol > 0) {
 		r.QuadTol = 1e-9

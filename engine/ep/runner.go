@@ -340,7 +340,7 @@ func (r *runner) refine() bool {
 		r.rule1 = newRule1d(n)
 		more = true
 	}
-	if n := 2 * r.s.NodesPerAxis; r.full > 0 && n <= maxNodes1D && pow(n, r.d) <= maxRefinedNodes {
+	if n := 2 * r.s.NodesPerAxis; r.full > 0 && n <= maxNodes1D && pow(n, r.d) <= r.s.MaxCubatureNodes {
 		r.s.NodesPerAxis = n
 		r.ruleN = newRuleNd(r.d, n)
 		more = true
@@ -350,9 +350,6 @@ func (r *runner) refine() bool {
 
 // maxNodes1D bounds the order of a one-dimensional rule when it is refined.
 const maxNodes1D = 512
-
-// maxRefinedNodes bounds the cubature of a full site when it is refined.
-const maxRefinedNodes = 1 << 16
 
 func pow(n, d int) int {
 	p := 1
