@@ -89,15 +89,14 @@ func (a *analysis) run() (*Result, error) {
 	if err := a.findModes(); err != nil {
 		return nil, err
 	}
-	res := &Result{Params: a.names, Form: a.m.Form.String(), Scales: a.scales, Modes: a.modes.modes}
-	if err := a.fitAll(res); err != nil {
+	if err := a.fitAll(); err != nil {
 		return nil, err
 	}
 	if err := a.compareFits(); err != nil {
 		return nil, err
 	}
 	a.settleExact()
-	a.report(res)
+	res := a.report()
 	a.gridDiagnostics()
 	if a.opts.Plots {
 		a.tr.enter(stagePlots)

@@ -1,34 +1,18 @@
 package engine
 
 import (
-	"errors"
 	"fmt"
 	"math"
 	"slices"
-
-	"gonum.org/v1/gonum/mat"
 
 	"bellcheck/engine/compare"
 )
 
 // compareFits is the comparison stage: it compares each fit with the
-// reference (compare.Compare), leaving out a fit whose covariance is
-// degenerate beyond its scales (a correlation matrix that cannot be
-// inverted): the comparison cannot use it, and the other fits still stand.
-// a.cmp holds the comparisons in the order of a.fits.
+// reference (compare.Compare); a.cmp holds the comparisons in the order of
+// a.fits.
 func (a *analysis) compareFits() error {
 	a.tr.enter(stageCompare)
-	kept := a.fits[:0]
-	for _, f := range a.fits {
-		if err := degenerate(f.g.Cov); err != nil {
-			*f.out = nil
-			a.avail.drop(f.method.quantity(), CodeFitFailed)
-			a.diag.add(CodeFitFailed, SeverityError, "No %s fit: its covariance is degenerate (%v).", f.method.term(), err)
-			continue
-		}
-		kept = append(kept, f)
-	}
-	a.fits = kept
 	if len(a.fits) == 0 {
 		return nil
 	}
@@ -72,23 +56,4 @@ func (a *analysis) compareFits() error {
 		}
 	}
 	return nil
-}
-
-// degenerate reports a covariance whose correlation matrix is not
-// positive definite or too ill-conditioned to invert (the test of the
-// comparison's precision).
-func degenerate(cov *mat.SymDense) error {
-	d := cov.SymmetricDim()
-	corr := mat.NewSymDense(d, nil)
-	for i := 0; i < d; i++ {
-		for j := i; j < d; j++ {
-			corr.SetSym(i, j, cov.At(i, j)/math.Sqrt(cov.At(i, i)*cov.At(j, j)))
-		}
-	}
-	var ch mat.Cholesky
-	if !ch.Factorize(corr) {
-		return errors.New("correlation matrix not positive definite")
-	}
-	var inv mat.SymDense
-	return ch.InverseTo(&inv)
 }

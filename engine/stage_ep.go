@@ -30,7 +30,7 @@ const epMaxWork = 4e6
 // diagnostic saying why, where the model is a single factor (EP would be
 // the forward-KL fit), where a sweep would be too costly, or where EP
 // fails.
-func (a *analysis) fitEP(res *Result) error {
+func (a *analysis) fitEP() error {
 	a.tr.enter(stageEP)
 	fs, err := eval.SplitFactors(a.m)
 	if err != nil {
@@ -109,13 +109,12 @@ func (a *analysis) fitEP(res *Result) error {
 		return nil
 	}
 	nSites, exact := len(r.Sites), r.Exact
-	out := &Fit{Iterations: r.Sweeps, Converged: r.Converged, Residual: r.Change, Factors: &nSites, ExactFactors: &exact}
+	run := Fit{Iterations: r.Sweeps, Converged: r.Converged, Residual: r.Change, Factors: &nSites, ExactFactors: &exact}
 	if !math.IsNaN(r.LogZ) && !math.IsInf(r.LogZ, 0) {
 		lz := r.LogZ
-		out.LogZ = &lz
+		run.LogZ = &lz
 	}
-	res.Fits[EP] = out
-	a.fits = append(a.fits, fitted{EP, g, nil, &res.Fits[EP]})
+	a.fits = append(a.fits, fitted{EP, g, nil, run})
 	if !r.Converged {
 		a.diag.add(CodeNoConvergence, SeverityWarning,
 			"The EP fit did not converge in %d sweeps (the last changed it by %.2g of a standard deviation, at a damping of %.2g); its last state is shown, marked as not converged.",

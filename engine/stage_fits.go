@@ -11,30 +11,48 @@ import (
 
 // fitted is one Gaussian fit that exists, as the fits stage hands it on:
 // its method, the Gaussian on the fitting scale, the curvature it uses
-// (nil for the forward-KL fit) and its entry in the Result.
+// (nil for the forward-KL fit), and the run that made it (run's moments
+// and comparison are filled by the report).
 type fitted struct {
 	method Method
 	g      fit.Gaussian
 	prec   *mat.SymDense
-	out    **Fit
+	run    Fit
 }
 
 // fitAll is the fits stage: the Laplace fit at the highest mode, the
 // reverse-KL fit and its mean-field variant, and the forward-KL fit (the
 // reference's moments).
-func (a *analysis) fitAll(res *Result) error {
-	lap := a.fitLaplace(res)
-	rev, mfit, infiniteKL, err := a.fitReverse(res, lap)
+func (a *analysis) fitAll() error {
+	lap := a.fitLaplace()
+	rev, mfit, infiniteKL, err := a.fitReverse(lap)
 	if err != nil {
 		return err
 	}
 	a.checkELBO(rev, mfit)
-	a.fitForward(res)
-	if err := a.fitEP(res); err != nil {
+	a.fitForward()
+	if err := a.fitEP(); err != nil {
 		return err
 	}
 	a.boundedKL(infiniteKL)
+	a.dropDegenerate()
 	return nil
+}
+
+// dropDegenerate leaves out a fit whose covariance is degenerate beyond
+// its scales (a correlation matrix that cannot be inverted): the
+// comparison cannot use it, and the other fits still stand.
+func (a *analysis) dropDegenerate() {
+	kept := a.fits[:0]
+	for _, f := range a.fits {
+		if err := degenerate(f.g.Cov); err != nil {
+			a.avail.drop(f.method.quantity(), CodeFitFailed)
+			a.diag.add(CodeFitFailed, SeverityError, "No %s fit: its covariance is degenerate (%v).", f.method.term(), err)
+			continue
+		}
+		kept = append(kept, f)
+	}
+	a.fits = kept
 }
 
 // checkELBO compares the ELBO of each converged reverse-KL fit with the
@@ -65,7 +83,7 @@ func (a *analysis) checkELBO(fits ...*fit.VariationalFit) {
 
 // fitLaplace fits the Laplace approximation at the highest mode; nil where
 // there is none, with a diagnostic saying why.
-func (a *analysis) fitLaplace(res *Result) *fit.LaplaceFit {
+func (a *analysis) fitLaplace() *fit.LaplaceFit {
 	a.tr.enter(stageLaplace)
 	if len(a.modes.fitModes) == 0 {
 		a.avail.drop(Laplace.quantity(), CodeNoMode)
@@ -75,11 +93,9 @@ func (a *analysis) fitLaplace(res *Result) *fit.LaplaceFit {
 	lf, err := fit.Laplace(m)
 	switch {
 	case err == nil:
-		f := &Fit{Iterations: m.Iterations, Converged: m.Converged, Residual: m.GradNorm}
 		lz := lf.LogZ
-		f.LogZ = &lz
-		res.Fits[Laplace] = f
-		a.fits = append(a.fits, fitted{Laplace, lf.Gaussian, lf.Precision, &res.Fits[Laplace]})
+		run := Fit{LogZ: &lz, Iterations: m.Iterations, Converged: m.Converged, Residual: m.GradNorm}
+		a.fits = append(a.fits, fitted{Laplace, lf.Gaussian, lf.Precision, run})
 		return &lf
 	case errors.Is(err, fit.ErrOnBound):
 		a.avail.drop(Laplace.quantity(), CodeModeOnBound)
@@ -103,7 +119,7 @@ func (a *analysis) fitLaplace(res *Result) *fit.LaplaceFit {
 // fitReverse fits the reverse-KL Gaussian and its mean-field variant,
 // started from the Laplace fit, else the reference's moments. infiniteKL
 // reports a density that is zero where the cubature reaches.
-func (a *analysis) fitReverse(res *Result, lap *fit.LaplaceFit) (rev, mfit *fit.VariationalFit, infiniteKL bool, err error) {
+func (a *analysis) fitReverse(lap *fit.LaplaceFit) (rev, mfit *fit.VariationalFit, infiniteKL bool, err error) {
 	var init *fit.Gaussian
 	if lap != nil {
 		init = &lap.Gaussian
@@ -171,15 +187,15 @@ func (a *analysis) fitReverse(res *Result, lap *fit.LaplaceFit) (rev, mfit *fit.
 			continue
 		}
 		elbo := v.vf.ELBO
-		res.Fits[v.m] = &Fit{ELBO: &elbo, Iterations: v.vf.Iterations, Converged: v.vf.Converged,
+		run := Fit{ELBO: &elbo, Iterations: v.vf.Iterations, Converged: v.vf.Converged,
 			Residual: math.Max(v.vf.GradResidual, v.vf.PrecisionResidual)}
-		a.fits = append(a.fits, fitted{v.m, v.vf.Gaussian, v.vf.Precision, &res.Fits[v.m]})
+		a.fits = append(a.fits, fitted{v.m, v.vf.Gaussian, v.vf.Precision, run})
 	}
 	return rev, mfit, infiniteKL, nil
 }
 
 // fitForward matches the reference's moments, where its variance settles.
-func (a *analysis) fitForward(res *Result) {
+func (a *analysis) fitForward() {
 	for k := 0; k < a.d; k++ {
 		if why := a.avail.whyAt(QuantityAxisErrors, k); why != "" {
 			a.avail.drop(ForwardKL.quantity(), why)
@@ -192,8 +208,7 @@ func (a *analysis) fitForward(res *Result) {
 		a.diag.add(CodeFitFailed, SeverityError, "No forward-KL fit: %v.", err)
 		return
 	}
-	res.Fits[ForwardKL] = &Fit{Converged: true}
-	a.fits = append(a.fits, fitted{ForwardKL, g, nil, &res.Fits[ForwardKL]})
+	a.fits = append(a.fits, fitted{ForwardKL, g, nil, Fit{Converged: true}})
 }
 
 // boundedKL says when KL(q||p) is infinite for every fit: a support
@@ -231,6 +246,25 @@ func (a *analysis) varianceSettled() bool {
 		}
 	}
 	return true
+}
+
+// degenerate reports a covariance whose correlation matrix is not
+// positive definite or too ill-conditioned to invert (the test of the
+// comparison's precision).
+func degenerate(cov *mat.SymDense) error {
+	d := cov.SymmetricDim()
+	corr := mat.NewSymDense(d, nil)
+	for i := 0; i < d; i++ {
+		for j := i; j < d; j++ {
+			corr.SetSym(i, j, cov.At(i, j)/math.Sqrt(cov.At(i, i)*cov.At(j, j)))
+		}
+	}
+	var ch mat.Cholesky
+	if !ch.Factorize(corr) {
+		return errors.New("correlation matrix not positive definite")
+	}
+	var inv mat.SymDense
+	return ch.InverseTo(&inv)
 }
 
 // symFromRows returns the symmetric matrix whose upper triangle is r's.

@@ -34,7 +34,8 @@ type reference struct {
 	// estimate and tailMass the share of the mass estimated beyond the box.
 	logZ, logZErr, tailMass float64
 	// fitting and original are the moments on the fitting and on the
-	// original scale; their error estimates include errScale.
+	// original scale; their error estimates are scaled up where the
+	// density is infinite at a bound (checkSingularBounds).
 	fitting, original grid.Moments
 	// edgeMass[k][side] is the share of the mass in the outermost layer
 	// of nodes at that face; nonFinite the share of nodes where log p is
@@ -44,9 +45,6 @@ type reference struct {
 	// exactMode is the node where the density on the original scale is
 	// highest, on the fitting scale.
 	exactMode []float64
-	// errScale is the factor by which the error estimates were scaled up
-	// for a density that is infinite at a bound (checkSingularBounds).
-	errScale float64
 
 	// singularImproper reports a density that grows too fast towards a
 	// bound of its support to be integrable (like 1/x).
@@ -78,7 +76,6 @@ func (a *analysis) findReference() error {
 // grid's own statistics stay as computed.
 func (r *reference) summarise() {
 	st := &r.grid.Stats
-	r.errScale = 1
 	r.logZ, r.logZErr, r.tailMass = st.LogZ, st.LogZErr, st.TailMass
 	r.fitting, r.original = cloneMoments(st.Fitting), cloneMoments(st.Original)
 	r.edgeMass, r.nonFinite = st.EdgeMass, st.NonFinite
@@ -89,7 +86,6 @@ func (r *reference) summarise() {
 // scaleErrors scales the error estimates of log Z and of the moments by
 // errScale.
 func (r *reference) scaleErrors(errScale float64) {
-	r.errScale = errScale
 	if errScale > 1 {
 		r.logZErr *= errScale
 		for _, m := range []*grid.Moments{&r.fitting, &r.original} {

@@ -8,19 +8,25 @@ import (
 	"bellcheck/engine/fit"
 )
 
-// report assembles the Result from what the stages handed on: each fit's
-// moments and comparison, the exact posterior and the grid's description.
-func (a *analysis) report(res *Result) {
-	a.fillFits()
+// report assembles the Result from what the stages handed on and the
+// availability record: the modes, each fit's moments and comparison, the
+// exact posterior and the grid's description. The diagnostics and the
+// timing are added at the end of the run.
+func (a *analysis) report() *Result {
+	res := &Result{Params: a.names, Form: a.m.Form.String(), Scales: a.scales, Modes: a.modes.modes}
+	a.fillFits(res)
 	a.fillExact(res)
 	a.fillGridInfo(res)
+	return res
 }
 
-// fillFits fills each fit that exists with its moments, its comparison
-// and its evidence error.
-func (a *analysis) fillFits() {
+// fillFits puts each fit that exists in the Result with its run, its
+// moments, its comparison and its evidence error.
+func (a *analysis) fillFits(res *Result) {
 	for i, f := range a.fits {
-		out := *f.out
+		out := new(Fit)
+		*out = f.run
+		res.Fits[f.method] = out
 		a.fillFit(out, f, a.cmp[i])
 		if !a.avail.present(QuantityLogZ) {
 			continue
