@@ -151,7 +151,8 @@ type Site struct {
 	Tau, Nu   float64
 	Prec, Lin []float64
 	// LogZ is the log of the tilted distribution's normaliser in the last
-	// pass (the factor's expectation under the normalised cavity).
+	// pass (the factor's expectation under the normalised cavity); NaN
+	// where the cavity is improper.
 	LogZ float64
 }
 

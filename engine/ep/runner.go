@@ -40,9 +40,9 @@ type runner struct {
 	sa    []float64 // scratch: cov a
 	tmp   []float64 // scratch d*d
 
-	skipped, undefined int
-	oneDim, full       int
-	damping            float64
+	skipped      int
+	oneDim, full int
+	damping      float64
 }
 
 // rule1d is a Gauss-Hermite rule for the standard normal.
