@@ -72,10 +72,13 @@ func (a *analysis) fitEP() error {
 	}
 	// Refined cubatures of full sites stop at 8192 nodes (a 9^4 rule):
 	// beyond, a sweep would take seconds in the browser.
-	r, err := ep.Run(a.ctx, sf, &ep.Settings{Start: start, MaxCubatureNodes: 1 << 13, Progress: func(sweep int, _ float64) error {
-		a.tr.tick(sweep, 10)
-		return a.ctx.Err()
-	}})
+	updates := 0
+	r, err := ep.Run(a.ctx, sf, &ep.Settings{Start: start, MaxCubatureNodes: 1 << 13,
+		Tick: func() error {
+			updates++
+			a.tr.tick(updates, float64(10*sites))
+			return a.ctx.Err()
+		}})
 	if ctxErr := a.ctx.Err(); ctxErr != nil {
 		return ctxErr
 	}

@@ -83,6 +83,10 @@ type Settings struct {
 	// Progress, when not nil, is called after every sweep; a non-nil error
 	// stops the run with that error.
 	Progress func(sweep int, change float64) error
+	// Tick, when not nil, is called after every site update (a caller
+	// that must yield often, as a page does, can do it there); a non-nil
+	// error stops the run with that error.
+	Tick func() error
 }
 
 func (s *Settings) withDefaults(d int) Settings {

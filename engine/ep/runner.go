@@ -40,9 +40,10 @@ type runner struct {
 	sa    []float64 // scratch: cov a
 	tmp   []float64 // scratch d*d
 
-	skipped      int
-	oneDim, full int
-	damping      float64
+	skipped            int
+	quadErr1, quadErrN float64 // the last pass's quadrature error estimates
+	oneDim, full       int
+	damping            float64
 }
 
 // rule1d is a Gauss-Hermite rule for the standard normal.
@@ -298,6 +299,11 @@ func (r *runner) run(ctx context.Context) (*Result, error) {
 				if !r.update(&r.sites[k]) {
 					skipped++
 				}
+				if r.s.Tick != nil {
+					if err := r.s.Tick(); err != nil {
+						return nil, err
+					}
+				}
 			}
 			r.skipped += skipped
 			r.rebuild()
@@ -331,16 +337,23 @@ func (r *runner) run(ctx context.Context) (*Result, error) {
 	}
 }
 
-// refine raises the quadrature orders (about doubling them) and reports
-// false when they are at their limits.
+// refine raises the orders of the rules whose error estimate exceeds
+// QuadTol (about doubling them) and reports false when they are at their
+// limits.
 func (r *runner) refine() bool {
 	more := false
-	if n := min(2*r.s.Nodes1D, maxNodes1D); n > r.s.Nodes1D && r.oneDim > 0 {
+	if n := min(2*r.s.Nodes1D, maxNodes1D); n > r.s.Nodes1D && r.oneDim > 0 && r.quadErr1 > r.s.QuadTol {
 		r.s.Nodes1D = n
 		r.rule1 = newRule1d(n)
 		more = true
 	}
-	if n := 2 * r.s.NodesPerAxis; r.full > 0 && n <= maxNodes1D && pow(n, r.d) <= r.s.MaxCubatureNodes {
+	// Full sites: double the order per axis, or raise it as far as the
+	// cap on the cubature's nodes allows.
+	n := min(2*r.s.NodesPerAxis, maxNodes1D)
+	for n > r.s.NodesPerAxis && pow(n, r.d) > r.s.MaxCubatureNodes {
+		n--
+	}
+	if r.full > 0 && r.quadErrN > r.s.QuadTol && n > r.s.NodesPerAxis {
 		r.s.NodesPerAxis = n
 		r.ruleN = newRuleNd(r.d, n)
 		more = true

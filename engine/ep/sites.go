@@ -372,6 +372,7 @@ func (r *runner) finish(res *Result) *Result {
 	res.Damping = r.damping
 	res.Nodes1D, res.NodesPerAxis = r.s.Nodes1D, r.s.NodesPerAxis
 	res.MomentGap, res.QuadratureError, res.Undefined = 0, 0, 0
+	r.quadErr1, r.quadErrN = 0, 0
 	res.NegativeSites, res.ImproperCavities, res.UnsettledTilted, res.Sites = 0, 0, 0, nil
 	logZ := r.konst + q.phi
 	fine1 := newRule1d(r.s.Nodes1D*3/2 + 1)
@@ -412,7 +413,7 @@ func (r *runner) finish(res *Result) *Result {
 				logZ = math.NaN()
 			}
 			res.MomentGap = math.Max(res.MomentGap, gap1(m1, v1, m, v))
-			res.QuadratureError = math.Max(res.QuadratureError, gap1(m2, v2, m1, v1))
+			r.quadErr1 = math.Max(r.quadErr1, gap1(m2, v2, m1, v1))
 			// phi(cavity) - phi(q) is the difference of the one-dimensional
 			// log-normalisers of s (the conditional parts cancel).
 			lz = J - phi1(1/v, m/v)
@@ -429,7 +430,7 @@ func (r *runner) finish(res *Result) *Result {
 			l, und = r.tiltedN(st, r.ruleN, mt, ct)
 			r.tiltedN(st, fineN, mt2, ct2)
 			res.MomentGap = math.Max(res.MomentGap, gapN(mt, ct, q.mean, q.cov, d))
-			res.QuadratureError = math.Max(res.QuadratureError, gapN(mt2, ct2, mt, ct, d))
+			r.quadErrN = math.Max(r.quadErrN, gapN(mt2, ct2, mt, ct, d))
 			out.LogZ = l
 			lz = l + r.cav.phi - q.phi
 		}
@@ -437,6 +438,7 @@ func (r *runner) finish(res *Result) *Result {
 		logZ += lz
 		res.Sites = append(res.Sites, out)
 	}
+	res.QuadratureError = math.Max(r.quadErr1, r.quadErrN)
 	if math.IsNaN(res.MomentGap) {
 		res.MomentGap = math.Inf(1)
 	}
