@@ -421,8 +421,8 @@ func TestBrowserTableReading(t *testing.T) {
 	one := func(v float64) []*float64 { return []*float64{&v} }
 	res := cliJSON{Params: []string{"x"}, Scales: []string{"identity"}}
 	res.Exact.Mean, res.Exact.SD = one(1.2344), one(0.5)
-	tab := resultsTable{Methods: []string{"exact", "Laplace", "reverse KL", "mean-field", "forward KL"},
-		Sections: []tableSection{{Title: "x", Rows: []tableRow{{Label: "mean", Cells: []tableCell{{V: "1.234"}, {V: "—"}, {V: "—"}, {V: "—"}, {V: "—"}}}}}}}
+	tab := resultsTable{Methods: []string{"exact", "Laplace", "reverse KL", "mean-field", "forward KL", "EP"},
+		Sections: []tableSection{{Title: "x", Rows: []tableRow{{Label: "mean", Cells: []tableCell{{V: "1.234"}, {V: "—"}, {V: "—"}, {V: "—"}, {V: "—"}, {V: "—"}}}}}}}
 	if problems, n := compareTable(tab, res); len(problems) != 0 || n != 1 {
 		t.Errorf("1.234 against 1.2344: problems %v, %d checked; want none, 1", problems, n)
 	}
