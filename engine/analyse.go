@@ -38,9 +38,10 @@ var (
 // (stage_diagnostics.go); and draw the plots when opts.Plots is set
 // (plots.go).
 //
-// Scales: the fits, Result.Modes and Result.Grid are on the fitting scale;
-// Result.Exact and Fit.Interval95 and the plots on the original scale (the
-// grid's nodes weighted by x(z), and the pushforward of each fit).
+// Scales: the stages work on the fitting scale; every number of the Result
+// is on the original scale (the grid's nodes weighted by x(z), each fit's
+// pushforward through the maps, the modes' and the box's x(z)), and the
+// fitting scale's values sit under the fields named fitting_scale.
 func Analyse(ctx context.Context, m *model.Model, opts Options, progress ProgressFunc) (*Result, error) {
 	a := &analysis{ctx: ctx, m: m, opts: opts, tr: newTracker(progress)}
 	res, err := a.run()

@@ -262,39 +262,36 @@ func TestReverseKLStationarity(t *testing.T) {
 			var p target.Density = ev
 			maps := make([]transform.Map, len(m.Params))
 			for i, prm := range m.Params {
-				maps[i] = transform.Map{Kind: transform.Identity, Lo: prm.Lo, Hi: prm.Hi}
-				if i < len(c.opts.Params) {
-					switch c.opts.Params[i].Scale {
-					case Log:
-						maps[i].Kind = transform.Log
-					case Logit:
-						maps[i].Kind = transform.Logit
-					}
+				maps[i] = transform.Map{Scale: Identity, Lo: prm.Lo, Hi: prm.Hi}
+				if i < len(c.opts.Params) && c.opts.Params[i].Scale != "" {
+					maps[i].Scale = c.opts.Params[i].Scale
 				}
 			}
 			if p, err = transform.Wrap(ev, maps); err != nil {
 				t.Fatal(err)
 			}
-			eg, eh := gaussHermiteDerivs(p, f.Mean, f.Cov, 60)
-			d := len(f.Mean)
+			// The normal on the fitting scale, where the stationarity holds.
+			fs := f.FittingScale
+			eg, eh := gaussHermiteDerivs(p, fs.Mean, fs.Cov, 60)
+			d := len(fs.Mean)
 			prec := mat.NewSymDense(d, nil)
 			for i := 0; i < d; i++ {
 				for j := i; j < d; j++ {
 					prec.SetSym(i, j, f.Precision[i][j])
 				}
 			}
-			cov := symFromRows(f.Cov)
+			cov := symFromRows(fs.Cov)
 			var inv mat.SymDense
 			var ch mat.Cholesky
 			ch.Factorize(cov)
 			_ = ch.InverseTo(&inv)
 			for i := 0; i < d; i++ {
 				// In units of the fit's sd: E[grad]_i * sd_i.
-				if r := eg[i] * math.Sqrt(f.Cov[i][i]); math.Abs(r) > c.tol {
+				if r := eg[i] * math.Sqrt(fs.Cov[i][i]); math.Abs(r) > c.tol {
 					t.Errorf("E_q[grad log p][%d] * sd = %.3g", i, r)
 				}
 				for j := 0; j < d; j++ {
-					r := (inv.At(i, j) + eh[i*d+j]) * math.Sqrt(f.Cov[i][i]*f.Cov[j][j])
+					r := (inv.At(i, j) + eh[i*d+j]) * math.Sqrt(fs.Cov[i][i]*fs.Cov[j][j])
 					if math.Abs(r) > c.tol {
 						t.Errorf("(Sigma^-1 + E_q[H])[%d][%d] scaled = %.3g", i, j, r)
 					}

@@ -40,6 +40,11 @@ const (
 	QuantityHellinger Quantity = "hellinger"
 	// QuantityCoverage is a fit's coverage of the exact mass.
 	QuantityCoverage Quantity = "coverage"
+	// QuantityFitMoments is a fit's mean, sd and covariance row of one
+	// parameter on the original scale (entry i is the method, j the
+	// parameter): absent where the pushforward falls outside double
+	// precision. The fit's normal on the fitting scale is always there.
+	QuantityFitMoments Quantity = "fit_moments"
 )
 
 // quantity returns the quantity that is the fit itself.
@@ -69,6 +74,7 @@ var absentReasons = map[Quantity][]string{
 	QuantityKLpq:         {CodeLostPrecision},
 	QuantityHellinger:    {CodeLostPrecision},
 	QuantityCoverage:     {CodeFitOffGrid, CodeUnresolved},
+	QuantityFitMoments:   {CodeOverflow},
 }
 
 // all stands for every parameter (or every fit) in an availability entry.

@@ -152,7 +152,7 @@ func honesty(res *Result, d int) []string {
 			absentNeedsReason(m.quantity(), "the "+m.Key()+" fit")
 			continue
 		}
-		for _, s := range fitHonesty(m, f, res, d, reason(QuantityCoverage)) {
+		for _, s := range fitHonesty(m, f, res, d, reason(QuantityCoverage), reason(QuantityFitMoments)) {
 			fail("%s", s)
 		}
 	}
@@ -204,47 +204,79 @@ func recordHonesty(res *Result, av *availability) []string {
 	return bad
 }
 
-// fitHonesty checks one fit that is present.
-func fitHonesty(m Method, f *Fit, res *Result, d int, coverageReason bool) []string {
+// fitHonesty checks one fit that is present: its normal on the fitting
+// scale, and its moments on the original scale, which may be absent only
+// for a reason (momentReason).
+func fitHonesty(m Method, f *Fit, res *Result, d int, coverageReason, momentReason bool) []string {
 	var bad []string
 	fail := func(format string, args ...any) { bad = append(bad, m.Key()+": "+fmt.Sprintf(format, args...)) }
-	if len(f.Mean) != d || len(f.Cov) != d || len(f.SD) != d || len(f.Interval95) != d {
+	fs := &f.FittingScale
+	if len(f.Mean) != d || len(f.Cov) != d || len(f.SD) != d || len(f.Interval95) != d || len(fs.Mean) != d || len(fs.Cov) != d || len(fs.SD) != d {
 		fail("moments of the wrong length")
 		return bad
 	}
-	if !allFiniteF(f.Mean) {
-		fail("mean %v", f.Mean)
+	// The normal on the fitting scale, and the moments on the original
+	// one: finite, symmetric, positive definite.
+	if !allFiniteF(fs.Mean) {
+		fail("mean %v", fs.Mean)
 	}
-	cov := mat.NewSymDense(d, nil)
-	for k := 0; k < d; k++ {
-		if len(f.Cov[k]) != d {
-			fail("covariance row %d of length %d", k, len(f.Cov[k]))
-			return bad
-		}
-		for l := 0; l < d; l++ {
-			c := f.Cov[k][l]
-			if math.IsNaN(c) || math.IsInf(c, 0) {
-				fail("covariance (%d, %d) is %g", k, l, c)
+	for _, mo := range []struct {
+		scale string
+		mean  []float64
+		cov   [][]float64
+		sd    []float64
+	}{{"fitting scale", fs.Mean, fs.Cov, fs.SD}, {"original scale", f.Mean, f.Cov, f.SD}} {
+		cov := mat.NewSymDense(d, nil)
+		absent := false
+		for k := 0; k < d; k++ {
+			if len(mo.cov[k]) != d {
+				fail("%s: covariance row %d of length %d", mo.scale, k, len(mo.cov[k]))
 				return bad
 			}
-			if c != f.Cov[l][k] {
-				fail("covariance not symmetric at (%d, %d)", k, l)
+			if math.IsNaN(mo.mean[k]) {
+				absent = true
+			} else if math.IsInf(mo.mean[k], 0) {
+				fail("%s: mean %d is %g", mo.scale, k, mo.mean[k])
 			}
-			if l >= k {
-				cov.SetSym(k, l, c)
+			for l := 0; l < d; l++ {
+				c := mo.cov[k][l]
+				if math.IsNaN(c) {
+					absent = true
+					continue
+				}
+				if math.IsInf(c, 0) {
+					fail("%s: covariance (%d, %d) is %g", mo.scale, k, l, c)
+					return bad
+				}
+				if c != mo.cov[l][k] {
+					fail("%s: covariance not symmetric at (%d, %d)", mo.scale, k, l)
+				}
+				if l >= k {
+					cov.SetSym(k, l, c)
+				}
+			}
+			if v := mo.cov[k][k]; !math.IsNaN(v) {
+				if sd := mo.sd[k]; !(sd > 0) || math.Abs(sd-math.Sqrt(v)) > 1e-9*sd {
+					fail("%s: sd %d is %g for variance %g", mo.scale, k, sd, v)
+				}
 			}
 		}
-		if sd := f.SD[k]; !(sd > 0) || math.Abs(sd-math.Sqrt(f.Cov[k][k])) > 1e-9*sd {
-			fail("sd %d is %g for variance %g", k, sd, f.Cov[k][k])
+		if absent {
+			if mo.scale == "fitting scale" || !momentReason {
+				fail("%s: moments absent without a reason", mo.scale)
+			}
+			continue
 		}
+		var chol mat.Cholesky
+		if !chol.Factorize(cov) {
+			fail("%s: covariance %v is not positive definite", mo.scale, mo.cov)
+		}
+	}
+	for k := 0; k < d; k++ {
 		iv := f.Interval95[k]
 		if !(iv[0] <= iv[1]) {
 			fail("interval %d is %v", k, iv)
 		}
-	}
-	var chol mat.Cholesky
-	if !chol.Factorize(cov) {
-		fail("covariance %v is not positive definite", f.Cov)
 	}
 	for _, v := range []struct {
 		what string
@@ -389,18 +421,4 @@ func present(v any) bool {
 		}
 	}
 	return true
-}
-
-// A covariance on scales far apart is not degenerate; one with a
-// correlation of exactly 1 is.
-func TestDegenerate(t *testing.T) {
-	if err := degenerate(mat.NewSymDense(2, []float64{1e-16, 0, 0, 1e16})); err != nil {
-		t.Errorf("sds 1e-8 and 1e8: %v", err)
-	}
-	if err := degenerate(mat.NewSymDense(2, []float64{1e-16, 1e-16 * (1 - 1e-9), 1e-16 * (1 - 1e-9), 1e-16})); err != nil {
-		t.Errorf("correlation 1 - 1e-9: %v", err)
-	}
-	if err := degenerate(mat.NewSymDense(2, []float64{4, 2e8, 2e8, 1e16})); err == nil {
-		t.Error("correlation 1 passed")
-	}
 }

@@ -6,6 +6,7 @@ import (
 	"slices"
 
 	"bellcheck/engine/compare"
+	"bellcheck/engine/gauss"
 )
 
 // compareFits is the comparison stage: it compares each fit with the
@@ -16,9 +17,9 @@ func (a *analysis) compareFits() error {
 	if len(a.fits) == 0 {
 		return nil
 	}
-	qs := make([]compare.Gaussian, len(a.fits))
+	qs := make([]*gauss.Prepared, len(a.fits))
 	for i, f := range a.fits {
-		qs[i] = compare.Gaussian{Mean: f.g.Mean, Cov: f.g.Cov}
+		qs[i] = f.q
 	}
 	cmp, err := compare.Compare(a.ref.grid, qs, compare.Settings{
 		Bounded: slices.Contains(a.bounded, true), Density: a.p, Context: a.ctx, Progress: a.tr.at,

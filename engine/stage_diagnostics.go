@@ -3,8 +3,6 @@ package engine
 import (
 	"fmt"
 	"math"
-
-	"bellcheck/engine/transform"
 )
 
 // gridDiagnostics reports on the box, the tails, the shape of the marginals
@@ -54,8 +52,8 @@ func (a *analysis) gridDiagnostics() {
 			continue
 		}
 		scale := ""
-		if a.maps[k].Kind != transform.Identity {
-			scale = " on its " + a.maps[k].Kind.String() + " scale"
+		if sc := a.maps[k].Scale; !sc.IsIdentity() {
+			scale = " on its " + sc.String() + " scale"
 		}
 		if s := f.Skewness[k]; math.Abs(s) > skewWarn {
 			a.diag.add(CodeSkewed, SeverityWarning,

@@ -117,7 +117,7 @@ func (a *analysis) fitEP() error {
 		lz := r.LogZ
 		run.LogZ = &lz
 	}
-	a.fits = append(a.fits, fitted{EP, g, nil, run})
+	a.fits = append(a.fits, fitted{method: EP, g: g, run: run})
 	if !r.Converged {
 		a.diag.add(CodeNoConvergence, SeverityWarning,
 			"The EP fit did not converge in %d sweeps (the last changed it by %.2g of a standard deviation, at a damping of %.2g); its last state is shown, marked as not converged.",
@@ -153,7 +153,7 @@ func newScaledFactors(fs *eval.Factors, maps []transform.Map) *scaledFactors {
 	d := fs.Dim()
 	sf := &scaledFactors{fs: fs, maps: maps, identity: true, gx: make([]float64, d), hx: make([]float64, d*d)}
 	for k, m := range maps {
-		if m.Kind != transform.Identity {
+		if !m.Scale.IsIdentity() {
 			sf.jac = append(sf.jac, k)
 			sf.identity = false
 		}
@@ -166,9 +166,17 @@ func (sf *scaledFactors) Len() int       { return sf.fs.Len() + len(sf.jac) }
 func (sf *scaledFactors) Const() float64 { return sf.fs.Const() }
 
 // Quadratic: a quadratic factor stays quadratic where every parameter it
-// involves is on the original scale.
+// involves is on the original scale; the log-Jacobian of a log scale (z
+// itself) is linear; the support factor of a parameter fitted on a log or
+// logit scale is 0 wherever z is finite.
 func (sf *scaledFactors) Quadratic(i int) bool {
-	if i >= sf.fs.Len() || !sf.fs.Quadratic(i) {
+	if i >= sf.fs.Len() {
+		return sf.maps[sf.jac[i-sf.fs.Len()]].Scale == transform.Log
+	}
+	if k := sf.fs.Support(i); k >= 0 && !sf.maps[k].Scale.IsIdentity() {
+		return true
+	}
+	if !sf.fs.Quadratic(i) {
 		return false
 	}
 	if sf.identity {
@@ -179,7 +187,7 @@ func (sf *scaledFactors) Quadratic(i int) bool {
 		return false
 	}
 	for k, v := range a {
-		if v != 0 && sf.maps[k].Kind != transform.Identity {
+		if v != 0 && !sf.maps[k].Scale.IsIdentity() {
 			return false
 		}
 	}
@@ -203,7 +211,7 @@ func (sf *scaledFactors) Direction(i int) []float64 {
 	for k, v := range a {
 		if v != 0 {
 			n++
-			scaled = scaled || sf.maps[k].Kind != transform.Identity
+			scaled = scaled || !sf.maps[k].Scale.IsIdentity()
 		}
 	}
 	if n > 1 && scaled {
@@ -248,6 +256,9 @@ func (sf *scaledFactors) LogDerivs(i int, z, grad, hess []float64) float64 {
 		_, _, _, lj, dlj, d2lj := sf.maps[k].Derivs(z[k])
 		grad[k], hess[k*d+k] = dlj, d2lj
 		return lj
+	}
+	if k := sf.fs.Support(i); k >= 0 && !sf.maps[k].Scale.IsIdentity() {
+		return 0 // inside the support wherever z is finite
 	}
 	var x, dx, d2x [4]float64
 	for k := 0; k < d; k++ {

@@ -5,7 +5,6 @@ import (
 	"slices"
 
 	"bellcheck/engine/fit"
-	"bellcheck/engine/transform"
 )
 
 // settleExact is the stage that settles which numbers of the exact
@@ -138,7 +137,7 @@ func (a *analysis) originalMode(gridMode []float64) []float64 {
 	d := a.d
 	transformed := false
 	for _, m := range a.maps {
-		if m.Kind != transform.Identity {
+		if !m.Scale.IsIdentity() {
 			transformed = true
 		}
 	}
@@ -151,11 +150,7 @@ func (a *analysis) originalMode(gridMode []float64) []float64 {
 	}
 	starts := [][]float64{gridMode}
 	if len(a.modes.modes) > 0 {
-		x := make([]float64, d)
-		for k := range x {
-			x[k] = a.maps[k].ToOriginal(a.modes.modes[0].X[k])
-		}
-		starts = append(starts, x)
+		starts = append(starts, slices.Clone(a.modes.modes[0].X))
 	}
 	lo, hi := make([]float64, d), make([]float64, d)
 	for k, prm := range a.m.Params {

@@ -3,21 +3,27 @@ package engine
 import (
 	"errors"
 	"math"
+	"strings"
 
 	"gonum.org/v1/gonum/mat"
 
 	"bellcheck/engine/fit"
+	"bellcheck/engine/gauss"
 )
 
 // fitted is one Gaussian fit that exists, as the fits stage hands it on:
 // its method, the Gaussian on the fitting scale, the curvature it uses
-// (nil for the forward-KL fit), and the run that made it (run's moments
-// and comparison are filled by the report).
+// (nil for the forward-KL fit), the run that made it (run's moments and
+// comparison are filled by the report), its prepared form q (set once the
+// fits stage has checked it) and its moments on the original scale (the
+// report stage's pushforward).
 type fitted struct {
 	method Method
-	g      fit.Gaussian
+	g      gauss.Gaussian
 	prec   *mat.SymDense
 	run    Fit
+	q      *gauss.Prepared
+	orig   pushed
 }
 
 // fitAll is the fits stage: the Laplace fit at the highest mode, the
@@ -39,17 +45,21 @@ func (a *analysis) fitAll() error {
 	return nil
 }
 
-// dropDegenerate leaves out a fit whose covariance is degenerate beyond
-// its scales (a correlation matrix that cannot be inverted): the
-// comparison cannot use it, and the other fits still stand.
+// dropDegenerate prepares each fit's Gaussian (gauss.Prepare) and leaves
+// out a fit whose covariance is degenerate beyond its scales (a correlation
+// matrix that cannot be inverted): the comparison cannot use it, and the
+// other fits still stand.
 func (a *analysis) dropDegenerate() {
 	kept := a.fits[:0]
 	for _, f := range a.fits {
-		if err := degenerate(f.g.Cov); err != nil {
+		q, err := gauss.Prepare(f.g)
+		if err != nil {
 			a.avail.drop(f.method.quantity(), CodeFitFailed)
-			a.diag.add(CodeFitFailed, SeverityError, "No %s fit: its covariance is degenerate (%v).", f.method.term(), err)
+			why := strings.TrimPrefix(err.Error(), gauss.ErrBad.Error()+": ")
+			a.diag.add(CodeFitFailed, SeverityError, "No %s fit: its covariance is degenerate (%s).", f.method.term(), why)
 			continue
 		}
+		f.q = q
 		kept = append(kept, f)
 	}
 	a.fits = kept
@@ -95,7 +105,7 @@ func (a *analysis) fitLaplace() *fit.LaplaceFit {
 	case err == nil:
 		lz := lf.LogZ
 		run := Fit{LogZ: &lz, Iterations: m.Iterations, Converged: m.Converged, Residual: m.GradNorm}
-		a.fits = append(a.fits, fitted{Laplace, lf.Gaussian, lf.Precision, run})
+		a.fits = append(a.fits, fitted{method: Laplace, g: lf.Gaussian, prec: lf.Precision, run: run})
 		return &lf
 	case errors.Is(err, fit.ErrOnBound):
 		a.avail.drop(Laplace.quantity(), CodeModeOnBound)
@@ -189,7 +199,7 @@ func (a *analysis) fitReverse(lap *fit.LaplaceFit) (rev, mfit *fit.VariationalFi
 		elbo := v.vf.ELBO
 		run := Fit{ELBO: &elbo, Iterations: v.vf.Iterations, Converged: v.vf.Converged,
 			Residual: math.Max(v.vf.GradResidual, v.vf.PrecisionResidual)}
-		a.fits = append(a.fits, fitted{v.m, v.vf.Gaussian, v.vf.Precision, run})
+		a.fits = append(a.fits, fitted{method: v.m, g: v.vf.Gaussian, prec: v.vf.Precision, run: run})
 	}
 	return rev, mfit, infiniteKL, nil
 }
@@ -208,7 +218,7 @@ func (a *analysis) fitForward() {
 		a.diag.add(CodeFitFailed, SeverityError, "No forward-KL fit: %v.", err)
 		return
 	}
-	a.fits = append(a.fits, fitted{ForwardKL, g, nil, Fit{Converged: true}})
+	a.fits = append(a.fits, fitted{method: ForwardKL, g: g, run: Fit{Converged: true}})
 }
 
 // boundedKL says when KL(q||p) is infinite for every fit: a support
@@ -246,25 +256,6 @@ func (a *analysis) varianceSettled() bool {
 		}
 	}
 	return true
-}
-
-// degenerate reports a covariance whose correlation matrix is not
-// positive definite or too ill-conditioned to invert (the test of the
-// comparison's precision).
-func degenerate(cov *mat.SymDense) error {
-	d := cov.SymmetricDim()
-	corr := mat.NewSymDense(d, nil)
-	for i := 0; i < d; i++ {
-		for j := i; j < d; j++ {
-			corr.SetSym(i, j, cov.At(i, j)/math.Sqrt(cov.At(i, i)*cov.At(j, j)))
-		}
-	}
-	var ch mat.Cholesky
-	if !ch.Factorize(corr) {
-		return errors.New("correlation matrix not positive definite")
-	}
-	var inv mat.SymDense
-	return ch.InverseTo(&inv)
 }
 
 // symFromRows returns the symmetric matrix whose upper triangle is r's.

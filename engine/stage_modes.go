@@ -108,8 +108,12 @@ func (a *analysis) findModes() error {
 	for _, i := range order {
 		m := modes[i]
 		a.modes.fitModes = append(a.modes.fitModes, m)
+		x := make([]float64, len(m.X))
+		for k, z := range m.X {
+			x[k] = a.maps[k].ToOriginal(z)
+		}
 		a.modes.modes = append(a.modes.modes, Mode{
-			X: slices.Clone(m.X), LogDensity: m.LogDensity, Mass: masses[i],
+			X: x, FittingScale: FittingPoint{X: slices.Clone(m.X)}, LogDensity: m.LogDensity, Mass: masses[i],
 			PositiveDefinite: m.PositiveDefinite, OnBound: m.OnBound,
 		})
 	}

@@ -5,7 +5,8 @@ import (
 	"slices"
 
 	"bellcheck/engine/compare"
-	"bellcheck/engine/fit"
+	"bellcheck/engine/gauss"
+	"bellcheck/engine/transform"
 )
 
 // report assembles the Result from what the stages handed on and the
@@ -14,8 +15,10 @@ import (
 // timing are added at the end of the run.
 func (a *analysis) report() *Result {
 	res := &Result{Params: a.names, Form: a.m.Form.String(), Scales: a.scales, Modes: a.modes.modes}
+	a.pushFits()
 	a.fillFits(res)
 	a.fillExact(res)
+	a.fillOriginalErrors(res)
 	a.fillGridInfo(res)
 	return res
 }
@@ -42,27 +45,38 @@ func (a *analysis) fillFits(res *Result) {
 	}
 }
 
-// fillFit fills a fit's moments (fitting scale), interval (original scale)
-// and comparison, leaving out what the record says is absent.
+// fillFit fills a fit's normal on the fitting scale and its comparison
+// there, and its moments and interval on the original scale (the
+// pushforward through each parameter's map), leaving out what the record
+// says is absent.
 func (a *analysis) fillFit(f *Fit, fd fitted, c compare.Result) {
 	d := a.d
 	g, m := fd.g, int(fd.method)
-	f.Mean = slices.Clone(g.Mean)
-	f.Cov = fit.Rows(g.Cov)
-	f.SD = g.SD()
-	f.Corr = fit.Rows(g.Corr())
+	fs := &f.FittingScale
+	fs.Mean = slices.Clone(g.Mean)
+	fs.Cov = gauss.Rows(g.Cov)
+	fs.SD = g.SD()
+	fs.Corr = gauss.Rows(g.Corr())
+	f.Mean, f.SD, f.Cov, f.Corr = fd.orig.mean, fd.orig.sd, fd.orig.cov, fd.orig.corr
 	f.Interval95 = make([][2]float64, d)
 	for k := 0; k < d; k++ {
-		iv := g.Interval(k, 0.95)
-		f.Interval95[k] = [2]float64{a.maps[k].ToOriginal(iv[0]), a.maps[k].ToOriginal(iv[1])}
+		f.Interval95[k] = a.maps[k].Interval(g.Interval(k, 0.95))
 	}
 	if fd.prec != nil {
-		f.Precision = fit.Rows(fd.prec)
+		f.Precision = gauss.Rows(fd.prec)
+	}
+	nan := math.NaN()
+	for k := 0; k < d; k++ {
+		if _, gone := a.avail.absent[entry{QuantityFitMoments, m, k}]; gone {
+			f.Mean[k], f.SD[k] = nan, nan
+			for l := 0; l < d; l++ {
+				f.Cov[k][l], f.Cov[l][k], f.Corr[k][l], f.Corr[l][k] = nan, nan, nan, nan
+			}
+		}
 	}
 	f.KLqp, f.KLpq, f.Hellinger = c.KLqp, c.KLpq, c.Hellinger
-	f.MeanErrSD, f.SDRatio = c.MeanErrSD, c.SDRatio
+	fs.MeanErrSD, fs.SDRatio = c.MeanErrSD, c.SDRatio
 	f.Coverage95 = c.Coverage95
-	nan := math.NaN()
 	if !a.avail.presentAt(QuantityKLqp, m) {
 		f.KLqp = nan
 	}
@@ -77,18 +91,115 @@ func (a *analysis) fillFit(f *Fit, fd fitted, c compare.Result) {
 		// the coverage it gives would mislead.
 		f.Coverage95 = nan
 	}
-	if !a.avail.present(QuantityComparison) {
-		f.KLqp, f.KLpq, f.Hellinger, f.Coverage95 = nan, nan, nan, nan
-		for k := 0; k < d; k++ {
-			f.MeanErrSD[k], f.SDRatio[k] = nan, nan
-		}
-		return
-	}
 	for k := 0; k < d; k++ {
-		if !a.avail.presentAt(QuantityAxisErrors, k) {
-			f.MeanErrSD[k], f.SDRatio[k] = nan, nan
+		switch {
+		case !a.avail.present(QuantityComparison):
+			fs.MeanErrSD[k], fs.SDRatio[k] = nan, nan
+		case !a.avail.presentAt(QuantityAxisErrors, k):
+			fs.MeanErrSD[k], fs.SDRatio[k] = nan, nan
 			// E_p[(z - m)^2] is infinite: so is KL(p||q).
 			f.KLpq = math.Inf(1)
+		}
+	}
+	if !a.avail.present(QuantityComparison) {
+		f.KLqp, f.KLpq, f.Hellinger, f.Coverage95 = nan, nan, nan, nan
+	}
+	// On the original scale the same where a parameter is fitted as it is;
+	// fillOriginalErrors fills the others.
+	f.MeanErrSD, f.SDRatio = slices.Clone(fs.MeanErrSD), slices.Clone(fs.SDRatio)
+}
+
+// pushed is a normal's moments on the original scale.
+type pushed struct {
+	mean, sd  []float64
+	cov, corr [][]float64
+}
+
+// pushFits computes each fit's moments on the original scale and records
+// as absent, with a diagnostic, those that fall outside double precision
+// (a log-scale normal that reaches z > 709, where e^z overflows, or whose
+// variance underflows to zero).
+func (a *analysis) pushFits() {
+	var names []string
+	for i := range a.fits {
+		fd := &a.fits[i]
+		var p pushed
+		p.mean, p.sd, p.cov, p.corr = a.pushforward(fd.g)
+		fd.orig = p
+		var over []string
+		for k := 0; k < a.d; k++ {
+			ok := finite(p.mean[k]) && p.sd[k] > 0 && finite(p.sd[k]) && p.cov[k][k] > 0
+			for l := 0; l < a.d; l++ {
+				ok = ok && finite(p.cov[k][l])
+			}
+			if !ok {
+				a.avail.set(entry{QuantityFitMoments, int(fd.method), k}, CodeOverflow)
+				over = append(over, a.names[k])
+			}
+		}
+		if len(over) > 0 {
+			names = append(names, "the "+fd.method.term()+" fit's "+list(over))
+		}
+	}
+	if len(names) > 0 {
+		a.diag.add(CodeOverflow, SeverityWarning,
+			"The moments on the original scale of %s fall outside double precision (the fitted normal reaches values too large or too small to exponentiate), so those are not reported; the normal on the fitting scale and its interval are.", list(names))
+	}
+}
+
+func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
+
+// pushforward returns the moments on the original scale of the normal g:
+// the mean and sd of each parameter through its map
+// (transform.Map.Pushforward), the covariance of each pair
+// (transform.Covariance) and the correlation. Where a parameter is fitted
+// as it is, its numbers are g's own.
+func (a *analysis) pushforward(g gauss.Gaussian) (mean, s []float64, c, corr [][]float64) {
+	d := a.d
+	sd, cov := g.SD(), gauss.Rows(g.Cov)
+	mean, s = make([]float64, d), make([]float64, d)
+	for k := 0; k < d; k++ {
+		mean[k], s[k] = a.maps[k].Pushforward(g.Mean[k], sd[k])
+	}
+	c, corr = make([][]float64, d), make([][]float64, d)
+	for k := 0; k < d; k++ {
+		c[k], corr[k] = make([]float64, d), make([]float64, d)
+		for l := 0; l < d; l++ {
+			switch {
+			case k == l && a.maps[k].Scale.IsIdentity():
+				c[k][k] = cov[k][k]
+			case k == l:
+				c[k][k] = s[k] * s[k]
+			default:
+				c[k][l] = transform.Covariance(a.maps[k], a.maps[l], g.Mean[k], g.Mean[l], sd[k], sd[l], cov[k][l])
+			}
+		}
+	}
+	for k := 0; k < d; k++ {
+		for l := 0; l < d; l++ {
+			if k == l {
+				corr[k][l] = 1
+			} else {
+				corr[k][l] = c[k][l] / (s[k] * s[l])
+			}
+		}
+	}
+	return mean, s, c, corr
+}
+
+// fillOriginalErrors fills each fit's mean and spread errors on the
+// original scale for the parameters fitted on another: the fit's
+// pushforward mean and sd against the exact ones (absent where those are).
+func (a *analysis) fillOriginalErrors(res *Result) {
+	ex := &res.Exact
+	for _, fd := range a.fits {
+		out := res.Fits[fd.method]
+		for k := 0; k < a.d; k++ {
+			if a.maps[k].Scale.IsIdentity() {
+				continue
+			}
+			out.MeanErrSD[k] = (out.Mean[k] - ex.Mean[k]) / ex.SD[k]
+			out.SDRatio[k] = out.SD[k] / ex.SD[k]
 		}
 	}
 }
@@ -149,8 +260,12 @@ func (a *analysis) fillExact(res *Result) {
 func (a *analysis) fillGridInfo(res *Result) {
 	g := a.ref.grid
 	gi := &res.Grid
-	gi.Lo = slices.Clone(g.Box.Lo)
-	gi.Hi = slices.Clone(g.Box.Hi)
+	gi.FittingScale.Lo = slices.Clone(g.Box.Lo)
+	gi.FittingScale.Hi = slices.Clone(g.Box.Hi)
+	gi.Lo, gi.Hi = make([]float64, a.d), make([]float64, a.d)
+	for k := 0; k < a.d; k++ {
+		gi.Lo[k], gi.Hi[k] = a.maps[k].ToOriginal(g.Box.Lo[k]), a.maps[k].ToOriginal(g.Box.Hi[k])
+	}
 	gi.Points = slices.Clone(g.N)
 	gi.NonFinite = a.ref.nonFinite
 	for k := 0; k < a.d; k++ {

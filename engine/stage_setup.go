@@ -3,6 +3,7 @@ package engine
 import (
 	"fmt"
 	"math"
+	"slices"
 
 	"bellcheck/engine/eval"
 	"bellcheck/engine/grid"
@@ -16,7 +17,7 @@ type problem struct {
 	d      int
 	names  []string
 	maps   []transform.Map
-	scales []string
+	scales []Scale
 	ev     *eval.Evaluator
 	p      target.Density // on the fitting scale
 	pw     *watched       // p, reporting progress from inside the fits
@@ -47,7 +48,7 @@ func (a *analysis) setup() error {
 	}
 	a.ev = ev
 	a.maps = make([]transform.Map, d)
-	a.scales = make([]string, d)
+	a.scales = make([]Scale, d)
 	a.bounds = grid.Box{Lo: make([]float64, d), Hi: make([]float64, d)}
 	a.pinned = make([][2]bool, d)
 	a.modeLo, a.modeHi = make([]float64, d), make([]float64, d)
@@ -65,24 +66,22 @@ func (a *analysis) setup() error {
 		if most := MaxAxisPoints(d); po.Points > most {
 			return fmt.Errorf("%w: parameter %s: %d grid points, more than the %d a model of %d parameters may have (the grid must fit in memory)", ErrOptions, prm.Name, po.Points, most, d)
 		}
-		mp := transform.Map{Kind: transform.Identity, Lo: prm.Lo, Hi: prm.Hi}
-		switch po.Scale {
-		case "", Identity:
-		case Log:
-			mp.Kind = transform.Log
-		case Logit:
-			mp.Kind = transform.Logit
-		default:
-			return fmt.Errorf("%w: parameter %s: unknown scale %q (want identity, log or logit)", ErrOptions, prm.Name, po.Scale)
+		sc := po.Scale
+		if sc == "" {
+			sc = Identity
 		}
+		if !slices.Contains(transform.Scales, sc) {
+			return fmt.Errorf("%w: parameter %s: unknown scale %q (want identity, log or logit)", ErrOptions, prm.Name, string(sc))
+		}
+		mp := transform.Map{Scale: sc, Lo: prm.Lo, Hi: prm.Hi}
 		if err := mp.Check(); err != nil {
 			return fmt.Errorf("%w: parameter %s in [%g, %g]: %v", ErrOptions, prm.Name, prm.Lo, prm.Hi, err)
 		}
-		if mp.Kind != transform.Identity {
+		if sc != Identity {
 			allIdentity = false
 		}
 		a.maps[i] = mp
-		a.scales[i] = mp.Kind.String()
+		a.scales[i] = sc
 		// The user's box, on the original scale.
 		lo, hi := prm.Lo, prm.Hi
 		var userLo, userHi bool
@@ -106,7 +105,7 @@ func (a *analysis) setup() error {
 		a.bounds.Lo[i], a.bounds.Hi[i] = zl, zh
 		a.pinned[i] = [2]bool{userLo && !math.IsInf(zl, 0), userHi && !math.IsInf(zh, 0)}
 		a.modeLo[i], a.modeHi[i] = mp.FromOriginal(prm.Lo), mp.FromOriginal(prm.Hi)
-		if mp.Kind == transform.Identity {
+		if sc == Identity {
 			a.bounded[i] = !math.IsInf(prm.Lo, 0) || !math.IsInf(prm.Hi, 0)
 		}
 	}

@@ -4,7 +4,9 @@
 // (GOOS=js GOARCH=wasm) it runs the calculator page; built natively it serves
 // the page, writes the static site and runs the command line:
 //
-//	bellcheck fit [-json] [-plots] FILE    analyse a model file ('-' for standard input)
+//	bellcheck fit [-json] [-plots] [-max-time D] [-read-timeout D] [-quiet] FILE
+//	    [-data FILE] [-scale|-points|-box NAME=VALUE] [-points N]
+//	                                        analyse a model file ('-' for standard input)
 //	bellcheck serve [-addr ADDR] [-web DIR] serve the calculator page
 //	bellcheck static [-prefix P] DIR        write the static site to DIR
 //
@@ -18,7 +20,12 @@ import (
 )
 
 const usage = `usage:
-  bellcheck fit [-json] [-plots] FILE     analyse a model file ('-' reads standard input)
+  bellcheck fit [-json] [-plots] [-max-time D] [-read-timeout D] [-quiet] FILE
+                                           analyse a model file ('-' reads standard input);
+                                           refuses work forecast beyond -max-time (default 2m)
+      [-data FILE]                         attach a CSV/TSV file's columns as named vectors
+      [-scale NAME=log] [-points NAME=N] [-box NAME=LO:HI]   per-parameter options
+      [-points N]                          grid points along every parameter not named
   bellcheck serve [-addr ADDR] [-web DIR]  serve the calculator (default 127.0.0.1:8000)
   bellcheck static [-prefix PATH] DIR      write the static site into DIR
 `

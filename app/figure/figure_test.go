@@ -7,8 +7,11 @@ import (
 	"strings"
 	"testing"
 
+	"gonum.org/v1/gonum/mat"
+
 	"bellcheck/app/plot"
 	"bellcheck/engine"
+	"bellcheck/engine/gauss"
 )
 
 // gaussian2D builds the pair marginal of a standard bivariate normal with
@@ -32,9 +35,13 @@ func gaussian2D(rho float64, n int) *engine.Marginal2D {
 	for k, m := range Masses {
 		p.Levels[k] = peak * (1 - m)
 	}
+	q, err := gauss.Prepare(gauss.Gaussian{Mean: []float64{0, 0}, Cov: mat.NewSymDense(2, []float64{1, rho, rho, 1})})
+	if err != nil {
+		panic(err)
+	}
 	var lines [3][][2]float64
 	for k, m := range Masses {
-		lines[k] = plot.Ellipse(0, 0, 1, rho, 1, plot.MassRadius(m), 48)
+		lines[k] = q.Ellipse(0, 1, m, 48)
 	}
 	p.Ellipses = engine.Ellipses{engine.Laplace: lines}
 	return p

@@ -4,9 +4,11 @@ import (
 	"math"
 	"time"
 
+	"gonum.org/v1/gonum/mat"
+
 	"bellcheck/app/figure"
-	"bellcheck/app/plot"
 	"bellcheck/engine"
+	"bellcheck/engine/gauss"
 )
 
 // gaussResult builds, for the page's tests, the result the engine would give
@@ -100,10 +102,14 @@ func gaussResult(names []string, mean []float64, cov [][]float64, laplaceShift f
 					p.Density = append(p.Density, peak*math.Exp(-qf/2))
 				}
 			}
+			q, err := gauss.Prepare(gauss.Gaussian{Mean: []float64{mean[i], mean[j]}, Cov: mat.NewSymDense(2, []float64{a, b, b, c})})
+			if err != nil {
+				panic(err)
+			}
 			var lines [3][][2]float64
 			for k, mass := range figure.Masses {
 				p.Levels[k] = peak * (1 - mass)
-				lines[k] = plot.Ellipse(mean[i], mean[j], a, b, c, plot.MassRadius(mass), 64)
+				lines[k] = q.Ellipse(0, 1, mass, 64)
 			}
 			p.Ellipses[engine.ReverseKL] = lines
 			r.Plots.Pairs = append(r.Plots.Pairs, p)

@@ -186,14 +186,14 @@ func (s *Session) Options() engine.Options {
 	o.Params = make([]engine.ParamOptions, len(s.Model.Params))
 	for i, p := range s.Model.Params {
 		po := s.params[p.Name]
-		if !ScaleAllowed(p, po.Scale) {
+		if po.Scale.Check(p.Lo, p.Hi) != nil {
 			po.Scale = ""
 		}
 		if po.Scale == engine.Identity {
 			po.Scale = ""
 		}
 		if po.Points != 0 {
-			po.Points = max(MinPoints, min(po.Points, MaxPoints))
+			po.Points = max(MinPoints, min(po.Points, MaxPoints, engine.MaxAxisPoints(len(s.Model.Params))))
 		}
 		po.Lo = clipBound(po.Lo, p.Lo, p.Hi)
 		po.Hi = clipBound(po.Hi, p.Lo, p.Hi)
@@ -205,7 +205,8 @@ func (s *Session) Options() engine.Options {
 	return o
 }
 
-// Limits on the grid points a parameter may ask for in the page.
+// Limits on the grid points a parameter may ask for in the page (and at
+// most engine.MaxAxisPoints for the model's number of parameters).
 const (
 	MinPoints = 8
 	MaxPoints = 2001
@@ -217,19 +218,4 @@ func clipBound(v *float64, lo, hi float64) *float64 {
 	}
 	x := math.Max(lo, math.Min(hi, *v))
 	return &x
-}
-
-// ScaleAllowed reports whether a parameter's support allows the scale: log
-// needs a finite lower bound and no upper one, logit two finite bounds.
-func ScaleAllowed(p model.Param, sc engine.Scale) bool {
-	finite := func(v float64) bool { return !math.IsInf(v, 0) && !math.IsNaN(v) }
-	switch sc {
-	case "", engine.Identity:
-		return true
-	case engine.Log:
-		return finite(p.Lo) && math.IsInf(p.Hi, 1)
-	case engine.Logit:
-		return finite(p.Lo) && finite(p.Hi) && p.Lo < p.Hi
-	}
-	return false
 }

@@ -107,29 +107,9 @@ func Table(r *engine.Result, m *model.Model) []Section {
 	d := len(r.Params)
 	scaleOf := func(i int) engine.Scale {
 		if i < len(r.Scales) {
-			return engine.Scale(r.Scales[i])
+			return r.Scales[i]
 		}
 		return engine.Identity
-	}
-	support := func(i int) (float64, float64) {
-		if m != nil && i < len(m.Params) {
-			return m.Params[i].Lo, m.Params[i].Hi
-		}
-		return math.Inf(-1), math.Inf(1)
-	}
-	// Each fit's mean and sd on the original scale.
-	type moments struct{ mean, sd []float64 }
-	var mom [plot.NumMethods]moments
-	for _, meth := range plot.Fits {
-		f := fitOf(r, meth)
-		if f == nil {
-			continue
-		}
-		mom[meth] = moments{make([]float64, d), make([]float64, d)}
-		for i := range d {
-			lo, hi := support(i)
-			mom[meth].mean[i], mom[meth].sd[i] = Pushforward(scaleOf(i), lo, hi, at(f.Mean, i), at(f.SD, i))
-		}
 	}
 
 	var sections []Section
@@ -143,8 +123,8 @@ func Table(r *engine.Result, m *model.Model) []Section {
 			q = [3]float64{math.NaN(), math.NaN(), math.NaN()}
 		}
 		note := ""
-		if sc := scaleOf(i); sc != engine.Identity && sc != "" {
-			note = " The fits are Gaussian on the " + string(sc) + " scale; their moments here are those of the implied distribution on the original scale."
+		if sc := scaleOf(i); !sc.IsIdentity() {
+			note = " The fits are Gaussian on the " + sc.String() + " scale; their moments here are those of the implied distribution on the original scale."
 		}
 		mean := Row{Label: "mean", Param: name, Hint: "Posterior mean; under each fit, its difference from the exact mean in exact standard deviations." + note}
 		sd := Row{Label: "sd", Param: name, Hint: "Posterior standard deviation; under each fit, its ratio to the exact one." + note}
@@ -170,7 +150,7 @@ func Table(r *engine.Result, m *model.Model) []Section {
 				}
 				continue
 			}
-			fm, fs := mom[meth].mean[i], mom[meth].sd[i]
+			fm, fs := at(f.Mean, i), at(f.SD, i)
 			dm := (fm - exMean) / exSD
 			ratio := fs / exSD
 			mean.Cells[meth] = Cell{Text: fmtScaled(fm, exSD)}
@@ -204,7 +184,7 @@ func Table(r *engine.Result, m *model.Model) []Section {
 				row := Row{Label: "corr(" + pair + ")", Param: pair, Hint: "Correlation coefficient of the two parameters."}
 				ex := at2(r.Exact.Corr, i, j)
 				row.Cells[plot.Exact] = Cell{Text: plot.FormatNumber(ex, 3)}
-				transformed := (scaleOf(i) != engine.Identity && scaleOf(i) != "") || (scaleOf(j) != engine.Identity && scaleOf(j) != "")
+				transformed := !scaleOf(i).IsIdentity() || !scaleOf(j).IsIdentity()
 				if transformed {
 					row.Hint += " Fits on a log or logit scale show their correlation on that scale, so it is not compared with the exact one."
 				}
@@ -216,6 +196,9 @@ func Table(r *engine.Result, m *model.Model) []Section {
 						continue
 					}
 					c := at2(f.Corr, i, j)
+					if transformed {
+						c = at2(f.FittingScale.Corr, i, j)
+					}
 					row.Cells[meth] = Cell{Text: plot.FormatNumber(c, 3)}
 					if transformed {
 						row.Cells[meth].Sub = "fit scale"

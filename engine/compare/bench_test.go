@@ -6,6 +6,7 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
+	"bellcheck/engine/gauss"
 	"bellcheck/engine/grid"
 )
 
@@ -17,12 +18,12 @@ func BenchmarkCompareBanana(b *testing.B) {
 	if err != nil {
 		b.Fatal(err)
 	}
-	qs := []Gaussian{
-		{[]float64{0, 5}, mat.NewSymDense(2, []float64{100, 0, 0, 1})},
-		{[]float64{0, 3}, mat.NewSymDense(2, []float64{30, 0, 0, 4})},
-		{[]float64{0, 3}, mat.NewSymDense(2, []float64{20, 0, 0, 3})},
-		{[]float64{0, 0}, mat.NewSymDense(2, []float64{100, 0, 0, 51})},
-	}
+	qs := prepared(b,
+		gauss.Gaussian{Mean: []float64{0, 5}, Cov: mat.NewSymDense(2, []float64{100, 0, 0, 1})},
+		gauss.Gaussian{Mean: []float64{0, 3}, Cov: mat.NewSymDense(2, []float64{30, 0, 0, 4})},
+		gauss.Gaussian{Mean: []float64{0, 3}, Cov: mat.NewSymDense(2, []float64{20, 0, 0, 3})},
+		gauss.Gaussian{Mean: []float64{0, 0}, Cov: mat.NewSymDense(2, []float64{100, 0, 0, 51})},
+	)
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
 		if _, err := Compare(g, qs, Settings{Density: p}); err != nil {

@@ -2,12 +2,14 @@ package compare
 
 import (
 	"context"
+	"errors"
 	"math"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat/distuv"
 
+	"bellcheck/engine/gauss"
 	"bellcheck/engine/grid"
 	"bellcheck/engine/internal/targettest"
 )
@@ -91,7 +93,7 @@ func TestAgainstClosedForms(t *testing.T) {
 		{"wide", []float64{1, -1}, mat.NewSymDense(2, []float64{9, 0, 0, 16}), Cubature, 1e-7},
 	}
 	for _, c := range cases {
-		res, err := Compare(g, []Gaussian{{c.mean, c.cov}}, Settings{Density: p})
+		res, err := Compare(g, prepared(t, gauss.Gaussian{Mean: c.mean, Cov: c.cov}), Settings{Density: p})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -142,7 +144,7 @@ func TestCoverage(t *testing.T) {
 		for _, c := range []float64{1, 0.5, 2} {
 			var qc mat.SymDense
 			qc.ScaleSym(c, cov)
-			res, err := Compare(g, []Gaussian{{mean, &qc}}, Settings{Density: p})
+			res, err := Compare(g, prepared(t, gauss.Gaussian{Mean: mean, Cov: &qc}), Settings{Density: p})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -163,20 +165,21 @@ func TestInfiniteKL(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	q := Gaussian{[]float64{0.8}, mat.NewSymDense(1, []float64{0.36})}
-	res, err := Compare(g, []Gaussian{q}, Settings{})
+	q := prepared(t, gauss.Gaussian{Mean: []float64{0.8}, Cov: mat.NewSymDense(1, []float64{0.36})})
+	res, err := Compare(g, q, Settings{})
 	if err != nil {
 		t.Fatal(err)
 	}
 	if !math.IsInf(res[0].KLqp, 1) || math.IsInf(res[0].KLpq, 0) || !(res[0].Hellinger > 0 && res[0].Hellinger < 1) {
 		t.Errorf("KL(q||p) %g, KL(p||q) %g, Hellinger %g", res[0].KLqp, res[0].KLpq, res[0].Hellinger)
 	}
-	res, _ = Compare(g, []Gaussian{q}, Settings{Bounded: true})
+	res, _ = Compare(g, q, Settings{Bounded: true})
 	if !math.IsInf(res[0].KLqp, 1) || res[0].Method != BoundedSupport {
 		t.Errorf("bounded: %+v", res[0])
 	}
-	if _, err := Compare(g, []Gaussian{{[]float64{0}, mat.NewSymDense(1, []float64{-1})}}, Settings{}); err == nil {
-		t.Error("negative variance accepted")
+	two := prepared(t, gauss.Gaussian{Mean: []float64{0, 0}, Cov: mat.NewSymDense(2, []float64{1, 0, 0, 1})})
+	if _, err := Compare(g, two, Settings{}); !errors.Is(err, ErrBadGaussian) {
+		t.Errorf("a 2-D Gaussian on a 1-D grid: err = %v, want ErrBadGaussian", err)
 	}
 }
 
@@ -196,4 +199,18 @@ func bananaDensity() *targettest.Func {
 		u := x[1] + 0.05*x[0]*x[0] - 5
 		return -x[0]*x[0]/200 - u*u/2
 	}}
+}
+
+// prepared prepares the Gaussians for Compare.
+func prepared(tb testing.TB, gs ...gauss.Gaussian) []*gauss.Prepared {
+	tb.Helper()
+	out := make([]*gauss.Prepared, len(gs))
+	for i, g := range gs {
+		p, err := gauss.Prepare(g)
+		if err != nil {
+			tb.Fatal(err)
+		}
+		out[i] = p
+	}
+	return out
 }

@@ -60,6 +60,9 @@ type factorTerm struct {
 	buf   [][]float64     // element term: per node, one value per point
 	jet   []jetVal        // element term: per node, value, gradient and Hessian
 	at    model.Pos
+	// support is 1 + the parameter whose support the term tests (0 for
+	// every other term).
+	support int
 }
 
 // jetVal is a value with its gradient and Hessian (row-major).
@@ -99,10 +102,10 @@ func SplitFactors(m *model.Model) (*Factors, error) {
 	fs.decompose(b, root, scale, nil, &raw)
 	for i, p := range m.Params {
 		if p.Lo > math.Inf(-1) {
-			raw = append(raw, &factorTerm{root: b.bin(opGuardGE, b.constant(0), b.param(i), p.Lo), scale: 1})
+			raw = append(raw, &factorTerm{root: b.bin(opGuardGE, b.constant(0), b.param(i), p.Lo), scale: 1, support: i + 1})
 		}
 		if p.Hi < math.Inf(1) {
-			raw = append(raw, &factorTerm{root: b.bin(opGuardLE, b.constant(0), b.param(i), p.Hi), scale: 1})
+			raw = append(raw, &factorTerm{root: b.bin(opGuardLE, b.constant(0), b.param(i), p.Hi), scale: 1, support: i + 1})
 		}
 	}
 	if b.err != nil {
@@ -468,6 +471,13 @@ func (fs *Factors) Quadratic(i int) bool {
 // the linear combination a^T x, and nil otherwise (or when it is not known).
 // The slice must not be modified.
 func (fs *Factors) Direction(i int) []float64 { return fs.dirs[i] }
+
+// Support returns the parameter whose support factor i is (0 inside the
+// support, -Inf outside), or -1 when it is another factor.
+func (fs *Factors) Support(i int) int {
+	t, _ := fs.locate(i)
+	return t.support - 1
+}
 
 // Describe says where factor i comes from, for messages.
 func (fs *Factors) Describe(i int) string {

@@ -57,7 +57,7 @@ func TestRoundTrip(t *testing.T) {
 
 func TestCheck(t *testing.T) {
 	inf := math.Inf(1)
-	bad := []Map{{Log, math.Inf(-1), inf}, {Log, 0, 1}, {Logit, 0, inf}, {Logit, 1, 1}, {Kind(9), 0, 1}}
+	bad := []Map{{Log, math.Inf(-1), inf}, {Log, 0, 1}, {Logit, 0, inf}, {Logit, 1, 1}, {Scale("cube"), 0, 1}}
 	for _, m := range bad {
 		if m.Check() == nil {
 			t.Errorf("%+v: no error", m)
