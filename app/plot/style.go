@@ -52,7 +52,7 @@ type Style struct {
 	// description.
 	Name, Long string
 	// Key is the method's name in the engine's JSON ("exact", "laplace",
-	// "reverse_kl", "mean_field", "forward_kl").
+	// "reverse_kl", "mean_field", "forward_kl", "ep").
 	Key string
 	// Colour is "#rrggbb"; Dash an SVG stroke-dasharray ("" for solid);
 	// Width the stroke width in CSS pixels.
