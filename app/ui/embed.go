@@ -127,11 +127,14 @@ func (p *Page) afterRender(ctx app.Context) {
 func (p *Page) fullLink() string {
 	st := p.shareState()
 	st.View.Embed, st.View.ReadOnly, st.View.EditorCollapsed = false, false, false
-	frag, err := share.Encode(st)
-	if err != nil {
-		return pageURL()
-	}
-	return pageURL() + "#" + frag
+	base := pageURL()
+	return p.tools.full.get(stateKey(st, base), func() string {
+		frag, err := share.Encode(st)
+		if err != nil {
+			return base
+		}
+		return base + "#" + frag
+	})
 }
 
 // pageURL is the page's address without its fragment ("" natively, so

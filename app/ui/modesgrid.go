@@ -11,17 +11,15 @@ import (
 
 	"bellcheck/app/plot"
 	"bellcheck/engine"
-	"bellcheck/engine/model"
 )
 
 // ModesGrid is the card of the modes the search found and the facts of the
 // grid, with the page's and the engine's timings.
 type ModesGrid struct {
 	app.Compo
-	// Result is the result shown and Model the model it is for (its
-	// supports map fitting-scale values back).
-	Result *engine.Result
-	Model  *model.Model
+	// Shown is the result shown (its model's supports map fitting-scale
+	// values back).
+	Shown *Shown
 	// Stale dims the card when the result belongs to an older model.
 	Stale bool
 	// Times are the page's timings of the result.
@@ -30,12 +28,12 @@ type ModesGrid struct {
 
 // Render draws the modes table and the grid's facts.
 func (c *ModesGrid) Render() app.UI {
-	r := c.Result
-	if r == nil {
+	if c.Shown == nil || c.Shown.Result == nil {
 		return app.P().Class("muted").Text("The modes and the grid appear here once the analysis has run.")
 	}
+	r := c.Shown.Result
 	support := func(i int) (float64, float64) {
-		if m := c.Model; m != nil && i < len(m.Params) {
+		if m := c.Shown.Model; m != nil && i < len(m.Params) {
 			return m.Params[i].Lo, m.Params[i].Hi
 		}
 		return math.Inf(-1), math.Inf(1)

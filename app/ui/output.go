@@ -4,9 +4,6 @@ import (
 	"strconv"
 
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
-
-	"bellcheck/engine"
-	"bellcheck/engine/model"
 )
 
 // ResultView is what the results area shows.
@@ -17,18 +14,14 @@ type ResultView struct {
 	State          string
 	Gen, ResultGen uint64
 	Busy           bool
-	// Result is the result shown, for Model; RunErr the newest analysis's
-	// error. Stale reports a result that is not the answer for the text
-	// and options now in the editor.
-	Result *engine.Result
-	Model  *model.Model
+	// Shown is the result shown (nil before one); RunErr the newest
+	// analysis's error. Stale reports a result that is not the answer for
+	// the text and options now in the editor.
+	Shown  *Shown
 	RunErr error
 	Stale  bool
-	// Figures and Sections are the result's plots and table, drawn in
-	// View.
-	Figures  *FigureSet
-	Sections []Section
-	View     View
+	// View is the plots' view.
+	View View
 }
 
 // Outputs is the results area: the diagnostics, the plots, the results
@@ -49,13 +42,18 @@ type Outputs struct {
 // Render draws the area and its cards.
 func (o *Outputs) Render() app.UI {
 	r := o.Out
+	var figs *FigureSet
+	var secs []Section
+	if r.Shown != nil {
+		figs, secs = r.Shown.Figures, r.Shown.Sections
+	}
 	cards := []app.UI{
 		card("Diagnostics", "bc-h-diag", diagnostics(r)),
-		card("Plots", "bc-h-plots", &PlotPanel{Host: o.Host, Set: r.Figures, View: r.View, Stale: r.Stale}),
-		card("Results", "bc-h-results", &ResultsTable{Sections: r.Sections, Stale: r.Stale}),
+		card("Plots", "bc-h-plots", &PlotPanel{Host: o.Host, Set: figs, View: r.View, Stale: r.Stale}),
+		card("Results", "bc-h-results", &ResultsTable{Sections: secs, Stale: r.Stale}),
 	}
 	if o.Modes {
-		cards = append(cards, card("Modes and grid", "bc-h-modes", &ModesGrid{Result: r.Result, Model: r.Model, Stale: r.Stale, Times: o.Times}))
+		cards = append(cards, card("Modes and grid", "bc-h-modes", &ModesGrid{Shown: r.Shown, Stale: r.Stale, Times: o.Times}))
 	}
 	return app.Section().ID(OutputID).Class(o.Class).Aria("label", "Results").
 		Aria("busy", strconv.FormatBool(r.Busy)).
@@ -76,13 +74,13 @@ func diagnostics(r ResultView) app.UI {
 			app.Text("The analysis failed: "+r.RunErr.Error()),
 		))
 	}
-	if r.Result == nil {
+	if r.Shown == nil {
 		if len(extra) > 0 {
 			return app.Div().Body(extra...)
 		}
 		return app.P().Class("muted").Text("Diagnostics appear here once the analysis has run.")
 	}
-	return app.Div().Body(append(extra, &Diagnostics{Items: r.Result.Diagnostics, Stale: r.Stale})...)
+	return app.Div().Body(append(extra, &Diagnostics{Items: r.Shown.Result.Diagnostics, Stale: r.Stale})...)
 }
 
 func card(title, id string, body ...app.UI) app.UI {

@@ -26,6 +26,8 @@ type Page struct {
 	view     View
 	figs     *FigureSet
 	sections []Section
+	// lastShown is the result as last shown (see shown).
+	lastShown *Shown
 
 	// browser keeps the state in the URL and local storage (realBrowser
 	// unless a test sets it); notice is the message shown above the results.
@@ -353,8 +355,7 @@ func (p *Page) runState() RunState {
 func (p *Page) resultView() ResultView {
 	return ResultView{
 		State: p.OutputState(), Gen: p.s.Gen, ResultGen: p.s.ResultGen, Busy: p.s.Running,
-		Result: p.s.Result, Model: p.s.ResultModel, RunErr: p.s.RunErr, Stale: p.s.Stale(),
-		Figures: p.figs, Sections: p.sections, View: p.view,
+		Shown: p.shown(), RunErr: p.s.RunErr, Stale: p.s.Stale(), View: p.view,
 	}
 }
 

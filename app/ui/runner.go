@@ -6,6 +6,7 @@ import (
 
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
 
+	"bellcheck/app/jsdom"
 	"bellcheck/engine"
 	"bellcheck/engine/model"
 )
@@ -23,6 +24,19 @@ const (
 	SliceLength = 15 * time.Millisecond
 	// reportEvery limits progress updates of the page.
 	reportEvery = 80 * time.Millisecond
+)
+
+// Performance marks the runner records (performance.mark) for every
+// analysis, so a script or a trace can split the time from a keystroke to
+// the result drawn: the analysis starts, its result is ready, the figures
+// and the table are prepared, the page takes the result, and the page's
+// update is done (the browser then lays out and paints).
+const (
+	MarkStart    = "bc-start"
+	MarkResult   = "bc-result"
+	MarkPrepared = "bc-prepared"
+	MarkHanded   = "bc-handed"
+	MarkUpdated  = "bc-updated"
 )
 
 // AnalyseFunc runs an analysis; engine.Analyse is the page's.
@@ -94,6 +108,7 @@ func (p *Page) start(ctx app.Context) {
 			p.progress = true
 		}
 	})
+	_ = jsdom.Mark(MarkStart) // natively there is nothing to mark
 	ctx.Async(func() {
 		began := time.Now()
 		y := newYielder(SliceLength)
@@ -105,6 +120,7 @@ func (p *Page) start(ctx app.Context) {
 				ctx.Dispatch(func(ctx app.Context) { p.s.Report(run.Gen, pr) })
 			}
 		})
+		_ = jsdom.Mark(MarkResult)
 		var figs *FigureSet
 		var secs []Section
 		var figTime time.Duration
@@ -116,15 +132,20 @@ func (p *Page) start(ctx app.Context) {
 			y.Yield()
 			secs = Table(res, run.Model)
 		}
+		_ = jsdom.Mark(MarkPrepared)
 		y.Yield()
 		elapsed, longest := time.Since(began), y.Longest()
 		ctx.Dispatch(func(ctx app.Context) {
 			if !p.s.Finish(run, res, err, elapsed, longest) {
 				return
 			}
+			_ = jsdom.Mark(MarkHanded)
 			p.figTime = figTime
 			drawStart := time.Now()
-			ctx.Defer(func(app.Context) { p.drawTime = time.Since(drawStart) })
+			ctx.Defer(func(app.Context) {
+				p.drawTime = time.Since(drawStart)
+				_ = jsdom.Mark(MarkUpdated)
+			})
 			p.afterRender(ctx)
 			p.progress = false
 			if err == nil && res != nil {

@@ -2,6 +2,7 @@ package ui
 
 import (
 	"html"
+	"strconv"
 	"strings"
 
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
@@ -45,6 +46,8 @@ type toolState struct {
 	embedRO, embedFold bool
 	// plot is the ID of the panel chosen for export ("" for the first).
 	plot string
+	// snippet and full keep the last embed snippet and full link made.
+	snippet, full linkMemo
 }
 
 // EmbedHeight is the iframe's height in the snippet before the calculator
@@ -73,11 +76,14 @@ func (p *Page) embedSnippet() string {
 	if base == "" {
 		return ""
 	}
-	s, err := EmbedSnippet(base, p.shareState(), p.tools.embedRO, p.tools.embedFold)
-	if err != nil {
-		return "The model is too long to embed through a link."
-	}
-	return s
+	st := p.shareState()
+	return p.tools.snippet.get(stateKey(st, base, strconv.FormatBool(p.tools.embedRO), strconv.FormatBool(p.tools.embedFold)), func() string {
+		s, err := EmbedSnippet(base, st, p.tools.embedRO, p.tools.embedFold)
+		if err != nil {
+			return "The model is too long to embed through a link."
+		}
+		return s
+	})
 }
 
 // say sets the status line.
