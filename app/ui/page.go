@@ -305,7 +305,7 @@ func (p *Page) State() (src string, params ParamChoices, v View) {
 // SetView implements Host.
 func (p *Page) SetView(ctx app.Context, log bool, hidden [5]bool) {
 	p.view = View{Log: log, Hidden: hidden}
-	p.figs = BuildFigures(p.s.Result, p.view)
+	p.figs = numbered(BuildFigures(p.s.Result, p.view))
 	p.persist()
 }
 
@@ -325,7 +325,7 @@ func (p *Page) Render() app.UI {
 			app.Div().Class("top-right").Body(
 				&RunStatus{Run: p.runState()},
 				&Toolbar{Host: p, EmbedReadOnly: p.tools.embedRO, EmbedFolded: p.tools.embedFold,
-					EmbedCode: p.embedSnippet(), Export: p.exportChoices()},
+					EmbedCode: p.openEmbedSnippet(), Export: p.exportChoices()},
 			),
 		),
 		&ToolTray{Host: p, Message: p.tools.msg, Field: p.tools.field, Warn: p.tools.warn},
@@ -355,8 +355,17 @@ func (p *Page) runState() RunState {
 func (p *Page) resultView() ResultView {
 	return ResultView{
 		State: p.OutputState(), Gen: p.s.Gen, ResultGen: p.s.ResultGen, Busy: p.s.Running,
-		Shown: p.shown(), RunErr: p.s.RunErr, Stale: p.s.Stale(), View: p.view,
+		Shown: p.shown(), RunErr: p.s.RunErr, Stale: p.dimmed(), View: p.view,
 	}
+}
+
+// dimmed reports whether the result shown is drawn dimmed: it is stale (see
+// Session.Stale), and not only because an analysis runs that has not yet
+// run for ProgressDelay. A quick analysis thus never dims and undims the
+// results (each of which repaints the whole results area), while the state
+// attributes of the results area say at once that the result is outdated.
+func (p *Page) dimmed() bool {
+	return p.s.Stale() && (!p.s.Running || p.progress || p.s.Errors != nil)
 }
 
 // pageTimes are the page's timings of the last result.

@@ -127,7 +127,7 @@ func (p *Page) start(ctx app.Context) {
 		if err == nil && res != nil && actx.Err() == nil {
 			y.Yield()
 			tf := time.Now()
-			figs = BuildFigures(res, view)
+			figs = numbered(BuildFigures(res, view))
 			figTime = time.Since(tf)
 			y.Yield()
 			secs = Table(res, run.Model)
@@ -150,7 +150,7 @@ func (p *Page) start(ctx app.Context) {
 			p.progress = false
 			if err == nil && res != nil {
 				if p.view != view {
-					figs = BuildFigures(res, p.view)
+					figs = numbered(BuildFigures(res, p.view))
 				}
 				p.figs, p.sections = figs, secs
 			}
