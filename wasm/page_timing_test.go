@@ -58,7 +58,7 @@ func TestPageTiming(t *testing.T) {
 		eval[bool](t, tb, 5*time.Second, fmt.Sprintf(`(document.querySelectorAll("ul.gallery button.ex")[%d].click(), true)`, exampleIndex(t, id)))
 		st = tb.waitDone(t, st.Done, 180*time.Second)
 		split := make([][]float64, len(phases))
-		var ready []float64
+		var ready, checking []float64
 		var windows [][]float64 // per edit: the marks' times and the drawing's, in ms
 		tr := startTrace(t, tb)
 		for k := 1; k <= edits; k++ {
@@ -84,6 +84,7 @@ func TestPageTiming(t *testing.T) {
 				split[i] = append(split[i], times[i+1]-times[i])
 			}
 			ready = append(ready, drawn-at[ui.MarkResult])
+			checking = append(checking, at[ui.MarkStart]-st.EditAt-float64(ui.CheckDelay)/float64(time.Millisecond))
 		}
 		cpu := tr.mainThreadCPU(t, tb, windows)
 		if os.Getenv("BELLCHECK_PAGE_PROFILE") != "" {
@@ -94,8 +95,10 @@ func TestPageTiming(t *testing.T) {
 		for i, ph := range phases {
 			parts = append(parts, fmt.Sprintf("%s %.1f / %.1f", ph, slices.Min(split[i]), timingMedian(split[i])))
 		}
-		t.Logf("%s: result ready to drawn: least %.1f ms, median %.1f ms of %d edits (%s); each phase least / median in ms: %s",
-			id, slices.Min(ready), timingMedian(ready), edits, timingList(ready), strings.Join(parts, ", "))
+		t.Logf("%s: result ready to drawn: least %.1f ms, median %.1f ms of %d edits (%s); each phase least / median in ms: %s; "+
+			"before them, the check (from the edit to the analysis's start, less the check delay): least %.1f, median %.1f",
+			id, slices.Min(ready), timingMedian(ready), edits, timingList(ready), strings.Join(parts, ", "),
+			slices.Min(checking), timingMedian(checking))
 		var cparts []string
 		var cready []float64
 		for i, ph := range phases {

@@ -17,15 +17,17 @@ type Page struct {
 	// runner runs the analyses (runner.go).
 	runner
 
-	s        Session
-	initial  string // the editor's text when the page was built
-	text     string // the editor's current text
-	editSeq  int
-	pending  bool
-	example  string
-	view     View
-	figs     *FigureSet
-	sections []Section
+	s       Session
+	initial string // the editor's text when the page was built
+	text    string // the editor's current text
+	editSeq int
+	// persistSeq numbers the requests to persist the state (persistSoon).
+	persistSeq int
+	pending    bool
+	example    string
+	view       View
+	figs       *FigureSet
+	sections   []Section
 	// lastShown is the result as last shown (see shown).
 	lastShown *Shown
 
@@ -196,6 +198,23 @@ func (p *Page) persist() {
 	p.browser.SetFragment(frag)
 }
 
+// persistSoon persists the state PersistDelay from now, once for a burst
+// of changes: encoding the state and writing it to the URL and the storage
+// take longer than a small analysis, so they wait until its result is
+// drawn.
+func (p *Page) persistSoon(ctx app.Context) {
+	if p.ctx != nil {
+		ctx = *p.ctx
+	}
+	p.persistSeq++
+	seq := p.persistSeq
+	ctx.After(PersistDelay, func(ctx app.Context) {
+		if seq == p.persistSeq {
+			p.persist()
+		}
+	})
+}
+
 // OnDismount stops a running analysis.
 func (p *Page) OnDismount() {
 	if p.cancel != nil {
@@ -237,7 +256,7 @@ func (p *Page) check(ctx app.Context) {
 // checked saves the state of a text just checked and analyses it when it
 // is valid.
 func (p *Page) checked(ctx app.Context, valid bool) {
-	p.persist()
+	p.persistSoon(ctx)
 	if valid {
 		p.start(ctx)
 		return
@@ -248,7 +267,7 @@ func (p *Page) checked(ctx app.Context, valid bool) {
 // SetParam implements Host.
 func (p *Page) SetParam(ctx app.Context, name string, o engine.ParamOptions) {
 	p.s.SetParam(name, o)
-	p.persist()
+	p.persistSoon(ctx)
 	if p.s.Model != nil && !p.pending {
 		p.start(ctx)
 	}

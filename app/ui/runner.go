@@ -22,6 +22,9 @@ const (
 	// SliceLength is how long the analysis works before it lets the
 	// browser run (Go in WebAssembly is not preemptive).
 	SliceLength = 15 * time.Millisecond
+	// PersistDelay is how long the page waits after a change before it
+	// saves the state in the URL and the browser's storage.
+	PersistDelay = 250 * time.Millisecond
 	// reportEvery limits progress updates of the page.
 	reportEvery = 80 * time.Millisecond
 )
