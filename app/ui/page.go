@@ -199,9 +199,9 @@ func (p *Page) persist() {
 }
 
 // persistSoon persists the state PersistDelay from now, once for a burst
-// of changes: encoding the state and writing it to the URL and the storage
-// take longer than a small analysis, so they wait until its result is
-// drawn.
+// of checks: encoding the state and writing it to the URL and the storage
+// take longer than a small analysis, so after a keystroke they wait until
+// its result is drawn. (Other changes, rarer, persist at once.)
 func (p *Page) persistSoon(ctx app.Context) {
 	if p.ctx != nil {
 		ctx = *p.ctx
@@ -267,7 +267,7 @@ func (p *Page) checked(ctx app.Context, valid bool) {
 // SetParam implements Host.
 func (p *Page) SetParam(ctx app.Context, name string, o engine.ParamOptions) {
 	p.s.SetParam(name, o)
-	p.persistSoon(ctx)
+	p.persist()
 	if p.s.Model != nil && !p.pending {
 		p.start(ctx)
 	}
