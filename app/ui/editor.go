@@ -8,6 +8,7 @@ import (
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
 
 	"bellcheck/app/jsdom"
+	"bellcheck/engine/model"
 )
 
 // EditorID is the id of the model's textarea.
@@ -21,9 +22,10 @@ type Editor struct {
 	// Initial is the text the area starts with (the page sets later
 	// texts, such as a loaded example, through jsdom).
 	Initial string
-	// Text is the current text; Checked the text Errors belong to.
+	// Text is the current text; Checked the text Errors belong to, as the
+	// parser gave them (their positions index Checked).
 	Text, Checked string
-	Errors        []SourceError
+	Errors        model.ErrorList
 	// Pending reports that a check is due (the text changed since).
 	Pending bool
 	// ReadOnly shows the text without letting it be changed (the embed
@@ -42,7 +44,7 @@ func (e *Editor) Render() app.UI {
 	errLine := map[int]bool{}
 	if showMarks {
 		for _, er := range e.Errors {
-			errLine[er.Line] = true
+			errLine[er.Pos.Line] = true
 		}
 	}
 	gutter := make([]app.UI, 0, 2*lines)
@@ -88,8 +90,7 @@ func (e *Editor) underlay(show bool) app.UI {
 	if !show {
 		return app.Pre().Class("code-underlay").Aria("hidden", "true")
 	}
-	er := e.Errors[0]
-	off := byteOffset(e.Text, er.Line, er.Col)
+	off := max(0, min(e.Errors[0].Pos.Offset, len(e.Text)))
 	end := off
 	if end < len(e.Text) && e.Text[end] != '\n' {
 		_, size := utf8.DecodeRuneInString(e.Text[end:])
@@ -113,7 +114,7 @@ func (e *Editor) status(showMarks bool) app.UI {
 		items := make([]app.UI, 0, len(e.Errors))
 		for _, er := range e.Errors {
 			li := app.Li().Body(
-				app.Span().Class("err-pos").Text("line "+strconv.Itoa(er.Line)+", column "+strconv.Itoa(er.Col)+": "),
+				app.Span().Class("err-pos").Text("line "+strconv.Itoa(er.Pos.Line)+", column "+strconv.Itoa(er.Pos.Col)+": "),
 				app.Span().Text(er.Msg),
 				app.If(er.Hint != "", func() app.UI {
 					return app.Span().Class("err-hint").Text(" Hint: " + er.Hint)
@@ -138,22 +139,4 @@ func (e *Editor) onInput(ctx app.Context, ev app.Event) {
 		return
 	}
 	e.Host.Input(ctx, v)
-}
-
-// byteOffset returns the byte offset of line and rune column (1-based) in
-// text, clamped to the text.
-func byteOffset(text string, line, col int) int {
-	off := 0
-	for l := 1; l < line; l++ {
-		i := strings.IndexByte(text[off:], '\n')
-		if i < 0 {
-			return len(text)
-		}
-		off += i + 1
-	}
-	for c := 1; c < col && off < len(text) && text[off] != '\n'; c++ {
-		_, size := utf8.DecodeRuneInString(text[off:])
-		off += size
-	}
-	return off
 }

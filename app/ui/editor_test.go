@@ -5,24 +5,34 @@ import (
 	"testing"
 
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
+
+	"bellcheck/engine/model"
 )
 
-func TestByteOffsetCountsRunes(t *testing.T) {
-	text := "ab\nμσx = 1\n"
-	cases := []struct{ line, col, want int }{
-		{1, 1, 0}, {1, 3, 2}, {2, 1, 3}, {2, 3, 7}, {2, 99, 12}, {9, 1, len(text)},
+// TestEditorMarksTheParsersPosition checks that the mark sits on the
+// character the parser names, after multi-byte characters (the position's
+// byte offset is used as the parser gives it).
+func TestEditorMarksTheParsersPosition(t *testing.T) {
+	text := "param μ\nμσ = 1\nld_normal(μ, 0, μσ ° 2)\n"
+	var s Session
+	if s.Edit(text) {
+		t.Fatal("a stray character was accepted")
 	}
-	for _, c := range cases {
-		if got := byteOffset(text, c.line, c.col); got != c.want {
-			t.Errorf("byteOffset(%d, %d) = %d, want %d", c.line, c.col, got, c.want)
-		}
+	ed := &Editor{Initial: text, Text: text, Checked: s.Source, Errors: s.Errors}
+	html := app.HTMLString(ed)
+	if !strings.Contains(html, `<mark class="err-mark">°</mark>`) {
+		t.Errorf("the mark is not on the stray character:\n%s", html)
+	}
+	// Line 3, column 20 counted in characters (the parser's convention).
+	if !strings.Contains(html, "line 3, column 20: ") {
+		t.Errorf("the position is not the parser's:\n%s", html)
 	}
 }
 
 func TestEditorMarksTheErrorAtItsColumn(t *testing.T) {
 	text := "param x\nld_normal(x, 0, σ)\n"
 	ed := &Editor{Initial: text, Text: text, Checked: text,
-		Errors: []SourceError{{Line: 2, Col: 17, Msg: "unknown name σ", Hint: "declare it"}}}
+		Errors: model.ErrorList{{Pos: model.Pos{Offset: len("param x\nld_normal(x, 0, "), Line: 2, Col: 17}, Msg: "unknown name σ", Hint: "declare it"}}}
 	html := app.HTMLString(ed)
 	if !strings.Contains(html, `<mark class="err-mark">σ</mark>`) {
 		t.Errorf("the mark is not on the offending character:\n%s", html)
@@ -109,7 +119,7 @@ func TestEditorKeepsTheTextareaInPlace(t *testing.T) {
 	text := "param x\nld_normal(x, 0\n"
 	for _, ed := range []*Editor{
 		{Text: text, Checked: text},
-		{Text: text, Checked: text, Errors: []SourceError{{Line: 2, Col: 15, Msg: "expected ')'"}}},
+		{Text: text, Checked: text, Errors: model.ErrorList{{Pos: model.Pos{Offset: len("param x\nld_normal(x, 0"), Line: 2, Col: 15}, Msg: "expected ')'"}}},
 	} {
 		html := app.HTMLString(ed)
 		under, area := strings.Index(html, `class="code-underlay"`), strings.Index(html, "<textarea")

@@ -66,15 +66,6 @@ func (p *Page) OutputState() string {
 	return StateEmpty
 }
 
-// output returns the results area's element with its state attributes.
-func (p *Page) output(class string) app.HTMLSection {
-	return app.Section().ID(OutputID).Class(class).Aria("label", "Results").
-		Aria("busy", strconv.FormatBool(p.s.Running)).
-		DataSet("state", p.OutputState()).
-		DataSet("gen", p.s.Gen).
-		DataSet("result-gen", p.s.ResultGen)
-}
-
 // embedLink reports whether a fragment is a valid link to the embed view.
 func embedLink(frag string) bool {
 	if frag == "" {
@@ -111,9 +102,8 @@ func (p *Page) openEmbedded(ctx app.Context) {
 	}
 	p.setMode(st.View)
 	p.mode.Embed = true
-	src, params, v := fromShare(st)
-	p.initial = src
-	p.LoadState(ctx, src, params, v)
+	p.initial = st.Model
+	p.loadLink(ctx, st)
 }
 
 // ToggleEditor folds or unfolds the embed view's editor.
@@ -137,11 +127,14 @@ func (p *Page) afterRender(ctx app.Context) {
 func (p *Page) fullLink() string {
 	st := p.shareState()
 	st.View.Embed, st.View.ReadOnly, st.View.EditorCollapsed = false, false, false
-	frag, err := share.Encode(st)
-	if err != nil {
-		return pageURL()
-	}
-	return pageURL() + "#" + frag
+	base := pageURL()
+	return p.tools.full.get(stateKey(st, base), func() string {
+		frag, err := share.Encode(st)
+		if err != nil {
+			return base
+		}
+		return base + "#" + frag
+	})
 }
 
 // pageURL is the page's address without its fragment ("" natively, so
@@ -175,54 +168,81 @@ func (p *Page) modelSummary() string {
 	return s
 }
 
-// renderEmbed draws the compact view for an iframe: a slim header, the
-// model (foldable, perhaps read-only), the diagnostics, the plots and the
-// results table.
+// renderEmbed draws the compact view for an iframe.
 func (p *Page) renderEmbed() app.UI {
-	stale := p.s.Stale()
-	ro := p.mode.ReadOnly
+	return &EmbedView{Host: p, ReadOnly: p.mode.ReadOnly, Folded: p.folded, Summary: p.modelSummary(),
+		FullLink: p.fullLink(), Run: p.runState(), Notice: p.notice, Model: p.modelInput(), Out: p.resultView()}
+}
+
+// EmbedHost is what the embed view reports to: the page implements it.
+type EmbedHost interface {
+	Host
+	NoticeHost
+	// ToggleEditor folds or unfolds the editor.
+	ToggleEditor(ctx app.Context)
+}
+
+// EmbedView is the compact view for an iframe: a slim header, the model
+// (foldable, perhaps read-only), the diagnostics, the plots and the results
+// table.
+type EmbedView struct {
+	app.Compo
+	Host EmbedHost
+	// ReadOnly shows the model without letting it be edited; Folded hides
+	// the editor, and Summary describes the model in its place.
+	ReadOnly, Folded bool
+	Summary          string
+	// FullLink opens the state in the full calculator.
+	FullLink string
+	Run      RunState
+	Notice   Notice
+	Model    ModelInput
+	Out      ResultView
+}
+
+// Render draws the view.
+func (v *EmbedView) Render() app.UI {
+	ro := v.ReadOnly
 	label := "Hide the model"
-	if p.folded {
+	if v.Folded {
 		label = "Show the model"
 	}
+	ed := v.Model.editor(v.Host)
+	ed.ReadOnly = ro
 	return app.Div().ID(RootID).Class("page embed").Body(
 		app.Header().Class("embed-top").Body(
 			app.Div().Class("brand").Body(
 				app.Raw(logoSVG),
 				app.Span().Class("wordmark").Text("bellcheck"),
 			),
-			p.runStatus(),
-			app.A().ID(OpenFullID).Class("open-full").Href(p.fullLink()).Target("_blank").Rel("noopener").
+			&RunStatus{Run: v.Run},
+			app.A().ID(OpenFullID).Class("open-full").Href(v.FullLink).Target("_blank").Rel("noopener").
 				Title("Open this model in the full calculator, in a new tab").Text("Open in bellcheck ↗"),
 		),
-		p.noticeBar(),
+		&NoticeBar{Host: v.Host, Notice: v.Notice},
 		app.Main().Class("embed-body").Body(
 			app.Section().Class("card embed-model").Aria("labelledby", "bc-h-model").Body(
 				app.Div().Class("embed-model-head").Body(
 					app.H2().ID("bc-h-model").Text("Model"),
-					app.Span().Class("muted embed-summary").Text(p.modelSummary()),
+					app.Span().Class("muted embed-summary").Text(v.Summary),
 					app.If(ro, func() app.UI { return app.Span().Class("ro-badge").Text("read-only") }),
 					app.Button().Type("button").ID(EmbedToggleID).Class("tool-btn fold-btn").
-						Aria("expanded", strconv.FormatBool(!p.folded)).Aria("controls", EmbedEditorID).
-						Text(label).OnClick(func(ctx app.Context, e app.Event) { p.ToggleEditor(ctx) }),
+						Aria("expanded", strconv.FormatBool(!v.Folded)).Aria("controls", EmbedEditorID).
+						Text(label).OnClick(func(ctx app.Context, e app.Event) { v.Host.ToggleEditor(ctx) }),
 				),
 				// Folding hides the editor rather than removing it, so it
 				// keeps its text, caret and undo history.
-				app.Div().ID(EmbedEditorID).Class("embed-editor").Hidden(p.folded).Body(
-					&Editor{Host: p, Initial: p.initial, Text: p.text, Checked: p.s.Source, Errors: p.s.Errors, Pending: p.pending, ReadOnly: ro},
+				app.Div().ID(EmbedEditorID).Class("embed-editor").Hidden(v.Folded).Body(
+					ed,
 					app.If(!ro, func() app.UI {
 						return app.Div().Class("embed-params").Body(
 							app.H3().Class("embed-sub").Text("Parameters"),
-							&ParamPanel{Host: p, Params: ParamViews(&p.s), Stale: p.s.Model == nil},
+							v.Model.params(v.Host),
 						)
 					}),
 				),
 			),
-			p.output("embed-output").Body(
-				card("Diagnostics", "bc-h-diag", p.diagnostics(stale)),
-				card("Plots", "bc-h-plots", &PlotPanel{Host: p, Set: p.figs, View: p.view, Stale: stale}),
-				card("Results", "bc-h-results", &ResultsTable{Sections: p.sections, Stale: stale}),
-			),
+			&Outputs{Host: v.Host, Class: "embed-output", Out: v.Out},
 		),
 		app.P().Class("embed-caution muted").Body(
 			app.Strong().Text("Caution. "),

@@ -44,8 +44,7 @@ func (p *Page) RestoreHistory(ctx app.Context, key string) {
 		return
 	}
 	cur := p.shareState()
-	src, params, v := fromShare(e.State)
-	p.LoadState(ctx, src, params, v)
+	p.loadLink(ctx, e.State)
 	p.notice = Notice{Text: "Opened a model from your history.", Action: "Back to the model before", Offer: &cur}
 }
 

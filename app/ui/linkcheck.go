@@ -28,6 +28,9 @@ func LinkProblems(st share.State) []string {
 // usableOptions returns the link's options with every option the engine
 // would refuse set back to its default.
 func usableOptions(m *model.Model, params []engine.ParamOptions) []engine.ParamOptions {
+	if m == nil {
+		return params // a text with errors: its options cannot be named
+	}
 	if len(params) > len(m.Params) {
 		params = params[:len(m.Params)]
 	}

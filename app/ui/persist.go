@@ -6,7 +6,6 @@ import (
 
 	"bellcheck/app/jsdom"
 	"bellcheck/app/share"
-	"bellcheck/engine"
 	"bellcheck/engine/model"
 )
 
@@ -83,39 +82,8 @@ type Notice struct {
 
 // toShare returns the state in the link format: options by parameter index
 // of the model text (or of the last valid model while the text has errors).
-func toShare(src string, m *model.Model, params func(string) engine.ParamOptions, v View) share.State {
-	st := share.State{Model: src, View: share.View{LogScale: v.Log}}
-	if m != nil {
-		st.Params = make([]engine.ParamOptions, len(m.Params))
-		empty := true
-		for i, p := range m.Params {
-			st.Params[i] = params(p.Name)
-			if st.Params[i] != (engine.ParamOptions{}) {
-				empty = false
-			}
-		}
-		if empty {
-			st.Params = nil
-		}
-	}
-	return st
-}
-
-// fromShare returns a link's state as the page keeps it: options by
-// parameter name (dropped if the text has errors, since they cannot be
-// named then; an option the engine would refuse is set back to its
-// default, see LinkProblems).
-func fromShare(st share.State) (src string, params map[string]engine.ParamOptions, v View) {
-	params = map[string]engine.ParamOptions{}
-	if m, err := model.Parse(st.Model); err == nil {
-		usable := usableOptions(m, st.Params)
-		for i, p := range m.Params {
-			if i < len(usable) {
-				params[p.Name] = usable[i]
-			}
-		}
-	}
-	return st.Model, params, View{Log: st.View.LogScale}
+func toShare(src string, m *model.Model, params ParamChoices, v View) share.State {
+	return share.State{Model: src, Params: params.ByIndex(m), View: share.View{LogScale: v.Log}}
 }
 
 // Opening decides what the page opens with, from the URL's fragment and the

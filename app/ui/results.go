@@ -41,18 +41,12 @@ func (t *ResultsTable) Render() app.UI {
 		head = append(head, app.Th().Scope("col").Class("mcol").Title(s.Long).Body(
 			swatch(m), app.Span().Class("mname").Text(s.Name)))
 	}
-	var bodies []app.UI
-	for _, sec := range t.Sections {
-		rows := []app.UI{app.Tr().Class("sec").Body(
-			app.Th().Scope("rowgroup").ColSpan(6).Text(sec.Title))}
-		for _, r := range sec.Rows {
-			cells := []app.UI{app.Th().Scope("row").Class("rlabel").Title(r.Hint).Text(r.Label)}
-			for _, m := range plot.Methods {
-				cells = append(cells, cell(r.Cells[m]))
-			}
-			rows = append(rows, app.Tr().Body(cells...))
-		}
-		bodies = append(bodies, app.TBody().Body(rows...))
+	// One component per section, given a pointer into the table: while the
+	// table is the same, toggling Stale re-renders the table's element and
+	// compares each section in constant time, without rendering its rows.
+	bodies := make([]app.UI, len(t.Sections))
+	for i := range t.Sections {
+		bodies[i] = &TableSection{Section: &t.Sections[i]}
 	}
 	cls := "results"
 	if t.Stale {
@@ -69,6 +63,30 @@ func (t *ResultsTable) Render() app.UI {
 			app.Text(" closest to the exact value in its row. Small print: error estimate of the exact value; a fit's deviation from it."),
 		),
 	)
+}
+
+// TableSection is one section of the results table: its title row and its
+// rows, in a table body.
+type TableSection struct {
+	app.Compo
+	Section *Section
+}
+
+// Render draws the section.
+func (ts *TableSection) Render() app.UI {
+	sec := ts.Section
+	rows := make([]app.UI, 0, len(sec.Rows)+1)
+	rows = append(rows, app.Tr().Class("sec").Body(
+		app.Th().Scope("rowgroup").ColSpan(6).Text(sec.Title)))
+	for _, r := range sec.Rows {
+		cells := make([]app.UI, 0, len(plot.Methods)+1)
+		cells = append(cells, app.Th().Scope("row").Class("rlabel").Title(r.Hint).Text(r.Label))
+		for _, m := range plot.Methods {
+			cells = append(cells, cell(r.Cells[m]))
+		}
+		rows = append(rows, app.Tr().Body(cells...))
+	}
+	return app.TBody().Body(rows...)
 }
 
 func cell(c Cell) app.UI {

@@ -10,12 +10,6 @@ import (
 	"bellcheck/engine/model"
 )
 
-// SourceError is one problem in the model text, where it is and what it is.
-type SourceError struct {
-	Line, Col int // 1-based; Col counts runes
-	Msg, Hint string
-}
-
 // Run is one analysis to start: its generation, the model and options.
 type Run struct {
 	Gen     uint64
@@ -33,8 +27,9 @@ type Session struct {
 	Source string
 	// Model is Source's checked model, nil while Source has errors.
 	Model *model.Model
-	// Errors lists Source's problems (nil when it is valid).
-	Errors []SourceError
+	// Errors lists Source's problems as the parser gives them, with their
+	// positions (nil when it is valid).
+	Errors model.ErrorList
 	// LastGood is the last valid model, kept while the text has errors.
 	LastGood *model.Model
 
@@ -60,7 +55,7 @@ type Session struct {
 	// yielding to the browser.
 	Elapsed, LongestSlice time.Duration
 
-	params map[string]engine.ParamOptions
+	params ParamChoices
 }
 
 // Edit checks new model text. It reports whether the text is a valid model
@@ -77,21 +72,18 @@ func (s *Session) Edit(src string) bool {
 	return true
 }
 
-// sourceErrors turns the parser's error into SourceErrors.
-func sourceErrors(err error) []SourceError {
+// sourceErrors returns the parser's error as a list (an error of another
+// kind at the start of the text).
+func sourceErrors(err error) model.ErrorList {
 	var list model.ErrorList
 	if errors.As(err, &list) && len(list) > 0 {
-		out := make([]SourceError, len(list))
-		for i, e := range list {
-			out[i] = SourceError{Line: e.Pos.Line, Col: e.Pos.Col, Msg: e.Msg, Hint: e.Hint}
-		}
-		return out
+		return list
 	}
 	var one *model.Error
 	if errors.As(err, &one) {
-		return []SourceError{{Line: one.Pos.Line, Col: one.Pos.Col, Msg: one.Msg, Hint: one.Hint}}
+		return model.ErrorList{one}
 	}
-	return []SourceError{{Line: 1, Col: 1, Msg: err.Error()}}
+	return model.ErrorList{{Pos: model.Pos{Line: 1, Col: 1}, Msg: err.Error()}}
 }
 
 // Stale reports whether the result shown is not the answer for the text and
@@ -166,7 +158,7 @@ func (s *Session) Param(name string) engine.ParamOptions {
 // name, so they survive edits of the text that keep the parameter.
 func (s *Session) SetParam(name string, o engine.ParamOptions) {
 	if s.params == nil {
-		s.params = map[string]engine.ParamOptions{}
+		s.params = ParamChoices{}
 	}
 	s.params[name] = o
 }
@@ -184,8 +176,12 @@ func (s *Session) Options() engine.Options {
 		return o
 	}
 	o.Params = make([]engine.ParamOptions, len(s.Model.Params))
+	chosen := s.params.ByIndex(s.Model)
 	for i, p := range s.Model.Params {
-		po := s.params[p.Name]
+		var po engine.ParamOptions
+		if i < len(chosen) {
+			po = chosen[i]
+		}
 		if po.Scale.Check(p.Lo, p.Hi) != nil {
 			po.Scale = ""
 		}

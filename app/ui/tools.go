@@ -2,6 +2,7 @@ package ui
 
 import (
 	"html"
+	"strconv"
 	"strings"
 
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
@@ -41,10 +42,13 @@ type toolState struct {
 	// field is text offered for copying by hand when the browser refused
 	// the clipboard ("" hides the field).
 	field string
-	// embedRO and embedFold are the options of the embed snippet.
-	embedRO, embedFold bool
+	// embedRO and embedFold are the options of the embed snippet;
+	// embedOpen reports its menu open.
+	embedRO, embedFold, embedOpen bool
 	// plot is the ID of the panel chosen for export ("" for the first).
 	plot string
+	// snippet and full keep the last embed snippet and full link made.
+	snippet, full linkMemo
 }
 
 // EmbedHeight is the iframe's height in the snippet before the calculator
@@ -73,127 +77,14 @@ func (p *Page) embedSnippet() string {
 	if base == "" {
 		return ""
 	}
-	s, err := EmbedSnippet(base, p.shareState(), p.tools.embedRO, p.tools.embedFold)
-	if err != nil {
-		return "The model is too long to embed through a link."
-	}
-	return s
-}
-
-// toolbar is the header's share and export tools.
-func (p *Page) toolbar() app.UI {
-	return app.Div().Class("tools").Body(
-		app.Button().Type("button").ID(CopyLinkID).Class("tool-btn").
-			Title("Copy a link that opens this model with its settings").Text("Copy link").
-			OnClick(func(ctx app.Context, e app.Event) { p.CopyLink(ctx) }),
-		app.Details().ID(EmbedMenuID).Class("menu").Body(
-			app.Summary().Class("tool-btn").Title("Show this calculator live in a wiki or web page").Text("Embed"),
-			app.Div().Class("menu-panel").Body(
-				app.P().Class("menu-lead").Text("Paste this code into a wiki or web page to show this model there as a live calculator."),
-				app.Label().Class("menu-check").For(EmbedROID).Body(
-					app.Input().Type("checkbox").ID(EmbedROID).Checked(p.tools.embedRO).
-						OnChange(func(ctx app.Context, e app.Event) { p.setEmbedOption(EmbedROID) }),
-					app.Span().Text("read-only: readers see the model but cannot edit it"),
-				),
-				app.Label().Class("menu-check").For(EmbedFoldID).Body(
-					app.Input().Type("checkbox").ID(EmbedFoldID).Checked(p.tools.embedFold).
-						OnChange(func(ctx app.Context, e app.Event) { p.setEmbedOption(EmbedFoldID) }),
-					app.Span().Text("start with the model folded away"),
-				),
-				app.Label().Class("sr-only").For(EmbedCodeID).Text("Embed code"),
-				app.Textarea().ID(EmbedCodeID).Class("code-field").ReadOnly(true).Rows(4).
-					Attr("spellcheck", "false").Text(p.embedSnippet()),
-				app.Div().Class("menu-row").Body(
-					app.Button().Type("button").ID(CopyEmbedID).Class("tool-btn primary").Text("Copy embed code").
-						OnClick(func(ctx app.Context, e app.Event) { p.CopyEmbed(ctx) }),
-				),
-				app.P().Class("menu-note").Body(
-					app.Text("The frame takes the height of its content when the host page runs the small resize script of the "),
-					app.A().Href("web/embed-example.html").Target("_blank").Rel("noopener").Text("example host page"),
-					app.Text(". Embeds never touch the work saved in this browser."),
-				),
-			),
-		),
-		app.Details().ID(ExportMenuID).Class("menu").Body(
-			app.Summary().Class("tool-btn").Title("Save the results, the table or a plot").Text("Export"),
-			p.exportPanel(),
-		),
-	)
-}
-
-func (p *Page) exportPanel() app.UI {
-	none := p.s.Result == nil
-	panels := panelsOf(p.figs)
-	choice := p.chosenPanel()
-	opts := make([]app.UI, len(panels))
-	for i, pn := range panels {
-		opts[i] = app.Option().Value(pn.ID).Selected(choice != nil && pn.ID == choice.ID).Text(panelLabel(pn))
-	}
-	noPlot := choice == nil
-	return app.Div().Class("menu-panel").Body(
-		app.Div().Class("menu-group").Body(
-			app.Span().Class("menu-label").Text("Results"),
-			app.Div().Class("menu-row").Body(
-				app.Button().Type("button").ID(ExportJSONID).Class("tool-btn").Disabled(none).Text("Save JSON").
-					Title("The command line's JSON (bellcheck fit --json)").
-					OnClick(func(ctx app.Context, e app.Event) { p.ExportJSON(ctx) }),
-				app.Button().Type("button").ID(ExportCSVID).Class("tool-btn").Disabled(none).Text("Save CSV").
-					Title("One row per quantity and method").
-					OnClick(func(ctx app.Context, e app.Event) { p.ExportCSV(ctx) }),
-			),
-		),
-		app.Div().Class("menu-group").Body(
-			app.Span().Class("menu-label").Text("Table"),
-			app.Div().Class("menu-row").Body(
-				app.Button().Type("button").ID(CopyMarkdownID).Class("tool-btn").Disabled(len(p.sections) == 0).Text("Copy Markdown").
-					OnClick(func(ctx app.Context, e app.Event) { p.CopyTable(ctx, false) }),
-				app.Button().Type("button").ID(CopyLaTeXID).Class("tool-btn").Disabled(len(p.sections) == 0).Text("Copy LaTeX").
-					Title("A tabular environment").
-					OnClick(func(ctx app.Context, e app.Event) { p.CopyTable(ctx, true) }),
-			),
-		),
-		app.Div().Class("menu-group").Body(
-			app.Label().Class("menu-label").For(ExportPlotID).Text("Plot"),
-			app.Select().ID(ExportPlotID).Class("menu-select").Disabled(noPlot).
-				OnChange(func(ctx app.Context, e app.Event) {
-					if v, err := jsdom.Value(ExportPlotID); err == nil {
-						p.tools.plot = v
-					}
-				}).Body(opts...),
-			app.Div().Class("menu-row").Body(
-				app.Button().Type("button").ID(ExportSVGID).Class("tool-btn").Disabled(noPlot).Text("Save SVG").
-					OnClick(func(ctx app.Context, e app.Event) { p.ExportPlot(ctx, false) }),
-				app.Button().Type("button").ID(ExportPNGID).Class("tool-btn").Disabled(noPlot).Text("Save PNG").
-					OnClick(func(ctx app.Context, e app.Event) { p.ExportPlot(ctx, true) }),
-			),
-		),
-		app.P().Class("menu-note").Text("The files hold the results shown; the README lists the CSV's columns."),
-	)
-}
-
-// toolTray is the tools' status line, with the text to copy by hand when
-// the browser refused the clipboard.
-func (p *Page) toolTray() app.UI {
-	t := p.tools
-	tray := app.Div().ID(ToolStatusID).Class("tool-tray").Attr("role", "status").Aria("live", "polite")
-	if t.msg == "" {
-		return tray
-	}
-	cls := "tool-msg"
-	if t.warn {
-		cls += " tool-warn"
-	}
-	return tray.Body(
-		app.Div().Class(cls).Body(
-			app.Span().Class("tool-text").Text(t.msg),
-			app.Button().Type("button").ID(toolCloseID).Class("notice-close").Aria("label", "dismiss this message").Text("×").
-				OnClick(func(ctx app.Context, e app.Event) { p.tools.msg, p.tools.field, p.tools.warn = "", "", false }),
-		),
-		app.If(t.field != "", func() app.UI {
-			return app.Textarea().ID(CopyFieldID).Class("code-field").ReadOnly(true).Rows(3).
-				Attr("spellcheck", "false").Aria("label", "Text to copy").Text(t.field)
-		}),
-	)
+	st := p.shareState()
+	return p.tools.snippet.get(stateKey(st, base, strconv.FormatBool(p.tools.embedRO), strconv.FormatBool(p.tools.embedFold)), func() string {
+		s, err := EmbedSnippet(base, st, p.tools.embedRO, p.tools.embedFold)
+		if err != nil {
+			return "The model is too long to embed through a link."
+		}
+		return s
+	})
 }
 
 // say sets the status line.
@@ -201,17 +92,32 @@ func (p *Page) say(msg string, warn bool) {
 	p.tools.msg, p.tools.warn, p.tools.field = msg, warn, ""
 }
 
-// setEmbedOption reads an embed checkbox.
-func (p *Page) setEmbedOption(id string) {
-	on, err := jsdom.Checked(id)
-	if err != nil {
-		return
+// SetEmbedOptions implements ToolHost.
+func (p *Page) SetEmbedOptions(ctx app.Context, readOnly, folded bool) {
+	p.tools.embedRO, p.tools.embedFold = readOnly, folded
+}
+
+// OpenEmbedMenu implements ToolHost.
+func (p *Page) OpenEmbedMenu(ctx app.Context, open bool) { p.tools.embedOpen = open }
+
+// ChoosePlot implements ToolHost.
+func (p *Page) ChoosePlot(ctx app.Context, id string) { p.tools.plot = id }
+
+// DismissToolMessage implements ToolHost.
+func (p *Page) DismissToolMessage(ctx app.Context) {
+	p.tools.msg, p.tools.field, p.tools.warn = "", "", false
+}
+
+// exportChoices is what the export panel offers now.
+func (p *Page) exportChoices() ExportChoices {
+	c := ExportChoices{HasResult: p.s.Result != nil, HasTable: len(p.sections) > 0}
+	for _, pn := range panelsOf(p.figs) {
+		c.Plots = append(c.Plots, PlotChoice{ID: pn.ID, Label: panelLabel(pn)})
 	}
-	if id == EmbedROID {
-		p.tools.embedRO = on
-	} else {
-		p.tools.embedFold = on
+	if pn := p.chosenPanel(); pn != nil {
+		c.Chosen = pn.ID
 	}
+	return c
 }
 
 // CopyLink copies a link to the current state (in the full view).
@@ -420,4 +326,13 @@ func (p *Page) ExportPlot(ctx app.Context, png bool) {
 			p.say("Saved "+name+" ("+itoa(w)+" × "+itoa(h)+" pixels, "+panelLabel(pn)+")."+note+p.staleNote(), false)
 		})
 	})
+}
+
+// openEmbedSnippet is the snippet while the embed menu is open, "" while
+// it is closed (making it encodes the state, at every change of it).
+func (p *Page) openEmbedSnippet() string {
+	if !p.tools.embedOpen {
+		return ""
+	}
+	return p.embedSnippet()
 }

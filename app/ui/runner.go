@@ -1,0 +1,194 @@
+package ui
+
+import (
+	"context"
+	"time"
+
+	"github.com/maxence-charriere/go-app/v10/pkg/app"
+
+	"bellcheck/app/jsdom"
+	"bellcheck/engine"
+	"bellcheck/engine/model"
+)
+
+// Timing of the page's reactions.
+const (
+	// CheckDelay is how long the page waits after a keystroke before it
+	// checks the text (so a burst of typing is checked once).
+	CheckDelay = 150 * time.Millisecond
+	// ProgressDelay is how long an analysis runs before its progress bar
+	// shows.
+	ProgressDelay = 300 * time.Millisecond
+	// SliceLength is how long the analysis works before it lets the
+	// browser run (Go in WebAssembly is not preemptive).
+	SliceLength = 15 * time.Millisecond
+	// PersistDelay is how long the page waits after a change before it
+	// saves the state in the URL and the browser's storage.
+	PersistDelay = 250 * time.Millisecond
+	// reportEvery limits progress updates of the page.
+	reportEvery = 80 * time.Millisecond
+)
+
+// Performance marks the runner records (performance.mark) for every
+// analysis, so a script or a trace can split the time from a keystroke to
+// the result drawn: the analysis starts, its result is ready, the figures
+// and the table are prepared, the page takes the result, and the page's
+// update is done (the browser then lays out and paints).
+const (
+	MarkStart    = "bc-start"
+	MarkResult   = "bc-result"
+	MarkPrepared = "bc-prepared"
+	MarkHanded   = "bc-handed"
+	MarkUpdated  = "bc-updated"
+)
+
+// AnalyseFunc runs an analysis; engine.Analyse is the page's.
+type AnalyseFunc func(context.Context, *model.Model, engine.Options, engine.ProgressFunc) (*engine.Result, error)
+
+// runner is the page's analysis runner: it runs one analysis at a time
+// off the page's event handlers, slicing the work so the browser stays
+// responsive, and prepares the figures and the table of its result before
+// it hands them to the page.
+type runner struct {
+	// analyse runs analyses (engine.Analyse unless a test sets it).
+	analyse AnalyseFunc
+	// cancel stops the running analysis (nil when none runs).
+	cancel context.CancelFunc
+	// progress reports that the progress bar shows (the analysis has run
+	// for ProgressDelay).
+	progress bool
+	// figTime and drawTime are how long the page took to draw the last
+	// result's figures and to put it on the page.
+	figTime, drawTime time.Duration
+}
+
+// PageTimes are the page's own timings of the last result.
+type PageTimes struct {
+	// Elapsed is the whole analysis as the page saw it, Longest the
+	// longest stretch it ran without yielding to the browser.
+	Elapsed, Longest time.Duration
+	// Figures is the time to draw the figures, Update the time to put the
+	// result on the page.
+	Figures, Update time.Duration
+}
+
+// stop cancels the running analysis, if any; its result will be ignored.
+func (p *Page) stop() {
+	if p.cancel != nil {
+		p.cancel()
+		p.cancel = nil
+	}
+	p.s.Cancel()
+	p.progress = false
+}
+
+// start cancels the running analysis and starts one for the current model.
+// The analysis runs on its own goroutine and yields to the browser every
+// SliceLength from its progress callback; its result is accepted only if no
+// newer analysis was requested meanwhile.
+func (p *Page) start(ctx app.Context) {
+	if p.ctx != nil {
+		ctx = *p.ctx
+	}
+	if p.cancel != nil {
+		p.cancel()
+		p.cancel = nil
+	}
+	run, ok := p.s.Begin(time.Now())
+	if !ok {
+		return
+	}
+	actx, cancel := context.WithCancel(context.Background())
+	p.cancel = cancel
+	p.progress = false
+	analyse := p.analyse
+	if analyse == nil {
+		analyse = p.boundedAnalyse(ctx) // workbound.go
+	}
+	view := p.view
+	ctx.After(ProgressDelay, func(ctx app.Context) {
+		if p.s.Gen == run.Gen && p.s.Running {
+			p.progress = true
+		}
+	})
+	_ = jsdom.Mark(MarkStart) // natively there is nothing to mark
+	ctx.Async(func() {
+		began := time.Now()
+		y := newYielder(SliceLength)
+		var lastReport time.Time
+		res, err := analyse(actx, run.Model, run.Options, func(pr engine.Progress) {
+			y.Yield()
+			if now := time.Now(); now.Sub(lastReport) >= reportEvery {
+				lastReport = now
+				ctx.Dispatch(func(ctx app.Context) { p.s.Report(run.Gen, pr) })
+			}
+		})
+		_ = jsdom.Mark(MarkResult)
+		var figs *FigureSet
+		var secs []Section
+		var figTime time.Duration
+		if err == nil && res != nil && actx.Err() == nil {
+			y.Yield()
+			tf := time.Now()
+			figs = numbered(BuildFigures(res, view))
+			figTime = time.Since(tf)
+			y.Yield()
+			secs = Table(res, run.Model)
+		}
+		_ = jsdom.Mark(MarkPrepared)
+		y.Yield()
+		elapsed, longest := time.Since(began), y.Longest()
+		ctx.Dispatch(func(ctx app.Context) {
+			if !p.s.Finish(run, res, err, elapsed, longest) {
+				return
+			}
+			_ = jsdom.Mark(MarkHanded)
+			p.figTime = figTime
+			drawStart := time.Now()
+			ctx.Defer(func(app.Context) {
+				p.drawTime = time.Since(drawStart)
+				_ = jsdom.Mark(MarkUpdated)
+			})
+			p.afterRender(ctx)
+			p.progress = false
+			if err == nil && res != nil {
+				if p.view != view {
+					figs = numbered(BuildFigures(res, p.view))
+				}
+				p.figs, p.sections = figs, secs
+			}
+		})
+	})
+}
+
+// yielder lets the browser run between slices of work: Go compiled to
+// WebAssembly runs on the page's only thread and is not preemptive, so a
+// long computation must pause itself. A pause of a millisecond hands control
+// to the browser's event loop (every goroutine is then blocked). It also
+// measures the longest slice.
+type yielder struct {
+	every   time.Duration
+	last    time.Time
+	longest time.Duration
+}
+
+func newYielder(every time.Duration) *yielder {
+	return &yielder{every: every, last: time.Now()}
+}
+
+// Yield pauses when the current slice has run for at least every.
+func (y *yielder) Yield() {
+	d := time.Since(y.last)
+	if d < y.every {
+		return
+	}
+	y.longest = max(y.longest, d)
+	time.Sleep(time.Millisecond)
+	y.last = time.Now()
+}
+
+// Longest returns the longest slice measured so far, including the one
+// running now.
+func (y *yielder) Longest() time.Duration {
+	return max(y.longest, time.Since(y.last))
+}
