@@ -11,9 +11,9 @@ type Result struct {
 	// "logit". Every number of the Result is on the original scale, except
 	// those under the fields named fitting_scale (and a fit's precision
 	// and a mode's log density, which are the fitting scale's).
-	Scales      []Scale      `json:"scales"`
-	Exact       Exact        `json:"exact"`
-	Fits        Fits         `json:"fits"`
+	Scales []Scale `json:"scales"`
+	Exact  Exact   `json:"exact"`
+	Fits   Fits    `json:"fits"`
 	// Candidates are the user's Gaussians (Options.Candidates), scored
 	// like the fits; omitted when there are none (candidate.go).
 	Candidates Candidates `json:"candidates,omitempty"`
@@ -24,11 +24,11 @@ type Result struct {
 	Curvature *Curvature `json:"curvature,omitempty"`
 	// Live lists the constants marked to vary (Options.Vary), with their
 	// values in this analysis and their ranges, for sliders (live.go).
-	Live  []LiveConstant `json:"live,omitempty"`
-	Modes []Mode         `json:"modes"`
-	Diagnostics []Diagnostic `json:"diagnostics"`
-	Grid        GridInfo     `json:"grid"`
-	Timing      Timing       `json:"timing_ms"`
+	Live        []LiveConstant `json:"live,omitempty"`
+	Modes       []Mode         `json:"modes"`
+	Diagnostics []Diagnostic   `json:"diagnostics"`
+	Grid        GridInfo       `json:"grid"`
+	Timing      Timing         `json:"timing_ms"`
 	// Plots holds curves and images for drawing; omitted from the command
 	// line's JSON unless asked for.
 	Plots *Plots `json:"plots,omitempty"`
