@@ -4,7 +4,7 @@
 // (GOOS=js GOARCH=wasm) it runs the calculator page; built natively it serves
 // the page, writes the static site and runs the command line:
 //
-//	bellcheck fit [-json] [-plots] FILE    analyse a model file ('-' for standard input)
+//	bellcheck fit [-json] [-plots] [-markdown|-latex] FILE    analyse a model file ('-' for standard input)
 //	    [-data FILE] [-scale|-points|-box NAME=VALUE]  attach data; per-parameter options
 //	    [-gaussian "NAME mean.P=V sd.P=V ..."]  score a Gaussian of your own
 //	bellcheck sweep [-over NAME=LO:HI] [-steps N] [-show PATHS] [-json] FILE
@@ -22,7 +22,7 @@ import (
 )
 
 const usage = `usage:
-  bellcheck fit [-json] [-plots] FILE     analyse a model file ('-' reads standard input)
+  bellcheck fit [-json] [-plots] [-markdown|-latex] FILE   analyse a model file ('-' reads standard input)
       [-data FILE]                         attach a CSV/TSV file's columns as named vectors
       [-scale NAME=log] [-points NAME=N] [-box NAME=LO:HI]   per-parameter options
       [-gaussian "NAME mean.P=V sd.P=V corr.P.Q=R"]  score a Gaussian of your own (repeatable)

@@ -124,7 +124,7 @@ func TestCandidateLineFlagAndPageAgree(t *testing.T) {
 	}
 	// The table has the candidate's column.
 	code, stdout, _ := runCLI(t, "", "fit", withLine)
-	if code != exitOK || !strings.Contains(stdout, "(yours) mine") {
+	if code != exitOK || !strings.Contains(stdout, "mine (yours)") {
 		t.Errorf("table without the candidate:\n%s", stdout)
 	}
 	// A bad candidate in the file names its line and column.

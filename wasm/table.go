@@ -26,7 +26,7 @@ func writeTable(w io.Writer, name string, r *engine.Result) {
 	for _, ap := range apps {
 		label := ap.Label
 		if ap.Candidate {
-			label = "(yours) " + label
+			label += " (yours)"
 		}
 		header = append(header, label)
 	}
