@@ -137,3 +137,18 @@ func TestVary(t *testing.T) {
 		}
 	}
 }
+
+// TextOptions reads every kind of setting line of a model text at once.
+func TestTextOptions(t *testing.T) {
+	src := "#@ scale s=log\n#@ vary k=1:3\n#@ gaussian g mean.s=1 sd.s=0.5\nk = 2\nparam s in [0, inf]\n-s*k\n"
+	o, err := TextOptions(parse(t, src), src)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if o.Params[0].Scale != engine.Log || len(o.Vary) != 1 || len(o.Candidates) != 1 || o.Candidates[0].Cov[0][0] != 0.25 {
+		t.Errorf("options %+v", o)
+	}
+	if _, err := TextOptions(parse(t, "param x\n-x^2\n"), "param x\n#@ gaussian g mean.x=0\n-x^2\n"); err == nil || !strings.HasPrefix(err.Error(), "2:13: ") {
+		t.Errorf("error %v, want one at 2:13", err)
+	}
+}
