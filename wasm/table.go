@@ -58,6 +58,10 @@ func writeTable(w io.Writer, name string, r *engine.Result) {
 			return interval(f.Interval95[i][0], f.Interval95[i][1])
 		})
 	}
+	for i, p := range r.Params {
+		perFit("mean err (sd) "+p, "", func(f *engine.Fit) string { return at(f.MeanErrSD, i) })
+		perFit("sd ratio "+p, "", func(f *engine.Fit) string { return at(f.SDRatio, i) })
+	}
 	for i := range r.Params {
 		for j := i + 1; j < len(r.Params); j++ {
 			perFit("corr "+r.Params[i]+","+r.Params[j], at2(r.Exact.Corr, i, j),
