@@ -2,6 +2,7 @@ package engine
 
 import (
 	"bytes"
+	"encoding/json"
 	"fmt"
 	"math"
 	"reflect"
@@ -224,6 +225,40 @@ func (cs Candidates) writeJSON(b *bytes.Buffer) error {
 // MarshalJSON writes the candidates as an object keyed by name, non-finite
 // numbers as null.
 func (cs Candidates) MarshalJSON() ([]byte, error) { return marshalNull(cs) }
+
+// UnmarshalJSON reads the object MarshalJSON writes, keeping the members'
+// order (null numbers stay zero, as encoding/json leaves them).
+func (cs *Candidates) UnmarshalJSON(b []byte) error {
+	dec := json.NewDecoder(bytes.NewReader(b))
+	tok, err := dec.Token()
+	if err != nil {
+		return err
+	}
+	if tok == nil {
+		*cs = nil
+		return nil
+	}
+	if d, ok := tok.(json.Delim); !ok || d != '{' {
+		return fmt.Errorf("engine: candidates: want an object, got %v", tok)
+	}
+	var out Candidates
+	for dec.More() {
+		key, err := dec.Token()
+		if err != nil {
+			return err
+		}
+		var f *Fit
+		if err := dec.Decode(&f); err != nil {
+			return err
+		}
+		out = append(out, NamedFit{Name: key.(string), Fit: f})
+	}
+	if _, err := dec.Token(); err != nil {
+		return err
+	}
+	*cs = out
+	return nil
+}
 
 // Approximation is one column of the results: a fit method or a candidate.
 type Approximation struct {

@@ -208,6 +208,17 @@ func TestCandidateJSONAndPlots(t *testing.T) {
 	if len(res.Plots.Pairs[0].CandidateEllipses) != 2 || len(res.Plots.Pairs[0].CandidateEllipses[0][0]) == 0 {
 		t.Errorf("no candidate ellipses")
 	}
+	var top map[string]json.RawMessage
+	if err := json.Unmarshal(raw, &top); err != nil {
+		t.Fatal(err)
+	}
+	var back Candidates
+	if err := json.Unmarshal(top["candidates"], &back); err != nil {
+		t.Fatal(err)
+	}
+	if len(back) != 2 || back[0].Name != "zeta" || back[1].Fit.KLqp != res.Candidates[1].Fit.KLqp {
+		t.Errorf("candidates read back %+v", back)
+	}
 	if apps := res.Approximations(); len(apps) != NumMethods+2 || apps[NumMethods].Label != "zeta" || !apps[NumMethods+1].Candidate {
 		t.Errorf("approximations %+v", apps)
 	}
