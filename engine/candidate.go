@@ -20,6 +20,12 @@ import (
 // original scale of the parameters, by index: Mean has one entry per
 // parameter and Cov is the full symmetric covariance matrix. Use
 // CandidateFromSD to build one from sds and correlations.
+//
+// With FittingScale set, Mean and Cov are on the fitting scale instead
+// (log(x - lo) for a parameter fitted on the log scale: a log-normal
+// candidate), like a fit's normal; a candidate on the original scale is
+// refused where a parameter's fitting scale is not the identity, since it
+// is no normal there.
 type Candidate struct {
 	// Name names the candidate in tables, legends and the JSON: a name as
 	// in the model language (letters, digits, underscores), not the key of
@@ -27,6 +33,8 @@ type Candidate struct {
 	Name string      `json:"name"`
 	Mean []float64   `json:"mean"`
 	Cov  [][]float64 `json:"cov"`
+	// FittingScale says that Mean and Cov are on the fitting scale.
+	FittingScale bool `json:"fitting_scale,omitempty"`
 }
 
 // CandidateFromSD returns the candidate with the given means, standard
@@ -50,6 +58,13 @@ func CandidateFromSD(name string, mean, sd []float64, corr [][]float64) Candidat
 		}
 	}
 	return Candidate{Name: name, Mean: append([]float64(nil), mean...), Cov: cov}
+}
+
+// OnFittingScale returns c with FittingScale set: its mean and covariance
+// are read on the parameters' fitting scales.
+func (c Candidate) OnFittingScale() Candidate {
+	c.FittingScale = true
+	return c
 }
 
 // MaxCandidates is the most candidates one analysis scores.
@@ -134,14 +149,14 @@ func (a *analysis) checkCandidates() error {
 	if len(cs) == 0 {
 		return nil
 	}
-	for k, sc := range a.scales {
-		if !sc.IsIdentity() {
-			return fmt.Errorf("%w: candidate %s: %s is fitted on the %s scale, but a candidate is a normal on the original scale; fit %s on the identity scale to score it",
-				ErrOptions, cs[0].Name, a.names[k], sc, a.names[k])
-		}
-	}
 	seen := map[string]bool{}
 	for _, c := range cs {
+		for k, sc := range a.scales {
+			if !sc.IsIdentity() && !c.FittingScale {
+				return fmt.Errorf("%w: candidate %s: %s is fitted on the %s scale, but the candidate is a normal on the original scale; fit %s on the identity scale, or give the candidate on the fitting scale",
+					ErrOptions, c.Name, a.names[k], sc, a.names[k])
+			}
+		}
 		if err := CheckCandidate(c, a.names); err != nil {
 			return fmt.Errorf("%w: %v", ErrOptions, err)
 		}

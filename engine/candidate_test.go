@@ -171,6 +171,30 @@ func TestCandidateErrors(t *testing.T) {
 	}
 }
 
+// On a log fitting scale, a candidate given on the fitting scale equal to
+// the Laplace fit's normal there scores exactly what the fit scores, its
+// moments on the original scale included (identity: the same normal).
+func TestCandidateOnFittingScale(t *testing.T) {
+	src := "param a in [0, inf]\nld_gamma(a, 3, 2)\n"
+	opts := Options{Params: []ParamOptions{{Scale: Log}}}
+	res := analyseSource(t, src, opts)
+	f := res.Fits[Laplace]
+	if f == nil {
+		t.Fatal("no Laplace fit")
+	}
+	opts.Candidates = []Candidate{Candidate{Name: "lognormal", Mean: f.FittingScale.Mean, Cov: f.FittingScale.Cov}.OnFittingScale()}
+	c := analyseSource(t, src, opts).Candidates[0].Fit
+	for name, pair := range map[string][2]float64{
+		"KL(q||p)": {c.KLqp, f.KLqp}, "KL(p||q)": {c.KLpq, f.KLpq}, "Hellinger": {c.Hellinger, f.Hellinger},
+		"coverage": {c.Coverage95, f.Coverage95}, "mean": {c.Mean[0], f.Mean[0]}, "sd": {c.SD[0], f.SD[0]},
+		"mean error": {c.MeanErrSD[0], f.MeanErrSD[0]}, "interval hi": {c.Interval95[0][1], f.Interval95[0][1]},
+	} {
+		if pair[0] != pair[1] {
+			t.Errorf("%s: candidate %.17g, fit %.17g", name, pair[0], pair[1])
+		}
+	}
+}
+
 // The candidates reach the JSON (keyed by name, in order) and the plots.
 func TestCandidateJSONAndPlots(t *testing.T) {
 	opts := Options{Plots: true, Candidates: []Candidate{

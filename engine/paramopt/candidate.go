@@ -18,7 +18,9 @@ import (
 // P and Q are parameter names; every parameter needs a mean, and either an
 // sd (with correlations, 0 where left out) or a variance cov.P.P (with
 // covariances, 0 where left out). Lines with the same NAME add to one
-// candidate. The values are on the original scale.
+// candidate. The values are on the original scale, or on the fitting
+// scale with the field scale=fitting (a log-normal candidate for a
+// parameter fitted on the log scale, say).
 const Gaussian Kind = "gaussian"
 
 // CandidateSpec is a candidate Gaussian as read (and syntax-checked) from
@@ -26,6 +28,8 @@ const Gaussian Kind = "gaussian"
 type CandidateSpec struct {
 	Name   string
 	Fields []CandidateField
+	// FittingScale is set by the field scale=fitting.
+	FittingScale bool
 	// Flag, or Line and Col, say where the name was given.
 	Flag      string
 	Line, Col int
@@ -91,6 +95,7 @@ func mergeSpec(specs []CandidateSpec, spec CandidateSpec) []CandidateSpec {
 	for i := range specs {
 		if specs[i].Name == spec.Name {
 			specs[i].Fields = append(specs[i].Fields, spec.Fields...)
+			specs[i].FittingScale = specs[i].FittingScale || spec.FittingScale
 			return specs
 		}
 	}
@@ -117,6 +122,16 @@ func (s *CandidateSpec) read(fields []field, end int) error {
 		return s.errorf(s.Line, s.Col+runes(s.Name), "gaussian %s needs its fields: mean.P=V for each parameter P, and sd.P=V or cov.P.P=V", s.Name)
 	}
 	for _, f := range fields[1:] {
+		if v, ok := strings.CutPrefix(f.text, "scale="); ok {
+			switch v {
+			case "fitting":
+				s.FittingScale = true
+			case "original":
+			default:
+				return s.errorf(s.Line, f.col, "%s: want scale=fitting or scale=original", strconv.Quote(f.text))
+			}
+			continue
+		}
 		cf, err := s.field(f)
 		if err != nil {
 			return err
@@ -270,6 +285,7 @@ func build(s CandidateSpec, names []string, index map[string]int) (engine.Candid
 	if !usesCov {
 		c = engine.CandidateFromSD(s.Name, mean, sd, corr)
 	}
+	c.FittingScale = s.FittingScale
 	if err := engine.CheckCandidate(c, names); err != nil {
 		return engine.Candidate{}, s.errorf(s.Line, s.Col, "%v", err)
 	}
@@ -296,6 +312,9 @@ func WriteCandidates(names []string, cs []engine.Candidate) string {
 			continue
 		}
 		fields := []string{Prefix, string(Gaussian), c.Name}
+		if c.FittingScale {
+			fields = append(fields, "scale=fitting")
+		}
 		sd := make([]float64, len(names))
 		for i, n := range names {
 			fields = append(fields, "mean."+n+"="+num(c.Mean[i]))

@@ -83,6 +83,7 @@ func TestCandidateLineErrors(t *testing.T) {
 		{"#@ gaussian g mean.x=0 mean.y=0 sd.x=1\n", "candidate g has no spread for y"},
 		{"#@ gaussian g mean.x=0 mean.y=0 sd.x=1 cov.y.y=1\n", "mixes sd/corr with cov"},
 		{"#@ gaussian g mean.x=0 mean.y=0 mean.x=1\n", "mean.x of candidate g is given twice"},
+		{"#@ gaussian g scale=log mean.x=0\n", "1:15: \"scale=log\": want scale=fitting or scale=original"},
 		// Singular: a covariance whose correlation is 1.
 		{"#@ gaussian g mean.x=0 mean.y=0 cov.x.x=1 cov.y.y=4 cov.x.y=2\n", "1:13: candidate g: the correlation of y and x is 1"},
 	} {
@@ -147,6 +148,17 @@ func TestTextOptions(t *testing.T) {
 	}
 	if o.Params[0].Scale != engine.Log || len(o.Vary) != 1 || len(o.Candidates) != 1 || o.Candidates[0].Cov[0][0] != 0.25 {
 		t.Errorf("options %+v", o)
+	}
+	if !(len(o.Candidates) == 1 && !o.Candidates[0].FittingScale) {
+		t.Errorf("candidate on the original scale read as %+v", o.Candidates)
+	}
+	src2 := "#@ scale s=log\n#@ gaussian g scale=fitting mean.s=0 sd.s=0.5\nparam s in [0, inf]\n-s\n"
+	o2, err := TextOptions(parse(t, src2), src2)
+	if err != nil || len(o2.Candidates) != 1 || !o2.Candidates[0].FittingScale {
+		t.Errorf("scale=fitting: %+v, %v", o2.Candidates, err)
+	}
+	if w := WriteCandidates([]string{"s"}, o2.Candidates); w != "#@ gaussian g scale=fitting mean.s=0 sd.s=0.5\n" {
+		t.Errorf("WriteCandidates %q", w)
 	}
 	if _, err := TextOptions(parse(t, "param x\n-x^2\n"), "param x\n#@ gaussian g mean.x=0\n-x^2\n"); err == nil || !strings.HasPrefix(err.Error(), "2:13: ") {
 		t.Errorf("error %v, want one at 2:13", err)

@@ -23,7 +23,8 @@
 // (engine.Candidate), on the original scale: a mean for every parameter,
 // and either an sd for every parameter with correlations (0 where left
 // out) or a variance cov.P.P for every parameter with covariances
-// cov.P.Q. Lines with the same name add to one candidate. Lines reads the
+// cov.P.Q; the field scale=fitting puts it on the fitting scale instead.
+// Lines with the same name add to one candidate. Lines reads the
 // vary lines with the others; CandidateLines and Candidates read the
 // gaussian lines.
 package paramopt
