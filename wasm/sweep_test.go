@@ -143,3 +143,28 @@ func TestCostTable(t *testing.T) {
 		t.Errorf("exit %d, stderr %s, table:\n%s", code, stderr, stdout)
 	}
 }
+
+// A constant marked to vary reaches the result's live list the same way
+// from a #@ vary line, a --vary flag and the page's API.
+func TestVaryLineFlagAndPageAgree(t *testing.T) {
+	dir := t.TempDir()
+	body := "sd = 1.5\nparam x\n-x^2/(2*sd^2)\n"
+	withLine := writeFile(t, dir, "line.txt", "#@ vary sd=0.5:3\n"+body)
+	bare := writeFile(t, dir, "bare.txt", body)
+	a := fitJSON(t, withLine)
+	b := fitJSON(t, "--vary", "sd=0.5:3", bare)
+	if a != b {
+		t.Errorf("line and flag differ:\n%s\n%s", a, b)
+	}
+	src, _ := json.Marshal(body)
+	page, err := ui.APIAnalyse([]string{string(src), `{"vary": [{"name": "sd", "lo": 0.5, "hi": 3}]}`})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got := resultJSON(t, page); got != a {
+		t.Errorf("the page's API differs from the command line:\n%s\n%s", got, a)
+	}
+	if !strings.Contains(a, `"live":[{"hi":3,"lo":0.5,"name":"sd","value":1.5}]`) {
+		t.Errorf("no live constant in %s", a)
+	}
+}
