@@ -97,16 +97,21 @@ func (a *analysis) run() (*Result, error) {
 	if err := a.findModes(); err != nil {
 		return nil, err
 	}
-	res := &Result{Params: a.names, Form: a.m.Form.String(), Scales: a.scales, Modes: a.modes.modes, Live: live}
-	if err := a.fitAll(res); err != nil {
+	if useQuadrature {
+		if err := a.exactByQuadrature(); err != nil {
+			return nil, err
+		}
+	}
+	if err := a.fitAll(); err != nil {
 		return nil, err
 	}
-	a.addCandidates(res)
+	a.addCandidates()
 	if err := a.compareFits(); err != nil {
 		return nil, err
 	}
 	a.settleExact()
-	a.report(res)
+	res := a.report()
+	res.Live = live
 	a.fillCosts(res)
 	a.compareCurvatures(res)
 	a.gridDiagnostics()

@@ -169,18 +169,33 @@ func (a *analysis) checkCandidates() error {
 }
 
 // addCandidates is the candidates stage: each candidate joins the fits
-// handed to the comparison, with its entry in res.Candidates, so that the
-// comparison and the report score it exactly as they score a fit.
-func (a *analysis) addCandidates(res *Result) {
-	cs := a.opts.Candidates
-	if len(cs) == 0 {
-		return
+// handed to the comparison (prepared: checkCandidates found it sound), so
+// that the comparison and the report score it exactly as they score a fit;
+// the report puts it in Result.Candidates.
+func (a *analysis) addCandidates() {
+	for i, c := range a.opts.Candidates {
+		g := c.gaussian()
+		q, err := gauss.Prepare(g)
+		if err != nil {
+			continue // not reached: checkCandidates prepared it
+		}
+		a.fits = append(a.fits, fitted{g: g, q: q, run: Fit{Converged: true}, candidate: c.Name, index: i})
 	}
-	res.Candidates = make(Candidates, len(cs))
-	for i, c := range cs {
-		res.Candidates[i] = NamedFit{Name: c.Name, Fit: &Fit{Converged: true}}
-		a.fits = append(a.fits, fitted{g: c.gaussian(), out: &res.Candidates[i].Fit, candidate: c.Name, index: i})
+}
+
+// place returns where the report puts a fit in the Result: its method's
+// entry, or its candidate's.
+func (a *analysis) place(res *Result, f fitted) **Fit {
+	if f.candidate != "" {
+		if res.Candidates == nil {
+			res.Candidates = make(Candidates, len(a.opts.Candidates))
+			for i, c := range a.opts.Candidates {
+				res.Candidates[i].Name = c.Name
+			}
+		}
+		return &res.Candidates[f.index].Fit
 	}
+	return &res.Fits[f.method]
 }
 
 // slot is the fit's index in the availability record: its method, or

@@ -66,6 +66,9 @@ import (
 //	                                       holds more than half the mass (a spike, or a peak or a funnel's
 //	                                       neck narrower than the spacing); log Z, the exact moments and
 //	                                       quantiles, and the fits' comparisons are absent
+//	starts_disagree        warning         (with the nested rule) starts spread over a wide region found a mode
+//	                                       higher than the mode search's best: the search's best point is not
+//	                                       the global optimum; the exact results cover both
 const (
 	CodeSeveralModes        = "several_modes"
 	CodeEdgeMass            = "edge_mass"
@@ -90,6 +93,7 @@ const (
 	CodeInfiniteAtBound     = "infinite_at_bound"
 	CodeOverflow            = "overflow"
 	CodeLostPrecision       = "lost_precision"
+	CodeStartsDisagree      = "starts_disagree"
 )
 
 // Thresholds of the diagnostics.
@@ -128,6 +132,23 @@ func (d *diagnostics) add(code, severity, format string, args ...any) {
 
 // sorted returns the diagnostics, errors first, then warnings, then
 // information, each in the order found.
+// drop removes the diagnostics of code (a verdict another stage
+// superseded).
+func (d *diagnostics) drop(code string) {
+	out := d.list[:0]
+	for _, g := range d.list {
+		if g.Code != code {
+			out = append(out, g)
+		}
+	}
+	d.list = out
+	for k := range d.seen {
+		if len(k) > len(code) && k[:len(code)+1] == code+"\x00" {
+			delete(d.seen, k)
+		}
+	}
+}
+
 func (d *diagnostics) sorted() []Diagnostic {
 	rank := map[string]int{SeverityError: 0, SeverityWarning: 1, SeverityInfo: 2}
 	out := append([]Diagnostic{}, d.list...) // never nil: none is [] in the JSON

@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"math"
 	"strings"
+
+	"bellcheck/engine/model"
 )
 
 // Vary marks a scalar constant of the model (model.Model.Constant) as one
@@ -76,4 +78,52 @@ func capitalise(s string) string {
 		return s
 	}
 	return strings.ToUpper(s[:1]) + s[1:]
+}
+
+// checkCandidatesAndVary returns CheckOptions' problems with the options'
+// candidates and constants to vary: what Analyse would refuse.
+func checkCandidatesAndVary(m *model.Model, opts Options) []OptionProblem {
+	var out []OptionProblem
+	bad := func(field, reason string) {
+		out = append(out, OptionProblem{Param: -1, Field: field, Reason: reason})
+	}
+	names := make([]string, len(m.Params))
+	for i, p := range m.Params {
+		names[i] = p.Name
+	}
+	if len(opts.Candidates) > MaxCandidates {
+		bad("candidates", fmt.Sprintf("%d candidates; at most %d", len(opts.Candidates), MaxCandidates))
+	}
+	seen := map[string]bool{}
+	for _, c := range opts.Candidates {
+		if err := CheckCandidate(c, names); err != nil {
+			bad("candidates", err.Error())
+			continue
+		}
+		if seen[c.Name] {
+			bad("candidates", "two candidates are named "+c.Name)
+		}
+		seen[c.Name] = true
+		for i, po := range opts.Params {
+			if i < len(names) && !po.Scale.IsIdentity() && !c.FittingScale {
+				bad("candidates", fmt.Sprintf("candidate %s: %s is fitted on the %s scale, but the candidate is a normal on the original scale", c.Name, names[i], po.Scale))
+				break
+			}
+		}
+	}
+	seenVary := map[string]bool{}
+	for _, v := range opts.Vary {
+		if _, err := m.Constant(v.Name); err != nil {
+			bad("vary", "vary "+v.Name+": "+strings.TrimPrefix(err.Error(), "model: "))
+			continue
+		}
+		if !finite(v.Lo) || !finite(v.Hi) || !(v.Lo < v.Hi) {
+			bad("vary", fmt.Sprintf("vary %s: the range [%v, %v] must be finite with its lower end below its upper end", v.Name, v.Lo, v.Hi))
+		}
+		if seenVary[v.Name] {
+			bad("vary", "vary "+v.Name+" is given twice")
+		}
+		seenVary[v.Name] = true
+	}
+	return out
 }

@@ -151,3 +151,21 @@ func TestGeneralisedEigenRange(t *testing.T) {
 		t.Errorf("A = B: %g %g", lo, hi)
 	}
 }
+
+// CheckOptions reports bad candidates and constants to vary before any
+// work, as Analyse would refuse them.
+func TestCheckOptionsCandidatesAndVary(t *testing.T) {
+	m, err := model.Parse("k = 2\nparam x\n-x^2/k\n")
+	if err != nil {
+		t.Fatal(err)
+	}
+	good := Options{Candidates: []Candidate{{Name: "g", Mean: []float64{0}, Cov: [][]float64{{1}}}}, Vary: []Vary{{"k", 1, 3}}}
+	if probs := CheckOptions(m, good); len(probs) != 0 {
+		t.Errorf("good options: %v", probs)
+	}
+	bad := Options{Candidates: []Candidate{{Name: "g", Mean: []float64{0}, Cov: [][]float64{{-1}}}}, Vary: []Vary{{"x", 1, 3}}}
+	probs := CheckOptions(m, bad)
+	if len(probs) != 2 || probs[0].Field != "candidates" || probs[1].Field != "vary" {
+		t.Errorf("bad options: %v", probs)
+	}
+}

@@ -35,12 +35,17 @@ const NumMethods = int(numMethods)
 
 // methodInfo describes each method: key is its name in the JSON (stable),
 // label its name in tables and legends, term its name inside a sentence
-// ("the reverse-KL fit"), long a one-line description.
-var methodInfo = [NumMethods]struct{ key, label, term, long string }{
-	Laplace:   {"laplace", "Laplace", "Laplace", "mode-curvature Gaussian (Laplace approximation)"},
-	ReverseKL: {"reverse_kl", "reverse KL", "reverse-KL", "variational Gaussian, minimises KL(q||p)"},
-	MeanField: {"mean_field", "mean-field", "mean-field", "variational Gaussian with diagonal covariance"},
-	ForwardKL: {"forward_kl", "forward KL", "forward-KL", "moment matching, minimises KL(p||q)"},
+// ("the reverse-KL fit"), long a one-line description; iterative reports
+// an optimiser whose run the Fit describes (Iterations, Converged,
+// Residual).
+var methodInfo = [NumMethods]struct {
+	key, label, term, long string
+	iterative              bool
+}{
+	Laplace:   {"laplace", "Laplace", "Laplace", "mode-curvature Gaussian (Laplace approximation)", true},
+	ReverseKL: {"reverse_kl", "reverse KL", "reverse-KL", "variational Gaussian, minimises KL(q||p)", true},
+	MeanField: {"mean_field", "mean-field", "mean-field", "variational Gaussian with diagonal covariance", true},
+	ForwardKL: {"forward_kl", "forward KL", "forward-KL", "moment matching, minimises KL(p||q)", false},
 }
 
 // Methods lists every method in display order.
@@ -79,6 +84,12 @@ func (m Method) Description() string {
 	}
 	return methodInfo[m].long
 }
+
+// Iterative reports a method made by an optimiser, whose run the Fit
+// describes (Iterations, Converged, Residual): the Newton polish of the
+// mode for the Laplace fit, the fixed-point iteration for the reverse-KL
+// fits. Moment matching has none.
+func (m Method) Iterative() bool { return m.Valid() && methodInfo[m].iterative }
 
 // String returns the method's label.
 func (m Method) String() string { return m.Label() }

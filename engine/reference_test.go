@@ -35,7 +35,10 @@ type expectLine struct {
 	line  int
 }
 
-func loadReferences(t testing.TB) []refCase {
+func loadReferences(t testing.TB) []refCase { return loadReferencesIn(t, refDir) }
+
+// loadReferencesIn reads the reference cases of dir.
+func loadReferencesIn(t testing.TB, refDir string) []refCase {
 	files, err := filepath.Glob(filepath.Join(refDir, "*.expect"))
 	if err != nil || len(files) == 0 {
 		t.Fatalf("no reference files: %v", err)
@@ -118,8 +121,11 @@ func lookup(doc any, path string) (any, bool) {
 	return jsonAt(doc, strings.Join(parts, "."))
 }
 
-func TestReferences(t *testing.T) {
-	for _, c := range loadReferences(t) {
+func TestReferences(t *testing.T) { runReferences(t, refDir) }
+
+// runReferences checks every reference case of dir.
+func runReferences(t *testing.T, dir string) {
+	for _, c := range loadReferencesIn(t, dir) {
 		t.Run(c.name, func(t *testing.T) {
 			res := analyseSource(t, c.src, c.opts)
 			doc, codes := resultDoc(t, res)

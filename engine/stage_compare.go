@@ -4,33 +4,16 @@ import (
 	"fmt"
 	"math"
 	"slices"
-	"strings"
 
 	"bellcheck/engine/compare"
 	"bellcheck/engine/gauss"
 )
 
 // compareFits is the comparison stage: it compares each fit with the
-// reference (compare.Compare), leaving out a fit whose covariance is
-// degenerate beyond its scales (a correlation matrix that cannot be
-// inverted): the comparison cannot use it, and the other fits still stand.
-// a.cmp holds the comparisons in the order of a.fits.
+// reference (compare.Compare); a.cmp holds the comparisons in the order of
+// a.fits.
 func (a *analysis) compareFits() error {
 	a.tr.enter(stageCompare)
-	kept := a.fits[:0]
-	for _, f := range a.fits {
-		q, err := gauss.Prepare(f.g)
-		if err != nil {
-			*f.out = nil
-			a.avail.drop(f.quantity(), CodeFitFailed)
-			why := strings.TrimPrefix(err.Error(), gauss.ErrBad.Error()+": ")
-			a.diag.add(CodeFitFailed, SeverityError, "No %s fit: its covariance is degenerate (%s).", f.method.term(), why)
-			continue
-		}
-		f.q = q
-		kept = append(kept, f)
-	}
-	a.fits = kept
 	if len(a.fits) == 0 {
 		return nil
 	}

@@ -36,14 +36,17 @@ func (a *analysis) settleExact() {
 	}
 	a.mode = a.originalMode(gridMode)
 	a.dropOverflow()
-	if !a.avail.resolved() {
+	if !a.avail.resolved() && r.quad == nil {
 		return
 	}
 
 	// Quantities that do not exist are absent.
 	var noVar, noMean, noKurt []string
 	for k := 0; k < d; k++ {
-		varGone := r.improper(k) || o.TailShare[k] > tailShareAbsent || !a.avail.presentAt(QuantityAxisErrors, k)
+		// With the nested rule's results its tail verdicts (in TailShare)
+		// stand; the axis errors may be out for the grid's sake only.
+		axisGone := !a.avail.presentAt(QuantityAxisErrors, k) && r.quad == nil
+		varGone := r.improper(k) || o.TailShare[k] > tailShareAbsent || axisGone
 		meanGone := o.AbsTailShare[k] > absShareAbsent || r.improper(k)
 		if r.improper(k) {
 			// Nor do the quantiles of a marginal that is not integrable.

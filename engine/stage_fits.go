@@ -3,6 +3,7 @@ package engine
 import (
 	"errors"
 	"math"
+	"strings"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -12,17 +13,17 @@ import (
 
 // fitted is one Gaussian fit that exists, as the fits stage hands it on:
 // its method, the Gaussian on the fitting scale, the curvature it uses
-// (nil for the forward-KL fit) and its entry in the Result; the comparison
-// stage adds its prepared form q.
+// (nil for the forward-KL fit), the run that made it (run's moments and
+// comparison are filled by the report), its prepared form q (set once the
+// fits stage has checked it) and its moments on the original scale (the
+// report stage's pushforward).
 type fitted struct {
 	method Method
 	g      gauss.Gaussian
 	prec   *mat.SymDense
-	out    **Fit
+	run    Fit
 	q      *gauss.Prepared
-	// orig is the normal's moments on the original scale (the report
-	// stage's pushforward).
-	orig pushed
+	orig   pushed
 	// candidate is the name of a user's Gaussian (candidate.go), "" for a
 	// fit method; index is its place in Options.Candidates.
 	candidate string
@@ -32,16 +33,37 @@ type fitted struct {
 // fitAll is the fits stage: the Laplace fit at the highest mode, the
 // reverse-KL fit and its mean-field variant, and the forward-KL fit (the
 // reference's moments).
-func (a *analysis) fitAll(res *Result) error {
-	lap := a.fitLaplace(res)
-	rev, mfit, infiniteKL, err := a.fitReverse(res, lap)
+func (a *analysis) fitAll() error {
+	lap := a.fitLaplace()
+	rev, mfit, infiniteKL, err := a.fitReverse(lap)
 	if err != nil {
 		return err
 	}
 	a.checkELBO(rev, mfit)
-	a.fitForward(res)
+	a.fitForward()
 	a.boundedKL(infiniteKL)
+	a.dropDegenerate()
 	return nil
+}
+
+// dropDegenerate prepares each fit's Gaussian (gauss.Prepare) and leaves
+// out a fit whose covariance is degenerate beyond its scales (a correlation
+// matrix that cannot be inverted): the comparison cannot use it, and the
+// other fits still stand.
+func (a *analysis) dropDegenerate() {
+	kept := a.fits[:0]
+	for _, f := range a.fits {
+		q, err := gauss.Prepare(f.g)
+		if err != nil {
+			a.avail.drop(f.method.quantity(), CodeFitFailed)
+			why := strings.TrimPrefix(err.Error(), gauss.ErrBad.Error()+": ")
+			a.diag.add(CodeFitFailed, SeverityError, "No %s fit: its covariance is degenerate (%s).", f.method.term(), why)
+			continue
+		}
+		f.q = q
+		kept = append(kept, f)
+	}
+	a.fits = kept
 }
 
 // checkELBO compares the ELBO of each converged reverse-KL fit with the
@@ -53,7 +75,9 @@ func (a *analysis) fitAll(res *Result) error {
 // recorded as absent for want of resolution, and the forward-KL fit, made
 // from them, is not made.
 func (a *analysis) checkELBO(fits ...*fit.VariationalFit) {
-	if !a.avail.resolved() {
+	if !a.avail.resolved() && a.ref.quad == nil {
+		// (With the nested rule's results the check still applies: the
+		// grid's lack of resolution left only the comparisons out.)
 		return
 	}
 	lz := a.ref.logZ
@@ -72,7 +96,7 @@ func (a *analysis) checkELBO(fits ...*fit.VariationalFit) {
 
 // fitLaplace fits the Laplace approximation at the highest mode; nil where
 // there is none, with a diagnostic saying why.
-func (a *analysis) fitLaplace(res *Result) *fit.LaplaceFit {
+func (a *analysis) fitLaplace() *fit.LaplaceFit {
 	a.tr.enter(stageLaplace)
 	if len(a.modes.fitModes) == 0 {
 		a.avail.drop(Laplace.quantity(), CodeNoMode)
@@ -82,11 +106,9 @@ func (a *analysis) fitLaplace(res *Result) *fit.LaplaceFit {
 	lf, err := fit.Laplace(m)
 	switch {
 	case err == nil:
-		f := &Fit{Iterations: m.Iterations, Converged: m.Converged, Residual: m.GradNorm}
 		lz := lf.LogZ
-		f.LogZ = &lz
-		res.Fits[Laplace] = f
-		a.fits = append(a.fits, fitted{method: Laplace, g: lf.Gaussian, prec: lf.Precision, out: &res.Fits[Laplace]})
+		run := Fit{LogZ: &lz, Iterations: m.Iterations, Converged: m.Converged, Residual: m.GradNorm}
+		a.fits = append(a.fits, fitted{method: Laplace, g: lf.Gaussian, prec: lf.Precision, run: run})
 		return &lf
 	case errors.Is(err, fit.ErrOnBound):
 		a.avail.drop(Laplace.quantity(), CodeModeOnBound)
@@ -110,7 +132,7 @@ func (a *analysis) fitLaplace(res *Result) *fit.LaplaceFit {
 // fitReverse fits the reverse-KL Gaussian and its mean-field variant,
 // started from the Laplace fit, else the reference's moments. infiniteKL
 // reports a density that is zero where the cubature reaches.
-func (a *analysis) fitReverse(res *Result, lap *fit.LaplaceFit) (rev, mfit *fit.VariationalFit, infiniteKL bool, err error) {
+func (a *analysis) fitReverse(lap *fit.LaplaceFit) (rev, mfit *fit.VariationalFit, infiniteKL bool, err error) {
 	var init *fit.Gaussian
 	if lap != nil {
 		init = &lap.Gaussian
@@ -178,15 +200,15 @@ func (a *analysis) fitReverse(res *Result, lap *fit.LaplaceFit) (rev, mfit *fit.
 			continue
 		}
 		elbo := v.vf.ELBO
-		res.Fits[v.m] = &Fit{ELBO: &elbo, Iterations: v.vf.Iterations, Converged: v.vf.Converged,
+		run := Fit{ELBO: &elbo, Iterations: v.vf.Iterations, Converged: v.vf.Converged,
 			Residual: math.Max(v.vf.GradResidual, v.vf.PrecisionResidual)}
-		a.fits = append(a.fits, fitted{method: v.m, g: v.vf.Gaussian, prec: v.vf.Precision, out: &res.Fits[v.m]})
+		a.fits = append(a.fits, fitted{method: v.m, g: v.vf.Gaussian, prec: v.vf.Precision, run: run})
 	}
 	return rev, mfit, infiniteKL, nil
 }
 
 // fitForward matches the reference's moments, where its variance settles.
-func (a *analysis) fitForward(res *Result) {
+func (a *analysis) fitForward() {
 	for k := 0; k < a.d; k++ {
 		if why := a.avail.whyAt(QuantityAxisErrors, k); why != "" {
 			a.avail.drop(ForwardKL.quantity(), why)
@@ -199,8 +221,7 @@ func (a *analysis) fitForward(res *Result) {
 		a.diag.add(CodeFitFailed, SeverityError, "No forward-KL fit: %v.", err)
 		return
 	}
-	res.Fits[ForwardKL] = &Fit{Converged: true}
-	a.fits = append(a.fits, fitted{method: ForwardKL, g: g, out: &res.Fits[ForwardKL]})
+	a.fits = append(a.fits, fitted{method: ForwardKL, g: g, run: Fit{Converged: true}})
 }
 
 // boundedKL says when KL(q||p) is infinite for every fit: a support

@@ -6,16 +6,24 @@ import (
 	"slices"
 
 	"bellcheck/engine/grid"
+	"bellcheck/engine/quadrature"
 )
 
 // reference is what the reference stage hands on: the exact posterior on
 // the fitting and the original scale, its error estimates, and the
-// verdicts of the stage's checks (the absences they decide go to the
-// availability record). The stages after it read the exact
-// posterior only through these fields and methods, never the grid's
-// statistics, so another quadrature can take the stage's place; the grid
-// itself serves the mode search (its peaks and box), the comparison and
-// the plots (its nodes, marginals and pairs).
+// verdicts of the stage's checks. The stages after it read the exact
+// posterior only through these fields and the method improper, never the
+// grid's statistics, so another quadrature can take the stage's place.
+// Its contract:
+//   - fill every field below; grid serves the mode search (its peaks and
+//     box), the comparison (compare.Compare) and the plots (its nodes,
+//     marginals and pairs);
+//   - record in a.avail what it cannot stand behind: dropUnresolved where
+//     it does not resolve the density, log Z where the density is not
+//     integrable, the divergences where log p is rounding noise, and per
+//     axis the fits' mean errors and sd ratios (QuantityAxisErrors) where
+//     the variance does not settle;
+//   - say why in a.diag, with the codes those records name.
 type reference struct {
 	// grid is the evaluated grid on the fitting scale; read-only.
 	grid *grid.Grid
@@ -27,7 +35,8 @@ type reference struct {
 	// estimate and tailMass the share of the mass estimated beyond the box.
 	logZ, logZErr, tailMass float64
 	// fitting and original are the moments on the fitting and on the
-	// original scale; their error estimates include errScale.
+	// original scale; their error estimates are scaled up where the
+	// density is infinite at a bound (checkSingularBounds).
 	fitting, original grid.Moments
 	// edgeMass[k][side] is the share of the mass in the outermost layer
 	// of nodes at that face; nonFinite the share of nodes where log p is
@@ -37,9 +46,6 @@ type reference struct {
 	// exactMode is the node where the density on the original scale is
 	// highest, on the fitting scale.
 	exactMode []float64
-	// errScale is the factor by which the error estimates were scaled up
-	// for a density that is infinite at a bound (checkSingularBounds).
-	errScale float64
 
 	// singularImproper reports a density that grows too fast towards a
 	// bound of its support to be integrable (like 1/x).
@@ -47,6 +53,10 @@ type reference struct {
 	// noise is the spacing of doubles at the grid's highest log p where it
 	// exceeds precisionWarn: the rounding noise of log p (0 otherwise).
 	noise float64
+
+	// quad, when set, is the nested rule whose results replaced the
+	// grid's (stage_quadrature.go): its verdicts on the tails stand.
+	quad *quadrature.Result
 }
 
 // findReference is the reference stage: it finds the box, evaluates the
@@ -60,18 +70,28 @@ func (a *analysis) findReference() error {
 		return err
 	}
 	a.ref.summarise()
+	if useQuadrature {
+		// The checks wait for the nested rule (stage_quadrature.go):
+		// where it stands, the grid's verdicts on the exact results do not.
+		return nil
+	}
+	a.checkReference()
+	return nil
+}
+
+// checkReference records what the grid's exact results cannot stand
+// behind.
+func (a *analysis) checkReference() {
 	a.checkResolved()
 	a.ref.scaleErrors(a.checkSingularBounds())
 	a.checkPrecision()
 	a.checkTails()
-	return nil
 }
 
 // summarise copies the grid's statistics into the reference's fields; the
 // grid's own statistics stay as computed.
 func (r *reference) summarise() {
 	st := &r.grid.Stats
-	r.errScale = 1
 	r.logZ, r.logZErr, r.tailMass = st.LogZ, st.LogZErr, st.TailMass
 	r.fitting, r.original = cloneMoments(st.Fitting), cloneMoments(st.Original)
 	r.edgeMass, r.nonFinite = st.EdgeMass, st.NonFinite
@@ -82,7 +102,6 @@ func (r *reference) summarise() {
 // scaleErrors scales the error estimates of log Z and of the moments by
 // errScale.
 func (r *reference) scaleErrors(errScale float64) {
-	r.errScale = errScale
 	if errScale > 1 {
 		r.logZErr *= errScale
 		for _, m := range []*grid.Moments{&r.fitting, &r.original} {
@@ -296,18 +315,47 @@ const unresolvedShare = 0.5
 // narrower than the spacing). Then log Z, the exact moments and the
 // comparisons are absent.
 func (a *analysis) checkResolved() {
+	posInf, layers := a.gridUnresolved()
+	if posInf > 0 {
+		a.avail.dropUnresolved()
+		a.diag.add(CodeUnresolved, SeverityError,
+			"The log-density is +inf at %d of the grid points: the density is infinite there (an overflow, or a singularity), which a grid cannot integrate, so log Z, the exact moments and the fits' comparisons with them are not reported.", posInf)
+		return
+	}
 	g := a.ref.grid
-	posInf := 0
+	for _, l := range layers {
+		a.avail.dropUnresolved()
+		k := l.axis
+		at := a.names[k]
+		if x := a.maps[k].ToOriginal(g.Nodes[k][l.node]); !math.IsInf(x, 0) {
+			at = fmt.Sprintf("%s = %.4g", a.names[k], x)
+		}
+		a.diag.add(CodeUnresolved, SeverityError,
+			"The grid's layer at %s holds %s of the mass: the density has a peak (or an infinite spike, or the neck of a funnel) narrower than the grid's spacing along %s, so log Z, the exact moments and the fits' comparisons with them are not reported.",
+			at, percent(l.share), a.names[k])
+	}
+}
+
+// unresolvedLayer is a layer of grid nodes across axis that holds share of
+// the mass, more than unresolvedShare.
+type unresolvedLayer struct {
+	axis, node int
+	share      float64
+}
+
+// gridUnresolved returns what keeps the grid from resolving the density:
+// the number of nodes where log p is +Inf (then no layers), or the layers
+// that hold most of the mass (none at a face the box search capped: mass
+// piled there is an improper density, which gridDiagnostics reports).
+func (a *analysis) gridUnresolved() (posInf int, layers []unresolvedLayer) {
+	g := a.ref.grid
 	for _, v := range g.LogP {
 		if math.IsInf(v, 1) {
 			posInf++
 		}
 	}
 	if posInf > 0 {
-		a.avail.dropUnresolved()
-		a.diag.add(CodeUnresolved, SeverityError,
-			"The log-density is +inf at %d of the grid points: the density is infinite there (an overflow, or a singularity), which a grid cannot integrate, so log Z, the exact moments and the fits' comparisons with them are not reported.", posInf)
-		return
+		return posInf, nil
 	}
 	for k := 0; k < a.d; k++ {
 		mass := g.Stats.Marginals[k].Mass
@@ -318,21 +366,13 @@ func (a *analysis) checkResolved() {
 			}
 		}
 		if edge := top == 0 || top == len(mass)-1; edge && a.ref.box.Capped[k][min(top, 1)] {
-			// Mass piled at a face the box search could not widen further:
-			// an improper density, which gridDiagnostics reports.
 			continue
 		}
 		if mass[top] > unresolvedShare {
-			a.avail.dropUnresolved()
-			at := a.names[k]
-			if x := a.maps[k].ToOriginal(g.Nodes[k][top]); !math.IsInf(x, 0) {
-				at = fmt.Sprintf("%s = %.4g", a.names[k], x)
-			}
-			a.diag.add(CodeUnresolved, SeverityError,
-				"The grid's layer at %s holds %s of the mass: the density has a peak (or an infinite spike, or the neck of a funnel) narrower than the grid's spacing along %s, so log Z, the exact moments and the fits' comparisons with them are not reported.",
-				at, percent(mass[top]), a.names[k])
+			layers = append(layers, unresolvedLayer{k, top, mass[top]})
 		}
 	}
+	return 0, layers
 }
 
 // Precision limits: log p values whose doubles lie more than precisionWarn
@@ -473,6 +513,9 @@ func (a *analysis) checkTails() {
 // than improperEdgeMass in the outer layer of a face, and every axis of a
 // density that is not integrable at a bound of its support.
 func (r *reference) improper(k int) bool {
+	if r.quad != nil {
+		return r.quad.Improper
+	}
 	if r.singularImproper {
 		return true
 	}

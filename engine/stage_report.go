@@ -9,21 +9,27 @@ import (
 	"bellcheck/engine/transform"
 )
 
-// report assembles the Result from what the stages handed on: each fit's
-// moments and comparison, the exact posterior and the grid's description.
-func (a *analysis) report(res *Result) {
+// report assembles the Result from what the stages handed on and the
+// availability record: the modes, each fit's moments and comparison, the
+// exact posterior and the grid's description. The diagnostics and the
+// timing are added at the end of the run.
+func (a *analysis) report() *Result {
+	res := &Result{Params: a.names, Form: a.m.Form.String(), Scales: a.scales, Modes: a.modes.modes}
 	a.pushFits()
-	a.fillFits()
+	a.fillFits(res)
 	a.fillExact(res)
 	a.fillOriginalErrors(res)
 	a.fillGridInfo(res)
+	return res
 }
 
-// fillFits fills each fit that exists with its moments, its comparison
-// and its evidence error.
-func (a *analysis) fillFits() {
+// fillFits puts each fit that exists in the Result with its run, its
+// moments, its comparison and its evidence error.
+func (a *analysis) fillFits(res *Result) {
 	for i, f := range a.fits {
-		out := *f.out
+		out := new(Fit)
+		*out = f.run
+		*a.place(res, f) = out
 		a.fillFit(out, f, a.cmp[i])
 		if !a.avail.present(QuantityLogZ) {
 			continue
@@ -187,7 +193,7 @@ func (a *analysis) pushforward(g gauss.Gaussian) (mean, s []float64, c, corr [][
 func (a *analysis) fillOriginalErrors(res *Result) {
 	ex := &res.Exact
 	for _, fd := range a.fits {
-		out := *fd.out
+		out := *a.place(res, fd)
 		for k := 0; k < a.d; k++ {
 			if a.maps[k].Scale.IsIdentity() {
 				continue

@@ -8,6 +8,7 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"strconv"
 	"strings"
 
 	"bellcheck/engine"
@@ -19,8 +20,11 @@ import (
 // fitInputs are the fit command's data file and per-parameter options, as
 // given on the command line.
 type fitInputs struct {
-	dataFiles  []string
-	settings   []paramopt.Setting       // from the flags, in the order given
+	dataFiles []string
+	settings  []paramopt.Setting // from the flags, in the order given
+	// allPoints is a bare --points N: the grid points along every
+	// parameter that no NAME=N setting names.
+	allPoints  int
 	candidates []paramopt.CandidateSpec // from --gaussian, in the order given
 }
 
@@ -40,12 +44,19 @@ func (in *fitInputs) define(fs *flag.FlagSet) {
 		help string
 	}{
 		{paramopt.Scale, "fit parameter NAME on a scale: `NAME=identity|log|logit` (repeatable, or NAME=S,NAME2=S2)"},
-		{paramopt.Points, "grid points along parameter NAME: `NAME=N` (repeatable)"},
+		{paramopt.Points, "grid points along parameter NAME: `NAME=N` (repeatable), or N for every parameter"},
 		{paramopt.Box, "the grid's range for parameter NAME: `NAME=LO:HI`, or NAME=LO: or NAME=:HI (repeatable)"},
 		{paramopt.Vary, "mark the scalar constant NAME as one to vary over a range: `NAME=LO:HI` (repeatable; sweep uses it)"},
 	} {
 		kind := k.kind
 		fs.Func(string(kind), k.help, func(v string) error {
+			if n, err := strconv.Atoi(strings.TrimSpace(v)); err == nil && kind == paramopt.Points {
+				if n <= 0 {
+					return errors.New("want a positive number of points")
+				}
+				in.allPoints = n
+				return nil
+			}
 			s, err := paramopt.ParseFlag(kind, v)
 			if err != nil {
 				var e *paramopt.Error
@@ -125,6 +136,20 @@ func (in *fitInputs) load(name, src string, stdin io.Reader, stderr io.Writer) (
 		}
 		fmt.Fprintf(stderr, "bellcheck fit: %v\n", err)
 		return nil, engine.Options{}, exitUsage
+	}
+	if in.allPoints > 0 {
+		for len(opts.Params) < len(m.Params) {
+			opts.Params = append(opts.Params, engine.ParamOptions{})
+		}
+		for i := range opts.Params {
+			if opts.Params[i].Points == 0 {
+				opts.Params[i].Points = in.allPoints
+			}
+		}
+		if probs := engine.CheckOptions(m, opts); len(probs) > 0 {
+			fmt.Fprintf(stderr, "bellcheck fit: --points %d: %v\n", in.allPoints, probs[0])
+			return nil, engine.Options{}, exitUsage
+		}
 	}
 	specs, err := paramopt.CandidateLines(src)
 	if err == nil {

@@ -5,11 +5,17 @@ package main
 import (
 	"bytes"
 	"encoding/json"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
+	"syscall"
 	"testing"
+	"time"
+
+	"bellcheck/engine"
 )
 
 func runCLI(t *testing.T, stdin string, args ...string) (code int, stdout, stderr string) {
@@ -128,5 +134,149 @@ func TestFitTableMentionsEveryFit(t *testing.T) {
 		if !strings.Contains(stdout, want) {
 			t.Errorf("table lacks %q:\n%s", want, stdout)
 		}
+	}
+}
+
+// costlyModel is a 3-parameter Student-t likelihood over n observations
+// (invented data: the digits 0 to 9 in turn), whose density costs about n
+// evaluations of a logarithm a point.
+func costlyModel(n int) string {
+	var b strings.Builder
+	b.WriteString("y = [")
+	for i := range n {
+		if i > 0 {
+			b.WriteString(",")
+		}
+		b.WriteString(strconv.Itoa(i * 7 % 10))
+	}
+	b.WriteString("]\nparam a\nparam b\nparam s in [0, inf]\nsum(ld_student(y, 4, a + b, s)) - a^2/2 - b^2/2 - s\n")
+	return b.String()
+}
+
+// TestFitRefusesWorkBeyondMaxTime: an analysis forecast to take longer than
+// --max-time is refused at once, with the forecast and the cheaper plans.
+func TestFitRefusesWorkBeyondMaxTime(t *testing.T) {
+	code, stdout, stderr := runCLI(t, costlyModel(2000), "fit", "--max-time", "1ms", "-")
+	if code != exitModel || stdout != "" {
+		t.Fatalf("exit %d, stdout %q; want exit 1 and no result", code, stdout)
+	}
+	for _, want := range []string{"the analysis would take about", "grid points at", "more than --max-time 1ms", "Allow it with --max-time"} {
+		if !strings.Contains(stderr, want) {
+			t.Errorf("stderr %q lacks %q", stderr, want)
+		}
+	}
+	// Without a bound the same command would run: the refusal is the
+	// bound's, not the model's (checked on a cheap model to keep it short).
+	if code, _, stderr := runCLI(t, "-x^2/2\n", "fit", "--max-time", "0", "-"); code != exitOK {
+		t.Errorf("--max-time 0: exit %d, %q", code, stderr)
+	}
+}
+
+// TestTooLongOffersCoarserGrid: the message names a --points that the
+// forecast puts within the bound (engine.PointsWithin), or says that none
+// does.
+func TestTooLongOffersCoarserGrid(t *testing.T) {
+	est := engine.Estimate{Points: 301 * 301, PerPoint: 10 * time.Microsecond, Total: 2 * time.Second}
+	msg := tooLong("m.txt", 2, est, time.Second)
+	n := engine.PointsWithin(2, est.PerPoint, time.Second)
+	if n < 11 || n >= 301 || !strings.Contains(msg, "--points "+strconv.Itoa(n)) {
+		t.Errorf("PointsWithin %d; message %q", n, msg)
+	}
+	msg = tooLong("m.txt", 4, engine.Estimate{Points: 41 * 41 * 41 * 41, PerPoint: time.Millisecond, Total: time.Hour}, time.Second)
+	if !strings.Contains(msg, "even the coarsest grid") {
+		t.Errorf("message %q", msg)
+	}
+}
+
+// blockingReader never delivers (a terminal nobody types into).
+type blockingReader struct{ stop chan struct{} }
+
+func (r blockingReader) Read([]byte) (int, error) { <-r.stop; return 0, io.EOF }
+
+// endlessReader delivers forever (yes | bellcheck fit -).
+type endlessReader struct{}
+
+func (endlessReader) Read(p []byte) (int, error) {
+	for i := range p {
+		p[i] = '1'
+	}
+	return len(p), nil
+}
+
+// TestReadNeverBlocksForever: standard input that never delivers, a named
+// pipe nobody writes to and endless input each end with a message.
+func TestReadNeverBlocksForever(t *testing.T) {
+	stop := make(chan struct{})
+	defer close(stop)
+	var out, errOut bytes.Buffer
+	code := run([]string{"fit", "--read-timeout", "300ms", "-"}, blockingReader{stop}, &out, &errOut)
+	if code != exitModel || !strings.Contains(errOut.String(), "no model arrived on standard input within 300ms") {
+		t.Errorf("silent stdin: exit %d, stderr %q", code, errOut.String())
+	}
+	fifo := filepath.Join(t.TempDir(), "pipe")
+	if err := syscall.Mkfifo(fifo, 0o600); err != nil {
+		t.Skip("no named pipes here:", err)
+	}
+	code, _, stderr := runCLI(t, "", "fit", "--read-timeout", "300ms", fifo)
+	if code != exitModel || !strings.Contains(stderr, "no model arrived on "+fifo) {
+		t.Errorf("named pipe: exit %d, stderr %q", code, stderr)
+	}
+	out.Reset()
+	errOut.Reset()
+	code = run([]string{"fit", "-"}, endlessReader{}, &out, &errOut)
+	if code != exitModel || !strings.Contains(errOut.String(), "model text is too long") {
+		t.Errorf("endless stdin: exit %d, stderr %.200q", code, errOut.String())
+	}
+}
+
+// TestMessagesShowInvisibleCharacters: a right-to-left override (U+202E)
+// in the text or in the file name is shown as <U+202E>, never echoed raw,
+// and the caret still points at the error.
+func TestMessagesShowInvisibleCharacters(t *testing.T) {
+	src := "x = 1 # \u202e reversed\n-x^2 + lgama(x)\n"
+	code, _, stderr := runCLI(t, src, "fit", "-")
+	if code != exitModel || strings.ContainsRune(stderr, '\u202e') || !strings.Contains(stderr, "<U+202E>") {
+		t.Errorf("exit %d, stderr %q", code, stderr)
+	}
+	// The first error is the override itself (a model error, at 1:9).
+	if !strings.Contains(stderr, "-:1:9: bidirectional control character U+202E") {
+		t.Errorf("stderr %q", stderr)
+	}
+	name := filepath.Join(t.TempDir(), "evil\u202etxt.model")
+	if err := os.WriteFile(name, []byte("-x^2 + lgama(x)\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	_, _, stderr = runCLI(t, "", "fit", name)
+	if strings.ContainsRune(stderr, '\u202e') || !strings.Contains(stderr, "evil<U+202E>txt") {
+		t.Errorf("file name echoed raw: %q", stderr)
+	}
+	// A zero-width space (U+200B) outside a comment is an error at its own
+	// column; the caret points at the start of the shown <U+200B>.
+	_, _, stderr = runCLI(t, "-x^2 +\u200b lgama(x)\n", "fit", "-")
+	lines := strings.Split(stderr, "\n")
+	if len(lines) < 3 {
+		t.Fatalf("stderr %q", stderr)
+	}
+	shown, caret := lines[1], lines[2]
+	if i := strings.Index(caret, "^"); i < 0 || !strings.HasPrefix(shown[i:], "<U+200B> lgama") || !strings.Contains(lines[0], "-:1:7:") {
+		t.Errorf("caret misplaced:\n%s\n%s", shown, caret)
+	}
+}
+
+// TestProgressReporter: nothing in the first progressAfter, then a line
+// with the stage, the share done and the time left (spent/fraction - spent:
+// 10 s at 25 % leaves 30 s), at most every progressEvery.
+func TestProgressReporter(t *testing.T) {
+	var buf bytes.Buffer
+	report := progressReporter(&buf, engine.Estimate{}, time.Now())
+	report(engine.Progress{Stage: "grid", Fraction: 0.1})
+	if buf.Len() != 0 {
+		t.Fatalf("a report before %v: %q", progressAfter, buf.String())
+	}
+	report = progressReporter(&buf, engine.Estimate{}, time.Now().Add(-10*time.Second))
+	report(engine.Progress{Stage: "reverse_kl", Fraction: 0.25})
+	report(engine.Progress{Stage: "reverse_kl", Fraction: 0.26}) // too soon for another line
+	if got := buf.String(); got != "bellcheck:  25% reverse kl, 10s, about 30s left\n" {
+		t.Errorf("progress %q", got)
 	}
 }

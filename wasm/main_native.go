@@ -4,9 +4,10 @@
 // (GOOS=js GOARCH=wasm) it runs the calculator page; built natively it serves
 // the page, writes the static site and runs the command line:
 //
-//	bellcheck fit [-json] [-plots] [-markdown|-latex] FILE    analyse a model file ('-' for standard input)
-//	    [-data FILE] [-scale|-points|-box NAME=VALUE]  attach data; per-parameter options
-//	    [-gaussian "NAME mean.P=V sd.P=V ..."]  score a Gaussian of your own
+//	bellcheck fit [-json] [-plots] [-markdown|-latex] [-max-time D] [-read-timeout D] [-quiet] FILE
+//	    [-data FILE] [-scale|-points|-box NAME=VALUE] [-points N]
+//	    [-gaussian "NAME mean.P=V sd.P=V ..."] [-vary NAME=LO:HI]
+//	                                        analyse a model file ('-' for standard input)
 //	bellcheck sweep [-over NAME=LO:HI] [-steps N] [-show PATHS] [-json] FILE
 //	                                        analyse at values of one constant
 //	bellcheck serve [-addr ADDR] [-web DIR] serve the calculator page
@@ -22,9 +23,12 @@ import (
 )
 
 const usage = `usage:
-  bellcheck fit [-json] [-plots] [-markdown|-latex] FILE   analyse a model file ('-' reads standard input)
+  bellcheck fit [-json] [-plots] [-markdown|-latex] [-max-time D] [-read-timeout D] [-quiet] FILE
+                                           analyse a model file ('-' reads standard input);
+                                           refuses work forecast beyond -max-time (default 2m)
       [-data FILE]                         attach a CSV/TSV file's columns as named vectors
       [-scale NAME=log] [-points NAME=N] [-box NAME=LO:HI]   per-parameter options
+      [-points N]                          grid points along every parameter not named
       [-gaussian "NAME mean.P=V sd.P=V corr.P.Q=R"]  score a Gaussian of your own (repeatable)
       [-vary NAME=LO:HI]                   mark a scalar constant to vary (a slider; sweep's range)
   bellcheck sweep [-over NAME=LO:HI] [-steps N] [-show exact.log_z,laplace.mean.0] [-json]

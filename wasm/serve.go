@@ -110,7 +110,8 @@ func runStatic(args []string, stderr io.Writer) int {
 	return exitOK
 }
 
-// writeStatic generates the static site into dir.
+// writeStatic generates the static site into dir, with a gzip-compressed
+// copy beside each large script, style, page and the wasm (writeCompressed).
 func writeStatic(dir, webDir, prefix string) error {
 	if _, err := os.Stat(filepath.Join(webDir, "app.wasm")); err != nil {
 		return fmt.Errorf("%s/app.wasm is missing: build it with `make wasm`", webDir)
@@ -122,7 +123,10 @@ func writeStatic(dir, webDir, prefix string) error {
 	if err := app.GenerateStaticWebsite(dir, newHandler(webDir, prefix)); err != nil {
 		return fmt.Errorf("generating the static site: %w", err)
 	}
-	return copyTree(filepath.Join(dir, "web"), webDir)
+	if err := copyTree(filepath.Join(dir, "web"), webDir); err != nil {
+		return err
+	}
+	return writeCompressed(dir)
 }
 
 // copyTree copies the regular files below src into dst.
@@ -146,7 +150,14 @@ func copyTree(dst, src string) error {
 	})
 }
 
+// copyFile copies src to dst.
 func copyFile(dst, src string) error {
+	return copyThrough(dst, src, func(w io.Writer) (io.WriteCloser, error) { return nopCloser{w}, nil })
+}
+
+// copyThrough copies src to dst through the writer wrap makes (a
+// compressor, say), closing it before dst.
+func copyThrough(dst, src string, wrap func(io.Writer) (io.WriteCloser, error)) error {
 	in, err := os.Open(src)
 	if err != nil {
 		return err
@@ -156,9 +167,20 @@ func copyFile(dst, src string) error {
 	if err != nil {
 		return err
 	}
-	if _, err := io.Copy(out, in); err != nil {
-		out.Close()
-		return err
+	w, err := wrap(out)
+	if err == nil {
+		_, err = io.Copy(w, in)
+		if cerr := w.Close(); err == nil {
+			err = cerr
+		}
 	}
-	return out.Close()
+	if cerr := out.Close(); err == nil {
+		err = cerr
+	}
+	return err
 }
+
+// nopCloser is a writer whose Close does nothing.
+type nopCloser struct{ io.Writer }
+
+func (nopCloser) Close() error { return nil }

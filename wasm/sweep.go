@@ -29,6 +29,7 @@ const maxSweepSteps = 1000
 // one scalar constant (model.WithConstant) and print the chosen
 // quantities, as a table or as JSON lines.
 func runSweep(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
+	stderr = visibleWriter{stderr}
 	fs := flag.NewFlagSet("sweep", flag.ContinueOnError)
 	fs.SetOutput(stderr)
 	asJSON := fs.Bool("json", false, "print one JSON object per value (JSON lines)")
@@ -54,7 +55,7 @@ func runSweep(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		return exitUsage
 	}
 	name := fs.Arg(0)
-	src, err := readModel(name, stdin)
+	src, err := readModel(name, stdin, defaultReadTimeout, stderr)
 	if err != nil {
 		fmt.Fprintf(stderr, "bellcheck: %v\n", err)
 		return exitModel
@@ -75,7 +76,7 @@ func runSweep(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
 	defer stop()
 
-	tw := tabwriter.NewWriter(stdout, 0, 0, 2, ' ', tabwriter.AlignRight)
+	tw := tabwriter.NewWriter(visibleWriter{stdout}, 0, 0, 2, ' ', tabwriter.AlignRight)
 	if !*asJSON {
 		row(tw, append([]string{v.Name}, paths...)...)
 	}

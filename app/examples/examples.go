@@ -17,6 +17,10 @@ type Example struct {
 
 var logScale = engine.ParamOptions{Scale: engine.Log}
 
+// lorenzAxis keeps the Lorenz examples' grids at 61 points per parameter:
+// every point integrates the system over the whole window.
+var lorenzAxis = engine.ParamOptions{Points: 61}
+
 // Default is the ID of the example the page opens with.
 const Default = "dose"
 
@@ -127,6 +131,70 @@ fit = offset + rate * t + ageing * (t^2 - 8.25)
     + ld_normal(ageing, 0, 0.1) + ld_lognormal(noise, log(0.15), 0.3))
 `,
 		Params: map[string]engine.ParamOptions{"noise": logScale},
+	},
+	{
+		ID:    "oscillator",
+		Title: "Damped oscillator",
+		Shows: "Frequency and damping of a spring from twenty noisy positions: an ode integrated by Runge-Kutta inside the model.",
+		Source: `# A mass on a spring, released from x = 1 at rest, its position read
+# every half second with noise of sd 0.1 (invented readings).
+t = [0.5, 1, 1.5, 2, 2.5, 3, 3.5, 4, 4.5, 5, 5.5, 6, 6.5, 7, 7.5, 8, 8.5, 9, 9.5, 10]
+x_seen = [0.89, 0.23, -0.1, -0.37, -0.65, -0.57, -0.07, 0.07, 0.35, 0.23, 0.35, 0.13, -0.2, -0.1, -0.25, -0.1, -0.12, 0.16, 0.09, 0.15]
+param w in [0.2, 4]      # natural frequency, radians per second
+param zeta in [0, 1]     # damping ratio
+ode t from 0 substeps 4
+  x = 1 rate v
+  v = 0 rate -w^2*x - 2*zeta*w*v
+end
+sum(ld_normal(x_seen, x, 0.1)) + ld_lognormal(w, 0, 1) + ld_beta(zeta, 1.5, 4)
+`,
+		Params: map[string]engine.ParamOptions{"w": {Scale: engine.Logit}, "zeta": {Scale: engine.Logit}},
+	},
+	{
+		ID:    "lorenz-short",
+		Title: "Lorenz-63, short window",
+		Shows: "The starting state of a chaotic system from five noisy readings of x over half a time unit: a smooth, nearly Gaussian cost.",
+		Source: `# Lorenz-63 (Lorenz 1963; sigma 10, rho 28, beta 8/3): which starting
+# state explains five readings of x over half a time unit? Readings have
+# noise of sd 3 (invented); the background guess (4, 5, 13) has sd 4.
+t = [0.1, 0.2, 0.3, 0.4, 0.5]
+x_seen = [9.1, 10.2, 15.4, 9.7, 0.2]
+param x0 in [-4, 12]
+param y0 in [-3, 13]
+param z0 in [5, 21]
+ode t from 0 substeps 2
+  x = x0 rate 10*(y - x)
+  y = y0 rate x*(28 - z) - y
+  z = z0 rate x*y - 8/3*z
+end
+# Variational data assimilation's cost: background plus misfit.
+cost ((x0 - 4)^2 + (y0 - 5)^2 + (z0 - 13)^2)/(2*4^2) + sum((x - x_seen)^2)/(2*3^2)
+`,
+		Params: map[string]engine.ParamOptions{"x0": lorenzAxis, "y0": lorenzAxis, "z0": lorenzAxis},
+	},
+	{
+		ID:    "lorenz-long",
+		Title: "Lorenz-63, long window",
+		Shows: "The same starting state from forty readings over four time units: a cost with many local minima, and a thin, bent ridge of posterior the grid barely resolves.",
+		Source: `# The same system and background, read for four time units: the longer
+# the window, the more local minima the cost has (Pires, Vautard and
+# Talagrand 1996). Along x0 alone it has 18 here, but all except the
+# deepest lie far higher, so the posterior is one thin, bent ridge, skewed
+# in z0, that the grid barely resolves.
+t = [0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9, 1, 1.1, 1.2, 1.3, 1.4, 1.5, 1.6, 1.7, 1.8, 1.9, 2, 2.1, 2.2, 2.3, 2.4, 2.5, 2.6, 2.7, 2.8, 2.9, 3, 3.1, 3.2, 3.3, 3.4, 3.5, 3.6, 3.7, 3.8, 3.9, 4]
+x_seen = [9.1, 10.2, 15.4, 9.7, 0.2, -3.6, 0.9, -5.8, -8.3, -19.1, -9.9, -3, -2.8, 4.4, 1.4, 5.2, 6.1, 17.7, 11.5, 4.2, 2.2, -5.4, -2.4, -3.6, -13.5, -15.7, -4.1, -3.4, -0.1, -4.2, 1.1, -2, -0.1, -10.7, -15, -12.9, -5.7, 4.3, 5.3, 5.2]
+param x0 in [-4, 12]
+param y0 in [-3, 13]
+param z0 in [5, 21]
+ode t from 0 substeps 2
+  x = x0 rate 10*(y - x)
+  y = y0 rate x*(28 - z) - y
+  z = z0 rate x*y - 8/3*z
+end
+# Variational data assimilation's cost: background plus misfit.
+cost ((x0 - 4)^2 + (y0 - 5)^2 + (z0 - 13)^2)/(2*4^2) + sum((x - x_seen)^2)/(2*3^2)
+`,
+		Params: map[string]engine.ParamOptions{"x0": lorenzAxis, "y0": lorenzAxis, "z0": lorenzAxis},
 	},
 }
 

@@ -12,14 +12,17 @@ func TestEveryExampleParses(t *testing.T) {
 		t.Fatalf("the gallery has %d examples; the page promises at least 6", len(All))
 	}
 	wantParams := map[string][]string{
-		"dose":    {"a", "b"},
-		"square":  {"x"},
-		"decay":   {"rate"},
-		"banana":  {"u", "v"},
-		"sensor":  {"offset", "gain", "noise"},
-		"outlier": {"loc", "scale"},
-		"funnel":  {"logsd", "theta"},
-		"clock":   {"offset", "rate", "ageing", "noise"},
+		"dose":         {"a", "b"},
+		"square":       {"x"},
+		"decay":        {"rate"},
+		"banana":       {"u", "v"},
+		"sensor":       {"offset", "gain", "noise"},
+		"outlier":      {"loc", "scale"},
+		"funnel":       {"logsd", "theta"},
+		"clock":        {"offset", "rate", "ageing", "noise"},
+		"oscillator":   {"w", "zeta"},
+		"lorenz-short": {"x0", "y0", "z0"},
+		"lorenz-long":  {"x0", "y0", "z0"},
 	}
 	seen := map[string]bool{}
 	for _, e := range All {

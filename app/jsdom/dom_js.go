@@ -223,8 +223,11 @@ func ReplaceFragment(fragment string) error {
 
 // storage returns window.localStorage (access may throw, for instance
 // when the browser blocks storage).
-func storage() (safejs.Value, error) {
-	st, err := safejs.Global().Get("localStorage")
+func storage() (safejs.Value, error) { return storageNamed("localStorage") }
+
+// storageNamed returns window[name], a Storage.
+func storageNamed(name string) (safejs.Value, error) {
+	st, err := safejs.Global().Get(name)
 	if err != nil {
 		return safejs.Value{}, err
 	}
@@ -275,5 +278,90 @@ func OnHashChange(f func()) error {
 		return err
 	}
 	_, err = safejs.Global().Call("addEventListener", "hashchange", fn.Value())
+	return err
+}
+
+// StorageKeys lists the keys of the browser's local storage.
+func StorageKeys() ([]string, error) {
+	st, err := storage()
+	if err != nil {
+		return nil, err
+	}
+	lv, err := st.Get("length")
+	if err != nil {
+		return nil, err
+	}
+	n, err := lv.Int()
+	if err != nil {
+		return nil, err
+	}
+	keys := make([]string, 0, n)
+	for i := 0; i < n; i++ {
+		k, err := st.Call("key", i)
+		if err != nil {
+			return keys, err
+		}
+		if k.IsNull() || k.IsUndefined() {
+			continue // removed by another tab meanwhile
+		}
+		s, err := k.String()
+		if err != nil {
+			return keys, err
+		}
+		keys = append(keys, s)
+	}
+	return keys, nil
+}
+
+// RemoveItem deletes a key of the browser's local storage.
+func RemoveItem(key string) error {
+	st, err := storage()
+	if err != nil {
+		return err
+	}
+	_, err = st.Call("removeItem", key)
+	return err
+}
+
+// OnStorage calls f whenever another tab of the same site changes the local
+// storage. f runs in the browser's event handler: hand the work to the
+// page's goroutine.
+func OnStorage(f func()) error {
+	fn, err := safejs.FuncOf(func(this safejs.Value, args []safejs.Value) any {
+		f()
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	_, err = safejs.Global().Call("addEventListener", "storage", fn.Value())
+	return err
+}
+
+// LoadSessionItem reads a key of the tab's session storage (kept across
+// reloads of the tab); ok is false when the key is absent.
+func LoadSessionItem(key string) (value string, ok bool, err error) {
+	st, err := storageNamed("sessionStorage")
+	if err != nil {
+		return "", false, err
+	}
+	v, err := st.Call("getItem", key)
+	if err != nil {
+		return "", false, err
+	}
+	if v.IsNull() || v.IsUndefined() {
+		return "", false, nil
+	}
+	s, err := v.String()
+	return s, err == nil, err
+}
+
+// SaveSessionItem writes a key of the tab's session storage.
+func SaveSessionItem(key, value string) error {
+	st, err := storageNamed("sessionStorage")
+	if err != nil {
+		return err
+	}
+	_, err = st.Call("setItem", key, value)
 	return err
 }

@@ -39,6 +39,22 @@ func LoadItem(key string) (value string, ok bool, err error) { return "", false,
 // SaveItem writes local storage; natively it returns ErrNoBrowser.
 func SaveItem(key, value string) error { return ErrNoBrowser }
 
+// StorageKeys lists local storage's keys; natively it returns ErrNoBrowser.
+func StorageKeys() ([]string, error) { return nil, ErrNoBrowser }
+
+// LoadSessionItem reads session storage; natively it returns ErrNoBrowser.
+func LoadSessionItem(key string) (value string, ok bool, err error) { return "", false, ErrNoBrowser }
+
+// SaveSessionItem writes session storage; natively it returns ErrNoBrowser.
+func SaveSessionItem(key, value string) error { return ErrNoBrowser }
+
+// RemoveItem deletes a local-storage key; natively it returns ErrNoBrowser.
+func RemoveItem(key string) error { return ErrNoBrowser }
+
+// OnStorage watches other tabs' storage changes; natively it returns
+// ErrNoBrowser.
+func OnStorage(f func()) error { return ErrNoBrowser }
+
 // OnHashChange watches the URL fragment; natively it returns ErrNoBrowser.
 func OnHashChange(f func()) error { return ErrNoBrowser }
 

@@ -65,9 +65,12 @@ func InstallAPI() error {
 }
 
 // APIAnalyse is window.bellcheck.analyse: args are the JSON texts of the
-// model text (a string) and optionally of the options, an object in the
-// shape of engine.Options' JSON ({"params": [{"scale": "log", "points":
-// 201, "lo": 0, "hi": 5}, ...], "plots": false}). It returns the result as
+// model text (a string; null is refused) and optionally of the options, an
+// object in the shape of engine.Options' JSON ({"params": [{"scale": "log",
+// "points": 201, "lo": 0, "hi": 5}, ...], "plots": false}; null or
+// undefined means the defaults). Options with unknown fields, of the wrong
+// type, or beyond the engine's limits for the model (engine.CheckOptions)
+// are refused with the reason. It returns the result as
 // the command line's JSON (engine.Result's MarshalJSON, without plots unless
 // asked for). A model error gives an error whose text starts with the
 // line:column of the first problem.
@@ -89,6 +92,9 @@ func APIAnalyse(args []string) (string, error) {
 	if err != nil {
 		return "", apiModelError(err)
 	}
+	if problems := engine.CheckOptions(m, opts); len(problems) > 0 {
+		return "", fmt.Errorf("%w: options: %s", ErrAPIArgs, model.Visible(problems[0].Error()))
+	}
 	apiMu.Lock()
 	defer apiMu.Unlock()
 	y := newYielder(SliceLength)
@@ -103,11 +109,24 @@ func APIAnalyse(args []string) (string, error) {
 	return string(out), nil
 }
 
-// apiString decodes a JSON string argument.
+// apiString decodes a JSON string argument; null, a number, an object or a
+// missing argument is refused (JSON's null would otherwise decode as "").
 func apiString(arg, name string) (string, error) {
 	var s string
-	if arg == "" || json.Unmarshal([]byte(arg), &s) != nil {
-		return "", fmt.Errorf("%w: %s must be a string", ErrAPIArgs, name)
+	if arg == "" || arg == "null" || arg[0] != '"' || json.Unmarshal([]byte(arg), &s) != nil {
+		got := "nothing"
+		switch {
+		case arg == "null":
+			got = "null"
+		case arg != "" && (arg[0] == '{' || arg[0] == '['):
+			got = "an object"
+		case arg != "":
+			got = arg
+			if len(got) > 20 {
+				got = got[:20] + "…"
+			}
+		}
+		return "", fmt.Errorf("%w: %s must be a string, got %s", ErrAPIArgs, name, model.Visible(got))
 	}
 	return s, nil
 }
@@ -115,6 +134,9 @@ func apiString(arg, name string) (string, error) {
 // apiOptions decodes and checks the options of analyse.
 func apiOptions(arg string) (engine.Options, error) {
 	var o engine.Options
+	if arg[0] != '{' {
+		return o, fmt.Errorf("%w: options must be an object such as {\"params\": [{\"points\": 201}]}", ErrAPIArgs)
+	}
 	dec := json.NewDecoder(bytes.NewReader([]byte(arg)))
 	dec.DisallowUnknownFields()
 	if err := dec.Decode(&o); err != nil {
@@ -129,8 +151,8 @@ func apiOptions(arg string) (engine.Options, error) {
 		default:
 			return o, fmt.Errorf("%w: options: parameter %d: unknown scale %q (identity, log or logit)", ErrAPIArgs, i+1, p.Scale)
 		}
-		if p.Points < 0 || p.Points > share.MaxPoints {
-			return o, fmt.Errorf("%w: options: parameter %d: %d grid points, want 0 (the default) to %d", ErrAPIArgs, i+1, p.Points, share.MaxPoints)
+		if p.Points < 0 {
+			return o, fmt.Errorf("%w: options: parameter %d: %d grid points, want 0 (the default) or more", ErrAPIArgs, i+1, p.Points)
 		}
 		if p.Lo != nil && p.Hi != nil && !(*p.Lo < *p.Hi) {
 			return o, fmt.Errorf("%w: options: parameter %d: lo %g is not below hi %g", ErrAPIArgs, i+1, *p.Lo, *p.Hi)

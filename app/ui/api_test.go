@@ -87,7 +87,16 @@ func TestAPIAnalyseRejectsWithWhereAndWhat(t *testing.T) {
 		{"bad scale", jsArgs(t, "-x^2", map[string]any{"params": []any{map[string]any{"scale": "sqrt"}}}), "unknown scale"},
 		{"too many points", jsArgs(t, "-x^2", map[string]any{"params": []any{map[string]any{"points": 1e6}}}), "grid points"},
 		{"lo above hi", jsArgs(t, "-x^2", map[string]any{"params": []any{map[string]any{"lo": 2, "hi": 1}}}), "not below"},
-		{"scale against support", jsArgs(t, "-x^2", map[string]any{"params": []any{map[string]any{"scale": "log"}}}), "bad options"},
+		{"scale against support", jsArgs(t, "-x^2", map[string]any{"params": []any{map[string]any{"scale": "log"}}}), "does not suit the support"},
+		{"null model", jsArgs(t, nil), "modelText must be a string, got null"},
+		{"object model", jsArgs(t, map[string]any{"m": "x"}), "got an object"},
+		{"options not an object", jsArgs(t, "-x^2", 5), "options must be an object"},
+		{"options an array", jsArgs(t, "-x^2", []int{1}), "options must be an object"},
+		// engine.MaxAxisPoints(2) is 1501: the engine's own limit, not the
+		// link format's 4001.
+		{"over the engine's limit", jsArgs(t, "-x^2-y^2", map[string]any{"params": []any{map[string]any{"points": 4001}}}), "1 to 1501"},
+		{"box too wide", jsArgs(t, "-x^2", map[string]any{"params": []any{map[string]any{"lo": -1e308, "hi": 1e308}}}), "wider than"},
+		{"box too narrow", jsArgs(t, "-x^2", map[string]any{"params": []any{map[string]any{"lo": 1, "hi": 1 + 1e-15}}}), "too narrow"},
 	}
 	for _, c := range cases {
 		_, err := APIAnalyse(c.args)

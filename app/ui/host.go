@@ -19,4 +19,8 @@ type Host interface {
 	LoadExample(ctx app.Context, id string)
 	// SetView changes the plots' view: the log scale and hidden methods.
 	SetView(ctx app.Context, log bool, hidden [plot.NumMethods]bool)
+	// RestoreHistory opens a model kept in the history, by its key.
+	RestoreHistory(ctx app.Context, key string)
+	// ForgetHistory deletes a model kept in the history, by its key.
+	ForgetHistory(ctx app.Context, key string)
 }

@@ -62,6 +62,7 @@ type Page struct {
 	// unless a test sets it); notice is the message shown above the results.
 	browser Browser
 	notice  Notice
+	history *History // the user's models, see hist (history_view.go)
 	// ctx is the page's own context once mounted: asynchronous work
 	// reports through it, since the element that started the work (a
 	// button, an input) may be gone when the work ends.
@@ -166,12 +167,9 @@ func (p *Page) OpenLink(ctx app.Context) {
 	if cur.Model == link.Model {
 		return
 	}
-	if raw, err := share.Encode(cur); err == nil {
-		p.browser.Save(EarlierKey, raw)
-	}
 	src, params, v := fromShare(link)
 	p.LoadState(ctx, src, params, v)
-	p.notice = Notice{Text: "Opened the shared model. The model you were editing before is kept.", Action: "Back to my model", Offer: &cur}
+	p.notice = linkNotice(Notice{Text: "Opened the shared model.", Action: "Back to the model before", Offer: &cur}, LinkProblems(link))
 }
 
 // TakeOffer loads the state the notice offers, and offers the current one
@@ -182,11 +180,6 @@ func (p *Page) TakeOffer(ctx app.Context) {
 		return
 	}
 	cur := p.shareState()
-	if p.browser != nil {
-		if raw, err := share.Encode(cur); err == nil {
-			p.browser.Save(EarlierKey, raw)
-		}
-	}
 	src, params, v := fromShare(*offer)
 	p.LoadState(ctx, src, params, v)
 	p.notice = Notice{Text: "Switched models. The other one is kept.", Action: "Switch back", Offer: &cur}
@@ -195,10 +188,11 @@ func (p *Page) TakeOffer(ctx app.Context) {
 // DismissNotice hides the notice.
 func (p *Page) DismissNotice(ctx app.Context) { p.notice = Notice{} }
 
-// ForgetEarlier deletes the work kept under EarlierKey, at the user's word.
+// ForgetEarlier deletes the history entry the notice offers, at the user's
+// word.
 func (p *Page) ForgetEarlier(ctx app.Context) {
 	if p.browser != nil {
-		p.browser.Save(EarlierKey, "")
+		p.hist().Remove(p.notice.Key)
 	}
 	p.notice = Notice{}
 }
@@ -226,7 +220,7 @@ func (p *Page) persist() {
 		return // too long for a link: the text stays in the editor only
 	}
 	if !p.mode.Embed {
-		p.browser.Save(WorkKey, frag)
+		_ = p.hist().Record(p.shareState(), frag) // storage refused: the state stays in the URL
 	}
 	p.browser.SetFragment(frag)
 }
@@ -317,6 +311,9 @@ func (p *Page) LoadState(ctx app.Context, src string, params map[string]engine.P
 		p.s.SetParam(name, o)
 	}
 	p.view = v
+	if p.browser != nil && !p.mode.Embed {
+		p.hist().Loaded()
+	}
 	p.check(ctx)
 }
 
@@ -366,7 +363,7 @@ func (p *Page) start(ctx app.Context) {
 	p.progress = false
 	analyse := p.analyse
 	if analyse == nil {
-		analyse = engine.Analyse
+		analyse = p.boundedAnalyse(ctx) // workbound.go
 	}
 	view := p.view
 	ctx.After(ProgressDelay, func(ctx app.Context) {
@@ -433,6 +430,7 @@ func (p *Page) Render() app.UI {
 					&Editor{Host: p, Initial: p.initial, Text: p.text, Checked: p.s.Source, Errors: p.s.Errors, Pending: p.pending}),
 				card("Parameters", "bc-h-params", &ParamPanel{Host: p, Params: ParamViews(&p.s), Stale: p.s.Model == nil}),
 				card("Examples", "bc-h-examples", &Gallery{Host: p, Current: p.example}),
+				p.historyCard(),
 			),
 			p.output("col-output").Body(
 				card("Diagnostics", "bc-h-diag", p.diagnostics(stale)),

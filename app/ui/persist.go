@@ -2,20 +2,12 @@ package ui
 
 import (
 	"errors"
+	"time"
 
 	"bellcheck/app/jsdom"
 	"bellcheck/app/share"
 	"bellcheck/engine"
 	"bellcheck/engine/model"
-)
-
-// Keys of the page's local storage. Both hold share fragments.
-const (
-	// WorkKey holds the state being edited, saved on every change.
-	WorkKey = "bellcheck.work"
-	// EarlierKey holds the work a shared link displaced, so opening a link
-	// never silently replaces unsaved work.
-	EarlierKey = "bellcheck.earlier"
 )
 
 // Browser is where the page keeps its state between visits: the URL's
@@ -25,7 +17,15 @@ type Browser interface {
 	Fragment() string
 	SetFragment(fragment string)
 	Load(key string) (string, bool)
-	Save(key, value string)
+	// Save writes a key; it fails when the storage is full or blocked.
+	Save(key, value string) error
+	// Keys lists the storage's keys.
+	Keys() []string
+	// Remove deletes a key.
+	Remove(key string)
+	// TabID returns the tab's identity, kept across reloads of the tab
+	// (session storage) and new in every other tab.
+	TabID() string
 }
 
 // realBrowser reaches the browser through jsdom; failures (storage blocked
@@ -47,7 +47,26 @@ func (realBrowser) Load(key string) (string, bool) {
 	return v, ok && err == nil
 }
 
-func (realBrowser) Save(key, value string) { _ = jsdom.SaveItem(key, value) }
+func (realBrowser) Save(key, value string) error { return jsdom.SaveItem(key, value) }
+
+func (realBrowser) Keys() []string {
+	k, _ := jsdom.StorageKeys()
+	return k
+}
+
+func (realBrowser) Remove(key string) { _ = jsdom.RemoveItem(key) }
+
+// tabKey is the session-storage key of the tab's identity.
+const tabKey = "bellcheck.tab"
+
+func (realBrowser) TabID() string {
+	if id, ok, err := jsdom.LoadSessionItem(tabKey); err == nil && ok && id != "" {
+		return id
+	}
+	id := newEntryID()
+	_ = jsdom.SaveSessionItem(tabKey, id)
+	return id
+}
 
 // Notice is a plain message above the results, with at most one offer.
 type Notice struct {
@@ -55,8 +74,9 @@ type Notice struct {
 	// Action labels a button that loads Offer; "" for none.
 	Action string
 	Offer  *share.State
-	// Forget offers to delete the kept earlier work.
+	// Forget offers to delete the offered history entry, Key.
 	Forget bool
+	Key    string
 	// Warn marks a problem (a link that could not be opened).
 	Warn bool
 }
@@ -83,13 +103,15 @@ func toShare(src string, m *model.Model, params func(string) engine.ParamOptions
 
 // fromShare returns a link's state as the page keeps it: options by
 // parameter name (dropped if the text has errors, since they cannot be
-// named then).
+// named then; an option the engine would refuse is set back to its
+// default, see LinkProblems).
 func fromShare(st share.State) (src string, params map[string]engine.ParamOptions, v View) {
 	params = map[string]engine.ParamOptions{}
 	if m, err := model.Parse(st.Model); err == nil {
+		usable := usableOptions(m, st.Params)
 		for i, p := range m.Params {
-			if i < len(st.Params) {
-				params[p.Name] = st.Params[i]
+			if i < len(usable) {
+				params[p.Name] = usable[i]
 			}
 		}
 	}
@@ -97,55 +119,59 @@ func fromShare(st share.State) (src string, params map[string]engine.ParamOption
 }
 
 // Opening decides what the page opens with, from the URL's fragment and the
-// work saved in the browser, and never drops work silently:
+// models kept in the history, and never drops work silently (opening a link
+// writes nothing: the user's models stay in the history until they change
+// the link's model):
 //
-//   - a valid link is opened; the saved work it displaces is kept under
-//     EarlierKey and offered back;
-//   - a broken link gives a plain notice and the default example; the saved
-//     work is kept under EarlierKey and offered;
-//   - without a link the saved work comes back, and work kept earlier under
-//     EarlierKey is offered (or forgotten, at the user's word).
+//   - a valid link is opened; when it is not one of the kept models, the
+//     newest kept model is offered back;
+//   - a broken link gives a plain notice and the default example; the
+//     newest kept model is offered;
+//   - without a link the newest kept model comes back.
 //
-// ok is false when the default example should be shown.
+// The single slots of earlier versions of the page move into the history
+// first. ok is false when the default example should be shown.
 func Opening(b Browser) (st share.State, ok bool, n Notice) {
-	load := func(key string) (*share.State, string) {
-		raw, found := b.Load(key)
-		if !found || raw == "" {
-			return nil, ""
-		}
-		s, err := share.Decode(raw)
-		if err != nil {
-			return nil, ""
-		}
-		return &s, raw
+	importLegacy(b, time.Now())
+	kept := dedupe(readEntries(b))
+	var newest *share.State
+	if len(kept) > 0 {
+		newest = &kept[0].State
 	}
-	saved, savedRaw := load(WorkKey)
 	frag := b.Fragment()
 	if frag != "" {
 		link, err := share.Decode(frag)
 		if err != nil {
 			n = Notice{Text: "The link could not be opened: " + linkProblem(err) + " The default example is shown instead.", Warn: true}
-			if saved != nil {
-				b.Save(EarlierKey, savedRaw)
-				n.Action, n.Offer = "Open the model you were editing", saved
+			if newest != nil {
+				n.Action, n.Offer = "Open the model you were editing", newest
 			}
 			return share.State{}, false, n
 		}
-		if saved != nil && saved.Model != link.Model {
-			b.Save(EarlierKey, savedRaw)
-			n = Notice{Text: "Opened the shared model. The model you were editing before is kept.",
-				Action: "Back to my model", Offer: saved}
+		if newest != nil && !keptWork(kept, link) {
+			n = Notice{Text: "Opened the shared model. Your own models are kept under \u201cYour models\u201d.",
+				Action: "Back to my model", Offer: newest}
+		}
+		if problems := LinkProblems(link); len(problems) > 0 {
+			n = linkNotice(n, problems)
 		}
 		return link, true, n
 	}
-	earlier, _ := load(EarlierKey)
-	if saved != nil {
-		st, ok = *saved, true
-	}
-	if earlier != nil && (saved == nil || earlier.Model != saved.Model) {
-		n = Notice{Text: "Another model you worked on is kept in this browser.", Action: "Open it", Offer: earlier, Forget: true}
+	if newest != nil {
+		st, ok = *newest, true
 	}
 	return st, ok, n
+}
+
+// keptWork reports whether st's work is one of the kept entries.
+func keptWork(kept []Entry, st share.State) bool {
+	w := workOf(st)
+	for _, e := range kept {
+		if workOf(e.State) == w {
+			return true
+		}
+	}
+	return false
 }
 
 // linkProblem says in words what is wrong with a link.

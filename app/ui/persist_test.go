@@ -2,8 +2,11 @@ package ui
 
 import (
 	"context"
+	"errors"
+	"sort"
 	"strings"
 	"testing"
+	"time"
 
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
 
@@ -13,19 +16,62 @@ import (
 	"bellcheck/engine/model"
 )
 
-// memBrowser is a Browser kept in memory.
+// memBrowser is a Browser kept in memory; quota, when positive, bounds the
+// total length of the stored values (Save fails beyond, as a full storage
+// does).
 type memBrowser struct {
 	frag  string
 	items map[string]string
+	quota int
+	tab   string
 }
 
 func (b *memBrowser) Fragment() string             { return b.frag }
 func (b *memBrowser) SetFragment(f string)         { b.frag = f }
 func (b *memBrowser) Load(k string) (string, bool) { v, ok := b.items[k]; return v, ok }
-func (b *memBrowser) Save(k, v string)             { b.items[k] = v }
-func newMemBrowser(frag string) *memBrowser {
-	return &memBrowser{frag: frag, items: map[string]string{}}
+func (b *memBrowser) Save(k, v string) error {
+	if b.quota > 0 {
+		used := len(v)
+		for key, old := range b.items {
+			if key != k {
+				used += len(old)
+			}
+		}
+		if used > b.quota {
+			return errors.New("quota exceeded")
+		}
+	}
+	b.items[k] = v
+	return nil
 }
+func (b *memBrowser) Remove(k string) { delete(b.items, k) }
+func (b *memBrowser) TabID() string   { return b.tab }
+
+// otherTab returns another tab over the same storage, at the same address.
+func (b *memBrowser) otherTab(name string) *memBrowser {
+	return &memBrowser{frag: b.frag, items: b.items, quota: b.quota, tab: name}
+}
+func (b *memBrowser) Keys() []string {
+	var out []string
+	for k := range b.items {
+		out = append(out, k)
+	}
+	sort.Strings(out)
+	return out
+}
+func newMemBrowser(frag string) *memBrowser {
+	return &memBrowser{frag: frag, items: map[string]string{}, tab: "first"}
+}
+
+// kept returns the models of b's history, newest first.
+func kept(b Browser) []string {
+	var out []string
+	for _, e := range dedupe(readEntries(b)) {
+		out = append(out, e.State.Model)
+	}
+	return out
+}
+
 func analyseFixture(ctx context.Context, m *model.Model, o engine.Options, pr engine.ProgressFunc) (*engine.Result, error) {
 	return resultFor(m), nil
 }
@@ -52,53 +98,194 @@ func link(t *testing.T, src string) string {
 func TestWorkSurvivesAReload(t *testing.T) {
 	b := newMemBrowser("")
 	h, e := openWith(t, b)
+	if len(kept(b)) != 0 {
+		t.Fatalf("the default example, untouched, is not the user's work: %q", kept(b))
+	}
 	h.page.Input(h.ctx, srcA)
 	e.ConsumeAll()
 	h.page.SetParam(h.ctx, "alpha", engine.ParamOptions{Points: 99})
 	e.ConsumeAll()
-	if b.frag == "" || b.items[WorkKey] != b.frag {
-		t.Fatal("the state is not in the URL and the storage")
+	if b.frag == "" || len(kept(b)) != 1 || kept(b)[0] != srcA {
+		t.Fatalf("the state is not in the URL and the history: %q", kept(b))
 	}
 	b.frag = "" // a reload of the bare address
-	h2, _ := openWith(t, b)
+	h2, e2 := openWith(t, b)
 	if h2.page.text != srcA || h2.page.s.Param("alpha").Points != 99 {
 		t.Errorf("after a reload: text %q, options %+v", h2.page.text, h2.page.s.Param("alpha"))
 	}
 	if h2.page.notice.Text != "" {
 		t.Errorf("a plain restore needs no notice: %q", h2.page.notice.Text)
 	}
+	// Editing after the reload continues the same entry.
+	h2.page.Input(h2.ctx, srcA+"# more\n")
+	e2.ConsumeAll()
+	if got := kept(b); len(got) != 1 || got[0] != srcA+"# more\n" {
+		t.Errorf("after editing the restored model the history holds %q", got)
+	}
 }
 
-func TestLinkNeverSilentlyReplacesWork(t *testing.T) {
-	b := newMemBrowser(link(t, srcB))
-	b.items[WorkKey] = link(t, srcA) // unsaved work from before
+// TestTwoLinksKeepTypedWork: type a model, open link A, open link B,
+// reload: the typed model is still kept and offered (one earlier slot
+// used to be overwritten by the second link).
+func TestTwoLinksKeepTypedWork(t *testing.T) {
+	b := newMemBrowser("")
 	h, e := openWith(t, b)
 	p := h.page
-	if p.text != srcB {
-		t.Fatalf("the link was not opened: %q", p.text)
-	}
-	if p.notice.Offer == nil || p.notice.Offer.Model != srcA || b.items[EarlierKey] == "" {
-		t.Fatalf("the displaced work is not kept and offered: %+v", p.notice)
-	}
-	p.TakeOffer(h.ctx)
+	p.Input(h.ctx, srcA)
 	e.ConsumeAll()
-	if p.text != srcA || p.notice.Offer == nil || p.notice.Offer.Model != srcB {
-		t.Errorf("taking the offer: text %q, offer %+v", p.text, p.notice.Offer)
+	for _, src := range []string{srcB, srcB + "# second link\n"} {
+		b.frag = link(t, src)
+		p.OpenLink(h.ctx)
+		e.ConsumeAll()
+		if p.text != src {
+			t.Fatalf("the link was not opened: %q", p.text)
+		}
 	}
-	if kept, _ := share.Decode(b.items[EarlierKey]); kept.Model != srcB {
-		t.Errorf("the shared model is not kept after switching: %q", kept.Model)
+	if got := kept(b); len(got) != 1 || got[0] != srcA {
+		t.Fatalf("after two links the history holds %q, want only the typed model", got)
 	}
-	// A later visit without a link offers the other model, until forgotten.
-	b.frag = ""
+	// A run of broken links changes nothing either.
+	for _, f := range []string{"b1.AAAA", "nonsense"} {
+		b.frag = f
+		p.OpenLink(h.ctx)
+		e.ConsumeAll()
+	}
+	b.frag = link(t, srcB+"# second link\n") // the reload
 	h2, _ := openWith(t, b)
-	if h2.page.notice.Offer == nil || !h2.page.notice.Forget {
-		t.Fatalf("the kept model is not offered: %+v", h2.page.notice)
+	p2 := h2.page
+	if p2.text != srcB+"# second link\n" {
+		t.Fatalf("the reload did not open the link: %q", p2.text)
 	}
-	h2.page.ForgetEarlier(h2.ctx)
+	if p2.notice.Offer == nil || p2.notice.Offer.Model != srcA {
+		t.Fatalf("the typed model is not offered back: %+v", p2.notice)
+	}
+	if !strings.Contains(app.HTMLString(p2.Render()), "param alpha") {
+		t.Error("the history card does not list the typed model")
+	}
+	p2.TakeOffer(h2.ctx)
+	if p2.text != srcA {
+		t.Errorf("taking the offer: text %q", p2.text)
+	}
+}
+
+// TestTwoTabsKeepBoth: two tabs over one storage, editing in turn; then two
+// tabs that resumed the same model: neither tab's work is lost.
+func TestTwoTabsKeepBoth(t *testing.T) {
+	b := newMemBrowser("")
+	h1, e1 := openWith(t, b)
+	h2, e2 := openWith(t, b.otherTab("second"))
+	h1.page.Input(h1.ctx, srcA)
+	e1.ConsumeAll()
+	h2.page.Input(h2.ctx, srcB)
+	e2.ConsumeAll()
+	h1.page.Input(h1.ctx, srcA+"# tab 1\n")
+	e1.ConsumeAll()
+	got := kept(b)
+	sort.Strings(got)
+	if len(got) != 2 || got[0] != srcA+"# tab 1\n" || got[1] != srcB {
+		t.Fatalf("two tabs: the history holds %q", got)
+	}
+	// A third tab opens the bare address: it shows the newest model (the
+	// first tab's) and edits it first; then the first tab is reloaded
+	// (same tab, so it continues its entry) and edits too.
 	b.frag = ""
-	h3, _ := openWith(t, b)
-	if h3.page.notice.Text != "" {
-		t.Errorf("forgotten work offered again: %+v", h3.page.notice)
+	h3, e3 := openWith(t, b.otherTab("third"))
+	if h3.page.text != srcA+"# tab 1\n" || h3.page.hist().Current() != "" {
+		t.Fatalf("a new tab shows %q and writes %q", h3.page.text, h3.page.hist().Current())
+	}
+	b.frag = link(t, srcA+"# tab 1\n")
+	h4, e4 := openWith(t, b)
+	if h4.page.hist().Current() == "" {
+		t.Fatal("the reloaded tab does not continue its entry")
+	}
+	h3.page.Input(h3.ctx, srcA+"# tab 3\n")
+	e3.ConsumeAll()
+	h4.page.Input(h4.ctx, srcA+"# tab 4\n")
+	e4.ConsumeAll()
+	got = kept(b)
+	sort.Strings(got)
+	want := []string{srcA + "# tab 3\n", srcA + "# tab 4\n", srcB}
+	if strings.Join(got, "|") != strings.Join(want, "|") {
+		t.Errorf("a new tab and a reloaded one: the history holds %q, want %q", got, want)
+	}
+	// A duplicated tab has the same identity: both continue one entry, and
+	// the second writer finds it changed and starts its own.
+	b.frag = link(t, srcB)
+	d1, f1 := openWith(t, b.otherTab("second"))
+	d2, f2 := openWith(t, b.otherTab("second"))
+	if d1.page.hist().Current() == "" || d1.page.hist().Current() != d2.page.hist().Current() {
+		t.Fatalf("duplicated tabs: entries %q and %q", d1.page.hist().Current(), d2.page.hist().Current())
+	}
+	d1.page.Input(d1.ctx, srcB+"# dup 1\n")
+	f1.ConsumeAll()
+	d2.page.Input(d2.ctx, srcB+"# dup 2\n")
+	f2.ConsumeAll()
+	got = kept(b)
+	if !contains(got, srcB+"# dup 1\n") || !contains(got, srcB+"# dup 2\n") {
+		t.Errorf("duplicated tabs: the history holds %q", got)
+	}
+}
+
+func contains(list []string, s string) bool {
+	for _, x := range list {
+		if x == s {
+			return true
+		}
+	}
+	return false
+}
+
+func TestHistoryBoundedAndQuota(t *testing.T) {
+	b := newMemBrowser("")
+	clock := time.Unix(1e9, 0)
+	hist := NewHistory(b)
+	hist.Now = func() time.Time { clock = clock.Add(time.Second); return clock }
+	rec := func(src string) {
+		t.Helper()
+		st := share.State{Model: src}
+		if err := hist.Record(st, link(t, src)); err != nil {
+			t.Fatal(err)
+		}
+	}
+	rec(srcA) // the state opened with: not recorded
+	for i := range MaxHistory + 5 {
+		hist.Loaded()
+		rec(srcA)
+		rec(srcA + strings.Repeat("# x\n", i+1))
+	}
+	got := kept(b)
+	if len(got) != MaxHistory || !strings.HasSuffix(got[0], strings.Repeat("# x\n", MaxHistory+5)) {
+		t.Fatalf("kept %d entries (newest %q), want the newest %d", len(got), got[0], MaxHistory)
+	}
+	// A full storage: the oldest entries make room for the new one.
+	used := 0
+	for _, v := range b.items {
+		used += len(v)
+	}
+	b.quota = used
+	hist.Loaded()
+	rec(srcB)
+	rec(srcB + "# new\n")
+	if got := kept(b); got[0] != srcB+"# new\n" || len(got) >= MaxHistory+1 {
+		t.Errorf("with a full storage: %d entries, newest %q", len(got), got[0])
+	}
+}
+
+func TestLegacySlotsMoveIntoHistory(t *testing.T) {
+	b := newMemBrowser("")
+	b.items[WorkKey] = link(t, srcA)
+	b.items[EarlierKey] = link(t, srcB)
+	h, _ := openWith(t, b)
+	if h.page.text != srcA {
+		t.Errorf("the old saved work is not restored: %q", h.page.text)
+	}
+	got := kept(b)
+	sort.Strings(got)
+	if len(got) != 2 || got[0] != srcA || got[1] != srcB {
+		t.Errorf("the old slots are not in the history: %q", got)
+	}
+	if _, ok := b.items[WorkKey]; ok {
+		t.Error("the old work slot stays behind")
 	}
 }
 
@@ -114,7 +301,7 @@ func TestBrokenAndHostileLinks(t *testing.T) {
 		{"huge", "b1." + strings.Repeat("A", share.MaxFragment), "too long"},
 	} {
 		b := newMemBrowser(c.frag)
-		b.items[WorkKey] = link(t, srcA)
+		b.items[WorkKey] = link(t, srcA) // an earlier version's slot
 		h, _ := openWith(t, b)
 		p := h.page
 		if !p.notice.Warn || !strings.Contains(p.notice.Text, c.says) {

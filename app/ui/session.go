@@ -193,7 +193,7 @@ func (s *Session) Options() engine.Options {
 			po.Scale = ""
 		}
 		if po.Points != 0 {
-			po.Points = max(MinPoints, min(po.Points, MaxPoints))
+			po.Points = max(MinPoints, min(po.Points, MaxPoints, engine.MaxAxisPoints(len(s.Model.Params))))
 		}
 		po.Lo = clipBound(po.Lo, p.Lo, p.Hi)
 		po.Hi = clipBound(po.Hi, p.Lo, p.Hi)
@@ -205,7 +205,8 @@ func (s *Session) Options() engine.Options {
 	return o
 }
 
-// Limits on the grid points a parameter may ask for in the page.
+// Limits on the grid points a parameter may ask for in the page (and at
+// most engine.MaxAxisPoints for the model's number of parameters).
 const (
 	MinPoints = 8
 	MaxPoints = 2001

@@ -270,12 +270,12 @@ func Table(r *engine.Result, m *model.Model) []Section {
 		func(f *engine.Fit) float64 { return f.Coverage95 }, fmtPercent, func(v float64) float64 { return math.Abs(v - 0.95) })
 	run := Row{Label: "optimiser", Hint: "How the fit's optimiser ended: the Newton polish of the mode (Laplace) or the fixed-point iteration (reverse-KL fits), with its steps and final residual. Moment matching needs no optimiser."}
 	run.Cells[plot.Exact] = Cell{Absent: "reference"}
-	for _, meth := range plot.Fits {
-		f := fitOf(r, meth)
+	for _, fm := range engine.Methods {
+		meth, f := plot.CurveOf(fm), r.Fits[fm]
 		switch {
 		case f == nil:
 			run.Cells[meth] = Cell{Text: "—", Absent: absentFit}
-		case meth == plot.ForwardKL:
+		case !fm.Iterative():
 			run.Cells[meth] = Cell{Text: "—", Absent: "moment matching needs no optimiser"}
 		case f.Converged:
 			run.Cells[meth] = Cell{Text: "converged", Sub: strconv.Itoa(f.Iterations) + " steps"}

@@ -20,6 +20,10 @@ type node struct {
 	val   float64 // the constant scalar
 	vec   []float64
 	elems []int32 // opPack: one scalar node per element
+	// unrolled marks a pack whose elements come from unrolling (a block's
+	// states, indexing): operations on it are built element by element, so
+	// the model stays scalar and evaluates on the block tape.
+	unrolled bool
 }
 
 func (nd *node) vector() bool { return nd.n > 0 }
@@ -64,6 +68,9 @@ func (b *builder) add(nd node, hashed bool) int32 {
 		}
 	}
 	id := int32(len(b.nodes))
+	if id >= maxNodes {
+		return b.tooLarge()
+	}
 	b.nodes = append(b.nodes, nd)
 	if hashed {
 		b.memo[kk] = id
@@ -126,6 +133,9 @@ func (b *builder) un(op opcode, a int32, k float64) int32 {
 		return a
 	}
 	x := b.nd(a)
+	if x.unrolled {
+		return b.unrolledUn(op, a, k)
+	}
 	if x.cst {
 		f := ops[op].value
 		if !x.vector() {
@@ -254,6 +264,9 @@ func (b *builder) bin(op opcode, x, y int32, k float64) int32 {
 	if nx.vector() && ny.vector() && nx.n != ny.n {
 		return b.fail(ErrShape, "vector lengths differ in %s: %d and %d elements", ops[op].name, nx.n, ny.n)
 	}
+	if nx.unrolled || ny.unrolled {
+		return b.unrolledBin(op, x, y, k)
+	}
 	if nx.cst && ny.cst {
 		f := ops[op].value
 		if n == 0 {
@@ -373,6 +386,9 @@ func (b *builder) sum(v int32) int32 {
 	if !x.vector() {
 		return v
 	}
+	if x.unrolled {
+		return b.unrolledReduce(opSum, v)
+	}
 	if s, ok := b.sums[v]; ok {
 		return s
 	}
@@ -462,6 +478,9 @@ func (b *builder) sum1(v int32) int32 {
 
 // reduce builds a reduction node of a vector.
 func (b *builder) reduce(op opcode, v int32) int32 {
+	if b.nd(v).unrolled {
+		return b.unrolledReduce(op, v)
+	}
 	return b.add(node{op: op, a: v, b: -1}, true)
 }
 

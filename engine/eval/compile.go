@@ -19,7 +19,8 @@ func Compile(m *model.Model) (*Evaluator, error) {
 	if dim < 1 || dim > model.MaxParams {
 		return nil, &Error{Msg: "a model needs 1 to 4 parameters", Err: ErrTooManyParams}
 	}
-	c := &compiler{m: m, b: newBuilder(), defs: make([]int32, len(m.Defs)), state: make([]uint8, len(m.Defs))}
+	c := &compiler{m: m, b: newBuilder(), defs: make([]int32, len(m.Defs)), state: make([]uint8, len(m.Defs)),
+		blocks: map[*model.BlockStmt][]int32{}}
 	root := c.expr(m.Density)
 	b := c.b
 	if b.err == nil && b.nd(root).vector() {
@@ -60,6 +61,11 @@ type compiler struct {
 	b     *builder
 	defs  []int32 // node of each definition once built
 	state []uint8 // 0 not built, 1 building, 2 built
+	// frame holds the nodes of the local names (model.LocalRef) of the
+	// function body or block being expanded.
+	frame  []int32
+	blocks map[*model.BlockStmt][]int32 // each block's components, once unrolled
+	depth  int                          // nesting of function expansions
 }
 
 func (c *compiler) expr(e model.Expr) int32 {
@@ -83,6 +89,11 @@ func (c *compiler) expr(e model.Expr) int32 {
 			return b.param(e.Index)
 		case model.DefRef:
 			return c.def(e)
+		case model.LocalRef:
+			if e.Index < 0 || e.Index >= len(c.frame) {
+				return b.fail(ErrNotChecked, "local name %s has no slot", e.Name)
+			}
+			return c.frame[e.Index]
 		}
 		return b.fail(ErrNotChecked, "name %s is not resolved", e.Name)
 	case *model.Unary:
@@ -112,7 +123,12 @@ func (c *compiler) expr(e model.Expr) int32 {
 			return b.bin(opPow, x, y, 0)
 		}
 		return b.fail(ErrNotChecked, "unknown operator %q", e.Op)
+	case *model.Index:
+		return c.index(e)
 	case *model.Call:
+		if e.User != nil {
+			return c.userCall(e)
+		}
 		info, known := model.Funcs[e.Name]
 		impl, ok := impls[e.Name]
 		if !known || !ok {
@@ -166,7 +182,15 @@ func (c *compiler) def(e *model.Ident) int32 {
 		return b.fail(ErrNotChecked, "definition %s refers to itself", e.Name)
 	}
 	c.state[i] = 1
-	v := c.expr(c.m.Defs[i].Value)
+	frame := c.frame
+	c.frame = nil // a definition sees no local names
+	var v int32
+	if d := c.m.Defs[i]; d.Block != nil {
+		v = c.component(d)
+	} else {
+		v = c.expr(d.Value)
+	}
+	c.frame = frame
 	c.state[i] = 2
 	c.defs[i] = v
 	return v

@@ -21,6 +21,8 @@ var (
 	ErrShape = errors.New("shape mismatch")
 	// ErrTooManyParams: more than model.MaxParams parameters, or none.
 	ErrTooManyParams = errors.New("unsupported number of parameters")
+	// ErrTooLarge: the unrolled model has more operations than the limit.
+	ErrTooLarge = errors.New("model too large once unrolled")
 )
 
 // Error is a compile error at a position of the model text.

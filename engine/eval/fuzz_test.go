@@ -25,6 +25,11 @@ func FuzzCompile(f *testing.F) {
 		"v = [1, 2, 3]\nparam a\nsum(ld_gamma(v, a, 2)) + logsumexp(a*v) - max(v*a)",
 		"param a in [0, 1]\nparam b\nld_beta(a, 2, 3) + ld_student(b, 3, a, 1) + ld_binomial(3, 10, a)",
 		"param x\ncost x^x + 2^x + x^-3 + x^0.5 + lgamma(x) + digamma(x)",
+		"y = [1, 2, 3, 4]\nidx = [1, 3]\nsq(u) = u^2\nsum(sq(y[idx] - a)) + y[2]*b + sum(y[2:4])*a + (a*y)[3]",
+		"u = [1, 0, 1]\nrepeat 3 as k\n  f = u[k]*b\n  x = a then x*0.9 + f\n  y = 0 then y + x*k\nend\nsum(ld_normal(u, x, 1)) + max(y) + logsumexp(x) - min(x)",
+		"tt = [0.5, 1]\node tt from 0 substeps 4 as t\n  s = x + y\n  x = a rate -b*s + sin(t)\n  y = 0 rate s\nend\nsum(x*y) + mean(x^2)",
+		"t = [0.1, 0.2]\nparam x0\nparam y0\nparam z0\node t from 0 substeps 2\n  x = x0 rate 10*(y - x)\n  y = y0 rate x*(28 - z) - y\n  z = z0 rate x*y - 8/3*z\nend\nxo = [1, 2]\ncost sum((x - xo)^2) + x0^2 + y0^2 + z0^2",
+		"k = [1, 2]\nn = [3, 3]\nrepeat 2\n  e = a then e + b\nend\nsum(ld_binomial(k, n, logistic(e))) + ld_binomial(k, n, logistic(e))[2]",
 	} {
 		f.Add(src)
 	}

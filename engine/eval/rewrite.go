@@ -139,7 +139,7 @@ func (b *builder) provablyPasses(op opcode, t int32, k float64, strictOK bool) b
 // constant, else the rewritten sum of two log1pexp terms.
 func (b *builder) binomLogitNode(eta, p, k, nk int32) int32 {
 	ne, nkk, nnk := b.nd(eta), b.nd(k), b.nd(nk)
-	if ne.vector() && !ne.cst && nkk.cst && nnk.cst {
+	if ne.vector() && !ne.cst && !ne.unrolled && nkk.cst && nnk.cst {
 		n := ne.n
 		kv, nkv := b.constVec(k, n), b.constVec(nk, n)
 		return b.add(node{op: opBinomLogit, a: eta, b: kv, elems: []int32{nkv}, n: n}, false)

@@ -51,6 +51,9 @@ const (
 	ParamRef
 	// DefRef refers to a definition, Model.Defs[Index].
 	DefRef
+	// LocalRef refers to slot Index of the innermost frame: an argument of
+	// the function being expanded, or a name of the block being stepped.
+	LocalRef
 )
 
 // Unary is a prefix operator: '-' or '+'.
@@ -72,6 +75,7 @@ type Call struct {
 	At   Pos // position of the function name
 	Name string
 	Args []Expr
+	User *FuncStmt // filled in by Check for a function defined in the model
 }
 
 // Vector is a vector literal [e1, e2, ...].
@@ -150,6 +154,10 @@ type Def struct {
 	// DependsOnParams is true when the value varies with the parameters.
 	DependsOnParams bool
 	At              Pos
+	// Block is set for a state component of a block (Value is then nil):
+	// component number Comp among the block's components.
+	Block *BlockStmt
+	Comp  int
 }
 
 // Form says how the model gave its density.
@@ -180,6 +188,8 @@ type Model struct {
 	Form    Form
 	// Shapes holds the checked shape of every expression node.
 	Shapes map[Expr]Shape
+	// UserFuncs lists the functions defined in the model, in order.
+	UserFuncs []*FuncStmt
 }
 
 // Limits of the model language.
@@ -188,4 +198,7 @@ const (
 	MaxSource    = 64 << 10 // bytes of model text
 	MaxDepth     = 200      // nesting depth of expressions
 	MaxVectorLen = 100000   // elements of a vector
+	// MaxUnrolled bounds the operations of the model once its functions are
+	// expanded and its blocks unrolled step by step.
+	MaxUnrolled = 300000
 )

@@ -29,6 +29,23 @@ type checker struct {
 
 	constVal  map[int]float64 // constant value of definitions, by index
 	constDone map[int]bool    // constVal computed (true) or found not constant
+
+	// Functions and blocks (check_dyn.go, check_block.go).
+	funcAt       map[string]Pos // every (first) function definition
+	funcs        map[string]int // functions defined so far -> index in m.UserFuncs
+	badFuncs     map[string]bool
+	bodies       map[bodyKey]bodyResult
+	expanding    map[*FuncStmt]bool
+	scope        *scope // the frame of a function body or block being checked
+	visibleDefs  int    // definitions a function body may use; -1 for all
+	visibleFuncs int    // functions a function body may call; -1 for all
+	blockComps   map[string]Pos
+	blockSteps   int // steps of the repeat block being checked, for its indices
+	staticDefs   map[int]staticResult
+	unrolled     int
+	overUnrolled bool
+	stepChecks   int
+	fromBlock    map[int]bool // definitions computed from a block's states
 }
 
 // check checks the parsed statements of m and fills in the rest of it. end
@@ -44,6 +61,16 @@ func check(m *Model, end Pos, errs *errorSink, lim limits) {
 		skip:      map[Stmt]bool{},
 		constVal:  map[int]float64{},
 		constDone: map[int]bool{},
+
+		funcAt:       map[string]Pos{},
+		funcs:        map[string]int{},
+		badFuncs:     map[string]bool{},
+		bodies:       map[bodyKey]bodyResult{},
+		expanding:    map[*FuncStmt]bool{},
+		visibleDefs:  -1,
+		visibleFuncs: -1,
+		staticDefs:   map[int]staticResult{},
+		fromBlock:    map[int]bool{},
 	}
 	c.declare()
 	var density *DensityStmt
@@ -59,6 +86,15 @@ func check(m *Model, end Pos, errs *errorSink, lim limits) {
 			c.paramBounds(s)
 		case *DefineStmt:
 			c.define(s)
+			work, touches := c.unrolledWork(s.Value)
+			if idx, ok := c.defs[s.Name]; ok && touches {
+				c.fromBlock[idx] = true
+			}
+			c.addUnrolled(c.opsSize(s.Value)+work, s.At, "this definition")
+		case *FuncStmt:
+			c.funcDef(s)
+		case *BlockStmt:
+			c.block(s)
 		case *DensityStmt:
 			if density != nil {
 				c.errs.add(s.At, "a model has one density expression: add its terms with +, and name other quantities with NAME = EXPR",
@@ -67,8 +103,11 @@ func check(m *Model, end Pos, errs *errorSink, lim limits) {
 			}
 			density = s
 			c.density(s)
+			work, _ := c.unrolledWork(s.Value)
+			c.addUnrolled(c.opsSize(s.Value)+work, s.At, "the density")
 		}
 	}
+	c.lookalikes() // confusable.go
 	if density == nil {
 		c.errs.add(end, "write the log-density as an expression on a line of its own, or cost EXPR for its negative",
 			"the model has no density statement")
@@ -85,9 +124,14 @@ func check(m *Model, end Pos, errs *errorSink, lim limits) {
 // names declared or defined twice or that cannot be used.
 func (c *checker) declare() {
 	for _, st := range c.m.Stmts {
-		if s, ok := st.(*DefineStmt); ok {
-			if _, dup := c.defAt[s.Name]; !dup && reservedName(s.Name) == "" {
-				c.defAt[s.Name] = s.At
+		for _, d := range definedNames(st) {
+			if _, dup := c.defAt[d.name]; !dup && reservedName(d.name) == "" {
+				c.defAt[d.name] = d.at
+			}
+		}
+		if s, ok := st.(*FuncStmt); ok {
+			if _, dup := c.funcAt[s.Name]; !dup {
+				c.funcAt[s.Name] = s.At
 			}
 		}
 	}
@@ -110,27 +154,75 @@ func (c *checker) declare() {
 			c.walkFree(s.Value)
 		case *DensityStmt:
 			c.walkFree(s.Value)
+		case *FuncStmt:
+			c.walkFree(s.Body)
+		case *BlockStmt:
+			for _, l := range s.Lines {
+				c.walkFree(l.Init)
+				c.walkFree(l.Rule)
+			}
 		}
 	}
 	for _, st := range c.m.Stmts {
-		s, ok := st.(*DefineStmt)
-		if !ok {
-			continue
+		for _, d := range definedNames(st) {
+			switch {
+			case reservedName(d.name) != "":
+				c.errs.add(d.at, "", "cannot define %s: it is %s", d.name, reservedName(d.name))
+				c.skip[st] = true
+			case c.declAt[d.name] != (Pos{}):
+				c.errs.add(d.at, "give the parameter and the defined quantity different names",
+					"%s is declared as a parameter at line %d; it cannot also be defined", d.name, c.declAt[d.name].Line)
+				c.skip[st] = true
+			case c.defAt[d.name] == dataPos && d.at != dataPos:
+				c.errs.add(d.at, "rename the column in the data or the quantity in the model",
+					"%s is a column of the attached data; it cannot also be defined", d.name)
+				c.skip[st] = true
+			case c.defAt[d.name] != d.at:
+				c.errs.add(d.at, "give the new quantity a name of its own",
+					"%s is already defined at line %d", d.name, c.defAt[d.name].Line)
+				c.skip[st] = true
+			}
 		}
-		switch {
-		case reservedName(s.Name) != "":
-			c.errs.add(s.At, "", "cannot define %s: it is %s", s.Name, reservedName(s.Name))
-			c.skip[s] = true
-		case c.declAt[s.Name] != (Pos{}):
-			c.errs.add(s.At, "give the parameter and the defined quantity different names",
-				"%s is declared as a parameter at line %d; it cannot also be defined", s.Name, c.declAt[s.Name].Line)
-			c.skip[s] = true
-		case c.defAt[s.Name] != s.At:
-			c.errs.add(s.At, "give the new quantity a name of its own",
-				"%s is already defined at line %d", s.Name, c.defAt[s.Name].Line)
-			c.skip[s] = true
+		if s, ok := st.(*FuncStmt); ok {
+			switch {
+			case reservedName(s.Name) != "":
+				c.errs.add(s.At, "choose another name for the function", "cannot define %s: it is %s", s.Name, reservedName(s.Name))
+				c.skip[st] = true
+			case c.funcAt[s.Name] != s.At:
+				c.errs.add(s.At, "give the new function a name of its own", "function %s is already defined at line %d", s.Name, c.funcAt[s.Name].Line)
+				c.skip[st] = true
+			case c.defAt[s.Name] == dataPos:
+				c.errs.add(s.At, "rename the column in the data or the function in the model", "%s is a column of the attached data; it cannot also name a function", s.Name)
+				c.skip[st] = true
+			case c.defAt[s.Name] != (Pos{}) || c.declAt[s.Name] != (Pos{}):
+				c.errs.add(s.At, "give the function and the quantity different names", "%s names both a function and a quantity or parameter", s.Name)
+				c.skip[st] = true
+			}
 		}
 	}
+}
+
+type definedName struct {
+	name string
+	at   Pos
+}
+
+// definedNames lists the names a statement defines: a definition's name,
+// a block's state components.
+func definedNames(st Stmt) []definedName {
+	switch s := st.(type) {
+	case *DefineStmt:
+		return []definedName{{s.Name, s.At}}
+	case *BlockStmt:
+		var out []definedName
+		for _, l := range s.Lines {
+			if l.Component() {
+				out = append(out, definedName{l.Name, l.At})
+			}
+		}
+		return out
+	}
+	return nil
 }
 
 // reservedName says what a name that cannot be declared or defined is ("a
@@ -164,6 +256,11 @@ func (c *checker) walkFree(e Expr) {
 		for _, a := range e.Elems {
 			c.walkFree(a)
 		}
+	case *Index:
+		c.walkFree(e.X)
+		c.walkFree(e.I)
+		c.walkFree(e.Lo)
+		c.walkFree(e.Hi)
 	}
 }
 
@@ -226,161 +323,6 @@ func ordinal(n int) string {
 	return fmt.Sprintf("parameter number %d", n)
 }
 
-// paramBounds checks and evaluates a declared parameter's support.
-func (c *checker) paramBounds(s *ParamStmt) {
-	if s.Lo == nil {
-		return
-	}
-	idx := c.params[s.Name]
-	lo, okLo := c.bound(s.Lo, s.Name)
-	hi, okHi := c.bound(s.Hi, s.Name)
-	if !okLo || !okHi {
-		return
-	}
-	p := &c.m.Params[idx]
-	p.Lo, p.Hi = lo, hi
-	if !(lo < hi) {
-		c.errs.add(startPos(s.Lo), "the support is [LO, HI] with LO < HI; use -inf and inf for no bound",
-			"empty support for %s: the lower bound %s is not less than the upper bound %s", s.Name, fmtNum(lo), fmtNum(hi))
-	}
-}
-
-func fmtNum(v float64) string {
-	switch {
-	case math.IsInf(v, 1):
-		return "inf"
-	case math.IsInf(v, -1):
-		return "-inf"
-	}
-	return fmt.Sprintf("%g", v)
-}
-
-// bound checks one bound of parameter name: a constant scalar expression of
-// numbers, pi, inf, the operators and earlier constant definitions. It
-// returns the bound's value.
-func (c *checker) bound(e Expr, name string) (float64, bool) {
-	const allowed = "a bound may use numbers, pi, inf, + - * / ^ and earlier definitions made of those"
-	c.m.Shapes[e] = Shape{}
-	switch e := e.(type) {
-	case *Number:
-		return e.Value, true
-	case *Unary:
-		v, ok := c.bound(e.X, name)
-		if e.Op == '-' {
-			v = -v
-		}
-		return v, ok
-	case *Binary:
-		x, okX := c.bound(e.X, name)
-		y, okY := c.bound(e.Y, name)
-		if !okX || !okY {
-			return 0, false
-		}
-		v := arith(e.Op, x, y)
-		if math.IsNaN(v) {
-			c.errs.add(e.At, "", "the bound of %s is not a number: %s %c %s is undefined", name, fmtNum(x), e.Op, fmtNum(y))
-			return 0, false
-		}
-		return v, true
-	case *Call:
-		c.errs.add(e.At, allowed, "a bound cannot call a function (%s)", e.Name)
-		return 0, false
-	case *Vector:
-		c.errs.add(e.At, "a support is [LO, HI] with two scalar bounds", "a bound must be a scalar, not a vector")
-		return 0, false
-	case *Ident:
-		if idx, ok := c.params[e.Name]; ok {
-			e.Kind, e.Index = ParamRef, idx
-			c.errs.add(e.At, allowed, "a bound must be constant, but %s is a parameter", e.Name)
-			return 0, false
-		}
-		idx, ok := c.defs[e.Name]
-		if !ok {
-			c.unknownInBound(e, allowed)
-			return 0, false
-		}
-		e.Kind, e.Index = DefRef, idx
-		d := c.m.Defs[idx]
-		switch {
-		case !d.Shape.Scalar():
-			c.errs.add(e.At, "a support is [LO, HI] with two scalar bounds",
-				"a bound must be a scalar, but %s is a vector of %d elements", e.Name, d.Shape.Len)
-			return 0, false
-		case d.DependsOnParams:
-			c.errs.add(e.At, allowed, "a bound must be constant, but %s depends on the parameters", e.Name)
-			return 0, false
-		}
-		v, ok := c.constant(idx)
-		if !ok {
-			c.errs.add(e.At, allowed, "cannot use %s in a bound: it is not made of numbers and operators only", e.Name)
-		}
-		return v, ok
-	}
-	return 0, false
-}
-
-// unknownInBound reports a name in a bound that is not an earlier definition.
-func (c *checker) unknownInBound(e *Ident, allowed string) {
-	if at, later := c.defAt[e.Name]; later {
-		c.errs.add(e.At, fmt.Sprintf("move the definition of %s above this line", e.Name),
-			"%s is used before its definition at line %d", e.Name, at.Line)
-		return
-	}
-	if f, ok := Funcs[e.Name]; ok {
-		c.errs.add(e.At, allowed, "%s is a function; call it as %s(%s)", e.Name, e.Name, f.Args)
-		return
-	}
-	c.errs.add(e.At, allowed+"; a bound cannot depend on a parameter", "unknown name %s in the bound", e.Name)
-}
-
-func arith(op byte, x, y float64) float64 {
-	switch op {
-	case '+':
-		return x + y
-	case '-':
-		return x - y
-	case '*':
-		return x * y
-	case '/':
-		return x / y
-	}
-	return math.Pow(x, y)
-}
-
-// constant returns the value of definition idx when it is made of numbers,
-// operators and other such definitions only.
-func (c *checker) constant(idx int) (float64, bool) {
-	if done, ok := c.constDone[idx]; ok {
-		return c.constVal[idx], done
-	}
-	v, ok := c.constExpr(c.m.Defs[idx].Value)
-	c.constDone[idx] = ok
-	c.constVal[idx] = v
-	return v, ok
-}
-
-func (c *checker) constExpr(e Expr) (float64, bool) {
-	switch e := e.(type) {
-	case *Number:
-		return e.Value, true
-	case *Unary:
-		v, ok := c.constExpr(e.X)
-		if e.Op == '-' {
-			v = -v
-		}
-		return v, ok
-	case *Binary:
-		x, okX := c.constExpr(e.X)
-		y, okY := c.constExpr(e.Y)
-		return arith(e.Op, x, y), okX && okY
-	case *Ident:
-		if e.Kind == DefRef {
-			return c.constant(e.Index)
-		}
-	}
-	return 0, false
-}
-
 // define checks a definition and appends it to m.Defs.
 func (c *checker) define(s *DefineStmt) {
 	c.defining = s.Name
@@ -435,6 +377,8 @@ func (c *checker) expr1(e Expr, vecOK bool) (Shape, bool) {
 		return Shape{Len: max(sx.Len, sy.Len)}, dx || dy
 	case *Call:
 		return c.call(e)
+	case *Index:
+		return c.index(e)
 	case *Vector:
 		if !vecOK {
 			c.errs.add(e.At, "define it first, as in v = [1, 2, 3], and use v",
@@ -456,6 +400,19 @@ func (c *checker) expr1(e Expr, vecOK bool) (Shape, bool) {
 
 // ident resolves a name used in an expression.
 func (c *checker) ident(e *Ident) (Shape, bool) {
+	if shape, dep, ok := c.local(e); ok {
+		return shape, dep
+	}
+	if at, ok := c.blockComps[e.Name]; ok {
+		c.errs.add(e.At, "a starting value may use only names defined above the block",
+			"%s is a line of this block (line %d); it has no value before the first step", e.Name, at.Line)
+		return badShape, false
+	}
+	if idx, ok := c.defs[e.Name]; ok && c.visibleDefs >= 0 && idx >= c.visibleDefs {
+		c.errs.add(e.At, "a function body may use its arguments, the parameters and the definitions above the function",
+			"%s is defined at line %d, below the function", e.Name, c.m.Defs[idx].At.Line)
+		return badShape, false
+	}
 	if idx, ok := c.params[e.Name]; ok {
 		e.Kind, e.Index = ParamRef, idx
 		return Shape{}, true
@@ -484,6 +441,17 @@ func (c *checker) ident(e *Ident) (Shape, bool) {
 
 // call checks a function call.
 func (c *checker) call(e *Call) (Shape, bool) {
+	if idx, ok := c.funcs[e.Name]; ok && (c.visibleFuncs < 0 || idx < c.visibleFuncs) {
+		return c.userCall(e, idx)
+	}
+	if at, ok := c.funcAt[e.Name]; ok {
+		for _, a := range e.Args {
+			c.expr(a, true)
+		}
+		c.errs.add(e.At, fmt.Sprintf("move the definition of %s above this line", e.Name),
+			"%s is used before its definition at line %d", e.Name, at.Line)
+		return badShape, false
+	}
 	info, known := Funcs[e.Name]
 	shapes := make([]Shape, len(e.Args))
 	dep := false

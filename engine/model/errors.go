@@ -161,7 +161,13 @@ func (s *errorSink) add(pos Pos, hint, format string, args ...any) {
 	if s.full() {
 		return
 	}
-	s.list = append(s.list, &Error{Pos: pos, Msg: fmt.Sprintf(format, args...), Hint: hint})
+	msg := fmt.Sprintf(format, args...)
+	for _, e := range s.list {
+		if e.Pos == pos && e.Msg == msg {
+			return // the same error, found again through another use of a function
+		}
+	}
+	s.list = append(s.list, &Error{Pos: pos, Msg: msg, Hint: hint})
 }
 
 // err returns the sorted list, or nil when it is empty.

@@ -94,7 +94,7 @@ var invalidModels = []struct {
 	{"two parameters in one statement", "param a, b\na*b", "1:8: unexpected ',' after the end of the statement", "one parameter per statement"},
 	{"keyword defined", "cost = 2\na", "1:1: cannot define cost: it is a keyword", "another name"},
 	{"junk after a declaration", "param a in [0, 1] b\na", "1:19: expected the end of the param statement, found name b", ""},
-	{"function definition", "f(x) = x^2\nf(a)", "1:6: unexpected '=': only a name can be defined", "no user-defined functions"},
+	{"function definition with a number argument", "f(2) = x^2\nf(a)", "1:3: expected an argument name in the definition of f, found number 2", "names as arguments"},
 	{"superscript two", "a\u00b2", "1:2: unexpected character '\u00b2'", "x^2"},
 	{"caret without base", "^2", "1:1: expected an expression, found '^'", ""},
 	{"empty call argument", "ld_normal(a, , 1)", "1:14: expected an expression for argument 2 of ld_normal, found ','", ""},

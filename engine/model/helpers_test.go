@@ -31,6 +31,8 @@ func dumpExpr(e Expr, kinds bool) string {
 					fmt.Fprintf(&b, "@p%d", e.Index)
 				case DefRef:
 					fmt.Fprintf(&b, "@d%d", e.Index)
+				case LocalRef:
+					fmt.Fprintf(&b, "@l%d", e.Index)
 				default:
 					b.WriteString("@?")
 				}
@@ -63,6 +65,21 @@ func dumpExpr(e Expr, kinds bool) string {
 				walk(a)
 			}
 			b.WriteByte(']')
+		case *Index:
+			b.WriteString("(index ")
+			walk(e.X)
+			if e.I != nil {
+				b.WriteByte(' ')
+				walk(e.I)
+			} else {
+				b.WriteByte(' ')
+				walk(e.Lo)
+				b.WriteByte(':')
+				walk(e.Hi)
+			}
+			b.WriteByte(')')
+		case nil:
+			b.WriteString("<nil>")
 		default:
 			fmt.Fprintf(&b, "<%T>", e)
 		}
@@ -86,6 +103,15 @@ func dumpModel(m *Model) string {
 			fmt.Fprintf(&b, "def %s %s", s.Name, dumpExpr(s.Value, true))
 		case *DensityStmt:
 			fmt.Fprintf(&b, "density cost=%v %s", s.Cost, dumpExpr(s.Value, true))
+		case *FuncStmt:
+			fmt.Fprintf(&b, "func %s%v %s", s.Name, s.Args, dumpExpr(s.Body, true))
+		case *BlockStmt:
+			fmt.Fprintf(&b, "block %s steps=%s times=%s start=%s sub=%s var=%s n=%d t=%v t0=%g s=%d",
+				s.Kind.Keyword(), dumpExpr(s.Steps, true), dumpExpr(s.Times, true), dumpExpr(s.Start, true),
+				dumpExpr(s.Substeps, true), s.Var, s.NSteps, s.TimeVals, s.StartVal, s.NSub)
+			for _, l := range s.Lines {
+				fmt.Fprintf(&b, "\n  %s@%d = %s ; %s", l.Name, l.Slot, dumpExpr(l.Init, true), dumpExpr(l.Rule, true))
+			}
 		}
 		b.WriteByte('\n')
 	}
@@ -93,7 +119,7 @@ func dumpModel(m *Model) string {
 		fmt.Fprintf(&b, "p%d %s [%g %g] declared=%v\n", i, p.Name, p.Lo, p.Hi, p.Declared)
 	}
 	for i, d := range m.Defs {
-		fmt.Fprintf(&b, "d%d %s len=%d dep=%v %s\n", i, d.Name, d.Shape.Len, d.DependsOnParams, dumpExpr(d.Value, true))
+		fmt.Fprintf(&b, "d%d %s len=%d dep=%v %s comp=%d\n", i, d.Name, d.Shape.Len, d.DependsOnParams, dumpExpr(d.Value, true), d.Comp)
 	}
 	fmt.Fprintf(&b, "form %s density %s\n", m.Form, dumpExpr(m.Density, true))
 	return b.String()
@@ -121,6 +147,11 @@ func forEachExpr(m *Model, f func(Expr)) {
 			for _, a := range e.Elems {
 				walk(a)
 			}
+		case *Index:
+			walk(e.X)
+			walk(e.I)
+			walk(e.Lo)
+			walk(e.Hi)
 		}
 	}
 	for _, st := range m.Stmts {
@@ -132,6 +163,18 @@ func forEachExpr(m *Model, f func(Expr)) {
 			walk(s.Value)
 		case *DensityStmt:
 			walk(s.Value)
+		case *BlockStmt:
+			walk(s.Steps)
+			walk(s.Times)
+			walk(s.Start)
+			walk(s.Substeps)
+			for _, l := range s.Lines {
+				walk(l.Init)
+				walk(l.Rule)
+			}
+		case *FuncStmt:
+			// A body is checked where the function is used, and not at all
+			// when it is not.
 		}
 	}
 }
@@ -162,6 +205,10 @@ func checkComplete(t *testing.T, m *Model) {
 			if id.Index < 0 || id.Index >= len(m.Defs) || m.Defs[id.Index].Name != id.Name {
 				t.Errorf("%s resolved to definition %d", id.Name, id.Index)
 			}
+		case LocalRef:
+			if id.Index < 0 {
+				t.Errorf("%s resolved to slot %d", id.Name, id.Index)
+			}
 		default:
 			t.Errorf("%s unresolved", id.Name)
 		}
@@ -172,6 +219,9 @@ func checkComplete(t *testing.T, m *Model) {
 		t.Errorf("density shape %d", s.Len)
 	}
 	for i, d := range m.Defs {
+		if d.Block != nil {
+			continue
+		}
 		if m.Shapes[d.Value] != d.Shape {
 			t.Errorf("def %d %s: shape %v, expression shape %v", i, d.Name, d.Shape, m.Shapes[d.Value])
 		}

@@ -23,7 +23,7 @@ func firstError(t *testing.T, src string, lim limits) string {
 }
 
 // bigSource lifts the size limit so that the other limits can be reached.
-var bigSource = limits{maxSource: 1 << 30, maxDepth: MaxDepth, maxVector: MaxVectorLen, maxParams: MaxParams}
+var bigSource = limits{maxSource: 1 << 30, maxDepth: MaxDepth, maxVector: MaxVectorLen, maxParams: MaxParams, maxUnrolled: MaxUnrolled}
 
 func TestDepthLimit(t *testing.T) {
 	const tooDeep = "expression is nested too deeply: more than 200 levels"
@@ -103,7 +103,7 @@ func TestVectorLimit(t *testing.T) {
 		t.Errorf("got %q, want %q", got, want)
 	}
 	// The same limit, lowered, on a small vector.
-	small := limits{maxSource: MaxSource, maxDepth: MaxDepth, maxVector: 3, maxParams: MaxParams}
+	small := limits{maxSource: MaxSource, maxDepth: MaxDepth, maxVector: 3, maxParams: MaxParams, maxUnrolled: MaxUnrolled}
 	if got, want := firstError(t, "t = [1, 2, 3, 4]\nsum(t)*a", small), "1:15: vector has more than 3 elements"; got != want {
 		t.Errorf("got %q, want %q", got, want)
 	}

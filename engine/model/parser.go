@@ -10,17 +10,19 @@ import (
 // limits are the limits of the language; tests lower them to reach them
 // with small inputs.
 type limits struct {
-	maxSource int
-	maxDepth  int
-	maxVector int
-	maxParams int
+	maxSource   int
+	maxDepth    int
+	maxVector   int
+	maxParams   int
+	maxUnrolled int
 }
 
 var defaultLimits = limits{
-	maxSource: MaxSource,
-	maxDepth:  MaxDepth,
-	maxVector: MaxVectorLen,
-	maxParams: MaxParams,
+	maxSource:   MaxSource,
+	maxDepth:    MaxDepth,
+	maxVector:   MaxVectorLen,
+	maxParams:   MaxParams,
+	maxUnrolled: MaxUnrolled,
 }
 
 // Parse scans, parses and checks a model. On failure it returns nil and an
@@ -179,7 +181,16 @@ func (p *parser) statement() {
 	if (t.kind == tokParam || t.kind == tokCost || t.kind == tokIn) && p.toks[p.i+1].kind == tokAssign {
 		p.fail(t.pos, "choose another name", "cannot define %s: it is a keyword", t.text)
 	}
+	p.loopWord(t)
+	if t.kind == tokName && t.text == "end" && p.toks[p.i+1].kind != tokAssign {
+		p.fail(t.pos, "end closes a repeat or ode block", "end without a block to close")
+	}
+	kind, isBlock := p.blockStart(p.i)
 	switch {
+	case isBlock:
+		st = p.block(kind)
+	case p.isFuncDef(p.i):
+		st = p.funcStmt()
 	case t.kind == tokParam:
 		st = p.paramStmt()
 	case t.kind == tokCost:
@@ -234,8 +245,11 @@ func (p *parser) endOfStatement(st Stmt) {
 	case tokAssign:
 		hint := "a definition is NAME = EXPR, with a single name on the left"
 		if d, ok := st.(*DensityStmt); ok {
+			if _, ix := d.Value.(*Index); ix {
+				hint = "elements cannot be set one at a time: define the whole vector, as y = [1, 2, 3], or step a state with a repeat block"
+			}
 			if _, call := d.Value.(*Call); call {
-				hint = "there are no user-defined functions; define a quantity instead, as NAME = EXPR"
+				hint = "a function is defined as NAME(ARG, ...) = EXPR, with names as arguments"
 			}
 		}
 		p.fail(t.pos, hint, "unexpected '=': only a name can be defined")
@@ -325,7 +339,16 @@ func (p *parser) startsStatement(i int) bool {
 	case tokEOF, tokParam, tokCost:
 		return true
 	case tokName:
-		return p.toks[i+1].kind == tokAssign
+		if _, ok := p.blockStart(i); ok {
+			return true
+		}
+		switch p.toks[i+1].kind {
+		case tokAssign:
+			return true
+		case tokNewline, tokSemi, tokEOF:
+			return p.toks[i].text == "end"
+		}
+		return p.isFuncDef(i)
 	}
 	return false
 }
@@ -362,6 +385,13 @@ func (p *parser) expected(t token, context string) {
 		}
 	case tokCaret:
 		hint = "'^' needs a base on its left, as in x^2"
+	case tokNewline, tokEOF:
+		if p.i > 0 {
+			switch p.toks[p.i-1].kind {
+			case tokPlus, tokMinus, tokStar, tokSlash, tokCaret:
+				hint = "a line break ends the statement; to continue an expression on the next line, put it in parentheses ( )"
+			}
+		}
 	}
 	p.fail(t.pos, hint, "%s, found %s", msg, t.describe())
 }
@@ -430,11 +460,11 @@ func (p *parser) unary() Expr {
 	return x
 }
 
-// power: primary [ '^' unary ]. The exponent is a unary expression, so ^ is
+// power: postfix [ '^' unary ]. The exponent is a unary expression, so ^ is
 // right-associative (2^3^2 = 2^(3^2)) and 2^-1 works; a unary minus before
 // the base binds looser (-x^2 = -(x^2)).
 func (p *parser) power() Expr {
-	x := p.primary()
+	x := p.postfix(p.primary())
 	t := p.cur()
 	if t.kind != tokCaret {
 		return x
@@ -496,7 +526,11 @@ func (p *parser) call(name token) Expr {
 				continue
 			}
 			if t.kind != tokRParen {
-				p.closeErr("',' or ')'", open, "")
+				hint := ""
+				if t.kind == tokName && (t.text == "for" || t.text == "if") {
+					hint = "there are no comprehensions: apply the function to a whole vector, as in sum((y - m)^2), or step a state with a repeat block"
+				}
+				p.closeErr("',' or ')'", open, hint)
 			}
 			break
 		}

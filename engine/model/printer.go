@@ -46,7 +46,50 @@ func writeStmt(b *strings.Builder, st Stmt) {
 			b.WriteString("cost ")
 		}
 		writeExpr(b, s.Value)
+	case *FuncStmt:
+		b.WriteString(s.Name)
+		b.WriteByte('(')
+		b.WriteString(strings.Join(s.Args, ", "))
+		b.WriteString(") = ")
+		writeExpr(b, s.Body)
+	case *BlockStmt:
+		writeBlock(b, s)
 	}
+}
+
+// writeBlock writes a block: its first line, each line indented by two
+// spaces, and end.
+func writeBlock(b *strings.Builder, s *BlockStmt) {
+	b.WriteString(s.Kind.Keyword())
+	b.WriteByte(' ')
+	if s.Kind == ODE {
+		writeExpr(b, s.Times)
+		b.WriteString(" from ")
+		writeExpr(b, s.Start)
+		b.WriteString(" substeps ")
+		writeExpr(b, s.Substeps)
+	} else {
+		writeExpr(b, s.Steps)
+	}
+	if s.Var != "" {
+		b.WriteString(" as ")
+		b.WriteString(s.Var)
+	}
+	b.WriteByte('\n')
+	for _, l := range s.Lines {
+		b.WriteString("  ")
+		b.WriteString(l.Name)
+		b.WriteString(" = ")
+		if l.Init != nil {
+			writeExpr(b, l.Init)
+			b.WriteByte(' ')
+			b.WriteString(s.Kind.Word())
+			b.WriteByte(' ')
+		}
+		writeExpr(b, l.Rule)
+		b.WriteByte('\n')
+	}
+	b.WriteString("end")
 }
 
 // Precedence levels, loosest first.
@@ -144,6 +187,17 @@ func writeExpr(b *strings.Builder, e Expr) {
 				b.WriteString(", ")
 			}
 			writeExpr(b, a)
+		}
+		b.WriteByte(']')
+	case *Index:
+		writeOperand(b, e.X, precPrimary)
+		b.WriteByte('[')
+		if e.I != nil {
+			writeExpr(b, e.I)
+		} else {
+			writeExpr(b, e.Lo)
+			b.WriteByte(':')
+			writeExpr(b, e.Hi)
 		}
 		b.WriteByte(']')
 	}

@@ -237,6 +237,8 @@ func punctKind(r rune) (tokenKind, bool) {
 		return tokComma, true
 	case '=':
 		return tokAssign, true
+	case ':':
+		return tokColon, true
 	}
 	return 0, false
 }
@@ -261,7 +263,7 @@ var strayHint = map[rune]string{
 	'%':      "there is no remainder operator",
 	'!':      "there is no factorial or negation operator; lgamma(n+1) is log(n!)",
 	'"':      "the model language has no strings",
-	'\'':     "the model language has no strings",
+	'\'':     "the model language has no strings; for a derivative x' write an ode block, with the line x = START rate DERIVATIVE",
 	'<':      "there are no comparisons; give a support with param NAME in [LO, HI]",
 	'>':      "there are no comparisons; give a support with param NAME in [LO, HI]",
 	'\u00b2': "write x^2 for a power",

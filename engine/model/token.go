@@ -25,6 +25,7 @@ const (
 	tokRBrack
 	tokComma
 	tokAssign
+	tokColon
 )
 
 // keywords maps the reserved words of the language to their token kinds.
@@ -47,6 +48,7 @@ var punct = map[tokenKind]string{
 	tokRBrack: "]",
 	tokComma:  ",",
 	tokAssign: "=",
+	tokColon:  ":",
 }
 
 // token is one lexical element of the model text.

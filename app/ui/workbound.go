@@ -1,0 +1,76 @@
+package ui
+
+import (
+	"context"
+	"fmt"
+	"time"
+
+	"github.com/maxence-charriere/go-app/v10/pkg/app"
+
+	"bellcheck/engine"
+	"bellcheck/engine/model"
+)
+
+// PageMaxTime is the longest analysis the page starts: one forecast to take
+// longer (engine.EstimateWork) is not run; the page says so and offers a
+// coarser grid that fits. The command line's --max-time allows more.
+var PageMaxTime = 30 * time.Second
+
+// TooLongError is the outcome of an analysis the page did not start
+// because its forecast exceeds PageMaxTime.
+type TooLongError struct {
+	Estimate engine.Estimate
+	Limit    time.Duration
+	// Points is the grid points per parameter forecast to fit within the
+	// limit (0 for none).
+	Points int
+}
+
+func (e *TooLongError) Error() string {
+	msg := fmt.Sprintf("it would take %v, more than the %v the page allows", e.Estimate, e.Limit)
+	if e.Points > 0 {
+		return msg + fmt.Sprintf("; a coarser grid of %d points per parameter fits (see the notice above), or run it with the command line: bellcheck fit --max-time 1h FILE", e.Points)
+	}
+	return msg + "; even the coarsest grid would take longer: summarise the data (for instance by counts) or use fewer observations, or run it with the command line: bellcheck fit --max-time 1h FILE"
+}
+
+// boundedAnalyse returns the page's analysis: it forecasts the work first
+// and refuses an analysis beyond PageMaxTime with a TooLongError, offering
+// the coarser grid in the notice (through actx).
+func (p *Page) boundedAnalyse(actx app.Context) AnalyseFunc {
+	return func(ctx context.Context, m *model.Model, opts engine.Options, progress engine.ProgressFunc) (*engine.Result, error) {
+		return p.bounded(actx, ctx, m, opts, progress)
+	}
+}
+
+func (p *Page) bounded(actx app.Context, ctx context.Context, m *model.Model, opts engine.Options, progress engine.ProgressFunc) (*engine.Result, error) {
+	est, err := engine.EstimateWork(ctx, m, opts)
+	if err != nil {
+		return nil, err
+	}
+	if est.Total <= PageMaxTime {
+		return engine.Analyse(ctx, m, opts, progress)
+	}
+	tl := &TooLongError{Estimate: est, Limit: PageMaxTime, Points: engine.PointsWithin(len(m.Params), est.PerPoint, PageMaxTime)}
+	actx.Dispatch(func(app.Context) { p.offerCoarser(m, tl) })
+	return nil, tl
+}
+
+// offerCoarser puts the refusal in the notice, with the coarser grid as its
+// offer when there is one.
+func (p *Page) offerCoarser(m *model.Model, tl *TooLongError) {
+	if p.s.Model != m {
+		return // the text changed meanwhile
+	}
+	n := Notice{Text: "This analysis was not started: " + tl.Error() + ".", Warn: true}
+	if tl.Points > 0 {
+		st := p.shareState()
+		st.Params = make([]engine.ParamOptions, len(m.Params))
+		for i, prm := range m.Params {
+			st.Params[i] = p.s.Param(prm.Name)
+			st.Params[i].Points = tl.Points
+		}
+		n.Action, n.Offer = fmt.Sprintf("Use %d points per parameter", tl.Points), &st
+	}
+	p.notice = n
+}

@@ -1,0 +1,73 @@
+package ui
+
+import (
+	"errors"
+	"strings"
+	"testing"
+	"time"
+)
+
+// TestPageRefusesAnalysisBeyondItsBound: an analysis forecast beyond
+// PageMaxTime is not started; the reason is the run's error and the notice
+// offers a coarser grid, which then runs.
+func TestPageRefusesAnalysisBeyondItsBound(t *testing.T) {
+	old := PageMaxTime
+	defer func() { PageMaxTime = old }()
+	h, e := mount(t, nil) // the page's own analysis: forecast, then engine.Analyse
+	p := h.page
+	p.browser = newMemBrowser("")
+	// 2-D default: 301 x 301 nodes; the bounds below are set from the
+	// forecast itself (none is a timing assertion).
+	src := "param a\nparam b\nld_normal(1, a + b, 1) - a^2/2 - b^2/2\n"
+	p.Input(h.ctx, src)
+	e.ConsumeAll()
+	waitIdle(t, p, e)
+	if p.s.RunErr != nil || p.s.Result == nil {
+		t.Fatalf("unbounded run: %v", p.s.RunErr)
+	}
+	PageMaxTime = time.Nanosecond
+	p.Input(h.ctx, src+"# again\n")
+	e.ConsumeAll()
+	waitIdle(t, p, e)
+	var tl *TooLongError
+	if !errors.As(p.s.RunErr, &tl) || !strings.Contains(p.s.RunErr.Error(), "more than the 1ns the page allows") {
+		t.Fatalf("run error %v, want a TooLongError", p.s.RunErr)
+	}
+	if !p.notice.Warn || !strings.Contains(p.notice.Text, "was not started") {
+		t.Errorf("notice %+v", p.notice)
+	}
+	if tl.Points != 0 || p.notice.Offer != nil {
+		t.Errorf("nothing fits in 1 ns, yet %d points are offered", tl.Points)
+	}
+	// A bound the coarsest grid meets: the offer sets the points, and taking
+	// it runs.
+	PageMaxTime = tl.Estimate.Total / 4
+	p.Input(h.ctx, src)
+	e.ConsumeAll()
+	waitIdle(t, p, e)
+	if !errors.As(p.s.RunErr, &tl) || tl.Points == 0 || p.notice.Offer == nil {
+		t.Fatalf("run error %v, notice %+v: want a coarser grid offered", p.s.RunErr, p.notice)
+	}
+	if got := p.notice.Offer.Params[0].Points; got != tl.Points {
+		t.Errorf("offer of %d points, want %d", got, tl.Points)
+	}
+	p.TakeOffer(h.ctx)
+	e.ConsumeAll()
+	waitIdle(t, p, e)
+	if p.s.RunErr != nil || p.s.Result == nil || p.s.Result.Grid.Points[0] != tl.Points {
+		t.Errorf("the coarser grid did not run: %v", p.s.RunErr)
+	}
+}
+
+// waitIdle waits until the page's analysis has finished.
+func waitIdle(t *testing.T, p *Page, e interface{ ConsumeAll() }) {
+	t.Helper()
+	for i := 0; i < 600; i++ {
+		e.ConsumeAll()
+		if !p.s.Running && !p.pending {
+			return
+		}
+		time.Sleep(50 * time.Millisecond)
+	}
+	t.Fatal("the analysis did not finish in 30 s")
+}

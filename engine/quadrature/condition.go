@@ -1,0 +1,149 @@
+package quadrature
+
+import "math"
+
+// condition finds, at the current outer point r.u[:k], the conditional mode
+// of axes k.. by damped Newton steps from the prediction r.pred[k], and the
+// Gaussian approximation there (the inverse of the negative Hessian of the
+// axes k..): axis k's node map is centred at the mode with a half-width of
+// Width times its standard deviation, and the inner axes' modes are
+// predicted along the regression line (Naylor and Smith 1982: each
+// conditional is recentred and rescaled).
+func (r *rule) condition(k int) {
+	d := r.d
+	m := d - k
+	lv := &r.lv[k]
+	copy(r.ut, r.u[:k])
+	copy(r.ut[k:], r.pred[k][k:])
+	ok := false
+	if k == 0 && r.pilot {
+		// The pilot's mean and covariance: u = 0 with unit variances.
+		copy(lv.mode, r.ut)
+		clear(lv.sigma[:m*m])
+		for i := 0; i < m; i++ {
+			lv.sigma[i*m+i] = 1
+		}
+		ok = true
+	}
+	for it := 0; it < maxNewton && !(k == 0 && r.pilot); it++ {
+		f := r.derivsAt(k, r.ut)
+		if math.IsNaN(f) || math.IsInf(f, 0) {
+			break
+		}
+		if !r.factorSub(m) {
+			break
+		}
+		ok = true
+		copy(lv.mode, r.ut)
+		cholInverse(r.subC, lv.sigma, r.col, m)
+		// Newton step: (-H) step = g.
+		copy(r.step[:m], r.gu[k:])
+		cholSolve(r.subC, r.step, m)
+		dec := 0.0
+		for i := 0; i < m; i++ {
+			dec += r.step[i] * r.gu[k+i]
+		}
+		if !(dec > 1e-8) || it == maxNewton-1 {
+			break
+		}
+		// Backtrack until log p does not fall.
+		accepted := false
+		for alpha := 1.0; alpha > 1e-3; alpha /= 2 {
+			for i := 0; i < m; i++ {
+				r.ut[k+i] = lv.mode[k+i] + alpha*r.step[i]
+			}
+			r.toZ(r.ut)
+			r.points++
+			if f2 := r.p.LogDensity(r.z); f2 >= f-1e-12*math.Abs(f) {
+				accepted = true
+				break
+			}
+		}
+		if !accepted {
+			break
+		}
+	}
+	if !ok {
+		// No curvature at the prediction: keep it, with the whitened scale.
+		copy(lv.mode, r.ut)
+		copy(lv.mode[k:], r.pred[k][k:])
+		clear(lv.sigma[:m*m])
+		for i := 0; i < m; i++ {
+			lv.sigma[i*m+i] = 1
+		}
+	}
+	lv.c = lv.mode[k]
+	s00 := lv.sigma[0]
+	for a := k + 1; a < d; a++ {
+		lv.slope[a] = lv.sigma[(a-k)*m] / s00
+	}
+	r.chooseMap(k, math.Sqrt(s00))
+}
+
+// derivsAt returns log p at u and writes the gradient (r.gu) and the
+// negative Hessian of axes k.. (r.sub, (d-k)^2) in u coordinates.
+func (r *rule) derivsAt(k int, u []float64) float64 {
+	d := r.d
+	m := d - k
+	r.toZ(u)
+	f := r.p.LogDensityDerivs(r.z, r.gz, r.hz)
+	r.derivs++
+	if math.IsNaN(f) || math.IsInf(f, 0) {
+		return f
+	}
+	// gu = L^T gv: column a of L has entries in rows b >= a.
+	for a := k; a < d; a++ {
+		s := 0.0
+		for b := a; b < d; b++ {
+			s += r.L[b*d+a] * r.gz[r.perm[b]]
+		}
+		r.gu[a] = s
+	}
+	// sub = -(L^T Hv L) restricted to axes k..
+	for a := k; a < d; a++ {
+		for c := a; c < d; c++ {
+			s := 0.0
+			for i := a; i < d; i++ {
+				li := r.L[i*d+a]
+				if li == 0 {
+					continue
+				}
+				hi := r.perm[i] * d
+				for j := c; j < d; j++ {
+					s += li * r.hz[hi+r.perm[j]] * r.L[j*d+c]
+				}
+			}
+			r.sub[(a-k)*m+(c-k)] = -s
+			r.sub[(c-k)*m+(a-k)] = -s
+		}
+	}
+	for _, v := range r.sub[:m*m] {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return math.NaN()
+		}
+	}
+	return f
+}
+
+// factorSub factors r.sub into r.subC, adding a multiple of the identity
+// when it is not positive definite (a damped Newton step).
+func (r *rule) factorSub(m int) bool {
+	if cholesky(r.subC, r.sub, m) {
+		return true
+	}
+	scale := 0.0
+	for i := 0; i < m; i++ {
+		scale = math.Max(scale, math.Abs(r.sub[i*m+i]))
+	}
+	lambda := 1e-3*scale + 1e-6
+	for try := 0; try < 30; try++ {
+		for i := 0; i < m; i++ {
+			r.sub[i*m+i] += lambda
+		}
+		if cholesky(r.subC, r.sub, m) {
+			return true
+		}
+		lambda *= 2
+	}
+	return false
+}

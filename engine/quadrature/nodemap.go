@@ -1,0 +1,112 @@
+package quadrature
+
+import "math"
+
+// The node map of an axis at one outer node. Where the conditional density
+// has a tail that decays no faster than a Gaussian (algebraic, exponential
+// or Gaussian), the map u = c + w sinh t turns it into one that decays
+// exponentially or faster in t, and the trapezoid rule in t converges
+// exponentially (Trefethen and Weideman 2014, section 14). Where a tail
+// decays doubly exponentially (exp(-e^u): the side of a log-scale
+// parameter towards its bound), the sinh map would make it triply
+// exponential and narrow the strip where the integrand is analytic and
+// bounded to nothing; there the plain trapezoid rule in u is the right one
+// (its error falls like exp(-2 pi a / h) for a strip of half-width a), so
+// the map is linear on that side: u = c + w t.
+
+// offset returns u - c = w phi(t) with phi(t) = t + bR (e^t - 1 - t) -
+// bL (e^-t - 1 + t): sinh t when both b are 1/2, t when both are 0, and
+// linear on one side, exponential on the other in between.
+func (lv *level) offset(t float64) float64 {
+	phi := t
+	if lv.betaR != 0 {
+		phi += lv.betaR * (math.Expm1(t) - t)
+	}
+	if lv.betaL != 0 {
+		phi -= lv.betaL * (math.Expm1(-t) + t)
+	}
+	return lv.w * phi
+}
+
+// jac returns du/dt at t.
+func (lv *level) jac(t float64) float64 {
+	d := 1.0
+	if lv.betaR != 0 {
+		d += lv.betaR * math.Expm1(t)
+	}
+	if lv.betaL != 0 {
+		d += lv.betaL * math.Expm1(-t)
+	}
+	return lv.w * d
+}
+
+// startIndex returns the index where a line's first block ends on the
+// side sign: about 7 conditional standard deviations from the centre.
+func (lv *level) startIndex(h float64, sign int) int {
+	sd := lv.w / lv.width
+	j := 1
+	for ; j < 1000 && math.Abs(lv.offset(float64(sign*j)*h)) < 7*sd; j++ {
+	}
+	return j
+}
+
+// Probe distances, in conditional standard deviations, and the ratio of
+// log-density drops beyond which a side counts as doubly exponential (a
+// Gaussian gives 4, an exponential tail 2, an algebraic one less).
+const (
+	probeR     = 4
+	probeRatio = 8
+	// linearWidth is w / sd of the linear map: a step of h = 0.25 is half
+	// a standard deviation.
+	linearWidth = 2
+)
+
+// chooseMap probes the conditional log-density along axis k at 4 and 8
+// standard deviations on each side of the centre (the inner axes at their
+// predicted modes), and makes the map linear when a side falls doubly
+// exponentially. f0 is log p at the centre.
+func (r *rule) chooseMap(k int, sd float64) {
+	lv := &r.lv[k]
+	lv.betaL, lv.betaR = 0.5, 0.5
+	lv.w = r.s.Width * sd
+	lv.width = r.s.Width
+	copy(r.ut, lv.mode)
+	r.toZ(r.ut)
+	f0 := r.p.LogDensity(r.z)
+	r.points++
+	if math.IsNaN(f0) || math.IsInf(f0, 0) {
+		return
+	}
+	drop := func(dist float64) float64 {
+		copy(r.ut, lv.mode)
+		r.ut[k] += dist
+		for a := k + 1; a < r.d; a++ {
+			r.ut[a] += lv.slope[a] * dist
+		}
+		r.toZ(r.ut)
+		r.points++
+		f := r.p.LogDensity(r.z)
+		if math.IsNaN(f) {
+			return math.Inf(1)
+		}
+		return f0 - f
+	}
+	for _, side := range [2]float64{1, -1} {
+		d1 := drop(side * probeR * sd)
+		if !(d1 > 0) {
+			continue
+		}
+		d2 := drop(side * 2 * probeR * sd)
+		if d2 > probeRatio*d1 {
+			if side > 0 {
+				lv.betaR = 0
+			} else {
+				lv.betaL = 0
+			}
+		}
+	}
+	if lv.betaL == 0 && lv.betaR == 0 {
+		lv.w = linearWidth * sd
+		lv.width = linearWidth
+	}
+}

@@ -1,0 +1,385 @@
+package quadrature
+
+import (
+	"context"
+	"fmt"
+	"math"
+
+	"bellcheck/engine/target"
+	"bellcheck/engine/transform"
+)
+
+// level is the state of one axis of the nested rule: its conditional
+// centre and scale at the current outer node and the sums over its nodes.
+type level struct {
+	mode  []float64 // the conditional mode of axes k.. (u coordinates, len d)
+	sigma []float64 // the conditional covariance of axes k.. (len (d-k)^2)
+	// the inner level's modes at the last two outer nodes and at t = 0
+	m0, m1, m00  []float64
+	slope        []float64 // d mode_a / d u_k for a > k
+	c, w         float64   // the node map u_k = c + w phi(t) (see offset)
+	betaL, betaR float64
+	width        float64 // w / sd
+	logW         float64 // log of the outer axes' weights (with det L)
+	tier         int     // lowest tier of the outer indices
+	sum          [3][]float64
+	rem          []float64 // truncation remainders (watch layout)
+	inf          []bool    // infinite flags (flag layout)
+	// the walk's end: watched components of the last two nodes, their peak
+	cur, prev, peak []float64
+}
+
+// rule is one run of the nested rule.
+type rule struct {
+	ctx  context.Context
+	p    target.Density
+	d    int
+	s    Settings
+	lay  layout
+	perm []int           // perm[a]: the parameter of axis a
+	maps []transform.Map // per axis
+	m    []float64       // mode, per axis
+	xm   []float64       // x(mode), per axis
+	L    []float64       // z = m + L u, lower triangular, per axis
+	ldL  float64         // log det L
+	ref  float64         // log p at the mode
+	h    float64
+	maxJ int
+	lv   []level
+	u    []float64   // the current point in u
+	pred [][]float64 // per level, the predicted conditional mode (len d)
+
+	// scratch
+	ut, v, z, gz, hz, gu, sub, subC, col, step, y, x []float64
+	lineT, lineLogP, lineG                           []float64
+	lineBad                                          []bool
+	cols                                             [][]float64
+	ls                                               [3]lineSums
+
+	pilot     bool    // the start is a pilot's mean and covariance: no Newton on the outer axis
+	boundErr  float64 // see boundRounding
+	nodes     Nodes
+	points    int
+	derivs    int
+	nonFinite int
+	nearNaN   int // undefined nodes next to a node holding mass
+	done0     int
+}
+
+const maxNewton = 20
+
+// checkStart reports what is wrong with a start and settings for p.
+func checkStart(p target.Density, st Start, s Settings) error {
+	d := p.Dim()
+	if d < 1 || d > 4 {
+		return fmt.Errorf("%w: %d parameters (1 to 4 are supported)", ErrBadStart, d)
+	}
+	if len(st.Mode) != d {
+		return fmt.Errorf("%w: a mode of %d coordinates for %d parameters", ErrBadStart, len(st.Mode), d)
+	}
+	for k, v := range st.Mode {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return fmt.Errorf("%w: coordinate %d of the mode is %g", ErrBadStart, k+1, v)
+		}
+	}
+	if s.Maps != nil && len(s.Maps) != d {
+		return fmt.Errorf("%w: %d maps for %d parameters", ErrBadStart, len(s.Maps), d)
+	}
+	for k, m := range s.Maps {
+		if err := m.Check(); err != nil {
+			return fmt.Errorf("%w: parameter %d: %v", ErrBadStart, k+1, err)
+		}
+	}
+	_, err := startCov(st, d)
+	return err
+}
+
+func newRule(ctx context.Context, p target.Density, st Start, s Settings) (*rule, error) {
+	if err := checkStart(p, st, s); err != nil {
+		return nil, err
+	}
+	d := p.Dim()
+	s = s.withDefaults()
+	cov, _ := startCov(st, d)
+	perm := s.Order
+	if perm == nil {
+		perm = identityOrder(d)
+	}
+	if err := checkOrder(perm, d); err != nil {
+		return nil, err
+	}
+	r := &rule{ctx: ctx, p: p, d: d, s: s, lay: newLayout(d), perm: append([]int(nil), perm...)}
+	r.h = s.Step
+	r.maxJ = int(math.Floor(s.MaxT/r.h + 1e-9))
+	r.maps = make([]transform.Map, d)
+	r.m = make([]float64, d)
+	r.xm = make([]float64, d)
+	cv := make([]float64, d*d)
+	for a := 0; a < d; a++ {
+		pa := r.perm[a]
+		r.maps[a] = transform.Map{Scale: transform.Identity, Lo: math.Inf(-1), Hi: math.Inf(1)}
+		if s.Maps != nil {
+			r.maps[a] = s.Maps[pa]
+		}
+		r.m[a] = st.Mode[pa]
+		r.xm[a] = r.maps[a].ToOriginal(r.m[a])
+		for b := 0; b < d; b++ {
+			cv[a*d+b] = cov[pa*d+r.perm[b]]
+		}
+	}
+	r.L = make([]float64, d*d)
+	if !cholesky(r.L, cv, d) {
+		return nil, fmt.Errorf("%w: the covariance is not positive definite", ErrBadStart)
+	}
+	r.ldL = cholLogDet(r.L, d) / 2
+	mk := func() []float64 { return make([]float64, d) }
+	r.u, r.ut, r.v, r.z, r.gz, r.gu, r.col, r.step, r.y, r.x = mk(), mk(), mk(), mk(), mk(), mk(), mk(), mk(), mk(), mk()
+	r.hz = make([]float64, d*d)
+	r.sub = make([]float64, d*d)
+	r.subC = make([]float64, d*d)
+	r.lv = make([]level, d)
+	r.pred = make([][]float64, d)
+	nw := r.lay.nWatch
+	for k := range r.lv {
+		lv := &r.lv[k]
+		lv.mode, lv.slope = mk(), mk()
+		lv.m0, lv.m1, lv.m00 = mk(), mk(), mk()
+		lv.sigma = make([]float64, d*d)
+		for t := range lv.sum {
+			lv.sum[t] = make([]float64, r.lay.n)
+		}
+		lv.rem = make([]float64, nw)
+		lv.inf = make([]bool, 1+8*d)
+		lv.cur, lv.prev, lv.peak = make([]float64, nw), make([]float64, nw), make([]float64, nw)
+		r.pred[k] = mk()
+	}
+	n := 2*r.maxJ + 1
+	r.lineT = make([]float64, n)
+	r.lineLogP = make([]float64, n)
+	r.lineG = make([]float64, n)
+	r.lineBad = make([]bool, n)
+	r.cols = make([][]float64, d)
+	for k := range r.cols {
+		r.cols[k] = make([]float64, n)
+	}
+	r.toZ(r.u)
+	r.ref = p.LogDensity(r.z)
+	r.points++
+	if math.IsNaN(r.ref) || math.IsInf(r.ref, 0) {
+		return nil, fmt.Errorf("%w: log p at the mode is %g", ErrBadStart, r.ref)
+	}
+	return r, nil
+}
+
+// startCov returns the covariance of the start (row-major, parameter order).
+func startCov(st Start, d int) ([]float64, error) {
+	src, name := st.NegHessian, "negative Hessian"
+	if src == nil {
+		src, name = st.Cov, "covariance"
+	}
+	if len(src) != d*d {
+		return nil, fmt.Errorf("%w: a %s of %d entries for %d parameters", ErrBadStart, name, len(src), d)
+	}
+	for _, v := range src {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, fmt.Errorf("%w: the %s is not finite", ErrBadStart, name)
+		}
+	}
+	a := make([]float64, d*d)
+	for i := 0; i < d; i++ {
+		for j := 0; j < d; j++ {
+			a[i*d+j] = (src[i*d+j] + src[j*d+i]) / 2
+		}
+	}
+	if st.NegHessian == nil {
+		return a, nil
+	}
+	c := make([]float64, d*d)
+	if !cholesky(c, a, d) {
+		return nil, fmt.Errorf("%w: the negative Hessian is not positive definite", ErrBadStart)
+	}
+	inv := make([]float64, d*d)
+	cholInverse(c, inv, make([]float64, d), d)
+	return inv, nil
+}
+
+func identityOrder(d int) []int {
+	o := make([]int, d)
+	for i := range o {
+		o[i] = i
+	}
+	return o
+}
+
+func checkOrder(o []int, d int) error {
+	if len(o) != d {
+		return fmt.Errorf("%w: an order of %d axes for %d parameters", ErrBadStart, len(o), d)
+	}
+	seen := make([]bool, d)
+	for _, a := range o {
+		if a < 0 || a >= d || seen[a] {
+			return fmt.Errorf("%w: the order %v is not a permutation", ErrBadStart, o)
+		}
+		seen[a] = true
+	}
+	return nil
+}
+
+// toZ writes z (parameter order) and v (axis order) for the point u.
+func (r *rule) toZ(u []float64) {
+	d := r.d
+	for a := 0; a < d; a++ {
+		s := r.m[a]
+		for b := 0; b <= a; b++ {
+			s += r.L[a*d+b] * u[b]
+		}
+		r.v[a] = s
+		r.z[r.perm[a]] = s
+	}
+}
+
+// tierOf returns 2 for an index in the rule of step 4h, 1 for 2h, else 0.
+func tierOf(j int) int {
+	switch {
+	case j%4 == 0:
+		return 2
+	case j%2 == 0:
+		return 1
+	}
+	return 0
+}
+
+// run integrates the whole density.
+func (r *rule) run() error {
+	lv := &r.lv[0]
+	lv.logW = r.ldL
+	lv.tier = 2
+	for a := range r.pred[0] {
+		r.pred[0][a] = 0
+	}
+	return r.axis(0)
+}
+
+// axis integrates axes k.. at the current outer point r.u[:k], leaving the
+// sums in r.lv[k].
+func (r *rule) axis(k int) error {
+	if err := r.ctx.Err(); err != nil {
+		return err
+	}
+	lv := &r.lv[k]
+	r.condition(k)
+	for t := range lv.sum {
+		clear(lv.sum[t])
+	}
+	clear(lv.rem)
+	clear(lv.inf)
+	r.fixedOffsets(k)
+	if k == r.d-1 {
+		return r.line()
+	}
+	child := &r.lv[k+1]
+	nl := 1 + 4*(r.d-k)
+	cur, prev, peak := lv.cur[:nl], lv.prev[:nl], lv.peak[:nl]
+	clear(peak)
+	// The inner modes are predicted from the last two outer nodes' (by
+	// linear extrapolation in u_k), or from the Gaussian regression line
+	// until there are two.
+	m0, m1, m00 := lv.m0, lv.m1, lv.m00
+	var u0, u1, u00 float64
+	for _, side := range [2]int{1, -1} {
+		first := true
+		known := 0
+		if side < 0 {
+			copy(m1, m00)
+			u1 = u00
+			known = 1
+		}
+		for j := (1 - side) / 2 * -1; ; j += side {
+			t := float64(j) * r.h
+			du := lv.offset(t)
+			r.u[k] = lv.c + du
+			for a := k + 1; a < r.d; a++ {
+				switch known {
+				case 0:
+					r.pred[k+1][a] = lv.mode[a] + lv.slope[a]*du
+				case 1:
+					r.pred[k+1][a] = m1[a] + lv.slope[a]*(r.u[k]-u1)
+				default:
+					r.pred[k+1][a] = m1[a] + (m1[a]-m0[a])*(r.u[k]-u1)/(u1-u0)
+				}
+			}
+			wt := r.h * lv.jac(t)
+			child.logW = lv.logW + math.Log(wt)
+			child.tier = min(lv.tier, tierOf(j))
+			if err := r.axis(k + 1); err != nil {
+				return err
+			}
+			m0, m1 = m1, m0
+			copy(m1, child.mode)
+			u0, u1 = u1, r.u[k]
+			known++
+			if j == 0 {
+				copy(m00, child.mode)
+				u00 = r.u[k]
+			}
+			addScaled(lv.sum[0], child.sum[0], wt)
+			if j%2 == 0 {
+				addScaled(lv.sum[1], child.sum[1], 2*wt)
+			}
+			if j%4 == 0 {
+				addScaled(lv.sum[2], child.sum[2], 4*wt)
+			}
+			addScaled(lv.rem, child.rem, wt)
+			for i, f := range child.inf {
+				lv.inf[i] = lv.inf[i] || f
+			}
+			r.localWatch(k, child.sum[0], wt, cur)
+			for i, c := range cur {
+				peak[i] = math.Max(peak[i], c)
+			}
+			if k == 0 {
+				r.done0++
+				r.report()
+			}
+			at := math.Abs(t)
+			if stop, remZ := r.endCheck(k, cur, prev, peak, at, first); stop {
+				r.recordOthers(k, remZ)
+				break
+			}
+			first = false
+			cur, prev = prev, cur
+		}
+	}
+	return nil
+}
+
+// localWatch writes the watched components of axes k.. of a full vector
+// scaled by f: the density, then per axis a >= k its y^2, y^4, x~^2, x~^4.
+func (r *rule) localWatch(k int, full []float64, f float64, w []float64) {
+	l := r.lay
+	w[0] = f * full[0]
+	for a := k; a < r.d; a++ {
+		p := l.y2 + l.pair(a, a)
+		b := 1 + 4*(a-k)
+		w[b] = f * full[p]
+		w[b+1] = f * full[l.y4+a]
+		w[b+2] = f * full[l.xo+p]
+		w[b+3] = f * full[l.xo+l.y4+a]
+	}
+}
+
+func addScaled(dst, src []float64, f float64) {
+	for i, v := range src {
+		dst[i] += f * v
+	}
+}
+
+func (r *rule) report() {
+	if r.s.Progress == nil {
+		return
+	}
+	// The outer axis typically has about 20 nodes; the estimate only
+	// needs to move forward.
+	f := float64(r.done0) / float64(r.done0+6)
+	r.s.Progress(math.Min(f, 0.99))
+}

@@ -1,0 +1,180 @@
+package quadrature
+
+import "math"
+
+// endCheck decides whether the walk along axis k ends at the node just
+// added (|t| = at), whose watched components are cur (those of the node
+// before it: prev; their largest so far: peak). A walk ends where the
+// density's share is below Tol of its peak and falling, and each second
+// and fourth power's share is below MomentTol of its peak or decays too
+// slowly to ever get there (an infinite moment), or at MaxT. At the end it
+// adds the geometric tail beyond the node to the remainders (exact for a
+// share decaying exponentially in t, the case of every algebraic or faster
+// tail) and flags the components whose share does not decay.
+// It returns whether the walk ends and the density's remainder.
+func (r *rule) endCheck(k int, cur, prev, peak []float64, at float64, first bool) (bool, float64) {
+	atMax := at+r.h/2 > r.s.MaxT
+	if first && !atMax {
+		return false, 0
+	}
+	slope := func(c int) float64 {
+		switch {
+		case first || cur[c] <= 0:
+			return math.Inf(-1)
+		case prev[c] <= 0:
+			return math.Inf(1)
+		}
+		return (math.Log(cur[c]) - math.Log(prev[c])) / r.h
+	}
+	zSmall := cur[0] <= r.s.Tol*peak[0] && !math.IsInf(cur[0], 1) && (first || cur[0] <= prev[0])
+	if !atMax {
+		if !zSmall {
+			return false, 0
+		}
+		for c := 1; c < len(cur); c++ {
+			if cur[c] > r.s.MomentTol*peak[c] && slope(c) < -minRate {
+				return false, 0
+			}
+		}
+		// The first powers, between the density and the second powers.
+		for c := 1; c < len(cur); c += 2 {
+			if g, p := math.Sqrt(cur[0]*cur[c]), math.Sqrt(peak[0]*peak[c]); g > r.s.MomentTol*p && (slope(0)+slope(c))/2 < -minRate {
+				return false, 0
+			}
+		}
+	}
+	lv := &r.lv[k]
+	remZ := 0.0
+	d := r.d
+	for c := range cur {
+		if cur[c] <= 0 {
+			// The density vanished (zero, or undefined where the model
+			// loses precision) before its share was negligible: the tail
+			// beyond is unknown; count the last share as its size.
+			if !first && prev[c] > r.s.Tol*peak[c] {
+				gc := r.watchIndex(k, c)
+				lv.rem[gc] += prev[c]
+				if c == 0 {
+					remZ = prev[c]
+				}
+			}
+			continue
+		}
+		s := slope(c)
+		tol := r.s.MomentTol
+		if c == 0 {
+			tol = r.s.Tol
+		}
+		small := cur[c] <= tol*peak[c] && !math.IsInf(cur[c], 1)
+		if math.IsInf(cur[c], 1) || math.IsNaN(cur[c]) {
+			s = math.Inf(1) // overflowed: growing without bound
+		}
+		gc := r.watchIndex(k, c)
+		if s < -minRate {
+			q := math.Exp(s * r.h)
+			rem := cur[c] * q / (1 - q)
+			lv.rem[gc] += rem
+			if c == 0 {
+				remZ = rem
+			}
+			continue
+		}
+		if small {
+			continue
+		}
+		// The share does not decay: the integral is infinite.
+		if c == 0 {
+			lv.inf[0] = true
+			continue
+		}
+		a := k + (c-1)/4
+		switch (c - 1) % 4 {
+		case 0:
+			lv.inf[flagIndex(d, 0, 1, a)] = true
+		case 1:
+			lv.inf[flagIndex(d, 0, 3, a)] = true
+		case 2:
+			lv.inf[flagIndex(d, 1, 1, a)] = true
+		default:
+			lv.inf[flagIndex(d, 1, 3, a)] = true
+		}
+	}
+	// Odd moments: |y| and |y|^3 lie between the even powers (Lyapunov's
+	// inequality), so their share decays at the mean of the neighbours'
+	// rates.
+	for a := k; a < d; a++ {
+		b := 1 + 4*(a-k)
+		for sc := 0; sc < 2; sc++ {
+			lo, mid, hi := 0, b+2*sc, b+2*sc+1 // 1, y^2, y^4 (or x~^2, x~^4)
+			g1 := math.Sqrt(cur[lo] * cur[mid])
+			if rate := (slope(lo) + slope(mid)) / 2; rate >= -minRate && g1 > r.s.MomentTol*math.Sqrt(peak[lo]*peak[mid]) {
+				lv.inf[flagIndex(d, sc, 0, a)] = true
+			} else if rate < -minRate && g1 > 0 {
+				q := math.Exp(rate * r.h)
+				w := r.lay.wY1(a)
+				if sc == 1 {
+					w = r.lay.wX1(a)
+				}
+				lv.rem[w] += g1 * q / (1 - q)
+			}
+			if rate := (slope(mid) + slope(hi)) / 2; rate >= -minRate && math.Sqrt(cur[mid]*cur[hi]) > r.s.MomentTol*math.Sqrt(peak[mid]*peak[hi]) {
+				lv.inf[flagIndex(d, sc, 2, a)] = true
+			}
+		}
+	}
+	return true, remZ
+}
+
+// watchIndex returns the global watch index of local component c of a
+// walk along axis k.
+func (r *rule) watchIndex(k, c int) int {
+	if c == 0 {
+		return 0
+	}
+	a := k + (c-1)/4
+	switch (c - 1) % 4 {
+	case 0:
+		return r.lay.wY2(a)
+	case 1:
+		return r.lay.wY4(a)
+	case 2:
+		return r.lay.wX2(a)
+	}
+	return r.lay.wX4(a)
+}
+
+// flagIndex returns the index of the flag "the moment of order m+1 of axis
+// a on scale sc (0 unconstrained, 1 original) is infinite"; flag 0 is "the
+// density's integral is infinite".
+func flagIndex(d, sc, m, a int) int { return 1 + sc*4*d + m*d + a }
+
+// recordOthers adds the remainders of the powers of the fixed axes a < k,
+// which are the density's remainder remZ times the powers of their offsets.
+func (r *rule) recordOthers(k int, remZ float64) {
+	if remZ == 0 {
+		return
+	}
+	lv := &r.lv[k]
+	for a := 0; a < k; a++ {
+		y, x := r.y[a], r.x[a]
+		lv.rem[r.lay.wY2(a)] += remZ * y * y
+		lv.rem[r.lay.wY4(a)] += remZ * y * y * y * y
+		lv.rem[r.lay.wX2(a)] += remZ * x * x
+		lv.rem[r.lay.wX4(a)] += remZ * x * x * x * x
+		lv.rem[r.lay.wY1(a)] += remZ * math.Abs(y)
+		lv.rem[r.lay.wX1(a)] += remZ * math.Abs(x)
+	}
+}
+
+// fixedOffsets writes r.y and r.x for the axes a < k of the current point.
+func (r *rule) fixedOffsets(k int) {
+	d := r.d
+	for a := 0; a < k; a++ {
+		s := r.m[a]
+		for b := 0; b <= a; b++ {
+			s += r.L[a*d+b] * r.u[b]
+		}
+		r.y[a] = s - r.m[a]
+		r.x[a] = r.maps[a].ToOriginal(s) - r.xm[a]
+	}
+}

@@ -1,0 +1,419 @@
+package engine
+
+import (
+	"errors"
+	"fmt"
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+
+	"bellcheck/engine/fit"
+	"bellcheck/engine/grid"
+	"bellcheck/engine/quadrature"
+	"bellcheck/engine/transform"
+)
+
+// useQuadrature switches the exact results (log Z, the moments, quantiles,
+// skewness and kurtosis on both scales, the variance and improper
+// verdicts) from the grid to the nested rule of engine/quadrature, which
+// integrates on the unconstrained scale around the modes (those of the
+// mode search, which starts from the grid's peaks, and those that
+// space-filling starts find). It is off while the wiring is incomplete:
+// the reported modes, the comparison and the plots still come from the
+// grid, and six cases of the pathological catalogue expect the grid's
+// behaviour (see DEVELOPERS.md).
+var useQuadrature = false
+
+// quadratureLogZErrMax is the error estimate of log Z above which the
+// nested rule's results are not used (the grid's stay).
+const quadratureLogZErrMax = 1e-3
+
+// exactByQuadrature replaces the reference's exact results by the nested
+// rule's, where it applies and succeeds: every parameter has an
+// unconstrained scale (the support is the whole line, [lo, inf] or [lo,
+// hi]), the user set no box (the grid integrates over the box), and a mode
+// was found. Where it does not, the grid's results stay as they are.
+func (a *analysis) exactByQuadrature() error {
+	q, maps, err := a.integrateNested()
+	if err != nil {
+		return err
+	}
+	if q == nil {
+		a.checkReference()
+		return nil
+	}
+	return a.ref.takeQuadrature(a, q, maps)
+}
+
+// integrateNested runs the nested rule where it applies and returns its
+// result, or nil where it does not apply or does not succeed.
+func (a *analysis) integrateNested() (*quadrature.Result, []transform.Map, error) {
+	if len(a.modes.fitModes) == 0 {
+		return nil, nil, nil
+	}
+	d := a.d
+	maps := make([]transform.Map, d)
+	for k, prm := range a.m.Params {
+		if a.pinned[k][0] || a.pinned[k][1] {
+			return nil, nil, nil
+		}
+		mp := transform.Map{Scale: transform.Identity, Lo: prm.Lo, Hi: prm.Hi}
+		switch {
+		case !math.IsInf(prm.Lo, 0) && !math.IsInf(prm.Hi, 0):
+			mp.Scale = transform.Logit
+		case !math.IsInf(prm.Lo, 0):
+			mp.Scale = transform.Log
+		case !math.IsInf(prm.Hi, 0):
+			return nil, nil, nil // no unconstrained scale for (-inf, hi]
+		}
+		maps[k] = mp
+	}
+	p, err := transform.Wrap(a.ev, maps)
+	if err != nil {
+		return nil, nil, nil
+	}
+	start, ok, err := a.quadratureStart(p, maps)
+	if err != nil || !ok {
+		return nil, nil, err
+	}
+	q, err := quadrature.Integrate(a.ctx, p, start, quadrature.Settings{Maps: maps, Progress: a.tr.at})
+	if err != nil {
+		if ctxErr := a.ctx.Err(); ctxErr != nil {
+			return nil, nil, ctxErr
+		}
+		if errors.Is(err, quadrature.ErrTooLarge) || errors.Is(err, quadrature.ErrNoMass) {
+			return nil, nil, nil
+		}
+		return nil, nil, fmt.Errorf("engine: the nested rule: %w", err)
+	}
+	if !q.Improper && !(q.LogZErr < quadratureLogZErrMax) {
+		return nil, nil, nil
+	}
+	if q.NonFiniteNearMass > 0 {
+		// log p is undefined next to the mass (a region the support does
+		// not declare): the density has an edge the rule does not
+		// resolve; the grid's end corrections handle it.
+		return nil, nil, nil
+	}
+	// A grid that cannot resolve the density has no log Z to check the
+	// rule against (a narrow neck makes it too large); the mode search
+	// starts from the grid's peaks, so a spike the grid sees is among the
+	// modes the rule is centred on, and the comparison stage's ELBO check
+	// still marks the results unresolved when a fit finds mass the rule
+	// missed.
+	return q, maps, nil
+}
+
+// quadratureStart returns the rule's start on the unconstrained scale:
+// the best mode with its curvature, or, where the mode search found
+// several, the Gaussian mixture of the modes (weighted by their masses)
+// summarised by its mean and covariance, which covers them all.
+func (a *analysis) quadratureStart(p *transform.Density, maps []transform.Map) (quadrature.Start, bool, error) {
+	d := a.d
+	var found []polished
+	for _, fm := range a.modes.fitModes {
+		z0 := make([]float64, d)
+		for k := range z0 {
+			z0[k] = maps[k].FromOriginal(a.maps[k].ToOriginal(fm.X[k]))
+		}
+		m, ok, err := a.polish(p, z0)
+		if err != nil {
+			return quadrature.Start{}, false, err
+		}
+		if ok && !seen(found, m) {
+			found = append(found, m)
+		}
+	}
+	if len(found) == 0 {
+		return quadrature.Start{}, false, nil
+	}
+	found, err := a.wideStarts(p, found)
+	if err != nil {
+		return quadrature.Start{}, false, err
+	}
+	if len(found) == 1 {
+		return quadrature.Start{Mode: found[0].x, Cov: nil, NegHessian: inverse(found[0].cov, d)}, true, nil
+	}
+	total := 0.0
+	for _, f := range found {
+		total += f.mass
+	}
+	mean := make([]float64, d)
+	for _, f := range found {
+		for k := range mean {
+			mean[k] += f.mass / total * f.x[k]
+		}
+	}
+	cov := make([]float64, d*d)
+	for _, f := range found {
+		w := f.mass / total
+		for r := 0; r < d; r++ {
+			for c := 0; c < d; c++ {
+				cov[r*d+c] += w * (f.cov[r*d+c] + (f.x[r]-mean[r])*(f.x[c]-mean[c]))
+			}
+		}
+	}
+	return quadrature.Start{Mode: mean, Cov: cov}, true, nil
+}
+
+// polished is a mode on the unconstrained scale: the point, log p there,
+// the inverse of the negative Hessian and the Laplace estimate of its mass
+// (up to a common factor).
+type polished struct {
+	x    []float64
+	logP float64
+	cov  []float64
+	mass float64
+}
+
+// polish runs the Newton search from z0 on the unconstrained scale; ok is
+// false where it finds no mode with a positive definite curvature.
+func (a *analysis) polish(p *transform.Density, z0 []float64) (polished, bool, error) {
+	d := a.d
+	for _, v := range z0 {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return polished{}, false, nil
+		}
+	}
+	ms, err := fit.FindModes(a.ctx, p, [][]float64{z0}, nil, nil)
+	if err != nil {
+		if ctxErr := a.ctx.Err(); ctxErr != nil {
+			return polished{}, false, ctxErr
+		}
+		return polished{}, false, nil
+	}
+	if len(ms) == 0 || !ms[0].PositiveDefinite || !ms[0].Converged {
+		return polished{}, false, nil
+	}
+	nh := make([]float64, d*d)
+	for r := 0; r < d; r++ {
+		for c := 0; c < d; c++ {
+			nh[r*d+c] = -ms[0].Hess.At(r, c)
+		}
+	}
+	cov := inverse(nh, d)
+	if cov == nil {
+		return polished{}, false, nil
+	}
+	var ch mat.Cholesky
+	if !ch.Factorize(mat.NewSymDense(d, append([]float64(nil), cov...))) {
+		return polished{}, false, nil
+	}
+	// Laplace: p(mode) (2 pi)^(d/2) det(cov)^(1/2); the constant cancels.
+	logMass := ms[0].LogDensity + ch.LogDet()/2
+	return polished{x: ms[0].X, logP: ms[0].LogDensity, cov: cov, mass: logMass}, true, nil
+}
+
+// seen reports whether m is one of found: within 1e-3 of its sds.
+func seen(found []polished, m polished) bool {
+	d := len(m.x)
+	for _, f := range found {
+		same := true
+		for k := 0; k < d; k++ {
+			if math.Abs(f.x[k]-m.x[k]) > 1e-3*math.Sqrt(f.cov[k*d+k]) {
+				same = false
+			}
+		}
+		if same {
+			return true
+		}
+	}
+	return false
+}
+
+// wideStarts polishes space-filling starts (a Halton sequence) over a wide
+// box on the unconstrained scale, ten sds of the best mode on each side,
+// besides the grid's peaks: a mode they find that is higher than the
+// search's best by more than rounding is reported (the search's best point
+// was not the global optimum), and every new mode joins the rule's start.
+func (a *analysis) wideStarts(p *transform.Density, found []polished) ([]polished, error) {
+	d := a.d
+	best := found[0]
+	for _, f := range found {
+		if f.logP > best.logP {
+			best = f
+		}
+	}
+	bestBefore := best
+	n := 12 * d
+	primes := [4]float64{2, 3, 5, 7}
+	z := make([]float64, d)
+	for i := 1; i <= n; i++ {
+		for k := 0; k < d; k++ {
+			u := halton(i, primes[k])
+			half := 10 * math.Max(math.Sqrt(best.cov[k*d+k]), 0.3)
+			z[k] = best.x[k] + (2*u-1)*half
+		}
+		m, ok, err := a.polish(p, z)
+		if err != nil {
+			return nil, err
+		}
+		if ok && !seen(found, m) {
+			found = append(found, m)
+		}
+	}
+	for _, f := range found {
+		if f.logP > best.logP {
+			best = f
+		}
+	}
+	if best.logP > bestBefore.logP+1e-9*(1+math.Abs(bestBefore.logP)) {
+		x := make([]float64, d)
+		for k := range x {
+			x[k] = a.maps[k].FromOriginal(p.Maps()[k].ToOriginal(best.x[k]))
+		}
+		a.diag.add(CodeStartsDisagree, SeverityWarning,
+			"Starts spread over a wide region found a higher mode, at %s (log p %.6g against %.6g at the mode search's best): the search's best point is not the highest; the exact results cover both.",
+			a.pointString(x), best.logP, bestBefore.logP)
+	}
+	// Masses relative to the largest (Laplace estimates).
+	top := math.Inf(-1)
+	for _, f := range found {
+		top = math.Max(top, f.mass)
+	}
+	out := found[:0]
+	for _, f := range found {
+		f.mass = math.Exp(f.mass - top)
+		if f.mass > 1e-6 {
+			out = append(out, f)
+		}
+	}
+	return out, nil
+}
+
+// halton returns the i-th element of the van der Corput sequence in base b.
+func halton(i int, b float64) float64 {
+	f, r := 1.0, 0.0
+	for x := float64(i); x > 0; x = math.Floor(x / b) {
+		f /= b
+		r += f * math.Mod(x, b)
+	}
+	return r
+}
+
+// inverse returns the inverse of the symmetric positive definite a (d×d).
+func inverse(a []float64, d int) []float64 {
+	s := mat.NewSymDense(d, append([]float64(nil), a...))
+	var ch mat.Cholesky
+	if !ch.Factorize(s) {
+		return nil
+	}
+	var inv mat.SymDense
+	if ch.InverseTo(&inv) != nil {
+		return nil
+	}
+	out := make([]float64, d*d)
+	for r := 0; r < d; r++ {
+		for c := 0; c < d; c++ {
+			out[r*d+c] = inv.At(r, c)
+		}
+	}
+	return out
+}
+
+// takeQuadrature fills the reference's exact results from q and records
+// what they cannot stand behind: the grid's checks do not run (their
+// verdicts are the grid's), except that a grid that cannot resolve the
+// density keeps the comparisons, made on the grid, out.
+func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []transform.Map) error {
+	d := a.d
+	r.quad = q
+	if posInf, layers := a.gridUnresolved(); posInf > 0 || len(layers) > 0 {
+		a.avail.drop(QuantityComparison, CodeUnresolved)
+		a.avail.drop(QuantityAxisErrors, CodeUnresolved)
+		a.diag.add(CodeUnresolved, SeverityWarning,
+			"The grid cannot resolve the density (a peak or a tail it does not follow): the exact results come from the nested rule around the modes, and the fits' comparisons, which use the grid, are not reported.")
+	}
+	a.checkPrecision()
+	r.singularImproper = false
+	r.tailMass = 0
+	r.logZ, r.logZErr = q.LogZ, q.LogZErr
+	if q.Improper {
+		a.avail.drop(QuantityLogZ, CodeImproper)
+		a.avail.drop(QuantityAxisErrors, CodeImproper)
+		a.diag.add(CodeImproper, SeverityError,
+			"The density does not fall fast enough to be integrable: along some direction its mass per step of the rule's coordinates does not decay, so log Z and the exact moments are not reported.")
+		r.logZ, r.logZErr = math.NaN(), math.NaN()
+		return nil
+	}
+	// The original scale: the rule's own moments; the fitting scale: per
+	// parameter the original (identity fitting scale) or the unconstrained
+	// one (the same log or logit), the cross terms from the node set.
+	fitting := q.MomentsOf(func(z, y []float64) {
+		for k := range z {
+			// The fitting scale is the original one or the same log or
+			// logit map (no round trip: x rounds to a bound far out).
+			y[k] = z[k]
+			if a.maps[k].Scale.IsIdentity() {
+				y[k] = maps[k].ToOriginal(z[k])
+			}
+		}
+	})
+	for k := 0; k < d; k++ {
+		src := &q.Unconstrained
+		if a.maps[k].Scale.IsIdentity() {
+			src = &q.Original
+		}
+		fitting.MeanInfinite[k] = src.MeanInfinite[k]
+		fitting.VarInfinite[k] = src.VarInfinite[k]
+		fitting.SkewnessInfinite[k] = src.SkewnessInfinite[k]
+		fitting.KurtosisInfinite[k] = src.KurtosisInfinite[k]
+	}
+	quant := make([][3]float64, d)
+	for k := 0; k < d; k++ {
+		qs, _, err := q.Quantiles(a.ctx, k, []float64{0.025, 0.5, 0.975})
+		if err != nil {
+			if ctxErr := a.ctx.Err(); ctxErr != nil {
+				return ctxErr
+			}
+			qs = []float64{math.NaN(), math.NaN(), math.NaN()}
+		}
+		copy(quant[k][:], qs)
+	}
+	r.original = gridMoments(q.Original, d, quant, nil)
+	r.fitting = gridMoments(fitting, d, quant, a.maps)
+	for k := 0; k < d; k++ {
+		if fitting.VarInfinite[k] {
+			a.avail.dropAt(QuantityAxisErrors, k, CodeNoVariance)
+		}
+	}
+	return nil
+}
+
+// gridMoments returns m in the reference's form; the tail shares say
+// "does not settle" (+Inf) where the rule found the moment infinite, 0
+// elsewhere. Quantiles are on the original scale, mapped by maps when set.
+func gridMoments(m quadrature.Moments, d int, quant [][3]float64, maps []transform.Map) grid.Moments {
+	g := grid.Moments{
+		Mean: m.Mean, MeanErr: m.MeanErr, Skewness: m.Skewness, ExcessKurtosis: m.ExcessKurtosis,
+		Cov: make([][]float64, d), CovErr: make([][]float64, d), SD: make([]float64, d), Corr: make([][]float64, d),
+		Quantiles: make([][3]float64, d), TailShare: make([]float64, d), AbsTailShare: make([]float64, d),
+		KurtosisTailShare: make([]float64, d),
+	}
+	for k := 0; k < d; k++ {
+		g.Cov[k], g.CovErr[k] = m.Cov[k*d:(k+1)*d], m.CovErr[k*d:(k+1)*d]
+		g.SD[k] = math.Sqrt(m.Cov[k*d+k])
+		for i, v := range quant[k] {
+			if maps != nil {
+				v = maps[k].FromOriginal(v)
+			}
+			g.Quantiles[k][i] = v
+		}
+		if m.VarInfinite[k] {
+			g.TailShare[k] = math.Inf(1)
+		}
+		if m.MeanInfinite[k] {
+			g.AbsTailShare[k] = math.Inf(1)
+		}
+		if m.KurtosisInfinite[k] {
+			g.KurtosisTailShare[k] = math.Inf(1)
+		}
+	}
+	for k := 0; k < d; k++ {
+		g.Corr[k] = make([]float64, d)
+		for l := 0; l < d; l++ {
+			g.Corr[k][l] = m.Cov[k*d+l] / (g.SD[k] * g.SD[l])
+		}
+	}
+	return g
+}
