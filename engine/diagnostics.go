@@ -28,8 +28,13 @@ import (
 //	                                       the curvature there is numerically zero (e.g. exp(-x^4/4) at 0)
 //	mode_on_bound          warning         no Laplace fit: the highest mode lies on a bound of the support
 //	no_mode                error           the mode search found no mode (no Laplace fit)
-//	no_convergence         warning         a reverse-KL fit stopped before its tolerance; its last iterate is shown
-//	                                       and marked (Converged false)
+//	no_convergence         warning         a reverse-KL or the EP fit stopped before its tolerance; its last iterate
+//	                                       is shown and marked (Converged false)
+//	ep_single_factor       info            no EP fit: the density is one factor that cannot be split, so EP would
+//	                                       be the forward-KL fit
+//	ep_improper_site       warning         EP skipped site updates in its last sweep (an improper cavity or
+//	                                       approximation) or a cavity is improper at the end (its log Z is absent)
+//	ep_quadrature          warning         EP's tilted moments carry a quadrature error over 1e-6 with the finest rule
 //	infinite_kl            warning / info  a parameter's support is bounded on its fitting scale, so every Gaussian
 //	                                       has KL(q||p) = inf; warning when the reverse-KL fits do not exist for
 //	                                       that reason; points to the log or logit scale

@@ -26,6 +26,8 @@ const (
 	MeanField
 	// ForwardKL is the Gaussian that minimises KL(p||q): the exact moments.
 	ForwardKL
+	// EP is expectation propagation: moment matching one factor at a time.
+	EP
 	numMethods
 )
 
@@ -46,6 +48,7 @@ var methodInfo = [NumMethods]struct {
 	ReverseKL: {"reverse_kl", "reverse KL", "reverse-KL", "variational Gaussian, minimises KL(q||p)", true},
 	MeanField: {"mean_field", "mean-field", "mean-field", "variational Gaussian with diagonal covariance", true},
 	ForwardKL: {"forward_kl", "forward KL", "forward-KL", "moment matching, minimises KL(p||q)", false},
+	EP:        {"ep", "EP", "EP", "expectation propagation, moment matching one factor at a time", true},
 }
 
 // Methods lists every method in display order.

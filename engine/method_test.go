@@ -11,7 +11,7 @@ import (
 // "JSON output"): each key names one method, in display order, and the
 // Result's fits and plots carry one member per key in that order.
 func TestMethodKeys(t *testing.T) {
-	want := []string{"laplace", "reverse_kl", "mean_field", "forward_kl"}
+	want := []string{"laplace", "reverse_kl", "mean_field", "forward_kl", "ep"}
 	if len(Methods) != len(want) || NumMethods != len(want) {
 		t.Fatalf("%d methods, want %d", len(Methods), len(want))
 	}
@@ -42,7 +42,7 @@ func TestMethodKeys(t *testing.T) {
 		t.Fatal(err)
 	}
 	if s := string(raw); !strings.HasPrefix(s, `{"laplace":null,"reverse_kl":null,"mean_field":{`) ||
-		!strings.HasSuffix(s, `,"forward_kl":null}`) || !strings.Contains(s, `"kl_q_p":null`) {
+		!strings.HasSuffix(s, `,"forward_kl":null,"ep":null}`) || !strings.Contains(s, `"kl_q_p":null`) {
 		t.Errorf("fits JSON %s", s)
 	}
 	m1 := Marginal1D{Param: 1, X: []float64{0}, Exact: []float64{math.NaN()}}
@@ -51,7 +51,7 @@ func TestMethodKeys(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if s := string(raw); s != `{"param":1,"x":[0],"exact":[null],"laplace":null,"reverse_kl":[0.5],"mean_field":null,"forward_kl":null}` {
+	if s := string(raw); s != `{"param":1,"x":[0],"exact":[null],"laplace":null,"reverse_kl":[0.5],"mean_field":null,"forward_kl":null,"ep":null}` {
 		t.Errorf("marginal JSON %s", s)
 	}
 	raw, err = json.Marshal(Ellipses{ReverseKL: {}, ForwardKL: {}})

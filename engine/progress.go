@@ -21,11 +21,12 @@ var stageShares = []struct {
 }{
 	{stageCompile, 0.01},
 	{stageBox, 0.06},
-	{stageGrid, 0.50},
+	{stageGrid, 0.47},
 	{stageModes, 0.06},
 	{stageLaplace, 0.01},
 	{stageReverseKL, 0.12},
 	{stageMeanField, 0.06},
+	{stageEP, 0.03},
 	{stageCompare, 0.14},
 	{stagePlots, 0.04},
 }
@@ -39,6 +40,7 @@ const (
 	stageLaplace   = "laplace"
 	stageReverseKL = "reverse_kl"
 	stageMeanField = "mean_field"
+	stageEP        = "ep"
 	stageCompare   = "compare"
 	stagePlots     = "plots"
 )

@@ -81,10 +81,14 @@ type Fit struct {
 	// -Hessian at the mode for the Laplace fit, -E_q[Hessian] at the
 	// optimum for the reverse-KL fits.
 	Precision [][]float64 `json:"precision,omitempty"`
-	// LogZ is the Laplace evidence estimate (Laplace fit only).
+	// LogZ is the Laplace or the EP evidence estimate (those fits only).
 	LogZ *float64 `json:"log_z,omitempty"`
 	// ELBO is the evidence lower bound (reverse-KL fits only).
 	ELBO *float64 `json:"elbo,omitempty"`
+	// Factors is the number of factors EP approximated by sites, and
+	// ExactFactors the number of Gaussian factors it kept exact (EP only).
+	Factors      *int `json:"factors,omitempty"`
+	ExactFactors *int `json:"exact_factors,omitempty"`
 	// EvidenceErr is LogZ or ELBO minus the grid's log Z.
 	EvidenceErr *float64 `json:"evidence_err,omitempty"`
 

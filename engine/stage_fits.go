@@ -41,6 +41,9 @@ func (a *analysis) fitAll() error {
 	}
 	a.checkELBO(rev, mfit)
 	a.fitForward()
+	if err := a.fitEP(); err != nil {
+		return err
+	}
 	a.boundedKL(infiniteKL)
 	a.dropDegenerate()
 	return nil

@@ -111,6 +111,7 @@ type cliFit struct {
 // the exact column).
 var methodKeys = map[string]string{
 	"exact": "", "Laplace": "laplace", "reverse KL": "reverse_kl", "mean-field": "mean_field", "forward KL": "forward_kl",
+	"EP": "ep",
 }
 
 // numberRE matches a printed number: sign, digits, decimals, exponent.
@@ -235,7 +236,7 @@ func abs(p *float64) *float64 {
 func compareTable(tab resultsTable, res cliJSON) (problems []string, checked int) {
 	var c tableCheck
 	if len(tab.Methods) != len(methodKeys) {
-		c.fail("header", "methods %v, want the exact column and four fits", tab.Methods)
+		c.fail("header", "methods %v, want the exact column and %d fits", tab.Methods, len(methodKeys)-1)
 		return c.problems, 0
 	}
 	keys := make([]string, len(tab.Methods))
@@ -429,8 +430,8 @@ func TestBrowserTableReading(t *testing.T) {
 	one := func(v float64) []*float64 { return []*float64{&v} }
 	res := cliJSON{Params: []string{"x"}, Scales: []string{"identity"}}
 	res.Exact.Mean, res.Exact.SD = one(1.2344), one(0.5)
-	tab := resultsTable{Methods: []string{"exact", "Laplace", "reverse KL", "mean-field", "forward KL"},
-		Sections: []tableSection{{Title: "x", Rows: []tableRow{{Label: "mean", Cells: []tableCell{{V: "1.234"}, {V: "—"}, {V: "—"}, {V: "—"}, {V: "—"}}}}}}}
+	tab := resultsTable{Methods: []string{"exact", "Laplace", "reverse KL", "mean-field", "forward KL", "EP"},
+		Sections: []tableSection{{Title: "x", Rows: []tableRow{{Label: "mean", Cells: []tableCell{{V: "1.234"}, {V: "—"}, {V: "—"}, {V: "—"}, {V: "—"}, {V: "—"}}}}}}}
 	if problems, n := compareTable(tab, res); len(problems) != 0 || n != 1 {
 		t.Errorf("1.234 against 1.2344: problems %v, %d checked; want none, 1", problems, n)
 	}

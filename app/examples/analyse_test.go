@@ -48,3 +48,30 @@ func TestEveryExampleAnalyses(t *testing.T) {
 		}
 	}
 }
+
+// TestSeparationShowsEP checks what the "separation" example says: EP
+// exists, converged, and its standard deviations are wider than the
+// reverse-KL fit's and nearer the exact ones.
+func TestSeparationShowsEP(t *testing.T) {
+	e, ok := ByID("separation")
+	if !ok {
+		t.Fatal("no separation example")
+	}
+	m, err := model.Parse(e.Source)
+	if err != nil {
+		t.Fatal(err)
+	}
+	r, err := engine.Analyse(context.Background(), m, engine.Options{}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ep, rev := r.Fits[engine.EP], r.Fits[engine.ReverseKL]
+	if ep == nil || rev == nil || !ep.Converged {
+		t.Fatalf("EP %v, reverse KL %v", ep, rev)
+	}
+	for k := range ep.SD {
+		if !(ep.SD[k] > 1.05*rev.SD[k] && ep.SD[k] < r.Exact.SD[k]) {
+			t.Errorf("parameter %d: EP sd %g, reverse-KL %g, exact %g", k, ep.SD[k], rev.SD[k], r.Exact.SD[k])
+		}
+	}
+}

@@ -23,6 +23,7 @@ func TestEveryExampleParses(t *testing.T) {
 		"oscillator":   {"w", "zeta"},
 		"lorenz-short": {"x0", "y0", "z0"},
 		"lorenz-long":  {"x0", "y0", "z0"},
+		"separation":   {"a", "b"},
 	}
 	seen := map[string]bool{}
 	for _, e := range All {

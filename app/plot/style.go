@@ -16,6 +16,7 @@ const (
 	ReverseKL = Method(1 + engine.ReverseKL)
 	MeanField = Method(1 + engine.MeanField)
 	ForwardKL = Method(1 + engine.ForwardKL)
+	EP        = Method(1 + engine.EP)
 )
 
 // NumMethods is the number of curves: the length of arrays indexed by
@@ -51,7 +52,7 @@ type Style struct {
 	// description.
 	Name, Long string
 	// Key is the method's name in the engine's JSON ("exact", "laplace",
-	// "reverse_kl", "mean_field", "forward_kl").
+	// "reverse_kl", "mean_field", "forward_kl", "ep").
 	Key string
 	// Colour is "#rrggbb"; Dash an SVG stroke-dasharray ("" for solid);
 	// Width the stroke width in CSS pixels.
@@ -76,9 +77,10 @@ var (
 	exactLook = look{"#1b2127", "", 2.2}
 	fitLooks  = [engine.NumMethods]look{
 		engine.Laplace:   {"#c36121", "7 3", 1.7},
-		engine.ReverseKL: {"#1a3886", "1.5 2.5", 2.0},
-		engine.MeanField: {"#7d2e82", "10 3 2 3", 1.5},
-		engine.ForwardKL: {"#0f7a6a", "4 2", 1.7},
+		engine.ReverseKL: {"#1e3d8b", "1.5 2.5", 2.0},
+		engine.MeanField: {"#803184", "10 3 2 3", 1.5},
+		engine.ForwardKL: {"#147d6c", "4 2", 1.7},
+		engine.EP:        {"#5c1211", "5 2 1.5 2 1.5 2", 1.7},
 	}
 	otherLook = look{"#5f6670", "2 2 6 2", 1.5}
 )

@@ -201,8 +201,10 @@ func TestExportTableMatchesTheResultsTable(t *testing.T) {
 	}
 	secs := Table(resultFor(m), m)
 	tb := ExportTable(secs)
-	if len(tb.Columns) != 5 || len(tb.Groups) != len(secs) {
-		t.Fatalf("%d columns, %d groups; want 5 and %d", len(tb.Columns), len(tb.Groups), len(secs))
+	// The exact column and one per fit: the density is Gaussian, so every
+	// fit exists (EP keeps both factors exact).
+	if len(tb.Columns) != 1+engine.NumMethods || len(tb.Groups) != len(secs) {
+		t.Fatalf("%d columns, %d groups; want %d and %d", len(tb.Columns), len(tb.Groups), 1+engine.NumMethods, len(secs))
 	}
 	for gi, sec := range secs {
 		g := tb.Groups[gi]

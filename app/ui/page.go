@@ -532,6 +532,8 @@ func stageName(s string) string {
 		return "mean-field fit"
 	case "forward_kl":
 		return "moment matching"
+	case "ep":
+		return "expectation propagation"
 	case "compare":
 		return "comparing"
 	case "plots":

@@ -7,17 +7,15 @@ import (
 	"bellcheck/engine/model"
 )
 
-// Compile compiles a checked model (from model.Parse) to an evaluator of its
-// log-density. For a model given as a cost the evaluator negates it, so it
-// always returns the log-density. Where a parameter has a support [lo, hi]
-// the log-density is -Inf outside it.
-func Compile(m *model.Model) (*Evaluator, error) {
+// buildDensity checks that m is a checked model of 1 to 4 parameters and
+// builds its log-density (as written: a cost is not yet negated) into a new
+// compiler's graph, returning the compiler and the density's node.
+func buildDensity(m *model.Model) (*compiler, int32, error) {
 	if m == nil || m.Density == nil {
-		return nil, &Error{Msg: "model has no density statement", Err: ErrNotChecked}
+		return nil, 0, &Error{Msg: "model has no density statement", Err: ErrNotChecked}
 	}
-	dim := len(m.Params)
-	if dim < 1 || dim > model.MaxParams {
-		return nil, &Error{Msg: "a model needs 1 to 4 parameters", Err: ErrTooManyParams}
+	if dim := len(m.Params); dim < 1 || dim > model.MaxParams {
+		return nil, 0, &Error{Msg: "a model needs 1 to 4 parameters", Err: ErrTooManyParams}
 	}
 	c := &compiler{m: m, b: newBuilder(), defs: make([]int32, len(m.Defs)), state: make([]uint8, len(m.Defs)),
 		blocks: map[*model.BlockStmt][]int32{}}
@@ -28,8 +26,22 @@ func Compile(m *model.Model) (*Evaluator, error) {
 		b.fail(ErrShape, "the density must be a scalar, but this is a vector of %d elements", b.nd(root).n)
 	}
 	if b.err != nil {
-		return nil, b.err
+		return nil, 0, b.err
 	}
+	return c, root, nil
+}
+
+// Compile compiles a checked model (from model.Parse) to an evaluator of its
+// log-density. For a model given as a cost the evaluator negates it, so it
+// always returns the log-density. Where a parameter has a support [lo, hi]
+// the log-density is -Inf outside it.
+func Compile(m *model.Model) (*Evaluator, error) {
+	c, root, err := buildDensity(m)
+	if err != nil {
+		return nil, err
+	}
+	b := c.b
+	dim := len(m.Params)
 	if m.Form == model.Cost {
 		root = b.un(opNeg, root, 0)
 	}

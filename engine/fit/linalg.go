@@ -4,6 +4,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"bellcheck/engine/internal/dense"
 )
 
 // Small dense routines on row-major d×d slices, for the few-parameter
@@ -15,97 +17,26 @@ import (
 // treated as not positive definite (its condition number exceeds ~1e13).
 const pivotTol = 1e-13
 
-// cholesky writes into c the lower-triangular factor C of the symmetric matrix
-// a (only its lower triangle is read), a = C Cᵀ, and reports whether a is
-// numerically positive definite. c and a may not alias.
-func cholesky(c, a []float64, d int) bool {
-	for i := range c[:d*d] {
-		c[i] = 0
-	}
-	for j := 0; j < d; j++ {
-		ajj := a[j*d+j]
-		s := ajj
-		for k := 0; k < j; k++ {
-			s -= c[j*d+k] * c[j*d+k]
-		}
-		if !(s > pivotTol*ajj) || math.IsInf(s, 0) {
-			return false
-		}
-		cjj := math.Sqrt(s)
-		c[j*d+j] = cjj
-		for i := j + 1; i < d; i++ {
-			t := a[i*d+j]
-			for k := 0; k < j; k++ {
-				t -= c[i*d+k] * c[j*d+k]
-			}
-			c[i*d+j] = t / cjj
-		}
-	}
-	return true
-}
+// cholesky factorises a = C Cᵀ (dense.Cholesky with pivotTol).
+func cholesky(c, a []float64, d int) bool { return dense.Cholesky(c, a, d, pivotTol) }
 
-// forwardSolve overwrites b with C⁻¹ b for the lower-triangular c.
-func forwardSolve(c, b []float64, d int) {
-	for i := 0; i < d; i++ {
-		s := b[i]
-		for k := 0; k < i; k++ {
-			s -= c[i*d+k] * b[k]
-		}
-		b[i] = s / c[i*d+i]
-	}
-}
+// forwardSolve overwrites b with C⁻¹ b.
+func forwardSolve(c, b []float64, d int) { dense.ForwardSolve(c, b, d) }
 
-// backSolve overwrites b with C⁻ᵀ b for the lower-triangular c.
-func backSolve(c, b []float64, d int) {
-	for i := d - 1; i >= 0; i-- {
-		s := b[i]
-		for k := i + 1; k < d; k++ {
-			s -= c[k*d+i] * b[k]
-		}
-		b[i] = s / c[i*d+i]
-	}
-}
+// backSolve overwrites b with C⁻ᵀ b.
+func backSolve(c, b []float64, d int) { dense.BackSolve(c, b, d) }
 
 // cholSolve overwrites b with a⁻¹ b where a = C Cᵀ.
-func cholSolve(c, b []float64, d int) {
-	forwardSolve(c, b, d)
-	backSolve(c, b, d)
-}
+func cholSolve(c, b []float64, d int) { dense.CholSolve(c, b, d) }
 
-// cholInverse writes a⁻¹ into inv (full, symmetric) where a = C Cᵀ; col is
-// scratch of length d.
-func cholInverse(c, inv, col []float64, d int) {
-	for j := 0; j < d; j++ {
-		for i := range col[:d] {
-			col[i] = 0
-		}
-		col[j] = 1
-		cholSolve(c, col, d)
-		for i := 0; i < d; i++ {
-			inv[i*d+j] = col[i]
-		}
-	}
-	symmetrize(inv, d)
-}
+// cholInverse writes a⁻¹ into inv where a = C Cᵀ; col is scratch.
+func cholInverse(c, inv, col []float64, d int) { dense.CholInverse(c, inv, col, d) }
 
 // cholLogDet returns log det a for a = C Cᵀ.
-func cholLogDet(c []float64, d int) float64 {
-	s := 0.0
-	for i := 0; i < d; i++ {
-		s += math.Log(c[i*d+i])
-	}
-	return 2 * s
-}
+func cholLogDet(c []float64, d int) float64 { return dense.CholLogDet(c, d) }
 
 // symmetrize replaces a by (a + aᵀ)/2.
-func symmetrize(a []float64, d int) {
-	for i := 0; i < d; i++ {
-		for j := 0; j < i; j++ {
-			m := 0.5 * (a[i*d+j] + a[j*d+i])
-			a[i*d+j], a[j*d+i] = m, m
-		}
-	}
-}
+func symmetrize(a []float64, d int) { dense.Symmetrize(a, d) }
 
 // symFromSlice returns a new SymDense holding the full row-major a.
 func symFromSlice(a []float64, d int) *mat.SymDense {

@@ -1,0 +1,394 @@
+package ep
+
+import (
+	"context"
+	"fmt"
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+
+	"bellcheck/engine/hermite"
+)
+
+// site is a factor's Gaussian approximation during the run.
+type site struct {
+	factor  int
+	a       []float64 // direction: a rank-one site; nil: a full site
+	tau, nu float64   // rank-one site in s = a^T x
+	prec    []float64 // full site
+	lin     []float64
+	logZ    float64
+}
+
+// runner holds the state of one run.
+type runner struct {
+	fs    Factors
+	s     Settings
+	d     int
+	konst float64   // constant of the log-density and of its Gaussian part
+	gauss *gaussian // the Gaussian part (natural parameters only)
+	q     *gaussian // the approximation
+	trial *gaussian // scratch: the approximation after a trial update
+	cav   *gaussian // scratch: a cavity
+	sites []site
+	exact int
+
+	rule1 rule1d
+	ruleN ruleNd
+	xs    []float64 // scratch: quadrature points
+	lf    []float64 // scratch: log-factor values
+	sa    []float64 // scratch: cov a
+	tmp   []float64 // scratch d*d
+
+	skipped            int
+	quadErr1, quadErrN float64 // the last pass's quadrature error estimates
+	oneDim, full       int
+	damping            float64
+}
+
+// rule1d is a Gauss-Hermite rule for the standard normal.
+type rule1d struct{ z, lw []float64 }
+
+// ruleNd is a tensor Gauss-Hermite rule for the standard normal in d
+// dimensions: node k is z[k*d : (k+1)*d].
+type ruleNd struct{ z, lw []float64 }
+
+func newRule1d(n int) rule1d {
+	x, w := hermite.Rule(n)
+	r := rule1d{z: make([]float64, len(x)), lw: make([]float64, len(x))}
+	for i := range x {
+		// x = z/sqrt(2) turns the weight e^(-x^2) into the standard normal.
+		r.z[i] = x[i] * math.Sqrt2
+		r.lw[i] = math.Log(w[i] / math.SqrtPi)
+	}
+	return r
+}
+
+func newRuleNd(d, n int) ruleNd {
+	one := newRule1d(n)
+	n = len(one.z)
+	size := 1
+	for range d {
+		size *= n
+	}
+	r := ruleNd{z: make([]float64, size*d), lw: make([]float64, size)}
+	idx := make([]int, d)
+	for k := 0; k < size; k++ {
+		for i := 0; i < d; i++ {
+			r.z[k*d+i] = one.z[idx[i]]
+			r.lw[k] += one.lw[idx[i]]
+		}
+		for i := 0; i < d; i++ {
+			if idx[i]++; idx[i] < n {
+				break
+			}
+			idx[i] = 0
+		}
+	}
+	return r
+}
+
+func newRunner(fs Factors, s Settings) (*runner, error) {
+	d := fs.Dim()
+	if s.Nodes1D > hermite.MaxNodes || s.NodesPerAxis > hermite.MaxNodes {
+		return nil, fmt.Errorf("%w: more than %d quadrature nodes per axis", ErrBadInput, hermite.MaxNodes)
+	}
+	r := &runner{fs: fs, s: s, d: d, gauss: newGaussian(d), q: newGaussian(d), trial: newGaussian(d),
+		cav: newGaussian(d), sa: make([]float64, d), tmp: make([]float64, d*d), damping: s.Damping}
+	r.rule1 = newRule1d(s.Nodes1D)
+	x0 := make([]float64, d)
+	if s.Start != nil {
+		copy(x0, s.Start)
+	}
+	r.konst = fs.Const()
+	g, h := make([]float64, d), make([]float64, d*d)
+	for i := 0; i < fs.Len(); i++ {
+		if s.SitesForAll || !fs.Quadratic(i) {
+			st := site{factor: i}
+			a := fs.Direction(i)
+			if a == nil && d == 1 {
+				a = []float64{1} // with one parameter every factor is one-dimensional
+			}
+			if a != nil {
+				if len(a) != d {
+					return nil, fmt.Errorf("%w: factor %d has a direction of %d coordinates", ErrBadInput, i, len(a))
+				}
+				st.a = append([]float64(nil), a...)
+			} else {
+				st.prec, st.lin = make([]float64, d*d), make([]float64, d)
+			}
+			r.sites = append(r.sites, st)
+			continue
+		}
+		// log f(x) = v + g^T (x - x0) + (x - x0)^T H (x - x0) / 2 exactly.
+		v := fs.LogDerivs(i, x0, g, h)
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, fmt.Errorf("%w: Gaussian factor %d is %v at the start", ErrBadInput, i, v)
+		}
+		mulVec(r.tmp[:d], h, x0, d)
+		r.konst += v - dot(g, x0) + 0.5*dot(x0, r.tmp[:d])
+		for j := 0; j < d; j++ {
+			r.gauss.lin[j] += g[j] - r.tmp[j]
+			for k := 0; k < d; k++ {
+				r.gauss.prec[j*d+k] -= h[j*d+k]
+			}
+		}
+		r.exact++
+	}
+	if len(r.sites) > 0 && !allOneDim(r.sites) {
+		size := 1
+		for range d {
+			size *= s.NodesPerAxis
+		}
+		if size > 1<<20 {
+			return nil, fmt.Errorf("%w: a cubature of %d^%d nodes", ErrBadInput, s.NodesPerAxis, d)
+		}
+		r.ruleN = newRuleNd(d, s.NodesPerAxis)
+	}
+	r.q.copyFrom(r.gauss)
+	copy(r.q.prec, r.gauss.prec)
+	copy(r.q.lin, r.gauss.lin)
+	if r.q.moments() {
+		return r, nil
+	}
+	if len(r.sites) == 1 {
+		return nil, ErrSingleFactor
+	}
+	// The Gaussian part is not proper: start every site at its factor's
+	// second-order expansion at x0 where that is concave.
+	for k := range r.sites {
+		st := &r.sites[k]
+		v := fs.LogDerivs(st.factor, x0, g, h)
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			continue
+		}
+		if st.a != nil {
+			aa := dot(st.a, st.a)
+			mulVec(r.tmp[:d], h, st.a, d)
+			c := dot(st.a, r.tmp[:d]) / (aa * aa) // second derivative in s
+			g1 := dot(st.a, g) / aa               // first derivative in s
+			if c < 0 {
+				s0 := dot(st.a, x0)
+				st.tau, st.nu = -c, -c*s0+g1
+			}
+			continue
+		}
+		if !psdPart(st.prec, negated(h, r.cav.prec), d) {
+			continue // not concave here: the site starts flat
+		}
+		mulVec(st.lin, st.prec, x0, d)
+		for j := range st.lin {
+			st.lin[j] += g[j]
+		}
+	}
+	r.rebuild()
+	if !r.q.moments() {
+		return nil, ErrImproper
+	}
+	return r, nil
+}
+
+// psdPart writes into out the positive semi-definite part of the
+// symmetric a (its eigen-decomposition with the negative eigenvalues set to
+// 0) and reports whether that part is not zero.
+func psdPart(out, a []float64, d int) bool {
+	var eig mat.EigenSym
+	if !eig.Factorize(mat.NewSymDense(d, append([]float64(nil), a...)), true) {
+		return false
+	}
+	vals := eig.Values(nil)
+	var vecs mat.Dense
+	eig.VectorsTo(&vecs)
+	clear(out)
+	some := false
+	for k, l := range vals {
+		if !(l > 0) || math.IsInf(l, 0) {
+			continue
+		}
+		some = true
+		for i := 0; i < d; i++ {
+			for j := 0; j < d; j++ {
+				out[i*d+j] += l * vecs.At(i, k) * vecs.At(j, k)
+			}
+		}
+	}
+	return some
+}
+
+func negated(h, out []float64) []float64 {
+	for i := range h {
+		out[i] = -h[i]
+	}
+	return out
+}
+
+func allOneDim(sites []site) bool {
+	for _, s := range sites {
+		if s.a == nil {
+			return false
+		}
+	}
+	return true
+}
+
+// rebuild sets the approximation's natural parameters to the Gaussian part
+// plus every site (afresh, so rounding does not accumulate).
+func (r *runner) rebuild() {
+	d := r.d
+	copy(r.q.prec, r.gauss.prec)
+	copy(r.q.lin, r.gauss.lin)
+	for k := range r.sites {
+		addSite(r.q, &r.sites[k], 1, d)
+	}
+}
+
+// addSite adds sign times the site to g's natural parameters.
+func addSite(g *gaussian, st *site, sign float64, d int) {
+	if st.a != nil {
+		for i := 0; i < d; i++ {
+			g.lin[i] += sign * st.nu * st.a[i]
+			for j := 0; j < d; j++ {
+				g.prec[i*d+j] += sign * st.tau * st.a[i] * st.a[j]
+			}
+		}
+		return
+	}
+	for i := 0; i < d; i++ {
+		g.lin[i] += sign * st.lin[i]
+	}
+	for i := range st.prec {
+		g.prec[i] += sign * st.prec[i]
+	}
+}
+
+// run sweeps until convergence or the sweep budget.
+func (r *runner) run(ctx context.Context) (*Result, error) {
+	d := r.d
+	res := &Result{Exact: r.exact}
+	for _, st := range r.sites {
+		if st.a != nil {
+			res.OneDim++
+		}
+	}
+	if len(r.sites) == 0 {
+		res.Status, res.Converged = NoSites, true
+		return r.finish(res), nil
+	}
+	for _, st := range r.sites {
+		if st.a != nil {
+			r.oneDim++
+		} else {
+			r.full++
+		}
+	}
+	prevMean := make([]float64, d)
+	prevCov := make([]float64, d*d)
+	prevChange := math.Inf(1)
+	sweep := 0
+	for {
+		res.Status, res.Converged = MaxSweeps, false
+		for sweep < r.s.MaxSweeps {
+			sweep++
+			if err := ctx.Err(); err != nil {
+				return nil, err
+			}
+			copy(prevMean, r.q.mean)
+			copy(prevCov, r.q.cov)
+			skipped := 0
+			for k := range r.sites {
+				if !r.update(&r.sites[k]) {
+					skipped++
+				}
+				if r.s.Tick != nil {
+					if err := r.s.Tick(); err != nil {
+						return nil, err
+					}
+				}
+			}
+			r.skipped += skipped
+			r.rebuild()
+			if !r.q.moments() {
+				return nil, fmt.Errorf("ep: the approximation became improper in sweep %d", sweep)
+			}
+			change := moveOf(prevMean, prevCov, r.q.mean, r.q.cov, d)
+			res.Sweeps, res.Change, res.SkippedLast = sweep, change, skipped
+			if r.s.Progress != nil {
+				if err := r.s.Progress(sweep, change); err != nil {
+					return nil, err
+				}
+			}
+			if change < r.s.Tol && skipped == 0 {
+				res.Status, res.Converged = Converged, true
+				break
+			}
+			if sweep > 1 && change > prevChange && r.damping > r.s.MinDamping {
+				r.damping = math.Max(r.damping/2, r.s.MinDamping)
+			}
+			prevChange = change
+		}
+		r.finish(res)
+		// A finer rule where the tilted moments' quadrature error is too
+		// large, and more sweeps from where the sites are.
+		if !(res.QuadratureError > r.s.QuadTol) || sweep >= r.s.MaxSweeps || !r.refine() {
+			return res, nil
+		}
+		res.Refinements++
+		prevChange = math.Inf(1)
+	}
+}
+
+// refine raises the orders of the rules whose error estimate exceeds
+// QuadTol (about doubling them) and reports false when they are at their
+// limits.
+func (r *runner) refine() bool {
+	more := false
+	if n := min(2*r.s.Nodes1D, maxNodes1D); n > r.s.Nodes1D && r.oneDim > 0 && r.quadErr1 > r.s.QuadTol {
+		r.s.Nodes1D = n
+		r.rule1 = newRule1d(n)
+		more = true
+	}
+	// Full sites: double the order per axis, or raise it as far as the
+	// cap on the cubature's nodes allows.
+	n := min(2*r.s.NodesPerAxis, maxNodes1D)
+	for n > r.s.NodesPerAxis && pow(n, r.d) > r.s.MaxCubatureNodes {
+		n--
+	}
+	if r.full > 0 && r.quadErrN > r.s.QuadTol && n > r.s.NodesPerAxis {
+		r.s.NodesPerAxis = n
+		r.ruleN = newRuleNd(r.d, n)
+		more = true
+	}
+	return more
+}
+
+// maxNodes1D bounds the order of a one-dimensional rule when it is refined.
+const maxNodes1D = 512
+
+func pow(n, d int) int {
+	p := 1
+	for range d {
+		p *= n
+	}
+	return p
+}
+
+// moveOf measures the change between two Gaussians: the largest mean shift
+// in standard deviations, relative change of a standard deviation, and
+// change of a correlation.
+func moveOf(m0, c0, m1, c1 []float64, d int) float64 {
+	worst := 0.0
+	for i := 0; i < d; i++ {
+		s0, s1 := math.Sqrt(c0[i*d+i]), math.Sqrt(c1[i*d+i])
+		worst = math.Max(worst, math.Abs(m1[i]-m0[i])/s1)
+		worst = math.Max(worst, math.Abs(s1-s0)/s1)
+		for j := 0; j < i; j++ {
+			r0 := c0[i*d+j] / (s0 * math.Sqrt(c0[j*d+j]))
+			r1 := c1[i*d+j] / (s1 * math.Sqrt(c1[j*d+j]))
+			worst = math.Max(worst, math.Abs(r1-r0))
+		}
+	}
+	if math.IsNaN(worst) {
+		return math.Inf(1)
+	}
+	return worst
+}
