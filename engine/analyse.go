@@ -84,6 +84,13 @@ func (a *analysis) run() (*Result, error) {
 	if err := a.setup(); err != nil {
 		return nil, err
 	}
+	if err := a.checkCandidates(); err != nil {
+		return nil, err
+	}
+	live, err := a.liveConstants()
+	if err != nil {
+		return nil, err
+	}
 	if err := a.findReference(); err != nil {
 		return nil, err
 	}
@@ -98,11 +105,15 @@ func (a *analysis) run() (*Result, error) {
 	if err := a.fitAll(); err != nil {
 		return nil, err
 	}
+	a.addCandidates()
 	if err := a.compareFits(); err != nil {
 		return nil, err
 	}
 	a.settleExact()
 	res := a.report()
+	res.Live = live
+	a.fillCosts(res)
+	a.compareCurvatures(res)
 	a.gridDiagnostics()
 	if a.opts.Plots {
 		a.tr.enter(stagePlots)

@@ -16,7 +16,8 @@ type OptionProblem struct {
 	// whole) and Name its name.
 	Param int
 	Name  string
-	// Field is the option at fault: "points", "scale" or "box".
+	// Field is the option at fault: "points", "scale" or "box" (or
+	// "candidates" or "vary" for the options as a whole).
 	Field string
 	// Reason says what is wrong, in words.
 	Reason string
@@ -98,5 +99,5 @@ func CheckOptions(m *model.Model, opts Options) []OptionProblem {
 			bad("box", "box [%g, %g] is too narrow for %d grid points in floating point (the spacing must exceed 1e-9 of the bounds' size)", lo, hi, n)
 		}
 	}
-	return out
+	return append(out, checkCandidatesAndVary(m, opts)...) // candidate.go, live.go
 }

@@ -24,6 +24,10 @@ type fitted struct {
 	run    Fit
 	q      *gauss.Prepared
 	orig   pushed
+	// candidate is the name of a user's Gaussian (candidate.go), "" for a
+	// fit method; index is its place in Options.Candidates.
+	candidate string
+	index     int
 }
 
 // fitAll is the fits stage: the Laplace fit at the highest mode, the

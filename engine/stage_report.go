@@ -29,7 +29,7 @@ func (a *analysis) fillFits(res *Result) {
 	for i, f := range a.fits {
 		out := new(Fit)
 		*out = f.run
-		res.Fits[f.method] = out
+		*a.place(res, f) = out
 		a.fillFit(out, f, a.cmp[i])
 		if !a.avail.present(QuantityLogZ) {
 			continue
@@ -51,7 +51,7 @@ func (a *analysis) fillFits(res *Result) {
 // says is absent.
 func (a *analysis) fillFit(f *Fit, fd fitted, c compare.Result) {
 	d := a.d
-	g, m := fd.g, int(fd.method)
+	g, m := fd.g, fd.slot()
 	fs := &f.FittingScale
 	fs.Mean = slices.Clone(g.Mean)
 	fs.Cov = gauss.Rows(g.Cov)
@@ -133,12 +133,12 @@ func (a *analysis) pushFits() {
 				ok = ok && finite(p.cov[k][l])
 			}
 			if !ok {
-				a.avail.set(entry{QuantityFitMoments, int(fd.method), k}, CodeOverflow)
+				a.avail.set(entry{QuantityFitMoments, fd.slot(), k}, CodeOverflow)
 				over = append(over, a.names[k])
 			}
 		}
 		if len(over) > 0 {
-			names = append(names, "the "+fd.method.term()+" fit's "+list(over))
+			names = append(names, fd.noun()+"'s "+list(over))
 		}
 	}
 	if len(names) > 0 {
@@ -193,7 +193,7 @@ func (a *analysis) pushforward(g gauss.Gaussian) (mean, s []float64, c, corr [][
 func (a *analysis) fillOriginalErrors(res *Result) {
 	ex := &res.Exact
 	for _, fd := range a.fits {
-		out := res.Fits[fd.method]
+		out := *a.place(res, fd)
 		for k := 0; k < a.d; k++ {
 			if a.maps[k].Scale.IsIdentity() {
 				continue

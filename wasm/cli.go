@@ -14,6 +14,7 @@ import (
 	"strings"
 	"time"
 
+	"bellcheck/app/export"
 	"bellcheck/engine"
 	"bellcheck/engine/model"
 )
@@ -42,6 +43,8 @@ func runFit(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	fs.SetOutput(stderr)
 	asJSON := fs.Bool("json", false, "print the result as JSON")
 	plots := fs.Bool("plots", false, "include plot data (marginal curves) in the JSON")
+	markdown := fs.Bool("markdown", false, "print the comparison (and the two curvatures) as Markdown tables")
+	latex := fs.Bool("latex", false, "print the comparison (and the two curvatures) as LaTeX tabulars")
 	var in fitInputs // --data, --scale, --points, --box (cli_options.go)
 	in.define(fs)
 	maxTime := fs.Duration("max-time", defaultMaxTime, "refuse an analysis forecast to take longer, and stop one that does (0: no bound)")
@@ -105,6 +108,18 @@ func runFit(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		if err := enc.Encode(res); err != nil {
 			fmt.Fprintf(stderr, "bellcheck: %v\n", err)
 			return exitModel
+		}
+		return exitOK
+	}
+	if *markdown || *latex {
+		format := export.Markdown
+		if *latex {
+			format = export.LaTeX
+		}
+		out := visibleWriter{stdout}
+		fmt.Fprint(out, format(export.ResultTable(res)))
+		if ct, ok := export.CurvatureTable(res); ok {
+			fmt.Fprint(out, "\n"+format(ct))
 		}
 		return exitOK
 	}

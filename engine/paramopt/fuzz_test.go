@@ -19,10 +19,18 @@ func FuzzLines(f *testing.F) {
 		"  #@ box σ=0.5:\nparam σ in [0, 1]\nld_beta(σ, 2, 2)",
 		"#@\n-x^2", "#@ scal x=1\n-x^2", "#@ box x=1:0\n-x^2", "#@ points x=1e9\n-x^2",
 		"#@ scale x=logit\nparam x in [0, 1]\r\n-x", "\uFEFF#@ box x=-1e308:1e308\n-x^2",
+		"#@ vary k=0.5:2\nk = 1\n-x^2/k", "#@ vary k=2:1\nk = 1\n-x^2/k",
+		"#@ gaussian g mean.x=0 sd.x=1\n-x^2", "#@ gaussian g mean.x=0 cov.x.x=-1\n-x^2", "#@ gaussian\n-x^2",
 	} {
 		f.Add(s)
 	}
 	f.Fuzz(func(t *testing.T, src string) {
+		if _, err := CandidateLines(src); err != nil {
+			var e *Error
+			if !errors.As(err, &e) || e.Line < 1 || e.Line > strings.Count(src, "\n")+1 || e.Col < 1 || e.Msg == "" {
+				t.Fatalf("candidate error %v (%T)", err, err)
+			}
+		}
 		settings, err := Lines(src)
 		if err != nil {
 			var e *Error
