@@ -135,7 +135,15 @@ func testTwoTabs(t *testing.T, b *browser, srv *siteServer) {
 	t2.waitDone(t, 1, 60*time.Second)
 	t1.editModel(t, one+"# edited in the first tab\n")
 	t1.waitDone(t, 2, 60*time.Second)
-	got := keptModels(t, t1)
+	// The page writes its state ui.PersistDelay after a check of typed
+	// text, off the path to the result: wait for the write.
+	var got []string
+	for deadline := time.Now().Add(5 * time.Second); ; time.Sleep(100 * time.Millisecond) {
+		got = keptModels(t, t1)
+		if has(got, one+"# edited in the first tab\n") || time.Now().After(deadline) {
+			break
+		}
+	}
 	if !has(got, one+"# edited in the first tab\n") || !has(got, two) {
 		t.Errorf("two tabs: the storage keeps %q, want both tabs' models", got)
 	}
