@@ -59,7 +59,7 @@ var absentReasons = map[Quantity][]string{
 	ReverseKL.quantity(): {CodeInfiniteKL, CodeFitFailed, CodeUnresolved},
 	MeanField.quantity(): {CodeInfiniteKL, CodeFitFailed, CodeUnresolved},
 	ForwardKL.quantity(): {CodeNoVariance, CodeImproper, CodeFitFailed, CodeUnresolved},
-	EP.quantity():        {CodeEPSingleFactor, CodeFitFailed, CodeUnresolved},
+	EP.quantity():        {CodeEPSingleFactor, CodeEPImproperSite, CodeFitFailed, CodeUnresolved},
 	QuantityLogZ:         {CodeImproper, CodeUnresolved, CodeOverflow},
 	QuantityMean:         {CodeNoMean, CodeImproper, CodeUnresolved, CodeOverflow},
 	QuantityVariance:     {CodeNoVariance, CodeImproper, CodeUnresolved, CodeOverflow},

@@ -117,6 +117,16 @@ func (a *analysis) fitEP() error {
 		lz := r.LogZ
 		run.LogZ = &lz
 	}
+	if !r.Converged && (r.SkippedLast > 0 || r.UnsettledTilted > 0) {
+		// A run that neither settled nor could update its sites has no
+		// state worth showing: its last iterate can be far from any
+		// moment of the density (a misleading number is worse than none).
+		a.avail.drop(EP.quantity(), CodeEPImproperSite)
+		a.diag.add(CodeEPImproperSite, SeverityWarning,
+			"No EP fit: it did not converge in %d sweeps and could not update every site (in its last sweep %d of %d site updates were skipped: a cavity, or the approximation after an update, was not a proper Gaussian; %d tilted distributions could not be integrated).",
+			r.Sweeps, r.SkippedLast, nSites, r.UnsettledTilted)
+		return nil
+	}
 	a.fits = append(a.fits, fitted{method: EP, g: g, run: run})
 	if !r.Converged {
 		a.diag.add(CodeNoConvergence, SeverityWarning,
