@@ -84,21 +84,27 @@ func (a *analysis) settleExact() {
 // dropOverflow records as absent, with a diagnostic, the exact moments and
 // quantiles that came out of the grid's sums as NaN or infinite: on the
 // original scale of a log- or logit-scaled parameter x = e^z overflows
-// where the box reaches z > 709. A covariance left out makes its row and
-// column bad for the parameters after it, as in the Result.
+// where the box reaches z > 709, and a variance underflows to zero (or to a
+// subnormal number, with no precision left) where it reaches z < -354. A
+// correlation is left out where it came out non-finite. A covariance left
+// out makes its row and column bad for the parameters after it, as in the
+// Result.
 func (a *analysis) dropOverflow() {
 	o := &a.ref.original
 	d := a.d
 	bad := func(v float64) bool { return math.IsNaN(v) || math.IsInf(v, 0) }
+	// A variance must be a positive normal double: a continuous density
+	// has spread, so zero or a subnormal value is an underflow.
+	badVar := func(v float64) bool { return bad(v) || !(v >= 0x1p-1022) }
 	cov := copyRows(o.Cov)
 	var names []string
 	for k := 0; k < d; k++ {
-		over := bad(o.Mean[k]) || bad(cov[k][k]) || bad(o.Skewness[k]) || bad(o.ExcessKurtosis[k])
+		over := bad(o.Mean[k]) || badVar(cov[k][k]) || bad(o.Skewness[k]) || bad(o.ExcessKurtosis[k])
 		for _, q := range o.Quantiles[k] {
 			over = over || bad(q)
 		}
 		for l := 0; l < d; l++ {
-			over = over || bad(cov[k][l])
+			over = over || bad(cov[k][l]) || bad(o.Corr[k][l])
 		}
 		if !over {
 			continue
@@ -110,17 +116,17 @@ func (a *analysis) dropOverflow() {
 		if slices.ContainsFunc(o.Quantiles[k][:], bad) {
 			a.avail.dropAt(QuantityQuantiles, k, CodeOverflow)
 		}
-		if bad(cov[k][k]) || bad(o.Skewness[k]) || bad(o.ExcessKurtosis[k]) {
+		if badVar(cov[k][k]) || bad(o.Skewness[k]) || bad(o.ExcessKurtosis[k]) {
 			a.avail.dropAt(QuantitySkewness, k, CodeOverflow)
 			a.avail.dropAt(QuantityKurtosis, k, CodeOverflow)
 		}
 		for l := 0; l < d; l++ {
-			if bad(cov[k][l]) || bad(cov[k][k]) {
+			if bad(cov[k][l]) || badVar(cov[k][k]) || bad(o.Corr[k][l]) {
 				a.avail.dropPair(QuantityCovariance, k, l, CodeOverflow)
 				cov[k][l], cov[l][k] = math.NaN(), math.NaN()
 			}
 		}
-		if bad(o.Cov[k][k]) {
+		if badVar(o.Cov[k][k]) {
 			a.avail.dropAt(QuantityVariance, k, CodeOverflow)
 		}
 	}
@@ -130,7 +136,7 @@ func (a *analysis) dropOverflow() {
 	}
 	if len(names) > 0 {
 		a.diag.add(CodeOverflow, SeverityWarning,
-			"The exact moments of %s overflow double precision on the original scale (the box reaches values too large to square or sum), so those that did are not reported.", list(names))
+			"The exact moments of %s overflow or underflow double precision on the original scale (the box reaches values too large to square or sum, or so small that a variance rounds to zero), so those that did are not reported.", list(names))
 	}
 }
 
