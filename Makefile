@@ -86,7 +86,7 @@ bench: wasm tools-node tools-chromium
 	BELLCHECK_CHROMIUM=$$(command -v chromium) $(GO) test -count=1 -v -timeout=40m -tags=benchharness -run='^TestBenchHarness$$' ./wasm/
 
 # Each fuzz target, as package:Target.
-FUZZ_TARGETS := ./engine/model:FuzzParse ./engine/eval:FuzzCompile ./app/share:FuzzDecode ./engine:FuzzAnalyse
+FUZZ_TARGETS := ./engine/model:FuzzParse ./engine/eval:FuzzCompile ./app/share:FuzzDecode ./engine:FuzzAnalyse ./engine/data:FuzzDataFile ./engine/paramopt:FuzzLines
 
 fuzz:
 	@for t in $(FUZZ_TARGETS); do \

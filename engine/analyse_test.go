@@ -33,8 +33,8 @@ func hasCode(res *Result, code string) bool {
 // closed form) still exists.
 func TestCauchyHasNoVariance(t *testing.T) {
 	res := analyseSource(t, "ld_cauchy(x, 0, 1)", Options{})
-	if res.Fits.ForwardKL != nil {
-		t.Errorf("forward-KL fit reported: %+v", res.Fits.ForwardKL)
+	if res.Fits[ForwardKL] != nil {
+		t.Errorf("forward-KL fit reported: %+v", res.Fits[ForwardKL])
 	}
 	if !hasCode(res, CodeNoVariance) || !hasCode(res, CodeEdgeMass) {
 		t.Errorf("diagnostics %+v", res.Diagnostics)
@@ -42,10 +42,10 @@ func TestCauchyHasNoVariance(t *testing.T) {
 	if !math.IsNaN(res.Exact.Cov[0][0]) || !math.IsNaN(res.Exact.SD[0]) {
 		t.Errorf("exact variance %g reported", res.Exact.Cov[0][0])
 	}
-	if res.Fits.Laplace == nil || math.Abs(res.Fits.Laplace.Cov[0][0]-0.5) > 1e-9 {
-		t.Errorf("Laplace fit %+v, want variance 1/2", res.Fits.Laplace)
+	if res.Fits[Laplace] == nil || math.Abs(res.Fits[Laplace].Cov[0][0]-0.5) > 1e-9 {
+		t.Errorf("Laplace fit %+v, want variance 1/2", res.Fits[Laplace])
 	}
-	if l := res.Fits.Laplace; l != nil && !math.IsInf(l.KLpq, 1) {
+	if l := res.Fits[Laplace]; l != nil && !math.IsInf(l.KLpq, 1) {
 		t.Errorf("KL(p||q) %g for a Cauchy p, want +Inf", l.KLpq)
 	}
 	raw, err := json.Marshal(res)
@@ -157,7 +157,7 @@ func TestPlots(t *testing.T) {
 		if math.Abs(area-1) > 2e-3 {
 			t.Errorf("marginal %d integrates to %g", m.Param, area)
 		}
-		if m.Laplace == nil || m.Reverse == nil || m.Forward == nil || len(m.Laplace) != len(m.X) {
+		if m.Fits[Laplace] == nil || m.Fits[ReverseKL] == nil || m.Fits[ForwardKL] == nil || len(m.Fits[Laplace]) != len(m.X) {
 			t.Errorf("marginal %d: missing fit curves", m.Param)
 		}
 	}
@@ -250,7 +250,7 @@ func TestReverseKLStationarity(t *testing.T) {
 		t.Run(c.name, func(t *testing.T) {
 			src := readRef(t, c.name)
 			res := analyseSource(t, src, c.opts)
-			f := res.Fits.ReverseKL
+			f := res.Fits[ReverseKL]
 			if f == nil {
 				t.Fatal("no reverse-KL fit")
 			}
@@ -262,39 +262,36 @@ func TestReverseKLStationarity(t *testing.T) {
 			var p target.Density = ev
 			maps := make([]transform.Map, len(m.Params))
 			for i, prm := range m.Params {
-				maps[i] = transform.Map{Kind: transform.Identity, Lo: prm.Lo, Hi: prm.Hi}
-				if i < len(c.opts.Params) {
-					switch c.opts.Params[i].Scale {
-					case Log:
-						maps[i].Kind = transform.Log
-					case Logit:
-						maps[i].Kind = transform.Logit
-					}
+				maps[i] = transform.Map{Scale: Identity, Lo: prm.Lo, Hi: prm.Hi}
+				if i < len(c.opts.Params) && c.opts.Params[i].Scale != "" {
+					maps[i].Scale = c.opts.Params[i].Scale
 				}
 			}
 			if p, err = transform.Wrap(ev, maps); err != nil {
 				t.Fatal(err)
 			}
-			eg, eh := gaussHermiteDerivs(p, f.Mean, f.Cov, 60)
-			d := len(f.Mean)
+			// The normal on the fitting scale, where the stationarity holds.
+			fs := f.FittingScale
+			eg, eh := gaussHermiteDerivs(p, fs.Mean, fs.Cov, 60)
+			d := len(fs.Mean)
 			prec := mat.NewSymDense(d, nil)
 			for i := 0; i < d; i++ {
 				for j := i; j < d; j++ {
 					prec.SetSym(i, j, f.Precision[i][j])
 				}
 			}
-			cov := symFromRows(f.Cov)
+			cov := symFromRows(fs.Cov)
 			var inv mat.SymDense
 			var ch mat.Cholesky
 			ch.Factorize(cov)
 			_ = ch.InverseTo(&inv)
 			for i := 0; i < d; i++ {
 				// In units of the fit's sd: E[grad]_i * sd_i.
-				if r := eg[i] * math.Sqrt(f.Cov[i][i]); math.Abs(r) > c.tol {
+				if r := eg[i] * math.Sqrt(fs.Cov[i][i]); math.Abs(r) > c.tol {
 					t.Errorf("E_q[grad log p][%d] * sd = %.3g", i, r)
 				}
 				for j := 0; j < d; j++ {
-					r := (inv.At(i, j) + eh[i*d+j]) * math.Sqrt(f.Cov[i][i]*f.Cov[j][j])
+					r := (inv.At(i, j) + eh[i*d+j]) * math.Sqrt(fs.Cov[i][i]*fs.Cov[j][j])
 					if math.Abs(r) > c.tol {
 						t.Errorf("(Sigma^-1 + E_q[H])[%d][%d] scaled = %.3g", i, j, r)
 					}
@@ -371,7 +368,7 @@ func TestDiagnosticCases(t *testing.T) {
 	}{
 		// The exponential density has its mode on the bound 0: no Laplace fit.
 		{"mode on bound", "param x in [0, inf]\n-x", Options{}, []string{CodeModeOnBound, CodeInfiniteKL},
-			func(r *Result) bool { return r.Fits.Laplace == nil }},
+			func(r *Result) bool { return r.Fits[Laplace] == nil }},
 		// sqrt of a negative number is NaN: half of the line is undefined.
 		{"non-finite", "param x\n-(sqrt(x) - 1)^2*4 - x^2/50", Options{}, []string{CodeNonFinite}, nil},
 		// Student t with 3 degrees of freedom: variance 3 but the fourth

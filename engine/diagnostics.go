@@ -1,8 +1,9 @@
 package engine
 
 import (
+	"cmp"
 	"fmt"
-	"sort"
+	"slices"
 	"strings"
 )
 
@@ -129,8 +130,8 @@ func (d *diagnostics) add(code, severity, format string, args ...any) {
 // information, each in the order found.
 func (d *diagnostics) sorted() []Diagnostic {
 	rank := map[string]int{SeverityError: 0, SeverityWarning: 1, SeverityInfo: 2}
-	out := append([]Diagnostic{}, d.list...)
-	sort.SliceStable(out, func(i, j int) bool { return rank[out[i].Severity] < rank[out[j].Severity] })
+	out := append([]Diagnostic{}, d.list...) // never nil: none is [] in the JSON
+	slices.SortStableFunc(out, func(x, y Diagnostic) int { return cmp.Compare(rank[x.Severity], rank[y.Severity]) })
 	return out
 }
 

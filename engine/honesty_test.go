@@ -1,15 +1,19 @@
 package engine
 
 import (
+	"context"
 	"encoding/json"
 	"fmt"
 	"math"
 	"regexp"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"bellcheck/engine/model"
 )
 
 // The honesty checks that every result must pass, whatever the density:
@@ -17,23 +21,8 @@ import (
 // A result is honest when every number it reports can be right (a fit's
 // covariance is positive definite, a divergence is not negative, a share of
 // the mass lies in [0, 1], the ELBO does not exceed log Z) and every
-// quantity it leaves out comes with a diagnostic that says why.
-
-// absentReasons lists, for each quantity that may be absent, the
-// diagnostic codes that explain its absence.
-var absentReasons = map[string][]string{
-	"laplace":    {CodeNotPositiveDefinite, CodeModeOnBound, CodeNoMode, CodeFitFailed, CodeUnresolved},
-	"reverse_kl": {CodeInfiniteKL, CodeFitFailed, CodeUnresolved},
-	"mean_field": {CodeInfiniteKL, CodeFitFailed, CodeUnresolved},
-	"forward_kl": {CodeNoVariance, CodeImproper, CodeFitFailed, CodeUnresolved},
-	"log_z":      {CodeImproper, CodeUnresolved, CodeOverflow},
-	"mean":       {CodeNoMean, CodeImproper, CodeUnresolved, CodeOverflow},
-	"variance":   {CodeNoVariance, CodeImproper, CodeUnresolved, CodeOverflow},
-	"kurtosis":   {CodeHeavyTails, CodeNoVariance, CodeImproper, CodeUnresolved, CodeOverflow},
-	"quantiles":  {CodeImproper, CodeUnresolved, CodeOverflow},
-	"mode":       {CodeModeNotPolished, CodeNoMode},
-	"coverage":   {CodeFitOffGrid, CodeUnresolved},
-}
+// quantity it leaves out comes with a diagnostic that says why (one of
+// the codes the availability record allows for it, absentReasons).
 
 // printedNonFinite matches a formatting error or a non-finite number
 // printed into a sentence (Go prints them as NaN, +Inf and -Inf; the
@@ -67,7 +56,7 @@ func honesty(res *Result, d int) []string {
 			fail("diagnostic %s has a broken message: %q", dg.Code, dg.Message)
 		}
 	}
-	reason := func(what string) bool {
+	reason := func(what Quantity) bool {
 		for _, c := range absentReasons[what] {
 			if codes[c] {
 				return true
@@ -75,7 +64,7 @@ func honesty(res *Result, d int) []string {
 		}
 		return false
 	}
-	absentNeedsReason := func(what, where string) {
+	absentNeedsReason := func(what Quantity, where string) {
 		if !reason(what) {
 			fail("%s is absent without a reason (want one of %v; have %v)", where, absentReasons[what], codeList(res))
 		}
@@ -88,7 +77,7 @@ func honesty(res *Result, d int) []string {
 	ex := &res.Exact
 	switch {
 	case math.IsNaN(ex.LogZ):
-		absentNeedsReason("log_z", "exact log Z")
+		absentNeedsReason(QuantityLogZ, "exact log Z")
 	case math.IsInf(ex.LogZ, 0):
 		fail("exact log Z is %g", ex.LogZ)
 	case !(ex.LogZErr >= 0):
@@ -100,21 +89,21 @@ func honesty(res *Result, d int) []string {
 	}
 	for k := 0; k < d; k++ {
 		if math.IsNaN(ex.Mean[k]) {
-			absentNeedsReason("mean", fmt.Sprintf("exact mean %d", k))
+			absentNeedsReason(QuantityMean, fmt.Sprintf("exact mean %d", k))
 		} else if math.IsInf(ex.Mean[k], 0) {
 			fail("exact mean %d is %g", k, ex.Mean[k])
 		}
 		v := ex.Cov[k][k]
 		switch {
 		case math.IsNaN(v):
-			absentNeedsReason("variance", fmt.Sprintf("exact variance %d", k))
+			absentNeedsReason(QuantityVariance, fmt.Sprintf("exact variance %d", k))
 		case !(v >= 0) || math.IsInf(v, 0):
 			fail("exact variance %d is %g", k, v)
 		case math.Abs(ex.SD[k]-math.Sqrt(v)) > 1e-9*math.Sqrt(v):
 			fail("exact sd %d is %g, the square root of the variance %g", k, ex.SD[k], v)
 		}
 		if math.IsNaN(ex.ExcessKurtosis[k]) {
-			absentNeedsReason("kurtosis", fmt.Sprintf("exact excess kurtosis %d", k))
+			absentNeedsReason(QuantityKurtosis, fmt.Sprintf("exact excess kurtosis %d", k))
 		} else if ex.ExcessKurtosis[k] < -2-honestyTol {
 			// Pearson's inequality: kurtosis >= skewness^2 + 1, so excess
 			// kurtosis >= -2 (an identity of any distribution).
@@ -127,12 +116,12 @@ func honesty(res *Result, d int) []string {
 		}
 		q := ex.Quantiles[k]
 		if math.IsNaN(q[0]) || math.IsNaN(q[1]) || math.IsNaN(q[2]) {
-			absentNeedsReason("quantiles", fmt.Sprintf("exact quantiles %d", k))
+			absentNeedsReason(QuantityQuantiles, fmt.Sprintf("exact quantiles %d", k))
 		} else if !(q[0] <= q[1] && q[1] <= q[2]) {
 			fail("exact quantiles %d out of order: %v", k, q)
 		}
 		if math.IsNaN(ex.Mode[k]) {
-			absentNeedsReason("mode", fmt.Sprintf("exact mode %d", k))
+			absentNeedsReason(QuantityMode, fmt.Sprintf("exact mode %d", k))
 		} else if math.IsInf(ex.Mode[k], 0) {
 			fail("exact mode %d is %g", k, ex.Mode[k])
 		}
@@ -157,15 +146,13 @@ func honesty(res *Result, d int) []string {
 	}
 
 	// The fits.
-	for _, f := range []struct {
-		name string
-		fit  *Fit
-	}{{"laplace", res.Fits.Laplace}, {"reverse_kl", res.Fits.ReverseKL}, {"mean_field", res.Fits.MeanField}, {"forward_kl", res.Fits.ForwardKL}} {
-		if f.fit == nil {
-			absentNeedsReason(f.name, "the "+f.name+" fit")
+	for _, m := range Methods {
+		f := res.Fits[m]
+		if f == nil {
+			absentNeedsReason(m.quantity(), "the "+m.Key()+" fit")
 			continue
 		}
-		for _, s := range fitHonesty(f.name, f.fit, res, d, reason("coverage")) {
+		for _, s := range fitHonesty(m, f, res, d, reason(QuantityCoverage), reason(QuantityFitMoments)) {
 			fail("%s", s)
 		}
 	}
@@ -184,47 +171,112 @@ func honesty(res *Result, d int) []string {
 	return bad
 }
 
-// fitHonesty checks one fit that is present.
-func fitHonesty(name string, f *Fit, res *Result, d int, coverageReason bool) []string {
+// analyseRecorded runs Analyse and returns its availability record too.
+func analyseRecorded(ctx context.Context, m *model.Model, opts Options) (*Result, *availability, error) {
+	a := &analysis{ctx: ctx, m: m, opts: opts, tr: newTracker(nil)}
+	res, err := a.run()
+	return res, &a.avail, err
+}
+
+// recordHonesty returns the ways in which the availability record of res
+// is wrong: an absence recorded with a code that absentReasons does not
+// allow for the quantity, or whose diagnostic is not in the Result, or a
+// fit recorded absent that the Result has (or present that it lacks).
+func recordHonesty(res *Result, av *availability) []string {
 	var bad []string
-	fail := func(format string, args ...any) { bad = append(bad, name+": "+fmt.Sprintf(format, args...)) }
-	if len(f.Mean) != d || len(f.Cov) != d || len(f.SD) != d || len(f.Interval95) != d {
+	codes := map[string]bool{}
+	for _, dg := range res.Diagnostics {
+		codes[dg.Code] = true
+	}
+	for e, code := range av.absent {
+		if !slices.Contains(absentReasons[e.q], code) {
+			bad = append(bad, fmt.Sprintf("record: %s (%d, %d) absent for %s, not one of %v", e.q, e.i, e.j, code, absentReasons[e.q]))
+		}
+		if !codes[code] {
+			bad = append(bad, fmt.Sprintf("record: %s (%d, %d) absent for %s, which no diagnostic says", e.q, e.i, e.j, code))
+		}
+	}
+	for _, m := range Methods {
+		if gone := !av.present(m.quantity()); gone != (res.Fits[m] == nil) {
+			bad = append(bad, fmt.Sprintf("record: the %s fit recorded absent %v, but the Result has it %v", m.Key(), gone, res.Fits[m] != nil))
+		}
+	}
+	return bad
+}
+
+// fitHonesty checks one fit that is present: its normal on the fitting
+// scale, and its moments on the original scale, which may be absent only
+// for a reason (momentReason).
+func fitHonesty(m Method, f *Fit, res *Result, d int, coverageReason, momentReason bool) []string {
+	var bad []string
+	fail := func(format string, args ...any) { bad = append(bad, m.Key()+": "+fmt.Sprintf(format, args...)) }
+	fs := &f.FittingScale
+	if len(f.Mean) != d || len(f.Cov) != d || len(f.SD) != d || len(f.Interval95) != d || len(fs.Mean) != d || len(fs.Cov) != d || len(fs.SD) != d {
 		fail("moments of the wrong length")
 		return bad
 	}
-	if !allFiniteF(f.Mean) {
-		fail("mean %v", f.Mean)
+	// The normal on the fitting scale, and the moments on the original
+	// one: finite, symmetric, positive definite.
+	if !allFiniteF(fs.Mean) {
+		fail("mean %v", fs.Mean)
 	}
-	cov := mat.NewSymDense(d, nil)
-	for k := 0; k < d; k++ {
-		if len(f.Cov[k]) != d {
-			fail("covariance row %d of length %d", k, len(f.Cov[k]))
-			return bad
-		}
-		for l := 0; l < d; l++ {
-			c := f.Cov[k][l]
-			if math.IsNaN(c) || math.IsInf(c, 0) {
-				fail("covariance (%d, %d) is %g", k, l, c)
+	for _, mo := range []struct {
+		scale string
+		mean  []float64
+		cov   [][]float64
+		sd    []float64
+	}{{"fitting scale", fs.Mean, fs.Cov, fs.SD}, {"original scale", f.Mean, f.Cov, f.SD}} {
+		cov := mat.NewSymDense(d, nil)
+		absent := false
+		for k := 0; k < d; k++ {
+			if len(mo.cov[k]) != d {
+				fail("%s: covariance row %d of length %d", mo.scale, k, len(mo.cov[k]))
 				return bad
 			}
-			if c != f.Cov[l][k] {
-				fail("covariance not symmetric at (%d, %d)", k, l)
+			if math.IsNaN(mo.mean[k]) {
+				absent = true
+			} else if math.IsInf(mo.mean[k], 0) {
+				fail("%s: mean %d is %g", mo.scale, k, mo.mean[k])
 			}
-			if l >= k {
-				cov.SetSym(k, l, c)
+			for l := 0; l < d; l++ {
+				c := mo.cov[k][l]
+				if math.IsNaN(c) {
+					absent = true
+					continue
+				}
+				if math.IsInf(c, 0) {
+					fail("%s: covariance (%d, %d) is %g", mo.scale, k, l, c)
+					return bad
+				}
+				if c != mo.cov[l][k] {
+					fail("%s: covariance not symmetric at (%d, %d)", mo.scale, k, l)
+				}
+				if l >= k {
+					cov.SetSym(k, l, c)
+				}
+			}
+			if v := mo.cov[k][k]; !math.IsNaN(v) {
+				if sd := mo.sd[k]; !(sd > 0) || math.Abs(sd-math.Sqrt(v)) > 1e-9*sd {
+					fail("%s: sd %d is %g for variance %g", mo.scale, k, sd, v)
+				}
 			}
 		}
-		if sd := f.SD[k]; !(sd > 0) || math.Abs(sd-math.Sqrt(f.Cov[k][k])) > 1e-9*sd {
-			fail("sd %d is %g for variance %g", k, sd, f.Cov[k][k])
+		if absent {
+			if mo.scale == "fitting scale" || !momentReason {
+				fail("%s: moments absent without a reason", mo.scale)
+			}
+			continue
 		}
+		var chol mat.Cholesky
+		if !chol.Factorize(cov) {
+			fail("%s: covariance %v is not positive definite", mo.scale, mo.cov)
+		}
+	}
+	for k := 0; k < d; k++ {
 		iv := f.Interval95[k]
 		if !(iv[0] <= iv[1]) {
 			fail("interval %d is %v", k, iv)
 		}
-	}
-	var chol mat.Cholesky
-	if !chol.Factorize(cov) {
-		fail("covariance %v is not positive definite", f.Cov)
 	}
 	for _, v := range []struct {
 		what string
@@ -264,7 +316,7 @@ func fitHonesty(name string, f *Fit, res *Result, d int, coverageReason bool) []
 	if f.EvidenceErr != nil && math.IsNaN(lz) && !math.IsNaN(*f.EvidenceErr) {
 		fail("evidence error %g against an absent log Z", *f.EvidenceErr)
 	}
-	if !f.Converged && (name == "reverse_kl" || name == "mean_field") && !hasCode(res, CodeNoConvergence) {
+	if !f.Converged && (m == ReverseKL || m == MeanField) && !hasCode(res, CodeNoConvergence) {
 		fail("not converged, and no diagnostic says so")
 	}
 	return bad
@@ -369,18 +421,4 @@ func present(v any) bool {
 		}
 	}
 	return true
-}
-
-// A covariance on scales far apart is not degenerate; one with a
-// correlation of exactly 1 is.
-func TestDegenerate(t *testing.T) {
-	if err := degenerate(mat.NewSymDense(2, []float64{1e-16, 0, 0, 1e16})); err != nil {
-		t.Errorf("sds 1e-8 and 1e8: %v", err)
-	}
-	if err := degenerate(mat.NewSymDense(2, []float64{1e-16, 1e-16 * (1 - 1e-9), 1e-16 * (1 - 1e-9), 1e-16})); err != nil {
-		t.Errorf("correlation 1 - 1e-9: %v", err)
-	}
-	if err := degenerate(mat.NewSymDense(2, []float64{4, 2e8, 2e8, 1e16})); err == nil {
-		t.Error("correlation 1 passed")
-	}
 }

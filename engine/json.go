@@ -6,7 +6,7 @@ import (
 	"fmt"
 	"math"
 	"reflect"
-	"sort"
+	"slices"
 	"strconv"
 	"strings"
 )
@@ -24,7 +24,18 @@ func (r Result) MarshalJSON() ([]byte, error) {
 	return b.Bytes(), nil
 }
 
+// nullJSON is implemented by the parts of the Result whose JSON is not the
+// reflection of their fields; they write it with the same conventions.
+type nullJSON interface {
+	writeJSON(b *bytes.Buffer) error
+}
+
+var nullJSONType = reflect.TypeFor[nullJSON]()
+
 func writeJSON(b *bytes.Buffer, v reflect.Value) error {
+	if k := v.Kind(); k != reflect.Pointer && k != reflect.Interface && v.Type().Implements(nullJSONType) {
+		return v.Interface().(nullJSON).writeJSON(b)
+	}
 	switch v.Kind() {
 	case reflect.Float32, reflect.Float64:
 		f := v.Float()
@@ -72,7 +83,7 @@ func writeJSON(b *bytes.Buffer, v reflect.Value) error {
 			return fmt.Errorf("engine: JSON of a map keyed by %s", v.Type().Key())
 		}
 		keys := v.MapKeys()
-		sort.Slice(keys, func(i, j int) bool { return keys[i].String() < keys[j].String() })
+		slices.SortFunc(keys, func(x, y reflect.Value) int { return strings.Compare(x.String(), y.String()) })
 		b.WriteByte('{')
 		for i, k := range keys {
 			if i > 0 {
@@ -109,9 +120,19 @@ func writeArray(b *bytes.Buffer, v reflect.Value) error {
 }
 
 func writeStruct(b *bytes.Buffer, v reflect.Value) error {
-	t := v.Type()
 	b.WriteByte('{')
-	first := true
+	if _, err := writeFields(b, v, true); err != nil {
+		return err
+	}
+	b.WriteByte('}')
+	return nil
+}
+
+// writeFields writes a struct's members without the braces, the first one
+// without a leading comma when first is set; it reports whether the next
+// member is still the first.
+func writeFields(b *bytes.Buffer, v reflect.Value, first bool) (bool, error) {
+	t := v.Type()
 	for i := 0; i < t.NumField(); i++ {
 		sf := t.Field(i)
 		if !sf.IsExported() {
@@ -141,16 +162,100 @@ func writeStruct(b *bytes.Buffer, v reflect.Value) error {
 			b.WriteByte(',')
 		}
 		first = false
-		key, _ := json.Marshal(name)
-		b.Write(key)
-		b.WriteByte(':')
+		writeKey(b, name)
 		if err := writeJSON(b, fv); err != nil {
+			return first, err
+		}
+	}
+	return first, nil
+}
+
+// writeKey writes an object member's name and the colon.
+func writeKey(b *bytes.Buffer, name string) {
+	key, _ := json.Marshal(name)
+	b.Write(key)
+	b.WriteByte(':')
+}
+
+// marshalNull returns w's JSON.
+func marshalNull(w nullJSON) ([]byte, error) {
+	var b bytes.Buffer
+	if err := w.writeJSON(&b); err != nil {
+		return nil, err
+	}
+	return b.Bytes(), nil
+}
+
+func (f Fits) writeJSON(b *bytes.Buffer) error {
+	b.WriteByte('{')
+	for i, m := range Methods {
+		if i > 0 {
+			b.WriteByte(',')
+		}
+		writeKey(b, m.Key())
+		if err := writeJSON(b, reflect.ValueOf(f[m])); err != nil {
 			return err
 		}
 	}
 	b.WriteByte('}')
 	return nil
 }
+
+// MarshalJSON writes the fits as an object keyed by method, non-finite
+// numbers as null.
+func (f Fits) MarshalJSON() ([]byte, error) { return marshalNull(f) }
+
+func (m Marginal1D) writeJSON(b *bytes.Buffer) error {
+	b.WriteByte('{')
+	first, err := writeFields(b, reflect.ValueOf(m), true)
+	if err != nil {
+		return err
+	}
+	for _, meth := range Methods {
+		if !first {
+			b.WriteByte(',')
+		}
+		first = false
+		writeKey(b, meth.Key())
+		if err := writeJSON(b, reflect.ValueOf(m.Fits[meth])); err != nil {
+			return err
+		}
+	}
+	b.WriteByte('}')
+	return nil
+}
+
+// MarshalJSON writes the marginal with a member per method, non-finite
+// numbers as null.
+func (m Marginal1D) MarshalJSON() ([]byte, error) { return marshalNull(m) }
+
+func (e Ellipses) writeJSON(b *bytes.Buffer) error {
+	if e == nil {
+		b.WriteString("null")
+		return nil
+	}
+	keys := make([]Method, 0, len(e))
+	for m := range e {
+		keys = append(keys, m)
+	}
+	slices.SortFunc(keys, func(x, y Method) int { return strings.Compare(x.Key(), y.Key()) })
+	b.WriteByte('{')
+	for i, m := range keys {
+		if i > 0 {
+			b.WriteByte(',')
+		}
+		writeKey(b, m.Key())
+		if err := writeJSON(b, reflect.ValueOf(e[m])); err != nil {
+			return err
+		}
+	}
+	b.WriteByte('}')
+	return nil
+}
+
+// MarshalJSON writes the ellipses as an object keyed by method, non-finite
+// numbers as null.
+func (e Ellipses) MarshalJSON() ([]byte, error) { return marshalNull(e) }
 
 // isEmpty is encoding/json's notion of an empty value for omitempty.
 func isEmpty(v reflect.Value) bool {

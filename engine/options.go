@@ -1,16 +1,19 @@
 package engine
 
-// Scale is the scale on which a parameter is fitted.
-type Scale string
+import "bellcheck/engine/transform"
+
+// Scale is the scale on which a parameter is fitted: transform.Scale, the
+// one type the options, the Result and the page share.
+type Scale = transform.Scale
 
 // Scales a parameter may be fitted on.
 const (
 	// Identity fits the parameter as it is (the default).
-	Identity Scale = "identity"
+	Identity = transform.Identity
 	// Log fits log(x - lo); the support must be [lo, inf].
-	Log Scale = "log"
+	Log = transform.Log
 	// Logit fits log((x - lo) / (hi - x)); the support must be [lo, hi].
-	Logit Scale = "logit"
+	Logit = transform.Logit
 )
 
 // ParamOptions are per-parameter settings. Zero values mean the defaults.

@@ -210,7 +210,7 @@ func TestPathological(t *testing.T) {
 			if err != nil {
 				t.Fatalf("parse: %v", err)
 			}
-			res, err := Analyse(context.Background(), m, c.opts, nil)
+			res, av, err := analyseRecorded(context.Background(), m, c.opts)
 			if c.wantErr != "" {
 				if err == nil || !strings.Contains(err.Error(), c.wantErr) {
 					t.Fatalf("error %v, want one saying %q", err, c.wantErr)
@@ -221,6 +221,9 @@ func TestPathological(t *testing.T) {
 				t.Fatalf("analyse: %v", err)
 			}
 			for _, s := range honesty(res, len(m.Params)) {
+				t.Error(s)
+			}
+			for _, s := range recordHonesty(res, av) {
 				t.Error(s)
 			}
 			checkPatho(t, c, res)

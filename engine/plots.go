@@ -3,6 +3,7 @@ package engine
 import (
 	"math"
 
+	"bellcheck/engine/gauss"
 	"bellcheck/engine/grid"
 )
 
@@ -23,16 +24,17 @@ const contourPoints = 96
 // reports progress and checks for cancellation between the pieces of each
 // pair (the largest 2-D grid holds 2.25 million nodes).
 func (a *analysis) plots(res *Result) (*Plots, error) {
-	g := a.g
+	g := a.ref.grid
 	st := &g.Stats
 	d := a.d
-	type fitCurve struct {
-		name string
-		f    *Fit
-	}
-	fits := []fitCurve{{"laplace", res.Fits.Laplace}, {"reverse_kl", res.Fits.ReverseKL},
-		{"mean_field", res.Fits.MeanField}, {"forward_kl", res.Fits.ForwardKL}}
 	pl := &Plots{}
+	// Each fit that exists, a normal on the fitting scale, by method.
+	var fits [NumMethods]*gauss.Prepared
+	for _, fd := range a.fits {
+		if res.Fits[fd.method] != nil {
+			fits[fd.method] = fd.q
+		}
+	}
 	// dxdz[k][i] is dx/dz at node i of axis k.
 	dxdz := make([][]float64, d)
 	xs := make([][]float64, d)
@@ -52,26 +54,15 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 			m.X = append(m.X, xs[k][i])
 			m.Exact = append(m.Exact, st.Marginals[k].Density[i]/dxdz[k][i])
 		}
-		for _, fc := range fits {
-			if fc.f == nil {
+		for meth, q := range fits {
+			if q == nil {
 				continue
 			}
-			mu, sd := fc.f.Mean[k], fc.f.SD[k]
 			curve := make([]float64, len(idx))
 			for j, i := range idx {
-				u := (g.Nodes[k][i] - mu) / sd
-				curve[j] = math.Exp(-u*u/2) / (sd * math.Sqrt(2*math.Pi)) / dxdz[k][i]
+				curve[j] = q.MarginalPDF(k, g.Nodes[k][i]) / dxdz[k][i]
 			}
-			switch fc.name {
-			case "laplace":
-				m.Laplace = curve
-			case "reverse_kl":
-				m.Reverse = curve
-			case "mean_field":
-				m.MeanFld = curve
-			default:
-				m.Forward = curve
-			}
+			m.Fits[meth] = curve
 		}
 		pl.Marginals = append(pl.Marginals, m)
 	}
@@ -99,7 +90,7 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 		if err := part(0.9); err != nil {
 			return nil, err
 		}
-		m2 := Marginal2D{I: i, J: j, Levels: [3]float64{lv[0], lv[1], lv[2]}, Ellipses: map[string][3][][2]float64{}}
+		m2 := Marginal2D{I: i, J: j, Levels: [3]float64{lv[0], lv[1], lv[2]}, Ellipses: Ellipses{}}
 		iu, iv := plotNodes(g.N[i], maxPlot2D), plotNodes(nj, maxPlot2D)
 		for _, u := range iu {
 			m2.X = append(m2.X, xs[i][u])
@@ -113,11 +104,10 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 				m2.Density = append(m2.Density, orig[u*nj+v])
 			}
 		}
-		for _, fc := range fits {
-			if fc.f == nil {
-				continue
+		for meth, q := range fits {
+			if q != nil {
+				m2.Ellipses[Method(meth)] = a.ellipses(q, i, j)
 			}
-			m2.Ellipses[fc.name] = a.ellipses(fc.f, i, j)
 		}
 		pl.Pairs = append(pl.Pairs, m2)
 	}
@@ -126,25 +116,14 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 
 // ellipses returns the fit's contours holding contourMasses of its (i, j)
 // marginal, as closed polylines mapped to the original scale: on the
-// fitting scale the region of mass f is the ellipse of Mahalanobis radius
-// sqrt(-2 log(1 - f)) (the squared radius is chi-square with 2 degrees of
-// freedom), and the map keeps the mass inside.
-func (a *analysis) ellipses(f *Fit, i, j int) [3][][2]float64 {
+// fitting scale they are the normal's ellipses, and the map keeps the mass
+// inside.
+func (a *analysis) ellipses(q *gauss.Prepared, i, j int) [3][][2]float64 {
 	var out [3][][2]float64
-	sii, sij, sjj := f.Cov[i][i], f.Cov[i][j], f.Cov[j][j]
-	// Cholesky factor of the 2x2 covariance.
-	l11 := math.Sqrt(sii)
-	l21 := sij / l11
-	l22 := math.Sqrt(math.Max(sjj-l21*l21, 0))
 	for c, mass := range contourMasses {
-		r := math.Sqrt(-2 * math.Log(1-mass))
-		pts := make([][2]float64, 0, contourPoints+1)
-		for t := 0; t <= contourPoints; t++ {
-			th := 2 * math.Pi * float64(t%contourPoints) / contourPoints
-			u, v := r*math.Cos(th), r*math.Sin(th)
-			zi := f.Mean[i] + l11*u
-			zj := f.Mean[j] + l21*u + l22*v
-			pts = append(pts, [2]float64{a.maps[i].ToOriginal(zi), a.maps[j].ToOriginal(zj)})
+		pts := q.Ellipse(i, j, mass, contourPoints)
+		for t := range pts {
+			pts[t] = [2]float64{a.maps[i].ToOriginal(pts[t][0]), a.maps[j].ToOriginal(pts[t][1])}
 		}
 		out[c] = pts
 	}

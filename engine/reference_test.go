@@ -112,8 +112,7 @@ func analyseSource(t testing.TB, src string, opts Options) *Result {
 // may stand without "fits.".
 func lookup(doc any, path string) (any, bool) {
 	parts := strings.Split(path, ".")
-	switch parts[0] {
-	case "laplace", "reverse_kl", "mean_field", "forward_kl":
+	if _, ok := MethodOf(parts[0]); ok {
 		parts = append([]string{"fits"}, parts...)
 	}
 	return jsonAt(doc, strings.Join(parts, "."))
@@ -166,20 +165,20 @@ func TestIdentities(t *testing.T) {
 			res := analyseSource(t, c.src, c.opts)
 			f := res.Fits
 			tol := 1e-6 + 10*res.Exact.LogZErr
-			for _, v := range []*Fit{f.ReverseKL, f.MeanField} {
+			for _, v := range []*Fit{f[ReverseKL], f[MeanField]} {
 				if v != nil && v.ELBO != nil && *v.ELBO > res.Exact.LogZ+tol {
 					t.Errorf("ELBO %.10g above log Z %.10g", *v.ELBO, res.Exact.LogZ)
 				}
 			}
-			fits := []*Fit{f.Laplace, f.ReverseKL, f.ForwardKL}
-			if r := f.ReverseKL; r != nil && r.Converged && !math.IsInf(r.KLqp, 0) {
+			fits := []*Fit{f[Laplace], f[ReverseKL], f[ForwardKL]}
+			if r := f[ReverseKL]; r != nil && r.Converged && !math.IsInf(r.KLqp, 0) {
 				for _, o := range fits {
 					if o != nil && r.KLqp > o.KLqp+1e-6 {
 						t.Errorf("reverse-KL fit's KL(q||p) %.10g above another fit's %.10g", r.KLqp, o.KLqp)
 					}
 				}
 			}
-			if fw := f.ForwardKL; fw != nil && !math.IsInf(fw.KLpq, 0) {
+			if fw := f[ForwardKL]; fw != nil && !math.IsInf(fw.KLpq, 0) {
 				for _, o := range fits {
 					if o != nil && fw.KLpq > o.KLpq+1e-6 {
 						t.Errorf("forward-KL fit's KL(p||q) %.10g above another fit's %.10g", fw.KLpq, o.KLpq)

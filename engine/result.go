@@ -7,8 +7,11 @@ type Result struct {
 	Params []string `json:"params"`
 	// Form is "log_density" or "cost": how the model gave its density.
 	Form string `json:"form"`
-	// Scales gives each parameter's fitting scale: "identity", "log" or "logit".
-	Scales      []string     `json:"scales"`
+	// Scales gives each parameter's fitting scale: "identity", "log" or
+	// "logit". Every number of the Result is on the original scale, except
+	// those under the fields named fitting_scale (and a fit's precision
+	// and a mode's log density, which are the fitting scale's).
+	Scales      []Scale      `json:"scales"`
 	Exact       Exact        `json:"exact"`
 	Fits        Fits         `json:"fits"`
 	Modes       []Mode       `json:"modes"`
@@ -40,27 +43,32 @@ type Exact struct {
 	ExcessKurtosis []float64    `json:"excess_kurtosis"`
 }
 
-// Fits holds the Gaussian approximations; a nil fit does not exist, and a
-// diagnostic says why.
-type Fits struct {
-	Laplace   *Fit `json:"laplace"`
-	ReverseKL *Fit `json:"reverse_kl"`
-	MeanField *Fit `json:"mean_field"` // reverse KL with a diagonal covariance
-	ForwardKL *Fit `json:"forward_kl"`
-}
+// Fits holds the Gaussian approximations, indexed by Method; a nil fit
+// does not exist, and a diagnostic says why. Its JSON is an object with a
+// member per method, named by its Key, in the order of Methods.
+type Fits [NumMethods]*Fit
 
-// Fit is one Gaussian approximation, on the fitting scale of each parameter,
-// with its comparison against the exact density.
+// Fit is one Gaussian approximation, a normal on the fitting scale of each
+// parameter, with its comparison against the exact density. Its moments
+// are those of the distribution it implies on the original scale (the
+// pushforward of the normal through each parameter's map); the normal
+// itself is FittingScale. Where every parameter is fitted as it is, the
+// two agree.
 type Fit struct {
+	// Mean, Cov, SD and Corr are the fit's moments on the original scale
+	// (transform.Map.Pushforward and transform.Covariance).
 	Mean []float64   `json:"mean"`
 	Cov  [][]float64 `json:"cov"`
 	SD   []float64   `json:"sd"`
 	Corr [][]float64 `json:"corr"`
 	// Interval95 is each parameter's central 95 % interval under the fit,
-	// on the original scale (the pushforward where a parameter is transformed).
+	// on the original scale (the normal's interval mapped through x(z)).
 	Interval95 [][2]float64 `json:"interval95"`
-	// Precision is the curvature the fit uses: -Hessian at the mode for the
-	// Laplace fit, -E_q[Hessian] at the optimum for the reverse-KL fits.
+	// FittingScale is the normal itself, on the fitting scale.
+	FittingScale FitNormal `json:"fitting_scale"`
+	// Precision is the curvature the fit uses, on the fitting scale:
+	// -Hessian at the mode for the Laplace fit, -E_q[Hessian] at the
+	// optimum for the reverse-KL fits.
 	Precision [][]float64 `json:"precision,omitempty"`
 	// LogZ is the Laplace evidence estimate (Laplace fit only).
 	LogZ *float64 `json:"log_z,omitempty"`
@@ -72,9 +80,10 @@ type Fit struct {
 	KLqp      float64 `json:"kl_q_p"` // KL(q||p) on the grid; +Inf marshals as null
 	KLpq      float64 `json:"kl_p_q"` // KL(p||q) on the grid
 	Hellinger float64 `json:"hellinger"`
-	// MeanErrSD is (fit mean - exact mean) / exact sd, per parameter.
+	// MeanErrSD is (fit mean - exact mean) / exact sd, per parameter, on
+	// the original scale.
 	MeanErrSD []float64 `json:"mean_err_sd"`
-	// SDRatio is fit sd / exact sd, per parameter.
+	// SDRatio is fit sd / exact sd, per parameter, on the original scale.
 	SDRatio []float64 `json:"sd_ratio"`
 	// Coverage95 is the exact mass inside the fit's central 95 % region.
 	Coverage95 float64 `json:"coverage95"`
@@ -86,10 +95,29 @@ type Fit struct {
 	Residual   float64 `json:"residual"`
 }
 
-// Mode is one local maximum of the density found by the mode search.
+// FitNormal is a fit's normal on the fitting scale, with its mean and
+// spread errors against the exact moments on that scale.
+type FitNormal struct {
+	Mean []float64   `json:"mean"`
+	Cov  [][]float64 `json:"cov"`
+	SD   []float64   `json:"sd"`
+	Corr [][]float64 `json:"corr"`
+	// MeanErrSD is (fit mean - exact mean) / exact sd on the fitting scale.
+	MeanErrSD []float64 `json:"mean_err_sd"`
+	// SDRatio is fit sd / exact sd on the fitting scale.
+	SDRatio []float64 `json:"sd_ratio"`
+}
+
+// Mode is one local maximum of the density on the fitting scale, found by
+// the mode search.
 type Mode struct {
-	X          []float64 `json:"x"`
-	LogDensity float64   `json:"log_density"`
+	// X is the mode's point on the original scale, x(z).
+	X []float64 `json:"x"`
+	// LogDensity is the log-density on the fitting scale at the mode (with
+	// the log-Jacobian of the map).
+	LogDensity float64 `json:"log_density"`
+	// FittingScale holds the mode's point z on the fitting scale.
+	FittingScale FittingPoint `json:"fitting_scale"`
 	// Mass is the approximate share of the total mass near this mode.
 	Mass float64 `json:"mass"`
 	// PositiveDefinite reports whether -Hessian is positive definite there.
@@ -111,15 +139,31 @@ type Diagnostic struct {
 	Message  string `json:"message"`
 }
 
+// FittingPoint is a point on the fitting scale.
+type FittingPoint struct {
+	X []float64 `json:"x"`
+}
+
 // GridInfo describes the quadrature grid.
 type GridInfo struct {
-	Lo     []float64 `json:"lo"`
-	Hi     []float64 `json:"hi"`
-	Points []int     `json:"points"`
+	// Lo and Hi are the grid's box on the original scale, x(z) of its
+	// sides.
+	Lo []float64 `json:"lo"`
+	Hi []float64 `json:"hi"`
+	// FittingScale is the box on the fitting scale, where the grid is
+	// regular.
+	FittingScale FittingBox `json:"fitting_scale"`
+	Points       []int      `json:"points"`
 	// EdgeMass is the largest share of mass in any face's outermost layer.
 	EdgeMass float64 `json:"edge_mass"`
 	// NonFinite is the fraction of grid points where log p is NaN or +Inf.
 	NonFinite float64 `json:"non_finite"`
+}
+
+// FittingBox is a box on the fitting scale.
+type FittingBox struct {
+	Lo []float64 `json:"lo"`
+	Hi []float64 `json:"hi"`
 }
 
 // Timing reports milliseconds spent, in total and per stage.
@@ -137,15 +181,14 @@ type Plots struct {
 }
 
 // Marginal1D is a parameter's exact marginal density on a grid, with each
-// fit's marginal density at the same points (nil where the fit is absent).
+// fit's marginal density at the same points.
 type Marginal1D struct {
-	Param   int       `json:"param"`
-	X       []float64 `json:"x"`
-	Exact   []float64 `json:"exact"`
-	Laplace []float64 `json:"laplace"`
-	Reverse []float64 `json:"reverse_kl"`
-	MeanFld []float64 `json:"mean_field"`
-	Forward []float64 `json:"forward_kl"`
+	Param int       `json:"param"`
+	X     []float64 `json:"x"`
+	Exact []float64 `json:"exact"`
+	// Fits holds each fit's marginal density by method, nil where the fit
+	// is absent; in the JSON each is a member named by the method's Key.
+	Fits [NumMethods][]float64 `json:"-"`
 }
 
 // Marginal2D is the exact pairwise marginal density of parameters I and J on
@@ -159,7 +202,12 @@ type Marginal2D struct {
 	Y       []float64  `json:"y"`
 	Density []float64  `json:"density"`
 	Levels  [3]float64 `json:"levels"`
-	// Ellipses[fit][level] is a polyline of points [x, y]; fit names are
-	// "laplace", "reverse_kl", "mean_field", "forward_kl".
-	Ellipses map[string][3][][2]float64 `json:"ellipses"`
+	// Ellipses[m][level] is a polyline of points [x, y] for each fit m
+	// that exists.
+	Ellipses Ellipses `json:"ellipses"`
 }
+
+// Ellipses holds each fit's contours of a pair's marginal by method. Its
+// JSON is an object with a member per fit that exists, named by the
+// method's Key, in the order of the keys.
+type Ellipses map[Method][3][][2]float64

@@ -78,7 +78,9 @@ type siteServer struct {
 func serveSite(tb testing.TB, dir string, extra map[string]string) *siteServer {
 	tb.Helper()
 	s := &siteServer{extra: extra}
-	files := http.FileServer(http.Dir(dir))
+	// The site is served as a compressing static host serves it: the
+	// precompressed copies writeStatic makes, to clients that accept gzip.
+	files := gzipFiles(dir, http.FileServer(http.Dir(dir)))
 	mux := http.NewServeMux()
 	for prefix, folder := range extra {
 		mux.Handle(prefix, http.StripPrefix(prefix, http.FileServer(http.Dir(folder))))

@@ -85,21 +85,26 @@ type cliJSON struct {
 }
 
 type cliFit struct {
-	Mean        []*float64   `json:"mean"`
-	SD          []*float64   `json:"sd"`
-	Corr        [][]*float64 `json:"corr"`
-	Interval95  [][]*float64 `json:"interval95"`
-	LogZ        *float64     `json:"log_z"`
-	ELBO        *float64     `json:"elbo"`
-	EvidenceErr *float64     `json:"evidence_err"`
-	KLqp        *float64     `json:"kl_q_p"`
-	KLpq        *float64     `json:"kl_p_q"`
-	Hellinger   *float64     `json:"hellinger"`
-	MeanErrSD   []*float64   `json:"mean_err_sd"`
-	SDRatio     []*float64   `json:"sd_ratio"`
-	Coverage95  *float64     `json:"coverage95"`
-	Iterations  int          `json:"iterations"`
-	Converged   bool         `json:"converged"`
+	Mean       []*float64   `json:"mean"`
+	SD         []*float64   `json:"sd"`
+	Corr       [][]*float64 `json:"corr"`
+	Interval95 [][]*float64 `json:"interval95"`
+	// FittingScale is the fit's normal on the fitting scale; the page shows
+	// its correlations for pairs fitted on a log or logit scale.
+	FittingScale struct {
+		Corr [][]*float64 `json:"corr"`
+	} `json:"fitting_scale"`
+	LogZ        *float64   `json:"log_z"`
+	ELBO        *float64   `json:"elbo"`
+	EvidenceErr *float64   `json:"evidence_err"`
+	KLqp        *float64   `json:"kl_q_p"`
+	KLpq        *float64   `json:"kl_p_q"`
+	Hellinger   *float64   `json:"hellinger"`
+	MeanErrSD   []*float64 `json:"mean_err_sd"`
+	SDRatio     []*float64 `json:"sd_ratio"`
+	Coverage95  *float64   `json:"coverage95"`
+	Iterations  int        `json:"iterations"`
+	Converged   bool       `json:"converged"`
 }
 
 // methodKeys maps the table's column names to the JSON's fit names ("" for
@@ -274,14 +279,14 @@ func compareTable(tab resultsTable, res cliJSON) (problems []string, checked int
 							if cell.Sub != "" {
 								c.numbersFloor(where+" (error)", cell.Sub, 1, 1e-12*deref(idx(res.Exact.SD, i)), abs(idx(res.Exact.MeanErr, i)))
 							}
-						} else if identity(i) {
+						} else {
 							c.numbers(where, cell.V, 1, idx(fit.Mean, i))
 							c.numbers(where+" (deviation)", cell.Sub, 1, idx(fit.MeanErrSD, i))
 						}
 					case "sd":
 						if key == "" {
 							c.numbers(where, cell.V, 1, idx(res.Exact.SD, i))
-						} else if identity(i) {
+						} else {
 							c.numbers(where, cell.V, 1, idx(fit.SD, i))
 							c.numbers(where+" (ratio)", cell.Sub, 1, idx(fit.SDRatio, i))
 						}
@@ -305,8 +310,12 @@ func compareTable(tab resultsTable, res cliJSON) (problems []string, checked int
 					}
 					if key == "" {
 						c.numbers(where, cell.V, 1, idx2(res.Exact.Corr, i, j))
-					} else {
+					} else if identity(i) && identity(j) {
 						c.numbers(where, cell.V, 1, idx2(fit.Corr, i, j))
+					} else {
+						// The page shows a transformed pair's correlation on
+						// the fitting scale, marked so.
+						c.numbers(where, cell.V, 1, idx2(fit.FittingScale.Corr, i, j))
 					}
 					continue
 				}

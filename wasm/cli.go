@@ -23,6 +23,8 @@ func runFit(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	fs.SetOutput(stderr)
 	asJSON := fs.Bool("json", false, "print the result as JSON")
 	plots := fs.Bool("plots", false, "include plot data (marginal curves) in the JSON")
+	var in fitInputs // --data, --scale, --points, --box (cli_options.go)
+	in.define(fs)
 	if err := fs.Parse(args); err != nil {
 		return exitUsage
 	}
@@ -36,14 +38,14 @@ func runFit(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "bellcheck: %v\n", err)
 		return exitModel
 	}
-	m, err := model.Parse(string(src))
-	if err != nil {
-		fmt.Fprint(stderr, describeModelError(name, string(src), err))
-		return exitModel
+	m, opts, code := in.load(name, string(src), stdin, stderr)
+	if code != exitOK {
+		return code
 	}
+	opts.Plots = *plots
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
 	defer stop()
-	res, err := engine.Analyse(ctx, m, engine.Options{Plots: *plots}, nil)
+	res, err := engine.Analyse(ctx, m, opts, nil)
 	if err != nil {
 		fmt.Fprintf(stderr, "bellcheck: %s: %v\n", name, err)
 		return exitModel

@@ -118,12 +118,13 @@ func TestFitJSONStandardNormal(t *testing.T) {
 	}
 }
 
+// The column heads are the methods' labels (engine.Method.Label).
 func TestFitTableMentionsEveryFit(t *testing.T) {
 	code, stdout, stderr := runCLI(t, "-(x-1)^2/2 - (y+2)^2/8 + (x-1)*(y+2)/8\n", "fit", "-")
 	if code != exitOK {
 		t.Fatalf("exit %d; stderr %q", code, stderr)
 	}
-	for _, want := range []string{"exact", "laplace", "reverse KL", "forward KL", "mean x", "corr x,y", "KL(q||p)"} {
+	for _, want := range []string{"exact", "Laplace", "reverse KL", "mean-field", "forward KL", "mean x", "corr x,y", "KL(q||p)"} {
 		if !strings.Contains(stdout, want) {
 			t.Errorf("table lacks %q:\n%s", want, stdout)
 		}

@@ -5,6 +5,7 @@
 // the page, writes the static site and runs the command line:
 //
 //	bellcheck fit [-json] [-plots] FILE    analyse a model file ('-' for standard input)
+//	    [-data FILE] [-scale|-points|-box NAME=VALUE]  attach data; per-parameter options
 //	bellcheck serve [-addr ADDR] [-web DIR] serve the calculator page
 //	bellcheck static [-prefix P] DIR        write the static site to DIR
 //
@@ -19,6 +20,8 @@ import (
 
 const usage = `usage:
   bellcheck fit [-json] [-plots] FILE     analyse a model file ('-' reads standard input)
+      [-data FILE]                         attach a CSV/TSV file's columns as named vectors
+      [-scale NAME=log] [-points NAME=N] [-box NAME=LO:HI]   per-parameter options
   bellcheck serve [-addr ADDR] [-web DIR]  serve the calculator (default 127.0.0.1:8000)
   bellcheck static [-prefix PATH] DIR      write the static site into DIR
 `

@@ -110,7 +110,8 @@ func runStatic(args []string, stderr io.Writer) int {
 	return exitOK
 }
 
-// writeStatic generates the static site into dir.
+// writeStatic generates the static site into dir, with a gzip-compressed
+// copy beside each large script, style, page and the wasm (writeCompressed).
 func writeStatic(dir, webDir, prefix string) error {
 	if _, err := os.Stat(filepath.Join(webDir, "app.wasm")); err != nil {
 		return fmt.Errorf("%s/app.wasm is missing: build it with `make wasm`", webDir)
@@ -122,7 +123,10 @@ func writeStatic(dir, webDir, prefix string) error {
 	if err := app.GenerateStaticWebsite(dir, newHandler(webDir, prefix)); err != nil {
 		return fmt.Errorf("generating the static site: %w", err)
 	}
-	return copyTree(filepath.Join(dir, "web"), webDir)
+	if err := copyTree(filepath.Join(dir, "web"), webDir); err != nil {
+		return err
+	}
+	return writeCompressed(dir)
 }
 
 // copyTree copies the regular files below src into dst.

@@ -12,17 +12,6 @@ import (
 	"bellcheck/engine"
 )
 
-// fitColumns are the table's columns after the exact one, in display order.
-var fitColumns = []struct {
-	title string
-	get   func(engine.Fits) *engine.Fit
-}{
-	{"laplace", func(f engine.Fits) *engine.Fit { return f.Laplace }},
-	{"reverse KL", func(f engine.Fits) *engine.Fit { return f.ReverseKL }},
-	{"mean-field", func(f engine.Fits) *engine.Fit { return f.MeanField }},
-	{"forward KL", func(f engine.Fits) *engine.Fit { return f.ForwardKL }},
-}
-
 // writeTable prints a readable summary of a result: one row per quantity,
 // one column for the exact density and one per fit.
 func writeTable(w io.Writer, name string, r *engine.Result) {
@@ -33,14 +22,11 @@ func writeTable(w io.Writer, name string, r *engine.Result) {
 
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
 	header := []string{"", "exact"}
-	for _, c := range fitColumns {
-		header = append(header, c.title)
+	for _, m := range engine.Methods {
+		header = append(header, m.Label())
 	}
 	row(tw, header...)
-	fits := make([]*engine.Fit, len(fitColumns))
-	for i, c := range fitColumns {
-		fits[i] = c.get(r.Fits)
-	}
+	fits := r.Fits[:]
 	perFit := func(label string, exact string, f func(*engine.Fit) string) {
 		cells := []string{label, exact}
 		for _, fit := range fits {

@@ -37,7 +37,7 @@ func TestEveryExampleAnalyses(t *testing.T) {
 			for i, p := range m.Params {
 				if p.Name == name {
 					found = true
-					if o.Scale != "" && r.Scales[i] != string(o.Scale) {
+					if o.Scale != "" && r.Scales[i] != o.Scale {
 						t.Errorf("%s: %s fitted on %s, suggested %s", e.ID, name, r.Scales[i], o.Scale)
 					}
 				}

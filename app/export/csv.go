@@ -21,7 +21,8 @@ import (
 //   - error: the grid's error estimate of an exact value, empty otherwise;
 //   - scale: "original" for values on the parameter's own scale, or the
 //     fitting scale ("log", "logit"; "log/identity" for a pair) for a fit's
-//     moments and the grid, which live on that scale.
+//     moments (the JSON's fitting_scale fields) and the grid, which live
+//     on that scale.
 var CSVHeader = []string{"quantity", "param", "param2", "method", "value", "error", "scale"}
 
 // CSV writes the result as one row per quantity and method, in the columns
@@ -50,8 +51,10 @@ func CSV(r *engine.Result) ([]byte, error) {
 	cw := &csvRows{w: w, r: r}
 	cw.row(CSVHeader...)
 	cw.exact()
-	for _, f := range fitsOf(r) {
-		cw.fit(f.key, f.fit)
+	for _, m := range engine.Methods {
+		if f := r.Fits[m]; f != nil {
+			cw.fit(m.Key(), f)
+		}
 	}
 	cw.grid()
 	w.Flush()
@@ -62,29 +65,6 @@ func CSV(r *engine.Result) ([]byte, error) {
 		return nil, err
 	}
 	return b.Bytes(), nil
-}
-
-// namedFit is a fit with its JSON key.
-type namedFit struct {
-	key string
-	fit *engine.Fit
-}
-
-// fitsOf lists the result's fits that exist, in the JSON's order.
-func fitsOf(r *engine.Result) []namedFit {
-	all := []namedFit{
-		{"laplace", r.Fits.Laplace},
-		{"reverse_kl", r.Fits.ReverseKL},
-		{"mean_field", r.Fits.MeanField},
-		{"forward_kl", r.Fits.ForwardKL},
-	}
-	out := all[:0]
-	for _, f := range all {
-		if f.fit != nil {
-			out = append(out, f)
-		}
-	}
-	return out
 }
 
 type csvRows struct {
@@ -131,8 +111,8 @@ func (c *csvRows) name(i int) string {
 // scale returns the fitting scale of parameter i as the scale column
 // writes it: "original" when the parameter is fitted as it is.
 func (c *csvRows) scale(i int) string {
-	if i < len(c.r.Scales) && c.r.Scales[i] != "" && c.r.Scales[i] != string(engine.Identity) {
-		return c.r.Scales[i]
+	if i < len(c.r.Scales) && !c.r.Scales[i].IsIdentity() {
+		return c.r.Scales[i].String()
 	}
 	return "original"
 }
@@ -201,22 +181,23 @@ func (c *csvRows) fit(key string, f *engine.Fit) {
 	nan := math.NaN()
 	for i := range c.r.Params {
 		p, sc := c.name(i), c.scale(i)
-		c.num("mean", p, "", key, get(f.Mean, i), nan, sc)
-		c.num("sd", p, "", key, get(f.SD, i), nan, sc)
+		fs := &f.FittingScale
+		c.num("mean", p, "", key, get(fs.Mean, i), nan, sc)
+		c.num("sd", p, "", key, get(fs.SD, i), nan, sc)
 		lo, hi := nan, nan
 		if i < len(f.Interval95) {
 			lo, hi = f.Interval95[i][0], f.Interval95[i][1]
 		}
 		c.num("interval95_lo", p, "", key, lo, nan, "original")
 		c.num("interval95_hi", p, "", key, hi, nan, "original")
-		c.num("mean_err_sd", p, "", key, get(f.MeanErrSD, i), nan, sc)
-		c.num("sd_ratio", p, "", key, get(f.SDRatio, i), nan, sc)
+		c.num("mean_err_sd", p, "", key, get(fs.MeanErrSD, i), nan, sc)
+		c.num("sd_ratio", p, "", key, get(fs.SDRatio, i), nan, sc)
 	}
 	for i := range c.r.Params {
 		for j := i + 1; j < len(c.r.Params); j++ {
 			sc := c.pairScale(i, j)
-			c.num("cov", c.name(i), c.name(j), key, get2(f.Cov, i, j), nan, sc)
-			c.num("corr", c.name(i), c.name(j), key, get2(f.Corr, i, j), nan, sc)
+			c.num("cov", c.name(i), c.name(j), key, get2(f.FittingScale.Cov, i, j), nan, sc)
+			c.num("corr", c.name(i), c.name(j), key, get2(f.FittingScale.Corr, i, j), nan, sc)
 		}
 	}
 	opt := func(q string, v *float64) {
@@ -250,8 +231,8 @@ func (c *csvRows) grid() {
 			pts = float64(g.Points[i])
 		}
 		c.num("points", p, "", "grid", pts, nan, "original")
-		c.num("lo", p, "", "grid", get(g.Lo, i), nan, sc)
-		c.num("hi", p, "", "grid", get(g.Hi, i), nan, sc)
+		c.num("lo", p, "", "grid", get(g.FittingScale.Lo, i), nan, sc)
+		c.num("hi", p, "", "grid", get(g.FittingScale.Hi, i), nan, sc)
 	}
 	c.num("edge_mass", "", "", "grid", g.EdgeMass, nan, "original")
 	c.num("non_finite", "", "", "grid", g.NonFinite, nan, "original")

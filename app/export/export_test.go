@@ -142,8 +142,10 @@ func TestCSVParsesBackToTheSameNumbers(t *testing.T) {
 	if strings.Join(header, ",") != "quantity,param,param2,method,value,error,scale" {
 		t.Errorf("header %v", header)
 	}
-	fits := map[string]*engine.Fit{"laplace": r.Fits.Laplace, "reverse_kl": r.Fits.ReverseKL,
-		"mean_field": r.Fits.MeanField, "forward_kl": r.Fits.ForwardKL}
+	fits := map[string]*engine.Fit{}
+	for _, m := range engine.Methods {
+		fits[m.Key()] = r.Fits[m]
+	}
 	nf := 0
 	for _, f := range fits {
 		if f != nil {
@@ -170,22 +172,22 @@ func TestCSVParsesBackToTheSameNumbers(t *testing.T) {
 		{"cov|mu|s|exact", r.Exact.Cov[0][1], r.Exact.CovErr[0][1], "original"},
 		{"corr|mu|s|exact", r.Exact.Corr[0][1], nan, "original"},
 		{"log_z|||exact", r.Exact.LogZ, r.Exact.LogZErr, "original"},
-		{"log_z|||laplace", *r.Fits.Laplace.LogZ, nan, "original"},
-		{"elbo|||reverse_kl", *r.Fits.ReverseKL.ELBO, nan, "original"},
-		{"evidence_err|||mean_field", *r.Fits.MeanField.EvidenceErr, nan, "original"},
+		{"log_z|||laplace", *r.Fits[engine.Laplace].LogZ, nan, "original"},
+		{"elbo|||reverse_kl", *r.Fits[engine.ReverseKL].ELBO, nan, "original"},
+		{"evidence_err|||mean_field", *r.Fits[engine.MeanField].EvidenceErr, nan, "original"},
 		{"points|s||grid", float64(r.Grid.Points[1]), nan, "original"},
-		{"lo|s||grid", r.Grid.Lo[1], nan, "log"},
+		{"lo|s||grid", r.Grid.FittingScale.Lo[1], nan, "log"},
 		{"edge_mass|||grid", r.Grid.EdgeMass, nan, "original"},
 	}
 	for key, f := range fits {
 		checks = append(checks,
 			check{"mean|mu||" + key, f.Mean[0], nan, "original"},
-			check{"mean|s||" + key, f.Mean[1], nan, "log"},
-			check{"sd|s||" + key, f.SD[1], nan, "log"},
+			check{"mean|s||" + key, f.FittingScale.Mean[1], nan, "log"},
+			check{"sd|s||" + key, f.FittingScale.SD[1], nan, "log"},
 			check{"interval95_lo|s||" + key, f.Interval95[1][0], nan, "original"},
 			check{"interval95_hi|mu||" + key, f.Interval95[0][1], nan, "original"},
-			check{"cov|mu|s|" + key, f.Cov[0][1], nan, "identity/log"},
-			check{"corr|mu|s|" + key, f.Corr[0][1], nan, "identity/log"},
+			check{"cov|mu|s|" + key, f.FittingScale.Cov[0][1], nan, "identity/log"},
+			check{"corr|mu|s|" + key, f.FittingScale.Corr[0][1], nan, "identity/log"},
 			check{"kl_q_p|||" + key, f.KLqp, nan, "original"},
 			check{"kl_p_q|||" + key, f.KLpq, nan, "original"},
 			check{"hellinger|||" + key, f.Hellinger, nan, "original"},
@@ -231,9 +233,10 @@ func TestCSVWritesAbsentAndInfiniteValues(t *testing.T) {
 	inf, nan := math.Inf(1), math.NaN()
 	r := &engine.Result{
 		Params: []string{"weird,name\"q"},
-		Scales: []string{"identity"},
+		Scales: []engine.Scale{engine.Identity},
 		Exact:  engine.Exact{LogZ: nan, LogZErr: nan, Mean: []float64{0.5}, SD: []float64{nan}, Quantiles: [][3]float64{{-1, 0, 1}}},
-		Fits:   engine.Fits{Laplace: &engine.Fit{Mean: []float64{1e-300}, SD: []float64{2}, KLqp: inf, KLpq: -inf, Coverage95: 0.5}},
+		Fits: engine.Fits{engine.Laplace: &engine.Fit{Mean: []float64{1e-300}, SD: []float64{2}, KLqp: inf, KLpq: -inf, Coverage95: 0.5,
+			FittingScale: engine.FitNormal{Mean: []float64{1e-300}, SD: []float64{2}}}},
 	}
 	b, err := CSV(r)
 	if err != nil {

@@ -30,7 +30,7 @@ type Options struct {
 	// Log draws 1-D densities as log-densities.
 	Log bool
 	// Hidden hides methods, by plot.Method.
-	Hidden [5]bool
+	Hidden [plot.NumMethods]bool
 	// Compact drops axis titles and thins ticks for the cells of a grid.
 	Compact bool
 	// XLabel and YLabel name the axes (parameter names).
@@ -48,14 +48,13 @@ func (o Options) shown(m plot.Method) bool { return !o.Hidden[m] }
 
 // Curves returns a 1-D marginal's curves by method (nil where a fit is
 // absent).
-func Curves(m *engine.Marginal1D) [5][]float64 {
-	return [5][]float64{
-		plot.Exact:     m.Exact,
-		plot.Laplace:   m.Laplace,
-		plot.ReverseKL: m.Reverse,
-		plot.MeanField: m.MeanFld,
-		plot.ForwardKL: m.Forward,
+func Curves(m *engine.Marginal1D) [plot.NumMethods][]float64 {
+	var c [plot.NumMethods][]float64
+	c[plot.Exact] = m.Exact
+	for _, f := range engine.Methods {
+		c[plot.CurveOf(f)] = m.Fits[f]
 	}
+	return c
 }
 
 // logFloor is how far below the exact peak a log-density plot reaches, in
@@ -66,7 +65,7 @@ const logFloor = 14
 // to a little above the exact peak (fits may reach twice it before they are
 // clipped); on the log scale from logFloor nats below the exact peak to a
 // little above it.
-func densityRange(curves [5][]float64, o Options) (lo, hi float64, ok bool) {
+func densityRange(curves [plot.NumMethods][]float64, o Options) (lo, hi float64, ok bool) {
 	_, peak, ok := plot.Extent(curves[plot.Exact])
 	if !ok || !(peak > 0) {
 		return 0, 0, false

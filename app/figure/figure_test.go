@@ -7,8 +7,11 @@ import (
 	"strings"
 	"testing"
 
+	"gonum.org/v1/gonum/mat"
+
 	"bellcheck/app/plot"
 	"bellcheck/engine"
+	"bellcheck/engine/gauss"
 )
 
 // gaussian2D builds the pair marginal of a standard bivariate normal with
@@ -32,11 +35,15 @@ func gaussian2D(rho float64, n int) *engine.Marginal2D {
 	for k, m := range Masses {
 		p.Levels[k] = peak * (1 - m)
 	}
+	q, err := gauss.Prepare(gauss.Gaussian{Mean: []float64{0, 0}, Cov: mat.NewSymDense(2, []float64{1, rho, rho, 1})})
+	if err != nil {
+		panic(err)
+	}
 	var lines [3][][2]float64
 	for k, m := range Masses {
-		lines[k] = plot.Ellipse(0, 0, 1, rho, 1, plot.MassRadius(m), 48)
+		lines[k] = q.Ellipse(0, 1, m, 48)
 	}
-	p.Ellipses = map[string][3][][2]float64{"laplace": lines}
+	p.Ellipses = engine.Ellipses{engine.Laplace: lines}
 	return p
 }
 
@@ -111,7 +118,7 @@ func TestMarginalScales(t *testing.T) {
 	m := &engine.Marginal1D{X: []float64{-2, -1, 0, 1, 2}}
 	for _, x := range m.X {
 		m.Exact = append(m.Exact, math.Exp(-x*x/2)/math.Sqrt(2*math.Pi))
-		m.Laplace = append(m.Laplace, math.Exp(-x*x/2)/math.Sqrt(2*math.Pi))
+		m.Fits[engine.Laplace] = append(m.Fits[engine.Laplace], math.Exp(-x*x/2)/math.Sqrt(2*math.Pi))
 	}
 	f := Marginal(m, Options{ID: "m", XLabel: "x"})
 	if f == nil {

@@ -45,7 +45,7 @@ func Pair(p *engine.Marginal2D, mx, my *engine.Marginal1D, o Options) *Figure {
 	xlo, xhi := viewOf(p.X, ex, nil)
 	ylo, yhi := viewOf(p.Y, ey, nil)
 	for _, meth := range plot.Fits {
-		if lines, ok := p.Ellipses[plot.StyleOf(meth).Key]; ok && o.shown(meth) {
+		if lines, ok := ellipsesOf(p, meth); ok && o.shown(meth) {
 			xlo, xhi = extendByPolylines(xlo, xhi, p.X[0], p.X[nx-1], 0, lines[2:])
 			ylo, yhi = extendByPolylines(ylo, yhi, p.Y[0], p.Y[ny-1], 1, lines[2:])
 		}
@@ -96,7 +96,7 @@ func Pair(p *engine.Marginal2D, mx, my *engine.Marginal1D, o Options) *Figure {
 		if !o.shown(meth) {
 			continue
 		}
-		lines, ok := p.Ellipses[plot.StyleOf(meth).Key]
+		lines, ok := ellipsesOf(p, meth)
 		if !ok {
 			continue
 		}
@@ -273,4 +273,14 @@ func fracIndex(xs []float64, v float64) float64 {
 		return 0
 	}
 	return float64(k-1) + (v-xs[k-1])/(xs[k]-xs[k-1])
+}
+
+// ellipsesOf returns a fit's contours in a pair, where the fit exists.
+func ellipsesOf(p *engine.Marginal2D, meth plot.Method) ([3][][2]float64, bool) {
+	f, ok := meth.Fit()
+	if !ok {
+		return [3][][2]float64{}, false
+	}
+	lines, ok := p.Ellipses[f]
+	return lines, ok
 }

@@ -99,55 +99,6 @@ func TestContourOpenAtGridEdgeAndSaddle(t *testing.T) {
 	}
 }
 
-func TestEllipseAtMahalanobisRadius(t *testing.T) {
-	cases := []struct {
-		name          string
-		mx, my        float64
-		sxx, sxy, syy float64
-		r             float64
-	}{
-		{"unit", 0, 0, 1, 0, 1, 1},
-		{"correlated", 1.5, -2, 2.0, -1.2, 1.0, 2},
-		{"narrow", 0, 1e3, 1e-4, 0, 4, 3},
-	}
-	for _, c := range cases {
-		pts := Ellipse(c.mx, c.my, c.sxx, c.sxy, c.syy, c.r, 64)
-		if len(pts) != 64 {
-			t.Fatalf("%s: %d points", c.name, len(pts))
-		}
-		// Independent check with gonum's Cholesky inverse.
-		var chol mat.Cholesky
-		if !chol.Factorize(mat.NewSymDense(2, []float64{c.sxx, c.sxy, c.sxy, c.syy})) {
-			t.Fatalf("%s: not positive definite", c.name)
-		}
-		var inv mat.SymDense
-		if err := chol.InverseTo(&inv); err != nil {
-			t.Fatal(err)
-		}
-		for _, p := range pts {
-			d := mat.NewVecDense(2, []float64{p[0] - c.mx, p[1] - c.my})
-			if m := math.Sqrt(mat.Inner(d, &inv, d)); math.Abs(m-c.r) > 1e-9*c.r {
-				t.Errorf("%s: point %v at radius %g, want %g", c.name, p, m, c.r)
-			}
-		}
-	}
-	if Ellipse(0, 0, 1, 1, 1, 1, 32) != nil {
-		t.Error("singular covariance should give no ellipse")
-	}
-}
-
-func TestMassRadius(t *testing.T) {
-	// Closed form of the chi-square distribution with 2 degrees of freedom:
-	// P(R <= r) = 1 - exp(-r^2/2), so 39.35 %, 86.47 % and 98.89 % of the
-	// mass lie within 1, 2 and 3 Mahalanobis units.
-	for r := 1.0; r <= 3; r++ {
-		p := 1 - math.Exp(-r*r/2)
-		if got := MassRadius(p); math.Abs(got-r) > 1e-12 {
-			t.Errorf("MassRadius(%g) = %g, want %g", p, got, r)
-		}
-	}
-}
-
 // BenchmarkContour301 traces one level of a correlated Gaussian on a
 // 301 by 301 grid, the size of the engine's default 2-D grid.
 func BenchmarkContour301(b *testing.B) {

@@ -39,7 +39,7 @@ type FigureSet struct {
 // View is the plots' view: a log scale for 1-D densities and methods hidden.
 type View struct {
 	Log    bool
-	Hidden [5]bool
+	Hidden [plot.NumMethods]bool
 }
 
 // BuildFigures draws every plot of a result. It returns nil when the result

@@ -4,9 +4,11 @@ import (
 	"math"
 	"time"
 
+	"gonum.org/v1/gonum/mat"
+
 	"bellcheck/app/figure"
-	"bellcheck/app/plot"
 	"bellcheck/engine"
+	"bellcheck/engine/gauss"
 )
 
 // gaussResult builds, for the page's tests, the result the engine would give
@@ -49,14 +51,14 @@ func gaussResult(names []string, mean []float64, cov [][]float64, laplaceShift f
 		return f
 	}
 	lz, elbo := -3.0, -3.25
-	r.Fits.Laplace = mk(laplaceShift, 0.05)
-	r.Fits.Laplace.LogZ = &lz
+	r.Fits[engine.Laplace] = mk(laplaceShift, 0.05)
+	r.Fits[engine.Laplace].LogZ = &lz
 	e1, e2 := lz-r.Exact.LogZ, elbo-r.Exact.LogZ
-	r.Fits.Laplace.EvidenceErr = &e1
-	r.Fits.ReverseKL = mk(0, 0.01)
-	r.Fits.ReverseKL.ELBO = &elbo
-	r.Fits.ReverseKL.EvidenceErr = &e2
-	r.Fits.ForwardKL = mk(0, 0.02)
+	r.Fits[engine.Laplace].EvidenceErr = &e1
+	r.Fits[engine.ReverseKL] = mk(0, 0.01)
+	r.Fits[engine.ReverseKL].ELBO = &elbo
+	r.Fits[engine.ReverseKL].EvidenceErr = &e2
+	r.Fits[engine.ForwardKL] = mk(0, 0.02)
 	r.Modes = []engine.Mode{{X: mean, LogDensity: 1.5, Mass: 1, PositiveDefinite: true}}
 	r.Grid = engine.GridInfo{Points: make([]int, d)}
 	for i := range d {
@@ -77,19 +79,19 @@ func gaussResult(names []string, mean []float64, cov [][]float64, laplaceShift f
 		m1 := engine.Marginal1D{Param: i, X: axis(i)}
 		for _, x := range m1.X {
 			m1.Exact = append(m1.Exact, normal(x, mean[i], sd[i]))
-			m1.Reverse = append(m1.Reverse, normal(x, mean[i], sd[i]))
-			m1.Forward = append(m1.Forward, normal(x, mean[i], sd[i]))
+			m1.Fits[engine.ReverseKL] = append(m1.Fits[engine.ReverseKL], normal(x, mean[i], sd[i]))
+			m1.Fits[engine.ForwardKL] = append(m1.Fits[engine.ForwardKL], normal(x, mean[i], sd[i]))
 			shift := 0.0
 			if i == 0 {
 				shift = laplaceShift * sd[0]
 			}
-			m1.Laplace = append(m1.Laplace, normal(x, mean[i]+shift, sd[i]))
+			m1.Fits[engine.Laplace] = append(m1.Fits[engine.Laplace], normal(x, mean[i]+shift, sd[i]))
 		}
 		r.Plots.Marginals = append(r.Plots.Marginals, m1)
 	}
 	for i := range d {
 		for j := i + 1; j < d; j++ {
-			p := engine.Marginal2D{I: i, J: j, X: axis(i), Y: axis(j), Ellipses: map[string][3][][2]float64{}}
+			p := engine.Marginal2D{I: i, J: j, X: axis(i), Y: axis(j), Ellipses: engine.Ellipses{}}
 			a, b, c := cov[i][i], cov[i][j], cov[j][j]
 			det := a*c - b*b
 			peak := 1 / (2 * math.Pi * math.Sqrt(det))
@@ -100,12 +102,16 @@ func gaussResult(names []string, mean []float64, cov [][]float64, laplaceShift f
 					p.Density = append(p.Density, peak*math.Exp(-qf/2))
 				}
 			}
+			q, err := gauss.Prepare(gauss.Gaussian{Mean: []float64{mean[i], mean[j]}, Cov: mat.NewSymDense(2, []float64{a, b, b, c})})
+			if err != nil {
+				panic(err)
+			}
 			var lines [3][][2]float64
 			for k, mass := range figure.Masses {
 				p.Levels[k] = peak * (1 - mass)
-				lines[k] = plot.Ellipse(mean[i], mean[j], a, b, c, plot.MassRadius(mass), 64)
+				lines[k] = q.Ellipse(0, 1, mass, 64)
 			}
-			p.Ellipses["reverse_kl"] = lines
+			p.Ellipses[engine.ReverseKL] = lines
 			r.Plots.Pairs = append(r.Plots.Pairs, p)
 		}
 	}

@@ -3,6 +3,7 @@ package ui
 import (
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
 
+	"bellcheck/app/plot"
 	"bellcheck/engine"
 )
 
@@ -17,5 +18,5 @@ type Host interface {
 	// LoadExample replaces the model by a gallery example.
 	LoadExample(ctx app.Context, id string)
 	// SetView changes the plots' view: the log scale and hidden methods.
-	SetView(ctx app.Context, log bool, hidden [5]bool)
+	SetView(ctx app.Context, log bool, hidden [plot.NumMethods]bool)
 }

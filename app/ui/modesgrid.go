@@ -1,7 +1,6 @@
 package ui
 
 import (
-	"math"
 	"sort"
 	"strconv"
 	"strings"
@@ -10,7 +9,6 @@ import (
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
 
 	"bellcheck/app/plot"
-	"bellcheck/engine"
 )
 
 // ModesGrid is the card of the modes the search found and the facts of the
@@ -32,34 +30,19 @@ func (c *ModesGrid) Render() app.UI {
 		return app.P().Class("muted").Text("The modes and the grid appear here once the analysis has run.")
 	}
 	r := c.Shown.Result
-	support := func(i int) (float64, float64) {
-		if m := c.Shown.Model; m != nil && i < len(m.Params) {
-			return m.Params[i].Lo, m.Params[i].Hi
-		}
-		return math.Inf(-1), math.Inf(1)
-	}
 	var box []string
 	for i := range r.Params {
 		if i < len(r.Grid.Lo) && i < len(r.Grid.Hi) && i < len(r.Grid.Points) {
 			sc := resultScale(r, i)
-			lo, hi := support(i)
-			b := r.Params[i] + " ∈ [" + plot.FormatNumber(Back(sc, lo, hi, r.Grid.Lo[i]), 4) + ", " +
-				plot.FormatNumber(Back(sc, lo, hi, r.Grid.Hi[i]), 4) + "], " + strconv.Itoa(r.Grid.Points[i]) + " points"
-			if sc != engine.Identity && sc != "" {
-				b += " on the " + string(sc) + " scale"
+			b := r.Params[i] + " ∈ [" + plot.FormatNumber(r.Grid.Lo[i], 4) + ", " +
+				plot.FormatNumber(r.Grid.Hi[i], 4) + "], " + strconv.Itoa(r.Grid.Points[i]) + " points"
+			if !sc.IsIdentity() {
+				b += " on the " + sc.String() + " scale"
 			}
 			box = append(box, b)
 		}
 	}
-	modes := make([]engine.Mode, len(r.Modes))
-	for k, md := range r.Modes {
-		md.X = append([]float64(nil), md.X...)
-		for i := range md.X {
-			lo, hi := support(i)
-			md.X[i] = Back(resultScale(r, i), lo, hi, md.X[i])
-		}
-		modes[k] = md
-	}
+	modes := r.Modes
 	stages := make([]string, 0, len(r.Timing.Stages))
 	for k := range r.Timing.Stages {
 		stages = append(stages, k)

@@ -5,6 +5,7 @@ import (
 
 	"bellcheck/app/examples"
 	"bellcheck/app/jsdom"
+	"bellcheck/app/plot"
 	"bellcheck/app/share"
 	"bellcheck/engine"
 	"bellcheck/engine/model"
@@ -303,7 +304,7 @@ func (p *Page) State() (src string, params ParamChoices, v View) {
 }
 
 // SetView implements Host.
-func (p *Page) SetView(ctx app.Context, log bool, hidden [5]bool) {
+func (p *Page) SetView(ctx app.Context, log bool, hidden [plot.NumMethods]bool) {
 	p.view = View{Log: log, Hidden: hidden}
 	p.figs = BuildFigures(p.s.Result, p.view)
 	p.persist()

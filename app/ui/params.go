@@ -10,7 +10,6 @@ import (
 	"bellcheck/app/jsdom"
 	"bellcheck/app/plot"
 	"bellcheck/engine"
-	"bellcheck/engine/model"
 )
 
 // ParamView is what the parameter panel shows for one parameter.
@@ -41,8 +40,7 @@ func ParamViews(s *Session) []ParamView {
 		if r := s.Result; r != nil {
 			for k, name := range r.Params {
 				if name == p.Name && k < len(r.Grid.Lo) && k < len(r.Grid.Hi) && k < len(r.Grid.Points) {
-					sc := resultScale(r, k)
-					v.UsedLo, v.UsedHi, v.UsedPoints = Back(sc, p.Lo, p.Hi, r.Grid.Lo[k]), Back(sc, p.Lo, p.Hi, r.Grid.Hi[k]), r.Grid.Points[k]
+					v.UsedLo, v.UsedHi, v.UsedPoints = r.Grid.Lo[k], r.Grid.Hi[k], r.Grid.Points[k]
 				}
 			}
 		}
@@ -93,18 +91,17 @@ func (pp *ParamPanel) Render() app.UI {
 
 func (pp *ParamPanel) block(i int, p ParamView) app.UI {
 	id := "bc-p" + strconv.Itoa(i)
-	mp := model.Param{Name: p.Name, Lo: p.Lo, Hi: p.Hi}
 	scales := []struct {
 		sc    engine.Scale
 		label string
 	}{{engine.Identity, "as is"}, {engine.Log, "log"}, {engine.Logit, "logit"}}
 	var opts []app.UI
 	cur := p.Options.Scale
-	if cur == "" || !ScaleAllowed(mp, cur) {
+	if cur.Check(p.Lo, p.Hi) != nil || cur == "" {
 		cur = engine.Identity
 	}
 	for _, s := range scales {
-		if !ScaleAllowed(mp, s.sc) {
+		if s.sc.Check(p.Lo, p.Hi) != nil {
 			continue
 		}
 		opts = append(opts, app.Option().Value(string(s.sc)).Selected(s.sc == cur).Text(s.label))
@@ -228,7 +225,7 @@ func (pp *ParamPanel) boundInput(i int, id, placeholder string, v *float64, uppe
 // resultScale returns the fitting scale of parameter k in a result.
 func resultScale(r *engine.Result, k int) engine.Scale {
 	if k < len(r.Scales) {
-		return engine.Scale(r.Scales[k])
+		return r.Scales[k]
 	}
 	return engine.Identity
 }

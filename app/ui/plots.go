@@ -78,6 +78,11 @@ func (pp *PlotPanel) corrCell(fs *FigureSet, i, j int) app.UI {
 			c = at2(r.Exact.Corr, i, j)
 		} else if f := fitOf(r, m); f != nil {
 			c = at2(f.Corr, i, j)
+			if !resultScale(r, i).IsIdentity() || !resultScale(r, j).IsIdentity() {
+				// As the table: a transformed pair's fit correlation on
+				// the fitting scale.
+				c = at2(f.FittingScale.Corr, i, j)
+			}
 		} else {
 			continue
 		}

@@ -182,7 +182,7 @@ func (s *Session) Options() engine.Options {
 		if i < len(chosen) {
 			po = chosen[i]
 		}
-		if !ScaleAllowed(p, po.Scale) {
+		if po.Scale.Check(p.Lo, p.Hi) != nil {
 			po.Scale = ""
 		}
 		if po.Scale == engine.Identity {
@@ -213,19 +213,4 @@ func clipBound(v *float64, lo, hi float64) *float64 {
 	}
 	x := math.Max(lo, math.Min(hi, *v))
 	return &x
-}
-
-// ScaleAllowed reports whether a parameter's support allows the scale: log
-// needs a finite lower bound and no upper one, logit two finite bounds.
-func ScaleAllowed(p model.Param, sc engine.Scale) bool {
-	finite := func(v float64) bool { return !math.IsInf(v, 0) && !math.IsNaN(v) }
-	switch sc {
-	case "", engine.Identity:
-		return true
-	case engine.Log:
-		return finite(p.Lo) && math.IsInf(p.Hi, 1)
-	case engine.Logit:
-		return finite(p.Lo) && finite(p.Hi) && p.Lo < p.Hi
-	}
-	return false
 }

@@ -28,7 +28,7 @@ type Row struct {
 	// Hint explains the row in a sentence (a tooltip and screen-reader
 	// description).
 	Hint  string
-	Cells [5]Cell
+	Cells [plot.NumMethods]Cell
 }
 
 // Section is a titled group of rows.
@@ -40,15 +40,8 @@ type Section struct {
 // fitOf returns a result's fit for a method (nil for the exact density and
 // for absent fits).
 func fitOf(r *engine.Result, m plot.Method) *engine.Fit {
-	switch m {
-	case plot.Laplace:
-		return r.Fits.Laplace
-	case plot.ReverseKL:
-		return r.Fits.ReverseKL
-	case plot.MeanField:
-		return r.Fits.MeanField
-	case plot.ForwardKL:
-		return r.Fits.ForwardKL
+	if f, ok := m.Fit(); ok {
+		return r.Fits[f]
 	}
 	return nil
 }
@@ -59,7 +52,7 @@ const absentFit = "no fit: see the diagnostics"
 // markBest sets Best on the fits with the lowest finite score (ties within
 // a part in 10^9 share it). Nothing is marked when fewer than two fits have
 // a score, since a comparison needs two.
-func markBest(row *Row, score [5]float64) {
+func markBest(row *Row, score [plot.NumMethods]float64) {
 	best := math.Inf(1)
 	n := 0
 	for _, m := range plot.Fits {
@@ -80,9 +73,13 @@ func markBest(row *Row, score [5]float64) {
 
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 
-func nanScores() [5]float64 {
-	n := math.NaN()
-	return [5]float64{n, n, n, n, n}
+// nanScores returns a score per method, all NaN (none yet).
+func nanScores() [plot.NumMethods]float64 {
+	var s [plot.NumMethods]float64
+	for i := range s {
+		s[i] = math.NaN()
+	}
+	return s
 }
 
 func at(v []float64, i int) float64 {
@@ -110,29 +107,9 @@ func Table(r *engine.Result, m *model.Model) []Section {
 	d := len(r.Params)
 	scaleOf := func(i int) engine.Scale {
 		if i < len(r.Scales) {
-			return engine.Scale(r.Scales[i])
+			return r.Scales[i]
 		}
 		return engine.Identity
-	}
-	support := func(i int) (float64, float64) {
-		if m != nil && i < len(m.Params) {
-			return m.Params[i].Lo, m.Params[i].Hi
-		}
-		return math.Inf(-1), math.Inf(1)
-	}
-	// Each fit's mean and sd on the original scale.
-	type moments struct{ mean, sd []float64 }
-	var mom [5]moments
-	for _, meth := range plot.Fits {
-		f := fitOf(r, meth)
-		if f == nil {
-			continue
-		}
-		mom[meth] = moments{make([]float64, d), make([]float64, d)}
-		for i := range d {
-			lo, hi := support(i)
-			mom[meth].mean[i], mom[meth].sd[i] = Pushforward(scaleOf(i), lo, hi, at(f.Mean, i), at(f.SD, i))
-		}
 	}
 
 	var sections []Section
@@ -146,8 +123,8 @@ func Table(r *engine.Result, m *model.Model) []Section {
 			q = [3]float64{math.NaN(), math.NaN(), math.NaN()}
 		}
 		note := ""
-		if sc := scaleOf(i); sc != engine.Identity && sc != "" {
-			note = " The fits are Gaussian on the " + string(sc) + " scale; their moments here are those of the implied distribution on the original scale."
+		if sc := scaleOf(i); !sc.IsIdentity() {
+			note = " The fits are Gaussian on the " + sc.String() + " scale; their moments here are those of the implied distribution on the original scale."
 		}
 		mean := Row{Label: "mean", Param: name, Hint: "Posterior mean; under each fit, its difference from the exact mean in exact standard deviations." + note}
 		sd := Row{Label: "sd", Param: name, Hint: "Posterior standard deviation; under each fit, its ratio to the exact one." + note}
@@ -173,7 +150,7 @@ func Table(r *engine.Result, m *model.Model) []Section {
 				}
 				continue
 			}
-			fm, fs := mom[meth].mean[i], mom[meth].sd[i]
+			fm, fs := at(f.Mean, i), at(f.SD, i)
 			dm := (fm - exMean) / exSD
 			ratio := fs / exSD
 			mean.Cells[meth] = Cell{Text: fmtScaled(fm, exSD)}
@@ -207,7 +184,7 @@ func Table(r *engine.Result, m *model.Model) []Section {
 				row := Row{Label: "corr(" + pair + ")", Param: pair, Hint: "Correlation coefficient of the two parameters."}
 				ex := at2(r.Exact.Corr, i, j)
 				row.Cells[plot.Exact] = Cell{Text: plot.FormatNumber(ex, 3)}
-				transformed := (scaleOf(i) != engine.Identity && scaleOf(i) != "") || (scaleOf(j) != engine.Identity && scaleOf(j) != "")
+				transformed := !scaleOf(i).IsIdentity() || !scaleOf(j).IsIdentity()
 				if transformed {
 					row.Hint += " Fits on a log or logit scale show their correlation on that scale, so it is not compared with the exact one."
 				}
@@ -219,6 +196,9 @@ func Table(r *engine.Result, m *model.Model) []Section {
 						continue
 					}
 					c := at2(f.Corr, i, j)
+					if transformed {
+						c = at2(f.FittingScale.Corr, i, j)
+					}
 					row.Cells[meth] = Cell{Text: plot.FormatNumber(c, 3)}
 					if transformed {
 						row.Cells[meth].Sub = "fit scale"

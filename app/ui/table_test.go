@@ -84,9 +84,9 @@ func TestFmtScaled(t *testing.T) {
 
 func TestTableReportsTheOptimiser(t *testing.T) {
 	r := gaussResult([]string{"a"}, []float64{0}, [][]float64{{1}}, 0)
-	r.Fits.ReverseKL.Converged = false
-	r.Fits.ReverseKL.Iterations = 15
-	r.Fits.ReverseKL.Residual = 0.0017
+	fitOf(r, plot.ReverseKL).Converged = false
+	fitOf(r, plot.ReverseKL).Iterations = 15
+	fitOf(r, plot.ReverseKL).Residual = 0.0017
 	secs := Table(r, nil)
 	last := secs[len(secs)-1].Rows
 	row := last[len(last)-1]

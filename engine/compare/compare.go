@@ -5,21 +5,14 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"time"
 
 	"gonum.org/v1/gonum/mat"
 
+	"bellcheck/engine/gauss"
 	"bellcheck/engine/grid"
-	"bellcheck/engine/hermite"
 	"bellcheck/engine/special"
 	"bellcheck/engine/target"
 )
-
-// Gaussian is the approximation to compare, on the grid's scale.
-type Gaussian struct {
-	Mean []float64
-	Cov  *mat.SymDense
-}
 
 // Method says how KL(q||p) and the Hellinger distance were computed.
 type Method string
@@ -80,21 +73,17 @@ type Settings struct {
 	Progress func(fraction float64)
 }
 
-// ErrBadGaussian means a Gaussian of the wrong size or with a covariance
-// that is not positive definite.
+// ErrBadGaussian means a Gaussian whose dimension is not the grid's.
 var ErrBadGaussian = errors.New("compare: bad Gaussian")
 
-// gaussianPrep holds what the per-node loop needs of one Gaussian.
+// gaussianPrep holds what the per-node loop needs of one Gaussian beyond
+// its prepared form.
 type gaussianPrep struct {
-	mean    []float64
-	prec    [][]float64 // inverse covariance
-	logNorm float64     // -d/2 log 2 pi - 1/2 log det Cov
-	logDet  float64
-	chol    mat.Cholesky
-	r0      float64 // sqrt of the chi-square 0.95 quantile
-	band    float64 // half-width of the smoothing band in sqrt(M)
-	step    float64 // largest change of sqrt(M) between neighbours
-	trPC    float64 // sum_k P_kk h_k^2 / 12, the cell's mean of u'Pu
+	*gauss.Prepared
+	r0   float64 // sqrt of the chi-square 0.95 quantile
+	band float64 // half-width of the smoothing band in sqrt(M)
+	step float64 // largest change of sqrt(M) between neighbours
+	trPC float64 // sum_k P_kk h_k^2 / 12, the cell's mean of u'Pu
 	// resolved: the grid's rule integrates q to about 1e-10 (see
 	// latticeMin).
 	resolved bool
@@ -103,60 +92,23 @@ type gaussianPrep struct {
 	infinite                 bool
 }
 
-func prepare(g *grid.Grid, q Gaussian) (*gaussianPrep, error) {
+func prepare(g *grid.Grid, q *gauss.Prepared) (*gaussianPrep, error) {
 	d := g.Dim
-	if len(q.Mean) != d || q.Cov == nil || q.Cov.SymmetricDim() != d {
+	if q == nil || q.Dim() != d {
 		return nil, fmt.Errorf("%w: dimension does not match the grid's %d", ErrBadGaussian, d)
 	}
-	for _, v := range q.Mean {
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return nil, fmt.Errorf("%w: mean %v", ErrBadGaussian, q.Mean)
-		}
-	}
-	gp := &gaussianPrep{mean: q.Mean}
-	if !gp.chol.Factorize(q.Cov) {
-		return nil, fmt.Errorf("%w: covariance not positive definite", ErrBadGaussian)
-	}
-	// The precision through the correlation matrix, so that parameters on
-	// scales far apart (sds 1e-8 and 1e8: a covariance of condition 1e32)
-	// do not make the inverse look singular.
-	sd := make([]float64, d)
-	for i := range sd {
-		sd[i] = math.Sqrt(q.Cov.At(i, i))
-	}
-	corr := mat.NewSymDense(d, nil)
-	for i := 0; i < d; i++ {
-		for j := i; j < d; j++ {
-			corr.SetSym(i, j, q.Cov.At(i, j)/(sd[i]*sd[j]))
-		}
-	}
-	var cc mat.Cholesky
-	var inv mat.SymDense
-	if !cc.Factorize(corr) {
-		return nil, fmt.Errorf("%w: covariance not positive definite", ErrBadGaussian)
-	}
-	if err := cc.InverseTo(&inv); err != nil {
-		return nil, fmt.Errorf("%w: %v", ErrBadGaussian, err)
-	}
-	gp.prec = make([][]float64, d)
-	for i := range gp.prec {
-		gp.prec[i] = make([]float64, d)
-		for j := range gp.prec[i] {
-			gp.prec[i][j] = inv.At(i, j) / (sd[i] * sd[j])
-		}
-	}
-	gp.logDet = gp.chol.LogDet()
-	gp.logNorm = -0.5*float64(d)*math.Log(2*math.Pi) - 0.5*gp.logDet
+	gp := &gaussianPrep{Prepared: q}
+	prec := q.Precision()
 	gp.r0 = math.Sqrt(special.ChiSquareQuantile(d, 0.95))
 	s := 0.0
 	for k := 0; k < d; k++ {
 		h := g.Spacing(k)
-		s += h * h * gp.prec[k][k]
+		s += h * h * prec[k][k]
 	}
 	gp.band = math.Sqrt(float64(d)*s) / 2
 	gp.trPC = s / 12
 	for k := 0; k < d; k++ {
-		gp.step = math.Max(gp.step, g.Spacing(k)*math.Sqrt(gp.prec[k][k]))
+		gp.step = math.Max(gp.step, g.Spacing(k)*math.Sqrt(prec[k][k]))
 	}
 	gp.resolved = latticeMin(g, q.Cov) >= resolvedMin
 	return gp, nil
@@ -175,7 +127,7 @@ func prepare(g *grid.Grid, q Gaussian) (*gaussianPrep, error) {
 // the box, KL(q||p) comes from a Gauss-Hermite cubature in q's coordinates
 // instead, and where q is too narrow for the grid's spacing so does the
 // Hellinger distance (see Method).
-func Compare(g *grid.Grid, qs []Gaussian, s Settings) ([]Result, error) {
+func Compare(g *grid.Grid, qs []*gauss.Prepared, s Settings) ([]Result, error) {
 	d := g.Dim
 	preps := make([]*gaussianPrep, len(qs))
 	for i, q := range qs {
@@ -229,10 +181,10 @@ func Compare(g *grid.Grid, qs []Gaussian, s Settings) ([]Result, error) {
 		// and the nodes [j1, j2] where M < qNegligible.
 		jlo, jhi := nLast, -1
 		for fi, gp := range preps {
-			P := gp.prec
+			P := gp.Precision()
 			A, B := 0.0, 0.0
 			for k := 0; k < d-1; k++ {
-				r[k] = g.Nodes[k][ix[k]] - gp.mean[k]
+				r[k] = g.Nodes[k][ix[k]] - gp.Mean[k]
 			}
 			for k := 0; k < d-1; k++ {
 				A += P[k][k] * r[k] * r[k]
@@ -247,7 +199,7 @@ func Compare(g *grid.Grid, qs []Gaussian, s Settings) ([]Result, error) {
 			// (Coverage needs M below hi2, also inside qNegligible unless
 			// the grid is much coarser than q.)
 			thr := math.Max(qNegligible, sq(gp.r0+gp.band+gp.step))
-			j1, j2 := quadInterval(A-thr, B, C, zl[0]-gp.mean[d-1], hl, nLast)
+			j1, j2 := quadInterval(A-thr, B, C, zl[0]-gp.Mean[d-1], hl, nLast)
 			spans[fi] = [2]int{j1, j2}
 			if j1 <= j2 {
 				jlo, jhi = min(jlo, j1), max(jhi, j2)
@@ -264,8 +216,8 @@ func Compare(g *grid.Grid, qs []Gaussian, s Settings) ([]Result, error) {
 					continue
 				}
 				q := quads[fi]
-				t := zl[j] - gp.mean[d-1]
-				if M := q[0] + t*(q[1]+q[2]*t); gp.logNorm-M/2 > -745 {
+				t := zl[j] - gp.Mean[d-1]
+				if M := q[0] + t*(q[1]+q[2]*t); gp.LogNorm()-M/2 > -745 {
 					gp.infinite = true
 				}
 			}
@@ -295,16 +247,16 @@ func Compare(g *grid.Grid, qs []Gaussian, s Settings) ([]Result, error) {
 			if j1 > j2 {
 				continue
 			}
-			P := gp.prec
+			P := gp.Precision()
 			copy(r[:d-1], rs[fi][:d-1])
 			A, B, C := quads[fi][0], quads[fi][1], quads[fi][2]
-			ml := gp.mean[d-1]
+			ml := gp.Mean[d-1]
 			lo2, hi2 := sq(math.Max(gp.r0-gp.band-gp.step, 0)), sq(gp.r0+gp.band+gp.step)
 			// sqrt(q) = exp(lq/2) along the line by the recurrence for the
 			// exponential of a quadratic: two products a node instead of an
 			// exponential (relative rounding about 1e-16 a step).
 			t1 := zl[j1] - ml
-			sqq := math.Exp((gp.logNorm - (A+t1*(B+C*t1))/2) / 2)
+			sqq := math.Exp((gp.LogNorm() - (A+t1*(B+C*t1))/2) / 2)
 			ratio := math.Exp(-(B*hl + C*(2*t1*hl+hl*hl)) / 4)
 			ratio2 := math.Exp(-C * hl * hl / 2)
 			swo := math.Sqrt(wo)
@@ -316,7 +268,7 @@ func Compare(g *grid.Grid, qs []Gaussian, s Settings) ([]Result, error) {
 				t := zl[j] - ml
 				M := A + t*(B+C*t)
 				if M < qNegligible {
-					lq := gp.logNorm - M/2
+					lq := gp.LogNorm() - M/2
 					w := wo * wl[j]
 					q := sqq * sqq
 					gp.qmass += w * q
@@ -628,116 +580,15 @@ func klpq(g *grid.Grid, gp *gaussianPrep) float64 {
 	st := &g.Stats
 	mu := st.Fitting.Mean
 	C := st.Fitting.Cov
+	P := gp.Precision()
 	tr, quadForm := 0.0, 0.0
 	for k := 0; k < d; k++ {
 		for l := 0; l < d; l++ {
-			tr += gp.prec[k][l] * C[l][k]
-			quadForm += (mu[k] - gp.mean[k]) * gp.prec[k][l] * (mu[l] - gp.mean[l])
+			tr += P[k][l] * C[l][k]
+			quadForm += (mu[k] - gp.Mean[k]) * P[k][l] * (mu[l] - gp.Mean[l])
 		}
 	}
-	eLogQ := gp.logNorm - 0.5*(tr+quadForm)
+	eLogQ := gp.LogNorm() - 0.5*(tr+quadForm)
 	eLogP := st.ExpectedLogP - st.LogZ
 	return math.Max(0, eLogP-eLogQ)
-}
-
-// cubature returns KL(q||p) and the Hellinger distance by a tensor
-// Gauss-Hermite rule in q's coordinates z = m + sqrt(2) L u, with p
-// normalised by the grid's log Z; both are NaN where log p is NaN or +Inf
-// at a node.
-func cubature(ctx context.Context, p target.Density, gp *gaussianPrep, logZ float64, order int, progress func(float64)) (kl, hel float64, err error) {
-	d := len(gp.mean)
-	if order <= 0 {
-		order = [...]int{64, 24, 12, 8}[min(d, 4)-1]
-	}
-	u, wu := hermite.Rule(order) // shared: read only
-	if u == nil {
-		return math.NaN(), math.NaN(), fmt.Errorf("compare: cubature order %d out of range", order)
-	}
-	var L mat.TriDense
-	gp.chol.LTo(&L)
-	n := 1
-	for k := 0; k < d; k++ {
-		n *= order
-	}
-	cols := make([][]float64, d)
-	for k := range cols {
-		cols[k] = make([]float64, n)
-	}
-	wts := make([]float64, n)
-	lqs := make([]float64, n)
-	idx := make([]int, d)
-	norm := math.Pow(math.Pi, -float64(d)/2)
-	for i := 0; i < n; i++ {
-		rem := i
-		w := norm
-		m2 := 0.0
-		for k := d - 1; k >= 0; k-- {
-			idx[k] = rem % order
-			rem /= order
-			w *= wu[idx[k]]
-			m2 += 2 * u[idx[k]] * u[idx[k]]
-		}
-		for k := 0; k < d; k++ {
-			s := gp.mean[k]
-			for l := 0; l <= k; l++ {
-				s += L.At(k, l) * math.Sqrt2 * u[idx[l]]
-			}
-			cols[k][i] = s
-		}
-		wts[i] = w
-		lqs[i] = gp.logNorm - m2/2
-	}
-	out := make([]float64, n)
-	// In blocks, so that progress reports keep coming and cancellation
-	// is seen: 16 points first, then as many as the last block's time says
-	// fit in 4 ms (up to 512; the density may be costly).
-	const maxBlock = 512
-	const aim = 4 * time.Millisecond
-	block := 16
-	part := make([][]float64, d)
-	for i0, i1 := 0, 0; i0 < n; i0 = i1 {
-		i1 = min(i0+block, n)
-		for k := range part {
-			part[k] = cols[k][i0:i1]
-		}
-		t0 := time.Now()
-		p.LogDensityBlock(part, out[i0:i1])
-		block = maxBlock
-		if el := time.Since(t0); el > 0 {
-			block = int(min(max(1, float64(i1-i0)*float64(aim)/float64(el)), maxBlock))
-		}
-		if progress != nil {
-			progress(1)
-		}
-		if ctx != nil {
-			if err := ctx.Err(); err != nil {
-				return 0, 0, err
-			}
-		}
-	}
-	eLogP, bhat := 0.0, 0.0
-	for i, v := range out {
-		switch {
-		case math.IsInf(v, -1):
-			return math.Inf(1), hellingerOnly(out, wts, lqs, logZ), nil
-		case math.IsNaN(v) || math.IsInf(v, 1):
-			// Undefined where q has mass: so are both numbers.
-			return math.NaN(), math.NaN(), nil
-		}
-		eLogP += wts[i] * (v - logZ)
-		bhat += wts[i] * math.Exp((v-logZ-lqs[i])/2)
-	}
-	entropy := 0.5*float64(d)*(1+math.Log(2*math.Pi)) + 0.5*gp.logDet
-	kl = math.Max(0, -entropy-eLogP)
-	return kl, math.Sqrt(math.Max(0, 1-bhat)), nil
-}
-
-func hellingerOnly(out, wts, lqs []float64, logZ float64) float64 {
-	bhat := 0.0
-	for i, v := range out {
-		if !math.IsInf(v, -1) && !math.IsNaN(v) {
-			bhat += wts[i] * math.Exp((v-logZ-lqs[i])/2)
-		}
-	}
-	return math.Sqrt(math.Max(0, 1-bhat))
 }

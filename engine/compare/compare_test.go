@@ -2,52 +2,35 @@ package compare
 
 import (
 	"context"
+	"errors"
 	"math"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat/distuv"
 
+	"bellcheck/engine/gauss"
 	"bellcheck/engine/grid"
-	"bellcheck/engine/target"
+	"bellcheck/engine/internal/targettest"
 )
 
-// gaussDensity is a hand-written normal log-density times exp(logScale).
-type gaussDensity struct {
-	mean    []float64
-	chol    mat.Cholesky
-	logNorm float64
-}
-
-func newGauss(mean []float64, cov *mat.SymDense, logScale float64) *gaussDensity {
-	g := &gaussDensity{mean: mean}
-	if !g.chol.Factorize(cov) {
+// newGauss returns a normal log-density times exp(logScale).
+func newGauss(mean []float64, cov *mat.SymDense, logScale float64) *targettest.Func {
+	var chol mat.Cholesky
+	if !chol.Factorize(cov) {
 		panic("not positive definite")
 	}
-	g.logNorm = -0.5*float64(len(mean))*math.Log(2*math.Pi) - 0.5*g.chol.LogDet() + logScale
-	return g
-}
-func (g *gaussDensity) Dim() int { return len(g.mean) }
-func (g *gaussDensity) LogDensity(x []float64) float64 {
-	r := mat.NewVecDense(len(x), nil)
-	for i := range x {
-		r.SetVec(i, x[i]-g.mean[i])
-	}
-	var s mat.VecDense
-	_ = g.chol.SolveVecTo(&s, r)
-	return g.logNorm - 0.5*mat.Dot(r, &s)
-}
-func (g *gaussDensity) LogDensityDerivs(x, gr, h []float64) float64 { panic("unused") }
-func (g *gaussDensity) LogDensityBlock(cols [][]float64, out []float64) {
-	x := make([]float64, len(cols))
-	for i := range out {
-		for k := range x {
-			x[k] = cols[k][i]
+	logNorm := -0.5*float64(len(mean))*math.Log(2*math.Pi) - 0.5*chol.LogDet() + logScale
+	return &targettest.Func{D: len(mean), LogP: func(x []float64) float64 {
+		r := mat.NewVecDense(len(x), nil)
+		for i := range x {
+			r.SetVec(i, x[i]-mean[i])
 		}
-		out[i] = g.LogDensity(x)
-	}
+		var s mat.VecDense
+		_ = chol.SolveVecTo(&s, r)
+		return logNorm - 0.5*mat.Dot(r, &s)
+	}}
 }
-func (g *gaussDensity) Clone() target.Density { return g }
 
 // klGauss is the closed-form KL(a||b) between normals (e.g. Kullback 1959;
 // standard result): 1/2 [tr(Sb^-1 Sa) + (mb-ma)' Sb^-1 (mb-ma) - d + ln det Sb/det Sa].
@@ -110,7 +93,7 @@ func TestAgainstClosedForms(t *testing.T) {
 		{"wide", []float64{1, -1}, mat.NewSymDense(2, []float64{9, 0, 0, 16}), Cubature, 1e-7},
 	}
 	for _, c := range cases {
-		res, err := Compare(g, []Gaussian{{c.mean, c.cov}}, Settings{Density: p})
+		res, err := Compare(g, prepared(t, gauss.Gaussian{Mean: c.mean, Cov: c.cov}), Settings{Density: p})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -161,7 +144,7 @@ func TestCoverage(t *testing.T) {
 		for _, c := range []float64{1, 0.5, 2} {
 			var qc mat.SymDense
 			qc.ScaleSym(c, cov)
-			res, err := Compare(g, []Gaussian{{mean, &qc}}, Settings{Density: p})
+			res, err := Compare(g, prepared(t, gauss.Gaussian{Mean: mean, Cov: &qc}), Settings{Density: p})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -177,56 +160,57 @@ func TestCoverage(t *testing.T) {
 
 func TestInfiniteKL(t *testing.T) {
 	// p is zero for x < 0 inside the box: every Gaussian has KL(q||p) = +Inf.
-	p := &halfNormal{}
+	p := halfNormal()
 	g, err := grid.Evaluate(context.Background(), p, grid.Box{Lo: []float64{-1}, Hi: []float64{8}}, grid.Settings{})
 	if err != nil {
 		t.Fatal(err)
 	}
-	q := Gaussian{[]float64{0.8}, mat.NewSymDense(1, []float64{0.36})}
-	res, err := Compare(g, []Gaussian{q}, Settings{})
+	q := prepared(t, gauss.Gaussian{Mean: []float64{0.8}, Cov: mat.NewSymDense(1, []float64{0.36})})
+	res, err := Compare(g, q, Settings{})
 	if err != nil {
 		t.Fatal(err)
 	}
 	if !math.IsInf(res[0].KLqp, 1) || math.IsInf(res[0].KLpq, 0) || !(res[0].Hellinger > 0 && res[0].Hellinger < 1) {
 		t.Errorf("KL(q||p) %g, KL(p||q) %g, Hellinger %g", res[0].KLqp, res[0].KLpq, res[0].Hellinger)
 	}
-	res, _ = Compare(g, []Gaussian{q}, Settings{Bounded: true})
+	res, _ = Compare(g, q, Settings{Bounded: true})
 	if !math.IsInf(res[0].KLqp, 1) || res[0].Method != BoundedSupport {
 		t.Errorf("bounded: %+v", res[0])
 	}
-	if _, err := Compare(g, []Gaussian{{[]float64{0}, mat.NewSymDense(1, []float64{-1})}}, Settings{}); err == nil {
-		t.Error("negative variance accepted")
+	two := prepared(t, gauss.Gaussian{Mean: []float64{0, 0}, Cov: mat.NewSymDense(2, []float64{1, 0, 0, 1})})
+	if _, err := Compare(g, two, Settings{}); !errors.Is(err, ErrBadGaussian) {
+		t.Errorf("a 2-D Gaussian on a 1-D grid: err = %v, want ErrBadGaussian", err)
 	}
 }
 
-type halfNormal struct{}
+// halfNormal is the standard normal log-density on [0, inf].
+func halfNormal() *targettest.Func {
+	return &targettest.Func{D: 1, LogP: func(x []float64) float64 {
+		if x[0] < 0 {
+			return math.Inf(-1)
+		}
+		return -x[0] * x[0] / 2
+	}}
+}
 
-func (halfNormal) Dim() int { return 1 }
-func (halfNormal) LogDensity(x []float64) float64 {
-	if x[0] < 0 {
-		return math.Inf(-1)
-	}
-	return -x[0] * x[0] / 2
+// bananaDensity is a curved two-dimensional log-density.
+func bananaDensity() *targettest.Func {
+	return &targettest.Func{D: 2, LogP: func(x []float64) float64 {
+		u := x[1] + 0.05*x[0]*x[0] - 5
+		return -x[0]*x[0]/200 - u*u/2
+	}}
 }
-func (halfNormal) LogDensityDerivs(x, g, h []float64) float64 { panic("unused") }
-func (p halfNormal) LogDensityBlock(cols [][]float64, out []float64) {
-	for i := range out {
-		out[i] = p.LogDensity([]float64{cols[0][i]})
-	}
-}
-func (p halfNormal) Clone() target.Density { return p }
 
-type bananaDensity struct{}
-
-func (bananaDensity) Dim() int { return 2 }
-func (bananaDensity) LogDensity(x []float64) float64 {
-	u := x[1] + 0.05*x[0]*x[0] - 5
-	return -x[0]*x[0]/200 - u*u/2
-}
-func (bananaDensity) LogDensityDerivs(x, g, h []float64) float64 { panic("unused") }
-func (p bananaDensity) LogDensityBlock(cols [][]float64, out []float64) {
-	for i := range out {
-		out[i] = p.LogDensity([]float64{cols[0][i], cols[1][i]})
+// prepared prepares the Gaussians for Compare.
+func prepared(tb testing.TB, gs ...gauss.Gaussian) []*gauss.Prepared {
+	tb.Helper()
+	out := make([]*gauss.Prepared, len(gs))
+	for i, g := range gs {
+		p, err := gauss.Prepare(g)
+		if err != nil {
+			tb.Fatal(err)
+		}
+		out[i] = p
 	}
+	return out
 }
-func (p bananaDensity) Clone() target.Density { return p }

@@ -13,15 +13,19 @@ func blocks(parts ...*fnDensity) *fnDensity {
 	for _, p := range parts {
 		d += p.Dim()
 	}
+	grads, hessians := make([][]float64, len(parts)), make([][]float64, len(parts))
+	for i, p := range parts {
+		grads[i], hessians[i] = make([]float64, p.D), make([]float64, p.D*p.D)
+	}
 	return newFn(d, func(x, g, h []float64) float64 {
 		for i := range h {
 			h[i] = 0
 		}
 		f, off := 0.0, 0
-		for _, p := range parts {
+		for pi, p := range parts {
 			k := p.Dim()
-			pg, ph := p.g, p.h
-			f += p.fn(x[off:off+k], pg, ph)
+			pg, ph := grads[pi], hessians[pi]
+			f += p.Derivs(x[off:off+k], pg, ph)
 			for i := 0; i < k; i++ {
 				g[off+i] = pg[i]
 				for j := 0; j < k; j++ {
@@ -36,7 +40,7 @@ func blocks(parts ...*fnDensity) *fnDensity {
 
 func benchVariational(b *testing.B, p *fnDensity, init Gaussian, diag bool) {
 	n := 0
-	p.counts = &n
+	p.Count = &n
 	b.ReportAllocs()
 	iters := 0
 	for i := 0; i < b.N; i++ {
@@ -96,7 +100,7 @@ func BenchmarkMeanFieldTwoBananas4D(b *testing.B) {
 func BenchmarkFindModesBanana10Starts(b *testing.B) {
 	p := banana(0.05)
 	n := 0
-	p.counts = &n
+	p.Count = &n
 	starts := [][]float64{{-20, -10}, {15, 8}, {0, 0}, {5, -3}, {-8, 4}, {25, -30}, {-3, 12}, {10, 10}, {-15, 0}, {1, 4.5}}
 	b.ReportAllocs()
 	for i := 0; i < b.N; i++ {

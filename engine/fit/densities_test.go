@@ -3,53 +3,19 @@ package fit
 import (
 	"math"
 
-	"bellcheck/engine/target"
+	"bellcheck/engine/internal/targettest"
 )
 
 // Test densities: small hand-written log-densities with analytic gradients
 // and Hessians, standing in for compiled models.
 
-// fnDensity adapts a function that writes log p, its gradient and Hessian.
-type fnDensity struct {
-	d      int
-	fn     func(x, g, h []float64) float64
-	g, h   []float64
-	x      []float64
-	counts *int // number of evaluations, when non-nil
-}
-
-var _ target.Density = (*fnDensity)(nil)
+// fnDensity is a density given by a function that writes log p, its
+// gradient and Hessian.
+type fnDensity = targettest.Func
 
 func newFn(d int, fn func(x, g, h []float64) float64) *fnDensity {
-	return &fnDensity{d: d, fn: fn, g: make([]float64, d), h: make([]float64, d*d), x: make([]float64, d)}
+	return &targettest.Func{D: d, Derivs: fn}
 }
-
-func (f *fnDensity) Dim() int { return f.d }
-
-func (f *fnDensity) LogDensity(x []float64) float64 {
-	if f.counts != nil {
-		*f.counts++
-	}
-	return f.fn(x, f.g, f.h)
-}
-
-func (f *fnDensity) LogDensityDerivs(x, g, h []float64) float64 {
-	if f.counts != nil {
-		*f.counts++
-	}
-	return f.fn(x, g, h)
-}
-
-func (f *fnDensity) LogDensityBlock(cols [][]float64, out []float64) {
-	for i := range out {
-		for k := range f.x {
-			f.x[k] = cols[k][i]
-		}
-		out[i] = f.fn(f.x, f.g, f.h)
-	}
-}
-
-func (f *fnDensity) Clone() target.Density { return newFn(f.d, f.fn) }
 
 // gaussianTarget is log p = c - (1/2)(x-m)ᵀ P (x-m), with
 // log Z = c + (d/2) log 2pi - (1/2) log det P.

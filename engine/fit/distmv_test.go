@@ -21,8 +21,8 @@ func distmvNormal(t *testing.T, g Gaussian) *distmv.Normal {
 
 func TestKLGaussianAgainstDistmv(t *testing.T) {
 	// gonum's distmv.KullbackLeibler.DistNormal, an independent implementation.
-	q := gauss([]float64{0.3, -1, 2}, cov3)
-	p := gauss([]float64{-0.5, 0.2, 1.5}, cov3b)
+	q := normal([]float64{0.3, -1, 2}, cov3)
+	p := normal([]float64{-0.5, 0.2, 1.5}, cov3b)
 	for _, pair := range [][2]Gaussian{{q, p}, {p, q}, {q, q}} {
 		got, err := KLGaussian(pair[0], pair[1])
 		if err != nil {
@@ -32,27 +32,5 @@ func TestKLGaussianAgainstDistmv(t *testing.T) {
 		if !scalar.EqualWithinAbsOrRel(got, want, 1e-13, 1e-12) {
 			t.Errorf("KLGaussian = %v, distmv = %v", got, want)
 		}
-	}
-}
-
-func TestEvaluatorAgainstDistmv(t *testing.T) {
-	// gonum's distmv.Normal.LogProb and Entropy.
-	g := gauss([]float64{0.3, -1, 2}, cov3)
-	e, err := NewEvaluator(g)
-	if err != nil {
-		t.Fatal(err)
-	}
-	n := distmvNormal(t, g)
-	for _, x := range [][]float64{{0.3, -1, 2}, {1, 1, 1}, {-4, 3, 0.5}, {10, -10, 7}} {
-		if got, want := e.LogPDF(x), n.LogProb(x); !scalar.EqualWithinAbsOrRel(got, want, 1e-13, 1e-13) {
-			t.Errorf("LogPDF(%v) = %v, distmv %v", x, got, want)
-		}
-	}
-	h, err := Entropy(g)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if want := n.Entropy(); !scalar.EqualWithinAbsOrRel(h, want, 1e-14, 1e-14) {
-		t.Errorf("Entropy = %v, distmv %v", h, want)
 	}
 }

@@ -486,9 +486,9 @@ func TestVariationalErrors(t *testing.T) {
 	defer cancel()
 	n := 0
 	p := sextic()
-	p.counts = &n
-	inner := p.fn
-	p.fn = func(x, g, h []float64) float64 {
+	p.Count = &n
+	inner := p.Derivs
+	p.Derivs = func(x, g, h []float64) float64 {
 		if n == 50 {
 			cancel()
 		}

@@ -3,6 +3,8 @@ package grid
 import (
 	"math"
 	"testing"
+
+	"bellcheck/engine/internal/targettest"
 )
 
 func unbounded(d int) Box {
@@ -73,7 +75,7 @@ func TestFindBoxGaussians(t *testing.T) {
 func TestFindBoxBoundsAndTails(t *testing.T) {
 	inf := math.Inf(1)
 	// Gamma(3, 1) kernel on [0, inf]: the lower face stays at the bound.
-	gamma := &funcDensity{d: 1, f: func(x []float64) float64 {
+	gamma := &targettest.Func{D: 1, LogP: func(x []float64) float64 {
 		if x[0] < 0 {
 			return math.Inf(-1)
 		}
@@ -87,7 +89,7 @@ func TestFindBoxBoundsAndTails(t *testing.T) {
 		t.Errorf("gamma box %v %v, fixed %v", res.Box.Lo, res.Box.Hi, res.Fixed)
 	}
 	// A density zero on the first boxes explored: mass only beyond 50.
-	shifted := &funcDensity{d: 1, f: func(x []float64) float64 {
+	shifted := &targettest.Func{D: 1, LogP: func(x []float64) float64 {
 		if x[0] < 50 {
 			return math.Inf(-1)
 		}
@@ -101,7 +103,7 @@ func TestFindBoxBoundsAndTails(t *testing.T) {
 		t.Errorf("shifted box %v %v", res.Box.Lo, res.Box.Hi)
 	}
 	// Cauchy: the widening stops at the cap with mass left at both faces.
-	cauchy := &funcDensity{d: 1, f: func(x []float64) float64 { return -math.Log1p(x[0] * x[0]) }}
+	cauchy := &targettest.Func{D: 1, LogP: func(x []float64) float64 { return -math.Log1p(x[0] * x[0]) }}
 	res, err = FindBox(ctx, cauchy, BoxSettings{Bounds: unbounded(1)})
 	if err != nil {
 		t.Fatal(err)
@@ -110,7 +112,7 @@ func TestFindBoxBoundsAndTails(t *testing.T) {
 		t.Errorf("cauchy not capped: box %v %v", res.Box.Lo, res.Box.Hi)
 	}
 	// Flat on the whole line: improper, capped.
-	flat := &funcDensity{d: 2, f: func(x []float64) float64 { return -x[1] * x[1] }}
+	flat := &targettest.Func{D: 2, LogP: func(x []float64) float64 { return -x[1] * x[1] }}
 	res, err = FindBox(ctx, flat, BoxSettings{Bounds: unbounded(2)})
 	if err != nil {
 		t.Fatal(err)
@@ -119,7 +121,7 @@ func TestFindBoxBoundsAndTails(t *testing.T) {
 		t.Errorf("flat axis: capped %v, box %v %v", res.Capped, res.Box.Lo, res.Box.Hi)
 	}
 	// Zero everywhere.
-	none := &funcDensity{d: 1, f: func(x []float64) float64 { return math.Inf(-1) }}
+	none := &targettest.Func{D: 1, LogP: func(x []float64) float64 { return math.Inf(-1) }}
 	if _, err := FindBox(ctx, none, BoxSettings{Bounds: unbounded(1)}); err == nil {
 		t.Error("no mass: no error")
 	}
@@ -140,8 +142,8 @@ func TestFindBoxBoundsAndTails(t *testing.T) {
 func TestPeaksOfMixture(t *testing.T) {
 	a := gaussian([]float64{-4}, [][]float64{{1}}, math.Log(0.3))
 	b := gaussian([]float64{3}, [][]float64{{0.25}}, math.Log(0.7))
-	p := &funcDensity{d: 1, f: func(x []float64) float64 {
-		u, v := a.f(x), b.f(x)
+	p := &targettest.Func{D: 1, LogP: func(x []float64) float64 {
+		u, v := a.LogP(x), b.LogP(x)
 		m := math.Max(u, v)
 		return m + math.Log(math.Exp(u-m)+math.Exp(v-m))
 	}}

@@ -6,6 +6,8 @@ import (
 	"math"
 	"testing"
 	"time"
+
+	"bellcheck/engine/internal/targettest"
 )
 
 // A costly density is called on chunks of a block, so that progress and
@@ -14,7 +16,7 @@ import (
 func TestEvaluateChunksCostlyDensity(t *testing.T) {
 	calls := 0
 	f := func(x []float64) float64 { return -(x[0]*x[0] + 2*x[1]*x[1]) / 2 }
-	p := &funcDensity{d: 2, f: func(x []float64) float64 {
+	p := &targettest.Func{D: 2, LogP: func(x []float64) float64 {
 		calls++
 		time.Sleep(100 * time.Microsecond)
 		return f(x)

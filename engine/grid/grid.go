@@ -154,7 +154,7 @@ func newGrid(d int, box Box, points []int, maps []transform.Map) (*Grid, error) 
 	}
 	g.Maps = make([]transform.Map, d)
 	for k := range g.Maps {
-		g.Maps[k] = transform.Map{Kind: transform.Identity, Lo: math.Inf(-1), Hi: math.Inf(1)}
+		g.Maps[k] = transform.Map{Scale: transform.Identity, Lo: math.Inf(-1), Hi: math.Inf(1)}
 		if k < len(maps) {
 			g.Maps[k] = maps[k]
 		}

@@ -6,6 +6,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/stat/distuv"
+
+	"bellcheck/engine/internal/targettest"
 )
 
 var ctx = context.Background()
@@ -80,7 +82,7 @@ func TestGaussianTargets(t *testing.T) {
 // (closed forms of the beta distribution); the end corrections keep the
 // rule accurate, and the half-resolution estimate bounds the error.
 func TestTruncatedAtBound(t *testing.T) {
-	p := &funcDensity{d: 1, f: func(x []float64) float64 {
+	p := &targettest.Func{D: 1, LogP: func(x []float64) float64 {
 		if x[0] < 0 || x[0] > 1 {
 			return math.Inf(-1)
 		}
@@ -114,7 +116,7 @@ func TestTruncatedAtBound(t *testing.T) {
 }
 
 func TestNonFiniteAndCancel(t *testing.T) {
-	p := &funcDensity{d: 2, f: func(x []float64) float64 {
+	p := &targettest.Func{D: 2, LogP: func(x []float64) float64 {
 		if x[0] > 0.5 && x[1] > 0.5 {
 			return math.NaN()
 		}

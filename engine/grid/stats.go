@@ -373,7 +373,7 @@ func (g *Grid) summarise(ctx context.Context, free [][2]bool, progress func(floa
 
 func allIdentity(maps []transform.Map) bool {
 	for _, m := range maps {
-		if m.Kind != transform.Identity {
+		if !m.Scale.IsIdentity() {
 			return false
 		}
 	}

@@ -577,6 +577,8 @@ func (c *checker) notAFunction(e *Call) {
 		c.errs.add(e.At, product, "%s is a constant, not a function", e.Name)
 	case c.declAt[e.Name] != (Pos{}) || (c.free[e.Name] && c.defAt[e.Name] == (Pos{})):
 		c.errs.add(e.At, product, "%s is a parameter, not a function", e.Name)
+	case c.defAt[e.Name] == dataPos: // attached data (data.go)
+		c.errs.add(e.At, product, "%s is a column of the attached data, not a function", e.Name)
 	case c.defAt[e.Name] != (Pos{}):
 		c.errs.add(e.At, product, "%s is defined at line %d as a quantity, not a function", e.Name, c.defAt[e.Name].Line)
 	default:

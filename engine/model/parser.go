@@ -30,7 +30,7 @@ func Parse(src string) (*Model, error) {
 	return parse(src, defaultLimits)
 }
 
-func parse(src string, lim limits) (*Model, error) {
+func parse(src string, lim limits, data ...Data) (*Model, error) {
 	errs := &errorSink{}
 	if len(src) > lim.maxSource {
 		errs.add(posAt(src, lim.maxSource),
@@ -45,7 +45,9 @@ func parse(src string, lim limits) (*Model, error) {
 		return nil, err
 	}
 	m := &Model{Source: src, Stmts: p.stmts, Shapes: make(map[Expr]Shape, len(toks)/2)}
+	text := bindData(m, data, errs) // attached data (data.go), defined first
 	check(m, toks[len(toks)-1].pos, errs, lim)
+	m.Stmts = text
 	if err := errs.err(); err != nil {
 		return nil, err
 	}

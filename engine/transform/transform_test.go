@@ -7,42 +7,19 @@ import (
 	"gonum.org/v1/gonum/diff/fd"
 	"gonum.org/v1/gonum/integrate/quad"
 
-	"bellcheck/engine/target"
+	"bellcheck/engine/internal/targettest"
 )
-
-// funcDensity is a hand-written target.Density for the tests.
-type funcDensity struct {
-	d      int
-	f      func(x []float64) float64
-	derivs func(x, g, h []float64) float64
-}
-
-func (p *funcDensity) Dim() int                       { return p.d }
-func (p *funcDensity) LogDensity(x []float64) float64 { return p.f(x) }
-func (p *funcDensity) LogDensityDerivs(x, g, h []float64) float64 {
-	return p.derivs(x, g, h)
-}
-func (p *funcDensity) LogDensityBlock(cols [][]float64, out []float64) {
-	x := make([]float64, p.d)
-	for i := range out {
-		for k := range x {
-			x[k] = cols[k][i]
-		}
-		out[i] = p.f(x)
-	}
-}
-func (p *funcDensity) Clone() target.Density { c := *p; return &c }
 
 // gammaBeta is log Gamma(x0; a, b) + log Beta(x1; c, e) (unnormalised), a
 // density on [0, inf] x [0, 1] with exact derivatives.
-func gammaBeta(a, b, c, e float64) *funcDensity {
+func gammaBeta(a, b, c, e float64) *targettest.Func {
 	f := func(x []float64) float64 {
 		if x[0] <= 0 || x[1] <= 0 || x[1] >= 1 {
 			return math.Inf(-1)
 		}
 		return (a-1)*math.Log(x[0]) - b*x[0] + (c-1)*math.Log(x[1]) + (e-1)*math.Log(1-x[1])
 	}
-	return &funcDensity{d: 2, f: f, derivs: func(x, g, h []float64) float64 {
+	return &targettest.Func{D: 2, LogP: f, Derivs: func(x, g, h []float64) float64 {
 		g[0] = (a-1)/x[0] - b
 		g[1] = (c-1)/x[1] - (e-1)/(1-x[1])
 		h[0] = -(a - 1) / (x[0] * x[0])
@@ -80,7 +57,7 @@ func TestRoundTrip(t *testing.T) {
 
 func TestCheck(t *testing.T) {
 	inf := math.Inf(1)
-	bad := []Map{{Log, math.Inf(-1), inf}, {Log, 0, 1}, {Logit, 0, inf}, {Logit, 1, 1}, {Kind(9), 0, 1}}
+	bad := []Map{{Log, math.Inf(-1), inf}, {Log, 0, 1}, {Logit, 0, inf}, {Logit, 1, 1}, {Scale("cube"), 0, 1}}
 	for _, m := range bad {
 		if m.Check() == nil {
 			t.Errorf("%+v: no error", m)

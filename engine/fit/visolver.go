@@ -1,0 +1,349 @@
+package fit
+
+import (
+	"fmt"
+	"math"
+
+	"bellcheck/engine/target"
+)
+
+// viState is one iterate of the reverse-KL fit with its cubature
+// expectations. Matrices are row-major d×d.
+type viState struct {
+	mu, prec, cov, l []float64
+	logDetCov        float64
+	elogp, elbo      float64
+	eg, eh           []float64
+	// theta packs (mu, Λ) and f the map's residual G(theta) - theta, both
+	// scaled by the initial standard deviations.
+	theta, f []float64
+}
+
+// viSolver holds the cubature rule and all scratch space of one fit.
+type viSolver struct {
+	p             target.Density
+	d, n          int // dimension, number of packed parameters
+	diag          bool
+	r             rule
+	scale         []float64 // initial standard deviations
+	x, grad, hess []float64
+	c, col, tmp   []float64
+	negEH, cNegEH []float64
+	thetaTry      []float64
+	aa            anderson
+	evals         int
+}
+
+// newSolver allocates a solver and all its scratch space for density p and
+// cubature rule r.
+func newSolver(p target.Density, r rule, diag bool) *viSolver {
+	d := p.Dim()
+	n := d + d*(d+1)/2
+	if diag {
+		n = 2 * d
+	}
+	v := &viSolver{p: p, d: d, n: n, diag: diag, r: r, scale: make([]float64, d),
+		x: make([]float64, d), grad: make([]float64, d), hess: make([]float64, d*d),
+		c: make([]float64, d*d), col: make([]float64, d), tmp: make([]float64, d*d),
+		negEH: make([]float64, d*d), cNegEH: make([]float64, d*d), thetaTry: make([]float64, n)}
+	for i := range v.scale {
+		v.scale[i] = 1
+	}
+	v.aa = newAnderson(n, min(andersonMemory, n))
+	return v
+}
+
+func (v *viSolver) newState() *viState {
+	d := v.d
+	return &viState{mu: make([]float64, d), prec: make([]float64, d*d), cov: make([]float64, d*d),
+		l: make([]float64, d*d), eg: make([]float64, d), eh: make([]float64, d*d),
+		theta: make([]float64, v.n), f: make([]float64, v.n)}
+}
+
+// coarseOrder is the order of the check rule for a rule of the given
+// order: a quarter fewer nodes per axis, at least two fewer. (Rules of
+// neighbouring orders err alike where the cubature converges slowly, so the
+// check rule must differ by more than a node or two.)
+func coarseOrder(order int) int { return order - max(2, order/4) }
+
+// check evaluates the final iterate cur under the coarser check rule
+// (see coarseOrder) (into scratch), and returns the change in the ELBO and the
+// larger of cur's two residuals under that rule; NaN for both when the
+// order is under 3 or the coarser rule meets a non-finite log p.
+func (v *viSolver) check(cur, scratch *viState, order int) (elboDiff, residual float64) {
+	if order < 3 {
+		return math.NaN(), math.NaN()
+	}
+	coarse, err := newRule(v.d, coarseOrder(order))
+	if err != nil {
+		return math.NaN(), math.NaN()
+	}
+	fine := v.r
+	v.r = coarse
+	defer func() { v.r = fine }()
+	copy(scratch.mu, cur.mu)
+	copy(scratch.cov, cur.cov)
+	copy(scratch.prec, cur.prec)
+	copy(scratch.l, cur.l)
+	scratch.logDetCov = cur.logDetCov
+	if v.evaluate(scratch) != nil {
+		return math.NaN(), math.NaN()
+	}
+	gr, pr := v.residuals(scratch)
+	return math.Abs(scratch.elbo - cur.elbo), math.Max(gr, pr)
+}
+
+// negligibleNode is the cubature weight below which a node where log p is
+// -Inf is left out rather than taken for a zero of the density: q holds
+// less mass than that there (the outermost nodes of the 80-node rule, at
+// 13 sd, weigh 6e-38).
+const negligibleNode = 1e-30
+
+// evaluate fills st's expectations, ELBO and packed map residual by
+// cubature over N(st.mu, st.l st.lᵀ).
+func (v *viSolver) evaluate(st *viState) error {
+	d := v.d
+	for i := range st.eg {
+		st.eg[i] = 0
+	}
+	for i := range st.eh {
+		st.eh[i] = 0
+	}
+	elogp := 0.0
+	for k, w := range v.r.w {
+		z := v.r.z[k*d : k*d+d]
+		for i := 0; i < d; i++ {
+			xi := st.mu[i]
+			for j := 0; j <= i; j++ {
+				xi += st.l[i*d+j] * z[j]
+			}
+			v.x[i] = xi
+		}
+		f := v.p.LogDensityDerivs(v.x, v.grad, v.hess)
+		if math.IsInf(f, -1) {
+			if w < negligibleNode {
+				// Far out in q's tail: a density that underflowed there (as
+				// 1 - x does on the logit scale beyond z = 37) more likely
+				// than one that is zero; the node's part of any log p down
+				// to -1e15 would be below rounding.
+				continue
+			}
+			return v.infiniteKL()
+		}
+		if math.IsNaN(f) || math.IsInf(f, 1) {
+			return fmt.Errorf("%w: log p is %v at %v", ErrNonFinite, f, v.x)
+		}
+		elogp += w * f
+		for i, g := range v.grad {
+			st.eg[i] += w * g
+		}
+		for i, h := range v.hess {
+			st.eh[i] += w * h
+		}
+	}
+	v.evals++
+	if !allFinite(st.eg) || !allFinite(st.eh) {
+		return v.badDerivs(st)
+	}
+	symmetrize(st.eh, d)
+	st.elogp = elogp
+	st.elbo = elogp + entropyFromLogDet(d, st.logDetCov)
+	v.pack(st)
+	return nil
+}
+
+func (v *viSolver) infiniteKL() error {
+	return fmt.Errorf("%w: log p is -Inf at %v, where the Gaussian has mass: the support is bounded on this scale, so no Gaussian has a finite KL(q||p); fit the parameter on the log or logit scale", ErrInfiniteKL, v.x)
+}
+
+// badDerivs finds a cubature node where the gradient or Hessian is not
+// finite, for the message.
+func (v *viSolver) badDerivs(st *viState) error {
+	d := v.d
+	for k := range v.r.w {
+		z := v.r.z[k*d : k*d+d]
+		for i := 0; i < d; i++ {
+			xi := st.mu[i]
+			for j := 0; j <= i; j++ {
+				xi += st.l[i*d+j] * z[j]
+			}
+			v.x[i] = xi
+		}
+		v.p.LogDensityDerivs(v.x, v.grad, v.hess)
+		if !allFinite(v.grad) || !allFinite(v.hess) {
+			return fmt.Errorf("%w: gradient %v or Hessian %v of log p at %v", ErrNonFinite, v.grad, v.hess, v.x)
+		}
+	}
+	return fmt.Errorf("%w: the cubature sums of the gradient or Hessian of log p overflow", ErrNonFinite)
+}
+
+// pack writes st's parameters and the fixed-point map's residual, scaled by
+// the initial standard deviations s_i (mu_i/s_i, Λ_ij s_i s_j), into
+// st.theta and st.f. Only the lower triangle of Λ is packed (the diagonal
+// for the mean field).
+func (v *viSolver) pack(st *viState) {
+	d := v.d
+	// The mean's map: the Newton step where -E[H] is positive definite,
+	// else Λ⁻¹ E[g] (diagonal Λ for the mean field).
+	step := v.col
+	for i := range v.negEH {
+		v.negEH[i] = -st.eh[i]
+	}
+	copy(step, st.eg)
+	if cholesky(v.cNegEH, v.negEH, d) {
+		cholSolve(v.cNegEH, step, d)
+	} else {
+		for i := 0; i < d; i++ {
+			t := 0.0
+			for j := 0; j < d; j++ {
+				t += st.cov[i*d+j] * st.eg[j]
+			}
+			v.tmp[i] = t
+		}
+		copy(step, v.tmp[:d])
+	}
+	k := 0
+	for i := 0; i < d; i++ {
+		st.theta[k] = st.mu[i] / v.scale[i]
+		st.f[k] = step[i] / v.scale[i]
+		k++
+	}
+	for i := 0; i < d; i++ {
+		for j := 0; j <= i; j++ {
+			if v.diag && i != j {
+				continue
+			}
+			s := v.scale[i] * v.scale[j]
+			st.theta[k] = st.prec[i*d+j] * s
+			st.f[k] = (v.negEH[i*d+j] - st.prec[i*d+j]) * s
+			k++
+		}
+	}
+}
+
+// unpack sets tr's mean and precision from the packed theta and derives its
+// covariance; it reports whether the precision is positive definite.
+func (v *viSolver) unpack(theta []float64, tr *viState) bool {
+	d := v.d
+	k := 0
+	for i := 0; i < d; i++ {
+		tr.mu[i] = theta[k] * v.scale[i]
+		k++
+	}
+	for i := range tr.prec {
+		tr.prec[i] = 0
+	}
+	for i := 0; i < d; i++ {
+		for j := 0; j <= i; j++ {
+			if v.diag && i != j {
+				continue
+			}
+			p := theta[k] / (v.scale[i] * v.scale[j])
+			tr.prec[i*d+j], tr.prec[j*d+i] = p, p
+			k++
+		}
+	}
+	return allFinite(tr.mu) && v.setCov(tr)
+}
+
+// setCov derives tr's covariance, its factor and log-determinant from
+// tr.prec, and reports whether tr.prec is positive definite.
+func (v *viSolver) setCov(tr *viState) bool {
+	d := v.d
+	if !allFinite(tr.prec) || !cholesky(v.c, tr.prec, d) {
+		return false
+	}
+	cholInverse(v.c, tr.cov, v.col, d)
+	if !cholesky(tr.l, tr.cov, d) {
+		return false
+	}
+	tr.logDetCov = -cholLogDet(v.c, d)
+	return true
+}
+
+// damped writes into tr the damped step from cur with length a for the
+// precision and b for the mean, and reports whether the precision is
+// positive definite.
+func (v *viSolver) damped(cur, tr *viState, a, b float64) bool {
+	d := v.d
+	for i := range tr.prec {
+		tr.prec[i] = (1-a)*cur.prec[i] - a*cur.eh[i]
+	}
+	if v.diag {
+		for i := 0; i < d; i++ {
+			for j := 0; j < d; j++ {
+				if i != j {
+					tr.prec[i*d+j] = 0
+				}
+			}
+		}
+	}
+	if !v.setCov(tr) {
+		return false
+	}
+	if v.diag {
+		// cur.f holds the mean's map step, scaled.
+		for i := 0; i < d; i++ {
+			tr.mu[i] = cur.mu[i] + b*cur.f[i]*v.scale[i]
+		}
+		return allFinite(tr.mu)
+	}
+	for i := 0; i < d; i++ {
+		t := 0.0
+		for j := 0; j < d; j++ {
+			t += tr.cov[i*d+j] * cur.eg[j]
+		}
+		tr.mu[i] = cur.mu[i] + b*t
+	}
+	return allFinite(tr.mu)
+}
+
+// residuals returns |Lᵀ E[g]| and the precision residual of st.
+func (v *viSolver) residuals(st *viState) (grad, prec float64) {
+	d := v.d
+	for j := 0; j < d; j++ {
+		t := 0.0
+		for i := j; i < d; i++ {
+			t += st.l[i*d+j] * st.eg[i]
+		}
+		grad += t * t
+	}
+	if v.diag {
+		for i := 0; i < d; i++ {
+			r := 1 + st.cov[i*d+i]*st.eh[i*d+i]
+			prec += r * r
+		}
+		return math.Sqrt(grad), math.Sqrt(prec)
+	}
+	// tmp = E[H] L, then I + Lᵀ tmp.
+	for i := 0; i < d; i++ {
+		for j := 0; j < d; j++ {
+			t := 0.0
+			for k := j; k < d; k++ {
+				t += st.eh[i*d+k] * st.l[k*d+j]
+			}
+			v.tmp[i*d+j] = t
+		}
+	}
+	for i := 0; i < d; i++ {
+		for j := 0; j < d; j++ {
+			t := 0.0
+			if i == j {
+				t = 1
+			}
+			for k := i; k < d; k++ {
+				t += st.l[k*d+i] * v.tmp[k*d+j]
+			}
+			prec += t * t
+		}
+	}
+	return math.Sqrt(grad), math.Sqrt(prec)
+}
+
+func norm(v []float64) float64 {
+	s := 0.0
+	for _, x := range v {
+		s += x * x
+	}
+	return math.Sqrt(s)
+}

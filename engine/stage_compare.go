@@ -1,0 +1,77 @@
+package engine
+
+import (
+	"fmt"
+	"math"
+	"slices"
+	"strings"
+
+	"bellcheck/engine/compare"
+	"bellcheck/engine/gauss"
+)
+
+// compareFits is the comparison stage: it compares each fit with the
+// reference (compare.Compare), leaving out a fit whose covariance is
+// degenerate beyond its scales (a correlation matrix that cannot be
+// inverted): the comparison cannot use it, and the other fits still stand.
+// a.cmp holds the comparisons in the order of a.fits.
+func (a *analysis) compareFits() error {
+	a.tr.enter(stageCompare)
+	kept := a.fits[:0]
+	for _, f := range a.fits {
+		q, err := gauss.Prepare(f.g)
+		if err != nil {
+			*f.out = nil
+			a.avail.drop(f.method.quantity(), CodeFitFailed)
+			why := strings.TrimPrefix(err.Error(), gauss.ErrBad.Error()+": ")
+			a.diag.add(CodeFitFailed, SeverityError, "No %s fit: its covariance is degenerate (%s).", f.method.term(), why)
+			continue
+		}
+		f.q = q
+		kept = append(kept, f)
+	}
+	a.fits = kept
+	if len(a.fits) == 0 {
+		return nil
+	}
+	qs := make([]*gauss.Prepared, len(a.fits))
+	for i, f := range a.fits {
+		qs[i] = f.q
+	}
+	cmp, err := compare.Compare(a.ref.grid, qs, compare.Settings{
+		Bounded: slices.Contains(a.bounded, true), Density: a.p, Context: a.ctx, Progress: a.tr.at,
+	})
+	if err != nil {
+		if ctxErr := a.ctx.Err(); ctxErr != nil {
+			return ctxErr
+		}
+		return fmt.Errorf("engine: comparing the fits: %w", err)
+	}
+	a.cmp = cmp
+	for i, f := range a.fits {
+		c := cmp[i]
+		if a.ref.noise > 0 {
+			// Below zero only by the rounding noise of log p.
+			if c.KLqp < 0 {
+				a.avail.dropAt(QuantityKLqp, int(f.method), CodeLostPrecision)
+			}
+			if c.KLpq < 0 {
+				a.avail.dropAt(QuantityKLpq, int(f.method), CodeLostPrecision)
+			}
+		}
+		if c.Method != compare.Cubature {
+			continue
+		}
+		if !c.Resolved {
+			a.avail.dropAt(QuantityCoverage, int(f.method), CodeFitOffGrid)
+			a.diag.add(CodeFitOffGrid, SeverityInfo,
+				"The %s fit is narrower than the grid resolves; its KL(q||p) and Hellinger distance come from a cubature in its own coordinates, and its coverage is not reported.",
+				f.method.term())
+		} else {
+			a.diag.add(CodeFitOffGrid, SeverityInfo,
+				"The %s fit has about %s of its mass outside the grid's box; its KL(q||p) comes from a cubature in its own coordinates.",
+				f.method.term(), share(math.Abs(1-c.QMass)))
+		}
+	}
+	return nil
+}

@@ -1,0 +1,167 @@
+package engine
+
+import (
+	"math"
+	"slices"
+
+	"bellcheck/engine/fit"
+)
+
+// settleExact is the stage that settles which numbers of the exact
+// posterior exist: log Z where the density looks proper, the moments that
+// settle as the box widens, those that do not overflow on the original
+// scale; and it polishes the mode on the original scale (a.mode). It
+// writes each absence to the availability record with its diagnostic.
+func (a *analysis) settleExact() {
+	r := a.ref
+	o := &r.original
+	d := a.d
+	if r.tailMass > 1 {
+		// More mass seems to lie beyond the box than in it: the density is
+		// taken to be improper, and log Z does not exist.
+		a.avail.drop(QuantityLogZ, CodeImproper)
+		a.diag.add(CodeImproper, SeverityError,
+			"The mass beyond the box, extrapolated from its faces, exceeds the mass inside: the density looks improper, so log Z, the evidence errors and the moments that do not settle are not reported.")
+	}
+	for k := 0; k < d; k++ {
+		if r.improper(k) {
+			// Mass stays at a face however far it is widened (the improper
+			// diagnostic of gridDiagnostics says where): no log Z either.
+			a.avail.drop(QuantityLogZ, CodeImproper)
+		}
+	}
+	gridMode := make([]float64, d)
+	for k, z := range r.exactMode {
+		gridMode[k] = a.maps[k].ToOriginal(z)
+	}
+	a.mode = a.originalMode(gridMode)
+	a.dropOverflow()
+	if !a.avail.resolved() {
+		return
+	}
+
+	// Quantities that do not exist are absent.
+	var noVar, noMean, noKurt []string
+	for k := 0; k < d; k++ {
+		varGone := r.improper(k) || o.TailShare[k] > tailShareAbsent || !a.avail.presentAt(QuantityAxisErrors, k)
+		meanGone := o.AbsTailShare[k] > absShareAbsent || r.improper(k)
+		if r.improper(k) {
+			// Nor do the quantiles of a marginal that is not integrable.
+			a.avail.dropAt(QuantityQuantiles, k, CodeImproper)
+		}
+		if varGone {
+			noVar = append(noVar, a.names[k])
+			for _, q := range []Quantity{QuantityVariance, QuantitySkewness, QuantityKurtosis} {
+				a.avail.dropAt(q, k, CodeNoVariance)
+			}
+		}
+		if meanGone {
+			noMean = append(noMean, a.names[k])
+			a.avail.dropAt(QuantityMean, k, CodeNoMean)
+		}
+		if !varGone && o.KurtosisTailShare[k] > tailShareAbsent {
+			noKurt = append(noKurt, a.names[k])
+			a.avail.dropAt(QuantityKurtosis, k, CodeHeavyTails)
+		}
+	}
+	if len(noVar) > 0 {
+		a.diag.add(CodeNoVariance, SeverityWarning,
+			"The variance of %s does not settle as the box widens (it may not exist, as for a Cauchy density): the exact covariance and the forward-KL fit are not reported.", list(noVar))
+	}
+	if len(noKurt) > 0 {
+		a.diag.add(CodeHeavyTails, SeverityWarning,
+			"The fourth moment of %s does not settle as the box widens (the tails may be too heavy for it to exist): the excess kurtosis is not reported.", list(noKurt))
+	}
+	if len(noMean) > 0 {
+		a.diag.add(CodeNoMean, SeverityWarning,
+			"The mean of %s does not settle as the box widens either (it may not exist): the exact mean is not reported.", list(noMean))
+	}
+}
+
+// dropOverflow records as absent, with a diagnostic, the exact moments and
+// quantiles that came out of the grid's sums as NaN or infinite: on the
+// original scale of a log- or logit-scaled parameter x = e^z overflows
+// where the box reaches z > 709. A covariance left out makes its row and
+// column bad for the parameters after it, as in the Result.
+func (a *analysis) dropOverflow() {
+	o := &a.ref.original
+	d := a.d
+	bad := func(v float64) bool { return math.IsNaN(v) || math.IsInf(v, 0) }
+	cov := copyRows(o.Cov)
+	var names []string
+	for k := 0; k < d; k++ {
+		over := bad(o.Mean[k]) || bad(cov[k][k]) || bad(o.Skewness[k]) || bad(o.ExcessKurtosis[k])
+		for _, q := range o.Quantiles[k] {
+			over = over || bad(q)
+		}
+		for l := 0; l < d; l++ {
+			over = over || bad(cov[k][l])
+		}
+		if !over {
+			continue
+		}
+		names = append(names, a.names[k])
+		if bad(o.Mean[k]) {
+			a.avail.dropAt(QuantityMean, k, CodeOverflow)
+		}
+		if slices.ContainsFunc(o.Quantiles[k][:], bad) {
+			a.avail.dropAt(QuantityQuantiles, k, CodeOverflow)
+		}
+		if bad(cov[k][k]) || bad(o.Skewness[k]) || bad(o.ExcessKurtosis[k]) {
+			a.avail.dropAt(QuantitySkewness, k, CodeOverflow)
+			a.avail.dropAt(QuantityKurtosis, k, CodeOverflow)
+		}
+		for l := 0; l < d; l++ {
+			if bad(cov[k][l]) || bad(cov[k][k]) {
+				a.avail.dropPair(QuantityCovariance, k, l, CodeOverflow)
+				cov[k][l], cov[l][k] = math.NaN(), math.NaN()
+			}
+		}
+		if bad(o.Cov[k][k]) {
+			a.avail.dropAt(QuantityVariance, k, CodeOverflow)
+		}
+	}
+	if math.IsInf(a.ref.logZ, 0) && a.avail.present(QuantityLogZ) {
+		a.avail.drop(QuantityLogZ, CodeOverflow)
+		names = append(names, "log Z")
+	}
+	if len(names) > 0 {
+		a.diag.add(CodeOverflow, SeverityWarning,
+			"The exact moments of %s overflow double precision on the original scale (the box reaches values too large to square or sum), so those that did are not reported.", list(names))
+	}
+}
+
+// originalMode polishes the highest mode on the original scale; NaN, with
+// the reason recorded, where there is none.
+func (a *analysis) originalMode(gridMode []float64) []float64 {
+	d := a.d
+	transformed := false
+	for _, m := range a.maps {
+		if !m.Scale.IsIdentity() {
+			transformed = true
+		}
+	}
+	if !transformed {
+		if len(a.modes.modes) > 0 {
+			return slices.Clone(a.modes.modes[0].X)
+		}
+		a.avail.drop(QuantityMode, CodeNoMode)
+		return nanSlice(d)
+	}
+	starts := [][]float64{gridMode}
+	if len(a.modes.modes) > 0 {
+		starts = append(starts, slices.Clone(a.modes.modes[0].X))
+	}
+	lo, hi := make([]float64, d), make([]float64, d)
+	for k, prm := range a.m.Params {
+		lo[k], hi[k] = prm.Lo, prm.Hi
+	}
+	ms, err := fit.FindModes(a.ctx, &watched{Density: a.ev, tick: a.pw.tick}, starts, lo, hi)
+	if err != nil || len(ms) == 0 {
+		a.avail.drop(QuantityMode, CodeModeNotPolished)
+		a.diag.add(CodeModeNotPolished, SeverityInfo,
+			"The mode search on the original scale failed, so the exact mode is not reported (the grid's best point is).")
+		return nanSlice(d)
+	}
+	return slices.Clone(ms[0].X)
+}

@@ -1,0 +1,249 @@
+package engine
+
+import (
+	"errors"
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+
+	"bellcheck/engine/fit"
+	"bellcheck/engine/gauss"
+)
+
+// fitted is one Gaussian fit that exists, as the fits stage hands it on:
+// its method, the Gaussian on the fitting scale, the curvature it uses
+// (nil for the forward-KL fit) and its entry in the Result; the comparison
+// stage adds its prepared form q.
+type fitted struct {
+	method Method
+	g      gauss.Gaussian
+	prec   *mat.SymDense
+	out    **Fit
+	q      *gauss.Prepared
+	// orig is the normal's moments on the original scale (the report
+	// stage's pushforward).
+	orig pushed
+}
+
+// fitAll is the fits stage: the Laplace fit at the highest mode, the
+// reverse-KL fit and its mean-field variant, and the forward-KL fit (the
+// reference's moments).
+func (a *analysis) fitAll(res *Result) error {
+	lap := a.fitLaplace(res)
+	rev, mfit, infiniteKL, err := a.fitReverse(res, lap)
+	if err != nil {
+		return err
+	}
+	a.checkELBO(rev, mfit)
+	a.fitForward(res)
+	a.boundedKL(infiniteKL)
+	return nil
+}
+
+// checkELBO compares the ELBO of each converged reverse-KL fit with the
+// grid's log Z: the ELBO is a lower bound on log Z for every Gaussian
+// (Jensen's inequality), so an ELBO above log Z by more than the grid's
+// error estimate means that the grid missed mass the fit found (a peak
+// narrower than the grid's spacing, between its nodes), or that the fit's
+// cubature erred. Either way the grid's results cannot stand: they are
+// recorded as absent for want of resolution, and the forward-KL fit, made
+// from them, is not made.
+func (a *analysis) checkELBO(fits ...*fit.VariationalFit) {
+	if !a.avail.resolved() {
+		return
+	}
+	lz := a.ref.logZ
+	tol := 1e-6*(1+math.Abs(lz)) + 3*a.ref.logZErr
+	for _, vf := range fits {
+		if vf == nil || !vf.Converged || !(vf.ELBO > lz+tol) {
+			continue
+		}
+		a.avail.dropUnresolved()
+		a.diag.add(CodeUnresolved, SeverityError,
+			"A reverse-KL fit's ELBO, a lower bound on log Z, exceeds the grid's log Z by %.3g: the grid has missed part of the mass (a peak narrower than its spacing, near %s) or the fit's cubature erred, so log Z, the exact moments and the fits' comparisons with them are not reported.",
+			vf.ELBO-lz, a.pointString(vf.Mean))
+		return
+	}
+}
+
+// fitLaplace fits the Laplace approximation at the highest mode; nil where
+// there is none, with a diagnostic saying why.
+func (a *analysis) fitLaplace(res *Result) *fit.LaplaceFit {
+	a.tr.enter(stageLaplace)
+	if len(a.modes.fitModes) == 0 {
+		a.avail.drop(Laplace.quantity(), CodeNoMode)
+		return nil
+	}
+	m := a.modes.fitModes[0]
+	lf, err := fit.Laplace(m)
+	switch {
+	case err == nil:
+		f := &Fit{Iterations: m.Iterations, Converged: m.Converged, Residual: m.GradNorm}
+		lz := lf.LogZ
+		f.LogZ = &lz
+		res.Fits[Laplace] = f
+		a.fits = append(a.fits, fitted{method: Laplace, g: lf.Gaussian, prec: lf.Precision, out: &res.Fits[Laplace]})
+		return &lf
+	case errors.Is(err, fit.ErrOnBound):
+		a.avail.drop(Laplace.quantity(), CodeModeOnBound)
+		a.diag.add(CodeModeOnBound, SeverityWarning,
+			"No Laplace fit: the highest mode, at %s, lies on a bound of the support, where the curvature does not describe the density.", a.pointString(m.X))
+	case errors.Is(err, fit.ErrNotPositiveDefinite):
+		why := "-Hessian there is not positive definite, so the point is not a strict maximum"
+		if m.Flat {
+			why = "the curvature there is numerically zero (the density is flatter than a Gaussian at its peak)"
+		}
+		a.avail.drop(Laplace.quantity(), CodeNotPositiveDefinite)
+		a.diag.add(CodeNotPositiveDefinite, SeverityWarning,
+			"No Laplace fit: at the highest mode, %s, %s.", a.pointString(m.X), why)
+	default:
+		a.avail.drop(Laplace.quantity(), CodeFitFailed)
+		a.diag.add(CodeFitFailed, SeverityError, "No Laplace fit: %v.", err)
+	}
+	return nil
+}
+
+// fitReverse fits the reverse-KL Gaussian and its mean-field variant,
+// started from the Laplace fit, else the reference's moments. infiniteKL
+// reports a density that is zero where the cubature reaches.
+func (a *analysis) fitReverse(res *Result, lap *fit.LaplaceFit) (rev, mfit *fit.VariationalFit, infiniteKL bool, err error) {
+	var init *fit.Gaussian
+	if lap != nil {
+		init = &lap.Gaussian
+	} else if a.varianceSettled() {
+		if g, err := fit.MomentMatch(a.ref.fitting.Mean, symFromRows(a.ref.fitting.Cov)); err == nil {
+			init = &g
+		}
+	}
+	variational := func(stage string, m Method, init fit.Gaussian) (*fit.VariationalFit, error) {
+		a.tr.enter(stage)
+		a.pw.tick = func(n int) { a.tr.tick(n, 20000) }
+		run := fit.ReverseKL
+		if m == MeanField {
+			run = fit.MeanField
+		}
+		label := m.term()
+		vf, err := run(a.ctx, a.pw, init, fit.Settings{})
+		if ctxErr := a.ctx.Err(); ctxErr != nil {
+			return nil, ctxErr
+		}
+		switch {
+		case err == nil:
+			return &vf, nil
+		case errors.Is(err, fit.ErrNoConvergence):
+			a.diag.add(CodeNoConvergence, SeverityWarning,
+				"The %s fit did not converge in %d steps (residual %.2g); its last iterate is shown, marked as not converged.",
+				label, vf.Iterations, math.Max(vf.GradResidual, vf.PrecisionResidual))
+			if vf.Mean == nil || vf.Cov == nil {
+				a.avail.drop(m.quantity(), CodeNoConvergence)
+				return nil, nil
+			}
+			return &vf, nil
+		case errors.Is(err, fit.ErrInfiniteKL):
+			infiniteKL = true
+			a.avail.drop(m.quantity(), CodeInfiniteKL)
+			return nil, nil
+		default:
+			a.avail.drop(m.quantity(), CodeFitFailed)
+			a.diag.add(CodeFitFailed, SeverityError, "No %s fit: %v.", label, err)
+			return nil, nil
+		}
+	}
+	if init != nil {
+		if rev, err = variational(stageReverseKL, ReverseKL, *init); err != nil {
+			return nil, nil, false, err
+		}
+		mfInit := *init
+		if rev != nil && rev.Converged {
+			mfInit = rev.Gaussian
+		}
+		if mfit, err = variational(stageMeanField, MeanField, mfInit); err != nil {
+			return nil, nil, false, err
+		}
+	} else {
+		a.avail.drop(ReverseKL.quantity(), CodeFitFailed)
+		a.avail.drop(MeanField.quantity(), CodeFitFailed)
+		a.diag.add(CodeFitFailed, SeverityError,
+			"No reverse-KL fits: there is neither a Laplace fit nor an exact covariance to start them from.")
+	}
+	for _, v := range []struct {
+		vf *fit.VariationalFit
+		m  Method
+	}{{rev, ReverseKL}, {mfit, MeanField}} {
+		if v.vf == nil {
+			continue
+		}
+		elbo := v.vf.ELBO
+		res.Fits[v.m] = &Fit{ELBO: &elbo, Iterations: v.vf.Iterations, Converged: v.vf.Converged,
+			Residual: math.Max(v.vf.GradResidual, v.vf.PrecisionResidual)}
+		a.fits = append(a.fits, fitted{method: v.m, g: v.vf.Gaussian, prec: v.vf.Precision, out: &res.Fits[v.m]})
+	}
+	return rev, mfit, infiniteKL, nil
+}
+
+// fitForward matches the reference's moments, where its variance settles.
+func (a *analysis) fitForward(res *Result) {
+	for k := 0; k < a.d; k++ {
+		if why := a.avail.whyAt(QuantityAxisErrors, k); why != "" {
+			a.avail.drop(ForwardKL.quantity(), why)
+			return
+		}
+	}
+	g, err := fit.MomentMatch(a.ref.fitting.Mean, symFromRows(a.ref.fitting.Cov))
+	if err != nil {
+		a.avail.drop(ForwardKL.quantity(), CodeFitFailed)
+		a.diag.add(CodeFitFailed, SeverityError, "No forward-KL fit: %v.", err)
+		return
+	}
+	res.Fits[ForwardKL] = &Fit{Converged: true}
+	a.fits = append(a.fits, fitted{method: ForwardKL, g: g, out: &res.Fits[ForwardKL]})
+}
+
+// boundedKL says when KL(q||p) is infinite for every fit: a support
+// bounded on the fitting scale, or a density that is zero where the
+// reverse-KL cubature reaches (infiniteKL).
+func (a *analysis) boundedKL(infiniteKL bool) {
+	var boundedNames []string
+	for k, b := range a.bounded {
+		if b {
+			boundedNames = append(boundedNames, a.names[k])
+		}
+	}
+	if len(boundedNames) > 0 {
+		sev := SeverityInfo
+		what := "KL(q||p) is infinite for every fit"
+		if infiniteKL {
+			sev = SeverityWarning
+			what = "KL(q||p) is infinite for every fit and the reverse-KL fits do not exist"
+		}
+		a.diag.add(CodeInfiniteKL, sev,
+			"The support of %s is bounded, so every Gaussian puts mass where the density is zero: %s; fit %s on the log or logit scale, where they exist.",
+			list(boundedNames), what, list(boundedNames))
+	} else if infiniteKL {
+		a.diag.add(CodeInfiniteKL, SeverityWarning,
+			"The density is zero where the reverse-KL cubature reaches, so KL(q||p) is infinite for every Gaussian and the reverse-KL fits do not exist; if a parameter is bounded, declare its support and fit it on the log or logit scale.")
+	}
+}
+
+// varianceSettled reports that the exact variance on the fitting scale
+// settles along every axis.
+func (a *analysis) varianceSettled() bool {
+	for k := 0; k < a.d; k++ {
+		if !a.avail.presentAt(QuantityAxisErrors, k) {
+			return false
+		}
+	}
+	return true
+}
+
+// symFromRows returns the symmetric matrix whose upper triangle is r's.
+func symFromRows(r [][]float64) *mat.SymDense {
+	d := len(r)
+	s := mat.NewSymDense(d, nil)
+	for i := 0; i < d; i++ {
+		for j := i; j < d; j++ {
+			s.SetSym(i, j, r[i][j])
+		}
+	}
+	return s
+}

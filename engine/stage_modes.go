@@ -1,0 +1,171 @@
+package engine
+
+import (
+	"math"
+	"slices"
+
+	"bellcheck/engine/fit"
+	"bellcheck/engine/grid"
+)
+
+// modeSearch is what the modes stage hands on: the modes, highest first,
+// as the Result reports them and as the Laplace fit takes them.
+type modeSearch struct {
+	modes    []Mode
+	fitModes []fit.Mode
+}
+
+// findModes polishes the grid's peaks into modes with their masses.
+func (a *analysis) findModes() error {
+	a.tr.enter(stageModes)
+	peaks, err := a.ref.grid.Peaks(a.ctx, func(f float64) { a.tr.at(0.5 * f) })
+	if err != nil {
+		return err
+	}
+	var starts, rest []grid.Peak
+	for i, pk := range peaks {
+		if i == 0 || (pk.Mass >= 1e-3 && len(starts) < 8) {
+			starts = append(starts, pk)
+		} else {
+			rest = append(rest, pk)
+		}
+	}
+	a.pw.tick = func(n int) { a.tr.at(0.5 + 0.5*(1-math.Exp(-float64(n)/2000))) }
+	sd := a.ref.fitting.SD
+	var modes []fit.Mode
+	var masses []float64
+	startMode := make([]int, len(starts)) // the mode each start reached, or -1
+	for si, pk := range starts {
+		startMode[si] = -1
+		ms, err := fit.FindModes(a.ctx, a.pw, [][]float64{pk.Point}, a.modeLo, a.modeHi)
+		if err != nil {
+			if ctxErr := a.ctx.Err(); ctxErr != nil {
+				return ctxErr
+			}
+			continue
+		}
+		m := ms[0]
+		if !m.Converged && a.farOutside(m.X) {
+			// Newton's method ran off (a log-density that rises without
+			// bound, as a linear one): that is no mode.
+			continue
+		}
+		j := -1
+		for i, o := range modes {
+			if sameMode(o.X, m.X, sd, a.ref.grid) {
+				j = i
+				break
+			}
+		}
+		if j < 0 {
+			modes = append(modes, m)
+			masses = append(masses, 0)
+			j = len(modes) - 1
+		}
+		masses[j] += pk.Mass
+		startMode[si] = j
+	}
+	// The small basins (grid ripples, the lattice's view of a thin ridge)
+	// go to the mode of the nearest start, in exact standard deviations.
+	for _, pk := range rest {
+		best, bestD := -1, math.Inf(1)
+		for si, st := range starts {
+			if startMode[si] < 0 {
+				continue
+			}
+			dist := 0.0
+			for k := range pk.Point {
+				s := sd[k]
+				if !(s > 0) || math.IsInf(s, 0) {
+					s = a.ref.grid.Box.Hi[k] - a.ref.grid.Box.Lo[k]
+				}
+				dist += sq((pk.Point[k] - st.Point[k]) / s)
+			}
+			if dist < bestD {
+				best, bestD = startMode[si], dist
+			}
+		}
+		if best >= 0 {
+			masses[best] += pk.Mass
+		}
+	}
+	// Highest first.
+	order := make([]int, len(modes))
+	for i := range order {
+		order[i] = i
+	}
+	slices.SortStableFunc(order, func(i, j int) int {
+		switch {
+		case modes[i].LogDensity > modes[j].LogDensity:
+			return -1
+		case modes[j].LogDensity > modes[i].LogDensity:
+			return 1
+		}
+		return 0
+	})
+	a.modes.modes = nil
+	a.modes.fitModes = nil
+	for _, i := range order {
+		m := modes[i]
+		a.modes.fitModes = append(a.modes.fitModes, m)
+		x := make([]float64, len(m.X))
+		for k, z := range m.X {
+			x[k] = a.maps[k].ToOriginal(z)
+		}
+		a.modes.modes = append(a.modes.modes, Mode{
+			X: x, FittingScale: FittingPoint{X: slices.Clone(m.X)}, LogDensity: m.LogDensity, Mass: masses[i],
+			PositiveDefinite: m.PositiveDefinite, OnBound: m.OnBound,
+		})
+	}
+	if len(a.modes.modes) == 0 {
+		a.diag.add(CodeNoMode, SeverityError, "The mode search found no mode from the grid's highest points, so there is no Laplace fit.")
+		return nil
+	}
+	var big []string
+	second := 0.0
+	for i, m := range a.modes.modes {
+		if i > 0 {
+			second = math.Max(second, m.Mass)
+		}
+		big = append(big, percent(m.Mass))
+	}
+	if len(a.modes.modes) > 1 {
+		sev := SeverityInfo
+		if second >= modeMassWarn {
+			sev = SeverityWarning
+		}
+		a.diag.add(CodeSeveralModes, sev,
+			"The density has %d modes, holding about %s of the mass (highest first); the Laplace fit describes only the highest one, and no single Gaussian describes them all.",
+			len(a.modes.modes), list(big))
+	}
+	return nil
+}
+
+// farOutside reports a point more than one box width outside the grid's
+// box along some axis (fitting scale).
+func (a *analysis) farOutside(x []float64) bool {
+	for k, v := range x {
+		lo, hi := a.ref.grid.Box.Lo[k], a.ref.grid.Box.Hi[k]
+		if w := hi - lo; v < lo-w || v > hi+w {
+			return true
+		}
+	}
+	return false
+}
+
+// sameMode reports points within 1e-3 exact sd of each other on every axis
+// (or 1e-6 of the box where the sd is unknown).
+func sameMode(x, y, sd []float64, g *grid.Grid) bool {
+	for k := range x {
+		s := sd[k]
+		if !(s > 0) || math.IsInf(s, 0) {
+			s = 1e-3 * (g.Box.Hi[k] - g.Box.Lo[k])
+		}
+		if math.Abs(x[k]-y[k]) > 1e-3*s {
+			return false
+		}
+	}
+	return true
+}
+
+func sq(x float64) float64 { return x * x }

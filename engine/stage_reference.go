@@ -1,0 +1,485 @@
+package engine
+
+import (
+	"fmt"
+	"math"
+	"slices"
+
+	"bellcheck/engine/grid"
+)
+
+// reference is what the reference stage hands on: the exact posterior on
+// the fitting and the original scale, its error estimates, and the
+// verdicts of the stage's checks (the absences they decide go to the
+// availability record). The stages after it read the exact
+// posterior only through these fields and methods, never the grid's
+// statistics, so another quadrature can take the stage's place; the grid
+// itself serves the mode search (its peaks and box), the comparison and
+// the plots (its nodes, marginals and pairs).
+type reference struct {
+	// grid is the evaluated grid on the fitting scale; read-only.
+	grid *grid.Grid
+	// box tells which faces the box search fixed (on a bound of the
+	// support, or set by the user) and which it capped.
+	box grid.BoxResult
+
+	// logZ is log of the integral of p over the box, logZErr its error
+	// estimate and tailMass the share of the mass estimated beyond the box.
+	logZ, logZErr, tailMass float64
+	// fitting and original are the moments on the fitting and on the
+	// original scale; their error estimates include errScale.
+	fitting, original grid.Moments
+	// edgeMass[k][side] is the share of the mass in the outermost layer
+	// of nodes at that face; nonFinite the share of nodes where log p is
+	// NaN or +Inf.
+	edgeMass  [][2]float64
+	nonFinite float64
+	// exactMode is the node where the density on the original scale is
+	// highest, on the fitting scale.
+	exactMode []float64
+	// errScale is the factor by which the error estimates were scaled up
+	// for a density that is infinite at a bound (checkSingularBounds).
+	errScale float64
+
+	// singularImproper reports a density that grows too fast towards a
+	// bound of its support to be integrable (like 1/x).
+	singularImproper bool
+	// noise is the spacing of doubles at the grid's highest log p where it
+	// exceeds precisionWarn: the rounding noise of log p (0 otherwise).
+	noise float64
+}
+
+// findReference is the reference stage: it finds the box, evaluates the
+// grid, checks what the grid resolves and summarises it.
+func (a *analysis) findReference() error {
+	a.ref = &reference{}
+	if err := a.findBox(); err != nil {
+		return err
+	}
+	if err := a.evaluateGrid(); err != nil {
+		return err
+	}
+	a.ref.summarise()
+	a.checkResolved()
+	a.ref.scaleErrors(a.checkSingularBounds())
+	a.checkPrecision()
+	a.checkTails()
+	return nil
+}
+
+// summarise copies the grid's statistics into the reference's fields; the
+// grid's own statistics stay as computed.
+func (r *reference) summarise() {
+	st := &r.grid.Stats
+	r.errScale = 1
+	r.logZ, r.logZErr, r.tailMass = st.LogZ, st.LogZErr, st.TailMass
+	r.fitting, r.original = cloneMoments(st.Fitting), cloneMoments(st.Original)
+	r.edgeMass, r.nonFinite = st.EdgeMass, st.NonFinite
+	r.exactMode = make([]float64, r.grid.Dim)
+	r.grid.Point(st.OrigArgMax, r.exactMode)
+}
+
+// scaleErrors scales the error estimates of log Z and of the moments by
+// errScale.
+func (r *reference) scaleErrors(errScale float64) {
+	r.errScale = errScale
+	if errScale > 1 {
+		r.logZErr *= errScale
+		for _, m := range []*grid.Moments{&r.fitting, &r.original} {
+			for k := range m.MeanErr {
+				m.MeanErr[k] *= errScale
+				for l := range m.CovErr[k] {
+					m.CovErr[k][l] *= errScale
+				}
+			}
+		}
+	}
+}
+
+// cloneMoments returns a copy of m that shares no slice with it.
+func cloneMoments(m grid.Moments) grid.Moments {
+	return grid.Moments{
+		Mean: slices.Clone(m.Mean), MeanErr: slices.Clone(m.MeanErr),
+		Cov: copyRows(m.Cov), CovErr: copyRows(m.CovErr),
+		SD: slices.Clone(m.SD), Corr: copyRows(m.Corr),
+		Quantiles: slices.Clone(m.Quantiles),
+		Skewness:  slices.Clone(m.Skewness), ExcessKurtosis: slices.Clone(m.ExcessKurtosis),
+		TailShare: slices.Clone(m.TailShare), AbsTailShare: slices.Clone(m.AbsTailShare),
+		KurtosisTailShare: slices.Clone(m.KurtosisTailShare),
+	}
+}
+
+// findBox finds the grid's box on the fitting scale.
+func (a *analysis) findBox() error {
+	a.tr.enter(stageBox)
+	res, err := grid.FindBox(a.ctx, a.p, grid.BoxSettings{
+		Bounds:   a.bounds,
+		Pinned:   a.pinned,
+		Points:   a.points(),
+		Progress: a.tr.at,
+	})
+	if err != nil {
+		if ctxErr := a.ctx.Err(); ctxErr != nil {
+			return ctxErr
+		}
+		return fmt.Errorf("engine: finding the box: %w", err)
+	}
+	a.ref.box = res
+	if !res.Converged {
+		a.diag.add(CodeBoxNotSettled, SeverityWarning,
+			"The search for the box stopped after %d grids before the box settled; the exact results may miss mass.", res.Iterations)
+	}
+	return nil
+}
+
+// free reports the faces the box search may move (not on a bound of the
+// support, not set by the user).
+func (a *analysis) free() [][2]bool {
+	f := make([][2]bool, a.d)
+	for k := range f {
+		f[k] = [2]bool{!a.ref.box.Fixed[k][0], !a.ref.box.Fixed[k][1]}
+	}
+	return f
+}
+
+// gridOn evaluates the grid on box with the analysis's settings; a
+// cancelled context comes back as its own error.
+func (a *analysis) gridOn(box grid.Box) (*grid.Grid, error) {
+	g, err := grid.Evaluate(a.ctx, a.p, box, grid.Settings{
+		Points:   a.points(),
+		Maps:     a.maps,
+		Free:     a.free(),
+		Progress: a.tr.at,
+	})
+	if err != nil {
+		if ctxErr := a.ctx.Err(); ctxErr != nil {
+			return nil, ctxErr
+		}
+		return nil, fmt.Errorf("engine: evaluating the grid: %w", err)
+	}
+	return g, nil
+}
+
+// evaluateGrid evaluates the grid on the box found, widening a face the
+// fine grid shows mass at and narrowing a box stretched over faint tails.
+func (a *analysis) evaluateGrid() error {
+	a.tr.enter(stageGrid)
+	g, err := a.gridOn(a.ref.box.Box)
+	if err != nil {
+		return err
+	}
+	// The coarse search can miss thin structures (a curved ridge leaving
+	// through a face); the fine grid shows them. Widen such a face by half
+	// the box's width, once.
+	retry := false
+	box := g.Box.Clone()
+	for k := 0; k < a.d; k++ {
+		w := box.Hi[k] - box.Lo[k]
+		for side := 0; side < 2; side++ {
+			if a.ref.box.Fixed[k][side] || a.ref.box.Capped[k][side] || g.Stats.EdgeMass[k][side] <= refineEdgeMass {
+				continue
+			}
+			retry = true
+			if side == 0 {
+				box.Lo[k] = math.Max(box.Lo[k]-w/2, a.bounds.Lo[k])
+			} else {
+				box.Hi[k] = math.Min(box.Hi[k]+w/2, a.bounds.Hi[k])
+			}
+		}
+	}
+	if retry {
+		g2, err := a.gridOn(box)
+		if err != nil {
+			return err
+		}
+		g = g2
+		a.ref.box.Box = box
+	}
+	// A box stretched over faint tails (a funnel, a heavy tail) can leave
+	// the centre under-resolved. Then trim each free side to where
+	// trimTail of the mass lies beyond it, where that narrows an axis by
+	// 30 % or more, and keep the grid whose error estimate (half resolution
+	// plus the mass beyond the box) is smaller.
+	if coarse(g) {
+		box := g.Box.Clone()
+		var names []string
+		for k := 0; k < a.d; k++ {
+			mass := g.Stats.Marginals[k].Mass
+			n := len(mass)
+			lo, hi := 0, n-1
+			acc := 0.0
+			for i := 0; i < n; i++ {
+				if acc += mass[i]; acc > trimTail {
+					lo = max(i-2, 0)
+					break
+				}
+			}
+			acc = 0
+			for i := n - 1; i >= 0; i-- {
+				if acc += mass[i]; acc > trimTail {
+					hi = min(i+2, n-1)
+					break
+				}
+			}
+			nl, nh := box.Lo[k], box.Hi[k]
+			if !a.ref.box.Fixed[k][0] {
+				nl = g.Nodes[k][lo]
+			}
+			if !a.ref.box.Fixed[k][1] {
+				nh = g.Nodes[k][hi]
+			}
+			if nh-nl < 0.7*(box.Hi[k]-box.Lo[k]) && nl < nh {
+				box.Lo[k], box.Hi[k] = nl, nh
+				names = append(names, a.names[k])
+			}
+		}
+		if len(names) > 0 {
+			// A narrower grid that fails to evaluate leaves the first one.
+			g2, err := a.gridOn(box)
+			if err != nil {
+				if a.ctx.Err() != nil {
+					return err
+				}
+			} else if errEstimate(g2) < errEstimate(g) {
+				g = g2
+				a.ref.box.Box = box
+				a.diag.add(CodeEdgeMass, SeverityWarning,
+					"The box reached so far into faint tails that the grid could not resolve the centre; it was narrowed along %s to where about %.0g of the mass lies beyond each side, and the exact results are those of that box.",
+					list(names), trimTail)
+			}
+		}
+	}
+	a.ref.grid = g
+	return nil
+}
+
+// trimTail is the share of the mass left beyond each side when a box is
+// narrowed for resolution.
+const trimTail = 1e-8
+
+// coarse reports a grid whose half-resolution error estimate is large.
+func coarse(g *grid.Grid) bool {
+	st := &g.Stats
+	if st.LogZErr > logZErrWarn {
+		return true
+	}
+	f := &st.Fitting
+	for k := range f.Mean {
+		if f.MeanErr[k] > 10*meanErrWarn*f.SD[k] || f.CovErr[k][k] > 5*varErrWarn*f.Cov[k][k] {
+			return true
+		}
+	}
+	return false
+}
+
+// errEstimate is the grid's error estimate of log Z: the change at half
+// resolution plus the mass estimated beyond the box.
+func errEstimate(g *grid.Grid) float64 {
+	return g.Stats.LogZErr + g.Stats.TailMass
+}
+
+// refineEdgeMass is the edge mass of the fine grid above which a free face
+// is widened and the grid evaluated again.
+const refineEdgeMass = 1e-8
+
+// unresolvedShare is the share of the mass in a single layer of grid nodes
+// (one node of a marginal) above which the grid is taken not to resolve the
+// density along that axis. A normal density whose sd is 0.8 node spacings
+// puts 0.5 of its mass in the central layer; the box search makes the
+// spacing a small fraction of the sd (the default 4-D grid puts 0.14 in it).
+const unresolvedShare = 0.5
+
+// checkResolved decides whether the grid resolves the density: it does not
+// where log p is +Inf at a node (an overflow, or an infinite spike that a
+// node hit) or where one layer of nodes across an axis holds more than
+// unresolvedShare of the mass (a spike, or a peak or the neck of a funnel
+// narrower than the spacing). Then log Z, the exact moments and the
+// comparisons are absent.
+func (a *analysis) checkResolved() {
+	g := a.ref.grid
+	posInf := 0
+	for _, v := range g.LogP {
+		if math.IsInf(v, 1) {
+			posInf++
+		}
+	}
+	if posInf > 0 {
+		a.avail.dropUnresolved()
+		a.diag.add(CodeUnresolved, SeverityError,
+			"The log-density is +inf at %d of the grid points: the density is infinite there (an overflow, or a singularity), which a grid cannot integrate, so log Z, the exact moments and the fits' comparisons with them are not reported.", posInf)
+		return
+	}
+	for k := 0; k < a.d; k++ {
+		mass := g.Stats.Marginals[k].Mass
+		top := 0
+		for i, m := range mass {
+			if m > mass[top] {
+				top = i
+			}
+		}
+		if edge := top == 0 || top == len(mass)-1; edge && a.ref.box.Capped[k][min(top, 1)] {
+			// Mass piled at a face the box search could not widen further:
+			// an improper density, which gridDiagnostics reports.
+			continue
+		}
+		if mass[top] > unresolvedShare {
+			a.avail.dropUnresolved()
+			at := a.names[k]
+			if x := a.maps[k].ToOriginal(g.Nodes[k][top]); !math.IsInf(x, 0) {
+				at = fmt.Sprintf("%s = %.4g", a.names[k], x)
+			}
+			a.diag.add(CodeUnresolved, SeverityError,
+				"The grid's layer at %s holds %s of the mass: the density has a peak (or an infinite spike, or the neck of a funnel) narrower than the grid's spacing along %s, so log Z, the exact moments and the fits' comparisons with them are not reported.",
+				at, percent(mass[top]), a.names[k])
+		}
+	}
+}
+
+// Precision limits: log p values whose doubles lie more than precisionWarn
+// apart carry rounding noise of that relative size in p; beyond
+// precisionAbsent the divergences, which compare p and q point by point,
+// are noise and are not reported.
+const (
+	precisionWarn   = 1e-6
+	precisionAbsent = 1e-3
+)
+
+// checkPrecision reports a log-density so large in magnitude at its
+// highest (a huge constant inside the model, as (log x - 1e8)^2/8) that
+// double precision no longer resolves its shape finely.
+func (a *analysis) checkPrecision() {
+	m := math.Abs(a.ref.grid.Max)
+	ulp := math.Nextafter(m, math.Inf(1)) - m
+	if !(ulp > precisionWarn) {
+		return
+	}
+	a.ref.noise = ulp
+	what := "divergences near zero are noise and negative ones are not reported"
+	if ulp > precisionAbsent {
+		what = "the divergences and Hellinger distances are noise and are not reported"
+		for _, q := range []Quantity{QuantityKLqp, QuantityKLpq, QuantityHellinger} {
+			a.avail.drop(q, CodeLostPrecision)
+		}
+	}
+	a.diag.add(CodeLostPrecision, SeverityWarning,
+		"log p is about %.3g at its highest, where doubles lie %.2g apart: the density carries rounding noise of that size in log p, so %s; move the large constant out of the model (log p needs only be right up to a constant).",
+		a.ref.grid.Max, ulp, what)
+}
+
+// nonIntegrableSlope is the slope of log density against log distance to a
+// bound below which the density counts as not integrable there (-1 is the
+// limit; the slope comes from four nodes).
+const nonIntegrableSlope = -0.97
+
+// checkSingularBounds looks at each face that lies on a bound of the
+// support for a density that grows without bound towards it, as x^(a-1)
+// with a < 1 (Beta and Gamma densities with shape below 1). The grid's
+// rule misses the mass next to such a bound at the order h^a, so the change
+// from half resolution, E(2h) - E(h) = (2^a - 1) E(h), understates the error
+// E(h): it returns the factor 1 / (2^a - 1) (1 where no face is singular)
+// by which the error estimates of log Z and the moments are scaled, with a from the slope of the log marginal density against
+// the log distance over the four nodes nearest the bound (where the slope
+// from nodes 1-2 matches that from nodes 4-8, as a power law's does). A
+// slope of -1 or below is not integrable: the density is improper.
+func (a *analysis) checkSingularBounds() (errScale float64) {
+	st := &a.ref.grid.Stats
+	sides := [2]string{"lower", "upper"}
+	worst := 1.0
+	for k := 0; k < a.d; k++ {
+		dens := st.Marginals[k].Density
+		n := len(dens)
+		for side := 0; side < 2; side++ {
+			if !a.ref.box.Fixed[k][side] || a.pinned[k][side] || n < 16 {
+				continue
+			}
+			at := func(i int) float64 {
+				if side == 1 {
+					return dens[n-1-i]
+				}
+				return dens[i]
+			}
+			// Least squares of log dens(i h) on log i, i = 1..4.
+			var su, sv, suu, suv float64
+			ok := true
+			for i := 1; i <= 4; i++ {
+				j := i
+				if side == 1 {
+					j = n - 1 - i
+				}
+				if !(dens[j] > 0) || math.IsInf(dens[j], 0) {
+					ok = false
+					break
+				}
+				u, v := math.Log(float64(i)), math.Log(dens[j])
+				su, sv, suu, suv = su+u, sv+v, suu+u*u, suv+u*v
+			}
+			if !ok {
+				continue
+			}
+			slope := (4*suv - su*sv) / (4*suu - su*su)
+			if !(slope < -0.1) {
+				continue
+			}
+			// A power law keeps its slope from nodes 1-2 to nodes 4-8; the
+			// falling side of a peak narrower than the spacing steepens.
+			s12 := math.Log(at(2)/at(1)) / math.Ln2
+			s48 := math.Log(at(8)/at(4)) / math.Ln2
+			if !(math.Abs(s12-s48) < 0.25) {
+				continue
+			}
+			bound := a.m.Params[k].Lo
+			if side == 1 {
+				bound = a.m.Params[k].Hi
+			}
+			if slope < nonIntegrableSlope {
+				// Like 1/x or steeper: not integrable at the bound.
+				a.ref.singularImproper = true
+				a.avail.drop(QuantityLogZ, CodeImproper)
+				a.diag.add(CodeImproper, SeverityError,
+					"The density grows towards the %s bound of %s (%g) like a power %.2g of the distance, too fast to be integrable there: the density looks improper, so log Z and the exact moments are not reported.",
+					sides[side], a.names[k], bound, slope)
+				continue
+			}
+			order := math.Max(1+slope, 0.05)
+			f := 1 / (math.Pow(2, order) - 1)
+			worst = math.Max(worst, f)
+			a.diag.add(CodeInfiniteAtBound, SeverityWarning,
+				"The density grows without bound towards the %s bound of %s (%g), like a power %.2g of the distance: the grid resolves this poorly, so its error estimates were scaled up %.2g times; fit %s on the log or logit scale, where it is smooth.",
+				sides[side], a.names[k], bound, slope, f, a.names[k])
+		}
+	}
+	return worst
+}
+
+// checkTails decides, per parameter on the fitting scale, whether the
+// variance has settled: where it has not (or the grid does not resolve the
+// density, or the axis is improper), the fits' mean errors and sd ratios
+// along it are absent, and so is the forward-KL fit.
+func (a *analysis) checkTails() {
+	st := &a.ref.grid.Stats
+	for k := 0; k < a.d; k++ {
+		switch {
+		case !a.avail.resolved():
+			a.avail.dropAt(QuantityAxisErrors, k, CodeUnresolved)
+		case a.ref.improper(k):
+			a.avail.dropAt(QuantityAxisErrors, k, CodeImproper)
+		case st.Fitting.TailShare[k] > tailShareAbsent || !(st.Fitting.SD[k] > 0):
+			a.avail.dropAt(QuantityAxisErrors, k, CodeNoVariance)
+		}
+	}
+}
+
+// improper reports an axis whose box search stopped at its cap with more
+// than improperEdgeMass in the outer layer of a face, and every axis of a
+// density that is not integrable at a bound of its support.
+func (r *reference) improper(k int) bool {
+	if r.singularImproper {
+		return true
+	}
+	for side := 0; side < 2; side++ {
+		if r.box.Capped[k][side] && r.edgeMass[k][side] > improperEdgeMass {
+			return true
+		}
+	}
+	return false
+}

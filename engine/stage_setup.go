@@ -1,0 +1,134 @@
+package engine
+
+import (
+	"fmt"
+	"math"
+	"slices"
+
+	"bellcheck/engine/eval"
+	"bellcheck/engine/grid"
+	"bellcheck/engine/target"
+	"bellcheck/engine/transform"
+)
+
+// problem is what the setup stage hands on: the model compiled, checked
+// against the options and wrapped on the fitting scale.
+type problem struct {
+	d      int
+	names  []string
+	maps   []transform.Map
+	scales []Scale
+	ev     *eval.Evaluator
+	p      target.Density // on the fitting scale
+	pw     *watched       // p, reporting progress from inside the fits
+	// bounds and pinned are the box's limits on the fitting scale: the
+	// support where finite and the sides the user set (pinned).
+	bounds grid.Box
+	pinned [][2]bool
+	// modeLo and modeHi are the support on the fitting scale.
+	modeLo, modeHi []float64
+	// bounded reports a finite support bound on the fitting scale.
+	bounded []bool
+}
+
+// setup checks the options, compiles the model and wraps it on the fitting
+// scale.
+func (a *analysis) setup() error {
+	if a.m == nil || len(a.m.Params) == 0 {
+		return ErrNoModel
+	}
+	d := len(a.m.Params)
+	a.d = d
+	if len(a.opts.Params) > d {
+		return fmt.Errorf("%w: options for %d parameters, but the model has %d", ErrOptions, len(a.opts.Params), d)
+	}
+	ev, err := eval.Compile(a.m)
+	if err != nil {
+		return err
+	}
+	a.ev = ev
+	a.maps = make([]transform.Map, d)
+	a.scales = make([]Scale, d)
+	a.bounds = grid.Box{Lo: make([]float64, d), Hi: make([]float64, d)}
+	a.pinned = make([][2]bool, d)
+	a.modeLo, a.modeHi = make([]float64, d), make([]float64, d)
+	a.bounded = make([]bool, d)
+	allIdentity := true
+	for i, prm := range a.m.Params {
+		a.names = append(a.names, prm.Name)
+		po := ParamOptions{}
+		if i < len(a.opts.Params) {
+			po = a.opts.Params[i]
+		}
+		if po.Points < 0 {
+			return fmt.Errorf("%w: parameter %s: %d grid points", ErrOptions, prm.Name, po.Points)
+		}
+		if most := MaxAxisPoints(d); po.Points > most {
+			return fmt.Errorf("%w: parameter %s: %d grid points, more than the %d a model of %d parameters may have (the grid must fit in memory)", ErrOptions, prm.Name, po.Points, most, d)
+		}
+		sc := po.Scale
+		if sc == "" {
+			sc = Identity
+		}
+		if !slices.Contains(transform.Scales, sc) {
+			return fmt.Errorf("%w: parameter %s: unknown scale %q (want identity, log or logit)", ErrOptions, prm.Name, string(sc))
+		}
+		mp := transform.Map{Scale: sc, Lo: prm.Lo, Hi: prm.Hi}
+		if err := mp.Check(); err != nil {
+			return fmt.Errorf("%w: parameter %s in [%g, %g]: %v", ErrOptions, prm.Name, prm.Lo, prm.Hi, err)
+		}
+		if sc != Identity {
+			allIdentity = false
+		}
+		a.maps[i] = mp
+		a.scales[i] = sc
+		// The user's box, on the original scale.
+		lo, hi := prm.Lo, prm.Hi
+		var userLo, userHi bool
+		if po.Lo != nil && !math.IsInf(*po.Lo, 0) {
+			if math.IsNaN(*po.Lo) || *po.Lo < prm.Lo || *po.Lo >= prm.Hi {
+				return fmt.Errorf("%w: parameter %s: box lower side %g outside the support [%g, %g]", ErrOptions, prm.Name, *po.Lo, prm.Lo, prm.Hi)
+			}
+			lo, userLo = *po.Lo, true
+		}
+		if po.Hi != nil && !math.IsInf(*po.Hi, 0) {
+			if math.IsNaN(*po.Hi) || *po.Hi > prm.Hi || *po.Hi <= prm.Lo {
+				return fmt.Errorf("%w: parameter %s: box upper side %g outside the support [%g, %g]", ErrOptions, prm.Name, *po.Hi, prm.Lo, prm.Hi)
+			}
+			hi, userHi = *po.Hi, true
+		}
+		if !(lo < hi) {
+			return fmt.Errorf("%w: parameter %s: box [%g, %g] is empty", ErrOptions, prm.Name, lo, hi)
+		}
+		// On the fitting scale.
+		zl, zh := mp.FromOriginal(lo), mp.FromOriginal(hi)
+		a.bounds.Lo[i], a.bounds.Hi[i] = zl, zh
+		a.pinned[i] = [2]bool{userLo && !math.IsInf(zl, 0), userHi && !math.IsInf(zh, 0)}
+		a.modeLo[i], a.modeHi[i] = mp.FromOriginal(prm.Lo), mp.FromOriginal(prm.Hi)
+		if sc == Identity {
+			a.bounded[i] = !math.IsInf(prm.Lo, 0) || !math.IsInf(prm.Hi, 0)
+		}
+	}
+	a.p = ev
+	if !allIdentity {
+		w, err := transform.Wrap(ev, a.maps)
+		if err != nil {
+			return fmt.Errorf("%w: %v", ErrOptions, err)
+		}
+		a.p = w
+	}
+	a.pw = &watched{Density: a.p, tick: func(int) {}}
+	return nil
+}
+
+// points returns the grid points the user asked for along each axis (0
+// for the default).
+func (a *analysis) points() []int {
+	pts := make([]int, a.d)
+	for i := range pts {
+		if i < len(a.opts.Params) {
+			pts[i] = a.opts.Params[i].Points
+		}
+	}
+	return pts
+}
