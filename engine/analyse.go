@@ -84,21 +84,31 @@ func (a *analysis) run() (*Result, error) {
 	if err := a.setup(); err != nil {
 		return nil, err
 	}
+	if err := a.checkCandidates(); err != nil {
+		return nil, err
+	}
+	live, err := a.liveConstants()
+	if err != nil {
+		return nil, err
+	}
 	if err := a.findReference(); err != nil {
 		return nil, err
 	}
 	if err := a.findModes(); err != nil {
 		return nil, err
 	}
-	res := &Result{Params: a.names, Form: a.m.Form.String(), Scales: a.scales, Modes: a.modes.modes}
+	res := &Result{Params: a.names, Form: a.m.Form.String(), Scales: a.scales, Modes: a.modes.modes, Live: live}
 	if err := a.fitAll(res); err != nil {
 		return nil, err
 	}
+	a.addCandidates(res)
 	if err := a.compareFits(); err != nil {
 		return nil, err
 	}
 	a.settleExact()
 	a.report(res)
+	a.fillCosts(res)
+	a.compareCurvatures(res)
 	a.gridDiagnostics()
 	if a.opts.Plots {
 		a.tr.enter(stagePlots)

@@ -38,6 +38,12 @@ type Options struct {
 	Params []ParamOptions `json:"params,omitempty"`
 	// Plots asks for Result.Plots to be filled.
 	Plots bool `json:"plots,omitempty"`
+	// Candidates are Gaussians of the user's own, scored against the
+	// exact density like the fits (Result.Candidates; candidate.go).
+	Candidates []Candidate `json:"candidates,omitempty"`
+	// Vary marks scalar constants of the model that the page may move
+	// with a slider, each with its range (Result.Live; live.go).
+	Vary []Vary `json:"vary,omitempty"`
 }
 
 // Progress reports how far an analysis has come.

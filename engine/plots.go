@@ -30,8 +30,15 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 	pl := &Plots{}
 	// Each fit that exists, a normal on the fitting scale, by method.
 	var fits [NumMethods]*gauss.Prepared
+	// Each candidate, by its index in res.Candidates.
+	cands := make([]*gauss.Prepared, len(res.Candidates))
 	for _, fd := range a.fits {
-		if res.Fits[fd.method] != nil {
+		switch {
+		case fd.candidate != "":
+			if res.Candidates[fd.index].Fit != nil {
+				cands[fd.index] = fd.q
+			}
+		case res.Fits[fd.method] != nil:
 			fits[fd.method] = fd.q
 		}
 	}
@@ -63,6 +70,19 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 				curve[j] = q.MarginalPDF(k, g.Nodes[k][i]) / dxdz[k][i]
 			}
 			m.Fits[meth] = curve
+		}
+		if len(cands) > 0 {
+			m.Candidates = make([][]float64, len(cands))
+		}
+		for c, q := range cands {
+			if q == nil {
+				continue
+			}
+			curve := make([]float64, len(idx))
+			for j, i := range idx {
+				curve[j] = q.MarginalPDF(k, g.Nodes[k][i]) / dxdz[k][i]
+			}
+			m.Candidates[c] = curve
 		}
 		pl.Marginals = append(pl.Marginals, m)
 	}
@@ -107,6 +127,14 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 		for meth, q := range fits {
 			if q != nil {
 				m2.Ellipses[Method(meth)] = a.ellipses(q, i, j)
+			}
+		}
+		if len(cands) > 0 {
+			m2.CandidateEllipses = make([][3][][2]float64, len(cands))
+		}
+		for c, q := range cands {
+			if q != nil {
+				m2.CandidateEllipses[c] = a.ellipses(q, i, j)
 			}
 		}
 		pl.Pairs = append(pl.Pairs, m2)

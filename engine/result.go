@@ -11,13 +11,24 @@ type Result struct {
 	// "logit". Every number of the Result is on the original scale, except
 	// those under the fields named fitting_scale (and a fit's precision
 	// and a mode's log density, which are the fitting scale's).
-	Scales      []Scale      `json:"scales"`
-	Exact       Exact        `json:"exact"`
-	Fits        Fits         `json:"fits"`
-	Modes       []Mode       `json:"modes"`
-	Diagnostics []Diagnostic `json:"diagnostics"`
-	Grid        GridInfo     `json:"grid"`
-	Timing      Timing       `json:"timing_ms"`
+	Scales []Scale `json:"scales"`
+	Exact  Exact   `json:"exact"`
+	Fits   Fits    `json:"fits"`
+	// Candidates are the user's Gaussians (Options.Candidates), scored
+	// like the fits; omitted when there are none (candidate.go).
+	Candidates Candidates `json:"candidates,omitempty"`
+	// Curvature sets the two curvatures side by side: -Hessian at the mode
+	// (Laplace) and -E_q[Hessian] at the reverse-KL optimum, with a
+	// sentence on what their difference means; nil unless both fits
+	// exist (curvature.go).
+	Curvature *Curvature `json:"curvature,omitempty"`
+	// Live lists the constants marked to vary (Options.Vary), with their
+	// values in this analysis and their ranges, for sliders (live.go).
+	Live        []LiveConstant `json:"live,omitempty"`
+	Modes       []Mode         `json:"modes"`
+	Diagnostics []Diagnostic   `json:"diagnostics"`
+	Grid        GridInfo       `json:"grid"`
+	Timing      Timing         `json:"timing_ms"`
 	// Plots holds curves and images for drawing; omitted from the command
 	// line's JSON unless asked for.
 	Plots *Plots `json:"plots,omitempty"`
@@ -118,6 +129,10 @@ type Mode struct {
 	LogDensity float64 `json:"log_density"`
 	// FittingScale holds the mode's point z on the fitting scale.
 	FittingScale FittingPoint `json:"fitting_scale"`
+	// Cost is the model's cost J = -log p at the mode, on the original
+	// scale (without the log-Jacobian of the fitting scale), for a model
+	// given as a cost; nil for a log-density model.
+	Cost *float64 `json:"cost,omitempty"`
 	// Mass is the approximate share of the total mass near this mode.
 	Mass float64 `json:"mass"`
 	// PositiveDefinite reports whether -Hessian is positive definite there.
@@ -189,6 +204,9 @@ type Marginal1D struct {
 	// Fits holds each fit's marginal density by method, nil where the fit
 	// is absent; in the JSON each is a member named by the method's Key.
 	Fits [NumMethods][]float64 `json:"-"`
+	// Candidates holds each candidate's marginal density at the same
+	// points, in the order of Result.Candidates.
+	Candidates [][]float64 `json:"candidates,omitempty"`
 }
 
 // Marginal2D is the exact pairwise marginal density of parameters I and J on
@@ -205,6 +223,9 @@ type Marginal2D struct {
 	// Ellipses[m][level] is a polyline of points [x, y] for each fit m
 	// that exists.
 	Ellipses Ellipses `json:"ellipses"`
+	// CandidateEllipses holds each candidate's contours (the same masses),
+	// in the order of Result.Candidates.
+	CandidateEllipses [][3][][2]float64 `json:"candidate_ellipses,omitempty"`
 }
 
 // Ellipses holds each fit's contours of a pair's marginal by method. Its

@@ -22,7 +22,7 @@ func (a *analysis) compareFits() error {
 		q, err := gauss.Prepare(f.g)
 		if err != nil {
 			*f.out = nil
-			a.avail.drop(f.method.quantity(), CodeFitFailed)
+			a.avail.drop(f.quantity(), CodeFitFailed)
 			why := strings.TrimPrefix(err.Error(), gauss.ErrBad.Error()+": ")
 			a.diag.add(CodeFitFailed, SeverityError, "No %s fit: its covariance is degenerate (%s).", f.method.term(), why)
 			continue
@@ -53,24 +53,24 @@ func (a *analysis) compareFits() error {
 		if a.ref.noise > 0 {
 			// Below zero only by the rounding noise of log p.
 			if c.KLqp < 0 {
-				a.avail.dropAt(QuantityKLqp, int(f.method), CodeLostPrecision)
+				a.avail.dropAt(QuantityKLqp, f.slot(), CodeLostPrecision)
 			}
 			if c.KLpq < 0 {
-				a.avail.dropAt(QuantityKLpq, int(f.method), CodeLostPrecision)
+				a.avail.dropAt(QuantityKLpq, f.slot(), CodeLostPrecision)
 			}
 		}
 		if c.Method != compare.Cubature {
 			continue
 		}
 		if !c.Resolved {
-			a.avail.dropAt(QuantityCoverage, int(f.method), CodeFitOffGrid)
+			a.avail.dropAt(QuantityCoverage, f.slot(), CodeFitOffGrid)
 			a.diag.add(CodeFitOffGrid, SeverityInfo,
-				"The %s fit is narrower than the grid resolves; its KL(q||p) and Hellinger distance come from a cubature in its own coordinates, and its coverage is not reported.",
-				f.method.term())
+				"%s is narrower than the grid resolves; its KL(q||p) and Hellinger distance come from a cubature in its own coordinates, and its coverage is not reported.",
+				capitalise(f.noun()))
 		} else {
 			a.diag.add(CodeFitOffGrid, SeverityInfo,
-				"The %s fit has about %s of its mass outside the grid's box; its KL(q||p) comes from a cubature in its own coordinates.",
-				f.method.term(), share(math.Abs(1-c.QMass)))
+				"%s has about %s of its mass outside the grid's box; its KL(q||p) comes from a cubature in its own coordinates.",
+				capitalise(f.noun()), share(math.Abs(1-c.QMass)))
 		}
 	}
 	return nil

@@ -23,6 +23,10 @@ type fitted struct {
 	// orig is the normal's moments on the original scale (the report
 	// stage's pushforward).
 	orig pushed
+	// candidate is the name of a user's Gaussian (candidate.go), "" for a
+	// fit method; index is its place in Options.Candidates.
+	candidate string
+	index     int
 }
 
 // fitAll is the fits stage: the Laplace fit at the highest mode, the

@@ -45,7 +45,7 @@ func (a *analysis) fillFits() {
 // says is absent.
 func (a *analysis) fillFit(f *Fit, fd fitted, c compare.Result) {
 	d := a.d
-	g, m := fd.g, int(fd.method)
+	g, m := fd.g, fd.slot()
 	fs := &f.FittingScale
 	fs.Mean = slices.Clone(g.Mean)
 	fs.Cov = gauss.Rows(g.Cov)
@@ -127,12 +127,12 @@ func (a *analysis) pushFits() {
 				ok = ok && finite(p.cov[k][l])
 			}
 			if !ok {
-				a.avail.set(entry{QuantityFitMoments, int(fd.method), k}, CodeOverflow)
+				a.avail.set(entry{QuantityFitMoments, fd.slot(), k}, CodeOverflow)
 				over = append(over, a.names[k])
 			}
 		}
 		if len(over) > 0 {
-			names = append(names, "the "+fd.method.term()+" fit's "+list(over))
+			names = append(names, fd.noun()+"'s "+list(over))
 		}
 	}
 	if len(names) > 0 {

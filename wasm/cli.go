@@ -12,6 +12,7 @@ import (
 	"os"
 	"os/signal"
 
+	"bellcheck/app/export"
 	"bellcheck/engine"
 	"bellcheck/engine/model"
 )
@@ -23,6 +24,8 @@ func runFit(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	fs.SetOutput(stderr)
 	asJSON := fs.Bool("json", false, "print the result as JSON")
 	plots := fs.Bool("plots", false, "include plot data (marginal curves) in the JSON")
+	markdown := fs.Bool("markdown", false, "print the comparison (and the two curvatures) as Markdown tables")
+	latex := fs.Bool("latex", false, "print the comparison (and the two curvatures) as LaTeX tabulars")
 	var in fitInputs // --data, --scale, --points, --box (cli_options.go)
 	in.define(fs)
 	if err := fs.Parse(args); err != nil {
@@ -56,6 +59,17 @@ func runFit(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		if err := enc.Encode(res); err != nil {
 			fmt.Fprintf(stderr, "bellcheck: %v\n", err)
 			return exitModel
+		}
+		return exitOK
+	}
+	if *markdown || *latex {
+		format := export.Markdown
+		if *latex {
+			format = export.LaTeX
+		}
+		fmt.Fprint(stdout, format(export.ResultTable(res)))
+		if ct, ok := export.CurvatureTable(res); ok {
+			fmt.Fprint(stdout, "\n"+format(ct))
 		}
 		return exitOK
 	}

@@ -19,12 +19,15 @@ import (
 // fitInputs are the fit command's data file and per-parameter options, as
 // given on the command line.
 type fitInputs struct {
-	dataFiles []string
-	settings  []paramopt.Setting // from the flags, in the order given
+	dataFiles  []string
+	settings   []paramopt.Setting       // from the flags, in the order given
+	candidates []paramopt.CandidateSpec // from --gaussian, in the order given
 }
 
-// define adds --data, --scale, --points and --box to the fit command's flags.
+// define adds --data, --scale, --points, --box, --vary and --gaussian to a
+// command's flags.
 func (in *fitInputs) define(fs *flag.FlagSet) {
+	in.defineCandidates(fs)
 	fs.Func("data", "attach the columns of a CSV or tab-separated `FILE` (with a header row) as named vectors ('-' reads standard input; repeatable)", func(v string) error {
 		if v == "" {
 			return errors.New("want a file name")
@@ -39,6 +42,7 @@ func (in *fitInputs) define(fs *flag.FlagSet) {
 		{paramopt.Scale, "fit parameter NAME on a scale: `NAME=identity|log|logit` (repeatable, or NAME=S,NAME2=S2)"},
 		{paramopt.Points, "grid points along parameter NAME: `NAME=N` (repeatable)"},
 		{paramopt.Box, "the grid's range for parameter NAME: `NAME=LO:HI`, or NAME=LO: or NAME=:HI (repeatable)"},
+		{paramopt.Vary, "mark the scalar constant NAME as one to vary over a range: `NAME=LO:HI` (repeatable; sweep uses it)"},
 	} {
 		kind := k.kind
 		fs.Func(string(kind), k.help, func(v string) error {
@@ -54,6 +58,22 @@ func (in *fitInputs) define(fs *flag.FlagSet) {
 			return nil
 		})
 	}
+}
+
+// defineCandidates adds --gaussian to a command's flags.
+func (in *fitInputs) defineCandidates(fs *flag.FlagSet) {
+	fs.Func(string(paramopt.Gaussian), "score a Gaussian of your own: `\"NAME mean.P=V sd.P=V corr.P.Q=R ...\"` (or cov.P.Q=V for the spread; repeatable)", func(v string) error {
+		spec, err := paramopt.ParseCandidateFlag(v)
+		if err != nil {
+			var e *paramopt.Error
+			if errors.As(err, &e) {
+				return errors.New(e.Msg)
+			}
+			return err
+		}
+		in.candidates = append(in.candidates, spec)
+		return nil
+	})
 }
 
 // load parses the model text src (read from name) with the data attached,
@@ -97,6 +117,19 @@ func (in *fitInputs) load(name, src string, stdin io.Reader, stderr io.Writer) (
 		return nil, engine.Options{}, exitModel
 	}
 	opts, err := paramopt.Options(m, append(lines, in.settings...))
+	if err != nil {
+		var e *paramopt.Error
+		if errors.As(err, &e) && e.Line > 0 {
+			fmt.Fprintf(stderr, "%s:%v\n", name, err)
+			return nil, engine.Options{}, exitModel
+		}
+		fmt.Fprintf(stderr, "bellcheck fit: %v\n", err)
+		return nil, engine.Options{}, exitUsage
+	}
+	specs, err := paramopt.CandidateLines(src)
+	if err == nil {
+		opts.Candidates, err = paramopt.Candidates(m, append(specs, in.candidates...))
+	}
 	if err != nil {
 		var e *paramopt.Error
 		if errors.As(err, &e) && e.Line > 0 {

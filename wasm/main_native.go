@@ -4,8 +4,11 @@
 // (GOOS=js GOARCH=wasm) it runs the calculator page; built natively it serves
 // the page, writes the static site and runs the command line:
 //
-//	bellcheck fit [-json] [-plots] FILE    analyse a model file ('-' for standard input)
+//	bellcheck fit [-json] [-plots] [-markdown|-latex] FILE    analyse a model file ('-' for standard input)
 //	    [-data FILE] [-scale|-points|-box NAME=VALUE]  attach data; per-parameter options
+//	    [-gaussian "NAME mean.P=V sd.P=V ..."]  score a Gaussian of your own
+//	bellcheck sweep [-over NAME=LO:HI] [-steps N] [-show PATHS] [-json] FILE
+//	                                        analyse at values of one constant
 //	bellcheck serve [-addr ADDR] [-web DIR] serve the calculator page
 //	bellcheck static [-prefix P] DIR        write the static site to DIR
 //
@@ -19,9 +22,13 @@ import (
 )
 
 const usage = `usage:
-  bellcheck fit [-json] [-plots] FILE     analyse a model file ('-' reads standard input)
+  bellcheck fit [-json] [-plots] [-markdown|-latex] FILE   analyse a model file ('-' reads standard input)
       [-data FILE]                         attach a CSV/TSV file's columns as named vectors
       [-scale NAME=log] [-points NAME=N] [-box NAME=LO:HI]   per-parameter options
+      [-gaussian "NAME mean.P=V sd.P=V corr.P.Q=R"]  score a Gaussian of your own (repeatable)
+      [-vary NAME=LO:HI]                   mark a scalar constant to vary (a slider; sweep's range)
+  bellcheck sweep [-over NAME=LO:HI] [-steps N] [-show exact.log_z,laplace.mean.0] [-json]
+      [fit's flags] FILE                   analyse at N values of one constant; a table or JSON lines
   bellcheck serve [-addr ADDR] [-web DIR]  serve the calculator (default 127.0.0.1:8000)
   bellcheck static [-prefix PATH] DIR      write the static site into DIR
 `
@@ -46,6 +53,8 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	switch args[0] {
 	case "fit":
 		return runFit(args[1:], stdin, stdout, stderr)
+	case "sweep":
+		return runSweep(args[1:], stdin, stdout, stderr)
 	case "serve":
 		return runServe(args[1:], stderr)
 	case "static":

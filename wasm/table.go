@@ -13,7 +13,7 @@ import (
 )
 
 // writeTable prints a readable summary of a result: one row per quantity,
-// one column for the exact density and one per fit.
+// one column for the exact density and one per fit and candidate Gaussian.
 func writeTable(w io.Writer, name string, r *engine.Result) {
 	fmt.Fprintf(w, "%s: %d parameter(s) %s, given as %s\n", name, len(r.Params),
 		strings.Join(r.Params, ", "), strings.ReplaceAll(r.Form, "_", "-"))
@@ -22,14 +22,19 @@ func writeTable(w io.Writer, name string, r *engine.Result) {
 
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
 	header := []string{"", "exact"}
-	for _, m := range engine.Methods {
-		header = append(header, m.Label())
+	apps := r.Approximations()
+	for _, ap := range apps {
+		label := ap.Label
+		if ap.Candidate {
+			label += " (yours)"
+		}
+		header = append(header, label)
 	}
 	row(tw, header...)
-	fits := r.Fits[:]
 	perFit := func(label string, exact string, f func(*engine.Fit) string) {
 		cells := []string{label, exact}
-		for _, fit := range fits {
+		for _, ap := range apps {
+			fit := ap.Fit
 			if fit == nil {
 				cells = append(cells, "-")
 				continue
@@ -77,8 +82,19 @@ func writeTable(w io.Writer, name string, r *engine.Result) {
 	if len(r.Modes) > 0 {
 		fmt.Fprintf(w, "\nmodes (%d):\n", len(r.Modes))
 		for _, m := range r.Modes {
+			if m.Cost != nil {
+				fmt.Fprintf(w, "  at (%s)  J %s  mass %s\n", joinNums(m.X), num(*m.Cost), num(m.Mass))
+				continue
+			}
 			fmt.Fprintf(w, "  at (%s)  log p %s  mass %s\n", joinNums(m.X), num(m.LogDensity), num(m.Mass))
 		}
+	}
+	if c := r.Curvature; c != nil {
+		fmt.Fprintln(w, "\ncurvature (fitting scale): -Hessian at the mode | -E_q[Hessian] at the reverse-KL optimum")
+		for i := range c.AtMode {
+			fmt.Fprintf(w, "  %s | %s\n", joinNums(c.AtMode[i]), joinNums(c.Averaged[i]))
+		}
+		fmt.Fprintf(w, "  %s\n", c.Summary)
 	}
 	if len(r.Diagnostics) > 0 {
 		fmt.Fprintln(w, "\ndiagnostics:")

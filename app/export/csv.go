@@ -14,7 +14,8 @@ import (
 //   - quantity: what the row holds (see the list in CSV's doc);
 //   - param, param2: the parameter(s) it is about, empty for global rows
 //     (param2 only for pairs: cov, corr);
-//   - method: exact, laplace, reverse_kl, mean_field, forward_kl, or grid;
+//   - method: exact, laplace, reverse_kl, mean_field, forward_kl, grid, or
+//     candidate:NAME for a candidate Gaussian of the user's own;
 //   - value: the number as Go's strconv writes it ('g', shortest exact
 //     form), "inf" or "-inf" for infinities, and empty where the quantity
 //     does not exist (the diagnostics say why; the JSON has null there);
@@ -38,10 +39,13 @@ var CSVHeader = []string{"quantity", "param", "param2", "method", "value", "erro
 //	                       evidence_err, kl_q_p, kl_p_q, hellinger,
 //	                       coverage95, iterations, converged (1 or 0),
 //	                       residual
+//	per pair i <= j, fits: precision (the curvature a Laplace or reverse-KL
+//	                       fit inverts, on the fitting scale)
 //	grid:                  points, lo, hi (per parameter), edge_mass,
 //	                       non_finite
 //
-// A fit that does not exist has no rows.
+// A fit that does not exist has no rows. Candidates have the fits' rows
+// (no evidence), under the method candidate:NAME.
 func CSV(r *engine.Result) ([]byte, error) {
 	if r == nil {
 		return nil, ErrNoResult
@@ -51,10 +55,15 @@ func CSV(r *engine.Result) ([]byte, error) {
 	cw := &csvRows{w: w, r: r}
 	cw.row(CSVHeader...)
 	cw.exact()
-	for _, m := range engine.Methods {
-		if f := r.Fits[m]; f != nil {
-			cw.fit(m.Key(), f)
+	for _, ap := range r.Approximations() {
+		if ap.Fit == nil {
+			continue
 		}
+		key := ap.Key
+		if ap.Candidate {
+			key = CandidatePrefix + ap.Key
+		}
+		cw.fit(key, ap.Fit)
 	}
 	cw.grid()
 	w.Flush()
@@ -219,7 +228,16 @@ func (c *csvRows) fit(key string, f *engine.Fit) {
 	}
 	c.num("converged", "", "", key, conv, nan, "original")
 	c.num("residual", "", "", key, f.Residual, nan, "original")
+	for i := range f.Precision {
+		for j := i; j < len(f.Precision[i]); j++ {
+			c.num("precision", c.name(i), c.name(j), key, f.Precision[i][j], nan, c.pairScale(i, j))
+		}
+	}
 }
+
+// CandidatePrefix starts the CSV's method column for a candidate Gaussian:
+// "candidate:" then its name.
+const CandidatePrefix = "candidate:"
 
 func (c *csvRows) grid() {
 	g := c.r.Grid

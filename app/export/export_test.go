@@ -80,8 +80,10 @@ func TestJSONIsTheCommandLineSchemaWithoutPlots(t *testing.T) {
 		keys = append(keys, k)
 	}
 	sort.Strings(keys)
-	// The field names of engine.Result's json tags (engine/result.go).
-	wantKeys := []string{"diagnostics", "exact", "fits", "form", "grid", "modes", "params", "scales", "timing_ms"}
+	// The field names of engine.Result's json tags (engine/result.go);
+	// curvature is there because both the Laplace and the reverse-KL fits
+	// exist (candidates and live are omitted when there are none).
+	wantKeys := []string{"curvature", "diagnostics", "exact", "fits", "form", "grid", "modes", "params", "scales", "timing_ms"}
 	if strings.Join(keys, ",") != strings.Join(wantKeys, ",") {
 		t.Errorf("top-level keys %v, want %v", keys, wantKeys)
 	}
@@ -212,12 +214,16 @@ func TestCSVParsesBackToTheSameNumbers(t *testing.T) {
 		}
 	}
 	// Row count: 9 exact rows per parameter, 2 per pair and log Z; per
-	// fit 6 per parameter, 2 per pair, 7 global rows and its evidence rows;
-	// grid 3 per parameter and 2.
+	// fit 6 per parameter, 2 per pair, 7 global rows, its evidence rows and
+	// its precision's upper triangle (d(d+1)/2) where it has one; grid 3
+	// per parameter and 2.
 	d, pairs := 2, 1
 	want := 9*d + 2*pairs + 1 + 3*d + 2
 	for _, f := range fits {
 		want += 6*d + 2*pairs + 7
+		if f.Precision != nil {
+			want += d * (d + 1) / 2
+		}
 		for _, p := range []*float64{f.LogZ, f.ELBO, f.EvidenceErr} {
 			if p != nil {
 				want++

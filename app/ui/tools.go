@@ -222,11 +222,21 @@ func (p *Page) CopyTable(ctx app.Context, latex bool) {
 		return
 	}
 	t := ExportTable(p.sections)
+	// The two curvatures follow the table, where the result has them.
+	ct, withCurv := export.CurvatureTable(p.s.Result)
 	if latex {
-		p.copyText(ctx, export.LaTeX(t), "Table copied as a LaTeX tabular."+p.staleNote())
+		text := export.LaTeX(t)
+		if withCurv {
+			text += "\n" + export.LaTeX(ct)
+		}
+		p.copyText(ctx, text, "Table copied as a LaTeX tabular."+p.staleNote())
 		return
 	}
-	p.copyText(ctx, export.Markdown(t), "Table copied as Markdown."+p.staleNote())
+	text := export.Markdown(t)
+	if withCurv {
+		text += "\n" + export.Markdown(ct)
+	}
+	p.copyText(ctx, text, "Table copied as Markdown."+p.staleNote())
 }
 
 // panelsOf lists a figure set's panels in reading order.

@@ -18,10 +18,13 @@ const (
 	Scale  Kind = "scale"  // the fitting scale: identity, log or logit
 	Points Kind = "points" // grid points along the parameter
 	Box    Kind = "box"    // the grid's range LO:HI on the original scale
+	// Vary marks a scalar constant (not a parameter) as one to move, with
+	// its range LO:HI: NAME is the constant's name (engine.Vary).
+	Vary Kind = "vary"
 )
 
 // kinds lists the kinds in the order messages name them.
-var kinds = []Kind{Scale, Points, Box}
+var kinds = []Kind{Scale, Points, Box, Vary}
 
 // MinPoints is the fewest grid points a setting may ask for (as on the page;
 // the grid itself uses an odd number, at least 11).
@@ -110,11 +113,14 @@ func Lines(src string) ([]Setting, error) {
 		col := 1 + runes(line[:len(line)-len(rest)]) + len(Prefix)
 		fields := fieldsAt(rest[len(Prefix):], col)
 		if len(fields) == 0 {
-			return nil, &Error{Line: i + 1, Col: col, Msg: "empty setting line: write #@ scale NAME=SCALE, #@ points NAME=N or #@ box NAME=LO:HI"}
+			return nil, &Error{Line: i + 1, Col: col, Msg: "empty setting line: write #@ scale NAME=SCALE, #@ points NAME=N, #@ box NAME=LO:HI, #@ vary NAME=LO:HI or #@ gaussian NAME ..."}
 		}
 		kind := Kind(fields[0].text)
+		if kind == Gaussian {
+			continue // a candidate Gaussian: CandidateLines reads it
+		}
 		if !known(kind) {
-			return nil, &Error{Line: i + 1, Col: fields[0].col, Msg: fmt.Sprintf("unknown setting %s: want scale, points or box", strconv.Quote(fields[0].text))}
+			return nil, &Error{Line: i + 1, Col: fields[0].col, Msg: fmt.Sprintf("unknown setting %s: want scale, points, box, vary or gaussian", strconv.Quote(fields[0].text))}
 		}
 		if len(fields) == 1 {
 			return nil, &Error{Line: i + 1, Col: fields[0].col + runes(fields[0].text), Msg: fmt.Sprintf("%s needs at least one NAME=VALUE", kind)}
@@ -166,7 +172,11 @@ func parseSetting(s Setting, text string) (Setting, error) {
 		return s, s.errorf("%s: want NAME=%s", strconv.Quote(text), example(s.Kind))
 	}
 	if p := model.NameProblem(name); p != "" {
-		return s, s.errorf("%s: the parameter's name %s %s", strconv.Quote(text), strconv.Quote(name), p)
+		what := "parameter"
+		if s.Kind == Vary {
+			what = "constant"
+		}
+		return s, s.errorf("%s: the %s's name %s %s", strconv.Quote(text), what, strconv.Quote(name), p)
 	}
 	s.Param, s.Value = name, value
 	switch s.Kind {
@@ -183,6 +193,21 @@ func parseSetting(s Setting, text string) (Setting, error) {
 			return s, s.errorf("%s: the points are a whole number, at least %d", strconv.Quote(text), MinPoints)
 		}
 		s.Points = n
+	case Vary:
+		lo, hi, ok := strings.Cut(value, ":")
+		var err error
+		if ok {
+			s.Lo, err = side(lo)
+		}
+		if err == nil && ok {
+			s.Hi, err = side(hi)
+		}
+		if !ok || err != nil || s.Lo == nil || s.Hi == nil {
+			return s, s.errorf("%s: want NAME=LO:HI with two finite numbers, the range of the constant NAME", strconv.Quote(text))
+		}
+		if !(*s.Lo < *s.Hi) {
+			return s, s.errorf("%s: the range's lower end must be below its upper end", strconv.Quote(text))
+		}
 	case Box:
 		lo, hi, ok := strings.Cut(value, ":")
 		if !ok {
@@ -211,6 +236,8 @@ func example(k Kind) string {
 		return "log"
 	case Points:
 		return "201"
+	case Vary:
+		return "0.1:5"
 	}
 	return "LO:HI"
 }
@@ -248,6 +275,12 @@ func Options(m *model.Model, settings []Setting) (engine.Options, error) {
 	o.Params = make([]engine.ParamOptions, len(m.Params))
 	d := len(m.Params)
 	for _, s := range settings {
+		if s.Kind == Vary {
+			if err := addVary(&o, m, s); err != nil {
+				return engine.Options{}, err
+			}
+			continue
+		}
 		i, ok := index[s.Param]
 		if !ok {
 			return engine.Options{}, s.errorf("%s: the model has no parameter %s (its parameters: %s)", s.Param+"="+s.Value, s.Param, strings.Join(names, ", "))
@@ -331,7 +364,9 @@ func num(v float64) string {
 // Write returns the setting lines that carry opts for a model whose
 // parameters are named names (by index): one line per kind, the settings
 // in the parameters' order, every number in the shortest form that reads
-// back exactly. It returns "" when opts set nothing.
+// back exactly; then a vary line for the constants to vary and the
+// gaussian lines of the candidates (WriteCandidates). It returns "" when
+// opts set nothing.
 func Write(names []string, opts engine.Options) string {
 	var scale, points, box []string
 	for i, po := range opts.Params {
@@ -358,14 +393,19 @@ func Write(names []string, opts engine.Options) string {
 			box = append(box, n+"="+lo+":"+hi)
 		}
 	}
+	var vary []string
+	for _, v := range opts.Vary {
+		vary = append(vary, v.Name+"="+num(v.Lo)+":"+num(v.Hi))
+	}
 	var b strings.Builder
 	for _, l := range []struct {
 		k    Kind
 		list []string
-	}{{Scale, scale}, {Points, points}, {Box, box}} {
+	}{{Scale, scale}, {Points, points}, {Box, box}, {Vary, vary}} {
 		if len(l.list) > 0 {
 			b.WriteString(Prefix + " " + string(l.k) + " " + strings.Join(l.list, " ") + "\n")
 		}
 	}
+	b.WriteString(WriteCandidates(names, opts.Candidates))
 	return b.String()
 }

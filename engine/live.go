@@ -1,0 +1,79 @@
+package engine
+
+import (
+	"fmt"
+	"math"
+	"strings"
+)
+
+// Vary marks a scalar constant of the model (model.Model.Constant) as one
+// the page may move: a slider from Lo to Hi. The analysis itself uses the
+// constant's value in the model; model.WithConstant gives the model with
+// another value.
+type Vary struct {
+	Name string  `json:"name"`
+	Lo   float64 `json:"lo"`
+	Hi   float64 `json:"hi"`
+}
+
+// LiveConstant is a constant marked to vary, as the Result reports it: its
+// value in this analysis and its range.
+type LiveConstant struct {
+	Name  string  `json:"name"`
+	Value float64 `json:"value"`
+	Lo    float64 `json:"lo"`
+	Hi    float64 `json:"hi"`
+}
+
+// liveConstants checks the options' constants to vary against the model
+// (part of the setup) and returns them with their values.
+func (a *analysis) liveConstants() ([]LiveConstant, error) {
+	var out []LiveConstant
+	seen := map[string]bool{}
+	for _, v := range a.opts.Vary {
+		val, err := a.m.Constant(v.Name)
+		if err != nil {
+			return nil, fmt.Errorf("%w: vary %s: %v", ErrOptions, v.Name, strings.TrimPrefix(err.Error(), "model: "))
+		}
+		if !finite(v.Lo) || !finite(v.Hi) || !(v.Lo < v.Hi) {
+			return nil, fmt.Errorf("%w: vary %s: the range [%v, %v] must be finite with its lower end below its upper end", ErrOptions, v.Name, v.Lo, v.Hi)
+		}
+		if seen[v.Name] {
+			return nil, fmt.Errorf("%w: vary %s is given twice", ErrOptions, v.Name)
+		}
+		seen[v.Name] = true
+		out = append(out, LiveConstant{Name: v.Name, Value: val, Lo: v.Lo, Hi: v.Hi})
+	}
+	return out, nil
+}
+
+// fillCosts gives each mode the model's cost J = -log p there, for a model
+// given as a cost: the log-density on the fitting scale less the
+// log-Jacobian of each parameter's map, negated.
+func (a *analysis) fillCosts(res *Result) {
+	if res.Form != "cost" {
+		return
+	}
+	for i := range res.Modes {
+		md := &res.Modes[i]
+		lp := md.LogDensity
+		for k, z := range md.FittingScale.X {
+			if k < len(a.maps) {
+				lp -= a.maps[k].LogJacobian(z)
+			}
+		}
+		j := -lp
+		if math.IsNaN(j) {
+			continue
+		}
+		md.Cost = &j
+	}
+}
+
+// capitalise returns s with its first letter upper case.
+func capitalise(s string) string {
+	if s == "" {
+		return s
+	}
+	return strings.ToUpper(s[:1]) + s[1:]
+}
