@@ -39,6 +39,10 @@ type Options struct {
 	// the panels of a grid share each parameter's range); otherwise each
 	// figure finds its own.
 	XView, YView [2]float64
+	// Candidates names the user's candidate Gaussians, in the order of
+	// Result.Candidates; HideCandidates leaves them out.
+	Candidates     []string
+	HideCandidates bool
 }
 
 // fixed reports whether a view range is set.

@@ -26,7 +26,10 @@ const (
 	MaxFragment = 256 << 10
 	// maxJSON bounds the inflated JSON, so a small link cannot expand
 	// into a large allocation.
-	maxJSON = 2*model.MaxSource + 64<<10
+	maxJSON = 2*model.MaxSource + 2*MaxData + 64<<10
+	// MaxData is the most attached data a link carries: its CSV text
+	// (data.Table.CSV), in bytes. Larger data stays with the page only.
+	MaxData = 64 << 10
 	// MaxPoints bounds a parameter's grid points in a link.
 	MaxPoints = 4001
 )
@@ -58,6 +61,9 @@ type State struct {
 	Model  string                `json:"m"`
 	Params []engine.ParamOptions `json:"p,omitempty"`
 	View   View                  `json:"v,omitempty"`
+	// Data is the attached data table as CSV ("" for none), at most
+	// MaxData bytes.
+	Data string `json:"d,omitempty"`
 }
 
 // Encode returns the fragment (without '#') for s.
@@ -139,6 +145,9 @@ func validate(s State) error {
 	}
 	if !utf8.ValidString(s.Model) {
 		return errors.New("model text is not valid UTF-8")
+	}
+	if len(s.Data) > MaxData {
+		return fmt.Errorf("attached data of %d bytes exceeds %d", len(s.Data), MaxData)
 	}
 	if len(s.Params) > model.MaxParams {
 		return fmt.Errorf("%d parameter settings, at most %d", len(s.Params), model.MaxParams)

@@ -67,7 +67,7 @@ func BuildFigures(r *engine.Result, v View) *FigureSet {
 		return nil
 	}
 	opts := func(id string, compact bool, x, y string) figure.Options {
-		return figure.Options{ID: id, Log: v.Log, Hidden: v.Hidden, Compact: compact, XLabel: x, YLabel: y}
+		return figure.Options{ID: id, Log: v.Log, Hidden: v.Hidden, Compact: compact, XLabel: x, YLabel: y, Candidates: candidateNames(r)}
 	}
 	switch {
 	case d == 1:

@@ -45,6 +45,8 @@ type Page struct {
 	folded bool
 	// tools is the state of the share and export tools.
 	tools toolState
+	// data is the attached table's source and stored form (datapanel.go).
+	data attached
 }
 
 // NewPage returns the page with the default example loaded.
@@ -82,6 +84,9 @@ func (p *Page) OnMount(ctx app.Context) {
 		ctx.Dispatch(func(ctx app.Context) { p.OpenLink(ctx) })
 	})
 	p.open(ctx)
+	if !p.mode.Embed {
+		p.watchDrops(ctx)
+	}
 	p.afterRender(ctx)
 }
 
@@ -177,6 +182,7 @@ func (p *Page) shareState() share.State {
 		m = p.s.LastGood
 	}
 	st := toShare(p.text, m, p.s.Choices(m), p.view)
+	st.Data = p.linkData()
 	st.View.Embed, st.View.ReadOnly, st.View.EditorCollapsed = p.mode.Embed, p.mode.ReadOnly, p.mode.Folded
 	return st
 }
@@ -239,6 +245,7 @@ func (p *Page) check(ctx app.Context) {
 // is valid.
 func (p *Page) checked(ctx app.Context, valid bool) {
 	p.persist()
+	p.syncParamFields(ctx)
 	if valid {
 		p.start(ctx)
 		return
@@ -250,6 +257,7 @@ func (p *Page) checked(ctx app.Context, valid bool) {
 func (p *Page) SetParam(ctx app.Context, name string, o engine.ParamOptions) {
 	p.s.SetParam(name, o)
 	p.persist()
+	p.syncParamFields(ctx)
 	if p.s.Model != nil && !p.pending {
 		p.start(ctx)
 	}
@@ -261,6 +269,7 @@ func (p *Page) LoadExample(ctx app.Context, id string) {
 	if !ok {
 		return
 	}
+	p.setData(nil, "")
 	p.LoadState(ctx, ex.Source, ex.Params, p.view)
 	p.example = ex.ID
 }
@@ -279,6 +288,7 @@ func (p *Page) LoadState(ctx app.Context, src string, params ParamChoices, v Vie
 // name them.
 func (p *Page) loadLink(ctx app.Context, st share.State) {
 	p.load(st.Model, View{Log: st.View.LogScale})
+	p.openData(st.Data)
 	valid := p.s.Edit(st.Model)
 	p.s.SetChoices(ChoicesOf(p.s.Model, st.Params))
 	p.checked(ctx, valid)
@@ -334,6 +344,7 @@ func (p *Page) Render() app.UI {
 		app.Main().Class("layout").Body(
 			app.Section().Class("col-input").Aria("label", "Model and settings").Body(
 				card("Model", "bc-h-model", in.editor(p)),
+				card("Data", "bc-h-data", &DataPanel{Host: p, View: p.dataView()}),
 				card("Parameters", "bc-h-params", in.params(p)),
 				card("Examples", "bc-h-examples", &Gallery{Host: p, Current: p.example}),
 			),

@@ -7,6 +7,7 @@ import (
 	"time"
 
 	"bellcheck/engine"
+	"bellcheck/engine/data"
 	"bellcheck/engine/model"
 )
 
@@ -55,6 +56,12 @@ type Session struct {
 	// yielding to the browser.
 	Elapsed, LongestSlice time.Duration
 
+	// Data is the attached table (nil for none): its columns are named
+	// vectors of the model (data.go).
+	Data *data.Table
+	// File is what the model text's own setting lines give.
+	File FileOptions
+
 	params ParamChoices
 }
 
@@ -62,13 +69,13 @@ type Session struct {
 // (so an analysis should start).
 func (s *Session) Edit(src string) bool {
 	s.Source = src
-	m, err := model.Parse(src)
-	if err != nil {
+	m, file, errs := parseModel(src, s.Data)
+	if errs != nil {
 		s.Model = nil
-		s.Errors = sourceErrors(err)
+		s.Errors = errs
 		return false
 	}
-	s.Model, s.Errors, s.LastGood = m, nil, m
+	s.Model, s.Errors, s.LastGood, s.File = m, nil, m, file
 	return true
 }
 
@@ -179,8 +186,11 @@ func (s *Session) Options() engine.Options {
 	chosen := s.params.ByIndex(s.Model)
 	for i, p := range s.Model.Params {
 		var po engine.ParamOptions
+		if i < len(s.File.Params) {
+			po = s.File.Params[i]
+		}
 		if i < len(chosen) {
-			po = chosen[i]
+			po = over(po, chosen[i])
 		}
 		if po.Scale.Check(p.Lo, p.Hi) != nil {
 			po.Scale = ""
@@ -198,6 +208,7 @@ func (s *Session) Options() engine.Options {
 		}
 		o.Params[i] = po
 	}
+	o.Candidates, o.Vary = s.File.Candidates, s.File.Vary
 	return o
 }
 

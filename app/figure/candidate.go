@@ -1,0 +1,85 @@
+package figure
+
+import (
+	"bellcheck/app/plot"
+	"bellcheck/engine"
+)
+
+// candidateLooks are the strokes of the user's candidate Gaussians, in
+// turn: dark reds and browns, thick with long dashes and dots, apart from
+// every fit method's look (plot.StyleOf).
+var candidateLooks = []struct {
+	colour, dash string
+}{
+	{"#a3123a", "12 3 2 3 2 3"},
+	{"#6b4a12", "14 4"},
+	{"#d14f8c", "2 3 8 3"},
+	{"#4b5d16", "12 3 2 3 2 3"},
+}
+
+// CandidateStyle is the stroke of the k-th candidate Gaussian, named name
+// (a name as in the model language, so it holds no markup).
+func CandidateStyle(k int, name string) plot.Style {
+	lk := candidateLooks[k%len(candidateLooks)]
+	return plot.Style{Name: name, Long: "your Gaussian " + name, Key: name, Colour: lk.colour, Dash: lk.dash, Width: 2.3}
+}
+
+// candidateName returns the name of the k-th candidate: o.Candidates[k],
+// or "candidate" where it is missing.
+func (o Options) candidateName(k int) string {
+	if k < len(o.Candidates) && o.Candidates[k] != "" {
+		return o.Candidates[k]
+	}
+	return "candidate"
+}
+
+// candidateCurves draws each candidate's 1-D marginal.
+func (w *svgWriter) candidateCurves(m *engine.Marginal1D, o Options, sx, sy plot.Linear, box Box, clipped bool) {
+	if o.HideCandidates {
+		return
+	}
+	for k, ys := range m.Candidates {
+		if ys == nil {
+			continue
+		}
+		s := CandidateStyle(k, o.candidateName(k))
+		if clipped {
+			w.clippedMark(m.X, transform(ys, o.Log), sx, sy, box, s)
+			continue
+		}
+		w.stroke(plot.Curve(m.X, transform(ys, o.Log), sx, sy), s, "")
+	}
+}
+
+// candidateContours draws each candidate's contours in a pair.
+func (w *svgWriter) candidateContours(p *engine.Marginal2D, o Options, sx, sy plot.Linear) {
+	if o.HideCandidates {
+		return
+	}
+	for c, lines := range p.CandidateEllipses {
+		s := CandidateStyle(c, o.candidateName(c))
+		for k := range 3 {
+			ls := s
+			ls.Width = s.Width * levelWidths[k]
+			w.stroke(plot.Outline(lines[k], true, sx, sy), ls, "")
+		}
+	}
+}
+
+// candidateTop returns hi raised to the highest candidate marginal (at most
+// twice the exact peak, like the fits), on the linear scale.
+func candidateTop(m *engine.Marginal1D, o Options, hi float64) float64 {
+	if o.Log || o.HideCandidates {
+		return hi
+	}
+	_, peak, ok := plot.Extent(m.Exact)
+	if !ok {
+		return hi
+	}
+	for _, ys := range m.Candidates {
+		if _, h, ok := plot.Extent(ys); ok {
+			hi = max(hi, min(h, 2*peak)*1.06)
+		}
+	}
+	return hi
+}
