@@ -6,15 +6,15 @@ import (
 )
 
 // candidateLooks are the strokes of the user's candidate Gaussians, in
-// turn: dark reds and browns, thick with long dashes and dots, apart from
-// every fit method's look (plot.StyleOf).
+// turn: crimson, brown, pink and olive, thicker than the fits and with
+// long dashes, apart from every fit method's look (plot.StyleOf).
 var candidateLooks = []struct {
 	colour, dash string
 }{
-	{"#a3123a", "12 3 2 3 2 3"},
-	{"#6b4a12", "14 4"},
-	{"#d14f8c", "2 3 8 3"},
-	{"#4b5d16", "12 3 2 3 2 3"},
+	{"#c0143c", "16 4"},
+	{"#6b4a12", "16 3 3 3"},
+	{"#d14f8c", "16 4"},
+	{"#4b5d16", "16 3 3 3"},
 }
 
 // CandidateStyle is the stroke of the k-th candidate Gaussian, named name

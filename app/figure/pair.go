@@ -191,6 +191,13 @@ func (w *svgWriter) edgeMarginal(m *engine.Marginal1D, box Box, along plot.Linea
 			draw(curves[meth], plot.StyleOf(meth))
 		}
 	}
+	if !o.HideCandidates {
+		for k, ys := range m.Candidates {
+			if ys != nil {
+				draw(ys, CandidateStyle(k, o.candidateName(k)))
+			}
+		}
+	}
 	if o.shown(plot.Exact) {
 		draw(curves[plot.Exact], plot.StyleOf(plot.Exact))
 	}

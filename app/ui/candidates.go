@@ -1,7 +1,6 @@
 package ui
 
 import (
-
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
 
 	"bellcheck/app/figure"

@@ -88,11 +88,11 @@ func (d *DataPanel) Render() app.UI {
 			app.Ul().Class("data-cols").Body(items...),
 			app.P().Class("muted data-link").Text(link),
 			app.Div().Class("data-actions").Body(
-				app.Button().Class("btn").Disabled(!v.ToText).
+				app.Button().Type("button").Class("tool-btn").Disabled(!v.ToText).
 					Title("write the columns into the model text as NAME = [ ... ] and detach them").
 					Text("Put into the model text").
 					OnClick(func(ctx app.Context, e app.Event) { d.Host.DataToText(ctx) }),
-				app.Button().Class("btn").Text("Remove the data").
+				app.Button().Type("button").Class("tool-btn").Text("Remove the data").
 					OnClick(func(ctx app.Context, e app.Event) { d.Host.RemoveData(ctx) }),
 			),
 		)

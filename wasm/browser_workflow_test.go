@@ -1,0 +1,197 @@
+//go:build browser && !(js && wasm)
+
+package main
+
+// Browser tests of the practitioner's workflow: pasted columns and a
+// dropped CSV file as the model's data, a model's own setting lines, a
+// candidate Gaussian scored beside the fits.
+
+import (
+	"encoding/json"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/chromedp/chromedp"
+)
+
+// TestBrowserWorkflow runs the workflow tests in one browser.
+func TestBrowserWorkflow(t *testing.T) {
+	exe := chromiumPath(t)
+	dir := buildSite(t)
+	srv := serveSite(t, dir, nil)
+	b := startBrowser(t, exe, wideW, wideH)
+	t.Run("PasteColumns", func(t *testing.T) { testPasteColumns(t, b, srv) })
+	t.Run("DropCSV", func(t *testing.T) { testDropCSV(t, b, srv) })
+	t.Run("Candidate", func(t *testing.T) { testCandidate(t, b, srv) })
+}
+
+// normalModel uses a data column y: a normal with unknown mean and sd.
+const normalModel = "param m\nparam s in [0, inf]\nsum(ld_normal(y, m, s)) + ld_normal(m, 0, 10) + ld_gamma(s, 2, 1)\n"
+
+// pasteData puts text into the data panel's paste field as a paste would
+// (an input event).
+func pasteData(t *testing.T, tb *tab, text string) {
+	t.Helper()
+	eval[bool](t, tb, 10*time.Second, `(() => { const el = document.getElementById("bc-data-paste");
+  el.value = `+jsString(text)+`; el.dispatchEvent(new Event("input", {bubbles: true})); return true; })()`)
+}
+
+// dataPanelText is the data panel's text.
+func dataPanelText(t *testing.T, tb *tab) string {
+	return eval[string](t, tb, 5*time.Second, `(document.querySelector(".data-panel") || {textContent: ""}).textContent`)
+}
+
+// waitFor polls a JavaScript condition.
+func waitFor(t *testing.T, tb *tab, d time.Duration, what, expr string) {
+	t.Helper()
+	ctx, cancel := tb.within(d)
+	defer cancel()
+	if _, err := chromedp.Run(ctx, chromedp.Poll[chromedp.Void](expr, chromedp.WithPollingInterval(30*time.Millisecond), chromedp.WithPollingTimeout(d))); err != nil {
+		t.Fatalf("waiting for %s: %v (console errors %v)", what, err, tb.consoleErrors())
+	}
+}
+
+// testPasteColumns: tab-separated columns pasted with a header become the
+// model's vectors, and the page's table matches the command line given the
+// same columns as a --data file; a bad cell is an error that names its
+// place, and the attached data stays.
+func testPasteColumns(t *testing.T, b *browser, srv *siteServer) {
+	tb := b.newTab(t, true)
+	defer tb.close()
+	tb.open(t, srv.URL+"/")
+	done := tb.state(t).Done
+	tb.editModel(t, normalModel)
+	paste := "y\tz\n4.1\t1\n5.3\t2\n3.8\t3\n6.0\t4\n4.9\t5\n5.5\t6\n"
+	pasteData(t, tb, paste)
+	tb.waitDone(t, done, 90*time.Second)
+	waitFor(t, tb, 20*time.Second, "the current table", `(() => { const t = document.querySelector("table.results"); return t && !t.classList.contains("stale") && !document.querySelector(".plots.stale"); })()`)
+	if txt := dataPanelText(t, tb); !strings.Contains(txt, "pasted columns") || !strings.Contains(txt, "6 values") {
+		t.Fatalf("the data panel says %q, want the pasted columns with 6 values", txt)
+	}
+	file := filepath.Join(t.TempDir(), "y.tsv")
+	if err := os.WriteFile(file, []byte(paste), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	model := filepath.Join(t.TempDir(), "model.txt")
+	if err := os.WriteFile(model, []byte(normalModel), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, stdout, stderr := runCLI(t, "", "fit", "--json", "--data", file, model)
+	if code != exitOK {
+		t.Fatalf("bellcheck fit --data: exit %d: %s", code, stderr)
+	}
+	var res cliJSON
+	if err := json.Unmarshal([]byte(stdout), &res); err != nil {
+		t.Fatal(err)
+	}
+	problems, checked := compareTable(tb.table(t), res)
+	for _, p := range problems {
+		t.Errorf("page vs command line with the same data: %s", p)
+	}
+	if checked < 10 {
+		t.Errorf("only %d numbers compared", checked)
+	}
+	tb.do(t, 10*time.Second, chromedp.Evaluate[chromedp.Void](`window.scrollTo(0, 0)`))
+	tb.screenshot(t, "workflow-data-1280x800.png", false)
+
+	pasteData(t, tb, "y\n4.1\nNA\n")
+	waitFor(t, tb, 10*time.Second, "the paste's error", `!!document.querySelector(".data-error")`)
+	msg := eval[string](t, tb, 5*time.Second, `document.querySelector(".data-error").textContent`)
+	if !strings.Contains(msg, "3:1") || !strings.Contains(msg, "NA") {
+		t.Errorf("the error for a NA cell says %q, want its place 3:1 and the cell", msg)
+	}
+	if txt := dataPanelText(t, tb); !strings.Contains(txt, "6 values") {
+		t.Errorf("a bad paste dropped the attached data: %q", txt)
+	}
+	// The link carries the data: a fresh tab opened on it shows it.
+	link := eval[string](t, tb, 5*time.Second, `location.href`)
+	tb2 := b.newTab(t, true)
+	defer tb2.close()
+	tb2.open(t, link)
+	if txt := dataPanelText(t, tb2); !strings.Contains(txt, "6 values") {
+		t.Errorf("the link opened without its data: %q", txt)
+	}
+}
+
+// testDropCSV: a CSV file dropped on the page (a synthetic drop event with a
+// File) is attached and analysed.
+func testDropCSV(t *testing.T, b *browser, srv *siteServer) {
+	tb := b.newTab(t, true)
+	defer tb.close()
+	tb.open(t, srv.URL+"/")
+	done := tb.state(t).Done
+	tb.editModel(t, normalModel)
+	tb.waitDone(t, done, 90*time.Second) // y is read as a parameter until data comes
+	done = tb.state(t).Done
+	csv := "y,w\n2.5,1\n3.5,1\n3,1\n2.8,\n"
+	eval[bool](t, tb, 10*time.Second, fmt.Sprintf(`(() => {
+  const dt = new DataTransfer();
+  dt.items.add(new File([%s], "weights.csv", {type: "text/csv"}));
+  const ev = new DragEvent("drop", {dataTransfer: dt, bubbles: true, cancelable: true});
+  document.getElementById("bc-model").dispatchEvent(ev);
+  return ev.defaultPrevented; })()`, jsString(csv)))
+	waitFor(t, tb, 20*time.Second, "the dropped file", `(document.querySelector(".data-panel") || {textContent: ""}).textContent.includes("weights.csv")`)
+	tb.waitDone(t, done, 90*time.Second)
+	if txt := dataPanelText(t, tb); !strings.Contains(txt, "4 values") || !strings.Contains(txt, "3 values") {
+		t.Errorf("the data panel says %q, want y with 4 values and w with 3", txt)
+	}
+	if n := eval[int](t, tb, 5*time.Second, `document.querySelectorAll("table.results tr.sec").length`); n < 2 {
+		t.Errorf("%d parameter sections, want m and s (y is data)", n)
+	}
+	if got := tb.editorText(t); got != normalModel {
+		t.Errorf("the drop changed the model text to %q", got)
+	}
+}
+
+// testCandidate: a model's #@ gaussian line is scored like the fits and
+// drawn in its own style; the curvatures are shown with their sentence.
+func testCandidate(t *testing.T, b *browser, srv *siteServer) {
+	tb := b.newTab(t, true)
+	defer tb.close()
+	tb.open(t, srv.URL+"/")
+	done := tb.state(t).Done
+	src := "#@ gaussian mine mean.a=0.5 mean.b=-0.2 sd.a=0.6 sd.b=0.9 corr.a.b=0.3\n#@ points a=121\nparam a\nparam b\n-(a^2)/2 - (b - a^2/3)^2/2 - a^4/12\n"
+	tb.editModel(t, src)
+	tb.waitDone(t, done, 90*time.Second)
+	waitFor(t, tb, 20*time.Second, "the candidate table", `!!document.getElementById("bc-cand-table")`)
+	txt := eval[string](t, tb, 5*time.Second, `document.getElementById("bc-cand-table").textContent`)
+	if !strings.Contains(txt, "mine") || !strings.Contains(txt, "KL(q‖p)") {
+		t.Errorf("the candidate table says %q", txt)
+	}
+	strokes := eval[int](t, tb, 5*time.Second, `document.querySelectorAll('#bc-output svg path[stroke="#c0143c"]').length`)
+	if strokes < 3 {
+		t.Errorf("%d candidate strokes in the plots, want its contours and edge marginals", strokes)
+	}
+	legend := eval[string](t, tb, 5*time.Second, `document.querySelector(".legend").textContent`)
+	if !strings.Contains(legend, "mine") {
+		t.Errorf("the legend %q does not name the candidate", legend)
+	}
+	// The points line applied: the grid fact says 121 points for a.
+	grid := eval[string](t, tb, 5*time.Second, `document.querySelector(".modes-grid .facts").textContent`)
+	if !strings.Contains(grid, "121 points") {
+		t.Errorf("the grid %q does not use the file's #@ points a=121", grid)
+	}
+	if s := eval[string](t, tb, 5*time.Second, `(document.getElementById("bc-curv-summary") || {textContent: ""}).textContent`); s == "" {
+		t.Error("no curvature sentence")
+	}
+	tb.do(t, 10*time.Second, chromedp.Evaluate[chromedp.Void](`window.scrollTo(0, 0)`))
+	tb.screenshot(t, "workflow-candidate-1280-full.png", true)
+	tb.do(t, 10*time.Second, chromedp.EmulateViewport(narrowW, narrowH))
+	time.Sleep(300 * time.Millisecond)
+	tb.screenshot(t, "workflow-candidate-390-full.png", true)
+	// The results table's row labels stay in view when it scrolls sideways.
+	if !eval[bool](t, tb, 5*time.Second, `(() => { const s = document.querySelector("table.results").closest(".table-scroll"); return s.scrollWidth > s.clientWidth + 50; })()`) {
+		t.Fatal("at 390 px the results table does not scroll sideways: the sticky check would prove nothing")
+	}
+	left := eval[float64](t, tb, 5*time.Second, `(() => { const s = document.querySelector("table.results").closest(".table-scroll");
+  s.scrollLeft = 400; const th = document.querySelector("table.results tbody th.rlabel");
+  return th.getBoundingClientRect().left - s.getBoundingClientRect().left; })()`)
+	if left < -1 || left > 2 {
+		t.Errorf("after scrolling the table sideways its row label is %.1f px from the left edge, want 0 (sticky)", left)
+	}
+	tb.screenshot(t, "workflow-table-scrolled-390.png", false)
+}
