@@ -27,6 +27,7 @@ func TestBrowserWorkflow(t *testing.T) {
 	t.Run("PasteColumns", func(t *testing.T) { testPasteColumns(t, b, srv) })
 	t.Run("DropCSV", func(t *testing.T) { testDropCSV(t, b, srv) })
 	t.Run("Candidate", func(t *testing.T) { testCandidate(t, b, srv) })
+	t.Run("Slider", func(t *testing.T) { testSlider(t, b, srv) })
 }
 
 // normalModel uses a data column y: a normal with unknown mean and sd.
@@ -193,5 +194,45 @@ func testCandidate(t *testing.T, b *browser, srv *siteServer) {
 	if left < -1 || left > 2 {
 		t.Errorf("after scrolling the table sideways its row label is %.1f px from the left edge, want 0 (sticky)", left)
 	}
+	eval[bool](t, tb, 5*time.Second, `(document.querySelector("table.results").scrollIntoView(), true)`)
 	tb.screenshot(t, "workflow-table-scrolled-390.png", false)
+}
+
+// axisText is the tick labels of the main plot, in order.
+const axisTextJS = `[...document.querySelectorAll("#bc-output .fig-stack svg text")].map((e) => e.textContent).join("|")`
+
+// testSlider: a constant marked with #@ vary is a slider; a drag (a burst
+// of input events) analyses again with the newest value, and with the axes
+// held the plot's tick labels stay as they were.
+func testSlider(t *testing.T, b *browser, srv *siteServer) {
+	tb := b.newTab(t, true)
+	defer tb.close()
+	tb.open(t, srv.URL+"/")
+	done := tb.state(t).Done
+	tb.editModel(t, "#@ vary k=1:8\nparam x in [0, inf]\nk = 2\nld_gamma(x, k, 1)\n")
+	tb.waitDone(t, done, 90*time.Second)
+	waitFor(t, tb, 20*time.Second, "the slider", `!!document.getElementById("bc-live-0")`)
+	eval[bool](t, tb, 5*time.Second, `(document.getElementById("bc-hold").click(), true)`)
+	waitFor(t, tb, 5*time.Second, "the hold toggle", `document.getElementById("bc-hold").checked`)
+	before := eval[string](t, tb, 5*time.Second, axisTextJS)
+	mean0 := eval[string](t, tb, 5*time.Second, `document.querySelector("table.results tbody tr:not(.sec) td").textContent`)
+	done = tb.state(t).Done
+	// A drag: many values in quick succession; only the last must count.
+	eval[bool](t, tb, 5*time.Second, `(() => { const el = document.getElementById("bc-live-0");
+  for (const v of [2.5, 3, 3.5, 4, 4.5, 5]) { el.value = String(v); el.dispatchEvent(new Event("input", {bubbles: true})); }
+  return true; })()`)
+	tb.waitDone(t, done, 90*time.Second)
+	waitFor(t, tb, 20*time.Second, "the result for k = 5", `document.getElementById("bc-live-0-value").textContent.trim() === "5" &&
+  !document.querySelector("table.results").classList.contains("stale")`)
+	mean1 := eval[string](t, tb, 5*time.Second, `document.querySelector("table.results tbody tr:not(.sec) td").textContent`)
+	// Gamma(shape k, rate 1) has mean k (closed form): 5 after the drag.
+	if !strings.HasPrefix(strings.TrimSpace(mean1), "5.000") && !strings.HasPrefix(strings.TrimSpace(mean1), "5 ") && strings.TrimSpace(mean1)[:1] != "5" {
+		t.Errorf("exact mean after the drag to k = 5 is %q (before %q), want 5", mean1, mean0)
+	}
+	after := eval[string](t, tb, 5*time.Second, axisTextJS)
+	if before != after {
+		t.Errorf("with the axes held the tick labels changed:\n%s\n%s", before, after)
+	}
+	tb.do(t, 10*time.Second, chromedp.Evaluate[chromedp.Void](`window.scrollTo(0, 0)`))
+	tb.screenshot(t, "workflow-slider-1280x800.png", false)
 }

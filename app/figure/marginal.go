@@ -22,6 +22,9 @@ func Marginal(m *engine.Marginal1D, o Options) *Figure {
 	if fixed(o.XView) {
 		xlo, xhi = o.XView[0], o.XView[1]
 	}
+	if fixed(o.YView) { // a held density axis
+		lo, hi = o.YView[0], o.YView[1]
+	}
 	f := &Figure{W: 480, H: 250}
 	f.Plot = Box{X0: 58, Y0: 12, X1: f.W - 14, Y1: f.H - 42}
 	ylabel := "density"

@@ -5,6 +5,7 @@ import (
 	"reflect"
 	"strings"
 	"testing"
+	"time"
 
 	"bellcheck/engine"
 	"bellcheck/engine/data"
@@ -149,5 +150,39 @@ func TestModesShowCost(t *testing.T) {
 	}
 	if got := modeValue(res.Modes[0], true); got != "3" && got != "3.0000" {
 		t.Errorf("cost at the mode shown as %q, want 3", got)
+	}
+}
+
+// A slider's value reaches the analysis through model.WithConstant; a new
+// text forgets it.
+func TestLiveConstantRuns(t *testing.T) {
+	var s Session
+	src := "#@ vary k=0.5:4\nparam x in [0, inf]\nk = 2\nld_gamma(x, k, 1)\n"
+	if !s.Edit(src) {
+		t.Fatal(s.Errors)
+	}
+	items := s.liveItems()
+	if len(items) != 1 || items[0].Value != 2 || items[0].Lo != 0.5 || items[0].Hi != 4 {
+		t.Fatalf("live items %+v, want k = 2 in [0.5, 4]", items)
+	}
+	s.Constants = map[string]float64{"k": 3.5}
+	run, ok := s.Begin(time.Now())
+	if !ok {
+		t.Fatal("Begin refused")
+	}
+	if v, err := run.Model.Constant("k"); err != nil || v != 3.5 {
+		t.Errorf("the run's k = %v (%v), want 3.5", v, err)
+	}
+	res, err := engine.Analyse(t.Context(), run.Model, run.Options, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Gamma(shape 3.5, rate 1) has mean 3.5 (closed form).
+	if got := res.Exact.Mean[0]; math.Abs(got-3.5) > 1e-3 {
+		t.Errorf("exact mean %v with k = 3.5, want 3.5", got)
+	}
+	s.Edit(src + "# changed\n")
+	if s.Constants != nil {
+		t.Error("a new text kept the slider's value")
 	}
 }

@@ -315,7 +315,7 @@ func (p *Page) State() (src string, params ParamChoices, v View) {
 
 // SetView implements Host.
 func (p *Page) SetView(ctx app.Context, log bool, hidden [plot.NumMethods]bool) {
-	p.view = View{Log: log, Hidden: hidden}
+	p.view = View{Log: log, Hidden: hidden, Hold: p.view.Hold}
 	p.figs = BuildFigures(p.s.Result, p.view)
 	p.persist()
 }
@@ -344,6 +344,7 @@ func (p *Page) Render() app.UI {
 		app.Main().Class("layout").Body(
 			app.Section().Class("col-input").Aria("label", "Model and settings").Body(
 				card("Model", "bc-h-model", in.editor(p)),
+				p.liveCard(),
 				card("Data", "bc-h-data", &DataPanel{Host: p, View: p.dataView()}),
 				card("Parameters", "bc-h-params", in.params(p)),
 				card("Examples", "bc-h-examples", &Gallery{Host: p, Current: p.example}),

@@ -61,6 +61,9 @@ type Session struct {
 	Data *data.Table
 	// File is what the model text's own setting lines give.
 	File FileOptions
+	// Constants are the live constants' values the sliders set, by name
+	// (live.go); a new text forgets them.
+	Constants map[string]float64
 
 	params ParamChoices
 }
@@ -68,6 +71,9 @@ type Session struct {
 // Edit checks new model text. It reports whether the text is a valid model
 // (so an analysis should start).
 func (s *Session) Edit(src string) bool {
+	if src != s.Source {
+		s.Constants = nil
+	}
 	s.Source = src
 	m, file, errs := parseModel(src, s.Data)
 	if errs != nil {
@@ -112,7 +118,7 @@ func (s *Session) Begin(now time.Time) (Run, bool) {
 	s.Progress = engine.Progress{}
 	s.Started = now
 	s.RunErr = nil
-	return Run{Gen: s.Gen, Model: s.Model, Options: s.Options()}, true
+	return Run{Gen: s.Gen, Model: s.runModel(), Options: s.Options()}, true
 }
 
 // Cancel marks the running analysis as abandoned (the text became invalid).
