@@ -1,6 +1,7 @@
 package ui
 
 import (
+	"math"
 	"strconv"
 
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
@@ -81,6 +82,13 @@ func axesOf(fs *FigureSet) *Axes {
 	return a
 }
 
+// sliderStep is a slider's step: a power of ten giving at least 200
+// steps over [lo, hi], so round values such as the ends of a decade are
+// reachable.
+func sliderStep(lo, hi float64) float64 {
+	return math.Pow(10, math.Floor(math.Log10((hi-lo)/200)))
+}
+
 // LiveHost is what the live constants report to: the page implements it.
 type LiveHost interface {
 	// SetConstant analyses the model with the i-th live constant set to v,
@@ -118,7 +126,7 @@ func (l *LivePanel) Render() app.UI {
 			app.Label().For(id).Class("mono").Text(it.Name),
 			app.Input().Type("range").ID(id).Class("live-slider").
 				Min(plot.FormatNumber(it.Lo, 8)).Max(plot.FormatNumber(it.Hi, 8)).
-				Step((it.Hi-it.Lo)/500).Value(strconv.FormatFloat(it.Value, 'g', -1, 64)).
+				Step(sliderStep(it.Lo, it.Hi)).Value(strconv.FormatFloat(it.Value, 'g', -1, 64)).
 				OnInput(func(ctx app.Context, e app.Event) {
 					raw, err := jsdom.Value(id)
 					if err != nil {
