@@ -15,17 +15,20 @@ package main
 //	    go test -count=1 -tags=browser -run=PageTiming -v ./wasm/
 
 import (
+	"encoding/json"
 	"fmt"
 	"os"
 	"slices"
 	"sort"
 	"strconv"
 	"strings"
+	"sync"
 	"testing"
 	"time"
 
 	"github.com/chromedp/cdproto/cdp"
 	"github.com/chromedp/cdproto/profiler"
+	"github.com/chromedp/cdproto/tracing"
 	"github.com/chromedp/chromedp"
 
 	"bellcheck/app/examples"
@@ -55,7 +58,9 @@ func TestPageTiming(t *testing.T) {
 		eval[bool](t, tb, 5*time.Second, fmt.Sprintf(`(document.querySelectorAll("ul.gallery button.ex")[%d].click(), true)`, exampleIndex(t, id)))
 		st = tb.waitDone(t, st.Done, 180*time.Second)
 		split := make([][]float64, len(phases))
-		var ready []float64
+		var ready, checking []float64
+		var windows [][]float64 // per edit: the marks' times and the drawing's, in ms
+		tr := startTrace(t, tb)
 		for k := 1; k <= edits; k++ {
 			tb.editModel(t, ex.Source+fmt.Sprintf("# edit %d\n", k))
 			st = tb.waitDone(t, st.Done, 180*time.Second)
@@ -74,11 +79,14 @@ func TestPageTiming(t *testing.T) {
 				times = append(times, v)
 			}
 			times = append(times, drawn)
+			windows = append(windows, times)
 			for i := range phases {
 				split[i] = append(split[i], times[i+1]-times[i])
 			}
 			ready = append(ready, drawn-at[ui.MarkResult])
+			checking = append(checking, at[ui.MarkStart]-st.EditAt-float64(ui.CheckDelay)/float64(time.Millisecond))
 		}
+		cpu := tr.mainThreadCPU(t, tb, windows)
 		if os.Getenv("BELLCHECK_PAGE_PROFILE") != "" {
 			st = profileEdits(t, tb, st, ex.Source, 5)
 		}
@@ -87,8 +95,28 @@ func TestPageTiming(t *testing.T) {
 		for i, ph := range phases {
 			parts = append(parts, fmt.Sprintf("%s %.1f / %.1f", ph, slices.Min(split[i]), timingMedian(split[i])))
 		}
-		t.Logf("%s: result ready to drawn: least %.1f ms, median %.1f ms of %d edits (%s); each phase least / median in ms: %s",
-			id, slices.Min(ready), timingMedian(ready), edits, timingList(ready), strings.Join(parts, ", "))
+		t.Logf("%s: result ready to drawn: least %.1f ms, median %.1f ms of %d edits (%s); each phase least / median in ms: %s; "+
+			"before them, the check (from the edit to the analysis's start, less the check delay): least %.1f, median %.1f",
+			id, slices.Min(ready), timingMedian(ready), edits, timingList(ready), strings.Join(parts, ", "),
+			slices.Min(checking), timingMedian(checking))
+		var cparts []string
+		var cready []float64
+		for i, ph := range phases {
+			col := make([]float64, len(cpu))
+			for k := range cpu {
+				col[k] = cpu[k][i]
+			}
+			cparts = append(cparts, fmt.Sprintf("%s %.1f", ph, timingMedian(col)))
+		}
+		for k := range cpu {
+			sum := 0.0
+			for i := 1; i < len(phases); i++ {
+				sum += cpu[k][i]
+			}
+			cready = append(cready, sum)
+		}
+		t.Logf("%s: main thread CPU from result ready to drawn: median %.1f ms (%s); each phase, median CPU ms: %s",
+			id, timingMedian(cready), timingList(cready), strings.Join(cparts, ", "))
 	}
 }
 
@@ -192,4 +220,144 @@ func profileEdits(t *testing.T, tb *tab, st pageState, src string, n int) pageSt
 		return false
 	}))
 	return st
+}
+
+// trace collects a chromium performance trace of a tab.
+type trace struct {
+	mu     sync.Mutex
+	events []traceEvent
+	done   chan struct{}
+}
+
+// traceEvent is the part of a trace event the split needs.
+type traceEvent struct {
+	Name string  `json:"name"`
+	Cat  string  `json:"cat"`
+	Ph   string  `json:"ph"`
+	Ts   float64 `json:"ts"`   // µs
+	Dur  float64 `json:"dur"`  // µs
+	Tdur float64 `json:"tdur"` // µs of the thread's CPU
+	Tid  int64   `json:"tid"`
+	Args struct {
+		Name string `json:"name"`
+	} `json:"args"`
+}
+
+func startTrace(t *testing.T, tb *tab) *trace {
+	tr := &trace{done: make(chan struct{})}
+	if err := chromedp.Listen(tb.ctx, func(ev any) {
+		switch e := ev.(type) {
+		case *tracing.EventDataCollected:
+			tr.mu.Lock()
+			for _, raw := range e.Value {
+				var te traceEvent
+				if json.Unmarshal(raw, &te) == nil {
+					tr.events = append(tr.events, te)
+				}
+			}
+			tr.mu.Unlock()
+		case *tracing.EventTracingComplete:
+			close(tr.done)
+		}
+	}); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := chromedp.Call(tb.ctx, tracing.Start, tracing.StartParams{
+		TransferMode: tracing.StartTransferModeReportEvents,
+		TraceConfig:  &tracing.TraceConfig{IncludedCategories: []string{"toplevel", "blink.user_timing", "__metadata", "devtools.timeline"}},
+	}); err != nil {
+		t.Fatal(err)
+	}
+	return tr
+}
+
+// mainThreadCPU ends the trace and returns, for each window (the marks'
+// times and the drawing's, in the page's ms), the CPU time of the page's
+// main thread in each phase: the thread CPU of its tasks (RunTask), each
+// counted for the part of its duration inside the phase.
+func (tr *trace) mainThreadCPU(t *testing.T, tb *tab, windows [][]float64) [][]float64 {
+	if _, err := chromedp.Call(tb.ctx, tracing.End, cdp.Empty{}); err != nil {
+		t.Fatal(err)
+	}
+	select {
+	case <-tr.done:
+	case <-time.After(60 * time.Second):
+		t.Fatal("the trace did not complete")
+	}
+	tr.mu.Lock()
+	defer tr.mu.Unlock()
+	// The main thread names itself; a mark of the page gives the offset
+	// between the trace's clock and performance.now().
+	var main int64 = -1
+	for _, e := range tr.events {
+		if e.Ph == "M" && e.Name == "thread_name" && e.Args.Name == "CrRendererMain" {
+			for _, m := range tr.events {
+				if m.Tid == e.Tid && m.Cat == "blink.user_timing" && m.Name == ui.MarkResult {
+					main = e.Tid
+				}
+			}
+		}
+	}
+	if main < 0 {
+		t.Fatal("no main thread with the page's marks in the trace")
+	}
+	if os.Getenv("BELLCHECK_TRACE_DEBUG") != "" {
+		names := map[string]int{}
+		tdur := 0
+		for _, e := range tr.events {
+			if e.Tid == main && e.Ph == "X" {
+				names[e.Cat+"/"+e.Name]++
+				if e.Tdur > 0 {
+					tdur++
+				}
+			}
+		}
+		t.Logf("main thread events: %v; with tdur %d", names, tdur)
+	}
+	var markTs []float64
+	for _, e := range tr.events {
+		if e.Tid == main && e.Cat == "blink.user_timing" && e.Name == ui.MarkResult {
+			markTs = append(markTs, e.Ts/1000)
+		}
+	}
+	sort.Float64s(markTs)
+	// Each window's result mark is the first trace mark at or after the
+	// previous window's; their difference is the clock offset.
+	out := make([][]float64, len(windows))
+	for k, w := range windows {
+		if k >= len(markTs) {
+			t.Fatalf("%d result marks in the trace for %d edits", len(markTs), len(windows))
+		}
+		offset := markTs[len(markTs)-len(windows)+k] - w[1]
+		out[k] = make([]float64, len(w)-1)
+		if os.Getenv("BELLCHECK_TRACE_DEBUG") != "" {
+			// What the main thread did from the result to the drawing, by
+			// event (nested events count in each of their parents too).
+			by := map[string]float64{}
+			for _, e := range tr.events {
+				if e.Tid != main || e.Ph != "X" || e.Cat != "devtools.timeline" {
+					continue
+				}
+				s, d := e.Ts/1000-offset, e.Dur/1000
+				lo, hi := max(s, w[1]), min(s+d, w[len(w)-1])
+				if hi > lo {
+					by[e.Name] += hi - lo
+				}
+			}
+			t.Logf("edit %d, result to drawn, wall ms by event: %v", k+1, by)
+		}
+		for _, e := range tr.events {
+			if e.Tid != main || e.Ph != "X" || e.Name != "ThreadControllerImpl::RunTask" || e.Dur <= 0 {
+				continue
+			}
+			s, d := e.Ts/1000-offset, e.Dur/1000
+			for i := 0; i+1 < len(w); i++ {
+				lo, hi := max(s, w[i]), min(s+d, w[i+1])
+				if hi > lo {
+					out[k][i] += e.Tdur / 1000 * (hi - lo) / d
+				}
+			}
+		}
+	}
+	return out
 }

@@ -11,6 +11,10 @@ import (
 
 // Panel is one drawn plot with the data behind it, for the read-out.
 type Panel struct {
+	// Serial numbers the panels the page draws (see Shown): first, so that
+	// comparing two panels stops here.
+	Serial uint64
+
 	ID  string
 	Fig *figure.Figure
 	// I and J are the parameters across and up (J < 0 for a 1-D panel).
@@ -28,6 +32,10 @@ type Panel struct {
 // parameter, one pair with edge marginals for two, and a grid of pairs with
 // the marginals on the diagonal for three or four.
 type FigureSet struct {
+	// Serial numbers the sets the page draws (see Shown): first, so that
+	// comparing two sets stops here.
+	Serial uint64
+
 	Dim    int
 	Names  []string
 	Main   *Panel     // 1-D or 2-D results

@@ -226,5 +226,5 @@ func (p *Page) HoldAxes(ctx app.Context, on bool) {
 	if on {
 		p.view.Hold = axesOf(p.figs)
 	}
-	p.figs = BuildFigures(p.s.Result, p.view)
+	p.figs = numbered(BuildFigures(p.s.Result, p.view))
 }

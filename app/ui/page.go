@@ -18,15 +18,17 @@ type Page struct {
 	// runner runs the analyses (runner.go).
 	runner
 
-	s        Session
-	initial  string // the editor's text when the page was built
-	text     string // the editor's current text
-	editSeq  int
-	pending  bool
-	example  string
-	view     View
-	figs     *FigureSet
-	sections []Section
+	s       Session
+	initial string // the editor's text when the page was built
+	text    string // the editor's current text
+	editSeq int
+	// persistSeq numbers the requests to persist the state (persistSoon).
+	persistSeq int
+	pending    bool
+	example    string
+	view       View
+	figs       *FigureSet
+	sections   []Section
 	// lastShown is the result as last shown (see shown).
 	lastShown *Shown
 
@@ -203,6 +205,23 @@ func (p *Page) persist() {
 	p.browser.SetFragment(frag)
 }
 
+// persistSoon persists the state PersistDelay from now, once for a burst
+// of checks: encoding the state and writing it to the URL and the storage
+// take longer than a small analysis, so after a keystroke they wait until
+// its result is drawn. (Other changes, rarer, persist at once.)
+func (p *Page) persistSoon(ctx app.Context) {
+	if p.ctx != nil {
+		ctx = *p.ctx
+	}
+	p.persistSeq++
+	seq := p.persistSeq
+	ctx.After(PersistDelay, func(ctx app.Context) {
+		if seq == p.persistSeq {
+			p.persist()
+		}
+	})
+}
+
 // OnDismount stops a running analysis.
 func (p *Page) OnDismount() {
 	if p.cancel != nil {
@@ -244,7 +263,7 @@ func (p *Page) check(ctx app.Context) {
 // checked saves the state of a text just checked and analyses it when it
 // is valid.
 func (p *Page) checked(ctx app.Context, valid bool) {
-	p.persist()
+	p.persistSoon(ctx)
 	p.syncParamFields(ctx)
 	if valid {
 		p.start(ctx)
@@ -316,7 +335,7 @@ func (p *Page) State() (src string, params ParamChoices, v View) {
 // SetView implements Host.
 func (p *Page) SetView(ctx app.Context, log bool, hidden [plot.NumMethods]bool) {
 	p.view = View{Log: log, Hidden: hidden, Hold: p.view.Hold}
-	p.figs = BuildFigures(p.s.Result, p.view)
+	p.figs = numbered(BuildFigures(p.s.Result, p.view))
 	p.persist()
 }
 
@@ -336,7 +355,7 @@ func (p *Page) Render() app.UI {
 			app.Div().Class("top-right").Body(
 				&RunStatus{Run: p.runState()},
 				&Toolbar{Host: p, EmbedReadOnly: p.tools.embedRO, EmbedFolded: p.tools.embedFold,
-					EmbedCode: p.embedSnippet(), Export: p.exportChoices()},
+					EmbedCode: p.openEmbedSnippet(), Export: p.exportChoices()},
 			),
 		),
 		&ToolTray{Host: p, Message: p.tools.msg, Field: p.tools.field, Warn: p.tools.warn},
@@ -368,8 +387,17 @@ func (p *Page) runState() RunState {
 func (p *Page) resultView() ResultView {
 	return ResultView{
 		State: p.OutputState(), Gen: p.s.Gen, ResultGen: p.s.ResultGen, Busy: p.s.Running,
-		Shown: p.shown(), RunErr: p.s.RunErr, Stale: p.s.Stale(), View: p.view,
+		Shown: p.shown(), RunErr: p.s.RunErr, Stale: p.dimmed(), View: p.view,
 	}
+}
+
+// dimmed reports whether the result shown is drawn dimmed: it is stale (see
+// Session.Stale), and not only because an analysis runs that has not yet
+// run for ProgressDelay. A quick analysis thus never dims and undims the
+// results (each of which repaints the whole results area), while the state
+// attributes of the results area say at once that the result is outdated.
+func (p *Page) dimmed() bool {
+	return p.s.Stale() && (!p.s.Running || p.progress || p.s.Errors != nil)
 }
 
 // pageTimes are the page's timings of the last result.

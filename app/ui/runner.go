@@ -22,6 +22,9 @@ const (
 	// SliceLength is how long the analysis works before it lets the
 	// browser run (Go in WebAssembly is not preemptive).
 	SliceLength = 15 * time.Millisecond
+	// PersistDelay is how long the page waits after a change before it
+	// saves the state in the URL and the browser's storage.
+	PersistDelay = 250 * time.Millisecond
 	// reportEvery limits progress updates of the page.
 	reportEvery = 80 * time.Millisecond
 )
@@ -127,7 +130,7 @@ func (p *Page) start(ctx app.Context) {
 		if err == nil && res != nil && actx.Err() == nil {
 			y.Yield()
 			tf := time.Now()
-			figs = BuildFigures(res, view)
+			figs = numbered(BuildFigures(res, view))
 			figTime = time.Since(tf)
 			y.Yield()
 			secs = Table(res, run.Model)
@@ -150,7 +153,7 @@ func (p *Page) start(ctx app.Context) {
 			p.progress = false
 			if err == nil && res != nil {
 				if p.view != view {
-					figs = BuildFigures(res, p.view)
+					figs = numbered(BuildFigures(res, p.view))
 				}
 				p.figs, p.sections = figs, secs
 			}

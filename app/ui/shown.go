@@ -1,6 +1,8 @@
 package ui
 
 import (
+	"sync/atomic"
+
 	"bellcheck/engine"
 	"bellcheck/engine/model"
 )
@@ -23,13 +25,23 @@ type Shown struct {
 	Sections []Section
 }
 
-// serials numbers Shown values and figure sets (the page's goroutine only).
-var serials uint64
+// serials numbers Shown values, figure sets and panels.
+var serials atomic.Uint64
 
 // nextSerial returns a new serial number.
-func nextSerial() uint64 {
-	serials++
-	return serials
+func nextSerial() uint64 { return serials.Add(1) }
+
+// numbered gives a figure set and its panels new serial numbers, and
+// returns it.
+func numbered(fs *FigureSet) *FigureSet {
+	if fs == nil {
+		return nil
+	}
+	fs.Serial = nextSerial()
+	for _, pn := range panelsOf(fs) {
+		pn.Serial = nextSerial()
+	}
+	return fs
 }
 
 // shown returns the result shown now, as one Shown value that stays the same

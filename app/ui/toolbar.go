@@ -15,6 +15,9 @@ type ToolHost interface {
 	CopyEmbed(ctx app.Context)
 	// SetEmbedOptions sets the snippet's options.
 	SetEmbedOptions(ctx app.Context, readOnly, folded bool)
+	// OpenEmbedMenu reports the embed menu opened or closed (the snippet
+	// is made only while it is open).
+	OpenEmbedMenu(ctx app.Context, open bool)
 	// ExportJSON and ExportCSV save the result.
 	ExportJSON(ctx app.Context)
 	ExportCSV(ctx app.Context)
@@ -48,7 +51,7 @@ type Toolbar struct {
 	app.Compo
 	Host ToolHost
 	// EmbedReadOnly and EmbedFolded are the embed snippet's options;
-	// EmbedCode the snippet.
+	// EmbedCode the snippet ("" while the menu is closed).
 	EmbedReadOnly, EmbedFolded bool
 	EmbedCode                  string
 	Export                     ExportChoices
@@ -60,7 +63,12 @@ func (t *Toolbar) Render() app.UI {
 		app.Button().Type("button").ID(CopyLinkID).Class("tool-btn").
 			Title("Copy a link that opens this model with its settings").Text("Copy link").
 			OnClick(func(ctx app.Context, e app.Event) { t.Host.CopyLink(ctx) }),
-		app.Details().ID(EmbedMenuID).Class("menu").Body(
+		app.Details().ID(EmbedMenuID).Class("menu").
+			OnToggle(func(ctx app.Context, e app.Event) {
+				if open := e.Get("target").Get("open"); open.Type() == app.TypeBoolean {
+					t.Host.OpenEmbedMenu(ctx, open.Bool())
+				}
+			}).Body(
 			app.Summary().Class("tool-btn").Title("Show this calculator live in a wiki or web page").Text("Embed"),
 			app.Div().Class("menu-panel").Body(
 				app.P().Class("menu-lead").Text("Paste this code into a wiki or web page to show this model there as a live calculator."),

@@ -42,8 +42,9 @@ type toolState struct {
 	// field is text offered for copying by hand when the browser refused
 	// the clipboard ("" hides the field).
 	field string
-	// embedRO and embedFold are the options of the embed snippet.
-	embedRO, embedFold bool
+	// embedRO and embedFold are the options of the embed snippet;
+	// embedOpen reports its menu open.
+	embedRO, embedFold, embedOpen bool
 	// plot is the ID of the panel chosen for export ("" for the first).
 	plot string
 	// snippet and full keep the last embed snippet and full link made.
@@ -95,6 +96,9 @@ func (p *Page) say(msg string, warn bool) {
 func (p *Page) SetEmbedOptions(ctx app.Context, readOnly, folded bool) {
 	p.tools.embedRO, p.tools.embedFold = readOnly, folded
 }
+
+// OpenEmbedMenu implements ToolHost.
+func (p *Page) OpenEmbedMenu(ctx app.Context, open bool) { p.tools.embedOpen = open }
 
 // ChoosePlot implements ToolHost.
 func (p *Page) ChoosePlot(ctx app.Context, id string) { p.tools.plot = id }
@@ -332,4 +336,13 @@ func (p *Page) ExportPlot(ctx app.Context, png bool) {
 			p.say("Saved "+name+" ("+itoa(w)+" × "+itoa(h)+" pixels, "+panelLabel(pn)+")."+note+p.staleNote(), false)
 		})
 	})
+}
+
+// openEmbedSnippet is the snippet while the embed menu is open, "" while
+// it is closed (making it encodes the state, at every change of it).
+func (p *Page) openEmbedSnippet() string {
+	if !p.tools.embedOpen {
+		return ""
+	}
+	return p.embedSnippet()
 }
