@@ -203,7 +203,8 @@ const axisTextJS = `[...document.querySelectorAll("#bc-output .fig-stack svg tex
 
 // testSlider: a constant marked with #@ vary is a slider; a drag (a burst
 // of input events) analyses again with the newest value, and with the axes
-// held the plot's tick labels stay as they were.
+// held the plot's tick labels stay as they were; a pinned result stays
+// drawn beneath.
 func testSlider(t *testing.T, b *browser, srv *siteServer) {
 	tb := b.newTab(t, true)
 	defer tb.close()
@@ -214,6 +215,8 @@ func testSlider(t *testing.T, b *browser, srv *siteServer) {
 	waitFor(t, tb, 20*time.Second, "the slider", `!!document.getElementById("bc-live-0")`)
 	eval[bool](t, tb, 5*time.Second, `(document.getElementById("bc-hold").click(), true)`)
 	waitFor(t, tb, 5*time.Second, "the hold toggle", `document.getElementById("bc-hold").checked`)
+	eval[bool](t, tb, 5*time.Second, `(document.getElementById("bc-pin").click(), true)`)
+	waitFor(t, tb, 5*time.Second, "the pinned outline", `document.querySelectorAll("#bc-output svg path.pinned").length > 0`)
 	before := eval[string](t, tb, 5*time.Second, axisTextJS)
 	mean0 := eval[string](t, tb, 5*time.Second, `document.querySelector("table.results tbody tr:not(.sec) td").textContent`)
 	done = tb.state(t).Done
@@ -229,6 +232,9 @@ func testSlider(t *testing.T, b *browser, srv *siteServer) {
 	// Gamma(shape k, rate 1) has mean k (closed form): 5 after the drag.
 	if m := strings.TrimSpace(mean1); !strings.HasPrefix(m, "5.00") && !strings.HasPrefix(m, "4.99") {
 		t.Errorf("exact mean after the drag to k = 5 is %q (before %q), want 5", mean1, mean0)
+	}
+	if n := eval[int](t, tb, 5*time.Second, `document.querySelectorAll("#bc-output svg path.pinned").length`); n == 0 {
+		t.Error("the pinned result is not drawn under the new one")
 	}
 	after := eval[string](t, tb, 5*time.Second, axisTextJS)
 	if before != after {

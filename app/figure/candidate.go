@@ -83,3 +83,36 @@ func candidateTop(m *engine.Marginal1D, o Options, hi float64) float64 {
 	}
 	return hi
 }
+
+// pinnedLook is the stroke of a pinned earlier result: the exact density's
+// colour, thin and faint.
+var pinnedLook = plot.Style{Name: "pinned", Colour: "#1b2127", Width: 1.6}
+
+// pinnedExtra makes a pinned curve faint.
+const pinnedExtra = ` stroke-opacity="0.3" class="pinned"`
+
+// pinnedCurve draws a pinned result's exact marginal, faintly.
+func (w *svgWriter) pinnedCurve(m *engine.Marginal1D, o Options, sx, sy plot.Linear) {
+	if m == nil {
+		return
+	}
+	w.stroke(plot.Curve(m.X, transform(m.Exact, o.Log), sx, sy), pinnedLook, pinnedExtra)
+}
+
+// pinnedContours draws a pinned result's exact contours, faintly.
+func (w *svgWriter) pinnedContours(p *engine.Marginal2D, sx, sy plot.Linear) {
+	if p == nil || len(p.Density) != len(p.X)*len(p.Y) {
+		return
+	}
+	g := plot.Grid{X: p.X, Y: p.Y, Z: p.Density}
+	for k, level := range p.Levels {
+		if !(level > 0) {
+			continue
+		}
+		ls := pinnedLook
+		ls.Width *= levelWidths[k]
+		for _, line := range plot.Contour(g, level) {
+			w.stroke(plot.Outline(line.Points, line.Closed, sx, sy), ls, pinnedExtra)
+		}
+	}
+}

@@ -43,6 +43,10 @@ type Options struct {
 	// Result.Candidates; HideCandidates leaves them out.
 	Candidates     []string
 	HideCandidates bool
+	// PinnedMarginal and PinnedPair are an earlier result's exact density
+	// of the same parameters, drawn faintly beneath (nil for none).
+	PinnedMarginal *engine.Marginal1D
+	PinnedPair     *engine.Marginal2D
 }
 
 // fixed reports whether a view range is set.

@@ -62,6 +62,7 @@ func Marginal(m *engine.Marginal1D, o Options) *Figure {
 			w.stroke(plot.Curve(m.X, transform(curves[meth], o.Log), f.X, f.Y), plot.StyleOf(meth), "")
 		}
 	}
+	w.pinnedCurve(o.PinnedMarginal, o, f.X, f.Y)
 	w.candidateCurves(m, o, f.X, f.Y, f.Plot, false)
 	if o.shown(plot.Exact) {
 		w.stroke(plot.Curve(m.X, exact, f.X, f.Y), plot.StyleOf(plot.Exact), "")

@@ -107,6 +107,7 @@ func Pair(p *engine.Marginal2D, mx, my *engine.Marginal1D, o Options) *Figure {
 			w.stroke(plot.Outline(lines[k], true, f.X, f.Y), ls, "")
 		}
 	}
+	w.pinnedContours(o.PinnedPair, f.X, f.Y)
 	w.candidateContours(p, o, f.X, f.Y)
 	if o.shown(plot.Exact) {
 		s := plot.StyleOf(plot.Exact)

@@ -48,8 +48,10 @@ type FigureSet struct {
 type View struct {
 	Log    bool
 	Hidden [plot.NumMethods]bool
-	// Hold, when set, keeps the plots' axes as they were (live.go).
+	// Hold, when set, keeps the plots' axes as they were; Pin is an
+	// earlier result drawn faintly beneath (live.go).
 	Hold *Axes
+	Pin  *engine.Result
 }
 
 // BuildFigures draws every plot of a result. It returns nil when the result
@@ -79,6 +81,7 @@ func BuildFigures(r *engine.Result, v View) *FigureSet {
 	opts := func(id string, compact bool, x, y string) figure.Options {
 		o := figure.Options{ID: id, Log: v.Log, Hidden: v.Hidden, Compact: compact, XLabel: x, YLabel: y, Candidates: candidateNames(r)}
 		v.Hold.apply(&o, r.Params, x, y)
+		pinInto(&o, v.Pin, r.Params, x, y)
 		return o
 	}
 	switch {
@@ -117,6 +120,7 @@ func BuildFigures(r *engine.Result, v View) *FigureSet {
 					o.YView = views[i]
 				}
 			}
+			pinInto(&o, v.Pin, r.Params, x, y)
 			return o
 		}
 		fs.Grid = make([][]*Panel, d)

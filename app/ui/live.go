@@ -2,6 +2,7 @@ package ui
 
 import (
 	"math"
+	"slices"
 	"strconv"
 
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
@@ -9,6 +10,7 @@ import (
 	"bellcheck/app/figure"
 	"bellcheck/app/jsdom"
 	"bellcheck/app/plot"
+	"bellcheck/engine"
 	"bellcheck/engine/model"
 )
 
@@ -96,6 +98,8 @@ type LiveHost interface {
 	SetConstant(ctx app.Context, i int, v float64)
 	// HoldAxes keeps (or frees) the plots' ranges.
 	HoldAxes(ctx app.Context, on bool)
+	// PinResult keeps (or drops) the result shown now as a faint overlay.
+	PinResult(ctx app.Context, on bool)
 }
 
 // LiveItem is a constant marked with #@ vary, as its slider shows it.
@@ -112,6 +116,7 @@ type LivePanel struct {
 	Host  LiveHost
 	Items []LiveItem
 	Hold  bool
+	Pin   bool
 }
 
 // Render draws the sliders.
@@ -151,6 +156,16 @@ func (l *LivePanel) Render() app.UI {
 				l.Host.HoldAxes(ctx, on)
 			}),
 		app.Span().Text("hold the plots' axes"),
+	), app.Label().For("bc-pin").Class("live-hold").Body(
+		app.Input().Type("checkbox").ID("bc-pin").Checked(l.Pin).
+			OnChange(func(ctx app.Context, e app.Event) {
+				on, err := jsdom.Checked("bc-pin")
+				if err != nil {
+					return
+				}
+				l.Host.PinResult(ctx, on)
+			}),
+		app.Span().Text("pin this result (a faint outline under the next ones)"),
 	))
 	return app.Div().Class("live").Body(
 		append([]app.UI{app.P().Class("muted live-note").Text("Constants marked with #@ vary: moving one analyses again at once (the newest value wins).")}, rows...)...)
@@ -162,7 +177,7 @@ func (p *Page) liveCard() app.UI {
 	if len(items) == 0 {
 		return app.Text("")
 	}
-	return card("Live constants", "bc-h-live", &LivePanel{Host: p, Items: items, Hold: p.view.Hold != nil})
+	return card("Live constants", "bc-h-live", &LivePanel{Host: p, Items: items, Hold: p.view.Hold != nil, Pin: p.view.Pin != nil})
 }
 
 // liveItems lists the current model's live constants with their values.
@@ -225,6 +240,43 @@ func (p *Page) HoldAxes(ctx app.Context, on bool) {
 	p.view.Hold = nil
 	if on {
 		p.view.Hold = axesOf(p.figs)
+	}
+	p.figs = numbered(BuildFigures(p.s.Result, p.view))
+}
+
+// pinInto gives a figure the pinned result's exact density of the same
+// parameters (x across, y up; "" for a marginal), when pin is a result of
+// the same parameters.
+func pinInto(o *figure.Options, pin *engine.Result, params []string, x, y string) {
+	if pin == nil || pin.Plots == nil || len(pin.Params) != len(params) {
+		return
+	}
+	for i, n := range params {
+		if pin.Params[i] != n {
+			return
+		}
+	}
+	i, j := slices.Index(params, x), slices.Index(params, y)
+	if y == "" {
+		for k := range pin.Plots.Marginals {
+			if pin.Plots.Marginals[k].Param == i {
+				o.PinnedMarginal = &pin.Plots.Marginals[k]
+			}
+		}
+		return
+	}
+	for k := range pin.Plots.Pairs {
+		if p := &pin.Plots.Pairs[k]; p.I == i && p.J == j {
+			o.PinnedPair = p
+		}
+	}
+}
+
+// PinResult implements LiveHost.
+func (p *Page) PinResult(ctx app.Context, on bool) {
+	p.view.Pin = nil
+	if on {
+		p.view.Pin = p.s.Result
 	}
 	p.figs = numbered(BuildFigures(p.s.Result, p.view))
 }

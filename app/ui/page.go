@@ -334,7 +334,7 @@ func (p *Page) State() (src string, params ParamChoices, v View) {
 
 // SetView implements Host.
 func (p *Page) SetView(ctx app.Context, log bool, hidden [plot.NumMethods]bool) {
-	p.view = View{Log: log, Hidden: hidden, Hold: p.view.Hold}
+	p.view = View{Log: log, Hidden: hidden, Hold: p.view.Hold, Pin: p.view.Pin}
 	p.figs = numbered(BuildFigures(p.s.Result, p.view))
 	p.persist()
 }

@@ -80,7 +80,7 @@ func (ts *TableSection) Render() app.UI {
 	sec := ts.Section
 	rows := make([]app.UI, 0, len(sec.Rows)+1)
 	rows = append(rows, app.Tr().Class("sec").Body(
-		app.Th().Scope("rowgroup").ColSpan(6).Text(sec.Title)))
+		app.Th().Scope("rowgroup").ColSpan(6).Body(app.Span().Class("sec-title").Text(sec.Title))))
 	for _, r := range sec.Rows {
 		cells := make([]app.UI, 0, len(plot.Methods)+1)
 		cells = append(cells, app.Th().Scope("row").Class("rlabel").Title(r.Hint).Text(r.Label))
