@@ -7,7 +7,9 @@ package main
 // candidate Gaussian scored beside the fits.
 
 import (
+	"bytes"
 	"encoding/json"
+	"image/png"
 	"fmt"
 	"os"
 	"path/filepath"
@@ -15,6 +17,7 @@ import (
 	"testing"
 	"time"
 
+	cdpbrowser "github.com/chromedp/cdproto/browser"
 	"github.com/chromedp/chromedp"
 )
 
@@ -178,6 +181,46 @@ func testCandidate(t *testing.T, b *browser, srv *siteServer) {
 	}
 	if s := eval[string](t, tb, 5*time.Second, `(document.getElementById("bc-curv-summary") || {textContent: ""}).textContent`); s == "" {
 		t.Error("no curvature sentence")
+	}
+	// Exported for a paper: the SVG has the axis titles, a legend naming
+	// the candidate, and the caption; the PNG is drawn from it.
+	dl := t.TempDir()
+	ctx, cancel := tb.within(10 * time.Second)
+	_, err := chromedp.CallBrowser(ctx, cdpbrowser.SetDownloadBehavior, cdpbrowser.SetDownloadBehaviorParams{
+		Behavior: cdpbrowser.SetDownloadBehaviorBehaviorAllowAndName, DownloadPath: dl, BrowserContextID: chromedp.FromContext(tb.ctx).BrowserContextID,
+	})
+	cancel()
+	if err != nil {
+		t.Fatalf("allowing downloads: %v", err)
+	}
+	for _, id := range []string{"bc-export-svg", "bc-export-png"} {
+		n := len(listFiles(dl))
+		if !eval[bool](t, tb, 5*time.Second, `(() => { const b = document.getElementById(`+jsString(id)+`); if (!b || b.disabled) return false; b.click(); return true; })()`) {
+			t.Fatalf("no enabled #%s", id)
+		}
+		file := waitNewFile(t, dl, n, 20*time.Second)
+		if file == "" {
+			t.Fatalf("%s: nothing downloaded", id)
+		}
+		data, err := os.ReadFile(file)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if id == "bc-export-png" {
+			img, err := png.Decode(bytes.NewReader(data))
+			if err != nil || img.Bounds().Dx() < 2*(480+170)-2 {
+				t.Errorf("PNG: %v, bounds %v, want the figure with its legend at twice the size", err, img.Bounds())
+			}
+			continue
+		}
+		if err := validExport("svg", data, cliJSON{}); err != nil {
+			t.Errorf("SVG: %v", err)
+		}
+		for _, want := range []string{"mine (yours)", "Joint density of a and b", "Laplace", ">a<", ">b<", `stroke="#c0143c"`} {
+			if !strings.Contains(string(data), want) {
+				t.Errorf("the exported SVG lacks %q", want)
+			}
+		}
 	}
 	tb.do(t, 10*time.Second, chromedp.Evaluate[chromedp.Void](`window.scrollTo(0, 0)`))
 	tb.screenshot(t, "workflow-candidate-1280-full.png", true)

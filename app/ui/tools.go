@@ -312,7 +312,7 @@ func (p *Page) ExportPlot(ctx app.Context, png bool) {
 			note = " The heat map could not be read from the page, so the file has the contours only."
 		}
 	}
-	svg, err := export.StandaloneSVG(f.SVG, f.W, f.H, heat)
+	svg, fw, fh, err := p.publicationFigure(pn, heat) // pubexport.go
 	if err != nil {
 		p.say("Could not save the plot: "+err.Error(), true)
 		return
@@ -325,7 +325,7 @@ func (p *Page) ExportPlot(ctx app.Context, png bool) {
 		return
 	}
 	name := filename(p, panelFile(pn), ".png")
-	w, h := int(f.W*pngScale+0.5), int(f.H*pngScale+0.5)
+	w, h := int(fw*pngScale+0.5), int(fh*pngScale+0.5)
 	p.say("Drawing "+name+"…", false)
 	jsdom.DownloadPNG(name, svg, w, h, func(err error) {
 		ctx.Dispatch(func(ctx app.Context) {
