@@ -206,6 +206,8 @@ func testCandidate(t *testing.T, b *browser, srv *siteServer) {
 		if err != nil {
 			t.Fatal(err)
 		}
+		_ = os.MkdirAll(filepath.Join("..", "screenshots"), 0o755)
+		_ = os.WriteFile(filepath.Join("..", "screenshots", "workflow-export-"+strings.TrimPrefix(id, "bc-export-")), data, 0o644)
 		if id == "bc-export-png" {
 			img, err := png.Decode(bytes.NewReader(data))
 			if err != nil || img.Bounds().Dx() < 2*(480+170)-2 {

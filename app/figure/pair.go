@@ -158,6 +158,11 @@ func (w *svgWriter) edgeMarginal(m *engine.Marginal1D, box Box, along plot.Linea
 			top = math.Max(top, math.Min(h, 1.6*peak))
 		}
 	}
+	for _, ys := range m.Candidates {
+		if _, h, ok := plot.Extent(ys); ok && !o.HideCandidates {
+			top = math.Max(top, math.Min(h, 1.6*peak))
+		}
+	}
 	var across plot.Linear
 	if rotated {
 		across = plot.Linear{D0: 0, D1: top, R0: box.X0, R1: box.X1}
