@@ -19,6 +19,8 @@ import (
 
 	cdpbrowser "github.com/chromedp/cdproto/browser"
 	"github.com/chromedp/chromedp"
+
+	"bellcheck/app/share"
 )
 
 // TestBrowserWorkflow runs the workflow tests in one browser.
@@ -31,6 +33,7 @@ func TestBrowserWorkflow(t *testing.T) {
 	t.Run("DropCSV", func(t *testing.T) { testDropCSV(t, b, srv) })
 	t.Run("Candidate", func(t *testing.T) { testCandidate(t, b, srv) })
 	t.Run("Slider", func(t *testing.T) { testSlider(t, b, srv) })
+	t.Run("PlotOnlyEmbed", func(t *testing.T) { testPlotOnlyEmbed(t, b, srv) })
 }
 
 // normalModel uses a data column y: a normal with unknown mean and sd.
@@ -287,4 +290,32 @@ func testSlider(t *testing.T, b *browser, srv *siteServer) {
 	}
 	tb.do(t, 10*time.Second, chromedp.Evaluate[chromedp.Void](`window.scrollTo(0, 0)`))
 	tb.screenshot(t, "workflow-slider-1280x800.png", false)
+}
+
+// testPlotOnlyEmbed: an embed link with the plots-only layout and a height
+// cap shows the plots and nothing of the editor, the table or the
+// diagnostics, within the cap.
+func testPlotOnlyEmbed(t *testing.T, b *browser, srv *siteServer) {
+	frag, err := share.Encode(share.State{Model: "param a\nparam b\n-(a^2)/2 - (b - a^2/3)^2/2\n",
+		View: share.View{Embed: true, PlotOnly: true, MaxHeight: 420}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	tb := b.newTab(t, true)
+	defer tb.close()
+	tb.open(t, srv.URL+"/#"+frag)
+	waitFor(t, tb, 20*time.Second, "the plot", `document.querySelectorAll("#bc-output svg").length > 0`)
+	for _, sel := range []string{"table.results", "#bc-model", ".diag", ".data-panel"} {
+		if n := eval[int](t, tb, 5*time.Second, `document.querySelectorAll(`+jsString(sel)+`).length`); n != 0 {
+			t.Errorf("the plots-only embed shows %d %s", n, sel)
+		}
+	}
+	h := eval[float64](t, tb, 5*time.Second, `document.getElementById("bc-root").getBoundingClientRect().height`)
+	if h > 420.5 {
+		t.Errorf("the embed is %.0f px high, above its cap of 420", h)
+	}
+	if n := eval[int](t, tb, 5*time.Second, `document.querySelectorAll("#open-full, .open-full").length`); n == 0 {
+		t.Error("no link to the full calculator")
+	}
+	tb.screenshot(t, "workflow-plot-only-embed.png", false)
 }

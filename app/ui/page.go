@@ -186,6 +186,7 @@ func (p *Page) shareState() share.State {
 	st := toShare(p.text, m, p.s.Choices(m), p.view)
 	st.Data = p.linkData()
 	st.View.Embed, st.View.ReadOnly, st.View.EditorCollapsed = p.mode.Embed, p.mode.ReadOnly, p.mode.Folded
+	st.View.PlotOnly, st.View.MaxHeight = p.mode.PlotOnly, p.mode.MaxHeight
 	return st
 }
 
@@ -355,7 +356,7 @@ func (p *Page) Render() app.UI {
 			app.Div().Class("top-right").Body(
 				&RunStatus{Run: p.runState()},
 				&Toolbar{Host: p, EmbedReadOnly: p.tools.embedRO, EmbedFolded: p.tools.embedFold,
-					EmbedCode: p.openEmbedSnippet(), Export: p.exportChoices()},
+					EmbedCode: p.openEmbedSnippet(), Export: p.exportChoices(), Layout: p.embedLayoutPanel()},
 			),
 		),
 		&ToolTray{Host: p, Message: p.tools.msg, Field: p.tools.field, Warn: p.tools.warn},
