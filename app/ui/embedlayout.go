@@ -32,7 +32,8 @@ func capHeight(root app.HTMLDiv, maxH int) app.HTMLDiv {
 	if maxH <= 0 {
 		return root
 	}
-	return root.Style("max-height", strconv.Itoa(maxH)+"px").Style("overflow-y", "auto")
+	return root.Style("max-height", strconv.Itoa(maxH)+"px").Style("overflow-y", "auto").
+		Style("--bc-maxh", strconv.Itoa(maxH)+"px")
 }
 
 // renderPlotOnly is the embed view with the plots alone: for a figure in
