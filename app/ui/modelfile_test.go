@@ -3,10 +3,12 @@ package ui
 import (
 	"math"
 	"reflect"
+	"strconv"
 	"strings"
 	"testing"
 	"time"
 
+	"bellcheck/app/share"
 	"bellcheck/engine"
 	"bellcheck/engine/data"
 	"bellcheck/engine/model"
@@ -184,5 +186,35 @@ func TestLiveConstantRuns(t *testing.T) {
 	s.Edit(src + "# changed\n")
 	if s.Constants != nil {
 		t.Error("a new text kept the slider's value")
+	}
+}
+
+// Data up to share.MaxData of CSV goes into the link; beyond it the link
+// holds the model alone and the panel says so.
+func TestDataInLinkUpToLimit(t *testing.T) {
+	p := NewPage()
+	var b strings.Builder
+	b.WriteString("y\n")
+	for i := 0; b.Len() <= share.MaxData; i++ {
+		b.WriteString(strconv.Itoa(100000+i) + "\n")
+	}
+	big, err := data.Parse(b.String())
+	if err != nil {
+		t.Fatal(err)
+	}
+	p.setData(big, "big.csv")
+	if v := p.dataView(); v.InLink || v.CSVBytes <= share.MaxData {
+		t.Errorf("a table of %d bytes: InLink %v", v.CSVBytes, v.InLink)
+	}
+	if st := p.shareState(); st.Data != "" {
+		t.Errorf("the link carries %d bytes of data beyond the limit", len(st.Data))
+	}
+	small, _ := data.Parse("y\n1\n2\n")
+	p.setData(small, "pasted columns")
+	if st := p.shareState(); st.Data != "y\n1\n2\n" {
+		t.Errorf("the link carries %q, want the small table", st.Data)
+	}
+	if !p.dataView().InLink {
+		t.Error("a small table is said not to travel in the link")
 	}
 }
