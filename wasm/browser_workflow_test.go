@@ -9,8 +9,8 @@ package main
 import (
 	"bytes"
 	"encoding/json"
-	"image/png"
 	"fmt"
+	"image/png"
 	"os"
 	"path/filepath"
 	"strings"
