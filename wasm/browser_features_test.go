@@ -233,27 +233,33 @@ func testExport(t *testing.T, b *browser, srv *siteServer) {
 }
 
 // validTable checks a copied table: Markdown rows of one width with the
-// separator row second; a LaTeX tabular environment whose rows end in \\.
+// separator row second (in each table, where the text holds several: the
+// results and the curvatures, apart by a blank line); a LaTeX tabular
+// environment whose rows end in \\.
 func validTable(format, text string) error {
-	lines := strings.Split(strings.TrimSpace(text), "\n")
 	switch format {
 	case "markdown":
-		var rows []string
-		for _, l := range lines {
-			if strings.HasPrefix(strings.TrimSpace(l), "|") {
-				rows = append(rows, strings.TrimSpace(l))
+		for _, block := range strings.Split(strings.TrimSpace(text), "\n\n") {
+			var rows []string
+			for _, l := range strings.Split(block, "\n") {
+				if strings.HasPrefix(strings.TrimSpace(l), "|") {
+					rows = append(rows, strings.TrimSpace(l))
+				}
 			}
-		}
-		if len(rows) < 3 {
-			return fmt.Errorf("%d table rows", len(rows))
-		}
-		if strings.Trim(rows[1], "|-: ") != "" {
-			return fmt.Errorf("second row %q is not a separator", rows[1])
-		}
-		w := strings.Count(rows[0], "|")
-		for _, r := range rows {
-			if strings.Count(strings.ReplaceAll(r, `\|`, ""), "|") != w {
-				return fmt.Errorf("row %q has another width than the header", r)
+			if len(rows) == 0 {
+				continue // a note under a table
+			}
+			if len(rows) < 3 {
+				return fmt.Errorf("%d table rows", len(rows))
+			}
+			if strings.Trim(rows[1], "|-: ") != "" {
+				return fmt.Errorf("second row %q is not a separator", rows[1])
+			}
+			w := strings.Count(rows[0], "|")
+			for _, r := range rows {
+				if strings.Count(strings.ReplaceAll(r, `\|`, ""), "|") != w {
+					return fmt.Errorf("row %q has another width than the header", r)
+				}
 			}
 		}
 	case "latex":
