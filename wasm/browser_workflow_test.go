@@ -34,6 +34,7 @@ func TestBrowserWorkflow(t *testing.T) {
 	t.Run("Candidate", func(t *testing.T) { testCandidate(t, b, srv) })
 	t.Run("Slider", func(t *testing.T) { testSlider(t, b, srv) })
 	t.Run("PlotOnlyEmbed", func(t *testing.T) { testPlotOnlyEmbed(t, b, srv) })
+	t.Run("GridFields", func(t *testing.T) { testGridFields(t, b, srv) })
 }
 
 // normalModel uses a data column y: a normal with unknown mean and sd.
@@ -318,4 +319,40 @@ func testPlotOnlyEmbed(t *testing.T, b *browser, srv *siteServer) {
 		t.Error("no link to the full calculator")
 	}
 	tb.screenshot(t, "workflow-plot-only-embed.png", false)
+}
+
+// setField types a value into an input and commits it (a change event).
+func setField(t *testing.T, tb *tab, id, v string) {
+	t.Helper()
+	eval[bool](t, tb, 5*time.Second, `(() => { const el = document.getElementById(`+jsString(id)+`);
+  el.value = `+jsString(v)+`; el.dispatchEvent(new Event("change", {bubbles: true})); return true; })()`)
+}
+
+// testGridFields: the grid-range fields never hold a value the analysis
+// does not use: a box whose start is above its end is cleared, and a value
+// typed for one model's parameter is gone when another model's parameter
+// takes its place.
+func testGridFields(t *testing.T, b *browser, srv *siteServer) {
+	tb := b.newTab(t, true)
+	defer tb.close()
+	tb.open(t, srv.URL+"/")
+	done := tb.state(t).Done
+	tb.editModel(t, "param m\n-m^2/2\n")
+	tb.waitDone(t, done, 90*time.Second)
+	setField(t, tb, "bc-p0-lo", "5")
+	setField(t, tb, "bc-p0-hi", "3")
+	waitFor(t, tb, 20*time.Second, "the fields cleared", `document.getElementById("bc-p0-lo").value === "" && document.getElementById("bc-p0-hi").value === ""`)
+	done = tb.state(t).Done
+	setField(t, tb, "bc-p0-lo", "-2")
+	tb.waitDone(t, done, 90*time.Second)
+	if got := eval[string](t, tb, 5*time.Second, `document.querySelector(".modes-grid .facts").textContent`); !strings.Contains(got, "m ∈ [−2") && !strings.Contains(got, "m ∈ [-2") {
+		t.Errorf("the grid with lower side -2: %q", got)
+	}
+	// The user types into the field without committing, then the model
+	// changes to another parameter: the field is cleared.
+	eval[bool](t, tb, 5*time.Second, `(document.getElementById("bc-p0-hi").value = "7", true)`)
+	done = tb.state(t).Done
+	tb.editModel(t, "param x\n-x^2/2\n")
+	tb.waitDone(t, done, 90*time.Second)
+	waitFor(t, tb, 10*time.Second, "the fields of x blank", `document.getElementById("bc-p0-lo").value === "" && document.getElementById("bc-p0-hi").value === ""`)
 }
