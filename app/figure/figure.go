@@ -37,8 +37,16 @@ type Options struct {
 	XLabel, YLabel string
 	// XView and YView, when their ends differ, fix the plotted ranges (so
 	// the panels of a grid share each parameter's range); otherwise each
-	// figure finds its own.
+	// figure finds its own. A marginal's YView is its density axis.
 	XView, YView [2]float64
+	// Candidates names the user's candidate Gaussians, in the order of
+	// Result.Candidates; HideCandidates leaves them out.
+	Candidates     []string
+	HideCandidates bool
+	// PinnedMarginal and PinnedPair are an earlier result's exact density
+	// of the same parameters, drawn faintly beneath (nil for none).
+	PinnedMarginal *engine.Marginal1D
+	PinnedPair     *engine.Marginal2D
 }
 
 // fixed reports whether a view range is set.

@@ -17,9 +17,13 @@ func Marginal(m *engine.Marginal1D, o Options) *Figure {
 	if !ok || len(m.X) < 2 || !(m.X[len(m.X)-1] > m.X[0]) {
 		return nil
 	}
+	hi = candidateTop(m, o, hi)
 	xlo, xhi := MarginalView(m, o)
 	if fixed(o.XView) {
 		xlo, xhi = o.XView[0], o.XView[1]
+	}
+	if fixed(o.YView) { // a held density axis
+		lo, hi = o.YView[0], o.YView[1]
 	}
 	f := &Figure{W: 480, H: 250}
 	f.Plot = Box{X0: 58, Y0: 12, X1: f.W - 14, Y1: f.H - 42}
@@ -58,10 +62,18 @@ func Marginal(m *engine.Marginal1D, o Options) *Figure {
 			w.stroke(plot.Curve(m.X, transform(curves[meth], o.Log), f.X, f.Y), plot.StyleOf(meth), "")
 		}
 	}
+	w.pinnedCurve(o.PinnedMarginal, o, f.X, f.Y)
+	w.candidateCurves(m, o, f.X, f.Y, f.Plot, false)
 	if o.shown(plot.Exact) {
 		w.stroke(plot.Curve(m.X, exact, f.X, f.Y), plot.StyleOf(plot.Exact), "")
 	}
 	w.raw("</g>")
+	w.candidateCurves(m, o, f.X, f.Y, f.Plot, true)
+	for _, meth := range plot.Fits {
+		if o.shown(meth) {
+			w.clippedMark(m.X, transform(curves[meth], o.Log), f.X, f.Y, f.Plot, plot.StyleOf(meth))
+		}
+	}
 	xl := o.XLabel
 	if o.Compact {
 		xl = ""
@@ -119,4 +131,30 @@ func (w *svgWriter) area(xs, ys []float64, sx, sy plot.Linear, base float64) {
 	if !p.Empty() {
 		w.raw(`<path d="`, p.String(), `" fill="`, plot.StyleOf(plot.Exact).Colour, `" fill-opacity="0.09" stroke="none"/>`)
 	}
+}
+
+// clippedMark marks a curve that rises above the panel: a small triangle at
+// the top edge, above the curve's highest point, in the curve's colour,
+// with its peak value as a tooltip. The panel's height follows the exact
+// density (a fit may reach twice its peak), so a much narrower fit would
+// otherwise look cut flat.
+func (w *svgWriter) clippedMark(xs, ys []float64, sx, sy plot.Linear, box Box, s plot.Style) {
+	top := math.Max(sy.D0, sy.D1)
+	best, at := math.Inf(-1), -1
+	for i := range min(len(xs), len(ys)) {
+		if y := ys[i]; !math.IsNaN(y) && y > best {
+			best, at = y, i
+		}
+	}
+	if at < 0 || !(best > top) {
+		return
+	}
+	x := sx.At(xs[at])
+	if x < box.X0 || x > box.X1 {
+		return
+	}
+	y := box.Y0
+	w.raw(`<path d="M`, num(x-5), " ", num(y+8), " L", num(x), " ", num(y), " L", num(x+5), " ", num(y+8),
+		` Z" fill="`, s.Colour, `" stroke="white" stroke-width="0.8"><title>`, s.Name, " peaks at ",
+		plot.FormatNumber(best, 4), ", above the panel</title></path>")
 }

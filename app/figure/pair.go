@@ -107,6 +107,8 @@ func Pair(p *engine.Marginal2D, mx, my *engine.Marginal1D, o Options) *Figure {
 			w.stroke(plot.Outline(lines[k], true, f.X, f.Y), ls, "")
 		}
 	}
+	w.pinnedContours(o.PinnedPair, f.X, f.Y)
+	w.candidateContours(p, o, f.X, f.Y)
 	if o.shown(plot.Exact) {
 		s := plot.StyleOf(plot.Exact)
 		for k, level := range p.Levels {
@@ -156,6 +158,11 @@ func (w *svgWriter) edgeMarginal(m *engine.Marginal1D, box Box, along plot.Linea
 			top = math.Max(top, math.Min(h, 1.6*peak))
 		}
 	}
+	for _, ys := range m.Candidates {
+		if _, h, ok := plot.Extent(ys); ok && !o.HideCandidates {
+			top = math.Max(top, math.Min(h, 1.6*peak))
+		}
+	}
 	var across plot.Linear
 	if rotated {
 		across = plot.Linear{D0: 0, D1: top, R0: box.X0, R1: box.X1}
@@ -188,6 +195,13 @@ func (w *svgWriter) edgeMarginal(m *engine.Marginal1D, box Box, along plot.Linea
 	for _, meth := range plot.Fits {
 		if o.shown(meth) && curves[meth] != nil {
 			draw(curves[meth], plot.StyleOf(meth))
+		}
+	}
+	if !o.HideCandidates {
+		for k, ys := range m.Candidates {
+			if ys != nil {
+				draw(ys, CandidateStyle(k, o.candidateName(k)))
+			}
 		}
 	}
 	if o.shown(plot.Exact) {

@@ -34,3 +34,9 @@ var ErrClipboardRefused = errors.New("jsdom: the browser refused to write to the
 type Rect struct {
 	X, Y, Width, Height float64
 }
+
+// ErrNoFile is returned when a file input or a drop holds no file.
+var ErrNoFile = errors.New("jsdom: no file was given")
+
+// ErrTooLarge is returned for a file larger than the caller accepts.
+var ErrTooLarge = errors.New("jsdom: the file is too large")

@@ -95,3 +95,14 @@ func ExposeAPI(name string, props map[string]string, funcs map[string]AsyncFunc)
 
 // DispatchEvent fires an event on window; natively it returns ErrNoBrowser.
 func DispatchEvent(eventType string) error { return ErrNoBrowser }
+
+// ReadInputFile reads a chosen file; natively it reports ErrNoBrowser.
+func ReadInputFile(id string, maxBytes int, done func(name, text string, err error)) {
+	done("", "", ErrNoBrowser)
+}
+
+// OnDropFile makes an element a file drop target; natively it returns
+// ErrNoBrowser.
+func OnDropFile(id string, maxBytes int, done func(name, text string, err error)) error {
+	return ErrNoBrowser
+}

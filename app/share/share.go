@@ -26,7 +26,13 @@ const (
 	MaxFragment = 256 << 10
 	// maxJSON bounds the inflated JSON, so a small link cannot expand
 	// into a large allocation.
-	maxJSON = 2*model.MaxSource + 64<<10
+	maxJSON = 2*model.MaxSource + 2*MaxData + 64<<10
+	// MinEmbedHeight and MaxEmbedHeight bound View.MaxHeight.
+	MinEmbedHeight = 150
+	MaxEmbedHeight = 4000
+	// MaxData is the most attached data a link carries: its CSV text
+	// (data.Table.CSV), in bytes. Larger data stays with the page only.
+	MaxData = 64 << 10
 	// MaxPoints bounds a parameter's grid points in a link.
 	MaxPoints = 4001
 )
@@ -51,6 +57,11 @@ type View struct {
 	ReadOnly bool `json:"ro,omitempty"`
 	// EditorCollapsed starts the embed view with the editor folded away.
 	EditorCollapsed bool `json:"fold,omitempty"`
+	// PlotOnly shows the plots alone (embed view only).
+	PlotOnly bool `json:"plot,omitempty"`
+	// MaxHeight caps the embed view's height in CSS pixels (0 for no cap;
+	// otherwise MinEmbedHeight to MaxEmbedHeight); it scrolls within.
+	MaxHeight int `json:"maxh,omitempty"`
 }
 
 // State is everything a link restores.
@@ -58,6 +69,9 @@ type State struct {
 	Model  string                `json:"m"`
 	Params []engine.ParamOptions `json:"p,omitempty"`
 	View   View                  `json:"v,omitempty"`
+	// Data is the attached data table as CSV ("" for none), at most
+	// MaxData bytes.
+	Data string `json:"d,omitempty"`
 }
 
 // Encode returns the fragment (without '#') for s.
@@ -139,6 +153,12 @@ func validate(s State) error {
 	}
 	if !utf8.ValidString(s.Model) {
 		return errors.New("model text is not valid UTF-8")
+	}
+	if h := s.View.MaxHeight; h != 0 && (h < MinEmbedHeight || h > MaxEmbedHeight) {
+		return fmt.Errorf("embed height cap %d, want 0 or %d to %d", h, MinEmbedHeight, MaxEmbedHeight)
+	}
+	if len(s.Data) > MaxData {
+		return fmt.Errorf("attached data of %d bytes exceeds %d", len(s.Data), MaxData)
 	}
 	if len(s.Params) > model.MaxParams {
 		return fmt.Errorf("%d parameter settings, at most %d", len(s.Params), model.MaxParams)

@@ -6,6 +6,7 @@ import (
 	"encoding/base64"
 	"errors"
 	"reflect"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -25,6 +26,7 @@ func TestRoundTrip(t *testing.T) {
 		{Model: "ünïcödé = 1 # ∑ λ\n-x^2"},
 		{Model: "<script>alert(1)</script>\n\"'&"},
 		{Model: strings.Repeat("-x^2/2 + 0.001*x\n", 3000)},
+		{Model: "param m\nsum(ld_normal(y, m, 1))", Data: "y\n1.5\n-2\n3e-07\n"},
 	}
 	for i, want := range cases {
 		frag, err := Encode(want)
@@ -140,4 +142,36 @@ func FuzzDecode(f *testing.F) {
 			t.Fatalf("re-decode gave %+v, %v; want %+v", back, err, s)
 		}
 	})
+}
+
+// A link carries attached data up to MaxData bytes of CSV, and the largest
+// data beside the largest model still fits in a fragment: digits chosen at
+// random compress worst of all (a linear congruential generator, Knuth's
+// MMIX constants, from memory).
+func TestDataInLinks(t *testing.T) {
+	var b strings.Builder
+	b.WriteString("y\n")
+	x := uint64(1)
+	for b.Len() < MaxData-24 {
+		x = x*6364136223846793005 + 1442695040888963407
+		b.WriteString(strconv.FormatUint(x>>11, 10))
+		b.WriteByte('\n')
+	}
+	st := State{Model: strings.Repeat("-x^2/2 + 0.001*x\n", 3800), Data: b.String()}
+	frag, err := Encode(st)
+	if err != nil {
+		t.Fatalf("Encode of %d bytes of data: %v", len(st.Data), err)
+	}
+	got, err := Decode(frag)
+	if err != nil || got.Data != st.Data {
+		t.Fatalf("Decode: %v (data equal: %v)", err, got.Data == st.Data)
+	}
+	st.Data = strings.Repeat("1\n", MaxData/2+1)
+	frag, err = Encode(st)
+	if err != nil {
+		t.Fatalf("Encode: %v", err)
+	}
+	if _, err := Decode(frag); !errors.Is(err, ErrBadContent) {
+		t.Errorf("Decode of a link with %d bytes of data: %v, want ErrBadContent", len(st.Data), err)
+	}
 }

@@ -46,6 +46,10 @@ type Mode struct {
 	ReadOnly bool
 	// Folded starts the embed view with the editor folded away.
 	Folded bool
+	// PlotOnly shows the plots alone; MaxHeight caps the view's height
+	// (0 for none; embedlayout.go).
+	PlotOnly  bool
+	MaxHeight int
 }
 
 // OutputState returns the results area's state, one of the State
@@ -77,7 +81,7 @@ func embedLink(frag string) bool {
 
 // setMode takes the embed choices of a link's view.
 func (p *Page) setMode(v share.View) {
-	p.mode = Mode{Embed: true, ReadOnly: v.ReadOnly, Folded: v.EditorCollapsed}
+	p.mode = Mode{Embed: true, ReadOnly: v.ReadOnly, Folded: v.EditorCollapsed, PlotOnly: v.PlotOnly, MaxHeight: v.MaxHeight}
 	p.folded = v.EditorCollapsed
 }
 
@@ -170,7 +174,10 @@ func (p *Page) modelSummary() string {
 
 // renderEmbed draws the compact view for an iframe.
 func (p *Page) renderEmbed() app.UI {
-	return &EmbedView{Host: p, ReadOnly: p.mode.ReadOnly, Folded: p.folded, Summary: p.modelSummary(),
+	if p.mode.PlotOnly {
+		return p.renderPlotOnly() // embedlayout.go
+	}
+	return &EmbedView{Host: p, MaxHeight: p.mode.MaxHeight, ReadOnly: p.mode.ReadOnly, Folded: p.folded, Summary: p.modelSummary(),
 		FullLink: p.fullLink(), Run: p.runState(), Notice: p.notice, Model: p.modelInput(), Out: p.resultView()}
 }
 
@@ -192,6 +199,8 @@ type EmbedView struct {
 	// the editor, and Summary describes the model in its place.
 	ReadOnly, Folded bool
 	Summary          string
+	// MaxHeight caps the view's height (0 for none).
+	MaxHeight int
 	// FullLink opens the state in the full calculator.
 	FullLink string
 	Run      RunState
@@ -209,7 +218,7 @@ func (v *EmbedView) Render() app.UI {
 	}
 	ed := v.Model.editor(v.Host)
 	ed.ReadOnly = ro
-	return app.Div().ID(RootID).Class("page embed").Body(
+	return capHeight(app.Div().ID(RootID).Class("page embed"), v.MaxHeight).Body(
 		app.Header().Class("embed-top").Body(
 			app.Div().Class("brand").Body(
 				app.Raw(logoSVG),

@@ -319,7 +319,7 @@ func TestRawHTMLNeverTakesUserText(t *testing.T) {
 		t.Error("no app.Raw call found: the scan is broken")
 	}
 	// jsdom, the one package with the browser's API, sets no HTML.
-	for _, name := range []string{"../jsdom/dom_js.go", "../jsdom/share_js.go"} {
+	for _, name := range []string{"../jsdom/dom_js.go", "../jsdom/share_js.go", "../jsdom/file_js.go"} {
 		src, err := os.ReadFile(name)
 		if err != nil {
 			t.Fatal(err)

@@ -48,6 +48,10 @@ type FigureSet struct {
 type View struct {
 	Log    bool
 	Hidden [plot.NumMethods]bool
+	// Hold, when set, keeps the plots' axes as they were; Pin is an
+	// earlier result drawn faintly beneath (live.go).
+	Hold *Axes
+	Pin  *engine.Result
 }
 
 // BuildFigures draws every plot of a result. It returns nil when the result
@@ -75,7 +79,10 @@ func BuildFigures(r *engine.Result, v View) *FigureSet {
 		return nil
 	}
 	opts := func(id string, compact bool, x, y string) figure.Options {
-		return figure.Options{ID: id, Log: v.Log, Hidden: v.Hidden, Compact: compact, XLabel: x, YLabel: y}
+		o := figure.Options{ID: id, Log: v.Log, Hidden: v.Hidden, Compact: compact, XLabel: x, YLabel: y, Candidates: candidateNames(r)}
+		v.Hold.apply(&o, r.Params, x, y)
+		pinInto(&o, v.Pin, r.Params, x, y)
+		return o
 	}
 	switch {
 	case d == 1:
@@ -98,10 +105,13 @@ func BuildFigures(r *engine.Result, v View) *FigureSet {
 			if m := marg(i); m != nil {
 				lo, hi := figure.MarginalView(m, figure.Options{Hidden: v.Hidden})
 				views[i] = [2]float64{lo, hi}
+				if v.Hold.fits(r.Params) {
+					views[i] = v.Hold.Ranges[i]
+				}
 			}
 		}
 		opts = func(id string, compact bool, x, y string) figure.Options {
-			o := figure.Options{ID: id, Log: v.Log, Hidden: v.Hidden, Compact: compact, XLabel: x, YLabel: y}
+			o := figure.Options{ID: id, Log: v.Log, Hidden: v.Hidden, Compact: compact, XLabel: x, YLabel: y, Candidates: candidateNames(r)}
 			for i, n := range r.Params {
 				if n == x {
 					o.XView = views[i]
@@ -110,6 +120,7 @@ func BuildFigures(r *engine.Result, v View) *FigureSet {
 					o.YView = views[i]
 				}
 			}
+			pinInto(&o, v.Pin, r.Params, x, y)
 			return o
 		}
 		fs.Grid = make([][]*Panel, d)

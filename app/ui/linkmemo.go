@@ -27,6 +27,9 @@ func stateKey(st share.State, extra ...string) string {
 	var b strings.Builder
 	b.WriteString(st.Model)
 	b.WriteByte(0)
+	b.WriteString(st.Data)
+	b.WriteByte(0)
+	b.WriteString(strconv.FormatBool(st.View.PlotOnly) + "," + strconv.Itoa(st.View.MaxHeight) + ",")
 	for _, f := range []bool{st.View.LogScale, st.View.Embed, st.View.ReadOnly, st.View.EditorCollapsed} {
 		b.WriteString(strconv.FormatBool(f))
 		b.WriteByte(',')

@@ -58,7 +58,7 @@ func (c *ModesGrid) Render() app.UI {
 	}
 	t := c.Times
 	return app.Div().Class(cls).Body(
-		&Modes{Params: r.Params, Items: modes},
+		&Modes{Params: r.Params, Items: modes, Cost: r.Form == "cost"},
 		app.Dl().Class("facts").Body(
 			app.Dt().Text("grid"), app.Dd().Text(strings.Join(box, "; ")),
 			app.Dt().Text("mass in the edge layer"), app.Dd().Text(plot.FormatNumber(r.Grid.EdgeMass, 2)+" (largest over the faces)"),

@@ -48,6 +48,8 @@ type Page struct {
 	folded bool
 	// tools is the state of the share and export tools.
 	tools toolState
+	// data is the attached table's source and stored form (datapanel.go).
+	data attached
 }
 
 // NewPage returns the page with the default example loaded.
@@ -85,6 +87,9 @@ func (p *Page) OnMount(ctx app.Context) {
 		ctx.Dispatch(func(ctx app.Context) { p.OpenLink(ctx) })
 	})
 	p.open(ctx)
+	if !p.mode.Embed {
+		p.watchDrops(ctx)
+	}
 	p.afterRender(ctx)
 }
 
@@ -173,7 +178,9 @@ func (p *Page) shareState() share.State {
 		m = p.s.LastGood
 	}
 	st := toShare(p.text, m, p.s.Choices(m), p.view)
+	st.Data = p.linkData()
 	st.View.Embed, st.View.ReadOnly, st.View.EditorCollapsed = p.mode.Embed, p.mode.ReadOnly, p.mode.Folded
+	st.View.PlotOnly, st.View.MaxHeight = p.mode.PlotOnly, p.mode.MaxHeight
 	return st
 }
 
@@ -252,6 +259,7 @@ func (p *Page) check(ctx app.Context) {
 // is valid.
 func (p *Page) checked(ctx app.Context, valid bool) {
 	p.persistSoon(ctx)
+	p.syncParamFields(ctx)
 	if valid {
 		p.start(ctx)
 		return
@@ -263,6 +271,7 @@ func (p *Page) checked(ctx app.Context, valid bool) {
 func (p *Page) SetParam(ctx app.Context, name string, o engine.ParamOptions) {
 	p.s.SetParam(name, o)
 	p.persist()
+	p.syncParamFields(ctx)
 	if p.s.Model != nil && !p.pending {
 		p.start(ctx)
 	}
@@ -274,6 +283,7 @@ func (p *Page) LoadExample(ctx app.Context, id string) {
 	if !ok {
 		return
 	}
+	p.setData(nil, "")
 	p.LoadState(ctx, ex.Source, ex.Params, p.view)
 	p.example = ex.ID
 }
@@ -292,6 +302,7 @@ func (p *Page) LoadState(ctx app.Context, src string, params ParamChoices, v Vie
 // name them.
 func (p *Page) loadLink(ctx app.Context, st share.State) {
 	p.load(st.Model, View{Log: st.View.LogScale})
+	p.openData(st.Data)
 	valid := p.s.Edit(st.Model)
 	// An option the engine would refuse is set back to its default
 	// (LinkProblems says which, for the notice).
@@ -323,7 +334,7 @@ func (p *Page) State() (src string, params ParamChoices, v View) {
 
 // SetView implements Host.
 func (p *Page) SetView(ctx app.Context, log bool, hidden [plot.NumMethods]bool) {
-	p.view = View{Log: log, Hidden: hidden}
+	p.view = View{Log: log, Hidden: hidden, Hold: p.view.Hold, Pin: p.view.Pin}
 	p.figs = numbered(BuildFigures(p.s.Result, p.view))
 	p.persist()
 }
@@ -344,7 +355,7 @@ func (p *Page) Render() app.UI {
 			app.Div().Class("top-right").Body(
 				&RunStatus{Run: p.runState()},
 				&Toolbar{Host: p, EmbedReadOnly: p.tools.embedRO, EmbedFolded: p.tools.embedFold,
-					EmbedCode: p.openEmbedSnippet(), Export: p.exportChoices()},
+					EmbedCode: p.openEmbedSnippet(), Export: p.exportChoices(), Layout: p.embedLayoutPanel()},
 			),
 		),
 		&ToolTray{Host: p, Message: p.tools.msg, Field: p.tools.field, Warn: p.tools.warn},
@@ -352,6 +363,8 @@ func (p *Page) Render() app.UI {
 		app.Main().Class("layout").Body(
 			app.Section().Class("col-input").Aria("label", "Model and settings").Body(
 				card("Model", "bc-h-model", in.editor(p)),
+				p.liveCard(),
+				card("Data", "bc-h-data", &DataPanel{Host: p, View: p.dataView()}),
 				card("Parameters", "bc-h-params", in.params(p)),
 				card("Examples", "bc-h-examples", &Gallery{Host: p, Current: p.example}),
 				p.historyCard(),

@@ -17,8 +17,9 @@ type ParamView struct {
 	Name string
 	// Lo and Hi are the support from the model.
 	Lo, Hi float64
-	// Options are the chosen options.
-	Options engine.ParamOptions
+	// Options are the chosen options; File those the model text's own
+	// setting lines give (the page's choices override them).
+	Options, File engine.ParamOptions
 	// Used describes the grid of the last result ("" before one).
 	UsedLo, UsedHi float64
 	UsedPoints     int
@@ -35,14 +36,22 @@ func ParamViews(s *Session) []ParamView {
 		return nil
 	}
 	out := make([]ParamView, len(m.Params))
+	shown := shownOptions(s)
 	for i, p := range m.Params {
-		v := ParamView{Name: p.Name, Lo: p.Lo, Hi: p.Hi, Options: s.Param(p.Name), UsedLo: math.NaN(), UsedHi: math.NaN()}
+		var file engine.ParamOptions
+		if i < len(s.File.Params) {
+			file = s.File.Params[i]
+		}
+		v := ParamView{File: file, Name: p.Name, Lo: p.Lo, Hi: p.Hi, Options: s.Param(p.Name), UsedLo: math.NaN(), UsedHi: math.NaN()}
 		if r := s.Result; r != nil {
 			for k, name := range r.Params {
 				if name == p.Name && k < len(r.Grid.Lo) && k < len(r.Grid.Hi) && k < len(r.Grid.Points) {
 					v.UsedLo, v.UsedHi, v.UsedPoints = r.Grid.Lo[k], r.Grid.Hi[k], r.Grid.Points[k]
 				}
 			}
+		}
+		if i < len(shown) {
+			v.Options = shown[i]
 		}
 		out[i] = v
 	}
@@ -97,6 +106,9 @@ func (pp *ParamPanel) block(i int, p ParamView) app.UI {
 	}{{engine.Identity, "as is"}, {engine.Log, "log"}, {engine.Logit, "logit"}}
 	var opts []app.UI
 	cur := p.Options.Scale
+	if cur == "" {
+		cur = p.File.Scale
+	}
 	if cur.Check(p.Lo, p.Hi) != nil || cur == "" {
 		cur = engine.Identity
 	}

@@ -113,6 +113,7 @@ func (pp *PlotPanel) legend(fs *FigureSet) app.UI {
 			app.Span().Text(s.Name),
 		))
 	}
+	items = append(items, candidateLegend(fs.Result)...)
 	hasOneD := fs.Dim == 1 || fs.Dim >= 3
 	if hasOneD {
 		items = append(items, app.Label().For("bc-log").Class("legend-item log-toggle").Body(

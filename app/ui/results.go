@@ -12,8 +12,11 @@ import (
 
 // swatch is a short line sample in a method's colour and dash, the same as
 // in the plots.
-func swatch(m plot.Method) app.UI {
-	s := plot.StyleOf(m)
+func swatch(m plot.Method) app.UI { return swatchOf(plot.StyleOf(m)) }
+
+// swatchOf is a short line sample in a style: the page's fixed styles only
+// (their colours and dashes are constants; the name is not used).
+func swatchOf(s plot.Style) app.UI {
 	dash := ""
 	if s.Dash != "" {
 		dash = ` stroke-dasharray="` + s.Dash + `"`
@@ -77,7 +80,7 @@ func (ts *TableSection) Render() app.UI {
 	sec := ts.Section
 	rows := make([]app.UI, 0, len(sec.Rows)+1)
 	rows = append(rows, app.Tr().Class("sec").Body(
-		app.Th().Scope("rowgroup").ColSpan(6).Text(sec.Title)))
+		app.Th().Scope("rowgroup").ColSpan(6).Body(app.Span().Class("sec-title").Text(sec.Title))))
 	for _, r := range sec.Rows {
 		cells := make([]app.UI, 0, len(plot.Methods)+1)
 		cells = append(cells, app.Th().Scope("row").Class("rlabel").Title(r.Hint).Text(r.Label))
@@ -162,6 +165,9 @@ type Modes struct {
 	app.Compo
 	Params []string
 	Items  []engine.Mode
+	// Cost shows the cost J = -log p at each mode (a model given as a
+	// cost) in place of log p.
+	Cost bool
 }
 
 // Render draws the modes as a small table.
@@ -173,8 +179,12 @@ func (m *Modes) Render() app.UI {
 	for _, p := range m.Params {
 		head = append(head, app.Th().Scope("col").Text(p))
 	}
+	value := app.Th().Scope("col").Title("log-density at the mode, up to the model's constant; on the fitting scale (with its Jacobian) where a parameter is transformed").Text("log p")
+	if m.Cost {
+		value = app.Th().Scope("col").Title("the model's cost J = -log p at the mode, on the original scale, as the model writes it").Text("cost J")
+	}
 	head = append(head,
-		app.Th().Scope("col").Title("log-density at the mode, up to the model's constant; on the fitting scale (with its Jacobian) where a parameter is transformed").Text("log p"),
+		value,
 		app.Th().Scope("col").Title("approximate share of the mass near this mode").Text("mass"),
 		app.Th().Scope("col").Text("curvature"),
 	)
@@ -194,7 +204,7 @@ func (m *Modes) Render() app.UI {
 			notes = append(notes, "on a bound")
 		}
 		cells = append(cells,
-			app.Td().Class("num").Text(plot.FormatNumber(md.LogDensity, 5)),
+			app.Td().Class("num").Text(modeValue(md, m.Cost)),
 			app.Td().Class("num").Text(fmtPercent(md.Mass)),
 			app.Td().Class("note").Text(strings.Join(notes, "; ")),
 		)
@@ -205,4 +215,16 @@ func (m *Modes) Render() app.UI {
 		app.THead().Body(app.Tr().Body(head...)),
 		app.TBody().Body(rows...),
 	))
+}
+
+// modeValue is the log-density at a mode, or its cost J for a cost model
+// ("—" where the cost could not be computed).
+func modeValue(md engine.Mode, cost bool) string {
+	if !cost {
+		return plot.FormatNumber(md.LogDensity, 5)
+	}
+	if md.Cost == nil {
+		return "—"
+	}
+	return plot.FormatNumber(*md.Cost, 5)
 }

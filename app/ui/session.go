@@ -7,6 +7,7 @@ import (
 	"time"
 
 	"bellcheck/engine"
+	"bellcheck/engine/data"
 	"bellcheck/engine/model"
 )
 
@@ -55,20 +56,32 @@ type Session struct {
 	// yielding to the browser.
 	Elapsed, LongestSlice time.Duration
 
+	// Data is the attached table (nil for none): its columns are named
+	// vectors of the model (data.go).
+	Data *data.Table
+	// File is what the model text's own setting lines give.
+	File FileOptions
+	// Constants are the live constants' values the sliders set, by name
+	// (live.go); a new text forgets them.
+	Constants map[string]float64
+
 	params ParamChoices
 }
 
 // Edit checks new model text. It reports whether the text is a valid model
 // (so an analysis should start).
 func (s *Session) Edit(src string) bool {
+	if src != s.Source {
+		s.Constants = nil
+	}
 	s.Source = src
-	m, err := model.Parse(src)
-	if err != nil {
+	m, file, errs := parseModel(src, s.Data)
+	if errs != nil {
 		s.Model = nil
-		s.Errors = sourceErrors(err)
+		s.Errors = errs
 		return false
 	}
-	s.Model, s.Errors, s.LastGood = m, nil, m
+	s.Model, s.Errors, s.LastGood, s.File = m, nil, m, file
 	return true
 }
 
@@ -105,7 +118,7 @@ func (s *Session) Begin(now time.Time) (Run, bool) {
 	s.Progress = engine.Progress{}
 	s.Started = now
 	s.RunErr = nil
-	return Run{Gen: s.Gen, Model: s.Model, Options: s.Options()}, true
+	return Run{Gen: s.Gen, Model: s.runModel(), Options: s.Options()}, true
 }
 
 // Cancel marks the running analysis as abandoned (the text became invalid).
@@ -179,8 +192,11 @@ func (s *Session) Options() engine.Options {
 	chosen := s.params.ByIndex(s.Model)
 	for i, p := range s.Model.Params {
 		var po engine.ParamOptions
+		if i < len(s.File.Params) {
+			po = s.File.Params[i]
+		}
 		if i < len(chosen) {
-			po = chosen[i]
+			po = over(po, chosen[i])
 		}
 		if po.Scale.Check(p.Lo, p.Hi) != nil {
 			po.Scale = ""
@@ -198,6 +214,7 @@ func (s *Session) Options() engine.Options {
 		}
 		o.Params[i] = po
 	}
+	o.Candidates, o.Vary = s.File.Candidates, s.File.Vary
 	return o
 }
 

@@ -53,8 +53,10 @@ type Toolbar struct {
 	// EmbedReadOnly and EmbedFolded are the embed snippet's options;
 	// EmbedCode the snippet ("" while the menu is closed).
 	EmbedReadOnly, EmbedFolded bool
-	EmbedCode                  string
-	Export                     ExportChoices
+	// Layout is the embed's layout options (embedlayout.go).
+	Layout    app.UI
+	EmbedCode string
+	Export    ExportChoices
 }
 
 // Render draws the link button and the embed and export menus.
@@ -90,6 +92,7 @@ func (t *Toolbar) Render() app.UI {
 						}),
 					app.Span().Text("start with the model folded away"),
 				),
+				t.Layout,
 				app.Label().Class("sr-only").For(EmbedCodeID).Text("Embed code"),
 				app.Textarea().ID(EmbedCodeID).Class("code-field").ReadOnly(true).Rows(4).
 					Attr("spellcheck", "false").Text(t.EmbedCode),

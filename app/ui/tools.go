@@ -45,6 +45,9 @@ type toolState struct {
 	// embedRO and embedFold are the options of the embed snippet;
 	// embedOpen reports its menu open.
 	embedRO, embedFold, embedOpen bool
+	// embedPlot and embedMaxH are the embed's layout (embedlayout.go).
+	embedPlot bool
+	embedMaxH int
 	// plot is the ID of the panel chosen for export ("" for the first).
 	plot string
 	// snippet and full keep the last embed snippet and full link made.
@@ -67,7 +70,7 @@ func EmbedSnippet(pageURL string, st share.State, readOnly, folded bool) (string
 	}
 	src := pageURL + "#" + frag
 	return `<iframe data-bellcheck src="` + html.EscapeString(src) + `" title="bellcheck calculator" width="100%" height="` +
-		itoa(EmbedHeight) + `" style="border:0;max-width:100%" loading="lazy"></iframe>`, nil
+		itoa(snippetHeight(st.View.MaxHeight)) + `" style="border:0;max-width:100%" loading="lazy"></iframe>`, nil
 }
 
 // embedSnippet is the snippet for the current state; "" outside the
@@ -78,6 +81,7 @@ func (p *Page) embedSnippet() string {
 		return ""
 	}
 	st := p.shareState()
+	st.View.PlotOnly, st.View.MaxHeight = p.tools.embedPlot, p.tools.embedMaxH
 	return p.tools.snippet.get(stateKey(st, base, strconv.FormatBool(p.tools.embedRO), strconv.FormatBool(p.tools.embedFold)), func() string {
 		s, err := EmbedSnippet(base, st, p.tools.embedRO, p.tools.embedFold)
 		if err != nil {
@@ -312,7 +316,7 @@ func (p *Page) ExportPlot(ctx app.Context, png bool) {
 			note = " The heat map could not be read from the page, so the file has the contours only."
 		}
 	}
-	svg, err := export.StandaloneSVG(f.SVG, f.W, f.H, heat)
+	svg, fw, fh, err := p.publicationFigure(pn, heat) // pubexport.go
 	if err != nil {
 		p.say("Could not save the plot: "+err.Error(), true)
 		return
@@ -325,7 +329,7 @@ func (p *Page) ExportPlot(ctx app.Context, png bool) {
 		return
 	}
 	name := filename(p, panelFile(pn), ".png")
-	w, h := int(f.W*pngScale+0.5), int(f.H*pngScale+0.5)
+	w, h := int(fw*pngScale+0.5), int(fh*pngScale+0.5)
 	p.say("Drawing "+name+"…", false)
 	jsdom.DownloadPNG(name, svg, w, h, func(err error) {
 		ctx.Dispatch(func(ctx app.Context) {
