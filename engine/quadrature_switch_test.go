@@ -10,22 +10,14 @@ import (
 	"bellcheck/engine/transform"
 )
 
-// TestMain lets BELLCHECK_QUADRATURE=1 run the whole package's tests with
-// the nested rule switched on (the wiring's check while it is off).
+// TestMain lets BELLCHECK_QUADRATURE=0 run the package's tests with the
+// nested rule switched off (the grid alone; the catalogue's expectations
+// are the rule's, so some cases then disagree).
 func TestMain(m *testing.M) {
-	if os.Getenv("BELLCHECK_QUADRATURE") == "1" {
-		useQuadrature = true
+	if os.Getenv("BELLCHECK_QUADRATURE") == "0" {
+		useQuadrature = false
 	}
 	os.Exit(m.Run())
-}
-
-// TestQuadratureReferences runs the cases of testdata/reference-quadrature,
-// which the grid gets wrong and the nested rule right, with the switch on.
-func TestQuadratureReferences(t *testing.T) {
-	old := useQuadrature
-	useQuadrature = true
-	defer func() { useQuadrature = old }()
-	runReferences(t, "../testdata/reference-quadrature")
 }
 
 // TestWideStarts: given only the lower of two modes (a search that missed

@@ -18,11 +18,11 @@ import (
 // verdicts) from the grid to the nested rule of engine/quadrature, which
 // integrates on the unconstrained scale around the modes (those of the
 // mode search, which starts from the grid's peaks, and those that
-// space-filling starts find). It is off while the wiring is incomplete:
-// the reported modes, the comparison and the plots still come from the
-// grid, and six cases of the pathological catalogue expect the grid's
-// behaviour (see DEVELOPERS.md).
-var useQuadrature = false
+// space-filling starts find). It is on: the rule is the exact reference
+// wherever it applies; the grid's results stay where it does not (see
+// exactByQuadrature). The comparison and the plots still use the grid.
+// Tests turn it off with BELLCHECK_QUADRATURE=0 to check the grid alone.
+var useQuadrature = true
 
 // quadratureLogZErrMax is the error estimate of log Z above which the
 // nested rule's results are not used (the grid's stay).
