@@ -99,8 +99,18 @@ const (
 	refCovTol  = 1e-4
 )
 
+// worstErrors keeps the largest errors a random reference test saw, for
+// its log (go test -v -run TestRandom ./engine/).
+type worstErrors struct{ logZ, mean, cov float64 }
+
+func (w *worstErrors) log(t *testing.T) {
+	t.Logf("worst exact errors: log Z %.3g, mean %.3g sd, covariance %.3g relative", w.logZ, w.mean, w.cov)
+}
+
 func TestRandomGaussians(t *testing.T) {
 	r := rand.New(rand.NewPCG(2026, 12))
+	var worst worstErrors
+	defer worst.log(t)
 	for k := range 24 {
 		d := 1 + k%4
 		g := newRandomGaussian(r, d, 0.999)
@@ -115,18 +125,25 @@ func TestRandomGaussians(t *testing.T) {
 				}
 				return f
 			}
+			worst.logZ = math.Max(worst.logZ, math.Abs(num("exact.log_z")-g.logZ))
 			if e := math.Abs(num("exact.log_z") - g.logZ); e > refLogZTol {
 				t.Errorf("exact log Z off by %.3g (want <= %g)", e, refLogZTol)
 			}
 			for _, who := range []string{"exact", "laplace", "reverse_kl", "forward_kl"} {
 				for i := range d {
 					sdi := math.Sqrt(g.cov.At(i, i))
+					if who == "exact" {
+						worst.mean = math.Max(worst.mean, math.Abs(num(fmt.Sprintf("%s.mean.%d", who, i))-g.mean[i])/sdi)
+					}
 					if e := math.Abs(num(fmt.Sprintf("%s.mean.%d", who, i))-g.mean[i]) / sdi; e > refMeanTol {
 						t.Errorf("%s mean %d off by %.3g sd", who, i, e)
 					}
 					for j := range d {
 						sdj := math.Sqrt(g.cov.At(j, j))
 						got := num(fmt.Sprintf("%s.cov.%d.%d", who, i, j))
+						if who == "exact" {
+							worst.cov = math.Max(worst.cov, math.Abs(got-g.cov.At(i, j))/(sdi*sdj))
+						}
 						if e := math.Abs(got-g.cov.At(i, j)) / (sdi * sdj); e > refCovTol {
 							t.Errorf("%s cov %d,%d off by %.3g of sd_i sd_j", who, i, j, e)
 						}
@@ -146,6 +163,8 @@ func TestRandomGaussians(t *testing.T) {
 func TestRandomProducts(t *testing.T) {
 	r := rand.New(rand.NewPCG(7, 2026))
 	names := []string{"a", "b", "c", "e"}
+	var worst worstErrors
+	defer worst.log(t)
 	for k := range 16 {
 		d := 1 + k%4
 		var terms, decl []string
@@ -181,11 +200,14 @@ func TestRandomProducts(t *testing.T) {
 				}
 				return f
 			}
+			worst.logZ = math.Max(worst.logZ, math.Abs(num("exact.log_z")))
 			if e := math.Abs(num("exact.log_z")); e > refLogZTol {
 				t.Errorf("exact log Z off by %.3g\n%s", e, src)
 			}
 			for i := range d {
 				sd := math.Sqrt(variance[i])
+				worst.mean = math.Max(worst.mean, math.Abs(num(fmt.Sprintf("exact.mean.%d", i))-mean[i])/sd)
+				worst.cov = math.Max(worst.cov, math.Abs(num(fmt.Sprintf("exact.cov.%d.%d", i, i))/variance[i]-1))
 				if e := math.Abs(num(fmt.Sprintf("exact.mean.%d", i))-mean[i]) / sd; e > refMeanTol {
 					t.Errorf("exact mean %d off by %.3g sd\n%s", i, e, src)
 				}
