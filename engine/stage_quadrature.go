@@ -89,6 +89,15 @@ func (a *analysis) integrateNested() (*quadrature.Result, []transform.Map, error
 	if !q.Improper && !(q.LogZErr < quadratureLogZErrMax) {
 		return nil, nil, nil
 	}
+	if q.Improper && !a.gridSeesHeavyTails() {
+		// The rule's tail check takes a share that does not decay where a
+		// walk reaches MaxT for an infinite integral; a density whose
+		// conditional sd at the mode is far narrower than its extent (a
+		// chaotic cost, with local minima over the whole prior range)
+		// fools it, while the grid's box closes around the mass. The
+		// verdicts disagree: the grid's results and checks stay.
+		return nil, nil, nil
+	}
 	if q.NonFiniteNearMass > 0 {
 		// log p is undefined next to the mass (a region the support does
 		// not declare): the density has an edge the rule does not
@@ -102,6 +111,30 @@ func (a *analysis) integrateNested() (*quadrature.Result, []transform.Map, error
 	// still marks the results unresolved when a fit finds mass the rule
 	// missed.
 	return q, maps, nil
+}
+
+// gridSeesHeavyTails reports whether the grid backs an improper verdict:
+// more mass beyond its box than in it, a face its box search capped with
+// mass left in the outer layer (tails too heavy for the grid, as an
+// improper density's), or a power at a bound of the support too steep to
+// integrate.
+func (a *analysis) gridSeesHeavyTails() bool {
+	if a.ref.tailMass > 1 {
+		return true
+	}
+	for k := 0; k < a.d; k++ {
+		for side := 0; side < 2; side++ {
+			if a.ref.box.Capped[k][side] && a.ref.edgeMass[k][side] > 1e-10 {
+				return true
+			}
+		}
+	}
+	for _, sb := range a.singularBounds() {
+		if sb.slope < nonIntegrableSlope {
+			return true
+		}
+	}
+	return false
 }
 
 // quadratureStart returns the rule's start on the unconstrained scale:
