@@ -93,40 +93,64 @@ func (a *analysis) dropOverflow() {
 	o := &a.ref.original
 	d := a.d
 	bad := func(v float64) bool { return math.IsNaN(v) || math.IsInf(v, 0) }
+	// The nested rule leaves NaN where it finds a moment infinite (its tail
+	// verdicts, in the tail shares) and where a moment is already recorded
+	// absent: those are not overflows.
+	quad := a.ref.quad != nil
+	varOut := func(k int) bool {
+		return quad && (math.IsInf(o.TailShare[k], 1) || !a.avail.presentAt(QuantityVariance, k))
+	}
 	// A variance must be a positive normal double: a continuous density
-	// has spread, so zero or a subnormal value is an underflow.
-	badVar := func(v float64) bool { return bad(v) || !(v >= 0x1p-1022) }
+	// has spread, so zero or a subnormal value is an underflow (a variance
+	// the rule left out is not).
+	badVar := func(k int, v float64) bool { return bad(v) || (!varOut(k) && !(v >= 0x1p-1022)) }
+	badCorr := func(k, l int) bool { return !varOut(k) && !varOut(l) && bad(o.Corr[k][l]) }
 	cov := copyRows(o.Cov)
+	mean, skew, kurt := slices.Clone(o.Mean), slices.Clone(o.Skewness), slices.Clone(o.ExcessKurtosis)
+	for k := 0; k < d; k++ {
+		if quad && math.IsInf(o.AbsTailShare[k], 1) {
+			mean[k] = 0 // left out by settleExact (no_mean)
+		}
+		if varOut(k) {
+			skew[k], kurt[k] = 0, 0
+			for l := 0; l < d; l++ {
+				cov[k][l], cov[l][k] = 0, 0
+			}
+		}
+		if quad && math.IsInf(o.KurtosisTailShare[k], 1) {
+			kurt[k] = 0
+		}
+	}
 	var names []string
 	for k := 0; k < d; k++ {
-		over := bad(o.Mean[k]) || badVar(cov[k][k]) || bad(o.Skewness[k]) || bad(o.ExcessKurtosis[k])
+		over := bad(mean[k]) || badVar(k, cov[k][k]) || bad(skew[k]) || bad(kurt[k])
 		for _, q := range o.Quantiles[k] {
 			over = over || bad(q)
 		}
 		for l := 0; l < d; l++ {
-			over = over || bad(cov[k][l]) || bad(o.Corr[k][l])
+			over = over || bad(cov[k][l]) || badCorr(k, l)
 		}
 		if !over {
 			continue
 		}
 		names = append(names, a.names[k])
-		if bad(o.Mean[k]) {
+		if bad(mean[k]) {
 			a.avail.dropAt(QuantityMean, k, CodeOverflow)
 		}
 		if slices.ContainsFunc(o.Quantiles[k][:], bad) {
 			a.avail.dropAt(QuantityQuantiles, k, CodeOverflow)
 		}
-		if badVar(cov[k][k]) || bad(o.Skewness[k]) || bad(o.ExcessKurtosis[k]) {
+		if badVar(k, cov[k][k]) || bad(skew[k]) || bad(kurt[k]) {
 			a.avail.dropAt(QuantitySkewness, k, CodeOverflow)
 			a.avail.dropAt(QuantityKurtosis, k, CodeOverflow)
 		}
 		for l := 0; l < d; l++ {
-			if bad(cov[k][l]) || badVar(cov[k][k]) || bad(o.Corr[k][l]) {
+			if bad(cov[k][l]) || badVar(k, cov[k][k]) || badCorr(k, l) {
 				a.avail.dropPair(QuantityCovariance, k, l, CodeOverflow)
 				cov[k][l], cov[l][k] = math.NaN(), math.NaN()
 			}
 		}
-		if badVar(o.Cov[k][k]) {
+		if badVar(k, cov[k][k]) {
 			a.avail.dropAt(QuantityVariance, k, CodeOverflow)
 		}
 	}
