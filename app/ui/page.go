@@ -22,13 +22,15 @@ type Page struct {
 	initial string // the editor's text when the page was built
 	text    string // the editor's current text
 	editSeq int
-	// persistSeq numbers the requests to persist the state (persistSoon).
-	persistSeq int
-	pending    bool
-	example    string
-	view       View
-	figs       *FigureSet
-	sections   []Section
+	// persistSeq numbers the requests to persist the state (persistSoon);
+	// persistPending reports one not yet carried out.
+	persistSeq     int
+	persistPending bool
+	pending        bool
+	example        string
+	view           View
+	figs           *FigureSet
+	sections       []Section
 	// lastShown is the result as last shown (see shown).
 	lastShown *Shown
 
@@ -187,6 +189,7 @@ func (p *Page) shareState() share.State {
 // persist saves the current state in local storage and in the URL, so a
 // reload restores it and the address bar always holds a link to it.
 func (p *Page) persist() {
+	p.persistPending = false
 	if p.browser == nil {
 		return
 	}
@@ -209,12 +212,28 @@ func (p *Page) persistSoon(ctx app.Context) {
 		ctx = *p.ctx
 	}
 	p.persistSeq++
+	p.persistPending = true
 	seq := p.persistSeq
 	ctx.After(PersistDelay, func(ctx app.Context) {
 		if seq == p.persistSeq {
 			p.persist()
 		}
 	})
+}
+
+// keepPending writes a change still waiting for its PersistDelay to the
+// history at once (not to the URL, which may already hold a link being
+// opened), so that opening a link, an example or another kept model right
+// after typing loses nothing.
+func (p *Page) keepPending() {
+	if !p.persistPending || p.browser == nil || p.mode.Embed {
+		return
+	}
+	p.persistPending = false
+	st := p.shareState()
+	if frag, err := share.Encode(st); err == nil {
+		_ = p.hist().Record(st, frag)
+	}
 }
 
 // OnDismount stops a running analysis.
@@ -312,6 +331,7 @@ func (p *Page) loadLink(ctx app.Context, st share.State) {
 
 // load puts a new text into the editor and takes the view.
 func (p *Page) load(src string, v View) {
+	p.keepPending()
 	p.editSeq++ // drop a pending check of the old text
 	p.pending = false
 	p.text, p.example = src, ""
