@@ -351,7 +351,9 @@ func inverse(a []float64, d int) []float64 {
 func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []transform.Map) error {
 	d := a.d
 	r.quad = q
-	if posInf, layers := a.gridUnresolved(); posInf > 0 || len(layers) > 0 {
+	posInf, layers := a.gridUnresolved()
+	gridResolves := posInf == 0 && len(layers) == 0
+	if !gridResolves {
 		a.avail.drop(QuantityComparison, CodeUnresolved)
 		a.avail.drop(QuantityAxisErrors, CodeUnresolved)
 		a.diag.add(CodeUnresolved, SeverityWarning,
@@ -369,7 +371,13 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 		r.logZ, r.logZErr = math.NaN(), math.NaN()
 		return nil
 	}
-	a.adviseSingularBounds()
+	if gridResolves {
+		// The singular-bound check reads the grid's layers next to a
+		// bound: on a grid that cannot resolve the density they say
+		// nothing (a 1/s prior times a likelihood that vanishes at s = 0
+		// was reported as growing like s^-5).
+		a.adviseSingularBounds()
+	}
 	// The original scale: the rule's own moments; the fitting scale: per
 	// parameter the original (identity fitting scale) or the unconstrained
 	// one (the same log or logit), the cross terms from the node set.
