@@ -31,6 +31,17 @@ func (a *analysis) compareFits() error {
 		return fmt.Errorf("engine: comparing the fits: %w", err)
 	}
 	a.cmp = cmp
+	if a.ref.quad != nil {
+		// The exact moments are the nested rule's: the mean errors and sd
+		// ratios are measured against them, not against the grid's.
+		ex := &a.ref.fitting
+		for i, f := range a.fits {
+			for k := 0; k < a.d; k++ {
+				cmp[i].MeanErrSD[k] = (f.g.Mean[k] - ex.Mean[k]) / ex.SD[k]
+				cmp[i].SDRatio[k] = math.Sqrt(f.g.Cov.At(k, k)) / ex.SD[k]
+			}
+		}
+	}
 	for i, f := range a.fits {
 		c := cmp[i]
 		if a.ref.noise > 0 {
