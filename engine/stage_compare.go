@@ -34,9 +34,14 @@ func (a *analysis) compareFits() error {
 	if a.ref.quad != nil {
 		// The exact moments are the nested rule's: the mean errors and sd
 		// ratios are measured against them, not against the grid's.
-		ex := &a.ref.fitting
+		// On a parameter fitted on its own scale, against the moments the
+		// Result reports as exact (the original scale's).
 		for i, f := range a.fits {
 			for k := 0; k < a.d; k++ {
+				ex := &a.ref.fitting
+				if a.maps[k].Scale.IsIdentity() {
+					ex = &a.ref.original
+				}
 				cmp[i].MeanErrSD[k] = (f.g.Mean[k] - ex.Mean[k]) / ex.SD[k]
 				cmp[i].SDRatio[k] = math.Sqrt(f.g.Cov.At(k, k)) / ex.SD[k]
 			}
