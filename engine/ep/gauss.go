@@ -1,36 +1,17 @@
 package ep
 
-import "math"
+import (
+	"math"
+
+	"bellcheck/engine/internal/dense"
+)
 
 // Dense linear algebra of the small symmetric matrices EP works with (at
 // most 4 by 4, row-major). gonum's mat would allocate on every call.
 
 // cholesky writes the lower Cholesky factor of the d by d symmetric a into
-// l and reports whether a is positive definite.
-func cholesky(l, a []float64, d int) bool {
-	for j := 0; j < d; j++ {
-		s := a[j*d+j]
-		for k := 0; k < j; k++ {
-			s -= l[j*d+k] * l[j*d+k]
-		}
-		if !(s > 0) || math.IsInf(s, 1) {
-			return false
-		}
-		ljj := math.Sqrt(s)
-		l[j*d+j] = ljj
-		for i := j + 1; i < d; i++ {
-			s := a[i*d+j]
-			for k := 0; k < j; k++ {
-				s -= l[i*d+k] * l[j*d+k]
-			}
-			l[i*d+j] = s / ljj
-		}
-		for i := 0; i < j; i++ {
-			l[i*d+j] = 0
-		}
-	}
-	return true
-}
+// l and reports whether a is positive definite (dense.Cholesky).
+func cholesky(l, a []float64, d int) bool { return dense.Cholesky(l, a, d, 0) }
 
 // cholInverse writes a^-1 into inv given the Cholesky factor l of a; work
 // holds d*d scratch values. It returns log det a.
