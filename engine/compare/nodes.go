@@ -1,0 +1,252 @@
+package compare
+
+import (
+	"context"
+	"fmt"
+	"math"
+
+	"bellcheck/engine/gauss"
+	"bellcheck/engine/special"
+	"bellcheck/engine/target"
+)
+
+// OnNodes: KL(p||q), the Hellinger distance and the coverage are weighted
+// sums over the exact reference's node set; KL(q||p) comes from the
+// cubature in q's coordinates (CompareNodes).
+const OnNodes Method = "nodes"
+
+// NodeSet is a weighted set of points where the exact density was
+// evaluated: the integral of f against p is about
+// sum_i exp(LogWeight(i) + LogP(i)) f(z_i) (quadrature.NodeSet).
+type NodeSet interface {
+	Len() int
+	Point(i int, z []float64)
+	LogWeight(i int) float64
+	LogP(i int) float64
+	// Coarse reports whether node i is also a node of the rule of twice
+	// the step (whose weights are 2^d times the finest's).
+	Coarse(i int) bool
+}
+
+// NodeSettings are the inputs of CompareNodes beside the nodes and the
+// Gaussians.
+type NodeSettings struct {
+	// LogZ is log of the integral of p (the rule's own estimate): it
+	// normalises p in the cubature. The sums over the nodes use the node
+	// set's own total, so that p's weights sum to one.
+	LogZ float64
+	// ToFitting maps a node z to the fitting scale, y, and returns
+	// log |det dy/dz| there; nil means the nodes are on the fitting scale.
+	ToFitting func(z, y []float64) float64
+	// Mean and SD are the exact moments on the fitting scale (for the mean
+	// errors and sd ratios).
+	Mean, SD []float64
+	// Density is p on the fitting scale, for the cubature of KL(q||p)
+	// (and of the Hellinger distance where q is not inside the node set).
+	Density target.Density
+	// Bounded, Order, QMassTol, Context and Progress are as in Settings.
+	Bounded  bool
+	Order    int
+	QMassTol float64
+	Context  context.Context
+	Progress func(fraction float64)
+}
+
+// coverageWidths are the smoothing widths of the coverage's indicator, in
+// local node spacings (see coverageOnNodes).
+var coverageWidths = [2]float64{0.5, 1}
+
+// CompareNodes compares each Gaussian in qs (on the fitting scale) with the
+// density integrated by a node set on its own scale z.
+//
+// With y(z) the fitting scale and J = |det dy/dz|, p's density on the
+// fitting scale is p_z/J, so that, with weights m_i = w_i p_i / sum w p:
+//   - KL(p||q) = sum_i m_i (log p_i - log Zn - log J_i - log q(y_i));
+//   - the Bhattacharyya coefficient is integral sqrt(p_y q) dy =
+//     sum_i w_i sqrt(p_i q(y_i) J_i / Zn), Hellinger = sqrt(1 - it);
+//   - the Bhattacharyya sum is also taken over the rule of twice the
+//     step (the coarse nodes, weights 2^d w_i): where the two differ by
+//     more than QMassTol, or where the node nearest q's mean is more than
+//     one of q's sds wide (the side of its cell's volume in q's
+//     coordinates), the nodes do not resolve q (it is narrow for their
+//     spacing), and the Hellinger distance comes from the cubature in q's
+//     coordinates (Resolved is false). A q wider than p needs no such care:
+//     sqrt(p q) decays with p;
+//   - QMass is q's mass on the nodes, sum_i w_i q(y_i) J_i (below 1 where q
+//     reaches beyond p's nodes);
+//   - the coverage is sum_i m_i chi_i, with chi the indicator of q's
+//     central 95 % region smoothed across each node's cell (see
+//     coverageOnNodes);
+//   - KL(q||p) always comes from the cubature (the nodes follow p, not q).
+//
+// Zn = sum_i w_i p_i is the node set's own total.
+func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, error) {
+	n := ns.Len()
+	if len(qs) == 0 {
+		return nil, nil
+	}
+	d := qs[0].Dim()
+	for i, q := range qs {
+		if q == nil || q.Dim() != d {
+			return nil, fmt.Errorf("gaussian %d: %w: dimensions differ", i, ErrBadGaussian)
+		}
+	}
+	if n == 0 {
+		return nil, fmt.Errorf("compare: empty node set")
+	}
+	// Per node: y, log J, log w, log p; the node set's total.
+	ys := make([]float64, n*d)
+	logJ := make([]float64, n)
+	logW := make([]float64, n)
+	logP := make([]float64, n)
+	z := make([]float64, d)
+	top := math.Inf(-1)
+	for i := 0; i < n; i++ {
+		ns.Point(i, z)
+		y := ys[i*d : (i+1)*d]
+		if s.ToFitting != nil {
+			logJ[i] = s.ToFitting(z, y)
+		} else {
+			copy(y, z)
+		}
+		logW[i], logP[i] = ns.LogWeight(i), ns.LogP(i)
+		top = math.Max(top, logW[i]+logP[i])
+	}
+	if math.IsInf(top, 0) || math.IsNaN(top) {
+		return nil, fmt.Errorf("compare: the node set holds no mass")
+	}
+	zn := 0.0
+	for i := 0; i < n; i++ {
+		zn += math.Exp(logW[i] + logP[i] - top)
+	}
+	logZn := top + math.Log(zn)
+	tol := s.QMassTol
+	if tol <= 0 {
+		tol = 1e-6
+	}
+	out := make([]Result, len(qs))
+	for qi, q := range qs {
+		if s.Context != nil {
+			if err := s.Context.Err(); err != nil {
+				return nil, err
+			}
+		}
+		res := Result{Method: OnNodes}
+		klpq, bhat, bhat2, qmass := 0.0, 0.0, 0.0, 0.0
+		coarse := float64(int(1) << d)
+		nearest, nearestM := -1, math.Inf(1)
+		skipped := 0.0 // p's share at nodes whose y is not finite
+		for i := 0; i < n; i++ {
+			lp := logP[i] - logZn
+			m := math.Exp(logW[i] + lp)
+			y := ys[i*d : (i+1)*d]
+			if !finite(y) || math.IsNaN(logJ[i]) || math.IsInf(logJ[i], 0) {
+				skipped += m
+				continue
+			}
+			lq := q.LogPDF(y)
+			if M := 2 * (q.LogNorm() - lq); M < nearestM {
+				nearest, nearestM = i, M
+			}
+			if m > 0 {
+				klpq += m * (lp - logJ[i] - lq)
+			}
+			b := math.Exp(logW[i] + (lp+lq+logJ[i])/2)
+			bhat += b
+			if ns.Coarse(i) {
+				bhat2 += coarse * b
+			}
+			qmass += math.Exp(logW[i] + lq + logJ[i])
+		}
+		if skipped > 1e-12 {
+			// p has mass where the fitting scale rounds to a bound: the
+			// sums are not defined there.
+			klpq, bhat = math.NaN(), math.NaN()
+		}
+		res.KLpq = math.Max(0, klpq)
+		if math.IsNaN(klpq) {
+			res.KLpq = math.NaN()
+		}
+		res.Hellinger = math.Sqrt(math.Max(0, 1-bhat))
+		if math.IsNaN(bhat) {
+			res.Hellinger = math.NaN()
+		}
+		res.QMass = qmass
+		res.Resolved = math.Abs(bhat-bhat2) <= tol && nearest >= 0 &&
+			spacingIn(q, logW[nearest]+logJ[nearest], d) <= 1
+		res.Coverage95 = coverageOnNodes(q, ys, logJ, logW, logP, logZn, d)
+		res.KLqp = math.NaN()
+		if s.Density != nil {
+			gp := &gaussianPrep{Prepared: q}
+			kl, hel, err := cubature(s.Context, s.Density, gp, s.LogZ, s.Order, s.Progress)
+			if err != nil {
+				return nil, fmt.Errorf("gaussian %d: %w", qi, err)
+			}
+			res.KLqp = kl
+			if !res.Resolved {
+				res.Hellinger = hel
+			}
+		}
+		if s.Bounded {
+			res.KLqp = math.Inf(1)
+		}
+		res.MeanErrSD = make([]float64, d)
+		res.SDRatio = make([]float64, d)
+		for k := 0; k < d; k++ {
+			res.MeanErrSD[k] = (q.Mean[k] - s.Mean[k]) / s.SD[k]
+			res.SDRatio[k] = math.Sqrt(q.Cov.At(k, k)) / s.SD[k]
+		}
+		out[qi] = res
+	}
+	return out, nil
+}
+
+// coverageOnNodes returns p's mass inside q's central 95 % region
+// {M(y) <= r0^2}, M the Mahalanobis square of q. A sum of p's weights over
+// the nodes inside would be only first-order accurate in the spacing (the
+// region's boundary cuts the cells), so the indicator is smoothed along
+// the radius s = sqrt(M): chi_i = Phi((r0 - s_i) / delta_i), with delta_i
+// a multiple c of node i's spacing in q's coordinates (the d-th root of its
+// cell's volume there, exp(log w_i + log J_i) / sqrt(det Cov)). A Gaussian
+// smoothing one spacing wide is integrated by the trapezoid rule to about
+// exp(-2 pi^2 c^2) of its size (Poisson summation), and its bias grows as
+// c^2, so the smoothing's bias is removed by Richardson extrapolation from
+// widths c and 2c: (4 C(c) - C(2c)) / 3.
+func coverageOnNodes(q *gauss.Prepared, ys, logJ, logW, logP []float64, logZn float64, d int) float64 {
+	r0 := math.Sqrt(special.ChiSquareQuantile(d, 0.95))
+	var c [2]float64
+	for i := range logW {
+		lp := logP[i] - logZn
+		m := math.Exp(logW[i] + lp)
+		if !(m > 0) {
+			continue
+		}
+		y := ys[i*d : (i+1)*d]
+		if !finite(y) {
+			continue
+		}
+		s := math.Sqrt(math.Max(0, 2*(q.LogNorm()-q.LogPDF(y))))
+		h := spacingIn(q, logW[i]+logJ[i], d)
+		for w, f := range coverageWidths {
+			delta := f * h
+			c[w] += m * 0.5 * math.Erfc((s-r0)/(delta*math.Sqrt2))
+		}
+	}
+	v := (4*c[0] - c[1]) / 3
+	return math.Max(0, math.Min(v, 1))
+}
+
+// spacingIn returns the side of a cube of the volume exp(logVol) (on the
+// fitting scale) in q's whitened coordinates: a node's spacing in q's sds.
+func spacingIn(q *gauss.Prepared, logVol float64, d int) float64 {
+	return math.Exp((logVol - q.LogDet()/2) / float64(d))
+}
+
+func finite(y []float64) bool {
+	for _, v := range y {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return false
+		}
+	}
+	return true
+}
