@@ -317,7 +317,7 @@ func inverse(a []float64, d int) []float64 {
 // density keeps the comparisons, made on the grid, out.
 func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []transform.Map) error {
 	d := a.d
-	r.quad = q
+	r.quad, r.quadMaps = q, maps
 	if posInf, layers := a.gridUnresolved(); posInf > 0 || len(layers) > 0 {
 		a.avail.drop(QuantityComparison, CodeUnresolved)
 		a.avail.drop(QuantityAxisErrors, CodeUnresolved)

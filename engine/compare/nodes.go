@@ -66,7 +66,8 @@ var coverageWidths = [2]float64{0.5, 1}
 //     sum_i w_i sqrt(p_i q(y_i) J_i / Zn), Hellinger = sqrt(1 - it);
 //   - the Bhattacharyya sum is also taken over the rule of twice the
 //     step (the coarse nodes, weights 2^d w_i): where the two differ by
-//     more than QMassTol, or where the node nearest q's mean is more than
+//     more than QMassTol relative and more than 10 times p's own sum does
+//     (the rule converges on sqrt(p q) more slowly than on p), or where the node nearest q's mean is more than
 //     one of q's sds wide (the side of its cell's volume in q's
 //     coordinates), the nodes do not resolve q (it is narrow for their
 //     spacing), and the Hellinger distance comes from the cubature in q's
@@ -120,6 +121,14 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 		zn += math.Exp(logW[i] + logP[i] - top)
 	}
 	logZn := top + math.Log(zn)
+	// p's own change from the rule of step 2h to the finest (relative).
+	coarseP := 0.0
+	for i := 0; i < n; i++ {
+		if ns.Coarse(i) {
+			coarseP += math.Exp(logW[i] + logP[i] - logZn)
+		}
+	}
+	errP := math.Abs(float64(int(1)<<d)*coarseP - 1)
 	tol := s.QMassTol
 	if tol <= 0 {
 		tol = 1e-6
@@ -172,7 +181,7 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 			res.Hellinger = math.NaN()
 		}
 		res.QMass = qmass
-		res.Resolved = math.Abs(bhat-bhat2) <= tol && nearest >= 0 &&
+		res.Resolved = math.Abs(bhat-bhat2)/bhat <= math.Max(tol, 10*errP) && nearest >= 0 &&
 			spacingIn(q, logW[nearest]+logJ[nearest], d) <= 1
 		res.Coverage95 = coverageOnNodes(q, ys, logJ, logW, logP, logZn, d)
 		res.KLqp = math.NaN()
