@@ -23,7 +23,13 @@ const contourPoints = 96
 // plots draws the exact marginals and each fit's on the original scale. It
 // reports progress and checks for cancellation between the pieces of each
 // pair (the largest 2-D grid holds 2.25 million nodes).
+//
+// Where the nested rule stands, the plots come from it instead
+// (plotsFromRule, plots_rule.go).
 func (a *analysis) plots(res *Result) (*Plots, error) {
+	if a.ref.onNodes() {
+		return a.plotsFromRule(res)
+	}
 	g := a.ref.grid
 	st := &g.Stats
 	d := a.d
