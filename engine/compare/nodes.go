@@ -53,7 +53,7 @@ type NodeSettings struct {
 }
 
 // coverageWidths are the smoothing widths of the coverage's indicator, in
-// local node spacings (see coverageOnNodes).
+// local node spacings (see CompareNodes).
 var coverageWidths = [2]float64{0.5, 1}
 
 // CompareNodes compares each Gaussian in qs (on the fitting scale) with the
@@ -67,7 +67,8 @@ var coverageWidths = [2]float64{0.5, 1}
 //   - the Bhattacharyya sum is also taken over the rule of twice the
 //     step (the coarse nodes, weights 2^d w_i): where the two differ by
 //     more than QMassTol relative and more than 10 times p's own sum does
-//     (the rule converges on sqrt(p q) more slowly than on p), or where the node nearest q's mean is more than
+//     (the rule converges on sqrt(p q) more slowly than on p), or where
+//     the node nearest q's mean is more than
 //     one of q's sds wide (the side of its cell's volume in q's
 //     coordinates), the nodes do not resolve q (it is narrow for their
 //     spacing), and the Hellinger distance comes from the cubature in q's
@@ -76,11 +77,24 @@ var coverageWidths = [2]float64{0.5, 1}
 //   - QMass is q's mass on the nodes, sum_i w_i q(y_i) J_i (below 1 where q
 //     reaches beyond p's nodes);
 //   - the coverage is sum_i m_i chi_i, with chi the indicator of q's
-//     central 95 % region smoothed across each node's cell (see
-//     coverageOnNodes);
+//     central 95 % region smoothed across each node's cell (below);
 //   - KL(q||p) always comes from the cubature (the nodes follow p, not q).
 //
 // Zn = sum_i w_i p_i is the node set's own total.
+//
+// The coverage is p's mass inside q's central 95 % region
+// {M(y) <= r0^2}, M the Mahalanobis square of q. A sum of p's weights over
+// the nodes inside would be only first-order accurate in the spacing (the
+// region's boundary cuts the cells), so the indicator is smoothed along
+// the radius s = sqrt(M): chi_i = Phi((r0 - s_i) / delta_i), with delta_i
+// a multiple c of node i's spacing in q's coordinates (the d-th root of its
+// cell's volume there, exp(log w_i + log J_i) / sqrt(det Cov)). A Gaussian
+// smoothing one spacing wide is integrated by the trapezoid rule to about
+// exp(-2 pi^2 c^2) of its size (Poisson summation), and its bias grows as
+// c^2, so the smoothing's bias is removed by Richardson extrapolation from
+// widths c and 2c (coverageWidths): (4 C(c) - C(2c)) / 3. Beyond nine
+// widths from the boundary the indicator is taken as 0 or 1 (Phi(-9) is
+// 1e-19).
 func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, error) {
 	n := ns.Len()
 	if len(qs) == 0 {
@@ -129,6 +143,19 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 		}
 	}
 	errP := math.Abs(float64(int(1)<<d)*coarseP - 1)
+	// p's weights (normalised), and the nodes whose y and Jacobian are
+	// finite; skipped is p's share at the others.
+	pm := make([]float64, n)
+	valid := make([]bool, n)
+	skipped := 0.0
+	for i := 0; i < n; i++ {
+		pm[i] = math.Exp(logW[i] + logP[i] - logZn)
+		valid[i] = finite(ys[i*d:(i+1)*d]) && !math.IsNaN(logJ[i]) && !math.IsInf(logJ[i], 0)
+		if !valid[i] {
+			skipped += pm[i]
+		}
+	}
+	r0 := math.Sqrt(special.ChiSquareQuantile(d, 0.95))
 	tol := s.QMassTol
 	if tol <= 0 {
 		tol = 1e-6
@@ -144,28 +171,50 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 		klpq, bhat, bhat2, qmass := 0.0, 0.0, 0.0, 0.0
 		coarse := float64(int(1) << d)
 		nearest, nearestM := -1, math.Inf(1)
-		skipped := 0.0 // p's share at nodes whose y is not finite
+		var cover [2]float64
+		logNorm, halfLogDet := q.LogNorm(), q.LogDet()/2
 		for i := 0; i < n; i++ {
-			lp := logP[i] - logZn
-			m := math.Exp(logW[i] + lp)
-			y := ys[i*d : (i+1)*d]
-			if !finite(y) || math.IsNaN(logJ[i]) || math.IsInf(logJ[i], 0) {
-				skipped += m
+			if !valid[i] {
 				continue
 			}
-			lq := q.LogPDF(y)
-			if M := 2 * (q.LogNorm() - lq); M < nearestM {
+			M := q.Mahalanobis2(ys[i*d : (i+1)*d])
+			lq := logNorm - M/2
+			if M < nearestM {
 				nearest, nearestM = i, M
 			}
+			m, lp := pm[i], logP[i]-logZn
 			if m > 0 {
 				klpq += m * (lp - logJ[i] - lq)
 			}
-			b := math.Exp(logW[i] + (lp+lq+logJ[i])/2)
-			bhat += b
-			if ns.Coarse(i) {
-				bhat2 += coarse * b
+			if e := logW[i] + (lp+lq+logJ[i])/2; e > -745 {
+				b := math.Exp(e)
+				bhat += b
+				if ns.Coarse(i) {
+					bhat2 += coarse * b
+				}
 			}
-			qmass += math.Exp(logW[i] + lq + logJ[i])
+			if e := logW[i] + lq + logJ[i]; e > -745 {
+				qmass += math.Exp(e)
+			}
+			if !(m > 0) {
+				continue
+			}
+			// The coverage's smoothed indicator (see above).
+			h := math.Exp((logW[i] + logJ[i] - halfLogDet) / float64(d))
+			gap := math.Sqrt(M) - r0
+			switch {
+			case gap > 9*coverageWidths[1]*h:
+			case gap < -9*coverageWidths[1]*h:
+				cover[0] += m
+				cover[1] += m
+			default:
+				for w, f := range coverageWidths {
+					cover[w] += m * 0.5 * math.Erfc(gap/(f*h*math.Sqrt2))
+				}
+			}
+		}
+		if s.Progress != nil {
+			s.Progress(float64(qi+1) / float64(len(qs)))
 		}
 		if skipped > 1e-12 {
 			// p has mass where the fitting scale rounds to a bound: the
@@ -181,9 +230,9 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 			res.Hellinger = math.NaN()
 		}
 		res.QMass = qmass
+		res.Coverage95 = math.Max(0, math.Min((4*cover[0]-cover[1])/3, 1))
 		res.Resolved = math.Abs(bhat-bhat2)/bhat <= math.Max(tol, 10*errP) && nearest >= 0 &&
 			spacingIn(q, logW[nearest]+logJ[nearest], d) <= 1
-		res.Coverage95 = coverageOnNodes(q, ys, logJ, logW, logP, logZn, d)
 		res.KLqp = math.NaN()
 		if s.Density != nil {
 			gp := &gaussianPrep{Prepared: q}
@@ -208,41 +257,6 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 		out[qi] = res
 	}
 	return out, nil
-}
-
-// coverageOnNodes returns p's mass inside q's central 95 % region
-// {M(y) <= r0^2}, M the Mahalanobis square of q. A sum of p's weights over
-// the nodes inside would be only first-order accurate in the spacing (the
-// region's boundary cuts the cells), so the indicator is smoothed along
-// the radius s = sqrt(M): chi_i = Phi((r0 - s_i) / delta_i), with delta_i
-// a multiple c of node i's spacing in q's coordinates (the d-th root of its
-// cell's volume there, exp(log w_i + log J_i) / sqrt(det Cov)). A Gaussian
-// smoothing one spacing wide is integrated by the trapezoid rule to about
-// exp(-2 pi^2 c^2) of its size (Poisson summation), and its bias grows as
-// c^2, so the smoothing's bias is removed by Richardson extrapolation from
-// widths c and 2c: (4 C(c) - C(2c)) / 3.
-func coverageOnNodes(q *gauss.Prepared, ys, logJ, logW, logP []float64, logZn float64, d int) float64 {
-	r0 := math.Sqrt(special.ChiSquareQuantile(d, 0.95))
-	var c [2]float64
-	for i := range logW {
-		lp := logP[i] - logZn
-		m := math.Exp(logW[i] + lp)
-		if !(m > 0) {
-			continue
-		}
-		y := ys[i*d : (i+1)*d]
-		if !finite(y) {
-			continue
-		}
-		s := math.Sqrt(math.Max(0, 2*(q.LogNorm()-q.LogPDF(y))))
-		h := spacingIn(q, logW[i]+logJ[i], d)
-		for w, f := range coverageWidths {
-			delta := f * h
-			c[w] += m * 0.5 * math.Erfc((s-r0)/(delta*math.Sqrt2))
-		}
-	}
-	v := (4*c[0] - c[1]) / 3
-	return math.Max(0, math.Min(v, 1))
 }
 
 // spacingIn returns the side of a cube of the volume exp(logVol) (on the
