@@ -2,7 +2,6 @@ package engine
 
 import (
 	"math"
-	"sort"
 
 	"bellcheck/engine/gauss"
 	"bellcheck/engine/quadrature"
@@ -13,8 +12,8 @@ import (
 // image. Every point of a marginal or a pair is a nested rule over the
 // other parameters, so the counts fall with the dimension.
 var (
-	rulePlot1D = [4]int{241, 201, 161, 121}
-	rulePlot2D = [4]int{0, 81, 61, 41}
+	rulePlot1D = [4]int{241, 161, 121, 61}
+	rulePlot2D = [4]int{0, 81, 41, 25}
 )
 
 // plotTail is the share of the mass left out of each end of a plot's
@@ -91,7 +90,18 @@ func (a *analysis) plotsFromRule(res *Result) (*Plots, error) {
 				}
 				return nil, err
 			}
-			lv, _ := quadrature.Levels(dens, xs, ys, contourMasses[:])
+			// Levels gives shares of the plot's mass; the pair density is
+			// normalised, so the shares of the whole mass are f / total.
+			fx, fy, fd := refine(dens, xs, ys, (levelPoints+n-3)/(n-1))
+			total := gridMass(fd, fx, fy)
+			fr := make([]float64, len(contourMasses))
+			for c, f := range contourMasses {
+				fr[c] = f
+				if total > f && total < 1 {
+					fr[c] = f / total
+				}
+			}
+			lv, _ := quadrature.Levels(fd, fx, fy, fr)
 			m2 := Marginal2D{I: i, J: j, X: xs, Y: ys, Levels: [3]float64{lv[0], lv[1], lv[2]}, Ellipses: Ellipses{}}
 			// Pair gives (xs[u], ys[v]) at u*len(ys)+v; the page wants
 			// Density[v*len(xs)+u].
@@ -113,53 +123,124 @@ func (a *analysis) plotsFromRule(res *Result) (*Plots, error) {
 }
 
 // ruleRanges returns each parameter's plot range on the original scale
-// (see plotsFromRule).
+// (see plotsFromRule). The quantiles come from a histogram of the node
+// set's masses along each unconstrained axis (4096 bins between the
+// extreme nodes that hold mass): one pass over the nodes, exact to a bin,
+// which is plenty for a plot's range.
 func (a *analysis) ruleRanges(q *quadrature.Result) [][2]float64 {
+	const bins = 4096
 	d := a.d
 	ns := q.Nodes
 	n := ns.Len()
-	type node struct{ z, m float64 }
-	nodes := make([]node, n)
+	mass := make([]float64, n)
 	z := make([]float64, d)
-	out := make([][2]float64, d)
-	for k := 0; k < d; k++ {
-		total := 0.0
-		for i := 0; i < n; i++ {
-			ns.Point(i, z)
-			m := math.Exp(ns.LogWeight(i) + ns.LogP(i) - q.LogZ)
-			if math.IsNaN(m) {
-				m = 0
-			}
-			nodes[i] = node{z[k], m}
-			total += m
+	lo, hi := make([]float64, d), make([]float64, d)
+	for k := range lo {
+		lo[k], hi[k] = math.Inf(1), math.Inf(-1)
+	}
+	total := 0.0
+	for i := 0; i < n; i++ {
+		m := math.Exp(ns.LogWeight(i) + ns.LogP(i) - q.LogZ)
+		if !(m > 0) || math.IsInf(m, 0) {
+			continue
 		}
-		sort.Slice(nodes, func(i, j int) bool { return nodes[i].z < nodes[j].z })
-		lo, hi := nodes[0].z, nodes[n-1].z
+		mass[i] = m
+		total += m
+		ns.Point(i, z)
+		for k := 0; k < d; k++ {
+			lo[k], hi[k] = math.Min(lo[k], z[k]), math.Max(hi[k], z[k])
+		}
+	}
+	out := make([][2]float64, d)
+	hist := make([]float64, bins)
+	for k := 0; k < d; k++ {
+		a0, a1 := lo[k], hi[k]
+		if !(a1 > a0) {
+			a0, a1 = a0-0.5, a1+0.5
+		}
+		clear(hist)
+		w := (a1 - a0) / bins
+		for i := 0; i < n; i++ {
+			if mass[i] == 0 {
+				continue
+			}
+			ns.Point(i, z)
+			b := min(max(int((z[k]-a0)/w), 0), bins-1)
+			hist[b] += mass[i]
+		}
+		zlo, zhi := a0, a1
 		acc := 0.0
-		for _, nd := range nodes {
-			acc += nd.m
-			if acc >= plotTail*total {
-				lo = nd.z
+		for b := 0; b < bins; b++ {
+			if acc += hist[b]; acc >= plotTail*total {
+				zlo = a0 + float64(b)*w
 				break
 			}
 		}
 		acc = 0
-		for i := n - 1; i >= 0; i-- {
-			acc += nodes[i].m
-			if acc >= plotTail*total {
-				hi = nodes[i].z
+		for b := bins - 1; b >= 0; b-- {
+			if acc += hist[b]; acc >= plotTail*total {
+				zhi = a0 + float64(b+1)*w
 				break
 			}
 		}
-		if !(hi > lo) {
-			hi, lo = hi+0.5, lo-0.5
-		}
-		span := hi - lo
-		lo, hi = lo-plotMargin*span, hi+plotMargin*span
+		span := zhi - zlo
+		zlo, zhi = zlo-plotMargin*span, zhi+plotMargin*span
 		mp := a.ref.quadMaps[k]
-		out[k] = [2]float64{mp.ToOriginal(lo), mp.ToOriginal(hi)}
+		out[k] = [2]float64{mp.ToOriginal(zlo), mp.ToOriginal(zhi)}
 	}
 	return out
+}
+
+// levelPoints is about the number of points along each axis to which
+// refine subdivides a pair's plot grid before the contour levels are
+// found: the superlevel sets' masses are sums over cells, whose error is
+// of the order of a cell.
+const levelPoints = 161
+
+// gridMass returns the trapezoid cells' mass of a density on xs × ys
+// (quadrature.Levels' total).
+func gridMass(dens, xs, ys []float64) float64 {
+	cell := func(v []float64, a int) float64 {
+		return (v[min(a+1, len(v)-1)] - v[max(a-1, 0)]) / 2
+	}
+	total := 0.0
+	for a := range xs {
+		for b := range ys {
+			if v := dens[a*len(ys)+b]; v > 0 && !math.IsInf(v, 1) {
+				total += v * cell(xs, a) * cell(ys, b)
+			}
+		}
+	}
+	return total
+}
+
+// refine returns the grid xs × ys subdivided f times along each axis, and
+// the density there by bilinear interpolation (layout of
+// quadrature.Pair: element a*len(ys)+b at (xs[a], ys[b])).
+func refine(dens, xs, ys []float64, f int) ([]float64, []float64, []float64) {
+	sub := func(v []float64) []float64 {
+		out := make([]float64, 0, (len(v)-1)*f+1)
+		for i := 0; i+1 < len(v); i++ {
+			for s := 0; s < f; s++ {
+				out = append(out, v[i]+(v[i+1]-v[i])*float64(s)/float64(f))
+			}
+		}
+		return append(out, v[len(v)-1])
+	}
+	fx, fy := sub(xs), sub(ys)
+	ny := len(ys)
+	fd := make([]float64, len(fx)*len(fy))
+	for a := range fx {
+		i, u := a/f, float64(a%f)/float64(f)
+		i1 := min(i+1, len(xs)-1)
+		for b := range fy {
+			j, v := b/f, float64(b%f)/float64(f)
+			j1 := min(j+1, ny-1)
+			fd[a*len(fy)+b] = (1-u)*(1-v)*dens[i*ny+j] + u*(1-v)*dens[i1*ny+j] +
+				(1-u)*v*dens[i*ny+j1] + u*v*dens[i1*ny+j1]
+		}
+	}
+	return fx, fy, fd
 }
 
 // evenly returns n points evenly spaced over r, ends included.
