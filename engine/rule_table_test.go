@@ -11,7 +11,7 @@ import (
 	"bellcheck/engine/model"
 )
 
-// TestRuleTable prints, for the cases of testdata/reference-quadrature, the
+// TestRuleTable prints, for the cases of testdata/reference, the
 // points and the log Z error of the grid and of the nested rule (the
 // analysis run with the switch off, then on), and checks the nested rule's
 // log Z against each case's expectation (the closed forms in the .expect
@@ -25,7 +25,7 @@ func TestRuleTable(t *testing.T) {
 	old := useQuadrature
 	defer func() { useQuadrature = old }()
 	t.Log("| case | grid points | grid log Z error | rule points | rule log Z error (estimate) |")
-	for _, c := range loadReferencesIn(t, "../testdata/reference-quadrature") {
+	for _, c := range loadReferencesIn(t, refDir) {
 		var want float64
 		found := false
 		for _, l := range c.lines {

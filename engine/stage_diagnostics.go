@@ -13,6 +13,12 @@ func (a *analysis) gridDiagnostics() {
 		for side := 0; side < 2; side++ {
 			e := a.ref.edgeMass[k][side]
 			switch {
+			case a.ref.quad != nil && a.ref.box.Capped[k][side] && e > 1e-10:
+				// The exact results come from the nested rule, whose tail
+				// verdicts stand; only what is made on the grid is cut.
+				a.diag.add(CodeEdgeMass, SeverityWarning,
+					"The grid's box was widened at the %s end of %s as far as it still resolves the density's centre, and %s of the mass remains in its outermost layer: the tails are heavy. The exact results come from the nested rule, which follows them; the comparisons, made on the grid, are those of the truncated box.",
+					sides[side], a.names[k], share(e))
 			case a.ref.box.Capped[k][side] && e > improperEdgeMass:
 				a.diag.add(CodeImproper, SeverityError,
 					"Mass stays at the %s edge of %s however far the box is widened (%s in its outermost layer): the density may be improper (not integrable) or too heavy-tailed for a grid, and the exact results are those of the truncated box.",

@@ -90,10 +90,32 @@ func (a *analysis) dropOverflow() {
 	o := &a.ref.original
 	d := a.d
 	bad := func(v float64) bool { return math.IsNaN(v) || math.IsInf(v, 0) }
+	// The nested rule leaves NaN where it finds a moment infinite (its tail
+	// verdicts, in the tail shares) and where a moment is already recorded
+	// absent: those are not overflows.
+	quad := a.ref.quad != nil
+	varOut := func(k int) bool {
+		return quad && (math.IsInf(o.TailShare[k], 1) || !a.avail.presentAt(QuantityVariance, k))
+	}
 	cov := copyRows(o.Cov)
+	mean, skew, kurt := slices.Clone(o.Mean), slices.Clone(o.Skewness), slices.Clone(o.ExcessKurtosis)
+	for k := 0; k < d; k++ {
+		if quad && math.IsInf(o.AbsTailShare[k], 1) {
+			mean[k] = 0 // left out by settleExact (no_mean)
+		}
+		if varOut(k) {
+			skew[k], kurt[k] = 0, 0
+			for l := 0; l < d; l++ {
+				cov[k][l], cov[l][k] = 0, 0
+			}
+		}
+		if quad && math.IsInf(o.KurtosisTailShare[k], 1) {
+			kurt[k] = 0
+		}
+	}
 	var names []string
 	for k := 0; k < d; k++ {
-		over := bad(o.Mean[k]) || bad(cov[k][k]) || bad(o.Skewness[k]) || bad(o.ExcessKurtosis[k])
+		over := bad(mean[k]) || bad(cov[k][k]) || bad(skew[k]) || bad(kurt[k])
 		for _, q := range o.Quantiles[k] {
 			over = over || bad(q)
 		}
@@ -104,13 +126,13 @@ func (a *analysis) dropOverflow() {
 			continue
 		}
 		names = append(names, a.names[k])
-		if bad(o.Mean[k]) {
+		if bad(mean[k]) {
 			a.avail.dropAt(QuantityMean, k, CodeOverflow)
 		}
 		if slices.ContainsFunc(o.Quantiles[k][:], bad) {
 			a.avail.dropAt(QuantityQuantiles, k, CodeOverflow)
 		}
-		if bad(cov[k][k]) || bad(o.Skewness[k]) || bad(o.ExcessKurtosis[k]) {
+		if bad(cov[k][k]) || bad(skew[k]) || bad(kurt[k]) {
 			a.avail.dropAt(QuantitySkewness, k, CodeOverflow)
 			a.avail.dropAt(QuantityKurtosis, k, CodeOverflow)
 		}
@@ -120,7 +142,7 @@ func (a *analysis) dropOverflow() {
 				cov[k][l], cov[l][k] = math.NaN(), math.NaN()
 			}
 		}
-		if bad(o.Cov[k][k]) {
+		if bad(cov[k][k]) {
 			a.avail.dropAt(QuantityVariance, k, CodeOverflow)
 		}
 	}

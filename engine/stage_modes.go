@@ -4,6 +4,8 @@ import (
 	"math"
 	"slices"
 
+	"gonum.org/v1/gonum/mat"
+
 	"bellcheck/engine/fit"
 	"bellcheck/engine/grid"
 )
@@ -89,6 +91,10 @@ func (a *analysis) findModes() error {
 			masses[best] += pk.Mass
 		}
 	}
+	modes, masses, err = a.spreadStarts(modes, masses)
+	if err != nil {
+		return err
+	}
 	// Highest first.
 	order := make([]int, len(modes))
 	for i := range order {
@@ -139,6 +145,140 @@ func (a *analysis) findModes() error {
 			len(a.modes.modes), list(big))
 	}
 	return nil
+}
+
+// spreadStarts runs the mode search from 12 d space-filling (Halton)
+// starts over ten sds (by the curvature) around the highest mode the
+// grid's peaks led to, within the support, so that a higher optimum the
+// grid did not see (a chaotic cost, a spike between nodes) is found and
+// the highest mode reported is the best optimum found. A new mode joins
+// where it holds at least 1e-3 of the mass (as the peaks that start the
+// search) or is higher than their best. It gets its
+// mass from the Laplace estimates (p(mode) det(-H)^(-1/2)) relative to the
+// modes with a positive definite curvature; the grid's masses of the
+// others are scaled to leave room for it. A new mode higher than the
+// peaks' best gives the starts_disagree warning.
+func (a *analysis) spreadStarts(modes []fit.Mode, masses []float64) ([]fit.Mode, []float64, error) {
+	if len(modes) == 0 {
+		return modes, masses, nil
+	}
+	d := a.d
+	best := 0
+	for i, m := range modes {
+		if m.LogDensity > modes[best].LogDensity {
+			best = i
+		}
+	}
+	half := make([]float64, d)
+	var cov mat.SymDense
+	var ch mat.Cholesky
+	neg := mat.NewSymDense(d, nil)
+	neg.ScaleSym(-1, modes[best].Hess)
+	haveCov := modes[best].PositiveDefinite && ch.Factorize(neg) && ch.InverseTo(&cov) == nil
+	for k := range half {
+		s := a.ref.fitting.SD[k]
+		if haveCov {
+			s = math.Sqrt(cov.At(k, k))
+		}
+		if !(s > 0) || math.IsInf(s, 0) {
+			s = a.ref.grid.Box.Hi[k] - a.ref.grid.Box.Lo[k]
+		}
+		half[k] = 10 * s
+	}
+	sd := a.ref.fitting.SD
+	primes := [4]float64{2, 3, 5, 7}
+	var added []int
+	for i := 1; i <= 12*d; i++ {
+		z := make([]float64, d)
+		for k := range z {
+			z[k] = modes[best].X[k] + (2*halton(i, primes[k])-1)*half[k]
+			z[k] = math.Min(math.Max(z[k], a.modeLo[k]), a.modeHi[k])
+		}
+		ms, err := fit.FindModes(a.ctx, a.pw, [][]float64{z}, a.modeLo, a.modeHi)
+		if err != nil {
+			if ctxErr := a.ctx.Err(); ctxErr != nil {
+				return nil, nil, ctxErr
+			}
+			continue
+		}
+		m := ms[0]
+		if !m.Converged || !m.PositiveDefinite || math.IsInf(m.LogDensity, 0) || math.IsNaN(m.LogDensity) {
+			continue
+		}
+		known := false
+		for _, o := range modes {
+			known = known || sameMode(o.X, m.X, sd, a.ref.grid)
+		}
+		if !known {
+			modes = append(modes, m)
+			masses = append(masses, 0)
+			added = append(added, len(modes)-1)
+		}
+	}
+	if len(added) == 0 {
+		return modes, masses, nil
+	}
+	// Laplace estimates of the masses, relative to the highest.
+	logMass := make([]float64, len(modes))
+	top := math.Inf(-1)
+	for i, m := range modes {
+		logMass[i] = math.Inf(-1)
+		if !m.PositiveDefinite {
+			continue
+		}
+		n := mat.NewSymDense(d, nil)
+		n.ScaleSym(-1, m.Hess)
+		var c mat.Cholesky
+		if !c.Factorize(n) {
+			continue
+		}
+		logMass[i] = m.LogDensity - c.LogDet()/2
+		top = math.Max(top, logMass[i])
+	}
+	total := 0.0
+	for i := range modes {
+		total += math.Exp(logMass[i] - top)
+	}
+	// A new mode joins if it holds the share from which the peaks start
+	// the search (1e-3) or is higher than their best.
+	bestLogP := modes[best].LogDensity
+	keep := modes[:len(modes)-len(added)]
+	keptMasses := masses[:len(keep)]
+	var kept []int
+	newShare := 0.0
+	for _, i := range added {
+		share := math.Exp(logMass[i]-top) / total
+		if share < 1e-3 && !(modes[i].LogDensity > bestLogP) {
+			continue
+		}
+		keep = append(keep, modes[i])
+		keptMasses = append(keptMasses, share)
+		kept = append(kept, len(keep)-1)
+		newShare += share
+	}
+	modes, masses, added = keep, keptMasses, kept
+	for i := range modes {
+		if !slices.Contains(added, i) {
+			masses[i] *= 1 - newShare
+		}
+	}
+	higher := -1
+	for _, i := range added {
+		if modes[i].LogDensity > modes[best].LogDensity+1e-9*(1+math.Abs(modes[best].LogDensity)) &&
+			(higher < 0 || modes[i].LogDensity > modes[higher].LogDensity) {
+			higher = i
+		}
+	}
+	if higher >= 0 {
+		x := make([]float64, d)
+		for k, z := range modes[higher].X {
+			x[k] = a.maps[k].ToOriginal(z)
+		}
+		a.diag.add(CodeStartsDisagree, SeverityWarning,
+			"Starts spread around the grid's highest point found a higher mode, at %s (log p %.6g against %.6g): the grid did not show it; the modes, the Laplace fit and the exact results are built around the highest.",
+			a.pointString(x), modes[higher].LogDensity, modes[best].LogDensity)
+	}
+	return modes, masses, nil
 }
 
 // farOutside reports a point more than one box width outside the grid's

@@ -18,11 +18,12 @@ import (
 // verdicts) from the grid to the nested rule of engine/quadrature, which
 // integrates on the unconstrained scale around the modes (those of the
 // mode search, which starts from the grid's peaks, and those that
-// space-filling starts find). It is off while the wiring is incomplete:
-// the reported modes, the comparison and the plots still come from the
-// grid, and six cases of the pathological catalogue expect the grid's
-// behaviour (see DEVELOPERS.md).
-var useQuadrature = false
+// space-filling starts find). It is on: the rule is the exact reference
+// wherever it applies; the grid's results stay where it does not (see
+// exactByQuadrature). Where it stands, the comparison and the plots use
+// it too (stage_compare.go, plots_rule.go).
+// Tests turn it off with BELLCHECK_QUADRATURE=0 to check the grid alone.
+var useQuadrature = true
 
 // quadratureLogZErrMax is the error estimate of log Z above which the
 // nested rule's results are not used (the grid's stay).
@@ -336,6 +337,7 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 		r.logZ, r.logZErr = math.NaN(), math.NaN()
 		return nil
 	}
+	a.adviseSingularBounds()
 	// The original scale: the rule's own moments; the fitting scale: per
 	// parameter the original (identity fitting scale) or the unconstrained
 	// one (the same log or logit), the cross terms from the node set.
@@ -370,6 +372,23 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 		}
 		copy(quant[k][:], qs)
 	}
+	disputed := a.disputedVariances(q)
+	for _, k := range disputed {
+		q.Original.VarInfinite[k], q.Original.KurtosisInfinite[k] = false, false
+		fitting.VarInfinite[k], fitting.KurtosisInfinite[k] = false, false
+		for _, qt := range []Quantity{QuantityVariance, QuantitySkewness, QuantityKurtosis, QuantityAxisErrors} {
+			a.avail.dropAt(qt, k, CodeUnresolved)
+		}
+	}
+	if len(disputed) > 0 {
+		names := make([]string, len(disputed))
+		for i, k := range disputed {
+			names[i] = a.names[k]
+		}
+		a.diag.add(CodeUnresolved, SeverityWarning,
+			"The variance of %s is not resolved: around the modes it looks infinite (its share does not fall where the rule's walks end), while over the grid's wider box it settles, so what decides it lies between the two (a faint background far from a narrow peak, say); the exact covariance, skewness and kurtosis of %s and the forward-KL fit are not reported.",
+			list(names), list(names))
+	}
 	r.original = gridMoments(q.Original, d, quant, nil)
 	r.fitting = gridMoments(fitting, d, quant, a.maps)
 	for k := 0; k < d; k++ {
@@ -378,6 +397,32 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 		}
 	}
 	return nil
+}
+
+// disputedVariances lists the parameters whose variance the nested rule
+// finds infinite while the grid, over a box that reaches further on the
+// original scale, sees it settle (its tail share is small and no face of
+// its box stopped at the cap with mass left): the rule's tail check ends
+// its walks where the density's own share is negligible, so a moment
+// decided by mass beyond them (a faint background far from a narrow
+// spike, whose x^2 outweighs the spike's) looks infinite to it. Neither
+// resolves such a variance.
+func (a *analysis) disputedVariances(q *quadrature.Result) []int {
+	gst := &a.ref.grid.Stats
+	var out []int
+	for k := 0; k < a.d; k++ {
+		if !q.Original.VarInfinite[k] || !(gst.Original.TailShare[k] <= tailShareAbsent) {
+			continue
+		}
+		capped := false
+		for side := 0; side < 2; side++ {
+			capped = capped || (a.ref.box.Capped[k][side] && a.ref.edgeMass[k][side] > improperEdgeMass)
+		}
+		if !capped {
+			out = append(out, k)
+		}
+	}
+	return out
 }
 
 // gridMoments returns m in the reference's form; the tail shares say

@@ -415,20 +415,23 @@ func (a *analysis) checkPrecision() {
 // limit; the slope comes from four nodes).
 const nonIntegrableSlope = -0.97
 
-// checkSingularBounds looks at each face that lies on a bound of the
-// support for a density that grows without bound towards it, as x^(a-1)
-// with a < 1 (Beta and Gamma densities with shape below 1). The grid's
-// rule misses the mass next to such a bound at the order h^a, so the change
-// from half resolution, E(2h) - E(h) = (2^a - 1) E(h), understates the error
-// E(h): it returns the factor 1 / (2^a - 1) (1 where no face is singular)
-// by which the error estimates of log Z and the moments are scaled, with a from the slope of the log marginal density against
-// the log distance over the four nodes nearest the bound (where the slope
-// from nodes 1-2 matches that from nodes 4-8, as a power law's does). A
-// slope of -1 or below is not integrable: the density is improper.
-func (a *analysis) checkSingularBounds() (errScale float64) {
+// singularBound is a face on a bound of the support towards which the
+// density grows without bound, like a power slope of the distance.
+type singularBound struct {
+	k, side int
+	bound   float64
+	slope   float64
+}
+
+// singularBounds looks at each face of the grid's box that lies on a bound
+// of the support for a density that grows without bound towards it, as
+// x^(a-1) with a < 1 (Beta and Gamma densities with shape below 1): the
+// slope of the log marginal density against the log distance over the
+// four nodes nearest the bound, where the slope from nodes 1-2 matches
+// that from nodes 4-8, as a power law's does.
+func (a *analysis) singularBounds() []singularBound {
 	st := &a.ref.grid.Stats
-	sides := [2]string{"lower", "upper"}
-	worst := 1.0
+	var out []singularBound
 	for k := 0; k < a.d; k++ {
 		dens := st.Marginals[k].Density
 		n := len(dens)
@@ -475,24 +478,58 @@ func (a *analysis) checkSingularBounds() (errScale float64) {
 			if side == 1 {
 				bound = a.m.Params[k].Hi
 			}
-			if slope < nonIntegrableSlope {
-				// Like 1/x or steeper: not integrable at the bound.
-				a.ref.singularImproper = true
-				a.avail.drop(QuantityLogZ, CodeImproper)
-				a.diag.add(CodeImproper, SeverityError,
-					"The density grows towards the %s bound of %s (%g) like a power %.2g of the distance, too fast to be integrable there: the density looks improper, so log Z and the exact moments are not reported.",
-					sides[side], a.names[k], bound, slope)
-				continue
-			}
-			order := math.Max(1+slope, 0.05)
-			f := 1 / (math.Pow(2, order) - 1)
-			worst = math.Max(worst, f)
-			a.diag.add(CodeInfiniteAtBound, SeverityWarning,
-				"The density grows without bound towards the %s bound of %s (%g), like a power %.2g of the distance: the grid resolves this poorly, so its error estimates were scaled up %.2g times; fit %s on the log or logit scale, where it is smooth.",
-				sides[side], a.names[k], bound, slope, f, a.names[k])
+			out = append(out, singularBound{k: k, side: side, bound: bound, slope: slope})
 		}
 	}
+	return out
+}
+
+// checkSingularBounds acts on the grid's singular bounds (singularBounds).
+// The grid's rule misses the mass next to such a bound at the order h^a,
+// so the change from half resolution, E(2h) - E(h) = (2^a - 1) E(h),
+// understates the error E(h): it returns the factor 1 / (2^a - 1) (1 where
+// no face is singular) by which the error estimates of log Z and the
+// moments are scaled. A slope of -1 or below is not integrable: the
+// density is improper.
+func (a *analysis) checkSingularBounds() (errScale float64) {
+	sides := [2]string{"lower", "upper"}
+	worst := 1.0
+	for _, sb := range a.singularBounds() {
+		if sb.slope < nonIntegrableSlope {
+			// Like 1/x or steeper: not integrable at the bound.
+			a.ref.singularImproper = true
+			a.avail.drop(QuantityLogZ, CodeImproper)
+			a.diag.add(CodeImproper, SeverityError,
+				"The density grows towards the %s bound of %s (%g) like a power %.2g of the distance, too fast to be integrable there: the density looks improper, so log Z and the exact moments are not reported.",
+				sides[sb.side], a.names[sb.k], sb.bound, sb.slope)
+			continue
+		}
+		order := math.Max(1+sb.slope, 0.05)
+		f := 1 / (math.Pow(2, order) - 1)
+		worst = math.Max(worst, f)
+		a.diag.add(CodeInfiniteAtBound, SeverityWarning,
+			"The density grows without bound towards the %s bound of %s (%g), like a power %.2g of the distance: the grid resolves this poorly, so its error estimates were scaled up %.2g times; fit %s on the log or logit scale, where it is smooth.",
+			sides[sb.side], a.names[sb.k], sb.bound, sb.slope, f, a.names[sb.k])
+	}
 	return worst
+}
+
+// adviseSingularBounds says, where the nested rule's results stand, which
+// bounds the density grows without bound towards (singularBounds): the
+// rule integrates on the log or logit scale, where such a density is
+// smooth, but the fits on the original scale cannot describe it, so the
+// advice to fit on that scale stays. Whether the density is integrable
+// there is the rule's verdict (its tail check on the unconstrained scale).
+func (a *analysis) adviseSingularBounds() {
+	sides := [2]string{"lower", "upper"}
+	for _, sb := range a.singularBounds() {
+		if !a.maps[sb.k].Scale.IsIdentity() {
+			continue
+		}
+		a.diag.add(CodeInfiniteAtBound, SeverityWarning,
+			"The density grows without bound towards the %s bound of %s (%g), like a power %.2g of the distance: the exact results come from a rule on the log or logit scale, where it is smooth, but no Gaussian on this scale describes it; fit %s on the log or logit scale.",
+			sides[sb.side], a.names[sb.k], sb.bound, sb.slope, a.names[sb.k])
+	}
 }
 
 // checkTails decides, per parameter on the fitting scale, whether the

@@ -17,7 +17,10 @@ type Settings struct {
 	// Tol ends a walk along an axis where the density's share of a node
 	// has fallen below Tol times the walk's largest; 0 means 1e-12.
 	Tol float64
-	// MomentTol is the same for the second and fourth powers; 0 means 1e-10.
+	// MomentTol is the same for the second powers; 0 means 1e-8 (the
+	// geometric remainder added at a walk's end carries the rest of the
+	// tail). The fourth powers end at max(MomentTol, 1e-2): see
+	// fourthPowerTol.
 	MomentTol float64
 	// MaxT bounds |t|; 0 means 16 (|u| up to about 4e6 conditional sds).
 	MaxT float64
@@ -54,7 +57,7 @@ func (s Settings) withDefaults() Settings {
 		s.Tol = 1e-12
 	}
 	if !(s.MomentTol > 0) {
-		s.MomentTol = 1e-10
+		s.MomentTol = 1e-8
 	}
 	if !(s.MaxT > 0) {
 		s.MaxT = 16
