@@ -480,7 +480,7 @@ func (f *Footer) Render() app.UI {
 	return app.Footer().Class("foot").Body(
 		app.P().Class("caution").Body(
 			app.Strong().Text("Caution. "),
-			app.Text("Every number here is a numerical approximation, computed on a grid with the error estimates shown. "+
+			app.Text("Every number here is a numerical approximation, computed by quadrature with the error estimates shown. "+
 				"If a result feeds a consequential decision, check it with a full inference method."),
 		),
 		app.Details().Class("lang-ref").Body(
