@@ -57,25 +57,19 @@ func (s CandidateSpec) errorf(line, col int, format string, args ...any) *Error 
 // with the same name merged into one candidate in the order first named.
 func CandidateLines(src string) ([]CandidateSpec, error) {
 	var out []CandidateSpec
-	for i, line := range strings.Split(src, "\n") {
-		line = strings.TrimSuffix(line, "\r")
-		if i == 0 {
-			line = strings.TrimPrefix(line, "\uFEFF")
-		}
-		rest := strings.TrimLeft(line, " \t")
-		if !strings.HasPrefix(rest, Prefix) {
-			continue
-		}
-		col := 1 + runes(line[:len(line)-len(rest)]) + len(Prefix)
-		fields := fieldsAt(rest[len(Prefix):], col)
+	err := eachLine(src, func(line, _ int, fields []field) error {
 		if len(fields) == 0 || Kind(fields[0].text) != Gaussian {
-			continue
+			return nil
 		}
-		spec := CandidateSpec{Line: i + 1, Col: fields[0].col}
+		spec := CandidateSpec{Line: line, Col: fields[0].col}
 		if err := spec.read(fields[1:], fields[0].col+runes(fields[0].text)); err != nil {
-			return nil, err
+			return err
 		}
 		out = mergeSpec(out, spec)
+		return nil
+	})
+	if err != nil {
+		return nil, err
 	}
 	return out, nil
 }

@@ -100,6 +100,40 @@ const Prefix = "#@"
 // separated by blanks (or commas), as in "#@ box m=-5:5 s=0:10".
 func Lines(src string) ([]Setting, error) {
 	var out []Setting
+	err := eachLine(src, func(line, col int, fields []field) error {
+		if len(fields) == 0 {
+			return &Error{Line: line, Col: col, Msg: "empty setting line: write #@ scale NAME=SCALE, #@ points NAME=N, #@ box NAME=LO:HI, #@ vary NAME=LO:HI or #@ gaussian NAME ..."}
+		}
+		kind := Kind(fields[0].text)
+		if kind == Gaussian {
+			return nil // a candidate Gaussian: CandidateLines reads it
+		}
+		if !known(kind) {
+			return &Error{Line: line, Col: fields[0].col, Msg: fmt.Sprintf("unknown setting %s: want scale, points, box, vary or gaussian", strconv.Quote(fields[0].text))}
+		}
+		if len(fields) == 1 {
+			return &Error{Line: line, Col: fields[0].col + runes(fields[0].text), Msg: fmt.Sprintf("%s needs at least one NAME=VALUE", kind)}
+		}
+		for _, f := range fields[1:] {
+			s, err := parseSetting(Setting{Kind: kind, Line: line, Col: f.col}, f.text)
+			if err != nil {
+				return err
+			}
+			out = append(out, s)
+		}
+		return nil
+	})
+	if err != nil {
+		return nil, err
+	}
+	return out, nil
+}
+
+// eachLine calls fn with every setting line of src: its number, the column
+// just after the prefix, and its fields with their columns (counted in
+// characters; a byte-order mark and a CR before the line break are not
+// part of a line).
+func eachLine(src string, fn func(line, col int, fields []field) error) error {
 	for i, line := range strings.Split(src, "\n") {
 		line = strings.TrimSuffix(line, "\r")
 		if i == 0 {
@@ -109,31 +143,12 @@ func Lines(src string) ([]Setting, error) {
 		if !strings.HasPrefix(rest, Prefix) {
 			continue
 		}
-		// Fields with their columns, counted in characters.
 		col := 1 + runes(line[:len(line)-len(rest)]) + len(Prefix)
-		fields := fieldsAt(rest[len(Prefix):], col)
-		if len(fields) == 0 {
-			return nil, &Error{Line: i + 1, Col: col, Msg: "empty setting line: write #@ scale NAME=SCALE, #@ points NAME=N, #@ box NAME=LO:HI, #@ vary NAME=LO:HI or #@ gaussian NAME ..."}
-		}
-		kind := Kind(fields[0].text)
-		if kind == Gaussian {
-			continue // a candidate Gaussian: CandidateLines reads it
-		}
-		if !known(kind) {
-			return nil, &Error{Line: i + 1, Col: fields[0].col, Msg: fmt.Sprintf("unknown setting %s: want scale, points, box, vary or gaussian", strconv.Quote(fields[0].text))}
-		}
-		if len(fields) == 1 {
-			return nil, &Error{Line: i + 1, Col: fields[0].col + runes(fields[0].text), Msg: fmt.Sprintf("%s needs at least one NAME=VALUE", kind)}
-		}
-		for _, f := range fields[1:] {
-			s, err := parseSetting(Setting{Kind: kind, Line: i + 1, Col: f.col}, f.text)
-			if err != nil {
-				return nil, err
-			}
-			out = append(out, s)
+		if err := fn(i+1, col, fieldsAt(rest[len(Prefix):], col)); err != nil {
+			return err
 		}
 	}
-	return out, nil
+	return nil
 }
 
 type field struct {
