@@ -34,6 +34,12 @@ func (e *TooLongError) Error() string {
 	return msg + "; even the coarsest grid would take longer: summarise the data (for instance by counts) or use fewer observations, or run it with the command line: bellcheck fit --max-time 1h FILE"
 }
 
+// offerMargin is how much faster than the bound the offered coarser grid is
+// forecast to run: taking the offer times the density again, and a timing
+// moves by a factor of up to about 2 on a busy machine, so a grid that fits
+// the bound only just would be refused in its turn.
+const offerMargin = 2
+
 // boundedAnalyse returns the page's analysis: it forecasts the work first
 // and refuses an analysis beyond PageMaxTime with a TooLongError, offering
 // the coarser grid in the notice (through actx).
@@ -51,7 +57,7 @@ func (p *Page) bounded(actx app.Context, ctx context.Context, m *model.Model, op
 	if est.Total <= PageMaxTime {
 		return engine.Analyse(ctx, m, opts, progress)
 	}
-	tl := &TooLongError{Estimate: est, Limit: PageMaxTime, Points: engine.PointsWithin(len(m.Params), est.PerPoint, PageMaxTime)}
+	tl := &TooLongError{Estimate: est, Limit: PageMaxTime, Points: engine.PointsWithin(len(m.Params), est.PerPoint, PageMaxTime/offerMargin)}
 	actx.Dispatch(func(app.Context) { p.offerCoarser(m, tl) })
 	return nil, tl
 }
