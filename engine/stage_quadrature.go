@@ -20,7 +20,8 @@ import (
 // mode search, which starts from the grid's peaks, and those that
 // space-filling starts find). It is on: the rule is the exact reference
 // wherever it applies; the grid's results stay where it does not (see
-// exactByQuadrature). The comparison and the plots still use the grid.
+// exactByQuadrature). Where it stands, the comparison and the plots use
+// it too (stage_compare.go, plots_rule.go).
 // Tests turn it off with BELLCHECK_QUADRATURE=0 to check the grid alone.
 var useQuadrature = true
 
@@ -34,11 +35,15 @@ const quadratureLogZErrMax = 1e-3
 // hi]), the user set no box (the grid integrates over the box), and a mode
 // was found. Where it does not, the grid's results stay as they are.
 func (a *analysis) exactByQuadrature() error {
+	a.tr.enter(stageExact)
 	q, maps, err := a.integrateNested()
 	if err != nil {
 		return err
 	}
 	if q == nil {
+		if a.scout {
+			return errFullGrid
+		}
 		a.checkReference()
 		return nil
 	}
@@ -350,15 +355,11 @@ func inverse(a []float64, d int) []float64 {
 // density keeps the comparisons, made on the grid, out.
 func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []transform.Map) error {
 	d := a.d
-	r.quad = q
+	r.quad, r.quadMaps = q, maps
+	// The grid only scouted (or, with the user's points, its resolution
+	// decides nothing here): the comparisons use the rule's nodes.
 	posInf, layers := a.gridUnresolved()
 	gridResolves := posInf == 0 && len(layers) == 0
-	if !gridResolves {
-		a.avail.drop(QuantityComparison, CodeUnresolved)
-		a.avail.drop(QuantityAxisErrors, CodeUnresolved)
-		a.diag.add(CodeUnresolved, SeverityWarning,
-			"The grid cannot resolve the density (a peak or a tail it does not follow): the exact results come from the nested rule around the modes, and the fits' comparisons, which use the grid, are not reported.")
-	}
 	a.checkPrecision()
 	r.singularImproper = false
 	r.tailMass = 0
@@ -402,24 +403,24 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 		fitting.KurtosisInfinite[k] = src.KurtosisInfinite[k]
 	}
 	quant := make([][3]float64, d)
+	r.curves = make([]*quadrature.Curve, d)
 	for k := 0; k < d; k++ {
-		if gridResolves && d >= 3 && a.ref.grid != nil {
-			// The rule's quantiles integrate a slice of d-1 dimensions at
-			// every node of a marginal: on a costly density in 3-D or 4-D
-			// that was most of the analysis (26 s of 35 for a 40-reading
-			// Lorenz-63 cost). Where the grid resolves the density, its
-			// quantiles (interpolated marginals) stand.
-			quant[k] = r.original.Quantiles[k]
-			continue
-		}
-		qs, _, err := q.Quantiles(a.ctx, k, []float64{0.025, 0.5, 0.975})
+		// Each marginal is walked once, at the rule's nodes along its own
+		// axis, each node a rule over the others: the quantiles here and
+		// the plotted marginal (plots_rule.go) come from it. In 3-D and
+		// 4-D the slices take twice the rule's step (a slice is a 2-D or
+		// 3-D rule; at the rule's own step the quantiles of a 40-reading
+		// Lorenz-63 cost took 26 s).
+		cv, err := q.Curve(a.ctx, k, d <= 2)
 		if err != nil {
 			if ctxErr := a.ctx.Err(); ctxErr != nil {
 				return ctxErr
 			}
-			qs = []float64{math.NaN(), math.NaN(), math.NaN()}
+			quant[k] = [3]float64{math.NaN(), math.NaN(), math.NaN()}
+			continue
 		}
-		copy(quant[k][:], qs)
+		r.curves[k] = cv
+		copy(quant[k][:], cv.Quantiles([]float64{0.025, 0.5, 0.975}))
 	}
 	disputed := a.disputedVariances(q)
 	for _, k := range disputed {
