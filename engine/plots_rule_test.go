@@ -51,9 +51,10 @@ func TestRulePlotsGaussian(t *testing.T) {
 				area += (x - m.X[i-1]) * (m.Exact[i] + m.Exact[i-1]) / 2
 			}
 		}
-		// The slices' rules run at twice the main step (quadrature.Marginal):
-		// a relative error of 4e-4 here, invisible on a plot.
-		if worst > 1e-3*n.Prob(mean[k]) {
+		// The marginal is the sinc interpolant of the rule's own walk
+		// along the axis (quadrature.Curve, slices at the rule's step in
+		// 3-D): 2.6e-5 of the peak at worst when measured, asked 1e-4.
+		if worst > 1e-4*n.Prob(mean[k]) {
 			t.Errorf("marginal %d: off the normal density by %g", k, worst)
 		}
 		if math.Abs(area-1) > 1e-3 {
@@ -73,7 +74,10 @@ func TestRulePlotsGaussian(t *testing.T) {
 			}
 		}
 		peak := 1 / (2 * math.Pi * math.Sqrt(det))
-		if worst > 1e-3*peak { // as for the marginals
+		// Computed at 31 points a side and refined by cubic interpolation
+		// (upsample, whose error falls as the cube of the spacing, here
+		// 0.27 sd): 2e-3 of the peak is below what a plot shows.
+		if worst > 2e-3*peak {
 			t.Errorf("pair (%d, %d): off the bivariate normal by %g of its peak", i, j, worst/peak)
 		}
 		for c, f := range contourMasses {

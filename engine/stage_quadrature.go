@@ -411,7 +411,7 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 		// 4-D the slices take twice the rule's step (a slice is a 2-D or
 		// 3-D rule; at the rule's own step the quantiles of a 40-reading
 		// Lorenz-63 cost took 26 s).
-		cv, err := q.Curve(a.ctx, k, d <= 2)
+		cv, err := q.Curve(a.ctx, k, d <= 3)
 		if err != nil {
 			if ctxErr := a.ctx.Err(); ctxErr != nil {
 				return ctxErr

@@ -24,8 +24,10 @@ const (
 	// on the test cases, far in a funnel's tail: below what a plot shows).
 	sliceCoarse
 	// slicePlot: twice the main step, walks ended where the density's
-	// share falls below 1e-9 of its peak and no walks for the moments
-	// (a slice's integral is all a plot point needs).
+	// share falls below 1e-9 of its peak, no walks for the moments (a
+	// slice's integral is all a plot point needs) and at most two Newton
+	// steps recentring each inner axis (the previous point's centre is
+	// the guess).
 	slicePlot
 )
 
@@ -39,6 +41,7 @@ func (res *Result) sliceSettings(dim int, acc sliceAccuracy) Settings {
 	if acc == slicePlot {
 		s.Tol = math.Max(s.Tol, 1e-9)
 		s.MomentTol = 1
+		s.NewtonSteps = 2
 	}
 	s.Order = identityOrder(dim)
 	s.Maps = nil
