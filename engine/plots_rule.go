@@ -53,7 +53,7 @@ func (a *analysis) plotsFromRule(res *Result) (*Plots, error) {
 		cv := a.ref.curves[k]
 		if cv == nil {
 			var err error
-			if cv, err = q.Curve(a.ctx, k, d <= 3); err != nil {
+			if cv, err = q.Curve(a.ctx, k, fineCurves(q, d)); err != nil {
 				if ctxErr := a.ctx.Err(); ctxErr != nil {
 					return nil, ctxErr
 				}

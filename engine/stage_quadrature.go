@@ -411,7 +411,7 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 		// 4-D the slices take twice the rule's step (a slice is a 2-D or
 		// 3-D rule; at the rule's own step the quantiles of a 40-reading
 		// Lorenz-63 cost took 26 s).
-		cv, err := q.Curve(a.ctx, k, d <= 3)
+		cv, err := q.Curve(a.ctx, k, fineCurves(q, d))
 		if err != nil {
 			if ctxErr := a.ctx.Err(); ctxErr != nil {
 				return ctxErr
@@ -448,6 +448,23 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 	}
 	return nil
 }
+
+// fineCurves reports whether the marginals' slices take the rule's own
+// step (else twice it): up to 2-D, and in 3-D where the rule itself took
+// at most fineCurvePoints evaluations. A walk along one parameter with a
+// rule over the others at every node costs about as much as the whole
+// rule at the same step, so d walks at the rule's step cost d rules; at
+// twice the step, 2^(d-1) times less. Twice the step was off by 4e-4
+// relative in the 3-D funnel's marginal, the rule's own step by none seen
+// (quadrature's TestFunnelPlots); the 40-reading Lorenz-63 cost's rule
+// takes a million evaluations, and its marginals at the rule's own step
+// took 30 s.
+func fineCurves(q *quadrature.Result, d int) bool {
+	return d <= 2 || (d == 3 && q.Points <= fineCurvePoints)
+}
+
+// fineCurvePoints: see fineCurves.
+const fineCurvePoints = 100000
 
 // disputedVariances lists the parameters whose variance the nested rule
 // finds infinite while the grid, over a box that reaches further on the
