@@ -43,13 +43,23 @@ var (
 // pushforward through the maps, the modes' and the box's x(z)), and the
 // fitting scale's values sit under the fields named fitting_scale.
 func Analyse(ctx context.Context, m *model.Model, opts Options, progress ProgressFunc) (*Result, error) {
-	a := &analysis{ctx: ctx, m: m, opts: opts, tr: newTracker(progress)}
+	a := &analysis{ctx: ctx, m: m, opts: opts, tr: newTracker(progress), scout: true}
 	res, err := a.run()
+	if errors.Is(err, errFullGrid) {
+		// The nested rule did not stand: the grid's results are the
+		// exact ones, so the analysis runs again on the full grid.
+		a = &analysis{ctx: ctx, m: m, opts: opts, tr: a.tr}
+		res, err = a.run()
+	}
 	if err != nil {
 		return nil, err
 	}
 	return res, nil
 }
+
+// errFullGrid is run's request to run again with the full grid: the
+// nested rule did not stand after a scouting grid (stage_quadrature.go).
+var errFullGrid = errors.New("engine: the nested rule did not stand; the full grid is needed")
 
 // analysis is the state of one run of Analyse: the run's inputs, and what
 // each stage hands to the next.
@@ -58,7 +68,11 @@ type analysis struct {
 	m    *model.Model
 	opts Options
 	tr   *tracker
-	diag diagnostics
+	// scout asks for a scouting grid, coarser than the default, where the
+	// nested rule is expected to give the exact results (setup decides;
+	// see scoutPoints).
+	scout bool
+	diag  diagnostics
 	// avail records what the Result leaves out and why: the stages write
 	// it, the report reads it (availability.go).
 	avail availability

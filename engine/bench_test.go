@@ -141,3 +141,12 @@ func skipSlowWasm(b *testing.B) {
 		b.Skip("slow under js/wasm; run natively")
 	}
 }
+
+// The same analyses with the plots (the page asks for them): with the
+// nested rule on, every plot point is a nested rule over the other
+// parameters (plots_rule.go).
+func BenchmarkPlots2DBanana(b *testing.B) { benchModel(b, "banana_2d.txt", Options{Plots: true}) }
+func BenchmarkPlots3DSensor(b *testing.B) {
+	benchModel(b, "sensor_3d.txt", Options{Plots: true, Params: []ParamOptions{{}, logScale}})
+}
+func BenchmarkPlots4DCounts(b *testing.B) { benchModel(b, "counts_4d.txt", Options{Plots: true}) }

@@ -23,25 +23,18 @@ const contourPoints = 96
 // plots draws the exact marginals and each fit's on the original scale. It
 // reports progress and checks for cancellation between the pieces of each
 // pair (the largest 2-D grid holds 2.25 million nodes).
+//
+// Where the nested rule stands, the plots come from it instead
+// (plotsFromRule, plots_rule.go).
 func (a *analysis) plots(res *Result) (*Plots, error) {
+	if a.ref.onNodes() {
+		return a.plotsFromRule(res)
+	}
 	g := a.ref.grid
 	st := &g.Stats
 	d := a.d
 	pl := &Plots{}
-	// Each fit that exists, a normal on the fitting scale, by method.
-	var fits [NumMethods]*gauss.Prepared
-	// Each candidate, by its index in res.Candidates.
-	cands := make([]*gauss.Prepared, len(res.Candidates))
-	for _, fd := range a.fits {
-		switch {
-		case fd.candidate != "":
-			if res.Candidates[fd.index].Fit != nil {
-				cands[fd.index] = fd.q
-			}
-		case res.Fits[fd.method] != nil:
-			fits[fd.method] = fd.q
-		}
-	}
+	fits, cands := a.plotted(res)
 	// dxdz[k][i] is dx/dz at node i of axis k.
 	dxdz := make([][]float64, d)
 	xs := make([][]float64, d)
@@ -140,6 +133,24 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 		pl.Pairs = append(pl.Pairs, m2)
 	}
 	return pl, nil
+}
+
+// plotted returns the Gaussians the plots draw: each fit that exists by
+// method, and each candidate by its index in res.Candidates (nil where it
+// has no comparison); all normals on the fitting scale.
+func (a *analysis) plotted(res *Result) (fits [NumMethods]*gauss.Prepared, cands []*gauss.Prepared) {
+	cands = make([]*gauss.Prepared, len(res.Candidates))
+	for _, fd := range a.fits {
+		switch {
+		case fd.candidate != "":
+			if res.Candidates[fd.index].Fit != nil {
+				cands[fd.index] = fd.q
+			}
+		case res.Fits[fd.method] != nil:
+			fits[fd.method] = fd.q
+		}
+	}
+	return fits, cands
 }
 
 // ellipses returns the fit's contours holding contourMasses of its (i, j)

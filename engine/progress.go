@@ -21,8 +21,9 @@ var stageShares = []struct {
 }{
 	{stageCompile, 0.01},
 	{stageBox, 0.06},
-	{stageGrid, 0.47},
+	{stageGrid, 0.27},
 	{stageModes, 0.06},
+	{stageExact, 0.2},
 	{stageLaplace, 0.01},
 	{stageReverseKL, 0.12},
 	{stageMeanField, 0.06},
@@ -37,6 +38,7 @@ const (
 	stageBox       = "box"
 	stageGrid      = "grid"
 	stageModes     = "modes"
+	stageExact     = "exact"
 	stageLaplace   = "laplace"
 	stageReverseKL = "reverse_kl"
 	stageMeanField = "mean_field"

@@ -20,7 +20,8 @@ import (
 // mode search, which starts from the grid's peaks, and those that
 // space-filling starts find). It is on: the rule is the exact reference
 // wherever it applies; the grid's results stay where it does not (see
-// exactByQuadrature). The comparison and the plots still use the grid.
+// exactByQuadrature). Where it stands, the comparison and the plots use
+// it too (stage_compare.go, plots_rule.go).
 // Tests turn it off with BELLCHECK_QUADRATURE=0 to check the grid alone.
 var useQuadrature = true
 
@@ -34,11 +35,15 @@ const quadratureLogZErrMax = 1e-3
 // hi]), the user set no box (the grid integrates over the box), and a mode
 // was found. Where it does not, the grid's results stay as they are.
 func (a *analysis) exactByQuadrature() error {
+	a.tr.enter(stageExact)
 	q, maps, err := a.integrateNested()
 	if err != nil {
 		return err
 	}
 	if q == nil {
+		if a.scout {
+			return errFullGrid
+		}
 		a.checkReference()
 		return nil
 	}
@@ -350,15 +355,11 @@ func inverse(a []float64, d int) []float64 {
 // density keeps the comparisons, made on the grid, out.
 func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []transform.Map) error {
 	d := a.d
-	r.quad = q
+	r.quad, r.quadMaps = q, maps
+	// The grid only scouted (or, with the user's points, its resolution
+	// decides nothing here): the comparisons use the rule's nodes.
 	posInf, layers := a.gridUnresolved()
 	gridResolves := posInf == 0 && len(layers) == 0
-	if !gridResolves {
-		a.avail.drop(QuantityComparison, CodeUnresolved)
-		a.avail.drop(QuantityAxisErrors, CodeUnresolved)
-		a.diag.add(CodeUnresolved, SeverityWarning,
-			"The grid cannot resolve the density (a peak or a tail it does not follow): the exact results come from the nested rule around the modes, and the fits' comparisons, which use the grid, are not reported.")
-	}
 	a.checkPrecision()
 	r.singularImproper = false
 	r.tailMass = 0
@@ -402,24 +403,24 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 		fitting.KurtosisInfinite[k] = src.KurtosisInfinite[k]
 	}
 	quant := make([][3]float64, d)
+	r.curves = make([]*quadrature.Curve, d)
 	for k := 0; k < d; k++ {
-		if gridResolves && d >= 3 && a.ref.grid != nil {
-			// The rule's quantiles integrate a slice of d-1 dimensions at
-			// every node of a marginal: on a costly density in 3-D or 4-D
-			// that was most of the analysis (26 s of 35 for a 40-reading
-			// Lorenz-63 cost). Where the grid resolves the density, its
-			// quantiles (interpolated marginals) stand.
-			quant[k] = r.original.Quantiles[k]
-			continue
-		}
-		qs, _, err := q.Quantiles(a.ctx, k, []float64{0.025, 0.5, 0.975})
+		// Each marginal is walked once, at the rule's nodes along its own
+		// axis, each node a rule over the others: the quantiles here and
+		// the plotted marginal (plots_rule.go) come from it. In 3-D and
+		// 4-D the slices take twice the rule's step (a slice is a 2-D or
+		// 3-D rule; at the rule's own step the quantiles of a 40-reading
+		// Lorenz-63 cost took 26 s).
+		cv, err := q.Curve(a.ctx, k, fineCurves(q, d))
 		if err != nil {
 			if ctxErr := a.ctx.Err(); ctxErr != nil {
 				return ctxErr
 			}
-			qs = []float64{math.NaN(), math.NaN(), math.NaN()}
+			quant[k] = [3]float64{math.NaN(), math.NaN(), math.NaN()}
+			continue
 		}
-		copy(quant[k][:], qs)
+		r.curves[k] = cv
+		copy(quant[k][:], cv.Quantiles([]float64{0.025, 0.5, 0.975}))
 	}
 	disputed := a.disputedVariances(q)
 	for _, k := range disputed {
@@ -447,6 +448,23 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 	}
 	return nil
 }
+
+// fineCurves reports whether the marginals' slices take the rule's own
+// step (else twice it): up to 2-D, and in 3-D where the rule itself took
+// at most fineCurvePoints evaluations. A walk along one parameter with a
+// rule over the others at every node costs about as much as the whole
+// rule at the same step, so d walks at the rule's step cost d rules; at
+// twice the step, 2^(d-1) times less. Twice the step was off by 4e-4
+// relative in the 3-D funnel's marginal, the rule's own step by none seen
+// (quadrature's TestFunnelPlots); the 40-reading Lorenz-63 cost's rule
+// takes a million evaluations, and its marginals at the rule's own step
+// took 30 s.
+func fineCurves(q *quadrature.Result, d int) bool {
+	return d <= 2 || (d == 3 && q.Points <= fineCurvePoints)
+}
+
+// fineCurvePoints: see fineCurves.
+const fineCurvePoints = 100000
 
 // disputedVariances lists the parameters whose variance the nested rule
 // finds infinite while the grid, over a box that reaches further on the

@@ -7,6 +7,7 @@ import (
 
 	"bellcheck/engine/grid"
 	"bellcheck/engine/quadrature"
+	"bellcheck/engine/transform"
 )
 
 // reference is what the reference stage hands on: the exact posterior on
@@ -57,6 +58,12 @@ type reference struct {
 	// quad, when set, is the nested rule whose results replaced the
 	// grid's (stage_quadrature.go): its verdicts on the tails stand.
 	quad *quadrature.Result
+	// quadMaps are the maps from the rule's unconstrained scale to the
+	// original one, per parameter (set with quad).
+	quadMaps []transform.Map
+	// curves are the rule's marginals, per parameter (nil where the walk
+	// failed): the quantiles and the plotted marginals.
+	curves []*quadrature.Curve
 }
 
 // findReference is the reference stage: it finds the box, evaluates the

@@ -118,17 +118,52 @@ func (a *analysis) setup() error {
 		a.p = w
 	}
 	a.pw = &watched{Density: a.p, tick: func(int) {}}
+	a.scout = a.scout && a.ruleExpected()
 	return nil
 }
 
-// points returns the grid points the user asked for along each axis (0
-// for the default).
+// scoutPoints are the grid's points per axis, by the number of
+// parameters, where the nested rule is expected to give the exact results
+// (every parameter has an unconstrained scale, the user set neither a box
+// nor points): the grid then only scouts, for the box, the peaks the mode
+// search starts from and the tails' verdicts, and costs a tenth of the
+// default grid or less. Where the rule does not stand, the analysis runs
+// again on the default grid (errFullGrid).
+var scoutPoints = [4]int{2001, 121, 41, 21}
+
+// points returns the grid points along each axis: those the user asked
+// for (0 for the default), or the scouting grid's.
 func (a *analysis) points() []int {
 	pts := make([]int, a.d)
 	for i := range pts {
 		if i < len(a.opts.Params) {
 			pts[i] = a.opts.Params[i].Points
 		}
+		if a.scout && pts[i] == 0 {
+			pts[i] = scoutPoints[min(a.d, 4)-1]
+		}
 	}
 	return pts
+}
+
+// ruleExpected reports whether the nested rule can give the exact
+// results: it is on, every parameter's support has an unconstrained scale
+// (the whole line, [lo, inf] or [lo, hi]) and the user set no box and no
+// grid points.
+func (a *analysis) ruleExpected() bool {
+	if !useQuadrature {
+		return false
+	}
+	for k, prm := range a.m.Params {
+		if a.pinned[k][0] || a.pinned[k][1] {
+			return false
+		}
+		if math.IsInf(prm.Lo, -1) && !math.IsInf(prm.Hi, 1) {
+			return false
+		}
+		if k < len(a.opts.Params) && a.opts.Params[k].Points != 0 {
+			return false
+		}
+	}
+	return true
 }

@@ -72,6 +72,8 @@ func stageName(s string) string {
 		return "exact density on the grid"
 	case "modes":
 		return "searching modes"
+	case "exact":
+		return "exact posterior by quadrature"
 	case "compare":
 		return "comparing"
 	case "plots":

@@ -25,7 +25,11 @@ func (r *rule) condition(k int) {
 		}
 		ok = true
 	}
-	for it := 0; it < maxNewton && !(k == 0 && r.pilot); it++ {
+	steps := maxNewton
+	if r.s.NewtonSteps > 0 {
+		steps = r.s.NewtonSteps
+	}
+	for it := 0; it < steps && !(k == 0 && r.pilot); it++ {
 		f := r.derivsAt(k, r.ut)
 		if math.IsNaN(f) || math.IsInf(f, 0) {
 			break
@@ -43,7 +47,7 @@ func (r *rule) condition(k int) {
 		for i := 0; i < m; i++ {
 			dec += r.step[i] * r.gu[k+i]
 		}
-		if !(dec > 1e-8) || it == maxNewton-1 {
+		if !(dec > 1e-8) || it == steps-1 {
 			break
 		}
 		// Backtrack until log p does not fall.

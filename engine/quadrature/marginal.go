@@ -13,14 +13,35 @@ import (
 // ErrImproper is returned by the marginals of an improper density.
 var ErrImproper = errors.New("quadrature: the density is improper")
 
+// Accuracy of the rules that integrate the other axes at a point of a
+// marginal or a pair.
+type sliceAccuracy int
+
+const (
+	// sliceFine: the rule's own step and tolerances.
+	sliceFine sliceAccuracy = iota
+	// sliceCoarse: twice the main step (a relative error of 2e-4 at worst
+	// on the test cases, far in a funnel's tail: below what a plot shows).
+	sliceCoarse
+	// slicePlot: twice the main step, walks ended where the density's
+	// share falls below 1e-9 of its peak, no walks for the moments (a
+	// slice's integral is all a plot point needs) and at most two Newton
+	// steps recentring each inner axis (the previous point's centre is
+	// the guess).
+	slicePlot
+)
+
 // sliceSettings are the settings of the rules that integrate the other
-// axes at a plot point: twice the main step unless fine (a relative error
-// of 2e-4 at worst on the test cases, far in a funnel's tail: below what a
-// plot shows), no pilot.
-func (res *Result) sliceSettings(dim int, fine bool) Settings {
+// axes at a plot point (see sliceAccuracy), with no pilot.
+func (res *Result) sliceSettings(dim int, acc sliceAccuracy) Settings {
 	s := res.settings.withDefaults()
-	if !fine {
+	if acc != sliceFine {
 		s.Step *= 2
+	}
+	if acc == slicePlot {
+		s.Tol = math.Max(s.Tol, 1e-9)
+		s.MomentTol = 1
+		s.NewtonSteps = 2
 	}
 	s.Order = identityOrder(dim)
 	s.Maps = nil
@@ -39,7 +60,7 @@ func (res *Result) mapOf(k int) transform.Map {
 // sliceLogZ returns log of the integral of p over the coordinates other
 // than sl.fixed (at sl.val), and the conditional centre it found (for the
 // next point's guess). guess may be nil.
-func (res *Result) sliceLogZ(ctx context.Context, sl *slice, guess []float64, fine bool) (float64, []float64, error) {
+func (res *Result) sliceLogZ(ctx context.Context, sl *slice, guess []float64, acc sliceAccuracy) (float64, []float64, error) {
 	d := res.Dim
 	if len(sl.free) == 0 {
 		return sl.LogDensity(nil), nil, nil
@@ -52,10 +73,10 @@ func (res *Result) sliceLogZ(ctx context.Context, sl *slice, guess []float64, fi
 		mean = guess
 	}
 	st := Start{Mode: mean, Cov: cov}
-	r, err := newRule(ctx, sl, st, res.sliceSettings(len(sl.free), fine))
+	r, err := newRule(ctx, sl, st, res.sliceSettings(len(sl.free), acc))
 	if err != nil {
 		if errors.Is(err, ErrBadStart) && guess != nil {
-			return res.sliceLogZ(ctx, sl, nil, fine)
+			return res.sliceLogZ(ctx, sl, nil, acc)
 		}
 		if errors.Is(err, ErrBadStart) {
 			return math.Inf(-1), nil, nil // log p is -Inf or undefined at the guess: no mass there
@@ -97,7 +118,7 @@ func (res *Result) Marginal(ctx context.Context, k int, xs []float64) ([]float64
 			continue
 		}
 		sl.val[0] = z
-		lz, c, err := res.sliceLogZ(ctx, sl, guess, false)
+		lz, c, err := res.sliceLogZ(ctx, sl, guess, sliceCoarse)
 		if err != nil {
 			return nil, err
 		}
@@ -130,7 +151,7 @@ func (res *Result) Pair(ctx context.Context, i, j int, xs, ys []float64) ([]floa
 				continue
 			}
 			sl.val[0], sl.val[1] = zi, zj
-			lz, c, err := res.sliceLogZ(ctx, sl, guess, false)
+			lz, c, err := res.sliceLogZ(ctx, sl, guess, slicePlot)
 			if err != nil {
 				return nil, err
 			}

@@ -44,6 +44,34 @@ func TestMarginals(t *testing.T) {
 	for i, p := range ps {
 		check(t, "quantile of m", q[i], st.Quantile(p), 1e-4*st.Sigma, -1)
 	}
+	// The curve's sinc interpolant between its nodes gives the same
+	// marginal (the closed form, Student t as above), also on the original
+	// scale of s, whose log-scale curve is mapped with the Jacobian:
+	// s | y has the density of sqrt(ss / chi2_{n-1}).
+	for _, fine := range []bool{true, false} {
+		cv, err := res.Curve(context.Background(), 0, fine)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for i, v := range cv.Density(xs) {
+			check(t, "curve of m", v, st.Prob(xs[i]), 1e-5*st.Prob(ybar), -1)
+		}
+		cs, err := res.Curve(context.Background(), 1, fine)
+		if err != nil {
+			t.Fatal(err)
+		}
+		chi := distuv.ChiSquared{K: n - 1}
+		sx := []float64{0.3, 0.6, 0.9, 1.4, 2.5, 4}
+		peakS := 0.0
+		for _, x := range sx {
+			peakS = math.Max(peakS, chi.Prob(ss/(x*x))*2*ss/(x*x*x))
+		}
+		for i, v := range cs.Density(sx) {
+			// P(s <= x) = P(chi2 >= ss/x^2): density chi.Prob(ss/x^2) 2 ss / x^3.
+			x := sx[i]
+			check(t, "curve of s", v, chi.Prob(ss/(x*x))*2*ss/(x*x*x), 1e-5*peakS, -1)
+		}
+	}
 	// sigma^2 ~ Inv-chi^2(n-1, s^2): P(sigma <= x) = P(chi2_{n-1} >= ss/x^2).
 	chi := distuv.ChiSquared{K: n - 1}
 	q, _, err = res.Quantiles(context.Background(), 1, ps)

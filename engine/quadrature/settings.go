@@ -42,6 +42,10 @@ type Settings struct {
 	// the axes from its moments and centre the rule at its mean (see
 	// Integrate).
 	Order []int
+	// NewtonSteps bounds the damped Newton steps that recentre the inner
+	// axes at each outer node; 0 means 20. The rule integrates correctly
+	// from any centre near the mass, only with more nodes from a poor one.
+	NewtonSteps int
 	// Progress, when set, receives the fraction done (0 to 1).
 	Progress func(fraction float64)
 }

@@ -1,0 +1,277 @@
+package compare
+
+import (
+	"context"
+	"fmt"
+	"math"
+
+	"bellcheck/engine/gauss"
+	"bellcheck/engine/special"
+	"bellcheck/engine/target"
+)
+
+// OnNodes: KL(p||q), the Hellinger distance and the coverage are weighted
+// sums over the exact reference's node set; KL(q||p) comes from the
+// cubature in q's coordinates (CompareNodes).
+const OnNodes Method = "nodes"
+
+// NodeSet is a weighted set of points where the exact density was
+// evaluated: the integral of f against p is about
+// sum_i exp(LogWeight(i) + LogP(i)) f(z_i) (quadrature.NodeSet).
+type NodeSet interface {
+	Len() int
+	Point(i int, z []float64)
+	LogWeight(i int) float64
+	LogP(i int) float64
+	// Coarse reports whether node i is also a node of the rule of twice
+	// the step (whose weights are 2^d times the finest's).
+	Coarse(i int) bool
+}
+
+// NodeSettings are the inputs of CompareNodes beside the nodes and the
+// Gaussians.
+type NodeSettings struct {
+	// LogZ is log of the integral of p (the rule's own estimate): it
+	// normalises p in the cubature. The sums over the nodes use the node
+	// set's own total, so that p's weights sum to one.
+	LogZ float64
+	// ToFitting maps a node z to the fitting scale, y, and returns
+	// log |det dy/dz| there; nil means the nodes are on the fitting scale.
+	ToFitting func(z, y []float64) float64
+	// Mean and SD are the exact moments on the fitting scale (for the mean
+	// errors and sd ratios).
+	Mean, SD []float64
+	// Density is p on the fitting scale, for the cubature of KL(q||p)
+	// (and of the Hellinger distance where q is not inside the node set).
+	Density target.Density
+	// Bounded, Order, QMassTol, Context and Progress are as in Settings.
+	Bounded  bool
+	Order    int
+	QMassTol float64
+	Context  context.Context
+	Progress func(fraction float64)
+}
+
+// coverageWidths are the smoothing widths of the coverage's indicator, in
+// local node spacings (see CompareNodes).
+var coverageWidths = [2]float64{0.5, 1}
+
+// CompareNodes compares each Gaussian in qs (on the fitting scale) with the
+// density integrated by a node set on its own scale z.
+//
+// With y(z) the fitting scale and J = |det dy/dz|, p's density on the
+// fitting scale is p_z/J, so that, with weights m_i = w_i p_i / sum w p:
+//   - KL(p||q) = sum_i m_i (log p_i - log Zn - log J_i - log q(y_i));
+//   - the Bhattacharyya coefficient is integral sqrt(p_y q) dy =
+//     sum_i w_i sqrt(p_i q(y_i) J_i / Zn), Hellinger = sqrt(1 - it);
+//   - the Bhattacharyya sum is also taken over the rule of twice the
+//     step (the coarse nodes, weights 2^d w_i). The trapezoid rule's error
+//     on an analytic integrand falls like exp(-c/h), so halving the step
+//     squares it: the change r between the two sums estimates the coarse
+//     rule's error, and r^2 the finest's. Where r^2 exceeds QMassTol (and
+//     p's own change), or the node nearest q's mean is more than one of
+//     q's sds wide (the side of its cell's volume in q's coordinates),
+//     the nodes do not resolve q (it is narrow for their spacing), and
+//     the Hellinger distance comes from the cubature in q's coordinates
+//     (Resolved is false). A q wider than p needs no such care: sqrt(p q)
+//     decays with p;
+//   - QMass is q's mass on the nodes, sum_i w_i q(y_i) J_i (below 1 where q
+//     reaches beyond p's nodes);
+//   - the coverage is sum_i m_i chi_i, with chi the indicator of q's
+//     central 95 % region smoothed across each node's cell (below);
+//   - KL(q||p) always comes from the cubature (the nodes follow p, not q).
+//
+// Zn = sum_i w_i p_i is the node set's own total.
+//
+// The coverage is p's mass inside q's central 95 % region
+// {M(y) <= r0^2}, M the Mahalanobis square of q. A sum of p's weights over
+// the nodes inside would be only first-order accurate in the spacing (the
+// region's boundary cuts the cells), so the indicator is smoothed along
+// the radius s = sqrt(M): chi_i = Phi((r0 - s_i) / delta_i), with delta_i
+// a multiple c of node i's spacing in q's coordinates (the d-th root of its
+// cell's volume there, exp(log w_i + log J_i) / sqrt(det Cov)). A Gaussian
+// smoothing one spacing wide is integrated by the trapezoid rule to about
+// exp(-2 pi^2 c^2) of its size (Poisson summation), and its bias grows as
+// c^2, so the smoothing's bias is removed by Richardson extrapolation from
+// widths c and 2c (coverageWidths): (4 C(c) - C(2c)) / 3. Beyond nine
+// widths from the boundary the indicator is taken as 0 or 1 (Phi(-9) is
+// 1e-19).
+func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, error) {
+	n := ns.Len()
+	if len(qs) == 0 {
+		return nil, nil
+	}
+	d := qs[0].Dim()
+	for i, q := range qs {
+		if q == nil || q.Dim() != d {
+			return nil, fmt.Errorf("gaussian %d: %w: dimensions differ", i, ErrBadGaussian)
+		}
+	}
+	if n == 0 {
+		return nil, fmt.Errorf("compare: empty node set")
+	}
+	// Per node: y, log J, log w, log p; the node set's total.
+	ys := make([]float64, n*d)
+	logJ := make([]float64, n)
+	logW := make([]float64, n)
+	logP := make([]float64, n)
+	z := make([]float64, d)
+	top := math.Inf(-1)
+	for i := 0; i < n; i++ {
+		ns.Point(i, z)
+		y := ys[i*d : (i+1)*d]
+		if s.ToFitting != nil {
+			logJ[i] = s.ToFitting(z, y)
+		} else {
+			copy(y, z)
+		}
+		logW[i], logP[i] = ns.LogWeight(i), ns.LogP(i)
+		top = math.Max(top, logW[i]+logP[i])
+	}
+	if math.IsInf(top, 0) || math.IsNaN(top) {
+		return nil, fmt.Errorf("compare: the node set holds no mass")
+	}
+	zn := 0.0
+	for i := 0; i < n; i++ {
+		zn += math.Exp(logW[i] + logP[i] - top)
+	}
+	logZn := top + math.Log(zn)
+	// p's own change from the rule of step 2h to the finest (relative).
+	coarseP := 0.0
+	for i := 0; i < n; i++ {
+		if ns.Coarse(i) {
+			coarseP += math.Exp(logW[i] + logP[i] - logZn)
+		}
+	}
+	errP := math.Abs(float64(int(1)<<d)*coarseP - 1)
+	// p's weights (normalised), and the nodes whose y and Jacobian are
+	// finite; skipped is p's share at the others.
+	pm := make([]float64, n)
+	valid := make([]bool, n)
+	skipped := 0.0
+	for i := 0; i < n; i++ {
+		pm[i] = math.Exp(logW[i] + logP[i] - logZn)
+		valid[i] = finite(ys[i*d:(i+1)*d]) && !math.IsNaN(logJ[i]) && !math.IsInf(logJ[i], 0)
+		if !valid[i] {
+			skipped += pm[i]
+		}
+	}
+	r0 := math.Sqrt(special.ChiSquareQuantile(d, 0.95))
+	tol := s.QMassTol
+	if tol <= 0 {
+		tol = 1e-6
+	}
+	out := make([]Result, len(qs))
+	for qi, q := range qs {
+		if s.Context != nil {
+			if err := s.Context.Err(); err != nil {
+				return nil, err
+			}
+		}
+		res := Result{Method: OnNodes}
+		klpq, bhat, bhat2, qmass := 0.0, 0.0, 0.0, 0.0
+		coarse := float64(int(1) << d)
+		nearest, nearestM := -1, math.Inf(1)
+		var cover [2]float64
+		logNorm, halfLogDet := q.LogNorm(), q.LogDet()/2
+		for i := 0; i < n; i++ {
+			if !valid[i] {
+				continue
+			}
+			M := q.Mahalanobis2(ys[i*d : (i+1)*d])
+			lq := logNorm - M/2
+			if M < nearestM {
+				nearest, nearestM = i, M
+			}
+			m, lp := pm[i], logP[i]-logZn
+			if m > 0 {
+				klpq += m * (lp - logJ[i] - lq)
+			}
+			if e := logW[i] + (lp+lq+logJ[i])/2; e > -745 {
+				b := math.Exp(e)
+				bhat += b
+				if ns.Coarse(i) {
+					bhat2 += coarse * b
+				}
+			}
+			if e := logW[i] + lq + logJ[i]; e > -745 {
+				qmass += math.Exp(e)
+			}
+			if !(m > 0) {
+				continue
+			}
+			// The coverage's smoothed indicator (see above).
+			h := math.Exp((logW[i] + logJ[i] - halfLogDet) / float64(d))
+			gap := math.Sqrt(M) - r0
+			switch {
+			case gap > 9*coverageWidths[1]*h:
+			case gap < -9*coverageWidths[1]*h:
+				cover[0] += m
+				cover[1] += m
+			default:
+				for w, f := range coverageWidths {
+					cover[w] += m * 0.5 * math.Erfc(gap/(f*h*math.Sqrt2))
+				}
+			}
+		}
+		if s.Progress != nil {
+			s.Progress(float64(qi+1) / float64(len(qs)))
+		}
+		if skipped > 1e-12 {
+			// p has mass where the fitting scale rounds to a bound: the
+			// sums are not defined there.
+			klpq, bhat = math.NaN(), math.NaN()
+		}
+		res.KLpq = math.Max(0, klpq)
+		if math.IsNaN(klpq) {
+			res.KLpq = math.NaN()
+		}
+		res.Hellinger = math.Sqrt(math.Max(0, 1-bhat))
+		if math.IsNaN(bhat) {
+			res.Hellinger = math.NaN()
+		}
+		res.QMass = qmass
+		res.Coverage95 = math.Max(0, math.Min((4*cover[0]-cover[1])/3, 1))
+		rel := math.Abs(bhat-bhat2) / bhat
+		res.Resolved = rel*rel <= math.Max(tol, errP) && nearest >= 0 &&
+			spacingIn(q, logW[nearest]+logJ[nearest], d) <= 1
+		res.KLqp = math.NaN()
+		if s.Density != nil {
+			gp := &gaussianPrep{Prepared: q}
+			kl, hel, err := cubature(s.Context, s.Density, gp, s.LogZ, s.Order, s.Progress)
+			if err != nil {
+				return nil, fmt.Errorf("gaussian %d: %w", qi, err)
+			}
+			res.KLqp = kl
+			if !res.Resolved {
+				res.Hellinger = hel
+			}
+		}
+		if s.Bounded {
+			res.KLqp = math.Inf(1)
+		}
+		res.MeanErrSD = make([]float64, d)
+		res.SDRatio = make([]float64, d)
+		for k := 0; k < d; k++ {
+			res.MeanErrSD[k] = (q.Mean[k] - s.Mean[k]) / s.SD[k]
+			res.SDRatio[k] = math.Sqrt(q.Cov.At(k, k)) / s.SD[k]
+		}
+		out[qi] = res
+	}
+	return out, nil
+}
+
+// spacingIn returns the side of a cube of the volume exp(logVol) (on the
+// fitting scale) in q's whitened coordinates: a node's spacing in q's sds.
+func spacingIn(q *gauss.Prepared, logVol float64, d int) float64 {
+	return math.Exp((logVol - q.LogDet()/2) / float64(d))
+}
+
+func finite(y []float64) bool {
+	for _, v := range y {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return false
+		}
+	}
+	return true
+}

@@ -1,0 +1,324 @@
+package engine
+
+import (
+	"math"
+
+	"bellcheck/engine/gauss"
+	"bellcheck/engine/quadrature"
+)
+
+// Plot resolution of the nested rule's plots, by the number of parameters
+// (index d-1): points along each marginal, and along each axis of a pair's
+// image. Every point of a marginal or a pair is a nested rule over the
+// other parameters, so the counts fall with the dimension.
+var (
+	rulePlot1D = [4]int{241, 161, 121, 61}
+	rulePlot2D = [4]int{0, 81, 31, 21}
+)
+
+// pairShown is about the number of points along each axis of the pair
+// image handed to the page: a pair computed at fewer points is refined to
+// it by cubic interpolation (upsample), so that its contours are smooth
+// curves, not the polygons of a coarse lattice.
+const pairShown = 97
+
+// plotTail is the share of the mass left out of each end of a plot's
+// range (before widening by plotMargin of the range on each side, on the
+// unconstrained scale).
+const (
+	plotTail   = 5e-4
+	plotMargin = 0.15
+)
+
+// plotsFromRule draws the exact marginals and pair marginals from the
+// nested rule (quadrature.Result.Marginal and Pair: at each plot point a
+// nested rule over the other parameters) on plot ranges fitted to the
+// posterior's width, and each fit's curves and ellipses, all on the
+// original scale. The range of a parameter runs between its 0.05 % and
+// 99.95 % quantiles (from the rule's node set, weighted), widened by 15 %
+// of that span on each side on the unconstrained scale and mapped to the
+// original (so it stays inside the support); the points are evenly spaced
+// on the original scale.
+func (a *analysis) plotsFromRule(res *Result) (*Plots, error) {
+	q := a.ref.quad
+	d := a.d
+	pl := &Plots{}
+	fits, cands := a.plotted(res)
+	ranges := a.ruleRanges(q)
+	pairs := d * (d - 1) / 2
+	parts := float64(d + pairs)
+	for k := 0; k < d; k++ {
+		a.tr.at(float64(k) / parts)
+		xs := evenly(ranges[k], rulePlot1D[d-1])
+		cv := a.ref.curves[k]
+		if cv == nil {
+			var err error
+			if cv, err = q.Curve(a.ctx, k, fineCurves(q, d)); err != nil {
+				if ctxErr := a.ctx.Err(); ctxErr != nil {
+					return nil, ctxErr
+				}
+				return nil, err
+			}
+		}
+		m := Marginal1D{Param: k, X: xs, Exact: cv.Density(xs)}
+		for meth, g := range fits {
+			if g != nil {
+				m.Fits[meth] = a.normalCurve(g, k, xs)
+			}
+		}
+		if len(cands) > 0 {
+			m.Candidates = make([][]float64, len(cands))
+		}
+		for c, g := range cands {
+			if g != nil {
+				m.Candidates[c] = a.normalCurve(g, k, xs)
+			}
+		}
+		pl.Marginals = append(pl.Marginals, m)
+	}
+	pi := 0
+	for i := 0; i < d; i++ {
+		for j := i + 1; j < d; j++ {
+			a.tr.at(float64(d+pi) / parts)
+			pi++
+			if err := a.ctx.Err(); err != nil {
+				return nil, err
+			}
+			n := rulePlot2D[d-1]
+			xs, ys := evenly(ranges[i], n), evenly(ranges[j], n)
+			dens, err := q.Pair(a.ctx, i, j, xs, ys)
+			if err != nil {
+				if ctxErr := a.ctx.Err(); ctxErr != nil {
+					return nil, ctxErr
+				}
+				return nil, err
+			}
+			if n < pairShown {
+				xs, ys, dens = upsample(dens, xs, ys, (pairShown+n-3)/(n-1))
+				n = len(xs)
+			}
+			// Levels gives shares of the plot's mass; the pair density is
+			// normalised, so the shares of the whole mass are f / total.
+			fx, fy, fd := refine(dens, xs, ys, max(1, (levelPoints+n-3)/(n-1)))
+			total := gridMass(fd, fx, fy)
+			fr := make([]float64, len(contourMasses))
+			for c, f := range contourMasses {
+				fr[c] = f
+				if total > f && total < 1 {
+					fr[c] = f / total
+				}
+			}
+			lv, _ := quadrature.Levels(fd, fx, fy, fr)
+			m2 := Marginal2D{I: i, J: j, X: xs, Y: ys, Levels: [3]float64{lv[0], lv[1], lv[2]}, Ellipses: Ellipses{}}
+			// Pair gives (xs[u], ys[v]) at u*len(ys)+v; the page wants
+			// Density[v*len(xs)+u].
+			m2.Density = make([]float64, len(xs)*len(ys))
+			for u := range xs {
+				for v := range ys {
+					m2.Density[v*len(xs)+u] = dens[u*len(ys)+v]
+				}
+			}
+			for meth, g := range fits {
+				if g != nil {
+					m2.Ellipses[Method(meth)] = a.ellipses(g, i, j)
+				}
+			}
+			if len(cands) > 0 {
+				m2.CandidateEllipses = make([][3][][2]float64, len(cands))
+			}
+			for c, g := range cands {
+				if g != nil {
+					m2.CandidateEllipses[c] = a.ellipses(g, i, j)
+				}
+			}
+			pl.Pairs = append(pl.Pairs, m2)
+		}
+	}
+	return pl, nil
+}
+
+// normalCurve returns the marginal density of parameter k of the normal g
+// (on the fitting scale) at xs on the original scale.
+func (a *analysis) normalCurve(g *gauss.Prepared, k int, xs []float64) []float64 {
+	curve := make([]float64, len(xs))
+	for j, x := range xs {
+		z := a.maps[k].FromOriginal(x)
+		if math.IsNaN(z) || math.IsInf(z, 0) {
+			continue
+		}
+		curve[j] = g.MarginalPDF(k, z) / math.Exp(a.maps[k].LogJacobian(z))
+	}
+	return curve
+}
+
+// ruleRanges returns each parameter's plot range on the original scale
+// (see plotsFromRule). The quantiles come from a histogram of the node
+// set's masses along each unconstrained axis (4096 bins between the
+// extreme nodes that hold mass): one pass over the nodes, exact to a bin,
+// which is plenty for a plot's range.
+func (a *analysis) ruleRanges(q *quadrature.Result) [][2]float64 {
+	const bins = 4096
+	d := a.d
+	ns := q.Nodes
+	n := ns.Len()
+	mass := make([]float64, n)
+	z := make([]float64, d)
+	lo, hi := make([]float64, d), make([]float64, d)
+	for k := range lo {
+		lo[k], hi[k] = math.Inf(1), math.Inf(-1)
+	}
+	total := 0.0
+	for i := 0; i < n; i++ {
+		m := math.Exp(ns.LogWeight(i) + ns.LogP(i) - q.LogZ)
+		if !(m > 0) || math.IsInf(m, 0) {
+			continue
+		}
+		mass[i] = m
+		total += m
+		ns.Point(i, z)
+		for k := 0; k < d; k++ {
+			lo[k], hi[k] = math.Min(lo[k], z[k]), math.Max(hi[k], z[k])
+		}
+	}
+	out := make([][2]float64, d)
+	hist := make([]float64, bins)
+	for k := 0; k < d; k++ {
+		a0, a1 := lo[k], hi[k]
+		if !(a1 > a0) {
+			a0, a1 = a0-0.5, a1+0.5
+		}
+		clear(hist)
+		w := (a1 - a0) / bins
+		for i := 0; i < n; i++ {
+			if mass[i] == 0 {
+				continue
+			}
+			ns.Point(i, z)
+			b := min(max(int((z[k]-a0)/w), 0), bins-1)
+			hist[b] += mass[i]
+		}
+		zlo, zhi := a0, a1
+		acc := 0.0
+		for b := 0; b < bins; b++ {
+			if acc += hist[b]; acc >= plotTail*total {
+				zlo = a0 + float64(b)*w
+				break
+			}
+		}
+		acc = 0
+		for b := bins - 1; b >= 0; b-- {
+			if acc += hist[b]; acc >= plotTail*total {
+				zhi = a0 + float64(b+1)*w
+				break
+			}
+		}
+		span := zhi - zlo
+		zlo, zhi = zlo-plotMargin*span, zhi+plotMargin*span
+		mp := a.ref.quadMaps[k]
+		out[k] = [2]float64{mp.ToOriginal(zlo), mp.ToOriginal(zhi)}
+	}
+	return out
+}
+
+// levelPoints is about the number of points along each axis to which
+// refine subdivides a pair's plot grid before the contour levels are
+// found: the superlevel sets' masses are sums over cells, whose error is
+// of the order of a cell.
+const levelPoints = 161
+
+// gridMass returns the trapezoid cells' mass of a density on xs × ys
+// (quadrature.Levels' total).
+func gridMass(dens, xs, ys []float64) float64 {
+	cell := func(v []float64, a int) float64 {
+		return (v[min(a+1, len(v)-1)] - v[max(a-1, 0)]) / 2
+	}
+	total := 0.0
+	for a := range xs {
+		for b := range ys {
+			if v := dens[a*len(ys)+b]; v > 0 && !math.IsInf(v, 1) {
+				total += v * cell(xs, a) * cell(ys, b)
+			}
+		}
+	}
+	return total
+}
+
+// refine returns the grid xs × ys subdivided f times along each axis, and
+// the density there by bilinear interpolation (layout of
+// quadrature.Pair: element a*len(ys)+b at (xs[a], ys[b])).
+func refine(dens, xs, ys []float64, f int) ([]float64, []float64, []float64) {
+	sub := func(v []float64) []float64 {
+		out := make([]float64, 0, (len(v)-1)*f+1)
+		for i := 0; i+1 < len(v); i++ {
+			for s := 0; s < f; s++ {
+				out = append(out, v[i]+(v[i+1]-v[i])*float64(s)/float64(f))
+			}
+		}
+		return append(out, v[len(v)-1])
+	}
+	fx, fy := sub(xs), sub(ys)
+	ny := len(ys)
+	fd := make([]float64, len(fx)*len(fy))
+	for a := range fx {
+		i, u := a/f, float64(a%f)/float64(f)
+		i1 := min(i+1, len(xs)-1)
+		for b := range fy {
+			j, v := b/f, float64(b%f)/float64(f)
+			j1 := min(j+1, ny-1)
+			fd[a*len(fy)+b] = (1-u)*(1-v)*dens[i*ny+j] + u*(1-v)*dens[i1*ny+j] +
+				(1-u)*v*dens[i*ny+j1] + u*v*dens[i1*ny+j1]
+		}
+	}
+	return fx, fy, fd
+}
+
+// upsample returns the evenly spaced grid xs × ys subdivided f times along
+// each axis and the density there by Catmull-Rom cubic interpolation
+// along each axis in turn (layout of quadrature.Pair: element a*len(ys)+b
+// at (xs[a], ys[b])); the interpolant's overshoot below zero is cut at 0.
+// Its error falls as the cube of the spacing where the density is smooth:
+// 1e-3 of the peak at a spacing of a quarter sd, below what a plot shows.
+func upsample(dens, xs, ys []float64, f int) ([]float64, []float64, []float64) {
+	// along interpolates the values v (evenly spaced) at f-1 points
+	// between each pair of neighbours.
+	along := func(v []float64) []float64 {
+		n := len(v)
+		at := func(i int) float64 { return v[min(max(i, 0), n-1)] }
+		out := make([]float64, 0, (n-1)*f+1)
+		for i := 0; i+1 < n; i++ {
+			p0, p1, p2, p3 := at(i-1), at(i), at(i+1), at(i+2)
+			for s := 0; s < f; s++ {
+				t := float64(s) / float64(f)
+				out = append(out, p1+0.5*t*(p2-p0+t*(2*p0-5*p1+4*p2-p3+t*(3*(p1-p2)+p3-p0))))
+			}
+		}
+		return append(out, v[n-1])
+	}
+	fx, fy := evenly([2]float64{xs[0], xs[len(xs)-1]}, (len(xs)-1)*f+1), evenly([2]float64{ys[0], ys[len(ys)-1]}, (len(ys)-1)*f+1)
+	// Rows first (along y for each x), then columns.
+	rows := make([][]float64, len(xs))
+	for a := range xs {
+		rows[a] = along(dens[a*len(ys) : (a+1)*len(ys)])
+	}
+	out := make([]float64, len(fx)*len(fy))
+	col := make([]float64, len(xs))
+	for b := range fy {
+		for a := range xs {
+			col[a] = rows[a][b]
+		}
+		for a, v := range along(col) {
+			out[a*len(fy)+b] = math.Max(v, 0)
+		}
+	}
+	return fx, fy, out
+}
+
+// evenly returns n points evenly spaced over r, ends included.
+func evenly(r [2]float64, n int) []float64 {
+	xs := make([]float64, n)
+	for i := range xs {
+		xs[i] = r[0] + (r[1]-r[0])*float64(i)/float64(n-1)
+	}
+	xs[n-1] = r[1]
+	return xs
+}

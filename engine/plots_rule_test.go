@@ -1,0 +1,122 @@
+package engine
+
+import (
+	"math"
+	"strconv"
+	"testing"
+
+	"gonum.org/v1/gonum/stat/distuv"
+)
+
+// withRule runs f with the nested rule switched on.
+func withRule(f func()) {
+	old := useQuadrature
+	useQuadrature = true
+	defer func() { useQuadrature = old }()
+	f()
+}
+
+// The rule's plots of a correlated normal: each marginal is N(m_k, S_kk)
+// (closed form, gonum's distuv.Normal), the pair's density the bivariate
+// normal, and the level enclosing the share f of a bivariate normal's mass
+// is (1 - f) / (2 pi sqrt(det S)) (its Mahalanobis square -2 ln(1 - f) is
+// chi-square with 2 dof: closed form). The ranges hold the mass (area 1).
+func TestRulePlotsGaussian(t *testing.T) {
+	// S = [[1, 0.6, 0], [0.6, 4, 1], [0, 1, 2]], means 1, -2, 0.5, the
+	// log-density written out with the precision of S.
+	mean := []float64{1, -2, 0.5}
+	S := [3][3]float64{{1, 0.6, 0}, {0.6, 4, 1}, {0, 1, 2}}
+	P := inverse([]float64{1, 0.6, 0, 0.6, 4, 1, 0, 1, 2}, 3)
+	body := ""
+	names := []string{"(a - 1)", "(b + 2)", "(c - 0.5)"}
+	for i := 0; i < 3; i++ {
+		for j := 0; j < 3; j++ {
+			body += " - 0.5 * " + fmtF(P[i*3+j]) + " * " + names[i] + " * " + names[j]
+		}
+	}
+	var res *Result
+	withRule(func() {
+		res = analyseSource(t, "param a\nparam b\nparam c\n"+body+"\n", Options{Plots: true})
+	})
+	if res.Plots == nil || len(res.Plots.Marginals) != 3 || len(res.Plots.Pairs) != 3 {
+		t.Fatalf("plots %+v", res.Plots)
+	}
+	for _, m := range res.Plots.Marginals {
+		k := m.Param
+		n := distuv.Normal{Mu: mean[k], Sigma: math.Sqrt(S[k][k])}
+		worst, area := 0.0, 0.0
+		for i, x := range m.X {
+			worst = math.Max(worst, math.Abs(m.Exact[i]-n.Prob(x)))
+			if i > 0 {
+				area += (x - m.X[i-1]) * (m.Exact[i] + m.Exact[i-1]) / 2
+			}
+		}
+		// The marginal is the sinc interpolant of the rule's own walk
+		// along the axis (quadrature.Curve, slices at the rule's step in
+		// 3-D): 2.6e-5 of the peak at worst when measured, asked 1e-4.
+		if worst > 1e-4*n.Prob(mean[k]) {
+			t.Errorf("marginal %d: off the normal density by %g", k, worst)
+		}
+		if math.Abs(area-1) > 1e-3 {
+			t.Errorf("marginal %d: area %g over [%g, %g]", k, area, m.X[0], m.X[len(m.X)-1])
+		}
+	}
+	for _, p := range res.Plots.Pairs {
+		i, j := p.I, p.J
+		det := S[i][i]*S[j][j] - S[i][j]*S[i][j]
+		worst := 0.0
+		for v, y := range p.Y {
+			for u, x := range p.X {
+				dx, dy := x-mean[i], y-mean[j]
+				m2 := (S[j][j]*dx*dx - 2*S[i][j]*dx*dy + S[i][i]*dy*dy) / det
+				want := math.Exp(-m2/2) / (2 * math.Pi * math.Sqrt(det))
+				worst = math.Max(worst, math.Abs(p.Density[v*len(p.X)+u]-want))
+			}
+		}
+		peak := 1 / (2 * math.Pi * math.Sqrt(det))
+		// Computed at 31 points a side and refined by cubic interpolation
+		// (upsample, whose error falls as the cube of the spacing, here
+		// 0.27 sd): 2e-3 of the peak is below what a plot shows.
+		if worst > 2e-3*peak {
+			t.Errorf("pair (%d, %d): off the bivariate normal by %g of its peak", i, j, worst/peak)
+		}
+		for c, f := range contourMasses {
+			want := (1 - f) * peak
+			// The superlevel set's mass is summed over the plot's cells, a
+			// first-order error; asked of it: the contour's radius within
+			// 0.02 sd (L = peak exp(-r^2/2), so d ln L = -r dr; the 0.02 sd
+			// is common practice for what a plot shows).
+			r := math.Sqrt(-2 * math.Log(1-f))
+			if math.Abs(math.Log(p.Levels[c]/want)) > 0.02*r {
+				t.Errorf("pair (%d, %d): level %g holds %g, want %g", i, j, f, p.Levels[c], want)
+			}
+		}
+	}
+}
+
+// A gamma(3, 20) posterior (sd 0.087, near the bound 0): the plot's range
+// lies inside the support and covers the mass, and the marginal is the
+// gamma density (gonum's distuv.Gamma).
+func TestRulePlotsNearBound(t *testing.T) {
+	var res *Result
+	withRule(func() {
+		res = analyseSource(t, "param s in [0, inf]\nld_gamma(s, 3, 20)\n", Options{Plots: true})
+	})
+	m := res.Plots.Marginals[0]
+	g := distuv.Gamma{Alpha: 3, Beta: 20}
+	if !(m.X[0] > 0) || m.X[len(m.X)-1] > 1.5 {
+		t.Errorf("range [%g, %g]", m.X[0], m.X[len(m.X)-1])
+	}
+	worst := 0.0
+	for i, x := range m.X {
+		worst = math.Max(worst, math.Abs(m.Exact[i]-g.Prob(x)))
+	}
+	if peak := g.Prob(0.1); worst > 1e-3*peak { // as for the normal's
+		t.Errorf("off the gamma density by %g of its peak", worst/peak)
+	}
+	if g.CDF(m.X[0]) > 1e-3 || g.Survival(m.X[len(m.X)-1]) > 1e-3 {
+		t.Errorf("range [%g, %g] leaves out %g and %g", m.X[0], m.X[len(m.X)-1], g.CDF(m.X[0]), g.Survival(m.X[len(m.X)-1]))
+	}
+}
+
+func fmtF(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }

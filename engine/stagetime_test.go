@@ -1,0 +1,61 @@
+//go:build linux
+
+package engine
+
+import (
+	"context"
+	"fmt"
+	"os"
+	"path/filepath"
+	"syscall"
+	"testing"
+
+	"bellcheck/engine/model"
+)
+
+// TestStageTimes prints each stage's time on the benchmark models (set
+// BELLCHECK_STAGETIMES=1); it checks nothing.
+func TestStageTimes(t *testing.T) {
+	if os.Getenv("BELLCHECK_STAGETIMES") == "" {
+		t.Skip("set BELLCHECK_STAGETIMES=1")
+	}
+	for _, c := range []struct {
+		file string
+		opts Options
+	}{
+		{"decay_rate_1d.txt", Options{Plots: true, Params: []ParamOptions{logScale}}},
+		{"banana_2d.txt", Options{Plots: true}},
+		{"sensor_3d.txt", Options{Plots: true, Params: []ParamOptions{{}, logScale}}},
+		{"counts_4d.txt", Options{Plots: true}},
+	} {
+		src, err := os.ReadFile(filepath.Join("..", "testdata", "reference", "bench", c.file))
+		if err != nil {
+			t.Fatal(err)
+		}
+		m, err := model.Parse(string(src))
+		if err != nil {
+			t.Fatal(err)
+		}
+		for rep := 0; rep < 3; rep++ {
+			c0 := cpuTime()
+			res, err := Analyse(context.Background(), m, c.opts, nil)
+			cpu := cpuTime() - c0
+			if err != nil {
+				t.Fatal(err)
+			}
+			s := fmt.Sprintf("%-18s cpu %7.1f ms total %7.1f ms:", c.file, cpu, res.Timing.Total)
+			for _, st := range []string{stageCompile, stageBox, stageGrid, stageModes, stageExact, stageLaplace, stageReverseKL, stageMeanField, stageEP, stageCompare, stagePlots} {
+				s += fmt.Sprintf(" %s %.1f", st, res.Timing.Stages[st])
+			}
+			t.Log(s)
+		}
+	}
+}
+
+// cpuTime returns the process's user and system CPU time in milliseconds.
+func cpuTime() float64 {
+	var ru syscall.Rusage
+	syscall.Getrusage(syscall.RUSAGE_SELF, &ru)
+	ms := func(t syscall.Timeval) float64 { return float64(t.Sec)*1e3 + float64(t.Usec)/1e3 }
+	return ms(ru.Utime) + ms(ru.Stime)
+}
