@@ -1,6 +1,7 @@
 package engine
 
 import (
+	"fmt"
 	"math"
 
 	"bellcheck/engine/gauss"
@@ -44,22 +45,19 @@ func (a *analysis) plotsFromRule(res *Result) (*Plots, error) {
 	d := a.d
 	pl := &Plots{}
 	fits, cands := a.plotted(res)
-	ranges := a.ruleRanges(q)
+	ranges, curves, err := a.ruleRanges(q)
+	if err != nil {
+		if ctxErr := a.ctx.Err(); ctxErr != nil {
+			return nil, ctxErr
+		}
+		return nil, err
+	}
 	pairs := d * (d - 1) / 2
 	parts := float64(d + pairs)
 	for k := 0; k < d; k++ {
 		a.tr.at(float64(k) / parts)
 		xs := evenly(ranges[k], rulePlot1D[d-1])
-		cv := a.ref.curves[k]
-		if cv == nil {
-			var err error
-			if cv, err = q.Curve(a.ctx, k, fineCurves(q, d)); err != nil {
-				if ctxErr := a.ctx.Err(); ctxErr != nil {
-					return nil, ctxErr
-				}
-				return nil, err
-			}
-		}
+		cv := curves[k]
 		m := Marginal1D{Param: k, X: xs, Exact: cv.Density(xs)}
 		for meth, g := range fits {
 			if g != nil {
@@ -152,72 +150,34 @@ func (a *analysis) normalCurve(g *gauss.Prepared, k int, xs []float64) []float64
 }
 
 // ruleRanges returns each parameter's plot range on the original scale
-// (see plotsFromRule). The quantiles come from a histogram of the node
-// set's masses along each unconstrained axis (4096 bins between the
-// extreme nodes that hold mass): one pass over the nodes, exact to a bin,
-// which is plenty for a plot's range.
-func (a *analysis) ruleRanges(q *quadrature.Result) [][2]float64 {
-	const bins = 4096
+// (see plotsFromRule): between the marginal's plotTail and 1 - plotTail
+// quantiles from its Curve (the rule's walk along the parameter, exact to
+// the rule's accuracy), widened by plotMargin of that span on each side
+// on the unconstrained scale and mapped to the original. The curves are
+// returned too, walked here where the exact stage left none.
+func (a *analysis) ruleRanges(q *quadrature.Result) ([][2]float64, []*quadrature.Curve, error) {
 	d := a.d
-	ns := q.Nodes
-	n := ns.Len()
-	mass := make([]float64, n)
-	z := make([]float64, d)
-	lo, hi := make([]float64, d), make([]float64, d)
-	for k := range lo {
-		lo[k], hi[k] = math.Inf(1), math.Inf(-1)
-	}
-	total := 0.0
-	for i := 0; i < n; i++ {
-		m := math.Exp(ns.LogWeight(i) + ns.LogP(i) - q.LogZ)
-		if !(m > 0) || math.IsInf(m, 0) {
-			continue
-		}
-		mass[i] = m
-		total += m
-		ns.Point(i, z)
-		for k := 0; k < d; k++ {
-			lo[k], hi[k] = math.Min(lo[k], z[k]), math.Max(hi[k], z[k])
-		}
-	}
 	out := make([][2]float64, d)
-	hist := make([]float64, bins)
+	curves := make([]*quadrature.Curve, d)
 	for k := 0; k < d; k++ {
-		a0, a1 := lo[k], hi[k]
-		if !(a1 > a0) {
-			a0, a1 = a0-0.5, a1+0.5
-		}
-		clear(hist)
-		w := (a1 - a0) / bins
-		for i := 0; i < n; i++ {
-			if mass[i] == 0 {
-				continue
-			}
-			ns.Point(i, z)
-			b := min(max(int((z[k]-a0)/w), 0), bins-1)
-			hist[b] += mass[i]
-		}
-		zlo, zhi := a0, a1
-		acc := 0.0
-		for b := 0; b < bins; b++ {
-			if acc += hist[b]; acc >= plotTail*total {
-				zlo = a0 + float64(b)*w
-				break
+		cv := a.ref.curves[k]
+		if cv == nil {
+			var err error
+			if cv, err = q.Curve(a.ctx, k, fineCurves(q, d)); err != nil {
+				return nil, nil, err
 			}
 		}
-		acc = 0
-		for b := bins - 1; b >= 0; b-- {
-			if acc += hist[b]; acc >= plotTail*total {
-				zhi = a0 + float64(b+1)*w
-				break
-			}
-		}
-		span := zhi - zlo
-		zlo, zhi = zlo-plotMargin*span, zhi+plotMargin*span
+		curves[k] = cv
+		qs := cv.Quantiles([]float64{plotTail, 1 - plotTail})
 		mp := a.ref.quadMaps[k]
-		out[k] = [2]float64{mp.ToOriginal(zlo), mp.ToOriginal(zhi)}
+		zlo, zhi := mp.FromOriginal(qs[0]), mp.FromOriginal(qs[1])
+		span := zhi - zlo
+		if !(span > 0) || math.IsInf(span, 0) {
+			return nil, nil, fmt.Errorf("engine: no plot range for %s (quantiles %g and %g)", a.names[k], qs[0], qs[1])
+		}
+		out[k] = [2]float64{mp.ToOriginal(zlo - plotMargin*span), mp.ToOriginal(zhi + plotMargin*span)}
 	}
-	return out
+	return out, curves, nil
 }
 
 // levelPoints is about the number of points along each axis to which

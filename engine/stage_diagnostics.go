@@ -13,6 +13,10 @@ func (a *analysis) gridDiagnostics() {
 		for side := 0; side < 2; side++ {
 			e := a.ref.edgeMass[k][side]
 			switch {
+			case a.ref.onNodes() && !a.pinned[k][side]:
+				// The exact results, the comparisons and the plots come
+				// from the nested rule, which follows the tails; the grid
+				// only scouted, and its box's edges decide nothing.
 			case a.ref.quad != nil && a.ref.box.Capped[k][side] && e > 1e-10:
 				// The exact results come from the nested rule, whose tail
 				// verdicts stand; only what is made on the grid is cut.
@@ -49,7 +53,11 @@ func (a *analysis) gridDiagnostics() {
 		a.diag.add(CodeHeavyTails, SeverityWarning,
 			"The tails of %s are heavy: the mean or variance still moves as the box widens, so the exact moments and the forward-KL fit are uncertain.", list(heavy))
 	}
-	if a.ref.nonFinite > 0 {
+	if a.ref.nonFinite > 0 && !a.ref.onNodes() {
+		// Where the rule stands it has checked that log p is defined next
+		// to the mass (quadrature.Result.NonFiniteNearMass); the grid's
+		// undefined points lie where the rule does not reach (a bound of
+		// the support the grid's box touches).
 		a.diag.add(CodeNonFinite, SeverityWarning,
 			"The log-density is NaN or +inf at %s of the grid points; they were left out of every result.", percentPoints(a.ref.nonFinite))
 	}
