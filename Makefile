@@ -47,7 +47,7 @@ test-wasm: tools-node
 
 # Browser tests: chromium drives the static build served on 127.0.0.1.
 test-browser: tools-chromium wasm
-	BELLCHECK_CHROMIUM=$$(command -v chromium) $(GO) test -count=1 -tags=browser -run=Browser ./wasm/
+	BELLCHECK_CHROMIUM=$$(command -v chromium) $(GO) test -count=1 -timeout=40m -tags=browser -run=Browser ./wasm/
 
 # chromium runs the browser tests; install Debian's when missing.
 tools-chromium:

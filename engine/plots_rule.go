@@ -1,6 +1,7 @@
 package engine
 
 import (
+	"errors"
 	"fmt"
 	"math"
 
@@ -57,8 +58,20 @@ func (a *analysis) plotsFromRule(res *Result) (*Plots, error) {
 	for k := 0; k < d; k++ {
 		a.tr.at(float64(k) / parts)
 		xs := evenly(ranges[k], rulePlot1D[d-1])
-		cv := curves[k]
-		m := Marginal1D{Param: k, X: xs, Exact: cv.Density(xs)}
+		m := Marginal1D{Param: k, X: xs}
+		if cv := curves[k]; cv != nil {
+			m.Exact = cv.Density(xs)
+		} else {
+			// A rule over the other parameters at each plot point.
+			dens, err := q.Marginal(a.ctx, k, xs)
+			if err != nil {
+				if ctxErr := a.ctx.Err(); ctxErr != nil {
+					return nil, ctxErr
+				}
+				return nil, err
+			}
+			m.Exact = dens
+		}
 		for meth, g := range fits {
 			if g != nil {
 				m.Fits[meth] = a.normalCurve(g, k, xs)
@@ -163,17 +176,25 @@ func (a *analysis) ruleRanges(q *quadrature.Result) ([][2]float64, []*quadrature
 		cv := a.ref.curves[k]
 		if cv == nil {
 			var err error
-			if cv, err = q.Curve(a.ctx, k, fineCurves(q, d)); err != nil {
+			if cv, err = q.Curve(a.ctx, k, fineCurves(q, d)); err != nil && !errors.Is(err, quadrature.ErrCurve) {
 				return nil, nil, err
 			}
 		}
 		curves[k] = cv
-		qs := cv.Quantiles([]float64{plotTail, 1 - plotTail})
 		mp := a.ref.quadMaps[k]
-		zlo, zhi := mp.FromOriginal(qs[0]), mp.FromOriginal(qs[1])
+		var zlo, zhi float64
+		if cv != nil {
+			qs := cv.Quantiles([]float64{plotTail, 1 - plotTail})
+			zlo, zhi = mp.FromOriginal(qs[0]), mp.FromOriginal(qs[1])
+		} else {
+			// No curve: four of the rule's sds on the unconstrained
+			// scale on each side of its mean.
+			m, sd := q.Unconstrained.Mean[k], math.Sqrt(q.Unconstrained.Cov[k*d+k])
+			zlo, zhi = m-4*sd, m+4*sd
+		}
 		span := zhi - zlo
 		if !(span > 0) || math.IsInf(span, 0) {
-			return nil, nil, fmt.Errorf("engine: no plot range for %s (quantiles %g and %g)", a.names[k], qs[0], qs[1])
+			return nil, nil, fmt.Errorf("engine: no plot range for %s (from %g to %g on its unconstrained scale)", a.names[k], zlo, zhi)
 		}
 		out[k] = [2]float64{mp.ToOriginal(zlo - plotMargin*span), mp.ToOriginal(zhi + plotMargin*span)}
 	}

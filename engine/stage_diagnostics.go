@@ -8,6 +8,11 @@ import (
 // gridDiagnostics reports on the box, the tails, the shape of the marginals
 // and the grid's error.
 func (a *analysis) gridDiagnostics() {
+	if !a.ref.onNodes() {
+		for _, n := range a.ref.boxNotes.list {
+			a.diag.add(n.Code, n.Severity, "%s", n.Message)
+		}
+	}
 	sides := [2]string{"lower", "upper"}
 	for k := 0; k < a.d; k++ {
 		for side := 0; side < 2; side++ {

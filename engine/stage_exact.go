@@ -124,8 +124,11 @@ func (a *analysis) dropOverflow() {
 	var names []string
 	for k := 0; k < d; k++ {
 		over := bad(mean[k]) || badVar(k, cov[k][k]) || bad(skew[k]) || bad(kurt[k])
-		for _, q := range o.Quantiles[k] {
-			over = over || bad(q)
+		if a.avail.presentAt(QuantityQuantiles, k) {
+			// Quantiles left out already (NaN) have their own reason.
+			for _, q := range o.Quantiles[k] {
+				over = over || bad(q)
+			}
 		}
 		for l := 0; l < d; l++ {
 			over = over || bad(cov[k][l]) || badCorr(k, l)
@@ -137,7 +140,7 @@ func (a *analysis) dropOverflow() {
 		if bad(mean[k]) {
 			a.avail.dropAt(QuantityMean, k, CodeOverflow)
 		}
-		if slices.ContainsFunc(o.Quantiles[k][:], bad) {
+		if a.avail.presentAt(QuantityQuantiles, k) && slices.ContainsFunc(o.Quantiles[k][:], bad) {
 			a.avail.dropAt(QuantityQuantiles, k, CodeOverflow)
 		}
 		if badVar(k, cov[k][k]) || bad(skew[k]) || bad(kurt[k]) {

@@ -404,6 +404,7 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 	}
 	quant := make([][3]float64, d)
 	r.curves = make([]*quadrature.Curve, d)
+	var unresolvedQuantiles []string
 	for k := 0; k < d; k++ {
 		// Each marginal is walked once, at the rule's nodes along its own
 		// axis, each node a rule over the others: the quantiles here and
@@ -416,11 +417,20 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 			if ctxErr := a.ctx.Err(); ctxErr != nil {
 				return ctxErr
 			}
+			// The walk does not resolve the marginal (quadrature.ErrCurve):
+			// its quantiles are left out, with the reason.
 			quant[k] = [3]float64{math.NaN(), math.NaN(), math.NaN()}
+			a.avail.dropAt(QuantityQuantiles, k, CodeUnresolved)
+			unresolvedQuantiles = append(unresolvedQuantiles, a.names[k])
 			continue
 		}
 		r.curves[k] = cv
 		copy(quant[k][:], cv.Quantiles([]float64{0.025, 0.5, 0.975}))
+	}
+	if len(unresolvedQuantiles) > 0 {
+		a.diag.add(CodeUnresolved, SeverityWarning,
+			"The marginal of %s is far more peaked than its spread (as a funnel's neck): the rule's walk along it does not resolve it, so its quantiles are not reported and its plot is drawn point by point.",
+			list(unresolvedQuantiles))
 	}
 	disputed := a.disputedVariances(q)
 	for _, k := range disputed {

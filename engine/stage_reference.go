@@ -61,6 +61,10 @@ type reference struct {
 	// quadMaps are the maps from the rule's unconstrained scale to the
 	// original one, per parameter (set with quad).
 	quadMaps []transform.Map
+	// boxNotes are what the box search and the grid's evaluation have to
+	// say about the box: reported where the grid's results stand, not
+	// where the nested rule's do (the grid only scouted).
+	boxNotes diagnostics
 	// curves are the rule's marginals, per parameter (nil where the walk
 	// failed): the quantiles and the plotted marginals.
 	curves []*quadrature.Curve
@@ -152,7 +156,7 @@ func (a *analysis) findBox() error {
 	}
 	a.ref.box = res
 	if !res.Converged {
-		a.diag.add(CodeBoxNotSettled, SeverityWarning,
+		a.ref.boxNotes.add(CodeBoxNotSettled, SeverityWarning,
 			"The search for the box stopped after %d grids before the box settled; the exact results may miss mass.", res.Iterations)
 	}
 	return nil
@@ -269,7 +273,7 @@ func (a *analysis) evaluateGrid() error {
 			} else if errEstimate(g2) < errEstimate(g) {
 				g = g2
 				a.ref.box.Box = box
-				a.diag.add(CodeEdgeMass, SeverityWarning,
+				a.ref.boxNotes.add(CodeEdgeMass, SeverityWarning,
 					"The box reached so far into faint tails that the grid could not resolve the centre; it was narrowed along %s to where about %.0g of the mass lies beyond each side, and the exact results are those of that box.",
 					list(names), trimTail)
 			}

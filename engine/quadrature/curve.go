@@ -2,6 +2,7 @@ package quadrature
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"math"
 
@@ -80,8 +81,22 @@ func (res *Result) Curve(ctx context.Context, k int, fine bool) (*Curve, error) 
 	for _, v := range cv.g {
 		cv.total += h * v
 	}
+	if n := len(cv.g); n < minCurveNodes || !(math.Abs(cv.total-1) <= curveMassTol) {
+		return nil, fmt.Errorf("%w: parameter %d's marginal over %d nodes holds %g of the mass", ErrCurve, k+1, n, cv.total)
+	}
 	return cv, nil
 }
+
+// ErrCurve means a marginal's walk does not resolve it: too few nodes
+// (a marginal far more peaked than the parameter's sd, as a funnel's
+// location at its neck) or a mass off 1 by more than curveMassTol.
+var ErrCurve = errors.New("quadrature: the marginal is not resolved at the rule's nodes")
+
+// minCurveNodes and curveMassTol: see ErrCurve.
+const (
+	minCurveNodes = 8
+	curveMassTol  = 1e-4
+)
 
 // Mass returns the integral of the sampled marginal: near 1, a check of
 // the slices against LogZ.

@@ -99,7 +99,8 @@ func (res *Result) sliceLogZ(ctx context.Context, sl *slice, guess []float64, ac
 
 // Marginal returns the marginal density of parameter k on the original
 // scale at the points xs, each by integrating the other parameters (a
-// nested rule on the conditional slice), normalised by exp(LogZ).
+// nested rule on the conditional slice), normalised by exp(LogZ); NaN at
+// a point where the slice's rule does not resolve it.
 func (res *Result) Marginal(ctx context.Context, k int, xs []float64) ([]float64, error) {
 	if res.Improper {
 		return nil, ErrImproper
@@ -119,11 +120,19 @@ func (res *Result) Marginal(ctx context.Context, k int, xs []float64) ([]float64
 		}
 		sl.val[0] = z
 		lz, c, err := res.sliceLogZ(ctx, sl, guess, sliceCoarse)
+		if err == nil && (math.IsNaN(lz) || math.IsInf(lz, 1)) {
+			// A slice rule that went astray from the previous point's
+			// centre: again from the regression's, at the rule's step.
+			lz, c, err = res.sliceLogZ(ctx, sl, nil, sliceFine)
+		}
 		if err != nil {
 			return nil, err
 		}
 		guess = c
 		out[i] = math.Exp(lz - res.LogZ - mp.LogJacobian(z))
+		if math.IsInf(out[i], 1) {
+			out[i] = math.NaN() // not resolved at this point: left out
+		}
 	}
 	return out, nil
 }
