@@ -177,6 +177,10 @@ type GridInfo struct {
 	EdgeMass float64 `json:"edge_mass"`
 	// NonFinite is the fraction of grid points where log p is NaN or +Inf.
 	NonFinite float64 `json:"non_finite"`
+	// Scouted reports a grid that only scouted (its box, and its peaks for
+	// the mode search): the exact results, the comparisons and the plots
+	// come from the nested rule around the modes, not from this grid.
+	Scouted bool `json:"scouted,omitempty"`
 }
 
 // FittingBox is a box on the fitting scale.

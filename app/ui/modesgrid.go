@@ -9,6 +9,7 @@ import (
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
 
 	"bellcheck/app/plot"
+	"bellcheck/engine"
 )
 
 // ModesGrid is the card of the modes the search found and the facts of the
@@ -59,15 +60,31 @@ func (c *ModesGrid) Render() app.UI {
 	t := c.Times
 	return app.Div().Class(cls).Body(
 		&Modes{Params: r.Params, Items: modes, Cost: r.Form == "cost"},
-		app.Dl().Class("facts").Body(
-			app.Dt().Text("grid"), app.Dd().Text(strings.Join(box, "; ")),
-			app.Dt().Text("mass in the edge layer"), app.Dd().Text(plot.FormatNumber(r.Grid.EdgeMass, 2)+" (largest over the faces)"),
-			app.Dt().Text("grid points where log p is undefined"), app.Dd().Text(fmtPercent(r.Grid.NonFinite)),
-			app.Dt().Text("log Z error estimate"), app.Dd().Text(fmtErr(r.Exact.LogZErr)+" (change from half resolution)"),
+		app.Dl().Class("facts").Body(append(gridFacts(r, box),
 			app.Dt().Text("page time"), app.Dd().Text(fmtMillis(t.Elapsed)+" in all, working in slices of at most "+fmtMillis(t.Longest)+
 				" between pauses for the browser; figures "+fmtMillis(t.Figures)+", update of the page "+fmtMillis(t.Update)),
 			app.Dt().Text("engine time"), app.Dd().Text(fmtMillis(time.Duration(r.Timing.Total*float64(time.Millisecond)))+
 				app.FormatString(" (%s)", strings.Join(st, ", "))),
-		),
+		)...),
 	)
+}
+
+// gridFacts describes the exact reference: the grid's box and points, and
+// its edge mass, undefined points and error estimate where the grid is the
+// reference; where the nested rule is, the grid that only scouted and the
+// rule's error estimate.
+func gridFacts(r *engine.Result, box []string) []app.UI {
+	if r.Grid.Scouted {
+		return []app.UI{
+			app.Dt().Text("exact reference"), app.Dd().Text("quadrature around the modes, on each parameter's unconstrained scale"),
+			app.Dt().Text("scouting grid"), app.Dd().Text(strings.Join(box, "; ") + " (for the box and the mode search's starts)"),
+			app.Dt().Text("log Z error estimate"), app.Dd().Text(fmtErr(r.Exact.LogZErr) + " (from the rule's nested steps)"),
+		}
+	}
+	return []app.UI{
+		app.Dt().Text("grid"), app.Dd().Text(strings.Join(box, "; ")),
+		app.Dt().Text("mass in the edge layer"), app.Dd().Text(plot.FormatNumber(r.Grid.EdgeMass, 2) + " (largest over the faces)"),
+		app.Dt().Text("grid points where log p is undefined"), app.Dd().Text(fmtPercent(r.Grid.NonFinite)),
+		app.Dt().Text("log Z error estimate"), app.Dd().Text(fmtErr(r.Exact.LogZErr) + " (change from half resolution)"),
+	}
 }

@@ -45,7 +45,10 @@ func ParamViews(s *Session) []ParamView {
 		v := ParamView{File: file, Name: p.Name, Lo: p.Lo, Hi: p.Hi, Options: s.Param(p.Name), UsedLo: math.NaN(), UsedHi: math.NaN()}
 		if r := s.Result; r != nil {
 			for k, name := range r.Params {
-				if name == p.Name && k < len(r.Grid.Lo) && k < len(r.Grid.Hi) && k < len(r.Grid.Points) {
+				// A grid that only scouted is not the reference: the
+				// fields stay "auto" (a box or points set here make the
+				// grid the reference).
+				if name == p.Name && !r.Grid.Scouted && k < len(r.Grid.Lo) && k < len(r.Grid.Hi) && k < len(r.Grid.Points) {
 					v.UsedLo, v.UsedHi, v.UsedPoints = r.Grid.Lo[k], r.Grid.Hi[k], r.Grid.Points[k]
 				}
 			}
