@@ -74,6 +74,9 @@ import (
 //	starts_disagree        warning         (with the nested rule) starts spread over a wide region found a mode
 //	                                       higher than the mode search's best: the search's best point is not
 //	                                       the global optimum; the exact results cover both
+//	local_optima           info            (a cost model) the grid's lesser peaks, polished, reach local minima
+//	                                       that hold no posterior mass: their number, the next deepest and how
+//	                                       much higher its J is
 const (
 	CodeSeveralModes        = "several_modes"
 	CodeEdgeMass            = "edge_mass"
@@ -99,6 +102,7 @@ const (
 	CodeOverflow            = "overflow"
 	CodeLostPrecision       = "lost_precision"
 	CodeStartsDisagree      = "starts_disagree"
+	CodeLocalOptima         = "local_optima"
 )
 
 // Thresholds of the diagnostics.

@@ -127,6 +127,9 @@ func (a *analysis) findModes() error {
 		a.diag.add(CodeNoMode, SeverityError, "The mode search found no mode from the grid's highest points, so there is no Laplace fit.")
 		return nil
 	}
+	if err := a.lesserOptima(rest); err != nil {
+		return err
+	}
 	var big []string
 	second := 0.0
 	for i, m := range a.modes.modes {
