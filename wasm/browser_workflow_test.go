@@ -32,6 +32,7 @@ func TestBrowserWorkflow(t *testing.T) {
 	t.Run("PasteColumns", func(t *testing.T) { testPasteColumns(t, b, srv) })
 	t.Run("DropCSV", func(t *testing.T) { testDropCSV(t, b, srv) })
 	t.Run("Candidate", func(t *testing.T) { testCandidate(t, b, srv) })
+	t.Run("CandidateReach", func(t *testing.T) { testCandidateReach(t, b, srv) })
 	t.Run("Slider", func(t *testing.T) { testSlider(t, b, srv) })
 	t.Run("PlotOnlyEmbed", func(t *testing.T) { testPlotOnlyEmbed(t, b, srv) })
 	t.Run("GridFields", func(t *testing.T) { testGridFields(t, b, srv) })
@@ -165,10 +166,23 @@ func testCandidate(t *testing.T, b *browser, srv *siteServer) {
 	src := "#@ gaussian mine mean.a=0.5 mean.b=-0.2 sd.a=0.6 sd.b=0.9 corr.a.b=0.3\n#@ points a=121\nparam a\nparam b\n-(a^2)/2 - (b - a^2/3)^2/2 - a^4/12\n"
 	tb.editModel(t, src)
 	tb.waitDone(t, done, 90*time.Second)
-	waitFor(t, tb, 20*time.Second, "the candidate table", `!!document.getElementById("bc-cand-table")`)
-	txt := eval[string](t, tb, 5*time.Second, `document.getElementById("bc-cand-table").textContent`)
-	if !strings.Contains(txt, "mine") || !strings.Contains(txt, "KL(q‖p)") {
-		t.Errorf("the candidate table says %q", txt)
+	waitFor(t, tb, 20*time.Second, "the candidate's column", `!!document.querySelector("table.results th.cand-col")`)
+	head := eval[string](t, tb, 5*time.Second, `document.querySelector("table.results th.cand-col").textContent`)
+	if !strings.Contains(head, "mine") {
+		t.Errorf("the candidate's column head says %q", head)
+	}
+	// One candidate cell in every row of the results table, beside the fits.
+	// (The first table.results is the results table; the curvature card's
+	// matrices share its look.)
+	rows := eval[int](t, tb, 5*time.Second, `document.querySelector("table.results").querySelectorAll("tbody tr:not(.sec)").length`)
+	cands := eval[int](t, tb, 5*time.Second, `document.querySelector("table.results").querySelectorAll("tbody tr:not(.sec) td.cand").length`)
+	if rows == 0 || cands != rows {
+		t.Errorf("%d candidate cells in %d rows of the results table", cands, rows)
+	}
+	kl := eval[string](t, tb, 5*time.Second, `(() => { for (const tr of document.querySelectorAll("table.results tbody tr")) {
+  const th = tr.querySelector("th.rlabel"); if (th && th.textContent === "KL(q‖p)") return tr.querySelector("td.cand").textContent; } return ""; })()`)
+	if kl == "" || kl == "—" {
+		t.Errorf("the candidate's KL(q‖p) cell is %q", kl)
 	}
 	strokes := eval[int](t, tb, 5*time.Second, `document.querySelectorAll('#bc-output svg path[stroke="#c0143c"]').length`)
 	if strokes < 3 {
@@ -355,4 +369,41 @@ func testGridFields(t *testing.T, b *browser, srv *siteServer) {
 	tb.editModel(t, "param x\n-x^2/2\n")
 	tb.waitDone(t, done, 90*time.Second)
 	waitFor(t, tb, 10*time.Second, "the fields of x blank", `document.getElementById("bc-p0-lo").value === "" && document.getElementById("bc-p0-hi").value === ""`)
+}
+
+// testCandidateReach: a candidate whose contours lie beyond the exact
+// posterior's plot grid widens the 2-D view so that its contours are drawn
+// whole inside the plot area (the grid of this model reaches a = 7.0; the
+// candidate's outer contour a = 12.0, from the command line's JSON).
+func testCandidateReach(t *testing.T, b *browser, srv *siteServer) {
+	tb := b.newTab(t, true)
+	defer tb.close()
+	tb.open(t, srv.URL+"/")
+	done := tb.state(t).Done
+	tb.editModel(t, "#@ gaussian far mean.a=9 mean.b=1 sd.a=1 sd.b=0.8 corr.a.b=0.4\nparam a\nparam b\n-(a^2)/2 - (b - a^2/4)^2/2\n")
+	tb.waitDone(t, done, 90*time.Second)
+	waitFor(t, tb, 20*time.Second, "the candidate's column", `!!document.querySelector("table.results th.cand-col")`)
+	// The candidate's contours (inside the plot's clip group) against the
+	// plot area, in the SVG's units.
+	out := eval[[]float64](t, tb, 5*time.Second, `(() => {
+  const clip = document.querySelector("#bc-f01-clip rect"); if (!clip) return [];
+  const box = clip.getBBox(); let lo = Infinity, hi = -Infinity, n = 0;
+  for (const p of document.querySelectorAll('svg g[clip-path] path[stroke="#c0143c"]')) {
+    const b = p.getBBox(); lo = Math.min(lo, b.x); hi = Math.max(hi, b.x + b.width); n++; }
+  return [n, box.x, box.x + box.width, lo, hi]; })()`)
+	if len(out) != 5 || out[0] < 3 {
+		t.Fatalf("the 2-D view has no candidate contours: %v", out)
+	}
+	if out[3] < out[1]-1 || out[4] > out[2]+1 {
+		t.Errorf("the candidate's contours span x = %.1f..%.1f, beyond the plot area %.1f..%.1f", out[3], out[4], out[1], out[2])
+	}
+	// The x axis reaches past the candidate's outer contour (a = 12.0).
+	ticks := eval[string](t, tb, 5*time.Second, `Array.from(document.querySelectorAll(".plots svg text")).map(e => e.textContent).join(" ")`)
+	if !strings.Contains(ticks, "12") {
+		t.Errorf("the axes' labels %q do not reach a = 12", ticks)
+	}
+	tb.do(t, 10*time.Second, chromedp.Evaluate[chromedp.Void](`window.scrollTo(0, 0)`))
+	tb.screenshot(t, "workflow-candidate-reach-1280-full.png", true)
+	tb.do(t, 10*time.Second, chromedp.Evaluate[chromedp.Void](`document.querySelector("table.results").scrollIntoView()`))
+	tb.screenshot(t, "workflow-candidate-table-1280.png", false)
 }

@@ -37,23 +37,29 @@ func candidateLegend(r *engine.Result) []app.UI {
 	return items
 }
 
-// candidateHead is the results table's column head of the k-th candidate.
-func candidateHead(k int, name string) app.UI {
-	cls := "mcol cand-col"
-	if k == 0 {
-		cls += " cand-first"
-	}
-	return app.Th().Scope("col").Class(cls).Title("your Gaussian "+name+": scored like the fits, not ranked among them").Body(
-		candidateSwatch(k), app.Span().Class("mname").Text(name))
-}
-
-// candidateCell is a candidate's cell of the results table.
-func candidateCell(k int, c Cell) app.UI {
+// candClass is the class of the k-th of n candidates' cells: tinted, the
+// first and the last set off from their neighbours.
+func candClass(k, n int) string {
 	cls := "cand"
 	if k == 0 {
 		cls += " cand-first"
 	}
-	return cell(c, cls)
+	if k == n-1 {
+		cls += " cand-last"
+	}
+	return cls
+}
+
+// candidateHead is the results table's column head of the k-th of n
+// candidates.
+func candidateHead(k, n int, name string) app.UI {
+	return app.Th().Scope("col").Class("mcol cand-col "+candClass(k, n)).Title("your Gaussian "+name+": scored like the fits, not ranked among them").Body(
+		candidateSwatch(k), app.Span().Class("mname").Text(name))
+}
+
+// candidateCell is the k-th of n candidates' cell of the results table.
+func candidateCell(k, n int, c Cell) app.UI {
+	return cell(c, candClass(k, n))
 }
 
 // shownResult is the result a Shown holds (nil for none).
@@ -70,9 +76,9 @@ func candidateKey(n int) app.UI {
 		return app.Text("")
 	}
 	if n == 1 {
-		return app.Text(" The last column, tinted: your own Gaussian (a #@ gaussian line), scored like the fits and not ranked among them.")
+		return app.Text(" The tinted column after the exact one: your own Gaussian (a #@ gaussian line), scored like the fits and not ranked among them.")
 	}
-	return app.Text(" The last " + strconv.Itoa(n) + " columns, tinted: your own Gaussians (#@ gaussian lines), scored like the fits and not ranked among them.")
+	return app.Text(" The " + strconv.Itoa(n) + " tinted columns after the exact one: your own Gaussians (#@ gaussian lines), scored like the fits and not ranked among them.")
 }
 
 // candidateSpreads returns each candidate's normal marginal of parameter i

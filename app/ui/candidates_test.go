@@ -31,7 +31,10 @@ func farCandidate(r *engine.Result, shift float64) {
 		f.SDRatio = append(f.SDRatio, 1)
 	}
 	r.Candidates = engine.Candidates{{Name: "mine", Fit: f}}
-	normal := func(x, mu, s float64) float64 { z := (x - mu) / s; return math.Exp(-z*z/2) / (s * math.Sqrt(2*math.Pi)) }
+	normal := func(x, mu, s float64) float64 {
+		z := (x - mu) / s
+		return math.Exp(-z*z/2) / (s * math.Sqrt(2*math.Pi))
+	}
 	for k := range r.Plots.Marginals {
 		mg := &r.Plots.Marginals[k]
 		curve := make([]float64, len(mg.X))

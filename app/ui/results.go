@@ -42,13 +42,17 @@ func (t *ResultsTable) Render() app.UI {
 		return app.P().Class("muted").Text("Results appear here once the analysis has run.")
 	}
 	head := []app.UI{app.Th().Scope("col").Class("rlabel").Text("")}
+	// The candidates come right after the exact column (a derivation is
+	// checked against the exact density first), then the fits.
 	for _, m := range plot.Methods {
 		s := plot.StyleOf(m)
 		head = append(head, app.Th().Scope("col").Class("mcol").Title(s.Long).Body(
 			swatch(m), app.Span().Class("mname").Text(s.Name)))
-	}
-	for k, name := range t.Candidates {
-		head = append(head, candidateHead(k, name))
+		if m == plot.Exact {
+			for k, name := range t.Candidates {
+				head = append(head, candidateHead(k, len(t.Candidates), name))
+			}
+		}
 	}
 	// One component per section, given a pointer into the table: while the
 	// table is the same, toggling Stale re-renders the table's element and
@@ -91,13 +95,15 @@ func (ts *TableSection) Render() app.UI {
 	rows = append(rows, app.Tr().Class("sec").Body(
 		app.Th().Scope("rowgroup").ColSpan(ts.Columns).Body(app.Span().Class("sec-title").Text(sec.Title))))
 	for _, r := range sec.Rows {
-		cells := make([]app.UI, 0, len(plot.Methods)+1)
+		cells := make([]app.UI, 0, len(plot.Methods)+len(r.Cands)+1)
 		cells = append(cells, app.Th().Scope("row").Class("rlabel").Title(r.Hint).Text(r.Label))
 		for _, m := range plot.Methods {
 			cells = append(cells, cell(r.Cells[m], ""))
-		}
-		for k, c := range r.Cands {
-			cells = append(cells, candidateCell(k, c))
+			if m == plot.Exact {
+				for k, c := range r.Cands {
+					cells = append(cells, candidateCell(k, len(r.Cands), c))
+				}
+			}
 		}
 		rows = append(rows, app.Tr().Body(cells...))
 	}
