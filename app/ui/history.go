@@ -84,10 +84,10 @@ func NewHistory(b Browser) *History {
 	return h
 }
 
-// workOf is what makes a state the user's work: the model text and the
-// options (not the view).
+// workOf is what makes a state the user's work: the model text, the
+// options and the live constants' values (not the view).
 func workOf(st share.State) string {
-	raw, _ := json.Marshal(share.State{Model: st.Model, Params: st.Params})
+	raw, _ := json.Marshal(share.State{Model: st.Model, Params: st.Params, Constants: st.Constants})
 	return string(raw)
 }
 

@@ -230,8 +230,45 @@ func (p *Page) SetConstant(ctx app.Context, i int, v float64) {
 		p.s.Constants = map[string]float64{}
 	}
 	p.s.Constants[items[i].Name] = v
+	p.persistSoon(ctx) // the link and the saved work keep the value (once the sliding pauses)
 	if p.s.Model != nil && !p.pending {
 		p.start(ctx)
+	}
+}
+
+// movedConstants returns the values the sliders set for the model's live
+// constants, by name, for a link and the saved work (nil for none).
+func (s *Session) movedConstants() map[string]float64 {
+	var out map[string]float64
+	for _, v := range s.File.Vary {
+		if x, ok := s.Constants[v.Name]; ok {
+			if out == nil {
+				out = map[string]float64{}
+			}
+			out[v.Name] = x
+		}
+	}
+	return out
+}
+
+// restoreConstants sets the live constants' values a link or the saved
+// work carries, after its text was checked: only those of constants the
+// text marks to vary, within their ranges (a value outside is brought to
+// the nearer end, as the slider would show it).
+func (s *Session) restoreConstants(vals map[string]float64) {
+	s.Constants = nil
+	if s.Model == nil {
+		return
+	}
+	for _, v := range s.File.Vary {
+		x, ok := vals[v.Name]
+		if !ok || math.IsNaN(x) {
+			continue
+		}
+		if s.Constants == nil {
+			s.Constants = map[string]float64{}
+		}
+		s.Constants[v.Name] = math.Max(v.Lo, math.Min(v.Hi, x))
 	}
 }
 
