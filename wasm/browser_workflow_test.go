@@ -305,6 +305,31 @@ func testSlider(t *testing.T, b *browser, srv *siteServer) {
 	}
 	tb.do(t, 10*time.Second, chromedp.Evaluate[chromedp.Void](`window.scrollTo(0, 0)`))
 	tb.screenshot(t, "workflow-slider-1280x800.png", false)
+
+	// The link in the address bar keeps the slider's value (once the
+	// sliding pauses), and opens at it in another browser.
+	var hash string
+	for end := time.Now().Add(20 * time.Second); time.Now().Before(end); time.Sleep(100 * time.Millisecond) {
+		hash = eval[string](t, tb, 5*time.Second, `location.hash`)
+		if st, err := share.Decode(hash); err == nil && st.Constants["k"] == 5 {
+			break
+		}
+		hash = ""
+	}
+	if hash == "" {
+		t.Fatalf("the address bar's link never held k = 5 (it holds %q)", eval[string](t, tb, 5*time.Second, `location.hash`))
+	}
+	other := b.newTab(t, true)
+	defer other.close()
+	other.open(t, srv.URL+"/"+hash)
+	waitFor(t, other, 30*time.Second, "the slider at k = 5", `(() => { const s = document.getElementById("bc-live-0"); const v = document.getElementById("bc-live-0-value");
+  return s && v && parseFloat(s.value) === 5 && parseFloat(v.textContent) === 5; })()`)
+	waitFor(t, other, 60*time.Second, "the result for k = 5", `(() => { const t = document.querySelector("table.results");
+  return t && !t.classList.contains("stale") && document.getElementById("bc-output").dataset.state === "ready"; })()`)
+	// Gamma(shape 5, rate 1) has mean 5 (closed form).
+	if m := strings.TrimSpace(eval[string](t, other, 5*time.Second, `document.querySelector("table.results tbody tr:not(.sec) td").textContent`)); !strings.HasPrefix(m, "5.00") && !strings.HasPrefix(m, "4.99") {
+		t.Errorf("the link opens with the exact mean %q, want 5 (k = 5)", m)
+	}
 }
 
 // testPlotOnlyEmbed: an embed link with the plots-only layout and a height
