@@ -28,6 +28,7 @@ func TestRoundTrip(t *testing.T) {
 		{Model: "<script>alert(1)</script>\n\"'&"},
 		{Model: strings.Repeat("-x^2/2 + 0.001*x\n", 3000)},
 		{Model: "param m\nsum(ld_normal(y, m, 1))", Data: "y\n1.5\n-2\n3e-07\n"},
+		{Model: "param m\nsum(ld_normal(y, m, 1))", DataLeft: "0123456789abcdef01234567"},
 	}
 	for i, want := range cases {
 		frag, err := Encode(want)
@@ -199,11 +200,14 @@ func TestConstantsInLinks(t *testing.T) {
 		t.Errorf("the earlier link decodes to %+v", st)
 	}
 	for _, bad := range []string{
-		`{"m":"x","c":{"2k":1}}`,    // not a name
-		`{"m":"x","c":{"":1}}`,      // empty name
-		`{"m":"x","c":{"k":1e999}}`, // not a finite number
-		`{"m":"x","c":{"k":"1"}}`,   // not a number
-		`{"m":"x","c":[["k",1]]}`,   // not an object
+		`{"m":"x","c":{"2k":1}}`,           // not a name
+		`{"m":"x","c":{"":1}}`,             // empty name
+		`{"m":"x","c":{"k":1e999}}`,        // not a finite number
+		`{"m":"x","c":{"k":"1"}}`,          // not a number
+		`{"m":"x","c":[["k",1]]}`,          // not an object
+		`{"m":"x","dl":"ABC"}`,             // not lower-case hex
+		`{"m":"x","dl":"../x"}`,            // not hex
+		`{"m":"x","d":"y\n1\n","dl":"ab"}`, // carries and leaves out its data
 	} {
 		if _, err := Decode("b1." + deflateB64(t, []byte(bad))); !errors.Is(err, ErrBadContent) {
 			t.Errorf("%s: %v, want ErrBadContent", bad, err)
