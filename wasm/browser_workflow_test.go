@@ -11,6 +11,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"image/png"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -31,6 +32,7 @@ func TestBrowserWorkflow(t *testing.T) {
 	b := startBrowser(t, exe, wideW, wideH)
 	t.Run("PasteColumns", func(t *testing.T) { testPasteColumns(t, b, srv) })
 	t.Run("DropCSV", func(t *testing.T) { testDropCSV(t, b, srv) })
+	t.Run("BigDataKept", func(t *testing.T) { testBigDataKept(t, b, srv) })
 	t.Run("Candidate", func(t *testing.T) { testCandidate(t, b, srv) })
 	t.Run("CandidateReach", func(t *testing.T) { testCandidateReach(t, b, srv) })
 	t.Run("Slider", func(t *testing.T) { testSlider(t, b, srv) })
@@ -431,4 +433,50 @@ func testCandidateReach(t *testing.T, b *browser, srv *siteServer) {
 	tb.screenshot(t, "workflow-candidate-reach-1280-full.png", true)
 	tb.do(t, 10*time.Second, chromedp.Evaluate[chromedp.Void](`document.querySelector("table.results").scrollIntoView()`))
 	tb.screenshot(t, "workflow-candidate-table-1280.png", false)
+}
+
+// testBigDataKept: pasted columns too large for a link (about 120 KB of
+// CSV) stay with the saved work: the address bar's link names them, and a
+// reload brings them back from the browser's storage.
+func testBigDataKept(t *testing.T, b *browser, srv *siteServer) {
+	tb := b.newTab(t, true)
+	defer tb.close()
+	tb.open(t, srv.URL+"/")
+	done := tb.state(t).Done
+	tb.editModel(t, normalModel)
+	var paste strings.Builder
+	paste.WriteString("y\n")
+	for i := range 12000 {
+		fmt.Fprintf(&paste, "%.8g\n", 4+math.Sqrt(float64(i)+0.5)/100)
+	}
+	pasteData(t, tb, paste.String())
+	tb.waitDone(t, done, 120*time.Second)
+	if txt := dataPanelText(t, tb); !strings.Contains(txt, "12000 values") || !strings.Contains(txt, "keeps it") {
+		t.Fatalf("the data panel says %q", txt)
+	}
+	var hash string
+	for end := time.Now().Add(20 * time.Second); time.Now().Before(end); time.Sleep(100 * time.Millisecond) {
+		hash = eval[string](t, tb, 5*time.Second, `location.hash`)
+		if st, err := share.Decode(hash); err == nil && st.DataLeft != "" && st.Model == normalModel {
+			break
+		}
+		hash = ""
+	}
+	if hash == "" {
+		t.Fatalf("the address bar's link never named the table left out: %q", eval[string](t, tb, 5*time.Second, `location.hash`))
+	}
+	if n := eval[int](t, tb, 5*time.Second, `Object.keys(localStorage).filter((k) => k.startsWith("bellcheck.d.")).length`); n != 1 {
+		t.Errorf("%d tables in local storage, want 1", n)
+	}
+	tb.do(t, 30*time.Second, chromedp.Reload())
+	tb.waitDone(t, 0, 120*time.Second)
+	if txt := dataPanelText(t, tb); !strings.Contains(txt, "12000 values") || !strings.Contains(txt, "your saved work") {
+		t.Errorf("after a reload the data panel says %q", txt)
+	}
+	if got := tb.editorText(t); got != normalModel {
+		t.Errorf("after a reload the model is %q", got)
+	}
+	if n := eval[int](t, tb, 5*time.Second, `document.querySelectorAll("table.results tr.sec").length`); n < 2 {
+		t.Errorf("after a reload %d parameter sections, want m and s (y from the kept table)", n)
+	}
 }
