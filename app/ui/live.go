@@ -1,6 +1,7 @@
 package ui
 
 import (
+	"maps"
 	"math"
 	"slices"
 	"strconv"
@@ -10,7 +11,9 @@ import (
 	"bellcheck/app/figure"
 	"bellcheck/app/jsdom"
 	"bellcheck/app/plot"
+	"bellcheck/app/share"
 	"bellcheck/engine"
+	"bellcheck/engine/data"
 	"bellcheck/engine/model"
 )
 
@@ -317,3 +320,39 @@ func (p *Page) PinResult(ctx app.Context, on bool) {
 	}
 	p.figs = numbered(BuildFigures(p.s.Result, p.view))
 }
+
+// constantProblems says, in words, which of a link's sliders' values the
+// page sets otherwise (restoreConstants): a constant the text does not mark
+// to vary, or a value beyond its range. A text with errors gives none.
+func constantProblems(st share.State) []string {
+	if len(st.Constants) == 0 {
+		return nil
+	}
+	var tb *data.Table
+	if st.Data != "" {
+		tb, _ = data.Parse(st.Data)
+	}
+	m, file, errs := parseModel(st.Model, tb)
+	if m == nil || errs != nil {
+		return nil
+	}
+	ranges := map[string]engine.Vary{}
+	for _, v := range file.Vary {
+		ranges[v.Name] = v
+	}
+	var out []string
+	for _, name := range slices.Sorted(maps.Keys(st.Constants)) {
+		x := st.Constants[name]
+		v, ok := ranges[name]
+		switch {
+		case !ok:
+			out = append(out, "the value "+plainNum(x)+" for "+model.Visible(name)+", which the model does not mark with #@ vary (ignored)")
+		case x < v.Lo || x > v.Hi:
+			out = append(out, "the value "+plainNum(x)+" for "+name+", outside its range "+plainNum(v.Lo)+" to "+plainNum(v.Hi)+" (set to the nearer end)")
+		}
+	}
+	return out
+}
+
+// plainNum writes a number as typed: the shortest form that reads back.
+func plainNum(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }

@@ -1,6 +1,7 @@
 package ui
 
 import (
+	"strings"
 	"testing"
 
 	"bellcheck/app/share"
@@ -61,14 +62,15 @@ func TestSliderValueInLinkAndSavedWork(t *testing.T) {
 	}
 
 	for _, c := range []struct {
-		name  string
-		state share.State
-		want  float64
+		name   string
+		state  share.State
+		want   float64
+		notice string
 	}{
-		{"link with a value", share.State{Model: srcVary, Constants: map[string]float64{"k": 2.5}}, 2.5},
-		{"link made before values were kept", share.State{Model: srcVary}, 1.5},
-		{"value beyond the range", share.State{Model: srcVary, Constants: map[string]float64{"k": 9}}, 3},
-		{"value of a constant not marked to vary", share.State{Model: srcVary, Constants: map[string]float64{"alpha2": 9}}, 1.5},
+		{"link with a value", share.State{Model: srcVary, Constants: map[string]float64{"k": 2.5}}, 2.5, ""},
+		{"link made before values were kept", share.State{Model: srcVary}, 1.5, ""},
+		{"value beyond the range", share.State{Model: srcVary, Constants: map[string]float64{"k": 9}}, 3, "outside its range 0.5 to 3"},
+		{"value of a constant not marked to vary", share.State{Model: srcVary, Constants: map[string]float64{"alpha2": 9}}, 1.5, "does not mark"},
 	} {
 		frag, err := share.Encode(c.state)
 		if err != nil {
@@ -77,6 +79,9 @@ func TestSliderValueInLinkAndSavedWork(t *testing.T) {
 		h3, _ := openWith(t, newMemBrowser(frag))
 		if got := runConstant(t, h3.page); got != c.want {
 			t.Errorf("%s: k = %g, want %g", c.name, got, c.want)
+		}
+		if n := h3.page.notice.Text; (c.notice == "") != (n == "") || !strings.Contains(n, c.notice) {
+			t.Errorf("%s: notice %q, want one saying %q", c.name, n, c.notice)
 		}
 	}
 }
