@@ -95,19 +95,41 @@ func runSweep(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	if !*quiet {
 		report = progressReporter(stderr, est, time.Now())
 	}
+	sw := sweep{file: name, m: m, opts: opts, name: v.Name, values: values, paths: paths, asJSON: *asJSON, maxTime: *maxTime, est: est, report: report}
+	return sw.run(ctx, stdout, stderr)
+}
 
+// sweep is a sweep ready to run: the model, the constant and its values,
+// the quantities to print, and the bound and forecast it runs under.
+type sweep struct {
+	file    string
+	m       *model.Model
+	opts    engine.Options
+	name    string
+	values  []float64
+	paths   []string
+	asJSON  bool
+	maxTime time.Duration
+	est     engine.Estimate
+	report  engine.ProgressFunc
+}
+
+// run analyses the model at each value and prints a row (or a JSON line)
+// per value; when ctx ends (--max-time, an interrupt) it stops with the
+// rows done so far printed.
+func (sw sweep) run(ctx context.Context, stdout, stderr io.Writer) int {
 	tw := tabwriter.NewWriter(visibleWriter{stdout}, 0, 0, 2, ' ', tabwriter.AlignRight)
-	if !*asJSON {
-		row(tw, append([]string{v.Name}, paths...)...)
+	if !sw.asJSON {
+		row(tw, append([]string{sw.name}, sw.paths...)...)
 	}
 	status := exitOK
-	for i, val := range values {
-		cells, err := sweepPoint(ctx, m, opts, v.Name, val, paths, sweepProgress(report, i, len(values), v.Name, val))
+	for i, val := range sw.values {
+		cells, err := sweepPoint(ctx, sw.m, sw.opts, sw.name, val, sw.paths, sweepProgress(sw.report, i, len(sw.values), sw.name, val))
 		if ctx.Err() != nil {
 			tw.Flush()
 			if errors.Is(ctx.Err(), context.DeadlineExceeded) {
 				fmt.Fprintf(stderr, "bellcheck sweep: %s: stopped after --max-time %v at %s = %s, %d of %d values done (the forecast was %v); allow more time with --max-time, use fewer values with --steps, or a coarser grid with --points\n",
-					name, *maxTime, v.Name, num(val), i, len(values), est)
+					sw.file, sw.maxTime, sw.name, num(val), i, len(sw.values), sw.est)
 				return exitModel
 			}
 			fmt.Fprintf(stderr, "bellcheck sweep: %v\n", ctx.Err())
@@ -119,11 +141,11 @@ func runSweep(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 			return exitUsage
 		}
 		if err != nil {
-			fmt.Fprintf(stderr, "bellcheck sweep: %s = %s: %v\n", v.Name, num(val), err)
+			fmt.Fprintf(stderr, "bellcheck sweep: %s = %s: %v\n", sw.name, num(val), err)
 			status = exitModel
 		}
-		if *asJSON {
-			if err := writeSweepJSON(stdout, v.Name, val, paths, cells, err); err != nil {
+		if sw.asJSON {
+			if err := writeSweepJSON(stdout, sw.name, val, sw.paths, cells, err); err != nil {
 				fmt.Fprintf(stderr, "bellcheck: %v\n", err)
 				return exitModel
 			}

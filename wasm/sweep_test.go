@@ -4,15 +4,18 @@ package main
 
 import (
 	"bufio"
+	"context"
 	"encoding/json"
 	"math"
 	"strconv"
 	"strings"
+	"sync"
 	"testing"
 	"time"
 
 	"bellcheck/app/ui"
 	"bellcheck/engine"
+	"bellcheck/engine/model"
 )
 
 // A sweep of a Gaussian's sd constant gives log Z = log(sd sqrt(2 pi)) at
@@ -227,5 +230,62 @@ func TestSweepProgress(t *testing.T) {
 	}
 	if sweepProgress(nil, 0, 1, "k", 1) != nil {
 		t.Error("--quiet should report nothing")
+	}
+}
+
+// expiringCtx is a context whose deadline passes when expire is called (a
+// --max-time that runs out at a chosen moment, without waiting for it).
+type expiringCtx struct {
+	context.Context
+	done chan struct{}
+	once sync.Once
+}
+
+func newExpiringCtx() *expiringCtx {
+	return &expiringCtx{Context: context.Background(), done: make(chan struct{})}
+}
+func (c *expiringCtx) expire()               { c.once.Do(func() { close(c.done) }) }
+func (c *expiringCtx) Done() <-chan struct{} { return c.done }
+func (c *expiringCtx) Err() error {
+	select {
+	case <-c.done:
+		return context.DeadlineExceeded
+	default:
+		return nil
+	}
+}
+
+// A sweep that runs out of --max-time during its second value stops there,
+// with the first value's row printed and a message naming where it stopped.
+func TestSweepStopsAtMaxTime(t *testing.T) {
+	m, err := model.Parse("c = 1\nparam x\n-x^2/(2*c)\n")
+	if err != nil {
+		t.Fatal(err)
+	}
+	ctx := newExpiringCtx()
+	var stages []string
+	report := func(p engine.Progress) {
+		stages = append(stages, p.Stage)
+		if strings.HasPrefix(p.Stage, "c = 2:") {
+			ctx.expire()
+		}
+	}
+	sw := sweep{file: "m.txt", m: m, name: "c", values: []float64{1, 2, 3}, paths: []string{"exact.log_z"},
+		maxTime: time.Minute, est: engine.Estimate{Points: 3, PerPoint: time.Microsecond, Total: 3 * time.Millisecond}, report: report}
+	var stdout, stderr strings.Builder
+	code := sw.run(ctx, &stdout, &stderr)
+	if code != exitModel {
+		t.Fatalf("exit %d, want 1; stderr %q", code, stderr.String())
+	}
+	rows := strings.Split(strings.TrimSpace(stdout.String()), "\n")
+	// log Z of exp(-x^2/2) is log sqrt(2 pi) = 0.91894 (closed form).
+	if len(rows) != 2 || !strings.Contains(rows[1], "0.91894") {
+		t.Errorf("rows %q, want the header and c = 1's", rows)
+	}
+	if want := "stopped after --max-time 1m0s at c = 2, 1 of 3 values done"; !strings.Contains(stderr.String(), want) {
+		t.Errorf("stderr %q lacks %q", stderr.String(), want)
+	}
+	if len(stages) == 0 || !strings.HasPrefix(stages[0], "c = 1:") {
+		t.Errorf("progress stages %q, want them named by the value", stages)
 	}
 }
