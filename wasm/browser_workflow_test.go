@@ -433,6 +433,30 @@ func testCandidateReach(t *testing.T, b *browser, srv *siteServer) {
 	tb.screenshot(t, "workflow-candidate-reach-1280-full.png", true)
 	tb.do(t, 10*time.Second, chromedp.Evaluate[chromedp.Void](`document.querySelector("table.results").scrollIntoView()`))
 	tb.screenshot(t, "workflow-candidate-table-1280.png", false)
+
+	// Three parameters: the grid's shared range of a reaches the
+	// candidate in its marginal and in both pairs with a.
+	done = tb.state(t).Done
+	tb.editModel(t, "#@ gaussian far mean.a=9 mean.b=1 mean.c=0 sd.a=1 sd.b=0.8 sd.c=1\n#@ points a=41 b=41 c=41\nparam a\nparam b\nparam c\n-(a^2)/2 - (b - a^2/4)^2/2 - c^2/2\n")
+	tb.waitDone(t, done, 120*time.Second)
+	waitFor(t, tb, 20*time.Second, "the pair grid", `!!document.querySelector("#bc-g10-clip rect")`)
+	for _, id := range []string{"bc-g00", "bc-g10", "bc-g20"} {
+		out := eval[[]float64](t, tb, 5*time.Second, `(() => {
+  const clip = document.querySelector("#`+id+`-clip rect"); if (!clip) return [];
+  const svg = clip.closest("svg"); const box = clip.getBBox(); let lo = Infinity, hi = -Infinity, n = 0;
+  for (const p of svg.querySelectorAll('g[clip-path] path[stroke="#c0143c"]')) {
+    const b = p.getBBox(); lo = Math.min(lo, b.x); hi = Math.max(hi, b.x + b.width); n++; }
+  return [n, box.x, box.x + box.width, lo, hi]; })()`)
+		if len(out) != 5 || out[0] < 1 {
+			t.Errorf("%s: no candidate strokes: %v", id, out)
+			continue
+		}
+		if out[3] < out[1]-1 || out[4] > out[2]+1 {
+			t.Errorf("%s: the candidate spans x = %.1f..%.1f, beyond the plot area %.1f..%.1f", id, out[3], out[4], out[1], out[2])
+		}
+	}
+	tb.do(t, 10*time.Second, chromedp.Evaluate[chromedp.Void](`document.querySelector(".plots").scrollIntoView()`))
+	tb.screenshot(t, "workflow-candidate-reach-3d-1280.png", false)
 }
 
 // testBigDataKept: pasted columns too large for a link (about 120 KB of
