@@ -4,6 +4,7 @@ import (
 	"crypto/sha256"
 	"encoding/hex"
 	"errors"
+	"slices"
 	"strings"
 
 	"bellcheck/app/share"
@@ -75,8 +76,12 @@ func (h *History) saveData(csv, digest string) (string, error) {
 
 // collectData removes the kept tables no entry names any more.
 func collectData(b Browser) {
+	keys := b.Keys()
+	if !slices.ContainsFunc(keys, func(k string) bool { return strings.HasPrefix(k, DataPrefix) }) {
+		return // no table kept: nothing to read
+	}
 	used := map[string]bool{}
-	for _, k := range b.Keys() {
+	for _, k := range keys {
 		if !strings.HasPrefix(k, HistoryPrefix) {
 			continue
 		}
@@ -84,7 +89,7 @@ func collectData(b Browser) {
 			used[se.Data] = true
 		}
 	}
-	for _, k := range b.Keys() {
+	for _, k := range keys {
 		if strings.HasPrefix(k, DataPrefix) && !used[k] {
 			b.Remove(k)
 		}
