@@ -11,6 +11,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"image/png"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -31,7 +32,9 @@ func TestBrowserWorkflow(t *testing.T) {
 	b := startBrowser(t, exe, wideW, wideH)
 	t.Run("PasteColumns", func(t *testing.T) { testPasteColumns(t, b, srv) })
 	t.Run("DropCSV", func(t *testing.T) { testDropCSV(t, b, srv) })
+	t.Run("BigDataKept", func(t *testing.T) { testBigDataKept(t, b, srv) })
 	t.Run("Candidate", func(t *testing.T) { testCandidate(t, b, srv) })
+	t.Run("CandidateReach", func(t *testing.T) { testCandidateReach(t, b, srv) })
 	t.Run("Slider", func(t *testing.T) { testSlider(t, b, srv) })
 	t.Run("PlotOnlyEmbed", func(t *testing.T) { testPlotOnlyEmbed(t, b, srv) })
 	t.Run("GridFields", func(t *testing.T) { testGridFields(t, b, srv) })
@@ -165,10 +168,23 @@ func testCandidate(t *testing.T, b *browser, srv *siteServer) {
 	src := "#@ gaussian mine mean.a=0.5 mean.b=-0.2 sd.a=0.6 sd.b=0.9 corr.a.b=0.3\n#@ points a=121\nparam a\nparam b\n-(a^2)/2 - (b - a^2/3)^2/2 - a^4/12\n"
 	tb.editModel(t, src)
 	tb.waitDone(t, done, 90*time.Second)
-	waitFor(t, tb, 20*time.Second, "the candidate table", `!!document.getElementById("bc-cand-table")`)
-	txt := eval[string](t, tb, 5*time.Second, `document.getElementById("bc-cand-table").textContent`)
-	if !strings.Contains(txt, "mine") || !strings.Contains(txt, "KL(q‖p)") {
-		t.Errorf("the candidate table says %q", txt)
+	waitFor(t, tb, 20*time.Second, "the candidate's column", `!!document.querySelector("table.results th.cand-col")`)
+	head := eval[string](t, tb, 5*time.Second, `document.querySelector("table.results th.cand-col").textContent`)
+	if !strings.Contains(head, "mine") {
+		t.Errorf("the candidate's column head says %q", head)
+	}
+	// One candidate cell in every row of the results table, beside the fits.
+	// (The first table.results is the results table; the curvature card's
+	// matrices share its look.)
+	rows := eval[int](t, tb, 5*time.Second, `document.querySelector("table.results").querySelectorAll("tbody tr:not(.sec)").length`)
+	cands := eval[int](t, tb, 5*time.Second, `document.querySelector("table.results").querySelectorAll("tbody tr:not(.sec) td.cand").length`)
+	if rows == 0 || cands != rows {
+		t.Errorf("%d candidate cells in %d rows of the results table", cands, rows)
+	}
+	kl := eval[string](t, tb, 5*time.Second, `(() => { for (const tr of document.querySelectorAll("table.results tbody tr")) {
+  const th = tr.querySelector("th.rlabel"); if (th && th.textContent === "KL(q‖p)") return tr.querySelector("td.cand").textContent; } return ""; })()`)
+	if kl == "" || kl == "—" {
+		t.Errorf("the candidate's KL(q‖p) cell is %q", kl)
 	}
 	strokes := eval[int](t, tb, 5*time.Second, `document.querySelectorAll('#bc-output svg path[stroke="#c0143c"]').length`)
 	if strokes < 3 {
@@ -291,6 +307,31 @@ func testSlider(t *testing.T, b *browser, srv *siteServer) {
 	}
 	tb.do(t, 10*time.Second, chromedp.Evaluate[chromedp.Void](`window.scrollTo(0, 0)`))
 	tb.screenshot(t, "workflow-slider-1280x800.png", false)
+
+	// The link in the address bar keeps the slider's value (once the
+	// sliding pauses), and opens at it in another browser.
+	var hash string
+	for end := time.Now().Add(20 * time.Second); time.Now().Before(end); time.Sleep(100 * time.Millisecond) {
+		hash = eval[string](t, tb, 5*time.Second, `location.hash`)
+		if st, err := share.Decode(hash); err == nil && st.Constants["k"] == 5 {
+			break
+		}
+		hash = ""
+	}
+	if hash == "" {
+		t.Fatalf("the address bar's link never held k = 5 (it holds %q)", eval[string](t, tb, 5*time.Second, `location.hash`))
+	}
+	other := b.newTab(t, true)
+	defer other.close()
+	other.open(t, srv.URL+"/"+hash)
+	waitFor(t, other, 30*time.Second, "the slider at k = 5", `(() => { const s = document.getElementById("bc-live-0"); const v = document.getElementById("bc-live-0-value");
+  return s && v && parseFloat(s.value) === 5 && parseFloat(v.textContent) === 5; })()`)
+	waitFor(t, other, 60*time.Second, "the result for k = 5", `(() => { const t = document.querySelector("table.results");
+  return t && !t.classList.contains("stale") && document.getElementById("bc-output").dataset.state === "ready"; })()`)
+	// Gamma(shape 5, rate 1) has mean 5 (closed form).
+	if m := strings.TrimSpace(eval[string](t, other, 5*time.Second, `document.querySelector("table.results tbody tr:not(.sec) td").textContent`)); !strings.HasPrefix(m, "5.00") && !strings.HasPrefix(m, "4.99") {
+		t.Errorf("the link opens with the exact mean %q, want 5 (k = 5)", m)
+	}
 }
 
 // testPlotOnlyEmbed: an embed link with the plots-only layout and a height
@@ -355,4 +396,111 @@ func testGridFields(t *testing.T, b *browser, srv *siteServer) {
 	tb.editModel(t, "param x\n-x^2/2\n")
 	tb.waitDone(t, done, 90*time.Second)
 	waitFor(t, tb, 10*time.Second, "the fields of x blank", `document.getElementById("bc-p0-lo").value === "" && document.getElementById("bc-p0-hi").value === ""`)
+}
+
+// testCandidateReach: a candidate whose contours lie beyond the exact
+// posterior's plot grid widens the 2-D view so that its contours are drawn
+// whole inside the plot area (the grid of this model reaches a = 7.0; the
+// candidate's outer contour a = 12.0, from the command line's JSON).
+func testCandidateReach(t *testing.T, b *browser, srv *siteServer) {
+	tb := b.newTab(t, true)
+	defer tb.close()
+	tb.open(t, srv.URL+"/")
+	done := tb.state(t).Done
+	tb.editModel(t, "#@ gaussian far mean.a=9 mean.b=1 sd.a=1 sd.b=0.8 corr.a.b=0.4\nparam a\nparam b\n-(a^2)/2 - (b - a^2/4)^2/2\n")
+	tb.waitDone(t, done, 90*time.Second)
+	waitFor(t, tb, 20*time.Second, "the candidate's column", `!!document.querySelector("table.results th.cand-col")`)
+	// The candidate's contours (inside the plot's clip group) against the
+	// plot area, in the SVG's units.
+	out := eval[[]float64](t, tb, 5*time.Second, `(() => {
+  const clip = document.querySelector("#bc-f01-clip rect"); if (!clip) return [];
+  const box = clip.getBBox(); let lo = Infinity, hi = -Infinity, n = 0;
+  for (const p of document.querySelectorAll('svg g[clip-path] path[stroke="#c0143c"]')) {
+    const b = p.getBBox(); lo = Math.min(lo, b.x); hi = Math.max(hi, b.x + b.width); n++; }
+  return [n, box.x, box.x + box.width, lo, hi]; })()`)
+	if len(out) != 5 || out[0] < 3 {
+		t.Fatalf("the 2-D view has no candidate contours: %v", out)
+	}
+	if out[3] < out[1]-1 || out[4] > out[2]+1 {
+		t.Errorf("the candidate's contours span x = %.1f..%.1f, beyond the plot area %.1f..%.1f", out[3], out[4], out[1], out[2])
+	}
+	// The x axis reaches past the candidate's outer contour (a = 12.0).
+	ticks := eval[string](t, tb, 5*time.Second, `Array.from(document.querySelectorAll(".plots svg text")).map(e => e.textContent).join(" ")`)
+	if !strings.Contains(ticks, "12") {
+		t.Errorf("the axes' labels %q do not reach a = 12", ticks)
+	}
+	tb.do(t, 10*time.Second, chromedp.Evaluate[chromedp.Void](`window.scrollTo(0, 0)`))
+	tb.screenshot(t, "workflow-candidate-reach-1280-full.png", true)
+	tb.do(t, 10*time.Second, chromedp.Evaluate[chromedp.Void](`document.querySelector("table.results").scrollIntoView()`))
+	tb.screenshot(t, "workflow-candidate-table-1280.png", false)
+
+	// Three parameters: the grid's shared range of a reaches the
+	// candidate in its marginal and in both pairs with a.
+	done = tb.state(t).Done
+	tb.editModel(t, "#@ gaussian far mean.a=9 mean.b=1 mean.c=0 sd.a=1 sd.b=0.8 sd.c=1\n#@ points a=41 b=41 c=41\nparam a\nparam b\nparam c\n-(a^2)/2 - (b - a^2/4)^2/2 - c^2/2\n")
+	tb.waitDone(t, done, 120*time.Second)
+	waitFor(t, tb, 20*time.Second, "the pair grid", `!!document.querySelector("#bc-g10-clip rect")`)
+	for _, id := range []string{"bc-g00", "bc-g10", "bc-g20"} {
+		out := eval[[]float64](t, tb, 5*time.Second, `(() => {
+  const clip = document.querySelector("#`+id+`-clip rect"); if (!clip) return [];
+  const svg = clip.closest("svg"); const box = clip.getBBox(); let lo = Infinity, hi = -Infinity, n = 0;
+  for (const p of svg.querySelectorAll('g[clip-path] path[stroke="#c0143c"]')) {
+    const b = p.getBBox(); lo = Math.min(lo, b.x); hi = Math.max(hi, b.x + b.width); n++; }
+  return [n, box.x, box.x + box.width, lo, hi]; })()`)
+		if len(out) != 5 || out[0] < 1 {
+			t.Errorf("%s: no candidate strokes: %v", id, out)
+			continue
+		}
+		if out[3] < out[1]-1 || out[4] > out[2]+1 {
+			t.Errorf("%s: the candidate spans x = %.1f..%.1f, beyond the plot area %.1f..%.1f", id, out[3], out[4], out[1], out[2])
+		}
+	}
+	tb.do(t, 10*time.Second, chromedp.Evaluate[chromedp.Void](`document.querySelector(".plots").scrollIntoView()`))
+	tb.screenshot(t, "workflow-candidate-reach-3d-1280.png", false)
+}
+
+// testBigDataKept: pasted columns too large for a link (about 120 KB of
+// CSV) stay with the saved work: the address bar's link names them, and a
+// reload brings them back from the browser's storage.
+func testBigDataKept(t *testing.T, b *browser, srv *siteServer) {
+	tb := b.newTab(t, true)
+	defer tb.close()
+	tb.open(t, srv.URL+"/")
+	done := tb.state(t).Done
+	tb.editModel(t, normalModel)
+	var paste strings.Builder
+	paste.WriteString("y\n")
+	for i := range 12000 {
+		fmt.Fprintf(&paste, "%.8g\n", 4+math.Sqrt(float64(i)+0.5)/100)
+	}
+	pasteData(t, tb, paste.String())
+	tb.waitDone(t, done, 120*time.Second)
+	if txt := dataPanelText(t, tb); !strings.Contains(txt, "12000 values") || !strings.Contains(txt, "keeps it") {
+		t.Fatalf("the data panel says %q", txt)
+	}
+	var hash string
+	for end := time.Now().Add(20 * time.Second); time.Now().Before(end); time.Sleep(100 * time.Millisecond) {
+		hash = eval[string](t, tb, 5*time.Second, `location.hash`)
+		if st, err := share.Decode(hash); err == nil && st.DataLeft != "" && st.Model == normalModel {
+			break
+		}
+		hash = ""
+	}
+	if hash == "" {
+		t.Fatalf("the address bar's link never named the table left out: %q", eval[string](t, tb, 5*time.Second, `location.hash`))
+	}
+	if n := eval[int](t, tb, 5*time.Second, `Object.keys(localStorage).filter((k) => k.startsWith("bellcheck.d.")).length`); n != 1 {
+		t.Errorf("%d tables in local storage, want 1", n)
+	}
+	tb.do(t, 30*time.Second, chromedp.Reload())
+	tb.waitDone(t, 0, 120*time.Second)
+	if txt := dataPanelText(t, tb); !strings.Contains(txt, "12000 values") || !strings.Contains(txt, "your saved work") {
+		t.Errorf("after a reload the data panel says %q", txt)
+	}
+	if got := tb.editorText(t); got != normalModel {
+		t.Errorf("after a reload the model is %q", got)
+	}
+	if n := eval[int](t, tb, 5*time.Second, `document.querySelectorAll("table.results tr.sec").length`); n < 2 {
+		t.Errorf("after a reload %d parameter sections, want m and s (y from the kept table)", n)
+	}
 }

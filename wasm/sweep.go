@@ -14,6 +14,7 @@ import (
 	"strconv"
 	"strings"
 	"text/tabwriter"
+	"time"
 
 	"bellcheck/engine"
 	"bellcheck/engine/model"
@@ -36,6 +37,8 @@ func runSweep(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	show := fs.String("show", defaultShow, "the quantities to print: comma-separated `PATHS` into the result's JSON (fit names may stand without fits.)")
 	steps := fs.Int("steps", 11, "the number of evenly spaced values, ends included")
 	over := fs.String("over", "", "the constant and its range: `NAME=LO:HI` (default: the one constant marked by --vary or a #@ vary line)")
+	maxTime := fs.Duration("max-time", defaultMaxTime, "refuse a sweep forecast to take longer (one analysis's forecast times --steps), and stop one that does (0: no bound)")
+	quiet := fs.Bool("quiet", false, "no progress reports on stderr")
 	var in fitInputs
 	in.define(fs)
 	if err := fs.Parse(args); err != nil {
@@ -43,6 +46,10 @@ func runSweep(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	}
 	if fs.NArg() != 1 {
 		fmt.Fprint(stderr, "bellcheck sweep: want one model file ('-' for standard input)\n"+usage)
+		return exitUsage
+	}
+	if *maxTime < 0 {
+		fmt.Fprint(stderr, "bellcheck sweep: --max-time must not be negative\n")
 		return exitUsage
 	}
 	if *steps < 2 || *steps > maxSweepSteps {
@@ -75,16 +82,56 @@ func runSweep(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	values[*steps-1] = v.Hi
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
 	defer stop()
+	est, code := sweepForecast(ctx, name, m, opts, v.Name, values, *maxTime, stderr)
+	if code != exitOK {
+		return code
+	}
+	if *maxTime > 0 {
+		var cancel context.CancelFunc
+		ctx, cancel = context.WithTimeout(ctx, *maxTime)
+		defer cancel()
+	}
+	var report engine.ProgressFunc
+	if !*quiet {
+		report = progressReporter(stderr, est, time.Now())
+	}
+	sw := sweep{file: name, m: m, opts: opts, name: v.Name, values: values, paths: paths, asJSON: *asJSON, maxTime: *maxTime, est: est, report: report}
+	return sw.run(ctx, stdout, stderr)
+}
 
+// sweep is a sweep ready to run: the model, the constant and its values,
+// the quantities to print, and the bound and forecast it runs under.
+type sweep struct {
+	file    string
+	m       *model.Model
+	opts    engine.Options
+	name    string
+	values  []float64
+	paths   []string
+	asJSON  bool
+	maxTime time.Duration
+	est     engine.Estimate
+	report  engine.ProgressFunc
+}
+
+// run analyses the model at each value and prints a row (or a JSON line)
+// per value; when ctx ends (--max-time, an interrupt) it stops with the
+// rows done so far printed.
+func (sw sweep) run(ctx context.Context, stdout, stderr io.Writer) int {
 	tw := tabwriter.NewWriter(visibleWriter{stdout}, 0, 0, 2, ' ', tabwriter.AlignRight)
-	if !*asJSON {
-		row(tw, append([]string{v.Name}, paths...)...)
+	if !sw.asJSON {
+		row(tw, append([]string{sw.name}, sw.paths...)...)
 	}
 	status := exitOK
-	for _, val := range values {
-		cells, err := sweepPoint(ctx, m, opts, v.Name, val, paths)
+	for i, val := range sw.values {
+		cells, err := sweepPoint(ctx, sw.m, sw.opts, sw.name, val, sw.paths, sweepProgress(sw.report, i, len(sw.values), sw.name, val))
 		if ctx.Err() != nil {
 			tw.Flush()
+			if errors.Is(ctx.Err(), context.DeadlineExceeded) {
+				fmt.Fprintf(stderr, "bellcheck sweep: %s: stopped after --max-time %v at %s = %s, %d of %d values done (the forecast was %v); allow more time with --max-time, use fewer values with --steps, or a coarser grid with --points\n",
+					sw.file, sw.maxTime, sw.name, num(val), i, len(sw.values), sw.est)
+				return exitModel
+			}
 			fmt.Fprintf(stderr, "bellcheck sweep: %v\n", ctx.Err())
 			return exitModel
 		}
@@ -94,11 +141,11 @@ func runSweep(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 			return exitUsage
 		}
 		if err != nil {
-			fmt.Fprintf(stderr, "bellcheck sweep: %s = %s: %v\n", v.Name, num(val), err)
+			fmt.Fprintf(stderr, "bellcheck sweep: %s = %s: %v\n", sw.name, num(val), err)
 			status = exitModel
 		}
-		if *asJSON {
-			if err := writeSweepJSON(stdout, v.Name, val, paths, cells, err); err != nil {
+		if sw.asJSON {
+			if err := writeSweepJSON(stdout, sw.name, val, sw.paths, cells, err); err != nil {
 				fmt.Fprintf(stderr, "bellcheck: %v\n", err)
 				return exitModel
 			}
@@ -152,13 +199,13 @@ func finiteNum(v float64) bool { return v == v && v-v == 0 }
 
 // sweepPoint analyses the model with the constant set to val and returns
 // the values at the paths (nil for a null).
-func sweepPoint(ctx context.Context, m *model.Model, opts engine.Options, name string, val float64, paths []string) ([]any, error) {
+func sweepPoint(ctx context.Context, m *model.Model, opts engine.Options, name string, val float64, paths []string, progress engine.ProgressFunc) ([]any, error) {
 	cells := make([]any, len(paths))
 	mv, err := model.WithConstant(m, name, val)
 	if err != nil {
 		return cells, err
 	}
-	res, err := engine.Analyse(ctx, mv, opts, nil)
+	res, err := engine.Analyse(ctx, mv, opts, progress)
 	if err != nil {
 		return cells, err
 	}

@@ -4,12 +4,18 @@ package main
 
 import (
 	"bufio"
+	"context"
 	"encoding/json"
 	"math"
+	"strconv"
 	"strings"
+	"sync"
 	"testing"
+	"time"
 
 	"bellcheck/app/ui"
+	"bellcheck/engine"
+	"bellcheck/engine/model"
 )
 
 // A sweep of a Gaussian's sd constant gives log Z = log(sd sqrt(2 pi)) at
@@ -166,5 +172,120 @@ func TestVaryLineFlagAndPageAgree(t *testing.T) {
 	}
 	if !strings.Contains(a, `"live":[{"hi":3,"lo":0.5,"name":"sd","value":1.5}]`) {
 		t.Errorf("no live constant in %s", a)
+	}
+}
+
+// A sweep forecast (one analysis's forecast times --steps) to take longer
+// than --max-time is refused at once, with the forecast and the cheaper
+// plans, as fit refuses one analysis.
+func TestSweepRefusesWorkBeyondMaxTime(t *testing.T) {
+	src := "c = 1\n" + costlyModel(2000)
+	code, stdout, stderr := runCLI(t, src, "sweep", "--max-time", "1ms", "--over", "c=0:1", "--show", "exact.log_z", "-")
+	if code != exitModel || stdout != "" {
+		t.Fatalf("exit %d, stdout %q; want exit 1 and no table", code, stdout)
+	}
+	for _, want := range []string{"the sweep would take about", "11 analyses, each about", "grid points at", "more than --max-time 1ms", "Allow it with --max-time"} {
+		if !strings.Contains(stderr, want) {
+			t.Errorf("stderr %q lacks %q", stderr, want)
+		}
+	}
+	if code, _, stderr := runCLI(t, "#@ vary c=1:2\nc = 1\n-x^2/(2*c)\n", "sweep", "--max-time", "-1s", "-"); code != exitUsage || !strings.Contains(stderr, "--max-time") {
+		t.Errorf("a negative --max-time: exit %d, %q", code, stderr)
+	}
+	// Without a bound a cheap sweep runs.
+	if code, _, stderr := runCLI(t, "#@ vary c=1:2\nc = 1\n-x^2/(2*c)\n", "sweep", "--max-time", "0", "--steps", "2", "--quiet", "-"); code != exitOK {
+		t.Errorf("--max-time 0: exit %d, %q", code, stderr)
+	}
+}
+
+// The refusal's plans: the time for all values with room to spare, the
+// most values that fit, and a grid that fits each analysis into its share
+// of the bound (engine.PointsWithin).
+func TestSweepTooLongPlans(t *testing.T) {
+	one := engine.Estimate{Points: 301 * 301, PerPoint: 10 * time.Microsecond, Total: 2 * time.Second}
+	msg := sweepTooLong("m.txt", 2, 11, one, 10*time.Second)
+	n := engine.PointsWithin(2, one.PerPoint, 10*time.Second/11)
+	for _, want := range []string{"about 22s (11 analyses", "more than --max-time 10s", "--max-time 1m0s", "--steps 5", "--points " + strconv.Itoa(n)} {
+		if !strings.Contains(msg, want) {
+			t.Errorf("message %q lacks %q", msg, want)
+		}
+	}
+	if n < 11 || n >= 301 {
+		t.Errorf("PointsWithin %d", n)
+	}
+	msg = sweepTooLong("m.txt", 4, 3, engine.Estimate{Points: 41 * 41 * 41 * 41, PerPoint: time.Millisecond, Total: time.Hour}, time.Second)
+	if strings.Contains(msg, "--steps") || !strings.Contains(msg, "no grid of this model is coarse enough") {
+		t.Errorf("message %q", msg)
+	}
+}
+
+// A sweep's progress reports are its analyses' progress placed in the
+// whole: the i-th of n at fraction f is (i + f) / n, naming the value.
+func TestSweepProgress(t *testing.T) {
+	var got []engine.Progress
+	rec := func(p engine.Progress) { got = append(got, p) }
+	sweepProgress(rec, 2, 4, "k", 1.5)(engine.Progress{Fraction: 0.5, Stage: "grid"})
+	if len(got) != 1 || got[0].Fraction != 0.625 || got[0].Stage != "k = 1.5: grid" {
+		t.Errorf("reported %+v, want 0.625 at k = 1.5: grid", got)
+	}
+	if sweepProgress(nil, 0, 1, "k", 1) != nil {
+		t.Error("--quiet should report nothing")
+	}
+}
+
+// expiringCtx is a context whose deadline passes when expire is called (a
+// --max-time that runs out at a chosen moment, without waiting for it).
+type expiringCtx struct {
+	context.Context
+	done chan struct{}
+	once sync.Once
+}
+
+func newExpiringCtx() *expiringCtx {
+	return &expiringCtx{Context: context.Background(), done: make(chan struct{})}
+}
+func (c *expiringCtx) expire()               { c.once.Do(func() { close(c.done) }) }
+func (c *expiringCtx) Done() <-chan struct{} { return c.done }
+func (c *expiringCtx) Err() error {
+	select {
+	case <-c.done:
+		return context.DeadlineExceeded
+	default:
+		return nil
+	}
+}
+
+// A sweep that runs out of --max-time during its second value stops there,
+// with the first value's row printed and a message naming where it stopped.
+func TestSweepStopsAtMaxTime(t *testing.T) {
+	m, err := model.Parse("c = 1\nparam x\n-x^2/(2*c)\n")
+	if err != nil {
+		t.Fatal(err)
+	}
+	ctx := newExpiringCtx()
+	var stages []string
+	report := func(p engine.Progress) {
+		stages = append(stages, p.Stage)
+		if strings.HasPrefix(p.Stage, "c = 2:") {
+			ctx.expire()
+		}
+	}
+	sw := sweep{file: "m.txt", m: m, name: "c", values: []float64{1, 2, 3}, paths: []string{"exact.log_z"},
+		maxTime: time.Minute, est: engine.Estimate{Points: 3, PerPoint: time.Microsecond, Total: 3 * time.Millisecond}, report: report}
+	var stdout, stderr strings.Builder
+	code := sw.run(ctx, &stdout, &stderr)
+	if code != exitModel {
+		t.Fatalf("exit %d, want 1; stderr %q", code, stderr.String())
+	}
+	rows := strings.Split(strings.TrimSpace(stdout.String()), "\n")
+	// log Z of exp(-x^2/2) is log sqrt(2 pi) = 0.91894 (closed form).
+	if len(rows) != 2 || !strings.Contains(rows[1], "0.91894") {
+		t.Errorf("rows %q, want the header and c = 1's", rows)
+	}
+	if want := "stopped after --max-time 1m0s at c = 2, 1 of 3 values done"; !strings.Contains(stderr.String(), want) {
+		t.Errorf("stderr %q lacks %q", stderr.String(), want)
+	}
+	if len(stages) == 0 || !strings.HasPrefix(stages[0], "c = 1:") {
+		t.Errorf("progress stages %q, want them named by the value", stages)
 	}
 }

@@ -33,21 +33,24 @@ func (o Options) candidateName(k int) string {
 	return "candidate"
 }
 
-// candidateCurves draws each candidate's 1-D marginal.
-func (w *svgWriter) candidateCurves(m *engine.Marginal1D, o Options, sx, sy plot.Linear, box Box, clipped bool) {
+// candidateCurves draws each candidate's 1-D marginal along the axis sx
+// (spreads are the candidates' normals along it, where known), or with
+// clipped, the marks of those that rise above the panel.
+func (w *svgWriter) candidateCurves(m *engine.Marginal1D, o Options, spreads []Spread, sx, sy plot.Linear, box Box, clipped bool) {
 	if o.HideCandidates {
 		return
 	}
-	for k, ys := range m.Candidates {
+	for k := range m.Candidates {
+		xs, ys := candidateCurve(m, k, spreadAt(spreads, k), sx.D0, sx.D1)
 		if ys == nil {
 			continue
 		}
 		s := CandidateStyle(k, o.candidateName(k))
 		if clipped {
-			w.clippedMark(m.X, transform(ys, o.Log), sx, sy, box, s)
+			w.clippedMark(xs, transform(ys, o.Log), sx, sy, box, s)
 			continue
 		}
-		w.stroke(plot.Curve(m.X, transform(ys, o.Log), sx, sy), s, "")
+		w.stroke(plot.Curve(xs, transform(ys, o.Log), sx, sy), s, "")
 	}
 }
 
@@ -76,7 +79,10 @@ func candidateTop(m *engine.Marginal1D, o Options, hi float64) float64 {
 	if !ok {
 		return hi
 	}
-	for _, ys := range m.Candidates {
+	for k, ys := range m.Candidates {
+		if s := spreadAt(o.CandidateX, k); s.known() {
+			ys = []float64{s.pdf(s.Mean)} // its peak, wherever the grid's points are
+		}
 		if _, h, ok := plot.Extent(ys); ok {
 			hi = max(hi, min(h, 2*peak)*1.06)
 		}

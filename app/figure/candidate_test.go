@@ -61,3 +61,44 @@ func TestCandidateStylesApart(t *testing.T) {
 		}
 	}
 }
+
+// A candidate far off widens a marginal's view by at most maxReach times
+// its width without candidates on that side; one that is near widens it to
+// its mean + sqrt(-2 log 0.01) sds (the projection of its outer contour,
+// closed form), beyond the grid, and is drawn there as a normal whose peak
+// 1/(sd sqrt(2 pi)) sets the density axis.
+func TestMarginalReachesCandidate(t *testing.T) {
+	m := &engine.Marginal1D{}
+	for i := 0; i <= 400; i++ {
+		x := -4 + 8*float64(i)/400
+		m.X = append(m.X, x)
+		m.Exact = append(m.Exact, normalPDF(x, 1))
+	}
+	m.Candidates = [][]float64{make([]float64, len(m.X))} // its curve on the grid: negligible
+	lo, hi := MarginalView(m, Options{})
+	if !(hi > lo) || hi > 4 {
+		t.Fatalf("view without the candidate's spread %g..%g", lo, hi)
+	}
+	far := Options{Candidates: []string{"far"}, CandidateX: []Spread{{Mean: 1000, SD: 1}}}
+	flo, fhi := MarginalView(m, far)
+	if flo != lo || math.Abs(fhi-(hi+maxReach*(hi-lo))) > 1e-9 {
+		t.Errorf("far candidate: view %g..%g, want %g..%g (capped)", flo, fhi, lo, hi+maxReach*(hi-lo))
+	}
+	near := Options{Candidates: []string{"near"}, CandidateX: []Spread{{Mean: 5, SD: 0.5}}}
+	_, nhi := MarginalView(m, near)
+	if want := 5 + 0.5*math.Sqrt(-2*math.Log(0.01)); nhi < want || nhi > want+0.1*(nhi-lo)+1e-9 {
+		t.Errorf("near candidate: view ends at %g, want %g plus the padding", nhi, want)
+	}
+	f := Marginal(m, near)
+	if f == nil {
+		t.Fatal("no figure")
+	}
+	if !strings.Contains(f.SVG, `stroke="`+CandidateStyle(0, "near").Colour+`"`) {
+		t.Error("the candidate is not drawn")
+	}
+	// Its peak 1/(0.5 sqrt(2 pi)) = 0.798 is below twice the exact peak
+	// (0.798 = 2 x 0.399): the axis reaches it.
+	if peak := normalPDF(0, 0.5); f.Y.D1 < peak {
+		t.Errorf("density axis top %g, below the candidate's peak %g", f.Y.D1, peak)
+	}
+}

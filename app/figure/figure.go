@@ -43,6 +43,10 @@ type Options struct {
 	// Result.Candidates; HideCandidates leaves them out.
 	Candidates     []string
 	HideCandidates bool
+	// CandidateX and CandidateY are the candidates' normal marginals along
+	// the x and y axes, in the same order, where known (reach.go): a plot
+	// widens to show them, beyond its grid if need be.
+	CandidateX, CandidateY []Spread
 	// PinnedMarginal and PinnedPair are an earlier result's exact density
 	// of the same parameters, drawn faintly beneath (nil for none).
 	PinnedMarginal *engine.Marginal1D

@@ -63,12 +63,12 @@ func Marginal(m *engine.Marginal1D, o Options) *Figure {
 		}
 	}
 	w.pinnedCurve(o.PinnedMarginal, o, f.X, f.Y)
-	w.candidateCurves(m, o, f.X, f.Y, f.Plot, false)
+	w.candidateCurves(m, o, o.CandidateX, f.X, f.Y, f.Plot, false)
 	if o.shown(plot.Exact) {
 		w.stroke(plot.Curve(m.X, exact, f.X, f.Y), plot.StyleOf(plot.Exact), "")
 	}
 	w.raw("</g>")
-	w.candidateCurves(m, o, f.X, f.Y, f.Plot, true)
+	w.candidateCurves(m, o, o.CandidateX, f.X, f.Y, f.Plot, true)
 	for _, meth := range plot.Fits {
 		if o.shown(meth) {
 			w.clippedMark(m.X, transform(curves[meth], o.Log), f.X, f.Y, f.Plot, plot.StyleOf(meth))
@@ -86,7 +86,9 @@ func Marginal(m *engine.Marginal1D, o Options) *Figure {
 }
 
 // MarginalView returns the range a marginal's plot shows: where the exact
-// density and the shown fits hold their mass, padded, within the grid.
+// density and the shown fits hold their mass, padded, within the grid;
+// widened to show the candidates (beyond the grid where their spread,
+// o.CandidateX, is known; see reach.go).
 func MarginalView(m *engine.Marginal1D, o Options) (lo, hi float64) {
 	if len(m.X) < 2 {
 		return 0, 0
@@ -98,7 +100,8 @@ func MarginalView(m *engine.Marginal1D, o Options) (lo, hi float64) {
 			fits = append(fits, curves[meth])
 		}
 	}
-	return viewOf(m.X, curves[plot.Exact], fits)
+	lo, hi = viewOf(m.X, curves[plot.Exact], fits)
+	return candidateReach(m, o, lo, hi)
 }
 
 // area fills the region under a curve down to base, in the exact method's

@@ -40,16 +40,9 @@ func Pair(p *engine.Marginal2D, mx, my *engine.Marginal1D, o Options) *Figure {
 	if !(p.X[nx-1] > p.X[0]) || !(p.Y[ny-1] > p.Y[0]) {
 		return nil
 	}
-	// The view: where the exact mass and the shown fits' 99 % contours are.
-	ex, ey := pairMarginals(nx, ny, p.Density)
-	xlo, xhi := viewOf(p.X, ex, nil)
-	ylo, yhi := viewOf(p.Y, ey, nil)
-	for _, meth := range plot.Fits {
-		if lines, ok := ellipsesOf(p, meth); ok && o.shown(meth) {
-			xlo, xhi = extendByPolylines(xlo, xhi, p.X[0], p.X[nx-1], 0, lines[2:])
-			ylo, yhi = extendByPolylines(ylo, yhi, p.Y[0], p.Y[ny-1], 1, lines[2:])
-		}
-	}
+	// The view: where the exact mass and the shown fits' 99 % contours
+	// are, widened for the candidates' (reach.go).
+	xlo, xhi, ylo, yhi, _ := PairView(p, o)
 	if fixed(o.XView) {
 		xlo, xhi = o.XView[0], o.XView[1]
 	}
@@ -134,8 +127,8 @@ func Pair(p *engine.Marginal2D, mx, my *engine.Marginal1D, o Options) *Figure {
 	if edges {
 		top := Box{X0: f.Plot.X0, Y0: 10, X1: f.Plot.X1, Y1: f.Plot.Y0 - 8}
 		right := Box{X0: f.Plot.X1 + 8, Y0: f.Plot.Y0, X1: f.W - 10, Y1: f.Plot.Y1}
-		w.edgeMarginal(mx, top, f.X, false, o)
-		w.edgeMarginal(my, right, f.Y, true, o)
+		w.edgeMarginal(mx, top, f.X, false, o, o.CandidateX)
+		w.edgeMarginal(my, right, f.Y, true, o, o.CandidateY)
 		w.colourBar(o.ID+"-key", Box{X0: right.X0 + 22, Y0: top.Y0 + 4, X1: right.X0 + 32, Y1: top.Y1 - 4})
 	}
 	w.close()
@@ -146,7 +139,8 @@ func Pair(p *engine.Marginal2D, mx, my *engine.Marginal1D, o Options) *Figure {
 // edgeMarginal draws a 1-D marginal in a strip beside the heat map, sharing
 // the heat map's scale along the strip; rotated strips run up the right
 // edge with density increasing to the right.
-func (w *svgWriter) edgeMarginal(m *engine.Marginal1D, box Box, along plot.Linear, rotated bool, o Options) {
+// spreads are the candidates' normals along the strip, where known.
+func (w *svgWriter) edgeMarginal(m *engine.Marginal1D, box Box, along plot.Linear, rotated bool, o Options, spreads []Spread) {
 	curves := Curves(m)
 	_, peak, ok := plot.Extent(curves[plot.Exact])
 	if !ok || !(peak > 0) {
@@ -158,7 +152,10 @@ func (w *svgWriter) edgeMarginal(m *engine.Marginal1D, box Box, along plot.Linea
 			top = math.Max(top, math.Min(h, 1.6*peak))
 		}
 	}
-	for _, ys := range m.Candidates {
+	cands := make([][2][]float64, len(m.Candidates))
+	for k := range m.Candidates {
+		xs, ys := candidateCurve(m, k, spreadAt(spreads, k), math.Min(along.D0, along.D1), math.Max(along.D0, along.D1))
+		cands[k] = [2][]float64{xs, ys}
 		if _, h, ok := plot.Extent(ys); ok && !o.HideCandidates {
 			top = math.Max(top, math.Min(h, 1.6*peak))
 		}
@@ -169,19 +166,19 @@ func (w *svgWriter) edgeMarginal(m *engine.Marginal1D, box Box, along plot.Linea
 	} else {
 		across = plot.Linear{D0: 0, D1: top, R0: box.Y1, R1: box.Y0}
 	}
-	draw := func(ys []float64, s plot.Style) {
+	draw := func(xs, ys []float64, s plot.Style) {
 		var p plot.Path
-		for i := range min(len(m.X), len(ys)) {
+		for i := range min(len(xs), len(ys)) {
 			y := ys[i]
-			if math.IsNaN(y) || math.IsInf(y, 0) || m.X[i] < along.D0 || m.X[i] > along.D1 {
+			if math.IsNaN(y) || math.IsInf(y, 0) || xs[i] < along.D0 || xs[i] > along.D1 {
 				p.Lift()
 				continue
 			}
 			d := across.At(math.Min(y, top))
 			if rotated {
-				p.LineTo(d, along.At(m.X[i]))
+				p.LineTo(d, along.At(xs[i]))
 			} else {
-				p.LineTo(along.At(m.X[i]), d)
+				p.LineTo(along.At(xs[i]), d)
 			}
 		}
 		s.Width *= 0.8
@@ -194,18 +191,18 @@ func (w *svgWriter) edgeMarginal(m *engine.Marginal1D, box Box, along plot.Linea
 	}
 	for _, meth := range plot.Fits {
 		if o.shown(meth) && curves[meth] != nil {
-			draw(curves[meth], plot.StyleOf(meth))
+			draw(m.X, curves[meth], plot.StyleOf(meth))
 		}
 	}
 	if !o.HideCandidates {
-		for k, ys := range m.Candidates {
-			if ys != nil {
-				draw(ys, CandidateStyle(k, o.candidateName(k)))
+		for k, c := range cands {
+			if c[1] != nil {
+				draw(c[0], c[1], CandidateStyle(k, o.candidateName(k)))
 			}
 		}
 	}
 	if o.shown(plot.Exact) {
-		draw(curves[plot.Exact], plot.StyleOf(plot.Exact))
+		draw(m.X, curves[plot.Exact], plot.StyleOf(plot.Exact))
 	}
 }
 
@@ -246,21 +243,28 @@ func HeatMap(p *engine.Marginal2D, width, height int, x0, x1, y0, y1 float64) *H
 		}
 		return v
 	}
-	// Fractional grid index of each pixel column and row.
+	// Fractional grid index of each pixel column and row; a pixel beyond
+	// the grid (a view widened for a candidate) has no density.
 	fx := make([]float64, width)
+	outX := make([]bool, width)
 	for i := range fx {
 		x := x0 + (float64(i)+0.5)/float64(width)*(x1-x0)
 		fx[i] = fracIndex(p.X, x)
+		outX[i] = x < p.X[0] || x > p.X[nx-1]
 	}
 	for row := range height {
 		y := y1 - (float64(row)+0.5)/float64(height)*(y1-y0)
 		fy := fracIndex(p.Y, y)
+		outY := y < p.Y[0] || y > p.Y[ny-1]
 		iy := min(int(fy), ny-2)
 		ty := fy - float64(iy)
 		for col := range width {
 			ix := min(int(fx[col]), nx-2)
 			tx := fx[col] - float64(ix)
 			v := (1-ty)*((1-tx)*at(ix, iy)+tx*at(ix+1, iy)) + ty*((1-tx)*at(ix, iy+1)+tx*at(ix+1, iy+1))
+			if outY || outX[col] {
+				v = 0
+			}
 			k := 0
 			if peak > 0 {
 				k = int(math.Round(v / peak * 255))

@@ -35,6 +35,8 @@ const (
 	MaxData = 64 << 10
 	// MaxPoints bounds a parameter's grid points in a link.
 	MaxPoints = 4001
+	// MaxConstants bounds the live constants' values in a link.
+	MaxConstants = 64
 )
 
 // Errors returned by Decode.
@@ -72,6 +74,16 @@ type State struct {
 	// Data is the attached data table as CSV ("" for none), at most
 	// MaxData bytes.
 	Data string `json:"d,omitempty"`
+	// DataLeft, when the attached table was too large for the link, is
+	// its digest (lower-case hex, as the page's saved work names it): the
+	// browser that made the link finds the table in its saved work; any
+	// other says that it is missing.
+	DataLeft string `json:"dl,omitempty"`
+	// Constants are the values the sliders set for the model's live
+	// constants (those a #@ vary line marks), by name; nil where every
+	// constant has the value the text gives. Links made before it existed
+	// have none and still open.
+	Constants map[string]float64 `json:"c,omitempty"`
 }
 
 // Encode returns the fragment (without '#') for s.
@@ -159,6 +171,23 @@ func validate(s State) error {
 	}
 	if len(s.Data) > MaxData {
 		return fmt.Errorf("attached data of %d bytes exceeds %d", len(s.Data), MaxData)
+	}
+	if len(s.DataLeft) > 64 || strings.Trim(s.DataLeft, "0123456789abcdef") != "" {
+		return errors.New("the digest of the data left out is not lower-case hex of at most 64 digits")
+	}
+	if s.DataLeft != "" && s.Data != "" {
+		return errors.New("the link both carries its data and leaves it out")
+	}
+	if len(s.Constants) > MaxConstants {
+		return fmt.Errorf("%d constants' values, at most %d", len(s.Constants), MaxConstants)
+	}
+	for name, v := range s.Constants {
+		if p := model.NameProblem(name); p != "" {
+			return fmt.Errorf("constant %q: the name %s", name, p)
+		}
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return fmt.Errorf("constant %s: the value is not a finite number", name)
+		}
 	}
 	if len(s.Params) > model.MaxParams {
 		return fmt.Errorf("%d parameter settings, at most %d", len(s.Params), model.MaxParams)

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"compress/flate"
 	"encoding/base64"
+	"encoding/json"
 	"errors"
 	"reflect"
 	"strconv"
@@ -27,6 +28,7 @@ func TestRoundTrip(t *testing.T) {
 		{Model: "<script>alert(1)</script>\n\"'&"},
 		{Model: strings.Repeat("-x^2/2 + 0.001*x\n", 3000)},
 		{Model: "param m\nsum(ld_normal(y, m, 1))", Data: "y\n1.5\n-2\n3e-07\n"},
+		{Model: "param m\nsum(ld_normal(y, m, 1))", DataLeft: "0123456789abcdef01234567"},
 	}
 	for i, want := range cases {
 		frag, err := Encode(want)
@@ -173,5 +175,50 @@ func TestDataInLinks(t *testing.T) {
 	}
 	if _, err := Decode(frag); !errors.Is(err, ErrBadContent) {
 		t.Errorf("Decode of a link with %d bytes of data: %v, want ErrBadContent", len(st.Data), err)
+	}
+}
+
+// A link keeps the sliders' values of the live constants; a link made
+// before they were kept (this fragment was written by the earlier format's
+// encoder, with no constants) still opens, with none.
+func TestConstantsInLinks(t *testing.T) {
+	want := State{Model: "#@ vary k=0.5:3\nk = 1.5\nparam a\n-k*a^2/2", Constants: map[string]float64{"k": 2.25, "tau_2": -1e-9}}
+	frag, err := Encode(want)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got, err := Decode(frag)
+	if err != nil || !reflect.DeepEqual(got, want) {
+		t.Fatalf("round trip: %+v, %v", got, err)
+	}
+	const old = "b1.BMBRCgIhEAbgqwx_b7Ftq-HLgNA9smAeIsIcxUwI8e77DSQwDlfqUv8U_bY6vgSN5MmsLmiRKokk6Cke5WHPFgsK-DZQ8lvbF2w3M-8LOnjgk1_gVn_POfcAAAD__w"
+	st, err := Decode(old)
+	if err != nil {
+		t.Fatalf("an earlier link no longer opens: %v", err)
+	}
+	if st.Model != "#@ vary k=0.5:3\nk = 1.5\nparam a\n-k*a^2/2" || st.Constants != nil || !st.View.LogScale || len(st.Params) != 1 || st.Params[0].Points != 201 {
+		t.Errorf("the earlier link decodes to %+v", st)
+	}
+	for _, bad := range []string{
+		`{"m":"x","c":{"2k":1}}`,           // not a name
+		`{"m":"x","c":{"":1}}`,             // empty name
+		`{"m":"x","c":{"k":1e999}}`,        // not a finite number
+		`{"m":"x","c":{"k":"1"}}`,          // not a number
+		`{"m":"x","c":[["k",1]]}`,          // not an object
+		`{"m":"x","dl":"ABC"}`,             // not lower-case hex
+		`{"m":"x","dl":"../x"}`,            // not hex
+		`{"m":"x","d":"y\n1\n","dl":"ab"}`, // carries and leaves out its data
+	} {
+		if _, err := Decode("b1." + deflateB64(t, []byte(bad))); !errors.Is(err, ErrBadContent) {
+			t.Errorf("%s: %v, want ErrBadContent", bad, err)
+		}
+	}
+	many := map[string]float64{}
+	for i := range MaxConstants + 1 {
+		many["c"+strconv.Itoa(i)] = 1
+	}
+	raw, _ := json.Marshal(State{Model: "x", Constants: many})
+	if _, err := Decode("b1." + deflateB64(t, raw)); !errors.Is(err, ErrBadContent) {
+		t.Errorf("%d constants: %v, want ErrBadContent", len(many), err)
 	}
 }

@@ -1,6 +1,8 @@
 package ui
 
 import (
+	"strconv"
+
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
 
 	"bellcheck/app/figure"
@@ -35,63 +37,29 @@ func candidateLegend(r *engine.Result) []app.UI {
 	return items
 }
 
-// CandidateTable scores the user's own Gaussians against the exact density
-// with the same quantities as the fits' columns of the results table.
-type CandidateTable struct {
-	app.Compo
-	Result *engine.Result
-	Stale  bool
+// candClass is the class of the k-th of n candidates' cells: tinted, the
+// first and the last set off from their neighbours.
+func candClass(k, n int) string {
+	cls := "cand"
+	if k == 0 {
+		cls += " cand-first"
+	}
+	if k == n-1 {
+		cls += " cand-last"
+	}
+	return cls
 }
 
-// Render draws one column per candidate.
-func (t *CandidateTable) Render() app.UI {
-	r := t.Result
-	if r == nil || len(r.Candidates) == 0 {
-		return app.P().Class("muted").Text("No Gaussians of your own: add a line such as #@ gaussian mine mean.x=0 sd.x=1 to the model.")
-	}
-	head := []app.UI{app.Th().Scope("col").Class("rlabel").Text("")}
-	head = append(head, app.Th().Scope("col").Class("mcol").Text("exact"))
-	for k, c := range r.Candidates {
-		head = append(head, app.Th().Scope("col").Class("mcol cand-col").Body(candidateSwatch(k), app.Span().Text(c.Name)))
-	}
-	var rows []app.UI
-	row := func(label, hint, exact string, cell func(f *engine.Fit) string) {
-		cells := []app.UI{app.Th().Scope("row").Class("rlabel").Title(hint).Text(label), app.Td().Class("num").Text(exact)}
-		for _, c := range r.Candidates {
-			v := "—"
-			if c.Fit != nil {
-				v = cell(c.Fit)
-			}
-			cells = append(cells, app.Td().Class("num").Text(v))
-		}
-		rows = append(rows, app.Tr().Body(cells...))
-	}
-	for i, p := range r.Params {
-		exMean, exSD := at(r.Exact.Mean, i), at(r.Exact.SD, i)
-		row("mean "+p, "The candidate's mean; below, its distance from the exact mean in exact sds.", fmtScaled(exMean, exSD),
-			func(f *engine.Fit) string {
-				return fmtScaled(at(f.Mean, i), exSD) + " (" + fmtSigned(at(f.MeanErrSD, i), 2) + " sd)"
-			})
-		row("sd "+p, "The candidate's sd and its ratio to the exact sd.", fmtNum(exSD),
-			func(f *engine.Fit) string { return fmtNum(at(f.SD, i)) + " (×" + fmtNum(at(f.SDRatio, i)) + ")" })
-	}
-	row("KL(q‖p)", "KL divergence of the candidate q from the exact density p, on the grid.", "0",
-		func(f *engine.Fit) string { return fmtNum(f.KLqp) })
-	row("KL(p‖q)", "KL divergence of the exact density p from the candidate q, on the grid.", "0",
-		func(f *engine.Fit) string { return fmtNum(f.KLpq) })
-	row("Hellinger", "Hellinger distance between the candidate and the exact density.", "0",
-		func(f *engine.Fit) string { return fmtNum(f.Hellinger) })
-	row("95 % coverage", "Exact mass inside the candidate's central 95 % region.", "95 %",
-		func(f *engine.Fit) string { return fmtPercent(f.Coverage95) })
-	cls := "table-scroll"
-	if t.Stale {
-		cls += " stale"
-	}
-	return app.Div().Class(cls).Body(app.Table().ID("bc-cand-table").Class("results cand-table").Body(
-		app.Caption().Class("sr-only").Text("Your Gaussians scored against the exact density"),
-		app.THead().Body(app.Tr().Body(head...)),
-		app.TBody().Body(rows...),
-	))
+// candidateHead is the results table's column head of the k-th of n
+// candidates.
+func candidateHead(k, n int, name string) app.UI {
+	return app.Th().Scope("col").Class("mcol cand-col "+candClass(k, n)).Title("your Gaussian "+name+": scored like the fits, not ranked among them").Body(
+		candidateSwatch(k), app.Span().Class("mname").Text(name))
+}
+
+// candidateCell is the k-th of n candidates' cell of the results table.
+func candidateCell(k, n int, c Cell) app.UI {
+	return cell(c, candClass(k, n))
 }
 
 // shownResult is the result a Shown holds (nil for none).
@@ -100,4 +68,64 @@ func shownResult(s *Shown) *engine.Result {
 		return nil
 	}
 	return s.Result
+}
+
+// candidateKey is the table key's sentence on the candidates' columns ("" without them).
+func candidateKey(n int) app.UI {
+	if n == 0 {
+		return app.Text("")
+	}
+	if n == 1 {
+		return app.Text(" The tinted column after the exact one: your own Gaussian (a #@ gaussian line), scored like the fits and not ranked among them.")
+	}
+	return app.Text(" The " + strconv.Itoa(n) + " tinted columns after the exact one: your own Gaussians (#@ gaussian lines), scored like the fits and not ranked among them.")
+}
+
+// candidateSpreads returns each candidate's normal marginal of parameter i
+// (original scale), for the plots to widen to it; a zero Spread where the
+// parameter is fitted on a log or logit scale (the candidate is no normal
+// there) or the candidate was not scored. nil for i < 0 or no candidates.
+func candidateSpreads(r *engine.Result, i int) []figure.Spread {
+	if r == nil || i < 0 || len(r.Candidates) == 0 {
+		return nil
+	}
+	if i < len(r.Scales) && !r.Scales[i].IsIdentity() {
+		return nil
+	}
+	out := make([]figure.Spread, len(r.Candidates))
+	for k, c := range r.Candidates {
+		if c.Fit != nil && i < len(c.Fit.Mean) && i < len(c.Fit.SD) {
+			out[k] = figure.Spread{Mean: c.Fit.Mean[i], SD: c.Fit.SD[i]}
+		}
+	}
+	return out
+}
+
+// widenForPairs widens each parameter's range in a grid of plots (3 or 4
+// parameters) to hold the candidates' outer contours in every pair it is
+// part of, so that the grid's shared ranges show them.
+func widenForPairs(views [][2]float64, r *engine.Result, v View) {
+	if len(r.Candidates) == 0 || r.Plots == nil {
+		return
+	}
+	for k := range r.Plots.Pairs {
+		p := &r.Plots.Pairs[k]
+		if p.I >= len(views) || p.J >= len(views) {
+			continue
+		}
+		xlo, xhi, ylo, yhi, ok := figure.PairView(p, figure.Options{Hidden: v.Hidden})
+		if !ok {
+			continue
+		}
+		views[p.I] = union(views[p.I], xlo, xhi)
+		views[p.J] = union(views[p.J], ylo, yhi)
+	}
+}
+
+// union returns the range holding v (unless it is unset) and [lo, hi].
+func union(v [2]float64, lo, hi float64) [2]float64 {
+	if !(v[1] > v[0]) {
+		return [2]float64{lo, hi}
+	}
+	return [2]float64{min(v[0], lo), max(v[1], hi)}
 }

@@ -50,6 +50,9 @@ type DataView struct {
 	InLink   bool
 	// ToText reports whether the table fits into the model text.
 	ToText bool
+	// Kept says whether the saved work keeps a table too large for a
+	// link (a sentence; "" for a table a link carries).
+	Kept string
 	// Problem is the last paste's or file's error, for a person (data's
 	// Detail: the line, a caret, the hint).
 	Problem string
@@ -79,8 +82,7 @@ func (d *DataPanel) Render() app.UI {
 		}
 		link := "The link and the saved work carry it."
 		if !v.InLink {
-			link = "It is " + kib(v.CSVBytes) + " as CSV, more than the " + kib(share.MaxData) +
-				" a link carries: links hold the model without it (keep the file to attach it again)."
+			link = "It is " + kib(v.CSVBytes) + " as CSV, more than the " + kib(share.MaxData) + " a link carries: links hold the model without it. " + v.Kept
 		}
 		body = append(body,
 			app.P().Class("data-source").Body(app.Text("Attached from "), app.Strong().Text(v.Source),
@@ -146,7 +148,11 @@ func kib(n int) string {
 type attached struct {
 	source  string
 	csv     string // the table as stored: data.Table.CSV
+	digest  string // digestOf(csv): its name in the saved work (keptdata.go)
 	problem string
+	// notKept reports that the saved work could not keep a table too
+	// large for a link (the storage was full).
+	notKept bool
 }
 
 // dataView is what the data panel shows now.
@@ -158,6 +164,7 @@ func (p *Page) dataView() DataView {
 		}
 		v.CSVBytes = len(p.data.csv)
 		v.InLink = len(p.data.csv) <= share.MaxData
+		v.Kept = keptSentence(len(p.data.csv), p.data.notKept)
 		v.ToText = len(p.text)+len(tb.Definitions())+1 <= model.MaxSource
 	}
 	return v
@@ -194,7 +201,8 @@ func (p *Page) setData(tb *data.Table, source string) {
 	p.s.Data = tb
 	p.data = attached{}
 	if tb != nil {
-		p.data = attached{source: source, csv: tb.CSV()}
+		csv := tb.CSV()
+		p.data = attached{source: source, csv: csv, digest: digestOf(csv)}
 	}
 }
 
@@ -230,8 +238,24 @@ func (p *Page) linkData() string {
 	return p.data.csv
 }
 
-// openData attaches the CSV a link or saved work carries ("" for none).
-func (p *Page) openData(csv string) {
+// openData attaches the table a link or saved work carries: its CSV, or
+// one it names as too large for a link, found in the saved work of this
+// browser (never in the embed view, which leaves the saved work alone).
+func (p *Page) openData(st share.State) {
+	csv, source := st.Data, "the link"
+	if csv == "" && st.DataLeft != "" {
+		kept, ok := "", false
+		if p.browser != nil && !p.mode.Embed {
+			kept, ok = p.browser.Load(DataPrefix + st.DataLeft)
+		}
+		if !ok {
+			p.setData(nil, "")
+			p.data.problem = "The model came with attached data too large for a link (over " + kib(share.MaxData) +
+				"), and this browser does not keep it: attach the file again."
+			return
+		}
+		csv, source = kept, "your saved work"
+	}
 	if csv == "" {
 		p.setData(nil, "")
 		return
@@ -242,7 +266,7 @@ func (p *Page) openData(csv string) {
 		p.data.problem = "The data the link carries could not be read: " + err.Error()
 		return
 	}
-	p.setData(tb, "the link")
+	p.setData(tb, source)
 }
 
 // watchDrops makes the whole page a drop target for data files.
@@ -254,4 +278,25 @@ func (p *Page) watchDrops(ctx app.Context) {
 		}
 		c.Dispatch(func(ctx app.Context) { p.AttachData(ctx, name, text, err) })
 	})
+}
+
+// keptSentence says whether the saved work keeps a table of n bytes of
+// CSV that a link does not carry.
+func keptSentence(n int, notKept bool) string {
+	switch {
+	case n > MaxKeptData:
+		return "It is also more than the " + kib(MaxKeptData) + " the browser keeps with your saved work: keep the file to attach it again."
+	case notKept:
+		return "The browser's storage is full, so your saved work holds the model without it: keep the file, or remove models from your history."
+	}
+	return "Your saved work in this browser keeps it (up to " + kib(MaxKeptData) + "): a reload, your history or the link opened here brings it back; elsewhere, attach the file again."
+}
+
+// record saves st (whose link fragment is frag) in the history, with the
+// whole attached table, and notes whether a table too large for a link was
+// kept.
+func (p *Page) record(st share.State, frag string) {
+	st.Data, st.DataLeft = p.data.csv, ""
+	err := p.hist().Record(st, frag)
+	p.data.notKept = errors.Is(err, ErrDataNotKept)
 }

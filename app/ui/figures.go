@@ -2,6 +2,7 @@ package ui
 
 import (
 	"math"
+	"slices"
 	"strconv"
 
 	"bellcheck/app/figure"
@@ -79,7 +80,8 @@ func BuildFigures(r *engine.Result, v View) *FigureSet {
 		return nil
 	}
 	opts := func(id string, compact bool, x, y string) figure.Options {
-		o := figure.Options{ID: id, Log: v.Log, Hidden: v.Hidden, Compact: compact, XLabel: x, YLabel: y, Candidates: candidateNames(r)}
+		o := figure.Options{ID: id, Log: v.Log, Hidden: v.Hidden, Compact: compact, XLabel: x, YLabel: y, Candidates: candidateNames(r),
+			CandidateX: candidateSpreads(r, slices.Index(r.Params, x)), CandidateY: candidateSpreads(r, slices.Index(r.Params, y))}
 		v.Hold.apply(&o, r.Params, x, y)
 		pinInto(&o, v.Pin, r.Params, x, y)
 		return o
@@ -103,15 +105,17 @@ func BuildFigures(r *engine.Result, v View) *FigureSet {
 		views := make([][2]float64, d)
 		for i := range d {
 			if m := marg(i); m != nil {
-				lo, hi := figure.MarginalView(m, figure.Options{Hidden: v.Hidden})
+				lo, hi := figure.MarginalView(m, figure.Options{Hidden: v.Hidden, CandidateX: candidateSpreads(r, i)})
 				views[i] = [2]float64{lo, hi}
-				if v.Hold.fits(r.Params) {
-					views[i] = v.Hold.Ranges[i]
-				}
 			}
 		}
+		widenForPairs(views, r, v)
+		if v.Hold.fits(r.Params) {
+			copy(views, v.Hold.Ranges)
+		}
 		opts = func(id string, compact bool, x, y string) figure.Options {
-			o := figure.Options{ID: id, Log: v.Log, Hidden: v.Hidden, Compact: compact, XLabel: x, YLabel: y, Candidates: candidateNames(r)}
+			o := figure.Options{ID: id, Log: v.Log, Hidden: v.Hidden, Compact: compact, XLabel: x, YLabel: y, Candidates: candidateNames(r),
+				CandidateX: candidateSpreads(r, slices.Index(r.Params, x)), CandidateY: candidateSpreads(r, slices.Index(r.Params, y))}
 			for i, n := range r.Params {
 				if n == x {
 					o.XView = views[i]

@@ -39,13 +39,20 @@ type Entry struct {
 
 	raw string // the stored value
 	tab string // the tab that wrote it
+	// dataKey is the key of the entry's table where it is kept under its
+	// own (keptdata.go), digest the table's digest ("" for none).
+	dataKey, digest string
 }
+
+// work is what makes the entry the user's work (see workOf).
+func (e Entry) work() string { return workKey(e.State, e.digest) }
 
 // storedEntry is an entry's value in local storage.
 type storedEntry struct {
 	At   int64  `json:"at"`            // Unix milliseconds
 	Frag string `json:"f"`             // share fragment
 	Tab  string `json:"tab,omitempty"` // the tab that wrote it (Browser.TabID)
+	Data string `json:"d,omitempty"`   // the key of its table, kept apart (keptdata.go)
 }
 
 // History keeps the user's own models in the browser's local storage:
@@ -73,6 +80,8 @@ type History struct {
 	Now func() time.Time
 	// cache is the entries as last read, newest first.
 	cache []Entry
+	// lastCSV and lastDigest are the table last saved and its digest.
+	lastCSV, lastDigest string
 }
 
 // NewHistory returns the history kept in b. The first Record after it (or
@@ -84,10 +93,23 @@ func NewHistory(b Browser) *History {
 	return h
 }
 
-// workOf is what makes a state the user's work: the model text and the
-// options (not the view).
-func workOf(st share.State) string {
-	raw, _ := json.Marshal(share.State{Model: st.Model, Params: st.Params})
+// workOf is what makes a state the user's work: the model text, the
+// options, the live constants' values and the attached table (not the
+// view).
+func workOf(st share.State) string { return workKey(st, stateDigest(st)) }
+
+// stateDigest is the digest of a state's table: of the table it carries,
+// or the one it names as left out.
+func stateDigest(st share.State) string {
+	if st.Data != "" {
+		return digestOf(st.Data)
+	}
+	return st.DataLeft
+}
+
+// workKey is workOf for a state whose table has the given digest.
+func workKey(st share.State, digest string) string {
+	raw, _ := json.Marshal(share.State{Model: st.Model, Params: st.Params, Constants: st.Constants, Data: digest})
 	return string(raw)
 }
 
@@ -101,16 +123,20 @@ func (h *History) Loaded() {
 
 // Record saves st (whose fragment is frag) in the current entry when it is
 // the user's work: it differs from the state last loaded, or continues an
-// entry. It returns an error when the storage refused even after the
-// oldest entries were dropped.
+// entry. st.Data is the whole attached table: one too large for frag (over
+// share.MaxData) and within MaxKeptData is kept under its own key. It
+// returns an error when the storage refused even after the oldest entries
+// were dropped, and ErrDataNotKept when the entry was saved without its
+// table.
 func (h *History) Record(st share.State, frag string) error {
-	w := workOf(st)
+	digest := h.digest(st.Data)
+	w := workKey(st, digest)
 	if h.pending {
 		h.pending = false
 		h.base = w
 		h.key, h.last = "", ""
 		for _, e := range h.cache { // newest first
-			if workOf(e.State) == w && e.tab == h.tab {
+			if e.work() == w && e.tab == h.tab {
 				h.key, h.last = e.Key, e.raw
 				break
 			}
@@ -129,7 +155,13 @@ func (h *History) Record(st share.State, frag string) error {
 	if fresh {
 		h.key = HistoryPrefix + newEntryID()
 	}
-	raw, err := json.Marshal(storedEntry{At: h.Now().UnixMilli(), Frag: frag, Tab: h.tab})
+	se := storedEntry{At: h.Now().UnixMilli(), Frag: frag, Tab: h.tab}
+	var dataErr error
+	if keptSeparately(st.Data) {
+		se.Data, dataErr = h.saveData(st.Data, digest)
+	}
+	defer collectData(h.b)
+	raw, err := json.Marshal(se)
 	if err != nil {
 		return err
 	}
@@ -152,7 +184,7 @@ func (h *History) Record(st share.State, frag string) error {
 		for len(h.cache) > MaxHistory && h.dropOldest() {
 		}
 	}
-	return nil
+	return dataErr
 }
 
 // dropOldest removes the oldest entry other than the current one; it
@@ -162,6 +194,7 @@ func (h *History) dropOldest() bool {
 	for i := len(all) - 1; i >= 0; i-- {
 		if all[i].Key != h.key {
 			h.b.Remove(all[i].Key)
+			collectData(h.b)
 			h.Refresh()
 			return true
 		}
@@ -175,6 +208,7 @@ func (h *History) Remove(key string) {
 		return
 	}
 	h.b.Remove(key)
+	collectData(h.b)
 	if key == h.key {
 		h.key, h.last = "", ""
 		h.base = "" // the state shown is the user's again on the next edit
@@ -221,7 +255,11 @@ func readEntries(b Browser) []Entry {
 		if err != nil {
 			continue
 		}
-		out = append(out, Entry{Key: k, At: time.UnixMilli(se.At), State: st, raw: raw, tab: se.Tab})
+		e := Entry{Key: k, At: time.UnixMilli(se.At), State: st, raw: raw, tab: se.Tab, digest: stateDigest(st)}
+		if strings.HasPrefix(se.Data, DataPrefix) && st.Data == "" {
+			e.dataKey, e.digest = se.Data, strings.TrimPrefix(se.Data, DataPrefix)
+		}
+		out = append(out, e)
 	}
 	sort.SliceStable(out, func(i, j int) bool {
 		if !out[i].At.Equal(out[j].At) {
@@ -237,7 +275,7 @@ func dedupe(all []Entry) []Entry {
 	seen := map[string]bool{}
 	var out []Entry
 	for _, e := range all {
-		w := workOf(e.State)
+		w := e.work()
 		if seen[w] {
 			continue
 		}
@@ -252,7 +290,7 @@ func dedupe(all []Entry) []Entry {
 func importLegacy(b Browser, now time.Time) {
 	have := map[string]bool{}
 	for _, e := range readEntries(b) {
-		have[workOf(e.State)] = true
+		have[e.work()] = true
 	}
 	for i, k := range []string{EarlierKey, WorkKey} {
 		raw, ok := b.Load(k)
@@ -298,4 +336,14 @@ func shorten(s string, n int) string {
 		return s
 	}
 	return string(r[:n-1]) + "…"
+}
+
+// loadStored reads the stored entry under key k.
+func loadStored(b Browser, k string) (storedEntry, bool) {
+	var se storedEntry
+	raw, ok := b.Load(k)
+	if !ok || json.Unmarshal([]byte(raw), &se) != nil {
+		return se, false
+	}
+	return se, true
 }

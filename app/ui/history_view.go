@@ -44,7 +44,7 @@ func (p *Page) RestoreHistory(ctx app.Context, key string) {
 		return
 	}
 	cur := p.shareState()
-	p.loadLink(ctx, e.State)
+	p.loadLink(ctx, h.WithData(e))
 	p.notice = Notice{Text: "Opened a model from your history.", Action: "Back to the model before", Offer: &cur}
 }
 

@@ -22,7 +22,7 @@ func LinkProblems(st share.State) []string {
 	for _, p := range engine.CheckOptions(m, engine.Options{Params: st.Params}) {
 		out = append(out, model.Visible(p.Error()))
 	}
-	return out
+	return append(out, constantProblems(st)...) // live.go
 }
 
 // usableOptions returns the link's options with every option the engine

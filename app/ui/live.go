@@ -1,6 +1,7 @@
 package ui
 
 import (
+	"maps"
 	"math"
 	"slices"
 	"strconv"
@@ -10,7 +11,9 @@ import (
 	"bellcheck/app/figure"
 	"bellcheck/app/jsdom"
 	"bellcheck/app/plot"
+	"bellcheck/app/share"
 	"bellcheck/engine"
+	"bellcheck/engine/data"
 	"bellcheck/engine/model"
 )
 
@@ -230,8 +233,45 @@ func (p *Page) SetConstant(ctx app.Context, i int, v float64) {
 		p.s.Constants = map[string]float64{}
 	}
 	p.s.Constants[items[i].Name] = v
+	p.persistSoon(ctx) // the link and the saved work keep the value (once the sliding pauses)
 	if p.s.Model != nil && !p.pending {
 		p.start(ctx)
+	}
+}
+
+// movedConstants returns the values the sliders set for the model's live
+// constants, by name, for a link and the saved work (nil for none).
+func (s *Session) movedConstants() map[string]float64 {
+	var out map[string]float64
+	for _, v := range s.File.Vary {
+		if x, ok := s.Constants[v.Name]; ok {
+			if out == nil {
+				out = map[string]float64{}
+			}
+			out[v.Name] = x
+		}
+	}
+	return out
+}
+
+// restoreConstants sets the live constants' values a link or the saved
+// work carries, after its text was checked: only those of constants the
+// text marks to vary, within their ranges (a value outside is brought to
+// the nearer end, as the slider would show it).
+func (s *Session) restoreConstants(vals map[string]float64) {
+	s.Constants = nil
+	if s.Model == nil {
+		return
+	}
+	for _, v := range s.File.Vary {
+		x, ok := vals[v.Name]
+		if !ok || math.IsNaN(x) {
+			continue
+		}
+		if s.Constants == nil {
+			s.Constants = map[string]float64{}
+		}
+		s.Constants[v.Name] = math.Max(v.Lo, math.Min(v.Hi, x))
 	}
 }
 
@@ -280,3 +320,39 @@ func (p *Page) PinResult(ctx app.Context, on bool) {
 	}
 	p.figs = numbered(BuildFigures(p.s.Result, p.view))
 }
+
+// constantProblems says, in words, which of a link's sliders' values the
+// page sets otherwise (restoreConstants): a constant the text does not mark
+// to vary, or a value beyond its range. A text with errors gives none.
+func constantProblems(st share.State) []string {
+	if len(st.Constants) == 0 {
+		return nil
+	}
+	var tb *data.Table
+	if st.Data != "" {
+		tb, _ = data.Parse(st.Data)
+	}
+	m, file, errs := parseModel(st.Model, tb)
+	if m == nil || errs != nil {
+		return nil
+	}
+	ranges := map[string]engine.Vary{}
+	for _, v := range file.Vary {
+		ranges[v.Name] = v
+	}
+	var out []string
+	for _, name := range slices.Sorted(maps.Keys(st.Constants)) {
+		x := st.Constants[name]
+		v, ok := ranges[name]
+		switch {
+		case !ok:
+			out = append(out, "the value "+plainNum(x)+" for "+model.Visible(name)+", which the model does not mark with #@ vary (ignored)")
+		case x < v.Lo || x > v.Hi:
+			out = append(out, "the value "+plainNum(x)+" for "+name+", outside its range "+plainNum(v.Lo)+" to "+plainNum(v.Hi)+" (set to the nearer end)")
+		}
+	}
+	return out
+}
+
+// plainNum writes a number as typed: the shortest form that reads back.
+func plainNum(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }

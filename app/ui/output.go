@@ -50,10 +50,7 @@ func (o *Outputs) Render() app.UI {
 	cards := []app.UI{
 		card("Diagnostics", "bc-h-diag", diagnostics(r)),
 		card("Plots", "bc-h-plots", &PlotPanel{Host: o.Host, Set: figs, View: r.View, Stale: r.Stale}),
-		card("Results", "bc-h-results", &ResultsTable{Sections: secs, Stale: r.Stale}),
-	}
-	if res := shownResult(r.Shown); res != nil && len(res.Candidates) > 0 {
-		cards = append(cards, card("Your Gaussians", "bc-h-cand", &CandidateTable{Result: res, Stale: r.Stale}))
+		card("Results", "bc-h-results", &ResultsTable{Sections: secs, Candidates: candidateNames(shownResult(r.Shown)), Stale: r.Stale}),
 	}
 	if res := shownResult(r.Shown); res != nil && res.Curvature != nil {
 		cards = append(cards, card("Two curvatures", "bc-h-curv", &CurvatureCard{Result: res}))

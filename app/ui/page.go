@@ -1,6 +1,8 @@
 package ui
 
 import (
+	"maps"
+
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
 
 	"bellcheck/app/examples"
@@ -133,7 +135,7 @@ func (p *Page) OpenLink(ctx app.Context) {
 	}
 	if p.mode.Embed {
 		cur := p.shareState()
-		if cur.Model == link.Model && cur.View == link.View {
+		if cur.Model == link.Model && cur.View == link.View && maps.Equal(cur.Constants, link.Constants) {
 			return
 		}
 		p.setMode(link.View)
@@ -141,7 +143,7 @@ func (p *Page) OpenLink(ctx app.Context) {
 		return
 	}
 	cur := p.shareState()
-	if cur.Model == link.Model {
+	if cur.Model == link.Model && maps.Equal(cur.Constants, link.Constants) {
 		return
 	}
 	p.loadLink(ctx, link)
@@ -181,6 +183,10 @@ func (p *Page) shareState() share.State {
 	}
 	st := toShare(p.text, m, p.s.Choices(m), p.view)
 	st.Data = p.linkData()
+	if st.Data == "" && p.data.csv != "" {
+		st.DataLeft = p.data.digest // too large for a link: named, kept in the saved work
+	}
+	st.Constants = p.s.movedConstants()
 	st.View.Embed, st.View.ReadOnly, st.View.EditorCollapsed = p.mode.Embed, p.mode.ReadOnly, p.mode.Folded
 	st.View.PlotOnly, st.View.MaxHeight = p.mode.PlotOnly, p.mode.MaxHeight
 	return st
@@ -198,7 +204,7 @@ func (p *Page) persist() {
 		return // too long for a link: the text stays in the editor only
 	}
 	if !p.mode.Embed {
-		_ = p.hist().Record(p.shareState(), frag) // storage refused: the state stays in the URL
+		p.record(p.shareState(), frag) // storage refused: the state stays in the URL
 	}
 	p.browser.SetFragment(frag)
 }
@@ -232,7 +238,7 @@ func (p *Page) keepPending() {
 	p.persistPending = false
 	st := p.shareState()
 	if frag, err := share.Encode(st); err == nil {
-		_ = p.hist().Record(st, frag)
+		p.record(st, frag)
 	}
 }
 
@@ -321,8 +327,9 @@ func (p *Page) LoadState(ctx app.Context, src string, params ParamChoices, v Vie
 // name them.
 func (p *Page) loadLink(ctx app.Context, st share.State) {
 	p.load(st.Model, View{Log: st.View.LogScale})
-	p.openData(st.Data)
+	p.openData(st)
 	valid := p.s.Edit(st.Model)
+	p.s.restoreConstants(st.Constants)
 	// An option the engine would refuse is set back to its default
 	// (LinkProblems says which, for the notice).
 	p.s.SetChoices(ChoicesOf(p.s.Model, usableOptions(p.s.Model, st.Params)))

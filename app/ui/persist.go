@@ -104,7 +104,8 @@ func Opening(b Browser) (st share.State, ok bool, n Notice) {
 	kept := dedupe(readEntries(b))
 	var newest *share.State
 	if len(kept) > 0 {
-		newest = &kept[0].State
+		st := entryWithData(b, kept[0])
+		newest = &st
 	}
 	frag := b.Fragment()
 	if frag != "" {
@@ -135,7 +136,7 @@ func Opening(b Browser) (st share.State, ok bool, n Notice) {
 func keptWork(kept []Entry, st share.State) bool {
 	w := workOf(st)
 	for _, e := range kept {
-		if workOf(e.State) == w {
+		if e.work() == w {
 			return true
 		}
 	}

@@ -19,7 +19,7 @@ func (p *Page) publicationFigure(pn *Panel, heat *export.Raster) (string, float6
 		r = p.figs.Result
 	}
 	o := figure.Options{ID: pn.ID + "-pub", Log: pn.Log, Hidden: p.view.Hidden, XLabel: name(pn.I, pn), Candidates: candidateNames(r),
-		XView: [2]float64{f.X.D0, f.X.D1}}
+		XView: [2]float64{f.X.D0, f.X.D1}, CandidateX: candidateSpreads(r, pn.I), CandidateY: candidateSpreads(r, pn.J)}
 	var full *figure.Figure
 	if pn.J < 0 && pn.M != nil {
 		o.YView = [2]float64{f.Y.D0, f.Y.D1}

@@ -29,6 +29,9 @@ func swatchOf(s plot.Style) app.UI {
 type ResultsTable struct {
 	app.Compo
 	Sections []Section
+	// Candidates names the user's candidate Gaussians: a column each,
+	// after the fits (Row.Cands).
+	Candidates []string
 	// Stale dims the table when it belongs to an older model.
 	Stale bool
 }
@@ -39,17 +42,24 @@ func (t *ResultsTable) Render() app.UI {
 		return app.P().Class("muted").Text("Results appear here once the analysis has run.")
 	}
 	head := []app.UI{app.Th().Scope("col").Class("rlabel").Text("")}
+	// The candidates come right after the exact column (a derivation is
+	// checked against the exact density first), then the fits.
 	for _, m := range plot.Methods {
 		s := plot.StyleOf(m)
 		head = append(head, app.Th().Scope("col").Class("mcol").Title(s.Long).Body(
 			swatch(m), app.Span().Class("mname").Text(s.Name)))
+		if m == plot.Exact {
+			for k, name := range t.Candidates {
+				head = append(head, candidateHead(k, len(t.Candidates), name))
+			}
+		}
 	}
 	// One component per section, given a pointer into the table: while the
 	// table is the same, toggling Stale re-renders the table's element and
 	// compares each section in constant time, without rendering its rows.
 	bodies := make([]app.UI, len(t.Sections))
 	for i := range t.Sections {
-		bodies[i] = &TableSection{Section: &t.Sections[i]}
+		bodies[i] = &TableSection{Section: &t.Sections[i], Columns: 1 + len(plot.Methods) + len(t.Candidates)}
 	}
 	cls := "results"
 	if t.Stale {
@@ -64,6 +74,7 @@ func (t *ResultsTable) Render() app.UI {
 		app.P().Class("table-key").Body(
 			app.Span().Class("best-dot").Text("●"),
 			app.Text(" closest to the exact value in its row. Small print: error estimate of the exact value; a fit's deviation from it."),
+			candidateKey(len(t.Candidates)),
 		),
 	)
 }
@@ -73,6 +84,8 @@ func (t *ResultsTable) Render() app.UI {
 type TableSection struct {
 	app.Compo
 	Section *Section
+	// Columns is the table's number of columns.
+	Columns int
 }
 
 // Render draws the section.
@@ -80,20 +93,29 @@ func (ts *TableSection) Render() app.UI {
 	sec := ts.Section
 	rows := make([]app.UI, 0, len(sec.Rows)+1)
 	rows = append(rows, app.Tr().Class("sec").Body(
-		app.Th().Scope("rowgroup").ColSpan(6).Body(app.Span().Class("sec-title").Text(sec.Title))))
+		app.Th().Scope("rowgroup").ColSpan(ts.Columns).Body(app.Span().Class("sec-title").Text(sec.Title))))
 	for _, r := range sec.Rows {
-		cells := make([]app.UI, 0, len(plot.Methods)+1)
+		cells := make([]app.UI, 0, len(plot.Methods)+len(r.Cands)+1)
 		cells = append(cells, app.Th().Scope("row").Class("rlabel").Title(r.Hint).Text(r.Label))
 		for _, m := range plot.Methods {
-			cells = append(cells, cell(r.Cells[m]))
+			cells = append(cells, cell(r.Cells[m], ""))
+			if m == plot.Exact {
+				for k, c := range r.Cands {
+					cells = append(cells, candidateCell(k, len(r.Cands), c))
+				}
+			}
 		}
 		rows = append(rows, app.Tr().Body(cells...))
 	}
 	return app.TBody().Body(rows...)
 }
 
-func cell(c Cell) app.UI {
+// cell draws a table cell, with extra classes (or "").
+func cell(c Cell, class string) app.UI {
 	td := app.Td().Class("num")
+	if class != "" {
+		td = td.Class(class)
+	}
 	if c.Absent != "" {
 		td = td.Title(c.Absent)
 	}

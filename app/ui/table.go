@@ -29,6 +29,10 @@ type Row struct {
 	// description).
 	Hint  string
 	Cells [plot.NumMethods]Cell
+	// Cands holds a cell per candidate Gaussian of the user's, in the
+	// order of Result.Candidates (candidates.go): scored like the fits,
+	// never ranked among them.
+	Cands []Cell
 }
 
 // Section is a titled group of rows.
@@ -141,37 +145,31 @@ func Table(r *engine.Result, m *model.Model) []Section {
 				c.Absent = "not reported: see the diagnostics"
 			}
 		}
-		sMean, sSD, sIv := nanScores(), nanScores(), nanScores()
-		for _, meth := range plot.Fits {
-			f := fitOf(r, meth)
-			if f == nil {
-				for _, row := range []*Row{&mean, &sd, &iv} {
-					row.Cells[meth] = Cell{Text: "—", Absent: absentFit}
-				}
-				continue
-			}
-			fm, fs := at(f.Mean, i), at(f.SD, i)
+		fillRow(&mean, r, func(f *engine.Fit) (Cell, float64) {
+			fm := at(f.Mean, i)
 			dm := (fm - exMean) / exSD
-			ratio := fs / exSD
-			mean.Cells[meth] = Cell{Text: fmtScaled(fm, exSD)}
+			c := Cell{Text: fmtScaled(fm, exSD)}
 			if finite(dm) {
-				mean.Cells[meth].Sub = fmtSigned(dm, 2) + " sd"
+				c.Sub = fmtSigned(dm, 2) + " sd"
 			}
-			sd.Cells[meth] = Cell{Text: fmtNum(fs)}
+			return c, math.Abs(dm)
+		})
+		fillRow(&sd, r, func(f *engine.Fit) (Cell, float64) {
+			fs := at(f.SD, i)
+			ratio := fs / exSD
+			c := Cell{Text: fmtNum(fs)}
 			if finite(ratio) {
-				sd.Cells[meth].Sub = "×" + plot.FormatNumber(ratio, 3)
+				c.Sub = "×" + plot.FormatNumber(ratio, 3)
 			}
-			sMean[meth] = math.Abs(dm)
-			sSD[meth] = math.Abs(math.Log(ratio))
-			if i < len(f.Interval95) {
-				a, b := f.Interval95[i][0], f.Interval95[i][1]
-				iv.Cells[meth] = Cell{Text: interval(a, b, exSD)}
-				sIv[meth] = math.Max(math.Abs(a-q[0]), math.Abs(b-q[2])) / exSD
+			return c, math.Abs(math.Log(ratio))
+		})
+		fillRow(&iv, r, func(f *engine.Fit) (Cell, float64) {
+			if i >= len(f.Interval95) {
+				return Cell{}, math.NaN()
 			}
-		}
-		markBest(&mean, sMean)
-		markBest(&sd, sSD)
-		markBest(&iv, sIv)
+			a, b := f.Interval95[i][0], f.Interval95[i][1]
+			return Cell{Text: interval(a, b, exSD)}, math.Max(math.Abs(a-q[0]), math.Abs(b-q[2])) / exSD
+		})
 		sec.Rows = append(sec.Rows, mean, sd, iv)
 		sections = append(sections, sec)
 	}
@@ -188,25 +186,13 @@ func Table(r *engine.Result, m *model.Model) []Section {
 				if transformed {
 					row.Hint += " Fits on a log or logit scale show their correlation on that scale, so it is not compared with the exact one."
 				}
-				score := nanScores()
-				for _, meth := range plot.Fits {
-					f := fitOf(r, meth)
-					if f == nil {
-						row.Cells[meth] = Cell{Text: "—", Absent: absentFit}
-						continue
+				fillRow(&row, r, func(f *engine.Fit) (Cell, float64) {
+					if transformed {
+						return Cell{Text: plot.FormatNumber(at2(f.FittingScale.Corr, i, j), 3), Sub: "fit scale"}, math.NaN()
 					}
 					c := at2(f.Corr, i, j)
-					if transformed {
-						c = at2(f.FittingScale.Corr, i, j)
-					}
-					row.Cells[meth] = Cell{Text: plot.FormatNumber(c, 3)}
-					if transformed {
-						row.Cells[meth].Sub = "fit scale"
-					} else {
-						score[meth] = math.Abs(c - ex)
-					}
-				}
-				markBest(&row, score)
+					return Cell{Text: plot.FormatNumber(c, 3)}, math.Abs(c - ex)
+				})
 				sec.Rows = append(sec.Rows, row)
 			}
 		}
@@ -216,47 +202,39 @@ func Table(r *engine.Result, m *model.Model) []Section {
 	ev := Section{Title: "evidence and divergence"}
 	logz := Row{Label: "log-evidence", Hint: "log Z: the grid's value with its error estimate, the Laplace estimate, and the ELBO of the reverse-KL fits (a lower bound on log Z); below each, its difference from the grid's value."}
 	logz.Cells[plot.Exact] = Cell{Text: fmtNum(r.Exact.LogZ), Sub: fmtErr(r.Exact.LogZErr)}
-	sEv := nanScores()
-	for _, meth := range plot.Fits {
-		f := fitOf(r, meth)
+	fillRow(&logz, r, func(f *engine.Fit) (Cell, float64) {
+		var c Cell
 		switch {
-		case f == nil:
-			logz.Cells[meth] = Cell{Text: "—", Absent: absentFit}
 		case f.LogZ != nil:
-			logz.Cells[meth] = evidenceCell(*f.LogZ, f.EvidenceErr)
+			c = evidenceCell(*f.LogZ, f.EvidenceErr)
 		case f.ELBO != nil:
-			logz.Cells[meth] = evidenceCell(*f.ELBO, f.EvidenceErr)
-			logz.Cells[meth].Text = "≥ " + logz.Cells[meth].Text
+			c = evidenceCell(*f.ELBO, f.EvidenceErr)
+			c.Text = "≥ " + c.Text
 		default:
-			logz.Cells[meth] = Cell{Text: "—", Absent: "this fit gives no evidence estimate"}
+			return Cell{Text: "—", Absent: "this fit gives no evidence estimate"}, math.NaN()
 		}
-		if f != nil && f.EvidenceErr != nil {
-			sEv[meth] = math.Abs(*f.EvidenceErr)
+		if f.EvidenceErr != nil {
+			return c, math.Abs(*f.EvidenceErr)
+		}
+		return c, math.NaN()
+	})
+	for k := range logz.Cands {
+		if logz.Cands[k].Text == "—" {
+			logz.Cands[k].Absent = "a Gaussian of your own gives no evidence estimate"
 		}
 	}
-	markBest(&logz, sEv)
 	ev.Rows = append(ev.Rows, logz)
 
 	metric := func(label, hint string, get func(*engine.Fit) float64, show func(float64) string, score func(float64) float64) {
 		row := Row{Label: label, Hint: hint}
 		row.Cells[plot.Exact] = Cell{Text: "", Absent: "reference"}
-		s := nanScores()
-		for _, meth := range plot.Fits {
-			f := fitOf(r, meth)
-			if f == nil {
-				row.Cells[meth] = Cell{Text: "—", Absent: absentFit}
-				continue
-			}
+		fillRow(&row, r, func(f *engine.Fit) (Cell, float64) {
 			v := get(f)
 			if math.IsInf(v, 1) {
-				row.Cells[meth] = Cell{Text: "∞", Absent: "infinite: the fit puts mass where the exact density has none, or misses mass it has"}
-				s[meth] = math.Inf(1)
-				continue
+				return Cell{Text: "∞", Absent: "infinite: the fit puts mass where the exact density has none, or misses mass it has"}, math.Inf(1)
 			}
-			row.Cells[meth] = Cell{Text: show(v)}
-			s[meth] = score(v)
-		}
-		markBest(&row, s)
+			return Cell{Text: show(v)}, score(v)
+		})
 		ev.Rows = append(ev.Rows, row)
 	}
 	id := func(v float64) float64 { return v }
@@ -283,9 +261,51 @@ func Table(r *engine.Result, m *model.Model) []Section {
 			run.Cells[meth] = Cell{Text: "not converged", Sub: strconv.Itoa(f.Iterations) + " steps, residual " + plot.FormatNumber(f.Residual, 2)}
 		}
 	}
+	run.Cands = make([]Cell, len(r.Candidates))
+	for k := range run.Cands {
+		run.Cands[k] = Cell{Text: "—", Absent: "a Gaussian of your own: no optimiser ran"}
+	}
 	ev.Rows = append(ev.Rows, run)
 	sections = append(sections, ev)
 	return sections
+}
+
+// absentCandidate is the reason shown where a candidate was not scored.
+const absentCandidate = "not scored: see the diagnostics"
+
+// fillRow fills a row's cells for the fits and the candidates from one
+// function of a fit, which returns the cell and the fit's score (lower is
+// closer to the exact value; NaN for none), and marks the best fit. A cell
+// with no text is shown as absent. Candidates are scored, not ranked.
+func fillRow(row *Row, r *engine.Result, cellOf func(f *engine.Fit) (Cell, float64)) {
+	score := nanScores()
+	for _, meth := range plot.Fits {
+		f := fitOf(r, meth)
+		if f == nil {
+			row.Cells[meth] = Cell{Text: "—", Absent: absentFit}
+			continue
+		}
+		row.Cells[meth], score[meth] = cellOf(f)
+		if row.Cells[meth].Text == "" {
+			row.Cells[meth] = Cell{Text: "—", Absent: "not available for this fit"}
+			score[meth] = math.NaN()
+		}
+	}
+	markBest(row, score)
+	if len(r.Candidates) == 0 {
+		return
+	}
+	row.Cands = make([]Cell, len(r.Candidates))
+	for k, c := range r.Candidates {
+		if c.Fit == nil {
+			row.Cands[k] = Cell{Text: "—", Absent: absentCandidate}
+			continue
+		}
+		row.Cands[k], _ = cellOf(c.Fit)
+		if row.Cands[k].Text == "" {
+			row.Cands[k] = Cell{Text: "—", Absent: "not available for this Gaussian"}
+		}
+	}
 }
 
 func evidenceCell(v float64, diff *float64) Cell {
