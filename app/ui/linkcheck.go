@@ -57,8 +57,11 @@ func usableOptions(m *model.Model, params []engine.ParamOptions) []engine.ParamO
 	return out
 }
 
-// linkNotice adds the link's refused options to the notice n.
+// linkNotice adds the link's refused options, if any, to the notice n.
 func linkNotice(n Notice, problems []string) Notice {
+	if len(problems) == 0 {
+		return n
+	}
 	text := "The link asks for settings the analysis cannot use, so their defaults are used instead: " + strings.Join(problems, "; ") + "."
 	if n.Text != "" {
 		text = n.Text + " " + text
