@@ -283,9 +283,9 @@ func compareTable(tab resultsTable, res cliJSON) (problems []string, checked int
 						} else {
 							c.numbers(where, cell.V, 1, idx(fit.Mean, i))
 							// A deviation of a fit that equals the exact moments (the
-								// forward-KL fit) is rounding noise, which differs between
-								// the native and the WebAssembly math: agreement to 1e-12 sd.
-								c.numbersFloor(where+" (deviation)", cell.Sub, 1, 1e-12, idx(fit.MeanErrSD, i))
+							// forward-KL fit) is rounding noise, which differs between
+							// the native and the WebAssembly math: agreement to 1e-12 sd.
+							c.numbersFloor(where+" (deviation)", cell.Sub, 1, 1e-12, idx(fit.MeanErrSD, i))
 						}
 					case "sd":
 						if key == "" {
