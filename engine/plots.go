@@ -25,9 +25,10 @@ const contourPoints = 96
 // pair (the largest 2-D grid holds 2.25 million nodes).
 //
 // Where the nested rule stands, the plots come from it instead
-// (plotsFromRule, plots_rule.go).
+// (plotsFromRule, plots_rule.go), unless a marginal's walk did not resolve
+// it while the full grid does (reference.gridCurves).
 func (a *analysis) plots(res *Result) (*Plots, error) {
-	if a.ref.onNodes() {
+	if a.ref.onNodes() && !a.ref.gridCurves {
 		return a.plotsFromRule(res)
 	}
 	g := a.ref.grid

@@ -18,6 +18,15 @@ var (
 	rulePlot2D = [4]int{0, 81, 31, 21}
 )
 
+// rulePlot2DCostly are the pairs' points where the rule took more than
+// costlyRulePoints evaluations (a thin, bent ridge, such as a chaotic
+// cost's over a long window): every pair point is a rule over the other
+// parameters, on the same costly density.
+var rulePlot2DCostly = [4]int{0, 81, 21, 15}
+
+// costlyRulePoints: see rulePlot2DCostly.
+const costlyRulePoints = 500000
+
 // pairShown is about the number of points along each axis of the pair
 // image handed to the page: a pair computed at fewer points is refined to
 // it by cubic interpolation (upsample), so that its contours are smooth
@@ -96,6 +105,9 @@ func (a *analysis) plotsFromRule(res *Result) (*Plots, error) {
 				return nil, err
 			}
 			n := rulePlot2D[d-1]
+			if q.Points > costlyRulePoints {
+				n = rulePlot2DCostly[d-1]
+			}
 			xs, ys := evenly(ranges[i], n), evenly(ranges[j], n)
 			dens, err := q.Pair(a.ctx, i, j, xs, ys)
 			if err != nil {
@@ -174,7 +186,9 @@ func (a *analysis) ruleRanges(q *quadrature.Result) ([][2]float64, []*quadrature
 	curves := make([]*quadrature.Curve, d)
 	for k := 0; k < d; k++ {
 		cv := a.ref.curves[k]
-		if cv == nil {
+		if cv == nil && a.ref.curves == nil {
+			// The exact stage walked none (it walks every marginal, and a
+			// failed walk is not tried again).
 			var err error
 			if cv, err = q.Curve(a.ctx, k, fineCurves(q, d)); err != nil && !errors.Is(err, quadrature.ErrCurve) {
 				return nil, nil, err

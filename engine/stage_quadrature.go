@@ -412,13 +412,30 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 		// 4-D the slices take twice the rule's step (a slice is a 2-D or
 		// 3-D rule; at the rule's own step the quantiles of a 40-reading
 		// Lorenz-63 cost took 26 s).
+		if gridResolves && !a.scout && a.ref.grid != nil && q.Points > costlyRulePoints {
+			// A costly rule (a thin, bent ridge) beside a full grid that
+			// resolves the density: the grid's quantiles and plots, as a
+			// walk per marginal would cost about as much as the rule again.
+			quant[k] = r.original.Quantiles[k]
+			r.gridCurves = true
+			continue
+		}
 		cv, err := q.Curve(a.ctx, k, fineCurves(q, d))
 		if err != nil {
 			if ctxErr := a.ctx.Err(); ctxErr != nil {
 				return ctxErr
 			}
-			// The walk does not resolve the marginal (quadrature.ErrCurve):
-			// its quantiles are left out, with the reason.
+			// The walk does not resolve the marginal (quadrature.ErrCurve).
+			// A full grid that resolves the density gives the quantiles
+			// (its interpolated marginals: a thin, bent ridge such as a
+			// chaotic cost's over a long window, where the walk's slices
+			// at twice the rule's step lose the ridge); otherwise they are
+			// left out, with the reason.
+			if gridResolves && !a.scout && a.ref.grid != nil {
+				quant[k] = r.original.Quantiles[k]
+				r.gridCurves = true
+				continue
+			}
 			quant[k] = [3]float64{math.NaN(), math.NaN(), math.NaN()}
 			a.avail.dropAt(QuantityQuantiles, k, CodeUnresolved)
 			unresolvedQuantiles = append(unresolvedQuantiles, a.names[k])

@@ -68,6 +68,9 @@ type reference struct {
 	// curves are the rule's marginals, per parameter (nil where the walk
 	// failed): the quantiles and the plotted marginals.
 	curves []*quadrature.Curve
+	// gridCurves reports a marginal the rule's walk did not resolve while
+	// the full grid does: its quantiles and the plots come from the grid.
+	gridCurves bool
 }
 
 // findReference is the reference stage: it finds the box, evaluates the

@@ -25,11 +25,15 @@ const (
 	sliceCoarse
 	// slicePlot: twice the main step, walks ended where the density's
 	// share falls below 1e-9 of its peak, no walks for the moments (a
-	// slice's integral is all a plot point needs) and at most two Newton
-	// steps recentring each inner axis (the previous point's centre is
-	// the guess).
+	// slice's integral is all a plot point needs) and two Newton steps
+	// recentring each inner axis (the previous point's centre is the
+	// guess; one step left the 3-D funnel's pair 1e-3 off at its peak).
 	slicePlot
 )
+
+// sliceNewtonSteps bounds the Newton steps of a marginal's slices (see
+// sliceSettings).
+const sliceNewtonSteps = 4
 
 // sliceSettings are the settings of the rules that integrate the other
 // axes at a plot point (see sliceAccuracy), with no pilot.
@@ -38,6 +42,11 @@ func (res *Result) sliceSettings(dim int, acc sliceAccuracy) Settings {
 	if acc != sliceFine {
 		s.Step *= 2
 	}
+	// The slices of neighbouring points have nearby conditional modes
+	// (each starts from the last one's centre): a few Newton steps
+	// recentre them; a Newton step costs a Hessian, most of a slice's time
+	// on a costly density.
+	s.NewtonSteps = sliceNewtonSteps
 	if acc == slicePlot {
 		s.Tol = math.Max(s.Tol, 1e-9)
 		s.MomentTol = 1
