@@ -22,8 +22,28 @@ help:
 NOINLINE := -gcflags='github.com/maxence-charriere/go-app/v10/...=-l' \
 	-gcflags='bellcheck/app/ui=-l' -gcflags='bellcheck/app/jsdom=-l' -gcflags='bellcheck/app/export=-l'
 
+# The browser build uses go-app with four of its files swapped for those in
+# wasm/_goapp: they keep net/http (with the TLS and crypto packages it
+# initialises) and Go's regexp out of app.wasm (DEVELOPERS.md, "The size of
+# app.wasm"). The copy of go-app so patched is made in .cache/goapp and used
+# through a copy of go.mod with a replace line (-modfile); the native build
+# is untouched. The swap is refused when go-app's files are not the ones
+# wasm/_goapp was written from (another go-app version).
+GOAPP      := github.com/maxence-charriere/go-app/v10
+GOAPP_COPY := $(CURDIR)/.cache/goapp
+GOAPP_MOD  := .cache/wasm.mod
+
 wasm:
-	GOOS=js GOARCH=wasm $(GO) build -trimpath -ldflags="-s -w" $(NOINLINE) -o web/app.wasm ./wasm
+	@$(GO) mod download $(GOAPP)
+	@dir=$$($(GO) list -m -f '{{.Dir}}' $(GOAPP)) && [ -n "$$dir" ] || { echo "make wasm: go-app's folder not found"; exit 1; }; \
+	  (cd "$$dir" && sha256sum --quiet --strict -c "$(CURDIR)/wasm/_goapp/upstream.sha256") || { \
+	    echo "make wasm: go-app's files in $$dir are not those wasm/_goapp replaces (another go-app version?): update wasm/_goapp (DEVELOPERS.md, The size of app.wasm)"; exit 1; }; \
+	  rm -rf "$(GOAPP_COPY)" && mkdir -p "$(GOAPP_COPY)/pkg" && \
+	  cp "$$dir/go.mod" "$$dir/LICENSE" "$(GOAPP_COPY)/" && cp -R "$$dir/pkg/app" "$$dir/pkg/errors" "$(GOAPP_COPY)/pkg/" && \
+	  chmod -R u+w "$(GOAPP_COPY)" && rm "$(GOAPP_COPY)/pkg/app/http.go" && \
+	  cp wasm/_goapp/resource.go wasm/_goapp/route.go wasm/_goapp/wasm.go "$(GOAPP_COPY)/pkg/app/" && \
+	  { cat go.mod; echo; echo "replace $(GOAPP) => $(GOAPP_COPY)"; } >$(GOAPP_MOD) && cp go.sum $(GOAPP_MOD:.mod=.sum)
+	GOOS=js GOARCH=wasm $(GO) build -modfile=$(GOAPP_MOD) -trimpath -ldflags="-s -w" $(NOINLINE) -o web/app.wasm ./wasm
 
 bin:
 	$(GO) build -trimpath -o bin/bellcheck ./wasm
