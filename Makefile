@@ -16,11 +16,17 @@ help:
 	@echo "make fuzz    run each fuzz target for FUZZTIME (default $(FUZZTIME))"
 	@echo "make static  write the static site into dist/"
 
-# The page's code is built without inlining (the engine keeps it): it runs
-# once per event, not per grid point, and the wasm must stay under 3 MB
-# gzipped.
+# The page's code is built without inlining (the engine's numerical
+# packages keep it): it runs once per event, not per grid point, and the
+# wasm must stay under 3 MB gzipped. So are the packages that run once per
+# edit or per result: the model parser, the options text, the link state,
+# the SVG figures, fmt and encoding/json (together 62 KB of the gzipped
+# wasm; DEVELOPERS.md, "The size of app.wasm").
 NOINLINE := -gcflags='github.com/maxence-charriere/go-app/v10/...=-l' \
-	-gcflags='bellcheck/app/ui=-l' -gcflags='bellcheck/app/jsdom=-l' -gcflags='bellcheck/app/export=-l'
+	-gcflags='bellcheck/app/ui=-l' -gcflags='bellcheck/app/jsdom=-l' -gcflags='bellcheck/app/export=-l' \
+	-gcflags='bellcheck/app/figure=-l' -gcflags='bellcheck/app/share=-l' \
+	-gcflags='bellcheck/engine/model=-l' -gcflags='bellcheck/engine/paramopt=-l' \
+	-gcflags='fmt=-l' -gcflags='encoding/json=-l'
 
 # The browser build uses go-app with four of its files swapped for those in
 # wasm/_goapp: they keep net/http (with the TLS and crypto packages it
