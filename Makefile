@@ -122,4 +122,4 @@ fuzz:
 	done
 
 clean:
-	rm -rf bin dist web/app.wasm
+	rm -rf bin dist web/app.wasm .cache/goapp .cache/wasm.mod .cache/wasm.sum
