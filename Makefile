@@ -16,14 +16,41 @@ help:
 	@echo "make fuzz    run each fuzz target for FUZZTIME (default $(FUZZTIME))"
 	@echo "make static  write the static site into dist/"
 
-# The page's code is built without inlining (the engine keeps it): it runs
-# once per event, not per grid point, and the wasm must stay under 3 MB
-# gzipped.
+# The page's code is built without inlining (the engine's numerical
+# packages keep it): it runs once per event, not per grid point, and the
+# wasm must stay under 3 MB gzipped. So are the packages that run once per
+# edit or per result: the model parser, the options text, the link state,
+# the SVG figures, fmt and encoding/json (together 62 KB of the gzipped
+# wasm; DEVELOPERS.md, "The size of app.wasm").
 NOINLINE := -gcflags='github.com/maxence-charriere/go-app/v10/...=-l' \
-	-gcflags='bellcheck/app/ui=-l' -gcflags='bellcheck/app/jsdom=-l' -gcflags='bellcheck/app/export=-l'
+	-gcflags='bellcheck/app/ui=-l' -gcflags='bellcheck/app/jsdom=-l' -gcflags='bellcheck/app/export=-l' \
+	-gcflags='bellcheck/app/figure=-l' -gcflags='bellcheck/app/share=-l' \
+	-gcflags='bellcheck/engine/model=-l' -gcflags='bellcheck/engine/paramopt=-l' \
+	-gcflags='fmt=-l' -gcflags='encoding/json=-l'
+
+# The browser build uses go-app without its http.go and with three of its
+# files swapped for those in wasm/_goapp: this keeps net/http (with the
+# TLS and crypto packages it initialises) and Go's regexp out of app.wasm
+# (DEVELOPERS.md, "The size of app.wasm"). The copy of go-app so patched is
+# made in .cache/goapp and used through a copy of go.mod with a replace
+# line (-modfile); the native build is untouched. The swap is refused when
+# go-app's files are not the ones wasm/_goapp was written from (another
+# go-app version).
+GOAPP      := github.com/maxence-charriere/go-app/v10
+GOAPP_COPY := $(CURDIR)/.cache/goapp
+GOAPP_MOD  := .cache/wasm.mod
 
 wasm:
-	GOOS=js GOARCH=wasm $(GO) build -trimpath -ldflags="-s -w" $(NOINLINE) -o web/app.wasm ./wasm
+	@$(GO) mod download $(GOAPP)
+	@dir=$$($(GO) list -m -f '{{.Dir}}' $(GOAPP)) && [ -n "$$dir" ] || { echo "make wasm: go-app's folder not found"; exit 1; }; \
+	  (cd "$$dir" && sha256sum --quiet --strict -c "$(CURDIR)/wasm/_goapp/upstream.sha256") || { \
+	    echo "make wasm: go-app's files in $$dir are not those wasm/_goapp replaces (another go-app version?): update wasm/_goapp (DEVELOPERS.md, The size of app.wasm)"; exit 1; }; \
+	  rm -rf "$(GOAPP_COPY)" && mkdir -p "$(GOAPP_COPY)/pkg" && \
+	  cp "$$dir/go.mod" "$$dir/LICENSE" "$(GOAPP_COPY)/" && cp -R "$$dir/pkg/app" "$$dir/pkg/errors" "$(GOAPP_COPY)/pkg/" && \
+	  chmod -R u+w "$(GOAPP_COPY)" && rm "$(GOAPP_COPY)/pkg/app/http.go" && \
+	  cp wasm/_goapp/resource.go wasm/_goapp/route.go wasm/_goapp/wasm.go "$(GOAPP_COPY)/pkg/app/" && \
+	  { cat go.mod; echo; echo "replace $(GOAPP) => $(GOAPP_COPY)"; } >$(GOAPP_MOD) && cp go.sum $(GOAPP_MOD:.mod=.sum)
+	GOOS=js GOARCH=wasm $(GO) build -modfile=$(GOAPP_MOD) -trimpath -ldflags="-s -w" $(NOINLINE) -o web/app.wasm ./wasm
 
 bin:
 	$(GO) build -trimpath -o bin/bellcheck ./wasm
@@ -96,4 +123,4 @@ fuzz:
 	done
 
 clean:
-	rm -rf bin dist web/app.wasm
+	rm -rf bin dist web/app.wasm .cache/goapp .cache/wasm.mod .cache/wasm.sum

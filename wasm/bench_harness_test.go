@@ -333,19 +333,31 @@ func rerunCold(t *testing.T, rep *report, wasm map[string]map[string]float64) {
 
 // --- sizes ---
 
+// wasmSize reports app.wasm's size raw and as `gzip -9` compresses it (the
+// bound's measure). Go's compress/gzip at level 9 writes about 1% more than
+// the gzip command, so it stands in, named as such, only when gzip is
+// missing.
 func wasmSize(t *testing.T, rep *report) {
-	raw, err := os.ReadFile(filepath.Join("..", "web", "app.wasm"))
+	path := filepath.Join("..", "web", "app.wasm")
+	raw, err := os.ReadFile(path)
 	if err != nil {
 		rep.note("web/app.wasm missing: %v", err)
 		return
 	}
-	var gz bytes.Buffer
-	w, _ := gzip.NewWriterLevel(&gz, gzip.BestCompression)
-	w.Write(raw)
-	w.Close()
 	rep.add(measure{Group: "size", Name: "web/app.wasm raw", Value: float64(len(raw)) / 1e6, Unit: "MB", Detail: fmt.Sprintf("%d bytes", len(raw))})
-	rep.add(atMost(measure{Group: "size", Name: "web/app.wasm gzip -9", Value: float64(gz.Len()) / 1e6, Unit: "MB",
-		Detail: fmt.Sprintf("%d bytes", gz.Len())}, 3, "<= 3 MB"))
+	name, n := "web/app.wasm gzip -9", 0
+	if out, err := exec.Command("gzip", "-9", "-c", path).Output(); err == nil {
+		n = len(out)
+	} else {
+		rep.note("gzip -9 failed (%v): the size is Go's compress/gzip level 9, about 1%% above gzip -9", err)
+		var gz bytes.Buffer
+		w, _ := gzip.NewWriterLevel(&gz, gzip.BestCompression)
+		w.Write(raw)
+		w.Close()
+		name, n = "web/app.wasm gzip (Go, level 9)", gz.Len()
+	}
+	rep.add(atMost(measure{Group: "size", Name: name, Value: float64(n) / 1e6, Unit: "MB",
+		Detail: fmt.Sprintf("%d bytes", n)}, 3, "<= 3 MB"))
 }
 
 // --- tools ---
