@@ -171,54 +171,6 @@ func binaryVV(in *kinstr, d, a, b []float64) {
 	}
 }
 
-// guardLoop applies a support guard elementwise (d[i] = guard(op, a[i],
-// b[i], k)) with the comparison chosen once per loop rather than once per
-// element: guards of bounded parameters run on every point of a grid.
-func guardLoop(op opcode, d, a, b []float64, k float64) {
-	switch op {
-	case opGuardGT:
-		for i := range d {
-			if b[i] > k {
-				d[i] = a[i]
-			} else {
-				d[i] = guardFail(b[i])
-			}
-		}
-	case opGuardGE:
-		for i := range d {
-			if b[i] >= k {
-				d[i] = a[i]
-			} else {
-				d[i] = guardFail(b[i])
-			}
-		}
-	case opGuardLT:
-		for i := range d {
-			if b[i] < k {
-				d[i] = a[i]
-			} else {
-				d[i] = guardFail(b[i])
-			}
-		}
-	default:
-		for i := range d {
-			if b[i] <= k {
-				d[i] = a[i]
-			} else {
-				d[i] = guardFail(b[i])
-			}
-		}
-	}
-}
-
-// guardFail is a failed guard's value: NaN for a NaN test value, else -Inf.
-func guardFail(t float64) float64 {
-	if t != t {
-		return t
-	}
-	return math.Inf(-1)
-}
-
 func binaryVS(in *kinstr, d, a []float64, s float64) {
 	a = a[:len(d)]
 	switch in.op {
