@@ -15,6 +15,8 @@ func runKernel(kern []kinstr, vs [][]float64, ss []float64, m, off int) {
 				linLoop(in, d, vs, ss)
 			case opQuad:
 				quadLoop(in, d, vs, ss)
+			case opGuards:
+				guardChain(in.tests, d, vs[in.a][:m], vs)
 			}
 			continue
 		}

@@ -149,3 +149,58 @@ func guardLE(d, a, b []float64, k float64) {
 		}
 	}
 }
+
+// guardChain applies a chain of guards (opGuards): d[i] is a[i] where every
+// test holds, else what the guards give one after the other. Over a grid
+// inside the support every test holds: the tests are counted over the
+// whole slice first, one pass each with no store, and a copied.
+func guardChain(tests []guardTest, d, a []float64, vs [][]float64) {
+	a = a[:len(d)]
+	failed := 0
+	for _, g := range tests {
+		failed += countFails(g.op, vs[g.t][:len(d)], g.k)
+	}
+	if failed == 0 {
+		copy(d, a)
+		return
+	}
+	for i := range d {
+		v := a[i]
+		for _, g := range tests {
+			v = guard(g.op, v, vs[g.t][i], g.k)
+		}
+		d[i] = v
+	}
+}
+
+// countFails counts the elements of t that fail the guard's test against k.
+func countFails(op opcode, t []float64, k float64) int {
+	n := 0
+	i := 0
+	switch op {
+	case opGuardGT:
+		for ; i+4 <= len(t); i += 4 {
+			w := t[i : i+4 : i+4]
+			n += int(fails(w[0] > k) + fails(w[1] > k) + fails(w[2] > k) + fails(w[3] > k))
+		}
+	case opGuardGE:
+		for ; i+4 <= len(t); i += 4 {
+			w := t[i : i+4 : i+4]
+			n += int(fails(w[0] >= k) + fails(w[1] >= k) + fails(w[2] >= k) + fails(w[3] >= k))
+		}
+	case opGuardLT:
+		for ; i+4 <= len(t); i += 4 {
+			w := t[i : i+4 : i+4]
+			n += int(fails(w[0] < k) + fails(w[1] < k) + fails(w[2] < k) + fails(w[3] < k))
+		}
+	default:
+		for ; i+4 <= len(t); i += 4 {
+			w := t[i : i+4 : i+4]
+			n += int(fails(w[0] <= k) + fails(w[1] <= k) + fails(w[2] <= k) + fails(w[3] <= k))
+		}
+	}
+	for ; i < len(t); i++ {
+		n += int(fails(guardPass(op, t[i], k)))
+	}
+	return n
+}

@@ -115,3 +115,34 @@ func TestUnrolledKernelsMatchScalarOps(t *testing.T) {
 		}
 	}
 }
+
+// TestGuardChainMatchesGuards: an opGuards instruction gives what its
+// guards give one after the other (guard, the scalar tape's definition),
+// bit for bit, with every test holding, and with failures, infinities and
+// NaN among the tested values.
+func TestGuardChainMatchesGuards(t *testing.T) {
+	tests := []guardTest{{opGuardGE, 1, -1}, {opGuardLE, 1, 2}, {opGuardGT, 2, -2.5}, {opGuardLT, 2, 2.5}}
+	for n := 0; n <= 23; n++ {
+		for _, inside := range []bool{true, false} {
+			a := kernelInputs(n, 3)
+			t1, t2 := make([]float64, n), make([]float64, n)
+			for i := range t1 {
+				t1[i], t2[i] = math.Cos(float64(i)), 2*math.Sin(float64(i)) // inside every test
+			}
+			if !inside {
+				t1, t2 = kernelInputs(n, 4), kernelInputs(n, 5)
+			}
+			vs := [][]float64{a, t1, t2, make([]float64, n)}
+			runKernel([]kinstr{{op: opGuards, a: 0, dst: 3, tests: tests}}, vs, nil, n, 0)
+			for i := 0; i < n; i++ {
+				want := a[i]
+				for _, g := range tests {
+					want = guard(g.op, want, vs[g.t][i], g.k)
+				}
+				if !sameBits(vs[3][i], want) {
+					t.Errorf("n=%d inside=%v: element %d = %v, want %v", n, inside, i, vs[3][i], want)
+				}
+			}
+		}
+	}
+}
