@@ -388,3 +388,15 @@ func quadMulV(d, a []float64, c, k float64) {
 		d[i] = float64((a[i]+c)*(a[i]+c)) * k
 	}
 }
+
+// fillV sets d[i] = v.
+func fillV(d []float64, v float64) {
+	i := 0
+	for ; i+4 <= len(d); i += 4 {
+		dw := d[i : i+4 : i+4]
+		dw[0], dw[1], dw[2], dw[3] = v, v, v, v
+	}
+	for ; i < len(d); i++ {
+		d[i] = v
+	}
+}
