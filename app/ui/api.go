@@ -37,8 +37,9 @@ const (
 const (
 	// MaxTimeGrid is the largest n of timeGrid (n x n points).
 	MaxTimeGrid = 4096
-	// timeGridBlock is the number of points evaluated per call of
-	// LogDensityBlock, as the engine's grid does.
+	// timeGridBlock is about the number of points evaluated per call of
+	// LogDensityBlock (whole lines of the grid, at least one), as the
+	// engine's grid does.
 	timeGridBlock = 1024
 )
 
@@ -193,8 +194,8 @@ type TimeGrid struct {
 // APITimeGrid is window.bellcheck.timeGrid, a diagnostic hook for
 // benchmarks: it compiles a model of two parameters and times the compiled
 // log-density's LogDensityBlock over an n by n grid of cell centres (blocks
-// of 1024 points, as the engine's grid evaluates; the time includes filling
-// the blocks' columns), in the box each
+// of whole lines of about 1024 points, as the engine's grid evaluates; the
+// time includes filling the blocks' columns), in the box each
 // parameter's support gives ([lo, hi] when both are finite, 10 wide from a
 // single finite bound, [-5, 5] otherwise). args are the JSON texts of the
 // model text and of n (2 to MaxTimeGrid).
@@ -238,6 +239,17 @@ func timeBox(p model.Param) (lo, hi float64) {
 	return -5, 5
 }
 
+// fillCopies sets every element of v to x by doubling copies.
+func fillCopies(v []float64, x float64) {
+	if len(v) == 0 {
+		return
+	}
+	v[0] = x
+	for done := 1; done < len(v); done *= 2 {
+		copy(v[done:], v[:done])
+	}
+}
+
 // timeGrid evaluates the compiled model over an n by n grid and times it.
 func timeGrid(m *model.Model, n int) (TimeGrid, error) {
 	if len(m.Params) != 2 {
@@ -250,21 +262,31 @@ func timeGrid(m *model.Model, n int) (TimeGrid, error) {
 	x0, x1 := timeBox(m.Params[0])
 	y0, y1 := timeBox(m.Params[1])
 	hx, hy := (x1-x0)/float64(n), (y1-y0)/float64(n)
-	cols := [][]float64{make([]float64, timeGridBlock), make([]float64, timeGridBlock)}
-	out := make([]float64, timeGridBlock)
+	// The cells' centres along each axis, computed once. The blocks are
+	// whole lines of the grid (at least timeGridBlock points, as the
+	// engine's grid makes them), filled by copying: a division, a remainder
+	// or a branch per point would cost about as much as a small model's
+	// evaluation under WebAssembly.
+	xs, ys := make([]float64, n), make([]float64, n)
+	for i := range xs {
+		xs[i] = x0 + (float64(i)+0.5)*hx
+		ys[i] = y0 + (float64(i)+0.5)*hy
+	}
+	lines := max(1, timeGridBlock/n)
+	cols := [][]float64{make([]float64, lines*n), make([]float64, lines*n)}
+	out := make([]float64, lines*n)
 	total := n * n
 	// One clock reading around the whole loop: the browser's clock is
-	// coarse (0.1 ms), and filling the columns costs a few nanoseconds a
-	// point beside the density's own cost.
+	// coarse (0.1 ms).
 	began := time.Now()
-	for start := 0; start < total; start += timeGridBlock {
-		k := min(timeGridBlock, total-start)
-		for i := range k {
-			ix, iy := (start+i)%n, (start+i)/n
-			cols[0][i] = x0 + (float64(ix)+0.5)*hx
-			cols[1][i] = y0 + (float64(iy)+0.5)*hy
+	for iy := 0; iy < n; iy += lines {
+		k := min(lines, n-iy) * n
+		cx, cy := cols[0][:k], cols[1][:k]
+		for l := 0; l*n < k; l++ {
+			copy(cx[l*n:(l+1)*n], xs)
+			fillCopies(cy[l*n:(l+1)*n], ys[iy+l])
 		}
-		ev.LogDensityBlock([][]float64{cols[0][:k], cols[1][:k]}, out[:k])
+		ev.LogDensityBlock([][]float64{cx, cy}, out[:k])
 	}
 	spent := time.Since(began)
 	return TimeGrid{MS: float64(spent) / float64(time.Millisecond), Points: total}, nil

@@ -162,3 +162,21 @@ func TestTimeBoxFollowsTheSupport(t *testing.T) {
 		}
 	}
 }
+
+// TestFillCopies: timeGrid's fill sets every element, whatever the length
+// (the doubling copies end exactly at the end).
+func TestFillCopies(t *testing.T) {
+	for n := 0; n <= 70; n++ {
+		v := make([]float64, n+1)
+		v[n] = -1 // beyond the slice filled
+		fillCopies(v[:n], 2.5)
+		for i := 0; i < n; i++ {
+			if v[i] != 2.5 {
+				t.Fatalf("n=%d: element %d = %v", n, i, v[i])
+			}
+		}
+		if v[n] != -1 {
+			t.Fatalf("n=%d: wrote past the end", n)
+		}
+	}
+}

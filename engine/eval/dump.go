@@ -68,6 +68,14 @@ func (ev *Evaluator) Tape() string {
 
 func writeKernel(b *strings.Builder, indent string, kern []kinstr, scalar string) {
 	for _, in := range kern {
+		if in.op == opGuards {
+			fmt.Fprintf(b, "%ss%d = guards(s%d", indent, in.dst, in.a)
+			for _, g := range in.tests {
+				fmt.Fprintf(b, "; %s s%d %g", ops[g.op].name, g.t, g.k)
+			}
+			fmt.Fprintf(b, ")\n")
+			continue
+		}
 		if in.op == opLin || in.op == opQuad {
 			fmt.Fprintf(b, "%ss%d = %s(a=s%d b=s%d sa=%s%d sb=%s%d k=%g k2=%g flags=%b)\n", indent, in.dst, ops[in.op].name,
 				in.a, in.b, scalar, in.sa, scalar, in.sb, in.k, in.k2, in.flags)

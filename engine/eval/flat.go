@@ -303,10 +303,7 @@ func (fs *flatSpace) run(ft *flatTape, cols [][]float64, out []float64) {
 			for _, ex := range st.expand {
 				src, dst := vs[ex.src][:m], vs[ex.dst][:m*e]
 				for p, v := range src {
-					seg := dst[p*e : (p+1)*e]
-					for i := range seg {
-						seg[i] = v
-					}
+					fillV(dst[p*e:(p+1)*e], v)
 				}
 			}
 			runKernel(st.kern, vs, ft.consts, m*e, 0)

@@ -1,6 +1,9 @@
 package eval
 
-import "sort"
+import (
+	"slices"
+	"sort"
+)
 
 // Kernels: the elementwise part of the tape, over slots. A kernel is built
 // from graph nodes in two steps: kernel operations (kops), where value-mode
@@ -16,6 +19,7 @@ import "sort"
 //	                        constant, and s*b^2 likewise (flagSqB)
 //	opQuad: (a + c)^2 * k   from (a + c)^2, (a + c)^2 * k, (a + c)^2 / k,
 //	                        a^2 * k, a^2 / k
+//	opGuards: a chain of support guards on vectors, guard(guard(a, t1), t2)...
 //
 // An absorbed operation is computed again inside the fused one; it stays in
 // the kernel only if something else uses it.
@@ -29,6 +33,21 @@ type kop struct {
 	sa, sb int32 // fused: scalar operand nodes, -1 for the immediates
 	k, k2  float64
 	elems  []int32
+	tests  []guardTest // opGuards: t is a node
+}
+
+// operands appends the vector and scalar operand nodes of a kernel
+// operation that are read through a, b and the guard tests.
+func (op *kop) operands(buf []int32) []int32 {
+	for _, x := range [2]int32{op.a, op.b} {
+		if x >= 0 {
+			buf = append(buf, x)
+		}
+	}
+	for _, g := range op.tests {
+		buf = append(buf, g.t)
+	}
+	return buf
 }
 
 // kernelSpace says how the graph's nodes appear in a kernel.
@@ -72,12 +91,7 @@ func (ks *kernelSpace) build(order []int32, roots []int32, fuse bool) ([]kinstr,
 			continue
 		}
 		needed[id] = true
-		op := kops[id]
-		for _, x := range [2]int32{op.a, op.b} {
-			if x >= 0 {
-				stack = append(stack, x)
-			}
-		}
+		stack = kops[id].operands(stack)
 	}
 	var live []*kop
 	for _, id := range order {
@@ -86,11 +100,11 @@ func (ks *kernelSpace) build(order []int32, roots []int32, fuse bool) ([]kinstr,
 		}
 	}
 	lastUse := map[int32]int{}
+	var buf []int32
 	for i, op := range live {
-		for _, x := range [2]int32{op.a, op.b} {
-			if x >= 0 {
-				lastUse[x] = i
-			}
+		buf = op.operands(buf[:0])
+		for _, x := range buf {
+			lastUse[x] = i
 		}
 	}
 	for _, r := range roots {
@@ -121,6 +135,12 @@ func (ks *kernelSpace) build(order []int32, roots []int32, fuse bool) ([]kinstr,
 			if op.sb >= 0 {
 				ki.sb = ks.scalar(op.sb)
 			}
+		case op.op == opGuards:
+			ki.a = vslot(op.a)
+			ki.tests = make([]guardTest, len(op.tests))
+			for j, g := range op.tests {
+				ki.tests[j] = guardTest{op: g.op, t: vslot(g.t), k: g.k}
+			}
 		case op.op == opBinomLogit:
 			ki.form = formVVV
 			ki.a, ki.b, ki.c = vslot(op.a), vslot(op.b), vslot(op.elems[0])
@@ -149,10 +169,11 @@ func (ks *kernelSpace) build(order []int32, roots []int32, fuse bool) ([]kinstr,
 		}
 		ki.dst = alloc.get()
 		slot[op.out] = ki.dst
-		for _, x := range [2]int32{op.a, op.b} {
-			if x >= 0 && lastUse[x] == i && needed[x] {
+		buf = op.operands(buf[:0])
+		for _, x := range buf {
+			if lastUse[x] == i && needed[x] {
 				alloc.free = append(alloc.free, slot[x])
-				lastUse[x] = -1 // free once when both operands are x
+				lastUse[x] = -1 // free once when an operand comes twice
 			}
 		}
 		kern = append(kern, ki)
@@ -189,7 +210,8 @@ func fuseReductions(kern []kinstr, reds []reduction) ([]kinstr, []reduction) {
 				in.form == formV && in.a == red.src || in.form == formVS && in.a == red.src ||
 				in.form == formSV && in.b == red.src ||
 				in.form == formVVV && (in.a == red.src || in.b == red.src || in.c == red.src) ||
-				(in.op == opLin || in.op == opQuad) && (in.a == red.src || in.b == red.src)
+				(in.op == opLin || in.op == opQuad) && (in.a == red.src || in.b == red.src) ||
+				in.op == opGuards && guardsRead(in, red.src)
 			if reads || in.dst == red.src {
 				used = true
 			}
@@ -209,11 +231,37 @@ func fuseReductions(kern []kinstr, reds []reduction) ([]kinstr, []reduction) {
 	return kern, reds
 }
 
+// guardsRead reports whether an opGuards reads slot s.
+func guardsRead(in *kinstr, s int32) bool {
+	if in.a == s {
+		return true
+	}
+	for _, g := range in.tests {
+		if g.t == s {
+			return true
+		}
+	}
+	return false
+}
+
 // fuse rewrites a kernel operation into a fused one where a pattern fits.
 func (ks *kernelSpace) fuse(op *kop) {
 	nodes := ks.nodes
 	nd := &nodes[op.out]
 	switch nd.op {
+	case opGuardGT, opGuardGE, opGuardLT, opGuardLE:
+		// A guard of a guard (of a guard ...) of vectors: one pass.
+		var tests []guardTest
+		v := op.out
+		for isGuard(nodes[v].op) && ks.isVec(nodes[v].a) && ks.isVec(nodes[v].b) && (v == op.out || ks.inKernel(v)) {
+			tests = append(tests, guardTest{op: nodes[v].op, t: nodes[v].b, k: nodes[v].k})
+			v = nodes[v].a
+		}
+		if len(tests) < 2 {
+			return
+		}
+		slices.Reverse(tests)
+		*op = kop{op: opGuards, out: op.out, a: v, b: -1, sa: -1, sb: -1, tests: tests}
 	case opAdd, opSub:
 		// P ± Q with Q a product: (a + c) ± s*b.
 		type arrangement struct{ p, q int32 }

@@ -15,6 +15,8 @@ func runKernel(kern []kinstr, vs [][]float64, ss []float64, m, off int) {
 				linLoop(in, d, vs, ss)
 			case opQuad:
 				quadLoop(in, d, vs, ss)
+			case opGuards:
+				guardChain(in.tests, d, vs[in.a][:m], vs)
 			}
 			continue
 		}
@@ -72,33 +74,17 @@ func linLoop(in *kinstr, d []float64, vs [][]float64, ss []float64) {
 	sq := in.flags&flagSqB != 0
 	switch {
 	case in.flags&flagNoA != 0 && !sq:
-		for i := range d {
-			d[i] = c + float64(s*b[i])
-		}
+		linCS(d, c, s, b)
 	case in.flags&flagNoA != 0:
-		for i := range d {
-			d[i] = c + float64(s*float64(b[i]*b[i]))
-		}
+		linCSSq(d, c, s, b)
 	case in.flags&flagNoC != 0 && !sq:
-		a := vs[in.a][:len(d)]
-		for i := range d {
-			d[i] = a[i] + float64(s*b[i])
-		}
+		linAS(d, vs[in.a], s, b)
 	case in.flags&flagNoC != 0:
-		a := vs[in.a][:len(d)]
-		for i := range d {
-			d[i] = a[i] + float64(s*float64(b[i]*b[i]))
-		}
+		linASSq(d, vs[in.a], s, b)
 	case !sq:
-		a := vs[in.a][:len(d)]
-		for i := range d {
-			d[i] = (a[i] + c) + float64(s*b[i])
-		}
+		linACS(d, vs[in.a], c, s, b)
 	default:
-		a := vs[in.a][:len(d)]
-		for i := range d {
-			d[i] = (a[i] + c) + float64(s*float64(b[i]*b[i]))
-		}
+		linACSSq(d, vs[in.a], c, s, b)
 	}
 }
 
@@ -112,20 +98,11 @@ func quadLoop(in *kinstr, d []float64, vs [][]float64, ss []float64) {
 	}
 	switch {
 	case in.flags&flagNoK != 0:
-		for i := range d {
-			t := a[i] + c
-			d[i] = t * t
-		}
+		quadV(d, a, c)
 	case in.flags&flagDiv != 0:
-		for i := range d {
-			t := a[i] + c
-			d[i] = float64(t*t) / k
-		}
+		quadDivV(d, a, c, k)
 	default:
-		for i := range d {
-			t := a[i] + c
-			d[i] = float64(t*t) * k
-		}
+		quadMulV(d, a, c, k)
 	}
 }
 
@@ -134,17 +111,11 @@ func unaryLoop(in *kinstr, d, a []float64) {
 	k := in.k
 	switch in.op {
 	case opNeg:
-		for i := range d {
-			d[i] = -a[i]
-		}
+		negV(d, a)
 	case opSq:
-		for i := range d {
-			d[i] = a[i] * a[i]
-		}
+		sqV(d, a)
 	case opRecip:
-		for i := range d {
-			d[i] = 1 / a[i]
-		}
+		divSV(d, 1, a)
 	case opSqrt:
 		for i := range d {
 			d[i] = math.Sqrt(a[i])
@@ -162,25 +133,15 @@ func unaryLoop(in *kinstr, d, a []float64) {
 			d[i] = math.Abs(a[i])
 		}
 	case opAddK:
-		for i := range d {
-			d[i] = a[i] + k
-		}
+		addVS(d, a, k)
 	case opMulK:
-		for i := range d {
-			d[i] = a[i] * k
-		}
+		mulVS(d, a, k)
 	case opDivK:
-		for i := range d {
-			d[i] = a[i] / k
-		}
+		divVS(d, a, k)
 	case opSubKR:
-		for i := range d {
-			d[i] = k - a[i]
-		}
+		subSV(d, k, a)
 	case opDivKR:
-		for i := range d {
-			d[i] = k / a[i]
-		}
+		divSV(d, k, a)
 	default:
 		f := ops[in.op].value
 		for i := range d {
@@ -194,21 +155,13 @@ func binaryVV(in *kinstr, d, a, b []float64) {
 	b = b[:len(d)]
 	switch in.op {
 	case opAdd:
-		for i := range d {
-			d[i] = a[i] + b[i]
-		}
+		addVV(d, a, b)
 	case opSub:
-		for i := range d {
-			d[i] = a[i] - b[i]
-		}
+		subVV(d, a, b)
 	case opMul:
-		for i := range d {
-			d[i] = a[i] * b[i]
-		}
+		mulVV(d, a, b)
 	case opDiv:
-		for i := range d {
-			d[i] = a[i] / b[i]
-		}
+		divVV(d, a, b)
 	case opGuardGT, opGuardGE, opGuardLT, opGuardLE:
 		guardLoop(in.op, d, a, b, in.k)
 	default:
@@ -220,73 +173,17 @@ func binaryVV(in *kinstr, d, a, b []float64) {
 	}
 }
 
-// guardLoop applies a support guard elementwise (d[i] = guard(op, a[i],
-// b[i], k)) with the comparison chosen once per loop rather than once per
-// element: guards of bounded parameters run on every point of a grid.
-func guardLoop(op opcode, d, a, b []float64, k float64) {
-	switch op {
-	case opGuardGT:
-		for i := range d {
-			if b[i] > k {
-				d[i] = a[i]
-			} else {
-				d[i] = guardFail(b[i])
-			}
-		}
-	case opGuardGE:
-		for i := range d {
-			if b[i] >= k {
-				d[i] = a[i]
-			} else {
-				d[i] = guardFail(b[i])
-			}
-		}
-	case opGuardLT:
-		for i := range d {
-			if b[i] < k {
-				d[i] = a[i]
-			} else {
-				d[i] = guardFail(b[i])
-			}
-		}
-	default:
-		for i := range d {
-			if b[i] <= k {
-				d[i] = a[i]
-			} else {
-				d[i] = guardFail(b[i])
-			}
-		}
-	}
-}
-
-// guardFail is a failed guard's value: NaN for a NaN test value, else -Inf.
-func guardFail(t float64) float64 {
-	if t != t {
-		return t
-	}
-	return math.Inf(-1)
-}
-
 func binaryVS(in *kinstr, d, a []float64, s float64) {
 	a = a[:len(d)]
 	switch in.op {
 	case opAdd:
-		for i := range d {
-			d[i] = a[i] + s
-		}
+		addVS(d, a, s)
 	case opSub:
-		for i := range d {
-			d[i] = a[i] - s
-		}
+		subVS(d, a, s)
 	case opMul:
-		for i := range d {
-			d[i] = a[i] * s
-		}
+		mulVS(d, a, s)
 	case opDiv:
-		for i := range d {
-			d[i] = a[i] / s
-		}
+		divVS(d, a, s)
 	default:
 		f := ops[in.op].value
 		k := in.k
@@ -300,21 +197,13 @@ func binarySV(in *kinstr, d []float64, s float64, b []float64) {
 	b = b[:len(d)]
 	switch in.op {
 	case opAdd:
-		for i := range d {
-			d[i] = s + b[i]
-		}
+		addSV(d, s, b)
 	case opSub:
-		for i := range d {
-			d[i] = s - b[i]
-		}
+		subSV(d, s, b)
 	case opMul:
-		for i := range d {
-			d[i] = s * b[i]
-		}
+		mulSV(d, s, b)
 	case opDiv:
-		for i := range d {
-			d[i] = s / b[i]
-		}
+		divSV(d, s, b)
 	default:
 		f := ops[in.op].value
 		k := in.k

@@ -80,6 +80,8 @@ const (
 	// Fused kernel operations (value mode only; see fuse.go).
 	opLin  // (a + c) + s*b
 	opQuad // (a + c)^2 * k2 (or / k2)
+	// opGuards is a chain of support guards on a: each test in turn.
+	opGuards
 
 	numOps
 )
@@ -304,6 +306,7 @@ func init() {
 	ops[opLoop] = opInfo{name: "loop"}
 	ops[opLin] = opInfo{name: "lin"}
 	ops[opQuad] = opInfo{name: "quad"}
+	ops[opGuards] = opInfo{name: "guards"}
 }
 
 // isGuard reports whether op is a support guard.

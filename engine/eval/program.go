@@ -50,6 +50,15 @@ type kinstr struct {
 	sa, sb int32
 	k, k2  float64
 	elems  []int32
+	tests  []guardTest // opGuards: the tests, the innermost first
+}
+
+// guardTest is one test of an opGuards: the guard op of slot t against k
+// (in a kop before slots are assigned, t is a node).
+type guardTest struct {
+	op opcode
+	t  int32
+	k  float64
 }
 
 // Flags of the fused kernel operations.
