@@ -431,8 +431,19 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 			// chaotic cost's over a long window, where the walk's slices
 			// at twice the rule's step lose the ridge); otherwise they are
 			// left out, with the reason.
-			if gridResolves && !a.scout && a.ref.grid != nil {
-				quant[k] = r.original.Quantiles[k]
+			if a.scout {
+				// The grid only scouted: the full grid is evaluated on its
+				// box, and its quantiles and plots stand in where it
+				// resolves the density (the banana's y, whose conditional
+				// is bimodal far out, and whose slices the rule loses).
+				if err := a.fullGrid(); err != nil {
+					return err
+				}
+				posInf, layers := a.gridUnresolved()
+				gridResolves = posInf == 0 && len(layers) == 0
+			}
+			if gridResolves && a.ref.grid != nil {
+				quant[k] = a.ref.grid.Stats.Original.Quantiles[k]
 				r.gridCurves = true
 				continue
 			}
@@ -473,6 +484,20 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 			a.avail.dropAt(QuantityAxisErrors, k, CodeNoVariance)
 		}
 	}
+	return nil
+}
+
+// fullGrid evaluates the default grid on the scouting grid's box (with
+// the reference stage's widening and narrowing), for what the rule's walks
+// do not resolve; the reference's grid, box and edge shares become its.
+func (a *analysis) fullGrid() error {
+	a.scout = false
+	if err := a.evaluateGrid(); err != nil {
+		return err
+	}
+	st := &a.ref.grid.Stats
+	a.ref.edgeMass, a.ref.nonFinite, a.ref.tailMass = st.EdgeMass, st.NonFinite, 0
+	a.tr.enter(stageExact)
 	return nil
 }
 

@@ -268,7 +268,7 @@ func (a *analysis) fillGridInfo(res *Result) {
 	}
 	gi.Points = slices.Clone(g.N)
 	gi.NonFinite = a.ref.nonFinite
-	gi.Scouted = a.ref.onNodes()
+	gi.Scouted = a.ref.onNodes() && a.scout
 	for k := 0; k < a.d; k++ {
 		for side := 0; side < 2; side++ {
 			if !a.ref.box.Fixed[k][side] || a.pinned[k][side] {

@@ -60,6 +60,11 @@ func (res *Result) Curve(ctx context.Context, k int, fine bool) (*Curve, error) 
 				acc = sliceFine
 			}
 			lz, cen, err := res.sliceLogZ(ctx, sl, guess, acc)
+			if err == nil && guess != nil && (math.IsNaN(lz) || math.IsInf(lz, 1)) {
+				// A slice rule that went astray from the previous node's
+				// centre: again from the regression's.
+				lz, cen, err = res.sliceLogZ(ctx, sl, nil, acc)
+			}
 			if err != nil {
 				return nil, err
 			}
