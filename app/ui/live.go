@@ -235,6 +235,12 @@ func (p *Page) SetConstant(ctx app.Context, i int, v float64) {
 	p.s.Constants[items[i].Name] = v
 	p.persistSoon(ctx) // the link and the saved work keep the value (once the sliding pauses)
 	if p.s.Model != nil && !p.pending {
+		if p.s.Running {
+			// The running analysis finishes and is drawn; the newest
+			// value is analysed next (runner.sliderPending).
+			p.sliderPending = true
+			return
+		}
 		p.start(ctx)
 	}
 }

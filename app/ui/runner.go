@@ -54,6 +54,11 @@ type runner struct {
 	analyse AnalyseFunc
 	// cancel stops the running analysis (nil when none runs).
 	cancel context.CancelFunc
+	// sliderPending reports a slider moved while an analysis ran: one
+	// analysis for the newest value follows when it ends. A slider does not
+	// cancel the running analysis, so a drag draws a result per analysis
+	// instead of none until it stops; nothing queues beyond the one.
+	sliderPending bool
 	// progress reports that the progress bar shows (the analysis has run
 	// for ProgressDelay).
 	progress bool
@@ -80,6 +85,7 @@ func (p *Page) stop() {
 	}
 	p.s.Cancel()
 	p.progress = false
+	p.sliderPending = false
 }
 
 // start cancels the running analysis and starts one for the current model.
@@ -94,6 +100,7 @@ func (p *Page) start(ctx app.Context) {
 		p.cancel()
 		p.cancel = nil
 	}
+	p.sliderPending = false
 	run, ok := p.s.Begin(time.Now())
 	if !ok {
 		return
@@ -156,6 +163,9 @@ func (p *Page) start(ctx app.Context) {
 					figs = numbered(BuildFigures(res, p.view))
 				}
 				p.figs, p.sections = figs, secs
+			}
+			if p.sliderPending {
+				p.start(ctx)
 			}
 		})
 	})
