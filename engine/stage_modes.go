@@ -39,14 +39,13 @@ func (a *analysis) findModes() error {
 	startMode := make([]int, len(starts)) // the mode each start reached, or -1
 	for si, pk := range starts {
 		startMode[si] = -1
-		ms, err := fit.FindModes(a.ctx, a.pw, [][]float64{pk.Point}, a.modeLo, a.modeHi)
+		m, ok, err := a.searchFrom(pk.Point)
 		if err != nil {
-			if ctxErr := a.ctx.Err(); ctxErr != nil {
-				return ctxErr
-			}
+			return err
+		}
+		if !ok {
 			continue
 		}
-		m := ms[0]
 		if !m.Converged && a.farOutside(m.X) {
 			// Newton's method ran off (a log-density that rises without
 			// bound, as a linear one): that is no mode.
@@ -197,15 +196,11 @@ func (a *analysis) spreadStarts(modes []fit.Mode, masses []float64) ([]fit.Mode,
 			z[k] = modes[best].X[k] + (2*halton(i, primes[k])-1)*half[k]
 			z[k] = math.Min(math.Max(z[k], a.modeLo[k]), a.modeHi[k])
 		}
-		ms, err := fit.FindModes(a.ctx, a.pw, [][]float64{z}, a.modeLo, a.modeHi)
+		m, ok, err := a.searchFrom(z)
 		if err != nil {
-			if ctxErr := a.ctx.Err(); ctxErr != nil {
-				return nil, nil, ctxErr
-			}
-			continue
+			return nil, nil, err
 		}
-		m := ms[0]
-		if !m.Converged || !m.PositiveDefinite || math.IsInf(m.LogDensity, 0) || math.IsNaN(m.LogDensity) {
+		if !ok || !m.Converged || !m.PositiveDefinite || math.IsInf(m.LogDensity, 0) || math.IsNaN(m.LogDensity) {
 			continue
 		}
 		known := false
@@ -309,6 +304,19 @@ func sameMode(x, y, sd []float64, g *grid.Grid) bool {
 		}
 	}
 	return true
+}
+
+// searchFrom runs the mode search on the fitting scale from start; ok is
+// false where it fails (the error is ctx's, when cancelled).
+func (a *analysis) searchFrom(start []float64) (fit.Mode, bool, error) {
+	ms, err := fit.FindModes(a.ctx, a.pw, [][]float64{start}, a.modeLo, a.modeHi)
+	if err != nil {
+		if ctxErr := a.ctx.Err(); ctxErr != nil {
+			return fit.Mode{}, false, ctxErr
+		}
+		return fit.Mode{}, false, nil
+	}
+	return ms[0], true, nil
 }
 
 func sq(x float64) float64 { return x * x }

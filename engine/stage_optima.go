@@ -50,15 +50,11 @@ func (a *analysis) lesserOptima(rest []grid.Peak) error {
 		if i == maxLesserStarts {
 			break
 		}
-		ms, err := fit.FindModes(a.ctx, a.pw, [][]float64{pk.Point}, a.modeLo, a.modeHi)
+		m, ok, err := a.searchFrom(pk.Point)
 		if err != nil {
-			if ctxErr := a.ctx.Err(); ctxErr != nil {
-				return ctxErr
-			}
-			continue
+			return err
 		}
-		m := ms[0]
-		if !m.Converged || !m.PositiveDefinite || m.OnBound || math.IsNaN(m.LogDensity) {
+		if !ok || !m.Converged || !m.PositiveDefinite || m.OnBound || math.IsNaN(m.LogDensity) {
 			continue
 		}
 		known := false
