@@ -118,19 +118,7 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 				m2.Density = append(m2.Density, orig[u*nj+v])
 			}
 		}
-		for meth, q := range fits {
-			if q != nil {
-				m2.Ellipses[Method(meth)] = a.ellipses(q, i, j)
-			}
-		}
-		if len(cands) > 0 {
-			m2.CandidateEllipses = make([][3][][2]float64, len(cands))
-		}
-		for c, q := range cands {
-			if q != nil {
-				m2.CandidateEllipses[c] = a.ellipses(q, i, j)
-			}
-		}
+		a.addEllipses(&m2, fits, cands)
 		pl.Pairs = append(pl.Pairs, m2)
 	}
 	return pl, nil
@@ -152,6 +140,24 @@ func (a *analysis) plotted(res *Result) (fits [NumMethods]*gauss.Prepared, cands
 		}
 	}
 	return fits, cands
+}
+
+// addEllipses gives the pair m2 the contours of each fit and candidate
+// that exists.
+func (a *analysis) addEllipses(m2 *Marginal2D, fits [NumMethods]*gauss.Prepared, cands []*gauss.Prepared) {
+	for meth, q := range fits {
+		if q != nil {
+			m2.Ellipses[Method(meth)] = a.ellipses(q, m2.I, m2.J)
+		}
+	}
+	if len(cands) > 0 {
+		m2.CandidateEllipses = make([][3][][2]float64, len(cands))
+	}
+	for c, q := range cands {
+		if q != nil {
+			m2.CandidateEllipses[c] = a.ellipses(q, m2.I, m2.J)
+		}
+	}
 }
 
 // ellipses returns the fit's contours holding contourMasses of its (i, j)

@@ -141,19 +141,7 @@ func (a *analysis) plotsFromRule(res *Result) (*Plots, error) {
 					m2.Density[v*len(xs)+u] = dens[u*len(ys)+v]
 				}
 			}
-			for meth, g := range fits {
-				if g != nil {
-					m2.Ellipses[Method(meth)] = a.ellipses(g, i, j)
-				}
-			}
-			if len(cands) > 0 {
-				m2.CandidateEllipses = make([][3][][2]float64, len(cands))
-			}
-			for c, g := range cands {
-				if g != nil {
-					m2.CandidateEllipses[c] = a.ellipses(g, i, j)
-				}
-			}
+			a.addEllipses(&m2, fits, cands)
 			pl.Pairs = append(pl.Pairs, m2)
 		}
 	}
