@@ -89,6 +89,15 @@ func SetValue(id, value string) error {
 	return el.Set("value", value)
 }
 
+// SetText sets the text content of the element with the given id.
+func SetText(id, text string) error {
+	el, err := element(id)
+	if err != nil {
+		return err
+	}
+	return el.Set("textContent", text)
+}
+
 // Value returns the value property of the element with the given id.
 func Value(id string) (string, error) {
 	el, err := element(id)

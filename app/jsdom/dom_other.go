@@ -8,6 +8,9 @@ func DrawRGBA(canvasID string, width, height int, pixels []byte) error { return 
 // SetValue sets an element's value; natively it returns ErrNoBrowser.
 func SetValue(id, value string) error { return ErrNoBrowser }
 
+// SetText sets an element's text; natively it returns ErrNoBrowser.
+func SetText(id, text string) error { return ErrNoBrowser }
+
 // Value reads an element's value; natively it returns ErrNoBrowser.
 func Value(id string) (string, error) { return "", ErrNoBrowser }
 

@@ -145,6 +145,14 @@ func (l *LivePanel) Render() app.UI {
 						return
 					}
 					l.Host.SetConstant(ctx, i, v)
+					// Only the slider's label changes until the analysis's
+					// result arrives: an input event would otherwise render
+					// the whole page again (go-app updates the handler's
+					// component and every ancestor), 100 ms and more on a
+					// drag's every input, which starved the analysis.
+					if jsdom.SetText(id+"-value", plot.FormatNumber(v, 4)) == nil {
+						ctx.PreventUpdate()
+					}
 				}),
 			app.Span().ID(id+"-value").Class("live-value mono").Text(plot.FormatNumber(it.Value, 4)),
 		))
