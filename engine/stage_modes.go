@@ -270,13 +270,13 @@ func (a *analysis) spreadStarts(modes []fit.Mode, masses []float64) ([]fit.Mode,
 		}
 	}
 	if higher >= 0 {
-		x := make([]float64, d)
-		for k, z := range modes[higher].X {
-			x[k] = a.maps[k].ToOriginal(z)
-		}
+		// pointString takes the fitting scale (mapping the point to the
+		// original one itself: mapping it here too printed e^(e^z), +Inf
+		// for a mode at x = 3934 on the log scale; fuzz corpus
+		// e48cba0877d622c8).
 		a.diag.add(CodeStartsDisagree, SeverityWarning,
 			"Starts spread around the grid's highest point found a higher mode, at %s (log p %.6g against %.6g): the grid did not show it; the modes, the Laplace fit and the exact results are built around the highest.",
-			a.pointString(x), modes[higher].LogDensity, modes[best].LogDensity)
+			a.pointString(modes[higher].X), modes[higher].LogDensity, modes[best].LogDensity)
 	}
 	return modes, masses, nil
 }
