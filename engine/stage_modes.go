@@ -259,7 +259,10 @@ func (a *analysis) spreadStarts(modes []fit.Mode, masses []float64) ([]fit.Mode,
 	modes, masses, added = keep, keptMasses, kept
 	for i := range modes {
 		if !slices.Contains(added, i) {
-			masses[i] *= 1 - newShare
+			// The shares add up to 1 up to rounding: a new mode holding
+			// all of it left 1 - newShare = -1e-16 and negative masses
+			// (fuzz corpus 28c82dc02dfafb0a).
+			masses[i] *= math.Max(0, 1-newShare)
 		}
 	}
 	higher := -1
