@@ -22,7 +22,10 @@ import (
 // must pass the honesty checks of honesty_test.go: a fit only with a
 // finite mean and a positive-definite covariance, KL divergences not below
 // zero, coverage in [0, 1], the ELBO not above log Z, and a reason for
-// every absent quantity. The seed corpus is testdata/fuzz/FuzzAnalyse.
+// every absent quantity (candidates' scores included). Options unsound by
+// construction (a candidate Gaussian with a non-finite or non-positive
+// spread or a correlation of one, an empty range to vary) must be refused
+// with ErrOptions. The seed corpus is testdata/fuzz/FuzzAnalyse.
 func FuzzAnalyse(f *testing.F) {
 	// A few generated seeds besides the corpus files, so that the target
 	// starts from varied models even without them.
@@ -35,22 +38,35 @@ func FuzzAnalyse(f *testing.F) {
 		f.Add(b)
 	}
 	f.Fuzz(func(t *testing.T, data []byte) {
-		src, opts := generateModel(data)
+		fc := generateModel(data)
+		src, opts := fc.src, fc.opts
 		m, err := model.Parse(src)
 		if err != nil {
 			// The generator writes only what the language accepts; a model
 			// it rejects is a bug of the generator or of the front end.
 			t.Fatalf("generated model does not parse: %v\n%s", err, src)
 		}
+		if fc.slider != nil {
+			// A slider's value, at or beyond its range's ends: the page
+			// analyses model.WithConstant's model.
+			if m, err = model.WithConstant(m, fuzzConstName, *fc.slider); err != nil {
+				t.Fatalf("constant %s = %v: %v\n%s", fuzzConstName, *fc.slider, err, src)
+			}
+		}
 		ctx, cancel := context.WithTimeout(context.Background(), fuzzTimeout)
 		defer cancel()
 		res, err := Analyse(ctx, m, opts, nil)
+		if fc.badOptions != "" && !errors.Is(err, ErrOptions) {
+			t.Fatalf("options with %s accepted (error %v):\n%s\noptions %+v", fc.badOptions, err, src, opts)
+		}
 		if err != nil {
 			switch {
 			case errors.Is(err, context.DeadlineExceeded):
 				t.Fatalf("analysis took more than %v:\n%s\noptions %+v", fuzzTimeout, src, opts)
 			case errors.Is(err, grid.ErrNoBox), errors.Is(err, grid.ErrNoMass):
 				return // nothing to analyse, and the error says so
+			case errors.Is(err, ErrOptions) && (fc.badOptions != "" || fc.maybeBad):
+				return // refused, as it must be
 			}
 			t.Fatalf("analysis failed: %v\n%s\noptions %+v", err, src, opts)
 		}
@@ -96,18 +112,24 @@ var (
 	fuzzSupports  = []string{"", " in [0, inf]", " in [0, 1]", " in [-2, 3]", " in [1e6, inf]", " in [-inf, 0]"}
 )
 
-// generateModel turns bytes into a model and its options.
-func generateModel(data []byte) (string, Options) {
+// generateModel turns bytes into a model and its options. The base model
+// (parameters, supports, scales, grid points and a density) is read first;
+// the bytes left after it choose the forms of fuzz_dyn_test.go (constants
+// to vary, functions, data vectors with indexing, repeat and ode blocks,
+// sums that EP splits into factors, candidate Gaussians): an input that
+// ends with the base model gives the base model alone, as before those
+// forms were added, so the older corpus files keep their meaning.
+func generateModel(data []byte) fuzzCase {
 	c := &choices{b: data}
 	d := 1 + c.pick(2)
 	if c.pick(16) == 0 {
 		d = 3
 	}
-	var b strings.Builder
+	var params strings.Builder
 	opts := Options{Params: make([]ParamOptions, d)}
 	for k := 0; k < d; k++ {
 		sup := c.pick(len(fuzzSupports))
-		fmt.Fprintf(&b, "param %s%s\n", fuzzNames[k], fuzzSupports[sup])
+		fmt.Fprintf(&params, "param %s%s\n", fuzzNames[k], fuzzSupports[sup])
 		switch scale := c.pick(3); {
 		case scale == 1 && (sup == 1 || sup == 4):
 			opts.Params[k].Scale = Log
@@ -124,35 +146,61 @@ func generateModel(data []byte) (string, Options) {
 	}
 	g := &exprGen{c: c, d: d}
 	e := g.expr(4)
-	switch c.pick(4) {
+	form := c.pick(4)
+	var density strings.Builder
+	switch form {
 	case 0:
-		b.WriteString(e)
+		density.WriteString(e)
 	case 1:
 		// A random perturbation of a normal density, proper far more often.
-		b.WriteString(e)
+		density.WriteString(e)
 		for k := 0; k < d; k++ {
-			fmt.Fprintf(&b, " - %s^2/2", fuzzNames[k])
+			fmt.Fprintf(&density, " - %s^2/2", fuzzNames[k])
 		}
 	case 2:
-		b.WriteString("cost " + e)
+		density.WriteString("cost " + e)
 	case 3:
-		b.WriteString(e)
+		density.WriteString(e)
 		for k := 0; k < d; k++ {
-			fmt.Fprintf(&b, " + ld_normal(%s, 0, 3)", fuzzNames[k])
+			fmt.Fprintf(&density, " + ld_normal(%s, 0, 3)", fuzzNames[k])
 		}
 	}
-	b.WriteString("\n")
-	return b.String(), opts
+	fc := fuzzCase{opts: opts}
+	x := g.extras(&fc)
+	if x.term != "" {
+		if form == 2 {
+			density.WriteString(" - (" + x.term + ")")
+		} else {
+			density.WriteString(" + " + x.term)
+		}
+	}
+	fc.src = x.head + params.String() + x.prelude + density.String() + "\n"
+	return fc
 }
 
 type exprGen struct {
 	c *choices
 	d int
+	// names, when set, replace the parameters as the expressions'
+	// variables (a function's arguments); leaves are further names an
+	// expression may use (a constant, a block's state).
+	names  []string
+	leaves []string
 }
 
-func (g *exprGen) param() string { return fuzzNames[g.c.pick(g.d)] }
+func (g *exprGen) param() string {
+	if g.names != nil {
+		return g.names[g.c.pick(len(g.names))]
+	}
+	return fuzzNames[g.c.pick(g.d)]
+}
 
 func (g *exprGen) leaf() string {
+	// Without further leaves the choices are those of the base model's
+	// generator (so the older corpus files keep their meaning).
+	if len(g.leaves) > 0 && g.c.pick(3) == 0 {
+		return g.leaves[g.c.pick(len(g.leaves))]
+	}
 	if g.c.pick(2) == 0 {
 		return g.param()
 	}

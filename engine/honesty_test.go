@@ -152,7 +152,18 @@ func honesty(res *Result, d int) []string {
 			absentNeedsReason(m.quantity(), "the "+m.Key()+" fit")
 			continue
 		}
-		for _, s := range fitHonesty(m, f, res, d, reason(QuantityCoverage), reason(QuantityFitMoments)) {
+		for _, s := range fitHonesty(m, m.Key(), f, res, d, reason(QuantityCoverage), reason(QuantityFitMoments)) {
+			fail("%s", s)
+		}
+	}
+	// The candidates: scored like fits, and always there (Analyse refuses
+	// a candidate it cannot score).
+	for _, c := range res.Candidates {
+		if c.Fit == nil {
+			fail("candidate %s has no scores", c.Name)
+			continue
+		}
+		for _, s := range fitHonesty(ForwardKL, "candidate "+c.Name, c.Fit, res, d, reason(QuantityCoverage), reason(QuantityFitMoments)) {
 			fail("%s", s)
 		}
 	}
@@ -207,9 +218,10 @@ func recordHonesty(res *Result, av *availability) []string {
 // fitHonesty checks one fit that is present: its normal on the fitting
 // scale, and its moments on the original scale, which may be absent only
 // for a reason (momentReason).
-func fitHonesty(m Method, f *Fit, res *Result, d int, coverageReason, momentReason bool) []string {
+// label names the fit in the sentences.
+func fitHonesty(m Method, label string, f *Fit, res *Result, d int, coverageReason, momentReason bool) []string {
 	var bad []string
-	fail := func(format string, args ...any) { bad = append(bad, m.Key()+": "+fmt.Sprintf(format, args...)) }
+	fail := func(format string, args ...any) { bad = append(bad, label+": "+fmt.Sprintf(format, args...)) }
 	fs := &f.FittingScale
 	if len(f.Mean) != d || len(f.Cov) != d || len(f.SD) != d || len(f.Interval95) != d || len(fs.Mean) != d || len(fs.Cov) != d || len(fs.SD) != d {
 		fail("moments of the wrong length")

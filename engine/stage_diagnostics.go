@@ -89,7 +89,12 @@ func (a *analysis) gridDiagnostics() {
 	}
 	o := &a.ref.original
 	var bad []string
-	if a.ref.logZErr > logZErrWarn {
+	switch {
+	case math.IsInf(a.ref.logZErr, 1):
+		// The half-resolution grid found no mass (fuzz corpus
+		// 5edb867aae134b32): the change has no size to print.
+		bad = append(bad, "log Z beyond measure (the half-resolution grid misses the mass)")
+	case a.ref.logZErr > logZErrWarn:
 		bad = append(bad, fmt.Sprintf("log Z by about %.2g", a.ref.logZErr))
 	}
 	for k := 0; k < a.d; k++ {

@@ -257,7 +257,10 @@ func (a *analysis) spreadStarts(modes []fit.Mode, masses []float64) ([]fit.Mode,
 	modes, masses, added = keep, keptMasses, kept
 	for i := range modes {
 		if !slices.Contains(added, i) {
-			masses[i] *= 1 - newShare
+			// The shares add up to 1 up to rounding: a new mode holding
+			// all of it left 1 - newShare = -1e-16 and negative masses
+			// (fuzz corpus 28c82dc02dfafb0a).
+			masses[i] *= math.Max(0, 1-newShare)
 		}
 	}
 	higher := -1
@@ -268,13 +271,13 @@ func (a *analysis) spreadStarts(modes []fit.Mode, masses []float64) ([]fit.Mode,
 		}
 	}
 	if higher >= 0 {
-		x := make([]float64, d)
-		for k, z := range modes[higher].X {
-			x[k] = a.maps[k].ToOriginal(z)
-		}
+		// pointString takes the fitting scale (mapping the point to the
+		// original one itself: mapping it here too printed e^(e^z), +Inf
+		// for a mode at x = 3934 on the log scale; fuzz corpus
+		// e48cba0877d622c8).
 		a.diag.add(CodeStartsDisagree, SeverityWarning,
 			"Starts spread around the grid's highest point found a higher mode, at %s (log p %.6g against %.6g): the grid did not show it; the modes, the Laplace fit and the exact results are built around the highest.",
-			a.pointString(x), modes[higher].LogDensity, modes[best].LogDensity)
+			a.pointString(modes[higher].X), modes[higher].LogDensity, modes[best].LogDensity)
 	}
 	return modes, masses, nil
 }

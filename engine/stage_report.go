@@ -128,7 +128,11 @@ func (a *analysis) pushFits() {
 		fd.orig = p
 		var over []string
 		for k := 0; k < a.d; k++ {
-			ok := finite(p.mean[k]) && p.sd[k] > 0 && finite(p.sd[k]) && p.cov[k][k] > 0
+			// The variance must be a positive normal double, as the
+			// exact one (dropOverflow): a subnormal one has lost its
+			// precision, and its sd no longer squares to it (fuzz corpus
+			// cb79ff2f50f93a44: a variance of 1.2e-320).
+			ok := finite(p.mean[k]) && p.sd[k] > 0 && finite(p.sd[k]) && p.cov[k][k] >= 0x1p-1022
 			for l := 0; l < a.d; l++ {
 				ok = ok && finite(p.cov[k][l])
 			}

@@ -374,3 +374,50 @@ func SaveSessionItem(key, value string) error {
 	_, err = st.Call("setItem", key, value)
 	return err
 }
+
+// OnLeave calls f when the page may be about to go away: the window's
+// pagehide (the tab closes, the page is left or reloaded) and the
+// document becoming hidden (another tab, the window minimised; on mobile
+// the last moment a page is sure to run). f runs synchronously in the
+// browser's event handler, before the page is gone: it must do its work
+// at once, not hand it to the page's goroutine.
+func OnLeave(f func()) error {
+	fn, err := safejs.FuncOf(func(this safejs.Value, args []safejs.Value) any {
+		if len(args) > 0 {
+			if t, err := args[0].Get("type"); err == nil {
+				if s, err := t.String(); err == nil && s == "visibilitychange" && !documentHidden() {
+					return nil
+				}
+			}
+		}
+		f()
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	if _, err := safejs.Global().Call("addEventListener", "pagehide", fn.Value()); err != nil {
+		return err
+	}
+	doc, err := safejs.Global().Get("document")
+	if err != nil {
+		return err
+	}
+	_, err = doc.Call("addEventListener", "visibilitychange", fn.Value())
+	return err
+}
+
+// documentHidden reports whether the document's visibilityState is
+// "hidden".
+func documentHidden() bool {
+	doc, err := safejs.Global().Get("document")
+	if err != nil {
+		return false
+	}
+	v, err := doc.Get("visibilityState")
+	if err != nil {
+		return false
+	}
+	s, err := v.String()
+	return err == nil && s == "hidden"
+}

@@ -58,6 +58,10 @@ func RemoveItem(key string) error { return ErrNoBrowser }
 // ErrNoBrowser.
 func OnStorage(f func()) error { return ErrNoBrowser }
 
+// OnLeave watches for the page going away or hidden; natively it returns
+// ErrNoBrowser.
+func OnLeave(f func()) error { return ErrNoBrowser }
+
 // OnHashChange watches the URL fragment; natively it returns ErrNoBrowser.
 func OnHashChange(f func()) error { return ErrNoBrowser }
 

@@ -41,13 +41,31 @@ const (
 	// LogDensityBlock (whole lines of the grid, at least one), as the
 	// engine's grid does.
 	timeGridBlock = 1024
+	// APIDefaultMaxSeconds is analyse's time bound when options give none
+	// (the command line's --max-time default).
+	APIDefaultMaxSeconds = 120
 )
 
 // Errors of the API (the Promise rejects with their text).
 var (
 	ErrAPIArgs = errors.New("bellcheck: bad arguments")
 	ErrAPIDim  = errors.New("bellcheck: timeGrid needs a model of two parameters")
+	// ErrAPITime means an analysis beyond analyse's time bound: forecast
+	// to take longer (not started) or stopped when it overran.
+	ErrAPITime = errors.New("bellcheck: time bound")
 )
+
+// apiAnalyse runs analyse's analyses (engine.Analyse; tests set another).
+var apiAnalyse AnalyseFunc = engine.Analyse
+
+// apiOptionsJSON is analyse's options: engine.Options' JSON with the time
+// bound beside it.
+type apiOptionsJSON struct {
+	engine.Options
+	// MaxSeconds bounds the analysis's time in seconds (nil: the default,
+	// APIDefaultMaxSeconds; 0: no bound).
+	MaxSeconds *float64 `json:"max_seconds,omitempty"`
+}
 
 // apiMu runs the API's calls one after another, so that a script firing
 // many calls does not hold many analyses in memory at once.
@@ -69,9 +87,13 @@ func InstallAPI() error {
 // model text (a string; null is refused) and optionally of the options, an
 // object in the shape of engine.Options' JSON ({"params": [{"scale": "log",
 // "points": 201, "lo": 0, "hi": 5}, ...], "plots": false}; null or
-// undefined means the defaults). Options with unknown fields, of the wrong
-// type, or beyond the engine's limits for the model (engine.CheckOptions)
-// are refused with the reason. It returns the result as
+// undefined means the defaults), and "max_seconds", the time bound
+// (APIDefaultMaxSeconds when absent, 0 for none): an analysis forecast to
+// take longer (engine.EstimateWork) is not started, and one that runs
+// longer is cancelled, both with an ErrAPITime error saying so. The bound
+// counts from the analysis's start: calls wait for each other first.
+// Options with unknown fields, of the wrong type, or beyond the engine's
+// limits for the model (engine.CheckOptions) are refused with the reason. It returns the result as
 // the command line's JSON (engine.Result's MarshalJSON, without plots unless
 // asked for). A model error gives an error whose text starts with the
 // line:column of the first problem.
@@ -84,8 +106,9 @@ func APIAnalyse(args []string) (string, error) {
 		return "", err
 	}
 	var opts engine.Options
+	limit := time.Duration(APIDefaultMaxSeconds) * time.Second
 	if len(args) == 2 && args[1] != "" && args[1] != "null" {
-		if opts, err = apiOptions(args[1]); err != nil {
+		if opts, limit, err = apiOptions(args[1]); err != nil {
 			return "", err
 		}
 	}
@@ -98,8 +121,7 @@ func APIAnalyse(args []string) (string, error) {
 	}
 	apiMu.Lock()
 	defer apiMu.Unlock()
-	y := newYielder(SliceLength)
-	res, err := engine.Analyse(context.Background(), m, opts, func(engine.Progress) { y.Yield() })
+	res, err := apiBounded(m, opts, limit)
 	if err != nil {
 		return "", err
 	}
@@ -132,17 +154,61 @@ func apiString(arg, name string) (string, error) {
 	return s, nil
 }
 
-// apiOptions decodes and checks the options of analyse.
-func apiOptions(arg string) (engine.Options, error) {
-	var o engine.Options
+// apiBounded runs the analysis within limit (0: no bound): it forecasts
+// the work first and refuses one forecast to take longer, and cancels one
+// that overruns.
+func apiBounded(m *model.Model, opts engine.Options, limit time.Duration) (*engine.Result, error) {
+	ctx, cancel := context.Background(), context.CancelFunc(func() {})
+	if limit > 0 {
+		est, err := engine.EstimateWork(ctx, m, opts)
+		if err != nil {
+			return nil, err
+		}
+		if est.Total > limit {
+			msg := fmt.Sprintf("the analysis would take %v, more than max_seconds %v; not started: allow more time with max_seconds", est, limit.Seconds())
+			if n := engine.PointsWithin(len(m.Params), est.PerPoint, limit); n > 0 {
+				msg += fmt.Sprintf(", or use a coarser grid (points: %d per parameter fits)", n)
+			}
+			return nil, fmt.Errorf("%w: %s", ErrAPITime, msg)
+		}
+		ctx, cancel = context.WithTimeout(ctx, limit)
+	}
+	defer cancel()
+	y := newYielder(SliceLength)
+	began := time.Now()
+	res, err := apiAnalyse(ctx, m, opts, func(engine.Progress) { y.Yield() })
+	if err != nil && errors.Is(err, context.DeadlineExceeded) {
+		return nil, fmt.Errorf("%w: the analysis was stopped after %.1f s, its max_seconds %v; nothing was returned: allow more time with max_seconds (0 for no bound), or use a coarser grid", ErrAPITime, time.Since(began).Seconds(), limit.Seconds())
+	}
+	return res, err
+}
+
+// apiOptions decodes and checks the options of analyse, and returns them
+// with the time bound.
+func apiOptions(arg string) (engine.Options, time.Duration, error) {
+	var oj apiOptionsJSON
+	limit := time.Duration(APIDefaultMaxSeconds) * time.Second
 	if arg[0] != '{' {
-		return o, fmt.Errorf("%w: options must be an object such as {\"params\": [{\"points\": 201}]}", ErrAPIArgs)
+		return oj.Options, limit, fmt.Errorf("%w: options must be an object such as {\"params\": [{\"points\": 201}]}", ErrAPIArgs)
 	}
 	dec := json.NewDecoder(bytes.NewReader([]byte(arg)))
 	dec.DisallowUnknownFields()
-	if err := dec.Decode(&o); err != nil {
-		return o, fmt.Errorf("%w: options: %v", ErrAPIArgs, err)
+	if err := dec.Decode(&oj); err != nil {
+		return oj.Options, limit, fmt.Errorf("%w: options: %v", ErrAPIArgs, err)
 	}
+	if ms := oj.MaxSeconds; ms != nil {
+		// A year at most: far beyond any analysis, and within a Duration.
+		if !(*ms >= 0 && *ms <= 365*24*3600) {
+			return oj.Options, limit, fmt.Errorf("%w: options: max_seconds %v, want a number of seconds from 0 (no bound) to a year", ErrAPIArgs, *ms)
+		}
+		limit = time.Duration(*ms * float64(time.Second))
+	}
+	o, err := checkAPIOptions(oj.Options)
+	return o, limit, err
+}
+
+// checkAPIOptions checks the per-parameter options of analyse.
+func checkAPIOptions(o engine.Options) (engine.Options, error) {
 	if len(o.Params) > model.MaxParams {
 		return o, fmt.Errorf("%w: options: %d parameter settings, at most %d", ErrAPIArgs, len(o.Params), model.MaxParams)
 	}

@@ -1,12 +1,15 @@
 package ui
 
 import (
+	"context"
 	"encoding/json"
 	"errors"
 	"math"
 	"strings"
 	"testing"
+	"time"
 
+	"bellcheck/engine"
 	"bellcheck/engine/model"
 )
 
@@ -177,6 +180,70 @@ func TestFillCopies(t *testing.T) {
 		}
 		if v[n] != -1 {
 			t.Fatalf("n=%d: wrote past the end", n)
+		}
+	}
+}
+
+// analyse's time bound: max_seconds (default APIDefaultMaxSeconds, 0 for
+// none) refuses an analysis forecast to take longer and cancels one that
+// overruns, rejecting with ErrAPITime and the reason.
+func TestAPIAnalyseTimeBound(t *testing.T) {
+	defer func(f AnalyseFunc) { apiAnalyse = f }(apiAnalyse)
+	var deadline time.Time
+	var hasDeadline bool
+	var ctxErr error
+	apiAnalyse = func(ctx context.Context, m *model.Model, o engine.Options, pr engine.ProgressFunc) (*engine.Result, error) {
+		deadline, hasDeadline = ctx.Deadline()
+		if hasDeadline {
+			<-ctx.Done() // an analysis that would run on past its bound
+			ctxErr = ctx.Err()
+			return nil, ctxErr
+		}
+		return engine.Analyse(ctx, m, o, pr)
+	}
+	src := "param x\nld_normal(x, 0, 1)\n"
+
+	// Overrunning: cancelled when the bound passes, with a clear message.
+	_, err := APIAnalyse(jsArgs(t, src, map[string]any{"max_seconds": 0.5}))
+	if !errors.Is(err, ErrAPITime) || !strings.Contains(err.Error(), "stopped after") || !strings.Contains(err.Error(), "max_seconds 0.5") {
+		t.Errorf("an overrun: %v", err)
+	}
+	if !errors.Is(ctxErr, context.DeadlineExceeded) {
+		t.Errorf("the overrunning analysis was not cancelled: %v", ctxErr)
+	}
+	// The default bound is the command line's two minutes.
+	start := time.Now()
+	apiAnalyse = func(ctx context.Context, m *model.Model, o engine.Options, pr engine.ProgressFunc) (*engine.Result, error) {
+		deadline, hasDeadline = ctx.Deadline()
+		return engine.Analyse(ctx, m, o, pr)
+	}
+	if _, err := APIAnalyse(jsArgs(t, src)); err != nil {
+		t.Fatal(err)
+	}
+	if want := start.Add(APIDefaultMaxSeconds * time.Second); !hasDeadline || deadline.Before(want) || deadline.After(want.Add(time.Minute)) {
+		t.Errorf("default bound: deadline %v (set %v), want about %v", deadline, hasDeadline, want)
+	}
+	// 0: no bound.
+	if _, err := APIAnalyse(jsArgs(t, src, map[string]any{"max_seconds": 0})); err != nil || hasDeadline {
+		t.Errorf("max_seconds 0: error %v, deadline set %v", err, hasDeadline)
+	}
+	// Forecast beyond the bound: not started. 1501 x 1501 points cannot
+	// be evaluated in a millisecond.
+	apiAnalyse = func(ctx context.Context, m *model.Model, o engine.Options, pr engine.ProgressFunc) (*engine.Result, error) {
+		t.Error("an analysis forecast beyond its bound was started")
+		return nil, errors.New("started")
+	}
+	two := map[string]any{"points": 1501}
+	_, err = APIAnalyse(jsArgs(t, "param a\nparam b\nld_normal(a, 0, 1) + ld_normal(b, 0, 1)\n",
+		map[string]any{"params": []any{two, two}, "max_seconds": 0.001}))
+	if !errors.Is(err, ErrAPITime) || !strings.Contains(err.Error(), "would take") || !strings.Contains(err.Error(), "not started") {
+		t.Errorf("a forecast beyond the bound: %v", err)
+	}
+	// Bad bounds are refused as arguments.
+	for _, v := range []any{-1, "10", 1e12, map[string]any{}} {
+		_, err := APIAnalyse(jsArgs(t, src, map[string]any{"max_seconds": v}))
+		if !errors.Is(err, ErrAPIArgs) || !strings.Contains(err.Error(), "max_seconds") {
+			t.Errorf("max_seconds %v: %v", v, err)
 		}
 	}
 }

@@ -36,6 +36,7 @@ const (
 	StateInvalid = "invalid" // the text has errors; an older result may show, dimmed
 	StateError   = "error"   // the newest analysis failed
 	StateReady   = "ready"   // the result shown is the answer for the text and options
+	StateStopped = "stopped" // the user stopped the analysis; an older result may show, dimmed
 )
 
 // Mode is the page's view as a link chose it.
@@ -58,6 +59,8 @@ func (p *Page) OutputState() string {
 	switch {
 	case p.s.Running:
 		return StateRunning
+	case p.stopped && !p.pending:
+		return StateStopped
 	case p.pending:
 		return StatePending
 	case p.s.Errors != nil:
@@ -108,6 +111,17 @@ func (p *Page) openEmbedded(ctx app.Context) {
 	p.mode.Embed = true
 	p.initial = st.Model
 	p.loadLink(ctx, st)
+	p.noticeLinkProblems(st)
+}
+
+// noticeLinkProblems says in the notice which of an embed link's settings
+// were set back to their defaults (loadLink does so for every option the
+// engine would refuse), as the full page does; no notice when there are
+// none.
+func (p *Page) noticeLinkProblems(st share.State) {
+	if problems := LinkProblems(st); len(problems) > 0 {
+		p.notice = linkNotice(Notice{}, problems)
+	}
 }
 
 // ToggleEditor folds or unfolds the embed view's editor.
@@ -185,6 +199,7 @@ func (p *Page) renderEmbed() app.UI {
 type EmbedHost interface {
 	Host
 	NoticeHost
+	StopHost
 	// ToggleEditor folds or unfolds the editor.
 	ToggleEditor(ctx app.Context)
 }
@@ -224,7 +239,7 @@ func (v *EmbedView) Render() app.UI {
 				app.Raw(logoSVG),
 				app.Span().Class("wordmark").Text("bellcheck"),
 			),
-			&RunStatus{Run: v.Run},
+			&RunStatus{Host: v.Host, Run: v.Run},
 			app.A().ID(OpenFullID).Class("open-full").Href(v.FullLink).Target("_blank").Rel("noopener").
 				Title("Open this model in the full calculator, in a new tab").Text("Open in bellcheck ↗"),
 		),

@@ -90,6 +90,7 @@ func (p *Page) OnMount(ctx app.Context) {
 	_ = jsdom.OnHashChange(func() {
 		ctx.Dispatch(func(ctx app.Context) { p.OpenLink(ctx) })
 	})
+	_ = jsdom.OnLeave(p.flushPending) // persist.go
 	p.open(ctx)
 	if !p.mode.Embed {
 		p.watchDrops(ctx)
@@ -140,6 +141,7 @@ func (p *Page) OpenLink(ctx app.Context) {
 		}
 		p.setMode(link.View)
 		p.loadLink(ctx, link)
+		p.noticeLinkProblems(link) // embed.go
 		return
 	}
 	cur := p.shareState()
@@ -380,7 +382,7 @@ func (p *Page) Render() app.UI {
 				app.Span().Class("tagline").Text("the exact posterior beside its Gaussian approximations"),
 			),
 			app.Div().Class("top-right").Body(
-				&RunStatus{Run: p.runState()},
+				&RunStatus{Host: p, Run: p.runState()},
 				&Toolbar{Host: p, EmbedReadOnly: p.tools.embedRO, EmbedFolded: p.tools.embedFold,
 					EmbedCode: p.openEmbedSnippet(), Export: p.exportChoices(), Layout: p.embedLayoutPanel()},
 			),
@@ -408,6 +410,7 @@ func (p *Page) runState() RunState {
 		Running: p.s.Running, ShowProgress: p.progress, Fraction: p.s.Progress.Fraction, Stage: p.s.Progress.Stage,
 		Pending: p.pending, Invalid: p.s.Errors != nil, Failed: p.s.RunErr != nil,
 		HasResult: p.s.Result != nil, Elapsed: p.s.Elapsed,
+		Stopped: p.stopped, StoppedAfter: p.stoppedAfter,
 	}
 }
 

@@ -157,3 +157,17 @@ func linkProblem(err error) string {
 	}
 	return "it is not valid."
 }
+
+// flushPending saves at once a change still waiting to be saved: text
+// typed less than CheckDelay ago (not yet checked) or checked less than
+// PersistDelay ago. The page calls it when it is left, closed or hidden
+// (jsdom.OnLeave), where the waiting timer would never fire and the last
+// edit would be lost. It runs in the browser's event handler, so it writes
+// before the page goes.
+func (p *Page) flushPending() {
+	if p.browser == nil || !(p.persistPending || p.pending) {
+		return
+	}
+	p.persistSeq++ // the waiting timer has nothing left to do
+	p.persist()
+}

@@ -2,6 +2,9 @@ package ui
 
 import (
 	"context"
+	"fmt"
+	"math"
+	"strings"
 	"time"
 
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
@@ -65,6 +68,10 @@ type runner struct {
 	// figTime and drawTime are how long the page took to draw the last
 	// result's figures and to put it on the page.
 	figTime, drawTime time.Duration
+	// stopped reports that the user stopped the last analysis (StopAnalysis)
+	// after stoppedAfter; starting another clears it.
+	stopped      bool
+	stoppedAfter time.Duration
 }
 
 // PageTimes are the page's own timings of the last result.
@@ -105,6 +112,7 @@ func (p *Page) start(ctx app.Context) {
 	if !ok {
 		return
 	}
+	p.stopped = false
 	actx, cancel := context.WithCancel(context.Background())
 	p.cancel = cancel
 	p.progress = false
@@ -169,6 +177,38 @@ func (p *Page) start(ctx app.Context) {
 			}
 		})
 	})
+}
+
+// StopAnalysis implements StopHost: it cancels the running analysis at the
+// user's word and says so in the notice. The text, the options and the
+// results shown stay as they are (dimmed: they are not the current
+// model's); nothing is written or lost.
+func (p *Page) StopAnalysis(ctx app.Context) {
+	if !p.s.Running {
+		return
+	}
+	took := time.Since(p.s.Started)
+	stage := stageName(p.s.Progress.Stage)
+	if p.s.Progress.Stage == "" {
+		stage = "starting"
+	}
+	frac := p.s.Progress.Fraction
+	p.stop()
+	p.stopped, p.stoppedAfter = true, took
+	p.notice = Notice{Text: fmt.Sprintf("You stopped the analysis after %s (%.0f %% done, at: %s). Your model and settings are as you left them; the results shown, dimmed, are from the last analysis that finished. Run it again from the status line, or make it lighter first (fewer grid points, less data).",
+		fmtSeconds(took), 100*math.Max(0, math.Min(1, frac)), stage)}
+}
+
+// RunAgain implements StopHost: it analyses the current model again after
+// a stop.
+func (p *Page) RunAgain(ctx app.Context) {
+	if p.s.Running || p.pending {
+		return
+	}
+	if p.notice.Action == "" && strings.HasPrefix(p.notice.Text, "You stopped the analysis") {
+		p.notice = Notice{}
+	}
+	p.start(ctx)
 }
 
 // yielder lets the browser run between slices of work: Go compiled to

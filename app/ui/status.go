@@ -24,12 +24,34 @@ type RunState struct {
 	// HasResult reports a result shown, analysed in Elapsed.
 	HasResult bool
 	Elapsed   time.Duration
+	// Stopped reports that the user stopped the last analysis after
+	// StoppedAfter; no analysis has started since.
+	Stopped      bool
+	StoppedAfter time.Duration
 }
 
-// RunStatus is the one-line status of the analysis in the header.
+// StopHost is what the status line's buttons report to: the page
+// implements it.
+type StopHost interface {
+	// StopAnalysis cancels the running analysis.
+	StopAnalysis(ctx app.Context)
+	// RunAgain starts the analysis of the current model again.
+	RunAgain(ctx app.Context)
+}
+
+// IDs of the status line's buttons.
+const (
+	StopID     = "bc-stop"
+	RunAgainID = "bc-run-again"
+)
+
+// RunStatus is the one-line status of the analysis in the header. With a
+// Host, an analysis that has run long enough for its progress bar has a
+// Stop button beside it, and a stopped one a button to run it again.
 type RunStatus struct {
 	app.Compo
-	Run RunState
+	Host StopHost
+	Run  RunState
 }
 
 // Render draws the status line.
@@ -46,6 +68,11 @@ func (r *RunStatus) Render() app.UI {
 		return st.Body(
 			app.Label().For("bc-progress").Text("analysing: "+stageName(stage)),
 			app.Progress().ID("bc-progress").Max(1).Value(strconv.FormatFloat(frac, 'f', 3, 64)),
+			app.If(r.Host != nil, func() app.UI {
+				return app.Button().Type("button").ID(StopID).Class("tool-btn stop-btn").
+					Title("Stop this analysis; the model and settings stay as they are").Text("Stop").
+					OnClick(func(ctx app.Context, e app.Event) { r.Host.StopAnalysis(ctx) })
+			}),
 		)
 	case s.Running:
 		return st.Body(app.Span().Class("muted").Text("analysing…"))
@@ -53,6 +80,14 @@ func (r *RunStatus) Render() app.UI {
 		return st.Body(app.Span().Class("muted").Text("editing…"))
 	case s.Invalid:
 		return st.Body(app.Span().Class("warn-text").Text("the model has errors: results shown are for the last valid model"))
+	case s.Stopped:
+		return st.Body(
+			app.Span().Class("warn-text").Text("stopped after "+fmtSeconds(s.StoppedAfter)),
+			app.If(r.Host != nil, func() app.UI {
+				return app.Button().Type("button").ID(RunAgainID).Class("tool-btn").Text("Run again").
+					OnClick(func(ctx app.Context, e app.Event) { r.Host.RunAgain(ctx) })
+			}),
+		)
 	case s.Failed:
 		return st.Body(app.Span().Class("warn-text").Text("the analysis failed"))
 	case s.HasResult:
@@ -80,6 +115,11 @@ func stageName(s string) string {
 		return "plots"
 	}
 	return strings.ReplaceAll(s, "_", " ")
+}
+
+// fmtSeconds writes a duration in seconds with one decimal.
+func fmtSeconds(d time.Duration) string {
+	return strconv.FormatFloat(d.Seconds(), 'f', 1, 64) + " s"
 }
 
 func fmtMillis(d time.Duration) string {

@@ -56,7 +56,9 @@ func (m Map) Interval(iv [2]float64) [2]float64 {
 // identity against a logit map follows from Stein's lemma,
 // Cov(Z_a, g(Z_b)) = cab E[g'(Z_b)]; two logit maps take a product
 // Gauss-Hermite rule in the pair's Cholesky coordinates. Zero
-// covariance gives zero (independent normals).
+// covariance gives zero (independent normals). The result does not depend
+// on the order of the pair, to the last bit: a covariance matrix built
+// from it is exactly symmetric.
 func Covariance(a, b Map, ma, mb, sa, sb, cab float64) float64 {
 	if cab == 0 {
 		return 0
@@ -70,7 +72,20 @@ func Covariance(a, b Map, ma, mb, sa, sb, cab float64) float64 {
 		}
 		return 0
 	}
-	if rank(a) > rank(b) {
+	// One order for each pair: by the maps' ranks, then (two maps of one
+	// rank, whose rules are not symmetric in the pair) by the moments and
+	// the supports, so that swapping the arguments changes no rounding.
+	after := func() bool {
+		ka := [...]float64{ma, sa, a.Lo, a.Hi}
+		kb := [...]float64{mb, sb, b.Lo, b.Hi}
+		for i := range ka {
+			if ka[i] != kb[i] {
+				return ka[i] > kb[i]
+			}
+		}
+		return false
+	}
+	if rank(a) > rank(b) || rank(a) == rank(b) && after() {
 		return Covariance(b, a, mb, ma, sb, sa, cab)
 	}
 	ai := a.Scale.IsIdentity()

@@ -100,12 +100,20 @@ func TestCovariance(t *testing.T) {
 		{lg, lt, 0.1, 0.4, 0.5, 1.1, -0.3},
 		{lt, lg, 0.4, 0.1, 1.1, 0.5, -0.3},
 		{lt, lt, 0.4, -0.6, 1.1, 0.9, 0.75},
+		{lt, Map{Logit, 0, 1}, 0.4, -0.6, 1.1, 0.9, 0.75},
+		{lt, lt, 0.4, 0.4, 1.1, 0.9, -0.5},
+		{lt, Map{Logit, 0, 1}, 0.4, 0.4, 1.1, 1.1, -0.5},
 	}
 	for _, c := range cases {
 		got := Covariance(c.a, c.b, c.ma, c.mb, c.sa, c.sb, c.cab)
 		want := covByQuadrature(c.a, c.b, c.ma, c.mb, c.sa, c.sb, c.cab)
 		if math.Abs(got-want) > 1e-9*math.Max(1, math.Abs(want)) {
 			t.Errorf("%s/%s: covariance %.12g, nested Legendre quadrature %.12g", c.a.Scale, c.b.Scale, got, want)
+		}
+		// Cov(X, Y) = Cov(Y, X) (the definition), to the last bit: the
+		// Result's covariance matrices must be exactly symmetric.
+		if back := Covariance(c.b, c.a, c.mb, c.ma, c.sb, c.sa, c.cab); back != got {
+			t.Errorf("%s/%s: covariance %.17g, the other way round %.17g", c.a.Scale, c.b.Scale, got, back)
 		}
 		if Covariance(c.a, c.b, c.ma, c.mb, c.sa, c.sb, 0) != 0 {
 			t.Errorf("%s/%s: independent normals gave a covariance", c.a.Scale, c.b.Scale)

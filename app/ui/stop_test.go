@@ -1,0 +1,137 @@
+package ui
+
+import (
+	"context"
+	"strings"
+	"testing"
+
+	"github.com/maxence-charriere/go-app/v10/pkg/app"
+
+	"bellcheck/app/share"
+	"bellcheck/engine"
+	"bellcheck/engine/model"
+)
+
+// A page left (the tab closed, another page opened) right after typing:
+// the edit waits for CheckDelay and PersistDelay, timers that never fire
+// in a page that is gone, so flushPending (called on pagehide and on the
+// document hidden) writes it at once.
+func TestLeavingRightAfterTypingKeepsTheEdit(t *testing.T) {
+	b := newMemBrowser("")
+	h, e := openWith(t, b)
+	h.page.Input(h.ctx, srcA)
+	if got := kept(b); len(got) != 0 {
+		t.Fatalf("before the delays the history already holds %q: the test would not tell", got)
+	}
+	h.page.flushPending() // pagehide
+	if got := kept(b); len(got) != 1 || got[0] != srcA {
+		t.Fatalf("leaving at once kept %q, want the text typed", got)
+	}
+	// Reopening the bare address brings it back.
+	b.frag = ""
+	h2, _ := openWith(t, b)
+	if h2.page.text != srcA {
+		t.Errorf("after reopening: %q", h2.page.text)
+	}
+	// The delayed check goes on normally when the page was only hidden.
+	e.ConsumeAll()
+	if got := kept(b); len(got) != 1 || got[0] != srcA {
+		t.Errorf("after the delays the history holds %q", got)
+	}
+	// Nothing pending: nothing written.
+	before := len(b.items)
+	h.page.flushPending()
+	if len(b.items) != before {
+		t.Errorf("a flush with nothing pending wrote to the storage")
+	}
+}
+
+func TestStopCancelsTheAnalysisAndSaysSo(t *testing.T) {
+	started := make(chan struct{}, 4)
+	stopped := make(chan struct{}, 4)
+	slow := true
+	h, e := mount(t, func(ctx context.Context, m *model.Model, o engine.Options, pr engine.ProgressFunc) (*engine.Result, error) {
+		if slow {
+			started <- struct{}{}
+			<-ctx.Done()
+			stopped <- struct{}{}
+			return nil, ctx.Err()
+		}
+		return resultFor(m), nil
+	})
+	p := h.page
+	p.text = srcA
+	p.check(h.ctx)
+	<-started
+	if out := app.HTMLString(&RunStatus{Host: p, Run: p.runState()}); strings.Contains(out, StopID) {
+		t.Errorf("a Stop button before the analysis has run for ProgressDelay")
+	}
+	p.progress = true // ProgressDelay has passed
+	p.s.Progress = engine.Progress{Stage: "grid", Fraction: 0.4}
+	if out := app.HTMLString(&RunStatus{Host: p, Run: p.runState()}); !strings.Contains(out, `id="`+StopID+`"`) || !strings.Contains(out, "bc-progress") {
+		t.Fatalf("no Stop button beside the progress bar: %s", out)
+	}
+	p.StopAnalysis(h.ctx)
+	<-stopped // the analysis's context was cancelled
+	e.ConsumeAll()
+	if p.s.Running || p.OutputState() != StateStopped {
+		t.Errorf("after Stop: running %v, state %q", p.s.Running, p.OutputState())
+	}
+	if !strings.Contains(p.notice.Text, "You stopped the analysis") || !strings.Contains(p.notice.Text, "40 %") {
+		t.Errorf("the notice says %q", p.notice.Text)
+	}
+	if p.text != srcA || p.s.Model == nil {
+		t.Errorf("the text changed: %q", p.text)
+	}
+	out := app.HTMLString(&RunStatus{Host: p, Run: p.runState()})
+	if !strings.Contains(out, "stopped after") || !strings.Contains(out, RunAgainID) {
+		t.Errorf("the status line after Stop: %s", out)
+	}
+	// Run again: the analysis runs and its result is shown.
+	slow = false
+	p.RunAgain(h.ctx)
+	e.ConsumeAll()
+	if p.OutputState() != StateReady || p.notice.Text != "" {
+		t.Errorf("after Run again: state %q, notice %q", p.OutputState(), p.notice.Text)
+	}
+}
+
+// An embed link with settings the engine refuses: they are set back to
+// their defaults, and the embed view's notice says which and why, as the
+// full page's does (it used to reset them silently).
+func TestEmbedLinkOverLimitSaysSo(t *testing.T) {
+	two := "param a\nparam b\nld_normal(a, 0, 1) + ld_normal(b, 1, 2)\n"
+	f, err := share.Encode(share.State{Model: two, Params: []engine.ParamOptions{{Points: 4001}}, View: share.View{Embed: true}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	b := newMemBrowser(f)
+	h, e := openWith(t, b)
+	p := h.page
+	if !p.mode.Embed || p.s.Param("a").Points != 0 {
+		t.Fatalf("mode %+v, points of a %d (want the default)", p.mode, p.s.Param("a").Points)
+	}
+	// engine.MaxAxisPoints(2) is 1501: the engine's own limit.
+	if !p.notice.Warn || !strings.Contains(p.notice.Text, "1 to 1501") || !strings.Contains(p.notice.Text, "defaults are used") {
+		t.Errorf("the embed's notice: %+v", p.notice)
+	}
+	out := app.HTMLString(p.Render())
+	if !strings.Contains(out, "notice-text") {
+		t.Errorf("the embed view does not show the notice")
+	}
+	// A sound embed link pasted into the frame replaces the notice.
+	b.frag = embedLinkOf(t, srcA, false, false)
+	p.notice = Notice{}
+	p.OpenLink(h.ctx)
+	e.ConsumeAll()
+	if p.notice.Text != "" {
+		t.Errorf("a sound link gave the notice %q", p.notice.Text)
+	}
+	// An over-limit one pasted in says so too.
+	b.frag = f
+	p.OpenLink(h.ctx)
+	e.ConsumeAll()
+	if !strings.Contains(p.notice.Text, "1 to 1501") {
+		t.Errorf("an over-limit link pasted into the frame: notice %q", p.notice.Text)
+	}
+}
