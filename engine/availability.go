@@ -64,7 +64,7 @@ var absentReasons = map[Quantity][]string{
 	QuantityMean:         {CodeNoMean, CodeImproper, CodeUnresolved, CodeOverflow},
 	QuantityVariance:     {CodeNoVariance, CodeImproper, CodeUnresolved, CodeOverflow},
 	QuantityCovariance:   {CodeOverflow},
-	QuantitySkewness:     {CodeNoVariance, CodeImproper, CodeUnresolved, CodeOverflow},
+	QuantitySkewness:     {CodeHeavyTails, CodeNoVariance, CodeImproper, CodeUnresolved, CodeOverflow},
 	QuantityKurtosis:     {CodeHeavyTails, CodeNoVariance, CodeImproper, CodeUnresolved, CodeOverflow},
 	QuantityQuantiles:    {CodeImproper, CodeUnresolved, CodeOverflow},
 	QuantityMode:         {CodeModeNotPolished, CodeNoMode},

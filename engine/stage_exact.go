@@ -41,7 +41,7 @@ func (a *analysis) settleExact() {
 	}
 
 	// Quantities that do not exist are absent.
-	var noVar, noMean, noKurt []string
+	var noVar, noMean, noKurt, noSkew []string
 	for k := 0; k < d; k++ {
 		// With the nested rule's results its tail verdicts (in TailShare)
 		// stand; the axis errors may be out for the grid's sake only.
@@ -65,6 +65,11 @@ func (a *analysis) settleExact() {
 		if !varGone && o.KurtosisTailShare[k] > tailShareAbsent {
 			noKurt = append(noKurt, a.names[k])
 			a.avail.dropAt(QuantityKurtosis, k, CodeHeavyTails)
+			if r.quad != nil && math.IsNaN(o.Skewness[k]) {
+				// The rule found the third moment unsettled too.
+				noSkew = append(noSkew, a.names[k])
+				a.avail.dropAt(QuantitySkewness, k, CodeHeavyTails)
+			}
 		}
 	}
 	if len(noVar) > 0 {
@@ -74,6 +79,10 @@ func (a *analysis) settleExact() {
 	if len(noKurt) > 0 {
 		a.diag.add(CodeHeavyTails, SeverityWarning,
 			"The fourth moment of %s does not settle as the box widens (the tails may be too heavy for it to exist): the excess kurtosis is not reported.", list(noKurt))
+	}
+	if len(noSkew) > 0 {
+		a.diag.add(CodeHeavyTails, SeverityWarning,
+			"The third moment of %s does not settle either: the skewness is not reported.", list(noSkew))
 	}
 	if len(noMean) > 0 {
 		a.diag.add(CodeNoMean, SeverityWarning,
@@ -119,6 +128,9 @@ func (a *analysis) dropOverflow() {
 		}
 		if quad && math.IsInf(o.KurtosisTailShare[k], 1) {
 			kurt[k] = 0
+			if math.IsNaN(skew[k]) {
+				skew[k] = 0 // the rule's third moment does not settle: left out by settleExact
+			}
 		}
 	}
 	var names []string

@@ -2,6 +2,7 @@ package engine
 
 import (
 	"errors"
+	"slices"
 	"fmt"
 	"math"
 
@@ -552,7 +553,7 @@ func (a *analysis) disputedVariances(q *quadrature.Result) []int {
 // elsewhere. Quantiles are on the original scale, mapped by maps when set.
 func gridMoments(m quadrature.Moments, d int, quant [][3]float64, maps []transform.Map) grid.Moments {
 	g := grid.Moments{
-		Mean: m.Mean, MeanErr: m.MeanErr, Skewness: m.Skewness, ExcessKurtosis: m.ExcessKurtosis,
+		Mean: m.Mean, MeanErr: m.MeanErr, Skewness: slices.Clone(m.Skewness), ExcessKurtosis: slices.Clone(m.ExcessKurtosis),
 		Cov: make([][]float64, d), CovErr: make([][]float64, d), SD: make([]float64, d), Corr: make([][]float64, d),
 		Quantiles: make([][3]float64, d), TailShare: make([]float64, d), AbsTailShare: make([]float64, d),
 		KurtosisTailShare: make([]float64, d),
@@ -574,6 +575,13 @@ func gridMoments(m quadrature.Moments, d int, quant [][3]float64, maps []transfo
 		}
 		if m.KurtosisInfinite[k] {
 			g.KurtosisTailShare[k] = math.Inf(1)
+			g.ExcessKurtosis[k] = math.NaN()
+		}
+		if m.SkewnessInfinite[k] {
+			// The third moment does not settle (nor does the fourth):
+			// no skewness, on either scale (the fitting scale's moments
+			// take the unconstrained scale's verdicts, not its values).
+			g.Skewness[k] = math.NaN()
 		}
 	}
 	for k := 0; k < d; k++ {
