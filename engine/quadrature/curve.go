@@ -86,7 +86,11 @@ func (res *Result) Curve(ctx context.Context, k int, fine bool) (*Curve, error) 
 	for _, v := range cv.g {
 		cv.total += h * v
 	}
-	if n := len(cv.g); n < minCurveNodes || !(math.Abs(cv.total-1) <= curveMassTol) {
+	tol := curveMassTol
+	if !fine {
+		tol = curveMassTolCoarse
+	}
+	if n := len(cv.g); n < minCurveNodes || !(math.Abs(cv.total-1) <= tol) {
 		return nil, fmt.Errorf("%w: parameter %d's marginal over %d nodes holds %g of the mass", ErrCurve, k+1, n, cv.total)
 	}
 	return cv, nil
@@ -94,13 +98,20 @@ func (res *Result) Curve(ctx context.Context, k int, fine bool) (*Curve, error) 
 
 // ErrCurve means a marginal's walk does not resolve it: too few nodes
 // (a marginal far more peaked than the parameter's sd, as a funnel's
-// location at its neck) or a mass off 1 by more than curveMassTol.
+// location at its neck) or a mass off 1 by more than curveMassTol (or
+// curveMassTolCoarse).
 var ErrCurve = errors.New("quadrature: the marginal is not resolved at the rule's nodes")
 
-// minCurveNodes and curveMassTol: see ErrCurve.
+// minCurveNodes and curveMassTol: see ErrCurve. Slices at twice the
+// rule's step (Curve's fine false) carry a bias of their own, common to the
+// nodes and so cancelling in the quantiles (the 4-D clock example's walks
+// held 1.0003 to 1.0006 of the mass): curveMassTolCoarse for them. The
+// failures the check is for are gross: the funnel's x held 2.6, the long
+// Lorenz-63 cost's walks 0.14 to 0.5.
 const (
-	minCurveNodes = 8
-	curveMassTol  = 1e-4
+	minCurveNodes      = 8
+	curveMassTol       = 1e-4
+	curveMassTolCoarse = 2e-3
 )
 
 // Mass returns the integral of the sampled marginal: near 1, a check of
