@@ -65,7 +65,9 @@ import (
 //	                                       divergences are absent, and beyond 1e-3 all divergences and
 //	                                       Hellinger distances are
 //	overflow               warning         an exact moment or quantile overflows double precision (on the original
-//	                                       scale of a log-scaled parameter whose box reaches z > 709): it is absent
+//	                                       scale of a log-scaled parameter whose box reaches z > 709), or a
+//	                                       skewness and kurtosis were lost to rounding (below Pearson's bound
+//	                                       kurtosis >= skewness^2 - 2): it is absent
 //	unresolved             error           the grid cannot integrate the density: log p is +inf at a node (an
 //	                                       overflow or a singularity), or one layer of nodes across an axis
 //	                                       holds more than half the mass (a spike, or a peak or a funnel's

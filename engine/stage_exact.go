@@ -133,8 +133,21 @@ func (a *analysis) dropOverflow() {
 			}
 		}
 	}
-	var names []string
+	// Pearson's inequality: for any distribution the excess kurtosis is at
+	// least the squared skewness less 2 (Pearson 1916; from memory). A pair
+	// below it came from sums that cancelled (the higher moments of a
+	// posterior far narrower than its distance from zero on the original
+	// scale) and carries no digits.
+	shapeLost := func(k int) bool {
+		return !math.IsNaN(kurt[k]) && !math.IsNaN(skew[k]) && kurt[k] < skew[k]*skew[k]-2-1e-9
+	}
+	var names, lost []string
 	for k := 0; k < d; k++ {
+		if shapeLost(k) {
+			lost = append(lost, a.names[k])
+			a.avail.dropAt(QuantitySkewness, k, CodeOverflow)
+			a.avail.dropAt(QuantityKurtosis, k, CodeOverflow)
+		}
 		over := bad(mean[k]) || badVar(k, cov[k][k]) || bad(skew[k]) || bad(kurt[k])
 		if a.avail.presentAt(QuantityQuantiles, k) {
 			// Quantiles left out already (NaN) have their own reason.
@@ -172,6 +185,10 @@ func (a *analysis) dropOverflow() {
 	if math.IsInf(a.ref.logZ, 0) && a.avail.present(QuantityLogZ) {
 		a.avail.drop(QuantityLogZ, CodeOverflow)
 		names = append(names, "log Z")
+	}
+	if len(lost) > 0 {
+		a.diag.add(CodeOverflow, SeverityWarning,
+			"The skewness and kurtosis of %s were lost to rounding (their sums cancelled: an excess kurtosis below the squared skewness less 2 is impossible), so they are not reported.", list(lost))
 	}
 	if len(names) > 0 {
 		a.diag.add(CodeOverflow, SeverityWarning,
