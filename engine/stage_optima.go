@@ -54,7 +54,13 @@ func (a *analysis) lesserOptima(rest []grid.Peak) error {
 		if err != nil {
 			return err
 		}
-		if !ok || !m.Converged || !m.PositiveDefinite || m.OnBound || math.IsNaN(m.LogDensity) {
+		if !ok || !m.Converged || !m.PositiveDefinite || m.OnBound || math.IsNaN(m.LogDensity) || math.IsInf(m.LogDensity, 0) {
+			continue
+		}
+		// A minimum reported must lie at a point the original scale can
+		// hold, and above the deepest by more than rounding (one as deep
+		// is a mode the search missed, not a lesser minimum).
+		if !a.finiteOriginal(m.X) || !(a.costAt(m)-a.costAt(a.modes.fitModes[0]) > 1e-9*(1+math.Abs(a.costAt(a.modes.fitModes[0])))) {
 			continue
 		}
 		known := false
@@ -90,6 +96,17 @@ func (a *analysis) lesserOptima(rest []grid.Peak) error {
 		"Besides its deepest minimum the cost has at least %s, found from the grid's lesser peaks; the next deepest lies at %s, higher by %.3g in J. They hold no posterior mass, but a minimiser started near one stops there.",
 		others, a.pointString(x), a.costAt(next)-a.costAt(deepest))
 	return nil
+}
+
+// finiteOriginal reports whether the point z of the fitting scale maps to
+// finite values on the original scale.
+func (a *analysis) finiteOriginal(z []float64) bool {
+	for k, v := range z {
+		if x := a.maps[k].ToOriginal(v); math.IsNaN(x) || math.IsInf(x, 0) {
+			return false
+		}
+	}
+	return true
 }
 
 // costAt returns the cost J at a mode on the fitting scale: -log p on the
