@@ -2,9 +2,9 @@ package engine
 
 import (
 	"errors"
-	"slices"
 	"fmt"
 	"math"
+	"slices"
 
 	"gonum.org/v1/gonum/mat"
 
