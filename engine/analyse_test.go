@@ -110,6 +110,27 @@ func TestUserBox(t *testing.T) {
 	}
 }
 
+// A box the user sets on the support's bounds cuts nothing off: the
+// density ends there, so there is no edge_mass warning, and the grid
+// integrates the truncated normal.
+func TestUserBoxOnSupport(t *testing.T) {
+	res := analyseSource(t, "param x in [-1, 4]\n-x^2/2", Options{Params: []ParamOptions{{Lo: ptr(-1), Hi: ptr(4), Points: 401}}})
+	if hasCode(res, CodeEdgeMass) {
+		t.Errorf("edge_mass for a box on the support's bounds: %+v", res.Diagnostics)
+	}
+	// The normal truncated to [-1, 4]: log Z = log(sqrt(2 pi) (Phi(4) - Phi(-1))).
+	want := math.Log(math.Sqrt(2*math.Pi) * 0.5 * (math.Erf(4/math.Sqrt2) - math.Erf(-1/math.Sqrt2)))
+	if math.Abs(res.Exact.LogZ-want) > 1e-6 {
+		t.Errorf("log Z %.12g, want %.12g (truncated normal, via math.Erf)", res.Exact.LogZ, want)
+	}
+	// One side inside the support still cuts: mass at -1 is cut by the
+	// user's lower side at -0.5.
+	res = analyseSource(t, "param x in [-1, 4]\n-x^2/2", Options{Params: []ParamOptions{{Lo: ptr(-0.5), Hi: ptr(4), Points: 401}}})
+	if !hasCode(res, CodeEdgeMass) {
+		t.Errorf("no edge_mass for a box side inside the support: %+v", res.Diagnostics)
+	}
+}
+
 // The JSON of a result without non-finite numbers is what encoding/json
 // writes for the same struct without the MarshalJSON method; with them, the
 // only change is null in their places.

@@ -134,6 +134,29 @@ func BenchmarkAnalyse4DFunnel(b *testing.B) {
 	benchModel(b, "funnel_4d.txt", Options{Params: []ParamOptions{{}, {}, {}, logScale}})
 }
 
+// The gallery's Lorenz-63 examples (app/examples, whose tests check that
+// these files hold their texts): the starting state of a chaotic system
+// from readings over a short and over a long window, on the examples'
+// options (a grid of 61 points a side over the whole support). Every
+// evaluation integrates the system over the whole window.
+var lorenzAxes = []ParamOptions{
+	{Points: 61, Lo: ptr(-4), Hi: ptr(12)},
+	{Points: 61, Lo: ptr(-3), Hi: ptr(13)},
+	{Points: 61, Lo: ptr(5), Hi: ptr(21)},
+}
+
+func BenchmarkAnalyse3DLorenzShort(b *testing.B) {
+	benchModel(b, "lorenz_short_3d.txt", Options{Params: lorenzAxes})
+}
+func BenchmarkAnalyse3DLorenzLong(b *testing.B) {
+	benchModel(b, "lorenz_long_3d.txt", Options{Params: lorenzAxes})
+}
+
+// The long window with the plots, as the page asks for them.
+func BenchmarkPlots3DLorenzLong(b *testing.B) {
+	benchModel(b, "lorenz_long_3d.txt", Options{Plots: true, Params: lorenzAxes})
+}
+
 // skipSlowWasm keeps the funnels (several seconds natively) out of the
 // WebAssembly runs of make bench.
 func skipSlowWasm(b *testing.B) {

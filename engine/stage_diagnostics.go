@@ -36,7 +36,7 @@ func (a *analysis) gridDiagnostics() {
 				a.diag.add(CodeEdgeMass, SeverityWarning,
 					"The box was widened at the %s end of %s as far as the grid still resolves the density's centre, and %s of the mass remains in its outermost layer: the tails are heavy, and the exact results are those of the truncated box.",
 					sides[side], a.names[k], share(e))
-			case a.pinned[k][side] && e > edgeMassWarn:
+			case a.pinned[k][side] && !a.onSupportBound(k, side) && e > edgeMassWarn:
 				a.diag.add(CodeEdgeMass, SeverityWarning,
 					"The box side you set at the %s end of %s cuts off mass: %s of it lies in the outermost layer of the grid there.",
 					sides[side], a.names[k], share(e))
@@ -135,4 +135,14 @@ func (a *analysis) pointString(z []float64) string {
 		s += fmt.Sprintf("%s = %.4g", a.names[k], a.maps[k].ToOriginal(v))
 	}
 	return s
+}
+
+// onSupportBound reports whether a side of the box lies on a bound of the
+// parameter's support (a box the user set to the whole support, say): the
+// density ends there, so mass next to it is cut off by nothing.
+func (a *analysis) onSupportBound(k, side int) bool {
+	if side == 0 {
+		return a.bounds.Lo[k] == a.modeLo[k]
+	}
+	return a.bounds.Hi[k] == a.modeHi[k]
 }

@@ -27,6 +27,8 @@ func TestStageTimes(t *testing.T) {
 		{"banana_2d.txt", Options{Plots: true}},
 		{"sensor_3d.txt", Options{Plots: true, Params: []ParamOptions{{}, logScale}}},
 		{"counts_4d.txt", Options{Plots: true}},
+		{"lorenz_short_3d.txt", Options{Plots: true, Params: lorenzAxes}},
+		{"lorenz_long_3d.txt", Options{Plots: true, Params: lorenzAxes}},
 	} {
 		src, err := os.ReadFile(filepath.Join("..", "testdata", "reference", "bench", c.file))
 		if err != nil {

@@ -17,9 +17,18 @@ type Example struct {
 
 var logScale = engine.ParamOptions{Scale: engine.Log}
 
-// lorenzAxis keeps the Lorenz examples' grids at 61 points per parameter:
-// every point integrates the system over the whole window.
-var lorenzAxis = engine.ParamOptions{Points: 61}
+// lorenzBox has the Lorenz examples' grid cover each parameter's whole
+// support at 61 points per axis, and be the exact reference: every point
+// integrates the system over the whole window, and the nested rule, around
+// the deepest minimum of a chaotic cost, takes more evaluations than this
+// grid and cannot resolve its marginals (their walks lose the thin ridges).
+var lorenzBox = map[string]engine.ParamOptions{
+	"x0": {Points: 61, Lo: ptr(-4), Hi: ptr(12)},
+	"y0": {Points: 61, Lo: ptr(-3), Hi: ptr(13)},
+	"z0": {Points: 61, Lo: ptr(5), Hi: ptr(21)},
+}
+
+func ptr(x float64) *float64 { return &x }
 
 // Default is the ID of the example the page opens with.
 const Default = "dose"
@@ -153,16 +162,18 @@ sum(ld_normal(x_seen, x, 0.1)) + ld_lognormal(w, 0, 1) + ld_beta(zeta, 1.5, 4)
 	{
 		ID:    "lorenz-short",
 		Title: "Lorenz-63, short window",
-		Shows: "The starting state of a chaotic system from five noisy readings of x over half a time unit: a smooth, nearly Gaussian cost.",
+		Shows: "The starting state of a chaotic system from two noisy readings of x over half a time unit: a cost with few local minima.",
 		Source: `# Lorenz-63 (Lorenz 1963; sigma 10, rho 28, beta 8/3): which starting
-# state explains five readings of x over half a time unit? Readings have
-# noise of sd 3 (invented); the background guess (4, 5, 13) has sd 4.
-t = [0.1, 0.2, 0.3, 0.4, 0.5]
-x_seen = [9.1, 10.2, 15.4, 9.7, 0.2]
+# state explains two readings of x over half a time unit? The readings
+# are invented: the system started at (5.5, 7, 14), integrated finely,
+# read every quarter time unit with noise of sd 3. The background guess
+# (4, 5, 13) has sd 4.
+t = [0.25, 0.5]
+x_seen = [18.1, 2.5]
 param x0 in [-4, 12]
 param y0 in [-3, 13]
 param z0 in [5, 21]
-ode t from 0 substeps 2
+ode t from 0 substeps 5
   x = x0 rate 10*(y - x)
   y = y0 rate x*(28 - z) - y
   z = z0 rate x*y - 8/3*z
@@ -170,23 +181,22 @@ end
 # Variational data assimilation's cost: background plus misfit.
 cost ((x0 - 4)^2 + (y0 - 5)^2 + (z0 - 13)^2)/(2*4^2) + sum((x - x_seen)^2)/(2*3^2)
 `,
-		Params: map[string]engine.ParamOptions{"x0": lorenzAxis, "y0": lorenzAxis, "z0": lorenzAxis},
+		Params: lorenzBox,
 	},
 	{
 		ID:    "lorenz-long",
 		Title: "Lorenz-63, long window",
-		Shows: "The same starting state from forty readings over four time units: a cost with many local minima, and a thin, bent ridge of posterior the grid barely resolves.",
-		Source: `# The same system and background, read for four time units: the longer
-# the window, the more local minima the cost has (Pires, Vautard and
-# Talagrand 1996). Along x0 alone it has 18 here, but all except the
-# deepest lie far higher, so the posterior is one thin, bent ridge, skewed
-# in z0, that the grid barely resolves.
-t = [0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9, 1, 1.1, 1.2, 1.3, 1.4, 1.5, 1.6, 1.7, 1.8, 1.9, 2, 2.1, 2.2, 2.3, 2.4, 2.5, 2.6, 2.7, 2.8, 2.9, 3, 3.1, 3.2, 3.3, 3.4, 3.5, 3.6, 3.7, 3.8, 3.9, 4]
-x_seen = [9.1, 10.2, 15.4, 9.7, 0.2, -3.6, 0.9, -5.8, -8.3, -19.1, -9.9, -3, -2.8, 4.4, 1.4, 5.2, 6.1, 17.7, 11.5, 4.2, 2.2, -5.4, -2.4, -3.6, -13.5, -15.7, -4.1, -3.4, -0.1, -4.2, 1.1, -2, -0.1, -10.7, -15, -12.9, -5.7, 4.3, 5.3, 5.2]
+		Shows: "The same starting state from ten readings over two and a half time units: the longer window's cost has many more local minima.",
+		Source: `# The same system, background and readings, read on for two and a half
+# time units: the longer the window, the more local minima the cost has
+# (Pires, Vautard and Talagrand 1996). Over this box it has over twenty
+# against the short window's three; the grid's lesser peaks find several.
+t = [0.25, 0.5, 0.75, 1, 1.25, 1.5, 1.75, 2, 2.25, 2.5]
+x_seen = [18.1, 2.5, -0.1, 7.9, 7.9, 0.6, -12.2, -4, -5.9, -12.9]
 param x0 in [-4, 12]
 param y0 in [-3, 13]
 param z0 in [5, 21]
-ode t from 0 substeps 2
+ode t from 0 substeps 5
   x = x0 rate 10*(y - x)
   y = y0 rate x*(28 - z) - y
   z = z0 rate x*y - 8/3*z
@@ -194,7 +204,7 @@ end
 # Variational data assimilation's cost: background plus misfit.
 cost ((x0 - 4)^2 + (y0 - 5)^2 + (z0 - 13)^2)/(2*4^2) + sum((x - x_seen)^2)/(2*3^2)
 `,
-		Params: map[string]engine.ParamOptions{"x0": lorenzAxis, "y0": lorenzAxis, "z0": lorenzAxis},
+		Params: lorenzBox,
 	},
 	{
 		ID:    "separation",
