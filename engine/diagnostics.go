@@ -77,7 +77,7 @@ import (
 //	                                       higher than the mode search's best: the search's best point is not
 //	                                       the global optimum; the exact results cover both
 //	local_optima           info            (a cost model) the grid's lesser peaks, polished, reach local minima
-//	                                       that hold no posterior mass: their number, the next deepest and how
+//	                                       that hold no posterior mass: their number, the deepest of them and how
 //	                                       much higher its J is
 const (
 	CodeSeveralModes        = "several_modes"

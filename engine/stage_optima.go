@@ -93,7 +93,7 @@ func (a *analysis) lesserOptima(rest []grid.Peak) error {
 		others = fmt.Sprintf("%d other local minima", len(found))
 	}
 	a.diag.add(CodeLocalOptima, SeverityInfo,
-		"Besides its deepest minimum the cost has at least %s, found from the grid's lesser peaks; the next deepest lies at %s, higher by %.3g in J. They hold no posterior mass, but a minimiser started near one stops there.",
+		"Besides its deepest minimum the cost has at least %s, found from the grid's lesser peaks; the deepest of them lies at %s, higher by %.3g in J. They hold no posterior mass, but a minimiser started near one stops there.",
 		others, a.pointString(x), a.costAt(next)-a.costAt(deepest))
 	return nil
 }

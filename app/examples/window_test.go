@@ -80,7 +80,7 @@ func exampleCost(t *testing.T, id string) (*lorenzCost, *model.Model) {
 // from 400 Halton starts over the examples' support): the long window's
 // cost has several times the short window's minima. The engine's
 // local_optima note must say so too: more lesser minima for the long
-// window, no more than the search found, and its next deepest one a local
+// window, no more than the search found, and the deepest of those it reports a local
 // minimum of the plain Go cost, as high as it says.
 func TestLongWindowHasMoreMinima(t *testing.T) {
 	if testing.Short() {
@@ -120,7 +120,7 @@ func TestLongWindowHasMoreMinima(t *testing.T) {
 			t.Errorf("%s: the note counts %d other minima, the search found %d in all", id, n, len(minima))
 		}
 		if next != nil {
-			// The note's next deepest minimum is one: from its printed
+			// The deepest minimum the note reports is one: from its printed
 			// point (four significant digits), gonum's Nelder-Mead and
 			// then Newton's method settle within 1e-2 of it, in a minimum
 			// higher than the deepest by what the note says (three
@@ -135,9 +135,9 @@ func TestLongWindowHasMoreMinima(t *testing.T) {
 				fd.Gradient(g, c.value, x, &fd.Settings{Formula: fd.Central, Step: 1e-6})
 			}, nm.X)
 			if !ok || dist(x, next) > 1e-2 {
-				t.Errorf("%s: no local minimum near the note's next deepest %v (Newton ended at %v, converged %v)", id, next, x, ok)
+				t.Errorf("%s: no local minimum near the note's minimum %v (Newton ended at %v, converged %v)", id, next, x, ok)
 			} else if dj := c.value(x) - minima[0].j; math.Abs(dj-higher) > 5e-3*higher {
-				t.Errorf("%s: the note's next deepest minimum is higher by %.4g in J, the note says %.3g", id, dj, higher)
+				t.Errorf("%s: the note's minimum is higher by %.4g in J, the note says %.3g", id, dj, higher)
 			}
 		}
 	}
@@ -150,7 +150,7 @@ func TestLongWindowHasMoreMinima(t *testing.T) {
 }
 
 // localOptimaNote reads the local_optima note: the number of other local
-// minima it counts, the point of the next deepest (nil without a note) and
+// minima it counts, the point of the deepest of them (nil without a note) and
 // how much higher its J is than the deepest's.
 func localOptimaNote(t *testing.T, r *engine.Result) (int, []float64, float64) {
 	t.Helper()
