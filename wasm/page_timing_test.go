@@ -13,6 +13,9 @@ package main
 //
 //	make wasm && BELLCHECK_PAGE_TIMING=1 BELLCHECK_CHROMIUM=/usr/bin/chromium \
 //	    go test -count=1 -tags=browser -run=PageTiming -v ./wasm/
+//
+// BELLCHECK_PAGE_EXAMPLES names other gallery examples, comma-separated
+// (lorenz-short,lorenz-long, say).
 
 import (
 	"encoding/json"
@@ -48,7 +51,11 @@ func TestPageTiming(t *testing.T) {
 	}
 	marks := []string{ui.MarkStart, ui.MarkResult, ui.MarkPrepared, ui.MarkHanded, ui.MarkUpdated}
 	phases := []string{"analysis", "figures and table", "to the page", "page update", "layout and paint"}
-	for _, id := range []string{"decay", "dose"} {
+	ids := []string{"decay", "dose"}
+	if v := os.Getenv("BELLCHECK_PAGE_EXAMPLES"); v != "" {
+		ids = strings.Split(v, ",")
+	}
+	for _, id := range ids {
 		ex, ok := examples.ByID(id)
 		if !ok {
 			t.Fatalf("no example %s", id)
