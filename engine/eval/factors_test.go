@@ -38,7 +38,25 @@ var factorModels = []struct {
 	{"scale", "y = [1.1, 0.7, 2.3]\nparam s in [0, inf]\nld_gamma(s, 2, 1) + sum(ld_normal(y, m, s))", 2, false},
 	{"cost", "y = [0.3, 1.9]\ncost (a - 1)^2 + sum(log1pexp(a*y))", 2, true},
 	{"scalar only", "-x^2/2 - y^4/4 + x*y/3", 3, false},
+	// A misfit of an ode block's trajectory (the block's components are
+	// unrolled into scalars, so the sum splits into scalar terms).
+	{"ode misfit", lorenzMisfit, 4, false},
 }
+
+// lorenzMisfit is a strong-constraint 4D-Var cost for the Lorenz-63
+// starting state from three readings of x (invented).
+const lorenzMisfit = `t = [0.1, 0.2, 0.3]
+x_seen = [1.2, 2.0, 2.4]
+param x0
+param y0
+param z0
+ode t from 0 substeps 3
+  x = x0 rate 10*(y - x)
+  y = y0 rate x*(28 - z) - y
+  z = z0 rate x*y - 8/3*z
+end
+cost ((x0 - 1)^2 + (y0 - 1)^2 + (z0 - 20)^2)/32 + sum((x - x_seen)^2)/18
+`
 
 // TestFactorsAddUp checks that the factors and the constant add up to the
 // compiled model's log-density (an independent evaluation of the same
@@ -202,6 +220,21 @@ func TestFactorBlock(t *testing.T) {
 		for p := range out {
 			if want := fs.Log(i, xs[2*p:2*p+2]); out[p] != want {
 				t.Errorf("factor %d point %d: block %v, point %v", i, p, out[p], want)
+			}
+		}
+	}
+	// The ode misfit, its factors in turn and back.
+	fs = splitSrc(t, lorenzMisfit)
+	xs = []float64{0, 0, 20, 1, -1, 25, 2.5, 0.3, 18}
+	out = out[:3]
+	for _, i := range []int{0, 1, 2, 3, 3, 2, 1, 0} {
+		if i >= fs.Len() {
+			continue
+		}
+		fs.LogBlock(i, xs, out)
+		for p := range out {
+			if want := fs.Log(i, xs[3*p:3*p+3]); out[p] != want {
+				t.Errorf("ode misfit factor %d point %d: block %v, point %v", i, p, out[p], want)
 			}
 		}
 	}
