@@ -141,6 +141,10 @@ func TestLongWindowHasMoreMinima(t *testing.T) {
 			}
 		}
 	}
+	// The long example's text says: over twenty against three.
+	if counts["lorenz-short"] != 3 || counts["lorenz-long"] <= 20 {
+		t.Errorf("local minima in the box: short window %d, long window %d; the example's text says 3 and over 20", counts["lorenz-short"], counts["lorenz-long"])
+	}
 	if counts["lorenz-long"] < 3*counts["lorenz-short"] {
 		t.Errorf("local minima in the box: short window %d, long window %d; want several times more for the long one", counts["lorenz-short"], counts["lorenz-long"])
 	}
