@@ -47,10 +47,10 @@ type Result struct {
 	// Order is the nested rule's axis order, outermost first.
 	Order []int
 
-	p        target.Density
+	p target.Density
 	// outer is the marginal of the outermost axis's parameter, from the
 	// rule's own sums (see outerCurve); nil in 1-D.
-	outer *Curve
+	outer    *Curve
 	start    Start
 	settings Settings
 	// the main rule's Gaussian (its start): the guesses of the slices
