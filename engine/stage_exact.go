@@ -80,7 +80,11 @@ func (a *analysis) settleExact() {
 		a.diag.add(CodeNoVariance, SeverityWarning,
 			"The variance of %s does not settle as the box widens (it may not exist, as for a Cauchy density): the exact covariance and the forward-KL fit are not reported.", list(noVar))
 	}
-	if len(noKurt) > 0 {
+	switch {
+	case len(noKurt) > 0 && r.quad != nil:
+		a.diag.add(CodeHeavyTails, SeverityWarning,
+			"The fourth moment of %s is infinite: the tails fall too slowly for it (as a Student t's with 4 or fewer degrees of freedom): the excess kurtosis is not reported.", list(noKurt))
+	case len(noKurt) > 0:
 		a.diag.add(CodeHeavyTails, SeverityWarning,
 			"The fourth moment of %s does not settle as the box widens (the tails may be too heavy for it to exist): the excess kurtosis is not reported.", list(noKurt))
 	}
@@ -88,7 +92,11 @@ func (a *analysis) settleExact() {
 		a.diag.add(CodeHeavyTails, SeverityWarning,
 			"The third moment of %s does not settle either: the skewness is not reported.", list(noSkew))
 	}
-	if len(noMean) > 0 {
+	switch {
+	case len(noMean) > 0 && r.quad != nil:
+		a.diag.add(CodeNoMean, SeverityWarning,
+			"Nor does the mean of %s exist: the tails fall too slowly for it (as a Cauchy density's): the exact mean is not reported.", list(noMean))
+	case len(noMean) > 0:
 		a.diag.add(CodeNoMean, SeverityWarning,
 			"The mean of %s does not settle as the box widens either (it may not exist): the exact mean is not reported.", list(noMean))
 	}
