@@ -62,7 +62,11 @@ func FuzzAnalyse(f *testing.F) {
 		if err != nil {
 			switch {
 			case errors.Is(err, context.DeadlineExceeded):
-				t.Fatalf("analysis took more than %v:\n%s\noptions %+v", fuzzTimeout, src, opts)
+				// Slow, not hung: the analysis honoured its deadline, as
+				// the page's and the API's time bounds need. A run that
+				// ignored it would be killed by the fuzzer after 10 s and
+				// reported as a crash.
+				t.Skipf("analysis cancelled after %v:\n%s\noptions %+v", fuzzTimeout, src, opts)
 			case errors.Is(err, grid.ErrNoBox), errors.Is(err, grid.ErrNoMass):
 				return // nothing to analyse, and the error says so
 			case errors.Is(err, ErrOptions) && (fc.badOptions != "" || fc.maybeBad):
@@ -76,9 +80,13 @@ func FuzzAnalyse(f *testing.F) {
 	})
 }
 
-// fuzzTimeout bounds one analysis: far beyond the slowest small model, so
-// only a run that does not end trips it.
-const fuzzTimeout = 60 * time.Second
+// fuzzTimeout bounds one analysis. Go's fuzzer kills a worker whose input
+// runs 10 s (internal/fuzz, RunFuzzWorker) and reports a crash without the
+// input's text; an 18-minute run on a loaded machine met a generated model
+// slower than that. So an analysis is cancelled after 7 s (and the input
+// skipped: slow but cancellable), and only one that does not stop when
+// cancelled still fails.
+const fuzzTimeout = 7 * time.Second
 
 func diagLines(res *Result) string {
 	var b strings.Builder

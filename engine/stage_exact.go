@@ -72,11 +72,19 @@ func (a *analysis) settleExact() {
 			}
 		}
 	}
-	if len(noVar) > 0 {
+	switch {
+	case len(noVar) > 0 && r.quad != nil:
+		a.diag.add(CodeNoVariance, SeverityWarning,
+			"The variance of %s is infinite: the density's tail falls too slowly for it (as a Student t's with 2 or fewer degrees of freedom; the rule's walks on the unconstrained scale end where the tail's share of x^2 does not decay): the exact covariance and the forward-KL fit are not reported.", list(noVar))
+	case len(noVar) > 0:
 		a.diag.add(CodeNoVariance, SeverityWarning,
 			"The variance of %s does not settle as the box widens (it may not exist, as for a Cauchy density): the exact covariance and the forward-KL fit are not reported.", list(noVar))
 	}
-	if len(noKurt) > 0 {
+	switch {
+	case len(noKurt) > 0 && r.quad != nil:
+		a.diag.add(CodeHeavyTails, SeverityWarning,
+			"The fourth moment of %s is infinite: the tails fall too slowly for it (as a Student t's with 4 or fewer degrees of freedom): the excess kurtosis is not reported.", list(noKurt))
+	case len(noKurt) > 0:
 		a.diag.add(CodeHeavyTails, SeverityWarning,
 			"The fourth moment of %s does not settle as the box widens (the tails may be too heavy for it to exist): the excess kurtosis is not reported.", list(noKurt))
 	}
@@ -84,7 +92,11 @@ func (a *analysis) settleExact() {
 		a.diag.add(CodeHeavyTails, SeverityWarning,
 			"The third moment of %s does not settle either: the skewness is not reported.", list(noSkew))
 	}
-	if len(noMean) > 0 {
+	switch {
+	case len(noMean) > 0 && r.quad != nil:
+		a.diag.add(CodeNoMean, SeverityWarning,
+			"Nor does the mean of %s exist: the tails fall too slowly for it (as a Cauchy density's): the exact mean is not reported.", list(noMean))
+	case len(noMean) > 0:
 		a.diag.add(CodeNoMean, SeverityWarning,
 			"The mean of %s does not settle as the box widens either (it may not exist): the exact mean is not reported.", list(noMean))
 	}
@@ -116,17 +128,23 @@ func (a *analysis) dropOverflow() {
 	badCorr := func(k, l int) bool { return !varOut(k) && !varOut(l) && bad(o.Corr[k][l]) }
 	cov := copyRows(o.Cov)
 	mean, skew, kurt := slices.Clone(o.Mean), slices.Clone(o.Skewness), slices.Clone(o.ExcessKurtosis)
+	// shapeOut: the kurtosis is absent for a reason of its own (an
+	// infinite variance or fourth moment), so Pearson's bound below does
+	// not apply to it.
+	shapeOut := make([]bool, d)
 	for k := 0; k < d; k++ {
 		if quad && math.IsInf(o.AbsTailShare[k], 1) {
 			mean[k] = 0 // left out by settleExact (no_mean)
 		}
 		if varOut(k) {
+			shapeOut[k] = true
 			skew[k], kurt[k] = 0, 0
 			for l := 0; l < d; l++ {
 				cov[k][l], cov[l][k] = 0, 0
 			}
 		}
 		if quad && math.IsInf(o.KurtosisTailShare[k], 1) {
+			shapeOut[k] = true
 			kurt[k] = 0
 			if math.IsNaN(skew[k]) {
 				skew[k] = 0 // the rule's third moment does not settle: left out by settleExact
@@ -139,7 +157,7 @@ func (a *analysis) dropOverflow() {
 	// posterior far narrower than its distance from zero on the original
 	// scale) and carries no digits.
 	shapeLost := func(k int) bool {
-		return !math.IsNaN(kurt[k]) && !math.IsNaN(skew[k]) && kurt[k] < skew[k]*skew[k]-2-1e-9
+		return !shapeOut[k] && !math.IsNaN(kurt[k]) && !math.IsNaN(skew[k]) && kurt[k] < skew[k]*skew[k]-2-1e-9
 	}
 	var names, lost []string
 	for k := 0; k < d; k++ {

@@ -83,10 +83,6 @@ func (a *analysis) lesserOptima(rest []grid.Peak) error {
 			next = m
 		}
 	}
-	x := make([]float64, a.d)
-	for k := range x {
-		x[k] = a.maps[k].ToOriginal(next.X[k])
-	}
 	deepest := a.modes.fitModes[0]
 	others := "one other local minimum"
 	if len(found) > 1 {
@@ -94,7 +90,7 @@ func (a *analysis) lesserOptima(rest []grid.Peak) error {
 	}
 	a.diag.add(CodeLocalOptima, SeverityInfo,
 		"Besides its deepest minimum the cost has at least %s, found from the grid's lesser peaks; the deepest of them lies at %s, higher by %.3g in J. They hold no posterior mass, but a minimiser started near one stops there.",
-		others, a.pointString(x), a.costAt(next)-a.costAt(deepest))
+		others, a.pointString(next.X), a.costAt(next)-a.costAt(deepest))
 	return nil
 }
 

@@ -529,12 +529,23 @@ const fineCurvePoints = 100000
 // its walks where the density's own share is negligible, so a moment
 // decided by mass beyond them (a faint background far from a narrow
 // spike, whose x^2 outweighs the spike's) looks infinite to it. Neither
-// resolves such a variance.
+// resolves such a variance. The grid speaks only where it resolves the
+// parameter (no layer of it holds most of the mass): a scouting grid whose
+// box the search ran out to 1e8 over a Student t's tail (the normal mean
+// from three readings with a 1/s prior, whose variance is infinite) puts
+// the mass in one layer, and its small tail share says nothing.
 func (a *analysis) disputedVariances(q *quadrature.Result) []int {
 	gst := &a.ref.grid.Stats
+	posInf, layers := a.gridUnresolved()
+	if posInf > 0 {
+		return nil
+	}
 	var out []int
 	for k := 0; k < a.d; k++ {
 		if !q.Original.VarInfinite[k] || !(gst.Original.TailShare[k] <= tailShareAbsent) {
+			continue
+		}
+		if slices.ContainsFunc(layers, func(l unresolvedLayer) bool { return l.axis == k }) {
 			continue
 		}
 		capped := false

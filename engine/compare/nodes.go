@@ -154,6 +154,7 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 	// finite; skipped is p's share at the others.
 	pm := make([]float64, n)
 	valid := make([]bool, n)
+	cell := make([]float64, n) // a node's cell side on the fitting scale: exp((log w + log J) / d)
 	skipped := 0.0
 	for i := 0; i < n; i++ {
 		pm[i] = math.Exp(logW[i] + logP[i] - logZn)
@@ -161,6 +162,7 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 		if !valid[i] {
 			skipped += pm[i]
 		}
+		cell[i] = math.Exp((logW[i] + logJ[i]) / float64(d))
 	}
 	r0 := math.Sqrt(special.ChiSquareQuantile(d, 0.95))
 	tol := s.QMassTol
@@ -180,6 +182,7 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 		nearest, nearestM := -1, math.Inf(1)
 		var cover, coverCoarse [2]float64
 		logNorm, halfLogDet := q.LogNorm(), q.LogDet()/2
+		cellScale := math.Exp(-halfLogDet / float64(d)) // the cell side in q's whitened coordinates
 		for i := 0; i < n; i++ {
 			if !valid[i] {
 				continue
@@ -193,23 +196,25 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 			if m > 0 {
 				klpq += m * (lp - logJ[i] - lq)
 			}
-			if e := logW[i] + (lp+lq+logJ[i])/2; e > -745 {
-				b := math.Exp(e)
+			// q's share of the node, and the Bhattacharyya term
+			// sqrt(p q) from it (where q's share underflows, the term is
+			// below sqrt(p 1e-308): nothing).
+			if e := logW[i] + lq + logJ[i]; e > -745 {
+				qm := math.Exp(e)
+				qmass += qm
+				b := math.Sqrt(m * qm)
 				bhat += b
 				if ns.Coarse(i) {
 					bhat2 += coarse * b
 				}
 			}
-			if e := logW[i] + lq + logJ[i]; e > -745 {
-				qmass += math.Exp(e)
-			}
-			if !(m > 0) {
+			if !(m > negligibleShare) {
 				continue
 			}
 			// The coverage's smoothed indicator (see above), on the
 			// finest rule and on the rule of twice the step (whose cells
 			// are twice as wide, its weights 2^d times).
-			h := math.Exp((logW[i] + logJ[i] - halfLogDet) / float64(d))
+			h := cell[i] * cellScale
 			gap := math.Sqrt(M) - r0
 			smoothed(&cover, m, gap, h)
 			if ns.Coarse(i) {
@@ -288,6 +293,11 @@ func smoothed(cover *[2]float64, m, gap, h float64) {
 		}
 	}
 }
+
+// negligibleShare is p's share of a node below which the node is left out
+// of the coverage's sums: the 4-D rules hold about 2e5 nodes, so together
+// those left out carry less than 2e-12 of the mass.
+const negligibleShare = 1e-17
 
 // coverageTol is the largest change of a coverage between the rules of
 // steps h and 2h for which the finest's is reported. The change bounds the

@@ -8,7 +8,11 @@ import "math"
 // axes k..): axis k's node map is centred at the mode with a half-width of
 // Width times its standard deviation, and the inner axes' modes are
 // predicted along the regression line (Naylor and Smith 1982: each
-// conditional is recentred and rescaled).
+// conditional is recentred and rescaled). The innermost axis of a 3-D or
+// 4-D rule is conditioned from three values of log p instead (see
+// conditionLine); in 1-D and 2-D the Newton steps cost little, and the
+// banana's x, whose conditional is flat-topped and bimodal, took 1.8 times
+// the nodes with the parabola's width.
 func (r *rule) condition(k int) {
 	d := r.d
 	m := d - k
@@ -16,6 +20,11 @@ func (r *rule) condition(k int) {
 	copy(r.ut, r.u[:k])
 	copy(r.ut[k:], r.pred[k][k:])
 	ok := false
+	if k == d-1 && k >= 2 && r.conditionLine(k) {
+		lv.c = lv.mode[k]
+		r.chooseMap(k, math.Sqrt(lv.sigma[0]))
+		return
+	}
 	if k == 0 && r.pilot {
 		// The pilot's mean and covariance: u = 0 with unit variances.
 		copy(lv.mode, r.ut)
@@ -150,4 +159,62 @@ func (r *rule) factorSub(m int) bool {
 		lambda *= 2
 	}
 	return false
+}
+
+// conditionLine finds the innermost axis's conditional mode and variance
+// from log p at three points (the vertex and curvature of the parabola
+// through the prediction and one standard deviation either side), which
+// costs three evaluations of log p where a Newton step costs a gradient
+// and a Hessian of every parameter (the innermost axis has one point of
+// these per node of the outer axes: most of the rule's derivatives). It
+// starts from the previous outer node's standard deviation, moves to the
+// vertex while it lies over half a standard deviation away (at most four
+// times), and reports false where log p is not finite at the three points
+// or not concave through them; condition then takes Newton steps. For a
+// Gaussian conditional the parabola is exact.
+func (r *rule) conditionLine(k int) bool {
+	lv := &r.lv[k]
+	sd := math.Sqrt(lv.sigma[0])
+	if !(sd > 0) || math.IsInf(sd, 0) {
+		sd = 1
+	}
+	c := r.ut[k]
+	at := func(u float64) float64 {
+		r.ut[k] = u
+		r.toZ(r.ut)
+		r.points++
+		return r.p.LogDensity(r.z)
+	}
+	for it := 0; it < 4; it++ {
+		h := sd / 2
+		f0, fp, fm := at(c), at(c+h), at(c-h)
+		if !finiteAll(f0, fp, fm) {
+			return false
+		}
+		curv := (fp - 2*f0 + fm) / (h * h)
+		if !(curv < 0) {
+			return false
+		}
+		step := -(fp - fm) / (2 * h) / curv
+		next := 1 / math.Sqrt(-curv)
+		if math.Abs(step) <= next/2 && next >= sd/2 && next <= 2*sd {
+			lv.mode[k] = c + step
+			copy(lv.mode[:k], r.u[:k])
+			lv.sigma[0] = next * next
+			return true
+		}
+		// Move at most three standard deviations at a time.
+		c += math.Max(-3*sd, math.Min(3*sd, step))
+		sd = math.Max(sd/4, math.Min(4*sd, next))
+	}
+	return false
+}
+
+func finiteAll(v ...float64) bool {
+	for _, x := range v {
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			return false
+		}
+	}
+	return true
 }

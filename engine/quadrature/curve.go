@@ -38,6 +38,9 @@ func (res *Result) Curve(ctx context.Context, k int, fine bool) (*Curve, error) 
 	if k < 0 || k >= res.Dim {
 		return nil, fmt.Errorf("quadrature: parameter %d of %d", k+1, res.Dim)
 	}
+	if res.outer != nil && k == res.Order[0] {
+		return res.outer, nil
+	}
 	s := res.settings.withDefaults()
 	h := s.Step
 	cv := &Curve{lv: res.marginalMap(k), c: res.centre[k], h: h, mp: res.mapOf(k)}
@@ -94,6 +97,39 @@ func (res *Result) Curve(ctx context.Context, k int, fine bool) (*Curve, error) 
 		return nil, fmt.Errorf("%w: parameter %d's marginal over %d nodes holds %g of the mass", ErrCurve, k+1, n, cv.total)
 	}
 	return cv, nil
+}
+
+// outerCurve returns the marginal of the outermost axis's parameter from
+// the rule's sums, or nil in 1-D or where the walk is too short: the
+// parameter's coordinate is z = m + L00 u (L is lower triangular), so at
+// each node of the outer axis the inner rule's integral is the marginal
+// density of u there, and the outer axis's node map (scaled by L00) is a
+// node map of z. s0 is the rule's sum (the normalisation). The walk needs
+// no slices: it is the finest rule's own, at its step.
+func (r *rule) outerCurve(s0 float64) *Curve {
+	if r.outer == nil {
+		return nil
+	}
+	lv := &r.lv[0]
+	lo, hi := r.outerLo, r.outerHi
+	l00 := r.L[0]
+	cv := &Curve{
+		lv: level{w: l00 * lv.w, width: lv.width, betaL: lv.betaL, betaR: lv.betaR},
+		c:  r.m[0] + l00*lv.c, h: r.h, lo: lo, mp: r.maps[0],
+		g: make([]float64, hi-lo+1),
+	}
+	for j := lo; j <= hi; j++ {
+		v := r.outer[j+r.maxJ] / s0
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil
+		}
+		cv.g[j-lo] = v
+		cv.total += r.h * v
+	}
+	if len(cv.g) < minCurveNodes {
+		return nil
+	}
+	return cv
 }
 
 // ErrCurve means a marginal's walk does not resolve it: too few nodes

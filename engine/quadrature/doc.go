@@ -10,7 +10,11 @@
 // node the inner axes are recentred at the conditional mode (damped Newton
 // from a prediction) and rescaled by the conditional curvature (Naylor and
 // Smith 1982), so a funnel or a location whose scale is another parameter
-// is followed. Along each axis the nodes are u = c + w phi(t), t = jh: phi =
+// is followed. The innermost axis of a 3-D or 4-D rule, which has a line
+// per node of the outer axes, takes its centre and width from the parabola
+// through three values of log p instead of a gradient and Hessian of every
+// parameter (exact for a Gaussian conditional; Newton steps where log p is
+// not concave there). Along each axis the nodes are u = c + w phi(t), t = jh: phi =
 // sinh where the tails decay no faster than a Gaussian (an algebraic tail
 // becomes exponential in t: Trefethen and Weideman, SIAM Review 56, 2014),
 // linear on a side that decays doubly exponentially (the side of a log-
@@ -33,6 +37,11 @@
 // error is the geometric tail beyond each walk's last node (exact for a
 // share decaying exponentially in t). The estimate covers the actual error
 // on every test case and is 20 to 60 times pessimistic on smooth ones.
+//
+// Marginals. The outermost axis's walk is itself the marginal of its
+// parameter (z = m + L00 u, L lower triangular): its sums give that curve
+// at the finest step. Every other parameter's marginal is walked along its
+// own node map, each node a nested rule over the others (a slice).
 //
 // Infinite moments. An algebraic tail |u|^-a of the density gives a share
 // falling like e^-(a-1)t in t, and u^k multiplies it by e^kt. A moment

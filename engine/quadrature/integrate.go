@@ -47,7 +47,10 @@ type Result struct {
 	// Order is the nested rule's axis order, outermost first.
 	Order []int
 
-	p        target.Density
+	p target.Density
+	// outer is the marginal of the outermost axis's parameter, from the
+	// rule's own sums (see outerCurve); nil in 1-D.
+	outer    *Curve
 	start    Start
 	settings Settings
 	// the main rule's Gaussian (its start): the guesses of the slices
@@ -207,6 +210,9 @@ func (r *rule) result(start Start, s Settings) (*Result, error) {
 		r.boundErr = res.boundErr
 		res.LogZErr = (zErr+lv.rem[0])/s0 + roundoff + res.boundErr
 		res.discErr = zErr / s0
+	}
+	if !res.Improper {
+		res.outer = r.outerCurve(s0)
 	}
 	res.Unconstrained = r.moments(0, res.Improper)
 	res.Original = r.moments(1, res.Improper)

@@ -107,7 +107,9 @@ func (r *rule) line() error {
 		r.v[k] = vk
 		r.z[r.perm[k]] = vk
 		t := float64(j) * r.h
-		r.nodes.add(r.z, lv.logW+math.Log(r.h*lv.jac(t)), r.lineLogP[j+off], min(lv.tier, tierOf(j)))
+		if !r.noNodes {
+			r.nodes.add(r.z, lv.logW+math.Log(r.h*lv.jac(t)), r.lineLogP[j+off], min(lv.tier, tierOf(j)))
+		}
 	}
 	for t := range r.ls {
 		r.lay.expand(&r.ls[t], r.y, r.x, 1, lv.sum[t])

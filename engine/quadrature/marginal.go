@@ -83,6 +83,9 @@ func (res *Result) sliceLogZ(ctx context.Context, sl *slice, guess []float64, ac
 	}
 	st := Start{Mode: mean, Cov: cov}
 	r, err := newRule(ctx, sl, st, res.sliceSettings(len(sl.free), acc))
+	if err == nil {
+		r.noNodes = true
+	}
 	if err != nil {
 		if errors.Is(err, ErrBadStart) && guess != nil {
 			return res.sliceLogZ(ctx, sl, nil, acc)

@@ -48,6 +48,11 @@ func TestMarginals(t *testing.T) {
 	// marginal (the closed form, Student t as above), also on the original
 	// scale of s, whose log-scale curve is mapped with the Jacobian:
 	// s | y has the density of sqrt(ss / chi2_{n-1}).
+	// One of the two curves is the outer axis's walk of the rule itself
+	// (outerCurve), the other walks slices: both are checked.
+	if res.outer == nil {
+		t.Fatal("the rule kept no curve of its outer axis")
+	}
 	for _, fine := range []bool{true, false} {
 		cv, err := res.Curve(context.Background(), 0, fine)
 		if err != nil {

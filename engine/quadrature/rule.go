@@ -59,6 +59,10 @@ type rule struct {
 	pilot     bool    // the start is a pilot's mean and covariance: no Newton on the outer axis
 	boundErr  float64 // see boundRounding
 	nodes     Nodes
+	noNodes   bool      // the rule is a slice's: its nodes are not kept
+	outer     []float64 // the outer axis's inner integrals times du/dt (see outerCurve)
+	outerLo   int       // the outer walk's first and last indices
+	outerHi   int
 	points    int
 	derivs    int
 	nonFinite int
@@ -158,6 +162,9 @@ func newRule(ctx context.Context, p target.Density, st Start, s Settings) (*rule
 	r.lineLogP = make([]float64, n)
 	r.lineG = make([]float64, n)
 	r.lineBad = make([]bool, n)
+	if d > 1 {
+		r.outer = make([]float64, n)
+	}
 	r.cols = make([][]float64, d)
 	for k := range r.cols {
 		r.cols[k] = make([]float64, n)
@@ -323,6 +330,10 @@ func (r *rule) axis(k int) error {
 				u00 = r.u[k]
 			}
 			addScaled(lv.sum[0], child.sum[0], wt)
+			if k == 0 && r.outer != nil {
+				r.outer[j+r.maxJ] = child.sum[0][0] * lv.jac(t)
+				r.outerLo, r.outerHi = min(r.outerLo, j), max(r.outerHi, j)
+			}
 			if j%2 == 0 {
 				addScaled(lv.sum[1], child.sum[1], 2*wt)
 			}
