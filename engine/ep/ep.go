@@ -131,6 +131,9 @@ const (
 	MaxSweeps
 	// NoSites: every factor is Gaussian; the approximation is exact.
 	NoSites
+	// Stalled: the least change per sweep had not fallen for
+	// stallSweeps sweeps (an oscillation): the run stopped unconverged.
+	Stalled
 )
 
 // String says the status in words.
@@ -142,6 +145,8 @@ func (s Status) String() string {
 		return "sweep limit reached before convergence"
 	case NoSites:
 		return "every factor is Gaussian: exact"
+	case Stalled:
+		return "stopped: the sweeps no longer brought it closer to convergence"
 	}
 	return fmt.Sprintf("status %d", int(s))
 }

@@ -285,6 +285,9 @@ func (r *runner) run(ctx context.Context) (*Result, error) {
 	prevCov := make([]float64, d*d)
 	prevChange := math.Inf(1)
 	sweep := 0
+	// best is the least change per sweep yet and sinceBest the sweeps
+	// since it (see stallSweeps).
+	best, sinceBest := math.Inf(1), 0
 	for {
 		res.Status, res.Converged = MaxSweeps, false
 		for sweep < r.s.MaxSweeps {
@@ -325,17 +328,30 @@ func (r *runner) run(ctx context.Context) (*Result, error) {
 				r.damping = math.Max(r.damping/2, r.s.MinDamping)
 			}
 			prevChange = change
+			if change < best {
+				best, sinceBest = change, 0
+			} else if sinceBest++; sinceBest >= stallSweeps {
+				res.Status = Stalled
+				break
+			}
 		}
 		r.finish(res)
 		// A finer rule where the tilted moments' quadrature error is too
 		// large, and more sweeps from where the sites are.
-		if !(res.QuadratureError > r.s.QuadTol) || sweep >= r.s.MaxSweeps || !r.refine() {
+		if res.Status == Stalled || !(res.QuadratureError > r.s.QuadTol) || sweep >= r.s.MaxSweeps || !r.refine() {
 			return res, nil
 		}
 		res.Refinements++
 		prevChange = math.Inf(1)
+		best, sinceBest = math.Inf(1), 0
 	}
 }
+
+// stallSweeps ends a run whose least change per sweep has not fallen for
+// that many sweeps: it oscillates (at the smallest damping, as the short
+// Lorenz-63 window's sites did for 80 sweeps) rather than converges, and
+// more sweeps would only take time.
+const stallSweeps = 25
 
 // refine raises the orders of the rules whose error estimate exceeds
 // QuadTol (about doubling them) and reports false when they are at their
