@@ -9,10 +9,13 @@ import "math"
 // Width times its standard deviation, and the inner axes' modes are
 // predicted along the regression line (Naylor and Smith 1982: each
 // conditional is recentred and rescaled). The innermost axis of a 3-D or
-// 4-D rule is conditioned from three values of log p instead (see
-// conditionLine); in 1-D and 2-D the Newton steps cost little, and the
-// banana's x, whose conditional is flat-topped and bimodal, took 1.8 times
-// the nodes with the parabola's width.
+// 4-D rule, and of a 2-D slice's (quadrature.Curve), is conditioned from
+// three values of log p instead (see conditionLine): the 3-D regression's
+// slices took 504 derivatives and 453,054 points where Newton took 24,336
+// and 444,606, with the same quantiles to 1e-15. A 2-D main rule keeps
+// Newton: there the steps cost little, and the banana's x, whose
+// conditional is flat-topped and bimodal, took 1.8 times the nodes with
+// the parabola's width.
 func (r *rule) condition(k int) {
 	d := r.d
 	m := d - k
@@ -20,7 +23,7 @@ func (r *rule) condition(k int) {
 	copy(r.ut, r.u[:k])
 	copy(r.ut[k:], r.pred[k][k:])
 	ok := false
-	if k == d-1 && k >= 2 && r.conditionLine(k) {
+	if k == d-1 && (k >= 2 || (k == 1 && r.noNodes)) && r.conditionLine(k) {
 		lv.c = lv.mode[k]
 		r.chooseMap(k, math.Sqrt(lv.sigma[0]))
 		return
