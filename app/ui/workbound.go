@@ -50,7 +50,9 @@ func (p *Page) boundedAnalyse(actx app.Context) AnalyseFunc {
 }
 
 func (p *Page) bounded(actx app.Context, ctx context.Context, m *model.Model, opts engine.Options, progress engine.ProgressFunc) (*engine.Result, error) {
+	began := time.Now()
 	est, err := engine.EstimateWork(ctx, m, opts)
+	p.estimateTime = time.Since(began)
 	if err != nil {
 		return nil, err
 	}
