@@ -48,7 +48,7 @@ wasm:
 	  rm -rf "$(GOAPP_COPY)" && mkdir -p "$(GOAPP_COPY)/pkg" && \
 	  cp "$$dir/go.mod" "$$dir/LICENSE" "$(GOAPP_COPY)/" && cp -R "$$dir/pkg/app" "$$dir/pkg/errors" "$(GOAPP_COPY)/pkg/" && \
 	  chmod -R u+w "$(GOAPP_COPY)" && rm "$(GOAPP_COPY)/pkg/app/http.go" && \
-	  cp wasm/_goapp/resource.go wasm/_goapp/route.go wasm/_goapp/wasm.go "$(GOAPP_COPY)/pkg/app/" && \
+	  cp wasm/_goapp/engine.go wasm/_goapp/resource.go wasm/_goapp/route.go wasm/_goapp/wasm.go "$(GOAPP_COPY)/pkg/app/" && \
 	  { cat go.mod; echo; echo "replace $(GOAPP) => $(GOAPP_COPY)"; } >$(GOAPP_MOD) && cp go.sum $(GOAPP_MOD:.mod=.sum)
 	GOOS=js GOARCH=wasm $(GO) build -modfile=$(GOAPP_MOD) -trimpath -ldflags="-s -w" $(NOINLINE) -o web/app.wasm ./wasm
 
