@@ -4,6 +4,7 @@ import (
 	"encoding/xml"
 	"io"
 	"math"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -229,5 +230,23 @@ func BenchmarkHeatMap(b *testing.B) {
 	p := gaussian2D(0.6, 97)
 	for b.Loop() {
 		HeatMap(p, 194, 194, -4, 4, -4, 4)
+	}
+}
+
+// TestNumMatchesStrconv checks the figures' number writer against Go's
+// strconv: the value rounded half away from zero to hundredths, in the
+// shortest form FormatFloat(..., 'f', -1, 64) gives.
+func TestNumMatchesStrconv(t *testing.T) {
+	for _, v := range []float64{0, -0.004, 0.005, -0.005, 0.125, -2.675, 10, 480, 9.995, 123456.7891, -7e9, 2e10, 1e13} {
+		want := strconv.FormatFloat(float64(int64(v*100+sign(v)*0.5))/100, 'f', -1, 64)
+		if got := num(v); got != want {
+			t.Errorf("num(%v) = %q, want %q", v, got, want)
+		}
+	}
+	for k := range 100000 {
+		v := float64(k)*0.0137 - 300
+		if got, want := num(v), strconv.FormatFloat(float64(int64(v*100+sign(v)*0.5))/100, 'f', -1, 64); got != want {
+			t.Fatalf("num(%v) = %q, want %q", v, got, want)
+		}
 	}
 }
