@@ -73,8 +73,9 @@ type runner struct {
 	stopped      bool
 	stoppedAfter time.Duration
 	// estimateTime is how long the last forecast of an analysis's work
-	// took (workbound.go).
+	// took (workbound.go); memo keeps the last forecast.
 	estimateTime time.Duration
+	memo         forecastMemo
 }
 
 // PageTimes are the page's own timings of the last result.
@@ -121,7 +122,7 @@ func (p *Page) start(ctx app.Context) {
 	p.progress = false
 	analyse := p.analyse
 	if analyse == nil {
-		analyse = p.boundedAnalyse(ctx) // workbound.go
+		analyse = p.boundedAnalyse(ctx, workIdentity(p.s.Model, p.data.digest, run.Options)) // workbound.go
 	}
 	view := p.view
 	ctx.After(ProgressDelay, func(ctx app.Context) {
