@@ -156,9 +156,9 @@ func (p *Page) start(ctx app.Context) {
 		var figTime, tableTime time.Duration
 		if err == nil && res != nil && actx.Err() == nil {
 			y.Yield()
-			tf := time.Now()
-			figs = numbered(BuildFigures(res, view))
-			figTime = time.Since(tf)
+			tf, pf := time.Now(), y.paused
+			figs = numbered(buildFigures(res, view, y.Yield))
+			figTime = time.Since(tf) - (y.paused - pf) // the pauses between 3-D and 4-D panels left out
 			y.Yield()
 			tt := time.Now()
 			secs = Table(res, run.Model)
