@@ -28,10 +28,11 @@ NOINLINE := -gcflags='github.com/maxence-charriere/go-app/v10/...=-l' \
 	-gcflags='bellcheck/engine/model=-l' -gcflags='bellcheck/engine/paramopt=-l' \
 	-gcflags='fmt=-l' -gcflags='encoding/json=-l'
 
-# The browser build uses go-app without its http.go and with three of its
+# The browser build uses go-app without its http.go and with four of its
 # files swapped for those in wasm/_goapp: this keeps net/http (with the
 # TLS and crypto packages it initialises) and Go's regexp out of app.wasm
-# (DEVELOPERS.md, "The size of app.wasm"). The copy of go-app so patched is
+# (DEVELOPERS.md, "The size of app.wasm"), and draws a frame right after
+# each dispatch (engine.go; "The page's components and runner"). The copy of go-app so patched is
 # made in .cache/goapp and used through a copy of go.mod with a replace
 # line (-modfile); the native build is untouched. The swap is refused when
 # go-app's files are not the ones wasm/_goapp was written from (another
