@@ -126,9 +126,11 @@ func (p *Page) start(ctx app.Context) {
 	}
 	view := p.view
 	ctx.After(ProgressDelay, func(ctx app.Context) {
-		if p.s.Gen == run.Gen && p.s.Running {
-			p.progress = true
+		if p.s.Gen != run.Gen || !p.s.Running {
+			ctx.PreventUpdate() // the analysis is over: nothing to show
+			return
 		}
+		p.progress = true
 	})
 	_ = jsdom.Mark(MarkStart) // natively there is nothing to mark
 	ctx.Async(func() {
@@ -140,7 +142,11 @@ func (p *Page) start(ctx app.Context) {
 			y.Yield()
 			if now := time.Now(); now.Sub(lastReport) >= reportEvery {
 				lastReport = now
-				ctx.Dispatch(func(ctx app.Context) { p.s.Report(run.Gen, pr) })
+				ctx.Dispatch(func(ctx app.Context) {
+					if !p.s.Report(run.Gen, pr) {
+						ctx.PreventUpdate()
+					}
+				})
 			}
 		})
 		g1 := readGC()
@@ -172,6 +178,7 @@ func (p *Page) start(ctx app.Context) {
 		elapsed, longest := time.Since(began), y.Longest()
 		ctx.Dispatch(func(ctx app.Context) {
 			if !p.s.Finish(run, res, err, elapsed, longest) {
+				ctx.PreventUpdate() // an outdated result: nothing changes
 				return
 			}
 			_ = jsdom.Mark(MarkHanded)
