@@ -28,10 +28,11 @@ NOINLINE := -gcflags='github.com/maxence-charriere/go-app/v10/...=-l' \
 	-gcflags='bellcheck/engine/model=-l' -gcflags='bellcheck/engine/paramopt=-l' \
 	-gcflags='fmt=-l' -gcflags='encoding/json=-l'
 
-# The browser build uses go-app without its http.go and with three of its
+# The browser build uses go-app without its http.go and with four of its
 # files swapped for those in wasm/_goapp: this keeps net/http (with the
 # TLS and crypto packages it initialises) and Go's regexp out of app.wasm
-# (DEVELOPERS.md, "The size of app.wasm"). The copy of go-app so patched is
+# (DEVELOPERS.md, "The size of app.wasm"), and draws a frame right after
+# each dispatch (engine.go; "The page's components and runner"). The copy of go-app so patched is
 # made in .cache/goapp and used through a copy of go.mod with a replace
 # line (-modfile); the native build is untouched. The swap is refused when
 # go-app's files are not the ones wasm/_goapp was written from (another
@@ -48,7 +49,7 @@ wasm:
 	  rm -rf "$(GOAPP_COPY)" && mkdir -p "$(GOAPP_COPY)/pkg" && \
 	  cp "$$dir/go.mod" "$$dir/LICENSE" "$(GOAPP_COPY)/" && cp -R "$$dir/pkg/app" "$$dir/pkg/errors" "$(GOAPP_COPY)/pkg/" && \
 	  chmod -R u+w "$(GOAPP_COPY)" && rm "$(GOAPP_COPY)/pkg/app/http.go" && \
-	  cp wasm/_goapp/resource.go wasm/_goapp/route.go wasm/_goapp/wasm.go "$(GOAPP_COPY)/pkg/app/" && \
+	  cp wasm/_goapp/engine.go wasm/_goapp/resource.go wasm/_goapp/route.go wasm/_goapp/wasm.go "$(GOAPP_COPY)/pkg/app/" && \
 	  { cat go.mod; echo; echo "replace $(GOAPP) => $(GOAPP_COPY)"; } >$(GOAPP_MOD) && cp go.sum $(GOAPP_MOD:.mod=.sum)
 	GOOS=js GOARCH=wasm $(GO) build -modfile=$(GOAPP_MOD) -trimpath -ldflags="-s -w" $(NOINLINE) -o web/app.wasm ./wasm
 

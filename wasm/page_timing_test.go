@@ -51,7 +51,7 @@ func TestPageTiming(t *testing.T) {
 	}
 	marks := []string{ui.MarkStart, ui.MarkResult, ui.MarkPrepared, ui.MarkHanded, ui.MarkUpdated}
 	phases := []string{"analysis", "figures and table", "to the page", "page update", "layout and paint"}
-	ids := []string{"decay", "dose"}
+	ids := []string{"decay", "dose", "banana"}
 	if v := os.Getenv("BELLCHECK_PAGE_EXAMPLES"); v != "" {
 		ids = strings.Split(v, ",")
 	}
@@ -65,8 +65,9 @@ func TestPageTiming(t *testing.T) {
 		eval[bool](t, tb, 5*time.Second, fmt.Sprintf(`(document.querySelectorAll("ul.gallery button.ex")[%d].click(), true)`, exampleIndex(t, id)))
 		st = tb.waitDone(t, st.Done, 180*time.Second)
 		split := make([][]float64, len(phases))
-		var ready, checking []float64
-		var windows [][]float64 // per edit: the marks' times and the drawing's, in ms
+		var ready, checking, toDrawn []float64
+		details := map[string][]float64{} // the marks' details: "mark.key" -> per edit
+		var windows [][]float64           // per edit: the marks' times and the drawing's, in ms
 		tr := startTrace(t, tb)
 		for k := 1; k <= edits; k++ {
 			tb.editModel(t, ex.Source+fmt.Sprintf("# edit %d\n", k))
@@ -77,6 +78,16 @@ func TestPageTiming(t *testing.T) {
   for (const m of performance.getEntriesByType("mark")) if (m.startTime >= %f && m.startTime <= %f) out[m.name] = m.startTime;
   return out;
 })()`, st.EditAt, drawn))
+			det := eval[map[string]map[string]float64](t, tb, 5*time.Second, fmt.Sprintf(`(() => {
+  const out = {};
+  for (const m of performance.getEntriesByType("mark")) if (m.startTime >= %f && m.startTime <= %f && m.detail) out[m.name] = m.detail;
+  return out;
+})()`, st.EditAt, drawn))
+			for mk, kv := range det {
+				for key, v := range kv {
+					details[mk+"."+key] = append(details[mk+"."+key], v)
+				}
+			}
 			times := make([]float64, 0, len(marks)+1)
 			for _, m := range marks {
 				v, ok := at[m]
@@ -92,6 +103,7 @@ func TestPageTiming(t *testing.T) {
 			}
 			ready = append(ready, drawn-at[ui.MarkResult])
 			checking = append(checking, at[ui.MarkStart]-st.EditAt-float64(ui.CheckDelay)/float64(time.Millisecond))
+			toDrawn = append(toDrawn, drawn-st.EditAt-float64(ui.CheckDelay)/float64(time.Millisecond))
 		}
 		cpu := tr.mainThreadCPU(t, tb, windows)
 		if os.Getenv("BELLCHECK_PAGE_PROFILE") != "" {
@@ -106,6 +118,17 @@ func TestPageTiming(t *testing.T) {
 			"before them, the check (from the edit to the analysis's start, less the check delay): least %.1f, median %.1f",
 			id, slices.Min(ready), timingMedian(ready), edits, timingList(ready), strings.Join(parts, ", "),
 			slices.Min(checking), timingMedian(checking))
+		keys := make([]string, 0, len(details))
+		for k := range details {
+			keys = append(keys, k)
+		}
+		sort.Strings(keys)
+		var dparts []string
+		for _, k := range keys {
+			dparts = append(dparts, fmt.Sprintf("%s %.1f (%s)", k, timingMedian(details[k]), timingList(details[k])))
+		}
+		t.Logf("%s: check to drawn (edit to drawn less the check delay): least %.1f ms, median %.1f ms (%s); the runner's own figures, median (each edit):\n    %s",
+			id, slices.Min(toDrawn), timingMedian(toDrawn), timingList(toDrawn), strings.Join(dparts, "\n    "))
 		var cparts []string
 		var cready []float64
 		for i, ph := range phases {
@@ -218,6 +241,11 @@ func profileEdits(t *testing.T, tb *tab, st pageState, src string, n int) pageSt
 		return b.String()
 	}
 	t.Logf("profile per edit: %.1f ms busy; self time:%s", total, top(self, 25, nil))
+	byPart := map[string]float64{}
+	for name, v := range self {
+		byPart[profilePart(name)] += v
+	}
+	t.Logf("self time by part of the program:%s", top(byPart, 20, nil))
 	t.Logf("inclusive time of the page's parts:%s", top(incl, 60, func(s string) bool {
 		for _, part := range []string{"_app_ui.", "go_app_v10", "reflect.DeepEqual", "_app_share.", "_app_jsdom.", "runtime.gcBgMarkWorker", "replaceState"} {
 			if strings.Contains(s, part) {
@@ -227,6 +255,50 @@ func profileEdits(t *testing.T, tb *tab, st pageState, src string, n int) pageSt
 		return false
 	}))
 	return st
+}
+
+// profilePart sorts a function of the profile into a part of the program
+// by its name (the wasm's names are the Go symbols with / and . mangled).
+func profilePart(name string) string {
+	has := func(parts ...string) bool {
+		for _, p := range parts {
+			if strings.Contains(name, p) {
+				return true
+			}
+		}
+		return false
+	}
+	switch {
+	case has("bellcheck_engine", "math.", "gonum", "sort.", "internal_reflectlite", "slices."):
+		return "engine (and math, sort)"
+	case has("bellcheck_app_figure", "bellcheck_app_plot"):
+		return "figures (app/figure, app/plot)"
+	case has("bellcheck_app_share", "compress_", "encoding_base64", "hash_"):
+		return "link encoding (app/share)"
+	case has("bellcheck_app_ui", "bellcheck_app_jsdom", "bellcheck_app_export"):
+		return "page (app/ui, app/jsdom)"
+	case has("go_app"):
+		return "go-app"
+	case has("reflect."):
+		return "reflect"
+	case has("encoding_json", "strconv.", "fmt.", "strings.", "unicode"):
+		return "strings, fmt, json"
+	case has("runtime.gc", "runtime.scan", "runtime.mark", "runtime.greyobject", "runtime.findObject", "SpanScan", "spanScan",
+		"runtime.sweep", "runtime.typePointers", "runtime.__gcWork", "runtime.wbBuf", "runtime.bulkBarrier", "runtime.__mspan_.sweep",
+		"runtime.__spanInlineMarkBits", "runtime.__gcBits", "runtime.tryDeferToSpanScan", "runtime.__spanQueue", "runtime.heapSetType"):
+		return "Go garbage collector"
+	case has("runtime.malloc", "runtime.__mspan_", "runtime.__mcache", "runtime.__mcentral", "runtime.__mheap", "runtime.memclr",
+		"runtime.nextFree", "runtime.newobject", "runtime.makeslice", "runtime.growslice", "runtime.newarray", "runtime.memmove",
+		"runtime.typedmemmove", "runtime.typedslicecopy", "runtime.mapassign", "runtime.mapaccess", "runtime.concat", "runtime.slicebyte", "internal_runtime_maps"):
+		return "Go allocation, copies, maps"
+	case has("syscall_js", "syscall/js", "safejs", "copyBytesToJS"):
+		return "syscall/js"
+	case has("runtime.", "internal_runtime", "internal_sync", "sync.", "time."):
+		return "Go runtime (scheduler, other)"
+	case name == "(garbage collector)":
+		return "browser's garbage collector"
+	}
+	return "browser and JavaScript (" + name + ", ...)"
 }
 
 // trace collects a chromium performance trace of a tab.

@@ -4,6 +4,7 @@ import (
 	"encoding/xml"
 	"io"
 	"math"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -169,5 +170,83 @@ func TestSpanOfNormalIsItsQuantiles(t *testing.T) {
 	vlo, vhi := viewOf(xs, ys, nil)
 	if !(vlo < -3.5 && vlo > -8) || !(vhi > 3.5 && vhi < 8) {
 		t.Errorf("view [%g, %g]", vlo, vhi)
+	}
+}
+
+// TestHeatMapBilinear checks the heat map's pixels against a density that
+// is bilinear in x and y, which bilinear interpolation reproduces exactly
+// (an identity): each pixel's colour is the colour map's entry for the
+// density at the pixel's centre over the peak, within one of 255 steps
+// (rounding). Pixels beyond the grid and cells at a non-finite or negative
+// value follow the stated rule: no density there.
+func TestHeatMapBilinear(t *testing.T) {
+	dens := func(x, y float64) float64 { return 3 + x + 2*y + 0.5*x*y }
+	p := &engine.Marginal2D{X: []float64{0, 0.3, 1, 1.7, 2}, Y: []float64{-1, 0, 0.5, 1}}
+	for _, y := range p.Y {
+		for _, x := range p.X {
+			p.Density = append(p.Density, dens(x, y))
+		}
+	}
+	peak := dens(2, 1)
+	table := plot.Density.Table(256)
+	// The view reaches beyond the grid on the left (x < 0).
+	const w, h = 37, 23
+	x0, x1, y0, y1 := -0.5, 2.0, -1.0, 1.0
+	hm := HeatMap(p, w, h, x0, x1, y0, y1)
+	for row := range h {
+		y := y1 - (float64(row)+0.5)/h*(y1-y0)
+		for col := range w {
+			x := x0 + (float64(col)+0.5)/w*(x1-x0)
+			want := 0
+			if x >= 0 {
+				want = int(math.Round(dens(x, y) / peak * 255))
+			}
+			got := hm.Pixels[4*(row*w+col) : 4*(row*w+col)+4]
+			ok := false
+			for k := max(0, want-1); k <= min(255, want+1); k++ {
+				if [4]uint8(got) == table[k] {
+					ok = true
+				}
+			}
+			if !ok {
+				t.Fatalf("pixel (%d, %d) at (%g, %g): colour %v, want the map's entry %d (%v)", col, row, x, y, got, want, table[want])
+			}
+		}
+	}
+	// A NaN, an infinity and a negative value count as 0: the pixels next
+	// to the last row's first cell are lighter than before.
+	bad := *p
+	bad.Density = append([]float64(nil), p.Density...)
+	bad.Density[15], bad.Density[16], bad.Density[17] = math.NaN(), math.Inf(1), -3
+	hb := HeatMap(&bad, w, h, x0, x1, y0, y1)
+	if hb.Pixels[4*(0*w+w/2)] == hm.Pixels[4*(0*w+w/2)] && hb.Pixels[4*(0*w+w/2)+1] == hm.Pixels[4*(0*w+w/2)+1] {
+		t.Error("non-finite and negative densities did not count as 0 in the top row")
+	}
+}
+
+// BenchmarkHeatMap times the heat map of a 2-D result as the page draws it
+// (97 points a side, 194 pixels a side).
+func BenchmarkHeatMap(b *testing.B) {
+	p := gaussian2D(0.6, 97)
+	for b.Loop() {
+		HeatMap(p, 194, 194, -4, 4, -4, 4)
+	}
+}
+
+// TestNumMatchesStrconv checks the figures' number writer against Go's
+// strconv: the value rounded half away from zero to hundredths, in the
+// shortest form FormatFloat(..., 'f', -1, 64) gives.
+func TestNumMatchesStrconv(t *testing.T) {
+	for _, v := range []float64{0, -0.004, 0.005, -0.005, 0.125, -2.675, 10, 480, 9.995, 123456.7891, -7e9, 2e10, 1e13} {
+		want := strconv.FormatFloat(float64(int64(v*100+sign(v)*0.5))/100, 'f', -1, 64)
+		if got := num(v); got != want {
+			t.Errorf("num(%v) = %q, want %q", v, got, want)
+		}
+	}
+	for k := range 100000 {
+		v := float64(k)*0.0137 - 300
+		if got, want := num(v), strconv.FormatFloat(float64(int64(v*100+sign(v)*0.5))/100, 'f', -1, 64); got != want {
+			t.Fatalf("num(%v) = %q, want %q", v, got, want)
+		}
 	}
 }

@@ -226,6 +226,11 @@ func (w *svgWriter) colourBar(id string, b Box) {
 // [y0, y1] as width by height RGBA pixels through plot.Density, sampling the
 // grid bilinearly at each pixel's centre (the top row is the largest y).
 // Non-finite densities count as 0.
+//
+// It runs on the page's thread after every result (37,000 pixels for a
+// 2-D result), so the work per pixel is plain arithmetic on slices: the
+// density is cleaned once, each column's grid cell is found once, and a
+// pixel is four stores.
 func HeatMap(p *engine.Marginal2D, width, height int, x0, x1, y0, y1 float64) *Heat {
 	nx, ny := len(p.X), len(p.Y)
 	peak := 0.0
@@ -236,41 +241,55 @@ func HeatMap(p *engine.Marginal2D, width, height int, x0, x1, y0, y1 float64) *H
 	}
 	h := &Heat{Width: width, Height: height, Pixels: make([]byte, 4*width*height)}
 	table := plot.Density.Table(256)
-	at := func(ix, iy int) float64 {
-		v := p.Density[iy*nx+ix]
-		if math.IsNaN(v) || math.IsInf(v, 0) || v < 0 {
-			return 0
+	// The density with every value that is not a finite non-negative
+	// number set to 0.
+	z := make([]float64, nx*ny)
+	for i, v := range p.Density {
+		if !math.IsNaN(v) && !math.IsInf(v, 0) && v >= 0 {
+			z[i] = v
 		}
-		return v
 	}
-	// Fractional grid index of each pixel column and row; a pixel beyond
-	// the grid (a view widened for a candidate) has no density.
-	fx := make([]float64, width)
-	outX := make([]bool, width)
-	for i := range fx {
+	// Each pixel column's grid cell and the fraction across it; a pixel
+	// beyond the grid (a view widened for a candidate) has no density
+	// (cell -1).
+	cell := make([]int, width)
+	frac := make([]float64, width)
+	for i := range cell {
 		x := x0 + (float64(i)+0.5)/float64(width)*(x1-x0)
-		fx[i] = fracIndex(p.X, x)
-		outX[i] = x < p.X[0] || x > p.X[nx-1]
+		f := fracIndex(p.X, x)
+		cell[i] = min(int(f), nx-2)
+		frac[i] = f - float64(cell[i])
+		if x < p.X[0] || x > p.X[nx-1] {
+			cell[i] = -1
+		}
 	}
+	blank := table[0]
 	for row := range height {
 		y := y1 - (float64(row)+0.5)/float64(height)*(y1-y0)
 		fy := fracIndex(p.Y, y)
 		outY := y < p.Y[0] || y > p.Y[ny-1]
 		iy := min(int(fy), ny-2)
 		ty := fy - float64(iy)
+		lo, hi := z[iy*nx:(iy+1)*nx], z[(iy+1)*nx:(iy+2)*nx]
+		px := h.Pixels[4*row*width : 4*(row+1)*width]
 		for col := range width {
-			ix := min(int(fx[col]), nx-2)
-			tx := fx[col] - float64(ix)
-			v := (1-ty)*((1-tx)*at(ix, iy)+tx*at(ix+1, iy)) + ty*((1-tx)*at(ix, iy+1)+tx*at(ix+1, iy+1))
-			if outY || outX[col] {
-				v = 0
+			c := blank
+			if ix := cell[col]; ix >= 0 && !outY && peak > 0 {
+				tx := frac[col]
+				v := (1-ty)*((1-tx)*lo[ix]+tx*lo[ix+1]) + ty*((1-tx)*hi[ix]+tx*hi[ix+1])
+				k := 0
+				if r := v / peak * 255; r >= 255 {
+					k = 255
+				} else if r > 0 {
+					// math.Round for r >= 0: the fraction r - k is exact.
+					if k = int(r); r-float64(k) >= 0.5 {
+						k++
+					}
+				}
+				c = table[k]
 			}
-			k := 0
-			if peak > 0 {
-				k = int(math.Round(v / peak * 255))
-			}
-			k = max(0, min(255, k))
-			copy(h.Pixels[4*(row*width+col):], table[k][:])
+			q := px[4*col : 4*col+4 : 4*col+4]
+			q[0], q[1], q[2], q[3] = c[0], c[1], c[2], c[3]
 		}
 	}
 	return h

@@ -2,6 +2,7 @@ package figure
 
 import (
 	"html"
+	"math"
 	"strconv"
 	"strings"
 
@@ -24,7 +25,13 @@ type svgWriter struct {
 	b strings.Builder
 }
 
+// num writes v rounded half away from zero to two decimals, in its
+// shortest form.
 func num(v float64) string {
+	if r := v*100 + sign(v)*0.5; math.Abs(r) < 1e12 {
+		var buf [24]byte
+		return string(plot.AppendHundredths(buf[:0], int64(r)))
+	}
 	return strconv.FormatFloat(float64(int64(v*100+sign(v)*0.5))/100, 'f', -1, 64)
 }
 

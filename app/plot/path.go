@@ -49,17 +49,48 @@ func (p *Path) String() string { return p.b.String() }
 func (p *Path) Empty() bool { return p.b.Len() == 0 }
 
 func (p *Path) pair(x, y float64) {
-	p.b.WriteString(coord(x))
-	p.b.WriteByte(' ')
-	p.b.WriteString(coord(y))
+	var buf [64]byte
+	b := appendCoord(buf[:0], x)
+	b = append(b, ' ')
+	b = appendCoord(b, y)
+	p.b.Write(b)
 }
 
-func coord(v float64) string {
-	s := strconv.FormatFloat(math.Round(v*100)/100, 'f', -1, 64)
-	if s == "-0" {
-		return "0"
+// appendCoord appends v rounded to two decimals in its shortest form, as
+// strconv.FormatFloat(math.Round(v*100)/100, 'f', -1, 64) writes it but
+// with "0" for a negative zero. Below 1e10 it writes the digits of the
+// whole hundredths directly: the figures' paths hold thousands of numbers,
+// and the shortest-form search of strconv is slow in WebAssembly.
+func appendCoord(b []byte, v float64) []byte {
+	r := math.Round(v * 100)
+	if !(math.Abs(r) < 1e12) { // huge, infinite or NaN
+		s := strconv.FormatFloat(r/100, 'f', -1, 64)
+		if s == "-0" {
+			s = "0"
+		}
+		return append(b, s...)
 	}
-	return s
+	return AppendHundredths(b, int64(r))
+}
+
+// AppendHundredths appends n/100 in decimal without trailing zeros (1234:
+// "12.34", 150: "1.5", -5: "-0.05", 0: "0"). For |n| below 2^46 this is
+// the shortest form of the float64 nearest n/100: any other decimal with at
+// most two decimals lies at least 0.01 away, beyond the float's spacing.
+func AppendHundredths(b []byte, n int64) []byte {
+	if n < 0 {
+		b = append(b, '-')
+		n = -n
+	}
+	b = strconv.AppendInt(b, n/100, 10)
+	switch f := byte(n % 100); {
+	case f == 0:
+	case f%10 == 0:
+		b = append(b, '.', '0'+f/10)
+	default:
+		b = append(b, '.', '0'+f/10, '0'+f%10)
+	}
+	return b
 }
 
 // Curve returns the path of the points (xs[i], ys[i]) mapped through sx and

@@ -57,7 +57,15 @@ type View struct {
 
 // BuildFigures draws every plot of a result. It returns nil when the result
 // has no plots.
-func BuildFigures(r *engine.Result, v View) *FigureSet {
+func BuildFigures(r *engine.Result, v View) *FigureSet { return buildFigures(r, v, nil) }
+
+// buildFigures is BuildFigures calling pause, when set, between the panels
+// of a 3-D or 4-D grid (ten panels in 4-D: the runner lets the browser run
+// there).
+func buildFigures(r *engine.Result, v View, pause func()) *FigureSet {
+	if pause == nil {
+		pause = func() {}
+	}
 	if r == nil || r.Plots == nil {
 		return nil
 	}
@@ -133,6 +141,7 @@ func BuildFigures(r *engine.Result, v View) *FigureSet {
 			fs.Grid[row] = make([]*Panel, d)
 			fs.Corr[row] = make([]string, d)
 			for col := range d {
+				pause()
 				id := "bc-g" + strconv.Itoa(row) + strconv.Itoa(col)
 				switch {
 				case row == col:

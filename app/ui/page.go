@@ -223,9 +223,15 @@ func (p *Page) persistSoon(ctx app.Context) {
 	p.persistPending = true
 	seq := p.persistSeq
 	ctx.After(PersistDelay, func(ctx app.Context) {
-		if seq == p.persistSeq {
-			p.persist()
+		if seq != p.persistSeq {
+			// A later change waits for its own turn. Nothing changed: no
+			// render of the page (a slider's drag asks for a save at every
+			// input, and each render took the page's thread for 10 ms and
+			// more).
+			ctx.PreventUpdate()
+			return
 		}
+		p.persist()
 	})
 }
 
@@ -268,9 +274,11 @@ func (p *Page) Input(ctx app.Context, text string) {
 		ctx = *p.ctx
 	}
 	ctx.After(CheckDelay, func(ctx app.Context) {
-		if seq == p.editSeq {
-			p.check(ctx)
+		if seq != p.editSeq {
+			ctx.PreventUpdate() // a later keystroke's check follows; nothing changed
+			return
 		}
+		p.check(ctx)
 	})
 }
 

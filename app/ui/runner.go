@@ -72,6 +72,10 @@ type runner struct {
 	// after stoppedAfter; starting another clears it.
 	stopped      bool
 	stoppedAfter time.Duration
+	// estimateTime is how long the last forecast of an analysis's work
+	// took (workbound.go); memo keeps the last forecast.
+	estimateTime time.Duration
+	memo         forecastMemo
 }
 
 // PageTimes are the page's own timings of the last result.
@@ -118,51 +122,74 @@ func (p *Page) start(ctx app.Context) {
 	p.progress = false
 	analyse := p.analyse
 	if analyse == nil {
-		analyse = p.boundedAnalyse(ctx) // workbound.go
+		analyse = p.boundedAnalyse(ctx, workIdentity(p.s.Model, p.data.digest, run.Options)) // workbound.go
 	}
 	view := p.view
 	ctx.After(ProgressDelay, func(ctx app.Context) {
-		if p.s.Gen == run.Gen && p.s.Running {
-			p.progress = true
+		if p.s.Gen != run.Gen || !p.s.Running {
+			ctx.PreventUpdate() // the analysis is over: nothing to show
+			return
 		}
+		p.progress = true
 	})
 	_ = jsdom.Mark(MarkStart) // natively there is nothing to mark
 	ctx.Async(func() {
 		began := time.Now()
+		g0 := readGC()
 		y := newYielder(SliceLength)
 		var lastReport time.Time
 		res, err := analyse(actx, run.Model, run.Options, func(pr engine.Progress) {
 			y.Yield()
 			if now := time.Now(); now.Sub(lastReport) >= reportEvery {
 				lastReport = now
-				ctx.Dispatch(func(ctx app.Context) { p.s.Report(run.Gen, pr) })
+				ctx.Dispatch(func(ctx app.Context) {
+					if !p.s.Report(run.Gen, pr) {
+						ctx.PreventUpdate()
+					}
+				})
 			}
 		})
-		_ = jsdom.Mark(MarkResult)
+		g1 := readGC()
+		d := g1.detail(g0)
+		d["analysis_ms"], d["yields"], d["paused_ms"] = millis(time.Since(began)), float64(y.count), millis(y.paused)
+		if res != nil {
+			d["engine_ms"] = res.Timing.Total
+		}
+		d["estimate_ms"] = millis(p.estimateTime)
+		_ = jsdom.MarkDetail(MarkResult, d)
 		var figs *FigureSet
 		var secs []Section
-		var figTime time.Duration
+		var figTime, tableTime time.Duration
 		if err == nil && res != nil && actx.Err() == nil {
 			y.Yield()
-			tf := time.Now()
-			figs = numbered(BuildFigures(res, view))
-			figTime = time.Since(tf)
+			tf, pf := time.Now(), y.paused
+			figs = numbered(buildFigures(res, view, y.Yield))
+			figTime = time.Since(tf) - (y.paused - pf) // the pauses between 3-D and 4-D panels left out
 			y.Yield()
+			tt := time.Now()
 			secs = Table(res, run.Model)
+			tableTime = time.Since(tt)
 		}
-		_ = jsdom.Mark(MarkPrepared)
+		g2 := readGC()
+		d = g2.detail(g1)
+		d["figures_ms"], d["table_ms"] = millis(figTime), millis(tableTime)
+		_ = jsdom.MarkDetail(MarkPrepared, d)
 		y.Yield()
 		elapsed, longest := time.Since(began), y.Longest()
 		ctx.Dispatch(func(ctx app.Context) {
 			if !p.s.Finish(run, res, err, elapsed, longest) {
+				ctx.PreventUpdate() // an outdated result: nothing changes
 				return
 			}
 			_ = jsdom.Mark(MarkHanded)
+			g3 := readGC()
 			p.figTime = figTime
 			drawStart := time.Now()
 			ctx.Defer(func(app.Context) {
 				p.drawTime = time.Since(drawStart)
-				_ = jsdom.Mark(MarkUpdated)
+				d := readGC().detail(g3)
+				d["update_ms"] = millis(p.drawTime)
+				_ = jsdom.MarkDetail(MarkUpdated, d)
 			})
 			p.afterRender(ctx)
 			p.progress = false
@@ -213,13 +240,18 @@ func (p *Page) RunAgain(ctx app.Context) {
 
 // yielder lets the browser run between slices of work: Go compiled to
 // WebAssembly runs on the page's only thread and is not preemptive, so a
-// long computation must pause itself. A pause of a millisecond hands control
-// to the browser's event loop (every goroutine is then blocked). It also
+// long computation must pause itself. jsdom.Yield hands control to the
+// browser's event loop (a message to itself, which returns as soon as the
+// browser's pending tasks ran; a timer would wait at least 4 ms). It also
 // measures the longest slice.
 type yielder struct {
 	every   time.Duration
 	last    time.Time
 	longest time.Duration
+	// count and paused are the pauses made and the time they took (the
+	// browser's work meanwhile included).
+	count  int
+	paused time.Duration
 }
 
 func newYielder(every time.Duration) *yielder {
@@ -228,13 +260,16 @@ func newYielder(every time.Duration) *yielder {
 
 // Yield pauses when the current slice has run for at least every.
 func (y *yielder) Yield() {
-	d := time.Since(y.last)
+	now := time.Now()
+	d := now.Sub(y.last)
 	if d < y.every {
 		return
 	}
 	y.longest = max(y.longest, d)
-	time.Sleep(time.Millisecond)
+	jsdom.Yield()
 	y.last = time.Now()
+	y.count++
+	y.paused += y.last.Sub(now)
 }
 
 // Longest returns the longest slice measured so far, including the one

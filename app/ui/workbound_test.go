@@ -5,6 +5,9 @@ import (
 	"strings"
 	"testing"
 	"time"
+
+	"bellcheck/engine"
+	"bellcheck/engine/model"
 )
 
 // TestPageRefusesAnalysisBeyondItsBound: an analysis forecast beyond
@@ -70,4 +73,70 @@ func waitIdle(t *testing.T, p *Page, e interface{ ConsumeAll() }) {
 		time.Sleep(50 * time.Millisecond)
 	}
 	t.Fatal("the analysis did not finish in 30 s")
+}
+
+// TestForecastKeptForTheSameWork: the page keeps the last forecast and
+// does not forecast the same work again (a comment typed changes nothing of
+// it); other work is forecast. The kept forecast is made to exceed the
+// bound, so whether it was used shows in the outcome.
+func TestForecastKeptForTheSameWork(t *testing.T) {
+	h, e := mount(t, nil)
+	p := h.page
+	p.browser = newMemBrowser("")
+	src := "param a\nparam b\nld_normal(1, a + b, 1) - a^2/2 - b^2/2\n"
+	p.Input(h.ctx, src)
+	e.ConsumeAll()
+	waitIdle(t, p, e)
+	if p.s.RunErr != nil || p.s.Result == nil {
+		t.Fatalf("first run: %v", p.s.RunErr)
+	}
+	if p.memo.work == "" {
+		t.Fatal("no forecast kept")
+	}
+	p.memo.est.Total = 2 * PageMaxTime
+	p.Input(h.ctx, src+"# a comment\n")
+	e.ConsumeAll()
+	waitIdle(t, p, e)
+	var tl *TooLongError
+	if !errors.As(p.s.RunErr, &tl) || tl.Estimate.Total != 2*PageMaxTime {
+		t.Fatalf("run error %v: the kept forecast was not used", p.s.RunErr)
+	}
+	p.Input(h.ctx, src+"c = 2\n")
+	e.ConsumeAll()
+	waitIdle(t, p, e)
+	if p.s.RunErr != nil || p.s.Result == nil {
+		t.Fatalf("other work was not forecast afresh: %v", p.s.RunErr)
+	}
+}
+
+// TestWorkIdentity: comments and a slider's value leave the work as it
+// is; a statement, the table or an option changes it.
+func TestWorkIdentity(t *testing.T) {
+	parse := func(src string) *model.Model {
+		m, err := model.Parse(src)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return m
+	}
+	src := "param a\nb = 0.5 # a constant\nld_normal(a, b, 1)\n"
+	base := workIdentity(parse(src), "", engine.Options{Plots: true})
+	if base == "" {
+		t.Fatal("no identity")
+	}
+	if w := workIdentity(parse("# first\n"+src+"# last\n"), "", engine.Options{Plots: true}); w != base {
+		t.Error("a comment changed the work")
+	}
+	for name, w := range map[string]string{
+		"a statement": workIdentity(parse(src+"c = 1\n"), "", engine.Options{Plots: true}),
+		"the table":   workIdentity(parse(src), "abc", engine.Options{Plots: true}),
+		"an option":   workIdentity(parse(src), "", engine.Options{Plots: true, Params: []engine.ParamOptions{{Points: 50}}}),
+	} {
+		if w == base {
+			t.Errorf("%s left the work as it was", name)
+		}
+	}
+	if workIdentity(nil, "", engine.Options{}) != "" {
+		t.Error("no model has an identity")
+	}
 }
