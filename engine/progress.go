@@ -103,6 +103,14 @@ func (t *tracker) at(f float64) {
 	}
 }
 
+// beat reports, when the last report is progressInterval old, without
+// changing the fraction: a pause point inside work of no known share.
+func (t *tracker) beat() {
+	if now := time.Now(); now.Sub(t.last) >= progressInterval {
+		t.report(now)
+	}
+}
+
 // tick reports without new information on the fraction (work of unknown
 // length): the fraction creeps towards the stage's end.
 func (t *tracker) tick(evaluations int, expected float64) {

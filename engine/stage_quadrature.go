@@ -82,7 +82,7 @@ func (a *analysis) integrateNested() (*quadrature.Result, []transform.Map, error
 	if err != nil || !ok {
 		return nil, nil, err
 	}
-	q, err := quadrature.Integrate(a.ctx, p, start, quadrature.Settings{Maps: maps, Progress: a.tr.at})
+	q, err := quadrature.Integrate(a.ctx, p, start, quadrature.Settings{Maps: maps, Progress: a.tr.at, Tick: a.tr.beat})
 	if err != nil {
 		if ctxErr := a.ctx.Err(); ctxErr != nil {
 			return nil, nil, ctxErr
@@ -293,6 +293,7 @@ func (a *analysis) wideStarts(p *transform.Density, found []polished) ([]polishe
 		if ok && !seen(found, m) {
 			found = append(found, m)
 		}
+		a.tr.beat() // 48 searches in 4-D: a pause point between them
 	}
 	for _, f := range found {
 		if f.logP > best.logP {

@@ -124,6 +124,9 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 	z := make([]float64, d)
 	top := math.Inf(-1)
 	for i := 0; i < n; i++ {
+		if s.Progress != nil && i > 0 && i%progressNodes == 0 {
+			s.Progress(0)
+		}
 		ns.Point(i, z)
 		y := ys[i*d : (i+1)*d]
 		if s.ToFitting != nil {
@@ -157,6 +160,9 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 	cell := make([]float64, n) // a node's cell side on the fitting scale: exp((log w + log J) / d)
 	skipped := 0.0
 	for i := 0; i < n; i++ {
+		if s.Progress != nil && i > 0 && i%progressNodes == 0 {
+			s.Progress(0)
+		}
 		pm[i] = math.Exp(logW[i] + logP[i] - logZn)
 		valid[i] = finite(ys[i*d:(i+1)*d]) && !math.IsNaN(logJ[i]) && !math.IsInf(logJ[i], 0)
 		if !valid[i] {
@@ -184,6 +190,9 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 		logNorm, halfLogDet := q.LogNorm(), q.LogDet()/2
 		cellScale := math.Exp(-halfLogDet / float64(d)) // the cell side in q's whitened coordinates
 		for i := 0; i < n; i++ {
+			if s.Progress != nil && i > 0 && i%progressNodes == 0 {
+				s.Progress((float64(qi) + float64(i)/float64(n)) / float64(len(qs)))
+			}
 			if !valid[i] {
 				continue
 			}
@@ -293,6 +302,10 @@ func smoothed(cover *[2]float64, m, gap, h float64) {
 		}
 	}
 }
+
+// progressNodes is the number of nodes between two progress reports
+// within one Gaussian's sums (a 4-D rule has about 2e5 nodes).
+const progressNodes = 8192
 
 // negligibleShare is p's share of a node below which the node is left out
 // of the coverage's sums: the 4-D rules hold about 2e5 nodes, so together

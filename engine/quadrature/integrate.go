@@ -70,6 +70,9 @@ func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (
 	if err := checkStart(p, start, s); err != nil {
 		return nil, err
 	}
+	if s.lines == nil {
+		s.lines = new(int) // shared by the pilot, the main rule and the result's slices
+	}
 	main := start
 	pilot := start.NegHessian == nil
 	var pilotPoints, pilotDerivs, pilotNodes int

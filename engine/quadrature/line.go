@@ -114,8 +114,15 @@ func (r *rule) line() error {
 	for t := range r.ls {
 		r.lay.expand(&r.ls[t], r.y, r.x, 1, lv.sum[t])
 	}
+	if *r.s.lines++; r.s.Tick != nil && *r.s.lines%tickLines == 0 {
+		r.s.Tick()
+	}
 	return nil
 }
+
+// tickLines is the number of lines between two calls of Settings.Tick: a
+// line is a few dozen evaluations of log p.
+const tickLines = 8
 
 // evalRange evaluates the line's nodes a..b in one block, writing u into
 // lineT, log p into lineLogP and the weighted share exp(log p - ref) h w

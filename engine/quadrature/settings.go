@@ -48,6 +48,14 @@ type Settings struct {
 	NewtonSteps int
 	// Progress, when set, receives the fraction done (0 to 1).
 	Progress func(fraction float64)
+	// Tick, when set, is called every tickLines lines of nodes, in the
+	// slices of marginals and plots too: work of no known share, for a
+	// caller that must pause often (the page yields to the browser there).
+	Tick func()
+	// lines counts the lines of nodes of a rule and of every slice of its
+	// result, shared by their settings' copies (a slice may have a single
+	// line), for Tick.
+	lines *int
 }
 
 func (s Settings) withDefaults() Settings {
@@ -71,6 +79,9 @@ func (s Settings) withDefaults() Settings {
 	}
 	if s.RefineBudget <= 0 {
 		s.RefineBudget = 1 << 20
+	}
+	if s.lines == nil {
+		s.lines = new(int)
 	}
 	return s
 }
