@@ -5,10 +5,13 @@ package engine
 import (
 	"context"
 	"fmt"
+	"maps"
 	"os"
 	"path/filepath"
+	"slices"
 	"syscall"
 	"testing"
+	"time"
 
 	"bellcheck/engine/model"
 )
@@ -60,4 +63,46 @@ func cpuTime() float64 {
 	syscall.Getrusage(syscall.RUSAGE_SELF, &ru)
 	ms := func(t syscall.Timeval) float64 { return float64(t.Sec)*1e3 + float64(t.Usec)/1e3 }
 	return ms(ru.Utime) + ms(ru.Stime)
+}
+
+// TestProgressGaps prints, per pair of stages, the longest time between
+// two progress reports on the benchmark models (set BELLCHECK_STAGETIMES=1):
+// the page pauses only there, so a long gap is a long task in the
+// browser. It checks nothing.
+func TestProgressGaps(t *testing.T) {
+	if os.Getenv("BELLCHECK_STAGETIMES") == "" {
+		t.Skip("set BELLCHECK_STAGETIMES=1")
+	}
+	for _, c := range []struct {
+		file string
+		opts Options
+	}{
+		{"banana_2d.txt", Options{Plots: true}},
+		{"sensor_3d.txt", Options{Plots: true, Params: []ParamOptions{{}, logScale}}},
+		{"counts_4d.txt", Options{Plots: true}},
+	} {
+		src, err := os.ReadFile(filepath.Join("..", "testdata", "reference", "bench", c.file))
+		if err != nil {
+			t.Fatal(err)
+		}
+		m, err := model.Parse(string(src))
+		if err != nil {
+			t.Fatal(err)
+		}
+		gaps := map[string]float64{}
+		last, lastStage := time.Now(), "start"
+		if _, err := Analyse(context.Background(), m, c.opts, func(p Progress) {
+			now := time.Now()
+			k := lastStage + " > " + p.Stage
+			gaps[k] = max(gaps[k], float64(now.Sub(last))/float64(time.Millisecond))
+			last, lastStage = now, p.Stage
+		}); err != nil {
+			t.Fatal(err)
+		}
+		s := c.file + ":"
+		for _, k := range slices.Sorted(maps.Keys(gaps)) {
+			s += fmt.Sprintf(" %s %.1f;", k, gaps[k])
+		}
+		t.Log(s)
+	}
 }
