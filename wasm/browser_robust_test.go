@@ -238,7 +238,8 @@ func (tb *tab) waitDoneExplained(t *testing.T, after int, d time.Duration) {
 	expr := fmt.Sprintf(`window.__bc && (window.__bc.failed > 0 || (window.__bc.done > %d && window.__bc.drawnAt.length >= window.__bc.done))`, after)
 	if _, err := chromedp.Run(ctx, chromedp.Poll[chromedp.Void](expr,
 		chromedp.WithPollingInterval(25*time.Millisecond), chromedp.WithPollingTimeout(d))); err != nil {
-		t.Fatalf("waiting for results: %v", err)
+		st := tb.state(t)
+		t.Fatalf("waiting for results (after %d analyses): %v; %d done, %d drawn, status %q; editor %q; console errors %v", after, err, st.Done, len(st.DrawnAt), st.Status, trimLines(tb.editorText(t), 2), tb.consoleErrors())
 	}
 	if st := tb.state(t); st.Failed > 0 {
 		t.Fatalf("the analysis failed: %q", eval[string](t, tb, 5*time.Second, `(document.querySelector(".diag-error") || {}).textContent || "no error shown"`))

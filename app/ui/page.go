@@ -28,6 +28,11 @@ type Page struct {
 	// persistPending reports one not yet carried out.
 	persistSeq     int
 	persistPending bool
+	// urlFrag is the URL's fragment as the page last wrote or opened it
+	// (urlKnown once it has): a different one in the URL is a link set from
+	// outside whose hashchange is still to come, which persist leaves be.
+	urlFrag  string
+	urlKnown bool
 	pending        bool
 	example        string
 	view           View
@@ -103,6 +108,7 @@ func (p *Page) OnMount(ctx app.Context) {
 // belongs to the calculator opened on its own, and embeds on a wiki page
 // must neither read nor overwrite it.
 func (p *Page) open(ctx app.Context) {
+	p.urlFrag, p.urlKnown = p.browser.Fragment(), true
 	if p.mode.Embed || jsdom.Framed() || embedLink(p.browser.Fragment()) {
 		p.openEmbedded(ctx)
 		return
@@ -128,6 +134,7 @@ func (p *Page) OpenLink(ctx app.Context) {
 	if frag == "" {
 		return
 	}
+	p.urlFrag, p.urlKnown = frag, true
 	link, err := share.Decode(frag)
 	if err != nil {
 		p.notice = Notice{Text: "The link could not be opened: " + linkProblem(err) + " Your model is unchanged.", Warn: true}
@@ -208,7 +215,15 @@ func (p *Page) persist() {
 	if !p.mode.Embed {
 		p.record(p.shareState(), frag) // storage refused: the state stays in the URL
 	}
+	if p.urlKnown && p.browser.Fragment() != p.urlFrag {
+		// A link set from outside (pasted, or set by a script) just now:
+		// its hashchange opens it; writing the current state over it
+		// would lose it (the hashchange would then find the page's own
+		// state). The current state is in the history already.
+		return
+	}
 	p.browser.SetFragment(frag)
+	p.urlFrag, p.urlKnown = frag, true
 }
 
 // persistSoon persists the state PersistDelay from now, once for a burst
