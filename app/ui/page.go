@@ -33,11 +33,11 @@ type Page struct {
 	// outside whose hashchange is still to come, which persist leaves be.
 	urlFrag  string
 	urlKnown bool
-	pending        bool
-	example        string
-	view           View
-	figs           *FigureSet
-	sections       []Section
+	pending  bool
+	example  string
+	view     View
+	figs     *FigureSet
+	sections []Section
 	// lastShown is the result as last shown (see shown).
 	lastShown *Shown
 
