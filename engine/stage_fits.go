@@ -160,9 +160,25 @@ func (a *analysis) fitReverse(lap *fit.LaplaceFit) (rev, mfit *fit.VariationalFi
 		case err == nil:
 			return &vf, nil
 		case errors.Is(err, fit.ErrNoConvergence):
+			res := math.Max(vf.GradResidual, vf.PrecisionResidual)
+			// A last iterate that is the start, or whose residual says
+			// nothing, would mislead as a fit.
+			switch {
+			case math.IsNaN(res) || math.IsInf(res, 0):
+				a.avail.drop(m.quantity(), CodeNoConvergence)
+				a.diag.add(CodeNoConvergence, SeverityWarning,
+					"No %s fit: its iteration stopped after %d steps without converging, its residual not a finite number (the cubature of log p gave no usable gradient or curvature), so its last iterate is not shown.",
+					label, vf.Iterations)
+				return nil, nil
+			case vf.Iterations == 0:
+				a.avail.drop(m.quantity(), CodeNoConvergence)
+				a.diag.add(CodeNoConvergence, SeverityWarning,
+					"No %s fit: its iteration took no step from its start and did not converge, so no fit is shown.", label)
+				return nil, nil
+			}
 			a.diag.add(CodeNoConvergence, SeverityWarning,
 				"The %s fit did not converge in %d steps (residual %.2g); its last iterate is shown, marked as not converged.",
-				label, vf.Iterations, math.Max(vf.GradResidual, vf.PrecisionResidual))
+				label, vf.Iterations, res)
 			if vf.Mean == nil || vf.Cov == nil {
 				a.avail.drop(m.quantity(), CodeNoConvergence)
 				return nil, nil
