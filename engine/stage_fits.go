@@ -165,14 +165,14 @@ func (a *analysis) fitReverse(lap *fit.LaplaceFit) (rev, mfit *fit.VariationalFi
 			// nothing, would mislead as a fit.
 			switch {
 			case math.IsNaN(res) || math.IsInf(res, 0):
-				a.avail.drop(m.quantity(), CodeNoConvergence)
-				a.diag.add(CodeNoConvergence, SeverityWarning,
+				a.avail.drop(m.quantity(), CodeFitFailed)
+				a.diag.add(CodeFitFailed, SeverityError,
 					"No %s fit: its iteration stopped after %d steps without converging, its residual not a finite number (the cubature of log p gave no usable gradient or curvature), so its last iterate is not shown.",
 					label, vf.Iterations)
 				return nil, nil
 			case vf.Iterations == 0:
-				a.avail.drop(m.quantity(), CodeNoConvergence)
-				a.diag.add(CodeNoConvergence, SeverityWarning,
+				a.avail.drop(m.quantity(), CodeFitFailed)
+				a.diag.add(CodeFitFailed, SeverityError,
 					"No %s fit: its iteration took no step from its start and did not converge, so no fit is shown.", label)
 				return nil, nil
 			}
