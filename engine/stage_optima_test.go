@@ -15,19 +15,7 @@ import (
 // A density written as log p gets no such note.
 func TestLesserOptima(t *testing.T) {
 	j := func(x float64) float64 { return 20*(x*x-1)*(x*x-1) + 10*x }
-	dj := func(x float64) float64 { return 80*x*(x*x-1) + 10 }
-	root := func(a, b float64) float64 {
-		for i := 0; i < 200; i++ {
-			m := (a + b) / 2
-			if (dj(a) < 0) == (dj(m) < 0) {
-				a = m
-			} else {
-				b = m
-			}
-		}
-		return (a + b) / 2
-	}
-	lo, hi := root(-2, -0.5), root(0.5, 2)
+	lo, hi := bisect(doubleWellSlope, -2, -0.5), bisect(doubleWellSlope, 0.5, 2)
 	res := analyseSource(t, "param x\ncost 20*(x^2-1)^2 + 10*x\n", Options{})
 	if len(res.Modes) != 1 || math.Abs(res.Modes[0].X[0]-lo) > 1e-6 {
 		t.Fatalf("modes %+v, want one at %g", res.Modes, lo)
@@ -57,17 +45,7 @@ func TestLesserOptima(t *testing.T) {
 // log density's mode, which the Jacobian shifts a little: 2 % allowed).
 // The point was once mapped to the original scale twice (x = +Inf).
 func TestLesserOptimaLogScale(t *testing.T) {
-	dj := func(u float64) float64 { return 80*u*(u*u-1) + 10 }
-	a, b := 0.5, 2.0
-	for i := 0; i < 200; i++ {
-		m := (a + b) / 2
-		if (dj(a) < 0) == (dj(m) < 0) {
-			a = m
-		} else {
-			b = m
-		}
-	}
-	want := math.Exp((a + b) / 2)
+	want := math.Exp(bisect(doubleWellSlope, 0.5, 2))
 	res := analyseSource(t, "param x in [0, inf]\ncost 20*(log(x)^2-1)^2 + 10*log(x)\n", Options{Params: []ParamOptions{logScale}})
 	var note string
 	for _, d := range res.Diagnostics {
@@ -83,4 +61,20 @@ func TestLesserOptimaLogScale(t *testing.T) {
 	if _, err := fmt.Sscanf(note[i+len("x = "):], "%g", &got); err != nil || math.Abs(got-want) > 0.02*want {
 		t.Errorf("note %q: the other minimum at x = %g, want about %.4g", note, got, want)
 	}
+}
+
+// doubleWellSlope is J'(x) for the double well J(x) = 20 (x^2 - 1)^2 + 10 x.
+func doubleWellSlope(x float64) float64 { return 80*x*(x*x-1) + 10 }
+
+// bisect returns the root of f in [a, b], where f changes sign.
+func bisect(f func(float64) float64, a, b float64) float64 {
+	for i := 0; i < 200; i++ {
+		m := (a + b) / 2
+		if (f(a) < 0) == (f(m) < 0) {
+			a = m
+		} else {
+			b = m
+		}
+	}
+	return (a + b) / 2
 }

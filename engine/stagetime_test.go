@@ -16,31 +16,42 @@ import (
 	"bellcheck/engine/model"
 )
 
+// stageTimeCases are the models the timing probes below run, with the
+// options the page would give them.
+var stageTimeCases = []struct {
+	file string
+	opts Options
+}{
+	{"decay_rate_1d.txt", Options{Plots: true, Params: []ParamOptions{logScale}}},
+	{"banana_2d.txt", Options{Plots: true}},
+	{"sensor_3d.txt", Options{Plots: true, Params: []ParamOptions{{}, logScale}}},
+	{"counts_4d.txt", Options{Plots: true}},
+	{"lorenz_short_3d.txt", Options{Plots: true, Params: lorenzAxes}},
+	{"lorenz_long_3d.txt", Options{Plots: true, Params: lorenzAxes}},
+}
+
+// benchFile parses a model of testdata/reference/bench.
+func benchFile(t *testing.T, file string) *model.Model {
+	t.Helper()
+	src, err := os.ReadFile(filepath.Join("..", "testdata", "reference", "bench", file))
+	if err != nil {
+		t.Fatal(err)
+	}
+	m, err := model.Parse(string(src))
+	if err != nil {
+		t.Fatal(err)
+	}
+	return m
+}
+
 // TestStageTimes prints each stage's time on the benchmark models (set
 // BELLCHECK_STAGETIMES=1); it checks nothing.
 func TestStageTimes(t *testing.T) {
 	if os.Getenv("BELLCHECK_STAGETIMES") == "" {
 		t.Skip("set BELLCHECK_STAGETIMES=1")
 	}
-	for _, c := range []struct {
-		file string
-		opts Options
-	}{
-		{"decay_rate_1d.txt", Options{Plots: true, Params: []ParamOptions{logScale}}},
-		{"banana_2d.txt", Options{Plots: true}},
-		{"sensor_3d.txt", Options{Plots: true, Params: []ParamOptions{{}, logScale}}},
-		{"counts_4d.txt", Options{Plots: true}},
-		{"lorenz_short_3d.txt", Options{Plots: true, Params: lorenzAxes}},
-		{"lorenz_long_3d.txt", Options{Plots: true, Params: lorenzAxes}},
-	} {
-		src, err := os.ReadFile(filepath.Join("..", "testdata", "reference", "bench", c.file))
-		if err != nil {
-			t.Fatal(err)
-		}
-		m, err := model.Parse(string(src))
-		if err != nil {
-			t.Fatal(err)
-		}
+	for _, c := range stageTimeCases {
+		m := benchFile(t, c.file)
 		for rep := 0; rep < 3; rep++ {
 			c0 := cpuTime()
 			res, err := Analyse(context.Background(), m, c.opts, nil)
@@ -73,22 +84,8 @@ func TestProgressGaps(t *testing.T) {
 	if os.Getenv("BELLCHECK_STAGETIMES") == "" {
 		t.Skip("set BELLCHECK_STAGETIMES=1")
 	}
-	for _, c := range []struct {
-		file string
-		opts Options
-	}{
-		{"banana_2d.txt", Options{Plots: true}},
-		{"sensor_3d.txt", Options{Plots: true, Params: []ParamOptions{{}, logScale}}},
-		{"counts_4d.txt", Options{Plots: true}},
-	} {
-		src, err := os.ReadFile(filepath.Join("..", "testdata", "reference", "bench", c.file))
-		if err != nil {
-			t.Fatal(err)
-		}
-		m, err := model.Parse(string(src))
-		if err != nil {
-			t.Fatal(err)
-		}
+	for _, c := range stageTimeCases {
+		m := benchFile(t, c.file)
 		gaps := map[string]float64{}
 		last, lastStage := time.Now(), "start"
 		if _, err := Analyse(context.Background(), m, c.opts, func(p Progress) {
