@@ -72,34 +72,36 @@ func (a *analysis) settleExact() {
 			}
 		}
 	}
-	switch {
-	case len(noVar) > 0 && r.quad != nil:
-		a.diag.add(CodeNoVariance, SeverityWarning,
-			"The variance of %s is infinite: the density's tail falls too slowly for it (as a Student t's with 2 or fewer degrees of freedom; the rule's walks on the unconstrained scale end where the tail's share of x^2 does not decay): the exact covariance and the forward-KL fit are not reported.", list(noVar))
-	case len(noVar) > 0:
-		a.diag.add(CodeNoVariance, SeverityWarning,
-			"The variance of %s does not settle as the box widens (it may not exist, as for a Cauchy density): the exact covariance and the forward-KL fit are not reported.", list(noVar))
-	}
-	switch {
-	case len(noKurt) > 0 && r.quad != nil:
-		a.diag.add(CodeHeavyTails, SeverityWarning,
-			"The fourth moment of %s is infinite: the tails fall too slowly for it (as a Student t's with 4 or fewer degrees of freedom): the excess kurtosis is not reported.", list(noKurt))
-	case len(noKurt) > 0:
-		a.diag.add(CodeHeavyTails, SeverityWarning,
-			"The fourth moment of %s does not settle as the box widens (the tails may be too heavy for it to exist): the excess kurtosis is not reported.", list(noKurt))
-	}
+	// The rule decides from the tails' decay; the grid from the moments'
+	// change as the box widens: each says so in its words.
+	byRule := r.quad != nil
+	a.absentMoments(CodeNoVariance, noVar, byRule,
+		"The variance of %s is infinite: the density's tail falls too slowly for it (as a Student t's with 2 or fewer degrees of freedom; the rule's walks on the unconstrained scale end where the tail's share of x^2 does not decay): the exact covariance and the forward-KL fit are not reported.",
+		"The variance of %s does not settle as the box widens (it may not exist, as for a Cauchy density): the exact covariance and the forward-KL fit are not reported.")
+	a.absentMoments(CodeHeavyTails, noKurt, byRule,
+		"The fourth moment of %s is infinite: the tails fall too slowly for it (as a Student t's with 4 or fewer degrees of freedom): the excess kurtosis is not reported.",
+		"The fourth moment of %s does not settle as the box widens (the tails may be too heavy for it to exist): the excess kurtosis is not reported.")
 	if len(noSkew) > 0 {
 		a.diag.add(CodeHeavyTails, SeverityWarning,
 			"The third moment of %s does not settle either: the skewness is not reported.", list(noSkew))
 	}
-	switch {
-	case len(noMean) > 0 && r.quad != nil:
-		a.diag.add(CodeNoMean, SeverityWarning,
-			"Nor does the mean of %s exist: the tails fall too slowly for it (as a Cauchy density's): the exact mean is not reported.", list(noMean))
-	case len(noMean) > 0:
-		a.diag.add(CodeNoMean, SeverityWarning,
-			"The mean of %s does not settle as the box widens either (it may not exist): the exact mean is not reported.", list(noMean))
+	a.absentMoments(CodeNoMean, noMean, byRule,
+		"Nor does the mean of %s exist: the tails fall too slowly for it (as a Cauchy density's): the exact mean is not reported.",
+		"The mean of %s does not settle as the box widens either (it may not exist): the exact mean is not reported.")
+}
+
+// absentMoments adds the warning for the parameters named, whose moment
+// does not exist: in the words of the nested rule's verdict when byRule,
+// else of the grid's.
+func (a *analysis) absentMoments(code string, names []string, byRule bool, ruleMsg, gridMsg string) {
+	if len(names) == 0 {
+		return
 	}
+	msg := gridMsg
+	if byRule {
+		msg = ruleMsg
+	}
+	a.diag.add(code, SeverityWarning, msg, list(names))
 }
 
 // dropOverflow records as absent, with a diagnostic, the exact moments and
