@@ -24,8 +24,7 @@ const (
 	// on the test cases, far in a funnel's tail: below what a plot shows).
 	sliceCoarse
 	// slicePlot: twice the main step, walks ended where the density's
-	// share falls below 1e-9 of its peak, no walks for the moments (a
-	// slice's integral is all a plot point needs) and two Newton steps
+	// share falls below 1e-9 of its peak and two Newton steps
 	// recentring each inner axis (the previous point's centre is the
 	// guess; one step left the 3-D funnel's pair 1e-3 off at its peak).
 	slicePlot
@@ -35,9 +34,9 @@ const (
 // sliceSettings).
 const sliceNewtonSteps = 4
 
-// sliceSettings are the settings of the rules that integrate the other
-// axes at a plot point (see sliceAccuracy), with no pilot.
-func (res *Result) sliceSettings(dim int, acc sliceAccuracy) Settings {
+// sliceSettings are the settings of the rules that integrate the free
+// axes of sl at a plot point (see sliceAccuracy), with no pilot.
+func (res *Result) sliceSettings(sl *slice, acc sliceAccuracy) Settings {
 	s := res.settings.withDefaults()
 	if acc != sliceFine {
 		s.Step *= 2
@@ -47,15 +46,39 @@ func (res *Result) sliceSettings(dim int, acc sliceAccuracy) Settings {
 	// recentre them; a Newton step costs a Hessian, most of a slice's time
 	// on a costly density.
 	s.NewtonSteps = sliceNewtonSteps
+	// A slice's integral is all its callers take: its walks end where the
+	// density's share is negligible, not where the moments' are.
+	s.MomentTol = 1
 	if acc == slicePlot {
 		s.Tol = math.Max(s.Tol, 1e-9)
-		s.MomentTol = 1
 		s.NewtonSteps = 2
 	}
-	s.Order = identityOrder(dim)
+	s.Order = sliceOrder(res.Order, sl.free)
 	s.Maps = nil
 	s.Progress = nil
 	return s
+}
+
+// sliceOrder returns the axis order of a slice's rule over the free
+// parameters (indices into free): the main rule's order without the fixed
+// ones. The main rule puts a scale outside, where each of its nodes
+// rescales the others, so a slice does too: the 3-D regression's slices
+// over (b, s) took b outside, whose conditional given a alone is a
+// Student t, and walked it 57 nodes at 3,201 points a slice; with s
+// outside, b's conditional given s is a normal.
+func sliceOrder(order, free []int) []int {
+	out := make([]int, 0, len(free))
+	for _, k := range order {
+		for i, f := range free {
+			if f == k {
+				out = append(out, i)
+			}
+		}
+	}
+	if len(out) != len(free) {
+		return identityOrder(len(free))
+	}
+	return out
 }
 
 // mapOf returns parameter k's map to the original scale.
@@ -82,7 +105,7 @@ func (res *Result) sliceLogZ(ctx context.Context, sl *slice, guess []float64, ac
 		mean = guess
 	}
 	st := Start{Mode: mean, Cov: cov}
-	r, err := newRule(ctx, sl, st, res.sliceSettings(len(sl.free), acc))
+	r, err := newRule(ctx, sl, st, res.sliceSettings(sl, acc))
 	if err == nil {
 		r.noNodes = true
 	}
