@@ -99,9 +99,8 @@ var coverageWidths = [2]float64{0.5, 1}
 // smoothing one spacing wide is integrated by the trapezoid rule to about
 // exp(-2 pi^2 c^2) of its size (Poisson summation), and its bias grows as
 // c^2, so the smoothing's bias is removed by Richardson extrapolation from
-// widths c and 2c (coverageWidths): (4 C(c) - C(2c)) / 3. Beyond nine
-// widths from the boundary the indicator is taken as 0 or 1 (Phi(-9) is
-// 1e-19).
+// widths c and 2c (coverageWidths): (4 C(c) - C(2c)) / 3. Beyond seven
+// widths from the boundary the indicator is taken as 0 or 1 (smoothReach).
 func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, error) {
 	n := ns.Len()
 	if len(qs) == 0 {
@@ -291,17 +290,22 @@ func spacingIn(q *gauss.Prepared, logVol float64, d int) float64 {
 // its boundary in q's radius, node spacing h) at each width of
 // coverageWidths to cover.
 func smoothed(cover *[2]float64, m, gap, h float64) {
-	switch {
-	case gap > 9*coverageWidths[1]*h:
-	case gap < -9*coverageWidths[1]*h:
-		cover[0] += m
-		cover[1] += m
-	default:
-		for w, f := range coverageWidths {
-			cover[w] += m * 0.5 * math.Erfc(gap/(f*h*math.Sqrt2))
+	for w, f := range coverageWidths {
+		switch s := f * h; {
+		case gap > smoothReach*s:
+		case gap < -smoothReach*s:
+			cover[w] += m
+		default:
+			cover[w] += m * 0.5 * math.Erfc(gap/(s*math.Sqrt2))
 		}
 	}
 }
+
+// smoothReach is the distance from the boundary, in smoothing widths,
+// beyond which the smoothed indicator is taken as 0 or 1: Phi(-7) is
+// 1.3e-12, below anything the coverage resolves, and each width has its
+// own reach (the error function is most of the coverage's time in 4-D).
+const smoothReach = 7
 
 // progressNodes is the number of nodes between two progress reports
 // within one Gaussian's sums (a 4-D rule has about 2e5 nodes).
