@@ -36,9 +36,18 @@ const pairShown = 97
 // plotTail is the share of the mass left out of each end of a plot's
 // range (before widening by plotMargin of the range on each side, on the
 // unconstrained scale).
+//
+// plotReach bounds how far a range reaches beyond the median, in units of
+// the distance from the median to the 2.5 % (or 97.5 %) quantile: a
+// normal's 0.05 % quantile lies 1.68 of them out, untouched, while the
+// 99.95 % quantile of a Student t with 2 dof (the noise sd from three
+// readings with a 1/s prior) lies 13 out and squeezed the bulk of the
+// marginal into a twelfth of the plot (common practice: a plot shows the
+// body and the start of the tails).
 const (
 	plotTail   = 5e-4
 	plotMargin = 0.15
+	plotReach  = 2.5
 )
 
 // plotsFromRule draws the exact marginals and pair marginals from the
@@ -46,10 +55,10 @@ const (
 // nested rule over the other parameters) on plot ranges fitted to the
 // posterior's width, and each fit's curves and ellipses, all on the
 // original scale. The range of a parameter runs between its 0.05 % and
-// 99.95 % quantiles (from the rule's node set, weighted), widened by 15 %
-// of that span on each side on the unconstrained scale and mapped to the
-// original (so it stays inside the support); the points are evenly spaced
-// on the original scale.
+// 99.95 % quantiles, held within plotReach of its median (see ruleRanges),
+// widened by 15 % of that span on each side (on the original scale where
+// that stays inside the support, else on the unconstrained one); the
+// points are evenly spaced on the original scale.
 func (a *analysis) plotsFromRule(res *Result) (*Plots, error) {
 	q := a.ref.quad
 	d := a.d
@@ -165,9 +174,9 @@ func (a *analysis) normalCurve(g *gauss.Prepared, k int, xs []float64) []float64
 // ruleRanges returns each parameter's plot range on the original scale
 // (see plotsFromRule): between the marginal's plotTail and 1 - plotTail
 // quantiles from its Curve (the rule's walk along the parameter, exact to
-// the rule's accuracy), widened by plotMargin of that span on each side
-// on the unconstrained scale and mapped to the original. The curves are
-// returned too, walked here where the exact stage left none.
+// the rule's accuracy), each end within plotReach of the median, widened
+// by plotMargin of that span on each side. The curves are returned too,
+// walked here where the exact stage left none.
 func (a *analysis) ruleRanges(q *quadrature.Result) ([][2]float64, []*quadrature.Curve, error) {
 	d := a.d
 	out := make([][2]float64, d)
@@ -184,10 +193,12 @@ func (a *analysis) ruleRanges(q *quadrature.Result) ([][2]float64, []*quadrature
 		}
 		curves[k] = cv
 		mp := a.ref.quadMaps[k]
-		var zlo, zhi float64
+		var zlo, zhi, xlo, xhi float64
 		if cv != nil {
-			qs := cv.Quantiles([]float64{plotTail, 1 - plotTail})
-			zlo, zhi = mp.FromOriginal(qs[0]), mp.FromOriginal(qs[1])
+			qs := cv.Quantiles([]float64{plotTail, 0.025, 0.5, 0.975, 1 - plotTail})
+			xlo = math.Max(qs[0], qs[2]-plotReach*(qs[2]-qs[1]))
+			xhi = math.Min(qs[4], qs[2]+plotReach*(qs[3]-qs[2]))
+			zlo, zhi = mp.FromOriginal(xlo), mp.FromOriginal(xhi)
 		} else {
 			// No curve: four of the rule's sds on the unconstrained
 			// scale on each side of its mean.
@@ -199,6 +210,18 @@ func (a *analysis) ruleRanges(q *quadrature.Result) ([][2]float64, []*quadrature
 			return nil, nil, fmt.Errorf("engine: no plot range for %s (from %g to %g on its unconstrained scale)", a.names[k], zlo, zhi)
 		}
 		out[k] = [2]float64{mp.ToOriginal(zlo - plotMargin*span), mp.ToOriginal(zhi + plotMargin*span)}
+		if cv != nil {
+			// The margin on the original scale, where the axis is drawn,
+			// on each side where it stays inside the support (on the log
+			// scale it multiplied a heavy tail's end by 1.8).
+			w := xhi - xlo
+			if lo := xlo - plotMargin*w; lo > mp.Lo {
+				out[k][0] = lo
+			}
+			if hi := xhi + plotMargin*w; hi < mp.Hi {
+				out[k][1] = hi
+			}
+		}
 	}
 	return out, curves, nil
 }

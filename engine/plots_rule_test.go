@@ -120,3 +120,48 @@ func TestRulePlotsNearBound(t *testing.T) {
 }
 
 func fmtF(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
+
+// A heavy tail does not squeeze a marginal's plot: with readings 4.1, 5.3,
+// 4.8, the prior 1/s and a flat prior on m, s^2 given the readings is
+// SS / chi-square(2) (Gelman et al., Bayesian Data Analysis, 3rd ed.,
+// section 3.2), SS = sum (y - mean)^2 = 0.74, and chi-square(2) is
+// exponential with mean 2, so P(s <= q) = exp(-SS / (2 q^2)) and the p
+// quantile is sqrt(SS / (-2 ln p)). The plot of s must hold its 0.5 % to
+// 99.5 % quantiles (8.6 at the top; its 99.95 % quantile is 27, where the
+// range ran before) and give the central 95 % at least a third of its
+// width. A normal's range is left as it was: its 0.05 % and 99.95 %
+// quantiles (mean -+ 3.2905 sd, A&S table 26.1, from memory) widened by
+// 15 % of their span.
+func TestPlotRangeHeavyTail(t *testing.T) {
+	res := analyseSource(t, "y = [4.1, 5.3, 4.8]\nparam m\nparam s in [0, inf]\n-log(s) + sum(ld_normal(y, m, s))\n", Options{Plots: true})
+	ss := 0.0
+	for _, y := range []float64{4.1, 5.3, 4.8} {
+		ss += (y - 14.2/3) * (y - 14.2/3)
+	}
+	quantile := func(p float64) float64 { return math.Sqrt(ss / (-2 * math.Log(p))) }
+	var xs []float64
+	for _, m := range res.Plots.Marginals {
+		if m.Param == 1 {
+			xs = m.X
+		}
+	}
+	if len(xs) == 0 {
+		t.Fatal("no plot of s")
+	}
+	lo, hi := xs[0], xs[len(xs)-1]
+	if lo > quantile(0.005) || hi < quantile(0.995) {
+		t.Errorf("s's plot range [%g, %g] leaves out part of [%g, %g], its 0.5 %% to 99.5 %% quantiles", lo, hi, quantile(0.005), quantile(0.995))
+	}
+	if share := (quantile(0.975) - quantile(0.025)) / (hi - lo); share < 1.0/3 {
+		t.Errorf("s's central 95 %% takes %.2g of its plot range [%g, %g]", share, lo, hi)
+	}
+
+	g := analyseSource(t, "param a\n-0.5*((a - 2)/3)^2\n", Options{Plots: true})
+	x := g.Plots.Marginals[0].X
+	span := 2 * 3.2905 * 3
+	for i, want := range []float64{2 - 3.2905*3 - 0.15*span, 2 + 3.2905*3 + 0.15*span} {
+		if got := x[i*(len(x)-1)]; math.Abs(got-want) > 1e-3*3 {
+			t.Errorf("the normal's plot range end %d at %g, want %g", i, got, want)
+		}
+	}
+}
