@@ -138,13 +138,27 @@ func (a *analysis) fitEP() error {
 			"EP could not update every site: in its last sweep %d of %d site updates were skipped (the site's cavity, or the approximation after the update, was not a proper Gaussian), and %d tilted distributions could not be integrated at the end (an improper cavity and a factor that does not decay); its log Z is absent where one could not.",
 			r.SkippedLast, nSites, r.UnsettledTilted)
 	}
-	if r.QuadratureError > 1e-6 {
+	switch {
+	case r.QuadratureError > epQuadratureWarn:
 		a.diag.add(CodeEPQuadrature, SeverityWarning,
 			"EP's tilted moments carry a quadrature error of about %.2g (relative to the approximation's standard deviations) even with the finest rule: a factor's tilted distribution is far from Gaussian.",
+			r.QuadratureError)
+	case r.QuadratureError > 1e-6:
+		a.diag.add(CodeEPQuadrature, SeverityInfo,
+			"EP's tilted moments carry a quadrature error of about %.2g of the approximation's standard deviations with the finest rule, below the 1e-4 the comparisons resolve.",
 			r.QuadratureError)
 	}
 	return nil
 }
+
+// epQuadratureWarn is the quadrature error of EP's tilted moments, in the
+// approximation's standard deviations, above which it is a warning; below,
+// down to 1e-6, a note: the comparisons resolve means to about 1e-4 sd.
+// (The 3-D sensor benchmark, eight readings each a factor of all three
+// parameters, ends at 6.4e-6 with 20 nodes a side: the Gauss-Hermite rule
+// converges slowly on its tilted distributions, yet EP's means moved by
+// 1e-6 sd at most from 16 to 32 nodes a side.)
+const epQuadratureWarn = 1e-4
 
 // scaledFactors is the model's factors on the fitting scale: each factor
 // at x = x(z), and one factor log(dx/dz) per transformed parameter.
