@@ -51,6 +51,11 @@ type Settings struct {
 	// than Tol relatively and its correlations by less than Tol (default
 	// 1e-9).
 	Tol float64
+	// Resolution: a run that stops at MaxSweeps or stalls (see Stalled)
+	// with every site updated and its last sweep's change below Resolution
+	// counts as converged (default 1e-6: a millionth of a standard
+	// deviation, far below what any comparison resolves).
+	Resolution float64
 	// Damping is the first step of every site update, in (0, 1]: the new
 	// natural parameters are (1-Damping) old + Damping proposed (default 1,
 	// no damping). It is halved, down to MinDamping, whenever a sweep
@@ -99,6 +104,9 @@ func (s *Settings) withDefaults(d int) Settings {
 	}
 	if !(r.Tol > 0) {
 		r.Tol = 1e-9
+	}
+	if !(r.Resolution > 0) {
+		r.Resolution = math.Max(1e-6, r.Tol)
 	}
 	if !(r.Damping > 0 && r.Damping <= 1) {
 		r.Damping = 1
