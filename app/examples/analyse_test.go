@@ -86,9 +86,9 @@ func TestSeparationShowsEP(t *testing.T) {
 
 // TestSensorWithoutWarnings: the sensor example (a smooth, nearly Gaussian
 // posterior of three parameters) raises no warning. Its EP tilted moments
-// carry a Gauss-Hermite error of about 1e-5 sd with the finest rule, a
-// note rather than a warning (their means moved by 1e-6 sd at most from 16
-// to 32 nodes a side when measured).
+// carry a Gauss-Hermite error of some 1e-5 sd, a note rather than a
+// warning (EP's means moved by 1e-6 sd at most from 16 to 32 nodes a side
+// when measured).
 func TestSensorWithoutWarnings(t *testing.T) {
 	e, ok := ByID("sensor")
 	if !ok {
