@@ -118,6 +118,7 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 				m2.Density = append(m2.Density, orig[u*nj+v])
 			}
 		}
+		smoothPair(&m2)
 		a.addEllipses(&m2, fits, cands)
 		pl.Pairs = append(pl.Pairs, m2)
 	}
@@ -206,4 +207,47 @@ func plotNodes(n, limit int) []int {
 		idx = append(idx, i)
 	}
 	return append(idx, n-1)
+}
+
+// smoothPair refines a grid's pair image to about pairShown points a side
+// by cubic interpolation (upsample), where both axes are evenly spaced on
+// the original scale (parameters fitted as they are), so that its contours
+// are drawn as smooth curves rather than the polygons of the grid's
+// lattice (the long Lorenz-63 window's grid has 61 points a side). The
+// levels stay those of the grid itself.
+func smoothPair(m2 *Marginal2D) {
+	nx, ny := len(m2.X), len(m2.Y)
+	if nx < 4 || ny < 4 || max(nx, ny) >= pairShown || !evenlySpaced(m2.X) || !evenlySpaced(m2.Y) {
+		return
+	}
+	// upsample's layout is x-major; the image's is y-major.
+	dens := make([]float64, nx*ny)
+	for b := 0; b < ny; b++ {
+		for a := 0; a < nx; a++ {
+			dens[a*ny+b] = m2.Density[b*nx+a]
+		}
+	}
+	n := max(nx, ny)
+	fx, fy, fd := upsample(dens, m2.X, m2.Y, (pairShown+n-3)/(n-1))
+	m2.X, m2.Y = fx, fy
+	m2.Density = make([]float64, len(fd))
+	for b := range fy {
+		for a := range fx {
+			m2.Density[b*len(fx)+a] = fd[a*len(fy)+b]
+		}
+	}
+}
+
+// evenlySpaced reports whether xs are evenly spaced (to 1e-9 of the step).
+func evenlySpaced(xs []float64) bool {
+	step := (xs[len(xs)-1] - xs[0]) / float64(len(xs)-1)
+	if !(step > 0) {
+		return false
+	}
+	for i := 1; i < len(xs); i++ {
+		if math.Abs(xs[i]-xs[i-1]-step) > 1e-9*step {
+			return false
+		}
+	}
+	return true
 }
