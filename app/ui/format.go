@@ -10,6 +10,17 @@ import (
 // fmtNum formats a number with 4 significant digits ("—" for NaN).
 func fmtNum(v float64) string { return plot.FormatNumber(v, 4) }
 
+// fmtCorr formats a correlation coefficient with three significant digits,
+// and one below 5e-4 in size as 0.000: a value such as 4e-17, the rounding
+// of a correlation that is zero by symmetry, drew the eye with its
+// exponent, and none that small tells a reader anything about the fit.
+func fmtCorr(v float64) string {
+	if math.Abs(v) < 5e-4 {
+		return "0.000"
+	}
+	return plot.FormatNumber(v, 3)
+}
+
 // fmtScaled formats v with enough digits to show it to about a hundredth of
 // scale (a standard deviation, say): 1000.1234 with scale 0.01 keeps its
 // decimals, 0.51234 with scale 2 needs only two.

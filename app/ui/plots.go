@@ -87,7 +87,7 @@ func (pp *PlotPanel) corrCell(fs *FigureSet, i, j int) app.UI {
 			continue
 		}
 		rows = append(rows, app.Div().Class("corr-line").Body(
-			swatch(m), app.Span().Class("mname").Text(plot.StyleOf(m).Name), app.Span().Class("num").Text(plot.FormatNumber(c, 3))))
+			swatch(m), app.Span().Class("mname").Text(plot.StyleOf(m).Name), app.Span().Class("num").Text(fmtCorr(c))))
 	}
 	return app.Div().Class("gcell corr").Body(rows...)
 }

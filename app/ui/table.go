@@ -181,17 +181,17 @@ func Table(r *engine.Result, m *model.Model) []Section {
 				pair := r.Params[i] + ", " + r.Params[j]
 				row := Row{Label: "corr(" + pair + ")", Param: pair, Hint: "Correlation coefficient of the two parameters."}
 				ex := at2(r.Exact.Corr, i, j)
-				row.Cells[plot.Exact] = Cell{Text: plot.FormatNumber(ex, 3)}
+				row.Cells[plot.Exact] = Cell{Text: fmtCorr(ex)}
 				transformed := !scaleOf(i).IsIdentity() || !scaleOf(j).IsIdentity()
 				if transformed {
 					row.Hint += " Fits on a log or logit scale show their correlation on that scale, so it is not compared with the exact one."
 				}
 				fillRow(&row, r, func(f *engine.Fit) (Cell, float64) {
 					if transformed {
-						return Cell{Text: plot.FormatNumber(at2(f.FittingScale.Corr, i, j), 3), Sub: "fit scale"}, math.NaN()
+						return Cell{Text: fmtCorr(at2(f.FittingScale.Corr, i, j)), Sub: "fit scale"}, math.NaN()
 					}
 					c := at2(f.Corr, i, j)
-					return Cell{Text: plot.FormatNumber(c, 3)}, math.Abs(c - ex)
+					return Cell{Text: fmtCorr(c)}, math.Abs(c - ex)
 				})
 				sec.Rows = append(sec.Rows, row)
 			}

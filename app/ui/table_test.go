@@ -105,3 +105,25 @@ func TestTableReportsTheOptimiser(t *testing.T) {
 		}
 	}
 }
+
+// A correlation that is zero up to rounding (a symmetric posterior's
+// 4.16e-17, seen on the regression with unknown noise) shows as 0.000, not
+// with an exponent; others keep three significant digits (the sign as the
+// page writes it).
+func TestFmtCorr(t *testing.T) {
+	cases := []struct {
+		v    float64
+		want string
+	}{
+		{4.16e-17, "0.000"},
+		{-6.9e-15, "0.000"},
+		{-0.826, "−0.826"},
+		{0.00123, "0.00123"},
+		{1, "1.00"},
+	}
+	for _, c := range cases {
+		if got := fmtCorr(c.v); got != c.want {
+			t.Errorf("fmtCorr(%g) = %q, want %q", c.v, got, c.want)
+		}
+	}
+}
