@@ -22,22 +22,17 @@ func TestBananaMarginalOfY(t *testing.T) {
 	std := distuv.UnitNormal
 	const n = 20000
 	dz := 24.0 / n
-	cdf := func(q float64) float64 {
+	// expect returns E_Z[f(q - 5 + 5 Z^2)].
+	expect := func(f func(float64) float64, q float64) float64 {
 		s := 0.0
 		for i := 0; i <= n; i++ {
 			z := -12 + float64(i)*dz
-			s += std.Prob(z) * std.CDF(q-5+5*z*z)
+			s += std.Prob(z) * f(q-5+5*z*z)
 		}
 		return s * dz
 	}
-	density := func(q float64) float64 {
-		s := 0.0
-		for i := 0; i <= n; i++ {
-			z := -12 + float64(i)*dz
-			s += std.Prob(z) * std.Prob(q-5+5*z*z)
-		}
-		return s * dz
-	}
+	cdf := func(q float64) float64 { return expect(std.CDF, q) }
+	density := func(q float64) float64 { return expect(std.Prob, q) }
 	quantile := func(p float64) float64 {
 		a, b := -200.0, 20.0
 		for it := 0; it < 60; it++ {

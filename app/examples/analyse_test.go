@@ -8,6 +8,15 @@ import (
 	"bellcheck/engine/model"
 )
 
+// exampleOptions returns e's suggested options for its parsed model m.
+func exampleOptions(e Example, m *model.Model) engine.Options {
+	var opts engine.Options
+	for _, p := range m.Params {
+		opts.Params = append(opts.Params, e.Params[p.Name])
+	}
+	return opts
+}
+
 // TestEveryExampleAnalyses runs the real engine on each gallery scenario
 // with its suggested options, so a gallery entry cannot silently break.
 func TestEveryExampleAnalyses(t *testing.T) {
@@ -19,10 +28,8 @@ func TestEveryExampleAnalyses(t *testing.T) {
 		if testing.Short() && len(m.Params) > 3 {
 			continue
 		}
-		opts := engine.Options{Plots: true}
-		for _, p := range m.Params {
-			opts.Params = append(opts.Params, e.Params[p.Name])
-		}
+		opts := exampleOptions(e, m)
+		opts.Plots = true
 		r, err := engine.Analyse(context.Background(), m, opts, nil)
 		if err != nil {
 			t.Errorf("%s: %v", e.ID, err)
@@ -98,11 +105,7 @@ func TestSensorWithoutWarnings(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	opts := engine.Options{}
-	for _, p := range m.Params {
-		opts.Params = append(opts.Params, e.Params[p.Name])
-	}
-	r, err := engine.Analyse(context.Background(), m, opts, nil)
+	r, err := engine.Analyse(context.Background(), m, exampleOptions(e, m), nil)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -98,11 +98,7 @@ func TestLongWindowHasMoreMinima(t *testing.T) {
 			}
 		}
 		e, _ := ByID(id)
-		opts := engine.Options{}
-		for _, p := range m.Params {
-			opts.Params = append(opts.Params, e.Params[p.Name])
-		}
-		r, err := engine.Analyse(context.Background(), m, opts, nil)
+		r, err := engine.Analyse(context.Background(), m, exampleOptions(e, m), nil)
 		if err != nil {
 			t.Fatal(err)
 		}
