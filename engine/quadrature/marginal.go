@@ -30,6 +30,14 @@ const (
 	slicePlot
 )
 
+// sliceTol ends a slice's walks where the density's share falls below
+// it of the walk's peak (the main rule's Tol is 1e-12): the slices'
+// integrals serve marginals and pairs, whose quantiles moved by 2e-11 sd
+// at most on the reference cases and the benchmarks, their plotted
+// densities by 1e-11 of the peak, while the 3-D sensor and the 3-D
+// regression took about 12 and 18 % less CPU time.
+const sliceTol = 1e-9
+
 // sliceNewtonSteps bounds the Newton steps of a marginal's slices (see
 // sliceSettings).
 const sliceNewtonSteps = 4
@@ -49,8 +57,8 @@ func (res *Result) sliceSettings(sl *slice, acc sliceAccuracy) Settings {
 	// A slice's integral is all its callers take: its walks end where the
 	// density's share is negligible, not where the moments' are.
 	s.MomentTol = 1
+	s.Tol = math.Max(s.Tol, sliceTol)
 	if acc == slicePlot {
-		s.Tol = math.Max(s.Tol, 1e-9)
 		s.NewtonSteps = 2
 	}
 	s.Order = sliceOrder(res.Order, sl.free)
@@ -246,3 +254,4 @@ func Levels(dens, xs, ys, fractions []float64) ([]float64, float64) {
 	}
 	return out, total
 }
+
