@@ -254,4 +254,3 @@ func Levels(dens, xs, ys, fractions []float64) ([]float64, float64) {
 	}
 	return out, total
 }
-
