@@ -31,11 +31,11 @@ const (
 )
 
 // sliceTol ends a slice's walks where the density's share falls below
-// it of the walk's peak (the main rule's Tol is 1e-12): the slices'
+// it of the walk's peak (the main rule's Tol is 1e-10): the slices'
 // integrals serve marginals and pairs, whose quantiles moved by 2e-11 sd
-// at most on the reference cases and the benchmarks, their plotted
-// densities by 1e-11 of the peak, while the 3-D sensor and the 3-D
-// regression took about 12 and 18 % less CPU time.
+// at most on the reference cases and the benchmarks against slices ended
+// at 1e-12, their plotted densities by 1e-11 of the peak, while the 3-D
+// sensor and the 3-D regression took about 12 and 18 % less CPU time.
 const sliceTol = 1e-9
 
 // sliceNewtonSteps bounds the Newton steps of a marginal's slices (see

@@ -15,7 +15,10 @@ type Settings struct {
 	// deviations (u = c + w sd sinh t); 0 means 1.5.
 	Width float64
 	// Tol ends a walk along an axis where the density's share of a node
-	// has fallen below Tol times the walk's largest; 0 means 1e-12.
+	// has fallen below Tol times the walk's largest; 0 means 1e-10 (at
+	// 1e-12 the reference cases' rules took 2 to 48 % more points, 48 in
+	// 4-D, for log Z errors that differed by 6e-12 at most: where the
+	// targets bind, the discretisation's error is the larger).
 	Tol float64
 	// MomentTol is the same for the second powers; 0 means 1e-8 (the
 	// geometric remainder added at a walk's end carries the rest of the
@@ -66,7 +69,7 @@ func (s Settings) withDefaults() Settings {
 		s.Width = 1.5
 	}
 	if !(s.Tol > 0) {
-		s.Tol = 1e-12
+		s.Tol = 1e-10
 	}
 	if !(s.MomentTol > 0) {
 		s.MomentTol = 1e-8
