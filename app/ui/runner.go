@@ -76,6 +76,9 @@ type runner struct {
 	// took (workbound.go); memo keeps the last forecast.
 	estimateTime time.Duration
 	memo         forecastMemo
+	// worker runs the analyses off the page's thread once it is ready
+	// (offload.go).
+	worker workerClient
 }
 
 // PageTimes are the page's own timings of the last result.
@@ -121,8 +124,15 @@ func (p *Page) start(ctx app.Context) {
 	p.cancel = cancel
 	p.progress = false
 	analyse := p.analyse
+	y := newYielder(SliceLength)
+	var remote *remoteRun
 	if analyse == nil {
-		analyse = p.boundedAnalyse(ctx, workIdentity(p.s.Model, p.data.digest, run.Options)) // workbound.go
+		work := workIdentity(p.s.Model, p.data.digest, run.Options)
+		analyse = p.boundedAnalyse(ctx, work) // workbound.go
+		if p.worker.isReady() {
+			remote = p.newRemoteRun(run, work) // offload.go
+			analyse = p.remoteAnalyse(ctx, remote, analyse, y.Rest)
+		}
 	}
 	view := p.view
 	ctx.After(ProgressDelay, func(ctx app.Context) {
@@ -136,7 +146,7 @@ func (p *Page) start(ctx app.Context) {
 	ctx.Async(func() {
 		began := time.Now()
 		g0 := readGC()
-		y := newYielder(SliceLength)
+		y.Rest()
 		var lastReport time.Time
 		res, err := analyse(actx, run.Model, run.Options, func(pr engine.Progress) {
 			y.Yield()
@@ -156,6 +166,12 @@ func (p *Page) start(ctx app.Context) {
 			d["engine_ms"] = res.Timing.Total
 		}
 		d["estimate_ms"] = millis(p.estimateTime)
+		if remote != nil && remote.inWorker {
+			// The analysis ran in the worker: its own figures, and the
+			// page's time to read the result.
+			d["in_worker"], d["decode_ms"] = 1, millis(remote.decode)
+			d["worker_analysis_ms"], d["worker_yields"] = millis(remote.reply.Analysis), float64(remote.reply.Yields)
+		}
 		_ = jsdom.MarkDetail(MarkResult, d)
 		var figs *FigureSet
 		var secs []Section
@@ -202,6 +218,9 @@ func (p *Page) start(ctx app.Context) {
 			if p.sliderPending {
 				p.start(ctx)
 			}
+			// The worker loads once the page has shown its first result
+			// (offload.go); meanwhile the page analyses itself.
+			p.worker.start()
 		})
 	})
 }
@@ -271,6 +290,10 @@ func (y *yielder) Yield() {
 	y.count++
 	y.paused += y.last.Sub(now)
 }
+
+// Rest starts a new slice: the thread was idle (waiting for the worker)
+// since the last one, which is no work of the page's.
+func (y *yielder) Rest() { y.last = time.Now() }
 
 // Longest returns the longest slice measured so far, including the one
 // running now.
