@@ -139,11 +139,13 @@ func testWorkerNoLongTasks(t *testing.T, b *browser, srv *siteServer) {
 		Starts   int                  `json:"starts"`
 		End      float64              `json:"end"`
 		Marks    [][]any              `json:"marks"`
+		Log      [][2]any             `json:"log"`
 	}
 	w := eval[window](t, tb, 10*time.Second, fmt.Sprintf(`(() => {
   const b = window.__bc, t0 = %f, end = b.drawnAt[b.drawnAt.length - 1];
   return {tasks: b.tasks.filter(([s, d]) => s + d >= t0 && s <= end), observer: b.longtaskObserver, end,
     starts: performance.getEntriesByName("bc-start").filter((m) => m.startTime >= t0).length,
+    log: b.log.filter(([at]) => at >= t0),
     marks: performance.getEntriesByType("mark").filter((m) => m.startTime >= t0 && m.startTime <= end)
       .map((m) => [m.name, Math.round(m.startTime), m.detail || null]),
     results: performance.getEntriesByName("bc-result").filter((m) => m.startTime >= t0 && m.startTime <= end)
@@ -174,7 +176,7 @@ func testWorkerNoLongTasks(t *testing.T, b *browser, srv *siteServer) {
 	t.Logf("4-D window %.0f ms: %d analyses started, %d results ready (decode ms on the page: %s), %d drag inputs, long tasks %v (longest %.0f ms)",
 		w.End-t0, w.Starts, len(w.Results), strings.Join(dec, ", "), len(d.Times), w.Tasks, longest)
 	if longest > 50 || os.Getenv("BELLCHECK_WORKER_MARKS") != "" {
-		t.Logf("the runner's marks in the window: %v", w.Marks)
+		t.Logf("the runner's marks in the window: %v; the status line: %v", w.Marks, w.Log)
 	}
 	if longest > 50 {
 		t.Errorf("the page's thread ran a task of %.0f ms (over 50 ms) during the 4-D analysis; tasks over 50 ms: %v", longest, w.Tasks)
