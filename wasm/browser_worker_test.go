@@ -12,12 +12,16 @@ import (
 	"fmt"
 	"net/http"
 	"os"
+	"math"
 	"path/filepath"
+	"sort"
 	"strconv"
 	"strings"
 	"testing"
 	"time"
 
+	"github.com/chromedp/cdproto/cdp"
+	"github.com/chromedp/cdproto/tracing"
 	"github.com/chromedp/chromedp"
 
 	"bellcheck/app/examples"
@@ -91,6 +95,7 @@ func testWorkerNoLongTasks(t *testing.T, b *browser, srv *siteServer) {
 
 	// The measured window: it opens with an edit that requests a 4-D
 	// analysis.
+	tr := startTrace(t, tb)
 	t0 := eval[float64](t, tb, 5*time.Second, `performance.now()`)
 	tb.editModel(t, src+"# measured\n")
 	waitFor(t, tb, 30*time.Second, "the analysis to start", fmt.Sprintf(
@@ -175,11 +180,34 @@ func testWorkerNoLongTasks(t *testing.T, b *browser, srv *siteServer) {
 	}
 	t.Logf("4-D window %.0f ms: %d analyses started, %d results ready (decode ms on the page: %s), %d drag inputs, long tasks %v (longest %.0f ms)",
 		w.End-t0, w.Starts, len(w.Results), strings.Join(dec, ", "), len(d.Times), w.Tasks, longest)
-	if longest > 50 || os.Getenv("BELLCHECK_WORKER_MARKS") != "" {
-		t.Logf("the runner's marks in the window: %v; the status line: %v", w.Marks, w.Log)
+	// A long task is the page's own work when its thread's CPU time is
+	// over 50 ms too; one whose CPU time is short waited for a core (the
+	// machine is shared and has two) and is logged, not failed: no code of
+	// the page can shorten the time the system gives its thread to others.
+	cpu := tr.taskCPU(t, tb, w.Tasks)
+	var own, waited []string
+	for i, tk := range w.Tasks {
+		if tk[1] <= 50 {
+			continue
+		}
+		desc := fmt.Sprintf("%.0f ms at %.0f (CPU %.0f ms)", tk[1], tk[0], cpu[i])
+		switch {
+		case cpu[i] < 0:
+			own = append(own, desc+": not in the trace")
+		case cpu[i] > 50:
+			own = append(own, desc)
+		default:
+			waited = append(waited, desc)
+		}
 	}
-	if longest > 50 {
-		t.Errorf("the page's thread ran a task of %.0f ms (over 50 ms) during the 4-D analysis; tasks over 50 ms: %v", longest, w.Tasks)
+	if len(waited) > 0 || len(own) > 0 || os.Getenv("BELLCHECK_WORKER_MARKS") != "" {
+		t.Logf("load average %s; the runner's marks in the window: %v; the status line: %v", loadAverage(), w.Marks, w.Log)
+	}
+	if len(waited) > 0 {
+		t.Logf("long tasks that waited for a core (their CPU time is under 50 ms): %s", strings.Join(waited, "; "))
+	}
+	if len(own) > 0 {
+		t.Errorf("the page's thread ran tasks over 50 ms, of CPU time too, during the 4-D analysis: %s", strings.Join(own, "; "))
 	}
 	if errs := tb.consoleErrors(); len(errs) > 0 {
 		t.Errorf("console errors: %v", errs)
@@ -226,4 +254,70 @@ func testWorkerFallback(t *testing.T, b *browser) {
 			t.Errorf("console error: %s", e)
 		}
 	}
+}
+
+// taskCPU ends the trace and returns, for each long task the page's
+// observer reported (start and duration in performance.now() ms), the CPU
+// time of the main thread's task that matches it in the trace (-1 where
+// none does). The trace's clock is matched to the page's by the runner's
+// bc-start marks, which are in both.
+func (tr *trace) taskCPU(t *testing.T, tb *tab, tasks [][2]float64) []float64 {
+	starts := eval[[]float64](t, tb, 5*time.Second, `performance.getEntriesByName("bc-start").map((m) => m.startTime)`)
+	if _, err := chromedp.Call(tb.ctx, tracing.End, cdp.Empty{}); err != nil {
+		t.Fatal(err)
+	}
+	select {
+	case <-tr.done:
+	case <-time.After(60 * time.Second):
+		t.Fatal("the trace did not complete")
+	}
+	tr.mu.Lock()
+	defer tr.mu.Unlock()
+	var main int64 = -1
+	var markTs []float64
+	for _, e := range tr.events {
+		if e.Cat == "blink.user_timing" && e.Name == "bc-start" {
+			main = e.Tid
+			markTs = append(markTs, e.Ts/1000)
+		}
+	}
+	out := make([]float64, len(tasks))
+	for i := range out {
+		out[i] = -1
+	}
+	if main < 0 || len(markTs) == 0 || len(starts) < len(markTs) {
+		t.Logf("the trace has no bc-start marks to match its clock (%d in the trace, %d on the page)", len(markTs), len(starts))
+		return out
+	}
+	sort.Float64s(markTs)
+	sort.Float64s(starts)
+	// The trace began after the first marks: its marks are the page's last.
+	offset := markTs[len(markTs)-1] - starts[len(starts)-1]
+	for i, tk := range tasks {
+		best := 5.0 // ms: the most a task's start may differ between the two
+		for _, e := range tr.events {
+			if e.Tid != main || e.Ph != "X" || e.Name != "ThreadControllerImpl::RunTask" || e.Tdur <= 0 {
+				continue
+			}
+			s := e.Ts/1000 - offset
+			if d := math.Abs(s - tk[0]); d < best && math.Abs(e.Dur/1000-tk[1]) < 5 {
+				best, out[i] = d, e.Tdur/1000
+			}
+		}
+	}
+	return out
+}
+
+// loadAverage is the machine's load average (the first three numbers of
+// /proc/loadavg), for the log.
+func loadAverage() string {
+	b, err := os.ReadFile("/proc/loadavg")
+	if err != nil {
+		return "unknown"
+	}
+	f := strings.Fields(string(b))
+	if len(f) < 3 {
+		return "unknown"
+	}
+	return strings.Join(f[:3], " ")
 }
