@@ -165,6 +165,7 @@ func TestSliderTiming(t *testing.T) {
 			tb.editModel(t, fmt.Sprintf(m.src, strconv.FormatFloat((m.lo+m.hi)/2, 'g', -1, 64)))
 			st = tb.waitDone(t, st.Done, 180*time.Second)
 			waitFor(t, tb, 20*time.Second, "the slider", `!!document.getElementById("bc-live-0")`)
+			time.Sleep(abWarmup) // the analysis worker loads after the first result
 			sliderSteps(t, tb, m, st, steps)
 			sliderDrag(t, tb, m, 60, 3)
 			sliderDrag(t, tb, m, 10, 3)

@@ -8,6 +8,7 @@ import (
 	"time"
 
 	"bellcheck/app/examples"
+	"bellcheck/app/figure"
 	"bellcheck/app/wire"
 	"bellcheck/engine"
 	"bellcheck/engine/model"
@@ -156,6 +157,48 @@ func BenchmarkWorkerReplyClock(b *testing.B) {
 			_, body, _ := unframe(msg)
 			var r workReply
 			if err := wire.Unmarshal(body, &r); err != nil {
+				b.Fatal(err)
+			}
+		}
+	})
+}
+
+// BenchmarkClockFiguresPageOrWorker weighs where the 4-D clock example's
+// figures should be built: on the page from the decoded Result (build), or
+// in the worker and sent (decode: what the page would then do instead).
+func BenchmarkClockFiguresPageOrWorker(b *testing.B) {
+	ex, _ := examples.ByID("clock")
+	var s Session
+	s.SetChoices(ex.Params)
+	s.Edit(ex.Source)
+	run, _ := s.Begin(nowForTest())
+	res, err := engine.Analyse(context.Background(), run.Model, run.Options, nil)
+	if err != nil {
+		b.Fatal(err)
+	}
+	fs := BuildFigures(res, View{})
+	var figs []*figure.Figure
+	for _, row := range fs.Grid {
+		for _, p := range row {
+			if p != nil {
+				figs = append(figs, p.Fig)
+			}
+		}
+	}
+	msg, err := wire.Marshal(figs)
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.Logf("%d panels, %d bytes encoded", len(figs), len(msg))
+	b.Run("build", func(b *testing.B) {
+		for b.Loop() {
+			BuildFigures(res, View{})
+		}
+	})
+	b.Run("decode", func(b *testing.B) {
+		for b.Loop() {
+			var out []*figure.Figure
+			if err := wire.Unmarshal(msg, &out); err != nil {
 				b.Fatal(err)
 			}
 		}
