@@ -45,6 +45,9 @@ type workRequest struct {
 	Work string
 	// MaxTime is the page's bound on the forecast (PageMaxTime).
 	MaxTime time.Duration
+	// View, when set, asks for the result's figures drawn with it
+	// (offload_figures.go).
+	View *figureView
 }
 
 // replyKind says what a workReply carries.
@@ -70,12 +73,14 @@ type workReply struct {
 	Progress engine.Progress
 	Result   *engine.Result
 	Err      string
+	// Figures are the result's figures, drawn with the request's View.
+	Figures  *sentFigures
 	Estimate engine.Estimate
 	Points   int
 	// EstimateTime is how long the forecast took (0 when the memo had it);
 	// Analysis the analysis's time in the worker, Yields its pauses.
-	EstimateTime, Analysis time.Duration
-	Yields                 int
+	EstimateTime, Analysis, FigureTime time.Duration
+	Yields                             int
 }
 
 // frame puts the generation before a message.
@@ -266,15 +271,26 @@ type remoteRun struct {
 	inWorker bool
 	decode   time.Duration
 	reply    workReply
+	// view is the page's view when the request was made.
+	view View
 }
 
 // newRemoteRun prepares the request of run (on the page's event handler:
 // the session's values are read now).
 func (p *Page) newRemoteRun(run Run, work string) *remoteRun {
-	return &remoteRun{gen: run.Gen, req: workRequest{
+	return &remoteRun{gen: run.Gen, view: p.view, req: workRequest{
 		Source: p.s.Source, Data: p.s.Data, Constants: maps.Clone(p.s.Constants), Options: run.Options,
-		Canonical: model.Format(run.Model), Work: work, MaxTime: PageMaxTime,
+		Canonical: model.Format(run.Model), Work: work, MaxTime: PageMaxTime, View: sentView(p.view),
 	}}
+}
+
+// figures returns the worker's figures of res when they were drawn with
+// view (nil otherwise: the page draws them).
+func (rr *remoteRun) figures(res *engine.Result, view View) *FigureSet {
+	if rr == nil || !rr.inWorker || rr.reply.Figures == nil || rr.req.View == nil || rr.view != view || rr.reply.Result != res {
+		return nil
+	}
+	return linkFigures(rr.reply.Figures, res)
 }
 
 // remoteAnalyse returns the analysis of rr in the worker: progress is

@@ -125,6 +125,14 @@ func (s *analysisServer) run(ctx context.Context, gen uint64, req workRequest) {
 		r.Kind, r.Err = replyFailed, err.Error()
 	} else {
 		r.Kind, r.Result = replyResult, res
+		if req.View != nil {
+			tf, pf := time.Now(), y.paused
+			r.Figures = sendFigures(buildFigures(res, req.View.view(), y.Yield))
+			r.FigureTime = time.Since(tf) - (y.paused - pf)
+			if ctx.Err() != nil {
+				return
+			}
+		}
 	}
 	s.reply(gen, r)
 }

@@ -204,3 +204,41 @@ func BenchmarkClockFiguresPageOrWorker(b *testing.B) {
 		}
 	})
 }
+
+// TestWorkerFiguresEqualThePages: the figures the worker draws and sends,
+// linked to the Result the page decoded, equal those the page draws from
+// that Result itself, for a 1-D, a 2-D, a 3-D and a 4-D example and a view
+// with a method hidden and log densities.
+func TestWorkerFiguresEqualThePages(t *testing.T) {
+	views := []View{{}, {Log: true, Hidden: [len(View{}.Hidden)]bool{true}}}
+	for _, id := range []string{"decay", "banana", "sensor", "clock"} {
+		ex, _ := examples.ByID(id)
+		var s Session
+		s.SetChoices(ex.Params)
+		s.Edit(ex.Source)
+		run, _ := s.Begin(nowForTest())
+		res, err := engine.Analyse(context.Background(), run.Model, run.Options, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, v := range views {
+			sv := sentView(v)
+			b, err := frame(1, workReply{Kind: replyResult, Result: res, Figures: sendFigures(BuildFigures(res, sv.view()))})
+			if err != nil {
+				t.Fatal(err)
+			}
+			_, body, _ := unframe(b)
+			var r workReply
+			if err := wire.Unmarshal(body, &r); err != nil {
+				t.Fatal(err)
+			}
+			got, want := linkFigures(r.Figures, r.Result), BuildFigures(r.Result, v)
+			if d := wire.Diff(got, want); d != "" {
+				t.Errorf("%s, view %+v: the worker's figures differ from the page's at %s", id, v, d)
+			}
+		}
+	}
+	if sentView(View{Pin: &engine.Result{}}) != nil {
+		t.Error("a view with a pinned result is sent to the worker")
+	}
+}

@@ -179,10 +179,16 @@ func (p *Page) start(ctx app.Context) {
 		var figs *FigureSet
 		var secs []Section
 		var figTime, tableTime time.Duration
+		workerFigs := -1.0 // the worker's time to draw the figures it sent
 		if err == nil && res != nil && actx.Err() == nil {
 			y.Yield()
 			tf, pf := time.Now(), y.paused
-			figs = numbered(buildFigures(res, view, y.Yield))
+			if figs = remote.figures(res, view); figs == nil { // offload_figures.go
+				figs = buildFigures(res, view, y.Yield)
+			} else {
+				workerFigs = millis(remote.reply.FigureTime)
+			}
+			figs = numbered(figs)
 			figTime = time.Since(tf) - (y.paused - pf) // the pauses between 3-D and 4-D panels left out
 			y.Yield()
 			tt := time.Now()
@@ -192,6 +198,9 @@ func (p *Page) start(ctx app.Context) {
 		g2 := readGC()
 		d = g2.detail(g1)
 		d["figures_ms"], d["table_ms"] = millis(figTime), millis(tableTime)
+		if workerFigs >= 0 {
+			d["worker_figures_ms"] = workerFigs
+		}
 		_ = jsdom.MarkDetail(MarkPrepared, d)
 		// The page's update that follows is a long stretch of its own (30
 		// to 40 ms for a 4-D result): it starts a task of its own unless
