@@ -80,7 +80,10 @@ type workReply struct {
 	// EstimateTime is how long the forecast took (0 when the memo had it);
 	// Analysis the analysis's time in the worker, Yields its pauses.
 	EstimateTime, Analysis, FigureTime time.Duration
-	Yields                             int
+	// Setup is the worker's time to rebuild the model, Total its time from
+	// the request's arrival to the reply (its encoding left out).
+	Setup, Total time.Duration
+	Yields       int
 }
 
 // frame puts the generation before a message.

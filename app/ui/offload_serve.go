@@ -57,7 +57,7 @@ func (s *analysisServer) receive(b []byte) {
 	ctx, cancel := context.WithCancel(context.Background())
 	s.gen, s.cancel = gen, cancel
 	s.mu.Unlock()
-	go s.run(ctx, gen, req)
+	go s.run(ctx, gen, req, time.Now())
 }
 
 // reply posts a reply for analysis gen.
@@ -73,7 +73,7 @@ func (s *analysisServer) reply(gen uint64, r workReply) {
 // model rebuilt from the text, the table and the sliders' values, the
 // forecast against the page's bound, then the analysis, pausing every
 // workerSlice so a stop or a newer request is heard.
-func (s *analysisServer) run(ctx context.Context, gen uint64, req workRequest) {
+func (s *analysisServer) run(ctx context.Context, gen uint64, req workRequest, arrived time.Time) {
 	m, file, errs := parseModel(req.Source, req.Data)
 	if errs != nil {
 		s.reply(gen, workReply{Kind: replyRefused, Err: errs.Error()})
@@ -84,7 +84,7 @@ func (s *analysisServer) run(ctx context.Context, gen uint64, req workRequest) {
 		s.reply(gen, workReply{Kind: replyRefused, Err: "the worker's model differs from the page's"})
 		return
 	}
-	var r workReply
+	r := workReply{Setup: time.Since(arrived)}
 	est, ok := s.forecastOf(req.Work)
 	if !ok {
 		began := time.Now()
@@ -134,6 +134,7 @@ func (s *analysisServer) run(ctx context.Context, gen uint64, req workRequest) {
 			}
 		}
 	}
+	r.Total = time.Since(arrived)
 	s.reply(gen, r)
 }
 
