@@ -276,6 +276,9 @@ type remoteRun struct {
 	reply    workReply
 	// view is the page's view when the request was made.
 	view View
+	// post is the time to encode and post the request, roundTrip the time
+	// from then to the reply taken (read, not yet decoded).
+	post, roundTrip time.Duration
 }
 
 // newRemoteRun prepares the request of run (on the page's event handler:
@@ -304,9 +307,12 @@ func (rr *remoteRun) figures(res *engine.Result, view View) *FigureSet {
 func (p *Page) remoteAnalyse(actx app.Context, rr *remoteRun, local AnalyseFunc, rest func()) AnalyseFunc {
 	return func(ctx context.Context, m *model.Model, opts engine.Options, progress engine.ProgressFunc) (*engine.Result, error) {
 		in := &inbox{notify: make(chan struct{}, 1)}
+		began := time.Now()
 		if err := p.worker.post(rr.gen, rr.req, in); err != nil {
 			return local(ctx, m, opts, progress)
 		}
+		posted := time.Now()
+		rr.post = posted.Sub(began)
 		defer p.worker.done(rr.gen)
 		for {
 			select {
@@ -319,6 +325,7 @@ func (p *Page) remoteAnalyse(actx app.Context, rr *remoteRun, local AnalyseFunc,
 			for _, b := range msgs {
 				rest()
 				began := time.Now()
+				rr.roundTrip = began.Sub(posted)
 				_, body, _ := unframe(b)
 				var r workReply
 				if err := wire.Unmarshal(body, &r); err != nil {

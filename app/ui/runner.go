@@ -175,6 +175,7 @@ func (p *Page) start(ctx app.Context) {
 			d["in_worker"], d["decode_ms"] = 1, millis(remote.decode)
 			d["worker_analysis_ms"], d["worker_yields"] = millis(remote.reply.Analysis), float64(remote.reply.Yields)
 			d["worker_setup_ms"], d["worker_total_ms"] = millis(remote.reply.Setup), millis(remote.reply.Total)
+			d["post_ms"], d["round_trip_ms"] = millis(remote.post), millis(remote.roundTrip)
 		}
 		_ = jsdom.MarkDetail(MarkResult, d)
 		var figs *FigureSet
