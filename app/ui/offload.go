@@ -264,6 +264,20 @@ func (c *workerClient) done(gen uint64) {
 
 var errWorkerGone = errors.New("the analysis worker is not running")
 
+// PageLocalWork is the forecast below which the page runs an analysis on
+// its own thread even when the worker is ready: a message to the worker and
+// back, and the worker's result read, cost 10 to 20 ms, more than such an
+// analysis gains (a 2-D model's slider redraws faster on the page), and
+// the page's slices of SliceLength keep it responsive meanwhile. The
+// forecast is the worker's, kept by the work's identity.
+const PageLocalWork = 100 * time.Millisecond
+
+// smallWork reports whether work's last forecast is below PageLocalWork.
+func (p *Page) smallWork(work string) bool {
+	est, ok := p.forecastOf(work)
+	return ok && est.Total <= PageLocalWork
+}
+
 // remoteRun is one analysis handed to the worker, with what the runner
 // reports of it.
 type remoteRun struct {
@@ -340,6 +354,9 @@ func (p *Page) remoteAnalyse(actx app.Context, rr *remoteRun, local AnalyseFunc,
 				}
 				rr.inWorker, rr.reply, rr.decode = true, r, time.Since(began)
 				p.estimateTime = r.EstimateTime
+				if r.Estimate.Total > 0 {
+					p.keepForecast(rr.req.Work, r.Estimate) // workbound.go; see smallWork
+				}
 				switch r.Kind {
 				case replyResult:
 					if r.Result == nil {

@@ -101,8 +101,9 @@ func (s *analysisServer) run(ctx context.Context, gen uint64, req workRequest, a
 		}
 		s.keepForecast(req.Work, est)
 	}
+	r.Estimate = est // the page keeps it too (smallWork)
 	if est.Total > req.MaxTime {
-		r.Kind, r.Estimate = replyTooLong, est
+		r.Kind = replyTooLong
 		r.Points = engine.PointsWithin(len(m.Params), est.PerPoint, req.MaxTime/offerMargin)
 		s.reply(gen, r)
 		return

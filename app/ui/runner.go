@@ -132,7 +132,7 @@ func (p *Page) start(ctx app.Context) {
 	if analyse == nil {
 		work := workIdentity(p.s.Model, p.data.digest, run.Options)
 		analyse = p.boundedAnalyse(ctx, work) // workbound.go
-		if p.worker.isReady() {
+		if p.worker.isReady() && !p.smallWork(work) {
 			remote = p.newRemoteRun(run, work) // offload.go
 			analyse = p.remoteAnalyse(ctx, remote, analyse, y.Rest)
 		}
