@@ -293,15 +293,17 @@ func (tr *trace) taskCPU(t *testing.T, tb *tab, tasks [][2]float64) []float64 {
 	sort.Float64s(starts)
 	// The trace began after the first marks: its marks are the page's last.
 	offset := markTs[len(markTs)-1] - starts[len(starts)-1]
+	// Each long task is the main thread's task that overlaps it most, if
+	// that covers at least half of it.
 	for i, tk := range tasks {
-		best := 5.0 // ms: the most a task's start may differ between the two
+		best := tk[1] / 2
 		for _, e := range tr.events {
 			if e.Tid != main || e.Ph != "X" || e.Name != "ThreadControllerImpl::RunTask" || e.Tdur <= 0 {
 				continue
 			}
 			s := e.Ts/1000 - offset
-			if d := math.Abs(s - tk[0]); d < best && math.Abs(e.Dur/1000-tk[1]) < 5 {
-				best, out[i] = d, e.Tdur/1000
+			if ov := math.Min(s+e.Dur/1000, tk[0]+tk[1]) - math.Max(s, tk[0]); ov >= best {
+				best, out[i] = ov, e.Tdur/1000
 			}
 		}
 	}
