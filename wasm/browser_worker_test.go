@@ -10,9 +10,9 @@ package main
 
 import (
 	"fmt"
+	"math"
 	"net/http"
 	"os"
-	"math"
 	"path/filepath"
 	"sort"
 	"strconv"
