@@ -118,9 +118,12 @@ const (
 // workerClient is the page's side of the worker: it starts it, posts
 // requests and hands each reply to the analysis of its generation.
 type workerClient struct {
-	mu      sync.Mutex
-	state   workerState
-	w       *jsdom.Worker
+	mu    sync.Mutex
+	state workerState
+	w     *jsdom.Worker
+	// send posts a message to the worker (w.Post; a test connects a
+	// server in the same program).
+	send    func([]byte) error
 	reason  string // why the worker failed
 	waiting map[uint64]*inbox
 }
@@ -181,7 +184,7 @@ func (c *workerClient) start() {
 		w.Terminate()
 		return
 	}
-	c.w = w
+	c.w, c.send = w, w.Post
 	c.mu.Unlock()
 }
 
@@ -199,7 +202,7 @@ func (c *workerClient) failed(reason string) {
 	c.mu.Lock()
 	c.state, c.reason = workerFailed, reason
 	w, waiting := c.w, c.waiting
-	c.w, c.waiting = nil, nil
+	c.w, c.send, c.waiting = nil, nil, nil
 	c.mu.Unlock()
 	for _, in := range waiting {
 		in.put(nil, true)
@@ -238,8 +241,9 @@ func (c *workerClient) post(gen uint64, req workRequest, in *inbox) error {
 		return err
 	}
 	c.mu.Lock()
-	defer c.mu.Unlock()
-	if c.state != workerReady || c.w == nil {
+	send := c.send
+	if c.state != workerReady || send == nil {
+		c.mu.Unlock()
 		return errWorkerGone
 	}
 	if in != nil {
@@ -248,8 +252,9 @@ func (c *workerClient) post(gen uint64, req workRequest, in *inbox) error {
 		}
 		c.waiting[gen] = in
 	}
-	if err := c.w.Post(b); err != nil {
-		delete(c.waiting, gen)
+	c.mu.Unlock()
+	if err := send(b); err != nil {
+		c.done(gen)
 		return err
 	}
 	return nil

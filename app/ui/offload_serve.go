@@ -20,13 +20,16 @@ const workerSlice = 30 * time.Millisecond
 // it answers the page's requests, one analysis at a time, until the
 // program ends. A newer request or a stop cancels the running analysis.
 func ServeAnalyses() error {
-	s := &analysisServer{}
+	s := &analysisServer{post: jsdom.PostToPage}
 	return jsdom.ServeWorker(s.receive)
 }
 
 // analysisServer is the worker's side: the running analysis and the last
 // forecast.
 type analysisServer struct {
+	// post sends a message to the page (jsdom.PostToPage; a test connects
+	// a client in the same program).
+	post   func([]byte) error
 	mu     sync.Mutex
 	gen    uint64
 	cancel context.CancelFunc
@@ -66,7 +69,7 @@ func (s *analysisServer) reply(gen uint64, r workReply) {
 	if err != nil {
 		b, _ = frame(gen, workReply{Kind: replyFailed, Err: "the worker could not send its result: " + err.Error()})
 	}
-	_ = jsdom.PostToPage(b)
+	_ = s.post(b)
 }
 
 // run runs one request as the page's runner would (boundedAnalyse): the
