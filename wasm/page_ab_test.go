@@ -15,7 +15,9 @@ package main
 //	    go test -count=1 -tags=browser -run=PageTimingAB -v ./wasm/
 //
 // BELLCHECK_PAGE_TIMING sets the edits per build (default 9) and
-// BELLCHECK_PAGE_EXAMPLES the examples (default decay,dose,banana).
+// BELLCHECK_PAGE_EXAMPLES the examples (default decay,dose,banana);
+// BELLCHECK_PAGE_AB_NO_WORKER=A (or B) serves that side without the
+// analysis worker's script, so it analyses on the page's thread.
 
 import (
 	"fmt"
@@ -28,6 +30,7 @@ import (
 	"time"
 
 	"bellcheck/app/examples"
+	"bellcheck/app/jsdom"
 	"bellcheck/app/ui"
 )
 
@@ -48,7 +51,17 @@ func TestPageTimingAB(t *testing.T) {
 	var srvs [2]*siteServer
 	var brs [2]*browser
 	for i, w := range builds {
-		srvs[i] = serveSite(t, siteWith(t, w), nil)
+		site := siteWith(t, w)
+		if os.Getenv("BELLCHECK_PAGE_AB_NO_WORKER") == string(rune('A'+i)) {
+			// This side's site has no analysis worker script: the page
+			// analyses on its own thread (app/ui offload.go's fallback).
+			for _, f := range []string{jsdom.WorkerScript, jsdom.WorkerScript + ".gz"} {
+				if err := os.Remove(filepath.Join(site, filepath.FromSlash(f))); err != nil && !os.IsNotExist(err) {
+					t.Fatal(err)
+				}
+			}
+		}
+		srvs[i] = serveSite(t, site, nil)
 		brs[i] = startBrowser(t, exe, 1280, 800)
 	}
 	delay := float64(ui.CheckDelay) / float64(time.Millisecond)

@@ -204,10 +204,16 @@ func (p *Page) start(ctx app.Context) {
 			d["worker_figures_ms"] = workerFigs
 		}
 		_ = jsdom.MarkDetail(MarkPrepared, d)
-		// The page's update that follows is a long stretch of its own (30
-		// to 40 ms for a 4-D result): it starts a task of its own unless
-		// the work before it was short.
-		y.YieldAfter(handOverSlice)
+		// The page's update that follows a worker's result is a long
+		// stretch of its own (30 to 40 ms for a 4-D result): it starts a
+		// task of its own unless the work before it was short. (After an
+		// analysis on the page, whose results are small, a pause would
+		// only let a frame in first.)
+		if remote != nil && remote.inWorker {
+			y.YieldAfter(handOverSlice)
+		} else {
+			y.Yield()
+		}
 		elapsed, longest := time.Since(began), y.Longest()
 		ctx.Dispatch(func(ctx app.Context) {
 			if !p.s.Finish(run, res, err, elapsed, longest) {
