@@ -163,9 +163,9 @@ func startBrowser(tb testing.TB, exe string, w, h int) *browser {
 // moment.
 const probeJS = `(() => {
   if (window.__bc) return;
-  const st = {done: 0, failed: 0, doneAt: [], drawnAt: [], editAt: 0, status: "", tasks: [], log: []};
+  const st = {done: 0, failed: 0, doneAt: [], drawnAt: [], shownAt: [], editAt: 0, status: "", tasks: [], log: []};
   window.__bc = st;
-  let last = null, lastState = null, lastGen = null;
+  let last = null, lastState = null, lastGen = null, lastShown = null;
   const check = () => {
     const now = performance.now();
     const el = document.querySelector(".run-status");
@@ -178,6 +178,12 @@ const probeJS = `(() => {
     const out = document.getElementById("bc-output");
     if (!out) return;
     const state = out.dataset.state, gen = out.dataset.resultGen;
+    // A new result shown, whatever the state: with a slider's analysis
+    // chained to the last (app/ui's slider rule) the state stays running.
+    if (gen && gen !== "0" && gen !== lastShown) {
+      lastShown = gen;
+      st.shownAt.push(now);
+    }
     if (state === "ready" && gen !== lastGen) {
       lastGen = gen;
       st.done++;
@@ -211,7 +217,7 @@ const probeJS = `(() => {
     for (const [s, d] of st.tasks) if (s + d >= t0) m = Math.max(m, d);
     return m;
   };
-  st.summary = () => ({done: st.done, failed: st.failed, doneAt: st.doneAt, drawnAt: st.drawnAt,
+  st.summary = () => ({done: st.done, failed: st.failed, doneAt: st.doneAt, drawnAt: st.drawnAt, shownAt: st.shownAt,
     editAt: st.editAt, status: st.status, longest: st.longestSince(0), longtasks: st.tasks.length});
 })();`
 
@@ -302,6 +308,7 @@ type pageState struct {
 	Failed    int       `json:"failed"`
 	DoneAt    []float64 `json:"doneAt"`
 	DrawnAt   []float64 `json:"drawnAt"`
+	ShownAt   []float64 `json:"shownAt"`
 	EditAt    float64   `json:"editAt"`
 	Status    string    `json:"status"`
 	Longest   float64   `json:"longest"`

@@ -1,7 +1,9 @@
 //go:build js && wasm
 
-// Command bellcheck's browser entry: it runs the calculator page and sets
-// the JavaScript API on window (window.bellcheck, see app/ui's APIName).
+// Command bellcheck's browser entry: in a page it runs the calculator page
+// and sets the JavaScript API on window (window.bellcheck, see app/ui's
+// APIName); in a worker the page started it serves the page's analyses
+// (app/ui's ServeAnalyses).
 package main
 
 import (
@@ -9,6 +11,7 @@ import (
 
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
 
+	"bellcheck/app/jsdom"
 	"bellcheck/app/ui"
 )
 
@@ -21,6 +24,16 @@ const gcPercent = 400
 
 func main() {
 	debug.SetGCPercent(gcPercent)
+	if jsdom.InWorker() {
+		// The same program, started by the page as its analysis worker
+		// (web/bellcheck-worker.js): it serves the page's analyses and
+		// draws nothing. Without a way to hear the page it ends, and the
+		// page analyses on its own thread.
+		if err := ui.ServeAnalyses(); err != nil {
+			return
+		}
+		select {}
+	}
 	registerRoutes()
 	// The API does not depend on the page: scripts may call it as soon as
 	// the bellcheck-ready event fires. A browser without it still gets the

@@ -15,7 +15,9 @@ package main
 //	    go test -count=1 -tags=browser -run=PageTimingAB -v ./wasm/
 //
 // BELLCHECK_PAGE_TIMING sets the edits per build (default 9) and
-// BELLCHECK_PAGE_EXAMPLES the examples (default decay,dose,banana).
+// BELLCHECK_PAGE_EXAMPLES the examples (default decay,dose,banana);
+// BELLCHECK_PAGE_AB_NO_WORKER=A (or B) serves that side without the
+// analysis worker's script, so it analyses on the page's thread.
 
 import (
 	"fmt"
@@ -28,6 +30,7 @@ import (
 	"time"
 
 	"bellcheck/app/examples"
+	"bellcheck/app/jsdom"
 	"bellcheck/app/ui"
 )
 
@@ -48,7 +51,17 @@ func TestPageTimingAB(t *testing.T) {
 	var srvs [2]*siteServer
 	var brs [2]*browser
 	for i, w := range builds {
-		srvs[i] = serveSite(t, siteWith(t, w), nil)
+		site := siteWith(t, w)
+		if os.Getenv("BELLCHECK_PAGE_AB_NO_WORKER") == string(rune('A'+i)) {
+			// This side's site has no analysis worker script: the page
+			// analyses on its own thread (app/ui offload.go's fallback).
+			for _, f := range []string{jsdom.WorkerScript, jsdom.WorkerScript + ".gz"} {
+				if err := os.Remove(filepath.Join(site, filepath.FromSlash(f))); err != nil && !os.IsNotExist(err) {
+					t.Fatal(err)
+				}
+			}
+		}
+		srvs[i] = serveSite(t, site, nil)
 		brs[i] = startBrowser(t, exe, 1280, 800)
 	}
 	delay := float64(ui.CheckDelay) / float64(time.Millisecond)
@@ -65,6 +78,10 @@ func TestPageTimingAB(t *testing.T) {
 			eval[bool](t, tabs[i], 5*time.Second, fmt.Sprintf(`(document.querySelectorAll("ul.gallery button.ex")[%d].click(), true)`, exampleIndex(t, id)))
 			sts[i] = tabs[i].waitDone(t, sts[i].Done, 180*time.Second)
 		}
+		// A build with the analysis worker starts it after its first
+		// result: give it time to load before the timed edits (both builds
+		// wait alike).
+		time.Sleep(abWarmup)
 		vals := [2]map[string][]float64{{}, {}}
 		for k := 1; k <= edits; k++ {
 			order := []int{0, 1}
@@ -104,9 +121,14 @@ func TestPageTimingAB(t *testing.T) {
 		for i := range 2 {
 			tabs[i].close()
 		}
-		keys := make([]string, 0, len(vals[0]))
+		var keys []string
 		for k := range vals[0] {
 			keys = append(keys, k)
+		}
+		for k := range vals[1] {
+			if _, ok := vals[0][k]; !ok {
+				keys = append(keys, k) // a figure only one build reports
+			}
 		}
 		sort.Strings(keys)
 		var b strings.Builder
@@ -118,6 +140,10 @@ func TestPageTimingAB(t *testing.T) {
 		t.Log(b.String())
 	}
 }
+
+// abWarmup is the pause after each example's first result, before the
+// timed edits.
+const abWarmup = 4 * time.Second
 
 // siteWith writes the static site with the given app.wasm (and its
 // compressed copy) in place of ../web's.

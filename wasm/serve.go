@@ -17,6 +17,8 @@ import (
 	"strings"
 
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
+
+	"bellcheck/app/jsdom"
 )
 
 // newHandler returns the go-app handler for the calculator page. webDir is
@@ -44,8 +46,9 @@ func newHandler(webDir, prefix string) *app.Handler {
 	h.RawHeaders = []string{cspMeta}
 	// Offline under any path: the worker also caches index.html (which
 	// every static server serves under the prefix) and answers a page
-	// navigation it cannot fetch with it.
-	h.CacheableResources = []string{"/index.html"}
+	// navigation it cannot fetch with it. The analysis worker's script is
+	// not in go-app's list of resources: it is cached beside them.
+	h.CacheableResources = []string{"/index.html", "/" + jsdom.WorkerScript}
 	h.ServiceWorkerTemplate = serviceWorker(h.Resources.Resolve("/index.html"), h.Resources.Resolve("/"))
 	return h
 }

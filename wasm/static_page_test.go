@@ -103,7 +103,8 @@ func TestStaticSiteFilesAndPolicy(t *testing.T) {
 	})
 	sort.Strings(files)
 	for _, want := range []string{"index.html", "app.js", "app-worker.js", "wasm_exec.js", "app.css", "manifest.webmanifest",
-		"web/app.wasm", "web/bellcheck.css", "web/icon.svg", "web/embed-example.html", "web/embed-example.js", "web/embed-example.css"} {
+		"web/app.wasm", "web/bellcheck.css", "web/icon.svg", "web/embed-example.html", "web/embed-example.js", "web/embed-example.css",
+		"web/bellcheck-worker.js"} {
 		if i := sort.SearchStrings(files, want); i == len(files) || files[i] != want {
 			t.Errorf("the static site lacks %s (it has %v)", want, files)
 		}
@@ -142,7 +143,8 @@ func TestStaticSiteFilesAndPolicy(t *testing.T) {
 			t.Errorf("index.html loads %s from elsewhere", m[1])
 		}
 	}
-	checkScriptSyntax(t, filepath.Join(dir, "app-worker.js"), filepath.Join(dir, "web", "embed-example.js"))
+	checkScriptSyntax(t, filepath.Join(dir, "app-worker.js"), filepath.Join(dir, "web", "embed-example.js"),
+		filepath.Join(dir, "web", "bellcheck-worker.js"))
 }
 
 func TestStaticSiteUnderAPrefix(t *testing.T) {
@@ -167,7 +169,8 @@ func TestStaticSiteUnderAPrefix(t *testing.T) {
 		}
 	}
 	worker := readFile(t, filepath.Join(dir, "app-worker.js"))
-	for _, want := range []string{`const rootURL = "/tools/bellcheck";`, `const pageURL = "/tools/bellcheck/index.html";`, `"/tools/bellcheck/web/app.wasm"`, `"/tools/bellcheck/index.html"`} {
+	for _, want := range []string{`const rootURL = "/tools/bellcheck";`, `const pageURL = "/tools/bellcheck/index.html";`, `"/tools/bellcheck/web/app.wasm"`, `"/tools/bellcheck/index.html"`,
+		`"/tools/bellcheck/web/bellcheck-worker.js"`} { // the analysis worker's script is cached too
 		if !strings.Contains(worker, want) {
 			t.Errorf("the service worker lacks %s", want)
 		}

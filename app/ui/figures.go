@@ -71,22 +71,8 @@ func buildFigures(r *engine.Result, v View, pause func()) *FigureSet {
 	}
 	d := len(r.Params)
 	fs := &FigureSet{Dim: d, Names: r.Params, Result: r}
-	marg := func(i int) *engine.Marginal1D {
-		for k := range r.Plots.Marginals {
-			if r.Plots.Marginals[k].Param == i {
-				return &r.Plots.Marginals[k]
-			}
-		}
-		return nil
-	}
-	pair := func(i, j int) *engine.Marginal2D {
-		for k := range r.Plots.Pairs {
-			if p := &r.Plots.Pairs[k]; p.I == i && p.J == j {
-				return p
-			}
-		}
-		return nil
-	}
+	marg := func(i int) *engine.Marginal1D { return marginalOf(r, i) }
+	pair := func(i, j int) *engine.Marginal2D { return pairOf(r, i, j) }
 	opts := func(id string, compact bool, x, y string) figure.Options {
 		o := figure.Options{ID: id, Log: v.Log, Hidden: v.Hidden, Compact: compact, XLabel: x, YLabel: y, Candidates: candidateNames(r),
 			CandidateX: candidateSpreads(r, slices.Index(r.Params, x)), CandidateY: candidateSpreads(r, slices.Index(r.Params, y))}

@@ -218,9 +218,14 @@ func (s *Session) liveItems() []LiveItem {
 // runModel is the model an analysis runs: the checked model with the live
 // constants the sliders set.
 func (s *Session) runModel() *model.Model {
-	m := s.Model
-	for _, v := range s.File.Vary {
-		x, ok := s.Constants[v.Name]
+	return withConstants(s.Model, s.File.Vary, s.Constants)
+}
+
+// withConstants returns m with the live constants of vary set to the
+// values given (by name); those without a value keep the text's.
+func withConstants(m *model.Model, vary []engine.Vary, values map[string]float64) *model.Model {
+	for _, v := range vary {
+		x, ok := values[v.Name]
 		if !ok || m == nil {
 			continue
 		}

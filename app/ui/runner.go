@@ -30,6 +30,9 @@ const (
 	PersistDelay = 250 * time.Millisecond
 	// reportEvery limits progress updates of the page.
 	reportEvery = 80 * time.Millisecond
+	// handOverSlice is the longest the runner's work before the page's
+	// update may run without a pause (see start).
+	handOverSlice = 4 * time.Millisecond
 )
 
 // Performance marks the runner records (performance.mark) for every
@@ -76,6 +79,9 @@ type runner struct {
 	// took (workbound.go); memo keeps the last forecast.
 	estimateTime time.Duration
 	memo         forecastMemo
+	// worker runs the analyses off the page's thread once it is ready
+	// (offload.go).
+	worker workerClient
 }
 
 // PageTimes are the page's own timings of the last result.
@@ -121,8 +127,15 @@ func (p *Page) start(ctx app.Context) {
 	p.cancel = cancel
 	p.progress = false
 	analyse := p.analyse
+	y := newYielder(SliceLength)
+	var remote *remoteRun
 	if analyse == nil {
-		analyse = p.boundedAnalyse(ctx, workIdentity(p.s.Model, p.data.digest, run.Options)) // workbound.go
+		work := workIdentity(p.s.Model, p.data.digest, run.Options)
+		analyse = p.boundedAnalyse(ctx, work) // workbound.go
+		if p.worker.isReady() && !p.smallWork(work) {
+			remote = p.newRemoteRun(run, work) // offload.go
+			analyse = p.remoteAnalyse(ctx, remote, analyse, y.Rest)
+		}
 	}
 	view := p.view
 	ctx.After(ProgressDelay, func(ctx app.Context) {
@@ -136,7 +149,7 @@ func (p *Page) start(ctx app.Context) {
 	ctx.Async(func() {
 		began := time.Now()
 		g0 := readGC()
-		y := newYielder(SliceLength)
+		y.Rest()
 		var lastReport time.Time
 		res, err := analyse(actx, run.Model, run.Options, func(pr engine.Progress) {
 			y.Yield()
@@ -156,14 +169,28 @@ func (p *Page) start(ctx app.Context) {
 			d["engine_ms"] = res.Timing.Total
 		}
 		d["estimate_ms"] = millis(p.estimateTime)
+		if remote != nil && remote.inWorker {
+			// The analysis ran in the worker: its own figures, and the
+			// page's time to read the result.
+			d["in_worker"], d["decode_ms"] = 1, millis(remote.decode)
+			d["worker_analysis_ms"], d["worker_yields"] = millis(remote.reply.Analysis), float64(remote.reply.Yields)
+			d["worker_setup_ms"], d["worker_total_ms"] = millis(remote.reply.Setup), millis(remote.reply.Total)
+			d["post_ms"], d["round_trip_ms"] = millis(remote.post), millis(remote.roundTrip)
+		}
 		_ = jsdom.MarkDetail(MarkResult, d)
 		var figs *FigureSet
 		var secs []Section
 		var figTime, tableTime time.Duration
+		workerFigs := -1.0 // the worker's time to draw the figures it sent
 		if err == nil && res != nil && actx.Err() == nil {
 			y.Yield()
 			tf, pf := time.Now(), y.paused
-			figs = numbered(buildFigures(res, view, y.Yield))
+			if figs = remote.figures(res, view); figs == nil { // offload_figures.go
+				figs = buildFigures(res, view, y.Yield)
+			} else {
+				workerFigs = millis(remote.reply.FigureTime)
+			}
+			figs = numbered(figs)
 			figTime = time.Since(tf) - (y.paused - pf) // the pauses between 3-D and 4-D panels left out
 			y.Yield()
 			tt := time.Now()
@@ -173,8 +200,20 @@ func (p *Page) start(ctx app.Context) {
 		g2 := readGC()
 		d = g2.detail(g1)
 		d["figures_ms"], d["table_ms"] = millis(figTime), millis(tableTime)
+		if workerFigs >= 0 {
+			d["worker_figures_ms"] = workerFigs
+		}
 		_ = jsdom.MarkDetail(MarkPrepared, d)
-		y.Yield()
+		// The page's update that follows a worker's result is a long
+		// stretch of its own (30 to 40 ms for a 4-D result): it starts a
+		// task of its own unless the work before it was short. (After an
+		// analysis on the page, whose results are small, a pause would
+		// only let a frame in first.)
+		if remote != nil && remote.inWorker {
+			y.YieldAfter(handOverSlice)
+		} else {
+			y.Yield()
+		}
 		elapsed, longest := time.Since(began), y.Longest()
 		ctx.Dispatch(func(ctx app.Context) {
 			if !p.s.Finish(run, res, err, elapsed, longest) {
@@ -202,6 +241,9 @@ func (p *Page) start(ctx app.Context) {
 			if p.sliderPending {
 				p.start(ctx)
 			}
+			// The worker loads once the page has shown its first result
+			// (offload.go); meanwhile the page analyses itself.
+			p.worker.start()
 		})
 	})
 }
@@ -259,10 +301,13 @@ func newYielder(every time.Duration) *yielder {
 }
 
 // Yield pauses when the current slice has run for at least every.
-func (y *yielder) Yield() {
+func (y *yielder) Yield() { y.YieldAfter(y.every) }
+
+// YieldAfter pauses when the current slice has run for at least d.
+func (y *yielder) YieldAfter(every time.Duration) {
 	now := time.Now()
 	d := now.Sub(y.last)
-	if d < y.every {
+	if d < every {
 		return
 	}
 	y.longest = max(y.longest, d)
@@ -271,6 +316,10 @@ func (y *yielder) Yield() {
 	y.count++
 	y.paused += y.last.Sub(now)
 }
+
+// Rest starts a new slice: the thread was idle (waiting for the worker)
+// since the last one, which is no work of the page's.
+func (y *yielder) Rest() { y.last = time.Now() }
 
 // Longest returns the longest slice measured so far, including the one
 // running now.

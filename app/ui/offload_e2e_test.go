@@ -1,0 +1,256 @@
+package ui
+
+import (
+	"errors"
+	"slices"
+	"strings"
+	"sync"
+	"testing"
+	"time"
+
+	"bellcheck/app/examples"
+	"bellcheck/app/wire"
+	"bellcheck/engine"
+)
+
+// fakeWorker connects the page's worker client to an analysis server in
+// the same program (natively there is no Web Worker): messages go through
+// the same encoding, and the test can look at or alter the requests.
+type fakeWorker struct {
+	mu       sync.Mutex
+	requests []workRequest
+	srv      *analysisServer
+	// alter, when set, changes a request before the server reads it;
+	// drop, when set, loses it and fails the worker instead.
+	alter func(*workRequest)
+	drop  bool
+}
+
+func connectWorker(t *testing.T, p *Page) *fakeWorker {
+	t.Helper()
+	fw := &fakeWorker{}
+	fw.srv = &analysisServer{post: func(b []byte) error { p.worker.received(b); return nil }}
+	p.worker.mu.Lock()
+	p.worker.state, p.worker.send = workerReady, fw.send(t, p)
+	p.worker.mu.Unlock()
+	return fw
+}
+
+func (fw *fakeWorker) send(t *testing.T, p *Page) func([]byte) error {
+	return func(b []byte) error {
+		gen, body, _ := unframe(b)
+		var req workRequest
+		if err := wire.Unmarshal(body, &req); err != nil {
+			t.Errorf("the worker cannot read the page's request: %v", err)
+			return err
+		}
+		fw.mu.Lock()
+		fw.requests = append(fw.requests, req)
+		alter, drop := fw.alter, fw.drop
+		fw.mu.Unlock()
+		if drop {
+			go p.worker.failed("the worker crashed")
+			return nil
+		}
+		if alter != nil {
+			alter(&req)
+			var err error
+			if b, err = frame(gen, req); err != nil {
+				t.Fatal(err)
+			}
+		}
+		fw.srv.receive(b)
+		return nil
+	}
+}
+
+func (fw *fakeWorker) analyses() int {
+	fw.mu.Lock()
+	defer fw.mu.Unlock()
+	n := 0
+	for _, r := range fw.requests {
+		if !r.Stop {
+			n++
+		}
+	}
+	return n
+}
+
+// TestWorkerServesThePage runs the page's analyses through the worker's
+// server: the result equals the page's own analysis of the same model, a
+// forecast within PageLocalWork then keeps the same work on the page, and
+// the worker's refusal beyond PageMaxTime gives the page's TooLongError and
+// notice.
+func TestWorkerServesThePage(t *testing.T) {
+	old := PageMaxTime
+	defer func() { PageMaxTime = old }()
+	h, e := mount(t, nil)
+	p := h.page
+	p.browser = newMemBrowser("")
+	waitIdle(t, p, e)
+	fw := connectWorker(t, p)
+
+	src := "param a\nparam b\nld_normal(1, a + b, 1) - a^2/2 - b^2/2\n"
+	p.Input(h.ctx, src)
+	e.ConsumeAll()
+	waitIdle(t, p, e)
+	if p.s.RunErr != nil || p.s.Result == nil {
+		t.Fatalf("no result through the worker: %v", p.s.RunErr)
+	}
+	if fw.analyses() != 1 {
+		t.Fatalf("%d requests reached the worker, want 1", fw.analyses())
+	}
+	// The same analysis on the page: the same numbers (the engine is
+	// deterministic; only the timings differ).
+	local, err := engine.Analyse(t.Context(), p.s.ResultModel, p.s.Options(), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := *p.s.Result
+	got.Timing, local.Timing = engine.Timing{}, engine.Timing{}
+	if d := wire.Diff(&got, local); d != "" {
+		t.Errorf("the worker's result differs from the page's at Result%s", d)
+	}
+	if p.figs == nil {
+		t.Error("no figures from the worker's reply")
+	}
+
+	// The same work again (a comment): the worker's forecast decides where.
+	work := workIdentity(p.s.Model, p.data.digest, p.s.Options())
+	small := p.smallWork(work)
+	p.Input(h.ctx, src+"# again\n")
+	e.ConsumeAll()
+	waitIdle(t, p, e)
+	want := 2
+	if small {
+		want = 1 // forecast within PageLocalWork: analysed on the page
+	}
+	if fw.analyses() != want {
+		t.Errorf("%d requests reached the worker, want %d (forecast within PageLocalWork: %v)", fw.analyses(), want, small)
+	}
+
+	// Beyond the bound: the worker refuses, the page says so.
+	PageMaxTime = time.Nanosecond
+	p.Input(h.ctx, "param a\nparam b\nparam c\nld_normal(1, a + b + c, 1) - a^2/2 - b^2/2 - c^2/2\n")
+	e.ConsumeAll()
+	waitIdle(t, p, e)
+	var tl *TooLongError
+	if !errors.As(p.s.RunErr, &tl) || !strings.Contains(p.notice.Text, "was not started") {
+		t.Fatalf("run error %v, notice %q: want the worker's refusal", p.s.RunErr, p.notice.Text)
+	}
+}
+
+// TestWorkerFallsBackToThePage: a request the worker cannot rebuild (its
+// model's canonical form differs) and a worker that dies while the page
+// waits both leave the analysis to the page, which shows its result.
+func TestWorkerFallsBackToThePage(t *testing.T) {
+	h, e := mount(t, nil)
+	p := h.page
+	p.browser = newMemBrowser("")
+	waitIdle(t, p, e)
+	fw := connectWorker(t, p)
+	fw.alter = func(r *workRequest) { r.Canonical += "# not the page's\n" }
+	src := "param a\nld_normal(a, 1, 2)\n"
+	p.Input(h.ctx, src)
+	e.ConsumeAll()
+	waitIdle(t, p, e)
+	if p.s.RunErr != nil || p.s.Result == nil || fw.analyses() != 1 {
+		t.Fatalf("after a refusal: error %v, result %v, %d requests", p.s.RunErr, p.s.Result != nil, fw.analyses())
+	}
+	if !p.worker.isReady() {
+		t.Error("a refused request stopped the worker")
+	}
+
+	fw.mu.Lock()
+	fw.alter, fw.drop = nil, true
+	fw.mu.Unlock()
+	// Other work each time: a forecast within PageLocalWork would keep the
+	// same work on the page.
+	p.Input(h.ctx, "param a\nld_normal(a, 2, 3)\n")
+	e.ConsumeAll()
+	waitIdle(t, p, e)
+	if p.s.RunErr != nil || p.s.Result == nil || p.s.ResultGen != p.s.Gen {
+		t.Fatalf("after the worker died: error %v, result gen %d of %d", p.s.RunErr, p.s.ResultGen, p.s.Gen)
+	}
+	if p.worker.isReady() {
+		t.Error("the dead worker is still taken for ready")
+	}
+	n := fw.analyses()
+	p.Input(h.ctx, "param a\nld_normal(a, 3, 4)\n")
+	e.ConsumeAll()
+	waitIdle(t, p, e)
+	if fw.analyses() != n || p.s.Result == nil {
+		t.Errorf("an analysis went to the dead worker (%d requests, %d before)", fw.analyses(), n)
+	}
+}
+
+// TestWorkerStops: in the worker's server, a stop for the running
+// generation cancels it (no result is sent), a newer request cancels the
+// running one and is answered, and a stop for an older generation leaves
+// the newer one running.
+func TestWorkerStops(t *testing.T) {
+	var mu sync.Mutex
+	got := map[uint64][]replyKind{}
+	srv := &analysisServer{post: func(b []byte) error {
+		gen, body, _ := unframe(b)
+		var r workReply
+		if err := wire.Unmarshal(body, &r); err != nil {
+			t.Error(err)
+		}
+		mu.Lock()
+		got[gen] = append(got[gen], r.Kind)
+		mu.Unlock()
+		return nil
+	}}
+	kinds := func(gen uint64) []replyKind {
+		mu.Lock()
+		defer mu.Unlock()
+		return append([]replyKind(nil), got[gen]...)
+	}
+	request := func(gen uint64, src string) {
+		var s Session
+		if !s.Edit(src) {
+			t.Fatal(s.Errors)
+		}
+		run, _ := s.Begin(nowForTest())
+		p := &Page{s: s}
+		b, err := frame(gen, p.newRemoteRun(run, "").req)
+		if err != nil {
+			t.Fatal(err)
+		}
+		srv.receive(b)
+	}
+	stop := func(gen uint64) {
+		b, _ := frame(gen, workRequest{Stop: true})
+		srv.receive(b)
+	}
+	waitFor := func(what string, ok func() bool) {
+		t.Helper()
+		for deadline := time.Now().Add(30 * time.Second); !ok(); time.Sleep(5 * time.Millisecond) {
+			if time.Now().After(deadline) {
+				t.Fatalf("waiting for %s: replies %v", what, got)
+			}
+		}
+	}
+	has := func(gen uint64, k replyKind) bool { return slices.Contains(kinds(gen), k) }
+	ex, _ := examples.ByID("clock")
+	small := "param a\nld_normal(a, 1, 2)\n"
+
+	request(1, ex.Source)
+	waitFor("progress of 1", func() bool { return has(1, replyProgress) })
+	stop(1)
+	request(2, ex.Source)
+	waitFor("progress of 2", func() bool { return has(2, replyProgress) })
+	request(3, small)
+	waitFor("the result of 3", func() bool { return has(3, replyResult) })
+	request(4, ex.Source)
+	waitFor("progress of 4", func() bool { return has(4, replyProgress) })
+	stop(3) // outdated: 4 goes on
+	waitFor("the result of 4", func() bool { return has(4, replyResult) })
+	time.Sleep(100 * time.Millisecond)
+	for _, gen := range []uint64{1, 2} {
+		if has(gen, replyResult) {
+			t.Errorf("analysis %d was cancelled, yet its result was sent", gen)
+		}
+	}
+}
