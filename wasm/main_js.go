@@ -34,6 +34,7 @@ func main() {
 		}
 		select {}
 	}
+	_ = jsdom.Mark(ui.MarkMain) // a cold load's split: the program runs
 	registerRoutes()
 	// The API does not depend on the page: scripts may call it as soon as
 	// the bellcheck-ready event fires. A browser without it still gets the

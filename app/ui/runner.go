@@ -48,6 +48,10 @@ const (
 	MarkUpdated  = "bc-updated"
 )
 
+// MarkMain is recorded once, when the page's program starts (its wasm
+// downloaded, compiled and instantiated): a cold load splits there.
+const MarkMain = "bc-main"
+
 // AnalyseFunc runs an analysis; engine.Analyse is the page's.
 type AnalyseFunc func(context.Context, *model.Model, engine.Options, engine.ProgressFunc) (*engine.Result, error)
 
