@@ -20,8 +20,6 @@ import (
 	"testing"
 	"time"
 
-	"github.com/chromedp/cdproto/cdp"
-	"github.com/chromedp/cdproto/tracing"
 	"github.com/chromedp/chromedp"
 
 	"bellcheck/app/examples"
@@ -263,14 +261,7 @@ func testWorkerFallback(t *testing.T, b *browser) {
 // bc-start marks, which are in both.
 func (tr *trace) taskCPU(t *testing.T, tb *tab, tasks [][2]float64) []float64 {
 	starts := eval[[]float64](t, tb, 5*time.Second, `performance.getEntriesByName("bc-start").map((m) => m.startTime)`)
-	if _, err := chromedp.Call(tb.ctx, tracing.End, cdp.Empty{}); err != nil {
-		t.Fatal(err)
-	}
-	select {
-	case <-tr.done:
-	case <-time.After(60 * time.Second):
-		t.Fatal("the trace did not complete")
-	}
+	tr.end(t, tb)
 	tr.mu.Lock()
 	defer tr.mu.Unlock()
 	var main int64 = -1

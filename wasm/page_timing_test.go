@@ -312,6 +312,19 @@ type trace struct {
 	done   chan struct{}
 }
 
+// end stops the tab's trace and waits for its events.
+func (tr *trace) end(t *testing.T, tb *tab) {
+	t.Helper()
+	if _, err := chromedp.Call(tb.ctx, tracing.End, cdp.Empty{}); err != nil {
+		t.Fatal(err)
+	}
+	select {
+	case <-tr.done:
+	case <-time.After(60 * time.Second):
+		t.Fatal("the trace did not complete")
+	}
+}
+
 // traceEvent is the part of a trace event the split needs.
 type traceEvent struct {
 	Name string  `json:"name"`
@@ -359,14 +372,7 @@ func startTrace(t *testing.T, tb *tab) *trace {
 // main thread in each phase: the thread CPU of its tasks (RunTask), each
 // counted for the part of its duration inside the phase.
 func (tr *trace) mainThreadCPU(t *testing.T, tb *tab, windows [][]float64) [][]float64 {
-	if _, err := chromedp.Call(tb.ctx, tracing.End, cdp.Empty{}); err != nil {
-		t.Fatal(err)
-	}
-	select {
-	case <-tr.done:
-	case <-time.After(60 * time.Second):
-		t.Fatal("the trace did not complete")
-	}
+	tr.end(t, tb)
 	tr.mu.Lock()
 	defer tr.mu.Unlock()
 	// The main thread names itself; a mark of the page gives the offset

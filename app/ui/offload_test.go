@@ -132,9 +132,8 @@ func countNonFinite(v any) int {
 	return n
 }
 
-// BenchmarkWorkerReplyClock times the reply of the 4-D clock example's
-// Result: encode in the worker, decode on the page.
-func BenchmarkWorkerReplyClock(b *testing.B) {
+// clockResult analyses the 4-D clock example as the page would.
+func clockResult(b *testing.B) *engine.Result {
 	ex, _ := examples.ByID("clock")
 	var s Session
 	s.SetChoices(ex.Params)
@@ -144,6 +143,13 @@ func BenchmarkWorkerReplyClock(b *testing.B) {
 	if err != nil {
 		b.Fatal(err)
 	}
+	return res
+}
+
+// BenchmarkWorkerReplyClock times the reply of the 4-D clock example's
+// Result: encode in the worker, decode on the page.
+func BenchmarkWorkerReplyClock(b *testing.B) {
+	res := clockResult(b)
 	b.Run("encode", func(b *testing.B) {
 		for b.Loop() {
 			if _, err := frame(1, workReply{Kind: replyResult, Result: res}); err != nil {
@@ -167,15 +173,7 @@ func BenchmarkWorkerReplyClock(b *testing.B) {
 // figures should be built: on the page from the decoded Result (build), or
 // in the worker and sent (decode: what the page would then do instead).
 func BenchmarkClockFiguresPageOrWorker(b *testing.B) {
-	ex, _ := examples.ByID("clock")
-	var s Session
-	s.SetChoices(ex.Params)
-	s.Edit(ex.Source)
-	run, _ := s.Begin(nowForTest())
-	res, err := engine.Analyse(context.Background(), run.Model, run.Options, nil)
-	if err != nil {
-		b.Fatal(err)
-	}
+	res := clockResult(b)
 	fs := BuildFigures(res, View{})
 	var figs []*figure.Figure
 	for _, row := range fs.Grid {
