@@ -33,6 +33,7 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 	}
 	g := a.ref.grid
 	st := &g.Stats
+	pairs := st.PairMarginals()
 	d := a.d
 	pl := &Plots{}
 	fits, cands := a.plotted(res)
@@ -48,7 +49,7 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 		}
 	}
 	for k := 0; k < d; k++ {
-		a.tr.at(float64(k) / float64(d+len(st.Pairs)))
+		a.tr.at(float64(k) / float64(d+len(pairs)))
 		idx := plotNodes(g.N[k], maxPlot1D)
 		m := Marginal1D{Param: k}
 		for _, i := range idx {
@@ -80,9 +81,9 @@ func (a *analysis) plots(res *Result) (*Plots, error) {
 		}
 		pl.Marginals = append(pl.Marginals, m)
 	}
-	for pi, pr := range st.Pairs {
+	for pi, pr := range pairs {
 		part := func(f float64) error {
-			a.tr.at((float64(d+pi) + f) / float64(d+len(st.Pairs)))
+			a.tr.at((float64(d+pi) + f) / float64(d+len(pairs)))
 			return a.ctx.Err()
 		}
 		if err := part(0); err != nil {

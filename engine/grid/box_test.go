@@ -182,7 +182,7 @@ func TestLevelsOfBivariateNormal(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	pr := g.Stats.Pairs[0]
+	pr := g.Stats.PairMarginals()[0]
 	fr := []float64{0.39, 0.86, 0.99}
 	lv := Levels(pr.Density, pr.Mass, fr)
 	for i, f := range fr {

@@ -29,10 +29,17 @@ type Stats struct {
 	// rate (exact for an exponential tail), the tail taken no longer than
 	// the box is wide where the marginal does not decay.
 	TailMass float64
-	// Marginals holds each axis's marginal on the fitting scale; Pairs each
-	// pair's (i < j, in the order (0,1), (0,2), ..., (1,2), ...).
+	// Marginals holds each axis's marginal on the fitting scale (the
+	// pairs' come from PairMarginals).
 	Marginals []Marginal
-	Pairs     []Pair
+	// pairSums are the unnormalised pair sums (by pair of axes) and
+	// pairWeights the axes' weights, from which PairMarginals builds the
+	// pairs' marginals when asked: only the grid's plots need them, and
+	// two arrays of the grid's size per pair were most of an analysis's
+	// allocations where the rule was the reference.
+	pairSums    map[[2]int][]float64
+	pairWeights [][]float64
+	pairTotal   float64
 	// OrigArgMax is the node where the density on the original scale (p
 	// divided by the Jacobian) is highest; ArgMax of the grid when no maps.
 	OrigArgMax int
@@ -340,35 +347,44 @@ func (g *Grid) summarise(ctx context.Context, free [][2]bool, progress func(floa
 			st.TailMass += dens[face] / math.Max(decay, 1/width)
 		}
 	}
-	st.Pairs = nil
-	for k := 0; k < d; k++ {
-		for l := k + 1; l < d; l++ {
-			p := full.pairs[[2]int{k, l}]
-			mass := make([]float64, len(p))
-			dens := make([]float64, len(p))
-			invL := make([]float64, g.N[l])
-			for j, w := range g.Weights[l] {
-				invL[j] = 1 / w
-			}
-			invT := 1 / full.total
-			for i := 0; i < g.N[k]; i++ {
-				invI := 1 / g.Weights[k][i]
-				row := i * g.N[l]
-				for j, il := range invL {
-					m := p[row+j] * invT
-					mass[row+j] = m
-					dens[row+j] = m * invI * il
-				}
-			}
-			st.Pairs = append(st.Pairs, Pair{I: k, J: l, Density: dens, Mass: mass})
-		}
-	}
+	st.pairSums, st.pairWeights, st.pairTotal = full.pairs, g.Weights, full.total
 	st.OrigArgMax = g.ArgMax
 	if !allIdentity(g.Maps) {
 		st.OrigArgMax = g.origArgMax()
 	}
 	progress(1)
 	return nil
+}
+
+// PairMarginals returns each pair's marginal on the fitting scale (i < j,
+// in the order (0,1), (0,2), ..., (1,2), ...), built from the grid's sums.
+func (st *Stats) PairMarginals() []Pair {
+	var out []Pair
+	d := len(st.pairWeights)
+	for k := 0; k < d; k++ {
+		for l := k + 1; l < d; l++ {
+			p := st.pairSums[[2]int{k, l}]
+			mass := make([]float64, len(p))
+			dens := make([]float64, len(p))
+			nl := len(st.pairWeights[l])
+			invL := make([]float64, nl)
+			for j, w := range st.pairWeights[l] {
+				invL[j] = 1 / w
+			}
+			invT := 1 / st.pairTotal
+			for i, wi := range st.pairWeights[k] {
+				invI := 1 / wi
+				row := i * nl
+				for j, il := range invL {
+					m := p[row+j] * invT
+					mass[row+j] = m
+					dens[row+j] = m * invI * il
+				}
+			}
+			out = append(out, Pair{I: k, J: l, Density: dens, Mass: mass})
+		}
+	}
+	return out
 }
 
 func allIdentity(maps []transform.Map) bool {
