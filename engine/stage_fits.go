@@ -200,7 +200,7 @@ func (a *analysis) fitReverse(lap *fit.LaplaceFit) (rev, mfit *fit.VariationalFi
 		}
 		mfInit := *init
 		if rev != nil && rev.Converged {
-			mfInit = rev.Gaussian
+			mfInit = meanFieldStart(rev)
 		}
 		if mfit, err = variational(stageMeanField, MeanField, mfInit); err != nil {
 			return nil, nil, false, err
@@ -224,6 +224,29 @@ func (a *analysis) fitReverse(lap *fit.LaplaceFit) (rev, mfit *fit.VariationalFi
 		a.fits = append(a.fits, fitted{method: v.m, g: v.vf.Gaussian, prec: v.vf.Precision, run: run})
 	}
 	return rev, mfit, infiniteKL, nil
+}
+
+// meanFieldStart returns the mean-field fit's start from the converged
+// full reverse-KL fit: its mean, and variances 1 / Lambda_ii from its
+// precision Lambda = -E_q[H], the mean-field optimum where log p is
+// quadratic (Bishop, Pattern Recognition and Machine Learning, 2006,
+// section 10.1.2), where the full fit's own variances Sigma_ii are wider by
+// the correlations. The full fit's Gaussian where a diagonal entry is not
+// positive.
+func meanFieldStart(rev *fit.VariationalFit) fit.Gaussian {
+	d := len(rev.Mean)
+	if rev.Precision == nil {
+		return rev.Gaussian
+	}
+	cov := mat.NewSymDense(d, nil)
+	for i := 0; i < d; i++ {
+		l := rev.Precision.At(i, i)
+		if !(l > 0) || math.IsInf(l, 1) {
+			return rev.Gaussian
+		}
+		cov.SetSym(i, i, 1/l)
+	}
+	return fit.Gaussian{Mean: append([]float64(nil), rev.Mean...), Cov: cov}
 }
 
 // fitForward matches the reference's moments, where its variance settles.
