@@ -105,6 +105,19 @@ func unframe(b []byte) (uint64, []byte, bool) {
 	return binary.LittleEndian.Uint64(b), b[8:], true
 }
 
+// errShortFrame is a message too short to hold a generation.
+var errShortFrame = errors.New("a message shorter than its generation")
+
+// unframeInto reads a message made by frame: it returns the generation
+// and decodes the body into v.
+func unframeInto(b []byte, v any) (uint64, error) {
+	gen, body, ok := unframe(b)
+	if !ok {
+		return 0, errShortFrame
+	}
+	return gen, wire.Unmarshal(body, v)
+}
+
 // workerState is where the page's worker stands.
 type workerState int
 
@@ -279,7 +292,7 @@ const PageLocalWork = 100 * time.Millisecond
 
 // smallWork reports whether work's last forecast is below PageLocalWork.
 func (p *Page) smallWork(work string) bool {
-	est, ok := p.forecastOf(work)
+	est, ok := p.memo.of(work)
 	return ok && est.Total <= PageLocalWork
 }
 
@@ -345,9 +358,8 @@ func (p *Page) remoteAnalyse(actx app.Context, rr *remoteRun, local AnalyseFunc,
 				rest()
 				began := time.Now()
 				rr.roundTrip = began.Sub(posted)
-				_, body, _ := unframe(b)
 				var r workReply
-				if err := wire.Unmarshal(body, &r); err != nil {
+				if _, err := unframeInto(b, &r); err != nil {
 					return local(ctx, m, opts, progress)
 				}
 				switch r.Kind {
@@ -360,7 +372,7 @@ func (p *Page) remoteAnalyse(actx app.Context, rr *remoteRun, local AnalyseFunc,
 				rr.inWorker, rr.reply, rr.decode = true, r, time.Since(began)
 				p.estimateTime = r.EstimateTime
 				if r.Estimate.Total > 0 {
-					p.keepForecast(rr.req.Work, r.Estimate) // workbound.go; see smallWork
+					p.memo.keep(rr.req.Work, r.Estimate) // workbound.go; see smallWork
 				}
 				switch r.Kind {
 				case replyResult:

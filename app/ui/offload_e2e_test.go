@@ -38,9 +38,9 @@ func connectWorker(t *testing.T, p *Page) *fakeWorker {
 
 func (fw *fakeWorker) send(t *testing.T, p *Page) func([]byte) error {
 	return func(b []byte) error {
-		gen, body, _ := unframe(b)
 		var req workRequest
-		if err := wire.Unmarshal(body, &req); err != nil {
+		gen, err := unframeInto(b, &req)
+		if err != nil {
 			t.Errorf("the worker cannot read the page's request: %v", err)
 			return err
 		}
@@ -192,9 +192,9 @@ func TestWorkerStops(t *testing.T) {
 	var mu sync.Mutex
 	got := map[uint64][]replyKind{}
 	srv := &analysisServer{post: func(b []byte) error {
-		gen, body, _ := unframe(b)
 		var r workReply
-		if err := wire.Unmarshal(body, &r); err != nil {
+		gen, err := unframeInto(b, &r)
+		if err != nil {
 			t.Error(err)
 		}
 		mu.Lock()

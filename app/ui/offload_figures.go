@@ -58,17 +58,7 @@ func sendFigures(fs *FigureSet) *sentFigures {
 		}
 		return &sentPanel{ID: p.ID, Fig: p.Fig, I: p.I, J: p.J, Log: p.Log}
 	}
-	out := &sentFigures{Dim: fs.Dim, Main: strip(fs.Main), Corr: fs.Corr, Names: fs.Names}
-	if fs.Grid != nil {
-		out.Grid = make([][]*sentPanel, len(fs.Grid))
-		for i, row := range fs.Grid {
-			out.Grid[i] = make([]*sentPanel, len(row))
-			for j, p := range row {
-				out.Grid[i][j] = strip(p)
-			}
-		}
-	}
-	return out
+	return &sentFigures{Dim: fs.Dim, Main: strip(fs.Main), Corr: fs.Corr, Names: fs.Names, Grid: mapGrid(fs.Grid, strip)}
 }
 
 // linkFigures makes the figures the worker sent a FigureSet of r: each
@@ -89,17 +79,22 @@ func linkFigures(sf *sentFigures, r *engine.Result) *FigureSet {
 		}
 		return p
 	}
-	fs := &FigureSet{Dim: sf.Dim, Names: r.Params, Main: link(sf.Main), Corr: sf.Corr, Result: r}
-	if sf.Grid != nil {
-		fs.Grid = make([][]*Panel, len(sf.Grid))
-		for i, row := range sf.Grid {
-			fs.Grid[i] = make([]*Panel, len(row))
-			for j, sp := range row {
-				fs.Grid[i][j] = link(sp)
-			}
+	return &FigureSet{Dim: sf.Dim, Names: r.Params, Main: link(sf.Main), Corr: sf.Corr, Result: r, Grid: mapGrid(sf.Grid, link)}
+}
+
+// mapGrid applies f to every panel of a grid of panels (nil stays nil).
+func mapGrid[A, B any](g [][]A, f func(A) B) [][]B {
+	if g == nil {
+		return nil
+	}
+	out := make([][]B, len(g))
+	for i, row := range g {
+		out[i] = make([]B, len(row))
+		for j, p := range row {
+			out[i][j] = f(p)
 		}
 	}
-	return fs
+	return out
 }
 
 // marginalOf returns r's plotted marginal of parameter i (nil for none).

@@ -2,11 +2,11 @@ package ui
 
 import (
 	"context"
+	"errors"
 	"sync"
 	"time"
 
 	"bellcheck/app/jsdom"
-	"bellcheck/app/wire"
 	"bellcheck/engine"
 	"bellcheck/engine/model"
 )
@@ -39,12 +39,11 @@ type analysisServer struct {
 // receive takes a message of the page (in the worker's event handler: it
 // only cancels and starts).
 func (s *analysisServer) receive(b []byte) {
-	gen, body, ok := unframe(b)
-	if !ok {
+	var req workRequest
+	gen, err := unframeInto(b, &req)
+	if errors.Is(err, errShortFrame) {
 		return
 	}
-	var req workRequest
-	err := wire.Unmarshal(body, &req)
 	s.mu.Lock()
 	if s.cancel != nil && (err != nil || !req.Stop || s.gen <= gen) {
 		s.cancel()
@@ -88,7 +87,7 @@ func (s *analysisServer) run(ctx context.Context, gen uint64, req workRequest, a
 		return
 	}
 	r := workReply{Setup: time.Since(arrived)}
-	est, ok := s.forecastOf(req.Work)
+	est, ok := s.memo.of(req.Work)
 	if !ok {
 		began := time.Now()
 		var err error
@@ -102,7 +101,7 @@ func (s *analysisServer) run(ctx context.Context, gen uint64, req workRequest, a
 			s.reply(gen, r)
 			return
 		}
-		s.keepForecast(req.Work, est)
+		s.memo.keep(req.Work, est)
 	}
 	r.Estimate = est // the page keeps it too (smallWork)
 	if est.Total > req.MaxTime {
@@ -140,22 +139,4 @@ func (s *analysisServer) run(ctx context.Context, gen uint64, req workRequest, a
 	}
 	r.Total = time.Since(arrived)
 	s.reply(gen, r)
-}
-
-func (s *analysisServer) forecastOf(work string) (engine.Estimate, bool) {
-	s.memo.mu.Lock()
-	defer s.memo.mu.Unlock()
-	if work == "" || s.memo.work != work {
-		return engine.Estimate{}, false
-	}
-	return s.memo.est, true
-}
-
-func (s *analysisServer) keepForecast(work string, est engine.Estimate) {
-	if work == "" {
-		return
-	}
-	s.memo.mu.Lock()
-	defer s.memo.mu.Unlock()
-	s.memo.work, s.memo.est = work, est
 }

@@ -44,9 +44,9 @@ func TestWorkerRepliesKeepEveryResult(t *testing.T) {
 		}
 		enc := time.Since(began)
 		began = time.Now()
-		gen, body, ok := unframe(b)
 		var r workReply
-		if err := wire.Unmarshal(body, &r); err != nil || !ok || gen != run.Gen {
+		gen, err := unframeInto(b, &r)
+		if err != nil || gen != run.Gen {
 			t.Fatalf("%s: decoding: %v (generation %d, want %d)", ex.ID, err, gen, run.Gen)
 		}
 		dec := time.Since(began)
@@ -75,9 +75,8 @@ func TestWorkerRequestRebuildsTheModel(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	_, body, _ := unframe(b)
 	var req workRequest
-	if err := wire.Unmarshal(body, &req); err != nil {
+	if _, err := unframeInto(b, &req); err != nil {
 		t.Fatal(err)
 	}
 	if d := wire.Diff(rr.req, req); d != "" {
@@ -160,9 +159,8 @@ func BenchmarkWorkerReplyClock(b *testing.B) {
 	msg, _ := frame(1, workReply{Kind: replyResult, Result: res})
 	b.Run("decode", func(b *testing.B) {
 		for b.Loop() {
-			_, body, _ := unframe(msg)
 			var r workReply
-			if err := wire.Unmarshal(body, &r); err != nil {
+			if _, err := unframeInto(msg, &r); err != nil {
 				b.Fatal(err)
 			}
 		}
@@ -225,9 +223,8 @@ func TestWorkerFiguresEqualThePages(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			_, body, _ := unframe(b)
 			var r workReply
-			if err := wire.Unmarshal(body, &r); err != nil {
+			if _, err := unframeInto(b, &r); err != nil {
 				t.Fatal(err)
 			}
 			got, want := linkFigures(r.Figures, r.Result), BuildFigures(r.Result, v)

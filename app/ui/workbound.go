@@ -57,7 +57,7 @@ func (p *Page) boundedAnalyse(actx app.Context, work string) AnalyseFunc {
 
 func (p *Page) bounded(actx app.Context, ctx context.Context, work string, m *model.Model, opts engine.Options, progress engine.ProgressFunc) (*engine.Result, error) {
 	p.estimateTime = 0
-	est, ok := p.forecastOf(work)
+	est, ok := p.memo.of(work)
 	if !ok {
 		began := time.Now()
 		var err error
@@ -66,7 +66,7 @@ func (p *Page) bounded(actx app.Context, ctx context.Context, work string, m *mo
 		if err != nil {
 			return nil, err
 		}
-		p.keepForecast(work, est)
+		p.memo.keep(work, est)
 	}
 	if est.Total <= PageMaxTime {
 		return engine.Analyse(ctx, m, opts, progress)
@@ -84,24 +84,24 @@ type forecastMemo struct {
 	est  engine.Estimate
 }
 
-// keepForecast keeps the forecast est of work.
-func (p *Page) keepForecast(work string, est engine.Estimate) {
+// keep keeps the forecast est of work.
+func (m *forecastMemo) keep(work string, est engine.Estimate) {
 	if work == "" {
 		return
 	}
-	p.memo.mu.Lock()
-	defer p.memo.mu.Unlock()
-	p.memo.work, p.memo.est = work, est
+	m.mu.Lock()
+	defer m.mu.Unlock()
+	m.work, m.est = work, est
 }
 
-// forecastOf returns the kept forecast of work, if any.
-func (p *Page) forecastOf(work string) (engine.Estimate, bool) {
-	p.memo.mu.Lock()
-	defer p.memo.mu.Unlock()
-	if work == "" || p.memo.work != work {
+// of returns the kept forecast of work, if any.
+func (m *forecastMemo) of(work string) (engine.Estimate, bool) {
+	m.mu.Lock()
+	defer m.mu.Unlock()
+	if work == "" || m.work != work {
 		return engine.Estimate{}, false
 	}
-	return p.memo.est, true
+	return m.est, true
 }
 
 // workIdentity names an analysis's work for the forecast's memo: the
