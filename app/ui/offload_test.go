@@ -131,16 +131,17 @@ func countNonFinite(v any) int {
 	return n
 }
 
-// clockResult analyses the 4-D clock example as the page would.
-func clockResult(b *testing.B) *engine.Result {
-	ex, _ := examples.ByID("clock")
+// exampleResult analyses the gallery example id as the page would.
+func exampleResult(tb testing.TB, id string) *engine.Result {
+	tb.Helper()
+	ex, _ := examples.ByID(id)
 	var s Session
 	s.SetChoices(ex.Params)
 	s.Edit(ex.Source)
 	run, _ := s.Begin(nowForTest())
 	res, err := engine.Analyse(context.Background(), run.Model, run.Options, nil)
 	if err != nil {
-		b.Fatal(err)
+		tb.Fatal(err)
 	}
 	return res
 }
@@ -148,7 +149,7 @@ func clockResult(b *testing.B) *engine.Result {
 // BenchmarkWorkerReplyClock times the reply of the 4-D clock example's
 // Result: encode in the worker, decode on the page.
 func BenchmarkWorkerReplyClock(b *testing.B) {
-	res := clockResult(b)
+	res := exampleResult(b, "clock")
 	b.Run("encode", func(b *testing.B) {
 		for b.Loop() {
 			if _, err := frame(1, workReply{Kind: replyResult, Result: res}); err != nil {
@@ -171,7 +172,7 @@ func BenchmarkWorkerReplyClock(b *testing.B) {
 // figures should be built: on the page from the decoded Result (build), or
 // in the worker and sent (decode: what the page would then do instead).
 func BenchmarkClockFiguresPageOrWorker(b *testing.B) {
-	res := clockResult(b)
+	res := exampleResult(b, "clock")
 	fs := BuildFigures(res, View{})
 	var figs []*figure.Figure
 	for _, row := range fs.Grid {
@@ -208,15 +209,7 @@ func BenchmarkClockFiguresPageOrWorker(b *testing.B) {
 func TestWorkerFiguresEqualThePages(t *testing.T) {
 	views := []View{{}, {Log: true, Hidden: [len(View{}.Hidden)]bool{true}}}
 	for _, id := range []string{"decay", "banana", "sensor", "clock"} {
-		ex, _ := examples.ByID(id)
-		var s Session
-		s.SetChoices(ex.Params)
-		s.Edit(ex.Source)
-		run, _ := s.Begin(nowForTest())
-		res, err := engine.Analyse(context.Background(), run.Model, run.Options, nil)
-		if err != nil {
-			t.Fatal(err)
-		}
+		res := exampleResult(t, id)
 		for _, v := range views {
 			sv := sentView(v)
 			b, err := frame(1, workReply{Kind: replyResult, Result: res, Figures: sendFigures(BuildFigures(res, sv.view()))})
