@@ -6,6 +6,7 @@ import (
 	"math"
 
 	"bellcheck/engine/gauss"
+	"bellcheck/engine/grid"
 	"bellcheck/engine/quadrature"
 )
 
@@ -132,7 +133,7 @@ func (a *analysis) plotsFromRule(res *Result) (*Plots, error) {
 			// Levels gives shares of the plot's mass; the pair density is
 			// normalised, so the shares of the whole mass are f / total.
 			fx, fy, fd := refine(dens, xs, ys, max(1, (levelPoints+n-3)/(n-1)))
-			total := gridMass(fd, fx, fy)
+			mass, total := cellMasses(fd, fx, fy)
 			fr := make([]float64, len(contourMasses))
 			for c, f := range contourMasses {
 				fr[c] = f
@@ -140,7 +141,7 @@ func (a *analysis) plotsFromRule(res *Result) (*Plots, error) {
 					fr[c] = f / total
 				}
 			}
-			lv, _ := quadrature.Levels(fd, fx, fy, fr)
+			lv := grid.Levels(fd, mass, fr)
 			m2 := Marginal2D{I: i, J: j, X: xs, Y: ys, Levels: [3]float64{lv[0], lv[1], lv[2]}, Ellipses: Ellipses{}}
 			// Pair gives (xs[u], ys[v]) at u*len(ys)+v; the page wants
 			// Density[v*len(xs)+u].
@@ -232,21 +233,25 @@ func (a *analysis) ruleRanges(q *quadrature.Result) ([][2]float64, []*quadrature
 // of the order of a cell.
 const levelPoints = 161
 
-// gridMass returns the trapezoid cells' mass of a density on xs × ys
-// (quadrature.Levels' total).
-func gridMass(dens, xs, ys []float64) float64 {
+// cellMasses returns the mass of each point of a density on xs × ys (its
+// density times its trapezoid cell; layout of quadrature.Pair) and their
+// total, for grid.Levels. Points where the density is not positive and
+// finite weigh nothing.
+func cellMasses(dens, xs, ys []float64) ([]float64, float64) {
 	cell := func(v []float64, a int) float64 {
 		return (v[min(a+1, len(v)-1)] - v[max(a-1, 0)]) / 2
 	}
+	mass := make([]float64, len(dens))
 	total := 0.0
 	for a := range xs {
 		for b := range ys {
 			if v := dens[a*len(ys)+b]; v > 0 && !math.IsInf(v, 1) {
-				total += v * cell(xs, a) * cell(ys, b)
+				mass[a*len(ys)+b] = v * cell(xs, a) * cell(ys, b)
+				total += mass[a*len(ys)+b]
 			}
 		}
 	}
-	return total
+	return mass, total
 }
 
 // refine returns the grid xs × ys subdivided f times along each axis, and

@@ -6,6 +6,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/stat/distuv"
+
+	"bellcheck/engine/grid"
 )
 
 // withRule runs f with the nested rule switched on.
@@ -162,6 +164,34 @@ func TestPlotRangeHeavyTail(t *testing.T) {
 	for i, want := range []float64{2 - 3.2905*3 - 0.15*span, 2 + 3.2905*3 + 0.15*span} {
 		if got := x[i*(len(x)-1)]; math.Abs(got-want) > 1e-3*3 {
 			t.Errorf("the normal's plot range end %d at %g, want %g", i, got, want)
+		}
+	}
+}
+
+// TestPairLevels: on a fine grid over a standard bivariate normal the level
+// enclosing the share f is exp(-r^2/2)/(2 pi) with r^2 = -2 log(1-f) (the
+// chi-square with 2 dof), from cellMasses and grid.Levels as the pairs'
+// contours take them.
+func TestPairLevels(t *testing.T) {
+	var xs []float64
+	for x := -7.0; x <= 7.0001; x += 0.02 {
+		xs = append(xs, x)
+	}
+	dens := make([]float64, len(xs)*len(xs))
+	for a, x := range xs {
+		for b, y := range xs {
+			dens[a*len(xs)+b] = math.Exp(-(x*x+y*y)/2) / (2 * math.Pi)
+		}
+	}
+	fr := []float64{0.39, 0.86, 0.99}
+	mass, total := cellMasses(dens, xs, xs)
+	if math.Abs(total-1) > 1e-6 {
+		t.Errorf("grid mass %g, want 1", total)
+	}
+	for i, lv := range grid.Levels(dens, mass, fr) {
+		want := (1 - fr[i]) / (2 * math.Pi)
+		if math.Abs(lv-want) > 2e-3*want+1e-5 {
+			t.Errorf("level of %g: %g, want %g", fr[i], lv, want)
 		}
 	}
 }

@@ -136,6 +136,11 @@ func startBrowser(tb testing.TB, exe string, w, h int) *browser {
 		chromedp.UserDataDir(tb.TempDir()),
 		chromedp.WindowSize(w, h),
 	}
+	if f := os.Getenv("BELLCHECK_JS_FLAGS"); f != "" {
+		// V8's flags, for experiments on the engine's tiers
+		// (DEVELOPERS.md, Benchmarks).
+		opts = append(opts, chromedp.Flag("js-flags", f))
+	}
 	actx, cancelAlloc := chromedp.NewExecAllocator(context.Background(), opts...)
 	bctx, cancelBrowser := chromedp.NewContext(actx)
 	// The first action starts the browser; it must not carry a timeout,

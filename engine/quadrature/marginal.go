@@ -5,7 +5,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"sort"
 
 	"bellcheck/engine/transform"
 )
@@ -212,45 +211,4 @@ func (res *Result) Pair(ctx context.Context, i, j int, xs, ys []float64) ([]floa
 		}
 	}
 	return out, nil
-}
-
-// Levels returns, for each share f in fractions, the density level whose
-// superlevel set holds the share f of the mass of a pair-marginal density
-// given on the grid xs × ys (as from Pair), the mass of each grid point
-// being its density times its trapezoid cell; and the grid's total mass
-// (near 1 when the grid covers the density). The shares are of the
-// grid's mass.
-func Levels(dens, xs, ys, fractions []float64) ([]float64, float64) {
-	cell := func(v []float64, a int) float64 {
-		lo, hi := v[max(a-1, 0)], v[min(a+1, len(v)-1)]
-		return (hi - lo) / 2
-	}
-	type pt struct{ d, m float64 }
-	pts := make([]pt, 0, len(dens))
-	total := 0.0
-	for a := range xs {
-		for b := range ys {
-			v := dens[a*len(ys)+b]
-			if !(v > 0) || math.IsInf(v, 1) {
-				continue
-			}
-			m := v * cell(xs, a) * cell(ys, b)
-			pts = append(pts, pt{v, m})
-			total += m
-		}
-	}
-	sort.Slice(pts, func(p, q int) bool { return pts[p].d > pts[q].d })
-	out := make([]float64, len(fractions))
-	for fi, f := range fractions {
-		out[fi] = math.NaN()
-		acc := 0.0
-		for _, p := range pts {
-			acc += p.m
-			if acc >= f*total {
-				out[fi] = p.d
-				break
-			}
-		}
-	}
-	return out, total
 }

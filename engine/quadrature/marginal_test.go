@@ -103,29 +103,6 @@ func TestMarginals(t *testing.T) {
 	}
 }
 
-// TestLevels: on a fine grid over a standard bivariate normal the level
-// enclosing the share f is exp(-r^2/2)/(2 pi) with r^2 = -2 log(1-f) (the
-// chi-square with 2 dof).
-func TestLevels(t *testing.T) {
-	var xs []float64
-	for x := -7.0; x <= 7.0001; x += 0.02 {
-		xs = append(xs, x)
-	}
-	dens := make([]float64, len(xs)*len(xs))
-	for a, x := range xs {
-		for b, y := range xs {
-			dens[a*len(xs)+b] = math.Exp(-(x*x+y*y)/2) / (2 * math.Pi)
-		}
-	}
-	fr := []float64{0.39, 0.86, 0.99}
-	lv, total := Levels(dens, xs, xs, fr)
-	check(t, "grid mass", total, 1, 1e-6, -1)
-	for i, f := range fr {
-		want := (1 - f) / (2 * math.Pi)
-		check(t, "level", lv[i], want, 2e-3*want+1e-5, -1)
-	}
-}
-
 // TestFunnelMarginal: the marginal density of x1 in the 3-D funnel (v ~
 // N(0, 3^2), x1, x2 | v ~ N(0, e^v)) is the integral over v of N(v; 0, 9)
 // N(x1; 0, e^v), here by gonum's Gauss-Legendre rule of 2000 nodes on v in
