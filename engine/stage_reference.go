@@ -232,8 +232,10 @@ func (a *analysis) evaluateGrid() error {
 	// the centre under-resolved. Then trim each free side to where
 	// trimTail of the mass lies beyond it, where that narrows an axis by
 	// 30 % or more, and keep the grid whose error estimate (half resolution
-	// plus the mass beyond the box) is smaller.
-	if coarse(g) {
+	// plus the mass beyond the box) is smaller. A scouting grid is coarse
+	// by design and serves no results of its own: it is not trimmed (where
+	// the rule does not stand, the full grid that replaces it is).
+	if coarse(g) && !a.scout {
 		box := g.Box.Clone()
 		var names []string
 		for k := 0; k < a.d; k++ {
