@@ -46,6 +46,7 @@ func (res *Result) Curve(ctx context.Context, k int, fine bool) (*Curve, error) 
 	cv := &Curve{lv: res.marginalMap(k), c: res.centre[k], h: h, mp: res.mapOf(k)}
 	sl := newSlice(res.p.Clone(), []int{k})
 	maxJ := int(s.MaxT / h)
+	em := expm1TableFor(h, maxJ)
 	g := make([]float64, 2*maxJ+1)
 	lo, hi := 0, 0
 	peak := 0.0
@@ -56,8 +57,7 @@ func (res *Result) Curve(ctx context.Context, k int, fine bool) (*Curve, error) 
 			j = -1
 		}
 		for ; j >= -maxJ && j <= maxJ; j += side {
-			t := float64(j) * h
-			sl.val[0] = cv.c + cv.lv.offset(t)
+			sl.val[0] = cv.c + cv.lv.offsetAt(j, em)
 			acc := sliceCoarse
 			if fine {
 				acc = sliceFine
@@ -72,7 +72,7 @@ func (res *Result) Curve(ctx context.Context, k int, fine bool) (*Curve, error) 
 				return nil, err
 			}
 			guess = cen
-			v := math.Exp(lz-res.LogZ) * cv.lv.jac(t)
+			v := math.Exp(lz-res.LogZ) * cv.lv.jacAt(j, em)
 			if math.IsNaN(v) {
 				v = 0
 			}

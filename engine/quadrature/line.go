@@ -21,7 +21,7 @@ func (r *rule) line() error {
 	base := r.v[k]
 	lkk := r.L[k*d+k]
 	off := r.maxJ
-	jl, jr := -min(lv.startIndex(r.h, -1), r.maxJ), min(lv.startIndex(r.h, 1), r.maxJ)
+	jl, jr := -min(lv.startIndex(r.em, -1), r.maxJ), min(lv.startIndex(r.em, 1), r.maxJ)
 	if err := r.evalRange(jl, jr, base, lkk); err != nil {
 		return err
 	}
@@ -106,9 +106,8 @@ func (r *rule) line() error {
 		}
 		r.v[k] = vk
 		r.z[r.perm[k]] = vk
-		t := float64(j) * r.h
 		if !r.noNodes {
-			r.nodes.add(r.z, lv.logW+math.Log(r.h*lv.jac(t)), r.lineLogP[j+off], min(lv.tier, tierOf(j)))
+			r.nodes.add(r.z, lv.logW+math.Log(r.h*lv.jacAt(j, r.em)), r.lineLogP[j+off], min(lv.tier, tierOf(j)))
 		}
 	}
 	for t := range r.ls {
@@ -148,8 +147,7 @@ func (r *rule) evalRange(a, b int, base, lkk float64) error {
 	}
 	ck := r.cols[r.perm[k]][:n]
 	for i := range ck {
-		t := float64(a+i) * r.h
-		u := lv.c + lv.offset(t)
+		u := lv.c + lv.offsetAt(a+i, r.em)
 		r.lineT[a+i+off] = u
 		ck[i] = base + lkk*u
 	}
@@ -160,7 +158,6 @@ func (r *rule) evalRange(a, b int, base, lkk float64) error {
 	r.p.LogDensityBlock(r.cols, out)
 	r.points += n
 	for i, lp := range out {
-		t := float64(a+i) * r.h
 		g := 0.0
 		switch {
 		case math.IsNaN(lp) || math.IsInf(lp, 1):
@@ -168,7 +165,7 @@ func (r *rule) evalRange(a, b int, base, lkk float64) error {
 			out[i] = math.Inf(-1)
 			r.lineBad[a+i+off] = true
 		case !math.IsInf(lp, -1):
-			g = math.Exp(lp-r.ref) * r.h * lv.jac(t)
+			g = math.Exp(lp-r.ref) * r.h * lv.jacAt(a+i, r.em)
 		}
 		r.lineG[a+i+off] = g
 		if g != 0 {

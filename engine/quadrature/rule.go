@@ -45,6 +45,7 @@ type rule struct {
 	ref  float64         // log p at the mode
 	h    float64
 	maxJ int
+	em   *expm1Table // expm1(±j h), for the node maps
 	lv   []level
 	u    []float64   // the current point in u
 	pred [][]float64 // per level, the predicted conditional mode (len d)
@@ -115,6 +116,7 @@ func newRule(ctx context.Context, p target.Density, st Start, s Settings) (*rule
 	r := &rule{ctx: ctx, p: p, d: d, s: s, lay: newLayout(d), perm: append([]int(nil), perm...)}
 	r.h = s.Step
 	r.maxJ = int(math.Floor(s.MaxT/r.h + 1e-9))
+	r.em = expm1TableFor(r.h, r.maxJ)
 	r.maps = make([]transform.Map, d)
 	r.m = make([]float64, d)
 	r.xm = make([]float64, d)
@@ -303,7 +305,7 @@ func (r *rule) axis(k int) error {
 		}
 		for j := (1 - side) / 2 * -1; ; j += side {
 			t := float64(j) * r.h
-			du := lv.offset(t)
+			du := lv.offsetAt(j, r.em)
 			r.u[k] = lv.c + du
 			for a := k + 1; a < r.d; a++ {
 				switch known {
@@ -315,7 +317,7 @@ func (r *rule) axis(k int) error {
 					r.pred[k+1][a] = m1[a] + (m1[a]-m0[a])*(r.u[k]-u1)/(u1-u0)
 				}
 			}
-			wt := r.h * lv.jac(t)
+			wt := r.h * lv.jacAt(j, r.em)
 			child.logW = lv.logW + math.Log(wt)
 			child.tier = min(lv.tier, tierOf(j))
 			if err := r.axis(k + 1); err != nil {
@@ -331,7 +333,7 @@ func (r *rule) axis(k int) error {
 			}
 			addScaled(lv.sum[0], child.sum[0], wt)
 			if k == 0 && r.outer != nil {
-				r.outer[j+r.maxJ] = child.sum[0][0] * lv.jac(t)
+				r.outer[j+r.maxJ] = child.sum[0][0] * lv.jacAt(j, r.em)
 				r.outerLo, r.outerHi = min(r.outerLo, j), max(r.outerHi, j)
 			}
 			if j%2 == 0 {
