@@ -141,14 +141,14 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 	}
 	zn := 0.0
 	for i := 0; i < n; i++ {
-		zn += math.Exp(logW[i] + logP[i] - top)
+		zn += special.Exp(logW[i] + logP[i] - top)
 	}
 	logZn := top + math.Log(zn)
 	// p's own change from the rule of step 2h to the finest (relative).
 	coarseP := 0.0
 	for i := 0; i < n; i++ {
 		if ns.Coarse(i) {
-			coarseP += math.Exp(logW[i] + logP[i] - logZn)
+			coarseP += special.Exp(logW[i] + logP[i] - logZn)
 		}
 	}
 	errP := math.Abs(float64(int(1)<<d)*coarseP - 1)
@@ -162,12 +162,12 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 		if s.Progress != nil && i > 0 && i%progressNodes == 0 {
 			s.Progress(0)
 		}
-		pm[i] = math.Exp(logW[i] + logP[i] - logZn)
+		pm[i] = special.Exp(logW[i] + logP[i] - logZn)
 		valid[i] = finite(ys[i*d:(i+1)*d]) && !math.IsNaN(logJ[i]) && !math.IsInf(logJ[i], 0)
 		if !valid[i] {
 			skipped += pm[i]
 		}
-		cell[i] = math.Exp((logW[i] + logJ[i]) / float64(d))
+		cell[i] = special.Exp((logW[i] + logJ[i]) / float64(d))
 	}
 	r0 := math.Sqrt(special.ChiSquareQuantile(d, 0.95))
 	tol := s.QMassTol
@@ -187,7 +187,7 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 		nearest, nearestM := -1, math.Inf(1)
 		var cover, coverCoarse [2]float64
 		logNorm, halfLogDet := q.LogNorm(), q.LogDet()/2
-		cellScale := math.Exp(-halfLogDet / float64(d)) // the cell side in q's whitened coordinates
+		cellScale := special.Exp(-halfLogDet / float64(d)) // the cell side in q's whitened coordinates
 		for i := 0; i < n; i++ {
 			if s.Progress != nil && i > 0 && i%progressNodes == 0 {
 				s.Progress((float64(qi) + float64(i)/float64(n)) / float64(len(qs)))
@@ -208,7 +208,7 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 			// sqrt(p q) from it (where q's share underflows, the term is
 			// below sqrt(p 1e-308): nothing).
 			if e := logW[i] + lq + logJ[i]; e > -745 {
-				qm := math.Exp(e)
+				qm := special.Exp(e)
 				qmass += qm
 				b := math.Sqrt(m * qm)
 				bhat += b
@@ -283,7 +283,7 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 // spacingIn returns the side of a cube of the volume exp(logVol) (on the
 // fitting scale) in q's whitened coordinates: a node's spacing in q's sds.
 func spacingIn(q *gauss.Prepared, logVol float64, d int) float64 {
-	return math.Exp((logVol - q.LogDet()/2) / float64(d))
+	return special.Exp((logVol - q.LogDet()/2) / float64(d))
 }
 
 // smoothed adds m times the smoothed indicator of q's region (gap from

@@ -4,6 +4,7 @@ import (
 	"math"
 
 	"bellcheck/engine/model"
+	"bellcheck/engine/special"
 	"bellcheck/engine/target"
 )
 
@@ -133,7 +134,7 @@ func (ev *Evaluator) LogDensity(x []float64) float64 {
 		case opLog:
 			r[in.dst] = math.Log(r[in.a])
 		case opExp:
-			r[in.dst] = math.Exp(r[in.a])
+			r[in.dst] = special.Exp(r[in.a])
 		case opLoop:
 			ev.runLoop(int(in.a))
 		default:

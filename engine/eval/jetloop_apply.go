@@ -1,6 +1,10 @@
 package eval
 
-import "math"
+import (
+	"math"
+
+	"bellcheck/engine/special"
+)
 
 // chunkApply writes the jets of op(a, b) over m elements into out.
 func (js *jetSpace) chunkApply(op opcode, k float64, out []float64, a, b jetVec, m int) {
@@ -383,13 +387,13 @@ func (js *jetSpace) addLse(st, x []float64) {
 		return
 	}
 	if v > st[0] {
-		f := math.Exp(st[0] - v) // 0 when the maximum was -Inf
+		f := special.Exp(st[0] - v) // 0 when the maximum was -Inf
 		for i := 1; i < len(st); i++ {
 			st[i] *= f
 		}
 		st[0] = v
 	}
-	w := math.Exp(v - st[0])
+	w := special.Exp(v - st[0])
 	st[1] += w
 	g := x[1 : 1+d]
 	for i := range g {

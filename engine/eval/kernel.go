@@ -1,6 +1,10 @@
 package eval
 
-import "math"
+import (
+	"math"
+
+	"bellcheck/engine/special"
+)
 
 // runKernel applies a kernel to m elements: vs holds the slots (each with at
 // least m elements), ss the scalar operands, off the offset of the first
@@ -122,7 +126,7 @@ func unaryLoop(in *kinstr, d, a []float64) {
 		}
 	case opExp:
 		for i := range d {
-			d[i] = math.Exp(a[i])
+			d[i] = special.Exp(a[i])
 		}
 	case opLog:
 		for i := range d {
@@ -346,14 +350,14 @@ func (st *lseState) add(v []float64) {
 	}
 	var cs float64
 	for _, x := range v {
-		cs += math.Exp(x - cm)
+		cs += special.Exp(x - cm)
 	}
 	switch {
 	case cm > st.m:
-		st.s = st.s*math.Exp(st.m-cm) + cs
+		st.s = st.s*special.Exp(st.m-cm) + cs
 		st.m = cm
 	default:
-		st.s += cs * math.Exp(cm-st.m)
+		st.s += cs * special.Exp(cm-st.m)
 	}
 }
 

@@ -135,14 +135,14 @@ func init() {
 			s := math.Sqrt(a)
 			return s, 0.5 / s, -0.25 / (s * a)
 		})
-	un(opExp, "exp", func(a, _ float64) float64 { return math.Exp(a) },
-		func(a, _ float64) (float64, float64, float64) { e := math.Exp(a); return e, e, e })
+	un(opExp, "exp", func(a, _ float64) float64 { return special.Exp(a) },
+		func(a, _ float64) (float64, float64, float64) { e := special.Exp(a); return e, e, e })
 	un(opLog, "log", func(a, _ float64) float64 { return math.Log(a) },
 		func(a, _ float64) (float64, float64, float64) { r := 1 / a; return math.Log(a), r, -r * r })
 	un(opLog1p, "log1p", func(a, _ float64) float64 { return math.Log1p(a) },
 		func(a, _ float64) (float64, float64, float64) { r := 1 / (1 + a); return math.Log1p(a), r, -r * r })
 	un(opExpm1, "expm1", func(a, _ float64) float64 { return math.Expm1(a) },
-		func(a, _ float64) (float64, float64, float64) { e := math.Exp(a); return math.Expm1(a), e, e })
+		func(a, _ float64) (float64, float64, float64) { e := special.Exp(a); return math.Expm1(a), e, e })
 	un(opAbs, "abs", func(a, _ float64) float64 { return math.Abs(a) },
 		func(a, _ float64) (float64, float64, float64) {
 			switch {
@@ -180,12 +180,12 @@ func init() {
 		})
 	un(opErf, "erf", func(a, _ float64) float64 { return math.Erf(a) },
 		func(a, _ float64) (float64, float64, float64) {
-			g := twoOverSqrtPi * math.Exp(-a*a)
+			g := twoOverSqrtPi * special.Exp(-a*a)
 			return math.Erf(a), g, -2 * a * g
 		})
 	un(opErfc, "erfc", func(a, _ float64) float64 { return math.Erfc(a) },
 		func(a, _ float64) (float64, float64, float64) {
-			g := twoOverSqrtPi * math.Exp(-a*a)
+			g := twoOverSqrtPi * special.Exp(-a*a)
 			return math.Erfc(a), -g, 2 * a * g
 		})
 	un(opLgamma, "lgamma", func(a, _ float64) float64 { return special.Lgamma(a) },
@@ -266,7 +266,7 @@ func init() {
 			if math.IsInf(f, -1) {
 				return f, 0, 0, 0, 0, 0
 			}
-			wa, wb := math.Exp(a-f), math.Exp(b-f)
+			wa, wb := special.Exp(a-f), special.Exp(b-f)
 			w := wa * wb
 			return f, wa, wb, w, -w, w
 		})
@@ -340,7 +340,7 @@ func lse2(a, b float64) float64 {
 	if math.IsInf(m, 0) || m != m {
 		return m // both -Inf, one +Inf, or NaN
 	}
-	return m + math.Log1p(math.Exp(-math.Abs(a-b)))
+	return m + math.Log1p(special.Exp(-math.Abs(a-b)))
 }
 
 func xlogy(a, b, _ float64) float64 {
@@ -390,7 +390,7 @@ func binomLogit(eta, k, nk float64) float64 {
 		return eta
 	}
 	ae := math.Abs(eta)
-	s := math.Log1p(math.Exp(-ae))
+	s := math.Log1p(special.Exp(-ae))
 	w := k
 	if eta > 0 {
 		w = nk
@@ -410,7 +410,7 @@ func binomLogitPartials(eta, k, nk float64) (f, f1, f2 float64) {
 		return eta, eta, eta
 	}
 	ae := math.Abs(eta)
-	e := math.Exp(-ae)
+	e := special.Exp(-ae)
 	s := math.Log1p(e)
 	hi := 1 / (1 + e)      // logistic(|eta|)
 	lo := e * hi           // logistic(-|eta|)

@@ -3,6 +3,8 @@ package quadrature
 import (
 	"fmt"
 	"math"
+
+	"bellcheck/engine/special"
 )
 
 // lineChunk is the number of nodes added at a time when a line is extended.
@@ -165,7 +167,7 @@ func (r *rule) evalRange(a, b int, base, lkk float64) error {
 			out[i] = math.Inf(-1)
 			r.lineBad[a+i+off] = true
 		case !math.IsInf(lp, -1):
-			g = math.Exp(lp-r.ref) * r.h * lv.jacAt(a+i, r.em)
+			g = special.Exp(lp-r.ref) * r.h * lv.jacAt(a+i, r.em)
 		}
 		r.lineG[a+i+off] = g
 		if g != 0 {

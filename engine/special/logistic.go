@@ -6,9 +6,9 @@ import "math"
 // Logistic(x) * (1 - Logistic(x)).
 func Logistic(x float64) float64 {
 	if x >= 0 {
-		return 1 / (1 + math.Exp(-x))
+		return 1 / (1 + Exp(-x))
 	}
-	e := math.Exp(x)
+	e := Exp(x)
 	return e / (1 + e)
 }
 
@@ -19,11 +19,11 @@ func Logistic(x float64) float64 {
 func Log1pExp(x float64) float64 {
 	switch {
 	case x <= -37:
-		return math.Exp(x)
+		return Exp(x)
 	case x <= 18:
-		return math.Log1p(math.Exp(x))
+		return math.Log1p(Exp(x))
 	case x <= 33.3:
-		return x + math.Exp(-x)
+		return x + Exp(-x)
 	default:
 		return x // also +Inf and NaN
 	}
@@ -52,7 +52,7 @@ func LogSumExp(xs []float64) float64 {
 			seen = true
 			continue
 		}
-		s += math.Exp(x - m)
+		s += Exp(x - m)
 	}
 	return m + math.Log1p(s)
 }

@@ -77,7 +77,7 @@ func (m Map) Check() error { return m.Scale.Check(m.Lo, m.Hi) }
 func (m Map) ToOriginal(z float64) float64 {
 	switch m.Scale {
 	case Log:
-		return m.Lo + math.Exp(z)
+		return m.Lo + special.Exp(z)
 	case Logit:
 		// Measure from the nearer bound so that x keeps its precision.
 		if z <= 0 {
@@ -111,7 +111,7 @@ func (m Map) FromOriginal(x float64) float64 {
 func (m Map) Derivs(z float64) (x, dx, d2x, logJ, dlogJ, d2logJ float64) {
 	switch m.Scale {
 	case Log:
-		e := math.Exp(z)
+		e := special.Exp(z)
 		return m.Lo + e, e, e, z, 1, 0
 	case Logit:
 		w := m.Hi - m.Lo
