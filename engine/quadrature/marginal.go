@@ -59,6 +59,7 @@ func (res *Result) sliceSettings(sl *slice, acc sliceAccuracy) Settings {
 	s.Tol = math.Max(s.Tol, sliceTol)
 	if acc == slicePlot {
 		s.NewtonSteps = 2
+		s.keepMaps = true
 	}
 	s.Order = sliceOrder(res.Order, sl.free)
 	s.Maps = nil

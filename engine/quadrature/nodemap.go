@@ -145,6 +145,17 @@ const (
 // exponentially. f0 is log p at the centre.
 func (r *rule) chooseMap(k int, sd float64) {
 	lv := &r.lv[k]
+	if r.s.keepMaps && lv.chosen {
+		// A plot's slice: the map's shape chosen on the axis's first line
+		// (through the centre) serves its other lines, rescaled.
+		lv.width = r.s.Width
+		if lv.betaL == 0 && lv.betaR == 0 {
+			lv.width = linearWidth
+		}
+		lv.w = lv.width * sd
+		return
+	}
+	lv.chosen = true
 	lv.betaL, lv.betaR = 0.5, 0.5
 	lv.w = r.s.Width * sd
 	lv.width = r.s.Width

@@ -19,6 +19,7 @@ type level struct {
 	slope        []float64 // d mode_a / d u_k for a > k
 	c, w         float64   // the node map u_k = c + w phi(t) (see offset)
 	betaL, betaR float64
+	chosen       bool    // chooseMap has probed this axis (see Settings.keepMaps)
 	width        float64 // w / sd
 	logW         float64 // log of the outer axes' weights (with det L)
 	tier         int     // lowest tier of the outer indices

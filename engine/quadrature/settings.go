@@ -55,6 +55,10 @@ type Settings struct {
 	// slices of marginals and plots too: work of no known share, for a
 	// caller that must pause often (the page yields to the browser there).
 	Tick func()
+	// keepMaps has each axis's node map keep the shape (sinh or linear on
+	// each side) chosen on its first line, rescaled on the others: the
+	// plots' slices, where the probes were a third of the evaluations.
+	keepMaps bool
 	// lines counts the lines of nodes of a rule and of every slice of its
 	// result, shared by their settings' copies (a slice may have a single
 	// line), for Tick.
