@@ -57,9 +57,9 @@ func (res *Result) sliceSettings(sl *slice, acc sliceAccuracy) Settings {
 	// density's share is negligible, not where the moments' are.
 	s.MomentTol = 1
 	s.Tol = math.Max(s.Tol, sliceTol)
+	s.keepMaps = true
 	if acc == slicePlot {
 		s.NewtonSteps = 2
-		s.keepMaps = true
 	}
 	s.Order = sliceOrder(res.Order, sl.free)
 	s.Maps = nil

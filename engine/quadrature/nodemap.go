@@ -146,7 +146,7 @@ const (
 func (r *rule) chooseMap(k int, sd float64) {
 	lv := &r.lv[k]
 	if r.s.keepMaps && lv.chosen {
-		// A plot's slice: the map's shape chosen on the axis's first line
+		// A slice: the map's shape chosen on the axis's first line
 		// (through the centre) serves its other lines, rescaled.
 		lv.width = r.s.Width
 		if lv.betaL == 0 && lv.betaR == 0 {
