@@ -4,6 +4,8 @@ import (
 	"context"
 	"math"
 	"sort"
+
+	"bellcheck/engine/special"
 )
 
 // Peak is a local maximum of log p on the grid with the share of the mass
@@ -144,7 +146,7 @@ func (g *Grid) Peaks(ctx context.Context, progress func(float64)) ([]Peak, error
 		for j := int32(i); parent[j] != r; {
 			j, parent[j] = parent[j], r
 		}
-		m := w[i] * math.Exp(v-g.Max)
+		m := w[i] * special.Exp(v-g.Max)
 		masses[r] += m
 		total += m
 	}

@@ -4,6 +4,7 @@ import (
 	"context"
 	"math"
 
+	"bellcheck/engine/special"
 	"bellcheck/engine/transform"
 )
 
@@ -259,7 +260,7 @@ func (g *Grid) summarise(ctx context.Context, free [][2]bool, progress func(floa
 				e[j], lp[j] = 0, 0
 				continue
 			}
-			e[j] = math.Exp(s)
+			e[j] = special.Exp(s)
 			lp[j] = s
 		}
 		full.addLine(ix, e, lp)

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"math"
 
+	"bellcheck/engine/special"
 	"bellcheck/engine/transform"
 )
 
@@ -72,7 +73,7 @@ func (res *Result) Curve(ctx context.Context, k int, fine bool) (*Curve, error) 
 				return nil, err
 			}
 			guess = cen
-			v := math.Exp(lz-res.LogZ) * cv.lv.jacAt(j, em)
+			v := special.Exp(lz-res.LogZ) * cv.lv.jacAt(j, em)
 			if math.IsNaN(v) {
 				v = 0
 			}
@@ -175,7 +176,7 @@ func (cv *Curve) Density(xs []float64) []float64 {
 		}
 		// Share per unit t to density in z, then in x; the interpolant's
 		// ringing far out (of the order of the rule's error) is cut at 0.
-		v := gt / cv.lv.jac(t) / math.Exp(cv.mp.LogJacobian(z))
+		v := gt / cv.lv.jac(t) / special.Exp(cv.mp.LogJacobian(z))
 		if v > 0 && !math.IsInf(v, 0) {
 			out[i] = v
 		}

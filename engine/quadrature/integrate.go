@@ -4,6 +4,7 @@ import (
 	"context"
 	"math"
 
+	"bellcheck/engine/special"
 	"bellcheck/engine/target"
 )
 
@@ -250,7 +251,7 @@ func (r *rule) boundRounding() float64 {
 	}
 	var num, den float64
 	for i := range n.logW {
-		w := math.Exp(n.logW[i] + n.logP[i] - top)
+		w := special.Exp(n.logW[i] + n.logP[i] - top)
 		den += w
 		worst := 0.0
 		for a := 0; a < d; a++ {

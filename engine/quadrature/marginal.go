@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"math"
 
+	"bellcheck/engine/special"
 	"bellcheck/engine/transform"
 )
 
@@ -172,7 +173,7 @@ func (res *Result) Marginal(ctx context.Context, k int, xs []float64) ([]float64
 			return nil, err
 		}
 		guess = c
-		out[i] = math.Exp(lz - res.LogZ - mp.LogJacobian(z))
+		out[i] = special.Exp(lz - res.LogZ - mp.LogJacobian(z))
 		if math.IsInf(out[i], 1) {
 			out[i] = math.NaN() // not resolved at this point: left out
 		}
@@ -208,7 +209,7 @@ func (res *Result) Pair(ctx context.Context, i, j int, xs, ys []float64) ([]floa
 				return nil, err
 			}
 			guess = c
-			out[a*len(ys)+b] = math.Exp(lz - res.LogZ - mi.LogJacobian(zi) - mj.LogJacobian(zj))
+			out[a*len(ys)+b] = special.Exp(lz - res.LogZ - mi.LogJacobian(zi) - mj.LogJacobian(zj))
 		}
 	}
 	return out, nil

@@ -1,6 +1,10 @@
 package quadrature
 
-import "math"
+import (
+	"math"
+
+	"bellcheck/engine/special"
+)
 
 // MomentsOf returns the moments of y = f(z) (len(y) = Dim) over the node
 // set: means, covariances, skewness and excess kurtosis, with error
@@ -35,7 +39,7 @@ func (res *Result) MomentsOf(f func(z, y []float64)) Moments {
 		}
 	}
 	for i := 0; i < n.Len(); i++ {
-		w := math.Exp(n.logW[i] + n.logP[i] - top)
+		w := special.Exp(n.logW[i] + n.logP[i] - top)
 		if w == 0 {
 			continue
 		}

@@ -1,6 +1,10 @@
 package quadrature
 
-import "math"
+import (
+	"math"
+
+	"bellcheck/engine/special"
+)
 
 // endCheck decides whether the walk along axis k ends at the node just
 // added (|t| = at), whose watched components are cur (those of the node
@@ -33,7 +37,7 @@ func (r *rule) endCheck(k int, cur, prev, peak []float64, at float64, first bool
 		}
 		return cur[c] / prev[c]
 	}
-	qMin := math.Exp(-minRate * r.h)
+	qMin := special.Exp(-minRate * r.h)
 	zSmall := cur[0] <= r.s.Tol*peak[0] && !math.IsInf(cur[0], 1) && (first || cur[0] <= prev[0])
 	if !atMax {
 		if !zSmall {
