@@ -2,6 +2,8 @@ package ep
 
 import (
 	"math"
+
+	"bellcheck/engine/special"
 )
 
 // grow returns a slice of n values backed by *buf.
@@ -208,6 +210,10 @@ func (r *runner) tiltedNAt(st *site, rl ruleNd, mb, L, mt, ct []float64) (logZ f
 	lnorm := -0.5 * (2 * sumLogDiag(r.cav.lcov, d))
 	lnorm += sumLogDiag(L, d)
 	mx := math.Inf(-1)
+	// The cavity's mean and precision, read once (the loops below run over
+	// every node of every site's rule: a sixth of the 3-D sensor's
+	// analysis in WebAssembly, where each field read through r is a load).
+	mean, prec := r.cav.mean[:d], r.cav.prec[:d*d]
 	var dx [4]float64
 	for k, l := range lf {
 		if math.IsNaN(l) {
@@ -215,16 +221,22 @@ func (r *runner) tiltedNAt(st *site, rl ruleNd, mb, L, mt, ct []float64) (logZ f
 			l = math.Inf(-1)
 		}
 		z := rl.z[k*d : (k+1)*d]
-		for i := 0; i < d; i++ {
-			dx[i] = xs[k*d+i] - r.cav.mean[i]
+		x := xs[k*d : (k+1)*d]
+		zz := 0.0
+		for i := range d {
+			dx[i] = x[i] - mean[i]
+			zz += z[i] * z[i]
 		}
 		qf := 0.0
-		for i := 0; i < d; i++ {
-			for j := 0; j < d; j++ {
-				qf += dx[i] * r.cav.prec[i*d+j] * dx[j]
+		for i := range d {
+			row := prec[i*d : i*d+d]
+			s := 0.0
+			for j := range d {
+				s += row[j] * dx[j]
 			}
+			qf += dx[i] * s
 		}
-		lf[k] = rl.lw[k] + l + lnorm - qf/2 + dot(z, z)/2
+		lf[k] = rl.lw[k] + l + lnorm - qf/2 + zz/2
 		mx = math.Max(mx, lf[k])
 	}
 	if math.IsInf(mx, 0) || math.IsNaN(mx) {
@@ -234,21 +246,27 @@ func (r *runner) tiltedNAt(st *site, rl ruleNd, mb, L, mt, ct []float64) (logZ f
 	var cz [16]float64
 	z0 := 0.0
 	for k, l := range lf {
-		e := math.Exp(l - mx)
+		e := special.Exp(l - mx)
 		lf[k] = e
 		z0 += e
-		for i := 0; i < d; i++ {
-			mz[i] += e * rl.z[k*d+i]
+		z := rl.z[k*d : (k+1)*d]
+		for i := range d {
+			mz[i] += e * z[i]
 		}
 	}
 	for i := 0; i < d; i++ {
 		mz[i] /= z0
 	}
+	var zc [4]float64
 	for k, e := range lf {
 		z := rl.z[k*d : (k+1)*d]
-		for i := 0; i < d; i++ {
+		for i := range d {
+			zc[i] = z[i] - mz[i]
+		}
+		for i := range d {
+			ezi := e * zc[i]
 			for j := 0; j <= i; j++ {
-				cz[i*d+j] += e * (z[i] - mz[i]) * (z[j] - mz[j])
+				cz[i*d+j] += ezi * zc[j]
 			}
 		}
 	}
