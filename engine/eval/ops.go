@@ -340,7 +340,7 @@ func lse2(a, b float64) float64 {
 	if math.IsInf(m, 0) || m != m {
 		return m // both -Inf, one +Inf, or NaN
 	}
-	return m + math.Log1p(special.Exp(-math.Abs(a-b)))
+	return m + special.Log1pExpNeg(math.Abs(a-b))
 }
 
 func xlogy(a, b, _ float64) float64 {
@@ -390,7 +390,7 @@ func binomLogit(eta, k, nk float64) float64 {
 		return eta
 	}
 	ae := math.Abs(eta)
-	s := math.Log1p(special.Exp(-ae))
+	s := special.Log1pExpNeg(ae)
 	w := k
 	if eta > 0 {
 		w = nk
@@ -411,7 +411,7 @@ func binomLogitPartials(eta, k, nk float64) (f, f1, f2 float64) {
 	}
 	ae := math.Abs(eta)
 	e := special.Exp(-ae)
-	s := math.Log1p(e)
+	s := special.Log1pUnit(e)
 	hi := 1 / (1 + e)      // logistic(|eta|)
 	lo := e * hi           // logistic(-|eta|)
 	w, sp, sm := k, lo, hi // sp = logistic(eta), sm = logistic(-eta)

@@ -20,6 +20,8 @@ func Log1pExp(x float64) float64 {
 	switch {
 	case x <= -37:
 		return Exp(x)
+	case x <= 0:
+		return Log1pUnit(Exp(x))
 	case x <= 18:
 		return math.Log1p(Exp(x))
 	case x <= 33.3:
