@@ -210,9 +210,9 @@ func testOverLimitLinks(t *testing.T, b *browser, srv *siteServer) {
 		facts string
 	}{
 		// engine.MaxAxisPoints(2) is 1501; with the defaults the nested
-		// rule gives the exact results and the grid only scouts, at 121
+		// rule gives the exact results and the grid only scouts, at 81
 		// points per axis in 2-D (engine's scoutPoints).
-		{"points", share.State{Model: two, Params: []engine.ParamOptions{{Points: 4001}}}, "1 to 1501", "121 points"},
+		{"points", share.State{Model: two, Params: []engine.ParamOptions{{Points: 4001}}}, "1 to 1501", "81 points"},
 		{"huge box", share.State{Model: one, Params: []engine.ParamOptions{{Lo: f(-1e308), Hi: f(1e308)}}}, "wider than", "a ∈"},
 		{"narrow box", share.State{Model: one, Params: []engine.ParamOptions{{Lo: f(1), Hi: f(1 + 1e-15)}}}, "too narrow", "a ∈"},
 	} {
