@@ -68,15 +68,22 @@ func TestExpTable(t *testing.T) {
 		fmt.Fprintf(&b, "\t\t%v,\n", hexFloat(relErr[j]))
 	}
 	b.WriteString("\t}\n)\n")
+	checkGenerated(t, "exp_table.go", b.String())
+}
+
+// checkGenerated checks that file holds text, or writes it there when
+// BELLCHECK_WRITE_EXP_TABLE is set.
+func checkGenerated(t *testing.T, file, text string) {
+	t.Helper()
 	if os.Getenv("BELLCHECK_WRITE_EXP_TABLE") != "" {
-		if err := os.WriteFile("exp_table.go", []byte(b.String()), 0o644); err != nil {
+		if err := os.WriteFile(file, []byte(text), 0o644); err != nil {
 			t.Fatal(err)
 		}
 		return
 	}
-	got, err := os.ReadFile("exp_table.go")
-	if err != nil || string(got) != b.String() {
-		t.Errorf("exp_table.go differs from its recomputation (err %v): BELLCHECK_WRITE_EXP_TABLE=1 rewrites it", err)
+	got, err := os.ReadFile(file)
+	if err != nil || string(got) != text {
+		t.Errorf("%s differs from its recomputation (err %v): BELLCHECK_WRITE_EXP_TABLE=1 rewrites it", file, err)
 	}
 }
 
@@ -115,16 +122,7 @@ func TestLogTable(t *testing.T) {
 		b.WriteString("\t}\n")
 	}
 	b.WriteString(")\n")
-	if os.Getenv("BELLCHECK_WRITE_EXP_TABLE") != "" {
-		if err := os.WriteFile("log_table.go", []byte(b.String()), 0o644); err != nil {
-			t.Fatal(err)
-		}
-		return
-	}
-	got, err := os.ReadFile("log_table.go")
-	if err != nil || string(got) != b.String() {
-		t.Errorf("log_table.go differs from its recomputation (err %v): BELLCHECK_WRITE_EXP_TABLE=1 rewrites it", err)
-	}
+	checkGenerated(t, "log_table.go", b.String())
 }
 
 // TestLog1pExpNegAgainstMath: Log1pExpNeg against Go's math.Log1p (an
