@@ -233,16 +233,34 @@ func (cv *Curve) Quantiles(probs []float64) []float64 {
 }
 
 // inverse returns the t in [tlo - 8, thi + 8] where offset(t) = u (offset
-// is increasing), by bisection.
+// is increasing), by Newton's method kept inside a bracket that each step
+// narrows (a bisection step where Newton's leaves it): a handful of
+// steps where bisection to 1e-13 took about 45, each an offset with two
+// exponentials (a tenth of the 2-D dose example's plots).
 func (lv *level) inverse(u, tlo, thi float64) float64 {
 	a, b := tlo-8, thi+8
-	for it := 0; it < 100 && b-a > 1e-13*(1+math.Abs(a)); it++ {
-		m := (a + b) / 2
-		if lv.offset(m) < u {
-			a = m
-		} else {
-			b = m
-		}
+	t := u / lv.w // the linear map's inverse, and sinh's near the centre
+	if lv.betaL == 0.5 && lv.betaR == 0.5 {
+		t = math.Asinh(u / lv.w)
 	}
-	return (a + b) / 2
+	if !(t > a && t < b) {
+		t = (a + b) / 2
+	}
+	for it := 0; it < 100; it++ {
+		f := lv.offset(t) - u
+		if f < 0 {
+			a = t
+		} else {
+			b = t
+		}
+		next := t - f/lv.jac(t)
+		if !(next > a && next < b) {
+			next = (a + b) / 2
+		}
+		if math.Abs(next-t) <= 1e-15*(1+math.Abs(t)) || b-a <= 1e-13*(1+math.Abs(a)) {
+			return next
+		}
+		t = next
+	}
+	return t
 }
