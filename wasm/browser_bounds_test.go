@@ -81,9 +81,13 @@ func slowModel() share.State {
 		"sum(ld_student(y, 4, m, s)) + ld_normal(m, 0, 10) + ld_gamma(s, 2, 1)\n"
 	// A Student-t likelihood: a normal one folds into a few sums of the
 	// data, and its analysis ended within half a second on a quiet machine
-	// (Stop and the API's bound then had nothing to stop). At 501 points a
-	// side it is forecast at about 6 s in the page, under the page's 30 s.
-	return share.State{Model: src, Params: []engine.ParamOptions{{Points: 501}, {Points: 501}}}
+	// (Stop and the API's bound then had nothing to stop). At 301 points a
+	// side it is forecast at 2 to 16 s in the page, under the page's 30 s:
+	// the forecast's time per point, taken just after the page loads (V8's
+	// baseline tier), swung from about 20 to 173 us between runs on a
+	// loaded 2-core machine, and at 501 a side the page now and then
+	// refused the analysis as too long, with no Stop to press.
+	return share.State{Model: src, Params: []engine.ParamOptions{{Points: 301}, {Points: 301}}}
 }
 
 // testStopLongAnalysis: a long analysis shows a Stop button beside its
