@@ -160,7 +160,7 @@ func apiString(arg, name string) (string, error) {
 func apiBounded(m *model.Model, opts engine.Options, limit time.Duration) (*engine.Result, error) {
 	ctx, cancel := context.Background(), context.CancelFunc(func() {})
 	if limit > 0 {
-		est, err := engine.EstimateWork(ctx, m, opts)
+		est, err := forecastWork(ctx, m, opts, limit)
 		if err != nil {
 			return nil, err
 		}

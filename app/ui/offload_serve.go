@@ -91,7 +91,7 @@ func (s *analysisServer) run(ctx context.Context, gen uint64, req workRequest, a
 	if !ok {
 		began := time.Now()
 		var err error
-		est, err = engine.EstimateWork(ctx, m, req.Options)
+		est, err = forecastWork(ctx, m, req.Options, req.MaxTime)
 		r.EstimateTime = time.Since(began)
 		if ctx.Err() != nil {
 			return

@@ -1,6 +1,7 @@
 package ui
 
 import (
+	"context"
 	"errors"
 	"strings"
 	"testing"
@@ -138,5 +139,41 @@ func TestWorkIdentity(t *testing.T) {
 	}
 	if workIdentity(nil, "", engine.Options{}) != "" {
 		t.Error("no model has an identity")
+	}
+}
+
+// TestRemeasured: a forecast within the limit is taken at once; one over
+// it is measured again up to twice and the smallest stands, so a first
+// measurement in a slow tier does not refuse the work alone; a failed
+// second measurement keeps the first.
+func TestRemeasured(t *testing.T) {
+	ctx := context.Background()
+	seq := func(totals ...time.Duration) (func() (engine.Estimate, error), *int) {
+		calls := new(int)
+		return func() (engine.Estimate, error) {
+			i := min(*calls, len(totals)-1)
+			*calls++
+			if totals[i] < 0 {
+				return engine.Estimate{}, errors.New("no measurement")
+			}
+			return engine.Estimate{Total: totals[i]}, nil
+		}, calls
+	}
+	for _, c := range []struct {
+		name   string
+		totals []time.Duration
+		want   time.Duration
+		calls  int
+	}{
+		{"within", []time.Duration{5 * time.Second}, 5 * time.Second, 1},
+		{"faster the second time", []time.Duration{56 * time.Second, 6 * time.Second}, 6 * time.Second, 2},
+		{"over every time", []time.Duration{56 * time.Second, 88 * time.Second, 40 * time.Second}, 40 * time.Second, 3},
+		{"second fails", []time.Duration{56 * time.Second, -1}, 56 * time.Second, 2},
+	} {
+		measure, calls := seq(c.totals...)
+		est, err := remeasured(ctx, 30*time.Second, measure)
+		if err != nil || est.Total != c.want || *calls != c.calls {
+			t.Errorf("%s: %v after %d measurements (err %v), want %v after %d", c.name, est.Total, *calls, err, c.want, c.calls)
+		}
 	}
 }
