@@ -78,7 +78,8 @@ type Settings struct {
 	// doubled and the sweeps go on (default 1e-9).
 	QuadTol float64
 	// Start is the point where the Gaussian part is expanded and, when the
-	// Gaussian part alone is not a proper Gaussian, where the sites start
+	// Gaussian part alone is not a proper Gaussian or Start lies more than
+	// six of its standard deviations from its mean, where the sites start
 	// as the factors' second-order expansions (the mode is a good start).
 	// Zero when nil.
 	Start []float64

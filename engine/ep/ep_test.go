@@ -202,11 +202,19 @@ const probitSrc = "x = [-2.1, -1.4, -0.9, -0.3, 0.2, 0.6, 1.1, 1.5, 2.2, 2.8, -0
 const clutterSrc = "y = [2.9, 1.7, 3.4, -4.1, 2.2, 7.5, 2.6, 0.4, 3.1, -1.8, 2.4, 5.9, 1.9, 3.6, -6.2]\n" +
 	"-th^2/200 + sum(log(0.5*exp(-(y - th)^2/2)/sqrt(2*pi) + 0.5*exp(-y^2/20)/sqrt(20*pi)))"
 
+// poissonSrc is a Poisson regression with a log link and normal priors
+// (invented data). Its terms k*(a + b*x) are linear in the parameters and
+// fold into the Gaussian part, whose mean alone lies near a = 470, where
+// every other factor, -exp(a + b*x), underflows: the sites must start at
+// the factors' expansions, not flat.
+const poissonSrc = "x = [-1, -0.5, 0, 0.5, 1, 1.5]\nk = [2, 3, 6, 8, 14, 19]\n" +
+	"sum(ld_poisson(k, exp(a + b*x))) + ld_normal(a, 0, 3) + ld_normal(b, 0, 1)"
+
 // TestFixedPointMoments: at convergence every factor's tilted moments equal
 // the approximation's (EP's fixed-point condition, Minka 2001 section 3.2),
 // checked to 1e-8 by an independent quadrature.
 func TestFixedPointMoments(t *testing.T) {
-	for _, src := range []string{probitSrc, clutterSrc} {
+	for _, src := range []string{probitSrc, clutterSrc, poissonSrc} {
 		fs, _ := splitModel(t, src)
 		res := run(t, fs, &Settings{Tol: 1e-13, MaxSweeps: 500})
 		if !res.Converged {
@@ -235,6 +243,7 @@ func TestProbitAndClutter(t *testing.T) {
 	}{
 		{"probit", probitSrc, []float64{-10, -10}, []float64{10, 10}, 0.1, 0.1, 0.05},
 		{"clutter", clutterSrc, []float64{-60}, []float64{60}, 0.1, 0.1, 0.1},
+		{"poisson", poissonSrc, []float64{-2, -2}, []float64{4, 4}, 0.01, 0.02, 0.01},
 	}
 	for _, c := range cases {
 		fs, ev := splitModel(t, c.src)

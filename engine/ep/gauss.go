@@ -113,3 +113,21 @@ func (g *gaussian) moments() bool {
 	}
 	return !math.IsNaN(g.phi) && !math.IsInf(g.phi, 0)
 }
+
+// nearReach is the Mahalanobis distance from the Gaussian part's mean
+// beyond which a start point counts as far out (six standard deviations:
+// the part's density there is below e^-18 of its peak).
+const nearReach = 6
+
+// near reports whether x lies within nearReach of g's mean in g's own
+// metric; g's moments must be current.
+func (g *gaussian) near(x []float64) bool {
+	d := g.d
+	m2 := 0.0
+	for j := 0; j < d; j++ {
+		for k := 0; k < d; k++ {
+			m2 += (x[j] - g.mean[j]) * g.prec[j*d+k] * (x[k] - g.mean[k])
+		}
+	}
+	return m2 <= nearReach*nearReach
+}

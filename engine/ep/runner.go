@@ -148,14 +148,18 @@ func newRunner(fs Factors, s Settings) (*runner, error) {
 	r.q.copyFrom(r.gauss)
 	copy(r.q.prec, r.gauss.prec)
 	copy(r.q.lin, r.gauss.lin)
-	if r.q.moments() {
+	proper := r.q.moments()
+	if proper && r.q.near(x0) {
 		return r, nil
 	}
-	if len(r.sites) == 1 {
+	if !proper && len(r.sites) == 1 {
 		return nil, ErrSingleFactor
 	}
-	// The Gaussian part is not proper: start every site at its factor's
-	// second-order expansion at x0 where that is concave.
+	// The Gaussian part is not proper, or the start lies far out in it
+	// (where the factors' linear terms fold into the Gaussian part, as a
+	// Poisson likelihood's k log(rate), its mean can sit where every other
+	// factor underflows): start every site at its factor's second-order
+	// expansion at x0 where that is concave.
 	for k := range r.sites {
 		st := &r.sites[k]
 		v := fs.LogDerivs(st.factor, x0, g, h)
