@@ -43,6 +43,12 @@ type builder struct {
 	sums  map[int32]int32 // sum node of each vector summed so far
 	err   error
 	pos   model.Pos // of the expression being built, for messages
+	// perElement keeps a sum over a vector of the parameters as one
+	// reduction of its elements, not distributed over its terms nor folded
+	// into sufficient statistics: SplitFactors then finds one factor per
+	// data element (EP's sites), where the evaluator's rewrites would leave
+	// a few factors of all the data each.
+	perElement bool
 }
 
 func newBuilder() *builder {
@@ -402,6 +408,9 @@ func (b *builder) sum1(v int32) int32 {
 	n := float64(x.n)
 	if x.cst {
 		return b.constant(constSum(x.vec))
+	}
+	if b.perElement {
+		return b.reduce(opSum, v)
 	}
 	// part is the sum of an operand of x: a vector's sum, or n times a scalar.
 	part := func(id int32) int32 {

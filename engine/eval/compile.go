@@ -10,14 +10,16 @@ import (
 // buildDensity checks that m is a checked model of 1 to 4 parameters and
 // builds its log-density (as written: a cost is not yet negated) into a new
 // compiler's graph, returning the compiler and the density's node.
-func buildDensity(m *model.Model) (*compiler, int32, error) {
+func buildDensity(m *model.Model, perElement bool) (*compiler, int32, error) {
 	if m == nil || m.Density == nil {
 		return nil, 0, &Error{Msg: "model has no density statement", Err: ErrNotChecked}
 	}
 	if dim := len(m.Params); dim < 1 || dim > model.MaxParams {
 		return nil, 0, &Error{Msg: "a model needs 1 to 4 parameters", Err: ErrTooManyParams}
 	}
-	c := &compiler{m: m, b: newBuilder(), defs: make([]int32, len(m.Defs)), state: make([]uint8, len(m.Defs)),
+	b0 := newBuilder()
+	b0.perElement = perElement
+	c := &compiler{m: m, b: b0, defs: make([]int32, len(m.Defs)), state: make([]uint8, len(m.Defs)),
 		blocks: map[*model.BlockStmt][]int32{}}
 	root := c.expr(m.Density)
 	b := c.b
@@ -36,7 +38,7 @@ func buildDensity(m *model.Model) (*compiler, int32, error) {
 // always returns the log-density. Where a parameter has a support [lo, hi]
 // the log-density is -Inf outside it.
 func Compile(m *model.Model) (*Evaluator, error) {
-	c, root, err := buildDensity(m)
+	c, root, err := buildDensity(m, false)
 	if err != nil {
 		return nil, err
 	}

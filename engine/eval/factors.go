@@ -17,7 +17,9 @@ import (
 // element; any other term is one factor, evaluated by a program compiled
 // for it alone. A support guard on a scalar (a parameter's support, a scale
 // that must be positive) is split off as a factor of its own: the guarded
-// value plus the guard's 0 or -Inf. Constant terms go to Const.
+// value plus the guard's 0 or -Inf. Constant terms go to Const. The graph
+// is built without the evaluator's rewrites of sums (builder.perElement),
+// so that one observation is one factor.
 //
 // Two properties are found from the graph, exactly:
 //   - a factor is quadratic when it is a polynomial of degree at most 2 in
@@ -76,7 +78,7 @@ type jetVal struct {
 // outside), so their sum is the log-density that Compile's evaluator
 // returns, up to rounding.
 func SplitFactors(m *model.Model) (*Factors, error) {
-	c, root, err := buildDensity(m)
+	c, root, err := buildDensity(m, true)
 	if err != nil {
 		return nil, err
 	}
