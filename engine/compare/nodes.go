@@ -296,7 +296,7 @@ func smoothed(cover *[2]float64, m, gap, h float64) {
 		case gap < -smoothReach*s:
 			cover[w] += m
 		default:
-			cover[w] += m * 0.5 * math.Erfc(gap/(s*math.Sqrt2))
+			cover[w] += m * special.NormalUpper(gap/s)
 		}
 	}
 }
