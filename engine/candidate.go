@@ -109,7 +109,7 @@ func CheckCandidate(c Candidate, params []string) error {
 		}
 		for j := 0; j < i; j++ {
 			a, b := c.Cov[i][j], c.Cov[j][i]
-			if math.Abs(a-b) > 1e-12*math.Max(math.Abs(a), math.Abs(b)) {
+			if math.Abs(a-b) > 1e-12*max(math.Abs(a), math.Abs(b)) {
 				return fmt.Errorf("candidate %s: the covariance is not symmetric: %v for (%s, %s) but %v for (%s, %s)", c.Name, a, params[i], params[j], b, params[j], params[i])
 			}
 			if r := a / math.Sqrt(c.Cov[i][i]*c.Cov[j][j]); !(math.Abs(r) < 1) {

@@ -86,7 +86,7 @@ func generalisedEigenRange(a, b [][]float64) (lo, hi float64, ok bool) {
 	vals := es.Values(nil)
 	lo, hi = math.Inf(1), math.Inf(-1)
 	for _, v := range vals {
-		lo, hi = math.Min(lo, v), math.Max(hi, v)
+		lo, hi = min(lo, v), max(hi, v)
 	}
 	return lo, hi, finite(lo) && finite(hi)
 }

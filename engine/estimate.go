@@ -132,7 +132,7 @@ func EstimateWork(ctx context.Context, m *model.Model, opts Options) (Estimate, 
 		ev.LogDensityBlock(sliceCols(cols, n), out[:n])
 		spent = min(spent, time.Since(began))
 	}
-	per := time.Duration(math.Max(1, float64(spent)/float64(n)))
+	per := time.Duration(max(1, float64(spent)/float64(n)))
 	return Estimate{Points: points, PerPoint: per, Total: forecast(d, points, per)}, nil
 }
 
@@ -140,7 +140,7 @@ func EstimateWork(ctx context.Context, m *model.Model, opts Options) (Estimate, 
 // nodes whose density costs per an evaluation.
 func forecast(d, points int, per time.Duration) time.Duration {
 	t := float64(fixedOverhead) + boxWork(d, per) + float64(points)*(float64(per)*analysisPerGrid+float64(nodeOverhead)*float64(d))
-	return time.Duration(math.Min(t, math.MaxInt64/2))
+	return time.Duration(min(t, math.MaxInt64/2))
 }
 
 // boxWork is the forecast time of the box search, in nanoseconds.

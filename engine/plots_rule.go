@@ -197,8 +197,8 @@ func (a *analysis) ruleRanges(q *quadrature.Result) ([][2]float64, []*quadrature
 		var zlo, zhi, xlo, xhi float64
 		if cv != nil {
 			qs := cv.Quantiles([]float64{plotTail, 0.025, 0.5, 0.975, 1 - plotTail})
-			xlo = math.Max(qs[0], qs[2]-plotReach*(qs[2]-qs[1]))
-			xhi = math.Min(qs[4], qs[2]+plotReach*(qs[3]-qs[2]))
+			xlo = max(qs[0], qs[2]-plotReach*(qs[2]-qs[1]))
+			xhi = min(qs[4], qs[2]+plotReach*(qs[3]-qs[2]))
 			zlo, zhi = mp.FromOriginal(xlo), mp.FromOriginal(xhi)
 		} else {
 			// No curve: four of the rule's sds on the unconstrained
@@ -318,7 +318,7 @@ func upsample(dens, xs, ys []float64, f int) ([]float64, []float64, []float64) {
 			col[a] = rows[a][b]
 		}
 		for a, v := range along(col) {
-			out[a*len(fy)+b] = math.Max(v, 0)
+			out[a*len(fy)+b] = max(v, 0)
 		}
 	}
 	return fx, fy, out

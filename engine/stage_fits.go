@@ -160,7 +160,7 @@ func (a *analysis) fitReverse(lap *fit.LaplaceFit) (rev, mfit *fit.VariationalFi
 		case err == nil:
 			return &vf, nil
 		case errors.Is(err, fit.ErrNoConvergence):
-			res := math.Max(vf.GradResidual, vf.PrecisionResidual)
+			res := max(vf.GradResidual, vf.PrecisionResidual)
 			// A last iterate that is the start, or whose residual says
 			// nothing, would mislead as a fit.
 			switch {
@@ -220,7 +220,7 @@ func (a *analysis) fitReverse(lap *fit.LaplaceFit) (rev, mfit *fit.VariationalFi
 		}
 		elbo := v.vf.ELBO
 		run := Fit{ELBO: &elbo, Iterations: v.vf.Iterations, Converged: v.vf.Converged,
-			Residual: math.Max(v.vf.GradResidual, v.vf.PrecisionResidual)}
+			Residual: max(v.vf.GradResidual, v.vf.PrecisionResidual)}
 		a.fits = append(a.fits, fitted{method: v.m, g: v.vf.Gaussian, prec: v.vf.Precision, run: run})
 	}
 	return rev, mfit, infiniteKL, nil

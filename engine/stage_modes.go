@@ -133,7 +133,7 @@ func (a *analysis) findModes() error {
 	second := 0.0
 	for i, m := range a.modes.modes {
 		if i > 0 {
-			second = math.Max(second, m.Mass)
+			second = max(second, m.Mass)
 		}
 		big = append(big, percent(m.Mass))
 	}
@@ -194,7 +194,7 @@ func (a *analysis) spreadStarts(modes []fit.Mode, masses []float64) ([]fit.Mode,
 		z := make([]float64, d)
 		for k := range z {
 			z[k] = modes[best].X[k] + (2*halton(i, primes[k])-1)*half[k]
-			z[k] = math.Min(math.Max(z[k], a.modeLo[k]), a.modeHi[k])
+			z[k] = min(max(z[k], a.modeLo[k]), a.modeHi[k])
 		}
 		m, ok, err := a.searchFrom(z)
 		if err != nil {
@@ -231,7 +231,7 @@ func (a *analysis) spreadStarts(modes []fit.Mode, masses []float64) ([]fit.Mode,
 			continue
 		}
 		logMass[i] = m.LogDensity - c.LogDet()/2
-		top = math.Max(top, logMass[i])
+		top = max(top, logMass[i])
 	}
 	total := 0.0
 	for i := range modes {
@@ -260,7 +260,7 @@ func (a *analysis) spreadStarts(modes []fit.Mode, masses []float64) ([]fit.Mode,
 			// The shares add up to 1 up to rounding: a new mode holding
 			// all of it left 1 - newShare = -1e-16 and negative masses
 			// (fuzz corpus 28c82dc02dfafb0a).
-			masses[i] *= math.Max(0, 1-newShare)
+			masses[i] *= max(0, 1-newShare)
 		}
 	}
 	higher := -1

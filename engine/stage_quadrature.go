@@ -283,7 +283,7 @@ func (a *analysis) wideStarts(p *transform.Density, found []polished) ([]polishe
 	for i := 1; i <= n; i++ {
 		for k := 0; k < d; k++ {
 			u := halton(i, primes[k])
-			half := 10 * math.Max(math.Sqrt(best.cov[k*d+k]), 0.3)
+			half := 10 * max(math.Sqrt(best.cov[k*d+k]), 0.3)
 			z[k] = best.x[k] + (2*u-1)*half
 		}
 		m, ok, err := a.polish(p, z)
@@ -312,7 +312,7 @@ func (a *analysis) wideStarts(p *transform.Density, found []polished) ([]polishe
 	// Masses relative to the largest (Laplace estimates).
 	top := math.Inf(-1)
 	for _, f := range found {
-		top = math.Max(top, f.mass)
+		top = max(top, f.mass)
 	}
 	out := found[:0]
 	for _, f := range found {

@@ -214,9 +214,9 @@ func (a *analysis) evaluateGrid() error {
 			}
 			retry = true
 			if side == 0 {
-				box.Lo[k] = math.Max(box.Lo[k]-w/2, a.bounds.Lo[k])
+				box.Lo[k] = max(box.Lo[k]-w/2, a.bounds.Lo[k])
 			} else {
-				box.Hi[k] = math.Min(box.Hi[k]+w/2, a.bounds.Hi[k])
+				box.Hi[k] = min(box.Hi[k]+w/2, a.bounds.Hi[k])
 			}
 		}
 	}
@@ -516,9 +516,9 @@ func (a *analysis) checkSingularBounds() (errScale float64) {
 				sides[sb.side], a.names[sb.k], sb.bound, sb.slope)
 			continue
 		}
-		order := math.Max(1+sb.slope, 0.05)
+		order := max(1+sb.slope, 0.05)
 		f := 1 / (math.Pow(2, order) - 1)
-		worst = math.Max(worst, f)
+		worst = max(worst, f)
 		a.diag.add(CodeInfiniteAtBound, SeverityWarning,
 			"The density grows without bound towards the %s bound of %s (%g), like a power %.2g of the distance: the grid resolves this poorly, so its error estimates were scaled up %.2g times; fit %s on the log or logit scale, where it is smooth.",
 			sides[sb.side], a.names[sb.k], sb.bound, sb.slope, f, a.names[sb.k])

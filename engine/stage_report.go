@@ -276,7 +276,7 @@ func (a *analysis) fillGridInfo(res *Result) {
 	for k := 0; k < a.d; k++ {
 		for side := 0; side < 2; side++ {
 			if !a.ref.box.Fixed[k][side] || a.pinned[k][side] {
-				gi.EdgeMass = math.Max(gi.EdgeMass, a.ref.edgeMass[k][side])
+				gi.EdgeMass = max(gi.EdgeMass, a.ref.edgeMass[k][side])
 			}
 		}
 	}

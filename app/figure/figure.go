@@ -88,7 +88,7 @@ func densityRange(curves [plot.NumMethods][]float64, o Options) (lo, hi float64,
 			continue
 		}
 		if _, h, ok := plot.Extent(curves[m]); ok {
-			top = math.Max(top, math.Min(h, 2*peak))
+			top = max(top, min(h, 2*peak))
 		}
 	}
 	if o.Log {

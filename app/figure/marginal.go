@@ -124,7 +124,7 @@ func (w *svgWriter) area(xs, ys []float64, sx, sy plot.Linear, base float64) {
 			p.MoveTo(sx.At(xs[i]), sy.At(base))
 			open = true
 		}
-		p.LineTo(sx.At(xs[i]), sy.At(math.Max(y, base)))
+		p.LineTo(sx.At(xs[i]), sy.At(max(y, base)))
 		lastX = xs[i]
 	}
 	if open {
@@ -142,7 +142,7 @@ func (w *svgWriter) area(xs, ys []float64, sx, sy plot.Linear, base float64) {
 // density (a fit may reach twice its peak), so a much narrower fit would
 // otherwise look cut flat.
 func (w *svgWriter) clippedMark(xs, ys []float64, sx, sy plot.Linear, box Box, s plot.Style) {
-	top := math.Max(sy.D0, sy.D1)
+	top := max(sy.D0, sy.D1)
 	best, at := math.Inf(-1), -1
 	for i := range min(len(xs), len(ys)) {
 		if y := ys[i]; !math.IsNaN(y) && y > best {

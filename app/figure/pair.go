@@ -149,15 +149,15 @@ func (w *svgWriter) edgeMarginal(m *engine.Marginal1D, box Box, along plot.Linea
 	top := peak * 1.08
 	for _, meth := range plot.Fits {
 		if _, h, ok := plot.Extent(curves[meth]); ok && o.shown(meth) {
-			top = math.Max(top, math.Min(h, 1.6*peak))
+			top = max(top, min(h, 1.6*peak))
 		}
 	}
 	cands := make([][2][]float64, len(m.Candidates))
 	for k := range m.Candidates {
-		xs, ys := candidateCurve(m, k, spreadAt(spreads, k), math.Min(along.D0, along.D1), math.Max(along.D0, along.D1))
+		xs, ys := candidateCurve(m, k, spreadAt(spreads, k), min(along.D0, along.D1), max(along.D0, along.D1))
 		cands[k] = [2][]float64{xs, ys}
 		if _, h, ok := plot.Extent(ys); ok && !o.HideCandidates {
-			top = math.Max(top, math.Min(h, 1.6*peak))
+			top = max(top, min(h, 1.6*peak))
 		}
 	}
 	var across plot.Linear
@@ -174,7 +174,7 @@ func (w *svgWriter) edgeMarginal(m *engine.Marginal1D, box Box, along plot.Linea
 				p.Lift()
 				continue
 			}
-			d := across.At(math.Min(y, top))
+			d := across.At(min(y, top))
 			if rotated {
 				p.LineTo(d, along.At(xs[i]))
 			} else {

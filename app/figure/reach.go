@@ -78,10 +78,10 @@ func reach(lo, hi, a, b float64) (float64, float64) {
 	}
 	pad := viewPad * (nhi - nlo)
 	if nlo < lo {
-		nlo = math.Max(nlo-pad, lo-maxReach*w)
+		nlo = max(nlo-pad, lo-maxReach*w)
 	}
 	if nhi > hi {
-		nhi = math.Min(nhi+pad, hi+maxReach*w)
+		nhi = min(nhi+pad, hi+maxReach*w)
 	}
 	return nlo, nhi
 }
@@ -96,14 +96,14 @@ func candidateReach(m *engine.Marginal1D, o Options, lo, hi float64) (float64, f
 	a, b := math.Inf(1), math.Inf(-1)
 	for k, ys := range m.Candidates {
 		if s := spreadAt(o.CandidateX, k); s.known() {
-			a, b = math.Min(a, s.Mean-reachZ*s.SD), math.Max(b, s.Mean+reachZ*s.SD)
+			a, b = min(a, s.Mean-reachZ*s.SD), max(b, s.Mean+reachZ*s.SD)
 			continue
 		}
 		if ys == nil {
 			continue
 		}
 		if l, h, ok := span(m.X, ys, fitTail); ok {
-			a, b = math.Min(a, l), math.Max(b, h)
+			a, b = min(a, l), max(b, h)
 		}
 	}
 	if a > b {
@@ -135,8 +135,8 @@ func pairCandidateReach(p *engine.Marginal2D, o Options, xlo, xhi, ylo, yhi floa
 	for _, lines := range p.CandidateEllipses {
 		for _, pt := range lines[2] {
 			if finiteNum(pt[0]) && finiteNum(pt[1]) {
-				ax, bx = math.Min(ax, pt[0]), math.Max(bx, pt[0])
-				ay, by = math.Min(ay, pt[1]), math.Max(by, pt[1])
+				ax, bx = min(ax, pt[0]), max(bx, pt[0])
+				ay, by = min(ay, pt[1]), max(by, pt[1])
 			}
 		}
 	}

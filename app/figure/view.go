@@ -62,11 +62,11 @@ func viewOf(xs []float64, exact []float64, fits [][]float64) (lo, hi float64) {
 	}
 	for _, f := range fits {
 		if a, b, ok := span(xs, f, fitTail); ok {
-			lo, hi = math.Min(lo, a), math.Max(hi, b)
+			lo, hi = min(lo, a), max(hi, b)
 		}
 	}
 	pad := viewPad * (hi - lo)
-	return math.Max(glo, lo-pad), math.Min(ghi, hi+pad)
+	return max(glo, lo-pad), min(ghi, hi+pad)
 }
 
 // pairMarginals sums a pair's density over each axis, giving its two 1-D
@@ -95,8 +95,8 @@ func extendByPolylines(lo, hi, glo, ghi float64, k int, lines [][][2]float64) (f
 			if math.IsNaN(v) || math.IsInf(v, 0) {
 				continue
 			}
-			lo, hi = math.Min(lo, v), math.Max(hi, v)
+			lo, hi = min(lo, v), max(hi, v)
 		}
 	}
-	return math.Max(glo, lo), math.Min(ghi, hi)
+	return max(glo, lo), min(ghi, hi)
 }

@@ -483,7 +483,7 @@ func postHeight() {
 	}
 	if v, err := w.el.Get("scrollHeight"); err == nil {
 		if s, err := v.Float(); err == nil {
-			h = math.Max(h, s)
+			h = max(h, s)
 		}
 	}
 	n := int(math.Ceil(h))

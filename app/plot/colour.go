@@ -41,7 +41,7 @@ func (c RGB) Hex() string {
 // Bytes returns the colour as 8-bit components, rounded and clamped.
 func (c RGB) Bytes() (r, g, b uint8) {
 	to := func(v float64) uint8 {
-		return uint8(math.Round(math.Max(0, math.Min(1, v)) * 255))
+		return uint8(math.Round(max(0, min(1, v)) * 255))
 	}
 	return to(c.R), to(c.G), to(c.B)
 }

@@ -105,7 +105,7 @@ func Contour(g Grid, level float64) []Polyline {
 		if zb != za {
 			t = (level - za) / (zb - za)
 		}
-		t = math.Max(0, math.Min(1, t))
+		t = max(0, min(1, t))
 		return [2]float64{
 			g.X[ax] + t*(g.X[bx]-g.X[ax]),
 			g.Y[ay] + t*(g.Y[by]-g.Y[ay]),

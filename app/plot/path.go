@@ -99,14 +99,14 @@ func AppendHundredths(b []byte, n int64) []byte {
 func Curve(xs, ys []float64, sx, sy Linear) string {
 	var p Path
 	n := min(len(xs), len(ys))
-	lo, hi := math.Min(sy.R0, sy.R1), math.Max(sy.R0, sy.R1)
+	lo, hi := min(sy.R0, sy.R1), max(sy.R0, sy.R1)
 	for i := range n {
 		x, y := xs[i], ys[i]
 		if math.IsNaN(x) || math.IsNaN(y) || math.IsInf(x, 0) || math.IsInf(y, 0) {
 			p.Lift()
 			continue
 		}
-		ry := math.Max(lo-2, math.Min(hi+2, sy.At(y)))
+		ry := max(lo-2, min(hi+2, sy.At(y)))
 		p.LineTo(sx.At(x), ry)
 	}
 	return p.String()

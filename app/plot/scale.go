@@ -34,8 +34,8 @@ func Extent(vs ...[]float64) (lo, hi float64, ok bool) {
 			if math.IsNaN(x) || math.IsInf(x, 0) {
 				continue
 			}
-			lo = math.Min(lo, x)
-			hi = math.Max(hi, x)
+			lo = min(lo, x)
+			hi = max(hi, x)
 		}
 	}
 	return lo, hi, lo <= hi

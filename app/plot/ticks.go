@@ -84,7 +84,7 @@ func FormatTick(v, step float64) string {
 	if v == 0 {
 		return "0"
 	}
-	a := math.Max(math.Abs(v), step)
+	a := max(math.Abs(v), step)
 	if step == 0 {
 		return FormatNumber(v, 4)
 	}

@@ -190,7 +190,7 @@ func (p *Panel) ReadOutIndex(ix, iy int) (text string, cx, cy float64, ok bool) 
 		if math.IsNaN(cy) || math.IsInf(cy, 0) {
 			cy = f.Plot.Y1
 		}
-		return text, f.X.At(x), math.Max(f.Plot.Y0, math.Min(f.Plot.Y1, cy)), true
+		return text, f.X.At(x), max(f.Plot.Y0, min(f.Plot.Y1, cy)), true
 	}
 	if q := p.P; q != nil {
 		nx := len(q.X)

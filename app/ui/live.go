@@ -290,7 +290,7 @@ func (s *Session) restoreConstants(vals map[string]float64) {
 		if s.Constants == nil {
 			s.Constants = map[string]float64{}
 		}
-		s.Constants[v.Name] = math.Max(v.Lo, math.Min(v.Hi, x))
+		s.Constants[v.Name] = max(v.Lo, min(v.Hi, x))
 	}
 }
 

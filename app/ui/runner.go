@@ -3,7 +3,6 @@ package ui
 import (
 	"context"
 	"fmt"
-	"math"
 	"strings"
 	"time"
 
@@ -269,7 +268,7 @@ func (p *Page) StopAnalysis(ctx app.Context) {
 	p.stop()
 	p.stopped, p.stoppedAfter = true, took
 	p.notice = Notice{Text: fmt.Sprintf("You stopped the analysis after %s (%.0f %% done, at: %s). Your model and settings are as you left them; the results shown, dimmed, are from the last analysis that finished. Run it again from the status line, or make it lighter first (fewer grid points, less data).",
-		fmtSeconds(took), 100*math.Max(0, math.Min(1, frac)), stage)}
+		fmtSeconds(took), 100*max(0, min(1, frac)), stage)}
 }
 
 // RunAgain implements StopHost: it analyses the current model again after

@@ -229,6 +229,6 @@ func clipBound(v *float64, lo, hi float64) *float64 {
 	if v == nil || math.IsNaN(*v) || math.IsInf(*v, 0) {
 		return nil
 	}
-	x := math.Max(lo, math.Min(hi, *v))
+	x := max(lo, min(hi, *v))
 	return &x
 }

@@ -60,7 +60,7 @@ func (r *RunStatus) Render() app.UI {
 	st := app.Div().Class("run-status").Attr("role", "status")
 	switch {
 	case s.Running && s.ShowProgress:
-		frac := math.Max(0, math.Min(1, s.Fraction))
+		frac := max(0, min(1, s.Fraction))
 		stage := s.Stage
 		if stage == "" {
 			stage = "starting"

@@ -62,14 +62,14 @@ func markBest(row *Row, score [plot.NumMethods]float64) {
 	for _, m := range plot.Fits {
 		if v := score[m]; !math.IsNaN(v) && !math.IsInf(v, 0) {
 			n++
-			best = math.Min(best, v)
+			best = min(best, v)
 		}
 	}
 	if n < 2 {
 		return
 	}
 	for _, m := range plot.Fits {
-		if v := score[m]; !math.IsNaN(v) && v <= best+1e-9*math.Max(1, math.Abs(best)) {
+		if v := score[m]; !math.IsNaN(v) && v <= best+1e-9*max(1, math.Abs(best)) {
 			row.Cells[m].Best = true
 		}
 	}
@@ -168,7 +168,7 @@ func Table(r *engine.Result, m *model.Model) []Section {
 				return Cell{}, math.NaN()
 			}
 			a, b := f.Interval95[i][0], f.Interval95[i][1]
-			return Cell{Text: interval(a, b, exSD)}, math.Max(math.Abs(a-q[0]), math.Abs(b-q[2])) / exSD
+			return Cell{Text: interval(a, b, exSD)}, max(math.Abs(a-q[0]), math.Abs(b-q[2])) / exSD
 		})
 		sec.Rows = append(sec.Rows, mean, sd, iv)
 		sections = append(sections, sec)

@@ -108,7 +108,7 @@ func prepare(g *grid.Grid, q *gauss.Prepared) (*gaussianPrep, error) {
 	gp.band = math.Sqrt(float64(d)*s) / 2
 	gp.trPC = s / 12
 	for k := 0; k < d; k++ {
-		gp.step = math.Max(gp.step, g.Spacing(k)*math.Sqrt(prec[k][k]))
+		gp.step = max(gp.step, g.Spacing(k)*math.Sqrt(prec[k][k]))
 	}
 	gp.resolved = latticeMin(g, q.Cov) >= resolvedMin
 	return gp, nil
@@ -198,7 +198,7 @@ func Compare(g *grid.Grid, qs []*gauss.Prepared, s Settings) ([]Result, error) {
 			quads[fi] = [3]float64{A, B, C}
 			// (Coverage needs M below hi2, also inside qNegligible unless
 			// the grid is much coarser than q.)
-			thr := math.Max(qNegligible, sq(gp.r0+gp.band+gp.step))
+			thr := max(qNegligible, sq(gp.r0+gp.band+gp.step))
 			j1, j2 := quadInterval(A-thr, B, C, zl[0]-gp.Mean[d-1], hl, nLast)
 			spans[fi] = [2]int{j1, j2}
 			if j1 <= j2 {
@@ -251,7 +251,7 @@ func Compare(g *grid.Grid, qs []*gauss.Prepared, s Settings) ([]Result, error) {
 			copy(r[:d-1], rs[fi][:d-1])
 			A, B, C := quads[fi][0], quads[fi][1], quads[fi][2]
 			ml := gp.Mean[d-1]
-			lo2, hi2 := sq(math.Max(gp.r0-gp.band-gp.step, 0)), sq(gp.r0+gp.band+gp.step)
+			lo2, hi2 := sq(max(gp.r0-gp.band-gp.step, 0)), sq(gp.r0+gp.band+gp.step)
 			// sqrt(q) = exp(lq/2) along the line by the recurrence for the
 			// exponential of a quadratic: two products a node instead of an
 			// exponential (relative rounding about 1e-16 a step).
@@ -298,10 +298,10 @@ func Compare(g *grid.Grid, qs []*gauss.Prepared, s Settings) ([]Result, error) {
 		tol = 1e-6
 	}
 	for i, gp := range preps {
-		res := Result{QMass: gp.qmass, Resolved: gp.resolved, Coverage95: math.Max(0, math.Min(gp.cover, 1)), Method: OnGrid}
+		res := Result{QMass: gp.qmass, Resolved: gp.resolved, Coverage95: max(0, min(gp.cover, 1)), Method: OnGrid}
 		res.KLpq = klpq(g, gp)
 		res.KLqp = gp.klqp
-		res.Hellinger = math.Sqrt(math.Max(0, 1-gp.bhat))
+		res.Hellinger = math.Sqrt(max(0, 1-gp.bhat))
 		if gp.infinite {
 			res.KLqp = math.Inf(1)
 		}
@@ -380,7 +380,7 @@ func latticeMin(g *grid.Grid, cov *mat.SymDense) float64 {
 				v += float64(n[k]*n[l]) * s[k][l]
 			}
 		}
-		best = math.Min(best, v)
+		best = min(best, v)
 	}
 	return best
 }
@@ -399,7 +399,7 @@ func quadInterval(a, b, c, t0, h float64, n int) (j1, j2 int) {
 	if hi < 0 || lo > float64(n-1) {
 		return n, -1
 	}
-	return int(math.Max(lo, 0)), int(math.Min(hi, float64(n-1)))
+	return int(max(lo, 0)), int(min(hi, float64(n-1)))
 }
 
 // qNegligible is the Mahalanobis square beyond which q's density is below
@@ -438,7 +438,7 @@ func cellShare(h []float64, P [][]float64, G []float64, M, r0, trPC, trP float64
 	for k := 0; k < d; k++ {
 		n[k] = G[k] / norm
 		widths[k] = math.Abs(n[k]) * h[k]
-		wmax = math.Max(wmax, widths[k])
+		wmax = max(wmax, widths[k])
 		varS += widths[k] * widths[k] / 12
 		W += widths[k]
 	}
@@ -519,7 +519,7 @@ func shareWithCurvature(h []float64, P [][]float64, r []float64, M, r0, trPC flo
 			for l := 0; l < d; l++ {
 				Gn[l] = G[l] + sg*2*hk*P[l][k]
 			}
-			sum += cellShare(h, P, Gn[:d], math.Max(Mn, 0), r0, trPC, trP)
+			sum += cellShare(h, P, Gn[:d], max(Mn, 0), r0, trPC, trP)
 		}
 		corr += sum / 24
 	}
@@ -590,5 +590,5 @@ func klpq(g *grid.Grid, gp *gaussianPrep) float64 {
 	}
 	eLogQ := gp.LogNorm() - 0.5*(tr+quadForm)
 	eLogP := st.ExpectedLogP - st.LogZ
-	return math.Max(0, eLogP-eLogQ)
+	return max(0, eLogP-eLogQ)
 }

@@ -96,8 +96,8 @@ func cubature(ctx context.Context, p target.Density, gp *gaussianPrep, logZ floa
 		eLogP += wts[i] * (v - logZ)
 		bhat += wts[i] * math.Exp((v-logZ-lqs[i])/2)
 	}
-	kl = math.Max(0, -gp.Entropy()-eLogP)
-	return kl, math.Sqrt(math.Max(0, 1-bhat)), nil
+	kl = max(0, -gp.Entropy()-eLogP)
+	return kl, math.Sqrt(max(0, 1-bhat)), nil
 }
 
 func hellingerOnly(out, wts, lqs []float64, logZ float64) float64 {
@@ -107,5 +107,5 @@ func hellingerOnly(out, wts, lqs []float64, logZ float64) float64 {
 			bhat += wts[i] * math.Exp((v-logZ-lqs[i])/2)
 		}
 	}
-	return math.Sqrt(math.Max(0, 1-bhat))
+	return math.Sqrt(max(0, 1-bhat))
 }

@@ -134,7 +134,7 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 			copy(y, z)
 		}
 		logW[i], logP[i] = ns.LogWeight(i), ns.LogP(i)
-		top = math.Max(top, logW[i]+logP[i])
+		top = max(top, logW[i]+logP[i])
 	}
 	if math.IsInf(top, 0) || math.IsNaN(top) {
 		return nil, fmt.Errorf("compare: the node set holds no mass")
@@ -237,23 +237,23 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 			// sums are not defined there.
 			klpq, bhat = math.NaN(), math.NaN()
 		}
-		res.KLpq = math.Max(0, klpq)
+		res.KLpq = max(0, klpq)
 		if math.IsNaN(klpq) {
 			res.KLpq = math.NaN()
 		}
-		res.Hellinger = math.Sqrt(math.Max(0, 1-bhat))
+		res.Hellinger = math.Sqrt(max(0, 1-bhat))
 		if math.IsNaN(bhat) {
 			res.Hellinger = math.NaN()
 		}
 		res.QMass = qmass
-		res.Coverage95 = math.Max(0, math.Min((4*cover[0]-cover[1])/3, 1))
-		coverChange := math.Abs(res.Coverage95 - math.Max(0, math.Min((4*coverCoarse[0]-coverCoarse[1])/3, 1)))
+		res.Coverage95 = max(0, min((4*cover[0]-cover[1])/3, 1))
+		coverChange := math.Abs(res.Coverage95 - max(0, min((4*coverCoarse[0]-coverCoarse[1])/3, 1)))
 		rel := math.Abs(bhat-bhat2) / bhat
 		// Resolved speaks for the coverage: the nodes near q's mean are
 		// at most one of q's sds apart. The Hellinger distance needs the
 		// Bhattacharyya sum converged besides (see above).
 		res.Resolved = nearest >= 0 && spacingIn(q, logW[nearest]+logJ[nearest], d) <= 1 && coverChange <= coverageTol
-		bhatConverged := res.Resolved && rel*rel <= math.Max(tol, errP)
+		bhatConverged := res.Resolved && rel*rel <= max(tol, errP)
 		res.KLqp = math.NaN()
 		if s.Density != nil {
 			gp := &gaussianPrep{Prepared: q}

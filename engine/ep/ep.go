@@ -4,7 +4,6 @@ import (
 	"context"
 	"errors"
 	"fmt"
-	"math"
 )
 
 // Factors is a log-density written as a sum of factors,
@@ -107,13 +106,13 @@ func (s *Settings) withDefaults(d int) Settings {
 		r.Tol = 1e-9
 	}
 	if !(r.Resolution > 0) {
-		r.Resolution = math.Max(1e-6, r.Tol)
+		r.Resolution = max(1e-6, r.Tol)
 	}
 	if !(r.Damping > 0 && r.Damping <= 1) {
 		r.Damping = 1
 	}
 	if !(r.MinDamping > 0 && r.MinDamping <= r.Damping) {
-		r.MinDamping = math.Min(1.0/64, r.Damping)
+		r.MinDamping = min(1.0/64, r.Damping)
 	}
 	if r.Nodes1D <= 0 {
 		r.Nodes1D = 64

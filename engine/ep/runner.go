@@ -329,7 +329,7 @@ func (r *runner) run(ctx context.Context) (*Result, error) {
 				break
 			}
 			if sweep > 1 && change > prevChange && r.damping > r.s.MinDamping {
-				r.damping = math.Max(r.damping/2, r.s.MinDamping)
+				r.damping = max(r.damping/2, r.s.MinDamping)
 			}
 			prevChange = change
 			if change < best {
@@ -405,12 +405,12 @@ func moveOf(m0, c0, m1, c1 []float64, d int) float64 {
 	worst := 0.0
 	for i := 0; i < d; i++ {
 		s0, s1 := math.Sqrt(c0[i*d+i]), math.Sqrt(c1[i*d+i])
-		worst = math.Max(worst, math.Abs(m1[i]-m0[i])/s1)
-		worst = math.Max(worst, math.Abs(s1-s0)/s1)
+		worst = max(worst, math.Abs(m1[i]-m0[i])/s1)
+		worst = max(worst, math.Abs(s1-s0)/s1)
 		for j := 0; j < i; j++ {
 			r0 := c0[i*d+j] / (s0 * math.Sqrt(c0[j*d+j]))
 			r1 := c1[i*d+j] / (s1 * math.Sqrt(c1[j*d+j]))
-			worst = math.Max(worst, math.Abs(r1-r0))
+			worst = max(worst, math.Abs(r1-r0))
 		}
 	}
 	if math.IsNaN(worst) {

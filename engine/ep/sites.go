@@ -102,7 +102,7 @@ func (r *runner) tilted1At(st *site, rl rule1d, m, v, pc, hc, mb, vb float64) (J
 		z := rl.z[k]
 		s := mb + sb*z
 		lf[k] = rl.lw[k] + l + lnorm + s*(hc-pc*s/2) + z*z/2
-		mx = math.Max(mx, lf[k])
+		mx = max(mx, lf[k])
 	}
 	if math.IsInf(mx, 0) || math.IsNaN(mx) {
 		return mx, math.NaN(), math.NaN(), undefined
@@ -237,7 +237,7 @@ func (r *runner) tiltedNAt(st *site, rl ruleNd, mb, L, mt, ct []float64) (logZ f
 			qf += dx[i] * s
 		}
 		lf[k] = rl.lw[k] + l + lnorm - qf/2 + zz/2
-		mx = math.Max(mx, lf[k])
+		mx = max(mx, lf[k])
 	}
 	if math.IsInf(mx, 0) || math.IsNaN(mx) {
 		return mx, undefined
@@ -431,8 +431,8 @@ func (r *runner) finish(res *Result) *Result {
 				res.UnsettledTilted++
 				logZ = math.NaN()
 			}
-			res.MomentGap = math.Max(res.MomentGap, gap1(m1, v1, m, v))
-			r.quadErr1 = math.Max(r.quadErr1, gap1(m2, v2, m1, v1))
+			res.MomentGap = max(res.MomentGap, gap1(m1, v1, m, v))
+			r.quadErr1 = max(r.quadErr1, gap1(m2, v2, m1, v1))
 			// phi(cavity) - phi(q) is the difference of the one-dimensional
 			// log-normalisers of s (the conditional parts cancel).
 			lz = J - phi1(1/v, m/v)
@@ -448,8 +448,8 @@ func (r *runner) finish(res *Result) *Result {
 			var l float64
 			l, und = r.tiltedN(st, r.ruleN, mt, ct)
 			r.tiltedN(st, fineN, mt2, ct2)
-			res.MomentGap = math.Max(res.MomentGap, gapN(mt, ct, q.mean, q.cov, d))
-			r.quadErrN = math.Max(r.quadErrN, gapN(mt2, ct2, mt, ct, d))
+			res.MomentGap = max(res.MomentGap, gapN(mt, ct, q.mean, q.cov, d))
+			r.quadErrN = max(r.quadErrN, gapN(mt2, ct2, mt, ct, d))
 			out.LogZ = l
 			lz = l + r.cav.phi - q.phi
 		}
@@ -458,7 +458,7 @@ func (r *runner) finish(res *Result) *Result {
 		res.Sites = append(res.Sites, out)
 		r.pause()
 	}
-	res.QuadratureError = math.Max(r.quadErr1, r.quadErrN)
+	res.QuadratureError = max(r.quadErr1, r.quadErrN)
 	if math.IsNaN(res.MomentGap) {
 		res.MomentGap = math.Inf(1)
 	}
@@ -492,7 +492,7 @@ func allZero(v []float64) bool {
 // gap1 compares the moments (m1, v1) of s with (m, v): the mean difference
 // in standard deviations and the relative variance difference.
 func gap1(m1, v1, m, v float64) float64 {
-	g := math.Max(math.Abs(m1-m)/math.Sqrt(v), math.Abs(v1/v-1))
+	g := max(math.Abs(m1-m)/math.Sqrt(v), math.Abs(v1/v-1))
 	if math.IsNaN(g) {
 		return math.Inf(1)
 	}
@@ -505,9 +505,9 @@ func gapN(m1, c1, m, c []float64, d int) float64 {
 	g := 0.0
 	for i := 0; i < d; i++ {
 		si := math.Sqrt(c[i*d+i])
-		g = math.Max(g, math.Abs(m1[i]-m[i])/si)
+		g = max(g, math.Abs(m1[i]-m[i])/si)
 		for j := 0; j <= i; j++ {
-			g = math.Max(g, math.Abs(c1[i*d+j]-c[i*d+j])/(si*math.Sqrt(c[j*d+j])))
+			g = max(g, math.Abs(c1[i*d+j]-c[i*d+j])/(si*math.Sqrt(c[j*d+j])))
 		}
 	}
 	if math.IsNaN(g) {

@@ -148,7 +148,7 @@ func (b *builder) quadForm(v int32, w []float64) (int32, bool) {
 		qs = append(qs, q)
 		c -= q * q
 	}
-	c = math.Max(c, 0)
+	c = max(c, 0)
 	// The graph: C + sum_t (q_t + sum_j R_tj (s_j - beta0_j))^2.
 	delta := make([]int32, m)
 	for j, t := range aff.terms {

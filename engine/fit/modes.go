@@ -172,9 +172,9 @@ func newPolisher(p target.Density, lo, hi []float64) (*polisher, error) {
 		case !math.IsInf(l, 0) && !math.IsInf(u, 0):
 			s.tolb[i] = boundRelTol * (u - l)
 		case !math.IsInf(l, 0):
-			s.tolb[i] = boundRelTol * math.Max(1, math.Abs(l))
+			s.tolb[i] = boundRelTol * max(1, math.Abs(l))
 		case !math.IsInf(u, 0):
-			s.tolb[i] = boundRelTol * math.Max(1, math.Abs(u))
+			s.tolb[i] = boundRelTol * max(1, math.Abs(u))
 		}
 	}
 	return s, nil
@@ -182,7 +182,7 @@ func newPolisher(p target.Density, lo, hi []float64) (*polisher, error) {
 
 func (s *polisher) project(x []float64) {
 	for i := range x {
-		x[i] = math.Max(s.lo[i], math.Min(s.hi[i], x[i]))
+		x[i] = max(s.lo[i], min(s.hi[i], x[i]))
 	}
 }
 
@@ -229,12 +229,12 @@ func (s *polisher) polish(ctx context.Context, x0 []float64) (m Mode, ok bool, e
 			// No rise in log p along an ascent direction: log p is flat to
 			// rounding here. That is convergence if the predicted gain is
 			// at the rounding level of log p.
-			converged = dec <= 1e3*epsilon*math.Max(1, math.Abs(f))
+			converged = dec <= 1e3*epsilon*max(1, math.Abs(f))
 			break
 		}
 		small := true
 		for i := 0; i < d; i++ {
-			if math.Abs(s.xt[i]-s.x[i]) > 4*epsilon*math.Max(math.Abs(s.x[i]), math.Abs(s.xt[i])) {
+			if math.Abs(s.xt[i]-s.x[i]) > 4*epsilon*max(math.Abs(s.x[i]), math.Abs(s.xt[i])) {
 				small = false
 			}
 		}
@@ -342,7 +342,7 @@ func (s *polisher) direction() (dir []float64, newton bool, dec float64, negCurv
 	es.VectorsTo(&vecs)
 	big := 0.0
 	for _, v := range vals {
-		big = math.Max(big, math.Abs(v))
+		big = max(big, math.Abs(v))
 	}
 	floor := 1e-8 * big
 	if floor == 0 {
@@ -357,7 +357,7 @@ func (s *polisher) direction() (dir []float64, newton bool, dec float64, negCurv
 		for r := 0; r < n; r++ {
 			proj += vecs.At(r, k) * gf[r]
 		}
-		scale := 1 / math.Max(math.Abs(v), floor)
+		scale := 1 / max(math.Abs(v), floor)
 		for r, i := range s.free {
 			s.dir[i] += vecs.At(r, k) * proj * scale
 		}
@@ -397,7 +397,7 @@ func (s *polisher) lineSearch(f float64, dir []float64, newton bool) (float64, b
 	t := 1.0
 	for k := 0; k < maxHalve; k++ {
 		ft, ok := s.try(f, dir, t, s.xt, s.gt, s.ht)
-		if !ok && newton && k == 0 && good(ft) && ft >= f-64*epsilon*math.Max(1, math.Abs(f)) {
+		if !ok && newton && k == 0 && good(ft) && ft >= f-64*epsilon*max(1, math.Abs(f)) {
 			ok = s.freeNorm(s.gt) < s.freeNorm(s.g)
 		}
 		if !ok {
@@ -446,7 +446,7 @@ func (s *polisher) try(f float64, dir []float64, t float64, xo, gout, hout []flo
 	if !good(ft) || !allFinite(gout) || !allFinite(hout) {
 		return ft, false
 	}
-	return ft, ft > f+armijo*math.Max(gain, 0)
+	return ft, ft > f+armijo*max(gain, 0)
 }
 
 // flat reports whether log p departs from the quadratic model of -H (held
@@ -470,7 +470,7 @@ func (s *polisher) flat(f float64) bool {
 	es.VectorsTo(&vecs)
 	// The probe is 1e-3 of the implied sd, longer where log p is so large
 	// that rounding would swamp the second difference.
-	frac := math.Max(1e-3, math.Min(0.1, math.Sqrt(1e4*epsilon*math.Max(1, math.Abs(f)))))
+	frac := max(1e-3, min(0.1, math.Sqrt(1e4*epsilon*max(1, math.Abs(f)))))
 	for k, mu := range vals {
 		h := frac / math.Sqrt(mu)
 		fp, okp := s.probeAt(&vecs, k, h)
@@ -508,7 +508,7 @@ func (s *polisher) sameMode(kept, m Mode) bool {
 	}
 	// Neither curvature can serve: the same mode if log p does not dip
 	// along the segment between them.
-	floor := m.LogDensity - 1e-10*math.Max(1, math.Abs(m.LogDensity))
+	floor := m.LogDensity - 1e-10*max(1, math.Abs(m.LogDensity))
 	for k := 1; k < 8; k++ {
 		t := float64(k) / 8
 		for i := range s.probe {
@@ -530,5 +530,5 @@ func mahalanobisHess(h *mat.SymDense, x, y []float64) float64 {
 			q -= (y[i] - x[i]) * h.At(i, j) * (y[j] - x[j])
 		}
 	}
-	return math.Sqrt(math.Max(q, 0))
+	return math.Sqrt(max(q, 0))
 }

@@ -340,7 +340,7 @@ func variational(ctx context.Context, p target.Density, init Gaussian, s Setting
 		}
 		if !accepted {
 			v.aa.reset()
-			a = math.Min(1, 2*a)
+			a = min(1, 2*a)
 			b := 1.0
 			for tries := 0; tries < 50 && !accepted; tries++ {
 				if err := ctx.Err(); err != nil {
@@ -361,7 +361,7 @@ func variational(ctx context.Context, p target.Density, init Gaussian, s Setting
 		if accepted {
 			cur, trial = trial, cur
 			trace = append(trace, cur.elbo)
-			topELBO = math.Max(topELBO, cur.elbo)
+			topELBO = max(topELBO, cur.elbo)
 			iters++
 			if m := norm(cur.f); m < 0.9*best {
 				best, since, elboThen = m, 0, cur.elbo
@@ -384,7 +384,7 @@ func variational(ctx context.Context, p target.Density, init Gaussian, s Setting
 		// three refinements to 48 nodes a side took 60 ms and left it
 		// there; the near-separated dose-response stalled at 9.5e-7 with
 		// 48 nodes a side, after converging to 1e-13 with 24).
-		if gr, pr := v.residuals(cur); math.Max(gr, pr) <= s.Resolution {
+		if gr, pr := v.residuals(cur); max(gr, pr) <= s.Resolution {
 			floored = true
 			continue
 		}

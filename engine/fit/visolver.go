@@ -90,7 +90,7 @@ func (v *viSolver) check(cur, scratch *viState, order int) (elboDiff, residual f
 		return math.NaN(), math.NaN()
 	}
 	gr, pr := v.residuals(scratch)
-	return math.Abs(scratch.elbo - cur.elbo), math.Max(gr, pr)
+	return math.Abs(scratch.elbo - cur.elbo), max(gr, pr)
 }
 
 // negligibleNode is the cubature weight below which a node where log p is

@@ -184,7 +184,7 @@ func (p *Prepared) Ellipse(i, j int, mass float64, n int) [][2]float64 {
 	sii, sij, sjj := p.Cov.At(i, i), p.Cov.At(i, j), p.Cov.At(j, j)
 	l11 := math.Sqrt(sii)
 	l21 := sij / l11
-	l22 := math.Sqrt(math.Max(sjj-l21*l21, 0))
+	l22 := math.Sqrt(max(sjj-l21*l21, 0))
 	pts := make([][2]float64, 0, n+1)
 	for t := 0; t <= n; t++ {
 		th := 2 * math.Pi * float64(t%n) / float64(n)

@@ -86,7 +86,7 @@ func (g *Grid) Peaks(ctx context.Context, progress func(float64)) ([]Peak, error
 	work, done := float64(d+1)*float64(n), 0.0
 	check := func(i int) error {
 		if progress != nil {
-			progress(math.Min(1, (done+float64(i))/work))
+			progress(min(1, (done+float64(i))/work))
 		}
 		return ctx.Err()
 	}

@@ -108,7 +108,7 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 		nf[k] = oddPoints(nf[k])
 		widthCap[k] = s.WidthCap
 		if widthCap[k] <= 0 {
-			widthCap[k] = math.Max(12, float64(nf[k]-1)/4)
+			widthCap[k] = max(12, float64(nf[k]-1)/4)
 		}
 	}
 	lo := append([]float64(nil), s.Bounds.Lo...)
@@ -119,8 +119,8 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 			return BoxResult{}, ErrBadBox
 		}
 		if len(s.Initial.Lo) == d && len(s.Initial.Hi) == d && s.Initial.Lo[k] < s.Initial.Hi[k] {
-			lo[k] = math.Max(s.Initial.Lo[k], bl)
-			hi[k] = math.Min(s.Initial.Hi[k], bh)
+			lo[k] = max(s.Initial.Lo[k], bl)
+			hi[k] = min(s.Initial.Hi[k], bh)
 			if pinned(k, 0) {
 				lo[k] = bl
 			}
@@ -135,9 +135,9 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 		case !math.IsInf(bl, 0) && !math.IsInf(bh, 0):
 			lo[k], hi[k] = bl, bh
 		case !math.IsInf(bl, 0):
-			lo[k], hi[k] = bl, bl+math.Max(2, 2*math.Abs(bl))
+			lo[k], hi[k] = bl, bl+max(2, 2*math.Abs(bl))
 		case !math.IsInf(bh, 0):
-			lo[k], hi[k] = bh-math.Max(2, 2*math.Abs(bh)), bh
+			lo[k], hi[k] = bh-max(2, 2*math.Abs(bh)), bh
 		default:
 			lo[k], hi[k] = -2, 2
 		}
@@ -193,11 +193,11 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 			for k := 0; k < d; k++ {
 				w := hi[k] - lo[k]
 				if !atBound(k, 0) {
-					lo[k] = math.Max(lo[k]-w, s.Bounds.Lo[k])
+					lo[k] = max(lo[k]-w, s.Bounds.Lo[k])
 					grown = true
 				}
 				if !atBound(k, 1) {
-					hi[k] = math.Min(hi[k]+w, s.Bounds.Hi[k])
+					hi[k] = min(hi[k]+w, s.Bounds.Hi[k])
 					grown = true
 				}
 				if hi[k]-lo[k] > 1e300 || math.IsInf(lo[k], 0) || math.IsInf(hi[k], 0) {
@@ -259,7 +259,7 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 					// (up to four times the width).
 					step := w
 					if extOK && dir*(ext-cur) > step {
-						step = math.Min(dir*(ext-cur), 4*w)
+						step = min(dir*(ext-cur), 4*w)
 					}
 					tgt[side] = cur + dir*step
 					widen[side] = true
@@ -298,7 +298,7 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 				}
 			}
 			if room := maxW - w; want[0]+want[1] > room {
-				scale := math.Max(room, 0) / (want[0] + want[1])
+				scale := max(room, 0) / (want[0] + want[1])
 				want[0] *= scale
 				want[1] *= scale
 			}
@@ -322,10 +322,10 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 			}
 			if widen[0] || widen[1] {
 				if widen[0] {
-					lo[k] = math.Max(tgt[0], s.Bounds.Lo[k])
+					lo[k] = max(tgt[0], s.Bounds.Lo[k])
 				}
 				if widen[1] {
-					hi[k] = math.Min(tgt[1], s.Bounds.Hi[k])
+					hi[k] = min(tgt[1], s.Bounds.Hi[k])
 				}
 				changed = true
 				continue
@@ -373,7 +373,7 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 // floating point with room to spare (spacing above 1e-9 of the magnitude).
 func layable(lo, hi float64, n int) bool {
 	h := (hi - lo) / float64(n-1)
-	return h > 1e-9*math.Max(math.Abs(lo), math.Abs(hi)) && lo+h > lo
+	return h > 1e-9*max(math.Abs(lo), math.Abs(hi)) && lo+h > lo
 }
 
 func pow(n, d int) int {

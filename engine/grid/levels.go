@@ -16,7 +16,7 @@ func Levels(density, mass []float64, fractions []float64) []float64 {
 	total := 0.0
 	for i, v := range density {
 		if v > 0 && mass[i] > 0 && !math.IsInf(v, 1) {
-			top = math.Max(top, v)
+			top = max(top, v)
 			total += mass[i]
 		}
 	}

@@ -345,7 +345,7 @@ func (g *Grid) summarise(ctx context.Context, free [][2]bool, progress func(floa
 				decay = (cnt*suv - su*sv) / den
 			}
 			width := g.Box.Hi[k] - g.Box.Lo[k]
-			st.TailMass += dens[face] / math.Max(decay, 1/width)
+			st.TailMass += dens[face] / max(decay, 1/width)
 		}
 	}
 	st.pairSums, st.pairWeights, st.pairTotal = full.pairs, g.Weights, full.total
@@ -521,7 +521,7 @@ func tailShare(mass, c []float64, free [2]bool) (moments, absDev, fourth float64
 	// one far from the median, is not mistaken for one whose tails matter.
 	peak := 0.0
 	for _, v := range mass {
-		peak = math.Max(peak, v)
+		peak = max(peak, v)
 	}
 	first, last := 0, n-1
 	for first < n-1 && !(mass[first] >= bulkShare*peak) {
@@ -558,7 +558,7 @@ func tailShare(mass, c []float64, free [2]bool) (moments, absDev, fourth float64
 	if !(v0 > 0) || !(a0 > 0) {
 		return 0, 0, 0
 	}
-	return math.Max(math.Abs(v0-v1)/v0, math.Abs(m0-m1)/math.Sqrt(v0)), math.Abs(a0-a1) / a0, math.Abs(q0-q1) / q0
+	return max(math.Abs(v0-v1)/v0, math.Abs(m0-m1)/math.Sqrt(v0)), math.Abs(a0-a1) / a0, math.Abs(q0-q1) / q0
 }
 
 func (m Moments) clone() Moments {

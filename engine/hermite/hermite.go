@@ -81,7 +81,7 @@ func compute(n int) (x, w []float64) {
 				if !(next > lo && next < hi) {
 					next = (lo + hi) / 2 // Newton left the bracket: bisect
 				}
-				if math.Abs(next-t) <= 1e-15*math.Max(1, math.Abs(t)) {
+				if math.Abs(next-t) <= 1e-15*max(1, math.Abs(t)) {
 					t = next
 					break
 				}

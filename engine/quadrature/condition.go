@@ -149,7 +149,7 @@ func (r *rule) factorSub(m int) bool {
 	}
 	scale := 0.0
 	for i := 0; i < m; i++ {
-		scale = math.Max(scale, math.Abs(r.sub[i*m+i]))
+		scale = max(scale, math.Abs(r.sub[i*m+i]))
 	}
 	lambda := 1e-3*scale + 1e-6
 	for try := 0; try < 30; try++ {
@@ -207,8 +207,8 @@ func (r *rule) conditionLine(k int) bool {
 			return true
 		}
 		// Move at most three standard deviations at a time.
-		c += math.Max(-3*sd, math.Min(3*sd, step))
-		sd = math.Max(sd/4, math.Min(4*sd, next))
+		c += max(-3*sd, min(3*sd, step))
+		sd = max(sd/4, min(4*sd, next))
 	}
 	return false
 }

@@ -78,7 +78,7 @@ func (res *Result) Curve(ctx context.Context, k int, fine bool) (*Curve, error) 
 				v = 0
 			}
 			g[j+maxJ] = v
-			peak = math.Max(peak, v)
+			peak = max(peak, v)
 			lo, hi = min(lo, j), max(hi, j)
 			if j != 0 && v <= 1e-12*peak && v <= g[j-side+maxJ] {
 				break

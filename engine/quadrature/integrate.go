@@ -247,7 +247,7 @@ func (r *rule) boundRounding() float64 {
 	n := &r.nodes
 	top := math.Inf(-1)
 	for i := range n.logW {
-		top = math.Max(top, n.logW[i]+n.logP[i])
+		top = max(top, n.logW[i]+n.logP[i])
 	}
 	var num, den float64
 	for i := range n.logW {
@@ -266,10 +266,10 @@ func (r *rule) boundRounding() float64 {
 				}
 				dist := math.Abs(x - b)
 				if dist == 0 {
-					worst = math.Max(worst, 1)
+					worst = max(worst, 1)
 					continue
 				}
-				worst = math.Max(worst, math.Min(1, eps*math.Max(math.Abs(x), math.Abs(b))/dist))
+				worst = max(worst, min(1, eps*max(math.Abs(x), math.Abs(b))/dist))
 			}
 		}
 		num += w * worst
@@ -303,7 +303,7 @@ func estimate(v1, v2, v4, scale float64) float64 {
 	}
 	est := e2 * e2 * e2 / (e1 * e1)
 	if scale > 0 {
-		est = math.Max(est, e2*e2/scale)
+		est = max(est, e2*e2/scale)
 	}
 	return safety * est
 }

@@ -33,7 +33,7 @@ func (r *rule) line() error {
 	for j := jl; j <= jr; j++ {
 		r.lineWatch(j, base, lkk, cur)
 		for i, c := range cur {
-			peak[i] = math.Max(peak[i], c)
+			peak[i] = max(peak[i], c)
 		}
 	}
 	for _, side := range [2]int{1, -1} {
@@ -63,7 +63,7 @@ func (r *rule) line() error {
 			for j := a; j <= b; j++ {
 				r.lineWatch(j, base, lkk, cur)
 				for i, c := range cur {
-					peak[i] = math.Max(peak[i], c)
+					peak[i] = max(peak[i], c)
 				}
 			}
 		}
@@ -72,7 +72,7 @@ func (r *rule) line() error {
 	// density that the rule does not resolve.
 	top := 0.0
 	for j := jl; j <= jr; j++ {
-		top = math.Max(top, r.lineG[j+off])
+		top = max(top, r.lineG[j+off])
 	}
 	for j := jl; j <= jr; j++ {
 		if !r.lineBad[j+off] {

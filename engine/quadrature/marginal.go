@@ -57,7 +57,7 @@ func (res *Result) sliceSettings(sl *slice, acc sliceAccuracy) Settings {
 	// A slice's integral is all its callers take: its walks end where the
 	// density's share is negligible, not where the moments' are.
 	s.MomentTol = 1
-	s.Tol = math.Max(s.Tol, sliceTol)
+	s.Tol = max(s.Tol, sliceTol)
 	s.keepMaps = true
 	if acc == slicePlot {
 		s.NewtonSteps = 2

@@ -349,7 +349,7 @@ func (r *rule) axis(k int) error {
 			}
 			r.localWatch(k, child.sum[0], wt, cur)
 			for i, c := range cur {
-				peak[i] = math.Max(peak[i], c)
+				peak[i] = max(peak[i], c)
 			}
 			if k == 0 {
 				r.done0++
@@ -395,5 +395,5 @@ func (r *rule) report() {
 	// The outer axis typically has about 20 nodes; the estimate only
 	// needs to move forward.
 	f := float64(r.done0) / float64(r.done0+6)
-	r.s.Progress(math.Min(f, 0.99))
+	r.s.Progress(min(f, 0.99))
 }

@@ -143,7 +143,7 @@ func (r *rule) endCheck(k int, cur, prev, peak []float64, at float64, first bool
 // end of the walk carries the rest of their tail.
 func (r *rule) momentTol(c int) float64 {
 	if (c-1)%2 == 1 {
-		return math.Max(r.s.MomentTol, fourthPowerTol)
+		return max(r.s.MomentTol, fourthPowerTol)
 	}
 	return r.s.MomentTol
 }

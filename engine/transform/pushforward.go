@@ -113,7 +113,7 @@ func Covariance(a, b Map, ma, mb, sa, sb, cab float64) float64 {
 	}
 	// Both logit.
 	rho := cab / (sa * sb)
-	rho = math.Max(-1, math.Min(1, rho))
+	rho = max(-1, min(1, rho))
 	rest := math.Sqrt(1 - rho*rho)
 	ts, ws := hermite.Rule(hermiteNodes)
 	ea, eb := expect(a.ToOriginal, ma, sa), expect(b.ToOriginal, mb, sb)
