@@ -72,14 +72,18 @@ func TestRulePlotsGaussian(t *testing.T) {
 				dx, dy := x-mean[i], y-mean[j]
 				m2 := (S[j][j]*dx*dx - 2*S[i][j]*dx*dy + S[i][i]*dy*dy) / det
 				want := math.Exp(-m2/2) / (2 * math.Pi * math.Sqrt(det))
-				worst = math.Max(worst, math.Abs(p.Density[v*len(p.X)+u]-want))
+				worst = max(worst, math.Abs(p.Density[v*len(p.X)+u]-want))
 			}
 		}
 		peak := 1 / (2 * math.Pi * math.Sqrt(det))
-		// Computed at 31 points a side and refined by cubic interpolation
-		// (upsample, whose error falls as the cube of the spacing, here
-		// 0.27 sd): 2e-3 of the peak is below what a plot shows.
-		if worst > 2e-3*peak {
+		// Computed at 21 points a side (0.4 sd apart) and refined by
+		// cubic interpolation of the log-density (upsample), exact for a
+		// normal: what is left is the pair rule's own error (its slices
+		// at twice the main rule's step put the density 2.05e-4 high,
+		// measured; with 31 points a side and the density itself
+		// interpolated it was off by 1.1e-3).
+		t.Logf("pair (%d, %d): %d points a side, worst %.3g of the peak", i, j, len(p.X), worst/peak)
+		if worst > 5e-4*peak {
 			t.Errorf("pair (%d, %d): off the bivariate normal by %g of its peak", i, j, worst/peak)
 		}
 		for c, f := range contourMasses {
