@@ -73,7 +73,7 @@ func (a *analysis) fitEP() error {
 	// Refined cubatures of full sites stop at 8192 nodes (a 9^4 rule):
 	// beyond, a sweep would take seconds in the browser.
 	updates := 0
-	r, err := ep.Run(a.ctx, sf, &ep.Settings{Start: start, MaxCubatureNodes: 1 << 13, QuadTol: epQuadratureWarn,
+	r, err := ep.Run(a.ctx, sf, &ep.Settings{Start: start, Tol: epTol, MaxCubatureNodes: 1 << 13, QuadTol: epQuadratureWarn,
 		Tick: func() error {
 			updates++
 			a.tr.tick(updates, float64(10*sites))
@@ -154,13 +154,20 @@ func (a *analysis) fitEP() error {
 // epQuadratureWarn is the quadrature error of EP's tilted moments, in the
 // approximation's standard deviations, above which it is a warning; below,
 // down to 1e-6, a note: the comparisons resolve means to about 1e-4 sd.
-// It is also where EP stops refining its rules (ep.Settings.QuadTol). The
-// 3-D sensor benchmark (eight readings, each a factor of all three
-// parameters) shows why not lower: the Gauss-Hermite rule converges slowly
-// on its tilted distributions (errors 9e-4, 2.8e-5, 6.4e-6 at 8, 16 and
-// 20 nodes a side), while EP's means moved by 1e-6 sd at most from 16 to
-// 32; stopping at 16 took 13 % off the whole analysis's CPU time.
+// It is also where EP stops refining its rules (ep.Settings.QuadTol): the
+// Gauss-Hermite rules converge slowly on tilted distributions far from
+// normal, and a finer rule multiplies every sweep's cost (with one factor
+// per reading, the 3-D sensor benchmark's tilted moments carry 1.2e-5 at
+// 8 nodes a side, its default).
 const epQuadratureWarn = 1e-4
+
+// epTol ends EP's sweeps when one moves the approximation by less than
+// this many of its standard deviations (ep.Settings.Tol, whose default is
+// 1e-9): a sweep shrinks the change about sixfold near the fixed point on
+// the benchmarks, so what remains is some 2e-8 sd, far below the 1e-4 the
+// comparisons resolve; the 3-D sensor benchmark's EP took 10 sweeps
+// instead of 13, its means moved by 2e-9.
+const epTol = 1e-7
 
 // scaledFactors is the model's factors on the fitting scale: each factor
 // at x = x(z), and one factor log(dx/dz) per transformed parameter.
