@@ -16,7 +16,9 @@ func Levels(density, mass []float64, fractions []float64) []float64 {
 	total := 0.0
 	for i, v := range density {
 		if v > 0 && mass[i] > 0 && !math.IsInf(v, 1) {
-			top = max(top, v)
+			if v > top { // v is a number: the comparison is max
+				top = v
+			}
 			total += mass[i]
 		}
 	}
@@ -30,10 +32,14 @@ func Levels(density, mass []float64, fractions []float64) []float64 {
 	const span = 60 / math.Ln2 // 60 in log-density below the top, in log2
 	// The bins need only be monotone in the density (the nodes of the bin
 	// where a share is reached are sorted exactly), so a piecewise-linear
-	// log2 from the binary exponent serves, far cheaper than math.Log.
+	// log2 from the binary exponent and the fraction serves, far cheaper
+	// than math.Log (and than math.Frexp, a call under WebAssembly): e +
+	// (1.f - 1) for v = 1.f 2^e. A subnormal v (more than 700 below the
+	// top in log2) lands in the last bin whatever it gives.
 	log2 := func(v float64) float64 {
-		m, e := math.Frexp(v)
-		return float64(e) + 2*m - 1
+		b := math.Float64bits(v)
+		e := int(b>>52&0x7ff) - 1023
+		return float64(e) + math.Float64frombits(b&(1<<52-1)|0x3ff<<52) - 1
 	}
 	lt := log2(top)
 	// Each node's bin, or -1 for a node left out.
