@@ -131,7 +131,7 @@ func (a *analysis) plotsFromRule(res *Result) (*Plots, error) {
 			}
 			// Levels gives shares of the plot's mass; the pair density is
 			// normalised, so the shares of the whole mass are f / total.
-			fx, fy, fd := refine(dens, xs, ys, max(1, (levelPoints+n-3)/(n-1)))
+			fx, fy, fd := refine(dens, xs, ys, levelFactor(n))
 			mass, total := cellMasses(fd, fx, fy)
 			fr := make([]float64, len(contourMasses))
 			for c, f := range contourMasses {
@@ -231,6 +231,15 @@ func (a *analysis) ruleRanges(q *quadrature.Result) ([][2]float64, []*quadrature
 // found: the superlevel sets' masses are sums over cells, whose error is
 // of the order of a cell.
 const levelPoints = 161
+
+// levelFactor is the subdivision that brings an image of n points a side
+// nearest to levelPoints (at least 1): a 2-D pair's 121-point image is
+// not subdivided (at twice it, 241 a side, finding the levels took 8 % of
+// the dose example's analysis under node; the levels moved by 0.6 % at
+// most on the gallery's 2-D examples, a contour's radius by 0.003 sd).
+func levelFactor(n int) int {
+	return max(1, int(math.Round(float64(levelPoints-1)/float64(n-1))))
+}
 
 // cellMasses returns the mass of each point of a density on xs × ys (its
 // density times its trapezoid cell; layout of quadrature.Pair) and their
