@@ -13,15 +13,19 @@ import (
 
 // Plot resolution of the nested rule's plots, by the number of parameters
 // (index d-1): points along each marginal, and along each axis of a pair's
-// image. Every point of a marginal or a pair is a nested rule over the
-// other parameters, so the counts fall with the dimension. A pair computed
-// at these is refined to pairShown by interpolating its log-density
-// (upsample): at 21 points a side a correlated normal's pair is off by the
-// pair rule's own 2e-4 (TestRulePlotsGaussian), where 31 points and the
-// density interpolated were off by 1.1e-3.
+// image (more for a strongly correlated pair: pairPoints). Every point of a
+// marginal or a pair is a nested rule over the other parameters, so the
+// counts fall with the dimension. A pair computed at fewer than pairShown
+// points is refined to about that many by interpolating its log-density
+// (upsample). Against pairs computed directly at the refined points, on the
+// gallery: in 3-D and 4-D, 21 and 15 points with the logarithm interpolated
+// were off by 0.6 to 3.4 % of the peak, as 31 and 21 with the density
+// interpolated were (0.5 to 3.2 %); in 2-D, 81 points (0.4 % on the
+// outlier example, where 41 were off by 4 %). A correlated normal's pair
+// at 21 points is off by the pair rule's own 2e-4 (TestRulePlotsGaussian).
 var (
 	rulePlot1D = [4]int{241, 161, 121, 61}
-	rulePlot2D = [4]int{0, 41, 21, 15}
+	rulePlot2D = [4]int{0, 81, 21, 15}
 )
 
 // costlyRulePoints: where the rule took more evaluations than this (a
@@ -116,7 +120,7 @@ func (a *analysis) plotsFromRule(res *Result) (*Plots, error) {
 			if err := a.ctx.Err(); err != nil {
 				return nil, err
 			}
-			n := rulePlot2D[d-1]
+			n := a.pairPoints(i, j, ranges)
 			xs, ys := evenly(ranges[i], n), evenly(ranges[j], n)
 			dens, err := q.Pair(a.ctx, i, j, xs, ys)
 			if err != nil {
@@ -233,10 +237,10 @@ func (a *analysis) ruleRanges(q *quadrature.Result) ([][2]float64, []*quadrature
 const levelPoints = 161
 
 // levelFactor is the subdivision that brings an image of n points a side
-// nearest to levelPoints (at least 1): a 2-D pair's 121-point image is
-// not subdivided (at twice it, 241 a side, finding the levels took 8 % of
-// the dose example's analysis under node; the levels moved by 0.6 % at
-// most on the gallery's 2-D examples, a contour's radius by 0.003 sd).
+// nearest to levelPoints (at least 1): an image of 121 points is not
+// subdivided (taking it to 241 a side made finding the levels 8 % of an
+// analysis under node; the levels of 2-D pairs moved by 3 % at most, a
+// contour's radius by 0.018 sd).
 func levelFactor(n int) int {
 	return max(1, int(math.Round(float64(levelPoints-1)/float64(n-1))))
 }
@@ -369,9 +373,37 @@ func upsample(dens, xs, ys []float64, f int) ([]float64, []float64, []float64) {
 }
 
 // logBend is the largest second difference of a stencil's log-density for
-// which upsample interpolates the logarithm: a normal sampled h sds apart
-// bends by h^2, so up to one sd apart.
-const logBend = 1
+// which upsample interpolates the logarithm: a normal sampled h of its
+// conditional sds apart bends by h^2, so up to two of them apart.
+const logBend = 4
+
+// pairPoints returns the points a side of the pair (i, j)'s image: the
+// default of the dimension (rulePlot2D), more for a strongly correlated
+// pair, so that its spacing is at most condSpacing of the conditional sd
+// sqrt(1 - rho^2) (in each marginal's sds; exact correlation rho on the
+// original scale), up to pairShown. A pair with correlation 0.99 sampled
+// at 21 points a side lay 3 conditional sds apart: its ridge fell between
+// the samples, the image was off by 0.43 of its peak and its contours'
+// radii by 0.18 sd.
+func (a *analysis) pairPoints(i, j int, ranges [][2]float64) int {
+	n := rulePlot2D[a.d-1]
+	o := &a.ref.original
+	if o.Corr == nil || len(o.SD) <= max(i, j) {
+		return n
+	}
+	rho := o.Corr[i][j]
+	cond := math.Sqrt(1 - rho*rho)
+	span := max((ranges[i][1]-ranges[i][0])/o.SD[i], (ranges[j][1]-ranges[j][0])/o.SD[j])
+	if !(cond > 0) || math.IsNaN(span) || math.IsInf(span, 0) {
+		return n
+	}
+	need := 1 + int(math.Ceil(span/(condSpacing*cond)))
+	return min(max(n, need), pairShown)
+}
+
+// condSpacing is pairPoints' largest spacing in conditional sds: the
+// log-density then bends by at most its square, within logBend.
+const condSpacing = 1.8
 
 // catmullRom is the Catmull-Rom cubic through p1 (t = 0) and p2 (t = 1)
 // with tangents (p2 - p0)/2 and (p3 - p1)/2.
