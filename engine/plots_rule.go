@@ -145,6 +145,9 @@ func (a *analysis) plotsFromRule(res *Result) (*Plots, error) {
 				}
 			}
 			lv := grid.Levels(fd, mass, fr)
+			if d == 2 {
+				lv = a.pairLevels2D(lv)
+			}
 			m2 := Marginal2D{I: i, J: j, X: xs, Y: ys, Levels: [3]float64{lv[0], lv[1], lv[2]}, Ellipses: Ellipses{}}
 			// Pair gives (xs[u], ys[v]) at u*len(ys)+v; the page wants
 			// Density[v*len(xs)+u].
@@ -420,3 +423,51 @@ func evenly(r [2]float64, n int) []float64 {
 	xs[n-1] = r[1]
 	return xs
 }
+
+// pairLevels2D returns the contour levels of a 2-D density: the image's
+// (lv), or, where the image does not resolve the density, the nested
+// rule's. In 2-D the pair is the density itself, so its superlevel sets'
+// masses are sums over the rule's nodes too, whose spacing follows the
+// density (a funnel's neck, narrower than the image's cells, where the
+// cells' sums put the levels of Neal's funnel 1.8 to 3.8 times too high
+// against a Monte Carlo estimate; the nodes' within 4 %). The node sums are
+// first-order in the nodes' spacing (a normal's 86 % contour's radius off
+// by 0.04 sd, the image's by 1e-4), so the image's levels stand unless the
+// two differ by more than levelDispute at the 39 or 86 % level (the 99 %
+// level, far out in the tails, differs more on smooth densities too).
+func (a *analysis) pairLevels2D(lv []float64) []float64 {
+	if !a.ref.onNodes() {
+		return lv
+	}
+	ns := a.ref.quad.Nodes
+	n := ns.Len()
+	dens, mass := make([]float64, n), make([]float64, n)
+	z := make([]float64, a.d)
+	for i := 0; i < n; i++ {
+		ns.Point(i, z)
+		lj := 0.0
+		for k := range z {
+			lj += a.ref.quadMaps[k].LogJacobian(z[k])
+		}
+		// On the original scale: p_x = p_z / |dx/dz|, normalised.
+		dens[i] = special.Exp(ns.LogP(i) - lj - a.ref.logZ)
+		mass[i] = special.Exp(ns.LogWeight(i) + ns.LogP(i) - a.ref.logZ)
+	}
+	byNodes := grid.Levels(dens, mass, contourMasses[:])
+	for _, l := range byNodes {
+		if !(l > 0) || math.IsInf(l, 1) {
+			return lv
+		}
+	}
+	for c := 0; c < 2; c++ {
+		if !(math.Abs(math.Log(byNodes[c]/lv[c])) <= levelDispute) {
+			return byNodes
+		}
+	}
+	return lv
+}
+
+// levelDispute is the largest |log| ratio of the image's level to the
+// nodes' for which the image's stands: 0.25, where a normal's differ by
+// 0.08 at most and a funnel's by 0.57 and more.
+const levelDispute = 0.25
