@@ -20,6 +20,26 @@ func withRule(f func()) {
 	f()
 }
 
+// rulePlotsOfNormal analyses, with the nested rule and plots, the normal
+// of covariance S (3 x 3, row-major) in parameters a, b and c, its
+// log-density written out with the precision of S over the centred terms
+// (such as "(a - 1)").
+func rulePlotsOfNormal(t *testing.T, S []float64, centred []string) *Result {
+	t.Helper()
+	P := inverse(S, 3)
+	body := ""
+	for i := 0; i < 3; i++ {
+		for j := 0; j < 3; j++ {
+			body += " - 0.5 * " + fmtF(P[i*3+j]) + " * " + centred[i] + " * " + centred[j]
+		}
+	}
+	var res *Result
+	withRule(func() {
+		res = analyseSource(t, "param a\nparam b\nparam c\n"+body+"\n", Options{Plots: true})
+	})
+	return res
+}
+
 // The rule's plots of a correlated normal: each marginal is N(m_k, S_kk)
 // (closed form, gonum's distuv.Normal), the pair's density the bivariate
 // normal, and the level enclosing the share f of a bivariate normal's mass
@@ -30,18 +50,7 @@ func TestRulePlotsGaussian(t *testing.T) {
 	// log-density written out with the precision of S.
 	mean := []float64{1, -2, 0.5}
 	S := [3][3]float64{{1, 0.6, 0}, {0.6, 4, 1}, {0, 1, 2}}
-	P := inverse([]float64{1, 0.6, 0, 0.6, 4, 1, 0, 1, 2}, 3)
-	body := ""
-	names := []string{"(a - 1)", "(b + 2)", "(c - 0.5)"}
-	for i := 0; i < 3; i++ {
-		for j := 0; j < 3; j++ {
-			body += " - 0.5 * " + fmtF(P[i*3+j]) + " * " + names[i] + " * " + names[j]
-		}
-	}
-	var res *Result
-	withRule(func() {
-		res = analyseSource(t, "param a\nparam b\nparam c\n"+body+"\n", Options{Plots: true})
-	})
+	res := rulePlotsOfNormal(t, []float64{1, 0.6, 0, 0.6, 4, 1, 0, 1, 2}, []string{"(a - 1)", "(b + 2)", "(c - 0.5)"})
 	if res.Plots == nil || len(res.Plots.Marginals) != 3 || len(res.Plots.Pairs) != 3 {
 		t.Fatalf("plots %+v", res.Plots)
 	}
@@ -110,18 +119,7 @@ func TestRulePlotsGaussian(t *testing.T) {
 // The 39 % and 86 % contours' radii within 0.05 sd (their levels are
 // summed over the image's cells, the cells a third of the ridge's width).
 func TestRulePlotsRidge(t *testing.T) {
-	P := inverse([]float64{1, 0.99, 0, 0.99, 1, 0, 0, 0, 1}, 3)
-	body := ""
-	names := []string{"a", "b", "c"}
-	for i := 0; i < 3; i++ {
-		for j := 0; j < 3; j++ {
-			body += " - 0.5 * " + fmtF(P[i*3+j]) + " * " + names[i] + " * " + names[j]
-		}
-	}
-	var res *Result
-	withRule(func() {
-		res = analyseSource(t, "param a\nparam b\nparam c\n"+body+"\n", Options{Plots: true})
-	})
+	res := rulePlotsOfNormal(t, []float64{1, 0.99, 0, 0.99, 1, 0, 0, 0, 1}, []string{"a", "b", "c"})
 	if res.Plots == nil || len(res.Plots.Pairs) != 3 {
 		t.Fatalf("plots %+v", res.Plots)
 	}
