@@ -165,13 +165,20 @@ func (cv *Curve) Density(xs []float64) []float64 {
 			continue
 		}
 		t := cv.lv.inverse(z-cv.c, cv.h*float64(cv.lo), cv.h*float64(cv.lo+len(cv.g)-1))
+		// sin(pi (s - j)) = (-1)^j sin(pi s) for s = t/h - lo and integer
+		// j: one sine a point, not one a node (math.Sin is pure Go under
+		// WebAssembly), and no rounding of a large argument.
+		s0 := t/cv.h - float64(cv.lo)
+		sinS := math.Sin(math.Pi * s0)
 		gt := 0.0
 		for j, gj := range cv.g {
-			u := math.Pi * (t/cv.h - float64(cv.lo+j))
+			u := math.Pi * (s0 - float64(j))
 			if math.Abs(u) < 1e-9 {
 				gt += gj
+			} else if j&1 == 0 {
+				gt += gj * sinS / u
 			} else {
-				gt += gj * math.Sin(u) / u
+				gt -= gj * sinS / u
 			}
 		}
 		// Share per unit t to density in z, then in x; the interpolant's
