@@ -32,9 +32,7 @@ func (r *rule) line() error {
 	clear(peak)
 	for j := jl; j <= jr; j++ {
 		r.lineWatch(j, base, lkk, cur)
-		for i, c := range cur {
-			peak[i] = max(peak[i], c)
-		}
+		raisePeak(peak, cur)
 	}
 	for _, side := range [2]int{1, -1} {
 		for {
@@ -62,9 +60,7 @@ func (r *rule) line() error {
 			}
 			for j := a; j <= b; j++ {
 				r.lineWatch(j, base, lkk, cur)
-				for i, c := range cur {
-					peak[i] = max(peak[i], c)
-				}
+				raisePeak(peak, cur)
 			}
 		}
 	}
@@ -72,7 +68,9 @@ func (r *rule) line() error {
 	// density that the rule does not resolve.
 	top := 0.0
 	for j := jl; j <= jr; j++ {
-		top = max(top, r.lineG[j+off])
+		if g := r.lineG[j+off]; g > top {
+			top = g
+		}
 	}
 	for j := jl; j <= jr; j++ {
 		if !r.lineBad[j+off] {
@@ -196,4 +194,16 @@ func (r *rule) lineWatch(j int, base, lkk float64, w []float64) {
 	w[2] = g * y2 * y2
 	w[3] = g * x2
 	w[4] = g * x2 * x2
+}
+
+// raisePeak raises each peak to the share in cur where that is larger. A
+// comparison, not the builtin max: under WebAssembly max is a call of the
+// runtime's (it orders NaN and signed zeros), here once a component a node;
+// the shares are never NaN (an undefined node's share is 0).
+func raisePeak(peak, cur []float64) {
+	for i, c := range cur {
+		if c > peak[i] {
+			peak[i] = c
+		}
+	}
 }

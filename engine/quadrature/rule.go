@@ -348,9 +348,7 @@ func (r *rule) axis(k int) error {
 				lv.inf[i] = lv.inf[i] || f
 			}
 			r.localWatch(k, child.sum[0], wt, cur)
-			for i, c := range cur {
-				peak[i] = max(peak[i], c)
-			}
+			raisePeak(peak, cur)
 			if k == 0 {
 				r.done0++
 				r.report()
