@@ -2,6 +2,7 @@ package engine
 
 import (
 	"errors"
+	"fmt"
 	"math"
 
 	"gonum.org/v1/gonum/mat"
@@ -140,9 +141,27 @@ func (a *analysis) fitEP() error {
 	}
 	switch {
 	case r.QuadratureError > epQuadratureWarn:
+		var cut []string // bounded parameters fitted as they are
+		for k, b := range a.bounded {
+			if b {
+				cut = append(cut, a.names[k])
+			}
+		}
+		hint := ""
+		if len(cut) > 0 {
+			// On the bounded scale the cavity reaches past the bound, where
+			// the factors are zero: the normal model with a 1/s prior
+			// warned of 0.073 there and converged to 1.2e-5 on log s.
+			their := "its bounded scale"
+			if len(cut) > 1 {
+				their = "their bounded scales"
+			}
+			hint = fmt.Sprintf(" With %s fitted on %s the tilted distributions are cut off at the bound; on the log or logit scale they are smooth.",
+				list(cut), their)
+		}
 		a.diag.add(CodeEPQuadrature, SeverityWarning,
-			"EP's tilted moments carry a quadrature error of about %.2g (relative to the approximation's standard deviations) even with the finest rule: a factor's tilted distribution is far from Gaussian.",
-			r.QuadratureError)
+			"EP's tilted moments carry a quadrature error of about %.2g (relative to the approximation's standard deviations) even with the finest rule: a factor's tilted distribution is far from Gaussian.%s",
+			r.QuadratureError, hint)
 	case r.QuadratureError > 1e-6:
 		a.diag.add(CodeEPQuadrature, SeverityInfo,
 			"EP's tilted moments carry a quadrature error of about %.2g of the approximation's standard deviations with the finest rule, below the 1e-4 the comparisons resolve.",
