@@ -21,36 +21,48 @@ import (
 // bL (e^-t - 1 + t): sinh t when both b are 1/2, t when both are 0, and
 // linear on one side, exponential on the other in between.
 func (lv *level) offset(t float64) float64 {
-	phi := t
-	if lv.betaR != 0 {
-		phi += lv.betaR * (math.Expm1(t) - t)
-	}
-	if lv.betaL != 0 {
-		phi -= lv.betaL * (math.Expm1(-t) + t)
-	}
-	return lv.w * phi
+	ep, en := lv.expm1s(t)
+	return lv.offsetWith(t, ep, en)
 }
 
 // jac returns du/dt at t.
 func (lv *level) jac(t float64) float64 {
-	d := 1.0
-	if lv.betaR != 0 {
-		d += lv.betaR * math.Expm1(t)
-	}
-	if lv.betaL != 0 {
-		d += lv.betaL * math.Expm1(-t)
-	}
-	return lv.w * d
+	ep, en := lv.expm1s(t)
+	return lv.jacWith(ep, en)
 }
 
 // offsetAt and jacAt are offset and jac at the node t = j h of a rule of
 // step h: from em, the table of that step, where it reaches j.
 func (lv *level) offsetAt(j int, em *expm1Table) float64 {
-	t := float64(j) * em.h
 	ep, en, ok := em.at(j)
 	if !ok {
-		return lv.offset(t)
+		return lv.offset(float64(j) * em.h)
 	}
+	return lv.offsetWith(float64(j)*em.h, ep, en)
+}
+
+func (lv *level) jacAt(j int, em *expm1Table) float64 {
+	ep, en, ok := em.at(j)
+	if !ok {
+		return lv.jac(float64(j) * em.h)
+	}
+	return lv.jacWith(ep, en)
+}
+
+// expm1s returns expm1(t) and expm1(-t) where the map uses them (a side
+// whose b is 0 takes neither: 0 there).
+func (lv *level) expm1s(t float64) (ep, en float64) {
+	if lv.betaR != 0 {
+		ep = math.Expm1(t)
+	}
+	if lv.betaL != 0 {
+		en = math.Expm1(-t)
+	}
+	return ep, en
+}
+
+// offsetWith is offset at t given ep = expm1(t) and en = expm1(-t).
+func (lv *level) offsetWith(t, ep, en float64) float64 {
 	phi := t
 	if lv.betaR != 0 {
 		phi += lv.betaR * (ep - t)
@@ -61,11 +73,8 @@ func (lv *level) offsetAt(j int, em *expm1Table) float64 {
 	return lv.w * phi
 }
 
-func (lv *level) jacAt(j int, em *expm1Table) float64 {
-	ep, en, ok := em.at(j)
-	if !ok {
-		return lv.jac(float64(j) * em.h)
-	}
+// jacWith is jac given ep = expm1(t) and en = expm1(-t).
+func (lv *level) jacWith(ep, en float64) float64 {
 	d := 1.0
 	if lv.betaR != 0 {
 		d += lv.betaR * ep

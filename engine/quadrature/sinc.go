@@ -50,38 +50,27 @@ func siPiFrac(m int) float64 {
 	return sign * siTable[m]
 }
 
-// sinPiSub returns sin(pi m / siSub) from a table of one period (2 siSub
-// values, each math.Sin of a small argument): m is an integer, so the
-// table is exact to rounding where math.Sin(pi*m/siSub) would carry the
-// rounding of a large argument, and it avoids a pure-Go sine a node under
-// WebAssembly.
-func sinPiSub(m int) float64 {
-	return sinPiSubTable[((m%(2*siSub))+2*siSub)%(2*siSub)]
-}
-
-var sinPiSubTable = func() [2 * siSub]float64 {
-	var t [2 * siSub]float64
-	for k := range t {
-		t[k] = math.Sin(math.Pi * float64(k) / siSub)
-	}
-	// The zeros and the extremes exactly.
-	t[0], t[siSub/2], t[siSub], t[3*siSub/2] = 0, 1, 0, -1
-	return t
-}()
-
 // sincAt returns, at t = (k + f/siSub) h, the sinc interpolant of the
 // values g at t_i = i h and its integral from -inf:
 // g(t) = sum_i g_i sinc((t - t_i)/h), C(t) = h sum_i g_i (1/2 + Si(pi (t -
 // t_i)/h)/pi).
+//
+// sin(pi m/siSub) = (-1)^(k-i) sin(pi f/siSub) for m = (k-i) siSub + f: one
+// sine a call, as in Curve.Density (math.Sin is pure Go under WebAssembly).
 func sincAt(g []float64, h float64, k, f int) (val, cum float64) {
+	sinF := math.Sin(math.Pi * float64(f) / siSub)
 	for i, gi := range g {
 		m := (k-i)*siSub + f
 		cum += gi * (0.5 + siPiFrac(m)/math.Pi)
 		if m == 0 {
 			val += gi
+			continue
+		}
+		x := math.Pi * float64(m) / siSub
+		if (k-i)&1 == 0 {
+			val += gi * sinF / x
 		} else {
-			x := math.Pi * float64(m) / siSub
-			val += gi * sinPiSub(m) / x
+			val -= gi * sinF / x
 		}
 	}
 	return val, h * cum
