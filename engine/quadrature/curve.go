@@ -156,7 +156,7 @@ const (
 func (cv *Curve) Mass() float64 { return cv.total }
 
 // Density returns the marginal density on the original scale at xs (0
-// outside the support).
+// outside the support), normalised by the walk's own mass.
 func (cv *Curve) Density(xs []float64) []float64 {
 	out := make([]float64, len(xs))
 	for i, x := range xs {
@@ -181,9 +181,11 @@ func (cv *Curve) Density(xs []float64) []float64 {
 				gt -= gj * sinS / u
 			}
 		}
-		// Share per unit t to density in z, then in x; the interpolant's
+		// Share per unit t to density in z, then in x, over the walk's
+		// own mass (which cancels the slices' bias where it is common to
+		// the nodes, as at twice the rule's step); the interpolant's
 		// ringing far out (of the order of the rule's error) is cut at 0.
-		v := gt / cv.lv.jac(t) / special.Exp(cv.mp.LogJacobian(z))
+		v := gt / cv.total / cv.lv.jac(t) / special.Exp(cv.mp.LogJacobian(z))
 		if v > 0 && !math.IsInf(v, 0) {
 			out[i] = v
 		}
