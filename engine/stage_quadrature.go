@@ -82,6 +82,7 @@ func (a *analysis) integrateNested() (*quadrature.Result, []transform.Map, error
 	if err != nil || !ok {
 		return nil, nil, err
 	}
+	a.ref.severalModes = start.NegHessian == nil
 	q, err := quadrature.Integrate(a.ctx, p, start, quadrature.Settings{Maps: maps, Progress: a.tr.at, Tick: a.tr.beat})
 	if err != nil {
 		if ctxErr := a.ctx.Err(); ctxErr != nil {

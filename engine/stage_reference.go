@@ -65,6 +65,9 @@ type reference struct {
 	// say about the box: reported where the grid's results stand, not
 	// where the nested rule's do (the grid only scouted).
 	boxNotes diagnostics
+	// severalModes reports a rule started from several modes (the mean
+	// and covariance of their mixture).
+	severalModes bool
 	// curves are the rule's marginals, per parameter (nil where the walk
 	// failed): the quantiles and the plotted marginals.
 	curves []*quadrature.Curve

@@ -23,7 +23,7 @@ func (r *rule) condition(k int) {
 	copy(r.ut, r.u[:k])
 	copy(r.ut[k:], r.pred[k][k:])
 	ok := false
-	if k == d-1 && (k >= 2 || (k == 1 && r.noNodes)) && r.conditionLine(k) {
+	if k == d-1 && (k >= 2 || (k == 1 && (r.noNodes || r.s.lineCondition))) && r.conditionLine(k) {
 		lv.c = lv.mode[k]
 		r.chooseMap(k, math.Sqrt(lv.sigma[0]))
 		return

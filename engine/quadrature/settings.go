@@ -62,6 +62,10 @@ type Settings struct {
 	// to the last bit; on the 3-D funnel and the short Lorenz benchmarks
 	// quantiles moved by 1e-13 relative.
 	keepMaps bool
+	// lineCondition conditions a 2-D rule's inner axis from three values
+	// of log p (conditionLine), as 3-D and 4-D rules do, where a Hessian
+	// costs far more than three values (a pair marginal's, PairNodes).
+	lineCondition bool
 	// lines counts the lines of nodes of a rule and of every slice of its
 	// result, shared by their settings' copies (a slice may have a single
 	// line), for Tick.
