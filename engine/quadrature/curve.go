@@ -159,12 +159,14 @@ func (cv *Curve) Mass() float64 { return cv.total }
 // outside the support), normalised by the walk's own mass.
 func (cv *Curve) Density(xs []float64) []float64 {
 	out := make([]float64, len(xs))
+	last := math.NaN()
 	for i, x := range xs {
 		z := cv.mp.FromOriginal(x)
 		if math.IsNaN(z) || math.IsInf(z, 0) {
 			continue
 		}
-		t := cv.lv.inverse(z-cv.c, cv.h*float64(cv.lo), cv.h*float64(cv.lo+len(cv.g)-1))
+		t, jac := cv.lv.inverse(z-cv.c, cv.h*float64(cv.lo), cv.h*float64(cv.lo+len(cv.g)-1), last)
+		last = t
 		// sin(pi (s - j)) = (-1)^j sin(pi s) for s = t/h - lo and integer
 		// j: one sine a point, not one a node (math.Sin is pure Go under
 		// WebAssembly), and no rounding of a large argument.
@@ -185,7 +187,7 @@ func (cv *Curve) Density(xs []float64) []float64 {
 		// own mass (which cancels the slices' bias where it is common to
 		// the nodes, as at twice the rule's step); the interpolant's
 		// ringing far out (of the order of the rule's error) is cut at 0.
-		v := gt / cv.total / cv.lv.jac(t) / special.Exp(cv.mp.LogJacobian(z))
+		v := gt / cv.total / jac / special.Exp(cv.mp.LogJacobian(z))
 		if v > 0 && !math.IsInf(v, 0) {
 			out[i] = v
 		}
@@ -242,34 +244,42 @@ func (cv *Curve) Quantiles(probs []float64) []float64 {
 }
 
 // inverse returns the t in [tlo - 8, thi + 8] where offset(t) = u (offset
-// is increasing), by Newton's method kept inside a bracket that each step
-// narrows (a bisection step where Newton's leaves it): a handful of
-// steps where bisection to 1e-13 took about 45, each an offset with two
-// exponentials (a tenth of the 2-D dose example's plots).
-func (lv *level) inverse(u, tlo, thi float64) float64 {
+// is increasing), and the map's Jacobian there, by Newton's method kept
+// inside a bracket that each step narrows (a bisection step where Newton's
+// leaves it): a handful of steps where bisection to 1e-13 took about 45.
+// Each step takes the map's two exponentials once for the offset and the
+// Jacobian. guess, when inside the bracket, is the first iterate (the last
+// plot point's t: the points come in order); otherwise the sinh map's
+// inverse or the linear one's.
+func (lv *level) inverse(u, tlo, thi, guess float64) (t, jac float64) {
 	a, b := tlo-8, thi+8
-	t := u / lv.w // the linear map's inverse, and sinh's near the centre
+	t = u / lv.w // the linear map's inverse, and sinh's near the centre
 	if lv.betaL == 0.5 && lv.betaR == 0.5 {
 		t = math.Asinh(u / lv.w)
+	} else if guess > a && guess < b {
+		t = guess
 	}
 	if !(t > a && t < b) {
 		t = (a + b) / 2
 	}
 	for it := 0; it < 100; it++ {
-		f := lv.offset(t) - u
+		ep, en := lv.expm1s(t)
+		f := lv.offsetWith(t, ep, en) - u
+		jac = lv.jacWith(ep, en)
 		if f < 0 {
 			a = t
 		} else {
 			b = t
 		}
-		next := t - f/lv.jac(t)
+		next := t - f/jac
 		if !(next > a && next < b) {
 			next = (a + b) / 2
 		}
 		if math.Abs(next-t) <= 1e-15*(1+math.Abs(t)) || b-a <= 1e-13*(1+math.Abs(a)) {
-			return next
+			// The Jacobian at t, within a relative 1e-15 of next's.
+			return next, jac
 		}
 		t = next
 	}
-	return t
+	return t, lv.jac(t)
 }
