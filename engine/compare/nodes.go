@@ -175,6 +175,7 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 		tol = 1e-6
 	}
 	out := make([]Result, len(qs))
+	ms := make([]float64, n) // the Mahalanobis squares of the nodes under q
 	for qi, q := range qs {
 		if s.Context != nil {
 			if err := s.Context.Err(); err != nil {
@@ -188,6 +189,7 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 		var cover, coverCoarse [2]float64
 		logNorm, halfLogDet := q.LogNorm(), q.LogDet()/2
 		cellScale := special.Exp(-halfLogDet / float64(d)) // the cell side in q's whitened coordinates
+		q.Mahalanobis2Points(ys, ms)
 		for i := 0; i < n; i++ {
 			if s.Progress != nil && i > 0 && i%progressNodes == 0 {
 				s.Progress((float64(qi) + float64(i)/float64(n)) / float64(len(qs)))
@@ -195,7 +197,7 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 			if !valid[i] {
 				continue
 			}
-			M := q.Mahalanobis2(ys[i*d : (i+1)*d])
+			M := ms[i]
 			lq := logNorm - M/2
 			if M < nearestM {
 				nearest, nearestM = i, M

@@ -224,3 +224,52 @@ func TestDegenerate(t *testing.T) {
 		t.Error("correlation 1 passed")
 	}
 }
+
+// Mahalanobis2Points gives Mahalanobis2's values to the last bit in 1 to 4
+// dimensions, and both are the quadratic form with gonum's inverse (an
+// independent computation) to 1e-12.
+func TestMahalanobis2Points(t *testing.T) {
+	covs := []*mat.SymDense{
+		sym(1, 2.5),
+		sym(2, 1, 0.3, 0.3, 2),
+		cov3,
+		sym(4,
+			1.0, 0.9, 0.2, -0.1,
+			0.9, 1.2, 0.3, 0.0,
+			0.2, 0.3, 0.7, 0.25,
+			-0.1, 0.0, 0.25, 3.0),
+	}
+	for _, c := range covs {
+		d := c.SymmetricDim()
+		mean := make([]float64, d)
+		for k := range mean {
+			mean[k] = 0.5*float64(k) - 0.7
+		}
+		p := prepare(t, Gaussian{Mean: mean, Cov: c})
+		var inv mat.Dense
+		if err := inv.Inverse(c); err != nil {
+			t.Fatal(err)
+		}
+		const n = 25
+		xs := make([]float64, n*d)
+		for i := range xs {
+			xs[i] = math.Sin(float64(3*i+1)) * 4
+		}
+		out := make([]float64, n)
+		p.Mahalanobis2Points(xs, out)
+		for i := 0; i < n; i++ {
+			x := xs[i*d : (i+1)*d]
+			if got, one := out[i], p.Mahalanobis2(x); got != one {
+				t.Errorf("d %d, point %d: %v, Mahalanobis2 %v", d, i, got, one)
+			}
+			r := make([]float64, d)
+			for k := range r {
+				r[k] = x[k] - mean[k]
+			}
+			v := mat.NewVecDense(d, r)
+			if want := mat.Inner(v, &inv, v); !scalar.EqualWithinAbsOrRel(out[i], want, 1e-12, 1e-12) {
+				t.Errorf("d %d, point %d: %v, quadratic form %v", d, i, out[i], want)
+			}
+		}
+	}
+}
