@@ -213,6 +213,7 @@ func (r *rule) result(start Start, s Settings) (*Result, error) {
 	if !(s0 > 0) {
 		return nil, ErrNoMass
 	}
+	r.clearStrayFlags()
 	res.Improper = lv.inf[0] || math.IsInf(s0, 1)
 	if res.Improper {
 		res.LogZ, res.LogZErr = math.Inf(1), math.Inf(1)
@@ -231,6 +232,9 @@ func (r *rule) result(start Start, s Settings) (*Result, error) {
 	res.Original = r.moments(1, res.Improper)
 	return res, nil
 }
+
+// strayTail: see clearStrayFlags.
+const strayTail = 1e-12
 
 // maxHalvings bounds the refinements of the step.
 const maxHalvings = 3

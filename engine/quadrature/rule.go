@@ -68,8 +68,12 @@ type rule struct {
 	points    int
 	derivs    int
 	nonFinite int
-	nearNaN   int // undefined nodes next to a node holding mass
-	done0     int
+	// infShare[f] is the largest share per unit t, in the units of the
+	// outermost level's sums, that a walk held at its end where it raised
+	// infinite flag f (flag layout; see clearStrayFlags).
+	infShare []float64
+	nearNaN  int // undefined nodes next to a node holding mass
+	done0    int
 }
 
 const maxNewton = 20
@@ -147,6 +151,7 @@ func newRule(ctx context.Context, p target.Density, st Start, s Settings) (*rule
 	r.lv = make([]level, d)
 	r.pred = make([][]float64, d)
 	nw := r.lay.nWatch
+	r.infShare = make([]float64, 1+8*d)
 	for k := range r.lv {
 		lv := &r.lv[k]
 		lv.mode, lv.slope = mk(), mk()

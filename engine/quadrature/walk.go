@@ -95,19 +95,19 @@ func (r *rule) endCheck(k int, cur, prev, peak []float64, at float64, first bool
 		}
 		// The share does not decay: the integral is infinite.
 		if c == 0 {
-			lv.inf[0] = true
+			r.raise(lv, 0, cur[0])
 			continue
 		}
 		a := k + (c-1)/4
 		switch (c - 1) % 4 {
 		case 0:
-			lv.inf[flagIndex(d, 0, 1, a)] = true
+			r.raise(lv, flagIndex(d, 0, 1, a), cur[c])
 		case 1:
-			lv.inf[flagIndex(d, 0, 3, a)] = true
+			r.raise(lv, flagIndex(d, 0, 3, a), cur[c])
 		case 2:
-			lv.inf[flagIndex(d, 1, 1, a)] = true
+			r.raise(lv, flagIndex(d, 1, 1, a), cur[c])
 		default:
-			lv.inf[flagIndex(d, 1, 3, a)] = true
+			r.raise(lv, flagIndex(d, 1, 3, a), cur[c])
 		}
 	}
 	// Odd moments: |y| and |y|^3 lie between the even powers (Lyapunov's
@@ -119,7 +119,7 @@ func (r *rule) endCheck(k int, cur, prev, peak []float64, at float64, first bool
 			lo, mid, hi := 0, b+2*sc, b+2*sc+1 // 1, y^2, y^4 (or x~^2, x~^4)
 			g1 := math.Sqrt(cur[lo] * cur[mid])
 			if q2 := ratio(lo) * ratio(mid); q2 >= qMin*qMin && g1 > r.s.MomentTol*math.Sqrt(peak[lo]*peak[mid]) {
-				lv.inf[flagIndex(d, sc, 0, a)] = true
+				r.raise(lv, flagIndex(d, sc, 0, a), g1)
 			} else if q2 < qMin*qMin && g1 > 0 {
 				q := math.Sqrt(q2)
 				w := r.lay.wY1(a)
@@ -128,8 +128,8 @@ func (r *rule) endCheck(k int, cur, prev, peak []float64, at float64, first bool
 				}
 				lv.rem[w] += g1 * q / (1 - q)
 			}
-			if ratio(mid)*ratio(hi) >= qMin*qMin && math.Sqrt(cur[mid]*cur[hi]) > r.s.MomentTol*math.Sqrt(peak[mid]*peak[hi]) {
-				lv.inf[flagIndex(d, sc, 2, a)] = true
+			if g3 := math.Sqrt(cur[mid] * cur[hi]); ratio(mid)*ratio(hi) >= qMin*qMin && g3 > r.s.MomentTol*math.Sqrt(peak[mid]*peak[hi]) {
+				r.raise(lv, flagIndex(d, sc, 2, a), g3)
 			}
 		}
 	}
@@ -172,6 +172,68 @@ func (r *rule) watchIndex(k, c int) int {
 		return r.lay.wX2(a)
 	}
 	return r.lay.wX4(a)
+}
+
+// raise sets infinite flag f of level lv, whose walk ended holding the
+// share per unit t share of the flagged component, and records that share
+// in the units of the outermost level's sums (clearStrayFlags).
+func (r *rule) raise(lv *level, f int, share float64) {
+	lv.inf[f] = true
+	r.infShare[f] = max(r.infShare[f], share*special.Exp(lv.logW-r.ldL))
+}
+
+// clearStrayFlags clears the infinite flags of the outermost level whose
+// walks held less than strayTail of the component's whole sum where they
+// ended (a line far out whose conditional the rule resolves no better than
+// a spike: the 4-D Student-t regression with its scale on [0, inf] had a
+// walk that did not decay holding 1e-24 of the density's sum, and its
+// slope's mean and variance were flagged infinite under a normal prior).
+// Such a walk is no evidence of an infinite integral; what it leaves
+// beyond MaxT is counted in the remainders as another MaxT of its last
+// share. It reports whether it cleared the density's flag.
+func (r *rule) clearStrayFlags() bool {
+	lv := &r.lv[0]
+	d := r.d
+	tot := make([]float64, r.lay.nWatch)
+	r.lay.watchFromFull(lv.sum[0], tot)
+	maxT := r.s.withDefaults().MaxT
+	cleared := false
+	for f, on := range lv.inf {
+		if !on {
+			continue
+		}
+		var total float64
+		w := -1 // the remainder the tail beyond MaxT goes to
+		if f == 0 {
+			total, w = tot[0], 0
+		} else {
+			i := f - 1
+			sc, m, a := i/(4*d), (i/d)%4, i%d
+			y2, y4, y1 := r.lay.wY2(a), r.lay.wY4(a), r.lay.wY1(a)
+			if sc == 1 {
+				y2, y4, y1 = r.lay.wX2(a), r.lay.wX4(a), r.lay.wX1(a)
+			}
+			switch m {
+			case 0:
+				total, w = math.Sqrt(tot[0]*tot[y2]), y1
+			case 1:
+				total, w = tot[y2], y2
+			case 2:
+				total = math.Sqrt(tot[y2] * tot[y4])
+			default:
+				total, w = tot[y4], y4
+			}
+		}
+		if !(r.infShare[f] < strayTail*total) {
+			continue
+		}
+		lv.inf[f] = false
+		if w >= 0 {
+			lv.rem[w] += r.infShare[f] * maxT
+		}
+		cleared = cleared || f == 0
+	}
+	return cleared
 }
 
 // flagIndex returns the index of the flag "the moment of order m+1 of axis
