@@ -128,7 +128,14 @@ func (r *rule) endCheck(k int, cur, prev, peak []float64, at float64, first bool
 				}
 				lv.rem[w] += g1 * q / (1 - q)
 			}
-			if g3 := math.Sqrt(cur[mid] * cur[hi]); ratio(mid)*ratio(hi) >= qMin*qMin && g3 > r.s.MomentTol*math.Sqrt(peak[mid]*peak[hi]) {
+			// |y|^3's share is below the geometric mean of y^2's and
+			// y^4's, and so is its end: the geometric mean of their
+			// tolerances (with MomentTol alone, a walk whose fourth power
+			// ended at its own looser tolerance flagged the third moment
+			// infinite: a two-component mixture's means, under normal
+			// priors).
+			tol3 := math.Sqrt(r.momentTol(mid) * r.momentTol(hi))
+			if g3 := math.Sqrt(cur[mid] * cur[hi]); ratio(mid)*ratio(hi) >= qMin*qMin && g3 > tol3*math.Sqrt(peak[mid]*peak[hi]) {
 				r.raise(lv, flagIndex(d, sc, 2, a), g3)
 			}
 		}

@@ -90,3 +90,36 @@ func TestStrayTailRegression(t *testing.T) {
 		t.Errorf("sd of b %.5f, importance sampling %.5f", ex.SD[1], sdB)
 	}
 }
+
+// A two-component mixture with a weight w on [0, 1] and normal priors on
+// the means: the density is unchanged when (w, m1, m2) become (1 - w, m2,
+// m1), so the marginals of m1 and m2 are the same (an identity), and every
+// moment of each is finite (the likelihood is bounded and the priors are
+// normal). The walks of m2's far tail ended with its fourth power at its
+// own looser tolerance, and the third moment's flag, judged at the second
+// power's, called the third and fourth moments of m2 infinite while m1's
+// kurtosis was reported.
+func TestMixtureMomentsSymmetric(t *testing.T) {
+	src := "y = [-1.2, -0.8, -1.5, -0.3, 2.1, 2.6, 1.9, 2.4, 3.0, -1.1]\n" +
+		"param w in [0, 1]\nparam m1\nparam m2\n" +
+		"sum(log(w*exp(ld_normal(y, m1, 0.7)) + (1-w)*exp(ld_normal(y, m2, 0.7)))) + ld_normal(m1, 0, 5) + ld_normal(m2, 0, 5)\n"
+	var res *Result
+	withRule(func() { res = analyseSource(t, src, Options{}) })
+	ex := res.Exact
+	for _, k := range []int{1, 2} {
+		if math.IsNaN(ex.SD[k]) || math.IsNaN(ex.Skewness[k]) || math.IsNaN(ex.ExcessKurtosis[k]) {
+			t.Errorf("m%d: sd %v, skewness %v, excess kurtosis %v: want all reported", k, ex.SD[k], ex.Skewness[k], ex.ExcessKurtosis[k])
+		}
+	}
+	if d := math.Abs(ex.ExcessKurtosis[1] - ex.ExcessKurtosis[2]); !(d < 1e-4) {
+		t.Errorf("excess kurtosis of m1 %v, of m2 %v: want equal", ex.ExcessKurtosis[1], ex.ExcessKurtosis[2])
+	}
+	if d := math.Abs(ex.SD[1] - ex.SD[2]); !(d < 1e-6*ex.SD[1]) {
+		t.Errorf("sd of m1 %v, of m2 %v: want equal", ex.SD[1], ex.SD[2])
+	}
+	for _, d := range res.Diagnostics {
+		if d.Code == CodeHeavyTails {
+			t.Errorf("heavy tails reported: %s", d.Message)
+		}
+	}
+}
