@@ -265,16 +265,8 @@ func TestFunnelPairLevels(t *testing.T) {
 	if res.Plots == nil || len(res.Plots.Pairs) != 1 {
 		t.Fatalf("plots %+v", res.Plots)
 	}
-	rng := rand.New(rand.NewPCG(1, 2))
-	const n = 400000
-	ps := make([]float64, n)
-	for i := range ps {
-		v := 3 * rng.NormFloat64()
-		s := math.Exp(v / 2)
-		x := s * rng.NormFloat64()
-		ps[i] = math.Exp(-v*v/18-x*x/(2*s*s)) / (2 * math.Pi * 3 * s)
-	}
-	sort.Float64s(ps)
+	ps := funnelDensityDraws(400000)
+	n := float64(len(ps))
 	for c, f := range contourMasses {
 		want := ps[int((1-f)*n)]
 		got := res.Plots.Pairs[0].Levels[c]
@@ -302,16 +294,8 @@ func TestFunnel3DPairLevels(t *testing.T) {
 	if res.Plots == nil || len(res.Plots.Pairs) != 3 {
 		t.Fatalf("plots %+v", res.Plots)
 	}
-	rng := rand.New(rand.NewPCG(1, 2))
-	const n = 400000
-	ps := make([]float64, n)
-	for i := range ps {
-		v := 3 * rng.NormFloat64()
-		s := math.Exp(v / 2)
-		x := s * rng.NormFloat64()
-		ps[i] = math.Exp(-v*v/18-x*x/(2*s*s)) / (2 * math.Pi * 3 * s)
-	}
-	sort.Float64s(ps)
+	ps := funnelDensityDraws(400000)
+	n := float64(len(ps))
 	for _, p := range res.Plots.Pairs {
 		if p.I != 0 {
 			// (x1, x2), a scale mixture peaked at the origin, whose 39 %
@@ -350,4 +334,21 @@ func hasDiagnostic(res *Result, code, text string) bool {
 		}
 	}
 	return false
+}
+
+// funnelDensityDraws returns, sorted, the 2-D funnel's density (v ~ N(0,
+// 3^2), x | v ~ N(0, e^v)) at n draws of its own definition: its (1 - f)
+// quantile is the level whose superlevel set holds the share f of the mass
+// (a Monte Carlo estimate, ours).
+func funnelDensityDraws(n int) []float64 {
+	rng := rand.New(rand.NewPCG(1, 2))
+	ps := make([]float64, n)
+	for i := range ps {
+		v := 3 * rng.NormFloat64()
+		s := math.Exp(v / 2)
+		x := s * rng.NormFloat64()
+		ps[i] = math.Exp(-v*v/18-x*x/(2*s*s)) / (2 * math.Pi * 3 * s)
+	}
+	sort.Float64s(ps)
+	return ps
 }
