@@ -109,7 +109,7 @@ func (r *runner) tilted1At(st *site, rl rule1d, m, v, pc, hc, mb, vb float64) (J
 	}
 	var z0, z1 float64
 	for k, l := range lf {
-		e := math.Exp(l - mx)
+		e := special.Exp(l - mx)
 		lf[k] = e
 		z0 += e
 		z1 += e * rl.z[k]
