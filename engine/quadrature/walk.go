@@ -197,14 +197,13 @@ func (r *rule) raise(lv *level, f int, share float64) {
 // slope's mean and variance were flagged infinite under a normal prior).
 // Such a walk is no evidence of an infinite integral; what it leaves
 // beyond MaxT is counted in the remainders as another MaxT of its last
-// share. It reports whether it cleared the density's flag.
-func (r *rule) clearStrayFlags() bool {
+// share.
+func (r *rule) clearStrayFlags() {
 	lv := &r.lv[0]
 	d := r.d
 	tot := make([]float64, r.lay.nWatch)
 	r.lay.watchFromFull(lv.sum[0], tot)
 	maxT := r.s.withDefaults().MaxT
-	cleared := false
 	for f, on := range lv.inf {
 		if !on {
 			continue
@@ -238,9 +237,7 @@ func (r *rule) clearStrayFlags() bool {
 		if w >= 0 {
 			lv.rem[w] += r.infShare[f] * maxT
 		}
-		cleared = cleared || f == 0
 	}
-	return cleared
 }
 
 // flagIndex returns the index of the flag "the moment of order m+1 of axis
