@@ -84,7 +84,7 @@ func (res *Result) PairNodes(ctx context.Context, i, j int) (dens, mass []float6
 // twice the main rule's step put it 2e-4 high on the 3-D funnel).
 const (
 	pairMaxValues = 6000
-	pairLogZTol  = 0.01
+	pairLogZTol   = 0.01
 )
 
 // ErrPairUnresolved means a pair rule does not resolve the pair marginal:
