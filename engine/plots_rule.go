@@ -445,25 +445,9 @@ func (a *analysis) pairLevels2D(lv []float64) []float64 {
 	if !a.ref.onNodes() {
 		return lv
 	}
-	ns := a.ref.quad.Nodes
-	n := ns.Len()
-	dens, mass := make([]float64, n), make([]float64, n)
-	z := make([]float64, a.d)
-	for i := 0; i < n; i++ {
-		ns.Point(i, z)
-		lj := 0.0
-		for k := range z {
-			lj += a.ref.quadMaps[k].LogJacobian(z[k])
-		}
-		// On the original scale: p_x = p_z / |dx/dz|, normalised.
-		dens[i] = special.Exp(ns.LogP(i) - lj - a.ref.logZ)
-		mass[i] = special.Exp(ns.LogWeight(i) + ns.LogP(i) - a.ref.logZ)
-	}
-	byNodes := grid.Levels(dens, mass, contourMasses[:])
-	for _, l := range byNodes {
-		if !(l > 0) || math.IsInf(l, 1) {
-			return lv
-		}
+	byNodes, ok := levelsOfNodes(quadrature.NodeShares(a.ref.quad.Nodes, a.ref.logZ, a.ref.quadMaps))
+	if !ok {
+		return lv
 	}
 	for c := 0; c < 2; c++ {
 		if !(math.Abs(math.Log(byNodes[c]/lv[c])) <= levelDispute) {
@@ -488,9 +472,10 @@ func (a *analysis) pairLevels2D(lv []float64) []float64 {
 // contours are drawn (levels 0) and a warning says why: so on the 3-D
 // funnel's (x1, x2) pair, a scale mixture peaked at the origin (its image
 // held 0.07 of the mass, its 39 % level 1,000 times too low against Monte
-// Carlo, and its pair rule's log Z missed by 0.47). An image that holds too little mass is not sent to the
-// pair rule: the short Lorenz-63 cost's held 0.88, and its pair rule,
-// centred on one mode of several, missed log Z by 0.17 after 300 ms.
+// Carlo, and its pair rule's log Z missed by 0.47). An image that holds
+// too little mass is not sent to the pair rule: the short Lorenz-63
+// cost's held 0.88, and its pair rule, centred on one mode of several,
+// missed log Z by 0.17 after 300 ms.
 func (a *analysis) pairLevelsNested(q *quadrature.Result, i, j int, lv, raw []float64, total float64) ([]float64, error) {
 	disputed := !(math.Log(total) <= imageMassDispute)
 	for c := 0; c < 2; c++ {
@@ -513,17 +498,27 @@ func (a *analysis) pairLevelsNested(q *quadrature.Result, i, j int, lv, raw []fl
 			a.names[j], a.names[i])
 		return []float64{0, 0, 0}, nil
 	}
-	byNodes := grid.Levels(dens, mass, contourMasses[:])
-	for _, l := range byNodes {
-		if !(l > 0) || math.IsInf(l, 1) {
-			return lv, nil
-		}
+	if byNodes, ok := levelsOfNodes(dens, mass); ok {
+		return byNodes, nil
 	}
-	return byNodes, nil
+	return lv, nil
 }
 
-// imageMassDispute is the largest |log| of a pair image's mass for which
-// its levels stand without a pair rule (pairLevelsNested).
+// levelsOfNodes returns the levels enclosing contourMasses of the mass
+// from weighted nodes (quadrature.NodeShares), and whether each is
+// positive and finite.
+func levelsOfNodes(dens, mass []float64) ([]float64, bool) {
+	lv := grid.Levels(dens, mass, contourMasses[:])
+	for _, l := range lv {
+		if !(l > 0) || math.IsInf(l, 1) {
+			return nil, false
+		}
+	}
+	return lv, true
+}
+
+// imageMassDispute is the largest log of a pair image's mass for which its
+// levels stand without a pair rule (pairLevelsNested).
 const imageMassDispute = 0.1
 
 // levelDispute is the largest |log| ratio of the image's level to the

@@ -8,6 +8,7 @@ import (
 
 	"bellcheck/engine/special"
 	"bellcheck/engine/target"
+	"bellcheck/engine/transform"
 )
 
 // PairNodes integrates the pair marginal of parameters i and j (three or
@@ -65,17 +66,30 @@ func (res *Result) PairNodes(ctx context.Context, i, j int) (dens, mass []float6
 	if !(math.Abs(pr.LogZ-res.LogZ) <= pairLogZTol && pr.LogZErr <= pairLogZTol) {
 		return nil, nil, fmt.Errorf("%w: the pair rule's log Z is off the main rule's by %.3g (error estimate %.3g)", ErrPairUnresolved, pr.LogZ-res.LogZ, pr.LogZErr)
 	}
-	mi, mj := res.mapOf(i), res.mapOf(j)
-	n := pr.Nodes.Len()
-	dens, mass = make([]float64, n), make([]float64, n)
-	z := make([]float64, 2)
-	for k := 0; k < n; k++ {
-		pr.Nodes.Point(k, z)
-		lp := pr.Nodes.LogP(k) - pr.LogZ
-		dens[k] = special.Exp(lp - mi.LogJacobian(z[0]) - mj.LogJacobian(z[1]))
-		mass[k] = special.Exp(pr.Nodes.LogWeight(k) + lp)
-	}
+	dens, mass = NodeShares(pr.Nodes, pr.LogZ, []transform.Map{res.mapOf(i), res.mapOf(j)})
 	return dens, mass, nil
+}
+
+// NodeShares returns at each node of ns the density on the original scale
+// of maps (one per coordinate), normalised by exp(logZ), and the node's
+// share of the mass: the weighted points whose sums over a superlevel set
+// of the density give the mass it holds (contour levels from a rule's
+// nodes).
+func NodeShares(ns NodeSet, logZ float64, maps []transform.Map) (dens, mass []float64) {
+	n := ns.Len()
+	dens, mass = make([]float64, n), make([]float64, n)
+	z := make([]float64, len(maps))
+	for i := 0; i < n; i++ {
+		ns.Point(i, z)
+		lj := 0.0
+		for k, mp := range maps {
+			lj += mp.LogJacobian(z[k])
+		}
+		// On the original scale: p_x = p_z / |dx/dz|.
+		dens[i] = special.Exp(ns.LogP(i) - lj - logZ)
+		mass[i] = special.Exp(ns.LogWeight(i) + ns.LogP(i) - logZ)
+	}
+	return dens, mass
 }
 
 // pairMaxValues bounds the values of a pair rule (each a slice's rule).
