@@ -155,11 +155,7 @@ func (a *analysis) quadratureStart(p *transform.Density, maps []transform.Map) (
 	d := a.d
 	var found []polished
 	for _, fm := range a.modes.fitModes {
-		z0 := make([]float64, d)
-		for k := range z0 {
-			z0[k] = maps[k].FromOriginal(a.maps[k].ToOriginal(fm.X[k]))
-		}
-		m, ok, err := a.polish(p, z0)
+		m, ok, err := a.polish(p, a.startInside(fm.X, maps))
 		if err != nil {
 			return quadrature.Start{}, false, err
 		}
@@ -197,6 +193,32 @@ func (a *analysis) quadratureStart(p *transform.Density, maps []transform.Map) (
 		}
 	}
 	return quadrature.Start{Mode: mean, Cov: cov}, true, nil
+}
+
+// startInside returns the unconstrained point of a mode x on the fitting
+// scale, from which to polish it there. A coordinate on a bound of the
+// support (a mode the fitting scale puts on the bound, as a Student t's
+// degrees of freedom at their lower limit of 1) maps to infinity; it starts
+// one grid spacing inside instead, where the Newton search on the
+// unconstrained scale, whose Jacobian vanishes at the bound, finds the
+// mode there.
+func (a *analysis) startInside(x []float64, maps []transform.Map) []float64 {
+	z0 := make([]float64, a.d)
+	for k := range z0 {
+		xo := a.maps[k].ToOriginal(x[k])
+		z0[k] = maps[k].FromOriginal(xo)
+		if !math.IsInf(z0[k], 0) || a.ref.grid == nil {
+			continue
+		}
+		step := a.ref.grid.Spacing(k)
+		if z0[k] < 0 {
+			xo = a.maps[k].ToOriginal(x[k] + step)
+		} else {
+			xo = a.maps[k].ToOriginal(x[k] - step)
+		}
+		z0[k] = maps[k].FromOriginal(xo)
+	}
+	return z0
 }
 
 // polished is a mode on the unconstrained scale: the point, log p there,
