@@ -34,7 +34,7 @@ import (
 //	                                       be the forward-KL fit
 //	ep_improper_site       warning         EP skipped site updates in its last sweep (an improper cavity or
 //	                                       approximation) or a cavity is improper at the end (its log Z is absent)
-//	ep_quadrature          warning / info  EP's tilted moments carry a quadrature error over 1e-6 with the finest rule;
+//	ep_quadrature          warning / info  EP's tilted moments carry a quadrature error over 1e-6 with the finest rule it tried;
 //	                                       warning over 1e-4
 //	infinite_kl            warning / info  a parameter's support is bounded on its fitting scale, so every Gaussian
 //	                                       has KL(q||p) = inf; warning when the reverse-KL fits do not exist for

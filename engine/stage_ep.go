@@ -160,11 +160,11 @@ func (a *analysis) fitEP() error {
 				list(cut), their)
 		}
 		a.diag.add(CodeEPQuadrature, SeverityWarning,
-			"EP's tilted moments carry a quadrature error of about %.2g (relative to the approximation's standard deviations) even with the finest rule: a factor's tilted distribution is far from Gaussian.%s",
+			"EP's tilted moments carry a quadrature error of about %.2g (relative to the approximation's standard deviations) that finer rules do not remove: a factor's tilted distribution is far from Gaussian.%s",
 			r.QuadratureError, hint)
 	case r.QuadratureError > 1e-6:
 		a.diag.add(CodeEPQuadrature, SeverityInfo,
-			"EP's tilted moments carry a quadrature error of about %.2g of the approximation's standard deviations with the finest rule, below the 1e-4 the comparisons resolve.",
+			"EP's tilted moments carry a quadrature error of about %.2g of the approximation's standard deviations with the finest rule it tried, below the 1e-4 the comparisons resolve.",
 			r.QuadratureError)
 	}
 	return nil

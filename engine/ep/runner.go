@@ -292,6 +292,7 @@ func (r *runner) run(ctx context.Context) (*Result, error) {
 	// best is the least change per sweep yet and sinceBest the sweeps
 	// since it (see stallSweeps).
 	best, sinceBest := math.Inf(1), 0
+	lastQuadErr := math.Inf(1)
 	for {
 		res.Status, res.Converged = MaxSweeps, false
 		for sweep < r.s.MaxSweeps {
@@ -348,7 +349,18 @@ func (r *runner) run(ctx context.Context) (*Result, error) {
 		r.finish(res)
 		// A finer rule where the tilted moments' quadrature error is too
 		// large, and more sweeps from where the sites are.
-		if res.Status == Stalled || !(res.QuadratureError > r.s.QuadTol) || sweep >= r.s.MaxSweeps || !r.refine() {
+		if res.Status == Stalled || !(res.QuadratureError > r.s.QuadTol) || sweep >= r.s.MaxSweeps {
+			return res, nil
+		}
+		if res.Refinements > 0 && res.QuadratureError > lastQuadErr/slowRefinement {
+			// The last doubling did not cut the error by slowRefinement:
+			// a tilted distribution with a kink or a cut (a factor cut off
+			// at a bound of the support), where Gauss-Hermite converges
+			// algebraically and QuadTol is out of reach.
+			return res, nil
+		}
+		lastQuadErr = res.QuadratureError
+		if !r.refine() {
 			return res, nil
 		}
 		res.Refinements++
@@ -386,6 +398,14 @@ func (r *runner) refine() bool {
 	}
 	return more
 }
+
+// slowRefinement is the least factor by which a doubling of the
+// quadrature orders must cut the tilted moments' error estimate for the
+// orders to be doubled again. Where the tilted distributions are smooth a
+// doubling cuts it by orders of magnitude; a Weibull model's shape and scale
+// fitted as they are (sites cut off at the bound 0) went 8.5e-4, 9.1e-4,
+// 5.3e-4, 3.3e-4 over three doublings, 90 % of its analysis's time.
+const slowRefinement = 4
 
 // maxNodes1D bounds the order of a one-dimensional rule when it is refined.
 const maxNodes1D = 512
