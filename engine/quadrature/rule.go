@@ -72,8 +72,13 @@ type rule struct {
 	// outermost level's sums, that a walk held at its end where it raised
 	// infinite flag f (flag layout; see clearStrayFlags).
 	infShare []float64
-	nearNaN  int // undefined nodes next to a node holding mass
-	done0    int
+	// resolvedShare[f] is the same over the walks whose density had
+	// decayed where they ended, and unresolvedZ[f] the largest share of
+	// the density itself over the walks that reached MaxT while it had
+	// not (see raise).
+	resolvedShare, unresolvedZ []float64
+	nearNaN                    int // undefined nodes next to a node holding mass
+	done0                      int
 }
 
 const maxNewton = 20
@@ -152,6 +157,8 @@ func newRule(ctx context.Context, p target.Density, st Start, s Settings) (*rule
 	r.pred = make([][]float64, d)
 	nw := r.lay.nWatch
 	r.infShare = make([]float64, 1+8*d)
+	r.resolvedShare = make([]float64, 1+8*d)
+	r.unresolvedZ = make([]float64, 1+8*d)
 	for k := range r.lv {
 		lv := &r.lv[k]
 		lv.mode, lv.slope = mk(), mk()

@@ -58,6 +58,12 @@ func (r *rule) endCheck(k int, cur, prev, peak []float64, at float64, first bool
 	lv := &r.lv[k]
 	remZ := 0.0
 	d := r.d
+	// A walk that reaches MaxT before the density's share falls has not
+	// seen the conditional's mass (a line far out in a funnel's neck,
+	// whose spike the rule does not resolve): what its flags say is
+	// judged by the density's share it held (see raise).
+	unresolved := atMax && !zSmall
+	raise := func(f int, share float64) { r.raise(lv, f, share, cur[0], unresolved) }
 	for c := range cur {
 		if cur[c] <= 0 {
 			// The density vanished (zero, or undefined where the model
@@ -95,19 +101,19 @@ func (r *rule) endCheck(k int, cur, prev, peak []float64, at float64, first bool
 		}
 		// The share does not decay: the integral is infinite.
 		if c == 0 {
-			r.raise(lv, 0, cur[0])
+			raise(0, cur[0])
 			continue
 		}
 		a := k + (c-1)/4
 		switch (c - 1) % 4 {
 		case 0:
-			r.raise(lv, flagIndex(d, 0, 1, a), cur[c])
+			raise(flagIndex(d, 0, 1, a), cur[c])
 		case 1:
-			r.raise(lv, flagIndex(d, 0, 3, a), cur[c])
+			raise(flagIndex(d, 0, 3, a), cur[c])
 		case 2:
-			r.raise(lv, flagIndex(d, 1, 1, a), cur[c])
+			raise(flagIndex(d, 1, 1, a), cur[c])
 		default:
-			r.raise(lv, flagIndex(d, 1, 3, a), cur[c])
+			raise(flagIndex(d, 1, 3, a), cur[c])
 		}
 	}
 	// Odd moments: |y| and |y|^3 lie between the even powers (Lyapunov's
@@ -119,7 +125,7 @@ func (r *rule) endCheck(k int, cur, prev, peak []float64, at float64, first bool
 			lo, mid, hi := 0, b+2*sc, b+2*sc+1 // 1, y^2, y^4 (or x~^2, x~^4)
 			g1 := math.Sqrt(cur[lo] * cur[mid])
 			if q2 := ratio(lo) * ratio(mid); q2 >= qMin*qMin && g1 > r.s.MomentTol*math.Sqrt(peak[lo]*peak[mid]) {
-				r.raise(lv, flagIndex(d, sc, 0, a), g1)
+				raise(flagIndex(d, sc, 0, a), g1)
 			} else if q2 < qMin*qMin && g1 > 0 {
 				q := math.Sqrt(q2)
 				w := r.lay.wY1(a)
@@ -136,7 +142,7 @@ func (r *rule) endCheck(k int, cur, prev, peak []float64, at float64, first bool
 			// priors).
 			tol3 := math.Sqrt(r.momentTol(mid) * r.momentTol(hi))
 			if g3 := math.Sqrt(cur[mid] * cur[hi]); ratio(mid)*ratio(hi) >= qMin*qMin && g3 > tol3*math.Sqrt(peak[mid]*peak[hi]) {
-				r.raise(lv, flagIndex(d, sc, 2, a), g3)
+				raise(flagIndex(d, sc, 2, a), g3)
 			}
 		}
 	}
@@ -182,11 +188,22 @@ func (r *rule) watchIndex(k, c int) int {
 }
 
 // raise sets infinite flag f of level lv, whose walk ended holding the
-// share per unit t share of the flagged component, and records that share
-// in the units of the outermost level's sums (clearStrayFlags).
-func (r *rule) raise(lv *level, f int, share float64) {
+// share per unit t share of the flagged component and zShare of the
+// density, and records them in the units of the outermost level's sums
+// (clearStrayFlags): the component's share where the walk's density had
+// decayed, the density's where the walk was unresolved (it reached MaxT
+// with the density's share still high: its last moment shares, at the
+// far end of a line that never found the mass, say nothing of the
+// moment's tail).
+func (r *rule) raise(lv *level, f int, share, zShare float64, unresolved bool) {
 	lv.inf[f] = true
-	r.infShare[f] = max(r.infShare[f], share*special.Exp(lv.logW-r.ldL))
+	scale := special.Exp(lv.logW - r.ldL)
+	r.infShare[f] = max(r.infShare[f], share*scale)
+	if unresolved {
+		r.unresolvedZ[f] = max(r.unresolvedZ[f], zShare*scale)
+	} else {
+		r.resolvedShare[f] = max(r.resolvedShare[f], share*scale)
+	}
 }
 
 // clearStrayFlags clears the infinite flags of the outermost level whose
@@ -195,7 +212,12 @@ func (r *rule) raise(lv *level, f int, share float64) {
 // a spike: the 4-D Student-t regression with its scale on [0, inf] had a
 // walk that did not decay holding 1e-24 of the density's sum, and its
 // slope's mean and variance were flagged infinite under a normal prior).
-// Such a walk is no evidence of an infinite integral; what it leaves
+// Such a walk is no evidence of an infinite integral; nor is a walk that
+// reached MaxT before the density's share fell (it never found the
+// conditional's mass), judged by the density's share it held: the inner
+// walks far in a hierarchical model's neck (two group means under a
+// shared sd on [0, inf]) flagged a group mean's fourth moment infinite
+// holding 1e-13 of the density's sum. What such walks leave
 // beyond MaxT is counted in the remainders as another MaxT of its last
 // share.
 func (r *rule) clearStrayFlags() {
@@ -230,7 +252,7 @@ func (r *rule) clearStrayFlags() {
 				total, w = tot[y4], y4
 			}
 		}
-		if !(r.infShare[f] < strayTail*total) {
+		if !(r.resolvedShare[f] < strayTail*total && r.unresolvedZ[f] < strayTail*tot[0]) {
 			continue
 		}
 		lv.inf[f] = false
