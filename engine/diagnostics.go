@@ -51,7 +51,8 @@ import (
 //	                                       (a rule of thumb, common practice)
 //	tails_kurtosis         warning         a marginal's excess kurtosis exceeds 1 in size on the fitting scale
 //	                                       (a rule of thumb, common practice)
-//	grid_error             warning         the grid's error estimate is large: log Z off by more than 1e-3, a mean
+//	grid_error             warning         the reference's error estimate (the grid's, or the nested rule's where it
+//	                                       stands) is large: log Z off by more than 1e-3, a mean
 //	                                       by more than 1e-3 sd or a variance by more than 1 %
 //	fit_off_grid           info            a fit has more than 1e-6 of its mass outside the box (its KL(q||p) then
 //	                                       comes from a cubature in its own coordinates) or is too narrow for the

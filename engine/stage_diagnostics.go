@@ -110,7 +110,14 @@ func (a *analysis) gridDiagnostics() {
 			bad = append(bad, fmt.Sprintf("the variance of %s by %s", a.names[k], percent(o.CovErr[k][k]/v)))
 		}
 	}
-	if len(bad) > 0 && a.avail.resolved() {
+	switch {
+	case len(bad) == 0 || !a.avail.resolved():
+	case a.ref.onNodes():
+		// The estimates are the nested rule's (its steps h, 2h and 4h),
+		// not the grid's: more grid points would change nothing.
+		a.diag.add(CodeGridError, SeverityWarning,
+			"The exact results are less precise than usual: by the nested rule's error estimate (from its steps h, 2h and 4h) they may be off in %s.", list(bad))
+	default:
 		a.diag.add(CodeGridError, SeverityWarning,
 			"The grid may be too coarse: at half resolution it changes %s; give the parameters more points.", list(bad))
 	}
