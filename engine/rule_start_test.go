@@ -99,3 +99,28 @@ func TestStudentDofOnBound(t *testing.T) {
 		t.Errorf("mean of nu %.5f, importance sampling %.5f", ex.Mean[2], enu)
 	}
 }
+
+// A mixture of two normals, N(0, 1) with weight 0.7 and N(8, 0.05) with
+// weight 0.3: the nested rule starts from the two modes' summary Gaussian
+// (sd about 3.8), whose nodes near x = 8 lie farther apart than the narrow
+// component is wide, and its log Z came out log 0.7 and its mean 0, the
+// wide component's alone, with no warning (the 1,001-point scouting grid
+// saw both and gave their masses). Where the grid resolves the density and
+// holds clearly more mass than the rule, the grid's results now stand.
+// Closed forms (a mixture of normalised densities): log Z = 0, mean 0.3 x
+// 8 = 2.4, variance 0.7 + 0.3 x 0.05^2 + 0.7 x 0.3 x 8^2 = 14.14075.
+func TestNarrowMinorModeFallsBackToGrid(t *testing.T) {
+	src := "param x\nlog(0.7*exp(ld_normal(x, 0, 1)) + 0.3*exp(ld_normal(x, 8, 0.05)))\n"
+	var res *Result
+	withRule(func() { res = analyseSource(t, src, Options{}) })
+	ex := res.Exact
+	if !(math.Abs(ex.LogZ) <= 1e-6) {
+		t.Errorf("log Z %.9f, want 0", ex.LogZ)
+	}
+	if !(math.Abs(ex.Mean[0]-2.4) <= 1e-6) {
+		t.Errorf("mean %.9f, want 2.4", ex.Mean[0])
+	}
+	if !(math.Abs(ex.SD[0]-math.Sqrt(14.14075)) <= 1e-6) {
+		t.Errorf("sd %.9f, want %.9f", ex.SD[0], math.Sqrt(14.14075))
+	}
+}
