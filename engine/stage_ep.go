@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"strings"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -91,13 +92,13 @@ func (a *analysis) fitEP() error {
 		return nil
 	case err != nil:
 		a.avail.drop(EP.quantity(), CodeFitFailed)
-		a.diag.add(CodeFitFailed, SeverityError, "No EP fit: %v.", err)
+		a.diag.add(CodeFitFailed, SeverityError, "No EP fit: %s.%s", strings.TrimPrefix(err.Error(), "ep: "), a.epBoundHint())
 		return nil
 	}
 	if math.IsInf(r.QuadratureError, 0) || math.IsNaN(r.QuadratureError) || math.IsInf(r.MomentGap, 0) {
 		a.avail.drop(EP.quantity(), CodeFitFailed)
 		a.diag.add(CodeFitFailed, SeverityError,
-			"No EP fit: the tilted distribution of a factor (the factor times the rest of the approximation) could not be integrated at the end: its quadrature gives no finite moments.")
+			"No EP fit: the tilted distribution of a factor (the factor times the rest of the approximation) could not be integrated at the end: its quadrature gives no finite moments.%s", a.epBoundHint())
 		return nil
 	}
 	cov := mat.NewSymDense(a.d, nil)
@@ -124,8 +125,8 @@ func (a *analysis) fitEP() error {
 		// moment of the density (a misleading number is worse than none).
 		a.avail.drop(EP.quantity(), CodeEPImproperSite)
 		a.diag.add(CodeEPImproperSite, SeverityWarning,
-			"No EP fit: it did not converge in %d sweeps and could not update every site (in its last sweep %d of %d site updates were skipped: a cavity, or the approximation after an update, was not a proper Gaussian; %d tilted distributions could not be integrated).",
-			r.Sweeps, r.SkippedLast, nSites, r.UnsettledTilted)
+			"No EP fit: it did not converge in %d sweeps and could not update every site (in its last sweep %d of %d site updates were skipped: a cavity, or the approximation after an update, was not a proper Gaussian; %d tilted distributions could not be integrated).%s",
+			r.Sweeps, r.SkippedLast, nSites, r.UnsettledTilted, a.epBoundHint())
 		return nil
 	}
 	a.fits = append(a.fits, fitted{method: EP, g: g, run: run})
@@ -141,27 +142,9 @@ func (a *analysis) fitEP() error {
 	}
 	switch {
 	case r.QuadratureError > epQuadratureWarn:
-		var cut []string // bounded parameters fitted as they are
-		for k, b := range a.bounded {
-			if b {
-				cut = append(cut, a.names[k])
-			}
-		}
-		hint := ""
-		if len(cut) > 0 {
-			// On the bounded scale the cavity reaches past the bound, where
-			// the factors are zero: the normal model with a 1/s prior
-			// warned of 0.073 there and converged to 1.2e-5 on log s.
-			their := "its bounded scale"
-			if len(cut) > 1 {
-				their = "their bounded scales"
-			}
-			hint = fmt.Sprintf(" With %s fitted on %s the tilted distributions are cut off at the bound; on the log or logit scale they are smooth.",
-				list(cut), their)
-		}
 		a.diag.add(CodeEPQuadrature, SeverityWarning,
 			"EP's tilted moments carry a quadrature error of about %.2g (relative to the approximation's standard deviations) that finer rules do not remove: a factor's tilted distribution is far from Gaussian.%s",
-			r.QuadratureError, hint)
+			r.QuadratureError, a.epBoundHint())
 	case r.QuadratureError > 1e-6:
 		a.diag.add(CodeEPQuadrature, SeverityInfo,
 			"EP's tilted moments carry a quadrature error of about %.2g of the approximation's standard deviations with the finest rule it tried, below the 1e-4 the comparisons resolve.",
@@ -334,4 +317,27 @@ func allFinite(x []float64) bool {
 		}
 	}
 	return len(x) > 0
+}
+
+// epBoundHint is the sentence EP's warnings and failures end with where
+// bounded parameters are fitted as they are: on the bounded scale the
+// cavity reaches past the bound, where the factors are zero (the normal
+// model with a 1/s prior warned of a quadrature error of 0.073 there and
+// converged to 1.2e-5 on log s); empty otherwise.
+func (a *analysis) epBoundHint() string {
+	var cut []string // bounded parameters fitted as they are
+	for k, b := range a.bounded {
+		if b {
+			cut = append(cut, a.names[k])
+		}
+	}
+	if len(cut) == 0 {
+		return ""
+	}
+	their := "its bounded scale"
+	if len(cut) > 1 {
+		their = "their bounded scales"
+	}
+	return fmt.Sprintf(" With %s fitted on %s the tilted distributions are cut off at the bound; on the log or logit scale they are smooth.",
+		list(cut), their)
 }
