@@ -63,13 +63,7 @@ func TestStudentDofOnBound(t *testing.T) {
 		t.Fatal("proposal refused")
 	}
 	y := []float64{2.1, 1.7, 2.4, 8.9, 2.0, 1.5, 2.2, 2.6}
-	const n = 200000
-	ws := make([]float64, n)
-	nus := make([]float64, n)
-	z := make([]float64, 3)
-	top := math.Inf(-1)
-	for i := range ws {
-		q.Rand(z)
+	is := importanceSample(q, 3, 200000, func(z []float64) (float64, float64) {
 		s := math.Exp(z[1])
 		e := 1 / (1 + math.Exp(-z[2]))
 		nu := 1 + 59*e
@@ -77,20 +71,9 @@ func TestStudentDofOnBound(t *testing.T) {
 		for _, yi := range y {
 			l += distuv.StudentsT{Mu: z[0], Sigma: s, Nu: nu}.LogProb(yi)
 		}
-		ws[i] = l - q.LogProb(z)
-		nus[i] = nu
-		top = max(top, ws[i])
-	}
-	var sw, sw2, snu float64
-	for i, lw := range ws {
-		w := math.Exp(lw - top)
-		sw += w
-		sw2 += w * w
-		snu += w * nus[i]
-	}
-	logZ := top + math.Log(sw/n)
-	se := math.Sqrt(sw2/n-(sw/n)*(sw/n)) / math.Sqrt(n) / (sw / n) // relative standard error of Z
-	enu := snu / sw
+		return l, nu
+	})
+	logZ, se, enu := is.logZ, is.se, is.m1
 	t.Logf("log Z: rule %.7f ± %.2g, importance sampling %.7f ± %.2g; mean nu: rule %.5f, sampling %.5f", ex.LogZ, ex.LogZErr, logZ, se, ex.Mean[2], enu)
 	if d := math.Abs(ex.LogZ - logZ); d > 4*se || d > 0.01 {
 		t.Errorf("log Z %.7f, importance sampling %.7f ± %.2g", ex.LogZ, logZ, se)

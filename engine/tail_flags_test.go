@@ -59,30 +59,12 @@ func TestStrayTailRegression(t *testing.T) {
 	if !ok {
 		t.Fatal("proposal refused")
 	}
-	const n = 200000
-	ws := make([]float64, n)
-	bs := make([]float64, n)
-	z := make([]float64, 4)
-	top := math.Inf(-1)
-	for i := range ws {
-		q.Rand(z)
+	is := importanceSample(q, 4, 200000, func(z []float64) (float64, float64) {
 		s := math.Exp(z[3])
-		ws[i] = logP(z[0], z[1], z[2], s) + z[3] - q.LogProb(z) // + log |ds/dz|
-		bs[i] = z[1]
-		top = max(top, ws[i])
-	}
-	var sw, sw2, sb, sb2 float64
-	for i, lw := range ws {
-		w := math.Exp(lw - top)
-		sw += w
-		sw2 += w * w
-		sb += w * bs[i]
-		sb2 += w * bs[i] * bs[i]
-	}
-	logZ := top + math.Log(sw/n)
-	se := math.Sqrt(sw2/n-(sw/n)*(sw/n)) / math.Sqrt(n) / (sw / n) // relative standard error of Z
-	eb := sb / sw
-	sdB := math.Sqrt(sb2/sw - eb*eb)
+		return logP(z[0], z[1], z[2], s) + z[3], z[1] // + log |ds/dz|
+	})
+	logZ, se := is.logZ, is.se
+	sdB := math.Sqrt(is.m2 - is.m1*is.m1)
 	t.Logf("log Z: rule %.7f ± %.2g, importance sampling %.7f ± %.2g; sd b: rule %.5f, sampling %.5f", ex.LogZ, ex.LogZErr, logZ, se, ex.SD[1], sdB)
 	if d := math.Abs(ex.LogZ - logZ); d > 4*se || d > 0.01 {
 		t.Errorf("log Z %.7f, importance sampling %.7f ± %.2g", ex.LogZ, logZ, se)
@@ -212,5 +194,44 @@ func TestHierarchicalUnresolvedLines(t *testing.T) {
 	}
 	if !res.Grid.Scouted {
 		t.Errorf("the full grid was evaluated")
+	}
+}
+
+// sampled is what importanceSample returns: log Z, the relative standard
+// error of Z, and the weighted first and second moments of the draws'
+// values.
+type sampled struct {
+	logZ, se, m1, m2 float64
+}
+
+// importanceSample draws n points from the proposal q (of dimension d) and
+// weighs each by exp(target(z)) / q(z), where target returns the log of the
+// unnormalised density at z and a value whose moments are wanted.
+func importanceSample(q *distmv.StudentsT, d, n int, target func(z []float64) (logP, value float64)) sampled {
+	ws := make([]float64, n)
+	vs := make([]float64, n)
+	z := make([]float64, d)
+	top := math.Inf(-1)
+	for i := range ws {
+		q.Rand(z)
+		lp, v := target(z)
+		ws[i] = lp - q.LogProb(z)
+		vs[i] = v
+		top = max(top, ws[i])
+	}
+	var sw, sw2, sv, sv2 float64
+	for i, lw := range ws {
+		w := math.Exp(lw - top)
+		sw += w
+		sw2 += w * w
+		sv += w * vs[i]
+		sv2 += w * vs[i] * vs[i]
+	}
+	nf := float64(n)
+	return sampled{
+		logZ: top + math.Log(sw/nf),
+		se:   math.Sqrt(sw2/nf-(sw/nf)*(sw/nf)) / math.Sqrt(nf) / (sw / nf),
+		m1:   sv / sw,
+		m2:   sv2 / sw,
 	}
 }
