@@ -379,7 +379,8 @@ func (ip *interpolator) along(v, out []float64) {
 		p0, p1, p2, p3 := p[i], p[i+1], p[i+2], p[i+3]
 		l0, l1, l2, l3 := l[i], l[i+1], l[i+2], l[i+3]
 		inLog := math.Abs(l0-2*l1+l2) <= logBend && math.Abs(l1-2*l2+l3) <= logBend // false for a NaN
-		out[o] = p1                                                                 // the sample itself, exactly
+		// The sample itself, exactly.
+		out[o] = p1
 		o++
 		for s := 1; s < f; s++ {
 			t := float64(s) / float64(f)
