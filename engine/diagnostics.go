@@ -81,6 +81,9 @@ import (
 //	local_optima           info            (a cost model) the grid's lesser peaks, polished, reach local minima
 //	                                       that hold no posterior mass: their number, the deepest of them and how
 //	                                       much higher its J is
+//	rule_missed_mass       info            the nested rule's log Z fell short of a grid that resolves the density
+//	                                       (a mode far narrower than the others, stepped over): the exact results
+//	                                       are the grid's
 const (
 	CodeSeveralModes        = "several_modes"
 	CodeEdgeMass            = "edge_mass"
@@ -107,6 +110,7 @@ const (
 	CodeLostPrecision       = "lost_precision"
 	CodeStartsDisagree      = "starts_disagree"
 	CodeLocalOptima         = "local_optima"
+	CodeRuleMissedMass      = "rule_missed_mass"
 )
 
 // Thresholds of the diagnostics.

@@ -89,7 +89,8 @@ func TestStudentDofOnBound(t *testing.T) {
 // component is wide, and its log Z came out log 0.7 and its mean 0, the
 // wide component's alone, with no warning (the 1,001-point scouting grid
 // saw both and gave their masses). Where the grid resolves the density and
-// holds clearly more mass than the rule, the grid's results now stand.
+// holds clearly more mass than the rule, the grid's results now stand,
+// with a note saying why.
 // Closed forms (a mixture of normalised densities): log Z = 0, mean 0.3 x
 // 8 = 2.4, variance 0.7 + 0.3 x 0.05^2 + 0.7 x 0.3 x 8^2 = 14.14075.
 func TestNarrowMinorModeFallsBackToGrid(t *testing.T) {
@@ -105,5 +106,12 @@ func TestNarrowMinorModeFallsBackToGrid(t *testing.T) {
 	}
 	if !(math.Abs(ex.SD[0]-math.Sqrt(14.14075)) <= 1e-6) {
 		t.Errorf("sd %.9f, want %.9f", ex.SD[0], math.Sqrt(14.14075))
+	}
+	said := false
+	for _, d := range res.Diagnostics {
+		said = said || d.Code == CodeRuleMissedMass
+	}
+	if !said {
+		t.Errorf("no %s note: %+v", CodeRuleMissedMass, res.Diagnostics)
 	}
 }

@@ -115,6 +115,11 @@ func (a *analysis) integrateNested() (*quadrature.Result, []transform.Map, error
 		return nil, nil, nil
 	}
 	if a.ruleMissesGridMass(q) {
+		if !a.scout {
+			a.diag.add(CodeRuleMissedMass, SeverityInfo,
+				"The nested rule found less mass than the grid (log Z %.4g against the grid's %.4g): it starts from one Gaussian summarising the modes, whose nodes can step over a mode far narrower than the others; the exact results are the grid's.",
+				q.LogZ, a.ref.grid.Stats.LogZ)
+		}
 		return nil, nil, nil
 	}
 	// A grid that cannot resolve the density has no log Z to check the
