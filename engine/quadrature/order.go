@@ -12,9 +12,20 @@ import (
 // depends (a scale: moving it changes how wide the others are) goes
 // outside, so that each of its nodes rescales the inner axes, rather than
 // inside, where its conditional would follow the others' heavy marginals.
-// The score of parameter a is the sum over the others b of
-// |log(-H_bb(mode + 2 sd_a e_a) / -H_bb(mode))| over both signs; the highest
-// score comes first. It costs 2d evaluations of the Hessian.
+// With c0, c+ and c- the curvature -H_bb of another parameter b at the mode
+// and at mode +- 2 sd_a e_a, the score of parameter a sums over the others
+// |log(c+/c-)|, the part of the change that is odd in the step, plus a
+// quarter of |log(c+ c- / c0^2)|, the even part; the highest score comes
+// first. A scale changes the others' curvature one way when it grows and
+// the other way when it shrinks; a location whose spread a scale sets
+// changes the scale's curvature the same way on both sides (z ~ N(0, g):
+// -d2/du2 of z^2/(2g) over u = log g is z^2/(2g), even in z). Taking the
+// location outside makes the outer integrand its marginal, which a
+// mixture of scales leaves not analytic at the centre (z ~ N(0, g), g ~
+// Gamma(3, 2): |z|^5 there, and the trapezoid rule's error falls only
+// like h^6: log Z off by 3e-7 at h = 1/8, against 2e-8 at h = 1/4 with g
+// outside; see TestScaleOrderPutsTheScaleOutside). It costs 2d
+// evaluations of the Hessian.
 func ScaleOrder(p target.Density, start Start) []int {
 	d := p.Dim()
 	order := identityOrder(d)
@@ -30,13 +41,19 @@ func ScaleOrder(p target.Density, start Start) []int {
 		return order
 	}
 	score := make([]float64, d)
+	logRatio := make([][2]float64, d) // log(c/c0) of each other parameter, at + and - 2 sd
 	for a := 0; a < d; a++ {
 		sd := math.Sqrt(cov[a*d+a])
-		for _, sign := range [2]float64{1, -1} {
+		usable := make([]bool, d)
+		for b := range usable {
+			usable[b] = true
+		}
+		for side, sign := range [2]float64{1, -1} {
 			copy(x, start.Mode)
 			x[a] += sign * 2 * sd
 			if f := p.LogDensityDerivs(x, g, h); math.IsNaN(f) || math.IsInf(f, 0) {
 				score[a] += 10 // leaving the support within two sds: a boundary axis
+				clear(usable)
 				continue
 			}
 			for b := 0; b < d; b++ {
@@ -44,12 +61,23 @@ func ScaleOrder(p target.Density, start Start) []int {
 					continue
 				}
 				c0, c1 := -h0[b*d+b], -h[b*d+b]
-				if c0 > 0 && c1 > 0 {
-					score[a] += math.Abs(math.Log(c1 / c0))
-				} else if c0 > 0 {
+				switch {
+				case c0 > 0 && c1 > 0:
+					logRatio[b][side] = math.Log(c1 / c0)
+				case c0 > 0:
 					score[a] += 10
+					usable[b] = false
+				default:
+					usable[b] = false
 				}
 			}
+		}
+		for b := 0; b < d; b++ {
+			if b == a || !usable[b] {
+				continue
+			}
+			up, down := logRatio[b][0], logRatio[b][1]
+			score[a] += math.Abs(up-down) + math.Abs(up+down)/4
 		}
 	}
 	sort.SliceStable(order, func(i, j int) bool { return score[order[i]] > score[order[j]]+1e-9 })

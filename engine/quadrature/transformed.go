@@ -90,12 +90,12 @@ func (res *Result) MomentsOf(f func(z, y []float64)) Moments {
 	}
 	for a := 0; a < d; a++ {
 		sd := math.Sqrt(math.Abs(st[0].cov[a*d+a]))
-		mo.MeanErr[a] = estimate(st[0].mean[a], st[1].mean[a], st[2].mean[a], sd) + roundoff*(sd+math.Abs(st[0].mean[a]))
-		mo.SkewnessErr[a] = estimate(st[0].skew[a], st[1].skew[a], st[2].skew[a], 1) + roundoff
-		mo.KurtosisErr[a] = estimate(st[0].kurt[a], st[1].kurt[a], st[2].kurt[a], 1) + roundoff
+		mo.MeanErr[a] = estimate(st[0].mean[a], st[1].mean[a], st[2].mean[a], sd, 0) + roundoff*(sd+math.Abs(st[0].mean[a]))
+		mo.SkewnessErr[a] = estimate(st[0].skew[a], st[1].skew[a], st[2].skew[a], 1, 0) + roundoff
+		mo.KurtosisErr[a] = estimate(st[0].kurt[a], st[1].kurt[a], st[2].kurt[a], 1, 0) + roundoff
 		for b := 0; b < d; b++ {
 			sc := math.Sqrt(math.Abs(st[0].cov[a*d+a] * st[0].cov[b*d+b]))
-			mo.CovErr[a*d+b] = estimate(st[0].cov[a*d+b], st[1].cov[a*d+b], st[2].cov[a*d+b], sc) + roundoff*sc
+			mo.CovErr[a*d+b] = estimate(st[0].cov[a*d+b], st[1].cov[a*d+b], st[2].cov[a*d+b], sc, 0) + roundoff*sc
 		}
 	}
 	return mo
