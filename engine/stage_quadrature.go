@@ -78,11 +78,11 @@ func (a *analysis) integrateNested() (*quadrature.Result, []transform.Map, error
 	if err != nil {
 		return nil, nil, nil
 	}
-	start, ok, err := a.quadratureStart(p, maps)
+	start, several, ok, err := a.quadratureStart(p, maps)
 	if err != nil || !ok {
 		return nil, nil, err
 	}
-	a.ref.severalModes = start.NegHessian == nil
+	a.ref.severalModes = several
 	q, err := quadrature.Integrate(a.ctx, p, start, quadrature.Settings{Maps: maps, Progress: a.tr.at, Tick: a.tr.beat})
 	if err != nil {
 		if ctxErr := a.ctx.Err(); ctxErr != nil {
@@ -189,27 +189,36 @@ func (a *analysis) gridSeesHeavyTails() bool {
 // the best mode with its curvature, or, where the mode search found
 // several, the Gaussian mixture of the modes (weighted by their masses)
 // summarised by its mean and covariance, which covers them all.
-func (a *analysis) quadratureStart(p *transform.Density, maps []transform.Map) (quadrature.Start, bool, error) {
+func (a *analysis) quadratureStart(p *transform.Density, maps []transform.Map) (start quadrature.Start, several, ok bool, err error) {
 	d := a.d
 	var found []polished
+	onBound := false
 	for _, fm := range a.modes.fitModes {
+		onBound = onBound || fm.OnBound
 		m, ok, err := a.polish(p, a.startInside(fm.X, maps))
 		if err != nil {
-			return quadrature.Start{}, false, err
+			return quadrature.Start{}, false, false, err
 		}
 		if ok && !seen(found, m) {
 			found = append(found, m)
 		}
 	}
 	if len(found) == 0 {
-		return quadrature.Start{}, false, nil
+		if !onBound {
+			// No mode where the fitting scale has one inside the support:
+			// a kink or a flat top, whose curvature says nothing; the
+			// grid's results stay.
+			return quadrature.Start{}, false, false, nil
+		}
+		start, ok := a.gridStart(maps)
+		return start, false, ok, nil
 	}
-	found, err := a.wideStarts(p, found)
+	found, err = a.wideStarts(p, found)
 	if err != nil {
-		return quadrature.Start{}, false, err
+		return quadrature.Start{}, false, false, err
 	}
 	if len(found) == 1 {
-		return quadrature.Start{Mode: found[0].x, Cov: nil, NegHessian: inverse(found[0].cov, d)}, true, nil
+		return quadrature.Start{Mode: found[0].x, Cov: nil, NegHessian: inverse(found[0].cov, d)}, false, true, nil
 	}
 	total := 0.0
 	for _, f := range found {
@@ -230,7 +239,57 @@ func (a *analysis) quadratureStart(p *transform.Density, maps []transform.Map) (
 			}
 		}
 	}
-	return quadrature.Start{Mode: mean, Cov: cov}, true, nil
+	return quadrature.Start{Mode: mean, Cov: cov}, true, true, nil
+}
+
+// gridStart returns a start for the nested rule from the scouting grid's
+// moments where the density has no mode on the unconstrained scale and
+// the fitting scale's mode lies on a bound of the support: the
+// means and sds of the unconstrained coordinates under the grid's
+// marginals, with the grid's correlations. A hierarchical scale with a
+// prior that stays positive at 0 makes the joint density unbounded in the
+// funnel's neck (tau -> 0 with the group effects at their mean: on log
+// tau the density grows like tau^(1-J) for J groups), while the marginal
+// of log tau decays there and the posterior is proper. The rule's pilot
+// centres and whitens the main rule from its own moments.
+func (a *analysis) gridStart(maps []transform.Map) (quadrature.Start, bool) {
+	g := a.ref.grid
+	if g == nil || len(g.Stats.Marginals) != a.d || g.Stats.Fitting.Corr == nil {
+		return quadrature.Start{}, false
+	}
+	d := a.d
+	mean := make([]float64, d)
+	sd := make([]float64, d)
+	for k, mg := range g.Stats.Marginals {
+		var s0, s1, s2 float64
+		for i, m := range mg.Mass {
+			z := maps[k].FromOriginal(g.Maps[k].ToOriginal(g.Nodes[k][i]))
+			if math.IsNaN(z) || math.IsInf(z, 0) || !(m > 0) {
+				continue // a node on a bound of the support
+			}
+			s0 += m
+			s1 += m * z
+			s2 += m * z * z
+		}
+		if !(s0 > 0) {
+			return quadrature.Start{}, false
+		}
+		mean[k] = s1 / s0
+		sd[k] = math.Sqrt(max(0, s2/s0-mean[k]*mean[k]))
+		if !(sd[k] > 0) {
+			return quadrature.Start{}, false
+		}
+	}
+	cov := make([]float64, d*d)
+	for r := 0; r < d; r++ {
+		for c := 0; c < d; c++ {
+			cov[r*d+c] = g.Stats.Fitting.Corr[r][c] * sd[r] * sd[c]
+		}
+	}
+	if !(inverse(cov, d) != nil) {
+		return quadrature.Start{}, false
+	}
+	return quadrature.Start{Mode: mean, Cov: cov}, true
 }
 
 // startInside returns the unconstrained point of a mode x on the fitting

@@ -171,8 +171,11 @@ func fromPilot(res *Result, start Start, pilotOrder []int) ([]int, Start, bool) 
 		}
 	}
 	// Ratios within a factor 1.5 keep the pilot's order (insertion sort:
-	// the comparison is not transitive, but d <= 4).
-	for i := 1; i < d; i++ {
+	// the comparison is not transitive, but d <= 4). A start given by a
+	// covariance (several modes' mixture, or the grid's moments where the
+	// density has no mode) has no curvature to compare with: the pilot's
+	// order stands.
+	for i := 1; i < d && start.NegHessian != nil; i++ {
 		for j := i; j > 0 && ratio[order[j]]*1.5 < ratio[order[j-1]]; j-- {
 			order[j], order[j-1] = order[j-1], order[j]
 		}

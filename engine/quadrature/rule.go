@@ -52,11 +52,11 @@ type rule struct {
 	pred [][]float64 // per level, the predicted conditional mode (len d)
 
 	// scratch
-	ut, v, z, gz, hz, gu, sub, subC, col, step, y, x []float64
-	lineT, lineLogP, lineG                           []float64
-	lineBad                                          []bool
-	cols                                             [][]float64
-	ls                                               [3]lineSums
+	ut, ut2, v, z, gz, hz, gu, sub, subC, col, step, y, x []float64
+	lineT, lineLogP, lineG                                []float64
+	lineBad                                               []bool
+	cols                                                  [][]float64
+	ls                                                    [3]lineSums
 
 	pilot     bool    // the start is a pilot's mean and covariance: no Newton on the outer axis
 	boundErr  float64 // see boundRounding
@@ -149,7 +149,7 @@ func newRule(ctx context.Context, p target.Density, st Start, s Settings) (*rule
 	}
 	r.ldL = cholLogDet(r.L, d) / 2
 	mk := func() []float64 { return make([]float64, d) }
-	r.u, r.ut, r.v, r.z, r.gz, r.gu, r.col, r.step, r.y, r.x = mk(), mk(), mk(), mk(), mk(), mk(), mk(), mk(), mk(), mk()
+	r.u, r.ut, r.ut2, r.v, r.z, r.gz, r.gu, r.col, r.step, r.y, r.x = mk(), mk(), mk(), mk(), mk(), mk(), mk(), mk(), mk(), mk(), mk()
 	r.hz = make([]float64, d*d)
 	r.sub = make([]float64, d*d)
 	r.subC = make([]float64, d*d)
