@@ -88,3 +88,109 @@ func TestGroupScaleOnItsBound(t *testing.T) {
 		}
 	}
 }
+
+// Two schools with a common mean mu ~ N(0, 20) and a between-school sd tau
+// with a half-Cauchy prior of scale 5 (the Cauchy density as written, cut
+// to [0, inf]), effects t_j ~ N(mu, tau), estimates y_j ~ N(t_j, sigma_j):
+// the hierarchical model as usually typed, with its effects explicit. The
+// engine once called it improper (the density grows without bound as tau
+// -> 0 on the original scale) with no exact results, after widening tau's
+// box to 8e7.
+//
+// The reference integrates mu and the effects in closed form: given tau,
+// y ~ N(0, D + 400 11') with D = diag(sigma_j^2 + tau^2), mu | tau, y has
+// mean 400 1' S^-1 y and variance 1 / (1/400 + sum 1/(sigma_j^2 + tau^2)),
+// and the integral over s = log tau by the trapezoid rule; the quantiles
+// of mu from the mixture of normals over tau, by bisection.
+const twoSchoolsModel = `# two schools with a common mean and a between-school sd
+y = [12, 3]
+sigma = [5, 6]
+param mu
+param tau in [0, inf]
+param t1
+param t2
+ld_normal(mu, 0, 20) + ld_cauchy(tau, 0, 5) + ld_normal(t1, mu, tau) + ld_normal(t2, mu, tau) + ld_normal(y[1], t1, sigma[1]) + ld_normal(y[2], t2, sigma[2])
+`
+
+type twoSchoolsNode struct{ w, tau, muMean, muVar float64 }
+
+// twoSchoolsNodes returns the trapezoid rule's nodes in s = log tau with
+// step h: the weight of each (the marginal density of tau there times tau
+// h) and mu's conditional moments.
+func twoSchoolsNodes(h float64) []twoSchoolsNode {
+	y, sigma := [2]float64{12, 3}, [2]float64{5, 6}
+	var out []twoSchoolsNode
+	for s := -30.0; s <= 25; s += h {
+		tau := math.Exp(s)
+		a, b := sigma[0]*sigma[0]+tau*tau, sigma[1]*sigma[1]+tau*tau
+		s00, s11, s01 := a+400, b+400, 400.0
+		det := s00*s11 - s01*s01
+		i00, i11, i01 := s11/det, s00/det, -s01/det
+		q := y[0]*y[0]*i00 + 2*y[0]*y[1]*i01 + y[1]*y[1]*i11
+		lik := math.Exp(-q/2) / (2 * math.Pi * math.Sqrt(det))
+		prior := 1 / (math.Pi * 5 * (1 + tau*tau/25))
+		mean := 400 * (y[0]*(i00+i01) + y[1]*(i01+i11))
+		v := 1 / (1.0/400 + 1/a + 1/b)
+		out = append(out, twoSchoolsNode{w: prior * lik * tau * h, tau: tau, muMean: mean, muVar: v})
+	}
+	return out
+}
+
+func TestTwoSchoolsExplicitEffects(t *testing.T) {
+	nodes := twoSchoolsNodes(1e-3)
+	var z, tau1, tau2, mu1 float64
+	for _, n := range nodes {
+		z += n.w
+		tau1 += n.w * n.tau
+		tau2 += n.w * n.tau * n.tau
+		mu1 += n.w * n.muMean
+	}
+	logZ, meanTau, meanMu := math.Log(z), tau1/z, mu1/z
+	varTau := tau2/z - meanTau*meanTau
+	muCDF := func(q float64) float64 {
+		c := 0.0
+		for _, n := range nodes {
+			c += n.w * 0.5 * math.Erfc(-(q-n.muMean)/math.Sqrt(2*n.muVar))
+		}
+		return c / z
+	}
+	muQuantile := func(p float64) float64 {
+		lo, hi := -100.0, 100.0
+		for i := 0; i < 60; i++ {
+			if mid := (lo + hi) / 2; muCDF(mid) < p {
+				lo = mid
+			} else {
+				hi = mid
+			}
+		}
+		return (lo + hi) / 2
+	}
+	wantQ := [3]float64{muQuantile(0.025), muQuantile(0.5), muQuantile(0.975)}
+	t.Logf("reference: log Z %.10g, E tau %.8g, Var tau %.8g, E mu %.8g, mu quantiles %v", logZ, meanTau, varTau, meanMu, wantQ)
+	res := analyseSource(t, twoSchoolsModel, Options{})
+	ex := res.Exact
+	t.Logf("engine: log Z %.10g +- %.2g, mean %v, quantiles %v, %s", ex.LogZ, ex.LogZErr, ex.Mean, ex.Quantiles, codeList(res))
+	if e := math.Abs(ex.LogZ - logZ); !(e <= 1e-6 && e <= ex.LogZErr) {
+		t.Errorf("log Z = %.10g +- %.2g, want %.10g (off by %.3g)", ex.LogZ, ex.LogZErr, logZ, e)
+	}
+	sdTau, sdMu := math.Sqrt(varTau), math.Sqrt(ex.Cov[0][0])
+	if e := math.Abs(ex.Mean[1]-meanTau) / sdTau; !(e <= 1e-4) {
+		t.Errorf("E tau = %.8g, want %.8g (off by %.3g sd)", ex.Mean[1], meanTau, e)
+	}
+	if e := math.Abs(ex.Cov[1][1]-varTau) / varTau; !(e <= 1e-4) {
+		t.Errorf("Var tau = %.8g, want %.8g (off by %.3g relative)", ex.Cov[1][1], varTau, e)
+	}
+	if e := math.Abs(ex.Mean[0]-meanMu) / sdMu; !(e <= 1e-4) {
+		t.Errorf("E mu = %.8g, want %.8g (off by %.3g sd)", ex.Mean[0], meanMu, e)
+	}
+	for i, q := range wantQ {
+		if e := math.Abs(ex.Quantiles[0][i]-q) / sdMu; !(e <= 1e-3) {
+			t.Errorf("mu's quantile %d = %.6g, want %.6g (off by %.3g sd)", i, ex.Quantiles[0][i], q, e)
+		}
+	}
+	for _, d := range res.Diagnostics {
+		if d.Code == CodeImproper || d.Code == CodeUnresolved || d.Code == CodeGridError {
+			t.Errorf("unexpected diagnostic %s: %s", d.Code, d.Message)
+		}
+	}
+}

@@ -200,7 +200,7 @@ func (a *analysis) ruleRanges(q *quadrature.Result) ([][2]float64, []*quadrature
 			// The exact stage walked none (it walks every marginal, and a
 			// failed walk is not tried again).
 			var err error
-			if cv, err = q.Curve(a.ctx, k, fineCurves(d)); err != nil && !errors.Is(err, quadrature.ErrCurve) {
+			if cv, err = q.Curve(a.ctx, k, fineCurves(q)); err != nil && !errors.Is(err, quadrature.ErrCurve) {
 				return nil, nil, err
 			}
 		}

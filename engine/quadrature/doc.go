@@ -30,13 +30,16 @@
 // second and fourth index), so one pass gives three values of every sum.
 // It assumes the exponential convergence of the trapezoid rule for an
 // integrand analytic in a strip around the real t axis and decaying fast,
-// err(h) ~ A exp(-c/h): then err(h) ~ e2^3/e1^2 with e1 = |I_4h - I_2h| and
-// e2 = |I_2h - I_h|, and not less than e2^2/|I| (the relative error
-// squares when h halves); the larger, times 3, is the discretisation
-// error; where e1 <= e2 (not yet converging) e2 itself. The truncation
-// error is the geometric tail beyond each walk's last node (exact for a
-// share decaying exponentially in t). The estimate covers the actual error
-// on every test case and is 20 to 60 times pessimistic on smooth ones.
+// err(h) ~ A exp(-c/h): with e1 = |I_4h - I_2h| and e2 = |I_2h - I_h|,
+// halving h squares the relative error (err(h) ~ e2^2/|I|), and the rate
+// the values show gives err(h) ~ e2^3/e1^2; the larger, times 3, is the
+// discretisation error; where e1 <= e2 (not yet converging) e2 itself. For
+// log Z, where the fitted rate c = 4h log(e1/e2) is at least 2 (the rule
+// at 4h is then pre-asymptotic, its rate slower than the finer ones'), the
+// squaring alone. The truncation error is the geometric tail beyond each
+// walk's last node (exact for a share decaying exponentially in t). The
+// estimate covers the actual error on every test case and is 20 to 60
+// times pessimistic on smooth ones.
 //
 // Marginals. The outermost axis's walk is itself the marginal of its
 // parameter (z = m + L00 u, L lower triangular): its sums give that curve

@@ -188,7 +188,7 @@ func fromPilot(res *Result, start Start, pilotOrder []int) ([]int, Start, bool) 
 	if !cholesky(c, cov, d) {
 		return order, start, false
 	}
-	return order, Start{Mode: append([]float64(nil), u.Mean...), Cov: cov}, true
+	return order, Start{Mode: append([]float64(nil), u.Mean...), Cov: cov, NoMode: start.NoMode}, true
 }
 
 // remainderMargin multiplies the walks' geometric remainders (the tails

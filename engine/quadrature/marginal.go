@@ -90,6 +90,10 @@ func sliceOrder(order, free []int) []int {
 	return out
 }
 
+// NoMode reports that the rule started from a Start with NoMode set: the
+// density has no mode on the unconstrained scale.
+func (res *Result) NoMode() bool { return res.start.NoMode }
+
 // mapOf returns parameter k's map to the original scale.
 func (res *Result) mapOf(k int) transform.Map {
 	if res.settings.Maps != nil {
@@ -102,6 +106,12 @@ func (res *Result) mapOf(k int) transform.Map {
 // than sl.fixed (at sl.val), and the conditional centre it found (for the
 // next point's guess). guess may be nil.
 func (res *Result) sliceLogZ(ctx context.Context, sl *slice, guess []float64, acc sliceAccuracy) (float64, []float64, error) {
+	return res.sliceLogZAt(ctx, sl, guess, acc, false)
+}
+
+// sliceLogZAt is sliceLogZ; retried reports a second run from the first
+// one's centre.
+func (res *Result) sliceLogZAt(ctx context.Context, sl *slice, guess []float64, acc sliceAccuracy, retried bool) (float64, []float64, error) {
 	d := res.Dim
 	if len(sl.free) == 0 {
 		return sl.LogDensity(nil), nil, nil
@@ -117,6 +127,7 @@ func (res *Result) sliceLogZ(ctx context.Context, sl *slice, guess []float64, ac
 	r, err := newRule(ctx, sl, st, res.sliceSettings(sl, acc))
 	if err == nil {
 		r.noNodes = true
+		r.pilot = res.start.NoMode
 	}
 	if err != nil {
 		if errors.Is(err, ErrBadStart) && guess != nil {
@@ -138,6 +149,13 @@ func (res *Result) sliceLogZ(ctx context.Context, sl *slice, guess []float64, ac
 	c := make([]float64, len(sl.free))
 	r.toZ(r.lv[0].mode)
 	copy(c, r.z)
+	if math.IsInf(s0, 1) && !retried {
+		// The shares are taken relative to log p at the start; a start far
+		// from the conditional mode (a Student t's location far out, whose
+		// scale's conditional moves with it: x off by 19 of its sds) lets
+		// them overflow. Once more from the centre the rule found.
+		return res.sliceLogZAt(ctx, sl, c, acc, true)
+	}
 	return r.ref + r.ldL + math.Log(s0), c, nil
 }
 

@@ -114,6 +114,12 @@ type Start struct {
 	Mode       []float64
 	NegHessian []float64
 	Cov        []float64
+	// NoMode reports that the density has no mode on the unconstrained
+	// scale (it grows without bound down a funnel's neck; Mode and Cov
+	// describe the mass another way): the slices of marginals and pairs
+	// then keep their outer axis at the conditional centre instead of
+	// moving it by Newton steps, which run down the neck.
+	NoMode bool
 }
 
 // Errors of Integrate.
