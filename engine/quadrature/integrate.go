@@ -236,8 +236,19 @@ func (r *rule) result(start Start, s Settings) (*Result, error) {
 	return res, nil
 }
 
-// strayTail: see clearStrayFlags.
-const strayTail = 1e-12
+// strayTail and unresolvedTail: see clearStrayFlags. A walk that reached
+// MaxT before the density's share fell holds a share of the density it
+// never resolved; far down a centred hierarchical model's neck (two
+// schools' effects and their mean under a flat sd on [0, 10]) the inner
+// walks lose the conditional's scale to rounding (the effects' precision
+// 1/tau^2 against the mean's 1/400) and held 4e-11 of the density's sum,
+// which at 1e-12 made the rule call the density improper; let go, the rule's
+// log Z was within 3e-8 of a quadrature of ours. An improper density's
+// walks hold shares near its peak's.
+const (
+	strayTail      = 1e-12
+	unresolvedTail = 1e-9
+)
 
 // maxHalvings bounds the refinements of the step.
 const maxHalvings = 3

@@ -214,7 +214,8 @@ func (r *rule) raise(lv *level, f int, share, zShare float64, unresolved bool) {
 // slope's mean and variance were flagged infinite under a normal prior).
 // Such a walk is no evidence of an infinite integral; nor is a walk that
 // reached MaxT before the density's share fell (it never found the
-// conditional's mass), judged by the density's share it held: the inner
+// conditional's mass), judged by the density's share it held (below
+// unresolvedTail of the density's sum): the inner
 // walks far in a hierarchical model's neck (two group means under a
 // shared sd on [0, inf]) flagged a group mean's fourth moment infinite
 // holding 1e-13 of the density's sum. What such walks leave
@@ -252,7 +253,7 @@ func (r *rule) clearStrayFlags() {
 				total, w = tot[y4], y4
 			}
 		}
-		if !(r.resolvedShare[f] < strayTail*total && r.unresolvedZ[f] < strayTail*tot[0]) {
+		if !(r.resolvedShare[f] < strayTail*total && r.unresolvedZ[f] < unresolvedTail*tot[0]) {
 			continue
 		}
 		lv.inf[f] = false
