@@ -240,3 +240,20 @@ func TestTwoSchoolsFlatScale(t *testing.T) {
 		t.Errorf("E mu = %.8g, want %.8g", ex.Mean[0], meanMu)
 	}
 }
+
+// TestGroupScaleFittedOnLogScale: the group model with tau fitted on the
+// log scale, where the mode search runs down the funnel's neck (tau =
+// 6e-10) instead of stopping on a bound: the rule's start is the same
+// profile's, and the exact results the same.
+func TestGroupScaleFittedOnLogScale(t *testing.T) {
+	logZ, mean, _ := groupScaleReference(1e-3)
+	res := analyseSource(t, groupScaleModel, Options{Params: []ParamOptions{{Scale: Log}}})
+	ex := res.Exact
+	t.Logf("engine: log Z %.10g +- %.2g, mean %v, %s", ex.LogZ, ex.LogZErr, ex.Mean, codeList(res))
+	if e := math.Abs(ex.LogZ - logZ); !(e <= 1e-6 && e <= ex.LogZErr) {
+		t.Errorf("log Z = %.10g +- %.2g, want %.10g (off by %.3g)", ex.LogZ, ex.LogZErr, logZ, e)
+	}
+	if e := math.Abs(ex.Mean[0] - mean[0]); !(e <= 1e-6) {
+		t.Errorf("E tau = %.10g, want %.10g", ex.Mean[0], mean[0])
+	}
+}

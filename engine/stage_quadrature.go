@@ -204,16 +204,17 @@ func (a *analysis) quadratureStart(p *transform.Density, maps []transform.Map) (
 		}
 	}
 	if len(found) == 0 {
-		if !onBound {
+		b, from, one := a.boundCoordinate(maps)
+		if one {
+			if start, ok := a.profileStart(p, b, from); ok {
+				return start, false, true, nil
+			}
+		}
+		if !onBound && !one {
 			// No mode where the fitting scale has one inside the support:
 			// a kink or a flat top, whose curvature says nothing; the
 			// grid's results stay.
 			return quadrature.Start{}, false, false, nil
-		}
-		if b, from, one := a.boundCoordinate(maps); one {
-			if start, ok := a.profileStart(p, b, from); ok {
-				return start, false, true, nil
-			}
 		}
 		start, ok := a.gridStart(maps)
 		return start, false, ok, nil
@@ -249,8 +250,10 @@ func (a *analysis) quadratureStart(p *transform.Density, maps []transform.Map) (
 
 // boundCoordinate returns the one parameter whose coordinate the highest
 // mode puts on a bound of its support (infinite on the unconstrained
-// scale), and the mode's other coordinates on that scale; one is false
-// where no parameter or several are on bounds.
+// scale) or beyond the profile's scan there (a scale fitted on the log
+// scale, whose mode search ran down the funnel's neck to tau = 6e-10),
+// and the mode's other coordinates on that scale; one is false where no
+// parameter or several are so.
 func (a *analysis) boundCoordinate(maps []transform.Map) (b int, from []float64, one bool) {
 	if len(a.modes.fitModes) == 0 {
 		return 0, nil, false
@@ -269,7 +272,8 @@ func (a *analysis) boundCoordinate(maps []transform.Map) (b int, from []float64,
 			tol *= max(1, math.Abs(a.maps[k].ToOriginal(n[len(n)-1])-a.maps[k].ToOriginal(n[0])))
 		}
 		prm := a.m.Params[k]
-		if math.IsInf(from[k], 0) || math.IsNaN(from[k]) || xo-prm.Lo <= tol || prm.Hi-xo <= tol {
+		far := !maps[k].Scale.IsIdentity() && !(math.Abs(from[k]) < -profileScanFrom)
+		if far || xo-prm.Lo <= tol || prm.Hi-xo <= tol {
 			if b >= 0 {
 				return 0, nil, false
 			}
