@@ -83,8 +83,17 @@ func TestGroupScaleOnItsBound(t *testing.T) {
 			t.Errorf("variance %d = %.10g, want %.10g (off by %.3g relative)", k, ex.Cov[k][k], variance[k], e)
 		}
 	}
+	// The effects' marginals have a logarithmic peak at 0 (the prior of
+	// tau stays positive there: p(t) ~ log(1/|t|)), which the walks along
+	// them do not resolve, and the grid, whose moments are off, may not
+	// stand in: their quantiles are absent, with the reason.
+	for k := 1; k < 4; k++ {
+		if q := ex.Quantiles[k][1]; !math.IsNaN(q) {
+			t.Errorf("median of t%d = %g, want it absent", k, q)
+		}
+	}
 	for _, d := range res.Diagnostics {
-		if d.Code == CodeGridError || d.Code == CodeUnresolved {
+		if d.Code == CodeGridError {
 			t.Errorf("unexpected diagnostic %s: %s", d.Code, d.Message)
 		}
 	}
@@ -255,5 +264,66 @@ func TestGroupScaleFittedOnLogScale(t *testing.T) {
 	}
 	if e := math.Abs(ex.Mean[0] - mean[0]); !(e <= 1e-6) {
 		t.Errorf("E tau = %.10g, want %.10g", ex.Mean[0], mean[0])
+	}
+}
+
+// Counts from two sites with a log-normal site effect: k_j ~ Poisson(exp(a
+// + e_j)), e_j ~ N(0, s), s ~ N(0, 1) cut to [0, inf], a ~ N(0, 3). The
+// intercept a moves the effects' curvature (through exp(a + e_j)) about as
+// much as their sd s does, and the rule put a outside, the effects next,
+// s inside: the effects' conditional given a is then a scale mixture with
+// a logarithmic peak, and the rule called the density improper (the grid
+// stood in, log Z off by 0.08 against its stated 0.018). A parameter
+// correlated with others is now scored as a location (ScaleOrder).
+//
+// The reference: the trapezoid rule over a and log s, each e_j integrated
+// by the trapezoid rule in e_j / s, all independently of the engine.
+func TestSiteEffectsScaleOutside(t *testing.T) {
+	const src = `# counts from two sites with a site effect
+k = [4, 11]
+param a
+param s in [0, inf]
+param e1
+param e2
+ld_normal(a, 0, 3) + ld_normal(s, 0, 1) + ld_normal(e1, 0, s) + ld_normal(e2, 0, s) + ld_poisson(k[1], exp(a + e1)) + ld_poisson(k[2], exp(a + e2))
+`
+	counts := [2]float64{4, 11}
+	normal := func(x, sd float64) float64 { return math.Exp(-0.5*(x/sd)*(x/sd)) / (sd * math.Sqrt(2*math.Pi)) }
+	var lgk [2]float64
+	for j, k := range counts {
+		lgk[j], _ = math.Lgamma(k + 1)
+	}
+	const ha, hu, hx = 0.1, 0.1, 0.1
+	var z, za, zs float64
+	for a := -14.0; a <= 8; a += ha {
+		for u := -25.0; u <= 2.5; u += hu {
+			s := math.Exp(u)
+			w := normal(a, 3) * normal(s, 1) * s * ha * hu
+			for j, k := range counts {
+				e := 0.0
+				for x := -14.0; x <= 14; x += hx {
+					eta := a + s*x // log of the Poisson rate
+					e += math.Exp(-x*x/2 + k*eta - math.Exp(eta) - lgk[j])
+				}
+				w *= e * hx / math.Sqrt(2*math.Pi)
+			}
+			z += w
+			za += w * a
+			zs += w * s
+		}
+	}
+	logZ, meanA, meanS := math.Log(z), za/z, zs/z
+	t.Logf("reference: log Z %.10g, E a %.8g, E s %.8g", logZ, meanA, meanS)
+	res := analyseSource(t, src, Options{})
+	ex := res.Exact
+	t.Logf("engine: log Z %.10g +- %.2g, mean %v, %s", ex.LogZ, ex.LogZErr, ex.Mean, codeList(res))
+	if e := math.Abs(ex.LogZ - logZ); !(e <= 1e-6 && e <= ex.LogZErr) {
+		t.Errorf("log Z = %.10g +- %.2g, want %.10g (off by %.3g)", ex.LogZ, ex.LogZErr, logZ, e)
+	}
+	if e := math.Abs(ex.Mean[0] - meanA); !(e <= 1e-4*math.Sqrt(ex.Cov[0][0])) {
+		t.Errorf("E a = %.8g, want %.8g", ex.Mean[0], meanA)
+	}
+	if e := math.Abs(ex.Mean[1] - meanS); !(e <= 1e-4*math.Sqrt(ex.Cov[1][1])) {
+		t.Errorf("E s = %.8g, want %.8g", ex.Mean[1], meanS)
 	}
 }

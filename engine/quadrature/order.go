@@ -80,6 +80,19 @@ func ScaleOrder(p target.Density, start Start) []int {
 			score[a] += math.Abs(up-down) + math.Abs(up+down)/4
 		}
 	}
+	// A parameter correlated with another is coupled to it as a location
+	// (an intercept and the group effects it shifts), not as a scale,
+	// whose coupling to the effects it sets is in their curvature alone:
+	// its score is cut by its largest correlation.
+	for a := 0; a < d; a++ {
+		most := 0.0
+		for b := 0; b < d; b++ {
+			if b != a {
+				most = max(most, math.Abs(cov[a*d+b])/math.Sqrt(cov[a*d+a]*cov[b*d+b]))
+			}
+		}
+		score[a] *= 1 - min(most, 1)
+	}
 	sort.SliceStable(order, func(i, j int) bool { return score[order[i]] > score[order[j]]+1e-9 })
 	return order
 }
