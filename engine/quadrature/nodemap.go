@@ -179,11 +179,11 @@ func (r *rule) chooseMap(k int, sd float64) {
 		return
 	}
 	// The sides along the line with the inner axes at their predicted
-	// modes (lineDE: doubly exponential there), and for the outermost
-	// axis of a rule over several parameters along the profile over the
-	// inner axes with their curvature's volume (Laplace), which follows
-	// its marginal (profDE, with the rate k sd of its fall): see
-	// stripStep.
+	// modes (lineDE: doubly exponential there), and, where one is, for
+	// the outermost axis of a rule over several parameters along the
+	// profile over the inner axes with their curvature's volume (Laplace),
+	// which follows its marginal (profDE, with the rate k sd of its fall):
+	// see stripStep.
 	var lineDE, profDE [2]bool
 	var rate [2]float64
 	lineDrop := func(dist float64) float64 {
@@ -217,7 +217,7 @@ func (r *rule) chooseMap(k int, sd float64) {
 	}
 	sides(lineDrop, &lineDE)
 	profDE = lineDE
-	if k == 0 && r.d > 1 {
+	if k == 0 && r.d > 1 && (lineDE[0] || lineDE[1]) {
 		copy(r.ut, lv.mode)
 		if p0, ok := r.profileAt(r.ut); ok {
 			rate = [2]float64{}
