@@ -2,6 +2,7 @@ package quadrature
 
 import (
 	"math"
+	"slices"
 	"sort"
 
 	"bellcheck/engine/target"
@@ -41,7 +42,8 @@ func ScaleOrder(p target.Density, start Start) []int {
 		return order
 	}
 	score := make([]float64, d)
-	logRatio := make([][2]float64, d) // log(c/c0) of each other parameter, at + and - 2 sd
+	uncorrelated := make([]float64, d) // the same, b's part weighted by 1 - |corr(a, b)|
+	logRatio := make([][2]float64, d)  // log(c/c0) of each other parameter, at + and - 2 sd
 	for a := 0; a < d; a++ {
 		sd := math.Sqrt(cov[a*d+a])
 		usable := make([]bool, d)
@@ -76,23 +78,33 @@ func ScaleOrder(p target.Density, start Start) []int {
 			if b == a || !usable[b] {
 				continue
 			}
+			// A change in b's curvature counts in as far as a and b are
+			// not correlated: a location coupled to b (an intercept and
+			// the group effects it shifts) moves b's curvature through
+			// their common term, a scale sets it without moving b.
 			up, down := logRatio[b][0], logRatio[b][1]
-			score[a] += math.Abs(up-down) + math.Abs(up+down)/4
+			corr := math.Abs(cov[a*d+b]) / math.Sqrt(cov[a*d+a]*cov[b*d+b])
+			change := math.Abs(up-down) + math.Abs(up+down)/4
+			score[a] += change
+			uncorrelated[a] += change * (1 - min(corr, 1))
 		}
 	}
-	// A parameter correlated with another is coupled to it as a location
-	// (an intercept and the group effects it shifts), not as a scale,
-	// whose coupling to the effects it sets is in their curvature alone:
-	// its score is cut by its largest correlation.
-	for a := 0; a < d; a++ {
-		most := 0.0
-		for b := 0; b < d; b++ {
-			if b != a {
-				most = max(most, math.Abs(cov[a*d+b])/math.Sqrt(cov[a*d+a]*cov[b*d+b]))
-			}
-		}
-		score[a] *= 1 - min(most, 1)
+	if slices.Max(uncorrelated) >= scaleScoreMin {
+		score = uncorrelated
 	}
 	sort.SliceStable(order, func(i, j int) bool { return score[order[i]] > score[order[j]]+1e-9 })
 	return order
 }
+
+// scaleScoreMin is the least score, counting only the changes of the
+// curvature of parameters uncorrelated with the one moved, of a parameter
+// that sets the others' scale. A change of b's curvature counts in the
+// second score in as far as a and b are not correlated: a location
+// coupled to b (an intercept and the group effects it shifts) moves b's
+// curvature through their common term, a scale sets it without moving b
+// (two sites' Poisson counts with log-normal effects: the intercept
+// scored above the effects' sd, was put outside, and the rule called the
+// density improper). Where no parameter reaches it (a regression's
+// coefficients: the 3-D sensor's 0.03 at most), the first score orders
+// the axes and the pilot's variances reorder them (fromPilot).
+const scaleScoreMin = 0.25
