@@ -94,6 +94,7 @@ func (a *analysis) findModes() error {
 	if err != nil {
 		return err
 	}
+	masses = a.unresolvedModeMasses(modes, masses)
 	// Highest first.
 	order := make([]int, len(modes))
 	for i := range order {
@@ -156,6 +157,57 @@ func (a *analysis) findModes() error {
 			counted, list(big))
 	}
 	return nil
+}
+
+// unresolvedModeMasses returns the modes' masses as Laplace estimates
+// (p(mode) det(-H)^(-1/2), normalised) where every mode is a strict
+// maximum and the grid's spacing along some axis exceeds a mode's sd
+// there: the grid's basins then split the mass by where its nodes fall
+// (a two-component mixture's mirror-image modes, label-switched, got 6 %
+// and 94 % from a scouting grid whose spacing was 1.3 of their sd); else
+// masses as they are.
+func (a *analysis) unresolvedModeMasses(modes []fit.Mode, masses []float64) []float64 {
+	if len(modes) < 2 || a.ref.grid == nil {
+		return masses
+	}
+	d := a.d
+	logMass := make([]float64, len(modes))
+	coarse := false
+	for i, m := range modes {
+		if !m.PositiveDefinite {
+			return masses
+		}
+		n := mat.NewSymDense(d, nil)
+		n.ScaleSym(-1, m.Hess)
+		var c mat.Cholesky
+		if !c.Factorize(n) {
+			return masses
+		}
+		logMass[i] = m.LogDensity - c.LogDet()/2
+		var cov mat.SymDense
+		if c.InverseTo(&cov) != nil {
+			return masses
+		}
+		for k := 0; k < d; k++ {
+			if a.ref.grid.Spacing(k) > math.Sqrt(cov.At(k, k)) {
+				coarse = true
+			}
+		}
+	}
+	if !coarse {
+		return masses
+	}
+	top := slices.Max(logMass)
+	total := 0.0
+	out := make([]float64, len(modes))
+	for i, lm := range logMass {
+		out[i] = math.Exp(lm - top)
+		total += out[i]
+	}
+	for i := range out {
+		out[i] /= total
+	}
+	return out
 }
 
 // spreadStarts runs the mode search from 12 d space-filling (Halton)

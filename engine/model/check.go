@@ -482,7 +482,13 @@ func (c *checker) call(e *Call) (Shape, bool) {
 		if n > 1 {
 			for i, s := range shapes {
 				if s.Len > 0 {
-					c.errs.add(startPos(e.Args[i]), fmt.Sprintf("apply %s to each vector and then to the results, as in %s(%s(a), %s(b))", e.Name, e.Name, e.Name, e.Name),
+					hint := fmt.Sprintf("apply %s to each vector and then to the results, as in %s(%s(a), %s(b))", e.Name, e.Name, e.Name, e.Name)
+					if e.Name == "logsumexp" {
+						// A mixture's likelihood wants the terms element by
+						// element, which the reduction does not give.
+						hint = "for log(e^a + e^b) element by element (a mixture's terms per reading) write a + log1pexp(b - a); for one number from all the elements, logsumexp(logsumexp(a), logsumexp(b))"
+					}
+					c.errs.add(startPos(e.Args[i]), hint,
 						"%s takes either one vector or several scalars, but argument %d of %d is a vector of %d elements", e.Name, i+1, n, s.Len)
 					return badShape, dep
 				}

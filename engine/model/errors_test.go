@@ -49,7 +49,8 @@ var invalidModels = []struct {
 	{"vector density", "t = [1, 2]\nt*a", "2:1: the density must be a scalar, but this is a vector of 2 elements", "wrap it in sum(...)"},
 	{"vector literal inside arithmetic", "sum([1, 2] + a)", "1:5: a vector literal may only be the whole right side of a definition or a function argument", "v = [1, 2, 3]"},
 	{"vector of vectors", "x = [1, [2, 3]]\nsum(x)*a", "1:9: the elements of a vector must be scalars, but element 2 is a vector of 2 elements", ""},
-	{"vectors given to a variadic reduction", "logsumexp([1,2], a)", "1:11: logsumexp takes either one vector or several scalars, but argument 1 of 2 is a vector of 2 elements", ""},
+	{"vectors given to a variadic reduction", "logsumexp([1,2], a)", "1:11: logsumexp takes either one vector or several scalars, but argument 1 of 2 is a vector of 2 elements", "a + log1pexp(b - a)"},
+	{"vectors given to max", "max([1,2], a)", "1:5: max takes either one vector or several scalars, but argument 1 of 2 is a vector of 2 elements", "max(max(a), max(b))"},
 	{"empty vector", "t = []\na", "1:5: empty vector", "at least one element"},
 
 	// Bounds.
