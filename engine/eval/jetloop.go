@@ -1,6 +1,9 @@
 package eval
 
-import "math"
+import (
+	"math"
+	"slices"
+)
 
 // Derivative mode over data vectors. A loop's kernel runs one instruction
 // at a time over a chunk of jetChunkLen elements, like the value kernels,
@@ -43,8 +46,19 @@ func (ls *jetLoopSpace) init(p *program, S int) {
 			case formSV:
 				r = in.a
 			}
-			if r >= 0 && ls.bcast[r] == nil {
+			if r < 0 {
+				continue
+			}
+			if ls.bcast[r] == nil {
 				ls.bcast[r] = make([]float64, S*row)
+			}
+			// Every loop that reads the register refills its broadcast
+			// (runLoop clears filled for its reads): loops of different
+			// lengths reading the same scalar (the shape of a Weibull
+			// over four observed and two censored lifetimes) otherwise
+			// took the first loop's broadcast, filled over its shorter
+			// chunk, and the derivatives came out wrong or NaN.
+			if !slices.Contains(ls.reads[li], r) {
 				ls.reads[li] = append(ls.reads[li], r)
 			}
 		}
