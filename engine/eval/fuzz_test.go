@@ -30,6 +30,8 @@ func FuzzCompile(f *testing.F) {
 		"tt = [0.5, 1]\node tt from 0 substeps 4 as t\n  s = x + y\n  x = a rate -b*s + sin(t)\n  y = 0 rate s\nend\nsum(x*y) + mean(x^2)",
 		"t = [0.1, 0.2]\nparam x0\nparam y0\nparam z0\node t from 0 substeps 2\n  x = x0 rate 10*(y - x)\n  y = y0 rate x*(28 - z) - y\n  z = z0 rate x*y - 8/3*z\nend\nxo = [1, 2]\ncost sum((x - xo)^2) + x0^2 + y0^2 + z0^2",
 		"k = [1, 2]\nn = [3, 3]\nrepeat 2\n  e = a then e + b\nend\nsum(ld_binomial(k, n, logistic(e))) + ld_binomial(k, n, logistic(e))[2]",
+		// Loops of different lengths reading the same parameter.
+		"t = [4.1, 6.2, 8.3, 10.9]\ntc = [12, 13]\nparam k\nparam lam in [0, inf]\nsum((t/lam)^k) - sum((tc/lam)^k) + sum(log(t*lam))",
 	} {
 		f.Add(src)
 	}
