@@ -7,11 +7,11 @@ import (
 	"testing"
 )
 
-// TestRandomLoopsOfDifferentLengths: a model that sums two random
-// elementwise expressions over data of different lengths, reading the same
-// parameters, must give the sum of the two models that each hold one of
-// them (an identity): value, gradient and Hessian, in derivative mode and
-// in value mode. Before 47568c3 the second loop took the first one's
+// TestRandomLoopsOfDifferentLengths: a model that adds two reductions (sum,
+// logsumexp, max, min or mean) of random elementwise expressions over data
+// of different lengths, reading the same parameters, must give the sum of
+// the two models that each hold one of them (an identity): value, gradient
+// and Hessian, in derivative mode and in value mode. Before 47568c3 the second loop took the first one's
 // broadcast of a shared scalar, and the sum came out wrong or NaN.
 func TestRandomLoopsOfDifferentLengths(t *testing.T) {
 	r := rand.New(rand.NewPCG(7, 8))
@@ -37,9 +37,10 @@ func TestRandomLoopsOfDifferentLengths(t *testing.T) {
 		p := paramNames[trial%dim]
 		b1 := randVecTree(r, 3, dim).String() + " + (abs(dt) + 1)^" + p
 		b2 := strings.NewReplacer("dt", "et", "dy", "ey").Replace(randVecTree(r, 3, dim).String()) + " + (abs(et) + 1)^" + p
-		both := compileSrc(t, head+"sum("+b1+") + sum("+b2+")\n")
-		one := compileSrc(t, head+"sum("+b1+")\n")
-		two := compileSrc(t, head+"sum("+b2+")\n")
+		red := []string{"sum", "logsumexp", "max", "min", "mean"}[trial%5]
+		both := compileSrc(t, head+red+"("+b1+") + "+red+"("+b2+")\n")
+		one := compileSrc(t, head+red+"("+b1+")\n")
+		two := compileSrc(t, head+red+"("+b2+")\n")
 		x := make([]float64, dim)
 		for k := range x {
 			x[k] = 0.3 + 0.25*float64(k) + 0.1*r.Float64()
@@ -51,7 +52,7 @@ func TestRandomLoopsOfDifferentLengths(t *testing.T) {
 			continue
 		}
 		compared++
-		label := "sum(" + b1 + ") + sum(" + b2 + ")"
+		label := red + "(" + b1 + ") + " + red + "(" + b2 + ")"
 		if !near(v, v1+v2, 1e-12, 1) || !near(both.LogDensity(x), v1+v2, 1e-12, 1) {
 			t.Errorf("%s (lengths %d, %d): value %v (alone %v), parts %v", label, n1, n2, v, both.LogDensity(x), v1+v2)
 			continue
