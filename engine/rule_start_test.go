@@ -73,11 +73,9 @@ func TestStudentDofOnBound(t *testing.T) {
 		}
 		return l, nu
 	})
-	logZ, se, enu := is.logZ, is.se, is.m1
-	t.Logf("log Z: rule %.7f ± %.2g, importance sampling %.7f ± %.2g; mean nu: rule %.5f, sampling %.5f", ex.LogZ, ex.LogZErr, logZ, se, ex.Mean[2], enu)
-	if d := math.Abs(ex.LogZ - logZ); d > 4*se || d > 0.01 {
-		t.Errorf("log Z %.7f, importance sampling %.7f ± %.2g", ex.LogZ, logZ, se)
-	}
+	enu := is.m1
+	t.Logf("mean nu: rule %.5f, sampling %.5f", ex.Mean[2], enu)
+	is.checkLogZ(t, ex)
 	if math.Abs(ex.Mean[2]/enu-1) > 0.02 {
 		t.Errorf("mean of nu %.5f, importance sampling %.5f", ex.Mean[2], enu)
 	}

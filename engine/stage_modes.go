@@ -159,6 +159,22 @@ func (a *analysis) findModes() error {
 	return nil
 }
 
+// laplaceLogMass returns the log of a mode's Laplace mass, log p(mode) -
+// log det(-H)/2 (up to a constant common to the modes), with the Cholesky
+// factor of -H; ok is false where the mode is not a strict maximum.
+func laplaceLogMass(m fit.Mode, d int) (float64, *mat.Cholesky, bool) {
+	if !m.PositiveDefinite {
+		return 0, nil, false
+	}
+	n := mat.NewSymDense(d, nil)
+	n.ScaleSym(-1, m.Hess)
+	var c mat.Cholesky
+	if !c.Factorize(n) {
+		return 0, nil, false
+	}
+	return m.LogDensity - c.LogDet()/2, &c, true
+}
+
 // unresolvedModeMasses returns the modes' masses as Laplace estimates
 // (p(mode) det(-H)^(-1/2), normalised) where every mode is a strict
 // maximum and the grid's spacing along some axis exceeds a mode's sd
@@ -174,16 +190,11 @@ func (a *analysis) unresolvedModeMasses(modes []fit.Mode, masses []float64) []fl
 	logMass := make([]float64, len(modes))
 	coarse := false
 	for i, m := range modes {
-		if !m.PositiveDefinite {
+		lm, c, ok := laplaceLogMass(m, d)
+		if !ok {
 			return masses
 		}
-		n := mat.NewSymDense(d, nil)
-		n.ScaleSym(-1, m.Hess)
-		var c mat.Cholesky
-		if !c.Factorize(n) {
-			return masses
-		}
-		logMass[i] = m.LogDensity - c.LogDet()/2
+		logMass[i] = lm
 		var cov mat.SymDense
 		if c.InverseTo(&cov) != nil {
 			return masses
@@ -282,17 +293,10 @@ func (a *analysis) spreadStarts(modes []fit.Mode, masses []float64) ([]fit.Mode,
 	top := math.Inf(-1)
 	for i, m := range modes {
 		logMass[i] = math.Inf(-1)
-		if !m.PositiveDefinite {
-			continue
+		if lm, _, ok := laplaceLogMass(m, d); ok {
+			logMass[i] = lm
+			top = max(top, lm)
 		}
-		n := mat.NewSymDense(d, nil)
-		n.ScaleSym(-1, m.Hess)
-		var c mat.Cholesky
-		if !c.Factorize(n) {
-			continue
-		}
-		logMass[i] = m.LogDensity - c.LogDet()/2
-		top = max(top, logMass[i])
 	}
 	total := 0.0
 	for i := range modes {
