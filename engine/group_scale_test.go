@@ -105,11 +105,19 @@ func TestGroupScaleOnItsBound(t *testing.T) {
 	}
 	// The effects' marginals have a logarithmic peak at 0 (the prior of
 	// tau stays positive there: p(t) ~ log(1/|t|)), which the walks along
-	// them do not resolve, and the grid, whose moments are off, may not
-	// stand in: their quantiles are absent, with the reason.
-	for k := 1; k < 4; k++ {
-		if q := ex.Quantiles[k][1]; !math.IsNaN(q) {
-			t.Errorf("median of t%d = %g, want it absent", k, q)
+	// them do not resolve (their quantiles were once absent); the rule's
+	// walks, summed over tau's nodes, give them.
+	want := groupScaleQuantiles(1e-3)
+	if w2 := groupScaleQuantiles(2e-3); math.Abs(w2[0][0]-want[0][0]) > 1e-9 {
+		t.Fatalf("independent quantiles not converged: %g", w2[0][0]-want[0][0])
+	}
+	t.Logf("reference quantiles %v, engine %v", want, ex.Quantiles[1:])
+	for j := range 3 {
+		sd := math.Sqrt(variance[j+1])
+		for i, q := range ex.Quantiles[j+1] {
+			if e := math.Abs(q - want[j][i]); !(e <= 1e-4*sd) {
+				t.Errorf("quantile %d of t%d = %.10g, want %.10g (off by %.3g sd)", i, j+1, q, want[j][i], e/sd)
+			}
 		}
 	}
 	for _, d := range res.Diagnostics {
@@ -320,4 +328,50 @@ ld_normal(a, 0, 3) + ld_normal(s, 0, 1) + ld_normal(e1, 0, s) + ld_normal(e2, 0,
 	logZ, meanA, meanS := math.Log(z), za/z, zs/z
 	t.Logf("reference: log Z %.10g, E a %.8g, E s %.8g", logZ, meanA, meanS)
 	analyseAndCheck(t, src, Options{}, logZ, map[int]float64{0: meanA, 1: meanS})
+}
+
+// groupScaleQuantiles returns the 2.5, 50 and 97.5 % quantiles of the
+// three effects: their distribution functions are mixtures over tau of
+// the normals t_j | tau, y ~ N(y_j f, f), f = tau^2 / (1 + tau^2), with
+// the weights of groupScaleReference's trapezoid rule in log tau, inverted
+// by bisection.
+func groupScaleQuantiles(h float64) (q [3][3]float64) {
+	normal := func(x, sd float64) float64 {
+		return math.Exp(-0.5*(x/sd)*(x/sd)) / (sd * math.Sqrt(2*math.Pi))
+	}
+	var ws, fs []float64
+	z := 0.0
+	for s := -40.0; s <= 5; s += h {
+		tau := math.Exp(s)
+		w := normal(tau, 2) * tau
+		for _, y := range groupScaleY {
+			w *= normal(y, math.Sqrt(1+tau*tau))
+		}
+		ws = append(ws, w)
+		fs = append(fs, tau*tau/(1+tau*tau))
+		z += w
+	}
+	for j, y := range groupScaleY {
+		cdf := func(x float64) float64 {
+			c := 0.0
+			for i, w := range ws {
+				f := fs[i]
+				c += w * 0.5 * math.Erfc(-(x-y*f)/math.Sqrt(2*f))
+			}
+			return c / z
+		}
+		for i, p := range []float64{0.025, 0.5, 0.975} {
+			a, b := -10.0, 10.0
+			for range 100 {
+				m := (a + b) / 2
+				if cdf(m) < p {
+					a = m
+				} else {
+					b = m
+				}
+			}
+			q[j][i] = (a + b) / 2
+		}
+	}
+	return q
 }

@@ -51,7 +51,10 @@ type Result struct {
 	p target.Density
 	// outer is the marginal of the outermost axis's parameter, from the
 	// rule's own sums (see outerCurve); nil in 1-D.
-	outer    *Curve
+	outer *Curve
+	// walks are the rule's walks along its inner axes (see walkSet); nil
+	// in 1-D.
+	walks    *walkSet
 	start    Start
 	settings Settings
 	// the main rule's Gaussian (its start): the guesses of the slices
@@ -116,6 +119,7 @@ func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (
 		}
 		r.nodes.reserve(min(expect, s.withDefaults().MaxPoints), p.Dim())
 		r.pilot = pilot
+		r.keepWalks = p.Dim() > 1
 		if err := r.run(); err != nil {
 			return nil, err
 		}
@@ -230,6 +234,10 @@ func (r *rule) result(start Start, s Settings) (*Result, error) {
 	}
 	if !res.Improper {
 		res.outer = r.outerCurve(s0)
+		if r.keepWalks {
+			res.walks = &r.walks
+			res.walks.s0 = s0
+		}
 	}
 	res.Unconstrained = r.moments(0, res.Improper)
 	res.Original = r.moments(1, res.Improper)

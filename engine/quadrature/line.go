@@ -113,6 +113,9 @@ func (r *rule) line() error {
 	for t := range r.ls {
 		r.lay.expand(&r.ls[t], r.y, r.x, 1, lv.sum[t])
 	}
+	if r.keepWalks && k > 0 {
+		r.recordWalk(k, r.lineG[jl+off:jr+1+off], jl, 1/r.h)
+	}
 	if *r.s.lines++; r.s.Tick != nil && *r.s.lines%tickLines == 0 {
 		r.s.Tick()
 	}

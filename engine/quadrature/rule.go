@@ -58,12 +58,17 @@ type rule struct {
 	cols                                                  [][]float64
 	ls                                                    [3]lineSums
 
-	pilot     bool    // the start is a pilot's mean and covariance: no Newton on the outer axis
-	boundErr  float64 // see boundRounding
-	nodes     Nodes
-	noNodes   bool      // the rule is a slice's: its nodes are not kept
-	outer     []float64 // the outer axis's inner integrals times du/dt (see outerCurve)
-	outerLo   int       // the outer walk's first and last indices
+	pilot    bool    // the start is a pilot's mean and covariance: no Newton on the outer axis
+	boundErr float64 // see boundRounding
+	nodes    Nodes
+	noNodes  bool      // the rule is a slice's: its nodes are not kept
+	outer    []float64 // the outer axis's inner integrals times du/dt (see outerCurve)
+	// keepWalks has the rule record its walks along the inner axes (see
+	// walkSet): the main rule's.
+	keepWalks bool
+	walks     walkSet
+	walkBuf   [][]float64 // per inner level, the walk's shares by node index
+	outerLo   int         // the outer walk's first and last indices
 	outerHi   int
 	points    int
 	derivs    int
@@ -179,6 +184,10 @@ func newRule(ctx context.Context, p target.Density, st Start, s Settings) (*rule
 	r.lineBad = make([]bool, n)
 	if d > 1 {
 		r.outer = make([]float64, n)
+		r.walkBuf = make([][]float64, d)
+		for k := 1; k < d-1; k++ {
+			r.walkBuf[k] = make([]float64, n)
+		}
 	}
 	r.cols = make([][]float64, d)
 	for k := range r.cols {
@@ -308,6 +317,7 @@ func (r *rule) axis(k int) error {
 	// until there are two.
 	m0, m1, m00 := lv.m0, lv.m1, lv.m00
 	var u0, u1, u00 float64
+	wlo, whi := 0, 0
 	for _, side := range [2]int{1, -1} {
 		first := true
 		known := 0
@@ -349,6 +359,10 @@ func (r *rule) axis(k int) error {
 				r.outer[j+r.maxJ] = child.sum[0][0] * lv.jacAt(j, r.em)
 				r.outerLo, r.outerHi = min(r.outerLo, j), max(r.outerHi, j)
 			}
+			if k > 0 && r.keepWalks {
+				r.walkBuf[k][j+r.maxJ] = child.sum[0][0] * lv.jacAt(j, r.em)
+				wlo, whi = min(wlo, j), max(whi, j)
+			}
 			if j%2 == 0 {
 				addScaled(lv.sum[1], child.sum[1], 2*wt)
 			}
@@ -373,6 +387,9 @@ func (r *rule) axis(k int) error {
 			first = false
 			cur, prev = prev, cur
 		}
+	}
+	if k > 0 && r.keepWalks {
+		r.recordWalk(k, r.walkBuf[k][wlo+r.maxJ:whi+1+r.maxJ], wlo, 1)
 	}
 	return nil
 }

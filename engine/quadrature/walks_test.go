@@ -1,0 +1,89 @@
+package quadrature
+
+import (
+	"math"
+	"testing"
+)
+
+var walkProbs = []float64{0.025, 0.5, 0.975}
+
+// A correlated normal in 3-D, every marginal N(0, 1) (b = 0.8 a + e with
+// var e = 0.36, c = 0.5 b + e' with var e' = 0.75): the quantiles of the
+// two inner axes' parameters from the rule's walks against the normal's,
+// sqrt(2) erfinv(2p - 1) (Go's math library), and their error estimates
+// against the actual errors as probabilities.
+func TestWalkQuantilesNormal3D(t *testing.T) {
+	pr := compile(t, "param a\nparam b\nparam c\n-0.5*(a^2 + (b-0.8*a)^2/0.36 + (c - 0.5*b)^2/0.75)\n")
+	res := pr.integrate(t, Settings{})
+	for _, k := range res.Order[1:] {
+		q, est, err := res.WalkQuantiles(k, walkProbs)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for i, p := range walkProbs {
+			want := math.Sqrt2 * math.Erfinv(2*p-1)
+			e := math.Abs(q[i] - want)
+			// The error as a probability: the density times the distance.
+			eProb := e * math.Exp(-want*want/2) / math.Sqrt(2*math.Pi)
+			if e > 5e-5 || eProb > est {
+				t.Errorf("parameter %d: quantile %g = %.12g, want %.12g (off by %.2g, %.2g as a probability; estimate %.2g)", k, p, q[i], want, e, eProb, est)
+			}
+		}
+	}
+	if _, _, err := res.WalkQuantiles(res.Order[0], walkProbs); err == nil {
+		t.Errorf("the outermost axis has no walks of its own, want an error")
+	}
+}
+
+// The funnel v ~ N(0, 3), x | v ~ N(0, e^(v/2)): x's marginal has a peak
+// no walk along x resolves, but given v it is normal. Its quantiles,
+// P(x <= q) = E_v Phi(q e^(-v/2)), by the trapezoid rule in v (step 5e-4
+// on [-30, 30]) and bisection, by a script of ours: 9.7509153400.
+func TestWalkQuantilesFunnel(t *testing.T) {
+	pr := compile(t, "param v\nparam x\n-v^2/18 - x^2/(2*exp(v)) - v/2\n")
+	res := pr.integrate(t, Settings{})
+	q, est, err := res.WalkQuantiles(1, walkProbs)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []float64{-9.7509153400, 0, 9.7509153400}
+	sd := math.Sqrt(math.Exp(4.5)) // var x = E e^v = e^(9/2)
+	for i := range want {
+		if e := math.Abs(q[i] - want[i]); e > 1e-4*sd {
+			t.Errorf("quantile %g of x = %.10g, want %.10g (off by %.2g sd)", walkProbs[i], q[i], want[i], e/sd)
+		}
+	}
+	if est > 1e-4 {
+		t.Errorf("error estimate %.2g, want it small", est)
+	}
+}
+
+// The banana (x ~ N(0, 10), y | x ~ N(5 - 0.05 x^2, 1)): y's conditional
+// given x is a ridge far narrower than the spacing of x's nodes, so the
+// walks do not give y's distribution function; the estimate must say so,
+// covering the actual error. The truth, P(y <= q) = E_x Phi(q - 5 + 0.05
+// x^2), by the trapezoid rule in x here.
+func TestWalkQuantilesBananaFlagged(t *testing.T) {
+	pr := compile(t, "param x\nparam y\n-x^2/200 - (y + 0.05*x^2 - 5)^2/2\n")
+	res := pr.integrate(t, Settings{})
+	q, est, err := res.WalkQuantiles(1, walkProbs)
+	if err != nil {
+		t.Fatal(err)
+	}
+	cdf := func(y float64) float64 {
+		const h = 0.002
+		s := 0.0
+		for x := -150.0; x < 150; x += h {
+			s += math.Exp(-x*x/200) * 0.5 * math.Erfc(-(y-5+0.05*x*x)/math.Sqrt2)
+		}
+		return s * h / math.Sqrt(200*math.Pi)
+	}
+	worst := 0.0
+	for i, p := range walkProbs {
+		worst = max(worst, math.Abs(cdf(q[i])-p))
+	}
+	if !(worst <= est) || est < 1e-3 {
+		t.Errorf("error estimate %.2g against an actual error of %.2g (as probabilities): want it to cover it and flag it (>= 1e-3)", est, worst)
+	}
+	t.Logf("quantiles %v, estimate %.2g, actual %.2g", q, est, worst)
+}
