@@ -119,7 +119,10 @@ func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (
 		}
 		r.nodes.reserve(min(expect, s.withDefaults().MaxPoints), p.Dim())
 		r.pilot = pilot
-		r.keepWalks = p.Dim() > 1
+		if r.keepWalks = p.Dim() > 1; r.keepWalks {
+			// The lines' nodes, about the rule's.
+			r.walks.g = make([]float64, 0, min(expect, s.withDefaults().MaxPoints))
+		}
 		if err := r.run(); err != nil {
 			return nil, err
 		}

@@ -62,11 +62,20 @@ func TestWalkQuantilesFunnel(t *testing.T) {
 // given x is a ridge far narrower than the spacing of x's nodes, so the
 // walks do not give y's distribution function; the estimate must say so,
 // covering the actual error. The truth, P(y <= q) = E_x Phi(q - 5 + 0.05
-// x^2), by the trapezoid rule in x here.
+// x^2), by the trapezoid rule in x here. The estimate at a normal's guess
+// of the 2.5 % quantile already exceeds walkScreen, so no quantiles are
+// returned; without the screen, the estimate at the quantiles found must
+// cover their error.
 func TestWalkQuantilesBananaFlagged(t *testing.T) {
 	pr := compile(t, "param x\nparam y\n-x^2/200 - (y + 0.05*x^2 - 5)^2/2\n")
 	res := pr.integrate(t, Settings{})
 	q, est, err := res.WalkQuantiles(1, walkProbs)
+	if err != nil || q != nil || !(est > walkScreen) {
+		t.Fatalf("got quantiles %v, estimate %.2g, error %v: want none, with an estimate over %g", q, est, err, walkScreen)
+	}
+	defer func(s float64) { walkScreen = s }(walkScreen)
+	walkScreen = math.Inf(1)
+	q, est, err = res.WalkQuantiles(1, walkProbs)
 	if err != nil {
 		t.Fatal(err)
 	}
