@@ -196,9 +196,10 @@ func (a *analysis) ruleRanges(q *quadrature.Result) ([][2]float64, []*quadrature
 	curves := make([]*quadrature.Curve, d)
 	for k := 0; k < d; k++ {
 		cv := a.ref.curves[k]
-		if cv == nil && a.ref.curves == nil {
-			// The exact stage walked none (it walks every marginal, and a
-			// failed walk is not tried again).
+		if cv == nil && (a.ref.curves == nil || a.ref.curvesLater[k]) {
+			// The exact stage walked none, or left this one to the plots
+			// (its quantiles came from the rule's walks); a failed walk is
+			// not tried again.
 			var err error
 			if cv, err = q.Curve(a.ctx, k, fineCurves(q)); err != nil && !errors.Is(err, quadrature.ErrCurve) {
 				return nil, nil, err

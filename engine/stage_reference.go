@@ -71,6 +71,9 @@ type reference struct {
 	// curves are the rule's marginals, per parameter (nil where the walk
 	// failed): the quantiles and the plotted marginals.
 	curves []*quadrature.Curve
+	// curvesLater marks the marginals whose quantiles came from the rule's
+	// walks along them: their own walks are left to the plots.
+	curvesLater []bool
 	// gridCurves reports a marginal the rule's walk did not resolve while
 	// the full grid does: its quantiles and the plots come from the grid.
 	gridCurves bool

@@ -72,6 +72,29 @@ func (r *rule) recordWalk(k int, g []float64, lo int, scale float64) {
 // one-dimensional.
 var ErrNoWalks = errors.New("quadrature: no walks along the parameter's axis")
 
+// WalkNodes returns the number of nodes of the rule's walks along
+// parameter k's axis (0 for the outermost): WalkQuantiles's cost is about
+// twenty evaluations of their distribution functions per quantile, each
+// a sum over these nodes.
+func (res *Result) WalkNodes(k int) int {
+	if res.walks == nil || k < 0 || k >= res.Dim {
+		return 0
+	}
+	axis := -1
+	for a, p := range res.Order {
+		if p == k {
+			axis = a
+		}
+	}
+	n := 0
+	for i := range res.walks.walks {
+		if w := &res.walks.walks[i]; w.axis == axis {
+			n += w.n
+		}
+	}
+	return n
+}
+
 // WalkQuantiles returns parameter k's quantiles at probs on the original
 // scale from the rule's walks along k's axis (see walkSet), and an
 // estimate of their error as a probability. Each walk's distribution
@@ -103,44 +126,43 @@ func (res *Result) WalkQuantiles(k int, probs []float64) ([]float64, float64, er
 			axis = a
 		}
 	}
-	var list []int
+	var sel walkSelection
 	lo, hi := math.Inf(1), math.Inf(-1)
 	for i := range ws.walks {
 		w := &ws.walks[i]
 		if w.axis != axis || w.n == 0 {
 			continue
 		}
-		list = append(list, i)
-		lo = min(lo, w.c+w.lv.offset(ws.h*float64(w.lo)))
-		hi = max(hi, w.c+w.lv.offset(ws.h*float64(w.lo+w.n-1)))
+		zlo, zhi := w.c+w.lv.offset(ws.h*float64(w.lo)), w.c+w.lv.offset(ws.h*float64(w.lo+w.n-1))
+		sel.list = append(sel.list, i)
+		sel.zlo, sel.zhi = append(sel.zlo, zlo), append(sel.zhi, zhi)
+		sel.totals = append(sel.totals, sincTotals(ws.g[w.off:w.off+w.n], ws.h, w.lo, w.tier))
+		lo, hi = min(lo, zlo), max(hi, zhi)
 	}
-	if len(list) == 0 || !(hi > lo) {
+	if len(sel.list) == 0 || !(hi > lo) {
 		return nil, 0, ErrNoWalks
 	}
-	totals := ws.cdf(list, axis, math.Inf(1), 2)
+	sel.scale = [3]float64{1, math.Ldexp(1, axis), math.Ldexp(1, 2*axis)}
+	var totals [3]float64
+	for i, t := range sel.totals {
+		w := ws.walks[sel.list[i]].weight
+		for r := range totals {
+			totals[r] += w * sel.scale[r] * t[r]
+		}
+	}
 	for _, t := range totals {
 		if !(t > 0) {
 			return nil, 0, ErrNoWalks
 		}
 	}
-	// The search takes the rule's distribution function alone; the
-	// coarser rules' come in at the quantiles found.
-	F := func(z float64, tiers int) [3]float64 {
-		c := ws.cdf(list, axis, z, tiers)
+	// F returns the distribution functions at z (the coarser rules' up to
+	// tiers) and the rule's density there.
+	F := func(z float64, tiers int) ([3]float64, float64) {
+		c, dens := ws.cdf(&sel, z, tiers)
 		for i := range c {
 			c[i] /= totals[i]
 		}
-		return c
-	}
-	mp := res.mapOf(k)
-	out := make([]float64, len(probs))
-	worst := 0.0
-	// The search starts from the bracket a normal of the rule's mean and
-	// sd puts around each quantile, widened until it holds it.
-	d := res.Dim
-	mean, sd := res.Unconstrained.Mean[k], math.Sqrt(res.Unconstrained.Cov[k*d+k])
-	if math.IsNaN(mean) || !(sd > 0) || math.IsInf(sd, 0) {
-		mean, sd = (lo+hi)/2, (hi-lo)/4
+		return c, dens / totals[0]
 	}
 	estimateAt := func(f [3]float64) float64 {
 		e2, e1 := math.Abs(f[0]-f[1]), math.Abs(f[1]-f[2])
@@ -149,22 +171,48 @@ func (res *Result) WalkQuantiles(k int, probs []float64) ([]float64, float64, er
 		}
 		return e2
 	}
+	mp := res.mapOf(k)
+	out := make([]float64, len(probs))
+	worst := 0.0
+	// The search starts from a normal's guess (the rule's mean and sd) and
+	// takes Newton steps on the rule's distribution function, with its
+	// density, kept inside a bracket that each step narrows.
+	d := res.Dim
+	mean, sd := res.Unconstrained.Mean[k], math.Sqrt(res.Unconstrained.Cov[k*d+k])
+	if math.IsNaN(mean) || !(sd > 0) || math.IsInf(sd, 0) {
+		mean, sd = (lo+hi)/2, (hi-lo)/4
+	}
 	for i, p := range probs {
-		g := func(z float64) float64 { return F(z, 0)[0] - p }
-		c := mean + sd*math.Sqrt2*math.Erfinv(2*p-1)
-		if est := estimateAt(F(c, 2)); est > walkScreen {
+		z := min(hi, max(lo, mean+sd*math.Sqrt2*math.Erfinv(2*p-1)))
+		f, dens := F(z, 2)
+		if est := estimateAt(f); est > walkScreen {
 			// The rules disagree near the quantile already: no search.
 			return nil, est, nil
 		}
-		a, b := max(lo, c-sd/2), min(hi, c+sd/2)
-		for step := sd; a > lo && g(a) > 0; step *= 2 {
-			a = max(lo, a-step)
+		a, b := lo, hi
+		for it := 0; it < 100; it++ {
+			r := f[0] - p
+			if math.Abs(r) <= 1e-13 {
+				break
+			}
+			if r < 0 {
+				a = z
+			} else {
+				b = z
+			}
+			next := z - r/dens
+			if !(next > a && next < b) || it%10 == 9 {
+				next = (a + b) / 2
+			}
+			if math.Abs(next-z) <= 1e-10*sd || b-a <= 1e-10*sd {
+				z = next
+				break
+			}
+			z = next
+			f, dens = F(z, 0)
 		}
-		for step := sd; b < hi && g(b) < 0; step *= 2 {
-			b = min(hi, b+step)
-		}
-		z := solveMonotone(g, a, b, 1e-10*sd)
-		worst = max(worst, estimateAt(F(z, 2)))
+		f, _ = F(z, 2)
+		worst = max(worst, estimateAt(f))
 		out[i] = mp.ToOriginal(z)
 	}
 	// The walks' mass against the rule's sum: the same sum in another
@@ -175,46 +223,61 @@ func (res *Result) WalkQuantiles(k int, probs []float64) ([]float64, float64, er
 	return out, worst, nil
 }
 
+// walkSelection is the walks along one axis, with their ranges on the
+// parameter's coordinate and their totals (see sincTotals), and the
+// factors of the coarser rules' outer weights.
+type walkSelection struct {
+	list     []int
+	zlo, zhi []float64
+	totals   [][3]float64
+	scale    [3]float64
+}
+
 // walkScreen is the error estimate, as a probability, at a normal's
 // guess of a quantile above which WalkQuantiles does not search for it
 // (the banana's y: 2e-2 at the guess of its 2.5 % quantile, 5e-3 at the
 // quantile); a caller's tolerance is far below it.
 var walkScreen = 1e-3
 
-// cdf returns, at z, the walks' summed distribution functions of the rule
-// and of the rules of steps 2h and 4h (tiers 1 and 2: the walks whose
-// outer nodes are theirs, each outer node's weight doubled or quadrupled),
-// in the units of the rule's sum; tiers bounds the coarser rules taken (0
-// for the rule's alone).
-func (ws *walkSet) cdf(list []int, axis int, z float64, tiers int) [3]float64 {
+// cdf returns, at z, the selected walks' summed distribution functions of
+// the rule and of the rules of steps 2h and 4h (tiers 1 and 2: the walks
+// whose outer nodes are theirs, each outer node's weight doubled or
+// quadrupled) up to tiers, and the rule's density, in the units of the
+// rule's sum.
+func (ws *walkSet) cdf(sel *walkSelection, z float64, tiers int) ([3]float64, float64) {
 	h := ws.h
-	scale := [3]float64{1, math.Ldexp(1, axis), math.Ldexp(1, 2*axis)}
 	var out [3]float64
-	for _, i := range list {
-		w := &ws.walks[i]
-		g := ws.g[w.off : w.off+w.n]
-		tlo, thi := h*float64(w.lo), h*float64(w.lo+w.n-1)
-		u := z - w.c
-		var c [3]float64
-		switch {
-		case u <= w.lv.offset(tlo):
+	dens := 0.0
+	for n, i := range sel.list {
+		if z <= sel.zlo[n] {
 			// Below the walk: its first node's share is below 1e-10 of its
 			// peak, the interpolant's integral there is of that order.
 			continue
-		case u >= w.lv.offset(thi):
-			c = sincTotals(g, h, w.lo, min(w.tier, tiers))
-		case w.lv.betaL == 0.5 && w.lv.betaR == 0.5:
-			// The sinh map's inverse in closed form.
-			c = sincCDFs(g, h, w.lo, math.Asinh(u/w.lv.w), min(w.tier, tiers))
-		default:
-			t, _ := w.lv.inverse(u, tlo, thi, math.NaN())
-			c = sincCDFs(g, h, w.lo, t, min(w.tier, tiers))
+		}
+		w := &ws.walks[i]
+		var c [3]float64
+		if z >= sel.zhi[n] {
+			c = sel.totals[n]
+		} else {
+			g := ws.g[w.off : w.off+w.n]
+			u := z - w.c
+			var t, jac float64
+			if w.lv.betaL == 0.5 && w.lv.betaR == 0.5 {
+				// The sinh map's inverse in closed form.
+				t = math.Asinh(u / w.lv.w)
+				jac = w.lv.w * math.Cosh(t)
+			} else {
+				t, jac = w.lv.inverse(u, h*float64(w.lo), h*float64(w.lo+w.n-1), math.NaN())
+			}
+			var gt float64
+			c, gt = sincCDFs(g, h, w.lo, t, min(w.tier, tiers))
+			dens += w.weight * gt / jac
 		}
 		for r := range out {
-			out[r] += w.weight * scale[r] * c[r]
+			out[r] += w.weight * sel.scale[r] * c[r]
 		}
 	}
-	return out
+	return out, dens
 }
 
 // sincTotals returns the integrals of the sinc interpolants of g at t =
@@ -236,16 +299,28 @@ func sincTotals(g []float64, h float64, lo, tier int) [3]float64 {
 }
 
 // sincCDFs returns the integrals up to t of the interpolants of
-// sincTotals: C(t) = h sum_i g_i (1/2 + Si(pi (t/h - j_i))/pi).
-func sincCDFs(g []float64, h float64, lo int, t float64, tier int) [3]float64 {
+// sincTotals, C(t) = h sum_i g_i (1/2 + Si(pi (t/h - j_i))/pi), and the
+// rule's interpolant at t, sum_i g_i sinc(t/h - j_i).
+func sincCDFs(g []float64, h float64, lo int, t float64, tier int) ([3]float64, float64) {
 	s := t / h
+	// sin(pi (s - j)) = (-1)^j sin(pi s): one sine a walk.
+	sinS := math.Sin(math.Pi * s)
 	var c [3]float64
+	gt := 0.0
 	for i, v := range g {
 		if v == 0 {
 			continue
 		}
 		j := lo + i
-		c[0] += v * (0.5 + siPi(s-float64(j))/math.Pi)
+		x := s - float64(j)
+		c[0] += v * (0.5 + siPi(x)/math.Pi)
+		if math.Abs(x) < 1e-9 {
+			gt += v
+		} else if j&1 == 0 {
+			gt += v * sinS / (math.Pi * x)
+		} else {
+			gt -= v * sinS / (math.Pi * x)
+		}
 		if tier >= 1 && j&1 == 0 {
 			c[1] += v * (0.5 + siPi(s/2-float64(j/2))/math.Pi)
 		}
@@ -253,52 +328,7 @@ func sincCDFs(g []float64, h float64, lo int, t float64, tier int) [3]float64 {
 			c[2] += v * (0.5 + siPi(s/4-float64(j/4))/math.Pi)
 		}
 	}
-	return [3]float64{h * c[0], 2 * h * c[1], 4 * h * c[2]}
-}
-
-// solveMonotone returns a root of the increasing function f in [a, b]
-// within tol (the end nearer the root where f does not change sign
-// there), by the
-// Illinois variant of regula falsi, with a bisection step where it stalls.
-func solveMonotone(f func(float64) float64, a, b, tol float64) float64 {
-	fa, fb := f(a), f(b)
-	if fa >= 0 {
-		return a
-	}
-	if fb <= 0 {
-		return b
-	}
-	side := 0
-	for it := 0; it < 100; it++ {
-		m := (a*fb - b*fa) / (fb - fa)
-		if !(m > a && m < b) || it%8 == 7 {
-			m = (a + b) / 2
-		}
-		fm := f(m)
-		switch {
-		case math.Abs(fm) <= 1e-13:
-			return m
-		case fm < 0:
-			a, fa = m, fm
-			if side == -1 {
-				fb /= 2
-			}
-			side = -1
-		default:
-			b, fb = m, fm
-			if side == 1 {
-				fa /= 2
-			}
-			side = 1
-		}
-		if b-a <= tol {
-			break
-		}
-	}
-	if -fa < fb {
-		return a
-	}
-	return b
+	return [3]float64{h * c[0], 2 * h * c[1], 4 * h * c[2]}, gt
 }
 
 // siPi returns Si(pi x), the integral of sin(u)/u over [0, pi x], for any
