@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"sort"
 	"sync"
 
 	"gonum.org/v1/gonum/integrate/quad"
@@ -178,9 +179,12 @@ func (res *Result) WalkQuantiles(k int, probs []float64) ([]float64, float64, er
 	// takes Newton steps on the rule's distribution function, with its
 	// density, kept inside a bracket that each step narrows.
 	d := res.Dim
-	mean, sd := res.Unconstrained.Mean[k], math.Sqrt(res.Unconstrained.Cov[k*d+k])
-	if math.IsNaN(mean) || !(sd > 0) || math.IsInf(sd, 0) {
-		mean, sd = (lo+hi)/2, (hi-lo)/4
+	u := &res.Unconstrained
+	mean, sd := u.Mean[k], math.Sqrt(u.Cov[k*d+k])
+	if u.MeanInfinite[k] || u.VarInfinite[k] || math.IsNaN(mean) || !(sd > 0) || math.IsInf(sd, 0) {
+		// No variance (a Student t with 2 degrees of freedom): the
+		// walks' mass-weighted median centre and conditional sd.
+		mean, sd = ws.medianWalk(&sel)
 	}
 	for i, p := range probs {
 		z := min(hi, max(lo, mean+sd*math.Sqrt2*math.Erfinv(2*p-1)))
@@ -189,8 +193,11 @@ func (res *Result) WalkQuantiles(k int, probs []float64) ([]float64, float64, er
 			// The rules disagree near the quantile already: no search.
 			return nil, est, nil
 		}
+		// The search ends where a step moves the distribution function
+		// by less than 1e-11 (the density at z times the step): a scale of
+		// the parameter's own, defined where its sd is not.
 		a, b := lo, hi
-		for it := 0; it < 100; it++ {
+		for it := 0; it < 200; it++ {
 			r := f[0] - p
 			if math.Abs(r) <= 1e-13 {
 				break
@@ -201,10 +208,9 @@ func (res *Result) WalkQuantiles(k int, probs []float64) ([]float64, float64, er
 				b = z
 			}
 			next := z - r/dens
-			if !(next > a && next < b) || it%10 == 9 {
+			if !(dens > 0) || !(next > a && next < b) || it%10 == 9 {
 				next = (a + b) / 2
-			}
-			if math.Abs(next-z) <= 1e-10*sd || b-a <= 1e-10*sd {
+			} else if math.Abs(next-z)*dens <= 1e-11 {
 				z = next
 				break
 			}
@@ -221,6 +227,34 @@ func (res *Result) WalkQuantiles(k int, probs []float64) ([]float64, float64, er
 		worst = max(worst, e)
 	}
 	return out, worst, nil
+}
+
+// medianWalk returns the mass-weighted medians of the selected walks'
+// centres and of their conditional sds (the map's half-width over its
+// width in sds).
+func (ws *walkSet) medianWalk(sel *walkSelection) (centre, sd float64) {
+	type item struct{ v, m float64 }
+	cs := make([]item, len(sel.list))
+	sds := make([]item, len(sel.list))
+	total := 0.0
+	for n, i := range sel.list {
+		w := &ws.walks[i]
+		m := w.weight * sel.totals[n][0]
+		cs[n] = item{w.c, m}
+		sds[n] = item{w.lv.w / w.lv.width, m}
+		total += m
+	}
+	median := func(xs []item) float64 {
+		sort.Slice(xs, func(i, j int) bool { return xs[i].v < xs[j].v })
+		acc := 0.0
+		for _, x := range xs {
+			if acc += x.m; acc >= total/2 {
+				return x.v
+			}
+		}
+		return xs[len(xs)-1].v
+	}
+	return median(cs), median(sds)
 }
 
 // walkSelection is the walks along one axis, with their ranges on the
