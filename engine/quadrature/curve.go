@@ -19,7 +19,7 @@ import (
 // 1993, sections 1.10 and 3.2): one walk serves the quantiles and the
 // plotted marginal.
 type Curve struct {
-	lv    level
+	lv    nodeMap
 	c, h  float64
 	lo    int       // index of g[0] (t = lo h)
 	g     []float64 // the marginal's share per unit t at the nodes
@@ -115,10 +115,10 @@ func (r *rule) outerCurve(s0 float64) *Curve {
 	lo, hi := r.outerLo, r.outerHi
 	l00 := r.L[0]
 	cv := &Curve{
-		lv: level{w: l00 * lv.w, width: lv.width, betaL: lv.betaL, betaR: lv.betaR},
-		c:  r.m[0] + l00*lv.c, h: r.h, lo: lo, mp: r.maps[0],
+		lv: lv.nodeMap, c: r.m[0] + l00*lv.c, h: r.h, lo: lo, mp: r.maps[0],
 		g: make([]float64, hi-lo+1),
 	}
+	cv.lv.w *= l00
 	for j := lo; j <= hi; j++ {
 		v := r.outer[j+r.maxJ] / s0
 		if math.IsNaN(v) || math.IsInf(v, 0) {
@@ -251,7 +251,7 @@ func (cv *Curve) Quantiles(probs []float64) []float64 {
 // Jacobian. guess, when inside the bracket, is the first iterate (the last
 // plot point's t: the points come in order); otherwise the sinh map's
 // inverse or the linear one's.
-func (lv *level) inverse(u, tlo, thi, guess float64) (t, jac float64) {
+func (lv *nodeMap) inverse(u, tlo, thi, guess float64) (t, jac float64) {
 	a, b := tlo-8, thi+8
 	t = u / lv.w // the linear map's inverse, and sinh's near the centre
 	if lv.betaL == 0.5 && lv.betaR == 0.5 {

@@ -17,23 +17,31 @@ import (
 // (its error falls like exp(-2 pi a / h) for a strip of half-width a), so
 // the map is linear on that side: u = c + w t.
 
+// nodeMap is the shape of a node map, u = c + w phi(t): its half-width w
+// (width conditional sds) and the weights of its exponential sides (see
+// offset).
+type nodeMap struct {
+	w, width     float64
+	betaL, betaR float64
+}
+
 // offset returns u - c = w phi(t) with phi(t) = t + bR (e^t - 1 - t) -
 // bL (e^-t - 1 + t): sinh t when both b are 1/2, t when both are 0, and
 // linear on one side, exponential on the other in between.
-func (lv *level) offset(t float64) float64 {
+func (lv *nodeMap) offset(t float64) float64 {
 	ep, en := lv.expm1s(t)
 	return lv.offsetWith(t, ep, en)
 }
 
 // jac returns du/dt at t.
-func (lv *level) jac(t float64) float64 {
+func (lv *nodeMap) jac(t float64) float64 {
 	ep, en := lv.expm1s(t)
 	return lv.jacWith(ep, en)
 }
 
 // offsetAt and jacAt are offset and jac at the node t = j h of a rule of
 // step h: from em, the table of that step, where it reaches j.
-func (lv *level) offsetAt(j int, em *expm1Table) float64 {
+func (lv *nodeMap) offsetAt(j int, em *expm1Table) float64 {
 	ep, en, ok := em.at(j)
 	if !ok {
 		return lv.offset(float64(j) * em.h)
@@ -41,7 +49,7 @@ func (lv *level) offsetAt(j int, em *expm1Table) float64 {
 	return lv.offsetWith(float64(j)*em.h, ep, en)
 }
 
-func (lv *level) jacAt(j int, em *expm1Table) float64 {
+func (lv *nodeMap) jacAt(j int, em *expm1Table) float64 {
 	ep, en, ok := em.at(j)
 	if !ok {
 		return lv.jac(float64(j) * em.h)
@@ -51,7 +59,7 @@ func (lv *level) jacAt(j int, em *expm1Table) float64 {
 
 // expm1s returns expm1(t) and expm1(-t) where the map uses them (a side
 // whose b is 0 takes neither: 0 there).
-func (lv *level) expm1s(t float64) (ep, en float64) {
+func (lv *nodeMap) expm1s(t float64) (ep, en float64) {
 	if lv.betaR != 0 {
 		ep = math.Expm1(t)
 	}
@@ -62,7 +70,7 @@ func (lv *level) expm1s(t float64) (ep, en float64) {
 }
 
 // offsetWith is offset at t given ep = expm1(t) and en = expm1(-t).
-func (lv *level) offsetWith(t, ep, en float64) float64 {
+func (lv *nodeMap) offsetWith(t, ep, en float64) float64 {
 	phi := t
 	if lv.betaR != 0 {
 		phi += lv.betaR * (ep - t)
@@ -74,7 +82,7 @@ func (lv *level) offsetWith(t, ep, en float64) float64 {
 }
 
 // jacWith is jac given ep = expm1(t) and en = expm1(-t).
-func (lv *level) jacWith(ep, en float64) float64 {
+func (lv *nodeMap) jacWith(ep, en float64) float64 {
 	d := 1.0
 	if lv.betaR != 0 {
 		d += lv.betaR * ep
@@ -129,7 +137,7 @@ func expm1TableFor(h float64, n int) *expm1Table {
 
 // startIndex returns the index where a line's first block ends on the
 // side sign: about 7 conditional standard deviations from the centre.
-func (lv *level) startIndex(em *expm1Table, sign int) int {
+func (lv *nodeMap) startIndex(em *expm1Table, sign int) int {
 	sd := lv.w / lv.width
 	j := 1
 	for ; j < 1000 && math.Abs(lv.offsetAt(sign*j, em)) < 7*sd; j++ {

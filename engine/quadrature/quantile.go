@@ -20,11 +20,11 @@ func (res *Result) Quantiles(ctx context.Context, k int, probs []float64) ([]flo
 // marginalMap returns the node map of parameter k's marginal: centred at
 // the main rule's centre, the sides chosen by probing log p along k (the
 // others on their Gaussian regression line) as the rule's axes are.
-func (res *Result) marginalMap(k int) level {
+func (res *Result) marginalMap(k int) nodeMap {
 	d := res.Dim
 	s := res.settings.withDefaults()
 	sd := math.Sqrt(res.cov[k*d+k])
-	lv := level{w: s.Width * sd, width: s.Width, betaL: 0.5, betaR: 0.5}
+	lv := nodeMap{w: s.Width * sd, width: s.Width, betaL: 0.5, betaR: 0.5}
 	x := make([]float64, d)
 	at := func(dist float64) float64 {
 		for a := 0; a < d; a++ {

@@ -15,17 +15,16 @@ type level struct {
 	mode  []float64 // the conditional mode of axes k.. (u coordinates, len d)
 	sigma []float64 // the conditional covariance of axes k.. (len (d-k)^2)
 	// the inner level's modes at the last two outer nodes and at t = 0
-	m0, m1, m00  []float64
-	slope        []float64 // d mode_a / d u_k for a > k
-	c, w         float64   // the node map u_k = c + w phi(t) (see offset)
-	betaL, betaR float64
-	chosen       bool    // chooseMap has probed this axis (see Settings.keepMaps)
-	width        float64 // w / sd
-	logW         float64 // log of the outer axes' weights (with det L)
-	tier         int     // lowest tier of the outer indices
-	sum          [3][]float64
-	rem          []float64 // truncation remainders (watch layout)
-	inf          []bool    // infinite flags (flag layout)
+	m0, m1, m00 []float64
+	slope       []float64 // d mode_a / d u_k for a > k
+	c           float64   // the node map u_k = c + w phi(t) (see offset)
+	nodeMap               // w, its width in sds and its sides
+	chosen      bool      // chooseMap has probed this axis (see Settings.keepMaps)
+	logW        float64   // log of the outer axes' weights (with det L)
+	tier        int       // lowest tier of the outer indices
+	sum         [3][]float64
+	rem         []float64 // truncation remainders (watch layout)
+	inf         []bool    // infinite flags (flag layout)
 	// the walk's end: watched components of the last two nodes, their peak
 	cur, prev, peak []float64
 }

@@ -41,7 +41,7 @@ type walkRecord struct {
 	axis, tier, lo, off, n int
 	weight                 float64
 	c                      float64
-	lv                     level
+	lv                     nodeMap
 }
 
 // recordWalk adds the walk along axis k at the current outer point, whose
@@ -60,12 +60,14 @@ func (r *rule) recordWalk(k int, g []float64, lo int, scale float64) {
 	for _, v := range g {
 		ws.g = append(ws.g, v*scale)
 	}
-	ws.walks = append(ws.walks, walkRecord{
+	rec := walkRecord{
 		axis: k, tier: lv.tier, lo: lo, off: off, n: len(g),
 		weight: math.Exp(lv.logW - r.ldL),
 		c:      base + lkk*lv.c,
-		lv:     level{w: lkk * lv.w, width: lv.width, betaL: lv.betaL, betaR: lv.betaR},
-	})
+		lv:     lv.nodeMap,
+	}
+	rec.lv.w *= lkk
+	ws.walks = append(ws.walks, rec)
 }
 
 // ErrNoWalks means the rule kept no walks along the parameter's axis: it
