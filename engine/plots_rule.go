@@ -187,9 +187,11 @@ func (a *analysis) normalCurve(g *gauss.Prepared, k int, xs []float64) []float64
 // ruleRanges returns each parameter's plot range on the original scale
 // (see plotsFromRule): between the marginal's plotTail and 1 - plotTail
 // quantiles from its Curve (the rule's walk along the parameter, exact to
-// the rule's accuracy), each end within plotReach of the median, widened
-// by plotMargin of that span on each side. The curves are returned too,
-// walked here where the exact stage left none.
+// the rule's accuracy) or, where it has none, from the rule's walks along
+// it (quadrature.Result.WalkQuantiles), each end within plotReach of the
+// median, widened by plotMargin of that span on each side; four sds on the
+// unconstrained scale where neither gives them. The curves are returned
+// too, walked here where the exact stage left none.
 func (a *analysis) ruleRanges(q *quadrature.Result) ([][2]float64, []*quadrature.Curve, error) {
 	d := a.d
 	out := make([][2]float64, d)
@@ -208,8 +210,17 @@ func (a *analysis) ruleRanges(q *quadrature.Result) ([][2]float64, []*quadrature
 		curves[k] = cv
 		mp := a.ref.quadMaps[k]
 		var zlo, zhi, xlo, xhi float64
+		probs := []float64{plotTail, 0.025, 0.5, 0.975, 1 - plotTail}
+		var qs []float64
 		if cv != nil {
-			qs := cv.Quantiles([]float64{plotTail, 0.025, 0.5, 0.975, 1 - plotTail})
+			qs = cv.Quantiles(probs)
+		} else if wq, est, err := q.WalkQuantiles(k, probs); err == nil && est <= walkQuantileTol {
+			// No curve, but the rule's walks along the parameter give its
+			// quantiles (a funnel's location: four sds would reach far
+			// past its peak's body).
+			qs = wq
+		}
+		if qs != nil {
 			xlo = max(qs[0], qs[2]-plotReach*(qs[2]-qs[1]))
 			xhi = min(qs[4], qs[2]+plotReach*(qs[3]-qs[2]))
 			zlo, zhi = mp.FromOriginal(xlo), mp.FromOriginal(xhi)
@@ -224,7 +235,7 @@ func (a *analysis) ruleRanges(q *quadrature.Result) ([][2]float64, []*quadrature
 			return nil, nil, fmt.Errorf("engine: no plot range for %s (from %g to %g on its unconstrained scale)", a.names[k], zlo, zhi)
 		}
 		out[k] = [2]float64{mp.ToOriginal(zlo - plotMargin*span), mp.ToOriginal(zhi + plotMargin*span)}
-		if cv != nil {
+		if qs != nil {
 			// The margin on the original scale, where the axis is drawn,
 			// on each side where it stays inside the support (on the log
 			// scale it multiplied a heavy tail's end by 1.8).
