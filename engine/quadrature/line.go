@@ -169,6 +169,9 @@ func (r *rule) evalRange(a, b int, base, lkk float64) error {
 			r.lineBad[a+i+off] = true
 		case !math.IsInf(lp, -1):
 			g = special.Exp(lp-r.ref) * r.h * lv.jacAt(a+i, r.em)
+			if lp > r.top {
+				r.top = lp
+			}
 		}
 		r.lineG[a+i+off] = g
 		if g != 0 {

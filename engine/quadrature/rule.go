@@ -43,6 +43,7 @@ type rule struct {
 	L    []float64       // z = m + L u, lower triangular, per axis
 	ldL  float64         // log det L
 	ref  float64         // log p at the mode
+	top  float64         // the largest log p a line evaluated (see sliceLogZAt)
 	h    float64
 	maxJ int
 	em   *expm1Table // expm1(±j h), for the node maps
@@ -194,6 +195,7 @@ func newRule(ctx context.Context, p target.Density, st Start, s Settings) (*rule
 	}
 	r.toZ(r.u)
 	r.ref = p.LogDensity(r.z)
+	r.top = r.ref
 	r.points++
 	if math.IsNaN(r.ref) || math.IsInf(r.ref, 0) {
 		return nil, fmt.Errorf("%w: log p at the mode is %g", ErrBadStart, r.ref)
