@@ -585,10 +585,13 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 	for k := 0; k < d; k++ {
 		// An inner axis's quantiles come from the rule's own walks along
 		// it, summed over the outer nodes (quadrature.WalkQuantiles),
-		// where their estimate allows and they are few (walkFirstNodes):
-		// no more evaluations of log p. Its marginal's own walk, for the
-		// plot, is left to the plots (ruleRanges).
-		walked := q.WalkNodes(k) <= walkFirstNodes && walkQuantiles(k)
+		// where their estimate allows and they are few (walkFirstNodes) or
+		// the marginal's own walk would take the rule's step in 3-D or 4-D
+		// (a density with no mode: fineCurves), which costs about as much
+		// as the rule: no more evaluations of log p. Its marginal's own
+		// walk, for the plot, is left to the plots (ruleRanges).
+		cheap := q.WalkNodes(k) <= walkFirstNodes || (d > 2 && fineCurves(q))
+		walked := cheap && walkQuantiles(k)
 		if gridResolves && !a.scout && a.ref.grid != nil && q.Points > costlyRulePoints && gridAgrees(a.ref.grid, q) {
 			// A costly rule (a thin, bent ridge) beside a full grid that
 			// resolves the density: the grid's plots (and quantiles, where
@@ -691,10 +694,13 @@ const walkQuantileTol = 1e-4
 
 // walkFirstNodes is the most nodes of the rule's walks along a parameter
 // for its quantiles to be taken from them before its marginal's own walk
-// is tried (quadrature.Result.WalkNodes). Over more (a 4-D rule's inner
-// lines, 150,000 nodes on the counts benchmark, where the quantiles took
-// 120 ms against 12 ms for the marginal's walk at twice the rule's step)
-// the walks serve only where the marginal's own walk fails.
+// is tried (quadrature.Result.WalkNodes), where that walk takes twice the
+// rule's step. Over more (a 4-D rule's inner lines, 151,000 nodes on the
+// counts benchmark, where the quantiles took 42 ms against 15 ms for the
+// marginal's walk) the walks serve only where the marginal's own walk
+// fails. At the rule's step the marginal's walk costs about a rule (a
+// Poisson model with two site effects: 1.6 s for the intercept's, against
+// about 0.1 s for its walks' quantiles over 400,000 nodes).
 const walkFirstNodes = 20000
 
 // gridAgreeTol bounds the distance between the full grid's means and the
