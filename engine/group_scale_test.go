@@ -440,3 +440,42 @@ func TestGroupScalePairs(t *testing.T) {
 		}
 	}
 }
+
+// The group model's plotted marginals of the effects against their
+// mixtures over tau (as groupScaleQuantiles). The marginals' own walks
+// would take the rule's step (the density has no mode) at about a rule's
+// cost each, so the plots take the rule's walks' densities, within a
+// plot's tolerance (walkDensityTolCostly): at the points next to the
+// logarithmic peak at 0 they were off by up to 9.4e-3 of the peak.
+func TestGroupScaleMarginalPlots(t *testing.T) {
+	res := analyseSource(t, groupScaleModel, Options{Plots: true})
+	normal := func(x, m, sd float64) float64 {
+		return math.Exp(-0.5*((x-m)/sd)*((x-m)/sd)) / (sd * math.Sqrt(2*math.Pi))
+	}
+	logZ, _, _ := groupScaleReference(1e-3)
+	for _, m := range res.Plots.Marginals[1:] {
+		j := m.Param - 1
+		worst, peak := 0.0, 0.0
+		for i, x := range m.X {
+			const h = 1e-3
+			s := 0.0
+			for u := -40.0; u <= 5; u += h {
+				tau := math.Exp(u)
+				w := normal(tau, 0, 2) * tau * h
+				f := tau * tau / (1 + tau*tau)
+				for _, y := range groupScaleY {
+					w *= normal(y, 0, math.Sqrt(1+tau*tau))
+				}
+				s += w * normal(x, groupScaleY[j]*f, math.Sqrt(f))
+			}
+			want := s / math.Exp(logZ)
+			peak = max(peak, want)
+			if e := math.Abs(m.Exact[i] - want); !(e <= worst) {
+				worst = e
+			}
+		}
+		if !(worst <= walkDensityTolCostly*peak) {
+			t.Errorf("marginal of t%d: off by %.3g of its peak %.3g", j+1, worst/peak, peak)
+		}
+	}
+}

@@ -7,6 +7,8 @@ import (
 	"sort"
 	"sync"
 
+	"bellcheck/engine/special"
+
 	"gonum.org/v1/gonum/integrate/quad"
 )
 
@@ -120,59 +122,19 @@ func (res *Result) WalkQuantiles(k int, probs []float64) ([]float64, float64, er
 		return nil, 0, fmt.Errorf("quadrature: parameter %d of %d", k+1, res.Dim)
 	}
 	ws := res.walks
-	if ws == nil {
-		return nil, 0, ErrNoWalks
+	sel, err := res.selectWalks(k)
+	if err != nil {
+		return nil, 0, err
 	}
-	axis := -1
-	for a, p := range res.Order {
-		if p == k {
-			axis = a
-		}
-	}
-	var sel walkSelection
-	lo, hi := math.Inf(1), math.Inf(-1)
-	for i := range ws.walks {
-		w := &ws.walks[i]
-		if w.axis != axis || w.n == 0 {
-			continue
-		}
-		zlo, zhi := w.c+w.lv.offset(ws.h*float64(w.lo)), w.c+w.lv.offset(ws.h*float64(w.lo+w.n-1))
-		sel.list = append(sel.list, i)
-		sel.zlo, sel.zhi = append(sel.zlo, zlo), append(sel.zhi, zhi)
-		sel.totals = append(sel.totals, sincTotals(ws.g[w.off:w.off+w.n], ws.h, w.lo, w.tier))
-		lo, hi = min(lo, zlo), max(hi, zhi)
-	}
-	if len(sel.list) == 0 || !(hi > lo) {
-		return nil, 0, ErrNoWalks
-	}
-	sel.scale = [3]float64{1, math.Ldexp(1, axis), math.Ldexp(1, 2*axis)}
-	var totals [3]float64
-	for i, t := range sel.totals {
-		w := ws.walks[sel.list[i]].weight
-		for r := range totals {
-			totals[r] += w * sel.scale[r] * t[r]
-		}
-	}
-	for _, t := range totals {
-		if !(t > 0) {
-			return nil, 0, ErrNoWalks
-		}
-	}
+	lo, hi, totals := sel.lo, sel.hi, sel.all
 	// F returns the distribution functions at z (the coarser rules' up to
 	// tiers) and the rule's density there.
 	F := func(z float64, tiers int) ([3]float64, float64) {
-		c, dens := ws.cdf(&sel, z, tiers)
+		c, dens := ws.cdf(sel, z, tiers)
 		for i := range c {
 			c[i] /= totals[i]
 		}
-		return c, dens / totals[0]
-	}
-	estimateAt := func(f [3]float64) float64 {
-		e2, e1 := math.Abs(f[0]-f[1]), math.Abs(f[1]-f[2])
-		if e2 < e1 {
-			return max(e2*e2/e1, e2*e2*e2/(e1*e1))
-		}
-		return e2
+		return c, dens[0] / totals[0]
 	}
 	mp := res.mapOf(k)
 	out := make([]float64, len(probs))
@@ -186,7 +148,7 @@ func (res *Result) WalkQuantiles(k int, probs []float64) ([]float64, float64, er
 	if u.MeanInfinite[k] || u.VarInfinite[k] || math.IsNaN(mean) || !(sd > 0) || math.IsInf(sd, 0) {
 		// No variance (a Student t with 2 degrees of freedom): the
 		// walks' mass-weighted median centre and conditional sd.
-		mean, sd = ws.medianWalk(&sel)
+		mean, sd = ws.medianWalk(sel)
 	}
 	for i, p := range probs {
 		z := min(hi, max(lo, mean+sd*math.Sqrt2*math.Erfinv(2*p-1)))
@@ -259,6 +221,103 @@ func (ws *walkSet) medianWalk(sel *walkSelection) (centre, sd float64) {
 	return median(cs), median(sds)
 }
 
+// selectWalks returns the walks along parameter k's axis, with their
+// ranges and totals.
+func (res *Result) selectWalks(k int) (*walkSelection, error) {
+	if res.Improper {
+		return nil, ErrImproper
+	}
+	if k < 0 || k >= res.Dim {
+		return nil, fmt.Errorf("quadrature: parameter %d of %d", k+1, res.Dim)
+	}
+	ws := res.walks
+	if ws == nil {
+		return nil, ErrNoWalks
+	}
+	axis := -1
+	for a, p := range res.Order {
+		if p == k {
+			axis = a
+		}
+	}
+	sel := &walkSelection{lo: math.Inf(1), hi: math.Inf(-1)}
+	for i := range ws.walks {
+		w := &ws.walks[i]
+		if w.axis != axis || w.n == 0 {
+			continue
+		}
+		zlo, zhi := w.c+w.lv.offset(ws.h*float64(w.lo)), w.c+w.lv.offset(ws.h*float64(w.lo+w.n-1))
+		sel.list = append(sel.list, i)
+		sel.zlo, sel.zhi = append(sel.zlo, zlo), append(sel.zhi, zhi)
+		sel.totals = append(sel.totals, sincTotals(ws.g[w.off:w.off+w.n], ws.h, w.lo, w.tier))
+		sel.lo, sel.hi = min(sel.lo, zlo), max(sel.hi, zhi)
+	}
+	if len(sel.list) == 0 || !(sel.hi > sel.lo) {
+		return nil, ErrNoWalks
+	}
+	sel.scale = [3]float64{1, math.Ldexp(1, axis), math.Ldexp(1, 2*axis)}
+	for i, t := range sel.totals {
+		w := ws.walks[sel.list[i]].weight
+		for r := range sel.all {
+			sel.all[r] += w * sel.scale[r] * t[r]
+		}
+	}
+	for _, t := range sel.all {
+		if !(t > 0) {
+			return nil, ErrNoWalks
+		}
+	}
+	return sel, nil
+}
+
+// estimateAt is the error estimate of the rule's value f[0] from the
+// rules of steps 2h and 4h (f[1], f[2]): see WalkQuantiles.
+func estimateAt(f [3]float64) float64 {
+	e2, e1 := math.Abs(f[0]-f[1]), math.Abs(f[1]-f[2])
+	if e2 < e1 {
+		return max(e2*e2/e1, e2*e2*e2/(e1*e1))
+	}
+	return e2
+}
+
+// WalkDensity returns parameter k's marginal density on the original
+// scale at xs from the rule's walks along k's axis (the derivative of
+// WalkQuantiles's distribution function: the walks' sinc interpolants
+// summed), and an estimate of its error relative to its largest value at
+// xs, from the rules of steps 2h and 4h as WalkQuantiles's. It costs a
+// sum over the walks' nodes a point: where the marginal's own walk takes
+// the rule's step in 3-D or 4-D, far less than that walk.
+func (res *Result) WalkDensity(k int, xs []float64) ([]float64, float64, error) {
+	sel, err := res.selectWalks(k)
+	if err != nil {
+		return nil, 0, err
+	}
+	mp := res.mapOf(k)
+	out := make([]float64, len(xs))
+	worst, peak := 0.0, 0.0
+	for i, x := range xs {
+		z := mp.FromOriginal(x)
+		if math.IsNaN(z) || math.IsInf(z, 0) {
+			continue
+		}
+		_, dens := res.walks.cdf(sel, z, 2)
+		jac := special.Exp(-mp.LogJacobian(z))
+		var f [3]float64
+		for r := range f {
+			f[r] = dens[r] / sel.all[r] * jac
+		}
+		// The interpolants' ringing far out, of the order of the rule's
+		// error, is cut at 0 (as Curve.Density's).
+		out[i] = max(f[0], 0)
+		peak = max(peak, out[i])
+		worst = max(worst, estimateAt(f))
+	}
+	if !(peak > 0) {
+		return nil, 0, ErrNoWalks
+	}
+	return out, worst / peak, nil
+}
+
 // walkSelection is the walks along one axis, with their ranges on the
 // parameter's coordinate and their totals (see sincTotals), and the
 // factors of the coarser rules' outer weights.
@@ -267,6 +326,8 @@ type walkSelection struct {
 	zlo, zhi []float64
 	totals   [][3]float64
 	scale    [3]float64
+	lo, hi   float64    // the walks' whole range
+	all      [3]float64 // the walks' totals summed (the rules' sums)
 }
 
 // walkScreen is the error estimate, as a probability, at a normal's
@@ -278,12 +339,10 @@ var walkScreen = 1e-3
 // cdf returns, at z, the selected walks' summed distribution functions of
 // the rule and of the rules of steps 2h and 4h (tiers 1 and 2: the walks
 // whose outer nodes are theirs, each outer node's weight doubled or
-// quadrupled) up to tiers, and the rule's density, in the units of the
-// rule's sum.
-func (ws *walkSet) cdf(sel *walkSelection, z float64, tiers int) ([3]float64, float64) {
+// quadrupled) up to tiers, and their densities, in the units of the
+// rule's sums.
+func (ws *walkSet) cdf(sel *walkSelection, z float64, tiers int) (cdf, dens [3]float64) {
 	h := ws.h
-	var out [3]float64
-	dens := 0.0
 	for n, i := range sel.list {
 		if z <= sel.zlo[n] {
 			// Below the walk: its first node's share is below 1e-10 of its
@@ -305,15 +364,17 @@ func (ws *walkSet) cdf(sel *walkSelection, z float64, tiers int) ([3]float64, fl
 			} else {
 				t, jac = w.lv.inverse(u, h*float64(w.lo), h*float64(w.lo+w.n-1), math.NaN())
 			}
-			var gt float64
+			var gt [3]float64
 			c, gt = sincCDFs(g, h, w.lo, t, min(w.tier, tiers))
-			dens += w.weight * gt / jac
+			for r := range dens {
+				dens[r] += w.weight * sel.scale[r] * gt[r] / jac
+			}
 		}
-		for r := range out {
-			out[r] += w.weight * sel.scale[r] * c[r]
+		for r := range cdf {
+			cdf[r] += w.weight * sel.scale[r] * c[r]
 		}
 	}
-	return out, dens
+	return cdf, dens
 }
 
 // sincTotals returns the integrals of the sinc interpolants of g at t =
@@ -336,35 +397,43 @@ func sincTotals(g []float64, h float64, lo, tier int) [3]float64 {
 
 // sincCDFs returns the integrals up to t of the interpolants of
 // sincTotals, C(t) = h sum_i g_i (1/2 + Si(pi (t/h - j_i))/pi), and the
-// rule's interpolant at t, sum_i g_i sinc(t/h - j_i).
-func sincCDFs(g []float64, h float64, lo int, t float64, tier int) ([3]float64, float64) {
+// interpolants at t, sum_i g_i sinc(t/h - j_i) (at steps 2h and 4h over
+// the nodes they take).
+func sincCDFs(g []float64, h float64, lo int, t float64, tier int) (cdf, dens [3]float64) {
 	s := t / h
-	// sin(pi (s - j)) = (-1)^j sin(pi s): one sine a walk.
-	sinS := math.Sin(math.Pi * s)
-	var c [3]float64
-	gt := 0.0
+	// sin(pi (s - j)) = (-1)^j sin(pi s): one sine a walk and rule.
+	var sinS [3]float64
+	for r := 0; r <= tier; r++ {
+		sinS[r] = math.Sin(math.Pi * s / float64(int(1)<<r))
+	}
 	for i, v := range g {
 		if v == 0 {
 			continue
 		}
 		j := lo + i
-		x := s - float64(j)
-		c[0] += v * (0.5 + siPi(x)/math.Pi)
-		if math.Abs(x) < 1e-9 {
-			gt += v
-		} else if j&1 == 0 {
-			gt += v * sinS / (math.Pi * x)
-		} else {
-			gt -= v * sinS / (math.Pi * x)
-		}
-		if tier >= 1 && j&1 == 0 {
-			c[1] += v * (0.5 + siPi(s/2-float64(j/2))/math.Pi)
-		}
-		if tier >= 2 && j&3 == 0 {
-			c[2] += v * (0.5 + siPi(s/4-float64(j/4))/math.Pi)
+		for r := 0; r <= tier; r++ {
+			step := 1 << r
+			if j%step != 0 {
+				break
+			}
+			m := j / step
+			x := s/float64(step) - float64(m)
+			cdf[r] += v * (0.5 + siPi(x)/math.Pi)
+			switch {
+			case math.Abs(x) < 1e-9:
+				dens[r] += v
+			case m&1 == 0:
+				dens[r] += v * sinS[r] / (math.Pi * x)
+			default:
+				dens[r] -= v * sinS[r] / (math.Pi * x)
+			}
 		}
 	}
-	return [3]float64{h * c[0], 2 * h * c[1], 4 * h * c[2]}, gt
+	for r := range cdf {
+		f := h * float64(int(1)<<r)
+		cdf[r] *= f
+	}
+	return cdf, dens
 }
 
 // siPi returns Si(pi x), the integral of sin(u)/u over [0, pi x], for any

@@ -96,3 +96,52 @@ func TestWalkQuantilesBananaFlagged(t *testing.T) {
 	}
 	t.Logf("quantiles %v, estimate %.2g, actual %.2g", q, est, worst)
 }
+
+// The walks' density of the 3-D normal's inner parameters against the
+// normal density (Go's math library), and of the funnel's x, whose
+// marginal no walk along x resolves, against E_v N(x; 0, e^(v/2)) by the
+// trapezoid rule in v; each estimate must cover the error.
+func TestWalkDensity(t *testing.T) {
+	xs := []float64{-3, -1.7, -0.4, 0, 0.9, 2.2, 3.5}
+	pr := compile(t, "param a\nparam b\nparam c\n-0.5*(a^2 + (b-0.8*a)^2/0.36 + (c - 0.5*b)^2/0.75)\n")
+	res := pr.integrate(t, Settings{})
+	for _, k := range res.Order[1:] {
+		dens, est, err := res.WalkDensity(k, xs)
+		if err != nil {
+			t.Fatal(err)
+		}
+		worst := 0.0
+		for i, x := range xs {
+			worst = max(worst, math.Abs(dens[i]-math.Exp(-x*x/2)/math.Sqrt(2*math.Pi)))
+		}
+		if rel := worst / (1 / math.Sqrt(2*math.Pi)); rel > 1e-4 || rel > est {
+			t.Errorf("parameter %d: density off by %.2g of its peak, estimate %.2g", k, rel, est)
+		}
+	}
+	pr = compile(t, "param v\nparam x\n-v^2/18 - x^2/(2*exp(v)) - v/2\n")
+	res = pr.integrate(t, Settings{})
+	xs = []float64{-20, -5, -1, -0.3, 0.3, 1, 5, 20}
+	dens, est, err := res.WalkDensity(1, xs)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := func(x float64) float64 {
+		const h = 1e-3
+		s := 0.0
+		for v := -30.0; v <= 30; v += h {
+			sd := math.Exp(v / 2)
+			s += math.Exp(-v*v/18) / math.Sqrt(18*math.Pi) * math.Exp(-0.5*(x/sd)*(x/sd)) / (sd * math.Sqrt(2*math.Pi)) * h
+		}
+		return s
+	}
+	worst, peak := 0.0, 0.0
+	for i, x := range xs {
+		w := want(x)
+		peak = max(peak, w)
+		worst = max(worst, math.Abs(dens[i]-w))
+	}
+	if rel := worst / peak; rel > 1e-4 || rel > est {
+		t.Errorf("funnel's x: density off by %.2g of its largest value here, estimate %.2g", rel, est)
+	}
+	t.Logf("funnel's x: off by %.2g of %.3g, estimate %.2g", worst/peak, peak, est)
+}
