@@ -106,12 +106,11 @@ func (res *Result) WalkNodes(k int) int {
 // function is the integral of its samples' sinc interpolant (as Curve's).
 // The estimate compares, at each quantile, the distribution functions of
 // the rule and of the rules of steps 2h and 4h on the same nodes: e2 =
-// |F_h - F_2h| and e1 = |F_2h - F_4h|; where the rules converge
-// exponentially in 1/h (e(h) ~ e(2h)^2), the error of F_h is about
-// e2^2/e1, and where they do not converge (e2 near e1, as on the banana's
-// y, whose conditional given x the outer nodes do not resolve) about e2.
-// The estimate is the larger of e2^2/e1 and e2^3/e1^2 (which exceeds the
-// first where the convergence is slower: see estimate). Where the estimate
+// |F_h - F_2h| and e1 = |F_2h - F_4h|. Where the rules converge like
+// e^(-a/h), the error of F_h is e2^3/e1^2; the estimate takes e2^2/e1,
+// larger by e1/e2, a margin for a slower convergence; where they do not
+// converge (e2 >= e1, as on the banana's y, whose conditional given x the
+// outer nodes do not resolve) it takes e2 (estimateAt). Where the estimate
 // at a normal's guess of a quantile exceeds walkScreen, it returns no
 // quantiles (nil, with that estimate and no error).
 func (res *Result) WalkQuantiles(k int, probs []float64) ([]float64, float64, error) {
@@ -275,7 +274,7 @@ func (res *Result) selectWalks(k int) (*walkSelection, error) {
 func estimateAt(f [3]float64) float64 {
 	e2, e1 := math.Abs(f[0]-f[1]), math.Abs(f[1]-f[2])
 	if e2 < e1 {
-		return max(e2*e2/e1, e2*e2*e2/(e1*e1))
+		return e2 * e2 / e1
 	}
 	return e2
 }
