@@ -1,10 +1,6 @@
 package eval
 
-import (
-	"math"
-
-	"gonum.org/v1/gonum/mat"
-)
+import "math"
 
 // Sums of squares of affine vector expressions as quadratic forms.
 //
@@ -13,8 +9,8 @@ import (
 // expressions of them), has sum_i w_i v_i^2 = ||r + X s||^2 where the rows of
 // r and X are c0 and the x_j scaled by sqrt(w_i). At compile time:
 //
-//  1. beta0 is the least-squares solution of X beta = -r (gonum's SVD,
-//     minimum norm where X is rank deficient), and r0 = r + X beta0 the
+//  1. beta0 is the least-squares solution of X beta = -r (by the thin SVD,
+//     thinSVD; minimum norm where X is rank deficient), and r0 = r + X beta0 the
 //     residual there, computed element by element from the data;
 //  2. with the thin SVD X = U diag(sigma) V^T, R = diag(sigma) V^T (one row
 //     per non-zero singular value), q = U^T r0 (about 0: r0 is orthogonal
@@ -68,7 +64,7 @@ func (b *builder) quadForm(v int32, w []float64) (int32, bool) {
 		return 0, false
 	}
 	// The weighted system: rows scaled by sqrt(w_i).
-	X := mat.NewDense(n, m, nil)
+	X := make([]float64, n*m)
 	r := make([]float64, n)
 	for i := 0; i < n; i++ {
 		sw := 1.0
@@ -79,38 +75,41 @@ func (b *builder) quadForm(v int32, w []float64) (int32, bool) {
 			r[i] = sw * aff.c0[i]
 		}
 		for j, t := range aff.terms {
-			X.Set(i, j, sw*t.coef[i])
+			X[i*m+j] = sw * t.coef[i]
 		}
 		if !isFinite(r[i]) {
 			return 0, false
 		}
 		for j := 0; j < m; j++ {
-			if !isFinite(X.At(i, j)) {
+			if !isFinite(X[i*m+j]) {
 				return 0, false
 			}
 		}
 	}
-	var svd mat.SVD
-	if !svd.Factorize(X, mat.SVDThin) {
+	U, sv, V, ok := thinSVD(X, n, m)
+	if !ok || len(sv) == 0 || !(sv[0] > 0) {
 		return 0, false
 	}
-	sv := svd.Values(nil)
-	if len(sv) == 0 || !(sv[0] > 0) {
-		return 0, false
+	// beta0: least squares of X beta = -r, over the singular values above
+	// max(n, m) eps of the largest (the numerical rank), minimum norm.
+	rank := 0
+	for _, s := range sv {
+		if s > float64(max(n, m))*0x1p-52*sv[0] {
+			rank++
+		}
 	}
-	var U, V mat.Dense
-	svd.UTo(&U)
-	svd.VTo(&V)
-	// beta0: least squares of X beta = -r.
-	negR := make([]float64, n)
-	for i := range r {
-		negR[i] = -r[i]
+	beta0 := make([]float64, m)
+	for t := 0; t < rank; t++ {
+		ub := 0.0
+		for i := 0; i < n; i++ {
+			ub -= U[i*m+t] * r[i]
+		}
+		for j := 0; j < m; j++ {
+			beta0[j] += V[j*m+t] * ub / sv[t]
+		}
 	}
-	rank := svd.Rank(float64(max(n, m)) * 0x1p-52)
-	var beta0 mat.VecDense
-	svd.SolveVecTo(&beta0, mat.NewVecDense(n, negR), rank)
 	for j := 0; j < m; j++ {
-		if !isFinite(beta0.AtVec(j)) {
+		if !isFinite(beta0[j]) {
 			return 0, false
 		}
 	}
@@ -119,7 +118,7 @@ func (b *builder) quadForm(v int32, w []float64) (int32, bool) {
 	for i := range r0 {
 		s := r[i]
 		for j := 0; j < m; j++ {
-			s += X.At(i, j) * beta0.AtVec(j)
+			s += X[i*m+j] * beta0[j]
 		}
 		r0[i] = s
 	}
@@ -138,10 +137,10 @@ func (b *builder) quadForm(v int32, w []float64) (int32, bool) {
 		}
 		row := make([]float64, m)
 		for j := range row {
-			row[j] = s * V.At(j, t)
+			row[j] = s * V[j*m+t]
 		}
 		for i := range prod {
-			prod[i] = U.At(i, t) * r0[i]
+			prod[i] = U[i*m+t] * r0[i]
 		}
 		q := constSum(prod)
 		rows = append(rows, row)
@@ -152,7 +151,7 @@ func (b *builder) quadForm(v int32, w []float64) (int32, bool) {
 	// The graph: C + sum_t (q_t + sum_j R_tj (s_j - beta0_j))^2.
 	delta := make([]int32, m)
 	for j, t := range aff.terms {
-		delta[j] = b.addK(t.s, -beta0.AtVec(j))
+		delta[j] = b.addK(t.s, -beta0[j])
 	}
 	var acc int32 = -1
 	for t, row := range rows {
