@@ -51,21 +51,46 @@ func analyseAndCheck(t *testing.T, src string, opts Options, logZ float64, means
 	return res
 }
 
+// normalDensity is the normal density of mean m and sd sd at x.
+func normalDensity(x, m, sd float64) float64 {
+	return math.Exp(-0.5*((x-m)/sd)*((x-m)/sd)) / (sd * math.Sqrt(2*math.Pi))
+}
+
+// groupScaleTau returns the group model's density of tau with the effects
+// integrated out, p(tau) prod_j p(y_j | tau) (y_j | tau ~ N(0, 1 +
+// tau^2)), unnormalised, and f = tau^2 / (1 + tau^2): given tau, t_j | y ~
+// N(y_j f, f).
+func groupScaleTau(tau float64) (dens, f float64) {
+	dens = normalDensity(tau, 0, 2)
+	for _, y := range groupScaleY {
+		dens *= normalDensity(y, 0, math.Sqrt(1+tau*tau))
+	}
+	return dens, tau * tau / (1 + tau*tau)
+}
+
+// groupScaleNode is a node of the trapezoid rule in s = log tau: tau, its
+// weight (groupScaleTau's density times tau h, as dtau = tau ds) and f.
+type groupScaleNode struct{ tau, w, f float64 }
+
+// groupScaleNodes returns the trapezoid rule in log tau with step h over
+// [-40, 5] (the ends' weights are below rounding).
+func groupScaleNodes(h float64) []groupScaleNode {
+	var nodes []groupScaleNode
+	for s := -40.0; s <= 5; s += h {
+		tau := math.Exp(s)
+		dens, f := groupScaleTau(tau)
+		nodes = append(nodes, groupScaleNode{tau, dens * tau * h, f})
+	}
+	return nodes
+}
+
 // groupScaleReference returns log Z, the means of (tau, t1, t2, t3) and
 // their variances by the trapezoid rule in log tau with step h.
 func groupScaleReference(h float64) (logZ float64, mean, variance [4]float64) {
-	normal := func(x, sd float64) float64 {
-		return math.Exp(-0.5*(x/sd)*(x/sd)) / (sd * math.Sqrt(2*math.Pi))
-	}
 	var z float64
 	var m1, m2 [4]float64
-	for s := -40.0; s <= 5; s += h {
-		tau := math.Exp(s)
-		w := normal(tau, 2) * tau * h // dtau = tau ds
-		f := tau * tau / (1 + tau*tau)
-		for _, y := range groupScaleY {
-			w *= normal(y, math.Sqrt(1+tau*tau))
-		}
+	for _, nd := range groupScaleNodes(h) {
+		w, tau, f := nd.w, nd.tau, nd.f
 		z += w
 		m1[0] += w * tau
 		m2[0] += w * tau * tau
@@ -301,7 +326,6 @@ param e2
 ld_normal(a, 0, 3) + ld_normal(s, 0, 1) + ld_normal(e1, 0, s) + ld_normal(e2, 0, s) + ld_poisson(k[1], exp(a + e1)) + ld_poisson(k[2], exp(a + e2))
 `
 	counts := [2]float64{4, 11}
-	normal := func(x, sd float64) float64 { return math.Exp(-0.5*(x/sd)*(x/sd)) / (sd * math.Sqrt(2*math.Pi)) }
 	var lgk [2]float64
 	for j, k := range counts {
 		lgk[j], _ = math.Lgamma(k + 1)
@@ -311,7 +335,7 @@ ld_normal(a, 0, 3) + ld_normal(s, 0, 1) + ld_normal(e1, 0, s) + ld_normal(e2, 0,
 	for a := -14.0; a <= 8; a += ha {
 		for u := -25.0; u <= 2.5; u += hu {
 			s := math.Exp(u)
-			w := normal(a, 3) * normal(s, 1) * s * ha * hu
+			w := normalDensity(a, 0, 3) * normalDensity(s, 0, 1) * s * ha * hu
 			for j, k := range counts {
 				e := 0.0
 				for x := -14.0; x <= 14; x += hx {
@@ -336,27 +360,16 @@ ld_normal(a, 0, 3) + ld_normal(s, 0, 1) + ld_normal(e1, 0, s) + ld_normal(e2, 0,
 // the weights of groupScaleReference's trapezoid rule in log tau, inverted
 // by bisection.
 func groupScaleQuantiles(h float64) (q [3][3]float64) {
-	normal := func(x, sd float64) float64 {
-		return math.Exp(-0.5*(x/sd)*(x/sd)) / (sd * math.Sqrt(2*math.Pi))
-	}
-	var ws, fs []float64
+	nodes := groupScaleNodes(h)
 	z := 0.0
-	for s := -40.0; s <= 5; s += h {
-		tau := math.Exp(s)
-		w := normal(tau, 2) * tau
-		for _, y := range groupScaleY {
-			w *= normal(y, math.Sqrt(1+tau*tau))
-		}
-		ws = append(ws, w)
-		fs = append(fs, tau*tau/(1+tau*tau))
-		z += w
+	for _, nd := range nodes {
+		z += nd.w
 	}
 	for j, y := range groupScaleY {
 		cdf := func(x float64) float64 {
 			c := 0.0
-			for i, w := range ws {
-				f := fs[i]
-				c += w * 0.5 * math.Erfc(-(x-y*f)/math.Sqrt(2*f))
+			for _, nd := range nodes {
+				c += nd.w * 0.5 * math.Erfc(-(x-y*nd.f)/math.Sqrt(2*nd.f))
 			}
 			return c / z
 		}
@@ -386,32 +399,21 @@ func groupScaleQuantiles(h float64) (q [3][3]float64) {
 // in places, and where a slice overflowed its value was missing.
 func TestGroupScalePairs(t *testing.T) {
 	res := analyseSource(t, groupScaleModel, Options{Plots: true})
-	normal := func(x, m, sd float64) float64 {
-		return math.Exp(-0.5*((x-m)/sd)*((x-m)/sd)) / (sd * math.Sqrt(2*math.Pi))
-	}
 	logZ, _, _ := groupScaleReference(1e-3)
-	// tauPost returns p(tau) prod_j p(y_j | tau) / Z and f(tau).
-	tauPost := func(tau float64) (float64, float64) {
-		w := normal(tau, 0, 2) / math.Exp(logZ)
-		for _, y := range groupScaleY {
-			w *= normal(y, 0, math.Sqrt(1+tau*tau))
-		}
-		return w, tau * tau / (1 + tau*tau)
-	}
+	Z := math.Exp(logZ)
+	nodes := groupScaleNodes(1e-3)
 	want := map[[2]int]func(a, b float64) float64{
 		{0, 1}: func(tau, a float64) float64 {
-			w, f := tauPost(tau)
-			return w * normal(a, groupScaleY[0]*f, math.Sqrt(f))
+			dens, f := groupScaleTau(tau)
+			return dens / Z * normalDensity(a, groupScaleY[0]*f, math.Sqrt(f))
 		},
 		{1, 3}: func(a, b float64) float64 {
-			const h = 1e-3
 			s := 0.0
-			for u := -40.0; u <= 5; u += h {
-				tau := math.Exp(u)
-				w, f := tauPost(tau)
-				s += w * tau * h * normal(a, groupScaleY[0]*f, math.Sqrt(f)) * normal(b, groupScaleY[2]*f, math.Sqrt(f))
+			for _, nd := range nodes {
+				f := nd.f
+				s += nd.w * normalDensity(a, groupScaleY[0]*f, math.Sqrt(f)) * normalDensity(b, groupScaleY[2]*f, math.Sqrt(f))
 			}
-			return s
+			return s / Z
 		},
 	}
 	for _, p := range res.Plots.Pairs {
@@ -449,24 +451,15 @@ func TestGroupScalePairs(t *testing.T) {
 // logarithmic peak at 0 they were off by up to 9.4e-3 of the peak.
 func TestGroupScaleMarginalPlots(t *testing.T) {
 	res := analyseSource(t, groupScaleModel, Options{Plots: true})
-	normal := func(x, m, sd float64) float64 {
-		return math.Exp(-0.5*((x-m)/sd)*((x-m)/sd)) / (sd * math.Sqrt(2*math.Pi))
-	}
 	logZ, _, _ := groupScaleReference(1e-3)
+	nodes := groupScaleNodes(1e-3)
 	for _, m := range res.Plots.Marginals[1:] {
 		j := m.Param - 1
 		worst, peak := 0.0, 0.0
 		for i, x := range m.X {
-			const h = 1e-3
 			s := 0.0
-			for u := -40.0; u <= 5; u += h {
-				tau := math.Exp(u)
-				w := normal(tau, 0, 2) * tau * h
-				f := tau * tau / (1 + tau*tau)
-				for _, y := range groupScaleY {
-					w *= normal(y, 0, math.Sqrt(1+tau*tau))
-				}
-				s += w * normal(x, groupScaleY[j]*f, math.Sqrt(f))
+			for _, nd := range nodes {
+				s += nd.w * normalDensity(x, groupScaleY[j]*nd.f, math.Sqrt(nd.f))
 			}
 			want := s / math.Exp(logZ)
 			peak = max(peak, want)

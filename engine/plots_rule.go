@@ -278,11 +278,6 @@ const walkDensityTol = 1e-3
 // its plots took 1.4 s instead of 4.4 s natively.
 const walkDensityTolCostly = 2e-2
 
-// costlyCurve reports whether a marginal's own walk takes the rule's step
-// in 3-D or 4-D (a density with no mode: fineCurves), where it costs
-// about as much as the rule.
-func (a *analysis) costlyCurve(q *quadrature.Result) bool { return a.d > 2 && fineCurves(q) }
-
 // levelPoints is about the number of points along each axis to which
 // refine subdivides a pair's plot grid before the contour levels are
 // found: the superlevel sets' masses are sums over cells, whose error is

@@ -590,7 +590,7 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 		// (a density with no mode: fineCurves), which costs about as much
 		// as the rule: no more evaluations of log p. Its marginal's own
 		// walk, for the plot, is left to the plots (ruleRanges).
-		cheap := q.WalkNodes(k) <= walkFirstNodes || (d > 2 && fineCurves(q))
+		cheap := q.WalkNodes(k) <= walkFirstNodes || a.costlyCurve(q)
 		walked := cheap && walkQuantiles(k)
 		if gridResolves && !a.scout && a.ref.grid != nil && q.Points > costlyRulePoints && gridAgrees(a.ref.grid, q) {
 			// A costly rule (a thin, bent ridge) beside a full grid that
@@ -766,6 +766,11 @@ func (a *analysis) fullGrid() error {
 func fineCurves(q *quadrature.Result) bool {
 	return q.Dim <= 2 || q.NoMode()
 }
+
+// costlyCurve reports whether a marginal's own walk takes the rule's step
+// in 3-D or 4-D (a density with no mode: fineCurves), where it costs
+// about as much as the rule.
+func (a *analysis) costlyCurve(q *quadrature.Result) bool { return a.d > 2 && fineCurves(q) }
 
 // disputedVariances lists the parameters whose variance the nested rule
 // finds infinite while the grid, over a box that reaches further on the

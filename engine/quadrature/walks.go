@@ -77,6 +77,16 @@ func (r *rule) recordWalk(k int, g []float64, lo int, scale float64) {
 // one-dimensional.
 var ErrNoWalks = errors.New("quadrature: no walks along the parameter's axis")
 
+// axisOf returns the nested rule's axis of parameter k (0 outermost).
+func (res *Result) axisOf(k int) int {
+	for a, p := range res.Order {
+		if p == k {
+			return a
+		}
+	}
+	return -1
+}
+
 // WalkNodes returns the number of nodes of the rule's walks along
 // parameter k's axis (0 for the outermost): WalkQuantiles's cost is about
 // twenty evaluations of their distribution functions per quantile, each
@@ -85,12 +95,7 @@ func (res *Result) WalkNodes(k int) int {
 	if res.walks == nil || k < 0 || k >= res.Dim {
 		return 0
 	}
-	axis := -1
-	for a, p := range res.Order {
-		if p == k {
-			axis = a
-		}
-	}
+	axis := res.axisOf(k)
 	n := 0
 	for i := range res.walks.walks {
 		if w := &res.walks.walks[i]; w.axis == axis {
@@ -233,12 +238,7 @@ func (res *Result) selectWalks(k int) (*walkSelection, error) {
 	if ws == nil {
 		return nil, ErrNoWalks
 	}
-	axis := -1
-	for a, p := range res.Order {
-		if p == k {
-			axis = a
-		}
-	}
+	axis := res.axisOf(k)
 	sel := &walkSelection{lo: math.Inf(1), hi: math.Inf(-1)}
 	for i := range ws.walks {
 		w := &ws.walks[i]
