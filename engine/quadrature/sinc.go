@@ -28,14 +28,13 @@ func siPiFrac(m int) float64 {
 	siOnce.Do(func() {
 		n := siSub * siMax
 		siTable = make([]float64, n)
-		xs, ws := make([]float64, 12), make([]float64, 12)
-		var leg quad.Legendre
 		step := math.Pi / siSub
+		us, ws := unitLegendre(12, step)
+		sines := newStepSines(siSub, us, 1)
 		for k := 1; k < n; k++ {
-			leg.FixedLocations(xs, ws, float64(k-1)*step, float64(k)*step)
-			s := 0.0
-			for i, x := range xs {
-				s += ws[i] * math.Sin(x) / x
+			a, s := float64(k-1)*step, 0.0
+			for i, u := range us {
+				s += ws[i] * sines.at(k-1, i) / (a + u)
 			}
 			siTable[k] = siTable[k-1] + s
 		}
@@ -48,6 +47,46 @@ func siPiFrac(m int) float64 {
 		return sign * math.Pi / 2
 	}
 	return sign * siTable[m]
+}
+
+// unitLegendre returns the n-point Gauss-Legendre rule on [0, step]: the
+// tables' steps take it shifted (gonum's rule computed once, not once a
+// step: building the tables took 6 ms natively, most of it there, and the
+// page's first analysis pays for them).
+func unitLegendre(n int, step float64) (us, ws []float64) {
+	us, ws = make([]float64, n), make([]float64, n)
+	var leg quad.Legendre
+	leg.FixedLocations(us, ws, 0, step)
+	return us, ws
+}
+
+// stepSines gives sin(pi j/p + scale u_i) for the nodes u_i of a rule on
+// one step of pi/p (in the units scale turns into radians) by the sum
+// formula: sin(pi j/p) repeats every 2p steps, so the tables' sines are
+// products of two short tables (within a few units in the last place of
+// math.Sin) where a sine a node took most of their time.
+type stepSines struct {
+	p                int
+	sinJ, cosJ       []float64 // of pi j/p, j < 2p
+	sinNode, cosNode []float64 // of scale u_i
+}
+
+func newStepSines(p int, us []float64, scale float64) stepSines {
+	s := stepSines{p: p, sinJ: make([]float64, 2*p), cosJ: make([]float64, 2*p),
+		sinNode: make([]float64, len(us)), cosNode: make([]float64, len(us))}
+	for j := range s.sinJ {
+		s.sinJ[j], s.cosJ[j] = math.Sincos(math.Pi * float64(j) / float64(p))
+	}
+	for i, u := range us {
+		s.sinNode[i], s.cosNode[i] = math.Sincos(scale * u)
+	}
+	return s
+}
+
+// at returns sin(pi j/p + scale u_i).
+func (s stepSines) at(j, i int) float64 {
+	j %= 2 * s.p
+	return s.sinJ[j]*s.cosNode[i] + s.cosJ[j]*s.sinNode[i]
 }
 
 // sincAt returns, at t = (k + f/siSub) h, the sinc interpolant of the

@@ -8,8 +8,6 @@ import (
 	"sync"
 
 	"bellcheck/engine/special"
-
-	"gonum.org/v1/gonum/integrate/quad"
 )
 
 // walkSet holds the main rule's walks along its inner axes. At each node
@@ -459,14 +457,6 @@ func siPi(x float64) float64 {
 	return sign * v
 }
 
-// sincPi returns the derivative of Si(pi x) in x: sin(pi x)/x (pi at 0).
-func sincPi(x float64) float64 {
-	if x == 0 {
-		return math.Pi
-	}
-	return math.Sin(math.Pi*x) / x
-}
-
 const (
 	siFineSub = 64
 	siFineMax = 160 // more than the nodes of any walk
@@ -475,7 +465,7 @@ const (
 var (
 	siFineOnce sync.Once
 	siFine     []float64 // Si(pi m / siFineSub)
-	siFineD    []float64 // its derivative in m: sincPi(m / siFineSub) / siFineSub
+	siFineD    []float64 // its derivative in m: sin(pi x)/x / siFineSub at x = m / siFineSub
 )
 
 // buildSiFine tabulates Si(pi m / siFineSub) by an 8-point Gauss-Legendre
@@ -484,18 +474,16 @@ func buildSiFine() {
 	n := siFineSub*siFineMax + 1
 	siFine = make([]float64, n)
 	siFineD = make([]float64, n)
-	for k := range siFineD {
-		siFineD[k] = sincPi(float64(k)/siFineSub) / siFineSub
-	}
-	xs, ws := make([]float64, 8), make([]float64, 8)
-	var leg quad.Legendre
 	step := 1.0 / siFineSub
+	us, ws := unitLegendre(8, step)
+	sines := newStepSines(siFineSub, us, math.Pi)
+	siFineD[0] = math.Pi / siFineSub
 	for k := 1; k < n; k++ {
-		leg.FixedLocations(xs, ws, float64(k-1)*step, float64(k)*step)
-		s := 0.0
-		for i, x := range xs {
-			s += ws[i] * sincPi(x)
+		a, s := float64(k-1)*step, 0.0
+		for i, u := range us {
+			s += ws[i] * sines.at(k-1, i) / (a + u)
 		}
 		siFine[k] = siFine[k-1] + s
+		siFineD[k] = sines.sinJ[k%(2*siFineSub)] / (float64(k) / siFineSub) / siFineSub
 	}
 }
