@@ -5,6 +5,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"bellcheck/engine/internal/dense"
 )
 
 // Curvature sets side by side the two curvatures the fits invert, both on
@@ -73,17 +75,16 @@ func generalisedEigenRange(a, b [][]float64) (lo, hi float64, ok bool) {
 	if err := m.Solve(&l, x.T()); err != nil {
 		return 0, 0, false
 	}
-	ms := mat.NewSymDense(d, nil)
+	ms := make([]float64, d*d)
 	for i := 0; i < d; i++ {
 		for j := i; j < d; j++ {
-			ms.SetSym(i, j, 0.5*(m.At(i, j)+m.At(j, i)))
+			ms[i*d+j] = 0.5 * (m.At(i, j) + m.At(j, i))
 		}
 	}
-	var es mat.EigenSym
-	if !es.Factorize(ms, false) {
+	vals := make([]float64, d)
+	if !dense.EigenSym(vals, nil, ms, d) {
 		return 0, 0, false
 	}
-	vals := es.Values(nil)
 	lo, hi = math.Inf(1), math.Inf(-1)
 	for _, v := range vals {
 		lo, hi = min(lo, v), max(hi, v)

@@ -5,9 +5,8 @@ import (
 	"fmt"
 	"math"
 
-	"gonum.org/v1/gonum/mat"
-
 	"bellcheck/engine/hermite"
+	"bellcheck/engine/internal/dense"
 )
 
 // site is a factor's Gaussian approximation during the run.
@@ -196,13 +195,10 @@ func newRunner(fs Factors, s Settings) (*runner, error) {
 // symmetric a (its eigen-decomposition with the negative eigenvalues set to
 // 0) and reports whether that part is not zero.
 func psdPart(out, a []float64, d int) bool {
-	var eig mat.EigenSym
-	if !eig.Factorize(mat.NewSymDense(d, append([]float64(nil), a...)), true) {
+	vals, vecs := make([]float64, d), make([]float64, d*d)
+	if !dense.EigenSym(vals, vecs, a, d) {
 		return false
 	}
-	vals := eig.Values(nil)
-	var vecs mat.Dense
-	eig.VectorsTo(&vecs)
 	clear(out)
 	some := false
 	for k, l := range vals {
@@ -212,7 +208,7 @@ func psdPart(out, a []float64, d int) bool {
 		some = true
 		for i := 0; i < d; i++ {
 			for j := 0; j < d; j++ {
-				out[i*d+j] += l * vecs.At(i, k) * vecs.At(j, k)
+				out[i*d+j] += l * vecs[i*d+k] * vecs[j*d+k]
 			}
 		}
 	}

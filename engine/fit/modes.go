@@ -8,6 +8,7 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
+	"bellcheck/engine/internal/dense"
 	"bellcheck/engine/target"
 )
 
@@ -320,16 +321,10 @@ func (s *polisher) direction() (dir []float64, newton bool, dec float64, negCurv
 		return s.dir, true, dec, false
 	}
 	// Modified Newton: -H with its eigenvalues replaced by their absolute
-	// values, floored. This case is rare, so gonum's eigensolver may
-	// allocate.
-	sym := mat.NewSymDense(n, nil)
-	for r := 0; r < n; r++ {
-		for q := r; q < n; q++ {
-			sym.SetSym(r, q, a[r*n+q])
-		}
-	}
-	var es mat.EigenSym
-	if !es.Factorize(sym, true) {
+	// values, floored. This case is rare, so the eigensolver's slices are
+	// allocated here.
+	vals, vecs := make([]float64, n), make([]float64, n*n)
+	if !dense.EigenSym(vals, vecs, a, n) {
 		// Fall back to steepest ascent.
 		for r, i := range s.free {
 			s.dir[i] = gf[r]
@@ -337,9 +332,6 @@ func (s *polisher) direction() (dir []float64, newton bool, dec float64, negCurv
 		}
 		return s.dir, false, dec, false
 	}
-	vals := es.Values(nil)
-	var vecs mat.Dense
-	es.VectorsTo(&vecs)
 	big := 0.0
 	for _, v := range vals {
 		big = max(big, math.Abs(v))
@@ -355,11 +347,11 @@ func (s *polisher) direction() (dir []float64, newton bool, dec float64, negCurv
 		}
 		proj := 0.0
 		for r := 0; r < n; r++ {
-			proj += vecs.At(r, k) * gf[r]
+			proj += vecs[r*n+k] * gf[r]
 		}
 		scale := 1 / max(math.Abs(v), floor)
 		for r, i := range s.free {
-			s.dir[i] += vecs.At(r, k) * proj * scale
+			s.dir[i] += vecs[r*n+k] * proj * scale
 		}
 		dec += proj * proj * scale
 	}
@@ -369,7 +361,7 @@ func (s *polisher) direction() (dir []float64, newton bool, dec float64, negCurv
 		// scale, uphill if the gradient tells which way is up.
 		sign, proj := 1.0, 0.0
 		for r := 0; r < n; r++ {
-			proj += vecs.At(r, kNeg) * gf[r]
+			proj += vecs[r*n+kNeg] * gf[r]
 		}
 		if proj < 0 {
 			sign = -1
@@ -379,7 +371,7 @@ func (s *polisher) direction() (dir []float64, newton bool, dec float64, negCurv
 			s.dir[i] = 0
 		}
 		for r, i := range s.free {
-			s.dir[i] = vecs.At(r, kNeg) * length
+			s.dir[i] = vecs[r*n+kNeg] * length
 		}
 		return s.dir, false, dec, true
 	}
@@ -455,26 +447,17 @@ func (s *polisher) try(f float64, dir []float64, t float64, xo, gout, hout []flo
 // box or meet a non-finite log p are skipped.
 func (s *polisher) flat(f float64) bool {
 	d := s.d
-	sym := mat.NewSymDense(d, nil)
-	for i := 0; i < d; i++ {
-		for j := i; j < d; j++ {
-			sym.SetSym(i, j, s.a[i*d+j])
-		}
-	}
-	var es mat.EigenSym
-	if !es.Factorize(sym, true) {
+	vals, vecs := make([]float64, d), make([]float64, d*d)
+	if !dense.EigenSym(vals, vecs, s.a, d) {
 		return false
 	}
-	vals := es.Values(nil)
-	var vecs mat.Dense
-	es.VectorsTo(&vecs)
 	// The probe is 1e-3 of the implied sd, longer where log p is so large
 	// that rounding would swamp the second difference.
 	frac := max(1e-3, min(0.1, math.Sqrt(1e4*epsilon*max(1, math.Abs(f)))))
 	for k, mu := range vals {
 		h := frac / math.Sqrt(mu)
-		fp, okp := s.probeAt(&vecs, k, h)
-		fm, okm := s.probeAt(&vecs, k, -h)
+		fp, okp := s.probeAt(vecs, k, h)
+		fm, okm := s.probeAt(vecs, k, -h)
 		if !okp || !okm {
 			continue
 		}
@@ -486,9 +469,10 @@ func (s *polisher) flat(f float64) bool {
 	return false
 }
 
-func (s *polisher) probeAt(vecs *mat.Dense, k int, h float64) (float64, bool) {
+func (s *polisher) probeAt(vecs []float64, k int, h float64) (float64, bool) {
+	d := len(s.probe)
 	for i := range s.probe {
-		s.probe[i] = s.x[i] + h*vecs.At(i, k)
+		s.probe[i] = s.x[i] + h*vecs[i*d+k]
 		if s.probe[i] < s.lo[i] || s.probe[i] > s.hi[i] {
 			return 0, false
 		}
