@@ -352,9 +352,15 @@ func refine(dens, xs, ys []float64, f int) ([]float64, []float64, []float64) {
 // logarithm is interpolated: Catmull-Rom's tangents are exact for a
 // quadratic, so a normal density (and a product of normals along each
 // axis) is reproduced to rounding, and a density near one has the error
-// of its departure from it. Elsewhere (a tail that falls steeply, zeros)
-// the density itself is, and the overshoot below zero is cut at 0; its
-// error falls as the cube of the spacing: 1e-3 of the peak at a quarter sd.
+// of its departure from it. Elsewhere (a tail that falls steeply, zeros,
+// the logarithmic ridge of a hierarchical model's pair of effects) the
+// density itself is, by a monotone cubic (monotoneCubic), which stays
+// between the two samples: Catmull-Rom's cubic there overshot, and where
+// it fell below zero the image had holes (a site-effects model's pair
+// next to its ridge was 0 where a quadrature of ours gives 2e-3, and 17
+// times too high nearby; with the monotone cubic at most 4 times). On a
+// normal sampled 2.5 and 3 sds apart the monotone cubic is off by 0.075
+// and 0.18 of the peak, Catmull-Rom's by 0.13 and 0.24.
 func upsample(dens, xs, ys []float64, f int) ([]float64, []float64, []float64) {
 	fx, fy := evenly([2]float64{xs[0], xs[len(xs)-1]}, (len(xs)-1)*f+1), evenly([2]float64{ys[0], ys[len(ys)-1]}, (len(ys)-1)*f+1)
 	ip := newInterpolator(max(len(xs), len(ys)), f)
@@ -426,7 +432,7 @@ func (ip *interpolator) along(v, out []float64) {
 			if inLog {
 				out[o] = special.Exp(catmullRom(l0, l1, l2, l3, t))
 			} else {
-				out[o] = max(catmullRom(p0, p1, p2, p3, t), 0)
+				out[o] = monotoneCubic(p0, p1, p2, p3, t)
 			}
 			o++
 		}
@@ -485,6 +491,24 @@ const (
 	condSpacing       = 1.8
 	condSpacingNoMode = 0.9
 )
+
+// monotoneCubic is the cubic Hermite interpolant between p1 (t = 0) and p2
+// (t = 1) with the tangents of Fritsch and Butland (1984): at each end the
+// harmonic mean of the secants on either side, 0 where they differ in
+// sign. It stays between p1 and p2 (no overshoot, so never below 0 between
+// positive values).
+func monotoneCubic(p0, p1, p2, p3, t float64) float64 {
+	d0, d1, d2 := p1-p0, p2-p1, p3-p2
+	tangent := func(a, b float64) float64 {
+		if a*b <= 0 {
+			return 0
+		}
+		return 2 * a * b / (a + b)
+	}
+	m1, m2 := tangent(d0, d1), tangent(d1, d2)
+	t2, t3 := t*t, t*t*t
+	return (2*t3-3*t2+1)*p1 + (t3-2*t2+t)*m1 + (-2*t3+3*t2)*p2 + (t3-t2)*m2
+}
 
 // catmullRom is the Catmull-Rom cubic through p1 (t = 0) and p2 (t = 1)
 // with tangents (p2 - p0)/2 and (p3 - p1)/2.

@@ -49,3 +49,62 @@ func TestSmoothPair(t *testing.T) {
 		t.Errorf("an unevenly spaced axis was refined")
 	}
 }
+
+// Where a stencil's log-density bends too much to be interpolated (a
+// normal sampled 3 sds apart, a tail that falls to zero, a logarithmic
+// spike), upsample's interpolant between two samples stays between them
+// (monotoneCubic): no value below zero or below both neighbours, where
+// Catmull-Rom's cubic overshot (0.24 of the peak off on the normal, and
+// negative values cut to holes), and no worse than it against the
+// closed forms: 0.18 of the peak on the normal 3 sds apart, 3.1e-4 on the
+// tail (Catmull-Rom: 0.24, 6.6e-4; measured with this test's functions).
+func TestUpsampleFallbackStaysBetweenSamples(t *testing.T) {
+	cases := []struct {
+		name   string
+		f      func(x float64) float64
+		lo, hi float64
+		n      int
+		worst  float64
+	}{
+		{"normal 3 sds apart", func(x float64) float64 { return math.Exp(-x * x / 2) }, -12, 12, 9, 0.19},
+		{"a tail falling to zero", func(x float64) float64 {
+			if x > 2 {
+				return 0
+			}
+			return math.Exp(-3 * x * x)
+		}, -4, 4, 17, 4e-4},
+		{"a logarithmic spike", func(x float64) float64 { return -math.Log(math.Abs(x-0.01)) * math.Exp(-x*x/2) * b2f(math.Abs(x-0.01) < 1) }, -4, 4, 21, 0.35},
+	}
+	const f = 8
+	for _, c := range cases {
+		xs := evenly([2]float64{c.lo, c.hi}, c.n)
+		v := make([]float64, c.n)
+		for i, x := range xs {
+			v[i] = c.f(x)
+		}
+		fine := evenly([2]float64{c.lo, c.hi}, (c.n-1)*f+1)
+		out := make([]float64, len(fine))
+		newInterpolator(c.n, f).along(v, out)
+		peak, worst := 0.0, 0.0
+		for i, x := range fine {
+			peak = max(peak, c.f(x))
+			worst = max(worst, math.Abs(out[i]-c.f(x)))
+			lo, hi := v[i/f], v[min(i/f+1, c.n-1)]
+			if out[i] < min(lo, hi)-1e-15 || out[i] > max(lo, hi)+1e-15 {
+				t.Errorf("%s: %g at x = %g, outside its samples %g and %g", c.name, out[i], x, lo, hi)
+				break
+			}
+		}
+		t.Logf("%s: off by %.2g of the peak", c.name, worst/peak)
+		if worst > c.worst*peak {
+			t.Errorf("%s: off by %.2g of the peak, more than %g", c.name, worst/peak, c.worst)
+		}
+	}
+}
+
+func b2f(b bool) float64 {
+	if b {
+		return 1
+	}
+	return 0
+}
