@@ -280,27 +280,39 @@ func (a *analysis) ruleRanges(q *quadrature.Result) ([][2]float64, []*quadrature
 // marked.
 func (a *analysis) evaluateRough(q *quadrature.Result, i, j int, xs, ys, dens []float64, rough []bool) error {
 	var at []int
-	var yv []float64
-	for u, x := range xs {
-		at, yv = at[:0], yv[:0]
-		for v, y := range ys {
+	for u := range xs {
+		at = at[:0]
+		for v := range ys {
 			if rough[u*len(ys)+v] {
-				at, yv = append(at, v), append(yv, y)
+				at = append(at, v)
 			}
 		}
-		if len(at) == 0 {
-			continue
-		}
-		row, err := q.Pair(a.ctx, i, j, []float64{x}, yv)
-		if err != nil {
-			if ctxErr := a.ctx.Err(); ctxErr != nil {
-				return ctxErr
-			}
+		if err := a.pairRow(q, i, j, xs, ys, dens, u, at); err != nil {
 			return err
 		}
-		for k, v := range at {
-			dens[u*len(ys)+v] = row[k]
+	}
+	return nil
+}
+
+// pairRow computes the pair density of (i, j) at the image's points (xs[u],
+// ys[v]) for v in at, writing them into dens (layout of quadrature.Pair).
+func (a *analysis) pairRow(q *quadrature.Result, i, j int, xs, ys, dens []float64, u int, at []int) error {
+	if len(at) == 0 {
+		return nil
+	}
+	yv := make([]float64, len(at))
+	for k, v := range at {
+		yv[k] = ys[v]
+	}
+	row, err := q.Pair(a.ctx, i, j, []float64{xs[u]}, yv)
+	if err != nil {
+		if ctxErr := a.ctx.Err(); ctxErr != nil {
+			return ctxErr
 		}
+		return err
+	}
+	for k, v := range at {
+		dens[u*len(ys)+v] = row[k]
 	}
 	return nil
 }
@@ -360,22 +372,8 @@ func (a *analysis) checkRoughCells(q *quadrature.Result, i, j int, xs, ys, dens 
 	sort.Slice(cells, func(a, b int) bool { return cells[a].top > cells[b].top })
 	spent := 0
 	slices := func(u int, vs []int) error {
-		yv := make([]float64, len(vs))
-		for k, v := range vs {
-			yv[k] = ys[v]
-		}
-		row, err := q.Pair(a.ctx, i, j, []float64{xs[u]}, yv)
-		if err != nil {
-			if ctxErr := a.ctx.Err(); ctxErr != nil {
-				return ctxErr
-			}
-			return err
-		}
-		for k, v := range vs {
-			dens[u*ny+v] = row[k]
-		}
 		spent += len(vs)
-		return nil
+		return a.pairRow(q, i, j, xs, ys, dens, u, vs)
 	}
 	for _, c := range cells {
 		if spent >= budget {
