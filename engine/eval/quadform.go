@@ -1,6 +1,10 @@
 package eval
 
-import "math"
+import (
+	"math"
+
+	"bellcheck/engine/internal/dense"
+)
 
 // Sums of squares of affine vector expressions as quadratic forms.
 //
@@ -10,7 +14,7 @@ import "math"
 // r and X are c0 and the x_j scaled by sqrt(w_i). At compile time:
 //
 //  1. beta0 is the least-squares solution of X beta = -r (by the thin SVD,
-//     thinSVD; minimum norm where X is rank deficient), and r0 = r + X beta0 the
+//     dense.ThinSVD; minimum norm where X is rank deficient), and r0 = r + X beta0 the
 //     residual there, computed element by element from the data;
 //  2. with the thin SVD X = U diag(sigma) V^T, R = diag(sigma) V^T (one row
 //     per non-zero singular value), q = U^T r0 (about 0: r0 is orthogonal
@@ -86,7 +90,7 @@ func (b *builder) quadForm(v int32, w []float64) (int32, bool) {
 			}
 		}
 	}
-	U, sv, V, ok := thinSVD(X, n, m)
+	U, sv, V, ok := dense.ThinSVD(X, n, m)
 	if !ok || len(sv) == 0 || !(sv[0] > 0) {
 		return 0, false
 	}

@@ -58,20 +58,14 @@ func EigenSym(vals, vecs, a []float64, d int) bool {
 				}
 				c, s := jacobiRotation(w[p*d+p], w[q*d+q], apq)
 				// A = J^T A J: the columns p and q, then the rows.
-				for k := 0; k < d; k++ {
-					kp, kq := w[k*d+p], w[k*d+q]
-					w[k*d+p], w[k*d+q] = c*kp-s*kq, s*kp+c*kq
-				}
+				rotateColumns(w, d, d, p, q, c, s)
 				for k := 0; k < d; k++ {
 					pk, qk := w[p*d+k], w[q*d+k]
 					w[p*d+k], w[q*d+k] = c*pk-s*qk, s*pk+c*qk
 				}
 				w[p*d+q], w[q*d+p] = 0, 0
 				if vecs != nil {
-					for k := 0; k < d; k++ {
-						kp, kq := vecs[k*d+p], vecs[k*d+q]
-						vecs[k*d+p], vecs[k*d+q] = c*kp-s*kq, s*kp+c*kq
-					}
+					rotateColumns(vecs, d, d, p, q, c, s)
 				}
 			}
 		}
@@ -106,7 +100,8 @@ func EigenSym(vals, vecs, a []float64, d int) bool {
 // jacobiRotation returns the cosine and sine of the rotation that zeroes
 // the off-diagonal entry apq of the symmetric 2×2 matrix [app apq; apq
 // aqq]: t = s/c is the smaller root of t^2 + 2 tau t - 1 = 0, tau = (aqq -
-// app)/(2 apq) (Golub and Van Loan, algorithm 8.5.1).
+// app)/(2 apq) (Golub and Van Loan, algorithm 8.5.1). EigenSym and
+// ThinSVD (on a pair of columns' Gram matrix) share it.
 func jacobiRotation(app, aqq, apq float64) (c, s float64) {
 	tau := (aqq - app) / (2 * apq)
 	var t float64
@@ -120,4 +115,13 @@ func jacobiRotation(app, aqq, apq float64) (c, s float64) {
 	}
 	c = 1 / math.Sqrt(1+t*t)
 	return c, t * c
+}
+
+// rotateColumns replaces columns p and q of the row-major rows × cols
+// matrix a by c a_p - s a_q and s a_p + c a_q.
+func rotateColumns(a []float64, rows, cols, p, q int, c, s float64) {
+	for k := 0; k < rows; k++ {
+		kp, kq := a[k*cols+p], a[k*cols+q]
+		a[k*cols+p], a[k*cols+q] = c*kp-s*kq, s*kp+c*kq
+	}
 }

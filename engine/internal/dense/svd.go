@@ -1,11 +1,11 @@
-package eval
+package dense
 
 import (
 	"math"
 	"sort"
 )
 
-// thinSVD returns the thin singular value decomposition X = U diag(sigma)
+// ThinSVD returns the thin singular value decomposition X = U diag(sigma)
 // V^T of the n by m matrix x (row-major, n >= 1, m small: a quadratic
 // form's scalar terms), by one-sided Jacobi rotations (Hestenes 1958;
 // Demmel and Veselic 1992 show its singular values are accurate to
@@ -16,7 +16,8 @@ import (
 // and for numerically zero columns (whose u columns are zero). It reports false where
 // the sweeps do not converge. A routine of our own: gonum's SVD brought
 // 66 KB (gzip) of its LAPACK into the page's WebAssembly for this alone.
-func thinSVD(x []float64, n, m int) (u, sigma, v []float64, ok bool) {
+// The quadratic forms of engine/eval use it.
+func ThinSVD(x []float64, n, m int) (u, sigma, v []float64, ok bool) {
 	a := append([]float64(nil), x...)
 	v = make([]float64, m*m)
 	for j := 0; j < m; j++ {
@@ -49,28 +50,12 @@ func thinSVD(x []float64, n, m int) (u, sigma, v []float64, ok bool) {
 					continue
 				}
 				converged = false
-				// tan of the angle that makes the pair orthogonal, the
-				// smaller root of t^2 + 2 zeta t - 1 = 0.
-				zeta := (beta - alpha) / (2 * gamma)
-				t := 1 / (math.Abs(zeta) + math.Sqrt(1+zeta*zeta))
-				if math.Abs(zeta) > 1e150 {
-					t = 1 / (2 * math.Abs(zeta))
-				}
-				if zeta < 0 {
-					t = -t
-				}
-				c := 1 / math.Sqrt(1+t*t)
-				s := c * t
-				for i := 0; i < n; i++ {
-					ap, aq := a[i*m+p], a[i*m+q]
-					a[i*m+p] = c*ap - s*aq
-					a[i*m+q] = s*ap + c*aq
-				}
-				for i := 0; i < m; i++ {
-					vp, vq := v[i*m+p], v[i*m+q]
-					v[i*m+p] = c*vp - s*vq
-					v[i*m+q] = s*vp + c*vq
-				}
+				// The rotation that makes the pair orthogonal is the one
+				// that diagonalises their Gram matrix [alpha gamma; gamma
+				// beta].
+				c, s := jacobiRotation(alpha, beta, gamma)
+				rotateColumns(a, n, m, p, q, c, s)
+				rotateColumns(v, m, m, p, q, c, s)
 			}
 		}
 	}
