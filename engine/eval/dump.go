@@ -77,8 +77,12 @@ func writeKernel(b *strings.Builder, indent string, kern []kinstr, scalar string
 			continue
 		}
 		if in.op == opLin || in.op == opQuad {
-			fmt.Fprintf(b, "%ss%d = %s(a=s%d b=s%d sa=%s%d sb=%s%d k=%g k2=%g flags=%b)\n", indent, in.dst, ops[in.op].name,
-				in.a, in.b, scalar, in.sa, scalar, in.sb, in.k, in.k2, in.flags)
+			fmt.Fprintf(b, "%ss%d = %s(a=s%d b=s%d sa=%s%d sb=%s%d k=%g k2=%g", indent, in.dst, ops[in.op].name,
+				in.a, in.b, scalar, in.sa, scalar, in.sb, in.k, in.k2)
+			if in.flags&flagShiftB != 0 {
+				fmt.Fprintf(b, " k3=%g", in.k3)
+			}
+			fmt.Fprintf(b, " flags=%b)\n", in.flags)
 			continue
 		}
 		fmt.Fprintf(b, "%ss%d = %s(", indent, in.dst, ops[in.op].name)

@@ -16,7 +16,8 @@ import (
 //
 //	opLin:  (a + c) + s*b   from a ± s*b, (a + c) ± s*b, (a ± s') ± s*b,
 //	                        c + s*b, with s*b a product by a scalar or a
-//	                        constant, and s*b^2 likewise (flagSqB)
+//	                        constant, and s*b^2 likewise (flagSqB), and
+//	                        s*(b + e)^2 with e a constant (flagShiftB)
 //	opQuad: (a + c)^2 * k   from (a + c)^2, (a + c)^2 * k, (a + c)^2 / k,
 //	                        a^2 * k, a^2 / k
 //	opGuards: a chain of support guards on vectors, guard(guard(a, t1), t2)...
@@ -32,6 +33,7 @@ type kop struct {
 	a, b   int32 // operand nodes (vector or, for base operations, scalar)
 	sa, sb int32 // fused: scalar operand nodes, -1 for the immediates
 	k, k2  float64
+	k3     float64 // opLin with flagShiftB
 	elems  []int32
 	tests  []guardTest // opGuards: t is a node
 }
@@ -120,7 +122,7 @@ func (ks *kernelSpace) build(order []int32, roots []int32, fuse bool) ([]kinstr,
 	}
 	kern := make([]kinstr, 0, len(live))
 	for i, op := range live {
-		ki := kinstr{op: op.op, flags: op.flags, k: op.k, k2: op.k2, a: -1, b: -1, sa: -1, sb: -1}
+		ki := kinstr{op: op.op, flags: op.flags, k: op.k, k2: op.k2, k3: op.k3, a: -1, b: -1, sa: -1, sb: -1}
 		switch {
 		case op.op == opLin || op.op == opQuad:
 			if op.a >= 0 {
@@ -167,7 +169,15 @@ func (ks *kernelSpace) build(order []int32, roots []int32, fuse bool) ([]kinstr,
 				ki.a, ki.b = ks.scalar(op.a), vslot(op.b)
 			}
 		}
-		ki.dst = alloc.get()
+		if _, pinned := ks.pinned(op.a); op.op == opGuards && lastUse[op.a] == i && !pinned {
+			// The chain's input ends here: the chain runs in place, and
+			// where every test holds (a grid inside the support) it
+			// writes nothing.
+			ki.dst = slot[op.a]
+			lastUse[op.a] = -1
+		} else {
+			ki.dst = alloc.get()
+		}
 		slot[op.out] = ki.dst
 		buf = op.operands(buf[:0])
 		for _, x := range buf {
@@ -277,6 +287,11 @@ func (ks *kernelSpace) fuse(op *kop) {
 			f := &kop{op: opLin, out: op.out, a: -1, b: b, sa: -1, sb: sNode, k2: s}
 			if sq {
 				f.flags |= flagSqB
+				if bn := &nodes[b]; ks.inKernel(b) && bn.op == opAddK && ks.isVec(bn.a) {
+					// s*(x + e)^2: the shift is computed inside too.
+					f.b, f.k3 = bn.a, bn.k
+					f.flags |= flagShiftB
+				}
 			}
 			if nd.op == opSub {
 				if sNode >= 0 {

@@ -76,6 +76,18 @@ func linLoop(in *kinstr, d []float64, vs [][]float64, ss []float64) {
 	c, s := fusedScalars(in, ss)
 	b := vs[in.b][:len(d)]
 	sq := in.flags&flagSqB != 0
+	if in.flags&flagShiftB != 0 {
+		e := in.k3
+		switch {
+		case in.flags&flagNoA != 0:
+			linCSSqShift(d, c, s, b, e)
+		case in.flags&flagNoC != 0:
+			linASSqShift(d, vs[in.a], s, b, e)
+		default:
+			linACSSqShift(d, vs[in.a], c, s, b, e)
+		}
+		return
+	}
 	switch {
 	case in.flags&flagNoA != 0 && !sq:
 		linCS(d, c, s, b)

@@ -153,15 +153,39 @@ func guardLE(d, a, b []float64, k float64) {
 // guardChain applies a chain of guards (opGuards): d[i] is a[i] where every
 // test holds, else what the guards give one after the other. Over a grid
 // inside the support every test holds: the tests are counted over the
-// whole slice first, one pass each with no store, and a copied.
+// whole slice first, with no store (a lower and an upper bound on one
+// parameter as one closed range, two ranges a pass), and a is copied (or,
+// where the chain runs in place, left as it is).
 func guardChain(tests []guardTest, d, a []float64, vs [][]float64) {
 	a = a[:len(d)]
+	n := len(d)
 	failed := 0
-	for _, g := range tests {
-		failed += countFails(g.op, vs[g.t][:len(d)], g.k)
+	var ranges [4]colRange
+	nr := 0
+	for i := 0; i < len(tests) && failed == 0; i++ {
+		g := tests[i]
+		if i+1 < len(tests) && tests[i+1].t == g.t && nr < len(ranges) {
+			// A lower and an upper bound on one parameter (the usual
+			// support).
+			if lo, hi, ok := closedRange(g, tests[i+1]); ok {
+				ranges[nr] = colRange{vs[g.t][:n], lo, hi}
+				nr++
+				i++
+				continue
+			}
+		}
+		failed += countFails(g.op, vs[g.t][:n], g.k)
+	}
+	for r := 0; r+1 < nr && failed == 0; r += 2 {
+		failed += countOutside2(ranges[r], ranges[r+1])
+	}
+	if nr%2 == 1 && failed == 0 {
+		failed += countOutside(ranges[nr-1].t, ranges[nr-1].lo, ranges[nr-1].hi)
 	}
 	if failed == 0 {
-		copy(d, a)
+		if n > 0 && &d[0] != &a[0] {
+			copy(d, a)
+		}
 		return
 	}
 	for i := range d {
@@ -171,6 +195,26 @@ func guardChain(tests []guardTest, d, a []float64, vs [][]float64) {
 		}
 		d[i] = v
 	}
+}
+
+// colRange is a closed range [lo, hi] that the values t must lie in.
+type colRange struct {
+	t      []float64
+	lo, hi float64
+}
+
+// countOutside2 counts the elements i where r1.t[i] or r2.t[i] is outside
+// its range (NaN among them): two ranges in one pass.
+func countOutside2(r1, r2 colRange) int {
+	t1 := r1.t
+	t2 := r2.t[:len(t1)]
+	lo1, hi1, lo2, hi2 := r1.lo, r1.hi, r2.lo, r2.hi
+	n := 0
+	for i := range t1 {
+		x, y := t1[i], t2[i]
+		n += int(fails(x >= lo1 && x <= hi1 && y >= lo2 && y <= hi2))
+	}
+	return n
 }
 
 // countFails counts the elements of t that fail the guard's test against k.
@@ -201,6 +245,55 @@ func countFails(op opcode, t []float64, k float64) int {
 	}
 	for ; i < len(t); i++ {
 		n += int(fails(guardPass(op, t[i], k)))
+	}
+	return n
+}
+
+// closedRange returns the closed interval [lo, hi] whose members pass both
+// tests, where one is a lower bound (> or >=) and the other an upper bound
+// (< or <=): x > k holds exactly where x >= the next double above k, and
+// x < k where x <= the next double below it (NaN fails all four). It
+// reports false for two bounds on one side.
+func closedRange(g1, g2 guardTest) (lo, hi float64, ok bool) {
+	bound := func(g guardTest) (v float64, lower bool) {
+		switch g.op {
+		case opGuardGT:
+			return math.Nextafter(g.k, math.Inf(1)), true
+		case opGuardGE:
+			return g.k, true
+		case opGuardLT:
+			return math.Nextafter(g.k, math.Inf(-1)), false
+		default:
+			return g.k, false
+		}
+	}
+	for _, g := range [2]guardTest{g1, g2} {
+		if (g.op == opGuardGT || g.op == opGuardLT) && math.IsInf(g.k, 0) {
+			return 0, 0, false // no double next to an infinite bound
+		}
+	}
+	v1, l1 := bound(g1)
+	v2, l2 := bound(g2)
+	switch {
+	case l1 && !l2:
+		return v1, v2, true
+	case l2 && !l1:
+		return v2, v1, true
+	}
+	return 0, 0, false
+}
+
+// countOutside counts the elements of t outside [lo, hi] (NaN among them).
+func countOutside(t []float64, lo, hi float64) int {
+	n := 0
+	i := 0
+	for ; i+4 <= len(t); i += 4 {
+		w := t[i : i+4 : i+4]
+		n += int(fails(w[0] >= lo && w[0] <= hi) + fails(w[1] >= lo && w[1] <= hi) +
+			fails(w[2] >= lo && w[2] <= hi) + fails(w[3] >= lo && w[3] <= hi))
+	}
+	for ; i < len(t); i++ {
+		n += int(fails(t[i] >= lo && t[i] <= hi))
 	}
 	return n
 }

@@ -400,3 +400,61 @@ func fillV(d []float64, v float64) {
 		d[i] = v
 	}
 }
+
+// linCSSqShift sets d[i] = c + s*(b[i] + e)^2 (opLin without a, flagShiftB).
+func linCSSqShift(d []float64, c, s float64, b []float64, e float64) {
+	b = b[:len(d)]
+	i := 0
+	for ; i+4 <= len(d); i += 4 {
+		dw, bw := d[i:i+4:i+4], b[i:i+4:i+4]
+		u0, u1, u2, u3 := bw[0]+e, bw[1]+e, bw[2]+e, bw[3]+e
+		dw[0] = c + float64(s*float64(u0*u0))
+		dw[1] = c + float64(s*float64(u1*u1))
+		dw[2] = c + float64(s*float64(u2*u2))
+		dw[3] = c + float64(s*float64(u3*u3))
+	}
+	for ; i < len(d); i++ {
+		u := b[i] + e
+		d[i] = c + float64(s*float64(u*u))
+	}
+}
+
+// linASSqShift sets d[i] = a[i] + s*(b[i] + e)^2 (opLin without c,
+// flagShiftB).
+func linASSqShift(d, a []float64, s float64, b []float64, e float64) {
+	a = a[:len(d)]
+	b = b[:len(d)]
+	i := 0
+	for ; i+4 <= len(d); i += 4 {
+		dw, aw, bw := d[i:i+4:i+4], a[i:i+4:i+4], b[i:i+4:i+4]
+		u0, u1, u2, u3 := bw[0]+e, bw[1]+e, bw[2]+e, bw[3]+e
+		dw[0] = aw[0] + float64(s*float64(u0*u0))
+		dw[1] = aw[1] + float64(s*float64(u1*u1))
+		dw[2] = aw[2] + float64(s*float64(u2*u2))
+		dw[3] = aw[3] + float64(s*float64(u3*u3))
+	}
+	for ; i < len(d); i++ {
+		u := b[i] + e
+		d[i] = a[i] + float64(s*float64(u*u))
+	}
+}
+
+// linACSSqShift sets d[i] = (a[i] + c) + s*(b[i] + e)^2 (opLin,
+// flagShiftB).
+func linACSSqShift(d, a []float64, c, s float64, b []float64, e float64) {
+	a = a[:len(d)]
+	b = b[:len(d)]
+	i := 0
+	for ; i+4 <= len(d); i += 4 {
+		dw, aw, bw := d[i:i+4:i+4], a[i:i+4:i+4], b[i:i+4:i+4]
+		u0, u1, u2, u3 := bw[0]+e, bw[1]+e, bw[2]+e, bw[3]+e
+		dw[0] = (aw[0] + c) + float64(s*float64(u0*u0))
+		dw[1] = (aw[1] + c) + float64(s*float64(u1*u1))
+		dw[2] = (aw[2] + c) + float64(s*float64(u2*u2))
+		dw[3] = (aw[3] + c) + float64(s*float64(u3*u3))
+	}
+	for ; i < len(d); i++ {
+		u := b[i] + e
+		d[i] = (a[i] + c) + float64(s*float64(u*u))
+	}
+}

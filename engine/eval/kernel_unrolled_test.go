@@ -3,6 +3,7 @@ package eval
 import (
 	"fmt"
 	"math"
+	"slices"
 	"testing"
 )
 
@@ -73,8 +74,9 @@ func TestUnrolledKernelsMatchScalarOps(t *testing.T) {
 		}
 		// The fused forms against their definitions in fuse.go, with each
 		// product rounded before the addition.
-		for _, flags := range []uint8{0, flagNoA, flagNoC, flagSqB, flagNoA | flagSqB, flagNoC | flagSqB} {
-			in := kinstr{op: opLin, a: 0, b: 1, sa: -1, sb: -1, k: 0.3, k2: -1.7, flags: flags}
+		sh := flagSqB | flagShiftB
+		for _, flags := range []uint8{0, flagNoA, flagNoC, flagSqB, flagNoA | flagSqB, flagNoC | flagSqB, sh, flagNoA | sh, flagNoC | sh} {
+			in := kinstr{op: opLin, a: 0, b: 1, sa: -1, sb: -1, k: 0.3, k2: -1.7, k3: -5.1, flags: flags}
 			if flags&flagNoA != 0 {
 				in.a = -1
 			}
@@ -83,8 +85,11 @@ func TestUnrolledKernelsMatchScalarOps(t *testing.T) {
 				if flags&flagNoC != 0 {
 					c = 0
 				}
+				if flags&flagShiftB != 0 {
+					x = b[i] + -5.1
+				}
 				if flags&flagSqB != 0 {
-					x = float64(b[i] * b[i])
+					x = float64(x * x)
 				}
 				p := float64(s * x)
 				switch {
@@ -121,26 +126,52 @@ func TestUnrolledKernelsMatchScalarOps(t *testing.T) {
 // bit for bit, with every test holding, and with failures, infinities and
 // NaN among the tested values.
 func TestGuardChainMatchesGuards(t *testing.T) {
-	tests := []guardTest{{opGuardGE, 1, -1}, {opGuardLE, 1, 2}, {opGuardGT, 2, -2.5}, {opGuardLT, 2, 2.5}}
+	// Two parameters' supports (counted in one pass), one parameter's
+	// (a pass of its own), and a lone bound.
+	all := []guardTest{{opGuardGE, 1, -1}, {opGuardLE, 1, 2}, {opGuardGT, 2, -2.5}, {opGuardLT, 2, 2.5}}
+	for _, tests := range [][]guardTest{all, all[:2], all[2:], all[1:]} {
+		guardChainMatches(t, tests)
+	}
+}
+
+func guardChainMatches(t *testing.T, tests []guardTest) {
+	t.Helper()
 	for n := 0; n <= 23; n++ {
-		for _, inside := range []bool{true, false} {
+		for _, inside := range []string{"inside", "outside", "edge"} {
 			a := kernelInputs(n, 3)
 			t1, t2 := make([]float64, n), make([]float64, n)
 			for i := range t1 {
 				t1[i], t2[i] = math.Cos(float64(i)), 2*math.Sin(float64(i)) // inside every test
 			}
-			if !inside {
+			switch {
+			case inside == "outside":
 				t1, t2 = kernelInputs(n, 4), kernelInputs(n, 5)
-			}
-			vs := [][]float64{a, t1, t2, make([]float64, n)}
-			runKernel([]kinstr{{op: opGuards, a: 0, dst: 3, tests: tests}}, vs, nil, n, 0)
-			for i := 0; i < n; i++ {
-				want := a[i]
-				for _, g := range tests {
-					want = guard(g.op, want, vs[g.t][i], g.k)
+			case inside == "edge" && n > 0:
+				// Inside but for one value on a bound or one double to
+				// either side of it (the two tests of a column are counted
+				// as one closed range).
+				edges := func(k float64) []float64 {
+					return []float64{k, math.Nextafter(k, math.Inf(1)), math.Nextafter(k, math.Inf(-1))}
 				}
-				if !sameBits(vs[3][i], want) {
-					t.Errorf("n=%d inside=%v: element %d = %v, want %v", n, inside, i, vs[3][i], want)
+				e1, e2 := append(edges(-1), edges(2)...), append(edges(-2.5), edges(2.5)...)
+				t1[n/2], t2[n/3] = e1[n%6], e2[(n/2)%6]
+			}
+			want := make([]float64, n)
+			for i := range want {
+				want[i] = a[i]
+				for _, g := range tests {
+					want[i] = guard(g.op, want[i], [][]float64{nil, t1, t2}[g.t][i], g.k)
+				}
+			}
+			// Into a slot of its own, and in place (as the kernel's
+			// builder arranges where the chain's input ends there).
+			for _, dst := range []int32{3, 0} {
+				vs := [][]float64{slices.Clone(a), t1, t2, make([]float64, n)}
+				runKernel([]kinstr{{op: opGuards, a: 0, dst: dst, tests: tests}}, vs, nil, n, 0)
+				for i := 0; i < n; i++ {
+					if !sameBits(vs[dst][i], want[i]) {
+						t.Errorf("tests %v, n=%d %s, dst s%d: element %d = %v, want %v", tests, n, inside, dst, i, vs[dst][i], want[i])
+					}
 				}
 			}
 		}

@@ -49,6 +49,7 @@ type kinstr struct {
 	c      int32 // formVVV: the third slot
 	sa, sb int32
 	k, k2  float64
+	k3     float64 // opLin with flagShiftB: the constant added to b before squaring
 	elems  []int32
 	tests  []guardTest // opGuards: the tests, the innermost first
 }
@@ -63,13 +64,14 @@ type guardTest struct {
 
 // Flags of the fused kernel operations.
 const (
-	flagNoA  uint8 = 1 << iota // opLin: no vector a: c + s*b
-	flagNoC                    // no additive c
-	flagNegC                   // c is minus the scalar operand sa
-	flagNegS                   // s is minus the scalar operand sb
-	flagSqB                    // opLin: s*b^2
-	flagDiv                    // opQuad: divide by k2
-	flagNoK                    // opQuad: no factor k2
+	flagNoA    uint8 = 1 << iota // opLin: no vector a: c + s*b
+	flagNoC                      // no additive c
+	flagNegC                     // c is minus the scalar operand sa
+	flagNegS                     // s is minus the scalar operand sb
+	flagSqB                      // opLin: s*b^2
+	flagDiv                      // opQuad: divide by k2
+	flagNoK                      // opQuad: no factor k2
+	flagShiftB                   // opLin with flagSqB: s*(b + k3)^2
 )
 
 // pin makes a slot view constant data (or, in the block tape, a parameter's
