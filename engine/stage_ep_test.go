@@ -36,3 +36,33 @@ func TestEPBoundedScaleHint(t *testing.T) {
 		t.Errorf("no EP fit on the log scale: %+v", res.Diagnostics)
 	}
 }
+
+// TestEPRefinedSweepsUndamped: the linear regression with two slopes and
+// an unknown noise sd under a 1/s prior (data of ours), with the default
+// options: EP's 4-D rules are refined once (6^4 to 9^4 nodes a site), and
+// the second sweep after that grows while the sites move to the finer
+// rule's fixed point. That growth once halved the damping, and the run
+// took 41 sweeps (23 at the finer rule, each five times as costly); with
+// the transient left alone (ep.transientSweeps) and the sweeps ending
+// below a hundredth of the coarser rule's error (ep.refinedTolShare), 28.
+// The bound, 32, leaves room for rounding, not for the damped run.
+func TestEPRefinedSweepsUndamped(t *testing.T) {
+	src := `x1 = [0.2, 1.1, -0.5, 2.3, 1.7, -1.2, 0.8, -0.3, 1.5, 0.4]
+x2 = [1.0, 0.0, 1.0, 1.0, 0.0, 0.0, 1.0, 0.0, 1.0, 0.0]
+y = [2.3, 3.1, 1.2, 5.6, 4.2, -0.1, 3.3, 1.0, 4.6, 1.9]
+param a
+param b1
+param b2
+param s in [0, inf]
+sum(ld_normal(y, a + b1*x1 + b2*x2, s)) + ld_normal(a, 0, 10) + ld_normal(b1, 0, 10) + ld_normal(b2, 0, 10) - log(s)
+`
+	res := analyseSource(t, src, Options{})
+	f := res.Fits[EP]
+	if f == nil {
+		t.Fatalf("no EP fit: %+v", res.Diagnostics)
+	}
+	t.Logf("EP: %d sweeps, converged %v, last change %.2g", f.Iterations, f.Converged, f.Residual)
+	if !f.Converged || f.Iterations > 32 {
+		t.Errorf("EP converged %v after %d sweeps: want converged within 32", f.Converged, f.Iterations)
+	}
+}
