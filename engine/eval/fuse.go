@@ -169,10 +169,11 @@ func (ks *kernelSpace) build(order []int32, roots []int32, fuse bool) ([]kinstr,
 				ki.a, ki.b = ks.scalar(op.a), vslot(op.b)
 			}
 		}
-		if _, pinned := ks.pinned(op.a); op.op == opGuards && lastUse[op.a] == i && !pinned {
-			// The chain's input ends here: the chain runs in place, and
-			// where every test holds (a grid inside the support) it
-			// writes nothing.
+		if _, pinned := ks.pinned(op.a); op.op == opGuards && needed[op.a] && lastUse[op.a] == i && !pinned {
+			// The chain's input, computed in this kernel, ends here: the
+			// chain runs in place, and where every test holds (a grid
+			// inside the support) it writes nothing. (An input from
+			// outside the kernel may be read after it.)
 			ki.dst = slot[op.a]
 			lastUse[op.a] = -1
 		} else {
