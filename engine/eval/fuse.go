@@ -169,7 +169,7 @@ func (ks *kernelSpace) build(order []int32, roots []int32, fuse bool) ([]kinstr,
 				ki.a, ki.b = ks.scalar(op.a), vslot(op.b)
 			}
 		}
-		if _, pinned := ks.pinned(op.a); op.op == opGuards && needed[op.a] && lastUse[op.a] == i && !pinned {
+		if op.op == opGuards && needed[op.a] && lastUse[op.a] == i {
 			// The chain's input, computed in this kernel, ends here: the
 			// chain runs in place, and where every test holds (a grid
 			// inside the support) it writes nothing. (An input from
