@@ -27,9 +27,15 @@ const contourPoints = 96
 // Where the nested rule stands, the plots come from it instead
 // (plotsFromRule, plots_rule.go), unless a marginal's walk did not resolve
 // it while the full grid does (reference.gridCurves).
-func (a *analysis) plots(res *Result) (*Plots, error) {
+//
+// beforePairs is called with the marginals before the pairs are computed
+// where a.early is set and they come from the rule in 3-D or 4-D.
+func (a *analysis) plots(res *Result, beforePairs func([]Marginal1D)) (*Plots, error) {
 	if a.ref.onNodes() && !a.ref.gridCurves {
-		return a.plotsFromRule(res)
+		if a.early == nil || a.d < 3 {
+			beforePairs = nil
+		}
+		return a.plotsFromRule(res, beforePairs)
 	}
 	g := a.ref.grid
 	st := &g.Stats

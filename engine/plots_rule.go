@@ -67,7 +67,9 @@ const (
 // widened by 15 % of that span on each side (on the original scale where
 // that stays inside the support, else on the unconstrained one); the
 // points are evenly spaced on the original scale.
-func (a *analysis) plotsFromRule(res *Result) (*Plots, error) {
+//
+// beforePairs, when set, is called with the marginals before the pairs.
+func (a *analysis) plotsFromRule(res *Result, beforePairs func([]Marginal1D)) (*Plots, error) {
 	q := a.ref.quad
 	d := a.d
 	pl := &Plots{}
@@ -121,6 +123,9 @@ func (a *analysis) plotsFromRule(res *Result) (*Plots, error) {
 			}
 		}
 		pl.Marginals = append(pl.Marginals, m)
+	}
+	if beforePairs != nil {
+		beforePairs(pl.Marginals)
 	}
 	pi := 0
 	for i := 0; i < d; i++ {

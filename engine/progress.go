@@ -124,6 +124,20 @@ func (t *tracker) report(now time.Time) {
 	}
 }
 
+// snapshot returns the timing so far, the running stage's time to now
+// included, and changes nothing.
+func (t *tracker) snapshot() Timing {
+	now := time.Now()
+	stages := make(map[string]float64, len(t.stages)+1)
+	for k, v := range t.stages {
+		stages[k] = v
+	}
+	if t.stage != "" {
+		stages[t.stage] += float64(now.Sub(t.stageStart)) / float64(time.Millisecond)
+	}
+	return Timing{Total: float64(now.Sub(t.start)) / float64(time.Millisecond), Stages: stages}
+}
+
 // done ends the last stage, reports the fraction 1 and returns the timing.
 func (t *tracker) done() Timing {
 	now := time.Now()

@@ -201,6 +201,9 @@ type Plots struct {
 	Marginals []Marginal1D `json:"marginals"`
 	// Pairs holds one entry per pair i < j, in the order (0,1), (0,2), ...
 	Pairs []Marginal2D `json:"pairs"`
+	// PairsToCome marks the early result of AnalyseEarly: Pairs is empty
+	// and the pair marginals follow in the whole result.
+	PairsToCome bool `json:"pairs_to_come,omitempty"`
 }
 
 // Marginal1D is a parameter's exact marginal density on a grid, with each
