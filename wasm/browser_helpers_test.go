@@ -168,7 +168,7 @@ func startBrowser(tb testing.TB, exe string, w, h int) *browser {
 // moment.
 const probeJS = `(() => {
   if (window.__bc) return;
-  const st = {done: 0, failed: 0, doneAt: [], drawnAt: [], shownAt: [], editAt: 0, status: "", tasks: [], log: []};
+  const st = {done: 0, failed: 0, doneAt: [], drawnAt: [], shownAt: [], shownDrawnAt: [], editAt: 0, status: "", tasks: [], log: []};
   window.__bc = st;
   let last = null, lastState = null, lastGen = null, lastShown = null;
   const check = () => {
@@ -188,6 +188,7 @@ const probeJS = `(() => {
     if (gen && gen !== "0" && gen !== lastShown) {
       lastShown = gen;
       st.shownAt.push(now);
+      requestAnimationFrame(() => setTimeout(() => st.shownDrawnAt.push(performance.now()), 0));
     }
     if (state === "ready" && gen !== lastGen) {
       lastGen = gen;
@@ -222,7 +223,7 @@ const probeJS = `(() => {
     for (const [s, d] of st.tasks) if (s + d >= t0) m = Math.max(m, d);
     return m;
   };
-  st.summary = () => ({done: st.done, failed: st.failed, doneAt: st.doneAt, drawnAt: st.drawnAt, shownAt: st.shownAt,
+  st.summary = () => ({done: st.done, failed: st.failed, doneAt: st.doneAt, drawnAt: st.drawnAt, shownAt: st.shownAt, shownDrawnAt: st.shownDrawnAt,
     editAt: st.editAt, status: st.status, longest: st.longestSince(0), longtasks: st.tasks.length});
 })();`
 
@@ -309,15 +310,18 @@ func eval[T any](tb testing.TB, t *tab, d time.Duration, expr string) T {
 
 // pageState is what the probe script records (see testdata_probe.js).
 type pageState struct {
-	Done      int       `json:"done"`
-	Failed    int       `json:"failed"`
-	DoneAt    []float64 `json:"doneAt"`
-	DrawnAt   []float64 `json:"drawnAt"`
-	ShownAt   []float64 `json:"shownAt"`
-	EditAt    float64   `json:"editAt"`
-	Status    string    `json:"status"`
-	Longest   float64   `json:"longest"`
-	Longtasks int       `json:"longtasks"`
+	Done    int       `json:"done"`
+	Failed  int       `json:"failed"`
+	DoneAt  []float64 `json:"doneAt"`
+	DrawnAt []float64 `json:"drawnAt"`
+	ShownAt []float64 `json:"shownAt"`
+	// ShownDrawnAt is the frame after each ShownAt: a result on the page,
+	// ready or early (all but its pair plots, while the analysis goes on).
+	ShownDrawnAt []float64 `json:"shownDrawnAt"`
+	EditAt       float64   `json:"editAt"`
+	Status       string    `json:"status"`
+	Longest      float64   `json:"longest"`
+	Longtasks    int       `json:"longtasks"`
 }
 
 func (t *tab) state(tb testing.TB) pageState {

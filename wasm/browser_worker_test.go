@@ -24,6 +24,7 @@ import (
 
 	"bellcheck/app/examples"
 	"bellcheck/app/jsdom"
+	"bellcheck/app/ui"
 )
 
 // lastResultJS returns the detail of the runner's last bc-result mark
@@ -56,6 +57,7 @@ func TestBrowserWorker(t *testing.T) {
 	site := buildSite(t)
 	srv := serveSite(t, site, nil)
 	b := startBrowser(t, exe, 1280, 900)
+	t.Run("EarlyResult", func(t *testing.T) { testWorkerEarlyResult(t, b, srv) })
 	t.Run("NoLongTasks", func(t *testing.T) { testWorkerNoLongTasks(t, b, srv) })
 	t.Run("Fallback", func(t *testing.T) { testWorkerFallback(t, b) })
 }
@@ -313,4 +315,59 @@ func loadAverage() string {
 		return "unknown"
 	}
 	return strings.Join(f[:3], " ")
+}
+
+// testWorkerEarlyResult: a 4-D analysis in the worker puts its result on
+// the page before the pair plots (engine.AnalyseEarly): the results area
+// shows the new result while it still runs, its table not dimmed, its six
+// pair cells waiting with a note and its four marginals drawn; then the
+// whole result replaces it with the pairs drawn.
+func testWorkerEarlyResult(t *testing.T, b *browser, srv *siteServer) {
+	ex, _ := examples.ByID("clock")
+	tb := b.newTab(t, true)
+	defer tb.close()
+	st := tb.open(t, srv.URL+"/")
+	eval[bool](t, tb, 5*time.Second, fmt.Sprintf(`(document.querySelectorAll("ul.gallery button.ex")[%d].click(), true)`, exampleIndex(t, ex.ID)))
+	st = tb.waitDone(t, st.Done, 180*time.Second)
+	st = waitForWorker(t, tb, ex.Source, st)
+
+	t0 := eval[float64](t, tb, 5*time.Second, `performance.now()`)
+	tb.editModel(t, ex.Source+"# early\n")
+	waitFor(t, tb, 60*time.Second, "the early result", fmt.Sprintf(
+		`performance.getEntriesByName(%q).some((m) => m.startTime >= %f)`, ui.MarkEarlyUpdated, t0))
+	type early struct {
+		State   string `json:"state"`
+		Waiting int    `json:"waiting"`
+		Figures int    `json:"figures"`
+		Stale   bool   `json:"stale"`
+		Rows    int    `json:"rows"`
+		Text    string `json:"text"`
+	}
+	got := eval[early](t, tb, 5*time.Second, `(() => {
+  const out = document.getElementById("bc-output");
+  const w = document.querySelectorAll(".pair-grid .pair-to-come");
+  return {state: out.dataset.state, waiting: w.length, text: w.length ? w[0].textContent : "",
+    figures: document.querySelectorAll(".pair-grid .gcell svg").length,
+    stale: !!document.querySelector("table.results.stale, .plots.stale"),
+    rows: document.querySelectorAll("table.results tr").length};
+})()`)
+	tb.screenshot(t, "worker-early-result.png", false)
+	if got.State != "running" {
+		t.Errorf("results area state %q at the early result, want running (the pairs are being computed)", got.State)
+	}
+	if got.Waiting != 6 || !strings.Contains(got.Text, "Computing") {
+		t.Errorf("%d pair cells waiting (%q), want 6 saying so", got.Waiting, got.Text)
+	}
+	if got.Figures < 4 {
+		t.Errorf("%d figures drawn at the early result, want the 4 marginals", got.Figures)
+	}
+	if got.Stale || got.Rows < 10 {
+		t.Errorf("early result's table: dimmed %v, %d rows", got.Stale, got.Rows)
+	}
+	st = tb.waitDone(t, st.Done, 180*time.Second)
+	left := eval[int](t, tb, 5*time.Second, `document.querySelectorAll(".pair-grid .pair-to-come").length`)
+	figs := eval[int](t, tb, 5*time.Second, `document.querySelectorAll(".pair-grid .gcell svg").length`)
+	if left != 0 || figs < 10 {
+		t.Errorf("after the whole result: %d pair cells still waiting, %d figures (want 0 and 10)", left, figs)
+	}
 }

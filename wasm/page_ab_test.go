@@ -104,6 +104,14 @@ func TestPageTimingAB(t *testing.T) {
 })()`, st.EditAt, drawn))
 				v := vals[i]
 				v["check to drawn"] = append(v["check to drawn"], drawn-st.EditAt-delay)
+				for _, sh := range st.ShownDrawnAt {
+					if sh >= st.EditAt {
+						// The early result's frame in 3-D and 4-D (all
+						// but the pairs); else the result's own.
+						v["check to first drawn"] = append(v["check to first drawn"], sh-st.EditAt-delay)
+						break
+					}
+				}
 				if r, ok := at[ui.MarkResult]; ok {
 					v["result ready to drawn"] = append(v["result ready to drawn"], drawn-r)
 				}

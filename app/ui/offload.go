@@ -48,6 +48,9 @@ type workRequest struct {
 	// View, when set, asks for the result's figures drawn with it
 	// (offload_figures.go).
 	View *figureView
+	// Early asks for the early result (engine.AnalyseEarly) as a reply of
+	// its own before the whole one.
+	Early bool
 }
 
 // replyKind says what a workReply carries.
@@ -65,6 +68,9 @@ const (
 	// canonical form differs) or read the request; the page analyses it
 	// itself.
 	replyRefused
+	// replyEarly: the result before its pair plots (Result, Figures); the
+	// analysis goes on (workRequest.Early).
+	replyEarly
 )
 
 // workReply is one message of the worker about an analysis.
@@ -311,6 +317,10 @@ type remoteRun struct {
 	// post is the time to encode and post the request, roundTrip the time
 	// from then to the reply taken (read, not yet decoded).
 	post, roundTrip time.Duration
+	// early, when set, receives the worker's early result and its figures
+	// (linked to it; nil when the page must draw them), on the runner's
+	// goroutine; the request asks for it then (workRequest.Early).
+	early func(*engine.Result, *FigureSet)
 }
 
 // newRemoteRun prepares the request of run (on the page's event handler:
@@ -368,6 +378,15 @@ func (p *Page) remoteAnalyse(actx app.Context, rr *remoteRun, local AnalyseFunc,
 					continue
 				case replyRefused:
 					return local(ctx, m, opts, progress)
+				case replyEarly:
+					if rr.early != nil && r.Result != nil {
+						var figs *FigureSet
+						if rr.req.View != nil && rr.view == p.view {
+							figs = linkFigures(r.Figures, r.Result)
+						}
+						rr.early(r.Result, figs)
+					}
+					continue
 				}
 				rr.inWorker, rr.reply, rr.decode = true, r, time.Since(began)
 				p.estimateTime = r.EstimateTime

@@ -254,3 +254,64 @@ func TestWorkerStops(t *testing.T) {
 		}
 	}
 }
+
+// TestWorkerShowsTheResultBeforeItsPairs runs a 3-D analysis with plots
+// through the worker: the worker sends the early result (no pairs,
+// PairsToCome) before the whole one, and the page ends on the whole result
+// with its pair panels drawn, equal to the page's own analysis.
+func TestWorkerShowsTheResultBeforeItsPairs(t *testing.T) {
+	h, e := mount(t, nil)
+	p := h.page
+	p.browser = newMemBrowser("")
+	waitIdle(t, p, e)
+	fw := connectWorker(t, p)
+	var mu sync.Mutex
+	var kinds []replyKind
+	var early *engine.Result
+	fw.srv.post = func(b []byte) error {
+		var r workReply
+		if _, err := unframeInto(b, &r); err == nil {
+			mu.Lock()
+			kinds = append(kinds, r.Kind)
+			if r.Kind == replyEarly {
+				early = r.Result
+			}
+			mu.Unlock()
+		}
+		p.worker.received(b)
+		return nil
+	}
+
+	src := "param a\nparam b\nparam c\n-(a^2 + b^2 + c^2)/2 - (a - b)^2 - (b + c - 1)^2/2\n"
+	p.Input(h.ctx, src)
+	e.ConsumeAll()
+	waitIdle(t, p, e)
+	if p.s.RunErr != nil || p.s.Result == nil {
+		t.Fatalf("no result through the worker: %v", p.s.RunErr)
+	}
+	mu.Lock()
+	defer mu.Unlock()
+	ie, ir := slices.Index(kinds, replyEarly), slices.Index(kinds, replyResult)
+	if ie < 0 || ir < 0 || ie > ir {
+		t.Fatalf("replies %v: want an early result before the result", kinds)
+	}
+	if early.Plots == nil || !early.Plots.PairsToCome || len(early.Plots.Pairs) != 0 || len(early.Plots.Marginals) != 3 {
+		t.Fatalf("early result's plots: %+v", early.Plots)
+	}
+	res := p.s.Result
+	if p.s.Partial || res.Plots == nil || res.Plots.PairsToCome || len(res.Plots.Pairs) != 3 {
+		t.Fatalf("the page ends on partial %v, plots %+v", p.s.Partial, res.Plots)
+	}
+	if p.figs == nil || p.figs.Grid == nil || p.figs.Grid[1][0] == nil || p.figs.Grid[1][0].P == nil {
+		t.Error("the whole result's pair panel (b against a) is not drawn")
+	}
+	local, err := engine.Analyse(t.Context(), p.s.ResultModel, p.s.Options(), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := *res
+	got.Timing, local.Timing = engine.Timing{}, engine.Timing{}
+	if d := wire.Diff(&got, local); d != "" {
+		t.Errorf("the worker's whole result differs from the page's at Result%s", d)
+	}
+}

@@ -113,13 +113,30 @@ func (s *analysisServer) run(ctx context.Context, gen uint64, req workRequest, a
 	began := time.Now()
 	y := newYielder(workerSlice)
 	var lastReport time.Time
-	res, err := engine.Analyse(ctx, m, req.Options, func(pr engine.Progress) {
+	var early engine.EarlyFunc
+	if req.Early {
+		early = func(first *engine.Result) {
+			if ctx.Err() != nil {
+				return
+			}
+			e := workReply{Kind: replyEarly, Result: first, Analysis: time.Since(began)}
+			if req.View != nil {
+				tf, pf := time.Now(), y.paused
+				e.Figures = sendFigures(buildFigures(first, req.View.view(), y.Yield))
+				e.FigureTime = time.Since(tf) - (y.paused - pf)
+			}
+			if ctx.Err() == nil {
+				s.reply(gen, e)
+			}
+		}
+	}
+	res, err := engine.AnalyseEarly(ctx, m, req.Options, func(pr engine.Progress) {
 		y.Yield()
 		if now := time.Now(); now.Sub(lastReport) >= reportEvery && ctx.Err() == nil {
 			lastReport = now
 			s.reply(gen, workReply{Kind: replyProgress, Progress: pr})
 		}
-	})
+	}, early)
 	if ctx.Err() != nil {
 		return // stopped, or a newer request came: the page no longer waits
 	}

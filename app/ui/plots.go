@@ -50,6 +50,13 @@ func (pp *PlotPanel) grid(fs *FigureSet) app.UI {
 			switch {
 			case row < col:
 				cells = append(cells, pp.corrCell(fs, col, row))
+			case p == nil && row > col && fs.Result != nil && fs.Result.Plots != nil && fs.Result.Plots.PairsToCome:
+				// An early result (engine.AnalyseEarly): the pairs follow.
+				text := "Computing the pair marginal…"
+				if pp.Stale {
+					text = "The pair marginal was not computed: the analysis ended before it."
+				}
+				cells = append(cells, app.Div().Class("gcell muted pair-to-come").Text(text))
 			case p == nil:
 				cells = append(cells, app.Div().Class("gcell muted").Text("—"))
 			case row == col:

@@ -39,9 +39,15 @@ const (
 // the result drawn: the analysis starts, its result is ready, the figures
 // and the table are prepared, the page takes the result, and the page's
 // update is done (the browser then lays out and paints).
+//
+// A 3-D or 4-D analysis in the worker also shows its result before the
+// pair plots (engine.AnalyseEarly): MarkEarly when the page takes that
+// early result, MarkEarlyUpdated when its update is done.
 const (
-	MarkStart    = "bc-start"
-	MarkResult   = "bc-result"
+	MarkEarly        = "bc-early"
+	MarkEarlyUpdated = "bc-early-updated"
+	MarkStart        = "bc-start"
+	MarkResult       = "bc-result"
 	MarkPrepared = "bc-prepared"
 	MarkHanded   = "bc-handed"
 	MarkUpdated  = "bc-updated"
@@ -141,6 +147,12 @@ func (p *Page) start(ctx app.Context) {
 		}
 	}
 	view := p.view
+	if remote != nil {
+		remote.req.Early = true
+		remote.early = func(res *engine.Result, figs *FigureSet) {
+			p.showEarly(ctx, run, view, res, figs, y)
+		}
+	}
 	ctx.After(ProgressDelay, func(ctx app.Context) {
 		if p.s.Gen != run.Gen || !p.s.Running {
 			ctx.PreventUpdate() // the analysis is over: nothing to show
@@ -248,6 +260,33 @@ func (p *Page) start(ctx app.Context) {
 			// (offload.go); meanwhile the page analyses itself.
 			p.worker.start()
 		})
+	})
+}
+
+// showEarly puts the early result of run (all but its pair plots) on the
+// page while the analysis goes on: the figures the worker drew with view
+// (figs; drawn here when nil) and the table. It runs on the runner's
+// goroutine.
+func (p *Page) showEarly(ctx app.Context, run Run, view View, res *engine.Result, figs *FigureSet, y *yielder) {
+	if figs == nil {
+		figs = buildFigures(res, view, y.Yield)
+	}
+	figs = numbered(figs)
+	y.Yield()
+	secs := Table(res, run.Model)
+	y.YieldAfter(handOverSlice)
+	ctx.Dispatch(func(ctx app.Context) {
+		if !p.s.Early(run, res) {
+			ctx.PreventUpdate() // outdated: nothing changes
+			return
+		}
+		_ = jsdom.Mark(MarkEarly)
+		ctx.Defer(func(app.Context) { _ = jsdom.Mark(MarkEarlyUpdated) })
+		p.afterRender(ctx)
+		if p.view != view {
+			figs = numbered(BuildFigures(res, p.view))
+		}
+		p.figs, p.sections = figs, secs
 	})
 }
 

@@ -39,6 +39,10 @@ type Session struct {
 	// analysis runs.
 	Result      *engine.Result
 	ResultModel *model.Model
+	// Partial reports that Result is the running analysis's early result
+	// (engine.AnalyseEarly): everything but the pair plots, which follow.
+	// It is not stale while that analysis runs.
+	Partial bool
 	// RunErr is the error of the newest analysis when it failed (not when
 	// it was cancelled).
 	RunErr error
@@ -103,7 +107,8 @@ func sourceErrors(err error) model.ErrorList {
 // options now in the editor: the text has errors, a newer analysis runs, or
 // the newest one failed.
 func (s *Session) Stale() bool {
-	return s.Result != nil && (s.Errors != nil || s.Running || s.ResultGen != s.Gen)
+	running := s.Running && !(s.Partial && s.ResultGen == s.Gen)
+	return s.Result != nil && (s.Errors != nil || running || s.ResultGen != s.Gen)
 }
 
 // Begin registers a new analysis of the current model and returns it; any
@@ -158,7 +163,18 @@ func (s *Session) Finish(run Run, res *engine.Result, err error, elapsed, longes
 		s.RunErr = errors.New("the analysis returned no result")
 		return true
 	}
-	s.Result, s.ResultModel, s.ResultGen = res, run.Model, run.Gen
+	s.Result, s.ResultModel, s.ResultGen, s.Partial = res, run.Model, run.Gen, false
+	return true
+}
+
+// Early records the early result of the running analysis run (all but its
+// pair plots; the analysis goes on). It returns false, changing nothing,
+// when the run is outdated or no longer running.
+func (s *Session) Early(run Run, res *engine.Result) bool {
+	if run.Gen != s.Gen || !s.Running || res == nil {
+		return false
+	}
+	s.Result, s.ResultModel, s.ResultGen, s.Partial = res, run.Model, run.Gen, true
 	return true
 }
 
