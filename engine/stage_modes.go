@@ -8,6 +8,7 @@ import (
 
 	"bellcheck/engine/fit"
 	"bellcheck/engine/grid"
+	"bellcheck/engine/transform"
 )
 
 // modeSearch is what the modes stage hands on: the modes, highest first,
@@ -145,7 +146,7 @@ func (a *analysis) findModes() error {
 			second = max(second, m.Mass)
 		}
 		counted++
-		big = append(big, percent(m.Mass))
+		big = append(big, share(m.Mass))
 	}
 	if counted > 1 {
 		sev := SeverityInfo
@@ -223,7 +224,9 @@ func (a *analysis) unresolvedModeMasses(modes []fit.Mode, masses []float64) []fl
 
 // spreadStarts runs the mode search from 12 d space-filling (Halton)
 // starts over ten sds (by the curvature) around the highest mode the
-// grid's peaks led to, within the support, so that a higher optimum the
+// grid's peaks led to, within the support (a parameter with a bound
+// spreads on its unconstrained scale, a factor 20 or more either way:
+// spreadMaps), so that a higher optimum the
 // grid did not see (a chaotic cost, a spike between nodes) is found and
 // the highest mode reported is the best optimum found. A new mode joins
 // where it holds at least 1e-3 of the mass (as the peaks that start the
@@ -260,12 +263,13 @@ func (a *analysis) spreadStarts(modes []fit.Mode, masses []float64) ([]fit.Mode,
 		half[k] = 10 * s
 	}
 	sd := a.ref.fitting.SD
+	spread := a.spreadMaps(modes[best].X, half)
 	primes := [4]float64{2, 3, 5, 7}
 	var added []int
 	for i := 1; i <= 12*d; i++ {
 		z := make([]float64, d)
 		for k := range z {
-			z[k] = modes[best].X[k] + (2*halton(i, primes[k])-1)*half[k]
+			z[k] = spread[k].at(2*halton(i, primes[k]) - 1)
 			z[k] = min(max(z[k], a.modeLo[k]), a.modeHi[k])
 		}
 		m, ok, err := a.searchFrom(z)
@@ -345,6 +349,70 @@ func (a *analysis) spreadStarts(modes []fit.Mode, masses []float64) ([]fit.Mode,
 			a.pointString(modes[higher].X), modes[higher].LogDensity, modes[best].LogDensity)
 	}
 	return modes, masses, nil
+}
+
+// spreadAxis places one coordinate of spreadStarts's starts: at v in
+// [-1, 1], centre + v half on the fitting scale, or, for a parameter with
+// a bound, centre + v half on its unconstrained scale (u) mapped back.
+type spreadAxis struct {
+	fitting  transform.Map // the fitting scale's map
+	bounded  transform.Map // the unconstrained scale's map (u)
+	centre   float64       // fitting scale, or u where hasBound
+	half     float64
+	hasBound bool
+}
+
+func (s spreadAxis) at(v float64) float64 {
+	if !s.hasBound {
+		return s.centre + v*s.half
+	}
+	return s.fitting.FromOriginal(s.bounded.ToOriginal(s.centre + v*s.half))
+}
+
+// spreadMinHalf is the least half-width of spreadStarts's region on a
+// bounded parameter's unconstrained scale: a factor e^3 = 20 on either
+// side of the mode in the distance to the bound. A cost's false minimum
+// can have a narrow curvature (a cooling rate of 1.19 that makes a
+// stepped temperature overshoot the room's, sd 0.0025 by the curvature)
+// while the true one lies at a rate of 0.13: ten sds around the false one
+// never leave its basin.
+const spreadMinHalf = 3
+
+// spreadMaps returns, per parameter, where spreadStarts's starts go around
+// the point x (fitting scale) with the half-widths half (fitting scale): a
+// parameter whose support has a lower or upper bound spreads on its
+// unconstrained scale (log or logit of the support: the scale on which
+// the nested rule integrates), over 10 of its sds there but at least
+// spreadMinHalf, so that the starts reach rates and scales several times
+// the mode's; an unbounded one as before.
+func (a *analysis) spreadMaps(x, half []float64) []spreadAxis {
+	out := make([]spreadAxis, a.d)
+	for k, prm := range a.m.Params {
+		out[k] = spreadAxis{fitting: a.maps[k], centre: x[k], half: half[k]}
+		um := transform.Map{Lo: prm.Lo, Hi: prm.Hi}
+		switch {
+		case !math.IsInf(prm.Lo, 0) && !math.IsInf(prm.Hi, 0):
+			um.Scale = transform.Logit
+		case !math.IsInf(prm.Lo, 0):
+			um.Scale = transform.Log
+		default:
+			continue
+		}
+		xc := a.maps[k].ToOriginal(x[k])
+		uc := um.FromOriginal(xc)
+		// The sd on u from the fitting scale's: the change of u over a
+		// tenth of the half-width (one sd), on the side that stays inside.
+		sd := half[k] / 10
+		du := math.Abs(um.FromOriginal(a.maps[k].ToOriginal(x[k]+sd)) - uc)
+		if dl := math.Abs(um.FromOriginal(a.maps[k].ToOriginal(x[k]-sd)) - uc); math.IsNaN(du) || math.IsInf(du, 0) || (!math.IsNaN(dl) && !math.IsInf(dl, 0) && dl < du) {
+			du = dl
+		}
+		if math.IsNaN(uc) || math.IsInf(uc, 0) || math.IsNaN(du) || math.IsInf(du, 0) {
+			continue
+		}
+		out[k] = spreadAxis{fitting: a.maps[k], bounded: um, centre: uc, half: max(10*du, spreadMinHalf), hasBound: true}
+	}
+	return out
 }
 
 // farOutside reports a point more than one box width outside the grid's
