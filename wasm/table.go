@@ -17,8 +17,14 @@ import (
 func writeTable(w io.Writer, name string, r *engine.Result) {
 	fmt.Fprintf(w, "%s: %d parameter(s) %s, given as %s\n", name, len(r.Params),
 		strings.Join(r.Params, ", "), strings.ReplaceAll(r.Form, "_", "-"))
-	fmt.Fprintf(w, "grid: %s points; log Z = %s (error estimate %s)\n\n",
-		joinInts(r.Grid.Points, " x "), num(r.Exact.LogZ), num(r.Exact.LogZErr))
+	if r.Grid.Scouted {
+		// The exact results are the nested rule's; the grid only scouted.
+		fmt.Fprintf(w, "exact: quadrature around the modes (scouting grid %s points); log Z = %s (error estimate %s)\n\n",
+			joinInts(r.Grid.Points, " x "), num(r.Exact.LogZ), num(r.Exact.LogZErr))
+	} else {
+		fmt.Fprintf(w, "exact: grid of %s points; log Z = %s (error estimate %s)\n\n",
+			joinInts(r.Grid.Points, " x "), num(r.Exact.LogZ), num(r.Exact.LogZErr))
+	}
 
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
 	header := []string{"", "exact"}
