@@ -66,7 +66,9 @@ func (a *analysis) compareFits() error {
 			}
 		}
 		if c.Method == compare.OnNodes {
-			if !c.Resolved {
+			// A coverage from the rule over q's region stands: every
+			// number is reported, each by a rule that resolves it.
+			if !c.Resolved && !c.CoverageInBall {
 				a.avail.dropAt(QuantityCoverage, f.slot(), CodeFitOffGrid)
 				a.diag.add(CodeFitOffGrid, SeverityInfo,
 					"The %s fit is narrower than the exact reference's nodes resolve; its Hellinger distance comes from a cubature in its own coordinates, and its coverage is not reported.",

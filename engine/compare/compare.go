@@ -48,6 +48,10 @@ type Result struct {
 	// Resolved reports that the grid's spacing is fine enough for q: the
 	// rule integrates q to about 1e-10 (see latticeMin).
 	Resolved bool
+	// CoverageInBall reports a q the nodes do not resolve whose coverage
+	// came from a product rule over its region instead (CompareNodes,
+	// ballCoverage): Coverage95 stands though Resolved is false.
+	CoverageInBall bool
 	// Method tells how KLqp and Hellinger were computed.
 	Method Method
 }

@@ -84,7 +84,10 @@ var coverageWidths = [2]float64{0.5, 1}
 //   - QMass is q's mass on the nodes, sum_i w_i q(y_i) J_i (below 1 where q
 //     reaches beyond p's nodes);
 //   - the coverage is sum_i m_i chi_i, with chi the indicator of q's
-//     central 95 % region smoothed across each node's cell (below);
+//     central 95 % region smoothed across each node's cell (below); where
+//     the nodes do not resolve q, a product rule over that region in q's
+//     coordinates (ballCoverage) gives it if two such rules agree within
+//     ballCoverTol (CoverageInBall);
 //   - KL(q||p) always comes from the cubature (the nodes follow p, not q).
 //
 // Zn = sum_i w_i p_i is the node set's own total.
@@ -256,6 +259,16 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 		// Bhattacharyya sum converged besides (see above).
 		res.Resolved = nearest >= 0 && spacingIn(q, logW[nearest]+logJ[nearest], d) <= 1 && coverChange <= coverageTol
 		bhatConverged := res.Resolved && rel*rel <= max(tol, errP)
+		if !res.Resolved && s.Density != nil {
+			// The coverage by a rule over q's region, where it settles.
+			c, change, err := ballCoverage(s.Context, s.Density, q, s.LogZ, r0)
+			if s.Context != nil && s.Context.Err() != nil {
+				return nil, s.Context.Err()
+			}
+			if err == nil && change <= ballCoverTol {
+				res.Coverage95, res.CoverageInBall = max(0, min(c, 1)), true
+			}
+		}
 		res.KLqp = math.NaN()
 		if s.Density != nil {
 			gp := &gaussianPrep{Prepared: q}
