@@ -81,6 +81,11 @@ import (
 //	local_optima           info            (a cost model) the grid's lesser peaks, polished, reach local minima
 //	                                       that hold no posterior mass: their number, the deepest of them and how
 //	                                       much higher its J is
+//	unused_param           error           a declared parameter that no expression of the model uses: the
+//	                                       density is flat along it (improper); names an implicit parameter
+//	                                       that looks like a misspelling of it
+//	implicit_lookalike     warning         a parameter used without a param line whose name looks like a
+//	                                       misspelling of a declared parameter or a definition
 //	rule_missed_mass       info            the nested rule's log Z fell short of a grid that resolves the density
 //	                                       (a mode far narrower than the others, stepped over): the exact results
 //	                                       are the grid's
@@ -111,6 +116,8 @@ const (
 	CodeStartsDisagree      = "starts_disagree"
 	CodeLocalOptima         = "local_optima"
 	CodeRuleMissedMass      = "rule_missed_mass"
+	CodeUnusedParam         = "unused_param"
+	CodeImplicitLookalike   = "implicit_lookalike"
 )
 
 // Thresholds of the diagnostics.

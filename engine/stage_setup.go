@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"strings"
 
 	"bellcheck/engine/eval"
 	"bellcheck/engine/grid"
@@ -48,6 +49,7 @@ func (a *analysis) setup() error {
 		return err
 	}
 	a.ev = ev
+	a.unusedParams()
 	a.maps = make([]transform.Map, d)
 	a.scales = make([]Scale, d)
 	a.bounds = grid.Box{Lo: make([]float64, d), Hi: make([]float64, d)}
@@ -184,4 +186,44 @@ func (a *analysis) ruleExpected() bool {
 		}
 	}
 	return true
+}
+
+// unusedParams warns of each declared parameter that no expression of the
+// model uses (the density is flat along it, so it is improper), and of each
+// implicit parameter whose name looks like a misspelling of a declared
+// parameter or a definition (a parameter of its own, the likely cause).
+func (a *analysis) unusedParams() {
+	told := map[string]bool{}
+	for _, prm := range a.m.Params {
+		if !prm.Declared || prm.Used {
+			continue
+		}
+		msg := fmt.Sprintf("%s is declared (line %d) but no expression of the model uses it, so the density is flat along it and improper: give it a prior (a term such as ld_normal(%s, 0, 10)) or remove its line.",
+			prm.Name, prm.At.Line, prm.Name)
+		if look := a.m.Lookalikes(prm.Name); len(look) > 0 {
+			msg += fmt.Sprintf(" %s, used without a param line and so a parameter of its own, looks like a misspelling of it.", list(look))
+			for _, n := range look {
+				told[n] = true
+			}
+		}
+		a.diag.add(CodeUnusedParam, SeverityError, "%s", msg)
+	}
+	for _, prm := range a.m.Params {
+		if prm.Declared || told[prm.Name] {
+			continue
+		}
+		if like := a.m.Resembles(prm.Name); len(like) > 0 {
+			a.diag.add(CodeImplicitLookalike, SeverityWarning,
+				"%s (line %d, column %d) is used without a param line, so it is a parameter of its own: did you mean %s?",
+				prm.Name, prm.At.Line, prm.At.Col, orList(like))
+		}
+	}
+}
+
+// orList joins names as "a", "a or b", "a, b or c".
+func orList(names []string) string {
+	if len(names) < 2 {
+		return strings.Join(names, "")
+	}
+	return strings.Join(names[:len(names)-1], ", ") + " or " + names[len(names)-1]
 }

@@ -144,6 +144,10 @@ type Param struct {
 	Lo, Hi   float64 // support; -Inf and +Inf when unbounded
 	Declared bool    // true when declared by a param statement
 	At       Pos     // declaration, or first use when implicit
+	// Used reports that an expression of the model refers to the
+	// parameter (always, for an implicit one); a declared parameter no
+	// expression names leaves the density flat along it.
+	Used bool
 }
 
 // Def is a checked definition.

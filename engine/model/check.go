@@ -415,6 +415,7 @@ func (c *checker) ident(e *Ident) (Shape, bool) {
 	}
 	if idx, ok := c.params[e.Name]; ok {
 		e.Kind, e.Index = ParamRef, idx
+		c.m.Params[idx].Used = true
 		return Shape{}, true
 	}
 	if idx, ok := c.defs[e.Name]; ok {
@@ -436,6 +437,9 @@ func (c *checker) ident(e *Ident) (Shape, bool) {
 		return badShape, false
 	}
 	e.Kind, e.Index = ParamRef, c.addParam(e.Name, e.At, false)
+	if e.Index < len(c.m.Params) {
+		c.m.Params[e.Index].Used = true
+	}
 	return Shape{}, true
 }
 

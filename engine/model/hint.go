@@ -52,6 +52,35 @@ func suggest(name string, candidates []string) []string {
 	return out
 }
 
+// Lookalikes returns the implicit parameters of m (used without a param
+// statement) whose names look like a misspelling of name: for a declared
+// parameter no expression uses, the likely cause.
+func (m *Model) Lookalikes(name string) []string {
+	var out []string
+	for _, p := range m.Params {
+		if !p.Declared && len(suggest(p.Name, []string{name})) > 0 {
+			out = append(out, p.Name)
+		}
+	}
+	return out
+}
+
+// Resembles returns the declared parameters and the definitions of m whose
+// names the implicit parameter name looks like a misspelling of (sigam:
+// sigma).
+func (m *Model) Resembles(name string) []string {
+	var known []string
+	for _, p := range m.Params {
+		if p.Declared {
+			known = append(known, p.Name)
+		}
+	}
+	for _, d := range m.Defs {
+		known = append(known, d.Name)
+	}
+	return suggest(name, known)
+}
+
 // didYouMean formats suggestions as a hint, or returns "".
 func didYouMean(names []string) string {
 	if len(names) == 0 {
