@@ -112,6 +112,9 @@ type analysis struct {
 	// early, when set, receives the result before its pair plots
 	// (AnalyseEarly; plots_rule.go).
 	early EarlyFunc
+	// undefinedHinted: a message has told how to declare a support where
+	// log p is undefined (undefinedHint).
+	undefinedHinted bool
 }
 
 // run runs the stages in order.

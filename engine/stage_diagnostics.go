@@ -64,7 +64,7 @@ func (a *analysis) gridDiagnostics() {
 		// undefined points lie where the rule does not reach (a bound of
 		// the support the grid's box touches).
 		a.diag.add(CodeNonFinite, SeverityWarning,
-			"The log-density is NaN or +inf at %s of the grid points; they were left out of every result.", percentPoints(a.ref.nonFinite))
+			"The log-density is NaN or +inf at %s of the grid points; they were left out of every result.%s", percentPoints(a.ref.nonFinite), a.undefinedHint())
 	}
 	for k := 0; k < a.d; k++ {
 		if !a.avail.presentAt(QuantityAxisErrors, k) {

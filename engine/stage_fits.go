@@ -2,6 +2,7 @@ package engine
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"strings"
 
@@ -190,7 +191,11 @@ func (a *analysis) fitReverse(lap *fit.LaplaceFit) (rev, mfit *fit.VariationalFi
 			return nil, nil
 		default:
 			a.avail.drop(m.quantity(), CodeFitFailed)
-			a.diag.add(CodeFitFailed, SeverityError, "No %s fit: %v.", label, err)
+			hint := ""
+			if errors.Is(err, fit.ErrNonFinite) {
+				hint = a.undefinedHint()
+			}
+			a.diag.add(CodeFitFailed, SeverityError, "No %s fit: %v.%s", label, err, hint)
 			return nil, nil
 		}
 	}
@@ -313,4 +318,26 @@ func symFromRows(r [][]float64) *mat.SymDense {
 		}
 	}
 	return s
+}
+
+// undefinedHint is the advice after a message about log p undefined (NaN)
+// where some parameter has no declared bound: a model undefined beyond
+// some value of a parameter needs that parameter's support declared, so
+// that every method stays inside it. "" when every parameter has a bound,
+// and after the first time (one message gives it).
+func (a *analysis) undefinedHint() string {
+	if a.undefinedHinted {
+		return ""
+	}
+	var open []string
+	for _, prm := range a.m.Params {
+		if math.IsInf(prm.Lo, -1) && math.IsInf(prm.Hi, 1) {
+			open = append(open, prm.Name)
+		}
+	}
+	if len(open) == 0 {
+		return ""
+	}
+	a.undefinedHinted = true
+	return fmt.Sprintf(" Where the model is undefined beyond some value of a parameter (a logarithm or a square root of a negative number), declare its support, as in param %s in [0, inf], so that every method stays inside it.", open[0])
 }
