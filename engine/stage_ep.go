@@ -109,8 +109,16 @@ func (a *analysis) fitEP() error {
 	}
 	g, err := fit.MomentMatch(r.Mean, cov)
 	if err != nil {
+		// EP ended on a Gaussian that is not proper (a degenerate
+		// covariance: a hierarchical scale driven to its bound makes the
+		// effects and their mean move as one).
 		a.avail.drop(EP.quantity(), CodeFitFailed)
-		a.diag.add(CodeFitFailed, SeverityError, "No EP fit: %v.", err)
+		why := "its covariance is not positive definite"
+		if errors.Is(err, fit.ErrNonFinite) {
+			why = "its mean or covariance is not finite"
+		}
+		a.diag.add(CodeFitFailed, SeverityError,
+			"No EP fit: the approximation it ended on is not a proper Gaussian (%s: some parameters move as one, or a scale was driven to its bound).%s", why, a.epBoundHint())
 		return nil
 	}
 	nSites, exact := len(r.Sites), r.Exact

@@ -26,15 +26,15 @@ func check(g Gaussian, l []float64) error {
 		return fmt.Errorf("%w: Gaussian mean has %d entries but the covariance is %d×%d", ErrBadInput, d, n, n)
 	}
 	if !allFinite(g.Mean) {
-		return fmt.Errorf("%w: Gaussian mean %v", ErrNonFinite, g.Mean)
+		return fmt.Errorf("%w: the Gaussian's mean has an entry that is not finite", ErrNonFinite)
 	}
 	a := make([]float64, d*d)
 	sliceFromSym(a, g.Cov)
 	if !allFinite(a) {
-		return fmt.Errorf("%w: Gaussian covariance %v", ErrNonFinite, a)
+		return fmt.Errorf("%w: the Gaussian's covariance has an entry that is not finite", ErrNonFinite)
 	}
 	if !cholesky(l, a, d) {
-		return fmt.Errorf("%w: Gaussian covariance %v", ErrNotPositiveDefinite, a)
+		return fmt.Errorf("%w: the Gaussian's %d×%d covariance", ErrNotPositiveDefinite, d, d)
 	}
 	return nil
 }
