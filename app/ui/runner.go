@@ -304,10 +304,16 @@ func (p *Page) StopAnalysis(ctx app.Context) {
 		stage = "starting"
 	}
 	frac := p.s.Progress.Fraction
+	// An early result of this analysis (all but its pairs) stays shown.
+	partial := p.s.Partial && p.s.ResultGen == p.s.Gen
 	p.stop()
 	p.stopped, p.stoppedAfter = true, took
-	p.notice = Notice{Text: fmt.Sprintf("You stopped the analysis after %s (%.0f %% done, at: %s). Your model and settings are as you left them; the results shown, dimmed, are from the last analysis that finished. Run it again from the status line, or make it lighter first (fewer grid points, less data).",
-		fmtSeconds(took), 100*max(0, min(1, frac)), stage)}
+	shown := "the results shown, dimmed, are from the last analysis that finished"
+	if partial {
+		shown = "the results shown, dimmed, are this analysis's but for the pair plots, which it had not computed"
+	}
+	p.notice = Notice{Text: fmt.Sprintf("You stopped the analysis after %s (%.0f %% done, at: %s). Your model and settings are as you left them; %s. Run it again from the status line, or make it lighter first (fewer grid points, less data).",
+		fmtSeconds(took), 100*max(0, min(1, frac)), stage, shown)}
 }
 
 // RunAgain implements StopHost: it analyses the current model again after

@@ -135,3 +135,44 @@ func TestEmbedLinkOverLimitSaysSo(t *testing.T) {
 		t.Errorf("an over-limit link pasted into the frame: notice %q", p.notice.Text)
 	}
 }
+
+// A stop after the analysis showed its early result (all but the pair
+// plots): the notice says the results shown are this analysis's but for
+// its pairs, and the pair cells say they were not computed.
+func TestStopAfterTheEarlyResult(t *testing.T) {
+	started := make(chan struct{}, 4)
+	stopped := make(chan struct{}, 4)
+	h, e := mount(t, func(ctx context.Context, m *model.Model, o engine.Options, pr engine.ProgressFunc) (*engine.Result, error) {
+		started <- struct{}{}
+		<-ctx.Done()
+		stopped <- struct{}{}
+		return nil, ctx.Err()
+	})
+	p := h.page
+	p.text = "param a\nparam b\nparam c\n-(a^2 + b^2 + c^2)/2\n"
+	p.check(h.ctx)
+	<-started
+	// The worker's early result, as showEarly takes it.
+	res, err := engine.Analyse(context.Background(), p.s.Model, engine.Options{Plots: true}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	early := *res
+	early.Plots = &engine.Plots{Marginals: res.Plots.Marginals, PairsToCome: true}
+	run := Run{Gen: p.s.Gen, Model: p.s.Model}
+	if !p.s.Early(run, &early) {
+		t.Fatal("the early result was refused")
+	}
+	p.figs = numbered(BuildFigures(&early, p.view))
+	p.progress = true
+	p.StopAnalysis(h.ctx)
+	<-stopped
+	e.ConsumeAll()
+	if !strings.Contains(p.notice.Text, "but for the pair plots") {
+		t.Errorf("the notice says %q", p.notice.Text)
+	}
+	out := app.HTMLString(&PlotPanel{Host: p, Set: p.figs, View: p.view, Stale: p.s.Stale()})
+	if !strings.Contains(out, "was not computed") {
+		t.Errorf("the pair cells after Stop: %s", out)
+	}
+}
