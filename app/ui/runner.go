@@ -48,9 +48,9 @@ const (
 	MarkEarlyUpdated = "bc-early-updated"
 	MarkStart        = "bc-start"
 	MarkResult       = "bc-result"
-	MarkPrepared = "bc-prepared"
-	MarkHanded   = "bc-handed"
-	MarkUpdated  = "bc-updated"
+	MarkPrepared     = "bc-prepared"
+	MarkHanded       = "bc-handed"
+	MarkUpdated      = "bc-updated"
 )
 
 // MarkMain is recorded once, when the page's program starts (its wasm
