@@ -525,7 +525,7 @@ func editToDrawn(t *testing.T, b *browser, srv *siteServer, rep *report) {
 			c.target, fmt.Sprintf("<= %.0f ms", c.target)))
 		if c.dim >= 3 && len(shown) > 0 {
 			rep.add(measure{Group: g, Name: name + ", check to first drawn", Value: median(shown) - debounce, Unit: "ms",
-				Detail: fmt.Sprintf("median of %d (%s, less the check delay): the result without its pair plots (engine.AnalyseEarly), which follow; 'check to drawn' above is to the pairs drawn", len(shown), fmtList(shown))})
+				Detail: fmt.Sprintf("median of %d, less the check delay (from the keystroke: %s): the result without its pair plots (engine.AnalyseEarly), which follow; 'check to drawn' above is to the pairs drawn", len(shown), fmtList(shown))})
 		}
 		if len(ready) > 0 {
 			m := measure{Group: g, Name: name + ", result ready to drawn", Value: median(ready), Unit: "ms",
