@@ -89,17 +89,7 @@ func TestQuadratureImproper(t *testing.T) {
 // (density 0.4 against 0.2 near -3) holding half the mass; the Laplace
 // estimates of the two masses are equal (p(mode) sd is the same).
 func TestSpreadStarts(t *testing.T) {
-	m, err := model.Parse("param x\nlogsumexp(log(0.5) + ld_normal(x, -3, 1), log(0.5) + ld_normal(x, 3, 0.5))\n")
-	if err != nil {
-		t.Fatal(err)
-	}
-	a := &analysis{ctx: context.Background(), m: m, tr: newTracker(nil)}
-	if err := a.setup(); err != nil {
-		t.Fatal(err)
-	}
-	if err := a.findReference(); err != nil {
-		t.Fatal(err)
-	}
+	a := referenceStage(t, "param x\nlogsumexp(log(0.5) + ld_normal(x, -3, 1), log(0.5) + ld_normal(x, 3, 0.5))\n")
 	low, err := fit.FindModes(a.ctx, a.pw, [][]float64{{-2.5}}, a.modeLo, a.modeHi)
 	if err != nil || len(low) != 1 {
 		t.Fatalf("the lower mode: %v %v", low, err)
@@ -185,17 +175,7 @@ func TestSpreadStartsLeaveAFalseMinimum(t *testing.T) {
 	if math.Abs(wantT0-86.83) > 0.01 || math.Abs(wantLam-0.1306) > 1e-3 {
 		t.Fatalf("the independent minimum (%v, %v) is not the one this test is about", wantT0, wantLam)
 	}
-	m, err := model.Parse(coolingCost)
-	if err != nil {
-		t.Fatal(err)
-	}
-	a := &analysis{ctx: context.Background(), m: m, tr: newTracker(nil)}
-	if err := a.setup(); err != nil {
-		t.Fatal(err)
-	}
-	if err := a.findReference(); err != nil {
-		t.Fatal(err)
-	}
+	a := referenceStage(t, coolingCost)
 	falseMin, err := fit.FindModes(a.ctx, a.pw, [][]float64{{-180, 1.19}}, a.modeLo, a.modeHi)
 	if err != nil || len(falseMin) != 1 || math.Abs(falseMin[0].X[1]-1.1912) > 1e-3 {
 		t.Fatalf("the false minimum: %v %v", falseMin, err)
@@ -222,4 +202,22 @@ func TestSpreadStartsLeaveAFalseMinimum(t *testing.T) {
 	if lap == nil || math.Abs(lap.Mean[0]-wantT0) > 1e-4*0.44 || math.Abs(lap.Mean[1]-wantLam) > 1e-4*0.0016 {
 		t.Errorf("the Laplace fit at %v, want the true minimum (%v, %v)", lap, wantT0, wantLam)
 	}
+}
+
+// referenceStage returns an analysis of src run up to its reference stage
+// (setup, box, scouting grid).
+func referenceStage(t *testing.T, src string) *analysis {
+	t.Helper()
+	m, err := model.Parse(src)
+	if err != nil {
+		t.Fatal(err)
+	}
+	a := &analysis{ctx: context.Background(), m: m, tr: newTracker(nil)}
+	if err := a.setup(); err != nil {
+		t.Fatal(err)
+	}
+	if err := a.findReference(); err != nil {
+		t.Fatal(err)
+	}
+	return a
 }

@@ -33,15 +33,7 @@ var stageTimeCases = []struct {
 // benchFile parses a model of testdata/reference/bench.
 func benchFile(t *testing.T, file string) *model.Model {
 	t.Helper()
-	src, err := os.ReadFile(filepath.Join("..", "testdata", "reference", "bench", file))
-	if err != nil {
-		t.Fatal(err)
-	}
-	m, err := model.Parse(string(src))
-	if err != nil {
-		t.Fatal(err)
-	}
-	return m
+	return parseFile(t, filepath.Join("..", "testdata", "reference", "bench", file))
 }
 
 // TestStageTimes prints each stage's time on the benchmark models (set
