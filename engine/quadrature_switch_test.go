@@ -4,6 +4,7 @@ import (
 	"context"
 	"math"
 	"os"
+	"strings"
 	"testing"
 
 	"bellcheck/engine/fit"
@@ -175,7 +176,16 @@ func TestSpreadStartsLeaveAFalseMinimum(t *testing.T) {
 	if math.Abs(wantT0-86.83) > 0.01 || math.Abs(wantLam-0.1306) > 1e-3 {
 		t.Fatalf("the independent minimum (%v, %v) is not the one this test is about", wantT0, wantLam)
 	}
-	a := referenceStage(t, coolingCost)
+	for _, src := range []string{coolingCost, strings.Replace(coolingCost, "param lam in [0, inf]", "param lam", 1)} {
+		coolingFromFalseMinimum(t, src, wantT0, wantLam, wantJ)
+	}
+}
+
+// coolingFromFalseMinimum is TestSpreadStartsLeaveAFalseMinimum on one
+// form of the cooling cost (the rate bounded or not).
+func coolingFromFalseMinimum(t *testing.T, src string, wantT0, wantLam, wantJ float64) {
+	t.Helper()
+	a := referenceStage(t, src)
 	falseMin, err := fit.FindModes(a.ctx, a.pw, [][]float64{{-180, 1.19}}, a.modeLo, a.modeHi)
 	if err != nil || len(falseMin) != 1 || math.Abs(falseMin[0].X[1]-1.1912) > 1e-3 {
 		t.Fatalf("the false minimum: %v %v", falseMin, err)
@@ -197,7 +207,7 @@ func TestSpreadStartsLeaveAFalseMinimum(t *testing.T) {
 		t.Fatalf("modes %v: the true minimum (%v, %v) not found", modes, wantT0, wantLam)
 	}
 
-	res := analyseSource(t, coolingCost, Options{})
+	res := analyseSource(t, src, Options{})
 	lap := res.Fits[Laplace]
 	if lap == nil || math.Abs(lap.Mean[0]-wantT0) > 1e-4*0.44 || math.Abs(lap.Mean[1]-wantLam) > 1e-4*0.0016 {
 		t.Errorf("the Laplace fit at %v, want the true minimum (%v, %v)", lap, wantT0, wantLam)

@@ -369,13 +369,14 @@ func (s spreadAxis) at(v float64) float64 {
 	return s.fitting.FromOriginal(s.bounded.ToOriginal(s.centre + v*s.half))
 }
 
-// spreadMinHalf is the least half-width of spreadStarts's region on a
-// bounded parameter's unconstrained scale: a factor e^3 = 20 on either
-// side of the mode in the distance to the bound. A cost's false minimum
-// can have a narrow curvature (a cooling rate of 1.19 that makes a
+// spreadMinHalf is the least half-width of spreadStarts's region: on a
+// bounded parameter's unconstrained scale a factor e^3 = 20 on either side
+// of the mode in the distance to the bound, on an unbounded one 3 in the
+// parameter's units (as the nested rule's wide starts). A cost's false
+// minimum can have a narrow curvature (a cooling rate of 1.19 that makes a
 // stepped temperature overshoot the room's, sd 0.0025 by the curvature)
 // while the true one lies at a rate of 0.13: ten sds around the false one
-// never leave its basin.
+// never leave its basin, bounded rate or not.
 const spreadMinHalf = 3
 
 // spreadMaps returns, per parameter, where spreadStarts's starts go around
@@ -384,11 +385,11 @@ const spreadMinHalf = 3
 // unconstrained scale (log or logit of the support: the scale on which
 // the nested rule integrates), over 10 of its sds there but at least
 // spreadMinHalf, so that the starts reach rates and scales several times
-// the mode's; an unbounded one as before.
+// the mode's; an unbounded one over 10 sds but at least spreadMinHalf.
 func (a *analysis) spreadMaps(x, half []float64) []spreadAxis {
 	out := make([]spreadAxis, a.d)
 	for k, prm := range a.m.Params {
-		out[k] = spreadAxis{fitting: a.maps[k], centre: x[k], half: half[k]}
+		out[k] = spreadAxis{fitting: a.maps[k], centre: x[k], half: max(half[k], spreadMinHalf)}
 		um := transform.Map{Lo: prm.Lo, Hi: prm.Hi}
 		switch {
 		case !math.IsInf(prm.Lo, 0) && !math.IsInf(prm.Hi, 0):
