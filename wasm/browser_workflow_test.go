@@ -22,6 +22,7 @@ import (
 	"github.com/chromedp/chromedp"
 
 	"bellcheck/app/share"
+	"bellcheck/app/ui"
 )
 
 // TestBrowserWorkflow runs the workflow tests in one browser.
@@ -38,6 +39,7 @@ func TestBrowserWorkflow(t *testing.T) {
 	t.Run("Slider", func(t *testing.T) { testSlider(t, b, srv) })
 	t.Run("PlotOnlyEmbed", func(t *testing.T) { testPlotOnlyEmbed(t, b, srv) })
 	t.Run("GridFields", func(t *testing.T) { testGridFields(t, b, srv) })
+	t.Run("FitUnconstrained", func(t *testing.T) { testFitUnconstrained(t, b, srv) })
 }
 
 // normalModel uses a data column y: a normal with unknown mean and sd.
@@ -501,5 +503,43 @@ func testBigDataKept(t *testing.T, b *browser, srv *siteServer) {
 	}
 	if n := eval[int](t, tb, 5*time.Second, `document.querySelectorAll("table.results tr.sec").length`); n < 2 {
 		t.Errorf("after a reload %d parameter sections, want m and s (y from the kept table)", n)
+	}
+}
+
+// testFitUnconstrained: a normal's sd fitted as it is has no reverse-KL
+// fit; the button beside the infinite_kl diagnostic fits it on the log
+// scale, the parameter's scale field says so, and the new results table
+// has the reverse-KL column filled.
+func testFitUnconstrained(t *testing.T, b *browser, srv *siteServer) {
+	tb := b.newTab(t, true)
+	defer tb.close()
+	tb.open(t, srv.URL+"/")
+	done := tb.state(t).Done
+	tb.editModel(t, "y = [10.21, 10.35, 10.18, 10.42, 10.29]\nparam m\nparam s in [0, inf]\n-log(s) + sum(ld_normal(y, m, s))\n")
+	st := tb.waitDone(t, done, 90*time.Second)
+	waitFor(t, tb, 10*time.Second, "the offer", `!!document.getElementById(`+jsString(ui.FitUnconstrainedID)+`)`)
+	eval[bool](t, tb, 5*time.Second, `(document.getElementById(`+jsString(ui.FitUnconstrainedID)+`).click(), true)`)
+	tb.waitDone(t, st.Done, 90*time.Second)
+	waitFor(t, tb, 10*time.Second, "the offer gone and s on the log scale",
+		`!document.getElementById(`+jsString(ui.FitUnconstrainedID)+`) && [...document.querySelectorAll("select")].some((e) => e.value === "log")`)
+	tab := tb.table(t)
+	col := -1
+	for i, m := range tab.Methods {
+		if m == "reverse KL" {
+			col = i
+		}
+	}
+	filled := 0
+	for _, sec := range tab.Sections {
+		for _, row := range sec.Rows {
+			if row.Label == "mean" && col >= 0 && col < len(row.Cells) {
+				if v := row.Cells[col].V; v != "" && v != "–" && v != "—" {
+					filled++
+				}
+			}
+		}
+	}
+	if filled != 2 {
+		t.Errorf("%d reverse-KL means after fitting s on the log scale, want 2 (methods %v): %+v", filled, tab.Methods, tab.Sections)
 	}
 }

@@ -23,4 +23,7 @@ type Host interface {
 	RestoreHistory(ctx app.Context, key string)
 	// ForgetHistory deletes a model kept in the history, by its key.
 	ForgetHistory(ctx app.Context, key string)
+	// FitUnconstrained fits each named parameter on the log or logit scale
+	// of its support (unconstrainedScales) and analyses once.
+	FitUnconstrained(ctx app.Context, names []string)
 }

@@ -2,11 +2,14 @@ package ui
 
 import (
 	"errors"
+	"math"
 	"slices"
 	"strings"
 	"sync"
 	"testing"
 	"time"
+
+	"github.com/maxence-charriere/go-app/v10/pkg/app"
 
 	"bellcheck/app/examples"
 	"bellcheck/app/wire"
@@ -313,5 +316,41 @@ func TestWorkerShowsTheResultBeforeItsPairs(t *testing.T) {
 	got.Timing, local.Timing = engine.Timing{}, engine.Timing{}
 	if d := wire.Diff(&got, local); d != "" {
 		t.Errorf("the worker's whole result differs from the page's at Result%s", d)
+	}
+}
+
+// TestFitUnconstrainedOffer: a model whose scale parameter is fitted as it
+// is gets the infinite_kl diagnostic with a button that fits it on the log
+// scale; pressing it sets the option and the next result has the
+// reverse-KL fits (KL(q||p) finite: the support is the whole line there).
+func TestFitUnconstrainedOffer(t *testing.T) {
+	h, e := mount(t, nil)
+	p := h.page
+	p.browser = newMemBrowser("")
+	waitIdle(t, p, e)
+	src := "y = [1.2, 0.8, 1.1, 1.6]\nparam m\nparam s in [0, inf]\n-log(s) + sum(ld_normal(y, m, s))\n"
+	p.Input(h.ctx, src)
+	e.ConsumeAll()
+	waitIdle(t, p, e)
+	res := p.s.Result
+	if res == nil || res.Fits[engine.ReverseKL] != nil {
+		t.Fatalf("as it is, want no reverse-KL fit: %v", res)
+	}
+	out := app.HTMLString(&Outputs{Host: p, Out: p.resultView()})
+	if !strings.Contains(out, FitUnconstrainedID) || !strings.Contains(out, "Fit s on the log scale") {
+		t.Fatalf("no offer beside infinite_kl: %s", out)
+	}
+	p.FitUnconstrained(h.ctx, []string{"s"})
+	e.ConsumeAll()
+	waitIdle(t, p, e)
+	if sc := p.s.Param("s").Scale; sc != engine.Log {
+		t.Errorf("s is fitted on the %q scale, want log", sc)
+	}
+	res = p.s.Result
+	if res == nil || res.Fits[engine.ReverseKL] == nil || math.IsInf(res.Fits[engine.ReverseKL].KLqp, 1) {
+		t.Errorf("after the offer: reverse-KL fit %v", res.Fits[engine.ReverseKL])
+	}
+	if out := app.HTMLString(&Outputs{Host: p, Out: p.resultView()}); strings.Contains(out, FitUnconstrainedID) {
+		t.Errorf("the offer stays after it was taken")
 	}
 }

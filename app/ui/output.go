@@ -1,9 +1,14 @@
 package ui
 
 import (
+	"math"
 	"strconv"
 
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
+
+	"bellcheck/engine"
+	"bellcheck/engine/model"
+	"bellcheck/engine/transform"
 )
 
 // ResultView is what the results area shows.
@@ -48,7 +53,7 @@ func (o *Outputs) Render() app.UI {
 		figs, secs = r.Shown.Figures, r.Shown.Sections
 	}
 	cards := []app.UI{
-		card("Diagnostics", "bc-h-diag", diagnostics(r)),
+		card("Diagnostics", "bc-h-diag", diagnostics(r, o.Host)),
 		card("Plots", "bc-h-plots", &PlotPanel{Host: o.Host, Set: figs, View: r.View, Stale: r.Stale}),
 		card("Results", "bc-h-results", &ResultsTable{Sections: secs, Candidates: candidateNames(shownResult(r.Shown)), Stale: r.Stale}),
 	}
@@ -68,7 +73,7 @@ func (o *Outputs) Render() app.UI {
 
 // diagnostics is the diagnostics card's body: the analysis's error, if
 // any, above the result's diagnostics.
-func diagnostics(r ResultView) app.UI {
+func diagnostics(r ResultView, host Host) app.UI {
 	var extra []app.UI
 	if r.RunErr != nil {
 		extra = append(extra, app.P().Class("diag diag-error").Body(
@@ -83,7 +88,51 @@ func diagnostics(r ResultView) app.UI {
 		}
 		return app.P().Class("muted").Text("Diagnostics appear here once the analysis has run.")
 	}
-	return app.Div().Body(append(extra, &Diagnostics{Items: r.Shown.Result.Diagnostics, Stale: r.Stale})...)
+	return app.Div().Body(append(extra, &Diagnostics{Items: r.Shown.Result.Diagnostics, Stale: r.Stale,
+		Host: host, Offer: unconstrainedOffer(r.Shown.Result, r.Shown.Model)})...)
+}
+
+// unconstrainedOffer lists the parameters with a bound that res fitted as
+// they are, where the reverse-KL fits are absent or KL(q||p) infinite for
+// that reason (the infinite_kl diagnostic): on the log or logit scale every
+// fit exists. Nil where there is nothing to offer.
+func unconstrainedOffer(res *engine.Result, m *model.Model) []scaleOffer {
+	if res == nil || m == nil || len(m.Params) != len(res.Params) {
+		return nil
+	}
+	infinite := false
+	for _, d := range res.Diagnostics {
+		infinite = infinite || d.Code == engine.CodeInfiniteKL
+	}
+	if !infinite {
+		return nil
+	}
+	var out []scaleOffer
+	for i, prm := range m.Params {
+		if sc := unconstrainedScale(prm); sc != "" && i < len(res.Scales) && res.Scales[i].IsIdentity() {
+			out = append(out, scaleOffer{Name: prm.Name, Scale: sc})
+		}
+	}
+	return out
+}
+
+// scaleOffer is a parameter and the scale the offer fits it on.
+type scaleOffer struct {
+	Name  string
+	Scale engine.Scale
+}
+
+// unconstrainedScale is the scale on which a parameter's support is the
+// whole line: log for [lo, inf], logit for [lo, hi]; "" for (-inf, hi] or
+// none.
+func unconstrainedScale(prm model.Param) engine.Scale {
+	switch {
+	case !math.IsInf(prm.Lo, 0) && !math.IsInf(prm.Hi, 0):
+		return transform.Logit
+	case !math.IsInf(prm.Lo, 0):
+		return transform.Log
+	}
+	return ""
 }
 
 func card(title, id string, body ...app.UI) app.UI {

@@ -1,6 +1,7 @@
 package ui
 
 import (
+	"slices"
 	"strconv"
 	"strings"
 
@@ -142,6 +143,11 @@ type Diagnostics struct {
 	app.Compo
 	Items []engine.Diagnostic
 	Stale bool
+	// Host and Offer: the parameters with a bound fitted as they are,
+	// which a button beside the infinite_kl diagnostic fits on their log
+	// or logit scale (Host.FitUnconstrained); nil for none.
+	Host  Host
+	Offer []scaleOffer
 }
 
 // Render draws the list.
@@ -169,17 +175,60 @@ func (d *Diagnostics) Render() app.UI {
 		case engine.SeverityError:
 			icon, word = "×", "error"
 		}
-		lis[i] = app.Li().Class("diag diag-"+it.Severity).Title(it.Code).Body(
+		body := []app.UI{
 			app.Span().Class("diag-icon").Aria("hidden", "true").Text(icon),
-			app.Span().Class("diag-sev").Text(word+": "),
+			app.Span().Class("diag-sev").Text(word + ": "),
 			app.Span().Text(it.Message),
-		)
+		}
+		if it.Code == engine.CodeInfiniteKL && len(d.Offer) > 0 && d.Host != nil && !d.Stale {
+			names := make([]string, len(d.Offer))
+			for k, o := range d.Offer {
+				names[k] = o.Name
+			}
+			body = append(body, app.Button().Type("button").ID(FitUnconstrainedID).Class("diag-action").
+				Text(offerLabel(d.Offer)).
+				OnClick(func(ctx app.Context, e app.Event) { d.Host.FitUnconstrained(ctx, names) }))
+		}
+		lis[i] = app.Li().Class("diag diag-" + it.Severity).Title(it.Code).Body(body...)
 	}
 	cls := "diags"
 	if d.Stale {
 		cls += " stale"
 	}
 	return app.Ul().Class(cls).Body(lis...)
+}
+
+// FitUnconstrainedID is the id of the button beside the infinite_kl
+// diagnostic that fits the bounded parameters on their log or logit scale.
+const FitUnconstrainedID = "bc-fit-unconstrained"
+
+// offerLabel is the offer's button text: "Fit s on the log scale", "Fit
+// s and p on the log and logit scales".
+func offerLabel(offer []scaleOffer) string {
+	names := make([]string, len(offer))
+	var scales []string
+	for i, o := range offer {
+		names[i] = o.Name
+		if w := string(o.Scale); !slices.Contains(scales, w) {
+			scales = append(scales, w)
+		}
+	}
+	if len(offer) == 1 {
+		return "Fit " + names[0] + " on the " + scales[0] + " scale"
+	}
+	what := "the " + scales[0] + " scale"
+	if len(scales) > 1 {
+		what = "the " + strings.Join(scales, " and ") + " scales"
+	}
+	return "Fit " + joinNames(names) + " on " + what
+}
+
+// joinNames joins names as "a", "a and b", "a, b and c".
+func joinNames(names []string) string {
+	if len(names) < 2 {
+		return strings.Join(names, "")
+	}
+	return strings.Join(names[:len(names)-1], ", ") + " and " + names[len(names)-1]
 }
 
 // Modes lists the local maxima the mode search found.

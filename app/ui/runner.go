@@ -3,6 +3,7 @@ package ui
 import (
 	"context"
 	"fmt"
+	"slices"
 	"strings"
 	"time"
 
@@ -373,4 +374,28 @@ func (y *yielder) Rest() { y.last = time.Now() }
 // running now.
 func (y *yielder) Longest() time.Duration {
 	return max(y.longest, time.Since(y.last))
+}
+
+// FitUnconstrained implements Host: each named parameter is fitted on the
+// log or logit scale of its support, its other options kept, and the model
+// is analysed once.
+func (p *Page) FitUnconstrained(ctx app.Context, names []string) {
+	if p.s.Model == nil {
+		return
+	}
+	for _, prm := range p.s.Model.Params {
+		if !slices.Contains(names, prm.Name) {
+			continue
+		}
+		if sc := unconstrainedScale(prm); sc != "" {
+			o := p.s.Param(prm.Name)
+			o.Scale = sc
+			p.s.SetParam(prm.Name, o)
+		}
+	}
+	p.persist()
+	p.syncParamFields(ctx)
+	if !p.pending {
+		p.start(ctx)
+	}
 }
