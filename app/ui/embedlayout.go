@@ -48,7 +48,7 @@ func (p *Page) renderPlotOnly() app.UI {
 		app.Section().ID(OutputID).Class("embed-output").Aria("label", "Plots").
 			Aria("busy", strconv.FormatBool(out.Busy)).DataSet("state", out.State).
 			DataSet("gen", out.Gen).DataSet("result-gen", out.ResultGen).Body(
-			&PlotPanel{Host: p, Set: figs, View: out.View, Stale: out.Stale},
+			&PlotPanel{Host: p, Set: figs, View: out.View, Stale: out.Stale, Computing: out.Busy && !out.Stale},
 		),
 		app.P().Class("embed-caution muted").Body(
 			app.A().ID(OpenFullID).Class("open-full").Href(p.fullLink()).Target("_blank").Rel("noopener").

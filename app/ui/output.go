@@ -54,7 +54,7 @@ func (o *Outputs) Render() app.UI {
 	}
 	cards := []app.UI{
 		card("Diagnostics", "bc-h-diag", diagnostics(r, o.Host)),
-		card("Plots", "bc-h-plots", &PlotPanel{Host: o.Host, Set: figs, View: r.View, Stale: r.Stale}),
+		card("Plots", "bc-h-plots", &PlotPanel{Host: o.Host, Set: figs, View: r.View, Stale: r.Stale, Computing: r.Busy && !r.Stale}),
 		card("Results", "bc-h-results", &ResultsTable{Sections: secs, Candidates: candidateNames(shownResult(r.Shown)), Stale: r.Stale}),
 	}
 	if res := shownResult(r.Shown); res != nil && res.Curvature != nil {

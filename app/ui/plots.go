@@ -14,6 +14,9 @@ type PlotPanel struct {
 	Set   *FigureSet
 	View  View
 	Stale bool
+	// Computing reports that the analysis of the result shown still runs
+	// (its pair plots follow an early result).
+	Computing bool
 }
 
 // Render draws the legend, then the plot or the pair grid.
@@ -52,9 +55,9 @@ func (pp *PlotPanel) grid(fs *FigureSet) app.UI {
 				cells = append(cells, pp.corrCell(fs, col, row))
 			case p == nil && row > col && fs.Result != nil && fs.Result.Plots != nil && fs.Result.Plots.PairsToCome:
 				// An early result (engine.AnalyseEarly): the pairs follow.
-				text := "Computing the pair marginal…"
-				if pp.Stale {
-					text = "The pair marginal was not computed: the analysis ended before it."
+				text := "The pair marginal was not computed: the analysis ended before it."
+				if pp.Computing {
+					text = "Computing the pair marginal…"
 				}
 				cells = append(cells, app.Div().Class("gcell muted pair-to-come").Text(text))
 			case p == nil:

@@ -1,9 +1,13 @@
 package ui
 
 import (
+	"context"
 	"errors"
+	"strings"
 	"testing"
 	"time"
+
+	"github.com/maxence-charriere/go-app/v10/pkg/app"
 
 	"bellcheck/engine"
 )
@@ -44,5 +48,33 @@ func TestSessionEarlyResult(t *testing.T) {
 	s.Early(third, first)
 	if !s.Finish(third, nil, errors.New("the pairs failed"), 0, 0) || s.RunErr == nil || s.Result != first {
 		t.Fatal("a failure after the early result")
+	}
+}
+
+// The pair cells of an early result say the pairs are being computed while
+// its analysis runs, and that they were not once it failed after it.
+func TestPairCellsAfterAFailure(t *testing.T) {
+	h, _ := mount(t, nil)
+	p := h.page
+	p.text = "param a\nparam b\nparam c\n-(a^2 + b^2 + c^2)/2\n"
+	if !p.s.Edit(p.text) {
+		t.Fatal(p.s.Errors)
+	}
+	res, err := engine.Analyse(context.Background(), p.s.Model, engine.Options{Plots: true}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	early := *res
+	early.Plots = &engine.Plots{Marginals: res.Plots.Marginals, PairsToCome: true}
+	run, _ := p.s.Begin(time.Now())
+	p.s.Early(run, &early)
+	p.figs = numbered(BuildFigures(&early, p.view))
+	if out := app.HTMLString(&Outputs{Host: p, Out: p.resultView()}); !strings.Contains(out, "Computing the pair marginal") {
+		t.Errorf("while the analysis runs: %s", out)
+	}
+	p.s.Finish(run, nil, errors.New("the pairs failed"), 0, 0)
+	out := app.HTMLString(&Outputs{Host: p, Out: p.resultView()})
+	if strings.Contains(out, "Computing the pair marginal") || !strings.Contains(out, "was not computed") {
+		t.Errorf("after the failure: %s", out)
 	}
 }

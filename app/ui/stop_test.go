@@ -171,7 +171,7 @@ func TestStopAfterTheEarlyResult(t *testing.T) {
 	if !strings.Contains(p.notice.Text, "but for the pair plots") {
 		t.Errorf("the notice says %q", p.notice.Text)
 	}
-	out := app.HTMLString(&PlotPanel{Host: p, Set: p.figs, View: p.view, Stale: p.s.Stale()})
+	out := app.HTMLString(&Outputs{Host: p, Out: p.resultView()})
 	if !strings.Contains(out, "was not computed") {
 		t.Errorf("the pair cells after Stop: %s", out)
 	}
