@@ -79,8 +79,9 @@ import (
 //	                                       higher than the mode search's best: the search's best point is not
 //	                                       the global optimum; the exact results cover both
 //	local_optima           info            (a cost model) the grid's lesser peaks, polished, reach local minima
-//	                                       that hold no posterior mass: their number, the deepest of them and how
-//	                                       much higher its J is
+//	                                       that hold no posterior mass, or the mode search reached such a minimum
+//	                                       beside the deepest: their number, the deepest of them and how much
+//	                                       higher its J is (such minima are not counted in several_modes)
 //	unused_param           error           a declared parameter that no expression of the model uses: the
 //	                                       density is flat along it (improper); names an implicit parameter
 //	                                       that looks like a misspelling of it

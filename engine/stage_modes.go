@@ -8,6 +8,7 @@ import (
 
 	"bellcheck/engine/fit"
 	"bellcheck/engine/grid"
+	"bellcheck/engine/model"
 	"bellcheck/engine/transform"
 )
 
@@ -128,7 +129,19 @@ func (a *analysis) findModes() error {
 		a.diag.add(CodeNoMode, SeverityError, "The mode search found no mode from the grid's highest points, so there is no Laplace fit.")
 		return nil
 	}
-	if err := a.lesserOptima(rest); err != nil {
+	// A cost's minima that hold no posterior mass (a false minimum the
+	// grid's highest point led to, beside the true one the spread starts
+	// found) are local optima, not modes of the posterior: the
+	// local_optima note tells of them.
+	var massless []fit.Mode
+	if a.m.Form == model.Cost {
+		for i, m := range a.modes.modes {
+			if i > 0 && m.Mass < lesserMass && m.PositiveDefinite {
+				massless = append(massless, a.modes.fitModes[i])
+			}
+		}
+	}
+	if err := a.lesserOptima(rest, massless); err != nil {
 		return err
 	}
 	// The modes the message counts: strict maxima and maxima on a bound.
@@ -138,9 +151,12 @@ func (a *analysis) findModes() error {
 	// with tau near 6e-10), and a mass split between them says nothing.
 	var big []string
 	second, counted := 0.0, 0
-	for _, m := range a.modes.modes {
+	for i, m := range a.modes.modes {
 		if !m.PositiveDefinite && !m.OnBound {
 			continue
+		}
+		if a.m.Form == model.Cost && i > 0 && m.Mass < lesserMass && m.PositiveDefinite {
+			continue // in the local_optima note
 		}
 		if counted > 0 {
 			second = max(second, m.Mass)

@@ -26,10 +26,12 @@ const lesserMass = 1e-6
 // A 48). For a cost model, the highest of the other peaks (up to
 // maxLesserStarts) of the peaks whose basins hold less than lesserMass are
 // polished too; the distinct local minima they reach
-// beside the modes are reported in the local_optima note. A density given
+// beside the modes, and the modes that hold no mass (massless: minima the
+// mode search reached from the grid's highest points), are reported in the
+// local_optima note. A density given
 // as log p gets no such note: there the modes are what matters.
-func (a *analysis) lesserOptima(rest []grid.Peak) error {
-	if a.m.Form != model.Cost || len(a.modes.fitModes) == 0 || len(rest) == 0 {
+func (a *analysis) lesserOptima(rest []grid.Peak, massless []fit.Mode) error {
+	if a.m.Form != model.Cost || len(a.modes.fitModes) == 0 || (len(rest) == 0 && len(massless) == 0) {
 		return nil
 	}
 	// Peaks whose basins hold mass lie on the posterior's own ridges and
@@ -45,7 +47,7 @@ func (a *analysis) lesserOptima(rest []grid.Peak) error {
 		return 0
 	})
 	sd := a.ref.fitting.SD
-	var found []fit.Mode
+	found := append([]fit.Mode(nil), massless...)
 	for i, pk := range rest {
 		if i == maxLesserStarts {
 			break
@@ -89,7 +91,7 @@ func (a *analysis) lesserOptima(rest []grid.Peak) error {
 		others = fmt.Sprintf("%d other local minima", len(found))
 	}
 	a.diag.add(CodeLocalOptima, SeverityInfo,
-		"Besides its deepest minimum the cost has at least %s, found from the grid's lesser peaks; the deepest of them lies at %s, higher by %.3g in J. They hold no posterior mass, but a minimiser started near one stops there.",
+		"Besides its deepest minimum the cost has at least %s, found by the mode search from the grid's peaks; the deepest of them lies at %s, higher by %.3g in J. They hold no posterior mass, but a minimiser started near one stops there.",
 		others, a.pointString(next.X), a.costAt(next)-a.costAt(deepest))
 	return nil
 }
