@@ -380,8 +380,10 @@ func (p *Page) remoteAnalyse(actx app.Context, rr *remoteRun, local AnalyseFunc,
 					return local(ctx, m, opts, progress)
 				case replyEarly:
 					if rr.early != nil && r.Result != nil {
+						// Drawn with the request's view; showEarly draws
+						// again if the page's has changed since.
 						var figs *FigureSet
-						if rr.req.View != nil && rr.view == p.view {
+						if rr.req.View != nil {
 							figs = linkFigures(r.Figures, r.Result)
 						}
 						rr.early(r.Result, figs)
