@@ -23,6 +23,10 @@ var (
 	ErrTooManyParams = errors.New("unsupported number of parameters")
 	// ErrTooLarge: the unrolled model has more operations than the limit.
 	ErrTooLarge = errors.New("model too large once unrolled")
+	// ErrTooManyFactors: the density splits into more scalar terms, or
+	// terms of more operations in all, than SplitFactors builds (a
+	// trajectory's steps adding into its terms).
+	ErrTooManyFactors = errors.New("too many factors")
 )
 
 // Error is a compile error at a position of the model text.

@@ -73,6 +73,18 @@ type jetVal struct {
 	g, h []float64
 }
 
+// maxScalarFactors and maxFactorCode bound the scalar terms SplitFactors
+// builds an evaluator for, in number and in operations together: the
+// models of the reference cases, the gallery and the test corpus split
+// into at most 29 (a beta-binomial with two groups), while an epidemic
+// model integrated in an ode block split into 8,826, each holding the
+// 10,000 operations of the trajectory (its rate is a sum of Runge-Kutta
+// steps), and building them took more than 24 GB.
+const (
+	maxScalarFactors = 256
+	maxFactorCode    = 2000000
+)
+
 // SplitFactors splits a checked model's log-density into factors. The
 // factors include one per bounded parameter (0 inside its support, -Inf
 // outside), so their sum is the log-density that Compile's evaluator
@@ -102,6 +114,16 @@ func SplitFactors(m *model.Model) (*Factors, error) {
 	if b.err != nil {
 		return nil, b.err
 	}
+	scalars := 0
+	for _, t := range raw {
+		if t.n == 0 {
+			scalars++
+		}
+	}
+	if scalars > maxScalarFactors {
+		return nil, fmt.Errorf("%w: the density splits into %d additive scalar terms, more than the %d EP takes (the steps of a trajectory add into its terms)", ErrTooManyFactors, scalars, maxScalarFactors)
+	}
+	code := 0
 	for _, t := range raw {
 		if t.n == 0 {
 			root := t.root
@@ -111,7 +133,11 @@ func SplitFactors(m *model.Model) (*Factors, error) {
 			if b.err != nil {
 				return nil, b.err
 			}
-			t.ev = newEvaluator(lower(b, root, dim), m)
+			lp := lower(b, root, dim)
+			if code += len(lp.code); code > maxFactorCode {
+				return nil, fmt.Errorf("%w: the density's %d additive scalar terms hold more than %d operations together (each recomputes the trajectory it reads)", ErrTooManyFactors, scalars, maxFactorCode)
+			}
+			t.ev = newEvaluator(lp, m)
 		}
 	}
 	fs.nodes = b.nodes
