@@ -133,12 +133,14 @@ func (a *analysis) findModes() error {
 	// grid's highest point led to, beside the true one the spread starts
 	// found) are local optima, not modes of the posterior: the
 	// local_optima note tells of them.
+	isMassless := func(i int) bool {
+		m := a.modes.modes[i]
+		return a.m.Form == model.Cost && i > 0 && m.Mass < lesserMass && m.PositiveDefinite
+	}
 	var massless []fit.Mode
-	if a.m.Form == model.Cost {
-		for i, m := range a.modes.modes {
-			if i > 0 && m.Mass < lesserMass && m.PositiveDefinite {
-				massless = append(massless, a.modes.fitModes[i])
-			}
+	for i := range a.modes.modes {
+		if isMassless(i) {
+			massless = append(massless, a.modes.fitModes[i])
 		}
 	}
 	if err := a.lesserOptima(rest, massless); err != nil {
@@ -155,7 +157,7 @@ func (a *analysis) findModes() error {
 		if !m.PositiveDefinite && !m.OnBound {
 			continue
 		}
-		if a.m.Form == model.Cost && i > 0 && m.Mass < lesserMass && m.PositiveDefinite {
+		if isMassless(i) {
 			continue // in the local_optima note
 		}
 		if counted > 0 {

@@ -84,11 +84,8 @@ func clockVary(t *testing.T) string {
 // page's). Every analysis in the window must have run in the worker.
 func testWorkerNoLongTasks(t *testing.T, b *browser, srv *siteServer) {
 	ex, _ := examples.ByID("clock")
-	tb := b.newTab(t, true)
+	tb, st := openExample(t, b, srv, ex.ID)
 	defer tb.close()
-	st := tb.open(t, srv.URL+"/")
-	eval[bool](t, tb, 5*time.Second, fmt.Sprintf(`(document.querySelectorAll("ul.gallery button.ex")[%d].click(), true)`, exampleIndex(t, ex.ID)))
-	st = tb.waitDone(t, st.Done, 180*time.Second)
 	src := clockVary(t)
 	st = waitForWorker(t, tb, src, st)
 	waitFor(t, tb, 20*time.Second, "the slider", `!!document.getElementById("bc-live-0")`)
@@ -324,11 +321,8 @@ func loadAverage() string {
 // whole result replaces it with the pairs drawn.
 func testWorkerEarlyResult(t *testing.T, b *browser, srv *siteServer) {
 	ex, _ := examples.ByID("clock")
-	tb := b.newTab(t, true)
+	tb, st := openExample(t, b, srv, ex.ID)
 	defer tb.close()
-	st := tb.open(t, srv.URL+"/")
-	eval[bool](t, tb, 5*time.Second, fmt.Sprintf(`(document.querySelectorAll("ul.gallery button.ex")[%d].click(), true)`, exampleIndex(t, ex.ID)))
-	st = tb.waitDone(t, st.Done, 180*time.Second)
 	st = waitForWorker(t, tb, ex.Source, st)
 
 	t0 := eval[float64](t, tb, 5*time.Second, `performance.now()`)
@@ -370,4 +364,14 @@ func testWorkerEarlyResult(t *testing.T, b *browser, srv *siteServer) {
 	if left != 0 || figs < 10 {
 		t.Errorf("after the whole result: %d pair cells still waiting, %d figures (want 0 and 10)", left, figs)
 	}
+}
+
+// openExample opens the page in a new tab and loads the gallery example
+// id, returning the tab (the caller closes it) once its result is drawn.
+func openExample(t *testing.T, b *browser, srv *siteServer, id string) (*tab, pageState) {
+	t.Helper()
+	tb := b.newTab(t, true)
+	st := tb.open(t, srv.URL+"/")
+	eval[bool](t, tb, 5*time.Second, fmt.Sprintf(`(document.querySelectorAll("ul.gallery button.ex")[%d].click(), true)`, exampleIndex(t, id)))
+	return tb, tb.waitDone(t, st.Done, 180*time.Second)
 }
