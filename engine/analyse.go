@@ -22,8 +22,9 @@ var (
 // cancelled and returns ctx's error. progress may be nil.
 //
 // The stages, each in a file of its own: compile the model and wrap it on
-// the fitting scale of each parameter (Options.Params[i].Scale: log or
-// logit, with the log-Jacobian; stage_setup.go); find the box
+// the fitting scale of each parameter (ScaleOf: the one
+// Options.Params[i].Scale names, else log or logit for a bounded parameter,
+// with the log-Jacobian; stage_setup.go); find the box
 // (grid.FindBox) unless the user set it, evaluate the grid (grid.Evaluate)
 // and check what it resolves (stage_reference.go); search the modes from
 // the grid's local maxima that hold at least 1e-3 of the mass

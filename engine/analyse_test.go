@@ -390,8 +390,9 @@ func TestDiagnosticCases(t *testing.T) {
 		want      []string
 		absent    func(*Result) bool
 	}{
-		// The exponential density has its mode on the bound 0: no Laplace fit.
-		{"mode on bound", "param x in [0, inf]\n-x", Options{}, []string{CodeModeOnBound, CodeInfiniteKL},
+		// The exponential density has its mode on the bound 0: fitted as it
+		// is (not on its default log scale), no Laplace fit.
+		{"mode on bound", "param x in [0, inf]\n-x", Options{Params: []ParamOptions{{Scale: Identity}}}, []string{CodeModeOnBound, CodeInfiniteKL},
 			func(r *Result) bool { return r.Fits[Laplace] == nil }},
 		// sqrt of a negative number is NaN: half of the line is undefined.
 		{"non-finite", "param x\n-(sqrt(x) - 1)^2*4 - x^2/50", Options{}, []string{CodeNonFinite}, nil},

@@ -104,9 +104,9 @@ func checkCandidatesAndVary(m *model.Model, opts Options) []OptionProblem {
 			bad("candidates", "two candidates are named "+c.Name)
 		}
 		seen[c.Name] = true
-		for i, po := range opts.Params {
-			if i < len(names) && !po.Scale.IsIdentity() && !c.FittingScale {
-				bad("candidates", fmt.Sprintf("candidate %s: %s is fitted on the %s scale, but the candidate is a normal on the original scale", c.Name, names[i], po.Scale))
+		for i := range names {
+			if sc := ScaleOf(m, opts, i); !sc.IsIdentity() && !c.FittingScale {
+				bad("candidates", fmt.Sprintf("candidate %s: %s is fitted on the %s scale, but the candidate is a normal on the original scale", c.Name, names[i], sc))
 				break
 			}
 		}

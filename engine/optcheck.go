@@ -55,12 +55,9 @@ func CheckOptions(m *model.Model, opts Options) []OptionProblem {
 		if most := MaxAxisPoints(d); po.Points < 0 || po.Points > most {
 			bad("points", "%d grid points; a model of %d parameters may have 1 to %d per parameter (the grid must fit in memory)", po.Points, d, most)
 		}
-		mp := transform.Map{Scale: transform.Identity, Lo: prm.Lo, Hi: prm.Hi}
+		mp := transform.Map{Scale: ScaleOf(m, opts, i), Lo: prm.Lo, Hi: prm.Hi}
 		switch po.Scale {
 		case "", transform.Identity, transform.Log, transform.Logit:
-			if !po.Scale.IsIdentity() {
-				mp.Scale = po.Scale
-			}
 		default:
 			bad("scale", "unknown scale %q (identity, log or logit)", po.Scale)
 			continue

@@ -58,3 +58,44 @@ func TestCheckOptionsAgreesWithAnalyse(t *testing.T) {
 		}
 	}
 }
+
+// TestScaleOf: a bounded parameter with no scale named is fitted on its
+// unconstrained scale, unless a candidate is given on the original scale;
+// a named scale stands; an unbounded parameter is fitted as it is.
+func TestScaleOf(t *testing.T) {
+	m, err := model.Parse("param a\nparam s in [0, inf]\nparam p in [0, 1]\nparam u in [-inf, 3]\nld_normal(a, 0, 1) + ld_gamma(s, 2, 1) + ld_beta(p, 2, 2) - (u - 3)^2\n")
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []Scale{Identity, Log, Logit, Identity}
+	for i := range m.Params {
+		if got := ScaleOf(m, Options{}, i); got != want[i] {
+			t.Errorf("%s: default %s, want %s", m.Params[i].Name, got, want[i])
+		}
+	}
+	named := Options{Params: []ParamOptions{{}, {Scale: Identity}, {Scale: Logit}}}
+	if got := ScaleOf(m, named, 1); got != Identity {
+		t.Errorf("s named identity: %s", got)
+	}
+	cand := CandidateFromSD("mine", []float64{0, 2, 0.5, 2}, []float64{1, 1, 0.2, 1}, nil)
+	withCand := Options{Candidates: []Candidate{cand}}
+	for i := range m.Params {
+		if got := ScaleOf(m, withCand, i); got != Identity {
+			t.Errorf("%s with a candidate on the original scale: %s, want identity", m.Params[i].Name, got)
+		}
+	}
+	if problems := CheckOptions(m, withCand); len(problems) != 0 {
+		t.Errorf("the candidate on the original scale is refused: %v", problems)
+	}
+	cost, err := model.Parse("param s in [0, inf]\ncost (s - 2)^2\n")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got := ScaleOf(cost, Options{}, 0); got != Identity {
+		t.Errorf("a cost's bounded parameter: %s, want identity", got)
+	}
+	cand.FittingScale = true
+	if got := ScaleOf(m, Options{Candidates: []Candidate{cand}}, 1); got != Log {
+		t.Errorf("s with a candidate on the fitting scale: %s, want log", got)
+	}
+}

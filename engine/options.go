@@ -1,6 +1,9 @@
 package engine
 
-import "bellcheck/engine/transform"
+import (
+	"bellcheck/engine/model"
+	"bellcheck/engine/transform"
+)
 
 // Scale is the scale on which a parameter is fitted: transform.Scale, the
 // one type the options, the Result and the page share.
@@ -8,7 +11,8 @@ type Scale = transform.Scale
 
 // Scales a parameter may be fitted on.
 const (
-	// Identity fits the parameter as it is (the default).
+	// Identity fits the parameter as it is (the default of a parameter
+	// with no bound).
 	Identity = transform.Identity
 	// Log fits log(x - lo); the support must be [lo, inf].
 	Log = transform.Log
@@ -18,7 +22,7 @@ const (
 
 // ParamOptions are per-parameter settings. Zero values mean the defaults.
 type ParamOptions struct {
-	// Scale is the fitting scale; "" means Identity.
+	// Scale is the fitting scale; "" means the default (ScaleOf).
 	Scale Scale `json:"scale,omitempty"`
 	// Points is the number of grid points along this parameter; 0 means the
 	// default for the model's dimension. At most MaxAxisPoints(d) for d
@@ -56,3 +60,30 @@ type Progress struct {
 // every few milliseconds of work), so a caller in the browser may use it to
 // yield to the event loop (for instance by sleeping briefly).
 type ProgressFunc func(Progress)
+
+// ScaleOf returns the scale parameter i of m is fitted on under opts: the
+// one its options name, else its default. A bounded parameter's default is
+// its unconstrained scale (log for a support [lo, inf], logit for [lo,
+// hi]): there every fit exists and EP's tilted distributions are not cut
+// off at a bound. Two kinds of model fit every parameter with no scale
+// named as it is: a cost (J = -log p), whose minimiser is the analysis
+// its users compare with, and whose mode a log or logit scale would move
+// by the Jacobian; and a model with a candidate Gaussian given on the
+// original scale, which the fits are compared with on one scale. A
+// parameter with no bound is fitted as it is. A named scale is returned as
+// named, whether or not it suits the support (CheckOptions says).
+func ScaleOf(m *model.Model, opts Options, i int) Scale {
+	if i < len(opts.Params) && opts.Params[i].Scale != "" {
+		return opts.Params[i].Scale
+	}
+	if m.Form == model.Cost {
+		return Identity
+	}
+	for _, c := range opts.Candidates {
+		if !c.FittingScale {
+			return Identity
+		}
+	}
+	p := m.Params[i]
+	return transform.Unconstrained(p.Lo, p.Hi)
+}

@@ -71,7 +71,7 @@ func TestPairSlicesOfAMultimodalCost(t *testing.T) {
 			if q == 0 || q == n {
 				w = 0.5
 			}
-			if lp := a.p.LogDensity(x); !math.IsNaN(lp) {
+			if lp := a.ev.LogDensity(x); !math.IsNaN(lp) {
 				s += w * math.Exp(lp-res.Exact.LogZ)
 			}
 		}

@@ -20,7 +20,7 @@ func TestEPBoundedScaleHint(t *testing.T) {
 		}
 		return nil
 	}
-	res := analyseSource(t, src, Options{})
+	res := analyseSource(t, src, Options{Params: []ParamOptions{{}, {Scale: Identity}}})
 	d := warned(res)
 	if d == nil {
 		t.Fatalf("no EP quadrature warning on the bounded scale: %+v", res.Diagnostics)
@@ -28,7 +28,7 @@ func TestEPBoundedScaleHint(t *testing.T) {
 	if !strings.Contains(d.Message, "With s fitted on its bounded scale") || !strings.Contains(d.Message, "log or logit scale") {
 		t.Errorf("the warning does not point to the log scale: %q", d.Message)
 	}
-	res = analyseSource(t, src, Options{Params: []ParamOptions{{}, {Scale: Log}}})
+	res = analyseSource(t, src, Options{}) // the log scale, s's default
 	if d := warned(res); d != nil {
 		t.Errorf("EP warned on the log scale: %q", d.Message)
 	}

@@ -408,13 +408,8 @@ func (a *analysis) spreadMaps(x, half []float64) []spreadAxis {
 	out := make([]spreadAxis, a.d)
 	for k, prm := range a.m.Params {
 		out[k] = spreadAxis{fitting: a.maps[k], centre: x[k], half: max(half[k], spreadMinHalf)}
-		um := transform.Map{Lo: prm.Lo, Hi: prm.Hi}
-		switch {
-		case !math.IsInf(prm.Lo, 0) && !math.IsInf(prm.Hi, 0):
-			um.Scale = transform.Logit
-		case !math.IsInf(prm.Lo, 0):
-			um.Scale = transform.Log
-		default:
+		um := transform.Map{Scale: transform.Unconstrained(prm.Lo, prm.Hi), Lo: prm.Lo, Hi: prm.Hi}
+		if um.Scale.IsIdentity() {
 			continue
 		}
 		xc := a.maps[k].ToOriginal(x[k])

@@ -54,7 +54,7 @@ func (a *analysis) exactByQuadrature() error {
 // integrateNested runs the nested rule where it applies and returns its
 // result, or nil where it does not apply or does not succeed.
 func (a *analysis) integrateNested() (*quadrature.Result, []transform.Map, error) {
-	if len(a.modes.fitModes) == 0 {
+	if len(a.modes.fitModes) == 0 && a.neckCoordinate() < 0 {
 		return nil, nil, nil
 	}
 	d := a.d
@@ -63,16 +63,10 @@ func (a *analysis) integrateNested() (*quadrature.Result, []transform.Map, error
 		if a.pinned[k][0] || a.pinned[k][1] {
 			return nil, nil, nil
 		}
-		mp := transform.Map{Scale: transform.Identity, Lo: prm.Lo, Hi: prm.Hi}
-		switch {
-		case !math.IsInf(prm.Lo, 0) && !math.IsInf(prm.Hi, 0):
-			mp.Scale = transform.Logit
-		case !math.IsInf(prm.Lo, 0):
-			mp.Scale = transform.Log
-		case !math.IsInf(prm.Hi, 0):
+		if math.IsInf(prm.Lo, -1) && !math.IsInf(prm.Hi, 1) {
 			return nil, nil, nil // no unconstrained scale for (-inf, hi]
 		}
-		maps[k] = mp
+		maps[k] = transform.Map{Scale: transform.Unconstrained(prm.Lo, prm.Hi), Lo: prm.Lo, Hi: prm.Hi}
 	}
 	p, err := transform.Wrap(a.ev, maps)
 	if err != nil {
@@ -191,6 +185,36 @@ func (a *analysis) gridSeesHeavyTails() bool {
 // summarised by its mean and covariance, which covers them all.
 func (a *analysis) quadratureStart(p *transform.Density, maps []transform.Map) (start quadrature.Start, several, ok bool, err error) {
 	d := a.d
+	if len(a.modes.fitModes) == 0 {
+		// No mode on the fitting scale: where one parameter has a log or
+		// logit fitting scale, the mode search may have run down a
+		// funnel's neck along it from every start (a hierarchical scale:
+		// on the scouting grid no start stopped), and the start is the
+		// profile's along it, from the grid's highest point.
+		b := a.neckCoordinate()
+		from := make([]float64, d)
+		a.ref.grid.Point(a.ref.grid.ArgMax, from)
+		for k := range from {
+			from[k] = maps[k].FromOriginal(a.maps[k].ToOriginal(from[k]))
+		}
+		from[b] = 0
+		if start, ok := a.profileStart(p, b, from); ok {
+			return start, false, true, nil
+		}
+		return quadrature.Start{}, false, false, nil
+	}
+	if a.modeDownANeck() {
+		// The fitting scale's best mode lies far down one coordinate of an
+		// unconstrained fitting scale (a hierarchical scale on the log
+		// scale, whose mode search ran down the funnel's neck to tau =
+		// 6e-10): as on the identity scale, where that mode lies on the
+		// bound, the start is the profile's.
+		if b, from, one := a.boundCoordinate(maps); one {
+			if start, ok := a.profileStart(p, b, from); ok {
+				return start, false, true, nil
+			}
+		}
+	}
 	var found []polished
 	onBound := false
 	for _, fm := range a.modes.fitModes {
@@ -246,6 +270,44 @@ func (a *analysis) quadratureStart(p *transform.Density, maps []transform.Map) (
 		}
 	}
 	return quadrature.Start{Mode: mean, Cov: cov}, true, true, nil
+}
+
+// neckCoordinate returns the one parameter fitted on a log or logit
+// scale when the model has exactly one and a grid, else -1: where the mode
+// search found no mode, the coordinate whose funnel's neck it may have run
+// down (quadratureStart).
+func (a *analysis) neckCoordinate() int {
+	if a.ref.grid == nil {
+		return -1
+	}
+	b := -1
+	for k, m := range a.maps {
+		if m.Scale.IsIdentity() {
+			continue
+		}
+		if b >= 0 {
+			return -1
+		}
+		b = k
+	}
+	return b
+}
+
+// modeDownANeck reports whether the best mode on the fitting scale has a
+// coordinate of a log or logit fitting scale beyond the profile's scan
+// (|z| > -profileScanFrom): the mode search ran down a funnel's neck, where
+// the density grows without bound, and stopped where its steps became
+// too small, not at a mode.
+func (a *analysis) modeDownANeck() bool {
+	if len(a.modes.fitModes) == 0 {
+		return false
+	}
+	for k, z := range a.modes.fitModes[0].X {
+		if !a.maps[k].Scale.IsIdentity() && !(math.Abs(z) < -profileScanFrom) {
+			return true
+		}
+	}
+	return false
 }
 
 // boundCoordinate returns the one parameter whose coordinate the highest

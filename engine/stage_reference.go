@@ -148,11 +148,22 @@ func cloneMoments(m grid.Moments) grid.Moments {
 	}
 }
 
+// reach is how far the box may widen on the fitting scale: where x(z)
+// rounds onto a bound of the support (transform.Map.Reach).
+func (a *analysis) reach() grid.Box {
+	r := grid.Box{Lo: make([]float64, a.d), Hi: make([]float64, a.d)}
+	for k, m := range a.maps {
+		r.Lo[k], r.Hi[k] = m.Reach()
+	}
+	return r
+}
+
 // findBox finds the grid's box on the fitting scale.
 func (a *analysis) findBox() error {
 	a.tr.enter(stageBox)
 	res, err := grid.FindBox(a.ctx, a.p, grid.BoxSettings{
 		Bounds:   a.bounds,
+		Reach:    a.reach(),
 		Pinned:   a.pinned,
 		Points:   a.points(),
 		Progress: a.tr.at,

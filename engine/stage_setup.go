@@ -69,10 +69,7 @@ func (a *analysis) setup() error {
 		if most := MaxAxisPoints(d); po.Points > most {
 			return fmt.Errorf("%w: parameter %s: %d grid points, more than the %d a model of %d parameters may have (the grid must fit in memory)", ErrOptions, prm.Name, po.Points, most, d)
 		}
-		sc := po.Scale
-		if sc == "" {
-			sc = Identity
-		}
+		sc := ScaleOf(a.m, a.opts, i)
 		if !slices.Contains(transform.Scales, sc) {
 			return fmt.Errorf("%w: parameter %s: unknown scale %q (want identity, log or logit)", ErrOptions, prm.Name, string(sc))
 		}

@@ -17,8 +17,11 @@ import (
 	"bellcheck/engine/model"
 )
 
-// Version is the link format this package writes.
-const Version = 1
+// Version is the link format this package writes. Format 2 differs from
+// format 1 in one meaning: a parameter whose scale the link does not name
+// is fitted on its default scale (engine.ScaleOf: log or logit for a
+// bounded parameter), where format 1 fitted it as it is (State.AsIsDefault).
+const Version = 2
 
 // Limits on what a link may hold.
 const (
@@ -84,6 +87,11 @@ type State struct {
 	// constant has the value the text gives. Links made before it existed
 	// have none and still open.
 	Constants map[string]float64 `json:"c,omitempty"`
+	// AsIsDefault, set by Decode on a link of format 1, says that a
+	// parameter whose scale neither the link nor the model's own lines
+	// name was fitted as it is: the page names the identity scale for
+	// each such parameter, so the link opens as it was made.
+	AsIsDefault bool `json:"-"`
 }
 
 // Encode returns the fragment (without '#') for s.
@@ -152,6 +160,7 @@ func Decode(fragment string) (State, error) {
 	if dec.More() {
 		return State{}, fmt.Errorf("%w: trailing data", ErrBadContent)
 	}
+	s.AsIsDefault = n == 1
 	if err := validate(s); err != nil {
 		return State{}, fmt.Errorf("%w: %v", ErrBadContent, err)
 	}

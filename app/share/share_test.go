@@ -82,7 +82,7 @@ func TestHostileFragments(t *testing.T) {
 		{"foreign fragment", "#section-2", ErrNotOurs},
 		{"no version", "#.abc", ErrNotOurs},
 		{"version zero", "#b0." + valid[3:], ErrNotOurs},
-		{"future version", "#b2." + valid[3:], ErrFutureVersion},
+		{"future version", "#b3." + valid[3:], ErrFutureVersion},
 		{"huge version", "#b99999999999999999999." + valid[3:], ErrNotOurs},
 		{"invalid base64", "#b1.!!!!", ErrBadEncoding},
 		{"truncated", "#" + valid[:len(valid)-4], ErrBadEncoding},

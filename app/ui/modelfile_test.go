@@ -64,7 +64,7 @@ func TestFileOptionsAsCommandLine(t *testing.T) {
 	if p := got.Params[0]; p.Points != 301 || *p.Lo != -2 || *p.Hi != 6 {
 		t.Errorf("m: points %d box [%v, %v], want 301 [-2, 6]", p.Points, *p.Lo, *p.Hi)
 	}
-	if sc := got.Params[1].Scale; sc != "" {
+	if sc := got.Params[1].Scale; sc != engine.Identity {
 		t.Errorf("s: scale %q, want the identity chosen on the page", sc)
 	}
 }

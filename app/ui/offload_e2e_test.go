@@ -320,15 +320,17 @@ func sameAsPagesOwn(t *testing.T, p *Page, res *engine.Result) {
 }
 
 // TestFitUnconstrainedOffer: a model whose scale parameter is fitted as it
-// is gets the infinite_kl diagnostic with a button that fits it on the log
-// scale; pressing it sets the option and the next result has the
-// reverse-KL fits (KL(q||p) finite: the support is the whole line there).
+// is (its own line names the identity scale; log is s's default) gets the
+// infinite_kl diagnostic with a button that fits it on the log scale;
+// pressing it sets the option, which overrides the line, and the next
+// result has the reverse-KL fits (KL(q||p) finite: the support is the
+// whole line there).
 func TestFitUnconstrainedOffer(t *testing.T) {
 	h, e := mount(t, nil)
 	p := h.page
 	p.browser = newMemBrowser("")
 	waitIdle(t, p, e)
-	src := "y = [1.2, 0.8, 1.1, 1.6]\nparam m\nparam s in [0, inf]\n-log(s) + sum(ld_normal(y, m, s))\n"
+	src := "#@ scale s=identity\ny = [1.2, 0.8, 1.1, 1.6]\nparam m\nparam s in [0, inf]\n-log(s) + sum(ld_normal(y, m, s))\n"
 	p.Input(h.ctx, src)
 	e.ConsumeAll()
 	waitIdle(t, p, e)

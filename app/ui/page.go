@@ -357,7 +357,11 @@ func (p *Page) loadLink(ctx app.Context, st share.State) {
 	p.s.restoreConstants(st.Constants)
 	// An option the engine would refuse is set back to its default
 	// (LinkProblems says which, for the notice).
-	p.s.SetChoices(ChoicesOf(p.s.Model, usableOptions(p.s.Model, st.Params)))
+	params := usableOptions(p.s.Model, st.Params)
+	if st.AsIsDefault {
+		params = p.s.asIsWhereUnnamed(params)
+	}
+	p.s.SetChoices(ChoicesOf(p.s.Model, params))
 	p.checked(ctx, valid)
 }
 

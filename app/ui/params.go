@@ -20,6 +20,9 @@ type ParamView struct {
 	// Options are the chosen options; File those the model text's own
 	// setting lines give (the page's choices override them).
 	Options, File engine.ParamOptions
+	// Default is the scale the parameter is fitted on where neither names
+	// one (engine.ScaleOf).
+	Default engine.Scale
 	// Used describes the grid of the last result ("" before one).
 	UsedLo, UsedHi float64
 	UsedPoints     int
@@ -42,7 +45,8 @@ func ParamViews(s *Session) []ParamView {
 		if i < len(s.File.Params) {
 			file = s.File.Params[i]
 		}
-		v := ParamView{File: file, Name: p.Name, Lo: p.Lo, Hi: p.Hi, Options: s.Param(p.Name), UsedLo: math.NaN(), UsedHi: math.NaN()}
+		v := ParamView{File: file, Name: p.Name, Lo: p.Lo, Hi: p.Hi, Options: s.Param(p.Name), UsedLo: math.NaN(), UsedHi: math.NaN(),
+			Default: engine.ScaleOf(m, engine.Options{Candidates: s.File.Candidates}, i)}
 		if r := s.Result; r != nil {
 			for k, name := range r.Params {
 				// A grid that only scouted is not the reference: the
@@ -112,14 +116,22 @@ func (pp *ParamPanel) block(i int, p ParamView) app.UI {
 	if cur == "" {
 		cur = p.File.Scale
 	}
+	def := p.Default
+	if def == "" {
+		def = engine.Identity
+	}
 	if cur.Check(p.Lo, p.Hi) != nil || cur == "" {
-		cur = engine.Identity
+		cur = def
 	}
 	for _, s := range scales {
 		if s.sc.Check(p.Lo, p.Hi) != nil {
 			continue
 		}
-		opts = append(opts, app.Option().Value(string(s.sc)).Selected(s.sc == cur).Text(s.label))
+		label := s.label
+		if s.sc == def {
+			label += " (default)"
+		}
+		opts = append(opts, app.Option().Value(string(s.sc)).Selected(s.sc == cur).Text(label))
 	}
 	name := p.Name
 	// Event handlers read the parameter's current name and options through

@@ -1,7 +1,11 @@
 package ui
 
 import (
+	"bytes"
+	"compress/flate"
 	"context"
+	"encoding/base64"
+	"encoding/json"
 	"errors"
 	"sort"
 	"strings"
@@ -366,5 +370,43 @@ func TestBrokenAndHostileLinks(t *testing.T) {
 	}
 	if strings.Contains(html, "<script>alert") || !strings.Contains(html, "&lt;/script&gt;") {
 		t.Error("a link's model text reached the page as markup")
+	}
+}
+
+// TestFirstFormatLinkFitsAsIs: a link of the first format was made when a
+// bounded parameter whose scale nothing named was fitted as it is; it
+// opens so (the identity named for s), while a parameter the model's own
+// line gives a scale keeps it, and a link of the current format leaves s
+// to its default, the log scale.
+func TestFirstFormatLinkFitsAsIs(t *testing.T) {
+	src := "#@ scale r=log\ny = [1.2, 0.8, 1.1, 1.6]\nparam m\nparam s in [0, inf]\nparam r in [0, inf]\n-log(s) + sum(ld_normal(y, m, s)) + ld_gamma(r, 2, 1)\n"
+	raw, err := json.Marshal(share.State{Model: src})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var buf bytes.Buffer
+	w, _ := flate.NewWriter(&buf, flate.BestCompression)
+	w.Write(raw)
+	w.Close()
+	b := newMemBrowser("b1." + base64.RawURLEncoding.EncodeToString(buf.Bytes()))
+	h, e := openWith(t, b)
+	p := h.page
+	e.ConsumeAll()
+	if p.text != src {
+		t.Fatalf("the first-format link was not opened: %q", p.text)
+	}
+	o := p.s.Options()
+	if o.Params[1].Scale != engine.Identity || o.Params[2].Scale != engine.Log || o.Params[0].Scale != "" {
+		t.Errorf("first format: scales %q %q %q, want \"\", identity (as made), log (the model's line)", o.Params[0].Scale, o.Params[1].Scale, o.Params[2].Scale)
+	}
+	b.frag = link(t, src+"# again\n")
+	p.OpenLink(h.ctx)
+	e.ConsumeAll()
+	if p.text != src+"# again\n" {
+		t.Fatalf("the current-format link was not opened: %q", p.text)
+	}
+	o = p.s.Options()
+	if o.Params[1].Scale != "" || engine.ScaleOf(p.s.Model, o, 1) != engine.Log {
+		t.Errorf("current format: s's scale %q, want the default (log)", o.Params[1].Scale)
 	}
 }

@@ -197,7 +197,7 @@ func (s *Session) ResetParams() { s.params = nil }
 
 // Options returns the analysis options for the current model: each
 // parameter's chosen options, with a scale its support does not allow
-// dropped back to identity and a box outside the support clipped to it.
+// dropped back to the default and a box outside the support clipped to it.
 func (s *Session) Options() engine.Options {
 	var o engine.Options
 	o.Plots = true
@@ -215,10 +215,7 @@ func (s *Session) Options() engine.Options {
 			po = over(po, chosen[i])
 		}
 		if po.Scale.Check(p.Lo, p.Hi) != nil {
-			po.Scale = ""
-		}
-		if po.Scale == engine.Identity {
-			po.Scale = ""
+			po.Scale = "" // the default (engine.ScaleOf)
 		}
 		if po.Points != 0 {
 			po.Points = max(MinPoints, min(po.Points, MaxPoints, engine.MaxAxisPoints(len(s.Model.Params))))
@@ -232,6 +229,29 @@ func (s *Session) Options() engine.Options {
 	}
 	o.Candidates, o.Vary = s.File.Candidates, s.File.Vary
 	return o
+}
+
+// asIsWhereUnnamed returns the options by index (as a link holds them)
+// with the identity scale named for every parameter whose scale neither
+// they nor the model's own lines name and whose default is another: a
+// link of the first format (share.State.AsIsDefault) was made when such a
+// parameter was fitted as it is.
+func (s *Session) asIsWhereUnnamed(params []engine.ParamOptions) []engine.ParamOptions {
+	m := s.Model
+	if m == nil {
+		return params
+	}
+	out := make([]engine.ParamOptions, len(m.Params))
+	copy(out, params)
+	for i := range m.Params {
+		if out[i].Scale != "" || i < len(s.File.Params) && s.File.Params[i].Scale != "" {
+			continue
+		}
+		if engine.ScaleOf(m, engine.Options{Candidates: s.File.Candidates}, i) != engine.Identity {
+			out[i].Scale = engine.Identity
+		}
+	}
+	return out
 }
 
 // Limits on the grid points a parameter may ask for in the page (and at

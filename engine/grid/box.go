@@ -17,6 +17,11 @@ type BoxSettings struct {
 	// at its bound (a side the user set): it is neither widened nor
 	// trimmed. Nil means none.
 	Pinned [][2]bool
+	// Reach, when set, holds per axis how far a free face may be widened
+	// (within Bounds): on a fitting scale such as log x, the coordinates
+	// beyond which x rounds onto its bound. A face stopped there with mass
+	// still at it is Capped, as by the width cap. Nil means no limit.
+	Reach Box
 	// Initial, when set, is the first box explored (clipped to Bounds).
 	// Otherwise the support where finite, and [-2, 2] (or two units from a
 	// finite bound) where not.
@@ -301,6 +306,10 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 				scale := max(room, 0) / (want[0] + want[1])
 				want[0] *= scale
 				want[1] *= scale
+			}
+			if len(s.Reach.Lo) == d && len(s.Reach.Hi) == d {
+				want[0] = min(want[0], max(lo[k]-s.Reach.Lo[k], 0))
+				want[1] = min(want[1], max(s.Reach.Hi[k]-hi[k], 0))
 			}
 			for side := 0; side < 2; side++ {
 				if !widen[side] {

@@ -120,6 +120,16 @@ func TestFindBoxBoundsAndTails(t *testing.T) {
 	if !res.Capped[0][0] || !res.Capped[0][1] || res.Capped[1][0] || res.Capped[1][1] {
 		t.Errorf("flat axis: capped %v, box %v %v", res.Capped, res.Box.Lo, res.Box.Hi)
 	}
+	// A tail that falls too slowly (e^(z/50)) within a reach of [-30, inf]:
+	// the face stops at the reach, with mass at it, and is capped.
+	slow := &targettest.Func{D: 1, LogP: func(x []float64) float64 { return x[0]/50 - x[0]*x[0]/2*float64(btoi(x[0] > 0)) }}
+	res, err = FindBox(ctx, slow, BoxSettings{Bounds: unbounded(1), Reach: Box{Lo: []float64{-30}, Hi: []float64{inf}}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Box.Lo[0] < -30 || !res.Capped[0][0] || res.Capped[0][1] {
+		t.Errorf("slow tail with a reach: box %v %v, capped %v", res.Box.Lo, res.Box.Hi, res.Capped)
+	}
 	// Zero everywhere.
 	none := &targettest.Func{D: 1, LogP: func(x []float64) float64 { return math.Inf(-1) }}
 	if _, err := FindBox(ctx, none, BoxSettings{Bounds: unbounded(1)}); err == nil {
@@ -192,4 +202,11 @@ func TestLevelsOfBivariateNormal(t *testing.T) {
 			t.Errorf("level for %g: %g, want %g", f, lv[i], want)
 		}
 	}
+}
+
+func btoi(b bool) int {
+	if b {
+		return 1
+	}
+	return 0
 }

@@ -308,9 +308,6 @@ func Options(m *model.Model, settings []Setting) (engine.Options, error) {
 				return engine.Options{}, s.errorf("%s=%s: %s", s.Param, s.Value, why)
 			}
 			po.Scale = s.Scale
-			if s.Scale == engine.Identity {
-				po.Scale = ""
-			}
 		case Points:
 			if most := engine.MaxAxisPoints(d); s.Points > most {
 				return engine.Options{}, s.errorf("%s=%s: at most %d points per parameter for a model of %d parameters", s.Param, s.Value, most, d)
@@ -389,7 +386,7 @@ func Write(names []string, opts engine.Options) string {
 			break
 		}
 		n := names[i]
-		if po.Scale != "" && po.Scale != engine.Identity {
+		if po.Scale != "" {
 			scale = append(scale, n+"="+string(po.Scale))
 		}
 		if po.Points > 0 {

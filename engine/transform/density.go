@@ -104,7 +104,13 @@ func (t *Density) LogDensityDerivs(z, grad, hess []float64) float64 {
 }
 
 // LogDensityBlock evaluates the log-density on the fitting scale at the
-// columns' points.
+// columns' points. It is the integrators' entry (the grid's and the nested
+// rule's), and where x(z) has rounded onto a bound (roundsToBound) it
+// gives NaN, a point that cannot be evaluated, so that they do not take a
+// flat tail for a falling one; LogDensity and LogDensityDerivs, the fits'
+// and searches' entries, give the model's value at the rounded point
+// there (-inf where the Jacobian has vanished: the far tail of a fit's
+// nodes).
 func (t *Density) LogDensityBlock(cols [][]float64, out []float64) {
 	n := len(out)
 	if cap(t.logJ) < n {
@@ -126,6 +132,10 @@ func (t *Density) LogDensityBlock(cols [][]float64, out []float64) {
 		}
 		for i, z := range zs {
 			xs[i] = m.ToOriginal(z)
+			if m.roundsToBound(z, xs[i]) {
+				lj[i] = math.NaN()
+				continue
+			}
 			lj[i] += m.LogJacobian(z)
 		}
 	}
@@ -140,4 +150,22 @@ func (t *Density) LogDensityBlock(cols [][]float64, out []float64) {
 			out[i] += lj[i]
 		}
 	}
+}
+
+// roundsToBound reports whether x, the image of a finite fitting-scale
+// coordinate z, has come so close to a finite bound b of the support that
+// floating point no longer holds their distance: x rounded onto b, or
+// below 1e-290 from a bound at 0 (where x turns subnormal and loses its
+// digits). The model there is not the density at
+// z: a pole at the bound would read +inf where the density on the fitting
+// scale is finite, or the lost digits would make a flat tail look as if
+// it fell, so the point cannot be evaluated and its log-density is NaN.
+func (m Map) roundsToBound(z, x float64) bool {
+	if m.Scale.IsIdentity() || math.IsInf(z, 0) {
+		return false
+	}
+	near := func(b float64) bool {
+		return x == b && !math.IsInf(b, 0) || b == 0 && math.Abs(x) < 1e-290
+	}
+	return near(m.Lo) || near(m.Hi)
 }

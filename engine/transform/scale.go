@@ -13,7 +13,8 @@ import (
 // scale from the options to the page; its JSON form is its name.
 type Scale string
 
-// The scales. The empty Scale means Identity.
+// The scales. The empty Scale means Identity in a Map; in the options of
+// an analysis it means the parameter's default scale (engine.ScaleOf).
 const (
 	// Identity: x = z.
 	Identity Scale = "identity"
@@ -36,6 +37,22 @@ func (s Scale) String() string {
 
 // IsIdentity reports Identity or the empty Scale, which means it.
 func (s Scale) IsIdentity() bool { return s == "" || s == Identity }
+
+// Unconstrained returns the scale on which a support [lo, hi] becomes the
+// whole line: log for [lo, inf] with a finite lo, logit for a finite
+// [lo, hi], identity otherwise (an unbounded support, or one bounded
+// above only).
+func Unconstrained(lo, hi float64) Scale {
+	finiteLo := !math.IsInf(lo, 0) && !math.IsNaN(lo)
+	finiteHi := !math.IsInf(hi, 0) && !math.IsNaN(hi)
+	switch {
+	case finiteLo && finiteHi && lo < hi:
+		return Logit
+	case finiteLo && math.IsInf(hi, 1):
+		return Log
+	}
+	return Identity
+}
 
 // ErrSupport is returned when a scale does not fit a parameter's support:
 // the log scale needs a finite lower bound and an infinite upper one, the
@@ -135,4 +152,23 @@ func (m Map) LogJacobian(z float64) float64 {
 		return math.Log(m.Hi-m.Lo) - special.Log1pExp(-z) - special.Log1pExp(z)
 	}
 	return 0
+}
+
+// Reach returns the fitting-scale coordinates [zlo, zhi] within which x(z)
+// stays clear of the support's bounds in floating point: beyond them
+// lo + e^z (or its logit counterpart) rounds onto a bound, where the model
+// would be evaluated at the bound itself (a density with a pole there
+// would read +inf though it is finite on the fitting scale). The identity
+// has no such limits (-inf, +inf). The margin kept is about 2^-50 of the
+// bound's size, or 1e-290 where the bound is 0.
+func (m Map) Reach() (zlo, zhi float64) {
+	gap := func(b float64) float64 { return max(math.Abs(b)*0x1p-50, 1e-290) }
+	switch m.Scale {
+	case Log:
+		return math.Log(gap(m.Lo)), math.Log(1e290)
+	case Logit:
+		w := m.Hi - m.Lo
+		return math.Log(gap(m.Lo) / w), -math.Log(gap(m.Hi) / w)
+	}
+	return math.Inf(-1), math.Inf(1)
 }

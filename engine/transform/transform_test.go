@@ -155,3 +155,72 @@ func TestBlockMatchesPointwise(t *testing.T) {
 		t.Errorf("outside the support: %g, want -Inf", out[3])
 	}
 }
+
+// TestUnconstrained: the default scale of each kind of support.
+func TestUnconstrained(t *testing.T) {
+	inf := math.Inf(1)
+	for _, c := range []struct {
+		lo, hi float64
+		want   Scale
+	}{
+		{0, inf, Log}, {-3, inf, Log}, {0, 1, Logit}, {-2, 5, Logit},
+		{-inf, inf, Identity}, {-inf, 0, Identity},
+	} {
+		if got := Unconstrained(c.lo, c.hi); got != c.want {
+			t.Errorf("[%g, %g]: %s, want %s", c.lo, c.hi, got, c.want)
+		}
+		if err := Unconstrained(c.lo, c.hi).Check(c.lo, c.hi); err != nil {
+			t.Errorf("[%g, %g]: the default does not suit the support: %v", c.lo, c.hi, err)
+		}
+	}
+}
+
+// TestReach: inside the reach x(z) keeps its distance from the bounds
+// (x - lo > 0 and a normal number, hi - x > 0), and just beyond the lower
+// reach of a bound at 0 it would be below 1e-290.
+func TestReach(t *testing.T) {
+	for _, m := range []Map{{Log, 0, math.Inf(1)}, {Log, 2, math.Inf(1)}, {Logit, 0, 1}, {Logit, -3, 7}} {
+		zlo, zhi := m.Reach()
+		if !(zlo < zhi) {
+			t.Fatalf("%v: reach [%g, %g]", m, zlo, zhi)
+		}
+		xlo, xhi := m.ToOriginal(zlo), m.ToOriginal(zhi)
+		if !(xlo > m.Lo) || !(xlo-m.Lo >= 1e-300) {
+			t.Errorf("%v: x(%g) = %g is not clear of the lower bound", m, zlo, xlo)
+		}
+		if !(xhi < m.Hi) || math.IsInf(xhi, 0) {
+			t.Errorf("%v: x(%g) = %g is not clear of the upper bound", m, zhi, xhi)
+		}
+	}
+	lo, _ := Map{Log, 0, math.Inf(1)}.Reach()
+	if x := math.Exp(lo - 1); !(x < 1e-290) {
+		t.Errorf("one beyond the reach x = %g, want below 1e-290", x)
+	}
+}
+
+// TestBlockRoundedToBound: where x(z) rounds onto a bound the block
+// evaluation (the integrators' entry) gives NaN, not the model's value
+// there. 1/x on [0, 1] on the logit scale is 1 - x, finite everywhere, but
+// at z = -750, x = 0 and the model reads +Inf; the density x^-1/2 on the
+// log scale is e^(z/2), but at z = -800 the model reads +Inf.
+func TestBlockRoundedToBound(t *testing.T) {
+	pole := &targettest.Func{D: 1, LogP: func(x []float64) float64 { return -math.Log(x[0]) }}
+	p, _ := Wrap(pole, []Map{{Logit, 0, 1}})
+	out := make([]float64, 3)
+	p.LogDensityBlock([][]float64{{-5, -750, math.Inf(-1)}}, out)
+	if want := math.Log1p(-1 / (1 + math.Exp(5))); math.Abs(out[0]-want) > 1e-12 {
+		t.Errorf("z = -5: %g, want log(1 - x) = %g", out[0], want)
+	}
+	if !math.IsNaN(out[1]) {
+		t.Errorf("z = -750 (x rounds to 0): %g, want NaN", out[1])
+	}
+	if !math.IsInf(out[2], -1) {
+		t.Errorf("z = -Inf (x on the bound): %g, want -Inf", out[2])
+	}
+	half := &targettest.Func{D: 1, LogP: func(x []float64) float64 { return -0.5 * math.Log(x[0]) }}
+	q, _ := Wrap(half, []Map{{Log, 0, math.Inf(1)}})
+	q.LogDensityBlock([][]float64{{-10, -800}}, out[:2])
+	if math.Abs(out[0]+5) > 1e-12 || !math.IsNaN(out[1]) {
+		t.Errorf("x^-1/2 on the log scale at z = -10, -800: %v, want -5, NaN", out[:2])
+	}
+}
