@@ -506,10 +506,11 @@ func testBigDataKept(t *testing.T, b *browser, srv *siteServer) {
 	}
 }
 
-// testFitUnconstrained: a normal's sd fitted as it is has no reverse-KL
-// fit; the button beside the infinite_kl diagnostic fits it on the log
-// scale, the parameter's scale field says so, and the new results table
-// has the reverse-KL column filled.
+// testFitUnconstrained: a normal's sd under a 1/s prior is fitted on its
+// default log scale, so the reverse-KL column is filled at once and the
+// scale chooser shows log; chosen "as is", the sd has no reverse-KL fit,
+// and the button beside the infinite_kl diagnostic fits it on the log
+// scale again: the chooser says so and the reverse-KL column fills.
 func testFitUnconstrained(t *testing.T, b *browser, srv *siteServer) {
 	tb := b.newTab(t, true)
 	defer tb.close()
@@ -517,29 +518,44 @@ func testFitUnconstrained(t *testing.T, b *browser, srv *siteServer) {
 	done := tb.state(t).Done
 	tb.editModel(t, "y = [10.21, 10.35, 10.18, 10.42, 10.29]\nparam m\nparam s in [0, inf]\n-log(s) + sum(ld_normal(y, m, s))\n")
 	st := tb.waitDone(t, done, 90*time.Second)
-	waitFor(t, tb, 10*time.Second, "the offer", `!!document.getElementById(`+jsString(ui.FitUnconstrainedID)+`)`)
-	eval[bool](t, tb, 5*time.Second, `(document.getElementById(`+jsString(ui.FitUnconstrainedID)+`).click(), true)`)
-	tb.waitDone(t, st.Done, 90*time.Second)
-	waitFor(t, tb, 10*time.Second, "the offer gone and s on the log scale",
-		`!document.getElementById(`+jsString(ui.FitUnconstrainedID)+`) && [...document.querySelectorAll("select")].some((e) => e.value === "log")`)
-	tab := tb.table(t)
-	col := -1
-	for i, m := range tab.Methods {
-		if m == "reverse KL" {
-			col = i
+	reverseMeans := func() int {
+		tab := tb.table(t)
+		col := -1
+		for i, m := range tab.Methods {
+			if m == "reverse KL" {
+				col = i
+			}
 		}
-	}
-	filled := 0
-	for _, sec := range tab.Sections {
-		for _, row := range sec.Rows {
-			if row.Label == "mean" && col >= 0 && col < len(row.Cells) {
-				if v := row.Cells[col].V; v != "" && v != "–" && v != "—" {
-					filled++
+		filled := 0
+		for _, sec := range tab.Sections {
+			for _, row := range sec.Rows {
+				if row.Label == "mean" && col >= 0 && col < len(row.Cells) {
+					if v := row.Cells[col].V; v != "" && v != "–" && v != "—" {
+						filled++
+					}
 				}
 			}
 		}
+		return filled
 	}
-	if filled != 2 {
-		t.Errorf("%d reverse-KL means after fitting s on the log scale, want 2 (methods %v): %+v", filled, tab.Methods, tab.Sections)
+	scaleOfS := `document.getElementById("bc-p1-scale").value`
+	if sc := eval[string](t, tb, 5*time.Second, scaleOfS); sc != "log" {
+		t.Errorf("s's chooser shows %q, want its default log", sc)
+	}
+	if n := reverseMeans(); n != 2 {
+		t.Errorf("%d reverse-KL means on the default scale, want 2", n)
+	}
+	eval[bool](t, tb, 5*time.Second, `((e) => { e.value = "identity"; e.dispatchEvent(new Event("change", {bubbles: true})); return true })(document.getElementById("bc-p1-scale"))`)
+	st = tb.waitDone(t, st.Done, 90*time.Second)
+	waitFor(t, tb, 10*time.Second, "the offer", `!!document.getElementById(`+jsString(ui.FitUnconstrainedID)+`)`)
+	if n := reverseMeans(); n != 0 {
+		t.Errorf("%d reverse-KL means with s as it is, want none", n)
+	}
+	eval[bool](t, tb, 5*time.Second, `(document.getElementById(`+jsString(ui.FitUnconstrainedID)+`).click(), true)`)
+	tb.waitDone(t, st.Done, 90*time.Second)
+	waitFor(t, tb, 10*time.Second, "the offer gone and s on the log scale",
+		`!document.getElementById(`+jsString(ui.FitUnconstrainedID)+`) && `+scaleOfS+` === "log"`)
+	if n := reverseMeans(); n != 2 {
+		t.Errorf("%d reverse-KL means after fitting s on the log scale, want 2", n)
 	}
 }

@@ -17,6 +17,21 @@ import (
 func writeTable(w io.Writer, name string, r *engine.Result) {
 	fmt.Fprintf(w, "%s: %d parameter(s) %s, given as %s\n", name, len(r.Params),
 		strings.Join(r.Params, ", "), strings.ReplaceAll(r.Form, "_", "-"))
+	// The fitting scales, where one is not the identity (a bounded
+	// parameter's default is log or logit).
+	var scales []string
+	for i, sc := range r.Scales {
+		if !sc.IsIdentity() && i < len(r.Params) {
+			scales = append(scales, r.Params[i]+" on the "+string(sc)+" scale")
+		}
+	}
+	if len(scales) > 0 {
+		rest := ""
+		if len(scales) < len(r.Params) {
+			rest = "; the others as they are"
+		}
+		fmt.Fprintf(w, "fitted: %s%s\n", strings.Join(scales, ", "), rest)
+	}
 	if r.Grid.Scouted {
 		// The exact results are the nested rule's; the grid only scouted.
 		fmt.Fprintf(w, "exact: quadrature around the modes (scouting grid %s points); log Z = %s (error estimate %s)\n\n",
