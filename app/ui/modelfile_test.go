@@ -8,6 +8,8 @@ import (
 	"testing"
 	"time"
 
+	"github.com/maxence-charriere/go-app/v10/pkg/app"
+
 	"bellcheck/app/share"
 	"bellcheck/engine"
 	"bellcheck/engine/data"
@@ -216,5 +218,46 @@ func TestDataInLinkUpToLimit(t *testing.T) {
 	}
 	if !p.dataView().InLink {
 		t.Error("a small table is said not to travel in the link")
+	}
+}
+
+// The scale chooser shows each parameter's default where nothing names a
+// scale (log for [0, inf], logit for [0, 1], as it is for a cost's bounded
+// parameter), the file's line where it names one, and the page's choice
+// over both.
+func TestScaleChooserShowsTheDefault(t *testing.T) {
+	selected := func(src string, choose map[string]engine.Scale) []string {
+		var s Session
+		if !s.Edit(src) {
+			t.Fatal(s.Errors)
+		}
+		for name, sc := range choose {
+			s.SetParam(name, engine.ParamOptions{Scale: sc})
+		}
+		html := app.HTMLString(&ParamPanel{Params: ParamViews(&s)})
+		var out []string
+		for _, part := range strings.Split(html, "<option")[1:] {
+			// The attributes come in any order; a false one is written
+			// selected="false".
+			tag := part[:strings.Index(part, ">")] + " "
+			if strings.Contains(tag, " selected ") || strings.Contains(tag, ` selected="true"`) {
+				v := part[strings.Index(part, `value="`)+7:]
+				out = append(out, v[:strings.Index(v, `"`)])
+			}
+		}
+		return out
+	}
+	src := "param a\nparam s in [0, inf]\nparam p in [0, 1]\nld_normal(a, 0, 1) + ld_gamma(s, 2, 1) + ld_beta(p, 2, 2)\n"
+	if got := strings.Join(selected(src, nil), " "); got != "identity log logit" {
+		t.Errorf("defaults shown %q, want identity log logit", got)
+	}
+	if got := strings.Join(selected("#@ scale s=identity\n"+src, nil), " "); got != "identity identity logit" {
+		t.Errorf("with the file's line %q, want identity identity logit", got)
+	}
+	if got := strings.Join(selected("#@ scale s=identity\n"+src, map[string]engine.Scale{"s": engine.Log, "p": engine.Identity}), " "); got != "identity log identity" {
+		t.Errorf("with choices %q, want identity log identity", got)
+	}
+	if got := strings.Join(selected("param s in [0, inf]\ncost (s - 2)^2\n", nil), " "); got != "identity" {
+		t.Errorf("a cost's bounded parameter %q, want identity", got)
 	}
 }

@@ -127,11 +127,7 @@ func (pp *ParamPanel) block(i int, p ParamView) app.UI {
 		if s.sc.Check(p.Lo, p.Hi) != nil {
 			continue
 		}
-		label := s.label
-		if s.sc == def {
-			label += " (default)"
-		}
-		opts = append(opts, app.Option().Value(string(s.sc)).Selected(s.sc == cur).Text(label))
+		opts = append(opts, app.Option().Value(string(s.sc)).Selected(s.sc == cur).Text(s.label))
 	}
 	name := p.Name
 	// Event handlers read the parameter's current name and options through
@@ -159,7 +155,7 @@ func (pp *ParamPanel) block(i int, p ParamView) app.UI {
 		),
 		app.Div().Class("param-controls").Body(
 			app.Div().Class("pctl").Body(app.Label().For(id+"-scale").Text("fit on scale"),
-				app.Select().ID(id+"-scale").Disabled(len(opts) < 2).Title(scaleTitle(len(opts))).Body(opts...).
+				app.Select().ID(id+"-scale").Disabled(len(opts) < 2).Title(scaleTitle(len(opts), def)).Body(opts...).
 					OnChange(func(ctx app.Context, e app.Event) {
 						name, o, ok := pp.current(i)
 						v, err := jsdom.Value(id + "-scale")
@@ -191,11 +187,15 @@ func (pp *ParamPanel) block(i int, p ParamView) app.UI {
 	)
 }
 
-func scaleTitle(n int) string {
+func scaleTitle(n int, def engine.Scale) string {
 	if n < 2 {
 		return "log and logit scales need a bounded support, such as param s in [0, inf]"
 	}
-	return "the scale on which the Gaussian fits are made"
+	name := string(def)
+	if def == engine.Identity {
+		name = "as is"
+	}
+	return "the scale on which the Gaussian fits are made (by default " + name + ")"
 }
 
 // current returns the name and options of the i-th parameter as the panel
