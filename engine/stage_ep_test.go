@@ -66,3 +66,37 @@ sum(ld_normal(y, a + b1*x1 + b2*x2, s)) + ld_normal(a, 0, 10) + ld_normal(b1, 0,
 		t.Errorf("EP converged %v after %d sweeps: want converged within 32", f.Converged, f.Iterations)
 	}
 }
+
+// TestRunawayReverseKL: a Weibull model of lifetimes with censoring (our
+// data), shape k and scale lam on their default log scales. log p holds
+// -(t/lam)^k = -exp(e^(z_k) (log t - z_lam)): for every Gaussian q over
+// (z_k, z_lam), E_q of it is -infinity (E exp(c e^Z) diverges for c > 0 and
+// Z normal), so KL(q||p) is infinite and there is no reverse-KL optimum.
+// Both reverse-KL fits are absent with a fit_failed diagnostic that says
+// so (the iterations ended at residuals of 7e106; the mean-field one had
+// failed on a trial step at 1e104 with "log p is NaN"); the Laplace,
+// forward-KL and EP fits stand.
+func TestRunawayReverseKL(t *testing.T) {
+	src := "t = [410, 620, 835, 1090]\ntc = [1200, 1200]\nparam k in [0, inf]\nparam lam in [0, inf]\n" +
+		"ld_gamma(k, 2, 1) + ld_lognormal(lam, 7, 1) + sum(log(k) - log(lam) + (k - 1)*log(t/lam) - (t/lam)^k) - sum((tc/lam)^k)\n"
+	res := analyseSource(t, src, Options{})
+	for _, m := range []Method{ReverseKL, MeanField} {
+		if res.Fits[m] != nil {
+			t.Errorf("%s: a fit is shown where none exists", m)
+		}
+	}
+	said := 0
+	for _, d := range res.Diagnostics {
+		if d.Code == CodeFitFailed && strings.Contains(d.Message, "falls faster than any Gaussian") {
+			said++
+		}
+	}
+	if said != 2 {
+		t.Errorf("%d fit_failed diagnostics say why, want 2: %+v", said, res.Diagnostics)
+	}
+	for _, m := range []Method{Laplace, ForwardKL, EP} {
+		if res.Fits[m] == nil {
+			t.Errorf("no %s fit", m)
+		}
+	}
+}

@@ -176,6 +176,12 @@ func (a *analysis) fitReverse(lap *fit.LaplaceFit) (rev, mfit *fit.VariationalFi
 				a.diag.add(CodeFitFailed, SeverityError,
 					"No %s fit: its iteration took no step from its start and did not converge, so no fit is shown.", label)
 				return nil, nil
+			case res > runawayResidual:
+				a.avail.drop(m.quantity(), CodeFitFailed)
+				a.diag.add(CodeFitFailed, SeverityError,
+					"No %s fit: the expectation of the gradient of log p under the Gaussian is dominated by its outermost cubature nodes (residual %.2g after %d steps): log p falls faster than any Gaussian's along some direction (as -(t/lam)^k does along log k), where E_q[log p], and so KL(q||p), is infinite for every Gaussian, so there is no reverse-KL optimum on this scale.",
+					label, res, vf.Iterations)
+				return nil, nil
 			}
 			a.diag.add(CodeNoConvergence, SeverityWarning,
 				"The %s fit did not converge in %d steps (residual %.2g); its last iterate is shown, marked as not converged.",
@@ -341,3 +347,10 @@ func (a *analysis) undefinedHint() string {
 	a.undefinedHinted = true
 	return fmt.Sprintf(" Where the model is undefined beyond some value of a parameter (a logarithm or a square root of a negative number), declare its support, as in param %s in [0, inf], so that every method stays inside it.", open[0])
 }
+
+// runawayResidual is the residual of a reverse-KL iteration (scaled by the
+// start's sds) above which its last iterate is not shown: no slow
+// convergence leaves one so large; the gradient's cubature is dominated by
+// its outermost nodes, where log p falls faster than a Gaussian's (a
+// Weibull model's -(t/lam)^k on the log scale of k stopped at 7e106).
+const runawayResidual = 1e8

@@ -2,6 +2,7 @@ package fit
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"math"
 
@@ -77,6 +78,17 @@ const (
 	stallELBO  = 1e-9
 	maxOrder   = 200
 )
+
+// trialRejected reports an error of a trial step's cubature that rejects
+// the step rather than the fit: log p -Inf (the trial's q reaches where the
+// density is zero) or not finite at a node, or its derivatives' sums
+// overflowing (a density whose log falls faster than any Gaussian's, as
+// -(t/lam)^k with k on the log scale, sent the mean-field iteration's
+// accelerated steps to 1e104). The current iterate was evaluated without
+// either; a step that meets them is halved like one that lowers the ELBO.
+func trialRejected(err error) bool {
+	return errors.Is(err, ErrNonFinite) || errors.Is(err, ErrInfiniteKL)
+}
 
 // refinedOrder returns the doubled order per axis, capped at maxOrder, if
 // the rule stays within maxNodes nodes and grows; else 0.
@@ -345,9 +357,12 @@ func variational(ctx context.Context, p target.Density, init Gaussian, s Setting
 				return VariationalFit{}, err
 			}
 			if err := v.evaluate(trial); err != nil {
-				return VariationalFit{}, fmt.Errorf("%s: %w", name, err)
+				if !trialRejected(err) {
+					return VariationalFit{}, fmt.Errorf("%s: %w", name, err)
+				}
+			} else {
+				accepted = better(trial)
 			}
-			accepted = better(trial)
 		}
 		if !accepted {
 			v.aa.reset()
@@ -359,9 +374,12 @@ func variational(ctx context.Context, p target.Density, init Gaussian, s Setting
 				}
 				if v.damped(cur, trial, a, b) {
 					if err := v.evaluate(trial); err != nil {
-						return VariationalFit{}, fmt.Errorf("%s: %w", name, err)
+						if !trialRejected(err) {
+							return VariationalFit{}, fmt.Errorf("%s: %w", name, err)
+						}
+					} else {
+						accepted = better(trial)
 					}
-					accepted = better(trial)
 				}
 				if !accepted {
 					a /= 2
