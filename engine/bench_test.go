@@ -107,6 +107,7 @@ func BenchmarkCancelLatency(b *testing.B) {
 
 // Bounded parameters are fitted on the log scale, so that every fit exists
 // (on the identity scale the reverse-KL fits do not: KL(q||p) is infinite).
+// It is their default now; named here, the benchmarks do not move with it.
 var logScale = ParamOptions{Scale: Log}
 
 func BenchmarkAnalyse1DDecayRate(b *testing.B) {
