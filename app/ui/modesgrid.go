@@ -77,7 +77,7 @@ func gridFacts(r *engine.Result, box []string) []app.UI {
 	if r.Grid.Scouted {
 		return []app.UI{
 			app.Dt().Text("exact reference"), app.Dd().Text("quadrature around the modes, on each parameter's unconstrained scale"),
-			app.Dt().Text("scouting grid"), app.Dd().Text(strings.Join(box, "; ") + " (for the box and the mode search's starts)"),
+			app.Dt().Text("scouting grid"), app.Dd().Text(strings.Join(box, "; ") + " (it only scouts, for the mode search's starts: the exact results and the plots come from the rule, whatever this box covers; a heavy tail can draw it far from the mass)"),
 			app.Dt().Text("log Z error estimate"), app.Dd().Text(fmtErr(r.Exact.LogZErr) + " (from the rule's nested steps)"),
 		}
 	}
