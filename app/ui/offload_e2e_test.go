@@ -356,3 +356,25 @@ func TestFitUnconstrainedOffer(t *testing.T) {
 		t.Errorf("the offer stays after it was taken")
 	}
 }
+
+// TestNoScaleOfferWithACandidate: a candidate Gaussian on the original
+// scale keeps a bounded parameter as it is (its default there), so the
+// infinite_kl diagnostic stands, but the button is not offered: on the log
+// scale the candidate would be refused.
+func TestNoScaleOfferWithACandidate(t *testing.T) {
+	h, e := mount(t, nil)
+	p := h.page
+	p.browser = newMemBrowser("")
+	waitIdle(t, p, e)
+	src := "#@ gaussian mine mean.m=1.2 mean.s=0.4 sd.m=0.2 sd.s=0.15\ny = [1.2, 0.8, 1.1, 1.6]\nparam m\nparam s in [0, inf]\n-log(s) + sum(ld_normal(y, m, s))\n"
+	p.Input(h.ctx, src)
+	e.ConsumeAll()
+	waitIdle(t, p, e)
+	res := p.s.Result
+	if res == nil || len(res.Scales) != 2 || res.Scales[1] != engine.Identity || len(res.Candidates) != 1 {
+		t.Fatalf("want s as it is and the candidate scored: %+v", res)
+	}
+	if out := app.HTMLString(&Outputs{Host: p, Out: p.resultView()}); !strings.Contains(out, "infinite_kl") || strings.Contains(out, FitUnconstrainedID) {
+		t.Errorf("want the infinite_kl diagnostic without the offer")
+	}
+}

@@ -1,7 +1,6 @@
 package ui
 
 import (
-	"math"
 	"strconv"
 
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
@@ -97,7 +96,11 @@ func diagnostics(r ResultView, host Host) app.UI {
 // that reason (the infinite_kl diagnostic): on the log or logit scale every
 // fit exists. Nil where there is nothing to offer.
 func unconstrainedOffer(res *engine.Result, m *model.Model) []scaleOffer {
-	if res == nil || m == nil || len(m.Params) != len(res.Params) {
+	if res == nil || m == nil || len(m.Params) != len(res.Params) || len(res.Candidates) > 0 {
+		// With a candidate Gaussian of the user's own the scale stays as it
+		// is: one given on the original scale is refused on a log or logit
+		// scale (that is why a bounded parameter's default is the identity
+		// there), one given on the fitting scale would change its meaning.
 		return nil
 	}
 	infinite := false
@@ -126,11 +129,8 @@ type scaleOffer struct {
 // whole line: log for [lo, inf], logit for [lo, hi]; "" for (-inf, hi] or
 // none.
 func unconstrainedScale(prm model.Param) engine.Scale {
-	switch {
-	case !math.IsInf(prm.Lo, 0) && !math.IsInf(prm.Hi, 0):
-		return transform.Logit
-	case !math.IsInf(prm.Lo, 0):
-		return transform.Log
+	if sc := transform.Unconstrained(prm.Lo, prm.Hi); !sc.IsIdentity() {
+		return sc
 	}
 	return ""
 }
