@@ -49,8 +49,13 @@ func (a *analysis) settleExact() {
 		varGone := r.improper(k) || o.TailShare[k] > tailShareAbsent || axisGone
 		meanGone := o.AbsTailShare[k] > absShareAbsent || r.improper(k)
 		if r.improper(k) {
-			// Nor do the quantiles of a marginal that is not integrable.
-			a.avail.dropAt(QuantityQuantiles, k, CodeImproper)
+			// Nor do the moments and quantiles of a marginal that is not
+			// integrable: absent for that reason, which the improper
+			// diagnostic gives (a warning per moment would repeat it).
+			for _, q := range []Quantity{QuantityQuantiles, QuantityMean, QuantityVariance, QuantitySkewness, QuantityKurtosis} {
+				a.avail.dropAt(q, k, CodeImproper)
+			}
+			continue
 		}
 		if varGone {
 			noVar = append(noVar, a.names[k])
@@ -163,6 +168,9 @@ func (a *analysis) dropOverflow() {
 	}
 	var names, lost []string
 	for k := 0; k < d; k++ {
+		if a.ref.improper(k) {
+			continue // absent as not integrable (settleExact), not as overflowed
+		}
 		if shapeLost(k) {
 			lost = append(lost, a.names[k])
 			a.avail.dropAt(QuantitySkewness, k, CodeOverflow)
