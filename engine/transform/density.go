@@ -156,10 +156,10 @@ func (t *Density) LogDensityBlock(cols [][]float64, out []float64) {
 // coordinate z, has come so close to a finite bound b of the support that
 // floating point no longer holds their distance: x rounded onto b, or
 // below 1e-290 from a bound at 0 (where x turns subnormal and loses its
-// digits). The model there is not the density at
-// z: a pole at the bound would read +inf where the density on the fitting
-// scale is finite, or the lost digits would make a flat tail look as if
-// it fell, so the point cannot be evaluated and its log-density is NaN.
+// digits). The model there is not the density at z: a pole at the bound
+// would read +inf where the density on the fitting scale is finite, or the
+// lost digits would make a flat tail look as if it fell, so the point
+// cannot be evaluated and its log-density is NaN.
 func (m Map) roundsToBound(z, x float64) bool {
 	if m.Scale.IsIdentity() || math.IsInf(z, 0) {
 		return false
