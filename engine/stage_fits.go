@@ -157,6 +157,15 @@ func (a *analysis) fitReverse(lap *fit.LaplaceFit) (rev, mfit *fit.VariationalFi
 		if ctxErr := a.ctx.Err(); ctxErr != nil {
 			return nil, ctxErr
 		}
+		if err == nil || errors.Is(err, fit.ErrNoConvergence) {
+			if k, ok := a.superExponential(vf.Gaussian); ok {
+				a.avail.drop(m.quantity(), CodeFitFailed)
+				a.diag.add(CodeFitFailed, SeverityError,
+					"No %s fit: log p falls faster than any exponential along %s (as -(t/lam)^k does along log k), so E_q[log p], and with it KL(q||p), is minus infinity for every Gaussian: there is no reverse-KL optimum on this scale, only the cubature's, which does not see that tail.",
+					label, a.axisName(k))
+				return nil, nil
+			}
+		}
 		switch {
 		case err == nil:
 			return &vf, nil
