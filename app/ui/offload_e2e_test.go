@@ -326,14 +326,8 @@ func sameAsPagesOwn(t *testing.T, p *Page, res *engine.Result) {
 // result has the reverse-KL fits (KL(q||p) finite: the support is the
 // whole line there).
 func TestFitUnconstrainedOffer(t *testing.T) {
-	h, e := mount(t, nil)
+	h, e := typedOnPage(t, "#@ scale s=identity\n"+fourReadings)
 	p := h.page
-	p.browser = newMemBrowser("")
-	waitIdle(t, p, e)
-	src := "#@ scale s=identity\ny = [1.2, 0.8, 1.1, 1.6]\nparam m\nparam s in [0, inf]\n-log(s) + sum(ld_normal(y, m, s))\n"
-	p.Input(h.ctx, src)
-	e.ConsumeAll()
-	waitIdle(t, p, e)
 	res := p.s.Result
 	if res == nil || res.Fits[engine.ReverseKL] != nil {
 		t.Fatalf("as it is, want no reverse-KL fit: %v", res)
@@ -362,14 +356,8 @@ func TestFitUnconstrainedOffer(t *testing.T) {
 // infinite_kl diagnostic stands, but the button is not offered: on the log
 // scale the candidate would be refused.
 func TestNoScaleOfferWithACandidate(t *testing.T) {
-	h, e := mount(t, nil)
+	h, _ := typedOnPage(t, "#@ gaussian mine mean.m=1.2 mean.s=0.4 sd.m=0.2 sd.s=0.15\n"+fourReadings)
 	p := h.page
-	p.browser = newMemBrowser("")
-	waitIdle(t, p, e)
-	src := "#@ gaussian mine mean.m=1.2 mean.s=0.4 sd.m=0.2 sd.s=0.15\ny = [1.2, 0.8, 1.1, 1.6]\nparam m\nparam s in [0, inf]\n-log(s) + sum(ld_normal(y, m, s))\n"
-	p.Input(h.ctx, src)
-	e.ConsumeAll()
-	waitIdle(t, p, e)
 	res := p.s.Result
 	if res == nil || len(res.Scales) != 2 || res.Scales[1] != engine.Identity || len(res.Candidates) != 1 {
 		t.Fatalf("want s as it is and the candidate scored: %+v", res)
@@ -377,4 +365,22 @@ func TestNoScaleOfferWithACandidate(t *testing.T) {
 	if out := app.HTMLString(&Outputs{Host: p, Out: p.resultView()}); !strings.Contains(out, "infinite_kl") || strings.Contains(out, FitUnconstrainedID) {
 		t.Errorf("want the infinite_kl diagnostic without the offer")
 	}
+}
+
+// fourReadings is a normal mean and sd from four readings under a 1/s
+// prior (our data): s is bounded, its default scale the log one.
+const fourReadings = "y = [1.2, 0.8, 1.1, 1.6]\nparam m\nparam s in [0, inf]\n-log(s) + sum(ld_normal(y, m, s))\n"
+
+// typedOnPage mounts a page with an in-memory browser, types src into it
+// and waits for its analysis.
+func typedOnPage(t *testing.T, src string) (*harness, app.TestEngine) {
+	t.Helper()
+	h, e := mount(t, nil)
+	p := h.page
+	p.browser = newMemBrowser("")
+	waitIdle(t, p, e)
+	p.Input(h.ctx, src)
+	e.ConsumeAll()
+	waitIdle(t, p, e)
+	return h, e
 }
