@@ -90,37 +90,43 @@ const maxNewton = 20
 
 // checkStart reports what is wrong with a start and settings for p.
 func checkStart(p target.Density, st Start, s Settings) error {
-	d := p.Dim()
-	if d < 1 || d > 4 {
-		return fmt.Errorf("%w: %d parameters (1 to 4 are supported)", ErrBadStart, d)
-	}
-	if len(st.Mode) != d {
-		return fmt.Errorf("%w: a mode of %d coordinates for %d parameters", ErrBadStart, len(st.Mode), d)
-	}
-	for k, v := range st.Mode {
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return fmt.Errorf("%w: coordinate %d of the mode is %g", ErrBadStart, k+1, v)
-		}
-	}
-	if s.Maps != nil && len(s.Maps) != d {
-		return fmt.Errorf("%w: %d maps for %d parameters", ErrBadStart, len(s.Maps), d)
-	}
-	for k, m := range s.Maps {
-		if err := m.Check(); err != nil {
-			return fmt.Errorf("%w: parameter %d: %v", ErrBadStart, k+1, err)
-		}
-	}
-	_, err := startCov(st, d)
+	_, err := startCovChecked(p, st, s)
 	return err
 }
 
+// startCovChecked checks the start as checkStart does and returns its
+// covariance (startCov).
+func startCovChecked(p target.Density, st Start, s Settings) ([]float64, error) {
+	d := p.Dim()
+	if d < 1 || d > 4 {
+		return nil, fmt.Errorf("%w: %d parameters (1 to 4 are supported)", ErrBadStart, d)
+	}
+	if len(st.Mode) != d {
+		return nil, fmt.Errorf("%w: a mode of %d coordinates for %d parameters", ErrBadStart, len(st.Mode), d)
+	}
+	for k, v := range st.Mode {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, fmt.Errorf("%w: coordinate %d of the mode is %g", ErrBadStart, k+1, v)
+		}
+	}
+	if s.Maps != nil && len(s.Maps) != d {
+		return nil, fmt.Errorf("%w: %d maps for %d parameters", ErrBadStart, len(s.Maps), d)
+	}
+	for k, m := range s.Maps {
+		if err := m.Check(); err != nil {
+			return nil, fmt.Errorf("%w: parameter %d: %v", ErrBadStart, k+1, err)
+		}
+	}
+	return startCov(st, d)
+}
+
 func newRule(ctx context.Context, p target.Density, st Start, s Settings) (*rule, error) {
-	if err := checkStart(p, st, s); err != nil {
+	cov, err := startCovChecked(p, st, s)
+	if err != nil {
 		return nil, err
 	}
 	d := p.Dim()
 	s = s.withDefaults()
-	cov, _ := startCov(st, d)
 	perm := s.Order
 	if perm == nil {
 		perm = identityOrder(d)
@@ -132,34 +138,14 @@ func newRule(ctx context.Context, p target.Density, st Start, s Settings) (*rule
 	r.h = s.Step
 	r.maxJ = int(math.Floor(s.MaxT/r.h + 1e-9))
 	r.em = expm1TableFor(r.h, r.maxJ)
-	r.maps = make([]transform.Map, d)
-	r.m = make([]float64, d)
-	r.xm = make([]float64, d)
-	cv := make([]float64, d*d)
-	for a := 0; a < d; a++ {
-		pa := r.perm[a]
-		r.maps[a] = transform.Map{Scale: transform.Identity, Lo: math.Inf(-1), Hi: math.Inf(1)}
-		if s.Maps != nil {
-			r.maps[a] = s.Maps[pa]
-		}
-		r.m[a] = st.Mode[pa]
-		r.xm[a] = r.maps[a].ToOriginal(r.m[a])
-		for b := 0; b < d; b++ {
-			cv[a*d+b] = cov[pa*d+r.perm[b]]
-		}
-	}
-	r.L = make([]float64, d*d)
-	if !cholesky(r.L, cv, d) {
-		return nil, fmt.Errorf("%w: the covariance is not positive definite", ErrBadStart)
-	}
-	r.ldL = cholLogDet(r.L, d) / 2
 	// The rule's scratch is carved from one array of floats and one of
-	// bools (a slice of a pair plot makes a rule per point: in 3-D, over
-	// 1,300 of them, whose forty-odd small allocations each were 6 % of
-	// the sensor example's analysis).
+	// bools: a pair plot makes a rule per point (in 3-D over 1,300), and
+	// their forty-odd small allocations each were 85,000 allocations of
+	// the sensor example's analysis with plots (27,000 now, with
+	// conditional's, and 3 to 4 % less time natively).
 	nw := r.lay.nWatch
 	n := 2*r.maxJ + 1
-	nf := 11*d + 3*d*d + 3*(1+8*d) + d*(6*d+d*d+3*r.lay.n+4*nw) + 3*n
+	nf := 13*d + 5*d*d + 3*(1+8*d) + d*(6*d+d*d+3*r.lay.n+4*nw) + 3*n
 	if d > 1 {
 		nf += n + max(d-2, 0)*n
 	}
@@ -176,6 +162,27 @@ func newRule(ctx context.Context, p target.Density, st Start, s Settings) (*rule
 		flags = flags[k:]
 		return out
 	}
+	r.maps = make([]transform.Map, d)
+	r.m = take(d)
+	r.xm = take(d)
+	cv := take(d * d)
+	for a := 0; a < d; a++ {
+		pa := r.perm[a]
+		r.maps[a] = transform.Map{Scale: transform.Identity, Lo: math.Inf(-1), Hi: math.Inf(1)}
+		if s.Maps != nil {
+			r.maps[a] = s.Maps[pa]
+		}
+		r.m[a] = st.Mode[pa]
+		r.xm[a] = r.maps[a].ToOriginal(r.m[a])
+		for b := 0; b < d; b++ {
+			cv[a*d+b] = cov[pa*d+r.perm[b]]
+		}
+	}
+	r.L = take(d * d)
+	if !cholesky(r.L, cv, d) {
+		return nil, fmt.Errorf("%w: the covariance is not positive definite", ErrBadStart)
+	}
+	r.ldL = cholLogDet(r.L, d) / 2
 	mk := func() []float64 { return take(d) }
 	r.u, r.ut, r.ut2, r.v, r.z, r.gz, r.gu, r.col, r.step, r.y, r.x = mk(), mk(), mk(), mk(), mk(), mk(), mk(), mk(), mk(), mk(), mk()
 	r.hz = take(d * d)

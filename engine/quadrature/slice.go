@@ -96,24 +96,32 @@ func (s *slice) Clone() target.Density {
 // false when the covariance of the fixed ones is singular.
 func conditional(mean, cov []float64, d int, fixed, free []int, val []float64) ([]float64, []float64, bool) {
 	nf, nr := len(fixed), len(free)
-	sff := make([]float64, nf*nf)
+	// One array for the scratch and the results (a pair plot conditions a
+	// slice per point).
+	buf := make([]float64, 2*nf*nf+2*nf+nr+nr*nf+nr*nr)
+	take := func(k int) []float64 {
+		out := buf[:k:k]
+		buf = buf[k:]
+		return out
+	}
+	sff := take(nf * nf)
 	for i, a := range fixed {
 		for j, b := range fixed {
 			sff[i*nf+j] = cov[a*d+b]
 		}
 	}
-	c := make([]float64, nf*nf)
+	c := take(nf * nf)
 	if !cholesky(c, sff, nf) {
 		return nil, nil, false
 	}
-	dv := make([]float64, nf)
+	dv := take(nf)
 	for i, a := range fixed {
 		dv[i] = val[i] - mean[a]
 	}
 	cholSolve(c, dv, nf)
-	m := make([]float64, nr)
-	k := make([]float64, nr*nf) // S_rf S_ff^-1, row by row
-	col := make([]float64, nf)
+	m := take(nr)
+	k := take(nr * nf) // S_rf S_ff^-1, row by row
+	col := take(nf)
 	for i, a := range free {
 		m[i] = mean[a]
 		for j, b := range fixed {
@@ -123,7 +131,7 @@ func conditional(mean, cov []float64, d int, fixed, free []int, val []float64) (
 		cholSolve(c, col, nf)
 		copy(k[i*nf:(i+1)*nf], col)
 	}
-	s := make([]float64, nr*nr)
+	s := take(nr * nr)
 	for i, a := range free {
 		for j, b := range free {
 			v := cov[a*d+b]
