@@ -37,3 +37,25 @@ ld_normal(a, 0, 2.5) + ld_normal(b1, 0, 2.5) + ld_normal(b2, 0, 2.5) + ld_normal
 		}
 	}
 }
+
+// TestImproperBothEdgesOnce: the 1/s prior alone, flat on s's log scale,
+// keeps mass at both faces of the box however far it widens: one message
+// names both edges (two, one per edge, said the same thing twice).
+func TestImproperBothEdgesOnce(t *testing.T) {
+	res := analyseSource(t, "param s in [0, inf]\n-log(s)\n", Options{})
+	both, perEdge := 0, 0
+	for _, d := range res.Diagnostics {
+		if d.Code != CodeImproper {
+			continue
+		}
+		if strings.Contains(d.Message, "both edges of s") {
+			both++
+		}
+		if strings.Contains(d.Message, "lower edge") || strings.Contains(d.Message, "upper edge") {
+			perEdge++
+		}
+	}
+	if both != 1 || perEdge != 0 {
+		t.Errorf("%d messages for both edges and %d per edge, want 1 and 0: %+v", both, perEdge, res.Diagnostics)
+	}
+}

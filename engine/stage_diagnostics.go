@@ -15,6 +15,7 @@ func (a *analysis) gridDiagnostics() {
 	}
 	sides := [2]string{"lower", "upper"}
 	for k := 0; k < a.d; k++ {
+		var stuck []int // the sides where mass stays however far the box widens
 		for side := 0; side < 2; side++ {
 			e := a.ref.edgeMass[k][side]
 			switch {
@@ -29,9 +30,7 @@ func (a *analysis) gridDiagnostics() {
 					"The grid's box was widened at the %s end of %s as far as it still resolves the density's centre, and %s of the mass remains in its outermost layer: the tails are heavy. The exact results come from the nested rule, which follows them; the comparisons, made on the grid, are those of the truncated box.",
 					sides[side], a.names[k], share(e))
 			case a.ref.box.Capped[k][side] && e > improperEdgeMass:
-				a.diag.add(CodeImproper, SeverityError,
-					"Mass stays at the %s edge of %s however far the box is widened (%s in its outermost layer): the density may be improper (not integrable) or too heavy-tailed for a grid, and the exact results are those of the truncated box.",
-					sides[side], a.names[k], share(e))
+				stuck = append(stuck, side)
 			case a.ref.box.Capped[k][side] && e > 1e-10:
 				a.diag.add(CodeEdgeMass, SeverityWarning,
 					"The box was widened at the %s end of %s as far as the grid still resolves the density's centre, and %s of the mass remains in its outermost layer: the tails are heavy, and the exact results are those of the truncated box.",
@@ -45,6 +44,16 @@ func (a *analysis) gridDiagnostics() {
 					"A share %s of the mass lies in the outermost layer of the grid at the %s end of %s: the box may cut off part of the density.",
 					share(e), sides[side], a.names[k])
 			}
+		}
+		switch len(stuck) {
+		case 1:
+			a.diag.add(CodeImproper, SeverityError,
+				"Mass stays at the %s edge of %s however far the box is widened (%s in its outermost layer): the density may be improper (not integrable) or too heavy-tailed for a grid, and the exact results are those of the truncated box.",
+				sides[stuck[0]], a.names[k], share(a.ref.edgeMass[k][stuck[0]]))
+		case 2:
+			a.diag.add(CodeImproper, SeverityError,
+				"Mass stays at both edges of %s however far the box is widened (%s and %s in the outermost layers): the density may be improper (not integrable) or too heavy-tailed for a grid, and the exact results are those of the truncated box.",
+				a.names[k], share(a.ref.edgeMass[k][0]), share(a.ref.edgeMass[k][1]))
 		}
 	}
 	f := &a.ref.fitting
