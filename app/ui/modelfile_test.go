@@ -261,3 +261,31 @@ func TestScaleChooserShowsTheDefault(t *testing.T) {
 		t.Errorf("a cost's bounded parameter %q, want identity", got)
 	}
 }
+
+// The plots' legend says which fits have no curve: the Weibull model's
+// reverse-KL fits do not exist (log p falls faster than any exponential
+// along log k), so their entries read "(none)" and are muted; the others
+// read as their names.
+func TestLegendMarksAbsentFits(t *testing.T) {
+	var s Session
+	if !s.Edit("t = [410, 620, 780, 950, 1210, 1530]\nparam k in [0, inf]\nparam lam in [0, inf]\n" +
+		"sum(log(k) - log(lam) + (k - 1)*log(t/lam) - (t/lam)^k) + ld_lognormal(k, 0, 1) + ld_lognormal(lam, 7, 1)\n") {
+		t.Fatal(s.Errors)
+	}
+	res, err := engine.Analyse(t.Context(), s.Model, s.Options(), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	pp := &PlotPanel{}
+	html := app.HTMLString(pp.legend(BuildFigures(res, View{})))
+	for _, want := range []string{"reverse KL (none)", "mean-field (none)", "legend-absent"} {
+		if !strings.Contains(html, want) {
+			t.Errorf("the legend lacks %q", want)
+		}
+	}
+	for _, absent := range []string{"Laplace (none)", "EP (none)", "exact (none)"} {
+		if strings.Contains(html, absent) {
+			t.Errorf("the legend says %q", absent)
+		}
+	}
+}

@@ -108,7 +108,12 @@ func (pp *PlotPanel) legend(fs *FigureSet) app.UI {
 		m := m
 		s := plot.StyleOf(m)
 		id := "bc-show-" + s.Key
-		items = append(items, app.Label().For(id).Class("legend-item").Title(s.Long).Body(
+		cls, title, name := "legend-item", s.Long, s.Name
+		if _, isFit := m.Fit(); isFit && fs.Result != nil && fitOf(fs.Result, m) == nil {
+			// No curve to look for: say so where the line would be named.
+			cls, title, name = "legend-item legend-absent", s.Long+": "+absentFit, s.Name+" (none)"
+		}
+		items = append(items, app.Label().For(id).Class(cls).Title(title).Body(
 			app.Input().Type("checkbox").ID(id).Checked(!pp.View.Hidden[m]).
 				OnChange(func(ctx app.Context, e app.Event) {
 					on, err := jsdom.Checked(id)
@@ -120,7 +125,7 @@ func (pp *PlotPanel) legend(fs *FigureSet) app.UI {
 					pp.Host.SetView(ctx, v.Log, v.Hidden)
 				}),
 			swatch(m),
-			app.Span().Text(s.Name),
+			app.Span().Text(name),
 		))
 	}
 	items = append(items, candidateLegend(fs.Result)...)
