@@ -192,11 +192,9 @@ func (a *analysis) quadratureStart(p *transform.Density, maps []transform.Map) (
 		// on the scouting grid no start stopped), and the start is the
 		// profile's along it, from the grid's highest point.
 		b := a.neckCoordinate()
-		from := make([]float64, d)
-		a.ref.grid.Point(a.ref.grid.ArgMax, from)
-		for k := range from {
-			from[k] = maps[k].FromOriginal(a.maps[k].ToOriginal(from[k]))
-		}
+		top := make([]float64, d)
+		a.ref.grid.Point(a.ref.grid.ArgMax, top)
+		from := a.startInside(top, maps)
 		from[b] = 0
 		if start, ok := a.profileStart(p, b, from); ok {
 			return start, false, true, nil

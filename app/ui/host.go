@@ -24,6 +24,6 @@ type Host interface {
 	// ForgetHistory deletes a model kept in the history, by its key.
 	ForgetHistory(ctx app.Context, key string)
 	// FitUnconstrained fits each named parameter on the log or logit scale
-	// of its support (unconstrainedScales) and analyses once.
+	// of its support (transform.Unconstrained) and analyses once.
 	FitUnconstrained(ctx app.Context, names []string)
 }

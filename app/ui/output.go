@@ -112,7 +112,7 @@ func unconstrainedOffer(res *engine.Result, m *model.Model) []scaleOffer {
 	}
 	var out []scaleOffer
 	for i, prm := range m.Params {
-		if sc := unconstrainedScale(prm); sc != "" && i < len(res.Scales) && res.Scales[i].IsIdentity() {
+		if sc := transform.Unconstrained(prm.Lo, prm.Hi); !sc.IsIdentity() && i < len(res.Scales) && res.Scales[i].IsIdentity() {
 			out = append(out, scaleOffer{Name: prm.Name, Scale: sc})
 		}
 	}
@@ -123,16 +123,6 @@ func unconstrainedOffer(res *engine.Result, m *model.Model) []scaleOffer {
 type scaleOffer struct {
 	Name  string
 	Scale engine.Scale
-}
-
-// unconstrainedScale is the scale on which a parameter's support is the
-// whole line: log for [lo, inf], logit for [lo, hi]; "" for (-inf, hi] or
-// none.
-func unconstrainedScale(prm model.Param) engine.Scale {
-	if sc := transform.Unconstrained(prm.Lo, prm.Hi); !sc.IsIdentity() {
-		return sc
-	}
-	return ""
 }
 
 func card(title, id string, body ...app.UI) app.UI {

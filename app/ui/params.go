@@ -46,7 +46,7 @@ func ParamViews(s *Session) []ParamView {
 			file = s.File.Params[i]
 		}
 		v := ParamView{File: file, Name: p.Name, Lo: p.Lo, Hi: p.Hi, Options: s.Param(p.Name), UsedLo: math.NaN(), UsedHi: math.NaN(),
-			Default: engine.ScaleOf(m, engine.Options{Candidates: s.File.Candidates}, i)}
+			Default: s.defaultScale(m, i)}
 		if r := s.Result; r != nil {
 			for k, name := range r.Params {
 				// A grid that only scouted is not the reference: the

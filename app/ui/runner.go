@@ -12,6 +12,7 @@ import (
 	"bellcheck/app/jsdom"
 	"bellcheck/engine"
 	"bellcheck/engine/model"
+	"bellcheck/engine/transform"
 )
 
 // Timing of the page's reactions.
@@ -387,7 +388,7 @@ func (p *Page) FitUnconstrained(ctx app.Context, names []string) {
 		if !slices.Contains(names, prm.Name) {
 			continue
 		}
-		if sc := unconstrainedScale(prm); sc != "" {
+		if sc := transform.Unconstrained(prm.Lo, prm.Hi); !sc.IsIdentity() {
 			o := p.s.Param(prm.Name)
 			o.Scale = sc
 			p.s.SetParam(prm.Name, o)

@@ -231,6 +231,13 @@ func (s *Session) Options() engine.Options {
 	return o
 }
 
+// defaultScale is the scale parameter i of m is fitted on where neither
+// the page nor the model's own lines name one (engine.ScaleOf, with the
+// model's candidates).
+func (s *Session) defaultScale(m *model.Model, i int) engine.Scale {
+	return engine.ScaleOf(m, engine.Options{Candidates: s.File.Candidates}, i)
+}
+
 // asIsWhereUnnamed returns the options by index (as a link holds them)
 // with the identity scale named for every parameter whose scale neither
 // they nor the model's own lines name and whose default is another: a
@@ -247,7 +254,7 @@ func (s *Session) asIsWhereUnnamed(params []engine.ParamOptions) []engine.ParamO
 		if out[i].Scale != "" || i < len(s.File.Params) && s.File.Params[i].Scale != "" {
 			continue
 		}
-		if engine.ScaleOf(m, engine.Options{Candidates: s.File.Candidates}, i) != engine.Identity {
+		if s.defaultScale(m, i) != engine.Identity {
 			out[i].Scale = engine.Identity
 		}
 	}
