@@ -82,7 +82,8 @@ func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (
 	var pilotPoints, pilotDerivs, pilotNodes int
 	if s.Order == nil {
 		ps := s
-		ps.Order = ScaleOrder(p, start)
+		var pinScale bool
+		ps.Order, pinScale = scaleOrder(p, start)
 		ps.Step = 2 * s.withDefaults().Step
 		ps.Progress = nil
 		if s.Progress != nil {
@@ -100,7 +101,7 @@ func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (
 		}
 		pilotPoints, pilotDerivs, pilotNodes = pr.points, pr.derivs, pr.nodes.Len()
 		if res, err := pr.result(start, ps); err == nil {
-			s.Order, main, pilot = fromPilot(res, start, ps.Order)
+			s.Order, main, pilot = fromPilot(res, start, ps.Order, pinScale)
 		} else {
 			s.Order = ps.Order
 		}
@@ -159,7 +160,7 @@ func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (
 // main rule is centred at its mean and whitened by its covariance, which
 // describe the mass better than the mode where the two differ (a funnel's
 // mode lies far down its neck).
-func fromPilot(res *Result, start Start, pilotOrder []int) ([]int, Start, bool) {
+func fromPilot(res *Result, start Start, pilotOrder []int, pinScale bool) ([]int, Start, bool) {
 	d := res.Dim
 	lap, err := startCov(start, d)
 	order := append([]int(nil), pilotOrder...)
@@ -182,8 +183,13 @@ func fromPilot(res *Result, start Start, pilotOrder []int) ([]int, Start, bool) 
 	// covariance (several modes' mixture, or the grid's moments where the
 	// density has no mode) has no curvature to compare with: the pilot's
 	// order stands.
-	for i := 1; i < d && start.NegHessian != nil; i++ {
-		for j := i; j > 0 && ratio[order[j]]*1.5 < ratio[order[j-1]]; j-- {
+	// A decisive scale (scaleOrder) stays outermost.
+	first := 0
+	if pinScale {
+		first = 1
+	}
+	for i := first + 1; i < d && start.NegHessian != nil; i++ {
+		for j := i; j > first && ratio[order[j]]*1.5 < ratio[order[j-1]]; j-- {
 			order[j], order[j-1] = order[j-1], order[j]
 		}
 	}

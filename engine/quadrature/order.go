@@ -28,18 +28,25 @@ import (
 // outside; see TestScaleOrderPutsTheScaleOutside). It costs 2d
 // evaluations of the Hessian.
 func ScaleOrder(p target.Density, start Start) []int {
+	order, _ := scaleOrder(p, start)
+	return order
+}
+
+// scaleOrder is ScaleOrder, and reports whether its first parameter is a
+// decisive scale (see decisiveScale).
+func scaleOrder(p target.Density, start Start) ([]int, bool) {
 	d := p.Dim()
 	order := identityOrder(d)
 	cov, err := startCov(start, d)
 	if err != nil || d == 1 {
-		return order
+		return order, false
 	}
 	g := make([]float64, d)
 	h0 := make([]float64, d*d)
 	h := make([]float64, d*d)
 	x := make([]float64, d)
 	if f := p.LogDensityDerivs(start.Mode, g, h0); math.IsNaN(f) || math.IsInf(f, 0) {
-		return order
+		return order, false
 	}
 	score := make([]float64, d)
 	uncorrelated := make([]float64, d) // the same, b's part weighted by 1 - |corr(a, b)|
@@ -89,12 +96,32 @@ func ScaleOrder(p target.Density, start Start) []int {
 			uncorrelated[a] += change * (1 - min(corr, 1))
 		}
 	}
-	if slices.Max(uncorrelated) >= scaleScoreMin {
+	decisive := false
+	if top := slices.Max(uncorrelated); top >= scaleScoreMin {
+		next := 0.0
+		for a, v := range uncorrelated {
+			if v != top || a != slices.Index(uncorrelated, top) {
+				next = max(next, v)
+			}
+		}
+		decisive = top >= decisiveScale*next
 		score = uncorrelated
 	}
 	sort.SliceStable(order, func(i, j int) bool { return score[order[i]] > score[order[j]]+1e-9 })
-	return order
+	return order, decisive
 }
+
+// decisiveScale is how many times the next parameter's score a scale's
+// uncorrelated score must be for it to stay outermost whatever the
+// pilot's variances say (fromPilot). Two group means under a shared sd
+// with a half-Cauchy prior (the sd's score 8.7, the others' 0.84 at
+// most): the pilot's variance ratios put the group means outside, where
+// the pair of means has a logarithmic ridge along their diagonal (the sd
+// near 0 makes them equal), and the walks along the sd at outer nodes next
+// to that ridge ran 22 units of log sd from a width of 1e-7 and did not
+// end: the rule called the density improper. With the sd outside, each
+// of its nodes leaves a Gaussian inside.
+const decisiveScale = 4
 
 // scaleScoreMin is the least score, counting only the changes of the
 // curvature of parameters uncorrelated with the one moved, of a parameter
