@@ -52,6 +52,12 @@ type Exact struct {
 	Quantiles      [][3]float64 `json:"quantiles"`
 	Skewness       []float64    `json:"skewness"`
 	ExcessKurtosis []float64    `json:"excess_kurtosis"`
+	// Rule reports that these results come from the nested rule around
+	// the modes (on each parameter's unconstrained scale); false where the
+	// grid is the reference. With the rule, a grid that did not only scout
+	// (Grid.Scouted false) was evaluated in full for the marginals whose
+	// quantiles and plots the rule's walks do not resolve.
+	Rule bool `json:"rule,omitempty"`
 }
 
 // Fits holds the Gaussian approximations, indexed by Method; a nil fit

@@ -214,6 +214,7 @@ func (a *analysis) fillExact(res *Result) {
 	o := &a.ref.original
 	d := a.d
 	ex := &res.Exact
+	ex.Rule = a.ref.onNodes()
 	ex.LogZ = a.ref.logZ
 	ex.LogZErr = a.ref.logZErr + a.ref.tailMass
 	nan := math.NaN()

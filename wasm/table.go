@@ -32,11 +32,17 @@ func writeTable(w io.Writer, name string, r *engine.Result) {
 		}
 		fmt.Fprintf(w, "fitted: %s%s\n", strings.Join(scales, ", "), rest)
 	}
-	if r.Grid.Scouted {
+	switch {
+	case r.Exact.Rule && r.Grid.Scouted:
 		// The exact results are the nested rule's; the grid only scouted.
 		fmt.Fprintf(w, "exact: quadrature around the modes (scouting grid %s points); log Z = %s (error estimate %s)\n\n",
 			joinInts(r.Grid.Points, " x "), num(r.Exact.LogZ), num(r.Exact.LogZErr))
-	} else {
+	case r.Exact.Rule:
+		// The rule's, with a full grid for the marginals its walks do
+		// not resolve.
+		fmt.Fprintf(w, "exact: quadrature around the modes, with a grid of %s points for the marginals its walks do not resolve; log Z = %s (error estimate %s)\n\n",
+			joinInts(r.Grid.Points, " x "), num(r.Exact.LogZ), num(r.Exact.LogZErr))
+	default:
 		fmt.Fprintf(w, "exact: grid of %s points; log Z = %s (error estimate %s)\n\n",
 			joinInts(r.Grid.Points, " x "), num(r.Exact.LogZ), num(r.Exact.LogZErr))
 	}

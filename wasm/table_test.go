@@ -53,3 +53,39 @@ func TestTableFitsOnTheOriginalScale(t *testing.T) {
 		}
 	}
 }
+
+// The table's first line names the exact reference: the nested rule where
+// the grid only scouted (a normal), the rule with a full grid beside it for
+// a marginal its walks do not resolve (the banana's y, whose conditional
+// given y far out is bimodal), and the grid where it is the reference (a
+// density with an undefined region next to its mass, the catalogue's
+// gap case: the rule gives way to the grid's end corrections).
+func TestTableNamesTheReference(t *testing.T) {
+	cases := []struct {
+		name, src string
+		rule, scouted bool
+		want          string
+	}{
+		{"normal", "param x\n-x^2/2", true, true, "exact: quadrature around the modes (scouting grid"},
+		{"banana", "param x\nparam y\n-x^2/200 - (y + 0.05*x^2 - 5)^2/2", true, false, "exact: quadrature around the modes, with a grid of 301 x 301 points for the marginals its walks do not resolve"},
+		{"edge", "param x\nparam y\n-x^2/2 - y^2/2 + log(x + y + 1.5)", false, false, "exact: grid of"},
+	}
+	for _, c := range cases {
+		m, err := model.Parse(c.src)
+		if err != nil {
+			t.Fatal(err)
+		}
+		r, err := engine.Analyse(context.Background(), m, engine.Options{}, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if r.Exact.Rule != c.rule || r.Grid.Scouted != c.scouted {
+			t.Errorf("%s: rule %v, scouted %v; want %v, %v", c.name, r.Exact.Rule, r.Grid.Scouted, c.rule, c.scouted)
+		}
+		var b bytes.Buffer
+		writeTable(&b, c.name, r)
+		if !strings.Contains(b.String(), "\n"+c.want) {
+			t.Errorf("%s: the table does not say %q:\n%s", c.name, c.want, b.String())
+		}
+	}
+}

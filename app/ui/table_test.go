@@ -1,7 +1,10 @@
 package ui
 
 import (
+	"strings"
 	"testing"
+
+	"github.com/maxence-charriere/go-app/v10/pkg/app"
 
 	"bellcheck/app/plot"
 )
@@ -124,6 +127,35 @@ func TestFmtCorr(t *testing.T) {
 	for _, c := range cases {
 		if got := fmtCorr(c.v); got != c.want {
 			t.Errorf("fmtCorr(%g) = %q, want %q", c.v, got, c.want)
+		}
+	}
+}
+
+// The grid's facts name the exact reference: the grid that only scouted
+// beside the rule, the grid evaluated in full beside the rule (for the
+// marginals its walks do not resolve), and the grid as the reference, each
+// with the source of its log Z error estimate.
+func TestGridFactsNameTheReference(t *testing.T) {
+	cases := []struct {
+		rule, scouted bool
+		want          []string
+	}{
+		{true, true, []string{"quadrature around the modes", "it only scouts", "nested steps"}},
+		{true, false, []string{"quadrature around the modes", "evaluated in full", "nested steps"}},
+		{false, false, []string{"change from half resolution"}},
+	}
+	for _, c := range cases {
+		r := gaussResult([]string{"a", "b"}, []float64{0, 1}, [][]float64{{1, 0}, {0, 1}}, 0)
+		r.Exact.Rule, r.Grid.Scouted = c.rule, c.scouted
+		r.Grid.Lo, r.Grid.Hi, r.Grid.Points = []float64{-5, -4}, []float64{5, 6}, []int{31, 31}
+		html := app.HTMLString(&ModesGrid{Shown: &Shown{Result: r}})
+		for _, w := range c.want {
+			if !strings.Contains(html, w) {
+				t.Errorf("rule %v, scouted %v: the facts do not say %q:\n%s", c.rule, c.scouted, w, html)
+			}
+		}
+		if !c.rule && strings.Contains(html, "quadrature around the modes") {
+			t.Errorf("the grid as the reference, yet the facts name the rule:\n%s", html)
 		}
 	}
 }
