@@ -137,6 +137,7 @@ func (a *analysis) run() (*Result, error) {
 	if err := a.findModes(); err != nil {
 		return nil, err
 	}
+	a.checkODESteps()
 	if useQuadrature {
 		if err := a.exactByQuadrature(); err != nil {
 			return nil, err

@@ -87,6 +87,9 @@ import (
 //	                                       that looks like a misspelling of it
 //	implicit_lookalike     warning         a parameter used without a param line whose name looks like a
 //	                                       misspelling of a declared parameter or a definition
+//	ode_steps              warning         with twice its substeps an ode block changes log p at the modes (and two
+//	                                       sds either side of the highest) by amounts that differ by more than 0.1:
+//	                                       the posterior follows the Runge-Kutta step, not the equations
 //	rule_missed_mass       info            the nested rule's log Z fell short of a grid that resolves the density
 //	                                       (a mode far narrower than the others, stepped over): the exact results
 //	                                       are the grid's
@@ -119,6 +122,7 @@ const (
 	CodeRuleMissedMass      = "rule_missed_mass"
 	CodeUnusedParam         = "unused_param"
 	CodeImplicitLookalike   = "implicit_lookalike"
+	CodeODESteps            = "ode_steps"
 )
 
 // Thresholds of the diagnostics.

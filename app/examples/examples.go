@@ -186,7 +186,7 @@ cost ((x0 - 4)^2 + (y0 - 5)^2 + (z0 - 13)^2)/(2*4^2) + sum((x - x_seen)^2)/(2*3^
 	{
 		ID:    "lorenz-long",
 		Title: "Lorenz-63, long window",
-		Shows: "The same starting state from ten readings over two and a half time units: the longer window's cost has many more local minima.",
+		Shows: "The same starting state from ten readings over two and a half time units: the longer window's cost has many more local minima, and five Runge-Kutta substeps per reading no longer follow the equations away from the best fit (the step check warns).",
 		Source: `# The same system, background and readings, read on for two and a half
 # time units: the longer the window, the more local minima the cost has
 # (Pires, Vautard and Talagrand 1996). Over this box it has over twenty

@@ -212,3 +212,52 @@ func TestLorenzBenchFilesAreTheExamples(t *testing.T) {
 		}
 	}
 }
+
+// Over the long window five Runge-Kutta substeps per reading do not follow
+// the equations two sds from the best fit; over the short one they do. The
+// plain Go cost says so independently: at (4.962, 5.558, 16.61), where the
+// engine's ode_steps warning points, J is 46.77 with five substeps, 35.21
+// with ten, 35.92 with twenty and 35.95 with two hundred (and at the best
+// fit 2.09, 2.21, 2.22, 2.22): with twice the substeps J changes by more
+// than odeStepTol's 0.1 more there than at the best fit. The short window's
+// change spreads by 0.083 over the same kind of points (its best fit and
+// two Laplace sds along each axis), under the threshold.
+func TestLongWindowStepWarning(t *testing.T) {
+	for _, id := range []string{"lorenz-short", "lorenz-long"} {
+		c, m := exampleCost(t, id)
+		e, _ := ByID(id)
+		r, err := engine.Analyse(context.Background(), m, exampleOptions(e, m), nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		warned := false
+		for _, d := range r.Diagnostics {
+			warned = warned || d.Code == engine.CodeODESteps
+		}
+		if warned != (id == "lorenz-long") {
+			t.Errorf("%s: ode_steps warning %v, want it for the long window only", id, warned)
+		}
+		// The plain Go cost's own change between 5 and 10 substeps, at
+		// the best fit and two Laplace sds along each axis.
+		best := r.Modes[0].X
+		lap := r.Fits[engine.Laplace]
+		if lap == nil {
+			t.Fatalf("%s: no Laplace fit", id)
+		}
+		fine := *c
+		fine.substeps = 10
+		change := func(x []float64) float64 { return fine.value(x) - c.value(x) }
+		spread := 0.0
+		for k := range best {
+			for _, side := range []float64{-2, 2} {
+				x := append([]float64(nil), best...)
+				x[k] += side * lap.SD[k]
+				spread = max(spread, math.Abs(change(x)-change(best)))
+			}
+		}
+		t.Logf("%s: the plain cost's change with twice the substeps spreads by %.3g over the points", id, spread)
+		if (spread > 0.1) != (id == "lorenz-long") {
+			t.Errorf("%s: the plain cost's change spreads by %.3g, against the warning %v", id, spread, warned)
+		}
+	}
+}
