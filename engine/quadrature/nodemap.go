@@ -149,8 +149,9 @@ func (lv *nodeMap) startIndex(em *expm1Table, sign int) int {
 // log-density drops beyond which a side counts as doubly exponential (a
 // Gaussian gives 4, an exponential tail 2, an algebraic one less).
 const (
-	probeR     = 4
-	probeRatio = 8
+	probeR        = 4
+	probeRatio    = 8
+	probeGaussian = 4 // a Gaussian's drop ratio between 16 and 8 sds
 	// linearWidth is w / sd of the linear map: a step of h = 0.25 is half
 	// a standard deviation.
 	linearWidth = 2
@@ -158,8 +159,8 @@ const (
 
 // chooseMap probes the conditional log-density along axis k at 4 and 8
 // standard deviations on each side of the centre (the inner axes at their
-// predicted modes), and makes the map linear when a side falls doubly
-// exponentially; where the fall is fast enough to need a finer step than
+// predicted modes), and at 16 where those two say doubly exponential, and
+// makes the map linear when a side falls doubly exponentially; where the fall is fast enough to need a finer step than
 // the map's width gives (see stripStep), the width is capped, and on the
 // outermost axis of a rule over several parameters the shape then follows
 // the profile over the inner axes (profileAt) instead of the line.
@@ -215,7 +216,13 @@ func (r *rule) chooseMap(k int, sd float64) {
 				continue
 			}
 			d2 := drop(side * 2 * probeR * sd)
-			if d2 > probeRatio*d1 {
+			// A side that falls doubly exponentially keeps falling at
+			// least as fast as a Gaussian out to 16 sds; one whose drop
+			// then grows less (a mixture's mean given the other: past the
+			// valley between the components, only its prior's slow tail
+			// is left: 0.44, 4.5, 12) was a local feature, and a linear
+			// map walked out of MaxT before that tail ended.
+			if d2 > probeRatio*d1 && !(drop(side*4*probeR*sd) < probeGaussian*d2) {
 				de[i] = true
 				if !math.IsInf(d2, 1) {
 					rate[i] = math.Log(d2/d1-1) / probeR
