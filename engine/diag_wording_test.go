@@ -59,3 +59,26 @@ func TestImproperBothEdgesOnce(t *testing.T) {
 		t.Errorf("%d messages for both edges and %d per edge, want 1 and 0: %+v", both, perEdge, res.Diagnostics)
 	}
 }
+
+// An improper density's improper error comes first among the errors, before
+// the missing mode and the failed fits it causes: an exponential decay's
+// rate with no prior (flat on [0, inf]), whose likelihood tends to a
+// constant as the rate grows (the curve then drops to the background
+// right after t = 0), so the posterior's mass along it is infinite.
+func TestImproperComesFirst(t *testing.T) {
+	res := analyseSource(t, `t = [0, 1, 2, 3, 4, 5, 6, 7, 8]
+y = [10.2, 6.9, 4.8, 3.6, 2.9, 2.3, 2.2, 1.9, 2.0]
+param A in [0, inf]
+param k in [0, inf]
+param c
+param s in [0, inf]
+sum(ld_normal(y, A*exp(-k*t) + c, s)) - log(s) + ld_normal(c, 0, 10)
+`, Options{})
+	if len(res.Diagnostics) == 0 || res.Diagnostics[0].Code != CodeImproper {
+		var codes []string
+		for _, d := range res.Diagnostics {
+			codes = append(codes, d.Code)
+		}
+		t.Errorf("diagnostics %v: want improper first", codes)
+	}
+}

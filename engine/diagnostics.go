@@ -181,8 +181,25 @@ func (d *diagnostics) drop(code string) {
 func (d *diagnostics) sorted() []Diagnostic {
 	rank := map[string]int{SeverityError: 0, SeverityWarning: 1, SeverityInfo: 2}
 	out := append([]Diagnostic{}, d.list...) // never nil: none is [] in the JSON
-	slices.SortStableFunc(out, func(x, y Diagnostic) int { return cmp.Compare(rank[x.Severity], rank[y.Severity]) })
+	slices.SortStableFunc(out, func(x, y Diagnostic) int {
+		if c := cmp.Compare(rank[x.Severity], rank[y.Severity]); c != 0 {
+			return c
+		}
+		return cmp.Compare(rootRank(x.Code), rootRank(y.Code))
+	})
 	return out
+}
+
+// rootRank puts first, within a severity, the diagnostics that explain
+// the others: an improper density or an unused parameter (a decay rate
+// with no prior, whose likelihood tends to a constant as it grows, read
+// first "no mode", "unresolved" and two failed fits, and only then why).
+func rootRank(code string) int {
+	switch code {
+	case CodeUnusedParam, CodeImproper:
+		return 0
+	}
+	return 1
 }
 
 // percent formats a share of the mass for a sentence.
