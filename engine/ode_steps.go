@@ -95,6 +95,6 @@ func (a *analysis) checkODESteps() {
 		where = "another mode"
 	}
 	a.diag.add(CodeODESteps, SeverityWarning,
-		"The ode block's trajectory depends on its step: with twice the substeps, log p changes by %.3g at the highest mode (%s) and by %.3g at %s (%s). The Runge-Kutta steps are too coarse for the system's rates there, so the results follow the step rather than the equations (a mode may be an artefact of the step): raise the block's substeps until the results stop changing.",
+		"The ode block's trajectory depends on its step: with twice the substeps, log p changes by %.3g at the highest mode (%s) and by %.3g at %s (%s). The Runge-Kutta steps are too coarse for the system's rates there, so the results follow the step rather than the equations, and a mode there may be an artefact of the step (where a rate has no upper bound, such a mode moves with the step instead of going away). Raise the block's substeps until the results stop changing, or give the rates a prior that keeps them where the step resolves them.",
 		change[0], a.pointString(points[0]), change[far], where, a.pointString(points[far]))
 }
