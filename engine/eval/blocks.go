@@ -145,7 +145,7 @@ func (c *compiler) unrollRecurrence(s *model.BlockStmt) []int32 {
 	}
 	res := make([]int32, len(comps))
 	for i := range res {
-		res[i] = c.b.unrolledPack(outs[i])
+		res[i] = c.b.statePack(outs[i])
 	}
 	return res
 }
@@ -198,7 +198,7 @@ func (c *compiler) unrollODE(s *model.BlockStmt) []int32 {
 	}
 	res := make([]int32, len(comps))
 	for i := range res {
-		res[i] = b.unrolledPack(outs[i])
+		res[i] = b.statePack(outs[i])
 	}
 	return res
 }

@@ -49,6 +49,10 @@ type builder struct {
 	// data element (EP's sites), where the evaluator's rewrites would leave
 	// a few factors of all the data each.
 	perElement bool
+	// states holds the nodes of a block's state values (the elements of
+	// its components' packs): SplitFactors takes each as a whole, where
+	// its sums are the trajectory's steps, not terms of the density.
+	states map[int32]bool
 }
 
 func newBuilder() *builder {

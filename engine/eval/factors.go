@@ -185,7 +185,14 @@ func (fs *Factors) decompose(b *builder, id int32, scale float64, guards []guard
 		fs.konst += scale * nd.val
 		return
 	}
-	switch nd.op {
+	op := nd.op
+	if b.states[id] {
+		// A block's state value is one term: its sums are the
+		// trajectory's steps, not terms of the density (an epidemic's
+		// 14 Poisson counts split into 3,398 terms through them).
+		op = opNone
+	}
+	switch op {
 	case opAdd:
 		fs.decompose(b, nd.a, scale, guards, out)
 		fs.decompose(b, nd.b, scale, guards, out)

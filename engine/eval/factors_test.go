@@ -41,6 +41,32 @@ var factorModels = []struct {
 	// A misfit of an ode block's trajectory (the block's components are
 	// unrolled into scalars, so the sum splits into scalar terms).
 	{"ode misfit", lorenzMisfit, 4, false},
+	// Counts of an ode block's state: a state value is one term.
+	{"ode counts", decayCounts, 4, false},
+}
+
+// decayCounts is a Poisson likelihood of an ode block's state (a decaying
+// source's counts at three times, invented), whose terms -I are linear in
+// the state: the split must not descend into its Runge-Kutta sums.
+const decayCounts = `t = [1, 2, 3]
+k = [9, 5, 3]
+param r in [0, inf]
+param a in [0, inf]
+ode t from 0 substeps 8
+  I = a rate -r*I
+end
+sum(ld_poisson(k, I)) + ld_lognormal(r, 0, 1) + ld_lognormal(a, 2, 1)
+`
+
+// TestFactorsTakeStatesWhole: the counts' split gives a few terms per
+// count and the priors (17 in all), not the Runge-Kutta steps of I (8
+// substeps of 4 stages between each pair of times: hundreds of additive
+// terms, the split's cap of 256 scalar terms reached).
+func TestFactorsTakeStatesWhole(t *testing.T) {
+	fs := splitSrc(t, decayCounts)
+	if n := fs.Len(); n > 20 {
+		t.Errorf("%d factors: want at most 20: a few per count and the priors' and supports'", n)
+	}
 }
 
 // lorenzMisfit is a strong-constraint 4D-Var cost for the Lorenz-63

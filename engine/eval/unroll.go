@@ -50,11 +50,24 @@ func (b *builder) elem(v int32, i int) int32 {
 	return b.fail(ErrNotChecked, "cannot take an element of a %s vector", ops[x.op].name)
 }
 
+// statePack builds the pack of a block's state component (marked
+// unrolled), and records its elements as state values (builder.states).
+func (b *builder) statePack(elems []int32) int32 {
+	if b.states == nil {
+		b.states = map[int32]bool{}
+	}
+	for _, e := range elems {
+		b.states[e] = true
+	}
+	return b.unrolledPack(elems)
+}
+
 // unrolledPack builds a pack marked unrolled.
 func (b *builder) unrolledPack(elems []int32) int32 {
 	if b.err != nil {
 		return 0
 	}
+
 	id := b.pack(elems)
 	if nd := b.nd(id); nd.op == opPack {
 		nd.unrolled = true
