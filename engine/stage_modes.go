@@ -357,6 +357,23 @@ func (a *analysis) spreadStarts(modes []fit.Mode, masses []float64) ([]fit.Mode,
 			higher = i
 		}
 	}
+	if higher >= 0 && !modes[best].Converged && !modes[best].PositiveDefinite {
+		// The peaks' best was no mode: Newton stalled where log p is
+		// nearly flat (normal readings with three censored, whose
+		// scouting box chased the tails out to s = 1.6e12: it stopped at
+		// m = 4.8e9, s = 4.4e9 after 200 steps, log p 105 below the
+		// optimum). Such points go; the optimum the spread starts found
+		// is the search's, and no start disagrees with it.
+		var real []fit.Mode
+		var realMasses []float64
+		for i, m := range modes {
+			if m.Converged || m.PositiveDefinite || m.LogDensity >= modes[higher].LogDensity {
+				real = append(real, m)
+				realMasses = append(realMasses, masses[i])
+			}
+		}
+		return real, realMasses, nil
+	}
 	if higher >= 0 {
 		// pointString takes the fitting scale (mapping the point to the
 		// original one itself: mapping it here too printed e^(e^z), +Inf

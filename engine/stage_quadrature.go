@@ -132,10 +132,14 @@ func (a *analysis) integrateNested() (*quadrature.Result, []transform.Map, error
 // sd 0.05 holding 30 % of the mass, 8 sds of the wide one away: the rule's
 // log Z was log 0.7 and its mean that of the wide component alone, while
 // the 1,001-point grid saw both). The grid's own log Z is a lower bound up
-// to its resolution (its box leaves out the tails), so only a rule short
-// of it by more than missedMassTol, or four times the grid's half-
-// resolution change, is refused; the grid's results then stand. Where the
-// rule found more (tails beyond the box), it stands.
+// to its resolution (its box leaves out the tails), so a rule short of it
+// by more than missedMassTol is refused, and by less where the shortfall
+// exceeds four times the grid's half-resolution change and twice the
+// rule's own estimate (at least missedMassFloor): a normal density times
+// exp(3 cos 20x), whose rule stepped over its wiggles far out, was 2.7e-3
+// short of the grid's log Z (which was right to 1e-13) with an estimate
+// of 7.7e-4. The grid's results then stand. Where the rule found more
+// (tails beyond the box), it stands.
 func (a *analysis) ruleMissesGridMass(q *quadrature.Result) bool {
 	if q.Improper || a.ref.grid == nil {
 		return false
@@ -147,8 +151,12 @@ func (a *analysis) ruleMissesGridMass(q *quadrature.Result) bool {
 	if math.IsNaN(st.LogZ) || math.IsInf(st.LogZ, 0) || !(st.LogZErr < 0.1) {
 		return false
 	}
-	return q.LogZ < st.LogZ-max(missedMassTol, 4*st.LogZErr)
+	return q.LogZ < st.LogZ-min(missedMassTol, max(4*st.LogZErr+2*q.LogZErr, missedMassFloor))
 }
+
+// missedMassFloor is the least shortfall that ruleMissesGridMass counts
+// where both error estimates are small.
+const missedMassFloor = 1e-6
 
 // missedMassTol is the least shortfall of the rule's log Z below the
 // grid's that ruleMissesGridMass counts as missed mass: about half a
