@@ -28,8 +28,9 @@ import (
 //	                                       the curvature there is numerically zero (e.g. exp(-x^4/4) at 0)
 //	mode_on_bound          warning         no Laplace fit: the highest mode lies on a bound of the support
 //	no_mode                error           the mode search found no mode (no Laplace fit)
-//	no_convergence         warning         a reverse-KL or the EP fit stopped before its tolerance; its last iterate
-//	                                       is shown and marked (Converged false)
+//	no_convergence         warning / info  a reverse-KL or the EP fit stopped before its tolerance; its last iterate
+//	                                       is shown and marked (Converged false); a note where a reverse-KL fit
+//	                                       stopped within 1e-4 of its sds of its fixed point (shown as converged)
 //	ep_single_factor       info            no EP fit: the density is one factor that cannot be split, so EP would
 //	                                       be the forward-KL fit
 //	ep_improper_site       warning         EP skipped site updates in its last sweep (an improper cavity or
