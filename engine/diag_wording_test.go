@@ -82,3 +82,19 @@ sum(ld_normal(y, A*exp(-k*t) + c, s)) - log(s) + ld_normal(c, 0, 10)
 		t.Errorf("diagnostics %v: want improper first", codes)
 	}
 }
+
+// An sd declared with no bound (param s, used in ld_normal, which is -inf
+// for s < 0): the infinite_kl warning names s and the declaration that
+// brings the reverse-KL fits back.
+func TestInfiniteKLNamesTheUndeclaredScale(t *testing.T) {
+	res := analyseSource(t, "y = [2.1, 1.8, 2.5]\nparam m\nparam s\nsum(ld_normal(y, m, s))\n", Options{})
+	var msg string
+	for _, d := range res.Diagnostics {
+		if d.Code == CodeInfiniteKL {
+			msg = d.Message
+		}
+	}
+	if !strings.Contains(msg, "param s in [0, inf]") {
+		t.Errorf("infinite_kl %q: want it to name param s in [0, inf]", msg)
+	}
+}

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 	"strings"
 
 	"gonum.org/v1/gonum/mat"
@@ -318,9 +319,41 @@ func (a *analysis) boundedKL(infiniteKL bool) {
 			"The support of %s is bounded, so every Gaussian puts mass where the density is zero: %s; fit %s on the log or logit scale, where they exist.",
 			list(boundedNames), what, list(boundedNames))
 	} else if infiniteKL {
+		if k := a.signBounded(); k >= 0 {
+			a.diag.add(CodeInfiniteKL, SeverityWarning,
+				"The density is zero where the reverse-KL cubature reaches, so KL(q||p) is infinite for every Gaussian and the reverse-KL fits do not exist. It is zero for %s below 0: declare its support, as in param %s in [0, inf], and it is fitted on its log scale, where they exist.",
+				a.names[k], a.names[k])
+			return
+		}
 		a.diag.add(CodeInfiniteKL, SeverityWarning,
 			"The density is zero where the reverse-KL cubature reaches, so KL(q||p) is infinite for every Gaussian and the reverse-KL fits do not exist; if a parameter is bounded, declare its support and fit it on the log or logit scale.")
 	}
+}
+
+// signBounded returns a parameter declared with no bound that the density
+// keeps positive: at the highest mode it is positive and log p finite,
+// and with its coordinate negated log p is minus infinity or undefined
+// (an sd left as param s in an ld_normal); -1 for none.
+func (a *analysis) signBounded() int {
+	if len(a.modes.modes) == 0 {
+		return -1
+	}
+	x := slices.Clone(a.modes.modes[0].X)
+	if f := a.ev.LogDensity(x); math.IsNaN(f) || math.IsInf(f, 0) {
+		return -1
+	}
+	for k, prm := range a.m.Params {
+		if !math.IsInf(prm.Lo, -1) || !math.IsInf(prm.Hi, 1) || !(x[k] > 0) {
+			continue
+		}
+		x[k] = -x[k]
+		f := a.ev.LogDensity(x)
+		x[k] = -x[k]
+		if math.IsNaN(f) || math.IsInf(f, -1) {
+			return k
+		}
+	}
+	return -1
 }
 
 // varianceSettled reports that the exact variance on the fitting scale
