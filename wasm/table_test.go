@@ -56,18 +56,19 @@ func TestTableFitsOnTheOriginalScale(t *testing.T) {
 
 // The table's first line names the exact reference: the nested rule where
 // the grid only scouted (a normal), the rule with a full grid beside it for
-// a marginal its walks do not resolve (the banana's y, whose conditional
-// given y far out is bimodal), and the grid where it is the reference (a
+// a marginal its walks do not resolve (the 3-D funnel's x1 and x2, whose
+// marginals are far more peaked than their spread), and the grid where it
+// is the reference (a
 // density with an undefined region next to its mass, the catalogue's
 // gap case: the rule gives way to the grid's end corrections).
 func TestTableNamesTheReference(t *testing.T) {
 	cases := []struct {
-		name, src string
+		name, src     string
 		rule, scouted bool
 		want          string
 	}{
 		{"normal", "param x\n-x^2/2", true, true, "exact: quadrature around the modes (scouting grid"},
-		{"banana", "param x\nparam y\n-x^2/200 - (y + 0.05*x^2 - 5)^2/2", true, false, "exact: quadrature around the modes, with a grid of 301 x 301 points for the marginals its walks do not resolve"},
+		{"funnel", "param v\nparam x1\nparam x2\nld_normal(v, 0, 3) + ld_normal(x1, 0, exp(v/2)) + ld_normal(x2, 0, exp(v/2))", true, false, "exact: quadrature around the modes, with a grid of 81 x 81 x 81 points for the marginals its walks do not resolve"},
 		{"edge", "param x\nparam y\n-x^2/2 - y^2/2 + log(x + y + 1.5)", false, false, "exact: grid of"},
 	}
 	for _, c := range cases {
