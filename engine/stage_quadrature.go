@@ -660,7 +660,7 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 		// walk, for the plot, is left to the plots (ruleRanges).
 		cheap := q.WalkNodes(k) <= walkFirstNodes || a.costlyCurve(q)
 		walked := cheap && walkQuantiles(k)
-		if gridResolves && !a.scout && a.ref.grid != nil && q.Points > costlyRulePoints && gridAgrees(a.ref.grid, q) {
+		if gridResolves && !a.scout && a.ref.grid != nil && q.Points > costlyRulePoints && gridAgrees(a.ref.grid, q, gridAgreeTol) {
 			// A costly rule (a thin, bent ridge) beside a full grid that
 			// resolves the density: the grid's plots (and quantiles, where
 			// the walks' are not to be had), as a walk per marginal would
@@ -702,7 +702,7 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 			// chaotic cost's over a long window, where the walk's slices
 			// at twice the rule's step lose the ridge); otherwise they are
 			// left out, with the reason.
-			if a.scout && gridFarOff(a.ref.grid, q) {
+			if a.scout && a.ref.grid != nil && !gridAgrees(a.ref.grid, q, scoutFarOff) {
 				// The scouting grid's moments are far from the rule's: the
 				// full grid on its box would not stand in either.
 				quant[k] = [3]float64{math.NaN(), math.NaN(), math.NaN()}
@@ -721,7 +721,7 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 				posInf, layers := a.gridUnresolved()
 				gridResolves = posInf == 0 && len(layers) == 0
 			}
-			if gridResolves && a.ref.grid != nil && gridAgrees(a.ref.grid, q) {
+			if gridResolves && a.ref.grid != nil && gridAgrees(a.ref.grid, q, gridAgreeTol) {
 				quant[k] = a.ref.grid.Stats.Original.Quantiles[k]
 				r.gridCurves = true
 				continue
@@ -818,14 +818,15 @@ const walkFirstNodes = 20000
 // rule's walks (gridAgrees).
 const gridAgreeTol = 0.05
 
-// gridAgrees reports whether the full grid's moments on the original
-// scale agree with the nested rule's within gridAgreeTol: the grid's
-// quantiles and plots stand in for marginals the rule's walks do not
-// resolve only then. A grid that resolves no layer can still be far off
-// where its box chased a funnel's neck or tail (a Poisson model with two
-// site effects under a half-normal sd: the grid's median of an effect was
-// 1.2 where the rule's mean was 0.42 and its sd 0.7).
-func gridAgrees(g *grid.Grid, q *quadrature.Result) bool {
+// gridAgrees reports whether the grid's moments on the original scale
+// agree with the nested rule's within tol (gridAgreeTol for the full
+// grid's quantiles and plots to stand in for marginals the rule's walks do
+// not resolve; scoutFarOff for the scouting grid's, below which the full
+// grid is worth evaluating). A grid that resolves no layer can still be
+// far off where its box chased a funnel's neck or tail (a Poisson model
+// with two site effects under a half-normal sd: the grid's median of an
+// effect was 1.2 where the rule's mean was 0.42 and its sd 0.7).
+func gridAgrees(g *grid.Grid, q *quadrature.Result, tol float64) bool {
 	d := q.Dim
 	gm := &g.Stats.Original
 	for k := 0; k < d; k++ {
@@ -833,7 +834,7 @@ func gridAgrees(g *grid.Grid, q *quadrature.Result) bool {
 			continue
 		}
 		sd := math.Sqrt(q.Original.Cov[k*d+k])
-		if !(math.Abs(gm.Mean[k]-q.Original.Mean[k]) <= gridAgreeTol*sd) || !(math.Abs(gm.SD[k]/sd-1) <= gridAgreeTol) {
+		if !(math.Abs(gm.Mean[k]-q.Original.Mean[k]) <= tol*sd) || !(math.Abs(gm.SD[k]/sd-1) <= tol) {
 			return false
 		}
 	}
@@ -843,30 +844,13 @@ func gridAgrees(g *grid.Grid, q *quadrature.Result) bool {
 // scoutFarOff is the distance between the scouting grid's moments and the
 // rule's (in the rule's sds, and relative for the sds) beyond which the
 // full grid on the scouting box is not evaluated for a marginal the rule's
-// walks do not resolve (gridFarOff): its own moments then stayed beyond
-// gridAgreeTol on every such case seen. A 4-D non-centred hierarchical
-// model (scouting grid 3.6e5 off, full grid 98) spent 0.5 s of its 1.3 s
-// on a 41^4 grid it could not use, the 3-D funnel (3.0, then 3.0) and three
-// group effects under a half-Cauchy sd (1.10, then 1.10) likewise; a
-// chaotic cost's (0.010, then 2e-5) gives its quantiles and plots.
+// walks do not resolve: its own moments then stayed beyond gridAgreeTol on
+// every such case seen. A 4-D non-centred hierarchical model (scouting
+// grid 3.6e5 off, full grid 98) spent 0.5 s of its 1.3 s on a 41^4 grid it
+// could not use, the 3-D funnel (3.0, then 3.0) and three group effects
+// under a half-Cauchy sd (1.10, then 1.10) likewise; a chaotic cost's
+// (0.010, then 2e-5) gives its quantiles and plots.
 const scoutFarOff = 1
-
-// gridFarOff reports whether the grid's moments on the original scale are
-// more than scoutFarOff from the rule's (as gridAgrees measures them).
-func gridFarOff(g *grid.Grid, q *quadrature.Result) bool {
-	d := q.Dim
-	gm := &g.Stats.Original
-	for k := 0; k < d; k++ {
-		if q.Original.VarInfinite[k] || q.Original.MeanInfinite[k] {
-			continue
-		}
-		sd := math.Sqrt(q.Original.Cov[k*d+k])
-		if !(math.Abs(gm.Mean[k]-q.Original.Mean[k]) <= scoutFarOff*sd) || !(math.Abs(gm.SD[k]/sd-1) <= scoutFarOff) {
-			return true
-		}
-	}
-	return false
-}
 
 // fullGrid evaluates the default grid on the scouting grid's box (with
 // the reference stage's widening and narrowing), for what the rule's walks

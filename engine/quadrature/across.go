@@ -68,51 +68,30 @@ func (res *Result) CurveAcross(ctx context.Context, k int, lo, hi float64, n int
 	s := res.settings.withDefaults()
 	h := s.Step
 	var cv *Curve
-	// The last walk's values by node: at half the step its nodes are
-	// every second one of the new walk's.
-	var prev []float64
-	prevLo, prevMaxJ := 0, 0
+	// The last walk's log-densities by node: at half the step its nodes
+	// are every second one of the new walk's.
+	var prevLogs map[int]float64
 	for halvings := 0; ; halvings++ {
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
 		cv = &Curve{lv: res.marginalMap(k), c: res.centre[k], h: h, mp: res.mapOf(k)}
-		maxJ := int(s.MaxT / h)
-		em := expm1TableFor(h, maxJ)
-		g := make([]float64, 2*maxJ+1)
-		jlo, jhi := 0, 0
-		peak := 0.0
-		for _, side := range [2]int{1, -1} {
-			j := 0
-			if side < 0 {
-				j = -1
+		logs := map[int]float64{}
+		err := cv.walk(int(s.MaxT/h), func(j int, z float64, _ bool) (float64, error) {
+			lz, ok := prevLogs[j/2]
+			if j%2 != 0 || !ok {
+				lz = across(z) - res.LogZ
 			}
-			for ; j >= -maxJ && j <= maxJ; j += side {
-				v := math.NaN()
-				if pj := j / 2; j%2 == 0 && prev != nil && pj >= prevLo && pj-prevLo < len(prev) && pj >= -prevMaxJ && pj <= prevMaxJ {
-					v = prev[pj-prevLo] // the same t: the same density per unit t
-				}
-				if math.IsNaN(v) {
-					v = special.Exp(across(cv.c+cv.lv.offsetAt(j, em))-res.LogZ) * cv.lv.jacAt(j, em)
-				}
-				if math.IsNaN(v) {
-					v = 0
-				}
-				g[j+maxJ] = v
-				peak = max(peak, v)
-				jlo, jhi = min(jlo, j), max(jhi, j)
-				if j != 0 && v <= 1e-12*peak && v <= g[j-side+maxJ] {
-					break
-				}
-			}
+			logs[j] = lz
+			return lz, nil
+		})
+		prevLogs = logs
+		if err != nil {
+			return nil, err
 		}
-		cv.lo = jlo
-		cv.g = g[jlo+maxJ : jhi+1+maxJ]
-		prev, prevLo, prevMaxJ = cv.g, jlo, maxJ
 		coarse := 0.0
 		for i, v := range cv.g {
-			cv.total += h * v
-			if (jlo+i)%2 == 0 {
+			if (cv.lo+i)%2 == 0 {
 				coarse += 2 * h * v
 			}
 		}

@@ -46,34 +46,59 @@ func (res *Result) Curve(ctx context.Context, k int, fine bool) (*Curve, error) 
 	h := s.Step
 	cv := &Curve{lv: res.marginalMap(k), c: res.centre[k], h: h, mp: res.mapOf(k)}
 	sl := newSlice(res.p.Clone(), []int{k})
-	maxJ := int(s.MaxT / h)
-	em := expm1TableFor(h, maxJ)
+	acc := sliceCoarse
+	if fine {
+		acc = sliceFine
+	}
+	var guess []float64
+	err := cv.walk(int(s.MaxT/h), func(_ int, z float64, first bool) (float64, error) {
+		if first {
+			guess = nil
+		}
+		sl.val[0] = z
+		lz, cen, err := res.sliceLogZ(ctx, sl, guess, acc)
+		if err == nil && guess != nil && (math.IsNaN(lz) || math.IsInf(lz, 1)) {
+			// A slice rule that went astray from the previous node's
+			// centre: again from the regression's.
+			lz, cen, err = res.sliceLogZ(ctx, sl, nil, acc)
+		}
+		guess = cen
+		return lz - res.LogZ, err
+	})
+	if err != nil {
+		return nil, err
+	}
+	tol := curveMassTol
+	if !fine {
+		tol = curveMassTolCoarse
+	}
+	if n := len(cv.g); n < minCurveNodes || !(math.Abs(cv.total-1) <= tol) {
+		return nil, fmt.Errorf("%w: parameter %d's marginal over %d nodes holds %g of the mass", ErrCurve, k+1, n, cv.total)
+	}
+	return cv, nil
+}
+
+// walk fills the curve's nodes out from the centre on each side until the
+// marginal's share is negligible (below 1e-12 of its peak and falling) or
+// the walk reaches maxJ: logAt gives the log of the marginal's density on
+// the unconstrained scale at node j, z (normalised), first true at each
+// side's first node. It sets lo, g and total.
+func (cv *Curve) walk(maxJ int, logAt func(j int, z float64, first bool) (float64, error)) error {
+	em := expm1TableFor(cv.h, maxJ)
 	g := make([]float64, 2*maxJ+1)
 	lo, hi := 0, 0
 	peak := 0.0
 	for _, side := range [2]int{1, -1} {
-		var guess []float64
 		j := 0
 		if side < 0 {
 			j = -1
 		}
-		for ; j >= -maxJ && j <= maxJ; j += side {
-			sl.val[0] = cv.c + cv.lv.offsetAt(j, em)
-			acc := sliceCoarse
-			if fine {
-				acc = sliceFine
-			}
-			lz, cen, err := res.sliceLogZ(ctx, sl, guess, acc)
-			if err == nil && guess != nil && (math.IsNaN(lz) || math.IsInf(lz, 1)) {
-				// A slice rule that went astray from the previous node's
-				// centre: again from the regression's.
-				lz, cen, err = res.sliceLogZ(ctx, sl, nil, acc)
-			}
+		for first := true; j >= -maxJ && j <= maxJ; j, first = j+side, false {
+			lz, err := logAt(j, cv.c+cv.lv.offsetAt(j, em), first)
 			if err != nil {
-				return nil, err
+				return err
 			}
-			guess = cen
-			v := special.Exp(lz-res.LogZ) * cv.lv.jacAt(j, em)
+			v := special.Exp(lz) * cv.lv.jacAt(j, em)
 			if math.IsNaN(v) {
 				v = 0
 			}
@@ -87,17 +112,11 @@ func (res *Result) Curve(ctx context.Context, k int, fine bool) (*Curve, error) 
 	}
 	cv.lo = lo
 	cv.g = g[lo+maxJ : hi+1+maxJ]
+	cv.total = 0
 	for _, v := range cv.g {
-		cv.total += h * v
+		cv.total += cv.h * v
 	}
-	tol := curveMassTol
-	if !fine {
-		tol = curveMassTolCoarse
-	}
-	if n := len(cv.g); n < minCurveNodes || !(math.Abs(cv.total-1) <= tol) {
-		return nil, fmt.Errorf("%w: parameter %d's marginal over %d nodes holds %g of the mass", ErrCurve, k+1, n, cv.total)
-	}
-	return cv, nil
+	return nil
 }
 
 // outerCurve returns the marginal of the outermost axis's parameter from
