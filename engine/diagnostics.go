@@ -194,10 +194,13 @@ func (d *diagnostics) sorted() []Diagnostic {
 // rootRank puts first, within a severity, the diagnostics that explain
 // the others: an improper density or an unused parameter (a decay rate
 // with no prior, whose likelihood tends to a constant as it grows, read
-// first "no mode", "unresolved" and two failed fits, and only then why).
+// first "no mode", "unresolved" and two failed fits, and only then why),
+// and an ode block whose posterior follows its step (a cooling curve's
+// spurious mode at the step's stability limit came with starts_disagree
+// and several_modes before it).
 func rootRank(code string) int {
 	switch code {
-	case CodeUnusedParam, CodeImproper:
+	case CodeUnusedParam, CodeImproper, CodeODESteps:
 		return 0
 	}
 	return 1
