@@ -98,3 +98,30 @@ func TestInfiniteKLNamesTheUndeclaredScale(t *testing.T) {
 		t.Errorf("infinite_kl %q: want it to name param s in [0, inf]", msg)
 	}
 }
+
+// A reverse-KL iteration that stalls with its cubature refined to the node
+// budget says so (a robust regression with Student-t errors and unknown
+// degrees of freedom: 6 nodes per axis in 4-D, the heavy tails unresolved),
+// not only that it did not converge.
+func TestStalledFitNamesTheBudget(t *testing.T) {
+	res := analyseSource(t, `x = [0, 1, 2, 3, 4, 5, 6, 7, 8, 9]
+y = [0.3, 1.2, 2.1, 2.8, 9.0, 5.2, 5.9, 7.1, 8.2, 8.8]
+param a
+param b
+param s in [0, inf]
+param nu in [1, 100]
+sum(ld_student(y, nu, a + b*x, s)) - log(s) + ld_gamma(nu, 2, 0.1) + ld_normal(a, 0, 10) + ld_normal(b, 0, 10)
+`, Options{})
+	found := false
+	for _, d := range res.Diagnostics {
+		if d.Code == CodeNoConvergence && d.Severity == SeverityWarning {
+			found = true
+			if !strings.Contains(d.Message, "nodes per axis its budget allows") {
+				t.Errorf("no_convergence %q: want it to name the cubature's budget", d.Message)
+			}
+		}
+	}
+	if !found {
+		t.Error("no no_convergence warning: the fits converged here; the test needs another stalled case")
+	}
+}

@@ -13,6 +13,10 @@ var (
 	ErrOnBound = errors.New("fit: mode on a bound")
 	// ErrNoConvergence: an iteration stopped before its tolerance was met.
 	ErrNoConvergence = errors.New("fit: no convergence")
+	// ErrCubatureBudget, beside ErrNoConvergence: a variational iteration
+	// stalled with its cubature refined as far as its node budget allows,
+	// which does not resolve the density on the scale of the fit.
+	ErrCubatureBudget = errors.New("fit: the cubature's node budget is spent")
 	// ErrInfiniteKL: log p is -Inf where a Gaussian has mass, so KL(q||p) is
 	// infinite for every Gaussian q.
 	ErrInfiniteKL = errors.New("fit: KL(q||p) is infinite")

@@ -430,7 +430,7 @@ func variational(ctx context.Context, p target.Density, init Gaussian, s Setting
 		}
 		if !ok {
 			gr, pr := v.residuals(cur)
-			stopErr = fmt.Errorf("%w: %s: the iteration stalled after %d steps with residuals %.3g (mean) and %.3g (precision) at %d nodes per axis, the most the budget of %d nodes allows: the cubature does not resolve the density on the scale of the fit (heavy tails or several modes?); the last iterate is returned", ErrNoConvergence, name, iters, gr, pr, s.Order, s.MaxNodes)
+			stopErr = fmt.Errorf("%w (%w): %s: the iteration stalled after %d steps with residuals %.3g (mean) and %.3g (precision) at %d nodes per axis, the most the budget of %d nodes allows: the cubature does not resolve the density on the scale of the fit (heavy tails or several modes?); the last iterate is returned", ErrNoConvergence, ErrCubatureBudget, name, iters, gr, pr, s.Order, s.MaxNodes)
 			break
 		}
 	}
