@@ -1,6 +1,7 @@
 package engine
 
 import (
+	"fmt"
 	"math"
 
 	"bellcheck/engine/eval"
@@ -95,6 +96,14 @@ func (a *analysis) checkODESteps() {
 		where = "another mode"
 	}
 	a.diag.add(CodeODESteps, SeverityWarning,
-		"The ode block's trajectory depends on its step: with twice the substeps, log p changes by %.3g at the highest mode (%s) and by %.3g at %s (%s). The Runge-Kutta steps are too coarse for the system's rates there, so the results follow the step rather than the equations, and a mode there may be an artefact of the step (where a rate has no upper bound, such a mode moves with the step instead of going away). Raise the block's substeps until the results stop changing, or give the rates a prior that keeps them where the step resolves them.",
-		change[0], a.pointString(points[0]), change[far], where, a.pointString(points[far]))
+		"The ode block's trajectory depends on its step: with twice the substeps, log p changes by %s at the highest mode (%s) and by %s at %s (%s). The Runge-Kutta steps are too coarse for the system's rates there, so the results follow the step rather than the equations, and a mode there may be an artefact of the step (where a rate has no upper bound, such a mode moves with the step instead of going away). Raise the block's substeps until the results stop changing, or give the rates a prior that keeps them where the step resolves them.",
+		stepChange(change[0]), a.pointString(points[0]), stepChange(change[far]), where, a.pointString(points[far]))
+}
+
+// stepChange writes a change of log p for the ode_steps sentence.
+func stepChange(v float64) string {
+	if math.IsInf(v, 0) {
+		return "an infinite amount (the finer trajectory breaks down)"
+	}
+	return fmt.Sprintf("%.3g", v)
 }
