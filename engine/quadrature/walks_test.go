@@ -79,17 +79,9 @@ func TestWalkQuantilesBananaFlagged(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	cdf := func(y float64) float64 {
-		const h = 0.002
-		s := 0.0
-		for x := -150.0; x < 150; x += h {
-			s += math.Exp(-x*x/200) * 0.5 * math.Erfc(-(y-5+0.05*x*x)/math.Sqrt2)
-		}
-		return s * h / math.Sqrt(200*math.Pi)
-	}
 	worst := 0.0
 	for i, p := range walkProbs {
-		worst = max(worst, math.Abs(cdf(q[i])-p))
+		worst = max(worst, math.Abs(bananaYCDF(q[i])-p))
 	}
 	if !(worst <= est) || est < 1e-3 {
 		t.Errorf("error estimate %.2g against an actual error of %.2g (as probabilities): want it to cover it and flag it (>= 1e-3)", est, worst)
