@@ -45,14 +45,16 @@ func (a *analysis) gridDiagnostics() {
 					share(e), sides[side], a.names[k])
 			}
 		}
+		// What follows the edges' figures, with the usual cause.
+		const verdict = "the density may be improper (not integrable) or too heavy-tailed for a grid, and the exact results are those of the truncated box. A parameter with no prior, along which the likelihood does not vanish, is the usual cause: give %s a proper prior."
 		switch len(stuck) {
 		case 1:
 			a.diag.add(CodeImproper, SeverityError,
-				"Mass stays at the %s edge of %s however far the box is widened (%s in its outermost layer): the density may be improper (not integrable) or too heavy-tailed for a grid, and the exact results are those of the truncated box. A parameter with no prior, along which the likelihood does not vanish, is the usual cause: give %s a proper prior.",
+				"Mass stays at the %s edge of %s however far the box is widened (%s in its outermost layer): "+verdict,
 				sides[stuck[0]], a.names[k], share(a.ref.edgeMass[k][stuck[0]]), a.names[k])
 		case 2:
 			a.diag.add(CodeImproper, SeverityError,
-				"Mass stays at both edges of %s however far the box is widened (%s and %s in the outermost layers): the density may be improper (not integrable) or too heavy-tailed for a grid, and the exact results are those of the truncated box. A parameter with no prior, along which the likelihood does not vanish, is the usual cause: give %s a proper prior.",
+				"Mass stays at both edges of %s however far the box is widened (%s and %s in the outermost layers): "+verdict,
 				a.names[k], share(a.ref.edgeMass[k][0]), share(a.ref.edgeMass[k][1]), a.names[k])
 		}
 	}

@@ -204,15 +204,13 @@ func (a *analysis) fitReverse(lap *fit.LaplaceFit) (rev, mfit *fit.VariationalFi
 					label, res, vf.Iterations, shownResolution)
 				return &vf, nil
 			}
+			why := ""
 			if errors.Is(err, fit.ErrCubatureBudget) {
-				a.diag.add(CodeNoConvergence, SeverityWarning,
-					"The %s fit did not converge in %d steps (residual %.2g): its cubature, at the %d nodes per axis its budget allows, does not resolve the density on the fit's scale (heavy tails or several modes); its last iterate is shown, marked as not converged.",
-					label, vf.Iterations, res, vf.Order)
-			} else {
-				a.diag.add(CodeNoConvergence, SeverityWarning,
-					"The %s fit did not converge in %d steps (residual %.2g); its last iterate is shown, marked as not converged.",
-					label, vf.Iterations, res)
+				why = fmt.Sprintf(": its cubature, at the %d nodes per axis its budget allows, does not resolve the density on the fit's scale (heavy tails or several modes)", vf.Order)
 			}
+			a.diag.add(CodeNoConvergence, SeverityWarning,
+				"The %s fit did not converge in %d steps (residual %.2g)%s; its last iterate is shown, marked as not converged.",
+				label, vf.Iterations, res, why)
 			if vf.Mean == nil || vf.Cov == nil {
 				a.avail.drop(m.quantity(), CodeNoConvergence)
 				return nil, nil

@@ -702,19 +702,14 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 			// chaotic cost's over a long window, where the walk's slices
 			// at twice the rule's step lose the ridge); otherwise they are
 			// left out, with the reason.
-			if a.scout && a.ref.grid != nil && !gridAgrees(a.ref.grid, q, scoutFarOff) {
-				// The scouting grid's moments are far from the rule's: the
-				// full grid on its box would not stand in either.
-				quant[k] = [3]float64{math.NaN(), math.NaN(), math.NaN()}
-				a.avail.dropAt(QuantityQuantiles, k, CodeUnresolved)
-				unresolvedQuantiles = append(unresolvedQuantiles, a.names[k])
-				continue
-			}
-			if a.scout {
+			if a.scout && (a.ref.grid == nil || gridAgrees(a.ref.grid, q, scoutFarOff)) {
 				// The grid only scouted: the full grid is evaluated on its
 				// box, and its quantiles and plots stand in where it
 				// resolves the density (a chaotic cost's thin ridge, whose
-				// slices at twice the rule's step lose it).
+				// slices at twice the rule's step lose it). Where the
+				// scouting grid's moments are far from the rule's, the
+				// full grid's would not agree either: it is not evaluated,
+				// and the scouting grid fails the check below.
 				if err := a.fullGrid(); err != nil {
 					return err
 				}

@@ -32,20 +32,18 @@ func writeTable(w io.Writer, name string, r *engine.Result) {
 		}
 		fmt.Fprintf(w, "fitted: %s%s\n", strings.Join(scales, ", "), rest)
 	}
+	// The reference: the nested rule (beside a grid that only scouted, or
+	// one evaluated in full for the marginals its walks do not resolve),
+	// or the grid.
+	ref := "grid of %s points"
 	switch {
 	case r.Exact.Rule && r.Grid.Scouted:
-		// The exact results are the nested rule's; the grid only scouted.
-		fmt.Fprintf(w, "exact: quadrature around the modes (scouting grid %s points); log Z = %s (error estimate %s)\n\n",
-			joinInts(r.Grid.Points, " x "), num(r.Exact.LogZ), num(r.Exact.LogZErr))
+		ref = "quadrature around the modes (scouting grid %s points)"
 	case r.Exact.Rule:
-		// The rule's, with a full grid for the marginals its walks do
-		// not resolve.
-		fmt.Fprintf(w, "exact: quadrature around the modes, with a grid of %s points for the marginals its walks do not resolve; log Z = %s (error estimate %s)\n\n",
-			joinInts(r.Grid.Points, " x "), num(r.Exact.LogZ), num(r.Exact.LogZErr))
-	default:
-		fmt.Fprintf(w, "exact: grid of %s points; log Z = %s (error estimate %s)\n\n",
-			joinInts(r.Grid.Points, " x "), num(r.Exact.LogZ), num(r.Exact.LogZErr))
+		ref = "quadrature around the modes, with a grid of %s points for the marginals its walks do not resolve"
 	}
+	fmt.Fprintf(w, "exact: "+ref+"; log Z = %s (error estimate %s)\n\n",
+		joinInts(r.Grid.Points, " x "), num(r.Exact.LogZ), num(r.Exact.LogZErr))
 
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
 	header := []string{"", "exact"}

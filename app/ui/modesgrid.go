@@ -74,17 +74,14 @@ func (c *ModesGrid) Render() app.UI {
 // reference; where the nested rule is, the grid that only scouted and the
 // rule's error estimate.
 func gridFacts(r *engine.Result, box []string) []app.UI {
-	if r.Exact.Rule && !r.Grid.Scouted {
-		return []app.UI{
-			app.Dt().Text("exact reference"), app.Dd().Text("quadrature around the modes, on each parameter's unconstrained scale"),
-			app.Dt().Text("grid"), app.Dd().Text(strings.Join(box, "; ") + " (evaluated in full: the quantiles and plots of the marginals the rule's walks do not resolve come from it; the rest from the rule)"),
-			app.Dt().Text("log Z error estimate"), app.Dd().Text(fmtErr(r.Exact.LogZErr) + " (from the rule's nested steps)"),
+	if r.Exact.Rule {
+		name, role := "scouting grid", " (it only scouts, for the mode search's starts: the exact results and the plots come from the rule, whatever this box covers; a heavy tail can draw it far from the mass)"
+		if !r.Grid.Scouted {
+			name, role = "grid", " (evaluated in full: the quantiles and plots of the marginals the rule's walks do not resolve come from it; the rest from the rule)"
 		}
-	}
-	if r.Grid.Scouted {
 		return []app.UI{
 			app.Dt().Text("exact reference"), app.Dd().Text("quadrature around the modes, on each parameter's unconstrained scale"),
-			app.Dt().Text("scouting grid"), app.Dd().Text(strings.Join(box, "; ") + " (it only scouts, for the mode search's starts: the exact results and the plots come from the rule, whatever this box covers; a heavy tail can draw it far from the mass)"),
+			app.Dt().Text(name), app.Dd().Text(strings.Join(box, "; ") + role),
 			app.Dt().Text("log Z error estimate"), app.Dd().Text(fmtErr(r.Exact.LogZErr) + " (from the rule's nested steps)"),
 		}
 	}

@@ -160,8 +160,8 @@ const (
 // chooseMap probes the conditional log-density along axis k at 4 and 8
 // standard deviations on each side of the centre (the inner axes at their
 // predicted modes), and at 16 where those two say doubly exponential, and
-// makes the map linear when a side falls doubly exponentially; where the fall is fast enough to need a finer step than
-// the map's width gives (see stripStep), the width is capped, and on the
+// makes the map linear when a side falls doubly exponentially; where the
+// fall is fast enough to need a finer step than the map's width gives (see stripStep), the width is capped, and on the
 // outermost axis of a rule over several parameters the shape then follows
 // the profile over the inner axes (profileAt) instead of the line.
 func (r *rule) chooseMap(k int, sd float64) {

@@ -98,9 +98,9 @@ func scaleOrder(p target.Density, start Start) ([]int, bool) {
 	}
 	decisive := false
 	if top := slices.Max(uncorrelated); top >= scaleScoreMin {
-		next := 0.0
+		first, next := slices.Index(uncorrelated, top), 0.0
 		for a, v := range uncorrelated {
-			if v != top || a != slices.Index(uncorrelated, top) {
+			if a != first {
 				next = max(next, v)
 			}
 		}
