@@ -90,11 +90,34 @@ func testWorkerNoLongTasks(t *testing.T, b *browser, srv *siteServer) {
 	st = waitForWorker(t, tb, src, st)
 	waitFor(t, tb, 20*time.Second, "the slider", `!!document.getElementById("bc-live-0")`)
 
+	// The machine is shared and has two cores, one of them the worker's:
+	// a task's CPU time too can grow past the limit when the system is
+	// busy. A window with such a task is measured once more, and the test
+	// fails when the second has one too (a page whose own work is too long
+	// fails both).
+	own := measureWorkerWindow(t, tb, src, 1)
+	if len(own) > 0 {
+		t.Logf("first window: the page's thread ran tasks over 50 ms, of CPU time too: %s; measuring once more", strings.Join(own, "; "))
+		own = measureWorkerWindow(t, tb, src, 2)
+	}
+	if len(own) > 0 {
+		t.Errorf("the page's thread ran tasks over 50 ms, of CPU time too, during the 4-D analysis (in both windows measured): %s", strings.Join(own, "; "))
+	}
+	if errs := tb.consoleErrors(); len(errs) > 0 {
+		t.Errorf("console errors: %v", errs)
+	}
+}
+
+// measureWorkerWindow runs one measured window of testWorkerNoLongTasks
+// (attempt numbers its text) and returns the long tasks whose CPU time was
+// over 50 ms too, described.
+func measureWorkerWindow(t *testing.T, tb *tab, src string, attempt int) (own []string) {
 	// The measured window: it opens with an edit that requests a 4-D
 	// analysis.
+	measured := fmt.Sprintf("# measured %d\n", attempt)
 	tr := startTrace(t, tb)
 	t0 := eval[float64](t, tb, 5*time.Second, `performance.now()`)
-	tb.editModel(t, src+"# measured\n")
+	tb.editModel(t, src+measured)
 	waitFor(t, tb, 30*time.Second, "the analysis to start", fmt.Sprintf(
 		`performance.getEntriesByName("bc-start").some((m) => m.startTime >= %f)`, t0))
 	// Type at the end of the text, in two bursts with a pause past the
@@ -126,7 +149,7 @@ func testWorkerNoLongTasks(t *testing.T, b *browser, srv *siteServer) {
 	}
 	// The window closes when the result for the typed text and the last
 	// value is drawn.
-	want := src + "# measured\n" + typed
+	want := src + measured + typed
 	waitFor(t, tb, 180*time.Second, "the result for the typed text and the last slider value", fmt.Sprintf(`(() => {
   const ta = document.getElementById("bc-model"), v = document.getElementById("bc-live-0-value");
   const tab = document.querySelector("table.results"), out = document.getElementById("bc-output");
@@ -181,13 +204,13 @@ func testWorkerNoLongTasks(t *testing.T, b *browser, srv *siteServer) {
 	// over 50 ms too; one whose CPU time is short waited for a core (the
 	// machine is shared and has two) and is logged, not failed: no code of
 	// the page can shorten the time the system gives its thread to others.
-	cpu := tr.taskCPU(t, tb, w.Tasks)
-	var own, waited []string
+	cpu, parts := tr.taskCPU(t, tb, w.Tasks)
+	var waited []string
 	for i, tk := range w.Tasks {
 		if tk[1] <= 50 {
 			continue
 		}
-		desc := fmt.Sprintf("%.0f ms at %.0f (CPU %.0f ms)", tk[1], tk[0], cpu[i])
+		desc := fmt.Sprintf("%.0f ms at %.0f (CPU %.0f ms; %s)", tk[1], tk[0], cpu[i], parts[i])
 		switch {
 		case cpu[i] < 0:
 			own = append(own, desc+": not in the trace")
@@ -203,12 +226,7 @@ func testWorkerNoLongTasks(t *testing.T, b *browser, srv *siteServer) {
 	if len(waited) > 0 {
 		t.Logf("long tasks that waited for a core (their CPU time is under 50 ms): %s", strings.Join(waited, "; "))
 	}
-	if len(own) > 0 {
-		t.Errorf("the page's thread ran tasks over 50 ms, of CPU time too, during the 4-D analysis: %s", strings.Join(own, "; "))
-	}
-	if errs := tb.consoleErrors(); len(errs) > 0 {
-		t.Errorf("console errors: %v", errs)
-	}
+	return own
 }
 
 // testWorkerFallback: a site whose worker script is missing (a worker that
@@ -257,8 +275,10 @@ func testWorkerFallback(t *testing.T, b *browser) {
 // observer reported (start and duration in performance.now() ms), the CPU
 // time of the main thread's task that matches it in the trace (-1 where
 // none does). The trace's clock is matched to the page's by the runner's
-// bc-start marks, which are in both.
-func (tr *trace) taskCPU(t *testing.T, tb *tab, tasks [][2]float64) []float64 {
+// bc-start marks, which are in both. parts[i] lists what the matched task
+// spent its time on: the trace's timeline events inside it, summed by name
+// (wall ms, the largest first).
+func (tr *trace) taskCPU(t *testing.T, tb *tab, tasks [][2]float64) (out []float64, parts []string) {
 	starts := eval[[]float64](t, tb, 5*time.Second, `performance.getEntriesByName("bc-start").map((m) => m.startTime)`)
 	tr.end(t, tb)
 	tr.mu.Lock()
@@ -271,13 +291,14 @@ func (tr *trace) taskCPU(t *testing.T, tb *tab, tasks [][2]float64) []float64 {
 			markTs = append(markTs, e.Ts/1000)
 		}
 	}
-	out := make([]float64, len(tasks))
+	out = make([]float64, len(tasks))
+	parts = make([]string, len(tasks))
 	for i := range out {
 		out[i] = -1
 	}
 	if main < 0 || len(markTs) == 0 || len(starts) < len(markTs) {
 		t.Logf("the trace has no bc-start marks to match its clock (%d in the trace, %d on the page)", len(markTs), len(starts))
-		return out
+		return out, parts
 	}
 	sort.Float64s(markTs)
 	sort.Float64s(starts)
@@ -287,17 +308,56 @@ func (tr *trace) taskCPU(t *testing.T, tb *tab, tasks [][2]float64) []float64 {
 	// that covers at least half of it.
 	for i, tk := range tasks {
 		best := tk[1] / 2
-		for _, e := range tr.events {
+		var task *traceEvent
+		for k, e := range tr.events {
 			if e.Tid != main || e.Ph != "X" || e.Name != "ThreadControllerImpl::RunTask" || e.Tdur <= 0 {
 				continue
 			}
 			s := e.Ts/1000 - offset
 			if ov := math.Min(s+e.Dur/1000, tk[0]+tk[1]) - math.Max(s, tk[0]); ov >= best {
-				best, out[i] = ov, e.Tdur/1000
+				best, out[i], task = ov, e.Tdur/1000, &tr.events[k]
+			}
+		}
+		if task != nil {
+			parts[i] = taskParts(tr.events, main, task)
+		}
+	}
+	if os.Getenv("BELLCHECK_WORKER_MARKS") != "" {
+		for k, e := range tr.events {
+			if e.Tid == main && e.Ph == "X" && e.Name == "ThreadControllerImpl::RunTask" && e.Tdur > 15000 {
+				t.Logf("task at %.0f: %.0f ms, CPU %.0f ms: %s", e.Ts/1000-offset, e.Dur/1000, e.Tdur/1000, taskParts(tr.events, main, &tr.events[k]))
 			}
 		}
 	}
-	return out
+	return out, parts
+}
+
+// taskParts sums the timeline events of the main thread inside task by
+// name (wall ms) and lists the largest few: what the task was doing.
+func taskParts(events []traceEvent, main int64, task *traceEvent) string {
+	sum := map[string]float64{}
+	for _, e := range events {
+		if e.Tid != main || e.Ph != "X" || e.Cat != "devtools.timeline" || e.Ts < task.Ts || e.Ts+e.Dur > task.Ts+task.Dur {
+			continue
+		}
+		sum[e.Name] += e.Dur / 1000
+	}
+	names := make([]string, 0, len(sum))
+	for n := range sum {
+		names = append(names, n)
+	}
+	sort.Slice(names, func(a, b int) bool { return sum[names[a]] > sum[names[b]] })
+	var b strings.Builder
+	for k, n := range names {
+		if k == 6 {
+			break
+		}
+		if k > 0 {
+			b.WriteString(", ")
+		}
+		fmt.Fprintf(&b, "%s %.1f", n, sum[n])
+	}
+	return b.String()
 }
 
 // loadAverage is the machine's load average (the first three numbers of

@@ -310,6 +310,7 @@ type trace struct {
 	mu     sync.Mutex
 	events []traceEvent
 	done   chan struct{}
+	ended  bool // the trace completed: later events are another trace's
 }
 
 // end stops the tab's trace and waits for its events.
@@ -346,6 +347,9 @@ func startTrace(t *testing.T, tb *tab) *trace {
 		case *tracing.EventDataCollected:
 			tr.mu.Lock()
 			for _, raw := range e.Value {
+				if tr.ended {
+					break
+				}
 				var te traceEvent
 				if json.Unmarshal(raw, &te) == nil {
 					tr.events = append(tr.events, te)
@@ -353,7 +357,12 @@ func startTrace(t *testing.T, tb *tab) *trace {
 			}
 			tr.mu.Unlock()
 		case *tracing.EventTracingComplete:
-			close(tr.done)
+			tr.mu.Lock()
+			if !tr.ended {
+				tr.ended = true
+				close(tr.done)
+			}
+			tr.mu.Unlock()
 		}
 	}); err != nil {
 		t.Fatal(err)
