@@ -253,7 +253,7 @@ func (p *Page) start(ctx app.Context) {
 				if p.view != view {
 					figs = numbered(BuildFigures(res, p.view))
 				}
-				p.figs, p.sections = figs, secs
+				p.figs, p.sections = keepDrawn(p.figs, figs), secs
 			}
 			if p.sliderPending {
 				p.start(ctx)
@@ -288,7 +288,7 @@ func (p *Page) showEarly(ctx app.Context, run Run, view View, res *engine.Result
 		if p.view != view {
 			figs = numbered(BuildFigures(res, p.view))
 		}
-		p.figs, p.sections = figs, secs
+		p.figs, p.sections = keepDrawn(p.figs, figs), secs
 	})
 }
 

@@ -1,6 +1,8 @@
 package ui
 
 import (
+	"bytes"
+	"slices"
 	"sync/atomic"
 
 	"bellcheck/engine"
@@ -42,6 +44,50 @@ func numbered(fs *FigureSet) *FigureSet {
 		pn.Serial = nextSerial()
 	}
 	return fs
+}
+
+// keepDrawn returns fs with each panel whose drawing is the same as that of
+// the panel in its place in drawn (the set on the page) replaced by the
+// drawn panel, given fs's data for the read-out: the page then neither
+// parses its SVG again nor repaints its canvas. The final result of an
+// analysis that showed an early one redraws only its pairs, and an edit
+// that leaves the result as it was (a comment) redraws nothing.
+func keepDrawn(drawn, fs *FigureSet) *FigureSet {
+	if drawn == nil || fs == nil || drawn.Dim != fs.Dim || !slices.Equal(drawn.Names, fs.Names) {
+		return fs
+	}
+	keep := func(old, pn *Panel) *Panel {
+		if old == nil || pn == nil || !sameDrawing(old, pn) {
+			return pn
+		}
+		old.M, old.P = pn.M, pn.P
+		return old
+	}
+	fs.Main = keep(drawn.Main, fs.Main)
+	for r, row := range fs.Grid {
+		for c := range row {
+			if r < len(drawn.Grid) && c < len(drawn.Grid[r]) {
+				row[c] = keep(drawn.Grid[r][c], row[c])
+			}
+		}
+	}
+	return fs
+}
+
+// sameDrawing reports whether two panels draw the same picture in the same
+// place.
+func sameDrawing(a, b *Panel) bool {
+	if a.ID != b.ID || a.I != b.I || a.J != b.J || a.Log != b.Log || !slices.Equal(a.Names, b.Names) || (a.Fig == nil) != (b.Fig == nil) {
+		return false
+	}
+	if a.Fig == nil {
+		return true
+	}
+	fa, fb := a.Fig, b.Fig
+	if fa.SVG != fb.SVG || fa.W != fb.W || fa.H != fb.H || fa.Plot != fb.Plot || fa.X != fb.X || fa.Y != fb.Y || (fa.Heat == nil) != (fb.Heat == nil) {
+		return false
+	}
+	return fa.Heat == nil || fa.Heat.Width == fb.Heat.Width && fa.Heat.Height == fb.Heat.Height && fa.Heat.Box == fb.Heat.Box && bytes.Equal(fa.Heat.Pixels, fb.Heat.Pixels)
 }
 
 // shown returns the result shown now, as one Shown value that stays the same

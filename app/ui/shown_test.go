@@ -51,3 +51,44 @@ func TestParamChoicesMeetTheIndexOrderInOnePlace(t *testing.T) {
 		t.Error("no options, or no model, must give none")
 	}
 }
+
+// keepDrawn keeps the panels already on the page whose drawing a new
+// result repeats (an edit of a comment; the whole result after an early
+// one), and takes every panel whose drawing changed.
+func TestKeepDrawnKeepsOnlyTheSameDrawings(t *testing.T) {
+	names := []string{"a", "b", "c"}
+	mean := []float64{0, 1, 2}
+	cov := [][]float64{{1, 0.5, 0}, {0.5, 1, 0}, {0, 0, 4}}
+	drawn := numbered(BuildFigures(gaussResult(names, mean, cov, 0), View{}))
+	same := keepDrawn(drawn, numbered(BuildFigures(gaussResult(names, mean, cov, 0), View{})))
+	for r, row := range same.Grid {
+		for c, pn := range row {
+			if pn != nil && pn != drawn.Grid[r][c] {
+				t.Errorf("panel %d,%d of the same result drawn again was not kept", r, c)
+			}
+		}
+	}
+	// The correlation of b and c changes: their pair's drawing, and no
+	// marginal's.
+	cov2 := [][]float64{{1, 0.5, 0}, {0.5, 1, 0.9}, {0, 0.9, 4}}
+	fresh := numbered(BuildFigures(gaussResult(names, mean, cov2, 0), View{}))
+	bc := fresh.Grid[2][1]
+	next := keepDrawn(drawn, fresh)
+	for r, row := range next.Grid {
+		for c, pn := range row {
+			if pn == nil {
+				continue
+			}
+			kept := pn == drawn.Grid[r][c]
+			switch {
+			case r == 2 && c == 1 && (kept || pn != bc):
+				t.Errorf("the pair of b and c, whose correlation changed, was not drawn anew")
+			case r == c && !kept:
+				t.Errorf("the marginal %d, unchanged, was drawn anew", r)
+			}
+		}
+	}
+	if keepDrawn(drawn, numbered(BuildFigures(gaussResult(names, mean, cov, 0), View{Log: true}))).Grid[0][0] == drawn.Grid[0][0] {
+		t.Error("a marginal drawn on the log scale kept the linear drawing")
+	}
+}
