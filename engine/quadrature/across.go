@@ -57,11 +57,15 @@ func (res *Result) CurveAcross(ctx context.Context, k int, lo, hi float64, n int
 			if math.IsNaN(v) || math.IsInf(v, 1) {
 				continue
 			}
+			d := v - top
+			if d < -40 {
+				continue // below 5e-18 of the largest share: rounding
+			}
 			w := 1.0
 			if i == 0 || i == n-1 {
 				w = 0.5
 			}
-			sum += w * special.Exp(v-top)
+			sum += w * special.Exp(d)
 		}
 		return top + math.Log(sum*step)
 	}

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 
 	"bellcheck/engine/special"
 	"bellcheck/engine/transform"
@@ -223,16 +224,35 @@ func (cv *Curve) Density(xs []float64) []float64 {
 func (cv *Curve) Quantiles(probs []float64) []float64 {
 	gg, h := cv.g, cv.h
 	n := len(gg)
-	cdf := make([]float64, n)
-	for i := range gg {
-		_, cdf[i] = sincAt(gg, h, i, 0)
+	// The interpolant's integral at the nodes, where the search needs it:
+	// each takes a sum over every node, so the search starts at the
+	// crossing of the trapezoid rule's running sum, which is within a node
+	// or two of the interpolant's on any curve the walk accepts.
+	cdf := make(map[int]float64)
+	cdfAt := func(i int) float64 {
+		c, ok := cdf[i]
+		if !ok {
+			_, c = sincAt(gg, h, i, 0)
+			cdf[i] = c
+		}
+		return c
+	}
+	run := make([]float64, n)
+	for i := 1; i < n; i++ {
+		run[i] = run[i-1] + h*(gg[i-1]+gg[i])/2
 	}
 	out := make([]float64, len(probs))
 	var sv, sc [siSub + 1]float64
 	for pi, p := range probs {
 		target := p * cv.total
-		i := 0
-		for i < n-2 && cdf[i+1] < target {
+		// The first node i with the interpolant's integral at i+1 at
+		// least target (the integral increases where the mass is).
+		i, _ := slices.BinarySearch(run, target)
+		i = max(0, min(i-1, n-2))
+		for i > 0 && cdfAt(i) >= target {
+			i--
+		}
+		for i < n-2 && cdfAt(i+1) < target {
 			i++
 		}
 		for f := 0; f <= siSub; f++ {

@@ -203,6 +203,7 @@ func (res *Result) sliceLogZAt(ctx context.Context, sl *slice, guess []float64, 
 		}
 		return 0, nil, err
 	}
+	defer r.release() // nothing returned refers to its scratch
 	if err := r.run(); err != nil {
 		return 0, nil, err
 	}
