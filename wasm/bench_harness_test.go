@@ -30,10 +30,13 @@ import (
 	"sort"
 	"strconv"
 	"strings"
+	"sync"
 	"testing"
 	"text/tabwriter"
 	"time"
 
+	"github.com/chromedp/cdproto/cdp"
+	"github.com/chromedp/cdproto/tracing"
 	"github.com/chromedp/chromedp"
 
 	"bellcheck/app/examples"
@@ -451,6 +454,9 @@ func coldLoad(t *testing.T, b *browser, srv *siteServer, dir string, rep *report
 			tb.close()
 		}
 	}
+	// One more compressed load, traced, for the WebAssembly compiler's
+	// share (the three above are timed untraced).
+	lazy, lazyN, top := wasmCompileShare(t, b, srv.URL+"/")
 	split := "no split: the page's marks were missing"
 	if len(toMain) > 0 {
 		split = fmt.Sprintf("split (medians): to the program's start %.0f ms (download, compile, instantiate), to the first analysis's start %.0f ms, the analysis %.0f ms, result to drawn %.0f ms",
@@ -460,6 +466,76 @@ func coldLoad(t *testing.T, b *browser, srv *siteServer, dir string, rep *report
 		Detail: fmt.Sprintf("median of 3 (%s); from a local server that sends the precompressed gzip copies, as a static host does; %s", fmtList(gz), split)}, 1200, "<= 1200 ms"))
 	rep.add(measure{Group: "browser", Name: "cold load, uncompressed (same run)", Value: median(raw), Unit: "ms",
 		Detail: fmt.Sprintf("median of 3 (%s); a plain file server, for comparison", fmtList(raw))})
+	if lazyN > 0 {
+		rep.add(measure{Group: "browser", Name: "cold load: lazy compilation on the page's thread", Value: lazy, Unit: "ms",
+			Detail: fmt.Sprintf("one more compressed cold load, traced: %d functions compiled at their first call (wasm.CompileLazy, the thread that compiled most); the optimising tier's compilation on background threads meanwhile %.0f ms of CPU time", lazyN, top)})
+	}
+}
+
+// wasmCompileShare opens url in a fresh tab with a trace of the
+// WebAssembly compiler's events and returns, up to the first result
+// drawn, the time the thread that compiled the most functions lazily (at
+// their first call) spent doing so, their number, and the optimising
+// tier's compilation time on background threads.
+func wasmCompileShare(t *testing.T, b *browser, url string) (lazyMS float64, lazyN int, topMS float64) {
+	tb := b.newTab(t, true)
+	defer tb.close()
+	type event struct {
+		Name string  `json:"name"`
+		Ph   string  `json:"ph"`
+		Dur  float64 `json:"dur"` // µs
+		Tid  int64   `json:"tid"`
+	}
+	var mu sync.Mutex
+	lazyBy, countBy := map[int64]float64{}, map[int64]int{}
+	done := make(chan struct{})
+	if err := chromedp.Listen(tb.ctx, func(ev any) {
+		switch e := ev.(type) {
+		case *tracing.EventDataCollected:
+			mu.Lock()
+			defer mu.Unlock()
+			for _, raw := range e.Value {
+				var te event
+				if json.Unmarshal(raw, &te) != nil || te.Ph != "X" {
+					continue
+				}
+				switch te.Name {
+				case "wasm.CompileLazy":
+					lazyBy[te.Tid] += te.Dur / 1000
+					countBy[te.Tid]++
+				case "wasm.TopTierCompilation":
+					topMS += te.Dur / 1000
+				}
+			}
+		case *tracing.EventTracingComplete:
+			close(done)
+		}
+	}); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := chromedp.Call(tb.ctx, tracing.Start, tracing.StartParams{
+		TransferMode: tracing.StartTransferModeReportEvents,
+		TraceConfig:  &tracing.TraceConfig{IncludedCategories: []string{"v8.wasm"}},
+	}); err != nil {
+		t.Fatal(err)
+	}
+	tb.open(t, url)
+	if _, err := chromedp.Call(tb.ctx, tracing.End, cdp.Empty{}); err != nil {
+		t.Fatal(err)
+	}
+	select {
+	case <-done:
+	case <-time.After(60 * time.Second):
+		t.Fatal("the cold load's trace did not complete")
+	}
+	mu.Lock()
+	defer mu.Unlock()
+	for tid, ms := range lazyBy {
+		if ms > lazyMS {
+			lazyMS, lazyN = ms, countBy[tid]
+		}
+	}
+	return lazyMS, lazyN, topMS
 }
 
 // statusMillis reads the page's own "analysed in N ms".
