@@ -6,18 +6,27 @@ import (
 	"strings"
 )
 
-// Path builds SVG path data ("M x y L x y ... Z") with coordinates rounded
-// to two decimals, which is below a pixel's hundredth at any zoom used here.
+// Path builds SVG path data with coordinates rounded to two decimals,
+// which is below a pixel's hundredth at any zoom used here. A subpath
+// starts with an absolute move ("M x y") and goes on by relative lines
+// ("l dx dy dx dy ..."), each step the difference of the rounded points, so
+// the points drawn are the rounded points exactly, with no drift; the
+// relative steps are about half as long as absolute pairs (a contour's
+// points are a few units apart), and the page parses every figure's SVG.
 type Path struct {
-	b   strings.Builder
-	pen bool // a subpath is open
+	b      strings.Builder
+	pen    bool  // a subpath is open
+	rel    bool  // the open subpath is in relative lines ("l" written)
+	lx, ly int64 // the pen's position, in hundredths
+	exact  bool  // the pen's position is in lx, ly (not huge or non-finite)
 }
 
 // MoveTo starts a new subpath at (x, y).
 func (p *Path) MoveTo(x, y float64) {
 	p.b.WriteByte('M')
 	p.pair(x, y)
-	p.pen = true
+	p.pen, p.rel = true, false
+	p.lx, p.ly, p.exact = hundredths(x), hundredths(y), finiteHundredths(x) && finiteHundredths(y)
 }
 
 // LineTo draws a line to (x, y), or starts a subpath if none is open.
@@ -26,8 +35,29 @@ func (p *Path) LineTo(x, y float64) {
 		p.MoveTo(x, y)
 		return
 	}
-	p.b.WriteByte('L')
-	p.pair(x, y)
+	if !p.exact || !finiteHundredths(x) || !finiteHundredths(y) {
+		p.b.WriteByte('L')
+		p.pair(x, y)
+		p.rel = false
+		p.lx, p.ly, p.exact = hundredths(x), hundredths(y), finiteHundredths(x) && finiteHundredths(y)
+		return
+	}
+	nx, ny := hundredths(x), hundredths(y)
+	var buf [48]byte
+	b := buf[:0]
+	if !p.rel {
+		b = append(b, 'l')
+		p.rel = true
+	} else if nx-p.lx >= 0 {
+		b = append(b, ' ') // a minus sign separates numbers by itself
+	}
+	b = AppendHundredths(b, nx-p.lx)
+	if ny-p.ly >= 0 {
+		b = append(b, ' ')
+	}
+	b = AppendHundredths(b, ny-p.ly)
+	p.b.Write(b)
+	p.lx, p.ly = nx, ny
 }
 
 // Close closes the current subpath.
@@ -35,12 +65,24 @@ func (p *Path) Close() {
 	if p.pen {
 		p.b.WriteByte('Z')
 	}
-	p.pen = false
+	p.pen, p.rel = false, false
 }
 
 // Lift ends the current subpath without closing it: the next LineTo starts a
 // new one (a gap in the line).
-func (p *Path) Lift() { p.pen = false }
+func (p *Path) Lift() { p.pen, p.rel = false, false }
+
+// hundredths is v in whole hundredths, as the path writes it.
+func hundredths(v float64) int64 {
+	if !finiteHundredths(v) {
+		return 0
+	}
+	return int64(math.Round(v * 100))
+}
+
+// finiteHundredths reports whether v is written as whole hundredths
+// (appendCoord's short path).
+func finiteHundredths(v float64) bool { return math.Abs(math.Round(v*100)) < 1e12 }
 
 // String returns the path data.
 func (p *Path) String() string { return p.b.String() }
