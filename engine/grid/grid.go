@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"sync"
 	"time"
 
 	"bellcheck/engine/target"
@@ -196,6 +197,23 @@ const (
 	chunkAim   = 4 * time.Millisecond
 )
 
+// floatPool recycles evaluate's block of coordinates (d x 1024 floats,
+// taken at each grid the box search and the analysis evaluate): memory
+// used again costs neither the collector's work nor fresh pages.
+var floatPool sync.Pool // of *[]float64
+
+// takeFloats returns a slice of n floats (not zeroed), recycled where the
+// pool has one large enough.
+func takeFloats(n int) []float64 {
+	if b, ok := floatPool.Get().(*[]float64); ok && cap(*b) >= n {
+		return (*b)[:n]
+	}
+	return make([]float64, n)
+}
+
+// releaseFloats hands b back to the pool: nothing may use it after.
+func releaseFloats(b []float64) { floatPool.Put(&b) }
+
 // evaluate fills LogP by blocks of whole lines along the last axis.
 func (g *Grid) evaluate(ctx context.Context, p target.Density, blockSize int, progress func(float64)) error {
 	d := g.Dim
@@ -209,7 +227,8 @@ func (g *Grid) evaluate(ctx context.Context, p target.Density, blockSize int, pr
 	}
 	nLines := len(g.LogP) / nLast
 	bufLen := linesPerBlock * nLast
-	buf := make([]float64, d*bufLen)
+	buf := takeFloats(d * bufLen)
+	defer releaseFloats(buf)
 	cols := make([][]float64, d)
 	sub := make([][]float64, d)
 	chunk := min(bufLen, chunkProbe) // until the first call has been timed
