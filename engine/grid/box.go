@@ -176,16 +176,20 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 	const maxGrow = 24
 	grows := make([][2]int, d)
 	found := false
+	var last *Grid
+	defer func() { last.release() }()
 	for res.Iterations = 1; res.Iterations <= maxIter; res.Iterations++ {
 		if err := ctx.Err(); err != nil {
 			return res, err
 		}
 		f0 := 1 - math.Pow(0.8, float64(res.Iterations-1))
+		last.release() // the previous exploration grid: read, and done with
 		g, err := Evaluate(ctx, p, Box{Lo: lo, Hi: hi}, Settings{Points: points, Progress: func(f float64) {
 			if s.Progress != nil {
 				s.Progress(f0 + 0.2*(1-f0)*f) // towards the next iteration's value
 			}
 		}})
+		last = g
 		if g != nil {
 			res.Evaluations += g.Size()
 		} else if err == ErrNoMass {

@@ -160,7 +160,7 @@ func newGrid(d int, box Box, points []int, maps []transform.Map) (*Grid, error) 
 			g.Maps[k] = maps[k]
 		}
 	}
-	g.LogP = make([]float64, total)
+	g.LogP = takeFloats(total) // evaluate writes every point
 	return g, nil
 }
 
@@ -213,6 +213,20 @@ func takeFloats(n int) []float64 {
 
 // releaseFloats hands b back to the pool: nothing may use it after.
 func releaseFloats(b []float64) { floatPool.Put(&b) }
+
+// release hands the grid's large arrays (its log-densities and pair sums)
+// back to the pool; the grid must not be used after it. The box search
+// releases each exploration grid once it has read its marginals.
+func (g *Grid) release() {
+	if g == nil {
+		return
+	}
+	releaseFloats(g.LogP)
+	for _, ps := range g.Stats.pairSums {
+		releaseFloats(ps)
+	}
+	g.LogP, g.Stats.pairSums = nil, nil
+}
 
 // evaluate fills LogP by blocks of whole lines along the last axis.
 func (g *Grid) evaluate(ctx context.Context, p target.Density, blockSize int, progress func(float64)) error {

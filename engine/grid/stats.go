@@ -106,7 +106,9 @@ func newReduction(g *Grid, w [][]float64, step int) *reduction {
 	}
 	for k := 0; k < g.Dim; k++ {
 		for l := k + 1; l < g.Dim; l++ {
-			r.pairs[[2]int{k, l}] = make([]float64, r.n[k]*r.n[l])
+			ps := takeFloats(r.n[k] * r.n[l])
+			clear(ps)
+			r.pairs[[2]int{k, l}] = ps
 		}
 	}
 	if g.Dim == 1 {
@@ -349,6 +351,9 @@ func (g *Grid) summarise(ctx context.Context, free [][2]bool, progress func(floa
 		}
 	}
 	st.pairSums, st.pairWeights, st.pairTotal = full.pairs, g.Weights, full.total
+	for _, ps := range half.pairs { // read by the moments above only
+		releaseFloats(ps)
+	}
 	st.OrigArgMax = g.ArgMax
 	if !allIdentity(g.Maps) {
 		st.OrigArgMax = g.origArgMax()
