@@ -1,6 +1,7 @@
 package ui
 
 import (
+	"reflect"
 	"testing"
 
 	"bellcheck/engine"
@@ -90,5 +91,41 @@ func TestKeepDrawnKeepsOnlyTheSameDrawings(t *testing.T) {
 	}
 	if keepDrawn(drawn, numbered(BuildFigures(gaussResult(names, mean, cov, 0), View{Log: true}))).Grid[0][0] == drawn.Grid[0][0] {
 		t.Error("a marginal drawn on the log scale kept the linear drawing")
+	}
+}
+
+// go-app renders a component again when its inputs differ from the last
+// render's by reflect.DeepEqual, for which a NaN differs from itself: the
+// parameters panel's inputs built twice from the same session must compare
+// equal, before a result, with one whose grid only scouted, and with a
+// grid that is the reference.
+func TestParamViewsCompareEqualWhenNothingChanged(t *testing.T) {
+	src := "param m\nparam s in [0, inf]\nld_normal(1.2, m, s) + ld_normal(0.8, m, s) - log(s)\n"
+	var s Session
+	s.Edit(src)
+	run, _ := s.Begin(nowForTest())
+	if run.Model == nil {
+		t.Fatal("the model did not check")
+	}
+	check := func(when string) {
+		t.Helper()
+		a, b := ParamViews(&s), ParamViews(&s)
+		if len(a) != 2 || !reflect.DeepEqual(a, b) {
+			t.Errorf("%s: the panel's inputs built twice differ (go-app would render it at every update): %+v", when, a)
+		}
+	}
+	check("before a result")
+	res := gaussResult([]string{"m", "s"}, []float64{1, 0.5}, [][]float64{{0.1, 0}, {0, 0.01}}, 0)
+	res.Grid.Scouted = true
+	res.Grid.Lo, res.Grid.Hi, res.Grid.Points = []float64{0, 0.1}, []float64{2, 1}, []int{81, 81}
+	s.Finish(run, res, nil, 0, 0)
+	check("with a scouting grid")
+	if v := ParamViews(&s); v[0].UsedPoints != 0 {
+		t.Errorf("a scouting grid shown as the grid used: %+v", v[0])
+	}
+	res.Grid.Scouted = false
+	check("with the reference grid")
+	if v := ParamViews(&s); v[1].UsedPoints != 81 || v[1].UsedLo != 0.1 || v[1].UsedHi != 1 {
+		t.Errorf("the reference grid's box and points not shown: %+v", v[1])
 	}
 }
