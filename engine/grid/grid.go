@@ -197,9 +197,10 @@ const (
 	chunkAim   = 4 * time.Millisecond
 )
 
-// floatPool recycles evaluate's block of coordinates (d x 1024 floats,
-// taken at each grid the box search and the analysis evaluate): memory
-// used again costs neither the collector's work nor fresh pages.
+// floatPool recycles the grids' large arrays: evaluate's block of
+// coordinates, and the log-densities and pair sums of the grids the box
+// search explores and releases. Memory used again costs neither the
+// collector's work nor fresh pages.
 var floatPool sync.Pool // of *[]float64
 
 // takeFloats returns a slice of n floats (not zeroed), recycled where the
