@@ -10,9 +10,10 @@ import (
 // which is below a pixel's hundredth at any zoom used here. A subpath
 // starts with an absolute move ("M x y") and goes on by relative lines
 // ("l dx dy dx dy ..."), each step the difference of the rounded points, so
-// the points drawn are the rounded points exactly, with no drift; the
-// relative steps are about half as long as absolute pairs (a contour's
-// points are a few units apart), and the page parses every figure's SVG.
+// the points drawn are the rounded points exactly, with no drift. The steps
+// are shorter to write than the points (a contour's points are a few
+// units apart: a pair figure's path data 25 KB as points, 19 KB as steps),
+// and the page parses every figure's SVG.
 type Path struct {
 	b      strings.Builder
 	pen    bool  // a subpath is open
