@@ -11,6 +11,7 @@ import (
 	"math"
 	"strconv"
 	"strings"
+	"sync"
 	"unicode/utf8"
 
 	"bellcheck/engine"
@@ -94,6 +95,11 @@ type State struct {
 	AsIsDefault bool `json:"-"`
 }
 
+// writers recycles Encode's compressors: a new one allocates some 800 KB
+// of tables, a few milliseconds of the page's thread in WebAssembly at
+// every save of the state. Reset gives the same output as a new one.
+var writers sync.Pool // of *flate.Writer
+
 // Encode returns the fragment (without '#') for s.
 func Encode(s State) (string, error) {
 	raw, err := json.Marshal(s)
@@ -101,9 +107,13 @@ func Encode(s State) (string, error) {
 		return "", err
 	}
 	var buf bytes.Buffer
-	w, err := flate.NewWriter(&buf, flate.BestCompression)
-	if err != nil {
-		return "", err
+	w, _ := writers.Get().(*flate.Writer)
+	if w == nil {
+		if w, err = flate.NewWriter(&buf, flate.BestCompression); err != nil {
+			return "", err
+		}
+	} else {
+		w.Reset(&buf)
 	}
 	if _, err := w.Write(raw); err != nil {
 		return "", err
@@ -111,6 +121,7 @@ func Encode(s State) (string, error) {
 	if err := w.Close(); err != nil {
 		return "", err
 	}
+	writers.Put(w)
 	frag := "b" + strconv.Itoa(Version) + "." + base64.RawURLEncoding.EncodeToString(buf.Bytes())
 	if len(frag) > MaxFragment {
 		return "", ErrTooLong
