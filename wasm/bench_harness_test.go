@@ -30,13 +30,10 @@ import (
 	"sort"
 	"strconv"
 	"strings"
-	"sync"
 	"testing"
 	"text/tabwriter"
 	"time"
 
-	"github.com/chromedp/cdproto/cdp"
-	"github.com/chromedp/cdproto/tracing"
 	"github.com/chromedp/chromedp"
 
 	"bellcheck/app/examples"
@@ -480,56 +477,24 @@ func coldLoad(t *testing.T, b *browser, srv *siteServer, dir string, rep *report
 func wasmCompileShare(t *testing.T, b *browser, url string) (lazyMS float64, lazyN int, topMS float64) {
 	tb := b.newTab(t, true)
 	defer tb.close()
-	type event struct {
-		Name string  `json:"name"`
-		Ph   string  `json:"ph"`
-		Dur  float64 `json:"dur"` // µs
-		Tid  int64   `json:"tid"`
-	}
-	var mu sync.Mutex
-	lazyBy, countBy := map[int64]float64{}, map[int64]int{}
-	done := make(chan struct{})
-	if err := chromedp.Listen(tb.ctx, func(ev any) {
-		switch e := ev.(type) {
-		case *tracing.EventDataCollected:
-			mu.Lock()
-			defer mu.Unlock()
-			for _, raw := range e.Value {
-				var te event
-				if json.Unmarshal(raw, &te) != nil || te.Ph != "X" {
-					continue
-				}
-				switch te.Name {
-				case "wasm.CompileLazy":
-					lazyBy[te.Tid] += te.Dur / 1000
-					countBy[te.Tid]++
-				case "wasm.TopTierCompilation":
-					topMS += te.Dur / 1000
-				}
-			}
-		case *tracing.EventTracingComplete:
-			close(done)
-		}
-	}); err != nil {
-		t.Fatal(err)
-	}
-	if _, err := chromedp.Call(tb.ctx, tracing.Start, tracing.StartParams{
-		TransferMode: tracing.StartTransferModeReportEvents,
-		TraceConfig:  &tracing.TraceConfig{IncludedCategories: []string{"v8.wasm"}},
-	}); err != nil {
-		t.Fatal(err)
-	}
+	tr := startTrace(t, tb, "v8.wasm")
 	tb.open(t, url)
-	if _, err := chromedp.Call(tb.ctx, tracing.End, cdp.Empty{}); err != nil {
-		t.Fatal(err)
+	tr.end(t, tb)
+	tr.mu.Lock()
+	defer tr.mu.Unlock()
+	lazyBy, countBy := map[int64]float64{}, map[int64]int{}
+	for _, e := range tr.events {
+		if e.Ph != "X" {
+			continue
+		}
+		switch e.Name {
+		case "wasm.CompileLazy":
+			lazyBy[e.Tid] += e.Dur / 1000
+			countBy[e.Tid]++
+		case "wasm.TopTierCompilation":
+			topMS += e.Dur / 1000
+		}
 	}
-	select {
-	case <-done:
-	case <-time.After(60 * time.Second):
-		t.Fatal("the cold load's trace did not complete")
-	}
-	mu.Lock()
-	defer mu.Unlock()
 	for tid, ms := range lazyBy {
 		if ms > lazyMS {
 			lazyMS, lazyN = ms, countBy[tid]

@@ -27,7 +27,7 @@ func (p *Path) MoveTo(x, y float64) {
 	p.b.WriteByte('M')
 	p.pair(x, y)
 	p.pen, p.rel = true, false
-	p.lx, p.ly, p.exact = hundredths(x), hundredths(y), finiteHundredths(x) && finiteHundredths(y)
+	p.penAt(x, y)
 }
 
 // LineTo draws a line to (x, y), or starts a subpath if none is open.
@@ -40,7 +40,7 @@ func (p *Path) LineTo(x, y float64) {
 		p.b.WriteByte('L')
 		p.pair(x, y)
 		p.rel = false
-		p.lx, p.ly, p.exact = hundredths(x), hundredths(y), finiteHundredths(x) && finiteHundredths(y)
+		p.penAt(x, y)
 		return
 	}
 	nx, ny := hundredths(x), hundredths(y)
@@ -72,6 +72,11 @@ func (p *Path) Close() {
 // Lift ends the current subpath without closing it: the next LineTo starts a
 // new one (a gap in the line).
 func (p *Path) Lift() { p.pen, p.rel = false, false }
+
+// penAt records the pen's position after an absolute point.
+func (p *Path) penAt(x, y float64) {
+	p.lx, p.ly, p.exact = hundredths(x), hundredths(y), finiteHundredths(x) && finiteHundredths(y)
+}
 
 // hundredths is v in whole hundredths, as the path writes it.
 func hundredths(v float64) int64 {
