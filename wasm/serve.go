@@ -14,6 +14,7 @@ import (
 	"net/http"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
@@ -37,6 +38,10 @@ func newHandler(webDir, prefix string) *app.Handler {
 		ThemeColor:   "#1d3b53",
 		Version:      contentVersion(filepath.Join(webDir, "app.wasm")),
 	}
+	// The loader's progress counts the uncompressed bytes (patchLoader).
+	if st, err := os.Stat(filepath.Join(webDir, "app.wasm")); err == nil {
+		h.WasmContentLength = strconv.FormatInt(st.Size(), 10)
+	}
 	if prefix != "" && prefix != "/" {
 		h.Resources = app.PrefixedLocation("/" + strings.Trim(prefix, "/"))
 	} else {
@@ -51,6 +56,12 @@ func newHandler(webDir, prefix string) *app.Handler {
 	h.CacheableResources = []string{"/index.html", "/" + jsdom.WorkerScript}
 	h.ServiceWorkerTemplate = serviceWorker(h.Resources.Resolve("/index.html"), h.Resources.Resolve("/"))
 	return h
+}
+
+// siteHandler serves the calculator as newHandler does, with the loader
+// patched (patchLoader) as writeStatic writes it.
+func siteHandler(webDir, prefix string) http.Handler {
+	return withPatchedLoader(newHandler(webDir, prefix))
 }
 
 // contentVersion names a build by the hash of its wasm file, so that the
@@ -88,7 +99,7 @@ func runServe(args []string, stderr io.Writer) int {
 		return exitModel
 	}
 	fmt.Fprintf(stderr, "bellcheck: serving the calculator on http://%s/\n", ln.Addr())
-	if err := http.Serve(ln, newHandler(*webDir, "")); err != nil {
+	if err := http.Serve(ln, siteHandler(*webDir, "")); err != nil {
 		fmt.Fprintf(stderr, "bellcheck: %v\n", err)
 		return exitModel
 	}
@@ -127,6 +138,17 @@ func writeStatic(dir, webDir, prefix string) error {
 		return fmt.Errorf("generating the static site: %w", err)
 	}
 	if err := copyTree(filepath.Join(dir, "web"), webDir); err != nil {
+		return err
+	}
+	loader := filepath.Join(dir, "app.js")
+	js, err := os.ReadFile(loader)
+	if err != nil {
+		return err
+	}
+	if js, err = patchLoader(js); err != nil {
+		return err
+	}
+	if err := os.WriteFile(loader, js, 0o644); err != nil {
 		return err
 	}
 	return writeCompressed(dir)

@@ -143,7 +143,7 @@ func TestStaticSiteFilesAndPolicy(t *testing.T) {
 			t.Errorf("index.html loads %s from elsewhere", m[1])
 		}
 	}
-	checkScriptSyntax(t, filepath.Join(dir, "app-worker.js"), filepath.Join(dir, "web", "embed-example.js"),
+	checkScriptSyntax(t, filepath.Join(dir, "app-worker.js"), filepath.Join(dir, "app.js"), filepath.Join(dir, "web", "embed-example.js"),
 		filepath.Join(dir, "web", "bellcheck-worker.js"))
 }
 
