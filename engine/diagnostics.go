@@ -54,7 +54,9 @@ import (
 //	                                       (a rule of thumb, common practice)
 //	grid_error             warning         the reference's error estimate (the grid's, or the nested rule's where it
 //	                                       stands) is large: log Z off by more than 1e-3, a mean
-//	                                       by more than 1e-3 sd or a variance by more than 1 %
+//	                                       by more than 1e-3 sd or a variance by more than 1 %; or
+//	                                       a marginal too peaked for a walk of its own has its quantiles
+//	                                       from the rule's walks, off by up to 2e-3 of probability
 //	fit_off_grid           info            a fit has more than 1e-6 of its mass outside the box (its KL(q||p) then
 //	                                       comes from a cubature in its own coordinates) or is too narrow for the
 //	                                       grid (its KL(q||p) and Hellinger distance do, and its coverage is absent)
