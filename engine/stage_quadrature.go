@@ -761,7 +761,7 @@ func (r *reference) takeQuadrature(a *analysis, q *quadrature.Result, maps []tra
 	}
 	if len(roughQuantiles) > 0 {
 		a.diag.add(CodeGridError, SeverityWarning,
-			"The quantiles of %s are less precise than usual: the marginal is too peaked for a walk of its own (a peak far narrower than its spread, as a group effect's under a scale that may be near 0), so they come from the rule's walks given the other parameters; by their estimate (from the steps h, 2h and 4h) they are off by less than %s of probability.",
+			"The quantiles of %s are less precise than usual: the marginal is too peaked for a walk of its own (a peak far narrower than its spread: a group effect's, or a group mean's, under a scale that may be near 0), so they come from the rule's walks given the other parameters; by their estimate (from the steps h, 2h and 4h) they are off by less than %s of probability.",
 			list(roughQuantiles), percent(roughest))
 	}
 	disputed := a.disputedVariances(q)
