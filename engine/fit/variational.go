@@ -74,9 +74,10 @@ const maxDampedTries = 12
 
 // Stall watch (see Settings.MaxNodes).
 const (
-	stallSteps = 10
-	stallELBO  = 1e-9
-	maxOrder   = 200
+	tinyDamping = 1.0 / 512
+	stallSteps  = 10
+	stallELBO   = 1e-9
+	maxOrder    = 200
 )
 
 // trialRejected reports an error of a trial step's cubature that rejects
@@ -398,7 +399,11 @@ func variational(ctx context.Context, p target.Density, init Gaussian, s Setting
 				since++
 			}
 		}
-		stalled := !accepted || (since >= stallSteps && cur.elbo-elboThen <= stallELBO*(1+math.Abs(cur.elbo)))
+		// A step taken only at a sliver of the map's (the damping halved
+		// below tinyDamping) moves the fit by nothing the residuals see:
+		// the iteration has stalled as surely as when no step is taken.
+		crawled := accepted && a < tinyDamping
+		stalled := !accepted || crawled || (since >= stallSteps && cur.elbo-elboThen <= stallELBO*(1+math.Abs(cur.elbo)))
 		if !stalled {
 			continue
 		}
