@@ -184,7 +184,7 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 		}
 		f0 := 1 - math.Pow(0.8, float64(res.Iterations-1))
 		last.release() // the previous exploration grid: read, and done with
-		g, err := Evaluate(ctx, p, Box{Lo: lo, Hi: hi}, Settings{Points: points, Progress: func(f float64) {
+		g, err := Evaluate(ctx, p, Box{Lo: lo, Hi: hi}, Settings{Points: points, marginalsOnly: true, Progress: func(f float64) {
 			if s.Progress != nil {
 				s.Progress(f0 + 0.2*(1-f0)*f) // towards the next iteration's value
 			}

@@ -55,6 +55,11 @@ type Settings struct {
 	// 1024 (small enough that progress reports keep coming for a costly
 	// density, large enough to amortise the call).
 	BlockSize int
+	// marginalsOnly has the summary hold the log Z and the marginals
+	// alone (no moments, error estimates, tail shares or original-scale
+	// mode): the box search's exploration grids, which read only their
+	// marginals.
+	marginalsOnly bool
 }
 
 // Grid is a density evaluated on a tensor grid, with its summary.
@@ -182,7 +187,11 @@ func Evaluate(ctx context.Context, p target.Density, box Box, s Settings) (*Grid
 	if err := g.evaluate(ctx, p, s.BlockSize, func(f float64) { report(evalShare * f) }); err != nil {
 		return nil, err
 	}
-	if err := g.summarise(ctx, s.Free, func(f float64) { report(evalShare + (1-evalShare)*f) }); err != nil {
+	summarise := g.summarise
+	if s.marginalsOnly {
+		summarise = g.summariseMarginals
+	}
+	if err := summarise(ctx, s.Free, func(f float64) { report(evalShare + (1-evalShare)*f) }); err != nil {
 		return nil, err
 	}
 	report(1)

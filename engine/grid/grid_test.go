@@ -139,3 +139,40 @@ func TestNonFiniteAndCancel(t *testing.T) {
 		t.Error("empty box accepted")
 	}
 }
+
+// The box search's exploration grids keep only log Z and the marginals
+// (Settings.marginalsOnly): those must be the full summary's, bit for bit,
+// and the marginals must be the normal ones (gonum's distuv.Normal).
+func TestMarginalsOnlySummary(t *testing.T) {
+	mean := []float64{0, 1, -2}
+	cov := [][]float64{{1, 0.5, 0.2}, {0.5, 2, -0.3}, {0.2, -0.3, 0.5}}
+	sd := []float64{1, math.Sqrt2, math.Sqrt(0.5)}
+	p := gaussian(mean, cov, 0.5)
+	box := boxAround(mean, sd, 7.5)
+	full, err := Evaluate(ctx, p, box, Settings{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	light, err := Evaluate(ctx, p, box, Settings{marginalsOnly: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if light.Stats.LogZ != full.Stats.LogZ {
+		t.Errorf("log Z %.17g, the full summary's %.17g", light.Stats.LogZ, full.Stats.LogZ)
+	}
+	if !math.IsNaN(light.Stats.LogZErr) {
+		t.Errorf("log Z error %g: a light summary has none", light.Stats.LogZErr)
+	}
+	for k := range mean {
+		lm, fm := light.Stats.Marginals[k], full.Stats.Marginals[k]
+		n := distuv.Normal{Mu: mean[k], Sigma: sd[k]}
+		for i, v := range lm.Density {
+			if v != fm.Density[i] || lm.Mass[i] != fm.Mass[i] {
+				t.Fatalf("axis %d node %d: density %g mass %g, the full summary's %g %g", k, i, v, lm.Mass[i], fm.Density[i], fm.Mass[i])
+			}
+			if want := n.Prob(full.Nodes[k][i]); math.Abs(v-want) > 1e-8 {
+				t.Errorf("axis %d at %g: density %g, want %g", k, full.Nodes[k][i], v, want)
+			}
+		}
+	}
+}

@@ -239,37 +239,9 @@ func (g *Grid) summarise(ctx context.Context, free [][2]bool, progress func(floa
 	d := g.Dim
 	full := newReduction(g, g.Weights, 1)
 	half := newReduction(g, g.HalfWeights, 2)
-	nLast := g.N[d-1]
-	e := make([]float64, nLast)
-	lp := make([]float64, nLast)
-	ix := make([]int, d)
-	nLines := len(g.LogP) / nLast
-	checkEvery := max(1, 1024/nLast)
-	for line := 0; line < nLines; line++ {
-		if line%checkEvery == 0 {
-			if err := ctx.Err(); err != nil {
-				return err
-			}
-			progress(float64(line) / float64(nLines))
-		}
-		g.Index(line*nLast, ix)
-		vals := g.LogP[line*nLast : (line+1)*nLast]
-		for j, v := range vals {
-			s := v - g.Max
-			if !(s <= 0 && s > -745) {
-				// NaN, +Inf (above the finite maximum), -Inf and values
-				// that underflow carry no mass.
-				e[j], lp[j] = 0, 0
-				continue
-			}
-			e[j] = special.Exp(s)
-			lp[j] = s
-		}
-		full.addLine(ix, e, lp)
-		half.addLine(ix, e, lp)
+	if err := g.reduce(ctx, progress, full, half); err != nil {
+		return err
 	}
-	full.finish()
-	half.finish()
 	st := &g.Stats
 	st.LogZ = g.Max + math.Log(full.total)
 	st.LogZErr = math.Abs(math.Log(full.total) - math.Log(half.total))
@@ -302,16 +274,10 @@ func (g *Grid) summarise(ctx context.Context, free [][2]bool, progress func(floa
 		m := full.marg[k]
 		st.EdgeMass[k] = [2]float64{m[0] / full.total, m[len(m)-1] / full.total}
 	}
-	st.Marginals = make([]Marginal, d)
+	st.Marginals = g.marginals(full)
 	st.TailMass = 0
 	for k := 0; k < d; k++ {
-		mass := make([]float64, g.N[k])
-		dens := make([]float64, g.N[k])
-		for i, m := range full.marg[k] {
-			mass[i] = m / full.total
-			dens[i] = mass[i] / g.Weights[k][i]
-		}
-		st.Marginals[k] = Marginal{Axis: k, Density: dens, Mass: mass}
+		dens := st.Marginals[k].Density
 		fr := [2]bool{true, true}
 		if k < len(free) {
 			fr = free[k]
@@ -580,4 +546,79 @@ func (m Moments) clone() Moments {
 		}
 	}
 	return c
+}
+
+// reduce adds every line of nodes along the last axis to the reductions,
+// and derives their marginals.
+func (g *Grid) reduce(ctx context.Context, progress func(float64), reds ...*reduction) error {
+	d := g.Dim
+	nLast := g.N[d-1]
+	e := make([]float64, nLast)
+	lp := make([]float64, nLast)
+	ix := make([]int, d)
+	nLines := len(g.LogP) / nLast
+	checkEvery := max(1, 1024/nLast)
+	for line := 0; line < nLines; line++ {
+		if line%checkEvery == 0 {
+			if err := ctx.Err(); err != nil {
+				return err
+			}
+			progress(float64(line) / float64(nLines))
+		}
+		g.Index(line*nLast, ix)
+		vals := g.LogP[line*nLast : (line+1)*nLast]
+		for j, v := range vals {
+			s := v - g.Max
+			if !(s <= 0 && s > -745) {
+				// NaN, +Inf (above the finite maximum), -Inf and values
+				// that underflow carry no mass.
+				e[j], lp[j] = 0, 0
+				continue
+			}
+			e[j] = special.Exp(s)
+			lp[j] = s
+		}
+		for _, r := range reds {
+			r.addLine(ix, e, lp)
+		}
+	}
+	for _, r := range reds {
+		r.finish()
+	}
+	return nil
+}
+
+// summariseMarginals is summarise for a grid whose marginals alone are
+// read (Settings.marginalsOnly): the Stats hold LogZ, ExpectedLogP,
+// NonFinite and Marginals; the rest is left zero (LogZErr NaN).
+func (g *Grid) summariseMarginals(ctx context.Context, _ [][2]bool, progress func(float64)) error {
+	full := newReduction(g, g.Weights, 1)
+	if err := g.reduce(ctx, progress, full); err != nil {
+		return err
+	}
+	st := &g.Stats
+	st.LogZ = g.Max + math.Log(full.total)
+	st.LogZErr = math.NaN()
+	st.ExpectedLogP = g.Max + full.elogp/full.total
+	st.NonFinite = float64(g.NonFinite) / float64(len(g.LogP))
+	st.Marginals = g.marginals(full)
+	st.pairSums = full.pairs // released with the grid
+	progress(1)
+	return nil
+}
+
+// marginals returns each axis's normalised marginal from a reduction of
+// the full rule.
+func (g *Grid) marginals(full *reduction) []Marginal {
+	out := make([]Marginal, g.Dim)
+	for k := range out {
+		mass := make([]float64, g.N[k])
+		dens := make([]float64, g.N[k])
+		for i, m := range full.marg[k] {
+			mass[i] = m / full.total
+			dens[i] = mass[i] / g.Weights[k][i]
+		}
+		out[k] = Marginal{Axis: k, Density: dens, Mass: mass}
+	}
+	return out
 }
