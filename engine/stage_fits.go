@@ -148,13 +148,15 @@ func (a *analysis) fitReverse(lap *fit.LaplaceFit) (rev, mfit *fit.VariationalFi
 	}
 	variational := func(stage string, m Method, init fit.Gaussian) (*fit.VariationalFit, error) {
 		a.tr.enter(stage)
-		a.pw.tick = func(n int) { a.tr.tick(n, 20000) }
+		// The fraction follows the fit's residual (fit.Settings.Progress);
+		// the density's evaluations keep the reports coming between steps.
+		a.pw.tick = func(int) { a.tr.beat() }
 		run := fit.ReverseKL
 		if m == MeanField {
 			run = fit.MeanField
 		}
 		label := m.term()
-		vf, err := run(a.ctx, a.pw, init, fit.Settings{})
+		vf, err := run(a.ctx, a.pw, init, fit.Settings{Progress: a.tr.at})
 		if ctxErr := a.ctx.Err(); ctxErr != nil {
 			return nil, ctxErr
 		}

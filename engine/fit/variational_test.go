@@ -648,3 +648,32 @@ func TestReverseKLLogisticCost(t *testing.T) {
 		t.Errorf("%d cubature passes, want at most 60", vf.Evaluations)
 	}
 }
+
+// The fits' progress (Settings.Progress) never falls, stays in (0, 1],
+// and reaches 1 where the fit converges to Tol: the quartic above, whose
+// iteration converges to 1e-10 from a start of residual near 1.
+func TestVariationalProgress(t *testing.T) {
+	init := Gaussian{Mean: []float64{0.8}, Cov: sym(1, 2)}
+	for _, diag := range []bool{false, true} {
+		var got []float64
+		s := Settings{Progress: func(f float64) { got = append(got, f) }}
+		vf, err := variational(bg, quartic(), init, s, diag)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(got) == 0 {
+			t.Fatalf("diag %v: no progress reported in %d steps", diag, vf.Iterations)
+		}
+		for i, f := range got {
+			if !(f > 0 && f <= 1) || (i > 0 && !(f > got[i-1])) {
+				t.Fatalf("diag %v: progress %v", diag, got)
+			}
+		}
+		if !(vf.GradResidual <= 1e-10 && vf.PrecisionResidual <= 1e-10) {
+			t.Fatalf("diag %v: residuals %g, %g: the quartic's fit converges to 1e-10", diag, vf.GradResidual, vf.PrecisionResidual)
+		}
+		if last := got[len(got)-1]; last != 1 {
+			t.Errorf("diag %v: converged with the progress at %v (%v)", diag, last, got)
+		}
+	}
+}

@@ -347,3 +347,9 @@ func norm(v []float64) float64 {
 	}
 	return math.Sqrt(s)
 }
+
+// residualNorm is the larger of st's two residuals (see residuals).
+func (v *viSolver) residualNorm(st *viState) float64 {
+	g, p := v.residuals(st)
+	return max(g, p)
+}
