@@ -51,17 +51,23 @@ func Analyse(ctx context.Context, m *model.Model, opts Options, progress Progres
 // caller's: the analysis changes nothing of it afterwards.
 type EarlyFunc func(*Result)
 
-// AnalyseEarly is Analyse that also hands over the result before its pair
-// plots: where opts.Plots is set, the model has three or four parameters
-// and the plots come from the nested rule, whose pair marginals (a rule
-// over the other parameters at each of a few hundred points a pair) take
-// a quarter to a third of the analysis, early is called once the
-// marginals are drawn, with everything but the pairs (Plots.PairsToCome
-// set; the diagnostics so far, and the timing to then). The whole result
-// follows as Analyse's would; it may hold a diagnostic more, about a pair
-// whose contours are not drawn. early may be nil; it is not called where
-// the pairs cost next to nothing (from the grid, or in 2-D where the pair
-// is the density itself) or where the analysis fails first.
+// AnalyseEarly is Analyse that also hands over results before the whole
+// one, where opts.Plots is set and the plots come from the nested rule:
+//
+//   - the exact result before the fits (Result.FitsToCome and
+//     Plots.PairsToCome set: no fits, no comparisons, no pair plots),
+//     where the analysis has run for exactEarlyAfter by then (the fits of a
+//     model whose log p is costly, as one with an ode block, take most of
+//     its time);
+//   - the result before its pair plots (Plots.PairsToCome set), where the
+//     model has three or four parameters: the pair marginals (a rule over
+//     the other parameters at each of a few hundred points a pair) take a
+//     quarter to a third of the analysis.
+//
+// Each carries the diagnostics so far and the timing to then. The whole
+// result follows as Analyse's would; it may hold a diagnostic more, about
+// a pair whose contours are not drawn. early may be nil; it is not called
+// where the analysis fails first.
 func AnalyseEarly(ctx context.Context, m *model.Model, opts Options, progress ProgressFunc, early EarlyFunc) (*Result, error) {
 	a := &analysis{ctx: ctx, m: m, opts: opts, tr: newTracker(progress), scout: true, early: early}
 	res, err := a.run()
@@ -113,6 +119,10 @@ type analysis struct {
 	// early, when set, receives the result before its pair plots
 	// (AnalyseEarly; plots_rule.go).
 	early EarlyFunc
+	// ruleExact holds the exact marginals' plots once drawn (ruleMarginals,
+	// plots_rule.go): the exact result handed over before the fits and
+	// the whole result share them.
+	ruleExact *exactPlots
 	// undefinedHinted: a message has told how to declare a support where
 	// log p is undefined (undefinedHint).
 	undefinedHinted bool
@@ -142,6 +152,9 @@ func (a *analysis) run() (*Result, error) {
 		if err := a.exactByQuadrature(); err != nil {
 			return nil, err
 		}
+	}
+	if err := a.handOverExact(live); err != nil {
+		return nil, err
 	}
 	if err := a.fitAll(); err != nil {
 		return nil, err

@@ -74,41 +74,15 @@ func (a *analysis) plotsFromRule(res *Result, beforePairs func([]Marginal1D)) (*
 	d := a.d
 	pl := &Plots{}
 	fits, cands := a.plotted(res)
-	ranges, curves, err := a.ruleRanges(q)
-	if err != nil {
-		if ctxErr := a.ctx.Err(); ctxErr != nil {
-			return nil, ctxErr
-		}
-		return nil, err
-	}
 	pairs := d * (d - 1) / 2
 	parts := float64(d + pairs)
+	exact, ranges, err := a.ruleMarginals(func(k int) { a.tr.at(float64(k) / parts) })
+	if err != nil {
+		return nil, err
+	}
 	for k := 0; k < d; k++ {
-		a.tr.at(float64(k) / parts)
-		xs := evenly(ranges[k], rulePlot1D[d-1])
-		m := Marginal1D{Param: k, X: xs}
-		tol := walkDensityTol
-		if a.ref.curvesLater != nil && a.ref.curvesLater[k] && a.costlyCurve(q) {
-			tol = walkDensityTolCostly
-		}
-		if cv := curves[k]; cv != nil {
-			m.Exact = cv.Density(xs)
-		} else if dens, est, err := q.WalkDensity(k, xs); err == nil && est <= tol {
-			// No curve (the marginal's own walk failed, as a funnel's
-			// location's, or was not taken: see ruleRanges), but the
-			// rule's walks along the parameter, summed, give its density.
-			m.Exact = dens
-		} else {
-			// A rule over the other parameters at each plot point.
-			dens, err := q.Marginal(a.ctx, k, xs)
-			if err != nil {
-				if ctxErr := a.ctx.Err(); ctxErr != nil {
-					return nil, ctxErr
-				}
-				return nil, err
-			}
-			m.Exact = dens
-		}
+		m := exact[k]
+		xs := m.X
 		for meth, g := range fits {
 			if g != nil {
 				m.Fits[meth] = a.normalCurve(g, k, xs)
@@ -810,3 +784,61 @@ const imageMassDispute = 0.1
 // nodes' for which the image's stands: 0.25, where a normal's differ by
 // 0.08 at most and a funnel's by 0.57 and more.
 const levelDispute = 0.25
+
+// ruleMarginals returns each parameter's exact marginal (X and Exact only)
+// on its plot range, and the ranges, from the nested rule (see
+// plotsFromRule). They are computed once and kept (a.ruleExact): the exact
+// result handed over before the fits (handOverExact) and the whole result
+// draw the same curves. step is called before each parameter's.
+func (a *analysis) ruleMarginals(step func(k int)) ([]Marginal1D, [][2]float64, error) {
+	if a.ruleExact != nil {
+		return a.ruleExact.marginals, a.ruleExact.ranges, nil
+	}
+	q := a.ref.quad
+	d := a.d
+	ranges, curves, err := a.ruleRanges(q)
+	if err != nil {
+		if ctxErr := a.ctx.Err(); ctxErr != nil {
+			return nil, nil, ctxErr
+		}
+		return nil, nil, err
+	}
+	out := make([]Marginal1D, d)
+	for k := 0; k < d; k++ {
+		step(k)
+		xs := evenly(ranges[k], rulePlot1D[d-1])
+		m := Marginal1D{Param: k, X: xs}
+		tol := walkDensityTol
+		if a.ref.curvesLater != nil && a.ref.curvesLater[k] && a.costlyCurve(q) {
+			tol = walkDensityTolCostly
+		}
+		if cv := curves[k]; cv != nil {
+			m.Exact = cv.Density(xs)
+		} else if dens, est, err := q.WalkDensity(k, xs); err == nil && est <= tol {
+			// No curve (the marginal's own walk failed, as a funnel's
+			// location's, or was not taken: see ruleRanges), but the
+			// rule's walks along the parameter, summed, give its density.
+			m.Exact = dens
+		} else {
+			// A rule over the other parameters at each plot point.
+			dens, err := q.Marginal(a.ctx, k, xs)
+			if err != nil {
+				if ctxErr := a.ctx.Err(); ctxErr != nil {
+					return nil, nil, ctxErr
+				}
+				return nil, nil, err
+			}
+			m.Exact = dens
+		}
+		out[k] = m
+	}
+	a.ruleExact = &exactPlots{marginals: out, ranges: ranges}
+	return out, ranges, nil
+}
+
+// exactPlots are the exact marginals' plot points and densities, and the
+// plot ranges, kept by ruleMarginals.
+type exactPlots struct {
+	marginals []Marginal1D
+	ranges    [][2]float64
+}

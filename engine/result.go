@@ -32,6 +32,10 @@ type Result struct {
 	// Plots holds curves and images for drawing; omitted from the command
 	// line's JSON unless asked for.
 	Plots *Plots `json:"plots,omitempty"`
+	// FitsToCome marks the exact result that AnalyseEarly hands over
+	// before the fits: Fits, Candidates and Curvature are empty, and the
+	// whole result follows.
+	FitsToCome bool `json:"fits_to_come,omitempty"`
 }
 
 // Exact is the reference posterior from quadrature on the grid.

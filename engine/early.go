@@ -1,0 +1,57 @@
+package engine
+
+import (
+	"maps"
+	"slices"
+	"time"
+)
+
+// exactEarlyAfter is how long an analysis must have run by the end of its
+// exact reference for AnalyseEarly to hand over the exact result before
+// the fits (handOverExact). The fits take the Hessian of log p at every
+// cubature node, so where the reference took this long they usually take
+// longer still (a Lorenz-63 cost over two time units: the reference
+// within 10 s, the fits 19 s more, natively); below it an early result
+// would only cost the page a second drawing.
+var exactEarlyAfter = 800 * time.Millisecond
+
+// handOverExact passes AnalyseEarly's caller the exact result before the
+// fits: the reference's numbers as settleExact would leave them, the modes,
+// the diagnostics so far and the exact marginals' plots (Result.FitsToCome,
+// Plots.PairsToCome). It runs only where the caller asked for plots, the
+// nested rule gives them, and the analysis has run for exactEarlyAfter.
+// settleExact runs on copies of the availability record and the
+// diagnostics, which are put back: it runs again in its place after the
+// fits, and the whole result is what it would be without this.
+func (a *analysis) handOverExact(live []LiveConstant) error {
+	if a.early == nil || !a.opts.Plots || !a.ref.onNodes() || a.ref.gridCurves || time.Since(a.tr.start) < exactEarlyAfter {
+		return nil
+	}
+	marginals, _, err := a.ruleMarginals(func(int) { a.tr.beat() })
+	if err != nil {
+		return err
+	}
+	avail, diag, mode := a.avail.clone(), a.diag.clone(), a.mode
+	a.settleExact()
+	res := a.report()
+	res.Modes = slices.Clone(res.Modes) // fillCosts writes into them
+	res.Live = live
+	a.fillCosts(res)
+	res.FitsToCome = true
+	res.Plots = &Plots{Marginals: slices.Clone(marginals), PairsToCome: a.d > 1}
+	res.Diagnostics = a.diag.sorted()
+	res.Timing = a.tr.snapshot()
+	a.avail, a.diag, a.mode = avail, diag, mode
+	a.early(res)
+	return nil
+}
+
+// clone returns an independent copy of the record.
+func (av *availability) clone() availability {
+	return availability{absent: maps.Clone(av.absent)}
+}
+
+// clone returns an independent copy of the diagnostics.
+func (d *diagnostics) clone() diagnostics {
+	return diagnostics{list: slices.Clone(d.list), seen: maps.Clone(d.seen)}
+}
