@@ -17,19 +17,28 @@ var exactEarlyAfter = 800 * time.Millisecond
 
 // handOverExact passes AnalyseEarly's caller the exact result before the
 // fits: the reference's numbers as settleExact would leave them, the modes,
-// the diagnostics so far and the exact marginals' plots (Result.FitsToCome,
-// Plots.PairsToCome). It runs only where the caller asked for plots, the
-// nested rule gives them, and the analysis has run for exactEarlyAfter.
+// the diagnostics so far and the exact plots (Result.FitsToCome): from the
+// nested rule the marginals (Plots.PairsToCome; they are kept for the whole
+// result), from the grid the marginals and pairs. It runs only where the
+// caller asked for plots and the analysis has run for exactEarlyAfter.
 // settleExact runs on copies of the availability record and the
 // diagnostics, which are put back: it runs again in its place after the
 // fits, and the whole result is what it would be without this.
 func (a *analysis) handOverExact(live []LiveConstant) error {
-	if a.early == nil || !a.opts.Plots || !a.ref.onNodes() || a.ref.gridCurves || time.Since(a.tr.start) < exactEarlyAfter {
+	if a.early == nil || !a.opts.Plots || time.Since(a.tr.start) < exactEarlyAfter {
 		return nil
 	}
-	marginals, _, err := a.ruleMarginals(func(int) { a.tr.beat() })
-	if err != nil {
-		return err
+	fromRule := a.ref.onNodes() && !a.ref.gridCurves
+	if !fromRule && a.ref.grid == nil {
+		return nil
+	}
+	var pl *Plots
+	if fromRule {
+		marginals, _, err := a.ruleMarginals(func(int) { a.tr.beat() })
+		if err != nil {
+			return err
+		}
+		pl = &Plots{Marginals: slices.Clone(marginals), PairsToCome: a.d > 1}
 	}
 	avail, diag, mode := a.avail.clone(), a.diag.clone(), a.mode
 	a.settleExact()
@@ -38,7 +47,15 @@ func (a *analysis) handOverExact(live []LiveConstant) error {
 	res.Live = live
 	a.fillCosts(res)
 	res.FitsToCome = true
-	res.Plots = &Plots{Marginals: slices.Clone(marginals), PairsToCome: a.d > 1}
+	if !fromRule {
+		// The grid's plots, pairs and all: sums it holds already.
+		var err error
+		if pl, err = a.plots(res, nil); err != nil {
+			a.avail, a.diag, a.mode = avail, diag, mode
+			return err
+		}
+	}
+	res.Plots = pl
 	res.Diagnostics = a.diag.sorted()
 	res.Timing = a.tr.snapshot()
 	a.avail, a.diag, a.mode = avail, diag, mode

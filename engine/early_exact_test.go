@@ -3,6 +3,7 @@ package engine
 import (
 	"context"
 	"encoding/json"
+	"fmt"
 	"testing"
 )
 
@@ -11,13 +12,21 @@ import (
 // modes and marginal plots, no fits, and says that the fits and pairs
 // follow; and the whole result is the same, timing aside, as an analysis
 // that hands over nothing. Models of one, two and three parameters from
-// testdata/reference/bench.
+// testdata/reference/bench, with the nested rule and with the grid as the
+// reference.
 func TestExactBeforeFits(t *testing.T) {
 	old := exactEarlyAfter
 	exactEarlyAfter = 0
 	defer func() { exactEarlyAfter = old }()
-	for _, name := range []string{"decay_rate_1d.txt", "banana_2d.txt", "sensor_3d.txt"} {
-		t.Run(name, func(t *testing.T) {
+	oldRule := useQuadrature
+	defer func() { useQuadrature = oldRule }()
+	for _, c := range []struct {
+		name string
+		rule bool
+	}{{"decay_rate_1d.txt", true}, {"banana_2d.txt", true}, {"sensor_3d.txt", true}, {"banana_2d.txt", false}, {"sensor_3d.txt", false}} {
+		name := c.name
+		useQuadrature = c.rule
+		t.Run(fmt.Sprintf("%s/rule=%v", name, c.rule), func(t *testing.T) {
 			m := benchFile(t, name)
 			opts := Options{Plots: true}
 			var early []*Result
@@ -48,8 +57,19 @@ func TestExactBeforeFits(t *testing.T) {
 				t.Errorf("modes differ:\nearly %s\nwhole %s", got, want)
 			}
 			d := len(whole.Params)
-			if first.Plots == nil || len(first.Plots.Marginals) != d || len(first.Plots.Pairs) != 0 || first.Plots.PairsToCome != (d > 1) {
-				t.Fatalf("early plots %+v", first.Plots)
+			// From the rule the pairs follow; from the grid they come at once.
+			wantPairs := 0
+			if !c.rule {
+				wantPairs = d * (d - 1) / 2
+			}
+			if first.Plots == nil || len(first.Plots.Marginals) != d || len(first.Plots.Pairs) != wantPairs || first.Plots.PairsToCome != (c.rule && d > 1) {
+				t.Fatalf("early plots: %d marginals, %d pairs, pairs to come %v", len(first.Plots.Marginals), len(first.Plots.Pairs), first.Plots.PairsToCome)
+			}
+			for i, p := range first.Plots.Pairs {
+				w := whole.Plots.Pairs[i]
+				if mustJSON(t, p.Density) != mustJSON(t, w.Density) || p.Levels != w.Levels {
+					t.Errorf("pair %d differs from the whole result's", i)
+				}
 			}
 			for k, mg := range first.Plots.Marginals {
 				w := whole.Plots.Marginals[k]

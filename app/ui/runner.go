@@ -139,16 +139,25 @@ func (p *Page) start(ctx app.Context) {
 	p.progress = false
 	analyse := p.analyse
 	y := newYielder(SliceLength)
+	view := p.view
 	var remote *remoteRun
 	if analyse == nil {
 		work := workIdentity(p.s.Model, p.data.digest, run.Options)
-		analyse = p.boundedAnalyse(ctx, work) // workbound.go
+		// On the page's own thread only the exact result before the fits
+		// is shown early (a model whose fits take seconds: drawing it costs
+		// far less than the wait); the one before the pairs waits for the
+		// whole result there.
+		exactFirst := func(res *engine.Result) {
+			if res.FitsToCome {
+				p.showEarly(ctx, run, view, res, nil, y)
+			}
+		}
+		analyse = p.boundedAnalyse(ctx, work, exactFirst) // workbound.go
 		if p.worker.isReady() && !p.smallWork(work) {
 			remote = p.newRemoteRun(run, work) // offload.go
 			analyse = p.remoteAnalyse(ctx, remote, analyse, y.Rest)
 		}
 	}
-	view := p.view
 	if remote != nil {
 		remote.req.Early = true
 		remote.early = func(res *engine.Result, figs *FigureSet) {

@@ -87,14 +87,15 @@ const offerMargin = 2
 // work (workIdentity): the forecast of the last work forecast is kept, and
 // the same work again (a comment typed, a slider moved) is not forecast
 // again. (The forecast times the density for at least 15 ms where a point
-// costs over a microsecond, before every analysis.)
-func (p *Page) boundedAnalyse(actx app.Context, work string) AnalyseFunc {
+// costs over a microsecond, before every analysis.) early, when set,
+// receives the analysis's early results (engine.AnalyseEarly).
+func (p *Page) boundedAnalyse(actx app.Context, work string, early engine.EarlyFunc) AnalyseFunc {
 	return func(ctx context.Context, m *model.Model, opts engine.Options, progress engine.ProgressFunc) (*engine.Result, error) {
-		return p.bounded(actx, ctx, work, m, opts, progress)
+		return p.bounded(actx, ctx, work, m, opts, progress, early)
 	}
 }
 
-func (p *Page) bounded(actx app.Context, ctx context.Context, work string, m *model.Model, opts engine.Options, progress engine.ProgressFunc) (*engine.Result, error) {
+func (p *Page) bounded(actx app.Context, ctx context.Context, work string, m *model.Model, opts engine.Options, progress engine.ProgressFunc, early engine.EarlyFunc) (*engine.Result, error) {
 	p.estimateTime = 0
 	est, ok := p.memo.of(work)
 	if !ok {
@@ -108,7 +109,7 @@ func (p *Page) bounded(actx app.Context, ctx context.Context, work string, m *mo
 		p.memo.keep(work, est)
 	}
 	if est.Total <= PageMaxTime {
-		return engine.Analyse(ctx, m, opts, progress)
+		return engine.AnalyseEarly(ctx, m, opts, progress, early)
 	}
 	tl := &TooLongError{Estimate: est, Limit: PageMaxTime, Points: engine.PointsWithin(len(m.Params), est.PerPoint, PageMaxTime/offerMargin)}
 	actx.Dispatch(func(app.Context) { p.offerCoarser(m, tl) })
