@@ -112,6 +112,9 @@ func (pp *PlotPanel) legend(fs *FigureSet) app.UI {
 		if _, isFit := m.Fit(); isFit && fs.Result != nil && fitOf(fs.Result, m) == nil {
 			// No curve to look for: say so where the line would be named.
 			cls, title, name = "legend-item legend-absent", s.Long+": "+absentFit, s.Name+" (none)"
+			if fs.Result.FitsToCome {
+				title, name = s.Long+": "+fitToCome, s.Name+" (to come)"
+			}
 		}
 		items = append(items, app.Label().For(id).Class(cls).Title(title).Body(
 			app.Input().Type("checkbox").ID(id).Checked(!pp.View.Hidden[m]).

@@ -322,6 +322,9 @@ func (p *Page) StopAnalysis(ctx app.Context) {
 	shown := "the results shown, dimmed, are from the last analysis that finished"
 	if partial {
 		shown = "the results shown, dimmed, are this analysis's but for the pair plots, which it had not computed"
+		if r := p.s.Result; r != nil && r.FitsToCome {
+			shown = "the results shown, dimmed, are this analysis's exact ones; it had not fitted the Gaussians yet"
+		}
 	}
 	p.notice = Notice{Text: fmt.Sprintf("You stopped the analysis after %s (%.0f %% done, at: %s). Your model and settings are as you left them; %s. Run it again from the status line, or make it lighter first (fewer grid points, less data).",
 		fmtSeconds(took), 100*max(0, min(1, frac)), stage, shown)}

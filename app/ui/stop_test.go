@@ -176,3 +176,54 @@ func TestStopAfterTheEarlyResult(t *testing.T) {
 		t.Errorf("the pair cells after Stop: %s", out)
 	}
 }
+
+// A stop after the analysis showed its exact result before the fits
+// (engine.Result.FitsToCome): the notice says the fits had not been made,
+// and the table and the legend say the fits were still to come, not that
+// they failed.
+func TestStopAfterTheExactResult(t *testing.T) {
+	started := make(chan struct{}, 4)
+	stopped := make(chan struct{}, 4)
+	h, e := mount(t, func(ctx context.Context, m *model.Model, o engine.Options, pr engine.ProgressFunc) (*engine.Result, error) {
+		started <- struct{}{}
+		<-ctx.Done()
+		stopped <- struct{}{}
+		return nil, ctx.Err()
+	})
+	p := h.page
+	p.text = "param a\nparam b\n-(a^2 + b^2)/2 - a^4/10\n"
+	p.check(h.ctx)
+	<-started
+	// The exact result as AnalyseEarly hands it over: no fits yet.
+	res, err := engine.Analyse(context.Background(), p.s.Model, engine.Options{Plots: true}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	early := *res
+	early.Fits, early.FitsToCome = engine.Fits{}, true
+	for i := range early.Plots.Marginals {
+		early.Plots.Marginals[i].Fits = [engine.NumMethods][]float64{}
+	}
+	run := Run{Gen: p.s.Gen, Model: p.s.Model}
+	if !p.s.Early(run, &early) {
+		t.Fatal("the early result was refused")
+	}
+	p.figs = numbered(BuildFigures(&early, p.view))
+	p.sections = Table(&early, p.s.Model)
+	p.progress = true
+	p.StopAnalysis(h.ctx)
+	<-stopped
+	e.ConsumeAll()
+	if !strings.Contains(p.notice.Text, "it had not fitted the Gaussians yet") {
+		t.Errorf("the notice says %q", p.notice.Text)
+	}
+	out := app.HTMLString(&Outputs{Host: p, Out: p.resultView()})
+	for _, want := range []string{fitToCome, "(to come)"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("the results after Stop do not say %q", want)
+		}
+	}
+	if strings.Contains(out, absentFit) || strings.Contains(out, "(none)") {
+		t.Errorf("the results after Stop call a fit still to come absent")
+	}
+}

@@ -50,8 +50,21 @@ func fitOf(r *engine.Result, m plot.Method) *engine.Fit {
 	return nil
 }
 
-// absentFit is the reason shown where a fit does not exist.
-const absentFit = "no fit: see the diagnostics"
+// absentFit is the reason shown where a fit does not exist, and fitToCome
+// where the result is the exact one handed over before the fits
+// (engine.Result.FitsToCome).
+const (
+	absentFit = "no fit: see the diagnostics"
+	fitToCome = "being fitted: the exact results came first"
+)
+
+// noFit returns the reason a fit of r is missing.
+func noFit(r *engine.Result) string {
+	if r != nil && r.FitsToCome {
+		return fitToCome
+	}
+	return absentFit
+}
 
 // markBest sets Best on the fits with the lowest finite score (ties within
 // a part in 10^9 share it). Nothing is marked when fewer than two fits have
@@ -252,7 +265,7 @@ func Table(r *engine.Result, m *model.Model) []Section {
 		meth, f := plot.CurveOf(fm), r.Fits[fm]
 		switch {
 		case f == nil:
-			run.Cells[meth] = Cell{Text: "—", Absent: absentFit}
+			run.Cells[meth] = Cell{Text: "—", Absent: noFit(r)}
 		case !fm.Iterative():
 			run.Cells[meth] = Cell{Text: "—", Absent: "moment matching needs no optimiser"}
 		case f.Converged:
@@ -282,7 +295,7 @@ func fillRow(row *Row, r *engine.Result, cellOf func(f *engine.Fit) (Cell, float
 	for _, meth := range plot.Fits {
 		f := fitOf(r, meth)
 		if f == nil {
-			row.Cells[meth] = Cell{Text: "—", Absent: absentFit}
+			row.Cells[meth] = Cell{Text: "—", Absent: noFit(r)}
 			continue
 		}
 		row.Cells[meth], score[meth] = cellOf(f)
