@@ -10,10 +10,12 @@ import (
 // exact reference for AnalyseEarly to hand over the exact result before
 // the fits (handOverExact). The fits take the Hessian of log p at every
 // cubature node, so where the reference took this long they usually take
-// longer still (a Lorenz-63 cost over two time units: the reference
-// within 10 s, the fits 19 s more, natively); below it an early result
-// would only cost the page a second drawing.
-var exactEarlyAfter = 800 * time.Millisecond
+// longer still (the README's Lorenz-63 cost: the reference within 11 s,
+// the fits 27 s more, natively). Each result handed over costs a drawing
+// (tens of milliseconds in the page, and in the worker its figures before
+// the whole result's): below a few seconds of work that would delay the
+// whole result of a 4-D example for little.
+var exactEarlyAfter = 2 * time.Second
 
 // handOverExact passes AnalyseEarly's caller the exact result before the
 // fits: the reference's numbers as settleExact would leave them, the modes,
