@@ -4,6 +4,7 @@ import (
 	"context"
 	"encoding/json"
 	"fmt"
+	"path/filepath"
 	"testing"
 )
 
@@ -27,7 +28,7 @@ func TestExactBeforeFits(t *testing.T) {
 		name := c.name
 		useQuadrature = c.rule
 		t.Run(fmt.Sprintf("%s/rule=%v", name, c.rule), func(t *testing.T) {
-			m := benchFile(t, name)
+			m := parseFile(t, filepath.Join("..", "testdata", "reference", "bench", name))
 			opts := Options{Plots: true}
 			var early []*Result
 			whole, err := AnalyseEarly(context.Background(), m, opts, nil, func(r *Result) { early = append(early, r) })
