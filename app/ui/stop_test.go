@@ -139,15 +139,22 @@ func TestEmbedLinkOverLimitSaysSo(t *testing.T) {
 // A stop after the analysis showed its early result (all but the pair
 // plots): the notice says the results shown are this analysis's but for
 // its pairs, and the pair cells say they were not computed.
-func TestStopAfterTheEarlyResult(t *testing.T) {
-	started := make(chan struct{}, 4)
-	stopped := make(chan struct{}, 4)
-	h, e := mount(t, func(ctx context.Context, m *model.Model, o engine.Options, pr engine.ProgressFunc) (*engine.Result, error) {
+// mountUntilStopped mounts a page whose analyses run until they are
+// stopped: started and stopped receive as each begins and ends.
+func mountUntilStopped(t *testing.T) (h *harness, e app.TestEngine, started, stopped chan struct{}) {
+	started = make(chan struct{}, 4)
+	stopped = make(chan struct{}, 4)
+	h, e = mount(t, func(ctx context.Context, m *model.Model, o engine.Options, pr engine.ProgressFunc) (*engine.Result, error) {
 		started <- struct{}{}
 		<-ctx.Done()
 		stopped <- struct{}{}
 		return nil, ctx.Err()
 	})
+	return h, e, started, stopped
+}
+
+func TestStopAfterTheEarlyResult(t *testing.T) {
+	h, e, started, stopped := mountUntilStopped(t)
 	p := h.page
 	p.text = "param a\nparam b\nparam c\n-(a^2 + b^2 + c^2)/2\n"
 	p.check(h.ctx)
@@ -182,14 +189,7 @@ func TestStopAfterTheEarlyResult(t *testing.T) {
 // and the table and the legend say the fits were still to come, not that
 // they failed.
 func TestStopAfterTheExactResult(t *testing.T) {
-	started := make(chan struct{}, 4)
-	stopped := make(chan struct{}, 4)
-	h, e := mount(t, func(ctx context.Context, m *model.Model, o engine.Options, pr engine.ProgressFunc) (*engine.Result, error) {
-		started <- struct{}{}
-		<-ctx.Done()
-		stopped <- struct{}{}
-		return nil, ctx.Err()
-	})
+	h, e, started, stopped := mountUntilStopped(t)
 	p := h.page
 	p.text = "param a\nparam b\n-(a^2 + b^2)/2 - a^4/10\n"
 	p.check(h.ctx)
