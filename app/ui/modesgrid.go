@@ -58,13 +58,21 @@ func (c *ModesGrid) Render() app.UI {
 		cls += " stale"
 	}
 	t := c.Times
+	facts := gridFacts(r, box)
+	engineTime := fmtMillis(time.Duration(r.Timing.Total*float64(time.Millisecond)))
+	if r.FitsToCome || (r.Plots != nil && r.Plots.PairsToCome) {
+		// An early result: the analysis goes on, and the page's times
+		// are known once the whole result is drawn.
+		engineTime += " so far"
+	} else {
+		facts = append(facts,
+			app.Dt().Text("page time"), app.Dd().Text(fmtMillis(t.Elapsed)+" in all, working in slices of at most "+fmtMillis(t.Longest)+
+				" between pauses for the browser; figures "+fmtMillis(t.Figures)+", update of the page "+fmtMillis(t.Update)))
+	}
 	return app.Div().Class(cls).Body(
 		&Modes{Params: r.Params, Items: modes, Cost: r.Form == "cost"},
-		app.Dl().Class("facts").Body(append(gridFacts(r, box),
-			app.Dt().Text("page time"), app.Dd().Text(fmtMillis(t.Elapsed)+" in all, working in slices of at most "+fmtMillis(t.Longest)+
-				" between pauses for the browser; figures "+fmtMillis(t.Figures)+", update of the page "+fmtMillis(t.Update)),
-			app.Dt().Text("engine time"), app.Dd().Text(fmtMillis(time.Duration(r.Timing.Total*float64(time.Millisecond)))+
-				app.FormatString(" (%s)", strings.Join(st, ", "))),
+		app.Dl().Class("facts").Body(append(facts,
+			app.Dt().Text("engine time"), app.Dd().Text(engineTime+app.FormatString(" (%s)", strings.Join(st, ", "))),
 		)...),
 	)
 }

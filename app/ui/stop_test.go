@@ -226,4 +226,14 @@ func TestStopAfterTheExactResult(t *testing.T) {
 	if strings.Contains(out, absentFit) || strings.Contains(out, "(none)") {
 		t.Errorf("the results after Stop call a fit still to come absent")
 	}
+	// The page's times are the whole result's: an early one has the
+	// engine's so far.
+	facts := app.HTMLString(&ModesGrid{Shown: &Shown{Result: &early}})
+	if strings.Contains(facts, "page time") || !strings.Contains(facts, "so far") {
+		t.Errorf("the early result's times: page time shown %v, engine time so far %v", strings.Contains(facts, "page time"), strings.Contains(facts, "so far"))
+	}
+	whole := app.HTMLString(&ModesGrid{Shown: &Shown{Result: res}})
+	if !strings.Contains(whole, "page time") || strings.Contains(whole, "so far") {
+		t.Errorf("the whole result's times: page time shown %v, engine time so far %v", strings.Contains(whole, "page time"), strings.Contains(whole, "so far"))
+	}
 }
