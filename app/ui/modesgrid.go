@@ -59,7 +59,7 @@ func (c *ModesGrid) Render() app.UI {
 	}
 	t := c.Times
 	facts := gridFacts(r, box)
-	engineTime := fmtMillis(time.Duration(r.Timing.Total*float64(time.Millisecond)))
+	engineTime := fmtMillis(time.Duration(r.Timing.Total * float64(time.Millisecond)))
 	if r.FitsToCome || (r.Plots != nil && r.Plots.PairsToCome) {
 		// An early result: the analysis goes on, and the page's times
 		// are known once the whole result is drawn.
