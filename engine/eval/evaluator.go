@@ -35,7 +35,12 @@ type Evaluator struct {
 
 	flat flatSpace // flat block tape slots
 
-	jets jetSpace
+	// jets is the scratch of the derivatives, made at the first call of
+	// LogDensityDerivs (jetsReady): an evaluator used for values only (the
+	// ode step check's, a clone for a plot's slices) never pays for it, a
+	// fifth of compiling a model with an ode block.
+	jets      jetSpace
+	jetsReady bool
 }
 
 var _ target.Density = (*Evaluator)(nil)
@@ -78,7 +83,6 @@ func (ev *Evaluator) alloc() {
 	if p.flat != nil {
 		ev.flat.init(p.flat)
 	}
-	ev.jets.init(p)
 }
 
 // Dim returns the number of parameters.
@@ -275,6 +279,10 @@ func (ev *Evaluator) LogDensityDerivs(x, grad, hess []float64) float64 {
 		fillNaN(grad)
 		fillNaN(hess)
 		return math.NaN()
+	}
+	if !ev.jetsReady {
+		ev.jets.init(ev.prog)
+		ev.jetsReady = true
 	}
 	return ev.jets.run(ev, x, grad, hess)
 }
