@@ -38,7 +38,11 @@ func (a *analysis) checkODESteps() {
 	if !ok {
 		return
 	}
+	// The second compilation takes tens of milliseconds natively, with no
+	// pause inside: the page may pause just before and after it.
+	a.tr.beat()
 	ev2, err := eval.Compile(m2)
+	a.tr.beat()
 	if err != nil {
 		return
 	}
