@@ -150,6 +150,13 @@ func (pp *PlotPanel) legend(fs *FigureSet) app.UI {
 	if fs.Dim >= 2 {
 		note = "Shading: exact density. Lines enclose 39, 86 and 99 % of each method's mass (1, 2 and 3 sd for a Gaussian)."
 	}
+	if fs.Result != nil && fs.Result.FitsToCome {
+		// The exact result handed over before the fits (engine.AnalyseEarly).
+		if note != "" {
+			note += " "
+		}
+		note += "The exact density came first: the Gaussians' curves follow once they are fitted."
+	}
 	return app.Div().Class("legend").Body(
 		app.FieldSet().Class("legend-set").Body(
 			app.Legend().Class("sr-only").Text("Methods shown in the plots"),

@@ -218,7 +218,7 @@ func TestStopAfterTheExactResult(t *testing.T) {
 		t.Errorf("the notice says %q", p.notice.Text)
 	}
 	out := app.HTMLString(&Outputs{Host: p, Out: p.resultView()})
-	for _, want := range []string{fitToCome, "(to come)"} {
+	for _, want := range []string{fitToCome, "(to come)", "curves follow once they are fitted"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("the results after Stop do not say %q", want)
 		}
