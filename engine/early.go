@@ -49,18 +49,18 @@ func (a *analysis) handOverExact(live []LiveConstant) error {
 	res.Live = live
 	a.fillCosts(res)
 	res.FitsToCome = true
+	var err error
 	if !fromRule {
 		// The grid's plots, pairs and all: sums it holds already.
-		var err error
-		if pl, err = a.plots(res, nil); err != nil {
-			a.avail, a.diag, a.mode = avail, diag, mode
-			return err
-		}
+		pl, err = a.plots(res, nil)
+	}
+	res.Diagnostics = a.diag.sorted()
+	a.avail, a.diag, a.mode = avail, diag, mode
+	if err != nil {
+		return err
 	}
 	res.Plots = pl
-	res.Diagnostics = a.diag.sorted()
 	res.Timing = a.tr.snapshot()
-	a.avail, a.diag, a.mode = avail, diag, mode
 	a.early(res)
 	return nil
 }

@@ -2,6 +2,7 @@ package ui
 
 import (
 	"context"
+	"slices"
 	"strings"
 	"testing"
 
@@ -136,9 +137,6 @@ func TestEmbedLinkOverLimitSaysSo(t *testing.T) {
 	}
 }
 
-// A stop after the analysis showed its early result (all but the pair
-// plots): the notice says the results shown are this analysis's but for
-// its pairs, and the pair cells say they were not computed.
 // mountUntilStopped mounts a page whose analyses run until they are
 // stopped: started and stopped receive as each begins and ends.
 func mountUntilStopped(t *testing.T) (h *harness, e app.TestEngine, started, stopped chan struct{}) {
@@ -153,28 +151,45 @@ func mountUntilStopped(t *testing.T) (h *harness, e app.TestEngine, started, sto
 	return h, e, started, stopped
 }
 
-func TestStopAfterTheEarlyResult(t *testing.T) {
+// stopAfterEarly checks text on a page whose analyses run until stopped,
+// shows the early result asEarly makes of the model's whole result (as
+// showEarly takes it), and stops the analysis. It returns the page, the
+// whole result and the early one.
+func stopAfterEarly(t *testing.T, text string, asEarly func(whole *engine.Result) *engine.Result) (*Page, *engine.Result, *engine.Result) {
+	t.Helper()
 	h, e, started, stopped := mountUntilStopped(t)
 	p := h.page
-	p.text = "param a\nparam b\nparam c\n-(a^2 + b^2 + c^2)/2\n"
+	p.text = text
 	p.check(h.ctx)
 	<-started
-	// The worker's early result, as showEarly takes it.
 	res, err := engine.Analyse(context.Background(), p.s.Model, engine.Options{Plots: true}, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
-	early := *res
-	early.Plots = &engine.Plots{Marginals: res.Plots.Marginals, PairsToCome: true}
+	early := asEarly(res)
 	run := Run{Gen: p.s.Gen, Model: p.s.Model}
-	if !p.s.Early(run, &early) {
+	if !p.s.Early(run, early) {
 		t.Fatal("the early result was refused")
 	}
-	p.figs = numbered(BuildFigures(&early, p.view))
+	p.figs = numbered(BuildFigures(early, p.view))
+	p.sections = Table(early, p.s.Model)
 	p.progress = true
 	p.StopAnalysis(h.ctx)
 	<-stopped
 	e.ConsumeAll()
+	return p, res, early
+}
+
+// A stop after the analysis showed its early result (all but the pair
+// plots): the notice says the results shown are this analysis's but for
+// its pairs, and the pair cells say they were not computed.
+func TestStopAfterTheEarlyResult(t *testing.T) {
+	// The worker's early result: all but the pairs.
+	p, _, _ := stopAfterEarly(t, "param a\nparam b\nparam c\n-(a^2 + b^2 + c^2)/2\n", func(res *engine.Result) *engine.Result {
+		early := *res
+		early.Plots = &engine.Plots{Marginals: res.Plots.Marginals, PairsToCome: true}
+		return &early
+	})
 	if !strings.Contains(p.notice.Text, "but for the pair plots") {
 		t.Errorf("the notice says %q", p.notice.Text)
 	}
@@ -189,31 +204,16 @@ func TestStopAfterTheEarlyResult(t *testing.T) {
 // and the table and the legend say the fits were still to come, not that
 // they failed.
 func TestStopAfterTheExactResult(t *testing.T) {
-	h, e, started, stopped := mountUntilStopped(t)
-	p := h.page
-	p.text = "param a\nparam b\n-(a^2 + b^2)/2 - a^4/10\n"
-	p.check(h.ctx)
-	<-started
 	// The exact result as AnalyseEarly hands it over: no fits yet.
-	res, err := engine.Analyse(context.Background(), p.s.Model, engine.Options{Plots: true}, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	early := *res
-	early.Fits, early.FitsToCome = engine.Fits{}, true
-	for i := range early.Plots.Marginals {
-		early.Plots.Marginals[i].Fits = [engine.NumMethods][]float64{}
-	}
-	run := Run{Gen: p.s.Gen, Model: p.s.Model}
-	if !p.s.Early(run, &early) {
-		t.Fatal("the early result was refused")
-	}
-	p.figs = numbered(BuildFigures(&early, p.view))
-	p.sections = Table(&early, p.s.Model)
-	p.progress = true
-	p.StopAnalysis(h.ctx)
-	<-stopped
-	e.ConsumeAll()
+	p, res, early := stopAfterEarly(t, "param a\nparam b\n-(a^2 + b^2)/2 - a^4/10\n", func(res *engine.Result) *engine.Result {
+		early := *res
+		early.Fits, early.FitsToCome = engine.Fits{}, true
+		early.Plots = &engine.Plots{Marginals: slices.Clone(res.Plots.Marginals), Pairs: res.Plots.Pairs, PairsToCome: res.Plots.PairsToCome}
+		for i := range early.Plots.Marginals {
+			early.Plots.Marginals[i].Fits = [engine.NumMethods][]float64{}
+		}
+		return &early
+	})
 	if !strings.Contains(p.notice.Text, "it had not fitted the Gaussians yet") {
 		t.Errorf("the notice says %q", p.notice.Text)
 	}
@@ -228,7 +228,7 @@ func TestStopAfterTheExactResult(t *testing.T) {
 	}
 	// The page's times are the whole result's: an early one has the
 	// engine's so far.
-	facts := app.HTMLString(&ModesGrid{Shown: &Shown{Result: &early}})
+	facts := app.HTMLString(&ModesGrid{Shown: &Shown{Result: early}})
 	if strings.Contains(facts, "page time") || !strings.Contains(facts, "so far") {
 		t.Errorf("the early result's times: page time shown %v, engine time so far %v", strings.Contains(facts, "page time"), strings.Contains(facts, "so far"))
 	}

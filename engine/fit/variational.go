@@ -40,10 +40,11 @@ type Settings struct {
 	// CoarseResidual), and of a stalled iteration taken as converged; 0
 	// means 1e-6.
 	Resolution float64
-	// Progress, when set, receives after each accepted step the fraction
-	// of the way the map's residual has come from the start's towards
-	// Tol, on a log scale (never less than before): an iteration has no
-	// known length, but its residual falls by orders of magnitude.
+	// Progress, when set, receives after each accepted step a fraction
+	// done that never falls: the way the map's residual has come from the
+	// start's towards Tol, on a log scale, or n/(n+40) after n steps where
+	// that is larger (see residualProgress). An iteration has no known
+	// length, but its residual falls by orders of magnitude.
 	Progress func(fraction float64)
 }
 
