@@ -208,7 +208,14 @@ type VariationalFit struct {
 // safeguarded and accepted only where the ELBO rises:
 //
 //   - first an Anderson-accelerated step (Walker and Ni, SIAM J. Numer.
-//     Anal. 49, 2011; memory 4) built from the last iterates of the map;
+//     Anal. 49, 2011; memory 4) built from the last iterates of the map,
+//     in coordinates whitened by the start's covariance (so that the
+//     step's least squares weigh every direction alike, however correlated
+//     the parameters). The iterates are kept when a damped step is taken
+//     instead: each accepted iterate is a sample of the map's residual
+//     wherever it came from. (Forgetting them after every failed proposal
+//     left the acceleration with one difference at a time on a chaotic
+//     cost's strongly correlated fit: 191 cubature passes against 72.);
 //   - failing that, the damped step Λ' = (1-a) Λ + a (-E_q[H]),
 //     mu' = mu + b Λ'⁻¹ E_q[grad], with a and b halved from 1 (a from twice
 //     the last accepted a) until Λ' is positive definite and the ELBO
@@ -287,9 +294,6 @@ func variational(ctx context.Context, p target.Density, init Gaussian, s Setting
 	}
 	copy(cur.mu, init.Mean)
 	sliceFromSym(cur.cov, init.Cov)
-	for i := 0; i < d; i++ {
-		v.scale[i] = math.Sqrt(cur.cov[i*d+i])
-	}
 	if diag {
 		for i := 0; i < d; i++ {
 			for j := 0; j < d; j++ {
@@ -300,6 +304,7 @@ func variational(ctx context.Context, p target.Density, init Gaussian, s Setting
 		}
 		cholesky(cur.l, cur.cov, d)
 	}
+	copy(v.l0, cur.l)
 	cholInverse(cur.l, cur.prec, v.col, d)
 	cur.logDetCov = cholLogDet(cur.l, d)
 	if err := ctx.Err(); err != nil {
@@ -401,7 +406,7 @@ func variational(ctx context.Context, p target.Density, init Gaussian, s Setting
 			}
 		}
 		if !accepted {
-			v.aa.reset()
+			// The damped steps; the acceleration keeps its iterates.
 			a = min(1, 2*a)
 			b := 1.0
 			for tries := 0; tries < maxDampedTries && !accepted; tries++ {

@@ -15,7 +15,7 @@ type viState struct {
 	elogp, elbo      float64
 	eg, eh           []float64
 	// theta packs (mu, Λ) and f the map's residual G(theta) - theta, both
-	// scaled by the initial standard deviations.
+	// whitened by the initial Gaussian (see viSolver.pack).
 	theta, f []float64
 }
 
@@ -25,7 +25,8 @@ type viSolver struct {
 	d, n          int // dimension, number of packed parameters
 	diag          bool
 	r             rule
-	scale         []float64 // initial standard deviations
+	l0            []float64 // the initial Gaussian's Cholesky factor (see pack)
+	white         []float64 // scratch for whiten and unpack
 	x, grad, hess []float64
 	c, col, tmp   []float64
 	negEH, cNegEH []float64
@@ -42,12 +43,12 @@ func newSolver(p target.Density, r rule, diag bool) *viSolver {
 	if diag {
 		n = 2 * d
 	}
-	v := &viSolver{p: p, d: d, n: n, diag: diag, r: r, scale: make([]float64, d),
+	v := &viSolver{p: p, d: d, n: n, diag: diag, r: r, l0: make([]float64, d*d), white: make([]float64, d*d),
 		x: make([]float64, d), grad: make([]float64, d), hess: make([]float64, d*d),
 		c: make([]float64, d*d), col: make([]float64, d), tmp: make([]float64, d*d),
 		negEH: make([]float64, d*d), cNegEH: make([]float64, d*d), thetaTry: make([]float64, n)}
-	for i := range v.scale {
-		v.scale[i] = 1
+	for i := 0; i < d; i++ {
+		v.l0[i*d+i] = 1
 	}
 	v.aa = newAnderson(n, min(andersonMemory, n))
 	return v
@@ -177,10 +178,14 @@ func (v *viSolver) badDerivs(st *viState) error {
 	return fmt.Errorf("%w: the cubature sums of the gradient or Hessian of log p overflow", ErrNonFinite)
 }
 
-// pack writes st's parameters and the fixed-point map's residual, scaled by
-// the initial standard deviations s_i (mu_i/s_i, Λ_ij s_i s_j), into
-// st.theta and st.f. Only the lower triangle of Λ is packed (the diagonal
-// for the mean field).
+// pack writes st's parameters and the fixed-point map's residual, in the
+// coordinates whitened by the initial Gaussian's factor L0 (mu as L0⁻¹ mu,
+// Λ as L0ᵀ Λ L0), into st.theta and st.f. Only the lower triangle of the
+// whitened precision is packed (the diagonal for the mean field, whose L0
+// is diagonal). In these coordinates the packed residual is about the
+// whitened residuals (see residuals), however correlated the parameters:
+// the Anderson step's least squares and the ties between steps weigh
+// every direction alike.
 func (v *viSolver) pack(st *viState) {
 	d := v.d
 	// The mean's map: the Newton step where -E[H] is positive definite,
@@ -202,47 +207,96 @@ func (v *viSolver) pack(st *viState) {
 		}
 		copy(step, v.tmp[:d])
 	}
-	k := 0
-	for i := 0; i < d; i++ {
-		st.theta[k] = st.mu[i] / v.scale[i]
-		st.f[k] = step[i] / v.scale[i]
-		k++
+	forwardSolve(v.l0, step, d)
+	copy(st.f[:d], step)
+	copy(st.theta[:d], st.mu)
+	forwardSolve(v.l0, st.theta[:d], d)
+	// The precision and its map's change, whitened.
+	v.whiten(v.tmp, st.prec)
+	for i := range v.c {
+		v.c[i] = v.negEH[i] - st.prec[i]
 	}
+	v.whiten(v.c, v.c)
+	k := d
 	for i := 0; i < d; i++ {
 		for j := 0; j <= i; j++ {
 			if v.diag && i != j {
 				continue
 			}
-			s := v.scale[i] * v.scale[j]
-			st.theta[k] = st.prec[i*d+j] * s
-			st.f[k] = (v.negEH[i*d+j] - st.prec[i*d+j]) * s
+			st.theta[k] = v.tmp[i*d+j]
+			st.f[k] = v.c[i*d+j]
 			k++
 		}
 	}
 }
 
-// unpack sets tr's mean and precision from the packed theta and derives its
-// covariance; it reports whether the precision is positive definite.
-func (v *viSolver) unpack(theta []float64, tr *viState) bool {
-	d := v.d
-	k := 0
+// whiten writes L0ᵀ a L0 into out (which may be a) for the symmetric a.
+func (v *viSolver) whiten(out, a []float64) {
+	d, l, w := v.d, v.l0, v.white
 	for i := 0; i < d; i++ {
-		tr.mu[i] = theta[k] * v.scale[i]
-		k++
+		for j := 0; j < d; j++ {
+			t := 0.0
+			for k := j; k < d; k++ {
+				t += a[i*d+k] * l[k*d+j]
+			}
+			w[i*d+j] = t
+		}
 	}
-	for i := range tr.prec {
-		tr.prec[i] = 0
+	for i := 0; i < d; i++ {
+		for j := 0; j < d; j++ {
+			t := 0.0
+			for k := i; k < d; k++ {
+				t += l[k*d+i] * w[k*d+j]
+			}
+			out[i*d+j] = t
+		}
 	}
+}
+
+// unpack sets tr's mean and precision from the packed theta (see pack) and
+// derives its covariance; it reports whether the precision is positive
+// definite.
+func (v *viSolver) unpack(theta []float64, tr *viState) bool {
+	d, l := v.d, v.l0
+	for i := 0; i < d; i++ {
+		t := 0.0
+		for j := 0; j <= i; j++ {
+			t += l[i*d+j] * theta[j]
+		}
+		tr.mu[i] = t
+	}
+	w := v.white
+	for i := range w {
+		w[i] = 0
+	}
+	k := d
 	for i := 0; i < d; i++ {
 		for j := 0; j <= i; j++ {
 			if v.diag && i != j {
 				continue
 			}
-			p := theta[k] / (v.scale[i] * v.scale[j])
-			tr.prec[i*d+j], tr.prec[j*d+i] = p, p
+			w[i*d+j], w[j*d+i] = theta[k], theta[k]
 			k++
 		}
 	}
+	// Λ = L0⁻ᵀ W L0⁻¹: each column of W through L0⁻ᵀ, then each row of
+	// the result through L0⁻¹ (as the transpose of the same solve).
+	col := v.col
+	for j := 0; j < d; j++ {
+		for i := 0; i < d; i++ {
+			col[i] = w[i*d+j]
+		}
+		backSolve(l, col, d)
+		for i := 0; i < d; i++ {
+			w[i*d+j] = col[i]
+		}
+	}
+	for i := 0; i < d; i++ {
+		copy(col, w[i*d:i*d+d])
+		backSolve(l, col, d)
+		copy(tr.prec[i*d:i*d+d], col)
+	}
+	symmetrize(tr.prec, d)
 	return allFinite(tr.mu) && v.setCov(tr)
 }
 
@@ -282,9 +336,9 @@ func (v *viSolver) damped(cur, tr *viState, a, b float64) bool {
 		return false
 	}
 	if v.diag {
-		// cur.f holds the mean's map step, scaled.
+		// cur.f holds the mean's map step, whitened by the diagonal L0.
 		for i := 0; i < d; i++ {
-			tr.mu[i] = cur.mu[i] + b*cur.f[i]*v.scale[i]
+			tr.mu[i] = cur.mu[i] + b*cur.f[i]*v.l0[i*d+i]
 		}
 		return allFinite(tr.mu)
 	}
