@@ -48,7 +48,7 @@ func (a *analysis) checkMass(rev *fit.VariationalFit) {
 	}
 	a.avail.dropUnresolved()
 	a.diag.add(CodeUnresolved, SeverityError,
-		"The grid has missed part of the mass: importance sampling around the reverse-KL fit found more than %g times the grid's integral in each of %d independent batches of %d draws (log Z at least %.4g, against the grid's %.4g, whose error estimate is %.2g), which would happen with a probability below %.2g %% were the grid right. The density has structure finer than the grid's spacing (a thin ridge, as a chaotic cost's over a long window), so log Z, the exact moments and the fits' comparisons with them are not reported.",
+		"The grid has missed part of the mass: importance sampling around the reverse-KL fit found more than %g times the grid's integral in each of %d independent batches of %d draws (their estimates of log Z from %.4g up, against the grid's %.4g, whose error estimate is %.2g), which would happen with a probability below %.2g %% were the grid right. The density has structure finer than the grid's spacing (a thin ridge, as a chaotic cost's over a long window), so log Z, the exact moments and the fits' comparisons with them are not reported.",
 		massFactor, massBatchCount, massDraws, slices.Min(got), a.ref.logZ, a.ref.logZErr, 100*math.Pow(massFactor, -massBatchCount))
 }
 
