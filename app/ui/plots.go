@@ -1,10 +1,13 @@
 package ui
 
 import (
+	"math"
+
 	"github.com/maxence-charriere/go-app/v10/pkg/app"
 
 	"bellcheck/app/jsdom"
 	"bellcheck/app/plot"
+	"bellcheck/engine"
 )
 
 // PlotPanel shows a result's plots with their legend and view controls.
@@ -109,6 +112,9 @@ func (pp *PlotPanel) legend(fs *FigureSet) app.UI {
 		s := plot.StyleOf(m)
 		id := "bc-show-" + s.Key
 		cls, title, name := "legend-item", s.Long, s.Name
+		if m == plot.Exact && fs.Result != nil && exactUnresolved(fs.Result) {
+			title, name = s.Long+": "+exactNotResolved, s.Name+" (not resolved)"
+		}
 		if _, isFit := m.Fit(); isFit && fs.Result != nil && fitOf(fs.Result, m) == nil {
 			// No curve to look for: say so where the line would be named.
 			cls, title, name = "legend-item legend-absent", s.Long+": "+absentFit, s.Name+" (none)"
@@ -150,6 +156,12 @@ func (pp *PlotPanel) legend(fs *FigureSet) app.UI {
 	if fs.Dim >= 2 {
 		note = "Shading: exact density. Lines enclose 39, 86 and 99 % of each method's mass (1, 2 and 3 sd for a Gaussian)."
 	}
+	if fs.Result != nil && exactUnresolved(fs.Result) {
+		if note != "" {
+			note += " "
+		}
+		note += "The exact curves are drawn from a reference that does not resolve this density (see the diagnostics): they do not show the posterior."
+	}
 	if fs.Result != nil && fs.Result.FitsToCome {
 		// The exact result handed over before the fits (engine.AnalyseEarly).
 		if note != "" {
@@ -174,4 +186,23 @@ func itoa(n int) string {
 		return string(rune('0' + n))
 	}
 	return itoa(n/10) + string(rune('0'+n%10))
+}
+
+// exactNotResolved is the exact curve's legend title where the reference
+// does not resolve the density.
+const exactNotResolved = "the reference does not resolve this density: see the diagnostics"
+
+// exactUnresolved reports a result whose reference does not resolve the
+// density as a whole: log Z left out, with the unresolved diagnostic (a
+// grid that missed mass, or one too coarse for a spike).
+func exactUnresolved(r *engine.Result) bool {
+	if !math.IsNaN(r.Exact.LogZ) {
+		return false
+	}
+	for _, d := range r.Diagnostics {
+		if d.Code == engine.CodeUnresolved {
+			return true
+		}
+	}
+	return false
 }

@@ -2,6 +2,7 @@ package ui
 
 import (
 	"context"
+	"math"
 	"slices"
 	"strings"
 	"testing"
@@ -235,5 +236,27 @@ func TestStopAfterTheExactResult(t *testing.T) {
 	whole := app.HTMLString(&ModesGrid{Shown: &Shown{Result: res}})
 	if !strings.Contains(whole, "page time") || strings.Contains(whole, "so far") {
 		t.Errorf("the whole result's times: page time shown %v, engine time so far %v", strings.Contains(whole, "page time"), strings.Contains(whole, "so far"))
+	}
+}
+
+// A result whose reference does not resolve the density (log Z left out,
+// with the unresolved diagnostic: checkMass or checkELBO fired) still
+// carries the grid's exact curves; the legend says they are not the
+// posterior, and says nothing of the kind for a resolved result.
+func TestLegendSaysExactUnresolved(t *testing.T) {
+	res := gaussResult([]string{"a", "b"}, []float64{0, 1}, [][]float64{{1, 0.5}, {0.5, 2}}, 0.1)
+	pp := &PlotPanel{}
+	resolved := app.HTMLString(pp.legend(&FigureSet{Dim: 2, Result: res}))
+	if strings.Contains(resolved, "not resolved") || strings.Contains(resolved, "do not show the posterior") {
+		t.Errorf("a resolved result's legend: %s", resolved)
+	}
+	unresolved := *res
+	unresolved.Exact.LogZ = math.NaN()
+	unresolved.Diagnostics = append(slices.Clone(res.Diagnostics), engine.Diagnostic{Code: engine.CodeUnresolved, Severity: engine.SeverityError, Message: "The grid has missed part of the mass."})
+	out := app.HTMLString(pp.legend(&FigureSet{Dim: 2, Result: &unresolved}))
+	for _, want := range []string{"exact (not resolved)", exactNotResolved, "do not show the posterior"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("the legend of an unresolved result does not say %q: %s", want, out)
+		}
 	}
 }
