@@ -100,21 +100,25 @@ func TestInfiniteKLNamesTheUndeclaredScale(t *testing.T) {
 }
 
 // A reverse-KL iteration that stalls with its cubature refined to the node
-// budget says so (a robust regression with Student-t errors and unknown
-// degrees of freedom: 6 nodes per axis in 4-D, the heavy tails unresolved),
-// not only that it did not converge.
+// budget says so (a quadratic regression with Cauchy errors, one reading
+// far out: 6 nodes per axis in 4-D, the heavy tails unresolved, the stall
+// at a residual near 0.7, too far out for the relaxed ELBO of
+// fit.relaxBelow), not only that it did not converge. (A robust
+// regression with unknown degrees of freedom stalled so until a stall
+// with the budget spent could let the ELBO fall by the cubature's error;
+// it converges now.)
 func TestStalledFitNamesTheBudget(t *testing.T) {
-	res := analyseSource(t, `x = [0, 1, 2, 3, 4, 5, 6, 7, 8, 9]
-y = [0.3, 1.2, 2.1, 2.8, 9.0, 5.2, 5.9, 7.1, 8.2, 8.8]
+	res := analyseSource(t, `x = [0, 1, 2, 3, 4, 5, 6, 7]
+y = [0.3, 1.2, 2.1, 12.8, 4.0, -5.2, 5.9, 7.1]
 param a
 param b
+param c
 param s in [0, inf]
-param nu in [1, 100]
-sum(ld_student(y, nu, a + b*x, s)) - log(s) + ld_gamma(nu, 2, 0.1) + ld_normal(a, 0, 10) + ld_normal(b, 0, 10)
+sum(ld_student(y, 1, a + b*x + c*x^2, s)) + ld_normal(a, 0, 10) + ld_normal(b, 0, 10) + ld_normal(c, 0, 10) + ld_gamma(s, 2, 1)
 `, Options{})
 	found := false
 	for _, d := range res.Diagnostics {
-		if d.Code == CodeNoConvergence && d.Severity == SeverityWarning {
+		if d.Code == CodeNoConvergence && d.Severity == SeverityWarning && strings.HasPrefix(d.Message, "The reverse-KL fit") {
 			found = true
 			if !strings.Contains(d.Message, "nodes per axis its budget allows") {
 				t.Errorf("no_convergence %q: want it to name the cubature's budget", d.Message)
@@ -122,6 +126,6 @@ sum(ld_student(y, nu, a + b*x, s)) - log(s) + ld_gamma(nu, 2, 0.1) + ld_normal(a
 		}
 	}
 	if !found {
-		t.Error("no no_convergence warning: the fits converged here; the test needs another stalled case")
+		t.Error("no no_convergence warning for the reverse-KL fit: it converged here; the test needs another stalled case")
 	}
 }

@@ -263,6 +263,24 @@ func MeanField(ctx context.Context, p target.Density, init Gaussian, s Settings)
 // not the ELBO, decides whether a step is accepted (see ReverseKL).
 const tieLevel = 1e-10
 
+// An iteration stalled with the node budget spent whose residual lies in
+// (relaxAbove, relaxBelow] may let the ELBO fall by the cubature's error,
+// once (see variational). The 4-D funnel's fit stalled at 1.2e-4 with
+// 6 nodes per axis, steps that would have lowered the residual twentyfold
+// refused for lowering the ELBO by 1.9e-7 against a cubature error of
+// 1.6e-3; relaxed, it converges to 1e-10, and a robust regression with
+// unknown degrees of freedom, stalled at 7.5e-3 before, converges too.
+// Below relaxAbove (the comparisons' resolution, where the engine shows a
+// stall as converged: the README's Lorenz-63 fit stalled at 7.3e-6 with
+// 4,096 nodes, where the tries after relaxing all failed and cost 11 s)
+// and above relaxBelow (a kinked density's stall at residuals over 1,
+// which gives no fit) a stall is left as it was. Where the rule can still
+// be refined, refining is the remedy, as before.
+const (
+	relaxAbove = 1e-4
+	relaxBelow = 1e-2
+)
+
 // andersonMemory is the number of past steps Anderson acceleration uses.
 const andersonMemory = 4
 
@@ -332,6 +350,10 @@ func variational(ctx context.Context, p target.Density, init Gaussian, s Setting
 	// refine switches to the next finer rule within the budget, re-evaluates
 	// cur under it and restarts the acceleration; it reports false when the
 	// budget is spent.
+	// relaxed is the ELBO's fall allowed, once, to an iteration stalled
+	// near the fixed point with the budget spent (see relaxAbove); 0
+	// until then.
+	relaxed := 0.0
 	refine := func() (bool, error) {
 		next := refinedOrder(d, s.Order, s.MaxNodes)
 		if next == 0 {
@@ -388,8 +410,9 @@ func variational(ctx context.Context, p target.Density, init Gaussian, s Setting
 		}
 		tie := tieLevel * (1 + math.Abs(cur.elbo))
 		merit := norm(cur.f)
+		floor := topELBO - max(tie, relaxed)
 		better := func(t *viState) bool {
-			return t.elbo > cur.elbo+tie || (t.elbo >= topELBO-tie && norm(t.f) < merit)
+			return t.elbo > cur.elbo+tie || (t.elbo >= floor && norm(t.f) < merit)
 		}
 		v.aa.push(cur.theta, cur.f)
 		accepted := false
@@ -475,6 +498,23 @@ func variational(ctx context.Context, p target.Density, init Gaussian, s Setting
 			return VariationalFit{}, fmt.Errorf("%s: %w", name, err)
 		}
 		if !ok {
+			// The budget is spent. Near the fixed point the rule's fixed
+			// point and its ELBO's maximum part by the cubature's error,
+			// so steps towards the fixed point may lower the cubature ELBO
+			// by up to that error, which says nothing about the fit. Once
+			// the ELBO may fall that far below its highest (the coarser
+			// rule's change in the ELBO, as in VariationalFit.CubatureErr)
+			// where a step lowers the residual, and the iteration goes on
+			// from here (see relaxAbove).
+			if gr, pr := v.residuals(cur); relaxed == 0 && max(gr, pr) > relaxAbove && max(gr, pr) <= relaxBelow {
+				if diff, _ := v.check(cur, trial, s.Order); diff > 0 {
+					relaxed = diff
+					since, best, elboThen = 0, norm(cur.f), cur.elbo
+					v.aa.clear()
+					a = 0.5
+					continue
+				}
+			}
 			gr, pr := v.residuals(cur)
 			stopErr = fmt.Errorf("%w (%w): %s: the iteration stalled after %d steps with residuals %.3g (mean) and %.3g (precision) at %d nodes per axis, the most the budget of %d nodes allows: the cubature does not resolve the density on the scale of the fit (heavy tails or several modes?); the last iterate is returned", ErrNoConvergence, ErrCubatureBudget, name, iters, gr, pr, s.Order, s.MaxNodes)
 			break
