@@ -48,6 +48,11 @@ cost sum((x - x_seen)^2)/2 + (x0^2 + y0^2 + (z0 - 20)^2)/50
 	if !math.IsNaN(res.Exact.LogZ) {
 		t.Errorf("log Z %v is reported", res.Exact.LogZ)
 	}
+	// The comparisons are not reported, so no note says how they were
+	// made (before, five fit_off_grid notes spoke of them).
+	if hasCode(res, CodeFitOffGrid) {
+		t.Errorf("a fit_off_grid note about comparisons that are not reported: %v", res.Diagnostics)
+	}
 	// The independent estimate: log Z = log E_prior[exp(-misfit)] +
 	// (3/2) log(50 pi), the prior N((0, 0, 20), 25 I) being
 	// exp(-quadratic/50) / (50 pi)^(3/2).

@@ -65,6 +65,11 @@ func (a *analysis) compareFits() error {
 				a.avail.dropAt(QuantityKLpq, f.slot(), CodeLostPrecision)
 			}
 		}
+		if !a.avail.resolved() {
+			// The comparisons are not reported (the reference does not
+			// resolve the density): nothing to say of how they were made.
+			continue
+		}
 		if c.Method == compare.OnNodes {
 			// A coverage from the rule over q's region stands: every
 			// number is reported, each by a rule that resolves it.
