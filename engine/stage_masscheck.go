@@ -42,7 +42,7 @@ func (a *analysis) checkMass(rev *fit.VariationalFit) {
 		return
 	}
 	threshold := a.ref.logZ + math.Log(massFactor)
-	got, ok := massBatchesAbove(a.ctx, a.p, rev.Mean, rev.Cov, a.tr.beat, threshold)
+	got, ok := massBatches(a.ctx, a.p, rev.Mean, rev.Cov, a.tr.beat, threshold)
 	if !ok || len(got) < massBatchCount {
 		return
 	}
@@ -54,16 +54,12 @@ func (a *analysis) checkMass(rev *fit.VariationalFit) {
 
 // massBatches returns the log of each batch's estimate of the integral of
 // p, by importance sampling from a Student t around mean with the
-// covariance cov widened (see checkMass); ok is false where cov is not
-// positive definite, no draw has a finite weight, or ctx is done. beat,
-// when set, is called after each batch.
-func massBatches(ctx context.Context, p target.Density, mean []float64, cov mat.Symmetric, beat func()) ([]float64, bool) {
-	return massBatchesAbove(ctx, p, mean, cov, beat, math.Inf(-1))
-}
-
-// massBatchesAbove is massBatches, stopping after the first batch whose
-// log estimate is not above floor (checkMass needs every batch above it).
-func massBatchesAbove(ctx context.Context, p target.Density, mean []float64, cov mat.Symmetric, beat func(), floor float64) ([]float64, bool) {
+// covariance cov widened (see checkMass), stopping after the first batch
+// whose log estimate is not above floor (checkMass needs every batch above
+// it; -Inf runs them all); ok is false where cov is not positive definite,
+// no draw has a finite weight, or ctx is done. beat, when set, is called
+// after each batch.
+func massBatches(ctx context.Context, p target.Density, mean []float64, cov mat.Symmetric, beat func(), floor float64) ([]float64, bool) {
 	d := p.Dim()
 	c := make([]float64, d*d)
 	for i := 0; i < d; i++ {
@@ -75,7 +71,7 @@ func massBatchesAbove(ctx context.Context, p target.Density, mean []float64, cov
 	if !dense.Cholesky(l, c, d, 0) {
 		return nil, false
 	}
-	logNorm := lgamma((massDF+float64(d))/2) - lgamma(massDF/2) - float64(d)/2*math.Log(massDF*math.Pi) - dense.CholLogDet(l, d)/2
+	logNorm := special.Lgamma((massDF+float64(d))/2) - special.Lgamma(massDF/2) - float64(d)/2*math.Log(massDF*math.Pi) - dense.CholLogDet(l, d)/2
 	rng := rand.New(rand.NewPCG(massSeed, uint64(d)))
 	cols := make([][]float64, d)
 	for k := range cols {
@@ -117,25 +113,18 @@ func massBatchesAbove(ctx context.Context, p target.Density, mean []float64, cov
 		if beat != nil {
 			beat()
 		}
-		// log Zb = log mean exp(log p - log q), summed from the largest
-		// term; a point where log p is NaN (a coordinate rounded onto a
-		// bound) counts as no mass, which can only lower Zb.
-		top := math.Inf(-1)
+		// log Zb = log mean exp(log p - log q); a point where log p is
+		// NaN (a coordinate rounded onto a bound) counts as no mass, which
+		// can only lower Zb.
 		for i := range logP {
-			if w := logP[i] - logQ[i]; w > top {
-				top = w
+			if logP[i] -= logQ[i]; math.IsNaN(logP[i]) {
+				logP[i] = math.Inf(-1)
 			}
 		}
-		if math.IsInf(top, -1) || math.IsNaN(top) || math.IsInf(top, 1) {
+		logZb := special.LogSumExp(logP) - math.Log(massDraws)
+		if math.IsInf(logZb, 0) || math.IsNaN(logZb) {
 			return nil, false
 		}
-		sum := 0.0
-		for i := range logP {
-			if w := logP[i] - logQ[i]; !math.IsNaN(w) {
-				sum += special.Exp(w - top)
-			}
-		}
-		logZb := top + math.Log(sum/massDraws)
 		out = append(out, logZb)
 		if !(logZb > floor) {
 			break
@@ -160,8 +149,3 @@ const (
 	massFactor            = 3.0
 	massSeed       uint64 = 0x6d617373
 )
-
-func lgamma(x float64) float64 {
-	v, _ := math.Lgamma(x)
-	return v
-}

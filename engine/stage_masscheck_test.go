@@ -117,7 +117,7 @@ func TestMassBatchesEstimateLogZ(t *testing.T) {
 		{"correlated normal", gauss, []float64{0.1, -0.1, 0}, s, gaussZ, 0.06},
 	}
 	for _, c := range cases {
-		got, ok := massBatches(context.Background(), c.p, c.mean, c.cov, nil)
+		got, ok := massBatches(context.Background(), c.p, c.mean, c.cov, nil, math.Inf(-1))
 		if !ok || len(got) != massBatchCount {
 			t.Fatalf("%s: %d batches, ok %v", c.name, len(got), ok)
 		}
