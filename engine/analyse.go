@@ -153,6 +153,7 @@ func (a *analysis) run() (*Result, error) {
 			return nil, err
 		}
 	}
+	a.checkMassEarly()
 	if err := a.handOverExact(live); err != nil {
 		return nil, err
 	}

@@ -38,9 +38,23 @@ cost sum((x - x_seen)^2)/2 + (x0^2 + y0^2 + (z0 - 20)^2)/50
 	if err != nil {
 		t.Fatal(err)
 	}
-	res, err := Analyse(context.Background(), m, Options{}, nil)
+	old := exactEarlyAfter
+	exactEarlyAfter = 0
+	defer func() { exactEarlyAfter = old }()
+	var early []*Result
+	res, err := AnalyseEarly(context.Background(), m, Options{Plots: true}, nil, func(r *Result) { early = append(early, r) })
 	if err != nil {
 		t.Fatal(err)
+	}
+	// The check runs around the Laplace fit before the exact result is
+	// handed over, so no early result carries the grid's log Z.
+	if len(early) == 0 {
+		t.Error("no early result")
+	}
+	for i, r := range early {
+		if !math.IsNaN(r.Exact.LogZ) || !hasDiagnostic(r, CodeUnresolved, "around the Laplace fit") {
+			t.Errorf("early result %d: log Z %v, diagnostics %v", i, r.Exact.LogZ, r.Diagnostics)
+		}
 	}
 	if !hasDiagnostic(res, CodeUnresolved, "missed part of the mass") {
 		t.Errorf("no diagnostic that the grid missed mass; log Z %v (error %v), diagnostics %v", res.Exact.LogZ, res.Exact.LogZErr, res.Diagnostics)

@@ -42,7 +42,7 @@ func (a *analysis) fitAll() error {
 		return err
 	}
 	a.checkELBO(rev, mfit)
-	a.checkMass(rev)
+	a.checkMassFitted(rev)
 	a.fitForward()
 	if err := a.fitEP(); err != nil {
 		return err

@@ -37,7 +37,7 @@ func combDensity(a, period float64) *targettest.Func {
 }
 
 // TestMassCheck checks the importance-sampling test of a grid's log Z
-// (checkMass): on the comb, whose integral is known in closed form, a log
+// (checkMass, checkMassFitted): on the comb, whose integral is known in closed form, a log
 // Z short by log I0(3) = 1.59 (what a grid aliased with the comb finds)
 // is caught, with the exact results left out; the true log Z, and one
 // short by 0.5 (within the test's factor of 3), are not. A reverse-KL fit
@@ -61,7 +61,7 @@ func TestMassCheck(t *testing.T) {
 		a := &analysis{ctx: context.Background(), tr: newTracker(nil)}
 		a.d, a.p = 2, combDensity(amp, period)
 		a.ref = &reference{logZ: c.logZ, logZErr: 1e-12}
-		a.checkMass(c.rev)
+		a.checkMassFitted(c.rev)
 		fired := !a.avail.resolved()
 		if fired != c.fires {
 			t.Errorf("%s: the check fired %v, want %v (diagnostics %v)", c.name, fired, c.fires, a.diag.list)
