@@ -6,6 +6,7 @@ import (
 	"os"
 	"path/filepath"
 	"runtime"
+	"runtime/debug"
 	"sort"
 	"sync"
 	"testing"
@@ -38,6 +39,8 @@ func benchModel(b *testing.B, file string, opts Options) {
 		}
 		last = now
 	}
+	// The collector's target the programs set (GCPercent).
+	defer debug.SetGCPercent(debug.SetGCPercent(GCPercent))
 	b.ReportAllocs()
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {

@@ -13,17 +13,14 @@ import (
 
 	"bellcheck/app/jsdom"
 	"bellcheck/app/ui"
+	"bellcheck/engine"
 )
 
-// gcPercent is the page's garbage collection target (GOGC): the heap may
-// grow to five times what is live before a collection. The page's live
-// heap is small (2 to 4 MB) while a 2-D analysis allocates 5 to 7 MB, so
-// the default (100) collected three times per analysis, each a stretch of
-// the page's only thread; at 400 the heap stays under about 20 MB.
-const gcPercent = 400
-
 func main() {
-	debug.SetGCPercent(gcPercent)
+	// The live heap is small (2 to 4 MB) while a 2-D analysis allocates 5
+	// to 7 MB: at the default target the page collected three times per
+	// analysis, each a stretch of its only thread (engine.GCPercent).
+	debug.SetGCPercent(engine.GCPercent)
 	if jsdom.InWorker() {
 		// The same program, started by the page as its analysis worker
 		// (web/bellcheck-worker.js): it serves the page's analyses and

@@ -20,6 +20,9 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"runtime/debug"
+
+	"bellcheck/engine"
 )
 
 const usage = `usage:
@@ -45,6 +48,7 @@ const (
 )
 
 func main() {
+	debug.SetGCPercent(engine.GCPercent)
 	os.Exit(run(os.Args[1:], os.Stdin, os.Stdout, os.Stderr))
 }
 
