@@ -169,6 +169,7 @@ func (a *analysis) run() (*Result, error) {
 	res.Live = live
 	a.fillCosts(res)
 	a.compareCurvatures(res)
+	a.noteSeveralModes()
 	a.gridDiagnostics()
 	if a.opts.Plots {
 		a.tr.enter(stagePlots)

@@ -26,6 +26,9 @@ const (
 	QuantityQuantiles Quantity = "quantiles"
 	// QuantityMode is the exact mode on the original scale.
 	QuantityMode Quantity = "mode"
+	// QuantityModeMass is each mode's share of the mass (Mode.Mass):
+	// absent where the grid it came from missed part of the mass.
+	QuantityModeMass Quantity = "mode_mass"
 	// QuantityComparison is every comparison of a fit with the exact
 	// posterior (divergences, Hellinger distance, coverage, mean errors and
 	// sd ratios): absent when the reference does not resolve the density.

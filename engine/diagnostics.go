@@ -199,13 +199,17 @@ func (d *diagnostics) sorted() []Diagnostic {
 // first "no mode", "unresolved" and two failed fits, and only then why),
 // and an ode block whose posterior follows its step (a cooling curve's
 // spurious mode at the step's stability limit came with starts_disagree
-// and several_modes before it).
+// and several_modes before it); then the density's several modes, which
+// explain a fit that failed or disagrees (the note is written when the
+// result is, after the fits' own).
 func rootRank(code string) int {
 	switch code {
 	case CodeUnusedParam, CodeImproper, CodeODESteps:
 		return 0
+	case CodeSeveralModes:
+		return 1
 	}
-	return 1
+	return 2
 }
 
 // percent formats a share of the mass for a sentence.

@@ -49,6 +49,7 @@ func (a *analysis) handOverExact(live []LiveConstant) error {
 	res.Live = live
 	a.fillCosts(res)
 	res.FitsToCome = true
+	a.noteSeveralModes()
 	var err error
 	if !fromRule {
 		// The grid's plots, pairs and all: sums it holds already.

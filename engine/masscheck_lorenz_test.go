@@ -51,9 +51,19 @@ cost sum((x - x_seen)^2)/2 + (x0^2 + y0^2 + (z0 - 20)^2)/50
 	if len(early) == 0 {
 		t.Error("no early result")
 	}
-	for i, r := range early {
+	for i, r := range append(early, res) {
 		if !math.IsNaN(r.Exact.LogZ) || !hasDiagnostic(r, CodeUnresolved, "around the Laplace fit") {
-			t.Errorf("early result %d: log Z %v, diagnostics %v", i, r.Exact.LogZ, r.Diagnostics)
+			t.Errorf("result %d: log Z %v, diagnostics %v", i, r.Exact.LogZ, r.Diagnostics)
+		}
+		// The modes' shares came from the same grid's basins: they go
+		// too, in the table and in the note that counts the modes.
+		for _, m := range r.Modes {
+			if !math.IsNaN(m.Mass) {
+				t.Errorf("result %d: a mode's mass %v is reported", i, m.Mass)
+			}
+		}
+		if len(r.Modes) > 1 && !hasDiagnostic(r, CodeSeveralModes, "not reported") {
+			t.Errorf("result %d: %d modes and no several_modes note without their shares: %v", i, len(r.Modes), r.Diagnostics)
 		}
 	}
 	if !hasDiagnostic(res, CodeUnresolved, "missed part of the mass") {

@@ -147,7 +147,9 @@ type Mode struct {
 	// scale (without the log-Jacobian of the fitting scale), for a model
 	// given as a cost; nil for a log-density model.
 	Cost *float64 `json:"cost,omitempty"`
-	// Mass is the approximate share of the total mass near this mode.
+	// Mass is the approximate share of the total mass near this mode; NaN
+	// (null in JSON) where the reference missed part of the mass
+	// (QuantityModeMass absent).
 	Mass float64 `json:"mass"`
 	// PositiveDefinite reports whether -Hessian is positive definite there.
 	PositiveDefinite bool `json:"positive_definite"`

@@ -53,6 +53,7 @@ func (a *analysis) checkMass(g *fit.Gaussian, around string) {
 		return
 	}
 	a.avail.dropUnresolved()
+	a.avail.drop(QuantityModeMass, CodeUnresolved) // the grid's basins split the modes' mass
 	a.diag.add(CodeUnresolved, SeverityError,
 		"The grid has missed part of the mass: importance sampling around the %s found more than %g times the grid's integral in each of %d independent batches of %d draws (their estimates of log Z from %.4g up, against the grid's %.4g, whose error estimate is %.2g), which would happen with a probability below %.2g %% were the grid right. The density has structure finer than the grid's spacing (a thin ridge, as a chaotic cost's over a long window), so log Z, the exact moments and the fits' comparisons with them are not reported.",
 		around, massFactor, massBatchCount, massDraws, slices.Min(got), a.ref.logZ, a.ref.logZErr, 100*massChecks*math.Pow(massFactor, -massBatchCount))

@@ -129,23 +129,23 @@ func (a *analysis) findModes() error {
 		a.diag.add(CodeNoMode, SeverityError, "The mode search found no mode from the grid's highest points, so there is no Laplace fit.")
 		return nil
 	}
-	// A cost's minima that hold no posterior mass (a false minimum the
-	// grid's highest point led to, beside the true one the spread starts
-	// found) are local optima, not modes of the posterior: the
-	// local_optima note tells of them.
-	isMassless := func(i int) bool {
-		m := a.modes.modes[i]
-		return a.m.Form == model.Cost && i > 0 && m.Mass < lesserMass && m.PositiveDefinite
-	}
+	// A cost's minima that hold no posterior mass are local optima, not
+	// modes of the posterior: the local_optima note tells of them.
 	var massless []fit.Mode
 	for i := range a.modes.modes {
-		if isMassless(i) {
+		if a.massless(i) {
 			massless = append(massless, a.modes.fitModes[i])
 		}
 	}
-	if err := a.lesserOptima(rest, massless); err != nil {
-		return err
-	}
+	return a.lesserOptima(rest, massless)
+}
+
+// noteSeveralModes says how many modes the density has and how the mass
+// splits between them, where it has more than one. It runs where a result
+// is reported (the early exact one and the whole), after the checks that
+// may leave the masses out (QuantityModeMass): the modes are then counted
+// without their shares.
+func (a *analysis) noteSeveralModes() {
 	// The modes the message counts: strict maxima and maxima on a bound.
 	// Where the density grows without bound along a funnel's neck (a
 	// hierarchical scale on the log scale), the search stops at points
@@ -157,7 +157,7 @@ func (a *analysis) findModes() error {
 		if !m.PositiveDefinite && !m.OnBound {
 			continue
 		}
-		if isMassless(i) {
+		if a.massless(i) {
 			continue // in the local_optima note
 		}
 		if counted > 0 {
@@ -166,16 +166,31 @@ func (a *analysis) findModes() error {
 		counted++
 		big = append(big, share(m.Mass))
 	}
-	if counted > 1 {
-		sev := SeverityInfo
-		if second >= modeMassWarn {
-			sev = SeverityWarning
-		}
-		a.diag.add(CodeSeveralModes, sev,
-			"The density has %d modes, holding about %s of the mass (highest first); the Laplace fit describes only the highest one, and no single Gaussian describes them all.",
-			counted, list(big))
+	if counted < 2 {
+		return
 	}
-	return nil
+	if !a.avail.present(QuantityModeMass) {
+		a.diag.add(CodeSeveralModes, SeverityInfo,
+			"The density has %d modes (their shares of the mass are not reported, as the reference missed part of it); the Laplace fit describes only the highest one, and no single Gaussian describes them all.",
+			counted)
+		return
+	}
+	sev := SeverityInfo
+	if second >= modeMassWarn {
+		sev = SeverityWarning
+	}
+	a.diag.add(CodeSeveralModes, sev,
+		"The density has %d modes, holding about %s of the mass (highest first); the Laplace fit describes only the highest one, and no single Gaussian describes them all.",
+		counted, list(big))
+}
+
+// massless reports whether mode i (highest first) is a cost's minimum
+// that holds no posterior mass (a false minimum the grid's highest point
+// led to, beside the true one the spread starts found): a local optimum,
+// not a mode of the posterior, which the local_optima note tells of.
+func (a *analysis) massless(i int) bool {
+	m := a.modes.modes[i]
+	return a.m.Form == model.Cost && i > 0 && m.Mass < lesserMass && m.PositiveDefinite
 }
 
 // laplaceLogMass returns the log of a mode's Laplace mass, log p(mode) -

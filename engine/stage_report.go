@@ -15,6 +15,12 @@ import (
 // timing are added at the end of the run.
 func (a *analysis) report() *Result {
 	res := &Result{Params: a.names, Form: a.m.Form.String(), Scales: a.scales, Modes: a.modes.modes}
+	if !a.avail.present(QuantityModeMass) {
+		res.Modes = slices.Clone(res.Modes)
+		for i := range res.Modes {
+			res.Modes[i].Mass = math.NaN()
+		}
+	}
 	a.pushFits()
 	a.fillFits(res)
 	a.fillExact(res)
