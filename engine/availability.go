@@ -71,6 +71,7 @@ var absentReasons = map[Quantity][]string{
 	QuantityKurtosis:     {CodeHeavyTails, CodeNoVariance, CodeImproper, CodeUnresolved, CodeOverflow},
 	QuantityQuantiles:    {CodeImproper, CodeUnresolved, CodeOverflow},
 	QuantityMode:         {CodeModeNotPolished, CodeNoMode},
+	QuantityModeMass:     {CodeUnresolved},
 	QuantityComparison:   {CodeUnresolved},
 	QuantityAxisErrors:   {CodeNoVariance, CodeImproper, CodeUnresolved},
 	QuantityKLqp:         {CodeLostPrecision},

@@ -134,7 +134,9 @@ func honesty(res *Result, d int) []string {
 		if len(m.X) != d || !allFiniteF(m.X) {
 			fail("mode %d at %v", i, m.X)
 		}
-		if !(m.Mass >= 0 && m.Mass <= 1+honestyTol) {
+		if math.IsNaN(m.Mass) {
+			absentNeedsReason(QuantityModeMass, fmt.Sprintf("mode %d's mass", i))
+		} else if !(m.Mass >= 0 && m.Mass <= 1+honestyTol) {
 			fail("mode %d has mass %g", i, m.Mass)
 		}
 		if math.IsNaN(m.LogDensity) || math.IsInf(m.LogDensity, 0) {
