@@ -2,6 +2,7 @@ package engine
 
 import (
 	"context"
+	"strings"
 	"testing"
 	"time"
 
@@ -25,6 +26,9 @@ func TestEstimateWorkCountsTheGrid(t *testing.T) {
 	if est.PerPoint <= 0 || est.Total < est.PerPoint*time.Duration(est.Points) {
 		t.Errorf("estimate %+v: the total must cover one pass over the grid", est)
 	}
+	if est.Dim != 2 || est.PerDeriv <= 0 || est.Total < est.PerPoint*time.Duration(est.Points)+time.Duration(derivWork(2)*float64(est.PerDeriv)) {
+		t.Errorf("estimate %+v: the total must cover the evaluations with derivatives too", est)
+	}
 	if _, err := EstimateWork(context.Background(), m, Options{Params: []ParamOptions{{Points: 5000}}}); err == nil {
 		t.Error("options over the engine's limit gave no error")
 	}
@@ -42,7 +46,8 @@ func TestPointsWithinIsTheLargestThatFits(t *testing.T) {
 	for d := 1; d <= 4; d++ {
 		for _, per := range []time.Duration{10 * time.Nanosecond, time.Microsecond, 100 * time.Microsecond} {
 			for _, budget := range []time.Duration{100 * time.Millisecond, 10 * time.Second, 10 * time.Minute} {
-				n := PointsWithin(d, per, budget)
+				e := Estimate{Dim: d, PerPoint: per, PerDeriv: 20 * per}
+				n := e.PointsWithin(budget)
 				pow := func(n int) int {
 					r := 1
 					for range d {
@@ -51,7 +56,7 @@ func TestPointsWithinIsTheLargestThatFits(t *testing.T) {
 					return r
 				}
 				if n == 0 {
-					if forecast(d, pow(grid.MinPoints), per) <= budget {
+					if e.forecast(pow(grid.MinPoints)) <= budget {
 						t.Errorf("d %d, %v, %v: none fits, but %d points do", d, per, budget, grid.MinPoints)
 					}
 					continue
@@ -59,13 +64,30 @@ func TestPointsWithinIsTheLargestThatFits(t *testing.T) {
 				if n%2 == 0 || n < grid.MinPoints || n > MaxAxisPoints(d) {
 					t.Errorf("d %d: %d points", d, n)
 				}
-				if f := forecast(d, pow(n), per); f > budget {
+				if f := e.forecast(pow(n)); f > budget {
 					t.Errorf("d %d, %v, %v: %d points forecast %v", d, per, budget, n, f)
 				}
-				if n+2 <= MaxAxisPoints(d) && forecast(d, pow(n+2), per) <= budget {
+				if n+2 <= MaxAxisPoints(d) && e.forecast(pow(n+2)) <= budget {
 					t.Errorf("d %d, %v, %v: %d points fit too", d, per, budget, n+2)
 				}
 			}
 		}
+	}
+}
+
+// TestEstimateStringNamesCostlyDerivatives: the forecast's words name the
+// evaluations with derivatives where they are a quarter of it or more (an
+// ode's, whose jets cost 35 to 70 times its value), and only there.
+func TestEstimateStringNamesCostlyDerivatives(t *testing.T) {
+	cheap := Estimate{Dim: 3, Points: 531441, PerPoint: 3 * time.Microsecond, PerDeriv: 10 * time.Microsecond}
+	cheap.Total = cheap.forecast(cheap.Points)
+	costly := cheap
+	costly.PerDeriv = 230 * time.Microsecond
+	costly.Total = costly.forecast(costly.Points)
+	if s := cheap.String(); strings.Contains(s, "derivatives") {
+		t.Errorf("cheap derivatives named: %q", s)
+	}
+	if s := costly.String(); !strings.Contains(s, "23000 evaluations with derivatives at 230µs each") {
+		t.Errorf("costly derivatives not named: %q", s)
 	}
 }

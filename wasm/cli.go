@@ -80,7 +80,7 @@ func runFit(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		return exitModel
 	}
 	if *maxTime > 0 && est.Total > *maxTime {
-		fmt.Fprint(stderr, tooLong(name, len(m.Params), est, *maxTime))
+		fmt.Fprint(stderr, tooLong(name, est, *maxTime))
 		return exitModel
 	}
 	if *maxTime > 0 {
@@ -129,11 +129,11 @@ func runFit(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 
 // tooLong says that an analysis would take longer than allowed, and offers
 // the cheaper plans: more time, or a coarser grid.
-func tooLong(name string, d int, est engine.Estimate, maxTime time.Duration) string {
+func tooLong(name string, est engine.Estimate, maxTime time.Duration) string {
 	var b strings.Builder
 	fmt.Fprintf(&b, "bellcheck: %s: the analysis would take %v, more than --max-time %v.\n", name, est, maxTime)
 	fmt.Fprintf(&b, "  Allow it with --max-time %v", (est.Total*3/2).Truncate(time.Minute)+time.Minute)
-	if n := engine.PointsWithin(d, est.PerPoint, maxTime); n > 0 {
+	if n := est.PointsWithin(maxTime); n > 0 {
 		fmt.Fprintf(&b, ", or use a coarser grid that fits: --points %d", n)
 	} else {
 		b.WriteString(" (even the coarsest grid would take longer: the model's density is costly; summarise the data, for instance by counts, or use fewer observations)")

@@ -173,16 +173,16 @@ func TestFitRefusesWorkBeyondMaxTime(t *testing.T) {
 }
 
 // TestTooLongOffersCoarserGrid: the message names a --points that the
-// forecast puts within the bound (engine.PointsWithin), or says that none
+// forecast puts within the bound (Estimate.PointsWithin), or says that none
 // does.
 func TestTooLongOffersCoarserGrid(t *testing.T) {
-	est := engine.Estimate{Points: 301 * 301, PerPoint: 10 * time.Microsecond, Total: 2 * time.Second}
-	msg := tooLong("m.txt", 2, est, time.Second)
-	n := engine.PointsWithin(2, est.PerPoint, time.Second)
+	est := engine.Estimate{Dim: 2, Points: 301 * 301, PerPoint: 10 * time.Microsecond, PerDeriv: 100 * time.Microsecond, Total: 2 * time.Second}
+	msg := tooLong("m.txt", est, time.Second)
+	n := est.PointsWithin(time.Second)
 	if n < 11 || n >= 301 || !strings.Contains(msg, "--points "+strconv.Itoa(n)) {
 		t.Errorf("PointsWithin %d; message %q", n, msg)
 	}
-	msg = tooLong("m.txt", 4, engine.Estimate{Points: 41 * 41 * 41 * 41, PerPoint: time.Millisecond, Total: time.Hour}, time.Second)
+	msg = tooLong("m.txt", engine.Estimate{Dim: 4, Points: 41 * 41 * 41 * 41, PerPoint: time.Millisecond, Total: time.Hour}, time.Second)
 	if !strings.Contains(msg, "even the coarsest grid") {
 		t.Errorf("message %q", msg)
 	}

@@ -200,11 +200,11 @@ func TestSweepRefusesWorkBeyondMaxTime(t *testing.T) {
 
 // The refusal's plans: the time for all values with room to spare, the
 // most values that fit, and a grid that fits each analysis into its share
-// of the bound (engine.PointsWithin).
+// of the bound (Estimate.PointsWithin).
 func TestSweepTooLongPlans(t *testing.T) {
-	one := engine.Estimate{Points: 301 * 301, PerPoint: 10 * time.Microsecond, Total: 2 * time.Second}
-	msg := sweepTooLong("m.txt", 2, 11, one, 10*time.Second)
-	n := engine.PointsWithin(2, one.PerPoint, 10*time.Second/11)
+	one := engine.Estimate{Dim: 2, Points: 301 * 301, PerPoint: 10 * time.Microsecond, PerDeriv: 100 * time.Microsecond, Total: 2 * time.Second}
+	msg := sweepTooLong("m.txt", 11, one, 10*time.Second)
+	n := one.PointsWithin(10 * time.Second / 11)
 	for _, want := range []string{"about 22s (11 analyses", "more than --max-time 10s", "--max-time 1m0s", "--steps 5", "--points " + strconv.Itoa(n)} {
 		if !strings.Contains(msg, want) {
 			t.Errorf("message %q lacks %q", msg, want)
@@ -213,7 +213,7 @@ func TestSweepTooLongPlans(t *testing.T) {
 	if n < 11 || n >= 301 {
 		t.Errorf("PointsWithin %d", n)
 	}
-	msg = sweepTooLong("m.txt", 4, 3, engine.Estimate{Points: 41 * 41 * 41 * 41, PerPoint: time.Millisecond, Total: time.Hour}, time.Second)
+	msg = sweepTooLong("m.txt", 3, engine.Estimate{Dim: 4, Points: 41 * 41 * 41 * 41, PerPoint: time.Millisecond, Total: time.Hour}, time.Second)
 	if strings.Contains(msg, "--steps") || !strings.Contains(msg, "no grid of this model is coarse enough") {
 		t.Errorf("message %q", msg)
 	}

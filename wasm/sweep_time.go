@@ -29,9 +29,9 @@ func sweepForecast(ctx context.Context, file string, m *model.Model, opts engine
 		return engine.Estimate{}, exitModel
 	}
 	n := len(values)
-	all := engine.Estimate{Points: one.Points * n, PerPoint: one.PerPoint, Total: one.Total * time.Duration(n)}
+	all := engine.Estimate{Dim: one.Dim, Points: one.Points * n, PerPoint: one.PerPoint, PerDeriv: one.PerDeriv, Total: one.Total * time.Duration(n)}
 	if maxTime > 0 && all.Total > maxTime {
-		fmt.Fprint(stderr, sweepTooLong(file, len(m.Params), n, one, maxTime))
+		fmt.Fprint(stderr, sweepTooLong(file, n, one, maxTime))
 		return all, exitModel
 	}
 	return all, exitOK
@@ -40,7 +40,7 @@ func sweepForecast(ctx context.Context, file string, m *model.Model, opts engine
 // sweepTooLong says that a sweep of n values, each analysis forecast as
 // one, would take longer than allowed, and offers the cheaper plans: more
 // time, fewer values, or a coarser grid.
-func sweepTooLong(file string, d, n int, one engine.Estimate, maxTime time.Duration) string {
+func sweepTooLong(file string, n int, one engine.Estimate, maxTime time.Duration) string {
 	var b strings.Builder
 	total := one.Total * time.Duration(n)
 	fmt.Fprintf(&b, "bellcheck sweep: %s: the sweep would take about %v (%d analyses, each %v), more than --max-time %v.\n",
@@ -49,7 +49,7 @@ func sweepTooLong(file string, d, n int, one engine.Estimate, maxTime time.Durat
 	if k := int(maxTime / max(one.Total, 1)); k >= 2 {
 		fmt.Fprintf(&b, ", use fewer values: --steps %d", k)
 	}
-	if p := engine.PointsWithin(d, one.PerPoint, maxTime/time.Duration(n)); p > 0 {
+	if p := one.PointsWithin(maxTime / time.Duration(n)); p > 0 {
 		fmt.Fprintf(&b, ", or use a coarser grid that fits: --points %d", p)
 	} else {
 		b.WriteString(" (no grid of this model is coarse enough for every value within the bound)")

@@ -166,7 +166,7 @@ func apiBounded(m *model.Model, opts engine.Options, limit time.Duration) (*engi
 		}
 		if est.Total > limit {
 			msg := fmt.Sprintf("the analysis would take %v, more than max_seconds %v; not started: allow more time with max_seconds", est, limit.Seconds())
-			if n := engine.PointsWithin(len(m.Params), est.PerPoint, limit); n > 0 {
+			if n := est.PointsWithin(limit); n > 0 {
 				msg += fmt.Sprintf(", or use a coarser grid (points: %d per parameter fits)", n)
 			}
 			return nil, fmt.Errorf("%w: %s", ErrAPITime, msg)

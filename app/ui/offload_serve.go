@@ -106,7 +106,7 @@ func (s *analysisServer) run(ctx context.Context, gen uint64, req workRequest, a
 	r.Estimate = est // the page keeps it too (smallWork)
 	if est.Total > req.MaxTime {
 		r.Kind = replyTooLong
-		r.Points = engine.PointsWithin(len(m.Params), est.PerPoint, req.MaxTime/offerMargin)
+		r.Points = est.PointsWithin(req.MaxTime / offerMargin)
 		s.reply(gen, r)
 		return
 	}

@@ -111,7 +111,7 @@ func (p *Page) bounded(actx app.Context, ctx context.Context, work string, m *mo
 	if est.Total <= PageMaxTime {
 		return engine.AnalyseEarly(ctx, m, opts, progress, early)
 	}
-	tl := &TooLongError{Estimate: est, Limit: PageMaxTime, Points: engine.PointsWithin(len(m.Params), est.PerPoint, PageMaxTime/offerMargin)}
+	tl := &TooLongError{Estimate: est, Limit: PageMaxTime, Points: est.PointsWithin(PageMaxTime / offerMargin)}
 	actx.Dispatch(func(app.Context) { p.offerCoarser(m, tl) })
 	return nil, tl
 }
