@@ -87,7 +87,7 @@ const offerMargin = 2
 // work (workIdentity): the forecast of the last work forecast is kept, and
 // the same work again (a comment typed, a slider moved) is not forecast
 // again. (The forecast times the density for at least 15 ms where a point
-// costs over a microsecond, before every analysis.) early, when set,
+// costs over a microsecond, and its derivatives for about 4 ms more.) early, when set,
 // receives the analysis's early results (engine.AnalyseEarly).
 func (p *Page) boundedAnalyse(actx app.Context, work string, early engine.EarlyFunc) AnalyseFunc {
 	return func(ctx context.Context, m *model.Model, opts engine.Options, progress engine.ProgressFunc) (*engine.Result, error) {
