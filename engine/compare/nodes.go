@@ -4,6 +4,9 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"runtime"
+	"sync"
+	"sync/atomic"
 
 	"bellcheck/engine/gauss"
 	"bellcheck/engine/special"
@@ -172,13 +175,22 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 		}
 		cell[i] = special.Exp((logW[i] + logJ[i]) / float64(d))
 	}
-	r0 := math.Sqrt(special.ChiSquareQuantile(d, 0.95))
+	coarseNode := make([]bool, n)
+	for i := range coarseNode {
+		coarseNode[i] = ns.Coarse(i)
+	}
+	in := &nodeInputs{d: d, ys: ys, logW: logW, logP: logP, logJ: logJ, pm: pm, cell: cell,
+		valid: valid, coarse: coarseNode, logZn: logZn, r0: math.Sqrt(special.ChiSquareQuantile(d, 0.95))}
+	r0 := in.r0
 	tol := s.QMassTol
 	if tol <= 0 {
 		tol = 1e-6
 	}
+	all, err := in.sumAll(s.Context, qs, s.Progress)
+	if err != nil {
+		return nil, err
+	}
 	out := make([]Result, len(qs))
-	ms := make([]float64, n) // the Mahalanobis squares of the nodes under q
 	for qi, q := range qs {
 		if s.Context != nil {
 			if err := s.Context.Err(); err != nil {
@@ -186,57 +198,9 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 			}
 		}
 		res := Result{Method: OnNodes}
-		klpq, bhat, bhat2, qmass := 0.0, 0.0, 0.0, 0.0
-		coarse := float64(int(1) << d)
-		nearest, nearestM := -1, math.Inf(1)
-		var cover, coverCoarse [2]float64
-		logNorm, halfLogDet := q.LogNorm(), q.LogDet()/2
-		cellScale := special.Exp(-halfLogDet / float64(d)) // the cell side in q's whitened coordinates
-		q.Mahalanobis2Points(ys, ms)
-		for i := 0; i < n; i++ {
-			if s.Progress != nil && i > 0 && i%progressNodes == 0 {
-				s.Progress((float64(qi) + float64(i)/float64(n)) / float64(len(qs)))
-			}
-			if !valid[i] {
-				continue
-			}
-			M := ms[i]
-			lq := logNorm - M/2
-			if M < nearestM {
-				nearest, nearestM = i, M
-			}
-			m, lp := pm[i], logP[i]-logZn
-			if m > 0 {
-				klpq += m * (lp - logJ[i] - lq)
-			}
-			// q's share of the node, and the Bhattacharyya term
-			// sqrt(p q) from it (where q's share underflows, the term is
-			// below sqrt(p 1e-308): nothing).
-			if e := logW[i] + lq + logJ[i]; e > -745 {
-				qm := special.Exp(e)
-				qmass += qm
-				b := math.Sqrt(m * qm)
-				bhat += b
-				if ns.Coarse(i) {
-					bhat2 += coarse * b
-				}
-			}
-			if !(m > negligibleShare) {
-				continue
-			}
-			// The coverage's smoothed indicator (see above), on the
-			// finest rule and on the rule of twice the step (whose cells
-			// are twice as wide, its weights 2^d times).
-			h := cell[i] * cellScale
-			gap := math.Sqrt(M) - r0
-			smoothed(&cover, m, gap, h)
-			if ns.Coarse(i) {
-				smoothed(&coverCoarse, coarse*m, gap, 2*h)
-			}
-		}
-		if s.Progress != nil {
-			s.Progress(float64(qi+1) / float64(len(qs)))
-		}
+		sum := all[qi]
+		klpq, bhat, bhat2, qmass := sum.klpq, sum.bhat, sum.bhat2, sum.qmass
+		cover, coverCoarse, nearest := sum.cover, sum.coverCoarse, sum.nearest
 		if skipped > 1e-12 {
 			// p has mass where the fitting scale rounds to a bound: the
 			// sums are not defined there.
@@ -293,6 +257,139 @@ func CompareNodes(ns NodeSet, qs []*gauss.Prepared, s NodeSettings) ([]Result, e
 		out[qi] = res
 	}
 	return out, nil
+}
+
+// nodeInputs are the per-node values that every Gaussian's sums over the
+// node set read (CompareNodes): y on the fitting scale (d per node), log w,
+// log p, log J, p's normalised weight, the cell's side, whether y and J
+// are finite and whether the node is also a coarse one; the node set's
+// log total and the radius of the central 95 % region.
+type nodeInputs struct {
+	d                              int
+	ys, logW, logP, logJ, pm, cell []float64
+	valid, coarse                  []bool
+	logZn, r0                      float64
+}
+
+// nodeSums are one Gaussian's sums over the node set (see CompareNodes):
+// KL(p||q), the Bhattacharyya sums on the finest and the coarse nodes,
+// q's mass, the smoothed coverages at both widths on both rules, and the
+// node nearest q's mean (-1 when none is valid).
+type nodeSums struct {
+	klpq, bhat, bhat2, qmass float64
+	cover, coverCoarse       [2]float64
+	nearest                  int
+}
+
+// sumAll returns each Gaussian's sums. Where the program has more than
+// one processor the Gaussians are summed concurrently, each by one
+// goroutine (each sum in the same order as alone: the results do not
+// depend on it), and progress hears after each; otherwise one after
+// another, progress hearing within each too (in the browser the pauses
+// are in progress).
+func (in *nodeInputs) sumAll(ctx context.Context, qs []*gauss.Prepared, progress func(float64)) ([]nodeSums, error) {
+	n := len(in.logW)
+	out := make([]nodeSums, len(qs))
+	done := func() error {
+		if ctx != nil {
+			return ctx.Err()
+		}
+		return nil
+	}
+	if workers := min(runtime.GOMAXPROCS(0), len(qs)); workers > 1 {
+		var next atomic.Int64
+		var wg sync.WaitGroup
+		for range workers {
+			wg.Go(func() {
+				ms := make([]float64, n)
+				for {
+					qi := int(next.Add(1) - 1)
+					if qi >= len(qs) || done() != nil {
+						return
+					}
+					out[qi] = in.sums(qs[qi], ms, nil)
+				}
+			})
+		}
+		wg.Wait()
+		if err := done(); err != nil {
+			return nil, err
+		}
+		if progress != nil {
+			progress(1)
+		}
+		return out, nil
+	}
+	ms := make([]float64, n)
+	for qi, q := range qs {
+		if err := done(); err != nil {
+			return nil, err
+		}
+		var at func(float64)
+		if progress != nil {
+			at = func(f float64) { progress((float64(qi) + f) / float64(len(qs))) }
+		}
+		out[qi] = in.sums(q, ms, at)
+		if progress != nil {
+			progress(float64(qi+1) / float64(len(qs)))
+		}
+	}
+	return out, nil
+}
+
+// sums is one Gaussian's pass over the nodes (ms is scratch for their
+// Mahalanobis squares); at, when set, hears the fraction done every
+// progressNodes nodes.
+func (in *nodeInputs) sums(q *gauss.Prepared, ms []float64, at func(float64)) nodeSums {
+	d, n := in.d, len(in.logW)
+	out := nodeSums{nearest: -1}
+	coarse := float64(int(1) << d)
+	nearestM := math.Inf(1)
+	logNorm, halfLogDet := q.LogNorm(), q.LogDet()/2
+	cellScale := special.Exp(-halfLogDet / float64(d)) // the cell side in q's whitened coordinates
+	q.Mahalanobis2Points(in.ys, ms)
+	for i := 0; i < n; i++ {
+		if at != nil && i > 0 && i%progressNodes == 0 {
+			at(float64(i) / float64(n))
+		}
+		if !in.valid[i] {
+			continue
+		}
+		M := ms[i]
+		lq := logNorm - M/2
+		if M < nearestM {
+			out.nearest, nearestM = i, M
+		}
+		m, lp := in.pm[i], in.logP[i]-in.logZn
+		if m > 0 {
+			out.klpq += m * (lp - in.logJ[i] - lq)
+		}
+		// q's share of the node, and the Bhattacharyya term sqrt(p q)
+		// from it (where q's share underflows, the term is below
+		// sqrt(p 1e-308): nothing).
+		if e := in.logW[i] + lq + in.logJ[i]; e > -745 {
+			qm := special.Exp(e)
+			out.qmass += qm
+			b := math.Sqrt(m * qm)
+			out.bhat += b
+			if in.coarse[i] {
+				out.bhat2 += coarse * b
+			}
+		}
+		if !(m > negligibleShare) {
+			continue
+		}
+		// The coverage's smoothed indicator (see CompareNodes), on the
+		// finest rule and on the rule of twice the step (whose cells are
+		// twice as wide, its weights 2^d times).
+		h := in.cell[i] * cellScale
+		gap := math.Sqrt(M) - in.r0
+		smoothed(&out.cover, m, gap, h)
+		if in.coarse[i] {
+			smoothed(&out.coverCoarse, coarse*m, gap, 2*h)
+		}
+	}
+	return out
 }
 
 // spacingIn returns the side of a cube of the volume exp(logVol) (on the
