@@ -128,6 +128,10 @@ func TestReferences(t *testing.T) { runReferences(t, refDir) }
 // to 1e-10 or better) that the check of the error estimate allows.
 const logZValueAccuracy = 1e-10
 
+// maxPessimism is how many times its actual error an error estimate of log
+// Z may be, where that error is above logZValueAccuracy.
+const maxPessimism = 100.0
+
 // runReferences checks every reference case of dir.
 func runReferences(t *testing.T, dir string) {
 	for _, c := range loadReferencesIn(t, dir) {
@@ -161,6 +165,12 @@ func runReferences(t *testing.T, dir string) {
 					}
 					if l.path == "exact.log_z" && math.Abs(f-l.value) > coveredSlack*res.Exact.LogZErr+logZValueAccuracy {
 						t.Errorf("%s: %s is off by %.3g from %.12g, but its error estimate is %.3g", where, l.path, f-l.value, l.value, res.Exact.LogZErr)
+					}
+					// Nor far too pessimistic, where the error stands above
+					// the reference value's own accuracy (below it the
+					// error is not known well enough to judge).
+					if e := math.Abs(f - l.value); l.path == "exact.log_z" && e > logZValueAccuracy && res.Exact.LogZErr > maxPessimism*e {
+						t.Errorf("%s: %s's error estimate %.3g is over %g times its error %.3g", where, l.path, res.Exact.LogZErr, maxPessimism, e)
 					}
 				}
 			}

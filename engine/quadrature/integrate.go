@@ -62,6 +62,9 @@ type Result struct {
 	// discErr is the discretisation part of LogZErr (what refining the
 	// step reduces; the truncation part it does not).
 	discErr float64
+	// zLevels are the integral by the rules of steps h, 2h and 4h (the
+	// sums behind discErr), for a finer rule's estimate (sharpen).
+	zLevels [3]float64
 	// boundErr is the rounding of the original coordinate near a finite
 	// bound (see boundRounding), a relative error of every sum.
 	boundErr float64
@@ -113,6 +116,7 @@ func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (
 	used, usedDerivs := pilotPoints, pilotDerivs
 	// The rule at step h has about 2^d times the nodes of the rule at 2h.
 	expect := pilotNodes << uint(p.Dim()) * 5 / 4
+	var prev *Result // the rule of twice the step, once refined
 	for halvings := 0; ; halvings++ {
 		r, err := newRule(ctx, p, main, s)
 		if err != nil {
@@ -134,6 +138,10 @@ func Integrate(ctx context.Context, p target.Density, start Start, s Settings) (
 		if err != nil {
 			return nil, err
 		}
+		if prev != nil {
+			res.sharpen(prev, r.h)
+		}
+		prev = res
 		// Refine while the discretisation estimate misses the target and
 		// the next rule (about 2^d times the points) fits the budget, at
 		// most three times.
@@ -240,6 +248,7 @@ func (r *rule) result(start Start, s Settings) (*Result, error) {
 		r.boundErr = res.boundErr
 		res.LogZErr = (zErr+remainderMargin*lv.rem[0])/s0 + roundoff + res.boundErr
 		res.discErr = zErr / s0
+		res.zLevels = [3]float64{s0, lv.sum[1][0], lv.sum[2][0]}
 	}
 	if !res.Improper {
 		res.outer = r.outerCurve(s0)
@@ -354,6 +363,39 @@ func estimate(v1, v2, v4, scale, h float64) float64 {
 		return safety * squared
 	}
 	return safety * max(byRate, squared)
+}
+
+// sharpen revises the discretisation part of res's log Z error estimate
+// with a fourth level, the change from step 8h to 4h of the rule of twice
+// the step (prev, same start). The three levels of res alone cannot tell
+// whether the rate c of err(h) ~ A exp(-c/h) holds from 2h to h, so
+// estimate takes the squaring of the last change in the fast regime, a
+// bound that assumes A about the integral's size. Where the four levels
+// show the log-ratio of successive changes at least doubling (as that
+// form has it: log(d2/d3) >= 2 log(d1/d2)), the rate is steady or
+// speeding up, and the rate's extrapolation d3^3/d2^2 (times safety) is
+// the estimate where it is smaller than the squaring. (The two-mixture
+// reference case: changes 0.28, 0.13 and 4.0e-4 from step 1 to 1/8; the
+// squaring gave 4.9e-7 against an error of 2.2e-10; the rate, 1.1e-8. A
+// rule not refined has no fourth level: the banana's rule at its default
+// step would have stopped with an error of 1.1e-8 under an estimate of
+// 3.1e-9 from the rate alone.)
+func (res *Result) sharpen(prev *Result, h float64) {
+	if res.Improper || prev.Improper || !(res.zLevels[0] > 0) || !(prev.zLevels[0] > 0) {
+		return
+	}
+	d1 := math.Abs(prev.zLevels[2]-prev.zLevels[1]) / prev.zLevels[0]
+	d2 := math.Abs(res.zLevels[2]-res.zLevels[1]) / res.zLevels[0]
+	d3 := math.Abs(res.zLevels[1]-res.zLevels[0]) / res.zLevels[0]
+	if !(d1 > d2 && d2 > d3 && d3 > 0) || 4*h*math.Log(d2/d3) < fastRate || math.Log(d2/d3) < 2*math.Log(d1/d2) {
+		return
+	}
+	byRate := safety * d3 * d3 * d3 / (d2 * d2)
+	if byRate >= res.discErr {
+		return
+	}
+	res.LogZErr -= res.discErr - byRate
+	res.discErr = byRate
 }
 
 // fastRate is the rate c of err(h) ~ A exp(-c/h), fitted from the rules of

@@ -132,3 +132,32 @@ func TestNegativeBinomial(t *testing.T) {
 	}
 	t.Logf("order %v points %d derivs %d; log Z err %.2g est %.2g", res.Order, res.Points, res.Derivs, res.LogZ-logZ, res.LogZErr)
 }
+
+// TestSharpenNeedsASteadyRate: a fourth level replaces the squaring of the
+// last change by the rate's extrapolation only where the log-ratios of
+// successive changes at least double (the form exp(-c/h) has them double),
+// and only downwards. The numbers are the two-mixture reference case's
+// changes (0.28, 0.13, 4.0e-4; see sharpen) and the same with the first
+// change larger, a rate that slows.
+func TestSharpenNeedsASteadyRate(t *testing.T) {
+	mk := func(d1, d2, d3 float64) (*Result, *Result) {
+		prev := &Result{zLevels: [3]float64{1, 1 - d2, 1 - d2 - d1}}
+		res := &Result{zLevels: [3]float64{1, 1 - d3, 1 - d3 - d2}}
+		res.discErr = safety * d3 * d3
+		res.LogZErr = res.discErr + roundoff
+		return prev, res
+	}
+	prev, res := mk(0.28, 0.13, 4.0e-4)
+	res.sharpen(prev, 0.125)
+	want := safety * 4.0e-4 * 4.0e-4 * 4.0e-4 / (0.13 * 0.13)
+	if math.Abs(res.discErr-want) > 1e-12*want || math.Abs(res.LogZErr-(want+roundoff)) > 1e-12*want {
+		t.Errorf("steady rate: discErr %.3g, LogZErr %.3g, want %.3g", res.discErr, res.LogZErr, want)
+	}
+	// log(0.13/4e-4) = 5.8 < 2 log(200/0.13) = 14.7: the rate slows.
+	prev, res = mk(200, 0.13, 4.0e-4)
+	before := res.discErr
+	res.sharpen(prev, 0.125)
+	if res.discErr != before {
+		t.Errorf("slowing rate: discErr %.3g, want the squaring %.3g kept", res.discErr, before)
+	}
+}
