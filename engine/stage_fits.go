@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"runtime"
 	"slices"
 	"strings"
 
@@ -11,6 +12,7 @@ import (
 
 	"bellcheck/engine/fit"
 	"bellcheck/engine/gauss"
+	"bellcheck/engine/target"
 )
 
 // fitted is one Gaussian fit that exists, as the fits stage hands it on:
@@ -50,6 +52,17 @@ func (a *analysis) fitAll() error {
 	a.boundedKL(infiniteKL)
 	a.dropDegenerate()
 	return nil
+}
+
+// helpers returns an independent copy of the density for the fits'
+// cubature where the program has more than one processor (fit.Settings.
+// Helpers), else nil: in the browser the passes run whole on the page's
+// or the worker's one thread.
+func (a *analysis) helpers() []target.Density {
+	if runtime.GOMAXPROCS(0) < 2 {
+		return nil
+	}
+	return []target.Density{a.p.Clone()}
 }
 
 // dropDegenerate prepares each fit's Gaussian (gauss.Prepare) and leaves
@@ -157,7 +170,7 @@ func (a *analysis) fitReverse(lap *fit.LaplaceFit) (rev, mfit *fit.VariationalFi
 			run = fit.MeanField
 		}
 		label := m.term()
-		vf, err := run(a.ctx, a.pw, init, fit.Settings{Progress: a.tr.at})
+		vf, err := run(a.ctx, a.pw, init, fit.Settings{Progress: a.tr.at, Helpers: a.helpers()})
 		if ctxErr := a.ctx.Err(); ctxErr != nil {
 			return nil, ctxErr
 		}

@@ -40,6 +40,11 @@ type Settings struct {
 	// CoarseResidual), and of a stalled iteration taken as converged; 0
 	// means 1e-6.
 	Resolution float64
+	// Helpers, when set, are independent copies of the density (Clone)
+	// on which each cubature pass of 512 nodes and more evaluates part of
+	// its nodes concurrently (one helper is used); the sums, added in a
+	// fixed order, are the same with or without them.
+	Helpers []target.Density
 	// Progress, when set, receives after each accepted step a fraction
 	// done that never falls: the way the map's residual has come from the
 	// start's towards Tol, on a log scale, or n/(n+40) after n steps where
@@ -304,7 +309,7 @@ func variational(ctx context.Context, p target.Density, init Gaussian, s Setting
 	if err != nil {
 		return VariationalFit{}, fmt.Errorf("%s: %w", name, err)
 	}
-	v := newSolver(p, r, diag)
+	v := newSolver(p, r, diag, s.Helpers)
 
 	cur, trial := v.newState(), v.newState()
 	if err := check(init, cur.l); err != nil {

@@ -3,6 +3,7 @@ package fit
 import (
 	"fmt"
 	"math"
+	"sync"
 
 	"bellcheck/engine/target"
 )
@@ -33,11 +34,16 @@ type viSolver struct {
 	thetaTry      []float64
 	aa            anderson
 	evals         int
+	// parts are the cubature passes' parts (see splitNodes): the first
+	// on p, the others on the helpers given (Settings.Helpers), else on p
+	// in turn.
+	parts []viPart
+	wg    sync.WaitGroup
 }
 
 // newSolver allocates a solver and all its scratch space for density p and
 // cubature rule r.
-func newSolver(p target.Density, r rule, diag bool) *viSolver {
+func newSolver(p target.Density, r rule, diag bool, helpers []target.Density) *viSolver {
 	d := p.Dim()
 	n := d + d*(d+1)/2
 	if diag {
@@ -51,6 +57,12 @@ func newSolver(p target.Density, r rule, diag bool) *viSolver {
 		v.l0[i*d+i] = 1
 	}
 	v.aa = newAnderson(n, min(andersonMemory, n))
+	v.parts = []viPart{newPart(nil, d), newPart(nil, d)}
+	for i, h := range helpers {
+		if i+1 < len(v.parts) {
+			v.parts[i+1].p = h
+		}
+	}
 	return v
 }
 
@@ -104,6 +116,27 @@ const negligibleNode = 1e-30
 // cubature over N(st.mu, st.l st.lᵀ).
 func (v *viSolver) evaluate(st *viState) error {
 	d := v.d
+	n := len(v.r.w)
+	parts := 1
+	if n >= splitNodes {
+		parts = len(v.parts)
+	}
+	// Each part's sums over its share of the nodes, the helpers' parts on
+	// goroutines of their own, then added in the parts' order: the same
+	// numbers however many run at once.
+	wg := &v.wg
+	for k := 1; k < parts; k++ {
+		c := &v.parts[k]
+		lo, hi := k*n/parts, (k+1)*n/parts
+		if c.p == nil {
+			c.sum(v.p, v.r, st, lo, hi, d)
+			continue
+		}
+		wg.Go(func() { c.sum(c.p, v.r, st, lo, hi, d) })
+	}
+	first := &v.parts[0]
+	first.sum(v.p, v.r, st, 0, n/parts, d)
+	wg.Wait()
 	for i := range st.eg {
 		st.eg[i] = 0
 	}
@@ -111,35 +144,21 @@ func (v *viSolver) evaluate(st *viState) error {
 		st.eh[i] = 0
 	}
 	elogp := 0.0
-	for k, w := range v.r.w {
-		z := v.r.z[k*d : k*d+d]
-		for i := 0; i < d; i++ {
-			xi := st.mu[i]
-			for j := 0; j <= i; j++ {
-				xi += st.l[i*d+j] * z[j]
+	for k := 0; k < parts; k++ {
+		c := &v.parts[k]
+		if c.err != nil {
+			if c.err == ErrInfiniteKL {
+				copy(v.x, c.x)
+				return v.infiniteKL()
 			}
-			v.x[i] = xi
+			return c.err
 		}
-		f := v.p.LogDensityDerivs(v.x, v.grad, v.hess)
-		if math.IsInf(f, -1) {
-			if w < negligibleNode {
-				// Far out in q's tail: a density that underflowed there (as
-				// 1 - x does on the logit scale beyond z = 37) more likely
-				// than one that is zero; the node's part of any log p down
-				// to -1e15 would be below rounding.
-				continue
-			}
-			return v.infiniteKL()
+		elogp += c.elogp
+		for i := range st.eg {
+			st.eg[i] += c.eg[i]
 		}
-		if math.IsNaN(f) || math.IsInf(f, 1) {
-			return fmt.Errorf("%w: log p is %v at %v", ErrNonFinite, f, v.x)
-		}
-		elogp += w * f
-		for i, g := range v.grad {
-			st.eg[i] += w * g
-		}
-		for i, h := range v.hess {
-			st.eh[i] += w * h
+		for i := range st.eh {
+			st.eh[i] += c.eh[i]
 		}
 	}
 	v.evals++
@@ -151,6 +170,74 @@ func (v *viSolver) evaluate(st *viState) error {
 	st.elbo = elogp + entropyFromLogDet(d, st.logDetCov)
 	v.pack(st)
 	return nil
+}
+
+// splitNodes is the size of rule from which a cubature pass sums its
+// nodes in parts (viPart), on helpers where the fit has them: the 3-D
+// default rule (512 nodes) and beyond. Smaller rules are summed whole,
+// in one order on every machine.
+const splitNodes = 512
+
+// viPart is one part of a cubature pass over the nodes: its density (nil
+// for the solver's own), scratch, sums, and the error that stopped it.
+type viPart struct {
+	p             target.Density
+	x, grad, hess []float64
+	eg, eh        []float64
+	elogp         float64
+	err           error
+}
+
+func newPart(p target.Density, d int) viPart {
+	return viPart{p: p, x: make([]float64, d), grad: make([]float64, d), hess: make([]float64, d*d),
+		eg: make([]float64, d), eh: make([]float64, d*d)}
+}
+
+// sum adds p's expectations over the nodes lo to hi-1 of r under st's
+// Gaussian into c (after zeroing it); c.err is set where log p is -Inf at
+// a node that carries weight (ErrInfiniteKL, c.x the point) or NaN or +Inf.
+func (c *viPart) sum(p target.Density, r rule, st *viState, lo, hi, d int) {
+	c.elogp, c.err = 0, nil
+	for i := range c.eg {
+		c.eg[i] = 0
+	}
+	for i := range c.eh {
+		c.eh[i] = 0
+	}
+	for k := lo; k < hi; k++ {
+		w := r.w[k]
+		z := r.z[k*d : k*d+d]
+		for i := 0; i < d; i++ {
+			xi := st.mu[i]
+			for j := 0; j <= i; j++ {
+				xi += st.l[i*d+j] * z[j]
+			}
+			c.x[i] = xi
+		}
+		f := p.LogDensityDerivs(c.x, c.grad, c.hess)
+		if math.IsInf(f, -1) {
+			if w < negligibleNode {
+				// Far out in q's tail: a density that underflowed there (as
+				// 1 - x does on the logit scale beyond z = 37) more likely
+				// than one that is zero; the node's part of any log p down
+				// to -1e15 would be below rounding.
+				continue
+			}
+			c.err = ErrInfiniteKL
+			return
+		}
+		if math.IsNaN(f) || math.IsInf(f, 1) {
+			c.err = fmt.Errorf("%w: log p is %v at %v", ErrNonFinite, f, c.x)
+			return
+		}
+		c.elogp += w * f
+		for i, g := range c.grad {
+			c.eg[i] += w * g
+		}
+		for i, h := range c.hess {
+			c.eh[i] += w * h
+		}
+	}
 }
 
 func (v *viSolver) infiniteKL() error {
