@@ -28,15 +28,14 @@ type viSolver struct {
 	r             rule
 	l0            []float64 // the initial Gaussian's Cholesky factor (see pack)
 	white         []float64 // scratch for whiten and unpack
-	x, grad, hess []float64
 	c, col, tmp   []float64
 	negEH, cNegEH []float64
 	thetaTry      []float64
 	aa            anderson
 	evals         int
-	// parts are the cubature passes' parts (see splitNodes): the first
-	// on p, the others on the helpers given (Settings.Helpers), else on p
-	// in turn.
+	// parts are the cubature passes' parts (see splitNodes), each with
+	// its density: p, or a helper given (Settings.Helpers), which runs its
+	// part concurrently.
 	parts []viPart
 	wg    sync.WaitGroup
 }
@@ -50,14 +49,13 @@ func newSolver(p target.Density, r rule, diag bool, helpers []target.Density) *v
 		n = 2 * d
 	}
 	v := &viSolver{p: p, d: d, n: n, diag: diag, r: r, l0: make([]float64, d*d), white: make([]float64, d*d),
-		x: make([]float64, d), grad: make([]float64, d), hess: make([]float64, d*d),
 		c: make([]float64, d*d), col: make([]float64, d), tmp: make([]float64, d*d),
 		negEH: make([]float64, d*d), cNegEH: make([]float64, d*d), thetaTry: make([]float64, n)}
 	for i := 0; i < d; i++ {
 		v.l0[i*d+i] = 1
 	}
 	v.aa = newAnderson(n, min(andersonMemory, n))
-	v.parts = []viPart{newPart(nil, d), newPart(nil, d)}
+	v.parts = []viPart{newPart(p, d), newPart(p, d)}
 	for i, h := range helpers {
 		if i+1 < len(v.parts) {
 			v.parts[i+1].p = h
@@ -128,14 +126,13 @@ func (v *viSolver) evaluate(st *viState) error {
 	for k := 1; k < parts; k++ {
 		c := &v.parts[k]
 		lo, hi := k*n/parts, (k+1)*n/parts
-		if c.p == nil {
-			c.sum(v.p, v.r, st, lo, hi, d)
+		if c.p == v.p {
+			c.sum(v.r, st, lo, hi)
 			continue
 		}
-		wg.Go(func() { c.sum(c.p, v.r, st, lo, hi, d) })
+		wg.Go(func() { c.sum(v.r, st, lo, hi) })
 	}
-	first := &v.parts[0]
-	first.sum(v.p, v.r, st, 0, n/parts, d)
+	v.parts[0].sum(v.r, st, 0, n/parts)
 	wg.Wait()
 	for i := range st.eg {
 		st.eg[i] = 0
@@ -148,8 +145,7 @@ func (v *viSolver) evaluate(st *viState) error {
 		c := &v.parts[k]
 		if c.err != nil {
 			if c.err == ErrInfiniteKL {
-				copy(v.x, c.x)
-				return v.infiniteKL()
+				return infiniteKL(c.x)
 			}
 			return c.err
 		}
@@ -178,8 +174,8 @@ func (v *viSolver) evaluate(st *viState) error {
 // in one order on every machine.
 const splitNodes = 512
 
-// viPart is one part of a cubature pass over the nodes: its density (nil
-// for the solver's own), scratch, sums, and the error that stopped it.
+// viPart is one part of a cubature pass over the nodes: its density,
+// scratch, sums, and the error that stopped it.
 type viPart struct {
 	p             target.Density
 	x, grad, hess []float64
@@ -193,10 +189,12 @@ func newPart(p target.Density, d int) viPart {
 		eg: make([]float64, d), eh: make([]float64, d*d)}
 }
 
-// sum adds p's expectations over the nodes lo to hi-1 of r under st's
-// Gaussian into c (after zeroing it); c.err is set where log p is -Inf at
-// a node that carries weight (ErrInfiniteKL, c.x the point) or NaN or +Inf.
-func (c *viPart) sum(p target.Density, r rule, st *viState, lo, hi, d int) {
+// sum adds the expectations of c.p over the nodes lo to hi-1 of r under
+// st's Gaussian into c (after zeroing it); c.err is set where log p is
+// -Inf at a node that carries weight (ErrInfiniteKL, c.x the point) or
+// NaN or +Inf.
+func (c *viPart) sum(r rule, st *viState, lo, hi int) {
+	d := len(c.x)
 	c.elogp, c.err = 0, nil
 	for i := range c.eg {
 		c.eg[i] = 0
@@ -206,15 +204,8 @@ func (c *viPart) sum(p target.Density, r rule, st *viState, lo, hi, d int) {
 	}
 	for k := lo; k < hi; k++ {
 		w := r.w[k]
-		z := r.z[k*d : k*d+d]
-		for i := 0; i < d; i++ {
-			xi := st.mu[i]
-			for j := 0; j <= i; j++ {
-				xi += st.l[i*d+j] * z[j]
-			}
-			c.x[i] = xi
-		}
-		f := p.LogDensityDerivs(c.x, c.grad, c.hess)
+		c.at(st, r.z[k*d:k*d+d])
+		f := c.p.LogDensityDerivs(c.x, c.grad, c.hess)
 		if math.IsInf(f, -1) {
 			if w < negligibleNode {
 				// Far out in q's tail: a density that underflowed there (as
@@ -240,26 +231,34 @@ func (c *viPart) sum(p target.Density, r rule, st *viState, lo, hi, d int) {
 	}
 }
 
-func (v *viSolver) infiniteKL() error {
-	return fmt.Errorf("%w: log p is -Inf at %v, where the Gaussian has mass: the support is bounded on this scale, so no Gaussian has a finite KL(q||p); fit the parameter on the log or logit scale", ErrInfiniteKL, v.x)
+// at sets c.x to the cubature node z under st's Gaussian: mu + L z.
+func (c *viPart) at(st *viState, z []float64) {
+	d := len(z)
+	for i := 0; i < d; i++ {
+		xi := st.mu[i]
+		for j := 0; j <= i; j++ {
+			xi += st.l[i*d+j] * z[j]
+		}
+		c.x[i] = xi
+	}
+}
+
+// infiniteKL is the error of a density that is zero at x, where the
+// Gaussian has mass.
+func infiniteKL(x []float64) error {
+	return fmt.Errorf("%w: log p is -Inf at %v, where the Gaussian has mass: the support is bounded on this scale, so no Gaussian has a finite KL(q||p); fit the parameter on the log or logit scale", ErrInfiniteKL, x)
 }
 
 // badDerivs finds a cubature node where the gradient or Hessian is not
 // finite, for the message.
 func (v *viSolver) badDerivs(st *viState) error {
 	d := v.d
+	c := &v.parts[0]
 	for k := range v.r.w {
-		z := v.r.z[k*d : k*d+d]
-		for i := 0; i < d; i++ {
-			xi := st.mu[i]
-			for j := 0; j <= i; j++ {
-				xi += st.l[i*d+j] * z[j]
-			}
-			v.x[i] = xi
-		}
-		v.p.LogDensityDerivs(v.x, v.grad, v.hess)
-		if !allFinite(v.grad) || !allFinite(v.hess) {
-			return fmt.Errorf("%w: gradient %v or Hessian %v of log p at %v", ErrNonFinite, v.grad, v.hess, v.x)
+		c.at(st, v.r.z[k*d:k*d+d])
+		v.p.LogDensityDerivs(c.x, c.grad, c.hess)
+		if !allFinite(c.grad) || !allFinite(c.hess) {
+			return fmt.Errorf("%w: gradient %v or Hessian %v of log p at %v", ErrNonFinite, c.grad, c.hess, c.x)
 		}
 	}
 	return fmt.Errorf("%w: the cubature sums of the gradient or Hessian of log p overflow", ErrNonFinite)
