@@ -140,32 +140,15 @@ func EstimateWork(ctx context.Context, m *model.Model, opts Options) (Estimate, 
 	// A first call sizes the evaluator's buffers: it is not timed.
 	fillPilot(cols, lo, hi, 16)
 	ev.LogDensityBlock(sliceCols(cols, 16), out[:16])
-	var spent time.Duration
-	n := 16
-	for {
-		if err := ctx.Err(); err != nil {
-			return Estimate{}, err
-		}
-		fillPilot(cols, lo, hi, n)
+	per, err := timePer(ctx, 16, pilotMax, pilotAim, func(n int) time.Duration {
+		fillPilot(cols, lo, hi, n) // not timed
 		began := time.Now()
 		ev.LogDensityBlock(sliceCols(cols, n), out[:n])
-		spent = time.Since(began)
-		if spent >= pilotAim || n >= pilotMax {
-			break
-		}
-		n = min(2*n, pilotMax)
+		return time.Since(began)
+	})
+	if err != nil {
+		return Estimate{}, err
 	}
-	// The fastest of three runs: a pause of the process (another program,
-	// a garbage collection) must not pass for the density's cost.
-	for range pilotRepeats - 1 {
-		if err := ctx.Err(); err != nil {
-			return Estimate{}, err
-		}
-		began := time.Now()
-		ev.LogDensityBlock(sliceCols(cols, n), out[:n])
-		spent = min(spent, time.Since(began))
-	}
-	per := time.Duration(max(1, float64(spent)/float64(n)))
 	perDeriv, err := timeDerivs(ctx, ev, cols)
 	if err != nil {
 		return Estimate{}, err
@@ -195,16 +178,25 @@ func timeDerivs(ctx context.Context, ev *eval.Evaluator, cols [][]float64) (time
 		return time.Since(began)
 	}
 	run(1) // sizes the evaluator's buffers: not timed
-	n := 4
+	return timePer(ctx, 4, derivPilotMax, pilotAim/4, run)
+}
+
+// timePer returns the time per point of run(n), which times n points:
+// n doubled from first until a run takes aim (at most most points), then
+// the fastest of pilotRepeats runs at that n, so that a pause of the
+// process (another program, a garbage collection) does not pass for the
+// density's cost. It returns ctx's error between runs.
+func timePer(ctx context.Context, first, most int, aim time.Duration, run func(n int) time.Duration) (time.Duration, error) {
+	n := first
 	var spent time.Duration
 	for {
 		if err := ctx.Err(); err != nil {
 			return 0, err
 		}
-		if spent = run(n); spent >= pilotAim/4 || n >= derivPilotMax {
+		if spent = run(n); spent >= aim || n >= most {
 			break
 		}
-		n = min(2*n, derivPilotMax)
+		n = min(2*n, most)
 	}
 	for range pilotRepeats - 1 {
 		if err := ctx.Err(); err != nil {
