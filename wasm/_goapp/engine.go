@@ -4,7 +4,8 @@
 // runner"). It is go-app's file (MIT licence, LICENSE beside it) with one
 // change: Start processes a frame right after each dispatch (and the
 // dispatches queued with it) rather than on a timer at a frame rate, and
-// pauses a frame duration only after a frame that queued dispatches.
+// pauses a frame duration only after a frame that queued dispatches; before
+// the frame, the goroutines those dispatches started run until they wait.
 
 package app
 
@@ -14,6 +15,7 @@ import (
 	"encoding/json"
 	"net/url"
 	"reflect"
+	"runtime"
 	"strings"
 	"sync"
 	"time"
@@ -235,7 +237,10 @@ func (e *engineX) Load(v Composer) error {
 // dispatch at once, after the dispatches already queued, instead of at the
 // next tick of a timer at the given framerate: the page's result reached
 // the screen up to a frame duration later, with the thread idle meanwhile.
-// Dispatches queued together share one frame. When a frame itself queues
+// Dispatches queued together share one frame, and the goroutines they
+// started (ctx.Async: the page's analysis) run before it until they wait,
+// so an analysis starts before the page redraws for the edit that asked
+// for it, and a small one's result shares that frame. When a frame itself queues
 // dispatches, the loop pauses a frame duration before it takes them, so a
 // chain of such frames cannot hold the page's thread.
 func (e *engineX) Start(framerate int) {
@@ -252,6 +257,11 @@ func (e *engineX) Start(framerate int) {
 		select {
 		case dispatch := <-e.dispatches:
 			dispatch()
+			e.consumeQueued()
+			// The goroutines the dispatches started (an analysis) run
+			// first, until they wait: a small analysis's result then
+			// shares this frame, and a larger one has begun.
+			runtime.Gosched()
 			e.consumeQueued()
 			e.processFrame()
 			if len(e.dispatches) > 0 {
