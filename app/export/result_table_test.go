@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"context"
 	"encoding/csv"
+	"math"
 	"strconv"
 	"strings"
 	"testing"
@@ -94,5 +95,19 @@ func TestResultAndCurvatureTables(t *testing.T) {
 	}
 	if _, ok := CurvatureTable(&engine.Result{}); ok {
 		t.Error("a curvature table without a comparison")
+	}
+}
+
+// TestCoverageAsThePageShowsIt: the text tables print a coverage as the
+// page does, to a tenth of a percent; the comparison computes it to about
+// 2.5e-4, so a fit equal to a Gaussian posterior (0.94975) reads 95.0 %.
+func TestCoverageAsThePageShowsIt(t *testing.T) {
+	for _, c := range []struct {
+		v    float64
+		want string
+	}{{0.94975, "95.0 %"}, {0.82124, "82.1 %"}, {1, "100.0 %"}, {0, "0.0 %"}, {math.NaN(), "n/a"}} {
+		if got := Coverage(c.v); got != c.want {
+			t.Errorf("Coverage(%v) = %q, want %q", c.v, got, c.want)
+		}
 	}
 }
