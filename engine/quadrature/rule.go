@@ -186,21 +186,54 @@ func newRule(ctx context.Context, p target.Density, st Start, s Settings) (*rule
 	}
 	nf += d * n
 	r.scratch = takeScratch(nf, n+d*(1+8*d))
-	buf, flags := r.scratch.f, r.scratch.b
-	take := func(k int) []float64 {
-		out := buf[:k:k]
-		buf = buf[k:]
-		return out
+	cv := r.carve(&carver{f: r.scratch.f, b: r.scratch.b}, st, cov, n)
+	if !cholesky(r.L, cv, d) {
+		return nil, fmt.Errorf("%w: the covariance is not positive definite", ErrBadStart)
 	}
-	takeFlags := func(k int) []bool {
-		out := flags[:k:k]
-		flags = flags[k:]
-		return out
+	r.ldL = cholLogDet(r.L, d) / 2
+	r.toZ(r.u)
+	r.ref = p.LogDensity(r.z)
+	r.top = r.ref
+	r.points++
+	if math.IsNaN(r.ref) || math.IsInf(r.ref, 0) {
+		return nil, fmt.Errorf("%w: log p at the mode is %g", ErrBadStart, r.ref)
 	}
+	return r, nil
+}
+
+// carver hands out consecutive pieces of a rule's scratch. Its methods
+// are kept out of line: inlined at each of newRule's fifty-odd pieces they
+// made it one of the largest functions of app.wasm, which the browser's
+// optimising compiler took about 0.3 s to compile (DEVELOPERS.md).
+type carver struct {
+	f []float64
+	b []bool
+}
+
+//go:noinline
+func (c *carver) floats(k int) []float64 {
+	out := c.f[:k:k]
+	c.f = c.f[k:]
+	return out
+}
+
+//go:noinline
+func (c *carver) flags(k int) []bool {
+	out := c.b[:k:k]
+	c.b = c.b[k:]
+	return out
+}
+
+// carve sets the rule's slices from c (the start's mode in the rule's
+// order, the walks' buffers) for lines of n nodes, and returns the start's
+// covariance in the rule's order.
+func (r *rule) carve(c *carver, st Start, cov []float64, n int) []float64 {
+	d, s := r.d, r.s
+	nw := r.lay.nWatch
 	r.maps = make([]transform.Map, d)
-	r.m = take(d)
-	r.xm = take(d)
-	cv := take(d * d)
+	r.m = c.floats(d)
+	r.xm = c.floats(d)
+	cv := c.floats(d * d)
 	for a := 0; a < d; a++ {
 		pa := r.perm[a]
 		r.maps[a] = transform.Map{Scale: transform.Identity, Lo: math.Inf(-1), Hi: math.Inf(1)}
@@ -213,57 +246,48 @@ func newRule(ctx context.Context, p target.Density, st Start, s Settings) (*rule
 			cv[a*d+b] = cov[pa*d+r.perm[b]]
 		}
 	}
-	r.L = take(d * d)
-	if !cholesky(r.L, cv, d) {
-		return nil, fmt.Errorf("%w: the covariance is not positive definite", ErrBadStart)
+	r.L = c.floats(d * d)
+	for _, v := range []*[]float64{&r.u, &r.ut, &r.ut2, &r.v, &r.z, &r.gz, &r.gu, &r.col, &r.step, &r.y, &r.x} {
+		*v = c.floats(d)
 	}
-	r.ldL = cholLogDet(r.L, d) / 2
-	mk := func() []float64 { return take(d) }
-	r.u, r.ut, r.ut2, r.v, r.z, r.gz, r.gu, r.col, r.step, r.y, r.x = mk(), mk(), mk(), mk(), mk(), mk(), mk(), mk(), mk(), mk(), mk()
-	r.hz = take(d * d)
-	r.sub = take(d * d)
-	r.subC = take(d * d)
+	r.hz = c.floats(d * d)
+	r.sub = c.floats(d * d)
+	r.subC = c.floats(d * d)
 	r.lv = make([]level, d)
 	r.pred = make([][]float64, d)
-	r.infShare = take(1 + 8*d)
-	r.resolvedShare = take(1 + 8*d)
-	r.unresolvedZ = take(1 + 8*d)
+	r.infShare = c.floats(1 + 8*d)
+	r.resolvedShare = c.floats(1 + 8*d)
+	r.unresolvedZ = c.floats(1 + 8*d)
 	for k := range r.lv {
 		lv := &r.lv[k]
-		lv.mode, lv.slope = mk(), mk()
-		lv.m0, lv.m1, lv.m00 = mk(), mk(), mk()
-		lv.sigma = take(d * d)
-		for t := range lv.sum {
-			lv.sum[t] = take(r.lay.n)
+		for _, v := range []*[]float64{&lv.mode, &lv.slope, &lv.m0, &lv.m1, &lv.m00} {
+			*v = c.floats(d)
 		}
-		lv.rem = take(nw)
-		lv.inf = takeFlags(1 + 8*d)
-		lv.cur, lv.prev, lv.peak = take(nw), take(nw), take(nw)
-		r.pred[k] = mk()
+		lv.sigma = c.floats(d * d)
+		for t := range lv.sum {
+			lv.sum[t] = c.floats(r.lay.n)
+		}
+		lv.rem = c.floats(nw)
+		lv.inf = c.flags(1 + 8*d)
+		lv.cur, lv.prev, lv.peak = c.floats(nw), c.floats(nw), c.floats(nw)
+		r.pred[k] = c.floats(d)
 	}
-	r.lineT = take(n)
-	r.lineLogP = take(n)
-	r.lineG = take(n)
-	r.lineBad = takeFlags(n)
+	r.lineT = c.floats(n)
+	r.lineLogP = c.floats(n)
+	r.lineG = c.floats(n)
+	r.lineBad = c.flags(n)
 	if d > 1 {
-		r.outer = take(n)
+		r.outer = c.floats(n)
 		r.walkBuf = make([][]float64, d)
 		for k := 1; k < d-1; k++ {
-			r.walkBuf[k] = take(n)
+			r.walkBuf[k] = c.floats(n)
 		}
 	}
 	r.cols = make([][]float64, d)
 	for k := range r.cols {
-		r.cols[k] = take(n)
+		r.cols[k] = c.floats(n)
 	}
-	r.toZ(r.u)
-	r.ref = p.LogDensity(r.z)
-	r.top = r.ref
-	r.points++
-	if math.IsNaN(r.ref) || math.IsInf(r.ref, 0) {
-		return nil, fmt.Errorf("%w: log p at the mode is %g", ErrBadStart, r.ref)
-	}
-	return r, nil
+	return cv
 }
 
 // startCov returns the covariance of the start (row-major, parameter order).
