@@ -99,7 +99,9 @@ tools-node:
 # chromium (edit to drawn, cold load, long tasks), grid evaluation against
 # hand-written JavaScript and mathjs (installed from npm into .bench/), and
 # the wasm size. It prints a table and writes bench.json; targets are
-# reported, never enforced.
+# reported, never enforced. Under node each benchmark runs for 2 s: node
+# runs new code in its baseline tier and optimises what runs long, so in
+# 200 ms the 2-D banana read 97.6 ms an analysis against 9.5 optimised.
 bench: wasm tools-node tools-chromium
 	@mkdir -p .bench
 	@command -v npm >/dev/null 2>&1 || { \
@@ -109,7 +111,7 @@ bench: wasm tools-node tools-chromium
 	  else echo "make bench: npm is missing: mathjs will not be measured"; fi; }
 	$(GO) test -run='^$$' -bench=. -benchmem -benchtime=200ms ./engine/... >.bench/engine-native.txt 2>&1; \
 	  s=$$?; cat .bench/engine-native.txt; exit $$s
-	GOOS=js GOARCH=wasm $(GO) test -run='^$$' -bench=. -benchmem -benchtime=200ms -exec="$(WASM_EXEC)" ./engine/... >.bench/engine-wasm.txt 2>&1; \
+	GOOS=js GOARCH=wasm $(GO) test -run='^$$' -bench=. -benchmem -benchtime=2s -exec="$(WASM_EXEC)" ./engine/... >.bench/engine-wasm.txt 2>&1; \
 	  s=$$?; cat .bench/engine-wasm.txt; exit $$s
 	BELLCHECK_CHROMIUM=$$(command -v chromium) $(GO) test -count=1 -v -timeout=40m -tags=benchharness -run='^TestBenchHarness$$' ./wasm/
 
