@@ -102,7 +102,8 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 	if maxIter <= 0 {
 		maxIter = 40
 	}
-	pinned := func(k, side int) bool { return k < len(s.Pinned) && s.Pinned[k][side] }
+	b := &boxSearch{s: s, nc: nc, tol: tol}
+	pinned := b.pinned
 	nf := make([]int, d)
 	widthCap := make([]float64, d)
 	for k := 0; k < d; k++ {
@@ -148,15 +149,8 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 		}
 	}
 	res := BoxResult{Fixed: make([][2]bool, d), Capped: make([][2]bool, d)}
-	atBound := func(k, side int) bool {
-		if pinned(k, side) {
-			return true
-		}
-		if side == 0 {
-			return lo[k] <= s.Bounds.Lo[k]
-		}
-		return hi[k] >= s.Bounds.Hi[k]
-	}
+	b.lo, b.hi, b.res = lo, hi, &res
+	atBound := b.atBound
 	coreIQR := make([]float64, d)
 	for k := range coreIQR {
 		coreIQR[k] = math.Inf(1)
@@ -170,11 +164,8 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 			s.Progress(1 - math.Pow(0.8, float64(res.Iterations)))
 		}
 	}
-	// A face doubles its distance at most maxGrow times after mass is
-	// first seen (a factor of about 1.7e7): beyond that the density is
-	// taken to be improper along that axis.
-	const maxGrow = 24
 	grows := make([][2]int, d)
+	b.nf, b.widthCap, b.coreIQR, b.grows = nf, widthCap, coreIQR, grows
 	found := false
 	var last *Grid
 	defer func() { last.release() }()
@@ -222,143 +213,11 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 			return res, err
 		}
 		found = true
-		st := &g.Stats
 		changed := false
 		var finalLo, finalHi []float64
 		finalLo, finalHi = append(finalLo, lo...), append(finalHi, hi...)
 		for k := 0; k < d; k++ {
-			hc := g.Spacing(k)
-			w := hi[k] - lo[k]
-			hf := w / float64(nf[k]-1)
-			// The interquartile range, where the grid resolves it. Only a
-			// range well inside the box describes the core: a density
-			// still cut off by the box has an IQR of the box's order.
-			iqr := quantile(g.Nodes[k][0], hc, st.Marginals[k].Density, 0.75) -
-				quantile(g.Nodes[k][0], hc, st.Marginals[k].Density, 0.25)
-			if iqr >= 4*hc && iqr <= w/8 && iqr < coreIQR[k] {
-				coreIQR[k] = iqr
-			}
-			maxW := widthCap[k] * coreIQR[k]
-			dens := st.Marginals[k].Density
-			z := g.Nodes[k]
-			// layer is the share of the mass in the fine grid's outer
-			// layer if its face were at node i.
-			layer := func(i int) float64 { return dens[i] * hf * 3 / 8 }
-			var tgt [2]float64
-			widen := [2]bool{}
-			for side := 0; side < 2; side++ {
-				face := 0
-				dir := -1.0 // outwards
-				if side == 1 {
-					face, dir = nc-1, 1
-				}
-				cur := z[face]
-				tgt[side] = cur
-				if atBound(k, side) {
-					continue
-				}
-				ext, extOK := 0.0, false
-				if iqr >= 4*hc {
-					// Only a resolved marginal has a tail to extend.
-					ext, extOK = extrapolateFace(dens, z, side, hf, tol)
-				}
-				if layer(face) > tol {
-					// Mass at the face: double the width on this side, or
-					// go to the extrapolated face where that is farther
-					// (up to four times the width).
-					step := w
-					if extOK && dir*(ext-cur) > step {
-						step = min(dir*(ext-cur), 4*w)
-					}
-					tgt[side] = cur + dir*step
-					widen[side] = true
-					continue
-				}
-				// The node beyond the outermost one above the tolerance.
-				out := face
-				for i := range z {
-					j := i
-					if side == 1 {
-						j = nc - 1 - i
-					}
-					if layer(j) > tol {
-						out = j
-						break
-					}
-				}
-				out = min(max(out+int(dir), 0), nc-1)
-				t := z[out]
-				if extOK && dir*(ext-t) > 0 {
-					t = ext
-				}
-				tgt[side] = t
-				if dir*(t-cur) > hc {
-					widen[side] = true
-				}
-			}
-			// Cap the widening: the width may not pass maxW; what growth is
-			// left is shared by the widening sides in proportion to what
-			// they asked for.
-			want := [2]float64{}
-			for side := 0; side < 2; side++ {
-				if widen[side] {
-					grows[k][side]++
-					want[side] = math.Abs(tgt[side] - [2]float64{lo[k], hi[k]}[side])
-				}
-			}
-			if room := maxW - w; want[0]+want[1] > room {
-				scale := max(room, 0) / (want[0] + want[1])
-				want[0] *= scale
-				want[1] *= scale
-			}
-			if len(s.Reach.Lo) == d && len(s.Reach.Hi) == d {
-				want[0] = min(want[0], max(lo[k]-s.Reach.Lo[k], 0))
-				want[1] = min(want[1], max(s.Reach.Hi[k]-hi[k], 0))
-			}
-			for side := 0; side < 2; side++ {
-				if !widen[side] {
-					continue
-				}
-				if want[side] <= 0.01*w || grows[k][side] > maxGrow {
-					if layer([2]int{0, nc - 1}[side]) > tol {
-						res.Capped[k][side] = true
-					}
-					widen[side] = false
-					tgt[side] = [2]float64{lo[k], hi[k]}[side]
-					continue
-				}
-				if side == 0 {
-					tgt[0] = lo[k] - want[0]
-				} else {
-					tgt[1] = hi[k] + want[1]
-				}
-			}
-			if widen[0] || widen[1] {
-				if widen[0] {
-					lo[k] = max(tgt[0], s.Bounds.Lo[k])
-				}
-				if widen[1] {
-					hi[k] = min(tgt[1], s.Bounds.Hi[k])
-				}
-				changed = true
-				continue
-			}
-			nl, nh := tgt[0], tgt[1]
-			if pinned(k, 0) || res.Capped[k][0] {
-				nl = lo[k]
-			}
-			if pinned(k, 1) || res.Capped[k][1] {
-				nh = hi[k]
-			}
-			if !layable(nl, nh, max(nc, nf[k])) {
-				// Too narrow for the grids to lay their nodes (the mass
-				// piles up where log p overflows): keep the box.
-				nl, nh = lo[k], hi[k]
-			}
-			finalLo[k], finalHi[k] = nl, nh
-			if nh-nl < 0.6*w {
-				// Zoom in: the mass fills a small part of the axis.
-				lo[k], hi[k] = nl, nh
+			if b.faces(k, g, finalLo, finalHi) {
 				changed = true
 			}
 		}
@@ -367,6 +226,7 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 		}
 		res.Converged = true
 		lo, hi = finalLo, finalHi
+		b.lo, b.hi = lo, hi
 		break
 	}
 	if !found {
@@ -380,6 +240,188 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 		res.Fixed[k] = [2]bool{atBound(k, 0), atBound(k, 1)}
 	}
 	return res, nil
+}
+
+// A face doubles its distance at most maxGrow times after mass is first
+// seen (a factor of about 1.7e7): beyond that the density is taken to be
+// improper along that axis.
+const maxGrow = 24
+
+// boxSearch is FindBox's state between its exploration grids: the box, the
+// settings and what each axis has seen. The per-axis work is its method
+// faces, apart from FindBox: as one function they were 21.8 KB of
+// app.wasm's code, which the browser's optimising compiler took about 0.3 s
+// over (DEVELOPERS.md).
+type boxSearch struct {
+	s                 BoxSettings
+	nc                int
+	tol               float64
+	nf                []int
+	lo, hi            []float64
+	res               *BoxResult
+	widthCap, coreIQR []float64
+	grows             [][2]int
+}
+
+// pinned reports whether side (0 low, 1 high) of axis k is pinned to its
+// bound.
+func (b *boxSearch) pinned(k, side int) bool { return k < len(b.s.Pinned) && b.s.Pinned[k][side] }
+
+// atBound reports whether side of axis k is at its bound (or pinned).
+func (b *boxSearch) atBound(k, side int) bool {
+	if b.pinned(k, side) {
+		return true
+	}
+	if side == 0 {
+		return b.lo[k] <= b.s.Bounds.Lo[k]
+	}
+	return b.hi[k] >= b.s.Bounds.Hi[k]
+}
+
+// faces moves axis k's faces after the exploration grid g: outwards where
+// g's marginal has mass at a face, inwards where the mass fills a small
+// part of the axis (the faces it would settle at go in finalLo and
+// finalHi). It reports whether the box changed.
+func (b *boxSearch) faces(k int, g *Grid, finalLo, finalHi []float64) bool {
+	s, nc, tol, lo, hi, res := b.s, b.nc, b.tol, b.lo, b.hi, b.res
+	nf, widthCap, coreIQR, grows := b.nf, b.widthCap, b.coreIQR, b.grows
+	atBound, pinned := b.atBound, b.pinned
+	d := len(lo)
+	st := &g.Stats
+	hc := g.Spacing(k)
+	w := hi[k] - lo[k]
+	hf := w / float64(nf[k]-1)
+	// The interquartile range, where the grid resolves it. Only a
+	// range well inside the box describes the core: a density
+	// still cut off by the box has an IQR of the box's order.
+	iqr := quantile(g.Nodes[k][0], hc, st.Marginals[k].Density, 0.75) -
+		quantile(g.Nodes[k][0], hc, st.Marginals[k].Density, 0.25)
+	if iqr >= 4*hc && iqr <= w/8 && iqr < coreIQR[k] {
+		coreIQR[k] = iqr
+	}
+	maxW := widthCap[k] * coreIQR[k]
+	dens := st.Marginals[k].Density
+	z := g.Nodes[k]
+	// layer is the share of the mass in the fine grid's outer
+	// layer if its face were at node i.
+	layer := func(i int) float64 { return dens[i] * hf * 3 / 8 }
+	var tgt [2]float64
+	widen := [2]bool{}
+	for side := 0; side < 2; side++ {
+		face := 0
+		dir := -1.0 // outwards
+		if side == 1 {
+			face, dir = nc-1, 1
+		}
+		cur := z[face]
+		tgt[side] = cur
+		if atBound(k, side) {
+			continue
+		}
+		ext, extOK := 0.0, false
+		if iqr >= 4*hc {
+			// Only a resolved marginal has a tail to extend.
+			ext, extOK = extrapolateFace(dens, z, side, hf, tol)
+		}
+		if layer(face) > tol {
+			// Mass at the face: double the width on this side, or
+			// go to the extrapolated face where that is farther
+			// (up to four times the width).
+			step := w
+			if extOK && dir*(ext-cur) > step {
+				step = min(dir*(ext-cur), 4*w)
+			}
+			tgt[side] = cur + dir*step
+			widen[side] = true
+			continue
+		}
+		// The node beyond the outermost one above the tolerance.
+		out := face
+		for i := range z {
+			j := i
+			if side == 1 {
+				j = nc - 1 - i
+			}
+			if layer(j) > tol {
+				out = j
+				break
+			}
+		}
+		out = min(max(out+int(dir), 0), nc-1)
+		t := z[out]
+		if extOK && dir*(ext-t) > 0 {
+			t = ext
+		}
+		tgt[side] = t
+		if dir*(t-cur) > hc {
+			widen[side] = true
+		}
+	}
+	// Cap the widening: the width may not pass maxW; what growth is
+	// left is shared by the widening sides in proportion to what
+	// they asked for.
+	want := [2]float64{}
+	for side := 0; side < 2; side++ {
+		if widen[side] {
+			grows[k][side]++
+			want[side] = math.Abs(tgt[side] - [2]float64{lo[k], hi[k]}[side])
+		}
+	}
+	if room := maxW - w; want[0]+want[1] > room {
+		scale := max(room, 0) / (want[0] + want[1])
+		want[0] *= scale
+		want[1] *= scale
+	}
+	if len(s.Reach.Lo) == d && len(s.Reach.Hi) == d {
+		want[0] = min(want[0], max(lo[k]-s.Reach.Lo[k], 0))
+		want[1] = min(want[1], max(s.Reach.Hi[k]-hi[k], 0))
+	}
+	for side := 0; side < 2; side++ {
+		if !widen[side] {
+			continue
+		}
+		if want[side] <= 0.01*w || grows[k][side] > maxGrow {
+			if layer([2]int{0, nc - 1}[side]) > tol {
+				res.Capped[k][side] = true
+			}
+			widen[side] = false
+			tgt[side] = [2]float64{lo[k], hi[k]}[side]
+			continue
+		}
+		if side == 0 {
+			tgt[0] = lo[k] - want[0]
+		} else {
+			tgt[1] = hi[k] + want[1]
+		}
+	}
+	if widen[0] || widen[1] {
+		if widen[0] {
+			lo[k] = max(tgt[0], s.Bounds.Lo[k])
+		}
+		if widen[1] {
+			hi[k] = min(tgt[1], s.Bounds.Hi[k])
+		}
+		return true
+	}
+	nl, nh := tgt[0], tgt[1]
+	if pinned(k, 0) || res.Capped[k][0] {
+		nl = lo[k]
+	}
+	if pinned(k, 1) || res.Capped[k][1] {
+		nh = hi[k]
+	}
+	if !layable(nl, nh, max(nc, nf[k])) {
+		// Too narrow for the grids to lay their nodes (the mass
+		// piles up where log p overflows): keep the box.
+		nl, nh = lo[k], hi[k]
+	}
+	finalLo[k], finalHi[k] = nl, nh
+	if nh-nl < 0.6*w {
+		// Zoom in: the mass fills a small part of the axis.
+		lo[k], hi[k] = nl, nh
+		return true
+	}
+	return false
 }
 
 // layable reports whether n equally spaced nodes fit on [lo, hi] in
