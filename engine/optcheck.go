@@ -90,6 +90,14 @@ func CheckOptions(m *model.Model, opts Options) []OptionProblem {
 		}
 		zl, zh := mp.FromOriginal(lo), mp.FromOriginal(hi)
 		switch n := grid.AxisPoints(po.Points, d); {
+		case math.IsInf(zl, 0) || math.IsInf(zh, 0):
+			// A side on the support's bound, where the log or logit scale
+			// the parameter is fitted on goes to infinity.
+			side := lo
+			if math.IsInf(zh, 0) {
+				side = hi
+			}
+			bad("box", "box [%g, %g]: its side %g is the support's bound, infinitely far on the %s scale this parameter is fitted on; set the side inside the support, or fit it on the identity scale", lo, hi, side, mp.Scale)
 		case math.IsInf(zh-zl, 0) || math.IsNaN(zh-zl):
 			bad("box", "box [%g, %g] is wider than a floating-point number can hold", lo, hi)
 		case !grid.Layable(zl, zh, n):

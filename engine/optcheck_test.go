@@ -30,6 +30,10 @@ func TestCheckOptions(t *testing.T) {
 		// 2e308 overflows a double (the largest is about 1.8e308).
 		{"box wider than a double", one, []ParamOptions{{Lo: f(-1e308), Hi: f(1e308)}}, "wider than"},
 		{"box too narrow", one, []ParamOptions{{Lo: f(1), Hi: f(1 + 1e-15)}}, "too narrow"},
+		// s in [0, inf] is fitted on the log scale, where its bound 0 is
+		// -inf: a box from 0 names a side the grid cannot place.
+		{"box side on a log scale's bound", one, []ParamOptions{{}, {Lo: f(0), Hi: f(2)}}, "side 0 is the support's bound, infinitely far on the log scale"},
+		{"the same box on the identity scale", one, []ParamOptions{{}, {Lo: f(0), Hi: f(2), Scale: Identity}}, ""},
 		{"too many settings", one, []ParamOptions{{}, {}, {}}, "options for 3 parameters"},
 	}
 	for _, c := range cases {
