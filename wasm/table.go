@@ -106,7 +106,7 @@ func writeTable(w io.Writer, name string, r *engine.Result) {
 	perFit("KL(q||p)", "", func(f *engine.Fit) string { return num(f.KLqp) })
 	perFit("KL(p||q)", "", func(f *engine.Fit) string { return num(f.KLpq) })
 	perFit("Hellinger", "", func(f *engine.Fit) string { return num(f.Hellinger) })
-	perFit("95% coverage", "", func(f *engine.Fit) string { return export.Coverage(f.Coverage95) })
+	perFit("95% coverage", "", func(f *engine.Fit) string { return export.Percent(f.Coverage95) })
 	tw.Flush()
 
 	if len(r.Modes) > 0 {

@@ -74,7 +74,7 @@ func ResultTable(r *engine.Result) Table {
 		row("KL(q||p)", "", func(f *engine.Fit) string { return short(f.KLqp) }),
 		row("KL(p||q)", "", func(f *engine.Fit) string { return short(f.KLpq) }),
 		row("Hellinger", "", func(f *engine.Fit) string { return short(f.Hellinger) }),
-		row("95% coverage", "", func(f *engine.Fit) string { return Coverage(f.Coverage95) }),
+		row("95% coverage", "", func(f *engine.Fit) string { return Percent(f.Coverage95) }),
 	}})
 	return t
 }
@@ -115,18 +115,18 @@ func CurvatureTable(r *engine.Result) (t Table, ok bool) {
 	return t, true
 }
 
-// short prints a number with 5 significant digits; n/a for NaN.
-// Coverage formats a coverage (a probability) as a percentage to one
-// decimal, as the page shows it: the comparison computes it to about
-// 2.5e-4 (a fit equal to a Gaussian posterior reads 0.94975 against 0.95),
-// so further digits would be noise.
-func Coverage(v float64) string {
+// Percent formats a share (a probability) as a percentage to one decimal,
+// as the page shows shares; n/a for NaN. A fit's coverage is computed to
+// about 2.5e-4 (a fit equal to a Gaussian posterior reads 0.94975 against
+// 0.95), so further digits would be noise.
+func Percent(v float64) string {
 	if math.IsNaN(v) || math.IsInf(v, 0) {
 		return short(v)
 	}
 	return strconv.FormatFloat(math.Round(v*1000)/10, 'f', 1, 64) + " %"
 }
 
+// short prints a number with 5 significant digits; n/a for NaN.
 func short(v float64) string {
 	switch {
 	case math.IsNaN(v):

@@ -106,8 +106,8 @@ func TestCoverageAsThePageShowsIt(t *testing.T) {
 		v    float64
 		want string
 	}{{0.94975, "95.0 %"}, {0.82124, "82.1 %"}, {1, "100.0 %"}, {0, "0.0 %"}, {math.NaN(), "n/a"}} {
-		if got := Coverage(c.v); got != c.want {
-			t.Errorf("Coverage(%v) = %q, want %q", c.v, got, c.want)
+		if got := Percent(c.v); got != c.want {
+			t.Errorf("Percent(%v) = %q, want %q", c.v, got, c.want)
 		}
 	}
 }

@@ -2,8 +2,8 @@ package ui
 
 import (
 	"math"
-	"strconv"
 
+	"bellcheck/app/export"
 	"bellcheck/app/plot"
 )
 
@@ -32,12 +32,13 @@ func fmtScaled(v, scale float64) string {
 	return plot.FormatNumber(v, max(2, min(sig, 12)))
 }
 
-// fmtPercent formats a share as a percentage with one decimal.
+// fmtPercent formats a share as a percentage with one decimal, as the
+// text tables do (export.Percent); a dash for NaN.
 func fmtPercent(v float64) string {
 	if math.IsNaN(v) || math.IsInf(v, 0) {
 		return plot.FormatNumber(v, 3)
 	}
-	return strconv.FormatFloat(math.Round(v*1000)/10, 'f', 1, 64) + " %"
+	return export.Percent(v)
 }
 
 // fmtErr formats an error estimate as "±1.2e−5" (empty when not finite).

@@ -225,8 +225,8 @@ func FindBox(ctx context.Context, p target.Density, s BoxSettings) (BoxResult, e
 			continue
 		}
 		res.Converged = true
-		lo, hi = finalLo, finalHi
-		b.lo, b.hi = lo, hi
+		copy(lo, finalLo)
+		copy(hi, finalHi)
 		break
 	}
 	if !found {
